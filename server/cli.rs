@@ -1,0 +1,129 @@
+//! What each command of the `lockpoint` binary does.
+
+use std::io::{BufRead, IsTerminal, Write};
+
+use tokio::net::TcpListener;
+
+use crate::config::{Cli, Command, RoleArg, ServeArgs, TokenCommand, UserCommand};
+use crate::db;
+use crate::records::user::Role;
+use crate::{AppState, app, auth, demo};
+
+/// Any failure of a command: printed to stderr by `main` with a non-zero exit.
+pub type CliError = Box<dyn std::error::Error + Send + Sync>;
+
+/// Runs one parsed command to completion.
+pub async fn run(cli: Cli) -> Result<(), CliError> {
+    match cli.command {
+        Command::Serve(args) => serve(args).await,
+        Command::User(UserCommand::Add { name, role, db }) => {
+            let pool = db::open(&db.path).await?;
+            let password = read_password()?;
+            let role = match role {
+                RoleArg::Admin => Role::Admin,
+                RoleArg::Tech => Role::Tech,
+            };
+            let user = crate::records::user::NewUser::parse(&name, &password, role)
+                .map_err(|e| e.to_string())?;
+            let hash = auth::hash_password(password).await?;
+            let mut conn = pool.acquire().await?;
+            if db::users::by_name(&mut conn, &user.username).await?.is_some() {
+                return Err(format!("a user named {:?} already exists", user.username).into());
+            }
+            db::users::insert(&mut conn, &user, &hash).await?;
+            eprintln!("added {} ({})", user.username, role.as_str());
+            Ok(())
+        }
+        Command::Token(TokenCommand::Create { name, db }) => {
+            let pool = db::open(&db.path).await?;
+            let mut conn = pool.acquire().await?;
+            let user = db::users::by_name(&mut conn, &name)
+                .await?
+                .ok_or_else(|| format!("no user named {name:?}"))?;
+            let token = auth::new_secret("lp_");
+            db::tokens::insert(&mut conn, user.id, &auth::hash_secret(&token)).await?;
+            println!("{token}");
+            Ok(())
+        }
+        Command::Token(TokenCommand::Revoke { token, user, db }) => {
+            let pool = db::open(&db.path).await?;
+            let mut conn = pool.acquire().await?;
+            let revoked = match (token, user) {
+                (Some(token), _) => {
+                    db::tokens::revoke_by_hash(&mut conn, &auth::hash_secret(token.trim())).await?
+                }
+                (None, Some(name)) => {
+                    let user = db::users::by_name(&mut conn, &name)
+                        .await?
+                        .ok_or_else(|| format!("no user named {name:?}"))?;
+                    db::tokens::revoke_for_user(&mut conn, user.id).await?
+                }
+                (None, None) => unreachable!("clap requires a token or --user"),
+            };
+            if revoked == 0 {
+                return Err("no active token matched".into());
+            }
+            eprintln!("revoked {revoked} token(s)");
+            Ok(())
+        }
+    }
+}
+
+async fn serve(args: ServeArgs) -> Result<(), CliError> {
+    let pool = db::open(&args.db.path).await?;
+    if args.demo {
+        match demo::seed_if_empty(&pool).await? {
+            true => println!("demo shop loaded into {}", args.db.path.display()),
+            false => println!("{} already has records: demo not loaded", args.db.path.display()),
+        }
+        if demo::demo_user_exists(&pool).await? {
+            println!(
+                "demo login: {} / {}",
+                demo::DEMO_USERNAME,
+                demo::DEMO_PASSWORD
+            );
+        }
+    }
+    let listener = TcpListener::bind(args.addr).await?;
+    println!("listening on http://{}", listener.local_addr()?);
+    axum::serve(listener, app(AppState::new(pool.clone())))
+        .with_graceful_shutdown(shutdown_signal())
+        .await?;
+    pool.close().await;
+    tracing::info!("stopped");
+    Ok(())
+}
+
+/// Resolves on SIGINT (Ctrl-C) or SIGTERM, so in-flight requests finish and SQLite closes cleanly.
+async fn shutdown_signal() {
+    let ctrl_c = async {
+        let _ = tokio::signal::ctrl_c().await;
+    };
+    #[cfg(unix)]
+    let terminate = async {
+        match tokio::signal::unix::signal(tokio::signal::unix::SignalKind::terminate()) {
+            Ok(mut sig) => {
+                sig.recv().await;
+            }
+            Err(_) => std::future::pending::<()>().await,
+        }
+    };
+    #[cfg(not(unix))]
+    let terminate = std::future::pending::<()>();
+    tokio::select! {
+        () = ctrl_c => {},
+        () = terminate => {},
+    }
+}
+
+/// The first line of stdin, or a prompt when stdin is a terminal.
+fn read_password() -> Result<String, CliError> {
+    let stdin = std::io::stdin();
+    if stdin.is_terminal() {
+        eprint!("password (10 characters or more): ");
+        std::io::stderr().flush()?;
+    }
+    let mut line = String::new();
+    stdin.lock().read_line(&mut line)?;
+    Ok(line.trim_end_matches(['\r', '\n']).to_string())
+}

@@ -1,0 +1,459 @@
+//! Request-level tests of the calculation API: capacity and recommend, through JSON.
+
+use super::InputError;
+use super::recommend::{RecommendRequest, recommend};
+use super::report::{CapacityReport, capacity};
+use super::request::CapacityRequest;
+use super::units::{MM_PER_IN, N_PER_LBF, NM_PER_LBFFT, Units};
+use proptest::prelude::*;
+
+const EXAMPLE: &str = r#"{"units": "imperial",
+ "disc": {"outer_diameter": 10.4, "inner_diameter": 6.6, "count": 1, "theory": "uniform_wear"},
+ "friction": {"mu": 0.32},
+ "springs": {"count": 6, "rate": 380.0, "base_compression": 0.22,
+             "adjuster_pitch": 0.0625, "adjuster_turns": 1.5},
+ "levers": {"count": 3, "counterweight_g": 24.0, "lever_mass_g": 12.0,
+            "cg_radius": 4.1, "arm_ratio": 2.6},
+ "engine": {"torque_curve": [[3000, 410], [4000, 455], [5000, 480], [6000, 470], [7000, 430]]},
+ "launch_rpm": 4500}"#;
+
+fn example() -> CapacityRequest {
+    serde_json::from_str(EXAMPLE).expect("example parses")
+}
+
+fn field_of(r: Result<CapacityReport, InputError>) -> Option<String> {
+    r.err().map(|e| e.field)
+}
+
+fn rel(a: f64, b: f64) -> f64 {
+    if a == b { 0.0 } else { ((a - b) / b).abs() }
+}
+
+// [D] The example clutch by hand, in SI, from T = n·μ·F·r_eff (Bhandari ch. 11) and
+// F_c = m·r·ω²·(a/b): static 6 × 380 lbf/in × (0.22 + 1.5 × 0.0625) in = 715.35 lbf;
+// r_eff = (5.2 + 3.3)/2 = 4.25 in; at 6000 rpm each lever adds 0.036 kg × 0.10414 m × ω² × 2.6.
+#[test]
+fn example_request_matches_a_hand_calculation() {
+    let r = capacity(&example()).expect("valid example");
+    assert!(rel(r.static_clamp, 715.35) < 1e-12);
+    assert!(rel(r.effective_radius, 4.25) < 1e-12);
+    assert_eq!(r.friction_surfaces, 2);
+    assert_eq!(r.curve.len(), 41);
+    assert_eq!((r.curve[0].rpm, r.curve[40].rpm), (3000.0, 7000.0));
+
+    let w = 6000.0 * 2.0 * std::f64::consts::PI / 60.0;
+    let per_lever_n = 0.036 * (4.1 * 0.0254) * w * w * 2.6;
+    let clamp_n = 715.35 * 4.4482216152605 + 3.0 * per_lever_n;
+    let t_lbf_ft = 2.0 * 0.32 * clamp_n * (4.25 * 0.0254) / 1.3558179483314004;
+    let row = r
+        .curve
+        .iter()
+        .find(|p| p.rpm == 6000.0)
+        .expect("6000 rpm row");
+    assert!(
+        rel(row.capacity, t_lbf_ft) < 1e-12,
+        "{} vs {t_lbf_ft}",
+        row.capacity
+    );
+    assert!(rel(row.centrifugal_clamp, 3.0 * per_lever_n / 4.4482216152605) < 1e-12);
+    assert!(rel(row.engine_torque, 470.0) < 1e-12);
+
+    let launch = r.launch.as_ref().expect("launch given");
+    assert!(rel(launch.engine_torque, 467.5) < 1e-12);
+    assert!(rel(launch.ratio, launch.capacity / 467.5) < 1e-12);
+}
+
+#[test]
+fn lockup_sits_where_capacity_meets_torque() {
+    let r = capacity(&example()).expect("valid example");
+    let lockup = r.lockup_rpm.expect("locks up inside the curve");
+    for p in &r.curve {
+        if p.rpm > lockup + 1.0 {
+            assert!(p.capacity >= p.engine_torque, "slips at {}", p.rpm);
+        }
+    }
+    let mut at = example();
+    at.launch_rpm = Some(lockup);
+    let l = capacity(&at).expect("valid").launch.expect("launch given");
+    assert!((l.ratio - 1.0).abs() < 1e-9, "{}", l.ratio);
+}
+
+#[test]
+fn spring_only_clutch_and_json_defaults() {
+    let json = r#"{"units": "metric",
+      "disc": {"outer_diameter": 184, "inner_diameter": 127},
+      "friction": {"material": "cermet"},
+      "springs": {"count": 9, "rate": 60, "base_compression": 6},
+      "engine": {"torque_curve": [[2000, 300], [4000, 350], [6000, 320]]},
+      "some_future_field": true}"#;
+    let req: CapacityRequest = serde_json::from_str(json).expect("defaults fill in");
+    let r = capacity(&req).expect("valid");
+    assert_eq!(r.friction_surfaces, 2);
+    assert!(r.curve.iter().all(|p| p.centrifugal_clamp == 0.0));
+    assert!(rel(r.static_clamp, 9.0 * 60.0 * 6.0) < 1e-12);
+    assert_eq!(r.launch, None);
+    // capacity 2 × 0.32 × 3240 N × 77.75 mm = 161.2 N·m: slips everywhere.
+    assert_eq!(r.lockup_rpm, None);
+    assert!(r.warnings.iter().any(|w| w.contains("slips at the top")));
+}
+
+#[test]
+fn invalid_inputs_name_their_field() {
+    let check = |edit: &dyn Fn(&mut CapacityRequest), field: &str| {
+        let mut r = example();
+        edit(&mut r);
+        assert_eq!(
+            field_of(capacity(&r)).as_deref(),
+            Some(field),
+            "expected {field}"
+        );
+    };
+    check(&|r| r.disc.inner_diameter = 10.4, "disc.inner_diameter");
+    check(&|r| r.disc.outer_diameter = -1.0, "disc.outer_diameter");
+    check(&|r| r.disc.count = 4, "disc.count");
+    check(&|r| r.springs.rate = 0.0, "springs.rate");
+    check(&|r| r.springs.rate = -380.0, "springs.rate");
+    check(&|r| r.springs.count = 25, "springs.count");
+    check(&|r| r.friction.mu = Some(0.9), "friction.mu");
+    check(&|r| r.friction.mu = None, "friction.mu");
+    check(
+        &|r| r.engine.torque_curve.truncate(2),
+        "engine.torque_curve",
+    );
+    check(
+        &|r| r.engine.torque_curve[2] = [5000.0, f64::NAN],
+        "engine.torque_curve[2]",
+    );
+    check(&|r| r.launch_rpm = Some(2500.0), "launch_rpm");
+    check(&|r| r.launch_rpm = Some(f64::INFINITY), "launch_rpm");
+    check(
+        &|r| r.springs.adjuster_turns = -1.0,
+        "springs.adjuster_turns",
+    );
+    if let Some(l) = example().levers {
+        let lever = |edit: &dyn Fn(&mut super::request::LeversInput), field: &str| {
+            let mut l = l.clone();
+            edit(&mut l);
+            check(&|r| r.levers = Some(l.clone()), field);
+        };
+        lever(&|l| l.counterweight_g = -1.0, "levers.counterweight_g");
+        lever(&|l| l.lever_mass_g = f64::NAN, "levers.lever_mass_g");
+        lever(&|l| l.count = 25, "levers.count");
+        lever(&|l| l.arm_ratio = None, "levers.arm_ratio");
+        lever(&|l| l.gain = Some(2.0), "levers.gain");
+    }
+}
+
+#[test]
+fn over_clamp_against_the_driveline_is_warned() {
+    let mut r = example();
+    r.driveline = Some(super::request::DrivelineInput {
+        rated_torque: 300.0,
+    });
+    let rep = capacity(&r).expect("valid");
+    let top = rep.top.capacity;
+    assert!(top > 450.0, "{top}");
+    assert!(rep.warnings.iter().any(|w| w.contains("rated torque")));
+    r.overclamp_factor = Some(top / 300.0 + 0.01);
+    let rep = capacity(&r).expect("valid");
+    assert!(!rep.warnings.iter().any(|w| w.contains("rated torque")));
+}
+
+/// The same clutch described in metric units.
+fn to_metric(r: &CapacityRequest) -> CapacityRequest {
+    let mut m = r.clone();
+    m.units = Units::Metric;
+    m.disc.outer_diameter *= MM_PER_IN;
+    m.disc.inner_diameter *= MM_PER_IN;
+    m.springs.rate *= N_PER_LBF / MM_PER_IN;
+    m.springs.base_compression *= MM_PER_IN;
+    m.springs.adjuster_pitch *= MM_PER_IN;
+    if let Some(l) = m.levers.as_mut() {
+        l.cg_radius = l.cg_radius.map(|v| v * MM_PER_IN);
+        l.gain = l.gain.map(|v| v * N_PER_LBF);
+    }
+    for p in &mut m.engine.torque_curve {
+        p[1] *= NM_PER_LBFFT;
+    }
+    m
+}
+
+fn varied(rate: f64, turns: f64, weight: f64, mu: f64, gain: Option<f64>) -> CapacityRequest {
+    let mut r = example();
+    r.springs.rate = rate;
+    r.springs.adjuster_turns = turns;
+    r.friction.mu = Some(mu);
+    if let Some(l) = r.levers.as_mut() {
+        l.counterweight_g = weight;
+        if gain.is_some() {
+            (l.gain, l.cg_radius, l.arm_ratio) = (gain, None, None);
+        }
+    }
+    r
+}
+
+proptest! {
+    // Metric and imperial descriptions of one clutch give the same physical answers.
+    #[test]
+    fn metric_and_imperial_agree(
+        rate in 100.0f64..800.0, turns in 0.0f64..6.0, weight in 0.0f64..120.0,
+        mu in 0.1f64..0.6, gain in proptest::option::of(0.05f64..2.0),
+    ) {
+        let imp = varied(rate, turns, weight, mu, gain);
+        let a = capacity(&imp).expect("valid imperial");
+        let b = capacity(&to_metric(&imp)).expect("valid metric");
+        prop_assert!(rel(a.static_clamp * N_PER_LBF, b.static_clamp) < 1e-12);
+        prop_assert!(rel(a.effective_radius * MM_PER_IN, b.effective_radius) < 1e-12);
+        prop_assert_eq!(a.curve.len(), b.curve.len());
+        for (p, q) in a.curve.iter().zip(&b.curve) {
+            prop_assert_eq!(p.rpm, q.rpm);
+            prop_assert!(rel(p.capacity * NM_PER_LBFFT, q.capacity) < 1e-12);
+            prop_assert!(rel(p.total_clamp * N_PER_LBF, q.total_clamp) < 1e-12);
+        }
+        match (a.lockup_rpm, b.lockup_rpm) {
+            (Some(x), Some(y)) => prop_assert!((x - y).abs() < 1e-6, "{x} vs {y}"),
+            (x, y) => prop_assert_eq!(x, y),
+        }
+        let (la, lb) = (a.launch.expect("launch"), b.launch.expect("launch"));
+        prop_assert!(rel(la.ratio, lb.ratio) < 1e-12);
+    }
+
+    // With levers, capacity never falls as engine speed rises.
+    #[test]
+    fn capacity_never_falls_with_rpm(
+        rate in 100.0f64..800.0, turns in 0.0f64..6.0, weight in 0.0f64..120.0, mu in 0.1f64..0.6,
+    ) {
+        let r = capacity(&varied(rate, turns, weight, mu, None)).expect("valid");
+        prop_assert!(r.curve.windows(2).all(|w| w[1].capacity >= w[0].capacity));
+    }
+
+    // Any non-finite number anywhere is a field error, never a panic or NaN in the answer.
+    #[test]
+    fn non_finite_inputs_are_errors(which in 0usize..10, bad in prop_oneof![Just(f64::NAN), Just(f64::INFINITY), Just(f64::NEG_INFINITY)]) {
+        let mut r = example();
+        match which {
+            0 => r.disc.outer_diameter = bad,
+            1 => r.disc.inner_diameter = bad,
+            2 => r.friction.mu = Some(bad),
+            3 => r.springs.rate = bad,
+            4 => r.springs.base_compression = bad,
+            5 => r.springs.adjuster_pitch = bad,
+            6 => r.engine.torque_curve[0][0] = bad,
+            7 => r.launch_rpm = Some(bad),
+            8 => r.overclamp_factor = Some(bad),
+            _ => if let Some(l) = r.levers.as_mut() { l.cg_radius = Some(bad) },
+        }
+        prop_assert!(capacity(&r).is_err());
+    }
+}
+
+const RECOMMEND: &str = r#"{"targets": {"lockup_rpm": 6200, "launch_ratio": 0.85},
+ "steps": {"adjuster_turns": 0.25, "counterweight_g": 1.0},
+ "limits": {"max_adjuster_turns": 6.0, "max_counterweight_g": 120.0}}"#;
+
+fn recommend_request() -> RecommendRequest {
+    let mut body: serde_json::Value = serde_json::from_str(EXAMPLE).expect("example parses");
+    let extra: serde_json::Value = serde_json::from_str(RECOMMEND).expect("targets parse");
+    if let (Some(b), Some(e)) = (body.as_object_mut(), extra.as_object()) {
+        b.extend(e.clone());
+    }
+    serde_json::from_value(body).expect("recommend request parses")
+}
+
+fn on_grid(v: f64, step: f64) -> bool {
+    ((v / step).round() * step - v).abs() < 1e-9
+}
+
+#[test]
+fn both_targets_give_a_grid_setting_inside_the_limits() {
+    let req = recommend_request();
+    let rec = recommend(&req).expect("valid");
+    // [D] By hand: capacity a + b·n² through 0.85 × 467.5 at 4500 rpm and 462 at 6200 rpm
+    // needs a ≈ 325 lbf·ft of static capacity, ≈ 1436 lbf, ≈ 6.6 turns: beyond the 6-turn
+    // limit, so the answer is a compromise, and must say so.
+    assert!(
+        rec.notes.iter().any(|n| n.contains("can't both be met")),
+        "{:?}",
+        rec.notes
+    );
+    let s = rec.recommended;
+    assert!(on_grid(s.adjuster_turns, 0.25) && (0.0..=6.0).contains(&s.adjuster_turns));
+    assert!(on_grid(s.counterweight_g, 1.0) && (0.0..=120.0).contains(&s.counterweight_g));
+    assert!(!rec.alternatives.is_empty());
+}
+
+// Targets read off a known grid setting must lead back to it (or to one just as close).
+#[test]
+fn targets_of_a_known_setting_lead_back_to_it() {
+    let mut known = example();
+    known.springs.adjuster_turns = 2.75;
+    if let Some(l) = known.levers.as_mut() {
+        l.counterweight_g = 30.0;
+    }
+    let rep = capacity(&known).expect("valid");
+    let lockup = rep.lockup_rpm.expect("locks up");
+    let ratio = rep.launch.expect("launch given").ratio;
+    let mut req = recommend_request();
+    req.targets.lockup_rpm = lockup;
+    req.targets.launch_ratio = Some(ratio);
+    let rec = recommend(&req).expect("valid");
+    let got = rec.result.lockup_rpm.expect("locks up");
+    assert!((got - lockup).abs() < 1e-6, "{got} vs {lockup}");
+    assert!((rec.result.launch_ratio.unwrap_or(0.0) - ratio).abs() < 1e-9);
+    assert_eq!(
+        (
+            rec.recommended.adjuster_turns,
+            rec.recommended.counterweight_g
+        ),
+        (2.75, 30.0)
+    );
+}
+
+#[test]
+fn lockup_target_only_keeps_the_turns() {
+    let mut req = recommend_request();
+    req.targets.launch_ratio = None;
+    let rec = recommend(&req).expect("valid");
+    assert_eq!(rec.recommended.adjuster_turns, 1.5);
+    let lockup = rec.result.lockup_rpm.expect("locks up");
+    // Every alternative on the grid is at least as far from the target.
+    for a in &rec.alternatives {
+        let d = a.lockup_rpm.map_or(f64::INFINITY, |l| (l - 6200.0).abs());
+        assert!(d >= (lockup - 6200.0).abs() - 1e-9);
+    }
+}
+
+#[test]
+fn unreachable_targets_are_noted_and_the_closest_returned() {
+    let mut req = recommend_request();
+    req.targets.launch_ratio = None;
+    req.limits.max_counterweight_g = 2.0;
+    req.targets.lockup_rpm = 3200.0;
+    let rec = recommend(&req).expect("valid");
+    assert_eq!(rec.recommended.counterweight_g, 2.0);
+    assert!(
+        rec.notes.iter().any(|n| n.contains("can't be reached")),
+        "{:?}",
+        rec.notes
+    );
+}
+
+#[test]
+fn recommend_errors_name_their_field() {
+    let field = |r: &RecommendRequest| recommend(r).err().map(|e| e.field);
+    let mut r = recommend_request();
+    r.setup.levers = None;
+    assert_eq!(field(&r).as_deref(), Some("levers"));
+    let mut r = recommend_request();
+    r.targets.lockup_rpm = 9000.0;
+    assert_eq!(field(&r).as_deref(), Some("targets.lockup_rpm"));
+    let mut r = recommend_request();
+    r.setup.launch_rpm = None;
+    assert_eq!(field(&r).as_deref(), Some("launch_rpm"));
+    let mut r = recommend_request();
+    r.steps.counterweight_g = 1e-4;
+    assert_eq!(field(&r).as_deref(), Some("steps.counterweight_g"));
+    let mut r = recommend_request();
+    r.limits.max_adjuster_turns = -1.0;
+    assert_eq!(field(&r).as_deref(), Some("limits.max_adjuster_turns"));
+}
+
+#[test]
+fn steps_and_limits_default_when_absent() {
+    let mut v: serde_json::Value = serde_json::from_str(EXAMPLE).expect("parses");
+    if let Some(o) = v.as_object_mut() {
+        o.insert("targets".into(), serde_json::json!({"lockup_rpm": 6000}));
+    }
+    let req: RecommendRequest = serde_json::from_value(v).expect("defaults fill in");
+    assert_eq!(
+        (req.steps.adjuster_turns, req.steps.counterweight_g),
+        (0.25, 1.0)
+    );
+    assert_eq!(
+        (
+            req.limits.max_adjuster_turns,
+            req.limits.max_counterweight_g
+        ),
+        (6.0, 120.0)
+    );
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+    // The reported result is exactly capacity() at the recommended setting.
+    #[test]
+    fn recommended_setting_reproduces_its_result(
+        lockup in 3000.0f64..7000.0, ratio in proptest::option::of(0.3f64..1.2),
+        rate in 150.0f64..600.0,
+    ) {
+        let mut req = recommend_request();
+        req.targets.lockup_rpm = lockup;
+        req.targets.launch_ratio = ratio;
+        req.setup.springs.rate = rate;
+        let rec = recommend(&req).expect("valid");
+        let mut again = req.setup.clone();
+        again.springs.adjuster_turns = rec.recommended.adjuster_turns;
+        if let Some(l) = again.levers.as_mut() {
+            l.counterweight_g = rec.recommended.counterweight_g;
+        }
+        let rep = capacity(&again).expect("valid");
+        prop_assert_eq!(rec.result.lockup_rpm, rep.lockup_rpm);
+        prop_assert_eq!(rec.result.launch_ratio, rep.launch.map(|l| l.ratio));
+        prop_assert_eq!(rec.result.static_clamp, rep.static_clamp);
+        prop_assert!(on_grid(rec.recommended.counterweight_g, 1.0));
+        prop_assert!((0.0..=120.0).contains(&rec.recommended.counterweight_g));
+    }
+}
+
+/// e = ((L − L*)/L*)² + ((ρ − ρ*)/ρ*)², slipping at the top scored as 10 % above the top.
+fn score(r: &CapacityReport, lockup: f64, ratio: f64) -> f64 {
+    let top = r.top.rpm * 1.1;
+    let l = (r.lockup_rpm.unwrap_or(top) - lockup) / lockup;
+    let q = (r.launch.as_ref().map_or(0.0, |p| p.ratio) - ratio) / ratio;
+    l * l + q * q
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(16))]
+    // On a small grid, the search's answer scores as well as the best of every setting.
+    #[test]
+    fn search_finds_the_best_setting_of_the_whole_grid(
+        lockup in 3000.0f64..7000.0, ratio in 0.3f64..1.2, rate in 150.0f64..600.0,
+    ) {
+        let mut req = recommend_request();
+        (req.targets.lockup_rpm, req.targets.launch_ratio) = (lockup, Some(ratio));
+        req.setup.springs.rate = rate;
+        (req.steps.adjuster_turns, req.steps.counterweight_g) = (0.5, 3.0);
+        (req.limits.max_adjuster_turns, req.limits.max_counterweight_g) = (4.0, 60.0);
+        let rec = recommend(&req).expect("valid");
+        let mut best = f64::INFINITY;
+        for k in 0..=8 {
+            for j in 0..=20 {
+                let mut s = req.setup.clone();
+                s.springs.adjuster_turns = f64::from(k) * 0.5;
+                if let Some(l) = s.levers.as_mut() {
+                    l.counterweight_g = f64::from(j) * 3.0;
+                }
+                best = best.min(score(&capacity(&s).expect("valid"), lockup, ratio));
+            }
+        }
+        let mut chosen = req.setup.clone();
+        chosen.springs.adjuster_turns = rec.recommended.adjuster_turns;
+        if let Some(l) = chosen.levers.as_mut() {
+            l.counterweight_g = rec.recommended.counterweight_g;
+        }
+        let got = score(&capacity(&chosen).expect("valid"), lockup, ratio);
+        prop_assert!(got <= best + 1e-12, "{got} vs {best}");
+    }
+}
+
+#[test]
+fn input_error_displays_as_field_colon_message() {
+    let e = InputError::new("springs.rate", "must be greater than 0");
+    assert_eq!(e.to_string(), "springs.rate: must be greater than 0");
+    let json = serde_json::to_string(&e).ok();
+    assert_eq!(
+        json.as_deref(),
+        Some(r#"{"field":"springs.rate","message":"must be greater than 0"}"#)
+    );
+}

@@ -1,0 +1,222 @@
+//! Clamp load on the pressure plate: static load from the compressed springs plus centrifugal
+//! load from the levers, F(n) = F_static + F_centrifugal(n).
+
+use super::InputError;
+use super::units::rpm_to_rad_s;
+
+/// Base spring compression from two cover-height readings, mm: free − installed
+/// (springs free with adjusters backed off, then as installed). Must not be negative.
+pub fn base_compression_mm(
+    free_height_mm: f64,
+    installed_height_mm: f64,
+) -> Result<f64, InputError> {
+    let free = super::require_finite("free_height", free_height_mm)?;
+    let installed = super::require_finite("installed_height", installed_height_mm)?;
+    if installed > free {
+        return Err(InputError::new(
+            "installed_height",
+            "is above the free height: the springs would not be compressed",
+        ));
+    }
+    Ok(free - installed)
+}
+
+/// The springs and adjusters, in internal units. Build it only from validated values.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SpringPack {
+    /// Number of springs (all equal).
+    pub count: u32,
+    /// Rate of one spring, N/mm.
+    pub rate_n_per_mm: f64,
+    /// Compression with adjusters at zero turns, mm.
+    pub base_compression_mm: f64,
+    /// Adjuster travel per turn, mm (thread pitch; see [`super::threads`]).
+    pub pitch_mm: f64,
+}
+
+impl SpringPack {
+    /// Spring compression, mm: base + turns × pitch (each turn adds one pitch).
+    pub fn compression_mm(&self, turns: f64) -> f64 {
+        self.base_compression_mm + turns * self.pitch_mm
+    }
+
+    /// Load of one spring, N: Hooke's law F = k·x in the spring's linear range.
+    pub fn per_spring_n(&self, turns: f64) -> f64 {
+        self.rate_n_per_mm * self.compression_mm(turns)
+    }
+
+    /// Static clamp of all springs acting in parallel, N: count × k × x
+    /// (parallel springs add; Bhandari, Design of Machine Elements, ch. 10).
+    pub fn static_clamp_n(&self, turns: f64) -> f64 {
+        f64::from(self.count) * self.per_spring_n(turns)
+    }
+}
+
+/// Spread of per-adjuster settings, turns.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AdjusterCheck {
+    /// Mean setting, turns.
+    pub mean: f64,
+    /// Lowest setting, turns.
+    pub min: f64,
+    /// Highest setting, turns.
+    pub max: f64,
+    /// True when the settings differ (by more than 1e-9 turn): the plate is loaded unevenly.
+    pub unequal: bool,
+}
+
+/// Checks that every adjuster sits at the same setting (common shop practice, no published
+/// source: unequal settings tilt the pressure plate). `field` names the list of turns.
+pub fn check_adjusters(turns_each: &[f64], field: &str) -> Result<AdjusterCheck, InputError> {
+    if turns_each.is_empty() {
+        return Err(InputError::new(field, "needs at least one adjuster"));
+    }
+    for (i, &t) in turns_each.iter().enumerate() {
+        super::require_range(&format!("{field}[{i}]"), t, 0.0, 1000.0)?;
+    }
+    let min = turns_each.iter().copied().fold(f64::INFINITY, f64::min);
+    let max = turns_each.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    Ok(AdjusterCheck {
+        mean: turns_each.iter().sum::<f64>() / turns_each.len() as f64,
+        min,
+        max,
+        unequal: max - min > 1e-9,
+    })
+}
+
+/// Centrifugal force on a rotating mass, N: F = m·r·ω², ω = 2π·n/60.
+///
+/// Source: Bhandari, Design of Machine Elements, Ex. 11.12–11.13 (centrifugal clutch).
+/// mass in g, radius of its centre of gravity in mm, speed in rev/min; all ≥ 0.
+pub fn centrifugal_force_n(mass_g: f64, radius_mm: f64, rpm: f64) -> f64 {
+    let w = rpm_to_rad_s(rpm);
+    mass_g / 1000.0 * radius_mm / 1000.0 * w * w
+}
+
+/// Speed, rev/min, at which F = m·r·ω² reaches `force_n` (e.g. a shoe spring's preload):
+/// n = (60/2π)·√(F/(m·r)). Source as [`centrifugal_force_n`]. mass, radius > 0; force ≥ 0.
+pub fn speed_for_force_rpm(mass_g: f64, radius_mm: f64, force_n: f64) -> f64 {
+    (force_n / (mass_g / 1000.0 * radius_mm / 1000.0)).sqrt() / rpm_to_rad_s(1.0)
+}
+
+/// The levers, in internal units. Build it with [`LeverSet::from_geometry`] or
+/// [`LeverSet::from_gain`] from validated values.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LeverSet {
+    /// Number of levers (0 for a spring-only clutch).
+    pub count: u32,
+    /// Mass of one lever itself, g (it counts with the counterweight).
+    pub lever_mass_g: f64,
+    /// Axial clamp per gram on one lever per (rev/min)², N/(g·rpm²).
+    pub n_per_g_rpm2: f64,
+}
+
+impl LeverSet {
+    /// Levers from geometry. Moment balance about the pivot: F_clamp = m·r_cg·ω²·(a/b), with
+    /// a the arm of the centrifugal force and b the arm of the plate reaction (the same balance
+    /// as the bell-crank spring governor). r_cg in mm, arm ratio a/b > 0.
+    pub fn from_geometry(count: u32, lever_mass_g: f64, cg_radius_mm: f64, arm_ratio: f64) -> Self {
+        Self {
+            count,
+            lever_mass_g,
+            n_per_g_rpm2: centrifugal_force_n(1.0, cg_radius_mm, 1.0) * arm_ratio,
+        }
+    }
+
+    /// Levers from a measured or calibrated gain: clamp per gram per lever at 1000 rev/min, N/g.
+    /// F_clamp = gain × m × (n/1000)².
+    pub fn from_gain(count: u32, lever_mass_g: f64, gain_n_per_g_at_1000: f64) -> Self {
+        Self {
+            count,
+            lever_mass_g,
+            n_per_g_rpm2: gain_n_per_g_at_1000 / 1.0e6,
+        }
+    }
+
+    /// Clamp from one lever carrying `counterweight_g`, N, at `rpm`.
+    pub fn per_lever_n(&self, counterweight_g: f64, rpm: f64) -> f64 {
+        (counterweight_g + self.lever_mass_g) * self.n_per_g_rpm2 * rpm * rpm
+    }
+
+    /// Clamp from all levers, N per (rev/min)²: the coefficient c in F = c·n².
+    pub fn total_n_per_rpm2(&self, counterweight_g: f64) -> f64 {
+        f64::from(self.count) * (counterweight_g + self.lever_mass_g) * self.n_per_g_rpm2
+    }
+
+    /// Clamp from all levers, N, at `rpm`: levers × per lever.
+    pub fn total_n(&self, counterweight_g: f64, rpm: f64) -> f64 {
+        self.total_n_per_rpm2(counterweight_g) * rpm * rpm
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::clutch::units::N_PER_LBF;
+
+    // Bhandari, Design of Machine Elements, Ex. 11.13 (via FOSSEE Scilab TBC 764):
+    // shoe 1.5 kg, CG at 110 mm, 1440 rpm → Fc = 3752.029 N.
+    #[test]
+    fn centrifugal_force_matches_bhandari_ex_11_13() {
+        let f = centrifugal_force_n(1500.0, 110.0, 1440.0);
+        assert!((f - 3752.029).abs() < 5e-3, "{f}");
+    }
+
+    // Bhandari, Ex. 11.13 (via FOSSEE Scilab TBC 764): a 700 N spring holds the shoe off the
+    // drum up to 621.98 rpm; torque of 4 shoes, μ 0.3, drum 140 mm: 512 740.84 N·mm.
+    #[test]
+    fn engagement_speed_and_torque_match_bhandari_ex_11_13() {
+        let n = speed_for_force_rpm(1500.0, 110.0, 700.0);
+        assert!((n - 621.98).abs() < 5e-3, "{n}");
+        let t = 4.0 * 0.3 * (centrifugal_force_n(1500.0, 110.0, 1440.0) - 700.0) * 140.0;
+        assert!((t - 512_740.84).abs() < 0.5, "{t}");
+    }
+
+    // [D] (checks our arithmetic against F = m·r·ω²): 100 g at 3 in, 6000 rpm →
+    // 3008.2554 N = 676.2827 lbf; with a/b = 2 one lever clamps 6016.51 N.
+    #[test]
+    fn hundred_grams_at_three_inches_and_6000_rpm() {
+        let f = centrifugal_force_n(100.0, 76.2, 6000.0);
+        assert!((f - 3008.2554).abs() < 5e-4, "{f}");
+        assert!((f / N_PER_LBF - 676.2827).abs() < 5e-4);
+        let levers = LeverSet::from_geometry(3, 0.0, 76.2, 2.0);
+        assert!((levers.per_lever_n(100.0, 6000.0) - 6016.51).abs() < 5e-3);
+        assert!((levers.total_n(100.0, 6000.0) - 3.0 * 6016.51).abs() < 2e-2);
+    }
+
+    #[test]
+    fn gain_form_equals_geometry_form_when_gain_is_the_force_at_1000_rpm() {
+        let geo = LeverSet::from_geometry(3, 12.0, 104.14, 2.6);
+        let gain = geo.per_lever_n(1.0, 1000.0) - geo.per_lever_n(0.0, 1000.0);
+        let cal = LeverSet::from_gain(3, 12.0, gain);
+        let (a, b) = (geo.total_n(24.0, 6500.0), cal.total_n(24.0, 6500.0));
+        assert!(((a - b) / a).abs() < 1e-12);
+    }
+
+    #[test]
+    fn static_clamp_adds_one_pitch_per_turn() {
+        let pack = SpringPack {
+            count: 6,
+            rate_n_per_mm: 60.0,
+            base_compression_mm: 5.0,
+            pitch_mm: 1.5875,
+        };
+        assert!((pack.compression_mm(2.0) - 8.175).abs() < 1e-12);
+        assert!((pack.static_clamp_n(2.0) - 6.0 * 60.0 * 8.175).abs() < 1e-9);
+    }
+
+    #[test]
+    fn base_compression_is_free_minus_installed() {
+        assert!((base_compression_mm(50.0, 44.5).unwrap_or(f64::NAN) - 5.5).abs() < 1e-12);
+        let e = base_compression_mm(44.0, 44.5).err();
+        assert_eq!(e.map(|e| e.field), Some("installed_height".to_string()));
+    }
+
+    #[test]
+    fn unequal_adjusters_are_flagged() {
+        assert!(check_adjusters(&[1.5, 1.5, 1.5], "t").is_ok_and(|c| !c.unequal));
+        let c = check_adjusters(&[1.5, 1.5, 1.75], "t").expect("valid");
+        assert!(c.unequal && c.max == 1.75 && c.min == 1.5);
+        assert!(check_adjusters(&[1.5, f64::NAN], "t").is_err());
+    }
+}

@@ -1,0 +1,174 @@
+//! The capacity calculation: POST /api/v1/calc/capacity. Builds the capacity curve over the
+//! engine's torque curve, finds the lockup speed and the launch ratio, and words the warnings.
+//! Every output is in the request's unit system.
+
+use super::InputError;
+use super::lockup::{SpeedPoint, curve_at};
+use super::request::{CapacityRequest, ValidRequest};
+use super::units::Units;
+use serde::Serialize;
+
+/// Spacing of the reported capacity curve, rev/min.
+pub const REPORT_STEP_RPM: f64 = 100.0;
+
+/// Answer to POST /api/v1/calc/capacity.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CapacityReport {
+    /// Static spring clamp (lbf / N).
+    pub static_clamp: f64,
+    /// Effective friction radius (in / mm).
+    pub effective_radius: f64,
+    /// Friction surfaces (2 per disc).
+    pub friction_surfaces: u32,
+    /// Capacity against engine speed: the curve's ends and every 100 rpm between.
+    pub curve: Vec<CurvePoint>,
+    /// Lowest speed from which capacity holds to the top of the curve; null if it slips there.
+    pub lockup_rpm: Option<f64>,
+    /// Capacity and engine torque at the launch speed; null without `launch_rpm`.
+    pub launch: Option<SpeedCheck>,
+    /// Capacity and engine torque at the top of the curve (ratio − 1 is the margin).
+    pub top: SpeedCheck,
+    /// Plain-English warnings.
+    pub warnings: Vec<String>,
+}
+
+/// One row of the capacity curve, in display units.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CurvePoint {
+    /// Engine speed, rev/min.
+    pub rpm: f64,
+    /// Centrifugal clamp of all levers (lbf / N).
+    pub centrifugal_clamp: f64,
+    /// Static + centrifugal clamp (lbf / N).
+    pub total_clamp: f64,
+    /// Torque capacity (lbf·ft / N·m).
+    pub capacity: f64,
+    /// Engine torque (lbf·ft / N·m).
+    pub engine_torque: f64,
+}
+
+/// Capacity against engine torque at one speed, in display units.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SpeedCheck {
+    /// Engine speed, rev/min.
+    pub rpm: f64,
+    /// Torque capacity (lbf·ft / N·m).
+    pub capacity: f64,
+    /// Engine torque (lbf·ft / N·m).
+    pub engine_torque: f64,
+    /// capacity / engine torque (below 1 the clutch slips).
+    pub ratio: f64,
+}
+
+impl CurvePoint {
+    fn from_si(p: &SpeedPoint, u: Units) -> Self {
+        Self {
+            rpm: p.rpm,
+            centrifugal_clamp: u.n_to_force(p.centrifugal_clamp_n),
+            total_clamp: u.n_to_force(p.total_clamp_n),
+            capacity: u.nm_to_torque(p.capacity_nm),
+            engine_torque: u.nm_to_torque(p.engine_torque_nm),
+        }
+    }
+}
+
+impl SpeedCheck {
+    fn from_si(p: &SpeedPoint, u: Units) -> Self {
+        Self {
+            rpm: p.rpm,
+            capacity: u.nm_to_torque(p.capacity_nm),
+            engine_torque: u.nm_to_torque(p.engine_torque_nm),
+            ratio: p.capacity_nm / p.engine_torque_nm,
+        }
+    }
+}
+
+/// Capacity report for a request: T(n) = n_f·μ·r_eff·(F_static + F_centrifugal(n)) over the
+/// engine curve (see [`super::lockup`]), lockup speed, launch ratio and warnings.
+/// Errors name the offending field; never panics on any input.
+pub fn capacity(req: &CapacityRequest) -> Result<CapacityReport, InputError> {
+    Ok(report_for(&req.validate()?))
+}
+
+/// The report for an already validated request.
+pub fn report_for(v: &ValidRequest) -> CapacityReport {
+    let (u, m) = (v.units, &v.model);
+    let law = m.law();
+    let engine = &m.engine;
+    // The step is a positive constant and a valid curve spans at most 14 500 rpm, so
+    // curve_at cannot fail here; an empty curve would only be a programming error.
+    let rows = curve_at(&law, engine, REPORT_STEP_RPM).unwrap_or_default();
+    let (_, hi) = engine.range();
+    let top = law.point(engine, hi);
+    let launch = v.launch_rpm.map(|rpm| law.point(engine, rpm));
+    let lockup_rpm = law.lockup_rpm(engine);
+
+    let mut warnings = Vec::new();
+    if lockup_rpm.is_none() {
+        warnings.push(format!(
+            "The clutch slips at the top of the torque curve: capacity {} is below engine torque {} at {:.0} rpm.",
+            torque_text(top.capacity_nm, u),
+            torque_text(top.engine_torque_nm, u),
+            hi
+        ));
+    }
+    if let Some(l) = &launch
+        && l.capacity_nm >= l.engine_torque_nm
+    {
+        warnings.push(format!(
+            "Capacity at the {:.0} rpm launch is {:.2} times engine torque: the clutch will not slip at launch.",
+            l.rpm,
+            l.capacity_nm / l.engine_torque_nm
+        ));
+    }
+    if let Some(rated) = v.rated_torque_nm {
+        let limit = rated * v.overclamp_factor;
+        if top.capacity_nm > limit {
+            warnings.push(format!(
+                "Capacity at {:.0} rpm ({}) is more than {} times the driveline's rated torque ({}): shock loads may break transmission or axle parts.",
+                hi,
+                torque_text(top.capacity_nm, u),
+                v.overclamp_factor,
+                torque_text(rated, u)
+            ));
+        }
+    }
+    if let Some(mat) = v.material {
+        let d = mat.data();
+        if m.mu < d.mu_min || m.mu > d.mu_max {
+            warnings.push(format!(
+                "Friction coefficient {} is outside the published range {}–{} for {} facings.",
+                m.mu,
+                d.mu_min,
+                d.mu_max,
+                mat.label().to_lowercase()
+            ));
+        }
+    }
+
+    CapacityReport {
+        static_clamp: u.n_to_force(law.static_clamp_n),
+        effective_radius: u.mm_to_length(m.effective_radius_mm),
+        friction_surfaces: m.surfaces,
+        curve: rows.iter().map(|p| CurvePoint::from_si(p, u)).collect(),
+        lockup_rpm,
+        launch: launch.as_ref().map(|p| SpeedCheck::from_si(p, u)),
+        top: SpeedCheck::from_si(&top, u),
+        warnings,
+    }
+}
+
+fn torque_text(nm: f64, u: Units) -> String {
+    format!("{:.0} {}", u.nm_to_torque(nm), u.torque_label())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn torque_text_rounds_and_labels() {
+        assert_eq!(torque_text(135.5818, Units::Imperial), "100 lbf·ft");
+        assert_eq!(torque_text(135.5818, Units::Metric), "136 N·m");
+    }
+}

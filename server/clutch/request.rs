@@ -1,0 +1,319 @@
+//! The capacity calculation request, as the API receives it (JSON), and its validation into a
+//! [`ClutchModel`] in internal units.
+//!
+//! Lengths, forces, rates and torques are in the request's `units` (in / lbf / lbf·in⁻¹ / lbf·ft
+//! or mm / N / N·mm⁻¹ / N·m); counterweights and lever masses are grams in both systems.
+//! JSON type errors belong to the web layer; [`CapacityRequest::validate`] reports range and
+//! consistency errors with the JSON path of the field.
+
+use super::InputError;
+use super::capacity::{Theory, effective_radius_mm};
+use super::clamp::{LeverSet, SpringPack};
+use super::friction::{FacingMaterial, friction_surfaces};
+use super::lockup::ClutchModel;
+use super::torque_curve::TorqueCurve;
+use super::units::Units;
+use serde::{Deserialize, Serialize};
+
+/// Default multiple of the driveline's rated input torque above which capacity is flagged
+/// (common shop practice, no published source).
+pub const DEFAULT_OVERCLAMP_FACTOR: f64 = 1.5;
+/// Most counterweight or lever mass accepted, g.
+pub const MAX_MASS_G: f64 = 5000.0;
+/// Most adjuster turns accepted.
+pub const MAX_TURNS: f64 = 100.0;
+
+/// POST /api/v1/calc/capacity body.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CapacityRequest {
+    /// Unit system of every length, force, rate and torque in the request and the answer.
+    pub units: Units,
+    /// Friction disc(s).
+    pub disc: DiscInput,
+    /// Friction coefficient.
+    pub friction: FrictionInput,
+    /// Springs and adjusters.
+    pub springs: SpringsInput,
+    /// Levers; absent for a spring-only (static) clutch.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub levers: Option<LeversInput>,
+    /// Engine torque curve.
+    pub engine: EngineInput,
+    /// Engine speed at launch, rev/min; must lie inside the torque curve.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub launch_rpm: Option<f64>,
+    /// Optional driveline data for the over-clamp check.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub driveline: Option<DrivelineInput>,
+    /// Multiple of the rated driveline torque above which capacity is flagged (default 1.5).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub overclamp_factor: Option<f64>,
+}
+
+/// Disc geometry.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DiscInput {
+    /// Facing outer diameter (in / mm).
+    pub outer_diameter: f64,
+    /// Facing inner diameter (in / mm).
+    pub inner_diameter: f64,
+    /// Number of driven discs, 1–3 (default 1).
+    #[serde(default = "one")]
+    pub count: u32,
+    /// Effective-radius assumption (default uniform wear).
+    #[serde(default)]
+    pub theory: Theory,
+}
+
+fn one() -> u32 {
+    1
+}
+
+/// Friction: give `mu`, or a facing `material` to use its nominal μ.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FrictionInput {
+    /// Friction coefficient, 0.05–0.8.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mu: Option<f64>,
+    /// Facing material; its nominal μ is used when `mu` is absent.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub material: Option<FacingMaterial>,
+}
+
+/// Springs and adjusters.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SpringsInput {
+    /// Number of springs, 1–24.
+    pub count: u32,
+    /// Rate of one spring (lbf/in / N/mm).
+    pub rate: f64,
+    /// Compression with adjusters at zero turns (in / mm): free minus installed cover height.
+    pub base_compression: f64,
+    /// Adjuster travel per turn (in / mm), i.e. the thread pitch (default 0).
+    #[serde(default)]
+    pub adjuster_pitch: f64,
+    /// Adjuster turns (default 0).
+    #[serde(default)]
+    pub adjuster_turns: f64,
+}
+
+/// Levers: geometry (`cg_radius` + `arm_ratio`) or a calibrated `gain`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LeversInput {
+    /// Number of levers, 0–24.
+    pub count: u32,
+    /// Counterweight on each lever, g.
+    pub counterweight_g: f64,
+    /// Mass of one lever itself, g (default 0).
+    #[serde(default)]
+    pub lever_mass_g: f64,
+    /// Radius of the lever + weight centre of gravity (in / mm).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cg_radius: Option<f64>,
+    /// Lever arm ratio a/b (centrifugal-force arm over plate-reaction arm).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub arm_ratio: Option<f64>,
+    /// Clamp per gram per lever at 1000 rpm (lbf / N), instead of cg_radius and arm_ratio.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gain: Option<f64>,
+}
+
+/// Engine data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct EngineInput {
+    /// Dyno points `[rpm, torque]` (torque in lbf·ft / N·m), at least 3.
+    pub torque_curve: Vec<[f64; 2]>,
+}
+
+/// Driveline data for the over-clamp check.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DrivelineInput {
+    /// Rated input torque of the transmission / driveline (lbf·ft / N·m).
+    pub rated_torque: f64,
+}
+
+/// A validated request in internal units.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ValidRequest {
+    /// Display units of the request.
+    pub units: Units,
+    /// The clutch with its setting.
+    pub model: ClutchModel,
+    /// Launch speed, rev/min, inside the curve.
+    pub launch_rpm: Option<f64>,
+    /// Rated driveline torque, N·m.
+    pub rated_torque_nm: Option<f64>,
+    /// Over-clamp factor.
+    pub overclamp_factor: f64,
+    /// Facing material, if given.
+    pub material: Option<FacingMaterial>,
+}
+
+/// A bound that reads as a round number in each system: (imperial, metric).
+fn bound(units: Units, imperial: f64, metric: f64) -> f64 {
+    match units {
+        Units::Imperial => imperial,
+        Units::Metric => metric,
+    }
+}
+
+fn count_in(field: &str, v: u32, min: u32, max: u32) -> Result<u32, InputError> {
+    if v < min || v > max {
+        return Err(InputError::new(
+            field,
+            format!("must be {min} to {max} (got {v})"),
+        ));
+    }
+    Ok(v)
+}
+
+impl CapacityRequest {
+    /// Checks every value and builds the model in internal units (mm, N, N/mm, N·m, g).
+    /// Errors name the first offending field by its JSON path.
+    pub fn validate(&self) -> Result<ValidRequest, InputError> {
+        let u = self.units;
+        let od = super::require_positive(
+            "disc.outer_diameter",
+            self.disc.outer_diameter,
+            bound(u, 40.0, 1000.0),
+        )?;
+        let id = super::require_positive(
+            "disc.inner_diameter",
+            self.disc.inner_diameter,
+            bound(u, 40.0, 1000.0),
+        )?;
+        let r_eff = effective_radius_mm(u.length_to_mm(od), u.length_to_mm(id), self.disc.theory)?;
+        count_in("disc.count", self.disc.count, 1, 3)?;
+        let surfaces = friction_surfaces(self.disc.count)?;
+        let mu = match (self.friction.mu, self.friction.material) {
+            (Some(mu), _) => super::require_range("friction.mu", mu, 0.05, 0.8)?,
+            (None, Some(m)) => m.data().mu_nominal,
+            (None, None) => {
+                return Err(InputError::new(
+                    "friction.mu",
+                    "give mu or a facing material",
+                ));
+            }
+        };
+        let springs = self.spring_pack()?;
+        let turns = super::require_range(
+            "springs.adjuster_turns",
+            self.springs.adjuster_turns,
+            0.0,
+            MAX_TURNS,
+        )?;
+        let (levers, counterweight_g) = match &self.levers {
+            Some(l) => (Some(l.lever_set(u)?), l.counterweight_g),
+            None => (None, 0.0),
+        };
+        let points: Vec<(f64, f64)> = self
+            .engine
+            .torque_curve
+            .iter()
+            .map(|&[rpm, t]| (rpm, if t.is_finite() { u.torque_to_nm(t) } else { t }))
+            .collect();
+        let engine = TorqueCurve::new(&points, "engine.torque_curve")?;
+        let launch_rpm = match self.launch_rpm {
+            Some(rpm) => {
+                let (lo, hi) = engine.range();
+                Some(super::require_range("launch_rpm", rpm, lo, hi)?)
+            }
+            None => None,
+        };
+        let rated_torque_nm = match &self.driveline {
+            Some(d) => Some(u.torque_to_nm(super::require_positive(
+                "driveline.rated_torque",
+                d.rated_torque,
+                bound(u, 70_000.0, 100_000.0),
+            )?)),
+            None => None,
+        };
+        let overclamp_factor = match self.overclamp_factor {
+            Some(f) => super::require_range("overclamp_factor", f, 1.0, 10.0)?,
+            None => DEFAULT_OVERCLAMP_FACTOR,
+        };
+        Ok(ValidRequest {
+            units: u,
+            model: ClutchModel {
+                springs,
+                adjuster_turns: turns,
+                levers,
+                counterweight_g,
+                surfaces,
+                mu,
+                effective_radius_mm: r_eff,
+                engine,
+            },
+            launch_rpm,
+            rated_torque_nm,
+            overclamp_factor,
+            material: self.friction.material,
+        })
+    }
+
+    fn spring_pack(&self) -> Result<SpringPack, InputError> {
+        let (u, s) = (self.units, &self.springs);
+        let count = count_in("springs.count", s.count, 1, 24)?;
+        let rate = super::require_positive("springs.rate", s.rate, bound(u, 100_000.0, 20_000.0))?;
+        let base = super::require_range(
+            "springs.base_compression",
+            s.base_compression,
+            0.0,
+            bound(u, 4.0, 100.0),
+        )?;
+        let pitch = super::require_range(
+            "springs.adjuster_pitch",
+            s.adjuster_pitch,
+            0.0,
+            bound(u, 0.5, 12.0),
+        )?;
+        Ok(SpringPack {
+            count,
+            rate_n_per_mm: u.rate_to_n_per_mm(rate),
+            base_compression_mm: u.length_to_mm(base),
+            pitch_mm: u.length_to_mm(pitch),
+        })
+    }
+}
+
+impl LeversInput {
+    fn lever_set(&self, u: Units) -> Result<LeverSet, InputError> {
+        let count = count_in("levers.count", self.count, 0, 24)?;
+        super::require_range(
+            "levers.counterweight_g",
+            self.counterweight_g,
+            0.0,
+            MAX_MASS_G,
+        )?;
+        let lever_mass =
+            super::require_range("levers.lever_mass_g", self.lever_mass_g, 0.0, MAX_MASS_G)?;
+        match (self.gain, self.cg_radius, self.arm_ratio) {
+            (Some(_), Some(_), _) | (Some(_), _, Some(_)) => Err(InputError::new(
+                "levers.gain",
+                "give either gain or cg_radius with arm_ratio, not both",
+            )),
+            (Some(gain), None, None) => {
+                let gain = super::require_range("levers.gain", gain, 0.0, 1000.0)?;
+                Ok(LeverSet::from_gain(count, lever_mass, u.force_to_n(gain)))
+            }
+            (None, Some(r), Some(ratio)) => {
+                let r = super::require_positive("levers.cg_radius", r, bound(u, 40.0, 1000.0))?;
+                let ratio = super::require_positive("levers.arm_ratio", ratio, 50.0)?;
+                Ok(LeverSet::from_geometry(
+                    count,
+                    lever_mass,
+                    u.length_to_mm(r),
+                    ratio,
+                ))
+            }
+            (None, None, _) => Err(InputError::new(
+                "levers.cg_radius",
+                "give cg_radius with arm_ratio, or gain",
+            )),
+            (None, Some(_), None) => Err(InputError::new(
+                "levers.arm_ratio",
+                "is needed with cg_radius",
+            )),
+        }
+    }
+}

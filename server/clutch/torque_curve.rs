@@ -1,0 +1,175 @@
+//! Engine torque against speed from dyno points, linear between points.
+
+use super::InputError;
+
+/// Lowest engine speed accepted in a torque curve, rev/min.
+pub const MIN_RPM: f64 = 500.0;
+/// Highest engine speed accepted in a torque curve, rev/min.
+pub const MAX_RPM: f64 = 15_000.0;
+/// Most points accepted in one curve.
+pub const MAX_POINTS: usize = 500;
+/// Largest torque accepted, N·m (far above any clutch this module is for).
+pub const MAX_TORQUE_NM: f64 = 100_000.0;
+
+/// A validated torque curve: at least 3 points, strictly rising rpm within 500–15 000,
+/// positive finite torque in N·m.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TorqueCurve {
+    rpm: Vec<f64>,
+    nm: Vec<f64>,
+}
+
+impl TorqueCurve {
+    /// Builds a curve from (rpm, N·m) points in any order. Exact duplicate points are dropped;
+    /// two different torques at one rpm are an error. `field` is the JSON path of the list;
+    /// errors point at `field[i]` (index as given).
+    pub fn new(points: &[(f64, f64)], field: &str) -> Result<Self, InputError> {
+        if points.len() > MAX_POINTS {
+            return Err(InputError::new(
+                field,
+                format!("has more than {MAX_POINTS} points"),
+            ));
+        }
+        for (i, &(rpm, nm)) in points.iter().enumerate() {
+            let at = format!("{field}[{i}]");
+            if !(rpm.is_finite() && (MIN_RPM..=MAX_RPM).contains(&rpm)) {
+                return Err(InputError::new(
+                    at,
+                    format!("engine speed must be between {MIN_RPM} and {MAX_RPM} rpm"),
+                ));
+            }
+            if !(nm.is_finite() && nm > 0.0 && nm <= MAX_TORQUE_NM) {
+                return Err(InputError::new(at, "torque must be a positive number"));
+            }
+        }
+        let mut order: Vec<usize> = (0..points.len()).collect();
+        order.sort_by(|&a, &b| points[a].0.total_cmp(&points[b].0));
+        let (mut rpm, mut nm) = (
+            Vec::with_capacity(order.len()),
+            Vec::with_capacity(order.len()),
+        );
+        for i in order {
+            let (r, t) = points[i];
+            if rpm.last() == Some(&r) {
+                if nm.last() != Some(&t) {
+                    return Err(InputError::new(
+                        format!("{field}[{i}]"),
+                        format!("gives a second, different torque at {r} rpm"),
+                    ));
+                }
+                continue;
+            }
+            rpm.push(r);
+            nm.push(t);
+        }
+        if rpm.len() < 3 {
+            return Err(InputError::new(
+                field,
+                "needs at least 3 points at different engine speeds",
+            ));
+        }
+        Ok(Self { rpm, nm })
+    }
+
+    /// First and last engine speed of the curve, rev/min.
+    pub fn range(&self) -> (f64, f64) {
+        (self.rpm[0], self.rpm[self.rpm.len() - 1])
+    }
+
+    /// True when `rpm` lies inside the curve's range (ends included).
+    pub fn contains(&self, rpm: f64) -> bool {
+        let (lo, hi) = self.range();
+        rpm >= lo && rpm <= hi
+    }
+
+    /// The points, sorted by rpm: (rev/min, N·m).
+    pub fn points(&self) -> impl Iterator<Item = (f64, f64)> + '_ {
+        self.rpm.iter().copied().zip(self.nm.iter().copied())
+    }
+
+    /// Number of points after de-duplication.
+    pub fn len(&self) -> usize {
+        self.rpm.len()
+    }
+
+    /// Always false: a valid curve has at least 3 points.
+    pub fn is_empty(&self) -> bool {
+        self.rpm.is_empty()
+    }
+
+    /// Engine torque at `rpm`, N·m, by linear interpolation between the neighbouring points;
+    /// `None` outside the curve's range.
+    pub fn torque_at(&self, rpm: f64) -> Option<f64> {
+        if !self.contains(rpm) {
+            return None;
+        }
+        let i = self.segment_of(rpm);
+        Some(self.on_segment(i, rpm))
+    }
+
+    /// Index `i` of the segment [rpm[i], rpm[i+1]] holding `rpm` (clamped to the ends).
+    pub(crate) fn segment_of(&self, rpm: f64) -> usize {
+        let upper = self.rpm.partition_point(|&r| r <= rpm);
+        upper.saturating_sub(1).min(self.rpm.len() - 2)
+    }
+
+    /// Linear interpolation on segment `i`, also used to extrapolate just past its ends.
+    pub(crate) fn on_segment(&self, i: usize, rpm: f64) -> f64 {
+        let (r0, r1) = (self.rpm[i], self.rpm[i + 1]);
+        let (t0, t1) = (self.nm[i], self.nm[i + 1]);
+        t0 + (t1 - t0) * (rpm - r0) / (r1 - r0)
+    }
+
+    /// Segment `i` as (rpm0, N·m0, rpm1, N·m1).
+    pub(crate) fn segment(&self, i: usize) -> (f64, f64, f64, f64) {
+        (self.rpm[i], self.nm[i], self.rpm[i + 1], self.nm[i + 1])
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn demo() -> TorqueCurve {
+        let pts = [
+            (5000.0, 480.0),
+            (3000.0, 410.0),
+            (4000.0, 455.0),
+            (4000.0, 455.0),
+        ];
+        TorqueCurve::new(&pts, "engine.torque_curve").expect("valid curve")
+    }
+
+    #[test]
+    fn sorts_drops_exact_duplicates_and_interpolates() {
+        let c = demo();
+        assert_eq!(c.len(), 3);
+        assert_eq!(c.range(), (3000.0, 5000.0));
+        assert_eq!(c.torque_at(3500.0), Some(432.5));
+        assert_eq!(c.torque_at(5000.0), Some(480.0));
+        assert_eq!(c.torque_at(3000.0), Some(410.0));
+        assert_eq!(c.torque_at(5000.1), None);
+    }
+
+    #[test]
+    fn bad_points_name_their_index() {
+        let field = |pts: &[(f64, f64)]| TorqueCurve::new(pts, "c").err().map(|e| e.field);
+        assert_eq!(field(&[(3000.0, 1.0), (4000.0, 2.0)]), Some("c".into()));
+        assert_eq!(
+            field(&[(3000.0, 1.0), (4000.0, 2.0), (4000.0, 3.0)]),
+            Some("c[2]".into())
+        );
+        assert_eq!(
+            field(&[(3000.0, 1.0), (400.0, 2.0), (5000.0, 3.0)]),
+            Some("c[1]".into())
+        );
+        assert_eq!(
+            field(&[(3000.0, 1.0), (4000.0, -2.0), (5000.0, 3.0)]),
+            Some("c[1]".into())
+        );
+        assert_eq!(
+            field(&[(f64::NAN, 1.0), (4000.0, 2.0), (5000.0, 3.0)]),
+            Some("c[0]".into())
+        );
+    }
+}

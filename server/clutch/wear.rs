@@ -1,0 +1,332 @@
+//! Disc wear from cover-height measurements: POST /api/v1/calc/wear.
+//!
+//! As the disc wears the cover height (cover to pressure ring, through the checking hole)
+//! grows; shims between cover and flywheel are pulled to bring it back. Total wear is the
+//! growth since the baseline plus the shims already pulled. Growth also unloads the springs:
+//! clamp loss = springs × rate × growth (Hooke's law for springs in parallel; the same mechanism
+//! as Bhandari, Design of Machine Elements, Ex. 11.6, where facing wear becomes spring extension).
+//!
+//! All lengths are in one unit (in or mm), the rate in that force per that length, so no
+//! conversion is needed: clamp loss comes out in lbf or N.
+
+use super::InputError;
+use super::regression::fit_line;
+use super::units::Units;
+use serde::{Deserialize, Serialize};
+
+/// Heights, shims and wear closer than this to a limit count as at the limit, in mm
+/// (1 nm: far below any gauge, far above float rounding of readings like 1.920 − 1.905).
+pub const AT_LIMIT_TOLERANCE_MM: f64 = 1e-6;
+
+/// POST /api/v1/calc/wear body.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct WearRequest {
+    /// Unit system of lengths (in / mm) and the spring rate (lbf/in / N/mm).
+    pub units: Units,
+    /// Cover height at the baseline (new disc, full shim stack).
+    pub baseline_cover_height: f64,
+    /// Growth at which a shim is due.
+    pub shimming_limit: f64,
+    /// Shim stack, in the order they are pulled.
+    #[serde(default)]
+    pub shims: Vec<f64>,
+    /// Number of springs, 1–24.
+    pub spring_count: u32,
+    /// Rate of one spring.
+    pub spring_rate: f64,
+    /// Total disc wear at which the disc is due.
+    pub disc_wear_allowance: f64,
+    /// Measurements in pass order, at least one.
+    pub measurements: Vec<Measurement>,
+}
+
+/// One cover-height measurement.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Measurement {
+    /// Passes since the baseline.
+    pub passes: u32,
+    /// Measured cover height.
+    pub cover_height: f64,
+    /// Shims pulled since the baseline (the first `shims_pulled` of the stack).
+    #[serde(default)]
+    pub shims_pulled: u32,
+}
+
+/// Service status at the latest measurement.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum WearStatus {
+    /// Nothing due.
+    Ok,
+    /// Growth reached the shimming limit and a shim remains: pull the next shim.
+    ShimDue,
+    /// Total wear reached the allowance, or growth reached the limit with no shim left.
+    DiscDue,
+}
+
+/// Answer to POST /api/v1/calc/wear.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WearReport {
+    /// Each measurement, analysed.
+    pub measurements: Vec<WearPoint>,
+    /// Status at the latest measurement.
+    pub status: WearStatus,
+    /// Thickness of the next shim to pull (null when none remain).
+    pub next_shim: Option<f64>,
+    /// Least-squares slope of total wear against passes (null with < 2 distinct pass counts).
+    pub wear_per_pass: Option<f64>,
+    /// Passes until a shim is due at that rate (null: no rate, or no shim left).
+    pub passes_to_shim_due: Option<f64>,
+    /// Passes until the disc is due at that rate (null: no rate).
+    pub passes_to_disc_due: Option<f64>,
+}
+
+/// One analysed measurement.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WearPoint {
+    /// Passes since the baseline.
+    pub passes: u32,
+    /// Growth h − h0.
+    pub growth: f64,
+    /// Growth + shims pulled.
+    pub total_wear: f64,
+    /// Static clamp lost: springs × rate × growth (lbf / N).
+    pub clamp_loss: f64,
+}
+
+/// Analyses the measurements: growth = h − h0; total wear = growth + first k shims;
+/// clamp loss = n·k_s·growth; status, next shim, wear per pass (OLS slope, NIST/SEMATECH
+/// e-Handbook §4.1.4.1) and passes to the next shim and to the disc at that rate.
+///
+/// Values within [`AT_LIMIT_TOLERANCE_MM`] of a limit count as at it. Errors name the field.
+pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
+    let u = req.units;
+    let tol = u.mm_to_length(AT_LIMIT_TOLERANCE_MM);
+    let max_len = u.mm_to_length(1000.0);
+    let h0 = super::require_positive("baseline_cover_height", req.baseline_cover_height, max_len)?;
+    let limit = super::require_positive("shimming_limit", req.shimming_limit, max_len)?;
+    let allowance =
+        super::require_positive("disc_wear_allowance", req.disc_wear_allowance, max_len)?;
+    for (i, &s) in req.shims.iter().enumerate() {
+        super::require_positive(&format!("shims[{i}]"), s, max_len)?;
+    }
+    if req.spring_count == 0 || req.spring_count > 24 {
+        return Err(InputError::new("spring_count", "must be 1 to 24"));
+    }
+    let rate =
+        super::require_positive("spring_rate", req.spring_rate, u.n_per_mm_to_rate(20_000.0))?;
+    if req.measurements.is_empty() {
+        return Err(InputError::new(
+            "measurements",
+            "needs at least one measurement",
+        ));
+    }
+
+    let mut points = Vec::with_capacity(req.measurements.len());
+    let mut prev: Option<&Measurement> = None;
+    for (i, m) in req.measurements.iter().enumerate() {
+        super::require_positive(
+            &format!("measurements[{i}].cover_height"),
+            m.cover_height,
+            max_len,
+        )?;
+        if m.shims_pulled as usize > req.shims.len() {
+            return Err(InputError::new(
+                format!("measurements[{i}].shims_pulled"),
+                format!("is more than the {} shims in the stack", req.shims.len()),
+            ));
+        }
+        if let Some(p) = prev {
+            if m.passes < p.passes {
+                return Err(InputError::new(
+                    format!("measurements[{i}].passes"),
+                    "goes backwards from the measurement before",
+                ));
+            }
+            if m.shims_pulled < p.shims_pulled {
+                return Err(InputError::new(
+                    format!("measurements[{i}].shims_pulled"),
+                    "is fewer than at the measurement before",
+                ));
+            }
+        }
+        let growth = m.cover_height - h0;
+        let pulled: f64 = req.shims[..m.shims_pulled as usize].iter().sum();
+        points.push(WearPoint {
+            passes: m.passes,
+            growth,
+            total_wear: growth + pulled,
+            clamp_loss: f64::from(req.spring_count) * rate * growth,
+        });
+        prev = Some(m);
+    }
+
+    let (last, last_m) = match (points.last(), req.measurements.last()) {
+        (Some(p), Some(m)) => (p, m),
+        _ => {
+            return Err(InputError::new(
+                "measurements",
+                "needs at least one measurement",
+            ));
+        }
+    };
+    let remaining = &req.shims[last_m.shims_pulled as usize..];
+    let at_limit = last.growth >= limit - tol;
+    let status = if last.total_wear >= allowance - tol || (at_limit && remaining.is_empty()) {
+        WearStatus::DiscDue
+    } else if at_limit {
+        WearStatus::ShimDue
+    } else {
+        WearStatus::Ok
+    };
+
+    let xy: Vec<(f64, f64)> = points
+        .iter()
+        .map(|p| (f64::from(p.passes), p.total_wear))
+        .collect();
+    let distinct = points.iter().any(|p| p.passes != points[0].passes);
+    let wear_per_pass = if distinct {
+        Some(fit_line(&xy, "measurements")?.slope)
+    } else {
+        None
+    };
+    let (to_shim, to_disc) = match wear_per_pass {
+        Some(slope) if slope > 0.0 => {
+            let to_limit = limit - last.growth;
+            let shims_left: f64 = remaining.iter().sum();
+            let to_shim = (!remaining.is_empty()).then(|| (to_limit / slope).max(0.0));
+            let to_disc =
+                ((allowance - last.total_wear).min(to_limit + shims_left) / slope).max(0.0);
+            (to_shim, Some(to_disc))
+        }
+        _ => (None, None),
+    };
+
+    Ok(WearReport {
+        next_shim: remaining.first().copied(),
+        status,
+        wear_per_pass,
+        passes_to_shim_due: to_shim,
+        passes_to_disc_due: to_disc,
+        measurements: points,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn req(measurements: &[(u32, f64, u32)]) -> WearRequest {
+        WearRequest {
+            units: Units::Imperial,
+            baseline_cover_height: 1.905,
+            shimming_limit: 0.015,
+            shims: vec![0.010, 0.010, 0.020],
+            spring_count: 6,
+            spring_rate: 390.0,
+            disc_wear_allowance: 0.060,
+            measurements: measurements
+                .iter()
+                .map(|&(passes, cover_height, shims_pulled)| Measurement {
+                    passes,
+                    cover_height,
+                    shims_pulled,
+                })
+                .collect(),
+        }
+    }
+
+    fn status(measurements: &[(u32, f64, u32)]) -> Option<WearStatus> {
+        analyze(&req(measurements)).ok().map(|r| r.status)
+    }
+
+    // [D] Clamp loss = springs × rate × growth (Hooke's law, parallel springs): 6 × 390 lbf/in
+    // × 0.008 in = 18.72 lbf. Rates: wear 0.008 in over 40 passes = 0.0002 in/pass; 0.007 in to
+    // the limit → 35 passes; disc: min(0.052, 0.007 + 0.040) / 0.0002 = 235 passes.
+    #[test]
+    fn worked_example_clamp_loss_and_forecast() {
+        let r = analyze(&req(&[(0, 1.905, 0), (40, 1.913, 0)])).expect("valid");
+        assert!((r.measurements[1].clamp_loss - 18.72).abs() < 1e-9);
+        assert!((r.wear_per_pass.unwrap_or(0.0) - 0.0002).abs() < 1e-12);
+        assert!((r.passes_to_shim_due.unwrap_or(0.0) - 35.0).abs() < 1e-6);
+        assert!((r.passes_to_disc_due.unwrap_or(0.0) - 235.0).abs() < 1e-6);
+        assert_eq!(r.status, WearStatus::Ok);
+        assert_eq!(r.next_shim, Some(0.010));
+    }
+
+    // Status boundaries (common shop practice, no published source): growth exactly at the
+    // shimming limit is due. In f64, 1.920 - 1.905 = 0.014999999999999902, a hair under the
+    // limit, which the tolerance must still count as at it.
+    #[test]
+    fn growth_exactly_at_the_limit_is_shim_due() {
+        let (h0, h) = std::hint::black_box((1.905, 1.920));
+        assert!(h - h0 < 0.015);
+        assert_eq!(
+            status(&[(0, 1.905, 0), (50, 1.920, 0)]),
+            Some(WearStatus::ShimDue)
+        );
+        assert_eq!(
+            status(&[(0, 1.905, 0), (50, 1.9199, 0)]),
+            Some(WearStatus::Ok)
+        );
+    }
+
+    #[test]
+    fn growth_at_the_limit_after_the_last_shim_is_disc_due() {
+        // All three shims (0.040) pulled, growth back at the limit: total 0.055 < 0.060.
+        let s = status(&[(0, 1.905, 0), (200, 1.920, 3)]);
+        assert_eq!(s, Some(WearStatus::DiscDue));
+        let r = analyze(&req(&[(0, 1.905, 0), (200, 1.915, 3)])).expect("valid");
+        assert_eq!(
+            (r.status, r.next_shim, r.passes_to_shim_due),
+            (WearStatus::Ok, None, None)
+        );
+    }
+
+    #[test]
+    fn allowance_reached_before_the_shims_run_out_is_disc_due() {
+        let mut r = req(&[(0, 1.905, 0), (100, 1.915, 1)]);
+        r.disc_wear_allowance = 0.020; // 0.010 growth + 0.010 shim = allowance exactly
+        let out = analyze(&r).expect("valid");
+        assert_eq!(out.status, WearStatus::DiscDue);
+        assert_eq!(out.next_shim, Some(0.010));
+        assert!(out.passes_to_disc_due.is_some_and(|p| p.abs() < 1e-6));
+    }
+
+    #[test]
+    fn one_pass_count_gives_no_rate_and_no_forecast() {
+        let r = analyze(&req(&[(10, 1.907, 0), (10, 1.908, 0)])).expect("valid");
+        assert_eq!((r.wear_per_pass, r.passes_to_disc_due), (None, None));
+    }
+
+    #[test]
+    fn bad_measurements_name_their_field() {
+        let field = |r: WearRequest| analyze(&r).err().map(|e| e.field);
+        assert_eq!(
+            field(req(&[(0, 1.905, 4)])),
+            Some("measurements[0].shims_pulled".into())
+        );
+        assert_eq!(
+            field(req(&[(10, 1.905, 0), (5, 1.91, 0)])),
+            Some("measurements[1].passes".into())
+        );
+        assert_eq!(
+            field(req(&[(0, -1.0, 0)])),
+            Some("measurements[0].cover_height".into())
+        );
+        assert_eq!(
+            field(req(&[(0, f64::NAN, 0)])),
+            Some("measurements[0].cover_height".into())
+        );
+        assert_eq!(field(req(&[])), Some("measurements".into()));
+        let mut r = req(&[(0, 1.905, 0)]);
+        r.shims[1] = f64::INFINITY;
+        assert_eq!(field(r), Some("shims[1]".into()));
+    }
+
+    #[test]
+    fn status_serializes_in_snake_case() {
+        let s = serde_json::to_string(&WearStatus::ShimDue).ok();
+        assert_eq!(s.as_deref(), Some("\"shim_due\""));
+    }
+}

@@ -1,0 +1,107 @@
+//! Customers.
+
+use serde::Serialize;
+use sqlx::{FromRow, SqliteConnection};
+
+use crate::records::Checked;
+use crate::records::customer::CustomerInput;
+
+#[derive(Debug, Clone, Serialize, FromRow)]
+pub struct Customer {
+    pub id: i64,
+    #[sqlx(flatten)]
+    #[serde(flatten)]
+    pub data: CustomerInput,
+    pub deleted_at: Option<String>,
+    pub created_at: String,
+    pub updated_at: String,
+}
+
+/// A customer row in a list, with how many cars they have.
+#[derive(Debug, Clone, Serialize, FromRow)]
+pub struct CustomerSummary {
+    pub id: i64,
+    pub name: String,
+    pub phone: String,
+    pub car_count: i64,
+    pub cars: String,
+}
+
+pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Customer>> {
+    sqlx::query_as("SELECT * FROM customers WHERE id = ? AND deleted_at IS NULL")
+        .bind(id)
+        .fetch_optional(conn)
+        .await
+}
+
+/// One page of customers whose name, phone, or any car's description or engine matches `query`
+/// (case-insensitive substring), by name; and the total count of matches.
+pub async fn search(
+    conn: &mut SqliteConnection,
+    query: &str,
+    page: i64,
+) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
+    let pattern = format!("%{}%", escape_like(query.trim()));
+    const MATCH: &str = "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
+         OR EXISTS (SELECT 1 FROM cars k WHERE k.customer_id = c.id
+                    AND (k.description LIKE ?1 ESCAPE '\\' OR k.engine LIKE ?1 ESCAPE '\\')))";
+    let rows = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "SELECT c.id, c.name, c.phone,
+                (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
+                COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
+                          WHERE k.customer_id = c.id), '') AS cars
+         FROM customers c WHERE {MATCH}
+         ORDER BY c.name COLLATE NOCASE, c.id LIMIT ?2 OFFSET ?3"
+    )))
+    .bind(&pattern)
+    .bind(super::PAGE_SIZE)
+    .bind(page.max(0) * super::PAGE_SIZE)
+    .fetch_all(&mut *conn)
+    .await?;
+    let total: i64 = sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
+        "SELECT COUNT(*) FROM customers c WHERE {MATCH}"
+    )))
+    .bind(&pattern)
+    .fetch_one(conn)
+    .await?;
+    Ok((rows, total))
+}
+
+pub async fn insert(conn: &mut SqliteConnection, c: &Checked<CustomerInput>) -> sqlx::Result<i64> {
+    sqlx::query_scalar("INSERT INTO customers (name, phone, email, notes) VALUES (?, ?, ?, ?) RETURNING id")
+        .bind(&c.name)
+        .bind(&c.phone)
+        .bind(&c.email)
+        .bind(&c.notes)
+        .fetch_one(conn)
+        .await
+}
+
+/// Updates a customer; false when there is no such (live) customer.
+pub async fn update(conn: &mut SqliteConnection, id: i64, c: &Checked<CustomerInput>) -> sqlx::Result<bool> {
+    let done = sqlx::query(
+        "UPDATE customers SET name = ?, phone = ?, email = ?, notes = ?,
+             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
+         WHERE id = ? AND deleted_at IS NULL",
+    )
+    .bind(&c.name)
+    .bind(&c.phone)
+    .bind(&c.email)
+    .bind(&c.notes)
+    .bind(id)
+    .execute(conn)
+    .await?;
+    Ok(done.rows_affected() == 1)
+}
+
+/// Escapes `%`, `_` and `\` so user text matches literally in `LIKE ... ESCAPE '\'`.
+pub(crate) fn escape_like(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if matches!(c, '%' | '_' | '\\') {
+            out.push('\\');
+        }
+        out.push(c);
+    }
+    out
+}

@@ -1,0 +1,82 @@
+//! Cover-height measurements, in pass order.
+
+use serde::Serialize;
+use sqlx::{FromRow, SqliteConnection};
+
+use crate::records::Checked;
+use crate::records::height::HeightInput;
+
+#[derive(Debug, Clone, Serialize, FromRow)]
+pub struct Height {
+    pub id: i64,
+    pub build_id: i64,
+    #[sqlx(flatten)]
+    #[serde(flatten)]
+    pub data: HeightInput,
+    pub user_id: Option<i64>,
+    pub created_at: String,
+    pub updated_at: String,
+}
+
+pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Height>> {
+    sqlx::query_as("SELECT * FROM cover_heights WHERE build_id = ? ORDER BY passes, measured_on, id")
+        .bind(build_id)
+        .fetch_all(conn)
+        .await
+}
+
+pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Height>> {
+    sqlx::query_as("SELECT * FROM cover_heights WHERE id = ?")
+        .bind(id)
+        .fetch_optional(conn)
+        .await
+}
+
+/// The latest (passes, shims pulled) on a build, other than measurement `except`.
+pub async fn latest(conn: &mut SqliteConnection, build_id: i64, except: i64) -> sqlx::Result<Option<(i64, i64)>> {
+    sqlx::query_as(
+        "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id != ?
+         ORDER BY passes DESC, id DESC LIMIT 1",
+    )
+    .bind(build_id)
+    .bind(except)
+    .fetch_optional(conn)
+    .await
+}
+
+pub async fn insert(
+    conn: &mut SqliteConnection,
+    build_id: i64,
+    user_id: i64,
+    h: &Checked<HeightInput>,
+) -> sqlx::Result<i64> {
+    sqlx::query_scalar(
+        "INSERT INTO cover_heights (build_id, measured_on, height_mm, passes, shims_pulled, note, user_id)
+         VALUES (?, ?, ?, ?, ?, ?, ?) RETURNING id",
+    )
+    .bind(build_id)
+    .bind(&h.measured_on)
+    .bind(h.height_mm)
+    .bind(h.passes)
+    .bind(h.shims_pulled)
+    .bind(&h.note)
+    .bind(user_id)
+    .fetch_one(conn)
+    .await
+}
+
+pub async fn update(conn: &mut SqliteConnection, id: i64, h: &Checked<HeightInput>) -> sqlx::Result<bool> {
+    let done = sqlx::query(
+        "UPDATE cover_heights SET measured_on = ?, height_mm = ?, passes = ?, shims_pulled = ?,
+             note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
+    )
+    .bind(&h.measured_on)
+    .bind(h.height_mm)
+    .bind(h.passes)
+    .bind(h.shims_pulled)
+    .bind(&h.note)
+    .bind(id)
+    .execute(conn)
+    .await?;
+    Ok(done.rows_affected() == 1)
+}

@@ -1,0 +1,70 @@
+//! Setup changes on a build (adjuster turns, counterweight, friction), oldest first.
+
+use serde::Serialize;
+use sqlx::{FromRow, SqliteConnection};
+
+use crate::records::Checked;
+use crate::records::setup::SetupInput;
+
+#[derive(Debug, Clone, Serialize, FromRow)]
+pub struct Setup {
+    pub id: i64,
+    pub build_id: i64,
+    #[sqlx(flatten)]
+    #[serde(flatten)]
+    pub data: SetupInput,
+    pub user_id: Option<i64>,
+    pub created_at: String,
+    pub updated_at: String,
+}
+
+pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Setup>> {
+    sqlx::query_as("SELECT * FROM setup_changes WHERE build_id = ? ORDER BY changed_on, id")
+        .bind(build_id)
+        .fetch_all(conn)
+        .await
+}
+
+pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Setup>> {
+    sqlx::query_as("SELECT * FROM setup_changes WHERE id = ?")
+        .bind(id)
+        .fetch_optional(conn)
+        .await
+}
+
+pub async fn insert(
+    conn: &mut SqliteConnection,
+    build_id: i64,
+    user_id: i64,
+    s: &Checked<SetupInput>,
+) -> sqlx::Result<i64> {
+    sqlx::query_scalar(
+        "INSERT INTO setup_changes (build_id, changed_on, adjuster_turns, counterweight_g, mu, note, user_id)
+         VALUES (?, ?, ?, ?, ?, ?, ?) RETURNING id",
+    )
+    .bind(build_id)
+    .bind(&s.changed_on)
+    .bind(s.adjuster_turns)
+    .bind(s.counterweight_g)
+    .bind(s.mu)
+    .bind(&s.note)
+    .bind(user_id)
+    .fetch_one(conn)
+    .await
+}
+
+pub async fn update(conn: &mut SqliteConnection, id: i64, s: &Checked<SetupInput>) -> sqlx::Result<bool> {
+    let done = sqlx::query(
+        "UPDATE setup_changes SET changed_on = ?, adjuster_turns = ?, counterweight_g = ?, mu = ?,
+             note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
+    )
+    .bind(&s.changed_on)
+    .bind(s.adjuster_turns)
+    .bind(s.counterweight_g)
+    .bind(s.mu)
+    .bind(&s.note)
+    .bind(id)
+    .execute(conn)
+    .await?;
+    Ok(done.rows_affected() == 1)
+}

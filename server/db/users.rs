@@ -1,0 +1,93 @@
+//! Staff accounts.
+
+use serde::Serialize;
+use sqlx::{FromRow, SqliteConnection};
+
+use crate::records::user::{NewUser, Role};
+
+#[derive(Debug, Clone, Serialize, FromRow)]
+pub struct User {
+    pub id: i64,
+    pub username: String,
+    #[serde(skip)]
+    pub password_hash: String,
+    pub role: String,
+    pub disabled: bool,
+    pub created_at: String,
+}
+
+impl User {
+    pub fn role(&self) -> Role {
+        Role::parse(&self.role).unwrap_or(Role::Tech)
+    }
+}
+
+pub async fn by_name(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<Option<User>> {
+    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE username = ?")
+        .bind(name.trim())
+        .fetch_optional(conn)
+        .await
+}
+
+pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<User>> {
+    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE id = ?")
+        .bind(id)
+        .fetch_optional(conn)
+        .await
+}
+
+pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<User>> {
+    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users ORDER BY username")
+        .fetch_all(conn)
+        .await
+}
+
+pub async fn count(conn: &mut SqliteConnection) -> sqlx::Result<i64> {
+    sqlx::query_scalar("SELECT COUNT(*) FROM users").fetch_one(conn).await
+}
+
+pub async fn insert(conn: &mut SqliteConnection, user: &NewUser, password_hash: &str) -> sqlx::Result<i64> {
+    sqlx::query_scalar("INSERT INTO users (username, password_hash, role) VALUES (?, ?, ?) RETURNING id")
+        .bind(&user.username)
+        .bind(password_hash)
+        .bind(user.role.as_str())
+        .fetch_one(conn)
+        .await
+}
+
+pub async fn set_disabled(conn: &mut SqliteConnection, id: i64, disabled: bool) -> sqlx::Result<()> {
+    sqlx::query("UPDATE users SET disabled = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?")
+        .bind(disabled)
+        .bind(id)
+        .execute(conn)
+        .await?;
+    Ok(())
+}
+
+pub async fn set_password(conn: &mut SqliteConnection, id: i64, password_hash: &str) -> sqlx::Result<()> {
+    sqlx::query("UPDATE users SET password_hash = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?")
+        .bind(password_hash)
+        .bind(id)
+        .execute(conn)
+        .await?;
+    Ok(())
+}
+
+/// Records a failed sign-in and returns how many failures that name has in the last 15 minutes.
+pub async fn note_failed_login(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<i64> {
+    sqlx::query("INSERT INTO login_failures (username) VALUES (?)")
+        .bind(name)
+        .execute(&mut *conn)
+        .await?;
+    recent_failures(conn, name).await
+}
+
+pub async fn recent_failures(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<i64> {
+    sqlx::query_scalar(
+        "SELECT COUNT(*) FROM login_failures WHERE username = ?
+         AND created_at > strftime('%Y-%m-%dT%H:%M:%SZ', 'now', '-15 minutes')",
+    )
+    .bind(name)
+    .fetch_one(conn)
+    .await
+}

@@ -1,0 +1,391 @@
+//! An invented demo shop for `lockpoint serve --demo`: staff, customers, cars with torque curves,
+//! clutch builds with bench tests, cover-height histories and passes. Every name is made up.
+//! Values are typed here in the shop's trade units (in, lbf, lbf*ft) and stored in storage units.
+
+use sqlx::{SqliteConnection, SqlitePool};
+
+use crate::clutch::units::Units;
+use crate::records::bench::{BenchInput, SpringReading};
+use crate::records::build::BuildInput;
+use crate::records::car::CarInput;
+use crate::records::customer::CustomerInput;
+use crate::records::height::{HeightContext, HeightInput};
+use crate::records::pass::PassInput;
+use crate::records::setup::SetupInput;
+use crate::records::user::{NewUser, Role};
+use crate::records::FieldErrors;
+use crate::{auth, db};
+
+pub const DEMO_USERNAME: &str = "demo";
+pub const DEMO_PASSWORD: &str = "lockpoint-demo";
+
+/// Any failure while loading the demo (a bug: the demo data must pass the same checks as input).
+pub type DemoError = Box<dyn std::error::Error + Send + Sync>;
+
+const IN: Units = Units::Imperial;
+
+fn inch(v: f64) -> f64 {
+    IN.length_to_mm(v)
+}
+fn lbf(v: f64) -> f64 {
+    IN.force_to_n(v)
+}
+fn lbf_per_in(v: f64) -> f64 {
+    IN.rate_to_n_per_mm(v)
+}
+
+/// Loads the demo shop into an empty database; returns false (and changes nothing) otherwise.
+pub async fn seed_if_empty(pool: &SqlitePool) -> Result<bool, DemoError> {
+    let mut tx = pool.begin_with("BEGIN IMMEDIATE").await?;
+    let users = db::users::count(&mut tx).await?;
+    let customers: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers")
+        .fetch_one(&mut *tx)
+        .await?;
+    if users > 0 || customers > 0 {
+        return Ok(false);
+    }
+    let hash = auth::hash_password(DEMO_PASSWORD.into()).await?;
+    let admin = NewUser::parse(DEMO_USERNAME, DEMO_PASSWORD, Role::Admin)?;
+    let admin_id = db::users::insert(&mut tx, &admin, &hash).await?;
+    let tech = NewUser::parse("bench", DEMO_PASSWORD, Role::Tech)?;
+    db::users::insert(&mut tx, &tech, &hash).await?;
+    sqlx::query(
+        "UPDATE shop_settings SET name = 'Quarry Road Clutch & Driveline',
+             phone = '555-0142', email = 'counter@quarryroad.example',
+             address = '18 Quarry Road, Unit 4' WHERE id = 1",
+    )
+    .execute(&mut *tx)
+    .await?;
+    for customer in demo_customers() {
+        seed_customer(&mut tx, admin_id, customer).await?;
+    }
+    tx.commit().await?;
+    Ok(true)
+}
+
+pub async fn demo_user_exists(pool: &SqlitePool) -> Result<bool, sqlx::Error> {
+    let mut conn = pool.acquire().await?;
+    Ok(db::users::by_name(&mut conn, DEMO_USERNAME).await?.is_some())
+}
+
+struct DemoCustomer {
+    name: &'static str,
+    phone: &'static str,
+    cars: Vec<DemoCar>,
+}
+
+struct DemoCar {
+    description: &'static str,
+    engine: &'static str,
+    transmission: &'static str,
+    rated_lbf_ft: f64,
+    launch_rpm: f64,
+    curve_lbf_ft: &'static [[f64; 2]],
+    builds: Vec<DemoBuild>,
+}
+
+struct DemoBuild {
+    label: &'static str,
+    discs: i64,
+    material: &'static str,
+    od_in: f64,
+    id_in: f64,
+    spring_rate: f64,
+    /// Per-spring bench rates, lbf/in, one list per test (oldest first).
+    bench_rates: Vec<Vec<f64>>,
+    levers: i64,
+    /// (turns, counterweight g) per setup change, oldest first.
+    setups: Vec<(f64, f64)>,
+    shims_in: Vec<f64>,
+    /// (passes, cover height in, shims pulled).
+    heights: Vec<(i64, f64, i64)>,
+    passes: Vec<(&'static str, f64, f64, f64)>,
+    status: &'static str,
+}
+
+const BIG_BLOCK: &[[f64; 2]] = &[
+    [3000.0, 410.0], [3500.0, 435.0], [4000.0, 455.0], [4500.0, 470.0], [5000.0, 480.0],
+    [5500.0, 478.0], [6000.0, 470.0], [6500.0, 452.0], [7000.0, 430.0],
+];
+const SMALL_BLOCK: &[[f64; 2]] = &[
+    [3000.0, 330.0], [4000.0, 365.0], [5000.0, 390.0], [6000.0, 385.0], [7000.0, 360.0], [7500.0, 340.0],
+];
+const TURBO_FOUR: &[[f64; 2]] = &[
+    [3000.0, 250.0], [4000.0, 390.0], [5000.0, 430.0], [6000.0, 420.0], [7000.0, 395.0], [8000.0, 350.0],
+];
+
+fn demo_customers() -> Vec<DemoCustomer> {
+    let set = |base: f64, spread: &[f64]| spread.iter().map(|d| base + d).collect::<Vec<_>>();
+    vec![
+        DemoCustomer {
+            name: "Dana Whitcombe",
+            phone: "555-0117",
+            cars: vec![DemoCar {
+                description: "'68 fastback, 427 V8, 4-speed",
+                engine: "427 cu in V8, carbureted",
+                transmission: "4-speed manual",
+                rated_lbf_ft: 600.0,
+                launch_rpm: 4500.0,
+                curve_lbf_ft: BIG_BLOCK,
+                builds: vec![DemoBuild {
+                    label: "Street/strip single",
+                    discs: 1,
+                    material: "organic",
+                    od_in: 10.4,
+                    id_in: 6.6,
+                    spring_rate: 380.0,
+                    bench_rates: vec![
+                        set(380.0, &[2.0, -3.0, 4.0, 0.0, -1.0, 3.0]),
+                        set(378.0, &[1.0, -4.0, 3.0, -1.0, -2.0, 2.0]),
+                    ],
+                    levers: 3,
+                    setups: vec![(1.5, 24.0), (1.75, 26.0)],
+                    shims_in: vec![0.010, 0.010, 0.020],
+                    heights: vec![(0, 1.905, 0), (40, 1.913, 0), (80, 1.921, 0)],
+                    passes: vec![("Eastfield Dragway", 4500.0, 1.42, 10.95), ("Eastfield Dragway", 4600.0, 1.39, 10.88)],
+                    status: "active",
+                }],
+            }],
+        },
+        DemoCustomer {
+            name: "Marcus Ellery",
+            phone: "555-0163",
+            cars: vec![DemoCar {
+                description: "'71 coupe, 455 V8, 4-speed",
+                engine: "455 cu in V8, aluminum heads",
+                transmission: "4-speed manual, close ratio",
+                rated_lbf_ft: 650.0,
+                launch_rpm: 5000.0,
+                curve_lbf_ft: BIG_BLOCK,
+                builds: vec![
+                    DemoBuild {
+                        label: "Twin sintered",
+                        discs: 2,
+                        material: "sintered_iron",
+                        od_in: 7.25,
+                        id_in: 4.75,
+                        spring_rate: 310.0,
+                        bench_rates: vec![set(310.0, &[1.0, -2.0, 2.0, 0.0, -1.0, 1.0])],
+                        levers: 6,
+                        setups: vec![(2.0, 18.0)],
+                        shims_in: vec![0.010, 0.010],
+                        heights: vec![(0, 1.850, 0), (50, 1.866, 0), (50, 1.856, 1), (100, 1.868, 1), (100, 1.858, 2), (140, 1.874, 2)],
+                        passes: vec![("Eastfield Dragway", 5000.0, 1.31, 10.21)],
+                        status: "active",
+                    },
+                    DemoBuild {
+                        label: "Old single (retired)",
+                        discs: 1,
+                        material: "organic",
+                        od_in: 10.4,
+                        id_in: 6.6,
+                        spring_rate: 360.0,
+                        bench_rates: vec![],
+                        levers: 3,
+                        setups: vec![(1.0, 20.0)],
+                        shims_in: vec![0.010],
+                        heights: vec![(0, 1.900, 0), (60, 1.909, 0)],
+                        passes: vec![],
+                        status: "retired",
+                    },
+                ],
+            }],
+        },
+        DemoCustomer {
+            name: "Priya Castellan",
+            phone: "555-0190",
+            cars: vec![DemoCar {
+                description: "'92 hatchback, turbo 2.0 four, 5-speed",
+                engine: "2.0 L turbocharged four",
+                transmission: "5-speed manual",
+                rated_lbf_ft: 450.0,
+                launch_rpm: 5500.0,
+                curve_lbf_ft: TURBO_FOUR,
+                builds: vec![DemoBuild {
+                    label: "Twin cermet",
+                    discs: 2,
+                    material: "cermet",
+                    od_in: 7.25,
+                    id_in: 5.0,
+                    spring_rate: 260.0,
+                    bench_rates: vec![set(260.0, &[6.0, -9.0, 4.0, -6.0, 8.0, 1.0])],
+                    levers: 3,
+                    setups: vec![(1.25, 14.0)],
+                    shims_in: vec![0.010, 0.010],
+                    heights: vec![(0, 1.780, 0), (30, 1.784, 0)],
+                    passes: vec![("Millbrook Raceway", 5500.0, 1.55, 11.60)],
+                    status: "active",
+                }],
+            }],
+        },
+        DemoCustomer {
+            name: "Tomas Brandvold",
+            phone: "555-0128",
+            cars: vec![
+                DemoCar {
+                    description: "'79 notchback, 351 V8, 5-speed",
+                    engine: "351 cu in V8",
+                    transmission: "5-speed manual",
+                    rated_lbf_ft: 500.0,
+                    launch_rpm: 4200.0,
+                    curve_lbf_ft: SMALL_BLOCK,
+                    builds: vec![DemoBuild {
+                        label: "",
+                        discs: 1,
+                        material: "molded",
+                        od_in: 10.4,
+                        id_in: 6.6,
+                        spring_rate: 340.0,
+                        bench_rates: vec![set(340.0, &[1.0, 0.0, -1.0, 2.0, -2.0, 0.0])],
+                        levers: 3,
+                        setups: vec![(1.0, 18.0)],
+                        shims_in: vec![0.010, 0.010, 0.010],
+                        heights: vec![(0, 1.910, 0), (25, 1.913, 0)],
+                        passes: vec![],
+                        status: "active",
+                    }],
+                },
+                DemoCar {
+                    description: "'66 wagon, 396 V8, 4-speed",
+                    engine: "396 cu in V8",
+                    transmission: "4-speed manual, wide ratio",
+                    rated_lbf_ft: 550.0,
+                    launch_rpm: 4000.0,
+                    curve_lbf_ft: BIG_BLOCK,
+                    builds: vec![DemoBuild {
+                        label: "Bracket single",
+                        discs: 1,
+                        material: "organic",
+                        od_in: 10.4,
+                        id_in: 6.6,
+                        spring_rate: 350.0,
+                        bench_rates: vec![set(350.0, &[0.0, 1.0, -1.0, 1.0, 0.0, -1.0])],
+                        levers: 3,
+                        setups: vec![(1.5, 20.0)],
+                        shims_in: vec![0.010, 0.010],
+                        heights: vec![(0, 1.900, 0)],
+                        passes: vec![("Millbrook Raceway", 4000.0, 1.61, 12.05)],
+                        status: "active",
+                    }],
+                },
+            ],
+        },
+    ]
+}
+
+fn ok<T>(r: Result<T, FieldErrors>) -> Result<T, DemoError> {
+    r.map_err(|e| format!("demo data failed its own checks: {}", e.summary()).into())
+}
+
+async fn seed_customer(tx: &mut SqliteConnection, user_id: i64, c: DemoCustomer) -> Result<(), DemoError> {
+    let customer = ok(CustomerInput {
+        name: c.name.into(),
+        phone: c.phone.into(),
+        ..Default::default()
+    }
+    .check(FieldErrors::default()))?;
+    let customer_id = db::customers::insert(tx, &customer).await?;
+    for car in c.cars {
+        let input = CarInput {
+            description: car.description.into(),
+            engine: car.engine.into(),
+            transmission: car.transmission.into(),
+            weight_kg: Some(IN.weight_to_kg(3300.0)),
+            rated_input_torque_nm: Some(IN.torque_to_nm(car.rated_lbf_ft)),
+            first_gear_ratio: Some(2.43),
+            final_drive_ratio: Some(4.11),
+            tire_diameter_mm: Some(inch(28.0)),
+            launch_rpm: Some(car.launch_rpm),
+            torque_curve_nm: car
+                .curve_lbf_ft
+                .iter()
+                .map(|[rpm, t]| [*rpm, IN.torque_to_nm(*t)])
+                .collect(),
+            notes: String::new(),
+        };
+        let car_id = db::cars::insert(tx, customer_id, &ok(input.check(FieldErrors::default()))?).await?;
+        for b in car.builds {
+            seed_build(tx, user_id, car_id, b).await?;
+        }
+    }
+    Ok(())
+}
+
+async fn seed_build(tx: &mut SqliteConnection, user_id: i64, car_id: i64, b: DemoBuild) -> Result<(), DemoError> {
+    let input = BuildInput {
+        label: b.label.into(),
+        disc_count: b.discs,
+        facing_material: b.material.into(),
+        facing_od_mm: inch(b.od_in),
+        facing_id_mm: inch(b.id_in),
+        disc_thickness_new_mm: Some(inch(0.300)),
+        disc_thickness_min_mm: Some(inch(0.240)),
+        spring_count: 6,
+        spring_description: "chrome-silicon coil, 2.10 in free".into(),
+        spring_rate_n_per_mm: Some(lbf_per_in(b.spring_rate)),
+        adjuster_tpi: Some(16.0),
+        base_compression_mm: Some(inch(0.220)),
+        cover_height_installed_mm: None,
+        lever_count: b.levers,
+        lever_mass_g: 12.0,
+        lever_cg_radius_mm: Some(inch(if b.discs > 1 { 3.2 } else { 4.1 })),
+        lever_arm_ratio: Some(2.6),
+        shim_stack_mm: b.shims_in.iter().map(|s| inch(*s)).collect(),
+        status: b.status.into(),
+        ..Default::default()
+    };
+    let build_id = db::builds::insert(tx, car_id, &ok(input.check(FieldErrors::default()))?).await?;
+    let months = ["2026-03", "2026-05", "2026-07", "2026-08", "2026-09", "2026-10"];
+    for (i, (turns, cw)) in b.setups.iter().enumerate() {
+        let s = SetupInput {
+            changed_on: format!("{}-0{}", months[i], 2 + i),
+            adjuster_turns: *turns,
+            counterweight_g: *cw,
+            mu: None,
+            note: if i == 0 { "as built".into() } else { "more counterweight for a later lockup".into() },
+        };
+        db::setups::insert(tx, build_id, user_id, &ok(s.check(FieldErrors::default()))?).await?;
+    }
+    for (i, rates) in b.bench_rates.iter().enumerate() {
+        let compression = inch(0.500);
+        let bench = BenchInput {
+            tested_on: format!("{}-1{}", months[i * 2], i),
+            note: String::new(),
+            springs: rates
+                .iter()
+                .map(|r| SpringReading {
+                    free_length_mm: Some(inch(2.100)),
+                    compression_mm: compression,
+                    force_n: lbf(r * 0.5),
+                })
+                .collect(),
+        };
+        db::bench::insert(tx, build_id, user_id, &ok(bench.check(FieldErrors::default()))?).await?;
+    }
+    let mut previous = None;
+    for (i, (passes, height, pulled)) in b.heights.iter().enumerate() {
+        let h = HeightInput {
+            measured_on: format!("{}-2{}", months[(i).min(5)], i % 8),
+            height_mm: inch(*height),
+            passes: *passes,
+            shims_pulled: *pulled,
+            note: if i > 0 && b.heights[i - 1].2 < *pulled { "pulled a shim".into() } else { String::new() },
+        };
+        let ctx = HeightContext { shims_in_stack: b.shims_in.len(), previous };
+        db::heights::insert(tx, build_id, user_id, &ok(h.check(ctx, FieldErrors::default()))?).await?;
+        previous = Some((*passes, *pulled));
+    }
+    for (i, (track, launch, sixty, et)) in b.passes.iter().enumerate() {
+        let p = PassInput {
+            run_on: format!("2026-10-{:02}", 4 + 7 * i),
+            track: (*track).into(),
+            launch_rpm: Some(*launch),
+            sixty_ft_s: Some(*sixty),
+            et_s: Some(*et),
+            observed_lockup_rpm: None,
+            notes: String::new(),
+        };
+        db::passes::insert(tx, build_id, user_id, &ok(p.check(FieldErrors::default()))?).await?;
+    }
+    Ok(())
+}

@@ -1,0 +1,24 @@
+//! Lockpoint: clutch build records, engineering and setup sheets for a drag-racing clutch shop.
+//!
+//! Dependencies run one way: `web` -> `db` -> `records`/`clutch`, and `web` -> `clutch`.
+
+/// Password hashing, random tokens and their stored hashes.
+pub mod auth;
+/// What each command of the binary does.
+pub mod cli;
+/// Pure clutch engineering: springs, clamp, capacity, friction, wear (no IO).
+pub mod clutch;
+/// The command line and its environment variables.
+pub mod config;
+/// SQLite access, one module per table or aggregate.
+pub mod db;
+/// The invented demo shop loaded by `serve --demo`.
+pub mod demo;
+/// The web layer's error type (HTML pages and JSON).
+pub mod error;
+/// Shop records as checked inputs, read from forms or JSON (no IO).
+pub mod records;
+/// Pages, forms, the JSON API and the router.
+pub mod web;
+
+pub use web::{AppState, app};

@@ -1,0 +1,80 @@
+//! A cover-height measurement: how far the disc has worn, read through the checking hole.
+
+use serde::{Deserialize, Serialize};
+
+use super::{Bound, Checked, FieldErrors, FormReader, Rules};
+
+#[derive(Debug, Clone, Deserialize, Serialize, sqlx::FromRow)]
+#[serde(default)]
+pub struct HeightInput {
+    pub measured_on: String,
+    pub height_mm: f64,
+    /// Cumulative passes on this disc when measured.
+    pub passes: i64,
+    /// How many shims of the stack had been pulled by then.
+    pub shims_pulled: i64,
+    pub note: String,
+}
+
+impl Default for HeightInput {
+    fn default() -> Self {
+        Self {
+            measured_on: String::new(),
+            height_mm: f64::NAN,
+            passes: -1,
+            shims_pulled: 0,
+            note: String::new(),
+        }
+    }
+}
+
+/// What the build already knows that a new measurement must agree with.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct HeightContext {
+    pub shims_in_stack: usize,
+    /// The latest recorded pass count and shims pulled, if any.
+    pub previous: Option<(i64, i64)>,
+}
+
+impl HeightInput {
+    pub fn from_form(r: &mut FormReader) -> Self {
+        Self {
+            measured_on: r.text("measured_on"),
+            height_mm: r.length("height"),
+            passes: r.integer("passes"),
+            shims_pulled: r.opt_number("shims_pulled").map_or(0, |v| v as i64),
+            note: r.text("note"),
+        }
+    }
+
+    pub fn check(self, ctx: HeightContext, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+        use Bound::{Excl, Incl};
+        let mut rules = Rules { errors: &mut errors };
+        rules.date("measured_on", &self.measured_on);
+        rules.range("height_mm", self.height_mm, Excl(0.0), Incl(200.0));
+        rules.range("passes", self.passes as f64, Incl(0.0), Incl(100_000.0));
+        rules.text("note", &self.note, false, 2000);
+        let stack = ctx.shims_in_stack as i64;
+        if self.shims_pulled < 0 || self.shims_pulled > stack {
+            errors.add(
+                "shims_pulled",
+                format!("must be between 0 and {stack} (the shims in this build's stack)"),
+            );
+        }
+        if let Some((passes, pulled)) = ctx.previous {
+            if self.passes < passes {
+                errors.add(
+                    "passes",
+                    format!("passes cannot go backwards: the last measurement was at {passes}"),
+                );
+            }
+            if self.shims_pulled < pulled {
+                errors.add(
+                    "shims_pulled",
+                    format!("{pulled} shims were already pulled; a pulled shim does not go back"),
+                );
+            }
+        }
+        errors.into_result(Checked(self))
+    }
+}

@@ -1,0 +1,52 @@
+//! A change of the tunable settings on a build: adjuster turns, counterweight, friction.
+
+use serde::{Deserialize, Serialize};
+
+use super::{Bound, Checked, FieldErrors, FormReader, Rules};
+
+#[derive(Debug, Clone, Deserialize, Serialize, sqlx::FromRow)]
+#[serde(default)]
+pub struct SetupInput {
+    pub changed_on: String,
+    pub adjuster_turns: f64,
+    /// Counterweight per lever, grams.
+    pub counterweight_g: f64,
+    /// Friction coefficient assumed for this setup; empty uses the facing's nominal value.
+    pub mu: Option<f64>,
+    pub note: String,
+}
+
+impl Default for SetupInput {
+    fn default() -> Self {
+        Self {
+            changed_on: String::new(),
+            adjuster_turns: f64::NAN,
+            counterweight_g: 0.0,
+            mu: None,
+            note: String::new(),
+        }
+    }
+}
+
+impl SetupInput {
+    pub fn from_form(r: &mut FormReader) -> Self {
+        Self {
+            changed_on: r.text("changed_on"),
+            adjuster_turns: r.number("adjuster_turns"),
+            counterweight_g: r.opt_number("counterweight_g").unwrap_or(0.0),
+            mu: r.opt_number("mu"),
+            note: r.text("note"),
+        }
+    }
+
+    pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+        use Bound::Incl;
+        let mut rules = Rules { errors: &mut errors };
+        rules.date("changed_on", &self.changed_on);
+        rules.range("adjuster_turns", self.adjuster_turns, Incl(0.0), Incl(20.0));
+        rules.range("counterweight_g", self.counterweight_g, Incl(0.0), Incl(1000.0));
+        rules.opt_range("mu", self.mu, Incl(0.05), Incl(0.8));
+        rules.text("note", &self.note, false, 2000);
+        errors.into_result(Checked(self))
+    }
+}

@@ -1,0 +1,127 @@
+//! The web layer: every route in one table, the middleware stack, and one module per page group.
+
+mod admin;
+mod api;
+mod builds;
+mod cars;
+mod customers;
+mod entries;
+mod extract;
+mod home;
+mod layout;
+mod login;
+mod show;
+
+use std::time::Duration;
+
+use axum::Router;
+use axum::http::{HeaderValue, StatusCode, header};
+use axum::response::IntoResponse;
+use axum::routing::{get, post};
+use sqlx::SqlitePool;
+use tower_http::compression::predicate::{DefaultPredicate, Predicate, SizeAbove};
+use tower_http::compression::{CompressionLayer, CompressionLevel};
+use tower_http::csrf::CsrfLayer;
+use tower_http::limit::RequestBodyLimitLayer;
+use tower_http::set_header::SetResponseHeaderLayer;
+use tower_http::timeout::TimeoutLayer;
+use tower_http::trace::TraceLayer;
+
+pub use extract::url_encode;
+
+/// What every handler can reach.
+#[derive(Clone)]
+pub struct AppState {
+    pub pool: SqlitePool,
+}
+
+impl AppState {
+    pub fn new(pool: SqlitePool) -> Self {
+        Self { pool }
+    }
+}
+
+/// Largest request body accepted (forms and JSON are small; a torque curve is a few KB).
+pub const BODY_LIMIT_BYTES: usize = 256 * 1024;
+
+/// The whole application: routes, then middleware (outermost last).
+pub fn app(state: AppState) -> Router {
+    let pages = Router::new()
+        .route("/", get(home::front))
+        .route("/login", get(login::form).post(login::submit))
+        .route("/logout", post(login::logout))
+        .route("/customers", get(customers::list).post(customers::create))
+        .route("/customers/new", get(customers::new))
+        .route("/customers/{id}", get(customers::show).post(customers::update))
+        .route("/customers/{id}/edit", get(customers::edit))
+        .route("/customers/{id}/cars", post(cars::create))
+        .route("/customers/{id}/cars/new", get(cars::new))
+        .route("/cars/{id}", get(cars::show).post(cars::update))
+        .route("/cars/{id}/edit", get(cars::edit))
+        .route("/cars/{id}/builds", post(builds::create))
+        .route("/cars/{id}/builds/new", get(builds::new))
+        .route("/builds/{id}", get(builds::show).post(builds::update))
+        .route("/builds/{id}/edit", get(builds::edit))
+        .route("/builds/{id}/setups", post(entries::add_setup))
+        .route("/builds/{id}/bench-tests", post(entries::add_bench_test))
+        .route("/builds/{id}/heights", post(entries::add_height))
+        .route("/builds/{id}/passes", post(entries::add_pass))
+        .route("/settings", get(admin::settings).post(admin::save_settings))
+        .route("/users", get(admin::users).post(admin::add_user))
+        .route("/users/{id}/disable", post(admin::disable_user))
+        .route("/users/{id}/enable", post(admin::enable_user))
+        .route("/users/{id}/password", post(admin::reset_password))
+        .route("/healthz", get(healthz))
+        .route("/static/style.css", get(stylesheet));
+
+    Router::new()
+        .merge(pages)
+        .nest("/api/v1", api::routes())
+        .fallback(not_found)
+        .with_state(state)
+        .layer(SetResponseHeaderLayer::if_not_present(
+            header::CONTENT_SECURITY_POLICY,
+            HeaderValue::from_static(
+                "default-src 'self'; img-src 'self' data:; style-src 'self'; form-action 'self'; frame-ancestors 'none'",
+            ),
+        ))
+        .layer(SetResponseHeaderLayer::overriding(
+            header::X_CONTENT_TYPE_OPTIONS,
+            HeaderValue::from_static("nosniff"),
+        ))
+        .layer(SetResponseHeaderLayer::overriding(
+            header::REFERRER_POLICY,
+            HeaderValue::from_static("same-origin"),
+        ))
+        .layer(
+            CompressionLayer::new()
+                .quality(CompressionLevel::Fastest)
+                .compress_when(DefaultPredicate::new().and(SizeAbove::new(1024))),
+        )
+        .layer(CsrfLayer::new())
+        .layer(RequestBodyLimitLayer::new(BODY_LIMIT_BYTES))
+        .layer(TimeoutLayer::with_status_code(
+            StatusCode::REQUEST_TIMEOUT,
+            Duration::from_secs(30),
+        ))
+        .layer(TraceLayer::new_for_http())
+}
+
+async fn healthz() -> &'static str {
+    "ok"
+}
+
+async fn not_found() -> crate::error::AppError {
+    crate::error::AppError::NotFound
+}
+
+/// The one stylesheet (screen and print), built into the binary so the server runs from anywhere.
+async fn stylesheet() -> impl IntoResponse {
+    (
+        [
+            (header::CONTENT_TYPE, "text/css; charset=utf-8"),
+            (header::CACHE_CONTROL, "public, max-age=3600"),
+        ],
+        include_str!("../static/style.css"),
+    )
+}

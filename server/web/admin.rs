@@ -1,0 +1,193 @@
+//! Admin pages: the shop's settings and the staff accounts.
+
+use askama::Template;
+use axum::extract::State;
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+
+use super::AppState;
+use super::extract::{CurrentUser, PathId, SignedForm};
+use super::layout::{Layout, units_of};
+use crate::records::length_decimals;
+use crate::auth;
+use crate::db;
+use crate::db::users::User;
+use crate::error::{AppError, AppResult};
+use crate::records::settings::SettingsInput;
+use crate::records::user::{NewUser, Role, check_password};
+use crate::records::{FieldErrors, FormData, FormReader};
+
+#[derive(Template)]
+#[template(path = "admin/settings.html")]
+pub struct SettingsPage {
+    pub page: Layout,
+    pub form: FormData,
+    pub errors: FieldErrors,
+    pub saved: bool,
+}
+
+fn settings_form(s: &SettingsInput) -> FormData {
+    let units = units_of(s);
+    let mut f = FormData::default();
+    f.set("name", &s.name);
+    f.set("phone", &s.phone);
+    f.set("email", &s.email);
+    f.set("address", &s.address);
+    f.set("units", &s.units);
+    f.set_num("spring_spread_pct", Some(s.spring_spread_pct), 2);
+    f.set_num("spring_sag_pct", Some(s.spring_sag_pct), 2);
+    f.set_num(
+        "shimming_limit",
+        Some(units.mm_to_length(s.shimming_limit_mm)),
+        length_decimals(units),
+    );
+    f.set_num("overclamp_factor", Some(s.overclamp_factor), 2);
+    f.set_num("due_within_passes", Some(s.due_within_passes as f64), 0);
+    f
+}
+
+pub async fn settings(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
+    user.require_admin()?;
+    let mut conn = state.pool.acquire().await?;
+    let (page, settings) = Layout::load(&mut conn, &user, "settings", "Shop settings").await?;
+    let form = settings_form(&settings);
+    Ok(Html(SettingsPage { page, form, errors: FieldErrors::default(), saved: false }.render()?))
+}
+
+pub async fn save_settings(
+    State(state): State<AppState>,
+    SignedForm { user, form }: SignedForm,
+) -> AppResult<Response> {
+    user.require_admin()?;
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let (page, settings) = Layout::load(&mut tx, &user, "settings", "Shop settings").await?;
+    let mut reader = FormReader::new(&form, units_of(&settings));
+    let input = SettingsInput::from_form(&mut reader);
+    match input.check(reader.errors) {
+        Ok(checked) => {
+            db::settings::update(&mut tx, &checked).await?;
+            tx.commit().await?;
+            Ok(Redirect::to("/settings?saved=1").into_response())
+        }
+        Err(errors) => {
+            let page = SettingsPage { page, form, errors, saved: false };
+            Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response())
+        }
+    }
+}
+
+#[derive(Template)]
+#[template(path = "admin/users.html")]
+pub struct UsersPage {
+    pub page: Layout,
+    pub users: Vec<User>,
+    pub form: FormData,
+    pub errors: FieldErrors,
+    pub notice: Option<String>,
+}
+
+async fn users_page(
+    state: &AppState,
+    user: &CurrentUser,
+    form: FormData,
+    errors: FieldErrors,
+    notice: Option<String>,
+) -> AppResult<String> {
+    let mut conn = state.pool.acquire().await?;
+    let (page, _) = Layout::load(&mut conn, user, "users", "Staff accounts").await?;
+    let users = db::users::all(&mut conn).await?;
+    Ok(UsersPage { page, users, form, errors, notice }.render()?)
+}
+
+pub async fn users(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
+    user.require_admin()?;
+    let mut form = FormData::default();
+    form.set("role", "tech");
+    Ok(Html(users_page(&state, &user, form, FieldErrors::default(), None).await?))
+}
+
+pub async fn add_user(
+    State(state): State<AppState>,
+    SignedForm { user, form }: SignedForm,
+) -> AppResult<Response> {
+    user.require_admin()?;
+    let role = Role::parse(form.get("role")).unwrap_or(Role::Tech);
+    let password = form.get("password").to_string();
+    let mut errors = FieldErrors::default();
+    let new_user = match NewUser::parse(form.get("username"), &password, role) {
+        Ok(u) => Some(u),
+        Err(e) => {
+            errors.add(e.field, e.message);
+            None
+        }
+    };
+    if let Some(new_user) = new_user {
+        let hash = auth::hash_password(password).await?;
+        let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+        if db::users::by_name(&mut tx, &new_user.username).await?.is_some() {
+            errors.add("username", "that name is taken");
+        } else {
+            db::users::insert(&mut tx, &new_user, &hash).await?;
+            tx.commit().await?;
+            return Ok(Redirect::to("/users").into_response());
+        }
+    }
+    let html = users_page(&state, &user, form, errors, None).await?;
+    Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response())
+}
+
+async fn set_disabled(state: &AppState, admin: &CurrentUser, id: i64, disabled: bool) -> AppResult<Response> {
+    admin.require_admin()?;
+    if id == admin.id && disabled {
+        return Err(AppError::Forbidden("you cannot disable your own account"));
+    }
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    db::users::by_id(&mut tx, id).await?.ok_or(AppError::NotFound)?;
+    db::users::set_disabled(&mut tx, id, disabled).await?;
+    if disabled {
+        db::sessions::delete_for_user(&mut tx, id).await?;
+        db::tokens::revoke_for_user(&mut tx, id).await?;
+    }
+    tx.commit().await?;
+    Ok(Redirect::to("/users").into_response())
+}
+
+pub async fn disable_user(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    set_disabled(&state, &signed.user, id, true).await
+}
+
+pub async fn enable_user(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    set_disabled(&state, &signed.user, id, false).await
+}
+
+/// Sets a new password for a user and signs them out everywhere.
+pub async fn reset_password(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    SignedForm { user, form }: SignedForm,
+) -> AppResult<Response> {
+    user.require_admin()?;
+    let password = form.get("password").to_string();
+    if let Err(e) = check_password(&password) {
+        let mut errors = FieldErrors::default();
+        errors.add(&format!("password_{id}"), e.message);
+        let html = users_page(&state, &user, FormData::default(), errors, None).await?;
+        return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
+    }
+    let hash = auth::hash_password(password).await?;
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let target = db::users::by_id(&mut tx, id).await?.ok_or(AppError::NotFound)?;
+    db::users::set_password(&mut tx, id, &hash).await?;
+    db::sessions::delete_for_user(&mut tx, id).await?;
+    tx.commit().await?;
+    let notice = format!("New password set for {}.", target.username);
+    Ok(Html(users_page(&state, &user, FormData::default(), FieldErrors::default(), Some(notice)).await?).into_response())
+}

@@ -1,0 +1,390 @@
+//! The JSON API under `/api/v1`: list, read, create and update for every record, with the same
+//! checks as the forms. Values are in storage units named in each field (`facing_od_mm`).
+//! Errors are `{"error": "...", "field": "..."}`: 422 for bad input, 404 for unknown ids,
+//! 401 without a valid bearer token.
+
+use axum::Router;
+use axum::extract::{FromRequestParts, Query, State};
+use axum::http::StatusCode;
+use axum::http::request::Parts;
+use axum::response::{IntoResponse, Response};
+use axum::routing::get;
+use axum::Json;
+use serde::Deserialize;
+use sqlx::SqliteConnection;
+
+use super::AppState;
+use super::extract::{ApiJson, ApiUser, PathId};
+use crate::db;
+use crate::error::{ApiError, ApiResult, AppError};
+use crate::records::bench::BenchInput;
+use crate::records::build::BuildInput;
+use crate::records::car::CarInput;
+use crate::records::customer::CustomerInput;
+use crate::records::height::{HeightContext, HeightInput};
+use crate::records::pass::PassInput;
+use crate::records::setup::SetupInput;
+use crate::records::{Checked, FieldErrors};
+
+pub fn routes() -> Router<AppState> {
+    Router::new()
+        .route("/customers", get(customers_list).post(customer_create))
+        .route("/customers/{id}", get(customer_get).put(customer_update))
+        .route("/customers/{id}/cars", get(cars_of_customer).post(car_create))
+        .route("/cars", get(cars_list))
+        .route("/cars/{id}", get(car_get).put(car_update))
+        .route("/cars/{id}/builds", get(builds_of_car).post(build_create))
+        .route("/builds", get(builds_list))
+        .route("/builds/{id}", get(build_get).put(build_update))
+        .route("/builds/{id}/setups", get(setups_of_build).post(setup_create))
+        .route("/setups/{id}", get(setup_get).put(setup_update))
+        .route("/builds/{id}/bench-tests", get(bench_of_build).post(bench_create))
+        .route("/builds/{id}/measurements", get(heights_of_build).post(height_create))
+        .route("/measurements/{id}", get(height_get).put(height_update))
+        .route("/builds/{id}/passes", get(passes_of_build).post(pass_create))
+        .route("/passes/{id}", get(pass_get).put(pass_update))
+        .fallback(api_not_found)
+}
+
+async fn api_not_found() -> ApiError {
+    ApiError(AppError::NotFound)
+}
+
+/// A path id for the API: anything but a positive integer is a JSON 404.
+struct Id(i64);
+
+impl<S: Send + Sync> FromRequestParts<S> for Id {
+    type Rejection = ApiError;
+    async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, ApiError> {
+        PathId::from_request_parts(parts, state)
+            .await
+            .map(|PathId(id)| Self(id))
+            .map_err(ApiError)
+    }
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(default)]
+struct ListQuery {
+    q: String,
+    page: i64,
+}
+
+fn checked<T>(result: Result<Checked<T>, FieldErrors>) -> Result<Checked<T>, ApiError> {
+    result.map_err(|e| ApiError(AppError::Invalid(e)))
+}
+
+fn created<T: serde::Serialize>(value: T) -> Response {
+    (StatusCode::CREATED, Json(value)).into_response()
+}
+
+fn found<T>(value: Option<T>) -> Result<T, ApiError> {
+    value.ok_or(ApiError(AppError::NotFound))
+}
+
+async fn conn(state: &AppState) -> Result<sqlx::pool::PoolConnection<sqlx::Sqlite>, ApiError> {
+    Ok(state.pool.acquire().await.map_err(AppError::from)?)
+}
+
+async fn write_tx(state: &AppState) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, ApiError> {
+    Ok(state.pool.begin_with("BEGIN IMMEDIATE").await.map_err(AppError::from)?)
+}
+
+async fn build_exists(conn: &mut SqliteConnection, id: i64) -> Result<db::builds::Build, ApiError> {
+    found(db::builds::by_id(conn, id).await.map_err(AppError::from)?)
+}
+
+// Customers
+
+async fn customers_list(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Query(q): Query<ListQuery>,
+) -> ApiResult<serde_json::Value> {
+    let (rows, total) = db::customers::search(&mut *conn(&s).await?, &q.q, q.page).await?;
+    Ok(Json(serde_json::json!({ "customers": rows, "total": total, "page": q.page })))
+}
+
+async fn customer_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::customers::Customer> {
+    Ok(Json(found(db::customers::by_id(&mut *conn(&s).await?, id).await?)?))
+}
+
+async fn customer_create(
+    State(s): State<AppState>,
+    _: ApiUser,
+    ApiJson(input): ApiJson<CustomerInput>,
+) -> Result<Response, ApiError> {
+    let c = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    let id = db::customers::insert(&mut tx, &c).await?;
+    let row = found(db::customers::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(created(row))
+}
+
+async fn customer_update(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<CustomerInput>,
+) -> ApiResult<db::customers::Customer> {
+    let c = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    if !db::customers::update(&mut tx, id, &c).await? {
+        return Err(ApiError(AppError::NotFound));
+    }
+    let row = found(db::customers::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(Json(row))
+}
+
+// Cars
+
+async fn cars_list(State(s): State<AppState>, _: ApiUser, Query(q): Query<ListQuery>) -> ApiResult<Vec<db::cars::Car>> {
+    Ok(Json(db::cars::page(&mut *conn(&s).await?, q.page).await?))
+}
+
+async fn cars_of_customer(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::cars::Car>> {
+    let mut c = conn(&s).await?;
+    found(db::customers::by_id(&mut c, id).await?)?;
+    Ok(Json(db::cars::for_customer(&mut c, id).await?))
+}
+
+async fn car_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::cars::Car> {
+    Ok(Json(found(db::cars::by_id(&mut *conn(&s).await?, id).await?)?))
+}
+
+async fn car_create(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(customer_id): Id,
+    ApiJson(input): ApiJson<CarInput>,
+) -> Result<Response, ApiError> {
+    let c = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    found(db::customers::by_id(&mut tx, customer_id).await?)?;
+    let id = db::cars::insert(&mut tx, customer_id, &c).await?;
+    let row = found(db::cars::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(created(row))
+}
+
+async fn car_update(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<CarInput>,
+) -> ApiResult<db::cars::Car> {
+    let c = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    found(db::cars::by_id(&mut tx, id).await?)?;
+    db::cars::update(&mut tx, id, &c).await?;
+    let row = found(db::cars::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(Json(row))
+}
+
+// Builds
+
+async fn builds_list(State(s): State<AppState>, _: ApiUser, Query(q): Query<ListQuery>) -> ApiResult<Vec<db::builds::Build>> {
+    Ok(Json(db::builds::page(&mut *conn(&s).await?, q.page).await?))
+}
+
+async fn builds_of_car(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::builds::Build>> {
+    let mut c = conn(&s).await?;
+    found(db::cars::by_id(&mut c, id).await?)?;
+    Ok(Json(db::builds::for_car(&mut c, id).await?))
+}
+
+async fn build_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::builds::Build> {
+    Ok(Json(build_exists(&mut *conn(&s).await?, id).await?))
+}
+
+async fn build_create(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(car_id): Id,
+    ApiJson(input): ApiJson<BuildInput>,
+) -> Result<Response, ApiError> {
+    let b = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    found(db::cars::by_id(&mut tx, car_id).await?)?;
+    let id = db::builds::insert(&mut tx, car_id, &b).await?;
+    let row = build_exists(&mut tx, id).await?;
+    tx.commit().await?;
+    Ok(created(row))
+}
+
+async fn build_update(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<BuildInput>,
+) -> ApiResult<db::builds::Build> {
+    let b = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    build_exists(&mut tx, id).await?;
+    db::builds::update(&mut tx, id, &b).await?;
+    let row = build_exists(&mut tx, id).await?;
+    tx.commit().await?;
+    Ok(Json(row))
+}
+
+// Setup changes
+
+async fn setups_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::setups::Setup>> {
+    let mut c = conn(&s).await?;
+    build_exists(&mut c, id).await?;
+    Ok(Json(db::setups::for_build(&mut c, id).await?))
+}
+
+async fn setup_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::setups::Setup> {
+    Ok(Json(found(db::setups::by_id(&mut *conn(&s).await?, id).await?)?))
+}
+
+async fn setup_create(
+    State(s): State<AppState>,
+    ApiUser(user): ApiUser,
+    Id(build_id): Id,
+    ApiJson(input): ApiJson<SetupInput>,
+) -> Result<Response, ApiError> {
+    let v = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    build_exists(&mut tx, build_id).await?;
+    let id = db::setups::insert(&mut tx, build_id, user.id, &v).await?;
+    let row = found(db::setups::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(created(row))
+}
+
+async fn setup_update(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<SetupInput>,
+) -> ApiResult<db::setups::Setup> {
+    let v = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    found(db::setups::by_id(&mut tx, id).await?)?;
+    db::setups::update(&mut tx, id, &v).await?;
+    let row = found(db::setups::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(Json(row))
+}
+
+// Bench tests
+
+async fn bench_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::bench::BenchTest>> {
+    let mut c = conn(&s).await?;
+    build_exists(&mut c, id).await?;
+    Ok(Json(db::bench::for_build(&mut c, id).await?))
+}
+
+async fn bench_create(
+    State(s): State<AppState>,
+    ApiUser(user): ApiUser,
+    Id(build_id): Id,
+    ApiJson(input): ApiJson<BenchInput>,
+) -> Result<Response, ApiError> {
+    let v = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    build_exists(&mut tx, build_id).await?;
+    let id = db::bench::insert(&mut tx, build_id, user.id, &v).await?;
+    let rows = db::bench::for_build(&mut tx, build_id).await?;
+    tx.commit().await?;
+    let row = rows.into_iter().find(|t| t.id == id);
+    Ok(created(found(row)?))
+}
+
+// Cover-height measurements
+
+async fn heights_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::heights::Height>> {
+    let mut c = conn(&s).await?;
+    build_exists(&mut c, id).await?;
+    Ok(Json(db::heights::for_build(&mut c, id).await?))
+}
+
+async fn height_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::heights::Height> {
+    Ok(Json(found(db::heights::by_id(&mut *conn(&s).await?, id).await?)?))
+}
+
+async fn height_context(conn: &mut SqliteConnection, build_id: i64, except: i64) -> Result<HeightContext, ApiError> {
+    let build = build_exists(conn, build_id).await?;
+    Ok(HeightContext {
+        shims_in_stack: build.data.shim_stack_mm.len(),
+        previous: db::heights::latest(conn, build_id, except).await?,
+    })
+}
+
+async fn height_create(
+    State(s): State<AppState>,
+    ApiUser(user): ApiUser,
+    Id(build_id): Id,
+    ApiJson(input): ApiJson<HeightInput>,
+) -> Result<Response, ApiError> {
+    let mut tx = write_tx(&s).await?;
+    let ctx = height_context(&mut tx, build_id, 0).await?;
+    let v = checked(input.check(ctx, FieldErrors::default()))?;
+    let id = db::heights::insert(&mut tx, build_id, user.id, &v).await?;
+    let row = found(db::heights::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(created(row))
+}
+
+async fn height_update(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<HeightInput>,
+) -> ApiResult<db::heights::Height> {
+    let mut tx = write_tx(&s).await?;
+    let existing = found(db::heights::by_id(&mut tx, id).await?)?;
+    let ctx = height_context(&mut tx, existing.build_id, id).await?;
+    let v = checked(input.check(ctx, FieldErrors::default()))?;
+    db::heights::update(&mut tx, id, &v).await?;
+    let row = found(db::heights::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(Json(row))
+}
+
+// Track passes
+
+async fn passes_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::passes::Pass>> {
+    let mut c = conn(&s).await?;
+    build_exists(&mut c, id).await?;
+    Ok(Json(db::passes::for_build(&mut c, id).await?))
+}
+
+async fn pass_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::passes::Pass> {
+    Ok(Json(found(db::passes::by_id(&mut *conn(&s).await?, id).await?)?))
+}
+
+async fn pass_create(
+    State(s): State<AppState>,
+    ApiUser(user): ApiUser,
+    Id(build_id): Id,
+    ApiJson(input): ApiJson<PassInput>,
+) -> Result<Response, ApiError> {
+    let v = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    build_exists(&mut tx, build_id).await?;
+    let id = db::passes::insert(&mut tx, build_id, user.id, &v).await?;
+    let row = found(db::passes::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(created(row))
+}
+
+async fn pass_update(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<PassInput>,
+) -> ApiResult<db::passes::Pass> {
+    let v = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s).await?;
+    found(db::passes::by_id(&mut tx, id).await?)?;
+    db::passes::update(&mut tx, id, &v).await?;
+    let row = found(db::passes::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(Json(row))
+}

@@ -1,0 +1,353 @@
+//! Build pages: the build's page (hardware, current setup, bench tests, cover heights, passes,
+//! each with a quick entry form), and the new / edit form for its hardware.
+
+use askama::Template;
+use axum::extract::State;
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+use sqlx::SqliteConnection;
+
+use super::AppState;
+use super::extract::{CurrentUser, PathId, SignedForm};
+use super::layout::{Layout, units_of};
+use crate::records::length_decimals;
+use crate::clutch::friction::FacingMaterial;
+use crate::db;
+use crate::clutch::spring_health;
+use crate::clutch::springs::{BenchPoint, SetSpread};
+use crate::db::bench::{BenchSpring, BenchTest};
+use crate::records::settings::SettingsInput;
+use crate::db::builds::{Build, BuildOwner};
+use crate::db::cars::Car;
+use crate::db::heights::Height;
+use crate::db::passes::Pass;
+use crate::db::setups::Setup;
+use crate::error::{AppError, AppResult};
+use crate::records::build::BuildInput;
+use crate::records::date::Date;
+use crate::records::{FieldErrors, FormData, FormReader};
+
+/// One quick-entry form on the build page: what was typed and what was wrong with it.
+#[derive(Debug, Clone, Default)]
+pub struct EntryForm {
+    pub form: FormData,
+    pub errors: FieldErrors,
+}
+
+/// The four entry forms of a build page.
+#[derive(Debug, Clone, Default)]
+pub struct EntryForms {
+    pub setup: Option<EntryForm>,
+    pub bench: Option<EntryForm>,
+    pub height: Option<EntryForm>,
+    pub pass: Option<EntryForm>,
+}
+
+/// A bench test with each spring's rate and flags.
+pub struct BenchView {
+    pub test: BenchTest,
+    /// Per spring (by position): rate N/mm and the percent lost since the previous test when
+    /// that loss is past the shop's sag threshold.
+    pub springs: Vec<(BenchSpring, Option<f64>, Option<f64>)>,
+    pub spread: Option<SetSpread>,
+}
+
+/// Pairs each bench test with its review (rates, spread against the tolerance, sag).
+fn bench_views(tests: Vec<BenchTest>, settings: &SettingsInput) -> Vec<BenchView> {
+    let inputs: Vec<spring_health::BenchTest> = tests
+        .iter()
+        .map(|t| spring_health::BenchTest {
+            readings: t
+                .springs
+                .iter()
+                .map(|s| BenchPoint { compression_mm: s.compression_mm, force_n: s.force_n })
+                .collect(),
+        })
+        .collect();
+    let reviews = spring_health::review(&inputs, settings.spring_spread_pct, settings.spring_sag_pct).ok();
+    let mut views: Vec<BenchView> = tests
+        .into_iter()
+        .enumerate()
+        .map(|(i, test)| {
+            let review = reviews.as_ref().map(|r| &r[i]);
+            let springs = test
+                .springs
+                .iter()
+                .enumerate()
+                .map(|(j, s)| {
+                    let rate = review.and_then(|r| r.rates.get(j).copied());
+                    let sag = review.and_then(|r| r.sagged.iter().find(|(pos, _)| *pos == j + 1).map(|(_, pct)| *pct));
+                    (s.clone(), rate, sag)
+                })
+                .collect();
+            BenchView { springs, spread: review.map(|r| r.spread), test }
+        })
+        .collect();
+    views.reverse();
+    views
+}
+
+/// The four entry forms as shown: submitted ones with their messages, the rest with defaults.
+pub struct FilledForms {
+    setup: EntryForm,
+    bench: EntryForm,
+    height: EntryForm,
+    pass: EntryForm,
+}
+
+#[derive(Template)]
+#[template(path = "builds/show.html")]
+pub struct ShowPage {
+    pub page: Layout,
+    pub build: Build,
+    pub owner: BuildOwner,
+    pub car: Car,
+    pub material: String,
+    pub setups: Vec<Setup>,
+    /// Bench tests, newest first, with what they say about the springs.
+    pub bench: Vec<BenchView>,
+    pub heights: Vec<Height>,
+    pub passes: Vec<Pass>,
+    pub forms: FilledForms,
+    /// Spring positions 1..=count, for the bench form's rows.
+    pub spring_rows: Vec<usize>,
+}
+
+impl ShowPage {
+    pub fn setup_form(&self) -> &EntryForm {
+        &self.forms.setup
+    }
+    pub fn bench_form(&self) -> &EntryForm {
+        &self.forms.bench
+    }
+    pub fn height_form(&self) -> &EntryForm {
+        &self.forms.height
+    }
+    pub fn pass_form(&self) -> &EntryForm {
+        &self.forms.pass
+    }
+
+    /// The setup in force now (the latest change), if any was recorded.
+    pub fn current_setup(&self) -> Option<&Setup> {
+        self.setups.last()
+    }
+
+    pub fn shims(&self) -> String {
+        if self.build.data.shim_stack_mm.is_empty() {
+            return "none".into();
+        }
+        let list: Vec<String> = self
+            .build
+            .data
+            .shim_stack_mm
+            .iter()
+            .map(|s| self.page.u.len_num(*s))
+            .collect();
+        format!("{} {}", list.join(", "), self.page.u.length_unit())
+    }
+
+    pub fn thread(&self) -> String {
+        match (self.build.data.adjuster_tpi, self.build.data.adjuster_pitch_mm) {
+            (Some(tpi), _) => format!("{tpi} threads per inch"),
+            (_, Some(p)) => format!("{p} mm pitch"),
+            _ => "not recorded".into(),
+        }
+    }
+}
+
+/// Renders a build's page; `forms` carries any entry form that failed its checks (422).
+pub async fn render_page(
+    conn: &mut SqliteConnection,
+    user: &CurrentUser,
+    id: i64,
+    forms: EntryForms,
+) -> AppResult<String> {
+    let build = db::builds::by_id(conn, id).await?.ok_or(AppError::NotFound)?;
+    let owner = db::builds::owner(conn, id).await?;
+    let car = db::cars::by_id(conn, build.car_id).await?.ok_or(AppError::NotFound)?;
+    let title = format!("{} – {}", owner.customer_name, build_title(&build));
+    let (page, settings) = Layout::load(conn, user, "customers", title).await?;
+    let setups = db::setups::for_build(conn, id).await?;
+    let bench = bench_views(db::bench::for_build(conn, id).await?, &settings);
+    let heights = db::heights::for_build(conn, id).await?;
+    let passes = db::passes::for_build(conn, id).await?;
+    let forms = default_forms(forms, &car, &setups, &heights);
+    let material = FacingMaterial::from_key(&build.data.facing_material)
+        .map_or_else(|| build.data.facing_material.clone(), |m| m.label().to_string());
+    let spring_rows = (1..=build.data.spring_count.clamp(0, 24) as usize).collect();
+    Ok(ShowPage {
+        page,
+        build,
+        owner,
+        car,
+        material,
+        setups,
+        bench,
+        heights,
+        passes,
+        forms,
+        spring_rows,
+    }
+    .render()?)
+}
+
+/// Fills each entry form the user has not just submitted with sensible defaults: today's date
+/// and the build's last values, so a bench entry is a few keystrokes.
+fn default_forms(forms: EntryForms, car: &Car, setups: &[Setup], heights: &[Height]) -> FilledForms {
+    let today = Date::today().to_string();
+    let blank = |date_field: &str| {
+        let mut form = FormData::default();
+        form.set(date_field, &today);
+        EntryForm { form, errors: FieldErrors::default() }
+    };
+    FilledForms {
+        setup: forms.setup.unwrap_or_else(|| {
+            let mut e = blank("changed_on");
+            if let Some(s) = setups.last() {
+                e.form.set_num("adjuster_turns", Some(s.data.adjuster_turns), 3);
+                e.form.set_num("counterweight_g", Some(s.data.counterweight_g), 1);
+                e.form.set_num("mu", s.data.mu, 3);
+            }
+            e
+        }),
+        bench: forms.bench.unwrap_or_else(|| blank("tested_on")),
+        height: forms.height.unwrap_or_else(|| {
+            let mut e = blank("measured_on");
+            let (passes, pulled) = heights
+                .last()
+                .map_or((0, 0), |h| (h.data.passes, h.data.shims_pulled));
+            e.form.set("passes", passes.to_string());
+            e.form.set("shims_pulled", pulled.to_string());
+            e
+        }),
+        pass: forms.pass.unwrap_or_else(|| {
+            let mut e = blank("run_on");
+            e.form.set_num("launch_rpm", car.data.launch_rpm, 0);
+            e
+        }),
+    }
+}
+
+fn build_title(build: &Build) -> String {
+    if build.data.label.is_empty() {
+        format!("build #{}", build.id)
+    } else {
+        build.data.label.clone()
+    }
+}
+
+pub async fn show(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    Ok(Html(render_page(&mut conn, &user, id, EntryForms::default()).await?))
+}
+
+#[derive(Template)]
+#[template(path = "builds/form.html")]
+pub struct FormPage {
+    pub page: Layout,
+    pub car: Car,
+    /// The build being edited, or `None` for a new one.
+    pub id: Option<i64>,
+    pub form: FormData,
+    pub errors: FieldErrors,
+    pub materials: Vec<(&'static str, &'static str)>,
+}
+
+impl FormPage {
+    fn new(page: Layout, car: Car, id: Option<i64>, form: FormData, errors: FieldErrors) -> Self {
+        let materials = FacingMaterial::ALL.iter().map(|m| (m.key(), m.label())).collect();
+        Self { page, car, id, form, errors, materials }
+    }
+
+    pub fn action(&self) -> String {
+        match self.id {
+            Some(id) => format!("/builds/{id}"),
+            None => format!("/cars/{}/builds", self.car.id),
+        }
+    }
+}
+
+pub async fn new(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(car_id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let car = db::cars::by_id(&mut conn, car_id).await?.ok_or(AppError::NotFound)?;
+    let (page, settings) = Layout::load(&mut conn, &user, "customers", "New clutch build").await?;
+    let mut form = FormData::default();
+    form.set("disc_count", "1");
+    form.set("adjuster_thread_kind", "tpi");
+    form.set("status", "active");
+    form.set_num(
+        "shimming_limit",
+        Some(page.units().mm_to_length(settings.shimming_limit_mm)),
+        length_decimals(page.units()),
+    );
+    Ok(Html(FormPage::new(page, car, None, form, FieldErrors::default()).render()?))
+}
+
+pub async fn edit(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let build = db::builds::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(&mut conn, build.car_id).await?.ok_or(AppError::NotFound)?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit clutch build").await?;
+    let form = build.data.to_form(page.units());
+    Ok(Html(FormPage::new(page, car, Some(id), form, FieldErrors::default()).render()?))
+}
+
+pub async fn create(
+    State(state): State<AppState>,
+    PathId(car_id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    save(state, signed, car_id, None).await
+}
+
+pub async fn update(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let mut conn = state.pool.acquire().await?;
+    let build = db::builds::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    drop(conn);
+    save(state, signed, build.car_id, Some(id)).await
+}
+
+async fn save(
+    state: AppState,
+    SignedForm { user, form }: SignedForm,
+    car_id: i64,
+    id: Option<i64>,
+) -> AppResult<Response> {
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let car = db::cars::by_id(&mut tx, car_id).await?.ok_or(AppError::NotFound)?;
+    let (page, settings) = Layout::load(&mut tx, &user, "customers", "Clutch build").await?;
+    let mut reader = FormReader::new(&form, units_of(&settings));
+    let input = BuildInput::from_form(&mut reader);
+    let checked = match input.check(reader.errors) {
+        Ok(c) => c,
+        Err(errors) => {
+            let page = FormPage::new(page, car, id, form, errors);
+            return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
+        }
+    };
+    let id = match id {
+        Some(id) => {
+            db::builds::update(&mut tx, id, &checked).await?;
+            id
+        }
+        None => db::builds::insert(&mut tx, car_id, &checked).await?,
+    };
+    tx.commit().await?;
+    Ok(Redirect::to(&format!("/builds/{id}")).into_response())
+}

@@ -1,0 +1,134 @@
+//! Car pages: a car with its torque curve and builds; new (under a customer) and edit.
+
+use askama::Template;
+use axum::extract::State;
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+
+use super::AppState;
+use super::extract::{CurrentUser, PathId, SignedForm};
+use super::layout::{Layout, units_of};
+use crate::db;
+use crate::db::builds::Build;
+use crate::db::cars::Car;
+use crate::db::customers::Customer;
+use crate::error::{AppError, AppResult};
+use crate::records::car::CarInput;
+use crate::records::{FieldErrors, FormData, FormReader};
+
+#[derive(Template)]
+#[template(path = "cars/show.html")]
+pub struct ShowPage {
+    pub page: Layout,
+    pub car: Car,
+    pub customer: Customer,
+    pub builds: Vec<Build>,
+}
+
+pub async fn show(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let car = db::cars::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let customer = db::customers::by_id(&mut conn, car.customer_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", car.data.description.clone()).await?;
+    let builds = db::builds::for_car(&mut conn, id).await?;
+    Ok(Html(ShowPage { page, car, customer, builds }.render()?))
+}
+
+#[derive(Template)]
+#[template(path = "cars/form.html")]
+pub struct FormPage {
+    pub page: Layout,
+    pub customer: Customer,
+    /// The car being edited, or `None` for a new one.
+    pub id: Option<i64>,
+    pub form: FormData,
+    pub errors: FieldErrors,
+}
+
+impl FormPage {
+    pub fn action(&self) -> String {
+        match self.id {
+            Some(id) => format!("/cars/{id}"),
+            None => format!("/customers/{}/cars", self.customer.id),
+        }
+    }
+}
+
+pub async fn new(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(customer_id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let customer = db::customers::by_id(&mut conn, customer_id).await?.ok_or(AppError::NotFound)?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "New car").await?;
+    let page = FormPage { page, customer, id: None, form: FormData::default(), errors: FieldErrors::default() };
+    Ok(Html(page.render()?))
+}
+
+pub async fn edit(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let car = db::cars::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let customer = db::customers::by_id(&mut conn, car.customer_id).await?.ok_or(AppError::NotFound)?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit car").await?;
+    let form = car.data.to_form(page.units());
+    Ok(Html(FormPage { page, customer, id: Some(id), form, errors: FieldErrors::default() }.render()?))
+}
+
+pub async fn create(
+    State(state): State<AppState>,
+    PathId(customer_id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    save(state, signed, customer_id, None).await
+}
+
+pub async fn update(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let mut conn = state.pool.acquire().await?;
+    let car = db::cars::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    drop(conn);
+    save(state, signed, car.customer_id, Some(id)).await
+}
+
+async fn save(
+    state: AppState,
+    SignedForm { user, form }: SignedForm,
+    customer_id: i64,
+    id: Option<i64>,
+) -> AppResult<Response> {
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let customer = db::customers::by_id(&mut tx, customer_id).await?.ok_or(AppError::NotFound)?;
+    let (page, settings) = Layout::load(&mut tx, &user, "customers", "Car").await?;
+    let mut reader = FormReader::new(&form, units_of(&settings));
+    let input = CarInput::from_form(&mut reader);
+    let checked = match input.check(reader.errors) {
+        Ok(c) => c,
+        Err(errors) => {
+            let page = FormPage { page, customer, id, form, errors };
+            return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
+        }
+    };
+    let id = match id {
+        Some(id) => {
+            db::cars::update(&mut tx, id, &checked).await?;
+            id
+        }
+        None => db::cars::insert(&mut tx, customer_id, &checked).await?,
+    };
+    tx.commit().await?;
+    Ok(Redirect::to(&format!("/cars/{id}")).into_response())
+}

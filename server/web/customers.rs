@@ -1,0 +1,150 @@
+//! Customer pages: the searchable list, a customer's page with their cars, new and edit.
+
+use askama::Template;
+use axum::extract::{Query, State};
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+use serde::Deserialize;
+
+use super::AppState;
+use super::extract::{CurrentUser, PathId, SignedForm};
+use super::layout::Layout;
+use crate::db;
+use crate::db::cars::Car;
+use crate::db::customers::{Customer, CustomerSummary};
+use crate::error::{AppError, AppResult};
+use crate::records::customer::CustomerInput;
+use crate::records::{FieldErrors, FormData, FormReader};
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(default)]
+pub struct ListQuery {
+    pub q: String,
+    pub page: i64,
+}
+
+#[derive(Template)]
+#[template(path = "customers/list.html")]
+pub struct ListPage {
+    pub page: Layout,
+    pub q: String,
+    pub rows: Vec<CustomerSummary>,
+    pub total: i64,
+    pub page_no: i64,
+    pub pages: i64,
+}
+
+impl ListPage {
+    /// The link to another page of the same search.
+    pub fn page_link(&self, page_no: &i64) -> String {
+        format!("/customers?q={}&page={}", super::url_encode(&self.q), page_no)
+    }
+}
+
+pub async fn list(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    Query(q): Query<ListQuery>,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "Customers").await?;
+    let page_no = q.page.clamp(0, 100_000);
+    let (rows, total) = db::customers::search(&mut conn, &q.q, page_no).await?;
+    let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
+    Ok(Html(
+        ListPage { page, q: q.q, rows, total, page_no, pages }.render()?,
+    ))
+}
+
+#[derive(Template)]
+#[template(path = "customers/show.html")]
+pub struct ShowPage {
+    pub page: Layout,
+    pub customer: Customer,
+    pub cars: Vec<Car>,
+}
+
+pub async fn show(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let customer = db::customers::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", customer.data.name.clone()).await?;
+    let cars = db::cars::for_customer(&mut conn, id).await?;
+    Ok(Html(ShowPage { page, customer, cars }.render()?))
+}
+
+#[derive(Template)]
+#[template(path = "customers/form.html")]
+pub struct FormPage {
+    pub page: Layout,
+    /// The customer being edited, or `None` for a new one.
+    pub id: Option<i64>,
+    pub form: FormData,
+    pub errors: FieldErrors,
+}
+
+impl FormPage {
+    pub fn action(&self) -> String {
+        self.id.map_or("/customers".into(), |id| format!("/customers/{id}"))
+    }
+}
+
+pub async fn new(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "New customer").await?;
+    let page = FormPage { page, id: None, form: FormData::default(), errors: FieldErrors::default() };
+    Ok(Html(page.render()?))
+}
+
+pub async fn edit(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let customer = db::customers::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit customer").await?;
+    let form = customer.data.to_form();
+    Ok(Html(FormPage { page, id: Some(id), form, errors: FieldErrors::default() }.render()?))
+}
+
+pub async fn create(State(state): State<AppState>, signed: SignedForm) -> AppResult<Response> {
+    save(state, signed, None).await
+}
+
+pub async fn update(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    save(state, signed, Some(id)).await
+}
+
+/// Checks the form and saves it in one transaction, or re-renders it with the messages.
+async fn save(state: AppState, SignedForm { user, form }: SignedForm, id: Option<i64>) -> AppResult<Response> {
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let (page, settings) = Layout::load(&mut tx, &user, "customers", "Customer").await?;
+    let mut reader = FormReader::new(&form, super::layout::units_of(&settings));
+    let input = CustomerInput::from_form(&mut reader);
+    let checked = match input.check(reader.errors) {
+        Ok(c) => c,
+        Err(errors) => {
+            let page = FormPage { page, id, form, errors };
+            return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
+        }
+    };
+    let id = match id {
+        Some(id) => {
+            if !db::customers::update(&mut tx, id, &checked).await? {
+                return Err(AppError::NotFound);
+            }
+            id
+        }
+        None => db::customers::insert(&mut tx, &checked).await?,
+    };
+    tx.commit().await?;
+    Ok(Redirect::to(&format!("/customers/{id}")).into_response())
+}

@@ -1,0 +1,161 @@
+//! The quick entry forms on a build's page: a setup change, a spring bench test, a cover-height
+//! measurement (with shims pulled), a track pass. Each saves in one transaction or re-renders
+//! the build page with the typed values and the messages (422).
+
+use axum::extract::State;
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+use sqlx::{Sqlite, Transaction};
+
+use super::AppState;
+use super::builds::{EntryForm, EntryForms, render_page};
+use super::extract::{CurrentUser, PathId, SignedForm};
+use super::layout::units_of;
+use crate::clutch::units::Units;
+use crate::db;
+use crate::db::builds::Build;
+use crate::error::{AppError, AppResult};
+use crate::records::bench::BenchInput;
+use crate::records::height::{HeightContext, HeightInput};
+use crate::records::pass::PassInput;
+use crate::records::setup::SetupInput;
+use crate::records::{FieldErrors, FormData, FormReader};
+
+/// Which of the build page's forms was sent.
+#[derive(Clone, Copy)]
+enum Which {
+    Setup,
+    Bench,
+    Height,
+    Pass,
+}
+
+impl Which {
+    fn anchor(self) -> &'static str {
+        match self {
+            Self::Setup => "setup",
+            Self::Bench => "bench",
+            Self::Height => "heights",
+            Self::Pass => "passes",
+        }
+    }
+}
+
+/// One entry being saved: its transaction, the build, and the form as typed.
+struct Entry {
+    tx: Transaction<'static, Sqlite>,
+    build: Build,
+    units: Units,
+    user: CurrentUser,
+    form: FormData,
+}
+
+impl Entry {
+    async fn begin(state: &AppState, build_id: i64, signed: SignedForm) -> AppResult<Self> {
+        let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+        let build = db::builds::by_id(&mut tx, build_id).await?.ok_or(AppError::NotFound)?;
+        let units = units_of(&db::settings::get(&mut tx).await?);
+        Ok(Self { tx, build, units, user: signed.user, form: signed.form })
+    }
+
+    /// Commits and goes back to the build page, or shows the page again with the messages.
+    async fn finish(self, state: &AppState, which: Which, result: Result<(), FieldErrors>) -> AppResult<Response> {
+        let id = self.build.id;
+        let errors = match result {
+            Ok(()) => {
+                self.tx.commit().await?;
+                return Ok(Redirect::to(&format!("/builds/{id}#{}", which.anchor())).into_response());
+            }
+            Err(errors) => errors,
+        };
+        drop(self.tx);
+        let entry = Some(EntryForm { form: self.form, errors });
+        let mut forms = EntryForms::default();
+        match which {
+            Which::Setup => forms.setup = entry,
+            Which::Bench => forms.bench = entry,
+            Which::Height => forms.height = entry,
+            Which::Pass => forms.pass = entry,
+        }
+        let mut conn = state.pool.acquire().await?;
+        let html = render_page(&mut conn, &self.user, id, forms).await?;
+        Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response())
+    }
+}
+
+pub async fn add_setup(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let mut e = Entry::begin(&state, id, signed).await?;
+    let mut reader = FormReader::new(&e.form, e.units);
+    let input = SetupInput::from_form(&mut reader);
+    let result = match input.check(reader.errors) {
+        Ok(checked) => {
+            db::setups::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
+            Ok(())
+        }
+        Err(errors) => Err(errors),
+    };
+    e.finish(&state, Which::Setup, result).await
+}
+
+pub async fn add_bench_test(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let mut e = Entry::begin(&state, id, signed).await?;
+    let mut reader = FormReader::new(&e.form, e.units);
+    let springs = e.build.data.spring_count.clamp(0, 24) as usize;
+    let input = BenchInput::from_form(&mut reader, springs);
+    let result = match input.check(reader.errors) {
+        Ok(checked) => {
+            db::bench::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
+            Ok(())
+        }
+        Err(errors) => Err(errors),
+    };
+    e.finish(&state, Which::Bench, result).await
+}
+
+pub async fn add_height(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let mut e = Entry::begin(&state, id, signed).await?;
+    let mut reader = FormReader::new(&e.form, e.units);
+    let input = HeightInput::from_form(&mut reader);
+    let ctx = HeightContext {
+        shims_in_stack: e.build.data.shim_stack_mm.len(),
+        previous: db::heights::latest(&mut e.tx, e.build.id, 0).await?,
+    };
+    let result = match input.check(ctx, reader.errors) {
+        Ok(checked) => {
+            db::heights::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
+            Ok(())
+        }
+        Err(errors) => Err(errors),
+    };
+    e.finish(&state, Which::Height, result).await
+}
+
+pub async fn add_pass(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let mut e = Entry::begin(&state, id, signed).await?;
+    let mut reader = FormReader::new(&e.form, e.units);
+    let input = PassInput::from_form(&mut reader);
+    let result = match input.check(reader.errors) {
+        Ok(checked) => {
+            db::passes::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
+            Ok(())
+        }
+        Err(errors) => Err(errors),
+    };
+    e.finish(&state, Which::Pass, result).await
+}

@@ -1,0 +1,238 @@
+//! Request extractors: who is asking (session or API token), a CSRF-checked form, a JSON body
+//! whose errors name the field, and a path id that answers 404 instead of a bare 400.
+
+use axum::body::Bytes;
+use axum::extract::{Form, FromRequest, FromRequestParts, Request};
+use axum::http::request::Parts;
+use axum::http::{HeaderMap, header};
+use serde::de::DeserializeOwned;
+
+use super::AppState;
+use crate::auth;
+use crate::db;
+use crate::db::sessions::SessionUser;
+use crate::error::{ApiError, AppError};
+use crate::records::FormData;
+use crate::records::user::Role;
+
+/// The session cookie's name.
+pub const SESSION_COOKIE: &str = "lockpoint_session";
+
+/// A signed-in staff member (browser session).
+#[derive(Debug, Clone)]
+pub struct CurrentUser {
+    pub id: i64,
+    pub username: String,
+    pub role: Role,
+    pub csrf: String,
+}
+
+impl From<SessionUser> for CurrentUser {
+    fn from(s: SessionUser) -> Self {
+        Self {
+            id: s.user_id,
+            username: s.username,
+            role: Role::parse(&s.role).unwrap_or(Role::Tech),
+            csrf: s.csrf_token,
+        }
+    }
+}
+
+impl CurrentUser {
+    pub fn is_admin(&self) -> bool {
+        self.role == Role::Admin
+    }
+
+    /// Refuses anyone but an admin.
+    pub fn require_admin(&self) -> Result<(), AppError> {
+        if self.is_admin() {
+            Ok(())
+        } else {
+            Err(AppError::Forbidden("only an admin can do this"))
+        }
+    }
+}
+
+/// The value of one cookie from the request headers.
+pub fn cookie<'a>(headers: &'a HeaderMap, name: &str) -> Option<&'a str> {
+    headers
+        .get_all(header::COOKIE)
+        .iter()
+        .filter_map(|v| v.to_str().ok())
+        .flat_map(|v| v.split(';'))
+        .filter_map(|pair| pair.trim().split_once('='))
+        .find(|(k, _)| *k == name)
+        .map(|(_, v)| v)
+}
+
+impl FromRequestParts<AppState> for CurrentUser {
+    type Rejection = AppError;
+
+    async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, AppError> {
+        let back_to = || {
+            let next = parts.uri.path_and_query().map_or("/", |p| p.as_str());
+            // Only come back to pages someone can GET.
+            let next = if parts.method == axum::http::Method::GET { next } else { "/" };
+            AppError::LoginRequired(next.to_string())
+        };
+        let Some(token) = cookie(&parts.headers, SESSION_COOKIE) else {
+            return Err(back_to());
+        };
+        let mut conn = state.pool.acquire().await?;
+        match db::sessions::user(&mut conn, &auth::hash_secret(token)).await? {
+            Some(user) => Ok(user.into()),
+            None => Err(back_to()),
+        }
+    }
+}
+
+/// A form POST from a signed-in user, its CSRF token checked against the session's.
+pub struct SignedForm {
+    pub user: CurrentUser,
+    pub form: FormData,
+}
+
+impl FromRequest<AppState> for SignedForm {
+    type Rejection = AppError;
+
+    async fn from_request(req: Request, state: &AppState) -> Result<Self, AppError> {
+        let (mut parts, body) = req.into_parts();
+        let user = CurrentUser::from_request_parts(&mut parts, state).await?;
+        let req = Request::from_parts(parts, body);
+        let Form(pairs) = Form::<Vec<(String, String)>>::from_request(req, state)
+            .await
+            .map_err(|_| AppError::BadRequest)?;
+        let form = FormData::new(pairs);
+        if !auth::same_secret(form.get("_csrf"), &user.csrf) {
+            return Err(AppError::BadCsrf);
+        }
+        Ok(Self { user, form })
+    }
+}
+
+/// A form POST from someone not signed in yet (the login form). Cross-site posts are already
+/// refused by the CSRF layer's Origin / Sec-Fetch-Site check.
+pub struct PlainForm(pub FormData);
+
+impl FromRequest<AppState> for PlainForm {
+    type Rejection = AppError;
+
+    async fn from_request(req: Request, state: &AppState) -> Result<Self, AppError> {
+        let Form(pairs) = Form::<Vec<(String, String)>>::from_request(req, state)
+            .await
+            .map_err(|_| AppError::BadRequest)?;
+        Ok(Self(FormData::new(pairs)))
+    }
+}
+
+/// The user behind an API bearer token.
+#[derive(Debug, Clone)]
+pub struct ApiUser(pub CurrentUser);
+
+impl FromRequestParts<AppState> for ApiUser {
+    type Rejection = ApiError;
+
+    async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, ApiError> {
+        let token = parts
+            .headers
+            .get(header::AUTHORIZATION)
+            .and_then(|v| v.to_str().ok())
+            .and_then(|v| v.strip_prefix("Bearer "))
+            .map(str::trim)
+            .filter(|t| !t.is_empty())
+            .ok_or(ApiError(AppError::Unauthorized))?;
+        let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+        match db::tokens::user(&mut conn, &auth::hash_secret(token))
+            .await
+            .map_err(AppError::from)?
+        {
+            Some(user) => Ok(Self(user.into())),
+            None => Err(ApiError(AppError::Unauthorized)),
+        }
+    }
+}
+
+/// A JSON body; a type error names the field by its path (`springs.rate`).
+pub struct ApiJson<T>(pub T);
+
+impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
+    type Rejection = ApiError;
+
+    async fn from_request(req: Request, state: &AppState) -> Result<Self, ApiError> {
+        let is_json = req
+            .headers()
+            .get(header::CONTENT_TYPE)
+            .and_then(|v| v.to_str().ok())
+            .is_some_and(|v| v.starts_with("application/json"));
+        if !is_json {
+            return Err(ApiError(AppError::field(
+                "body",
+                "send JSON with Content-Type: application/json",
+            )));
+        }
+        let bytes = Bytes::from_request(req, state)
+            .await
+            .map_err(|_| ApiError(AppError::BadRequest))?;
+        parse_json(&bytes).map(Self)
+    }
+}
+
+/// Deserializes JSON, turning an error into a 422 that names the offending field.
+pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
+    let mut de = serde_json::Deserializer::from_slice(bytes);
+    serde_path_to_error::deserialize(&mut de).map_err(|err| {
+        let path = err.path().to_string();
+        let field = if path == "." { "body".to_string() } else { path };
+        let inner = err.into_inner();
+        let message = if inner.is_syntax() || inner.is_eof() {
+            "the body is not valid JSON".to_string()
+        } else {
+            // serde's message names the expected type ("invalid type: string, expected f64");
+            // strip its position suffix, which means nothing to a caller.
+            let text = inner.to_string();
+            text.split(" at line ").next().unwrap_or(&text).to_string()
+        };
+        ApiError(AppError::field(&field, message))
+    })
+}
+
+/// A numeric id from the path; anything else is simply "not found".
+pub struct PathId(pub i64);
+
+impl<S: Send + Sync> FromRequestParts<S> for PathId {
+    type Rejection = AppError;
+
+    async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, AppError> {
+        #[expect(clippy::disallowed_types, reason = "this is the one wrapper around Path")]
+        let path = axum::extract::Path::<i64>::from_request_parts(parts, state).await;
+        match path {
+            Ok(axum::extract::Path(id)) if id > 0 => Ok(Self(id)),
+            _ => Err(AppError::NotFound),
+        }
+    }
+}
+
+/// Percent-encodes a path for a `?next=` parameter.
+pub fn url_encode(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for b in text.bytes() {
+        if b.is_ascii_alphanumeric() || matches!(b, b'-' | b'_' | b'.' | b'~' | b'/') {
+            out.push(b as char);
+        } else {
+            out.push_str(&format!("%{b:02X}"));
+        }
+    }
+    out
+}
+
+impl axum::extract::OptionalFromRequestParts<AppState> for CurrentUser {
+    type Rejection = AppError;
+
+    async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Option<Self>, AppError> {
+        match <Self as FromRequestParts<AppState>>::from_request_parts(parts, state).await {
+            Ok(user) => Ok(Some(user)),
+            Err(AppError::LoginRequired(_)) => Ok(None),
+            Err(other) => Err(other),
+        }
+    }
+}
