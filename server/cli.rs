@@ -27,7 +27,10 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
                 .map_err(|e| e.to_string())?;
             let hash = auth::hash_password(password).await?;
             let mut conn = pool.acquire().await?;
-            if db::users::by_name(&mut conn, &user.username).await?.is_some() {
+            if db::users::by_name(&mut conn, &user.username)
+                .await?
+                .is_some()
+            {
                 return Err(format!("a user named {:?} already exists", user.username).into());
             }
             db::users::insert(&mut conn, &user, &hash).await?;
@@ -74,7 +77,10 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
     if args.demo {
         match demo::seed_if_empty(&pool).await? {
             true => println!("demo shop loaded into {}", args.db.path.display()),
-            false => println!("{} already has records: demo not loaded", args.db.path.display()),
+            false => println!(
+                "{} already has records: demo not loaded",
+                args.db.path.display()
+            ),
         }
         if demo::demo_user_exists(&pool).await? {
             println!(

@@ -5,6 +5,7 @@
 use sqlx::{SqliteConnection, SqlitePool};
 
 use crate::clutch::units::Units;
+use crate::records::FieldErrors;
 use crate::records::bench::{BenchInput, SpringReading};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
@@ -13,7 +14,6 @@ use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::user::{NewUser, Role};
-use crate::records::FieldErrors;
 use crate::{auth, db};
 
 pub const DEMO_USERNAME: &str = "demo";
@@ -65,7 +65,9 @@ pub async fn seed_if_empty(pool: &SqlitePool) -> Result<bool, DemoError> {
 
 pub async fn demo_user_exists(pool: &SqlitePool) -> Result<bool, sqlx::Error> {
     let mut conn = pool.acquire().await?;
-    Ok(db::users::by_name(&mut conn, DEMO_USERNAME).await?.is_some())
+    Ok(db::users::by_name(&mut conn, DEMO_USERNAME)
+        .await?
+        .is_some())
 }
 
 struct DemoCustomer {
@@ -104,14 +106,31 @@ struct DemoBuild {
 }
 
 const BIG_BLOCK: &[[f64; 2]] = &[
-    [3000.0, 410.0], [3500.0, 435.0], [4000.0, 455.0], [4500.0, 470.0], [5000.0, 480.0],
-    [5500.0, 478.0], [6000.0, 470.0], [6500.0, 452.0], [7000.0, 430.0],
+    [3000.0, 410.0],
+    [3500.0, 435.0],
+    [4000.0, 455.0],
+    [4500.0, 470.0],
+    [5000.0, 480.0],
+    [5500.0, 478.0],
+    [6000.0, 470.0],
+    [6500.0, 452.0],
+    [7000.0, 430.0],
 ];
 const SMALL_BLOCK: &[[f64; 2]] = &[
-    [3000.0, 330.0], [4000.0, 365.0], [5000.0, 390.0], [6000.0, 385.0], [7000.0, 360.0], [7500.0, 340.0],
+    [3000.0, 330.0],
+    [4000.0, 365.0],
+    [5000.0, 390.0],
+    [6000.0, 385.0],
+    [7000.0, 360.0],
+    [7500.0, 340.0],
 ];
 const TURBO_FOUR: &[[f64; 2]] = &[
-    [3000.0, 250.0], [4000.0, 390.0], [5000.0, 430.0], [6000.0, 420.0], [7000.0, 395.0], [8000.0, 350.0],
+    [3000.0, 250.0],
+    [4000.0, 390.0],
+    [5000.0, 430.0],
+    [6000.0, 420.0],
+    [7000.0, 395.0],
+    [8000.0, 350.0],
 ];
 
 fn demo_customers() -> Vec<DemoCustomer> {
@@ -142,7 +161,10 @@ fn demo_customers() -> Vec<DemoCustomer> {
                     setups: vec![(1.5, 24.0), (1.75, 26.0)],
                     shims_in: vec![0.010, 0.010, 0.020],
                     heights: vec![(0, 1.905, 0), (40, 1.913, 0), (80, 1.921, 0)],
-                    passes: vec![("Eastfield Dragway", 4500.0, 1.42, 10.95), ("Eastfield Dragway", 4600.0, 1.39, 10.88)],
+                    passes: vec![
+                        ("Eastfield Dragway", 4500.0, 1.42, 10.95),
+                        ("Eastfield Dragway", 4600.0, 1.39, 10.88),
+                    ],
                     status: "active",
                 }],
             }],
@@ -169,7 +191,14 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         levers: 6,
                         setups: vec![(2.0, 18.0)],
                         shims_in: vec![0.010, 0.010],
-                        heights: vec![(0, 1.850, 0), (50, 1.866, 0), (50, 1.856, 1), (100, 1.868, 1), (100, 1.858, 2), (140, 1.874, 2)],
+                        heights: vec![
+                            (0, 1.850, 0),
+                            (50, 1.866, 0),
+                            (50, 1.856, 1),
+                            (100, 1.868, 1),
+                            (100, 1.858, 2),
+                            (140, 1.874, 2),
+                        ],
                         passes: vec![("Eastfield Dragway", 5000.0, 1.31, 10.21)],
                         status: "active",
                     },
@@ -277,7 +306,11 @@ fn ok<T>(r: Result<T, FieldErrors>) -> Result<T, DemoError> {
     r.map_err(|e| format!("demo data failed its own checks: {}", e.summary()).into())
 }
 
-async fn seed_customer(tx: &mut SqliteConnection, user_id: i64, c: DemoCustomer) -> Result<(), DemoError> {
+async fn seed_customer(
+    tx: &mut SqliteConnection,
+    user_id: i64,
+    c: DemoCustomer,
+) -> Result<(), DemoError> {
     let customer = ok(CustomerInput {
         name: c.name.into(),
         phone: c.phone.into(),
@@ -303,7 +336,8 @@ async fn seed_customer(tx: &mut SqliteConnection, user_id: i64, c: DemoCustomer)
                 .collect(),
             notes: String::new(),
         };
-        let car_id = db::cars::insert(tx, customer_id, &ok(input.check(FieldErrors::default()))?).await?;
+        let car_id =
+            db::cars::insert(tx, customer_id, &ok(input.check(FieldErrors::default()))?).await?;
         for b in car.builds {
             seed_build(tx, user_id, car_id, b).await?;
         }
@@ -311,7 +345,12 @@ async fn seed_customer(tx: &mut SqliteConnection, user_id: i64, c: DemoCustomer)
     Ok(())
 }
 
-async fn seed_build(tx: &mut SqliteConnection, user_id: i64, car_id: i64, b: DemoBuild) -> Result<(), DemoError> {
+async fn seed_build(
+    tx: &mut SqliteConnection,
+    user_id: i64,
+    car_id: i64,
+    b: DemoBuild,
+) -> Result<(), DemoError> {
     let input = BuildInput {
         label: b.label.into(),
         disc_count: b.discs,
@@ -334,15 +373,22 @@ async fn seed_build(tx: &mut SqliteConnection, user_id: i64, car_id: i64, b: Dem
         status: b.status.into(),
         ..Default::default()
     };
-    let build_id = db::builds::insert(tx, car_id, &ok(input.check(FieldErrors::default()))?).await?;
-    let months = ["2026-03", "2026-05", "2026-07", "2026-08", "2026-09", "2026-10"];
+    let build_id =
+        db::builds::insert(tx, car_id, &ok(input.check(FieldErrors::default()))?).await?;
+    let months = [
+        "2026-03", "2026-05", "2026-07", "2026-08", "2026-09", "2026-10",
+    ];
     for (i, (turns, cw)) in b.setups.iter().enumerate() {
         let s = SetupInput {
             changed_on: format!("{}-0{}", months[i], 2 + i),
             adjuster_turns: *turns,
             counterweight_g: *cw,
             mu: None,
-            note: if i == 0 { "as built".into() } else { "more counterweight for a later lockup".into() },
+            note: if i == 0 {
+                "as built".into()
+            } else {
+                "more counterweight for a later lockup".into()
+            },
         };
         db::setups::insert(tx, build_id, user_id, &ok(s.check(FieldErrors::default()))?).await?;
     }
@@ -360,7 +406,13 @@ async fn seed_build(tx: &mut SqliteConnection, user_id: i64, car_id: i64, b: Dem
                 })
                 .collect(),
         };
-        db::bench::insert(tx, build_id, user_id, &ok(bench.check(FieldErrors::default()))?).await?;
+        db::bench::insert(
+            tx,
+            build_id,
+            user_id,
+            &ok(bench.check(FieldErrors::default()))?,
+        )
+        .await?;
     }
     let mut previous = None;
     for (i, (passes, height, pulled)) in b.heights.iter().enumerate() {
@@ -369,10 +421,23 @@ async fn seed_build(tx: &mut SqliteConnection, user_id: i64, car_id: i64, b: Dem
             height_mm: inch(*height),
             passes: *passes,
             shims_pulled: *pulled,
-            note: if i > 0 && b.heights[i - 1].2 < *pulled { "pulled a shim".into() } else { String::new() },
+            note: if i > 0 && b.heights[i - 1].2 < *pulled {
+                "pulled a shim".into()
+            } else {
+                String::new()
+            },
         };
-        let ctx = HeightContext { shims_in_stack: b.shims_in.len(), previous };
-        db::heights::insert(tx, build_id, user_id, &ok(h.check(ctx, FieldErrors::default()))?).await?;
+        let ctx = HeightContext {
+            shims_in_stack: b.shims_in.len(),
+            previous,
+        };
+        db::heights::insert(
+            tx,
+            build_id,
+            user_id,
+            &ok(h.check(ctx, FieldErrors::default()))?,
+        )
+        .await?;
         previous = Some((*passes, *pulled));
     }
     for (i, (track, launch, sixty, et)) in b.passes.iter().enumerate() {

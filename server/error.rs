@@ -76,7 +76,12 @@ macro_rules! internal_from {
         }
     )*};
 }
-internal_from!(sqlx::Error, askama::Error, serde_json::Error, crate::auth::PasswordError);
+internal_from!(
+    sqlx::Error,
+    askama::Error,
+    serde_json::Error,
+    crate::auth::PasswordError
+);
 
 #[derive(Template)]
 #[template(path = "error.html")]

@@ -61,7 +61,11 @@ impl FieldErrors {
 
     /// `Ok(value)` when nothing was recorded.
     pub fn into_result<T>(self, value: T) -> Result<T, FieldErrors> {
-        if self.is_empty() { Ok(value) } else { Err(self) }
+        if self.is_empty() {
+            Ok(value)
+        } else {
+            Err(self)
+        }
     }
 }
 
@@ -149,10 +153,18 @@ fn range_message(min: Bound, max: Bound) -> String {
     };
     match (min, max) {
         (Bound::Excl(0.0), Bound::Incl(hi)) => format!("must be above 0 and at most {}", show(hi)),
-        (Bound::Incl(lo), Bound::Incl(hi)) => format!("must be between {} and {}", show(lo), show(hi)),
-        (Bound::Excl(lo), Bound::Incl(hi)) => format!("must be above {} and at most {}", show(lo), show(hi)),
-        (Bound::Incl(lo), Bound::Excl(hi)) => format!("must be at least {} and below {}", show(lo), show(hi)),
-        (Bound::Excl(lo), Bound::Excl(hi)) => format!("must be between {} and {} (exclusive)", show(lo), show(hi)),
+        (Bound::Incl(lo), Bound::Incl(hi)) => {
+            format!("must be between {} and {}", show(lo), show(hi))
+        }
+        (Bound::Excl(lo), Bound::Incl(hi)) => {
+            format!("must be above {} and at most {}", show(lo), show(hi))
+        }
+        (Bound::Incl(lo), Bound::Excl(hi)) => {
+            format!("must be at least {} and below {}", show(lo), show(hi))
+        }
+        (Bound::Excl(lo), Bound::Excl(hi)) => {
+            format!("must be between {} and {} (exclusive)", show(lo), show(hi))
+        }
     }
 }
 
@@ -163,7 +175,9 @@ mod tests {
     #[test]
     fn range_checks_name_the_field_and_reject_non_finite_values() {
         let mut errors = FieldErrors::default();
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         assert!(rules.range("a", 5.0, Bound::Incl(1.0), Bound::Incl(24.0)));
         assert!(!rules.range("b", f64::NAN, Bound::Incl(1.0), Bound::Incl(24.0)));
         assert!(!rules.range("c", 0.0, Bound::Excl(0.0), Bound::Incl(10.0)));

@@ -52,7 +52,10 @@ pub fn app(state: AppState) -> Router {
         .route("/logout", post(login::logout))
         .route("/customers", get(customers::list).post(customers::create))
         .route("/customers/new", get(customers::new))
-        .route("/customers/{id}", get(customers::show).post(customers::update))
+        .route(
+            "/customers/{id}",
+            get(customers::show).post(customers::update),
+        )
         .route("/customers/{id}/edit", get(customers::edit))
         .route("/customers/{id}/cars", post(cars::create))
         .route("/customers/{id}/cars/new", get(cars::new))

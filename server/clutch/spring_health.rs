@@ -27,14 +27,24 @@ pub struct TestReview {
 /// a spring whose rate fell by more than `sag_pct` percent against the same position in the
 /// previous test. Thresholds are shop settings (common shop practice, no published source);
 /// stress relaxation itself is described by the Spring Manufacturers Institute.
-pub fn review(tests: &[BenchTest], tolerance_pct: f64, sag_pct: f64) -> Result<Vec<TestReview>, InputError> {
+pub fn review(
+    tests: &[BenchTest],
+    tolerance_pct: f64,
+    sag_pct: f64,
+) -> Result<Vec<TestReview>, InputError> {
     let mut out: Vec<TestReview> = Vec::with_capacity(tests.len());
     for (t, test) in tests.iter().enumerate() {
         let rates = test
             .readings
             .iter()
             .enumerate()
-            .map(|(i, p)| rate_from_points(std::slice::from_ref(p), RateFit::WithIntercept, &format!("tests[{t}].springs[{i}]")))
+            .map(|(i, p)| {
+                rate_from_points(
+                    std::slice::from_ref(p),
+                    RateFit::WithIntercept,
+                    &format!("tests[{t}].springs[{i}]"),
+                )
+            })
             .collect::<Result<Vec<f64>, InputError>>()?;
         let spread = set_spread(&rates, tolerance_pct, &format!("tests[{t}].springs"))?;
         let mut sagged = Vec::new();
@@ -46,7 +56,11 @@ pub fn review(tests: &[BenchTest], tolerance_pct: f64, sag_pct: f64) -> Result<V
                 }
             }
         }
-        out.push(TestReview { rates, spread, sagged });
+        out.push(TestReview {
+            rates,
+            spread,
+            sagged,
+        });
     }
     Ok(out)
 }
@@ -59,7 +73,10 @@ mod tests {
         BenchTest {
             readings: rates
                 .iter()
-                .map(|k| BenchPoint { compression_mm: 10.0, force_n: k * 10.0 })
+                .map(|k| BenchPoint {
+                    compression_mm: 10.0,
+                    force_n: k * 10.0,
+                })
                 .collect(),
         }
     }

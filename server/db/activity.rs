@@ -28,7 +28,7 @@ pub async fn recent(conn: &mut SqliteConnection, limit: i64) -> sqlx::Result<Vec
          FROM events e JOIN builds b ON b.id = e.build_id JOIN cars k ON k.id = b.car_id
          JOIN customers c ON c.id = k.customer_id
          WHERE c.deleted_at IS NULL
-         ORDER BY e.stamp DESC, e.happened_on DESC LIMIT ?",
+         ORDER BY e.happened_on DESC, e.stamp DESC LIMIT ?",
     )
     .bind(limit)
     .fetch_all(conn)

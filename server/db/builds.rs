@@ -71,12 +71,30 @@ pub async fn page(conn: &mut SqliteConnection, page: i64) -> sqlx::Result<Vec<Bu
 
 /// The stored columns of a build, in the order `bind_fields` binds them.
 const COLUMNS: [&str; 24] = [
-    "label", "disc_count", "facing_material", "facing_od_mm", "facing_id_mm",
-    "disc_thickness_new_mm", "disc_thickness_min_mm", "spring_count", "spring_description",
-    "spring_rate_n_per_mm", "adjuster_tpi", "adjuster_pitch_mm", "base_compression_mm",
-    "cover_height_free_mm", "cover_height_installed_mm", "lever_count", "lever_mass_g",
-    "lever_cg_radius_mm", "lever_arm_ratio", "lever_gain_n_per_g", "shim_stack_mm",
-    "shimming_limit_mm", "status", "notes",
+    "label",
+    "disc_count",
+    "facing_material",
+    "facing_od_mm",
+    "facing_id_mm",
+    "disc_thickness_new_mm",
+    "disc_thickness_min_mm",
+    "spring_count",
+    "spring_description",
+    "spring_rate_n_per_mm",
+    "adjuster_tpi",
+    "adjuster_pitch_mm",
+    "base_compression_mm",
+    "cover_height_free_mm",
+    "cover_height_installed_mm",
+    "lever_count",
+    "lever_mass_g",
+    "lever_cg_radius_mm",
+    "lever_arm_ratio",
+    "lever_gain_n_per_g",
+    "shim_stack_mm",
+    "shimming_limit_mm",
+    "status",
+    "notes",
 ];
 
 type Query<'q> = sqlx::query::Query<'q, sqlx::Sqlite, sqlx::sqlite::SqliteArguments>;
@@ -108,7 +126,11 @@ fn bind_fields<'q>(q: Query<'q>, b: &'q BuildInput) -> Query<'q> {
         .bind(&b.notes)
 }
 
-pub async fn insert(conn: &mut SqliteConnection, car_id: i64, b: &Checked<BuildInput>) -> sqlx::Result<i64> {
+pub async fn insert(
+    conn: &mut SqliteConnection,
+    car_id: i64,
+    b: &Checked<BuildInput>,
+) -> sqlx::Result<i64> {
     let sql = format!(
         "INSERT INTO builds ({}, car_id) VALUES ({}?) RETURNING id",
         COLUMNS.join(", "),
@@ -121,7 +143,11 @@ pub async fn insert(conn: &mut SqliteConnection, car_id: i64, b: &Checked<BuildI
     sqlx::Row::try_get(&row, 0)
 }
 
-pub async fn update(conn: &mut SqliteConnection, id: i64, b: &Checked<BuildInput>) -> sqlx::Result<bool> {
+pub async fn update(
+    conn: &mut SqliteConnection,
+    id: i64,
+    b: &Checked<BuildInput>,
+) -> sqlx::Result<bool> {
     let sets: Vec<String> = COLUMNS.iter().map(|c| format!("{c} = ?")).collect();
     let sql = format!(
         "UPDATE builds SET {}, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",

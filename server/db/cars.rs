@@ -46,7 +46,11 @@ pub async fn page(conn: &mut SqliteConnection, page: i64) -> sqlx::Result<Vec<Ca
     .await
 }
 
-pub async fn insert(conn: &mut SqliteConnection, customer_id: i64, c: &Checked<CarInput>) -> sqlx::Result<i64> {
+pub async fn insert(
+    conn: &mut SqliteConnection,
+    customer_id: i64,
+    c: &Checked<CarInput>,
+) -> sqlx::Result<i64> {
     sqlx::query_scalar(
         "INSERT INTO cars (customer_id, description, engine, weight_kg, transmission,
              rated_input_torque_nm, first_gear_ratio, final_drive_ratio, tire_diameter_mm,
@@ -69,7 +73,11 @@ pub async fn insert(conn: &mut SqliteConnection, customer_id: i64, c: &Checked<C
     .await
 }
 
-pub async fn update(conn: &mut SqliteConnection, id: i64, c: &Checked<CarInput>) -> sqlx::Result<bool> {
+pub async fn update(
+    conn: &mut SqliteConnection,
+    id: i64,
+    c: &Checked<CarInput>,
+) -> sqlx::Result<bool> {
     let done = sqlx::query(
         "UPDATE cars SET description = ?, engine = ?, weight_kg = ?, transmission = ?,
              rated_input_torque_nm = ?, first_gear_ratio = ?, final_drive_ratio = ?,

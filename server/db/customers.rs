@@ -42,7 +42,8 @@ pub async fn search(
     page: i64,
 ) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
     let pattern = format!("%{}%", escape_like(query.trim()));
-    const MATCH: &str = "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
+    const MATCH: &str =
+        "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
          OR EXISTS (SELECT 1 FROM cars k WHERE k.customer_id = c.id
                     AND (k.description LIKE ?1 ESCAPE '\\' OR k.engine LIKE ?1 ESCAPE '\\')))";
     let rows = sqlx::query_as(sqlx::AssertSqlSafe(format!(
@@ -68,17 +69,23 @@ pub async fn search(
 }
 
 pub async fn insert(conn: &mut SqliteConnection, c: &Checked<CustomerInput>) -> sqlx::Result<i64> {
-    sqlx::query_scalar("INSERT INTO customers (name, phone, email, notes) VALUES (?, ?, ?, ?) RETURNING id")
-        .bind(&c.name)
-        .bind(&c.phone)
-        .bind(&c.email)
-        .bind(&c.notes)
-        .fetch_one(conn)
-        .await
+    sqlx::query_scalar(
+        "INSERT INTO customers (name, phone, email, notes) VALUES (?, ?, ?, ?) RETURNING id",
+    )
+    .bind(&c.name)
+    .bind(&c.phone)
+    .bind(&c.email)
+    .bind(&c.notes)
+    .fetch_one(conn)
+    .await
 }
 
 /// Updates a customer; false when there is no such (live) customer.
-pub async fn update(conn: &mut SqliteConnection, id: i64, c: &Checked<CustomerInput>) -> sqlx::Result<bool> {
+pub async fn update(
+    conn: &mut SqliteConnection,
+    id: i64,
+    c: &Checked<CustomerInput>,
+) -> sqlx::Result<bool> {
     let done = sqlx::query(
         "UPDATE customers SET name = ?, phone = ?, email = ?, notes = ?,
              updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')

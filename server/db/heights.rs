@@ -19,10 +19,12 @@ pub struct Height {
 }
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Height>> {
-    sqlx::query_as("SELECT * FROM cover_heights WHERE build_id = ? ORDER BY passes, measured_on, id")
-        .bind(build_id)
-        .fetch_all(conn)
-        .await
+    sqlx::query_as(
+        "SELECT * FROM cover_heights WHERE build_id = ? ORDER BY passes, measured_on, id",
+    )
+    .bind(build_id)
+    .fetch_all(conn)
+    .await
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Height>> {
@@ -33,7 +35,11 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
 }
 
 /// The latest (passes, shims pulled) on a build, other than measurement `except`.
-pub async fn latest(conn: &mut SqliteConnection, build_id: i64, except: i64) -> sqlx::Result<Option<(i64, i64)>> {
+pub async fn latest(
+    conn: &mut SqliteConnection,
+    build_id: i64,
+    except: i64,
+) -> sqlx::Result<Option<(i64, i64)>> {
     sqlx::query_as(
         "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id != ?
          ORDER BY passes DESC, id DESC LIMIT 1",
@@ -65,7 +71,11 @@ pub async fn insert(
     .await
 }
 
-pub async fn update(conn: &mut SqliteConnection, id: i64, h: &Checked<HeightInput>) -> sqlx::Result<bool> {
+pub async fn update(
+    conn: &mut SqliteConnection,
+    id: i64,
+    h: &Checked<HeightInput>,
+) -> sqlx::Result<bool> {
     let done = sqlx::query(
         "UPDATE cover_heights SET measured_on = ?, height_mm = ?, passes = ?, shims_pulled = ?,
              note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",

@@ -56,7 +56,11 @@ pub async fn insert(
     .await
 }
 
-pub async fn update(conn: &mut SqliteConnection, id: i64, p: &Checked<PassInput>) -> sqlx::Result<bool> {
+pub async fn update(
+    conn: &mut SqliteConnection,
+    id: i64,
+    p: &Checked<PassInput>,
+) -> sqlx::Result<bool> {
     let done = sqlx::query(
         "UPDATE passes SET run_on = ?, track = ?, launch_rpm = ?, sixty_ft_s = ?, et_s = ?,
              observed_lockup_rpm = ?, notes = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')

@@ -14,7 +14,12 @@ pub struct SessionUser {
 /// How long a sign-in lasts.
 pub const LIFETIME_DAYS: i64 = 7;
 
-pub async fn create(conn: &mut SqliteConnection, token_hash: &str, user_id: i64, csrf: &str) -> sqlx::Result<()> {
+pub async fn create(
+    conn: &mut SqliteConnection,
+    token_hash: &str,
+    user_id: i64,
+    csrf: &str,
+) -> sqlx::Result<()> {
     // Expired sessions are removed here, so the table never grows without bound.
     sqlx::query("DELETE FROM sessions WHERE expires_at < strftime('%Y-%m-%dT%H:%M:%SZ', 'now')")
         .execute(&mut *conn)
@@ -32,7 +37,10 @@ pub async fn create(conn: &mut SqliteConnection, token_hash: &str, user_id: i64,
     Ok(())
 }
 
-pub async fn user(conn: &mut SqliteConnection, token_hash: &str) -> sqlx::Result<Option<SessionUser>> {
+pub async fn user(
+    conn: &mut SqliteConnection,
+    token_hash: &str,
+) -> sqlx::Result<Option<SessionUser>> {
     sqlx::query_as(
         "SELECT u.id AS user_id, u.username, u.role, s.csrf_token
          FROM sessions s JOIN users u ON u.id = s.user_id

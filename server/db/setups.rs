@@ -53,7 +53,11 @@ pub async fn insert(
     .await
 }
 
-pub async fn update(conn: &mut SqliteConnection, id: i64, s: &Checked<SetupInput>) -> sqlx::Result<bool> {
+pub async fn update(
+    conn: &mut SqliteConnection,
+    id: i64,
+    s: &Checked<SetupInput>,
+) -> sqlx::Result<bool> {
     let done = sqlx::query(
         "UPDATE setup_changes SET changed_on = ?, adjuster_turns = ?, counterweight_g = ?, mu = ?,
              note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",

@@ -4,7 +4,11 @@ use sqlx::SqliteConnection;
 
 use super::sessions::SessionUser;
 
-pub async fn insert(conn: &mut SqliteConnection, user_id: i64, token_hash: &str) -> sqlx::Result<i64> {
+pub async fn insert(
+    conn: &mut SqliteConnection,
+    user_id: i64,
+    token_hash: &str,
+) -> sqlx::Result<i64> {
     sqlx::query_scalar("INSERT INTO api_tokens (user_id, token_hash) VALUES (?, ?) RETURNING id")
         .bind(user_id)
         .bind(token_hash)
@@ -13,7 +17,10 @@ pub async fn insert(conn: &mut SqliteConnection, user_id: i64, token_hash: &str)
 }
 
 /// The user behind a live token (not revoked, user not disabled).
-pub async fn user(conn: &mut SqliteConnection, token_hash: &str) -> sqlx::Result<Option<SessionUser>> {
+pub async fn user(
+    conn: &mut SqliteConnection,
+    token_hash: &str,
+) -> sqlx::Result<Option<SessionUser>> {
     sqlx::query_as(
         "SELECT u.id AS user_id, u.username, u.role, '' AS csrf_token
          FROM api_tokens t JOIN users u ON u.id = t.user_id

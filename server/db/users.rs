@@ -30,10 +30,12 @@ pub async fn by_name(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<Op
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<User>> {
-    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE id = ?")
-        .bind(id)
-        .fetch_optional(conn)
-        .await
+    sqlx::query_as(
+        "SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE id = ?",
+    )
+    .bind(id)
+    .fetch_optional(conn)
+    .await
 }
 
 pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<User>> {
@@ -43,19 +45,31 @@ pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<User>> {
 }
 
 pub async fn count(conn: &mut SqliteConnection) -> sqlx::Result<i64> {
-    sqlx::query_scalar("SELECT COUNT(*) FROM users").fetch_one(conn).await
-}
-
-pub async fn insert(conn: &mut SqliteConnection, user: &NewUser, password_hash: &str) -> sqlx::Result<i64> {
-    sqlx::query_scalar("INSERT INTO users (username, password_hash, role) VALUES (?, ?, ?) RETURNING id")
-        .bind(&user.username)
-        .bind(password_hash)
-        .bind(user.role.as_str())
+    sqlx::query_scalar("SELECT COUNT(*) FROM users")
         .fetch_one(conn)
         .await
 }
 
-pub async fn set_disabled(conn: &mut SqliteConnection, id: i64, disabled: bool) -> sqlx::Result<()> {
+pub async fn insert(
+    conn: &mut SqliteConnection,
+    user: &NewUser,
+    password_hash: &str,
+) -> sqlx::Result<i64> {
+    sqlx::query_scalar(
+        "INSERT INTO users (username, password_hash, role) VALUES (?, ?, ?) RETURNING id",
+    )
+    .bind(&user.username)
+    .bind(password_hash)
+    .bind(user.role.as_str())
+    .fetch_one(conn)
+    .await
+}
+
+pub async fn set_disabled(
+    conn: &mut SqliteConnection,
+    id: i64,
+    disabled: bool,
+) -> sqlx::Result<()> {
     sqlx::query("UPDATE users SET disabled = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?")
         .bind(disabled)
         .bind(id)
@@ -64,7 +78,11 @@ pub async fn set_disabled(conn: &mut SqliteConnection, id: i64, disabled: bool) 
     Ok(())
 }
 
-pub async fn set_password(conn: &mut SqliteConnection, id: i64, password_hash: &str) -> sqlx::Result<()> {
+pub async fn set_password(
+    conn: &mut SqliteConnection,
+    id: i64,
+    password_hash: &str,
+) -> sqlx::Result<()> {
     sqlx::query("UPDATE users SET password_hash = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?")
         .bind(password_hash)
         .bind(id)

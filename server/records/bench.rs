@@ -27,8 +27,10 @@ impl BenchInput {
         let height = r.opt_length("test_height");
         let compression = r.opt_length("test_compression");
         if height.is_none() && compression.is_none() {
-            r.errors
-                .add("test_height", "give the test height, or the test compression");
+            r.errors.add(
+                "test_height",
+                "give the test height, or the test compression",
+            );
         }
         let mut springs = Vec::with_capacity(spring_count);
         for i in 1..=spring_count {
@@ -61,16 +63,33 @@ impl BenchInput {
 
     pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         use Bound::{Excl, Incl};
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.date("tested_on", &self.tested_on);
         rules.text("note", &self.note, false, 2000);
         if self.springs.is_empty() || self.springs.len() > 24 {
             rules.errors.add("springs", "give 1 to 24 spring readings");
         }
         for (i, s) in self.springs.iter().enumerate() {
-            rules.opt_range(&format!("springs[{i}].free_length_mm"), s.free_length_mm, Excl(0.0), Incl(200.0));
-            rules.range(&format!("springs[{i}].compression_mm"), s.compression_mm, Excl(0.0), Incl(100.0));
-            rules.range(&format!("springs[{i}].force_n"), s.force_n, Excl(0.0), Incl(50_000.0));
+            rules.opt_range(
+                &format!("springs[{i}].free_length_mm"),
+                s.free_length_mm,
+                Excl(0.0),
+                Incl(200.0),
+            );
+            rules.range(
+                &format!("springs[{i}].compression_mm"),
+                s.compression_mm,
+                Excl(0.0),
+                Incl(100.0),
+            );
+            rules.range(
+                &format!("springs[{i}].force_n"),
+                s.force_n,
+                Excl(0.0),
+                Incl(50_000.0),
+            );
         }
         errors.into_result(Checked(self))
     }

@@ -114,52 +114,119 @@ impl BuildInput {
 
     pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         use Bound::{Excl, Incl};
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.text("label", &self.label, false, 120);
         rules.text("spring_description", &self.spring_description, false, 200);
         rules.text("notes", &self.notes, false, 4000);
         rules.range("disc_count", self.disc_count as f64, Incl(1.0), Incl(3.0));
-        rules.range("spring_count", self.spring_count as f64, Incl(1.0), Incl(24.0));
-        rules.range("lever_count", self.lever_count as f64, Incl(0.0), Incl(24.0));
+        rules.range(
+            "spring_count",
+            self.spring_count as f64,
+            Incl(1.0),
+            Incl(24.0),
+        );
+        rules.range(
+            "lever_count",
+            self.lever_count as f64,
+            Incl(0.0),
+            Incl(24.0),
+        );
         if rules.range("facing_od_mm", self.facing_od_mm, Excl(0.0), Incl(400.0))
             && rules.range("facing_id_mm", self.facing_id_mm, Excl(0.0), Incl(400.0))
             && self.facing_id_mm >= self.facing_od_mm
         {
-            rules.errors.add("facing_id_mm", "must be smaller than the outer diameter");
+            rules
+                .errors
+                .add("facing_id_mm", "must be smaller than the outer diameter");
         }
-        rules.opt_range("disc_thickness_new_mm", self.disc_thickness_new_mm, Excl(0.0), Incl(30.0));
-        rules.opt_range("disc_thickness_min_mm", self.disc_thickness_min_mm, Excl(0.0), Incl(30.0));
+        rules.opt_range(
+            "disc_thickness_new_mm",
+            self.disc_thickness_new_mm,
+            Excl(0.0),
+            Incl(30.0),
+        );
+        rules.opt_range(
+            "disc_thickness_min_mm",
+            self.disc_thickness_min_mm,
+            Excl(0.0),
+            Incl(30.0),
+        );
         if let (Some(new), Some(min)) = (self.disc_thickness_new_mm, self.disc_thickness_min_mm)
             && min >= new
         {
-            rules.errors.add("disc_thickness_min_mm", "must be less than the new thickness");
+            rules.errors.add(
+                "disc_thickness_min_mm",
+                "must be less than the new thickness",
+            );
         }
-        rules.opt_range("spring_rate_n_per_mm", self.spring_rate_n_per_mm, Excl(0.0), Incl(2000.0));
+        rules.opt_range(
+            "spring_rate_n_per_mm",
+            self.spring_rate_n_per_mm,
+            Excl(0.0),
+            Incl(2000.0),
+        );
         match (self.adjuster_tpi, self.adjuster_pitch_mm) {
-            (Some(_), Some(_)) => rules
-                .errors
-                .add("adjuster_pitch_mm", "give threads per inch or a metric pitch, not both"),
+            (Some(_), Some(_)) => rules.errors.add(
+                "adjuster_pitch_mm",
+                "give threads per inch or a metric pitch, not both",
+            ),
             (tpi, pitch) => {
                 rules.opt_range("adjuster_tpi", tpi, Incl(4.0), Incl(80.0));
                 rules.opt_range("adjuster_pitch_mm", pitch, Incl(0.2), Incl(6.0));
             }
         }
-        rules.opt_range("base_compression_mm", self.base_compression_mm, Incl(0.0), Incl(50.0));
-        rules.opt_range("cover_height_free_mm", self.cover_height_free_mm, Excl(0.0), Incl(200.0));
-        rules.opt_range("cover_height_installed_mm", self.cover_height_installed_mm, Excl(0.0), Incl(200.0));
+        rules.opt_range(
+            "base_compression_mm",
+            self.base_compression_mm,
+            Incl(0.0),
+            Incl(50.0),
+        );
+        rules.opt_range(
+            "cover_height_free_mm",
+            self.cover_height_free_mm,
+            Excl(0.0),
+            Incl(200.0),
+        );
+        rules.opt_range(
+            "cover_height_installed_mm",
+            self.cover_height_installed_mm,
+            Excl(0.0),
+            Incl(200.0),
+        );
         match (self.cover_height_free_mm, self.cover_height_installed_mm) {
             (Some(free), Some(inst)) if inst > free => rules.errors.add(
                 "cover_height_installed_mm",
                 "installed height must not exceed the free height",
             ),
-            (Some(_), None) => rules.errors.add("cover_height_installed_mm", "give both cover heights"),
-            (None, Some(_)) => rules.errors.add("cover_height_free_mm", "give both cover heights"),
+            (Some(_), None) => rules
+                .errors
+                .add("cover_height_installed_mm", "give both cover heights"),
+            (None, Some(_)) => rules
+                .errors
+                .add("cover_height_free_mm", "give both cover heights"),
             _ => {}
         }
         rules.range("lever_mass_g", self.lever_mass_g, Incl(0.0), Incl(2000.0));
-        rules.opt_range("lever_cg_radius_mm", self.lever_cg_radius_mm, Excl(0.0), Incl(300.0));
-        rules.opt_range("lever_arm_ratio", self.lever_arm_ratio, Excl(0.0), Incl(20.0));
-        rules.opt_range("lever_gain_n_per_g", self.lever_gain_n_per_g, Excl(0.0), Incl(100.0));
+        rules.opt_range(
+            "lever_cg_radius_mm",
+            self.lever_cg_radius_mm,
+            Excl(0.0),
+            Incl(300.0),
+        );
+        rules.opt_range(
+            "lever_arm_ratio",
+            self.lever_arm_ratio,
+            Excl(0.0),
+            Incl(20.0),
+        );
+        rules.opt_range(
+            "lever_gain_n_per_g",
+            self.lever_gain_n_per_g,
+            Excl(0.0),
+            Incl(100.0),
+        );
         let has_geometry = self.lever_cg_radius_mm.is_some() && self.lever_arm_ratio.is_some();
         if self.lever_count > 0 && !has_geometry && self.lever_gain_n_per_g.is_none() {
             rules.errors.add(
@@ -175,7 +242,12 @@ impl BuildInput {
                 break;
             }
         }
-        rules.opt_range("shimming_limit_mm", self.shimming_limit_mm, Excl(0.0), Incl(10.0));
+        rules.opt_range(
+            "shimming_limit_mm",
+            self.shimming_limit_mm,
+            Excl(0.0),
+            Incl(10.0),
+        );
         if FacingMaterial::from_key(&self.facing_material).is_none() {
             errors.add(
                 "facing_material",
@@ -202,7 +274,11 @@ impl BuildInput {
         f.set_num("disc_thickness_min", self.disc_thickness_min_mm.map(len), d);
         f.set_num("spring_count", Some(self.spring_count as f64), 0);
         f.set("spring_description", &self.spring_description);
-        f.set_num("spring_rate", self.spring_rate_n_per_mm.map(|k| units.n_per_mm_to_rate(k)), 1);
+        f.set_num(
+            "spring_rate",
+            self.spring_rate_n_per_mm.map(|k| units.n_per_mm_to_rate(k)),
+            1,
+        );
         match (self.adjuster_tpi, self.adjuster_pitch_mm) {
             (_, Some(p)) => {
                 f.set("adjuster_thread_kind", "metric");
@@ -215,12 +291,20 @@ impl BuildInput {
         }
         f.set_num("base_compression", self.base_compression_mm.map(len), d);
         f.set_num("cover_height_free", self.cover_height_free_mm.map(len), d);
-        f.set_num("cover_height_installed", self.cover_height_installed_mm.map(len), d);
+        f.set_num(
+            "cover_height_installed",
+            self.cover_height_installed_mm.map(len),
+            d,
+        );
         f.set_num("lever_count", Some(self.lever_count as f64), 0);
         f.set_num("lever_mass_g", Some(self.lever_mass_g), 1);
         f.set_num("lever_cg_radius", self.lever_cg_radius_mm.map(len), d);
         f.set_num("lever_arm_ratio", self.lever_arm_ratio, 3);
-        f.set_num("lever_gain", self.lever_gain_n_per_g.map(|g| units.n_to_force(g)), 4);
+        f.set_num(
+            "lever_gain",
+            self.lever_gain_n_per_g.map(|g| units.n_to_force(g)),
+            4,
+        );
         let shims: Vec<String> = self
             .shim_stack_mm
             .iter()

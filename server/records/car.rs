@@ -43,19 +43,42 @@ impl CarInput {
 
     pub fn check(mut self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         use Bound::{Excl, Incl};
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.text("description", &self.description, true, 200);
         rules.text("engine", &self.engine, false, 200);
         rules.text("transmission", &self.transmission, false, 200);
         rules.text("notes", &self.notes, false, 4000);
         rules.opt_range("weight_kg", self.weight_kg, Incl(200.0), Incl(5000.0));
-        rules.opt_range("rated_input_torque_nm", self.rated_input_torque_nm, Excl(0.0), Incl(20_000.0));
-        rules.opt_range("first_gear_ratio", self.first_gear_ratio, Incl(0.5), Incl(10.0));
-        rules.opt_range("final_drive_ratio", self.final_drive_ratio, Incl(1.0), Incl(10.0));
-        rules.opt_range("tire_diameter_mm", self.tire_diameter_mm, Incl(300.0), Incl(1500.0));
+        rules.opt_range(
+            "rated_input_torque_nm",
+            self.rated_input_torque_nm,
+            Excl(0.0),
+            Incl(20_000.0),
+        );
+        rules.opt_range(
+            "first_gear_ratio",
+            self.first_gear_ratio,
+            Incl(0.5),
+            Incl(10.0),
+        );
+        rules.opt_range(
+            "final_drive_ratio",
+            self.final_drive_ratio,
+            Incl(1.0),
+            Incl(10.0),
+        );
+        rules.opt_range(
+            "tire_diameter_mm",
+            self.tire_diameter_mm,
+            Incl(300.0),
+            Incl(1500.0),
+        );
         rules.opt_range("launch_rpm", self.launch_rpm, Incl(500.0), Incl(15_000.0));
         if !self.torque_curve_nm.is_empty() {
-            let points: Vec<(f64, f64)> = self.torque_curve_nm.iter().map(|p| (p[0], p[1])).collect();
+            let points: Vec<(f64, f64)> =
+                self.torque_curve_nm.iter().map(|p| (p[0], p[1])).collect();
             match crate::clutch::torque_curve::TorqueCurve::new(&points, "torque_curve_nm") {
                 Ok(curve) => self.torque_curve_nm = curve.points().map(|(r, t)| [r, t]).collect(),
                 Err(err) => errors.add(&err.field, err.message),
@@ -78,7 +101,11 @@ impl CarInput {
         );
         f.set_num("first_gear_ratio", self.first_gear_ratio, 3);
         f.set_num("final_drive_ratio", self.final_drive_ratio, 3);
-        f.set_num("tire_diameter", self.tire_diameter_mm.map(|d| units.mm_to_length(d)), 2);
+        f.set_num(
+            "tire_diameter",
+            self.tire_diameter_mm.map(|d| units.mm_to_length(d)),
+            2,
+        );
         f.set_num("launch_rpm", self.launch_rpm, 0);
         let table: Vec<String> = self
             .torque_curve_nm

@@ -24,7 +24,9 @@ impl CustomerInput {
     }
 
     pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.text("name", &self.name, true, 120);
         rules.text("phone", &self.phone, false, 40);
         rules.text("email", &self.email, false, 120);

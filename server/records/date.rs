@@ -97,6 +97,9 @@ mod tests {
     fn days_since_the_epoch_map_to_known_dates() {
         // Unix time 0 is 1970-01-01; 951_782_400 s is 2000-02-29 (POSIX time definition).
         assert_eq!(Date::from_days_since_epoch(0).to_string(), "1970-01-01");
-        assert_eq!(Date::from_days_since_epoch(951_782_400 / 86_400).to_string(), "2000-02-29");
+        assert_eq!(
+            Date::from_days_since_epoch(951_782_400 / 86_400).to_string(),
+            "2000-02-29"
+        );
     }
 }

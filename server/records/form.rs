@@ -45,7 +45,9 @@ impl FormData {
 
     /// Sets a number with a fixed number of decimals; `None` leaves the field empty.
     pub fn set_num(&mut self, name: &str, value: Option<f64>, decimals: usize) {
-        let text = value.map(|v| trim_zeros(format!("{v:.decimals$}"))).unwrap_or_default();
+        let text = value
+            .map(|v| trim_zeros(format!("{v:.decimals$}")))
+            .unwrap_or_default();
         self.set(name, text);
     }
 
@@ -127,7 +129,11 @@ impl<'a> FormReader<'a> {
         if v.is_finite() && v.fract() != 0.0 {
             self.errors.add(name, "enter a whole number");
         }
-        if v.is_finite() && v.abs() < 1e15 { v as i64 } else { i64::MIN }
+        if v.is_finite() && v.abs() < 1e15 {
+            v as i64
+        } else {
+            i64::MIN
+        }
     }
 
     pub fn opt_length(&mut self, name: &str) -> Option<f64> {
@@ -167,8 +173,10 @@ impl<'a> FormReader<'a> {
             match parse_number(item.trim()) {
                 Some(v) => out.push(self.units.length_to_mm(v)),
                 None => {
-                    self.errors
-                        .add(name, format!("{item:?} is not a number; separate values with commas"));
+                    self.errors.add(
+                        name,
+                        format!("{item:?} is not a number; separate values with commas"),
+                    );
                     return Vec::new();
                 }
             }

@@ -47,9 +47,15 @@ impl HeightInput {
         }
     }
 
-    pub fn check(self, ctx: HeightContext, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+    pub fn check(
+        self,
+        ctx: HeightContext,
+        mut errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors> {
         use Bound::{Excl, Incl};
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.date("measured_on", &self.measured_on);
         rules.range("height_mm", self.height_mm, Excl(0.0), Incl(200.0));
         rules.range("passes", self.passes as f64, Incl(0.0), Incl(100_000.0));

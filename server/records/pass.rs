@@ -31,12 +31,19 @@ impl PassInput {
 
     pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         use Bound::Incl;
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.date("run_on", &self.run_on);
         rules.text("track", &self.track, false, 120);
         rules.text("notes", &self.notes, false, 2000);
         rules.opt_range("launch_rpm", self.launch_rpm, Incl(500.0), Incl(15_000.0));
-        rules.opt_range("observed_lockup_rpm", self.observed_lockup_rpm, Incl(500.0), Incl(15_000.0));
+        rules.opt_range(
+            "observed_lockup_rpm",
+            self.observed_lockup_rpm,
+            Incl(500.0),
+            Incl(15_000.0),
+        );
         rules.opt_range("sixty_ft_s", self.sixty_ft_s, Incl(0.5), Incl(10.0));
         rules.opt_range("et_s", self.et_s, Incl(1.0), Incl(60.0));
         if let (Some(sixty), Some(et)) = (self.sixty_ft_s, self.et_s)

@@ -42,16 +42,38 @@ impl SettingsInput {
 
     pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         use Bound::{Excl, Incl};
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.text("name", &self.name, true, 120);
         rules.text("phone", &self.phone, false, 40);
         rules.text("email", &self.email, false, 120);
         rules.text("address", &self.address, false, 400);
-        rules.range("spring_spread_pct", self.spring_spread_pct, Excl(0.0), Incl(50.0));
+        rules.range(
+            "spring_spread_pct",
+            self.spring_spread_pct,
+            Excl(0.0),
+            Incl(50.0),
+        );
         rules.range("spring_sag_pct", self.spring_sag_pct, Excl(0.0), Incl(50.0));
-        rules.range("shimming_limit_mm", self.shimming_limit_mm, Excl(0.0), Incl(5.0));
-        rules.range("overclamp_factor", self.overclamp_factor, Incl(1.0), Incl(5.0));
-        rules.range("due_within_passes", self.due_within_passes as f64, Incl(0.0), Incl(1000.0));
+        rules.range(
+            "shimming_limit_mm",
+            self.shimming_limit_mm,
+            Excl(0.0),
+            Incl(5.0),
+        );
+        rules.range(
+            "overclamp_factor",
+            self.overclamp_factor,
+            Incl(1.0),
+            Incl(5.0),
+        );
+        rules.range(
+            "due_within_passes",
+            self.due_within_passes as f64,
+            Incl(0.0),
+            Incl(1000.0),
+        );
         if crate::clutch::units::Units::from_key(&self.units).is_none() {
             errors.add("units", "choose imperial or metric");
         }

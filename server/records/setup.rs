@@ -41,10 +41,17 @@ impl SetupInput {
 
     pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         use Bound::Incl;
-        let mut rules = Rules { errors: &mut errors };
+        let mut rules = Rules {
+            errors: &mut errors,
+        };
         rules.date("changed_on", &self.changed_on);
         rules.range("adjuster_turns", self.adjuster_turns, Incl(0.0), Incl(20.0));
-        rules.range("counterweight_g", self.counterweight_g, Incl(0.0), Incl(1000.0));
+        rules.range(
+            "counterweight_g",
+            self.counterweight_g,
+            Incl(0.0),
+            Incl(1000.0),
+        );
         rules.opt_range("mu", self.mu, Incl(0.05), Incl(0.8));
         rules.text("note", &self.note, false, 2000);
         errors.into_result(Checked(self))

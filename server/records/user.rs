@@ -92,7 +92,9 @@ mod tests {
         assert!(NewUser::parse("sam", "123456789", Role::Tech).is_err());
         assert!(NewUser::parse("sam", "1234567890", Role::Tech).is_ok());
         assert_eq!(
-            NewUser::parse("<b>", "1234567890", Role::Tech).unwrap_err().field,
+            NewUser::parse("<b>", "1234567890", Role::Tech)
+                .unwrap_err()
+                .field,
             "username"
         );
     }

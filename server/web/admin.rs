@@ -8,11 +8,11 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 use super::AppState;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::{Layout, units_of};
-use crate::records::length_decimals;
 use crate::auth;
 use crate::db;
 use crate::db::users::User;
 use crate::error::{AppError, AppResult};
+use crate::records::length_decimals;
 use crate::records::settings::SettingsInput;
 use crate::records::user::{NewUser, Role, check_password};
 use crate::records::{FieldErrors, FormData, FormReader};
@@ -51,7 +51,15 @@ pub async fn settings(State(state): State<AppState>, user: CurrentUser) -> AppRe
     let mut conn = state.pool.acquire().await?;
     let (page, settings) = Layout::load(&mut conn, &user, "settings", "Shop settings").await?;
     let form = settings_form(&settings);
-    Ok(Html(SettingsPage { page, form, errors: FieldErrors::default(), saved: false }.render()?))
+    Ok(Html(
+        SettingsPage {
+            page,
+            form,
+            errors: FieldErrors::default(),
+            saved: false,
+        }
+        .render()?,
+    ))
 }
 
 pub async fn save_settings(
@@ -70,7 +78,12 @@ pub async fn save_settings(
             Ok(Redirect::to("/settings?saved=1").into_response())
         }
         Err(errors) => {
-            let page = SettingsPage { page, form, errors, saved: false };
+            let page = SettingsPage {
+                page,
+                form,
+                errors,
+                saved: false,
+            };
             Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response())
         }
     }
@@ -96,14 +109,23 @@ async fn users_page(
     let mut conn = state.pool.acquire().await?;
     let (page, _) = Layout::load(&mut conn, user, "users", "Staff accounts").await?;
     let users = db::users::all(&mut conn).await?;
-    Ok(UsersPage { page, users, form, errors, notice }.render()?)
+    Ok(UsersPage {
+        page,
+        users,
+        form,
+        errors,
+        notice,
+    }
+    .render()?)
 }
 
 pub async fn users(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
     user.require_admin()?;
     let mut form = FormData::default();
     form.set("role", "tech");
-    Ok(Html(users_page(&state, &user, form, FieldErrors::default(), None).await?))
+    Ok(Html(
+        users_page(&state, &user, form, FieldErrors::default(), None).await?,
+    ))
 }
 
 pub async fn add_user(
@@ -124,7 +146,10 @@ pub async fn add_user(
     if let Some(new_user) = new_user {
         let hash = auth::hash_password(password).await?;
         let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
-        if db::users::by_name(&mut tx, &new_user.username).await?.is_some() {
+        if db::users::by_name(&mut tx, &new_user.username)
+            .await?
+            .is_some()
+        {
             errors.add("username", "that name is taken");
         } else {
             db::users::insert(&mut tx, &new_user, &hash).await?;
@@ -136,13 +161,20 @@ pub async fn add_user(
     Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response())
 }
 
-async fn set_disabled(state: &AppState, admin: &CurrentUser, id: i64, disabled: bool) -> AppResult<Response> {
+async fn set_disabled(
+    state: &AppState,
+    admin: &CurrentUser,
+    id: i64,
+    disabled: bool,
+) -> AppResult<Response> {
     admin.require_admin()?;
     if id == admin.id && disabled {
         return Err(AppError::Forbidden("you cannot disable your own account"));
     }
     let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
-    db::users::by_id(&mut tx, id).await?.ok_or(AppError::NotFound)?;
+    db::users::by_id(&mut tx, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     db::users::set_disabled(&mut tx, id, disabled).await?;
     if disabled {
         db::sessions::delete_for_user(&mut tx, id).await?;
@@ -184,10 +216,22 @@ pub async fn reset_password(
     }
     let hash = auth::hash_password(password).await?;
     let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
-    let target = db::users::by_id(&mut tx, id).await?.ok_or(AppError::NotFound)?;
+    let target = db::users::by_id(&mut tx, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     db::users::set_password(&mut tx, id, &hash).await?;
     db::sessions::delete_for_user(&mut tx, id).await?;
     tx.commit().await?;
     let notice = format!("New password set for {}.", target.username);
-    Ok(Html(users_page(&state, &user, FormData::default(), FieldErrors::default(), Some(notice)).await?).into_response())
+    Ok(Html(
+        users_page(
+            &state,
+            &user,
+            FormData::default(),
+            FieldErrors::default(),
+            Some(notice),
+        )
+        .await?,
+    )
+    .into_response())
 }

@@ -3,13 +3,13 @@
 //! Errors are `{"error": "...", "field": "..."}`: 422 for bad input, 404 for unknown ids,
 //! 401 without a valid bearer token.
 
+use axum::Json;
 use axum::Router;
 use axum::extract::{FromRequestParts, Query, State};
 use axum::http::StatusCode;
 use axum::http::request::Parts;
 use axum::response::{IntoResponse, Response};
 use axum::routing::get;
-use axum::Json;
 use serde::Deserialize;
 use sqlx::SqliteConnection;
 
@@ -30,18 +30,33 @@ pub fn routes() -> Router<AppState> {
     Router::new()
         .route("/customers", get(customers_list).post(customer_create))
         .route("/customers/{id}", get(customer_get).put(customer_update))
-        .route("/customers/{id}/cars", get(cars_of_customer).post(car_create))
+        .route(
+            "/customers/{id}/cars",
+            get(cars_of_customer).post(car_create),
+        )
         .route("/cars", get(cars_list))
         .route("/cars/{id}", get(car_get).put(car_update))
         .route("/cars/{id}/builds", get(builds_of_car).post(build_create))
         .route("/builds", get(builds_list))
         .route("/builds/{id}", get(build_get).put(build_update))
-        .route("/builds/{id}/setups", get(setups_of_build).post(setup_create))
+        .route(
+            "/builds/{id}/setups",
+            get(setups_of_build).post(setup_create),
+        )
         .route("/setups/{id}", get(setup_get).put(setup_update))
-        .route("/builds/{id}/bench-tests", get(bench_of_build).post(bench_create))
-        .route("/builds/{id}/measurements", get(heights_of_build).post(height_create))
+        .route(
+            "/builds/{id}/bench-tests",
+            get(bench_of_build).post(bench_create),
+        )
+        .route(
+            "/builds/{id}/measurements",
+            get(heights_of_build).post(height_create),
+        )
         .route("/measurements/{id}", get(height_get).put(height_update))
-        .route("/builds/{id}/passes", get(passes_of_build).post(pass_create))
+        .route(
+            "/builds/{id}/passes",
+            get(passes_of_build).post(pass_create),
+        )
         .route("/passes/{id}", get(pass_get).put(pass_update))
         .fallback(api_not_found)
 }
@@ -87,7 +102,11 @@ async fn conn(state: &AppState) -> Result<sqlx::pool::PoolConnection<sqlx::Sqlit
 }
 
 async fn write_tx(state: &AppState) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, ApiError> {
-    Ok(state.pool.begin_with("BEGIN IMMEDIATE").await.map_err(AppError::from)?)
+    Ok(state
+        .pool
+        .begin_with("BEGIN IMMEDIATE")
+        .await
+        .map_err(AppError::from)?)
 }
 
 async fn build_exists(conn: &mut SqliteConnection, id: i64) -> Result<db::builds::Build, ApiError> {
@@ -102,11 +121,19 @@ async fn customers_list(
     Query(q): Query<ListQuery>,
 ) -> ApiResult<serde_json::Value> {
     let (rows, total) = db::customers::search(&mut *conn(&s).await?, &q.q, q.page).await?;
-    Ok(Json(serde_json::json!({ "customers": rows, "total": total, "page": q.page })))
+    Ok(Json(
+        serde_json::json!({ "customers": rows, "total": total, "page": q.page }),
+    ))
 }
 
-async fn customer_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::customers::Customer> {
-    Ok(Json(found(db::customers::by_id(&mut *conn(&s).await?, id).await?)?))
+async fn customer_get(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<db::customers::Customer> {
+    Ok(Json(found(
+        db::customers::by_id(&mut *conn(&s).await?, id).await?,
+    )?))
 }
 
 async fn customer_create(
@@ -140,18 +167,28 @@ async fn customer_update(
 
 // Cars
 
-async fn cars_list(State(s): State<AppState>, _: ApiUser, Query(q): Query<ListQuery>) -> ApiResult<Vec<db::cars::Car>> {
+async fn cars_list(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Query(q): Query<ListQuery>,
+) -> ApiResult<Vec<db::cars::Car>> {
     Ok(Json(db::cars::page(&mut *conn(&s).await?, q.page).await?))
 }
 
-async fn cars_of_customer(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::cars::Car>> {
+async fn cars_of_customer(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<Vec<db::cars::Car>> {
     let mut c = conn(&s).await?;
     found(db::customers::by_id(&mut c, id).await?)?;
     Ok(Json(db::cars::for_customer(&mut c, id).await?))
 }
 
 async fn car_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::cars::Car> {
-    Ok(Json(found(db::cars::by_id(&mut *conn(&s).await?, id).await?)?))
+    Ok(Json(found(
+        db::cars::by_id(&mut *conn(&s).await?, id).await?,
+    )?))
 }
 
 async fn car_create(
@@ -186,17 +223,29 @@ async fn car_update(
 
 // Builds
 
-async fn builds_list(State(s): State<AppState>, _: ApiUser, Query(q): Query<ListQuery>) -> ApiResult<Vec<db::builds::Build>> {
+async fn builds_list(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Query(q): Query<ListQuery>,
+) -> ApiResult<Vec<db::builds::Build>> {
     Ok(Json(db::builds::page(&mut *conn(&s).await?, q.page).await?))
 }
 
-async fn builds_of_car(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::builds::Build>> {
+async fn builds_of_car(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<Vec<db::builds::Build>> {
     let mut c = conn(&s).await?;
     found(db::cars::by_id(&mut c, id).await?)?;
     Ok(Json(db::builds::for_car(&mut c, id).await?))
 }
 
-async fn build_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::builds::Build> {
+async fn build_get(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<db::builds::Build> {
     Ok(Json(build_exists(&mut *conn(&s).await?, id).await?))
 }
 
@@ -232,14 +281,24 @@ async fn build_update(
 
 // Setup changes
 
-async fn setups_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::setups::Setup>> {
+async fn setups_of_build(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<Vec<db::setups::Setup>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::setups::for_build(&mut c, id).await?))
 }
 
-async fn setup_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::setups::Setup> {
-    Ok(Json(found(db::setups::by_id(&mut *conn(&s).await?, id).await?)?))
+async fn setup_get(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<db::setups::Setup> {
+    Ok(Json(found(
+        db::setups::by_id(&mut *conn(&s).await?, id).await?,
+    )?))
 }
 
 async fn setup_create(
@@ -274,7 +333,11 @@ async fn setup_update(
 
 // Bench tests
 
-async fn bench_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::bench::BenchTest>> {
+async fn bench_of_build(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<Vec<db::bench::BenchTest>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::bench::for_build(&mut c, id).await?))
@@ -298,17 +361,31 @@ async fn bench_create(
 
 // Cover-height measurements
 
-async fn heights_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::heights::Height>> {
+async fn heights_of_build(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<Vec<db::heights::Height>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::heights::for_build(&mut c, id).await?))
 }
 
-async fn height_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::heights::Height> {
-    Ok(Json(found(db::heights::by_id(&mut *conn(&s).await?, id).await?)?))
+async fn height_get(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<db::heights::Height> {
+    Ok(Json(found(
+        db::heights::by_id(&mut *conn(&s).await?, id).await?,
+    )?))
 }
 
-async fn height_context(conn: &mut SqliteConnection, build_id: i64, except: i64) -> Result<HeightContext, ApiError> {
+async fn height_context(
+    conn: &mut SqliteConnection,
+    build_id: i64,
+    except: i64,
+) -> Result<HeightContext, ApiError> {
     let build = build_exists(conn, build_id).await?;
     Ok(HeightContext {
         shims_in_stack: build.data.shim_stack_mm.len(),
@@ -349,14 +426,24 @@ async fn height_update(
 
 // Track passes
 
-async fn passes_of_build(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<Vec<db::passes::Pass>> {
+async fn passes_of_build(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<Vec<db::passes::Pass>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::passes::for_build(&mut c, id).await?))
 }
 
-async fn pass_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::passes::Pass> {
-    Ok(Json(found(db::passes::by_id(&mut *conn(&s).await?, id).await?)?))
+async fn pass_get(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<db::passes::Pass> {
+    Ok(Json(found(
+        db::passes::by_id(&mut *conn(&s).await?, id).await?,
+    )?))
 }
 
 async fn pass_create(

@@ -10,13 +10,11 @@ use sqlx::SqliteConnection;
 use super::AppState;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::{Layout, units_of};
-use crate::records::length_decimals;
 use crate::clutch::friction::FacingMaterial;
-use crate::db;
 use crate::clutch::spring_health;
 use crate::clutch::springs::{BenchPoint, SetSpread};
+use crate::db;
 use crate::db::bench::{BenchSpring, BenchTest};
-use crate::records::settings::SettingsInput;
 use crate::db::builds::{Build, BuildOwner};
 use crate::db::cars::Car;
 use crate::db::heights::Height;
@@ -25,6 +23,8 @@ use crate::db::setups::Setup;
 use crate::error::{AppError, AppResult};
 use crate::records::build::BuildInput;
 use crate::records::date::Date;
+use crate::records::length_decimals;
+use crate::records::settings::SettingsInput;
 use crate::records::{FieldErrors, FormData, FormReader};
 
 /// One quick-entry form on the build page: what was typed and what was wrong with it.
@@ -60,11 +60,15 @@ fn bench_views(tests: Vec<BenchTest>, settings: &SettingsInput) -> Vec<BenchView
             readings: t
                 .springs
                 .iter()
-                .map(|s| BenchPoint { compression_mm: s.compression_mm, force_n: s.force_n })
+                .map(|s| BenchPoint {
+                    compression_mm: s.compression_mm,
+                    force_n: s.force_n,
+                })
                 .collect(),
         })
         .collect();
-    let reviews = spring_health::review(&inputs, settings.spring_spread_pct, settings.spring_sag_pct).ok();
+    let reviews =
+        spring_health::review(&inputs, settings.spring_spread_pct, settings.spring_sag_pct).ok();
     let mut views: Vec<BenchView> = tests
         .into_iter()
         .enumerate()
@@ -76,11 +80,20 @@ fn bench_views(tests: Vec<BenchTest>, settings: &SettingsInput) -> Vec<BenchView
                 .enumerate()
                 .map(|(j, s)| {
                     let rate = review.and_then(|r| r.rates.get(j).copied());
-                    let sag = review.and_then(|r| r.sagged.iter().find(|(pos, _)| *pos == j + 1).map(|(_, pct)| *pct));
+                    let sag = review.and_then(|r| {
+                        r.sagged
+                            .iter()
+                            .find(|(pos, _)| *pos == j + 1)
+                            .map(|(_, pct)| *pct)
+                    });
                     (s.clone(), rate, sag)
                 })
                 .collect();
-            BenchView { springs, spread: review.map(|r| r.spread), test }
+            BenchView {
+                springs,
+                spread: review.map(|r| r.spread),
+                test,
+            }
         })
         .collect();
     views.reverse();
@@ -147,7 +160,10 @@ impl ShowPage {
     }
 
     pub fn thread(&self) -> String {
-        match (self.build.data.adjuster_tpi, self.build.data.adjuster_pitch_mm) {
+        match (
+            self.build.data.adjuster_tpi,
+            self.build.data.adjuster_pitch_mm,
+        ) {
             (Some(tpi), _) => format!("{tpi} threads per inch"),
             (_, Some(p)) => format!("{p} mm pitch"),
             _ => "not recorded".into(),
@@ -162,9 +178,13 @@ pub async fn render_page(
     id: i64,
     forms: EntryForms,
 ) -> AppResult<String> {
-    let build = db::builds::by_id(conn, id).await?.ok_or(AppError::NotFound)?;
+    let build = db::builds::by_id(conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let owner = db::builds::owner(conn, id).await?;
-    let car = db::cars::by_id(conn, build.car_id).await?.ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(conn, build.car_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let title = format!("{} – {}", owner.customer_name, build_title(&build));
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
     let setups = db::setups::for_build(conn, id).await?;
@@ -172,8 +192,10 @@ pub async fn render_page(
     let heights = db::heights::for_build(conn, id).await?;
     let passes = db::passes::for_build(conn, id).await?;
     let forms = default_forms(forms, &car, &setups, &heights);
-    let material = FacingMaterial::from_key(&build.data.facing_material)
-        .map_or_else(|| build.data.facing_material.clone(), |m| m.label().to_string());
+    let material = FacingMaterial::from_key(&build.data.facing_material).map_or_else(
+        || build.data.facing_material.clone(),
+        |m| m.label().to_string(),
+    );
     let spring_rows = (1..=build.data.spring_count.clamp(0, 24) as usize).collect();
     Ok(ShowPage {
         page,
@@ -193,19 +215,29 @@ pub async fn render_page(
 
 /// Fills each entry form the user has not just submitted with sensible defaults: today's date
 /// and the build's last values, so a bench entry is a few keystrokes.
-fn default_forms(forms: EntryForms, car: &Car, setups: &[Setup], heights: &[Height]) -> FilledForms {
+fn default_forms(
+    forms: EntryForms,
+    car: &Car,
+    setups: &[Setup],
+    heights: &[Height],
+) -> FilledForms {
     let today = Date::today().to_string();
     let blank = |date_field: &str| {
         let mut form = FormData::default();
         form.set(date_field, &today);
-        EntryForm { form, errors: FieldErrors::default() }
+        EntryForm {
+            form,
+            errors: FieldErrors::default(),
+        }
     };
     FilledForms {
         setup: forms.setup.unwrap_or_else(|| {
             let mut e = blank("changed_on");
             if let Some(s) = setups.last() {
-                e.form.set_num("adjuster_turns", Some(s.data.adjuster_turns), 3);
-                e.form.set_num("counterweight_g", Some(s.data.counterweight_g), 1);
+                e.form
+                    .set_num("adjuster_turns", Some(s.data.adjuster_turns), 3);
+                e.form
+                    .set_num("counterweight_g", Some(s.data.counterweight_g), 1);
                 e.form.set_num("mu", s.data.mu, 3);
             }
             e
@@ -242,7 +274,9 @@ pub async fn show(
     PathId(id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    Ok(Html(render_page(&mut conn, &user, id, EntryForms::default()).await?))
+    Ok(Html(
+        render_page(&mut conn, &user, id, EntryForms::default()).await?,
+    ))
 }
 
 #[derive(Template)]
@@ -259,8 +293,18 @@ pub struct FormPage {
 
 impl FormPage {
     fn new(page: Layout, car: Car, id: Option<i64>, form: FormData, errors: FieldErrors) -> Self {
-        let materials = FacingMaterial::ALL.iter().map(|m| (m.key(), m.label())).collect();
-        Self { page, car, id, form, errors, materials }
+        let materials = FacingMaterial::ALL
+            .iter()
+            .map(|m| (m.key(), m.label()))
+            .collect();
+        Self {
+            page,
+            car,
+            id,
+            form,
+            errors,
+            materials,
+        }
     }
 
     pub fn action(&self) -> String {
@@ -277,7 +321,9 @@ pub async fn new(
     PathId(car_id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let car = db::cars::by_id(&mut conn, car_id).await?.ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(&mut conn, car_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(&mut conn, &user, "customers", "New clutch build").await?;
     let mut form = FormData::default();
     form.set("disc_count", "1");
@@ -288,7 +334,9 @@ pub async fn new(
         Some(page.units().mm_to_length(settings.shimming_limit_mm)),
         length_decimals(page.units()),
     );
-    Ok(Html(FormPage::new(page, car, None, form, FieldErrors::default()).render()?))
+    Ok(Html(
+        FormPage::new(page, car, None, form, FieldErrors::default()).render()?,
+    ))
 }
 
 pub async fn edit(
@@ -297,11 +345,17 @@ pub async fn edit(
     PathId(id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let build = db::builds::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
-    let car = db::cars::by_id(&mut conn, build.car_id).await?.ok_or(AppError::NotFound)?;
+    let build = db::builds::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(&mut conn, build.car_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit clutch build").await?;
     let form = build.data.to_form(page.units());
-    Ok(Html(FormPage::new(page, car, Some(id), form, FieldErrors::default()).render()?))
+    Ok(Html(
+        FormPage::new(page, car, Some(id), form, FieldErrors::default()).render()?,
+    ))
 }
 
 pub async fn create(
@@ -318,7 +372,9 @@ pub async fn update(
     signed: SignedForm,
 ) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
-    let build = db::builds::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let build = db::builds::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     drop(conn);
     save(state, signed, build.car_id, Some(id)).await
 }
@@ -330,7 +386,9 @@ async fn save(
     id: Option<i64>,
 ) -> AppResult<Response> {
     let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
-    let car = db::cars::by_id(&mut tx, car_id).await?.ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(&mut tx, car_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(&mut tx, &user, "customers", "Clutch build").await?;
     let mut reader = FormReader::new(&form, units_of(&settings));
     let input = BuildInput::from_form(&mut reader);

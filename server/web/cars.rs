@@ -31,13 +31,24 @@ pub async fn show(
     PathId(id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let car = db::cars::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let customer = db::customers::by_id(&mut conn, car.customer_id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let (page, _) = Layout::load(&mut conn, &user, "customers", car.data.description.clone()).await?;
+    let (page, _) =
+        Layout::load(&mut conn, &user, "customers", car.data.description.clone()).await?;
     let builds = db::builds::for_car(&mut conn, id).await?;
-    Ok(Html(ShowPage { page, car, customer, builds }.render()?))
+    Ok(Html(
+        ShowPage {
+            page,
+            car,
+            customer,
+            builds,
+        }
+        .render()?,
+    ))
 }
 
 #[derive(Template)]
@@ -66,9 +77,17 @@ pub async fn new(
     PathId(customer_id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let customer = db::customers::by_id(&mut conn, customer_id).await?.ok_or(AppError::NotFound)?;
+    let customer = db::customers::by_id(&mut conn, customer_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "New car").await?;
-    let page = FormPage { page, customer, id: None, form: FormData::default(), errors: FieldErrors::default() };
+    let page = FormPage {
+        page,
+        customer,
+        id: None,
+        form: FormData::default(),
+        errors: FieldErrors::default(),
+    };
     Ok(Html(page.render()?))
 }
 
@@ -78,11 +97,24 @@ pub async fn edit(
     PathId(id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let car = db::cars::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
-    let customer = db::customers::by_id(&mut conn, car.customer_id).await?.ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let customer = db::customers::by_id(&mut conn, car.customer_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit car").await?;
     let form = car.data.to_form(page.units());
-    Ok(Html(FormPage { page, customer, id: Some(id), form, errors: FieldErrors::default() }.render()?))
+    Ok(Html(
+        FormPage {
+            page,
+            customer,
+            id: Some(id),
+            form,
+            errors: FieldErrors::default(),
+        }
+        .render()?,
+    ))
 }
 
 pub async fn create(
@@ -99,7 +131,9 @@ pub async fn update(
     signed: SignedForm,
 ) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
-    let car = db::cars::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let car = db::cars::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     drop(conn);
     save(state, signed, car.customer_id, Some(id)).await
 }
@@ -111,14 +145,22 @@ async fn save(
     id: Option<i64>,
 ) -> AppResult<Response> {
     let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
-    let customer = db::customers::by_id(&mut tx, customer_id).await?.ok_or(AppError::NotFound)?;
+    let customer = db::customers::by_id(&mut tx, customer_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(&mut tx, &user, "customers", "Car").await?;
     let mut reader = FormReader::new(&form, units_of(&settings));
     let input = CarInput::from_form(&mut reader);
     let checked = match input.check(reader.errors) {
         Ok(c) => c,
         Err(errors) => {
-            let page = FormPage { page, customer, id, form, errors };
+            let page = FormPage {
+                page,
+                customer,
+                id,
+                form,
+                errors,
+            };
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
         }
     };

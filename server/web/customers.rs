@@ -37,7 +37,11 @@ pub struct ListPage {
 impl ListPage {
     /// The link to another page of the same search.
     pub fn page_link(&self, page_no: &i64) -> String {
-        format!("/customers?q={}&page={}", super::url_encode(&self.q), page_no)
+        format!(
+            "/customers?q={}&page={}",
+            super::url_encode(&self.q),
+            page_no
+        )
     }
 }
 
@@ -52,7 +56,15 @@ pub async fn list(
     let (rows, total) = db::customers::search(&mut conn, &q.q, page_no).await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     Ok(Html(
-        ListPage { page, q: q.q, rows, total, page_no, pages }.render()?,
+        ListPage {
+            page,
+            q: q.q,
+            rows,
+            total,
+            page_no,
+            pages,
+        }
+        .render()?,
     ))
 }
 
@@ -70,10 +82,19 @@ pub async fn show(
     PathId(id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let customer = db::customers::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let customer = db::customers::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", customer.data.name.clone()).await?;
     let cars = db::cars::for_customer(&mut conn, id).await?;
-    Ok(Html(ShowPage { page, customer, cars }.render()?))
+    Ok(Html(
+        ShowPage {
+            page,
+            customer,
+            cars,
+        }
+        .render()?,
+    ))
 }
 
 #[derive(Template)]
@@ -88,14 +109,20 @@ pub struct FormPage {
 
 impl FormPage {
     pub fn action(&self) -> String {
-        self.id.map_or("/customers".into(), |id| format!("/customers/{id}"))
+        self.id
+            .map_or("/customers".into(), |id| format!("/customers/{id}"))
     }
 }
 
 pub async fn new(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "New customer").await?;
-    let page = FormPage { page, id: None, form: FormData::default(), errors: FieldErrors::default() };
+    let page = FormPage {
+        page,
+        id: None,
+        form: FormData::default(),
+        errors: FieldErrors::default(),
+    };
     Ok(Html(page.render()?))
 }
 
@@ -105,10 +132,20 @@ pub async fn edit(
     PathId(id): PathId,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let customer = db::customers::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let customer = db::customers::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit customer").await?;
     let form = customer.data.to_form();
-    Ok(Html(FormPage { page, id: Some(id), form, errors: FieldErrors::default() }.render()?))
+    Ok(Html(
+        FormPage {
+            page,
+            id: Some(id),
+            form,
+            errors: FieldErrors::default(),
+        }
+        .render()?,
+    ))
 }
 
 pub async fn create(State(state): State<AppState>, signed: SignedForm) -> AppResult<Response> {
@@ -124,7 +161,11 @@ pub async fn update(
 }
 
 /// Checks the form and saves it in one transaction, or re-renders it with the messages.
-async fn save(state: AppState, SignedForm { user, form }: SignedForm, id: Option<i64>) -> AppResult<Response> {
+async fn save(
+    state: AppState,
+    SignedForm { user, form }: SignedForm,
+    id: Option<i64>,
+) -> AppResult<Response> {
     let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
     let (page, settings) = Layout::load(&mut tx, &user, "customers", "Customer").await?;
     let mut reader = FormReader::new(&form, super::layout::units_of(&settings));
@@ -132,7 +173,12 @@ async fn save(state: AppState, SignedForm { user, form }: SignedForm, id: Option
     let checked = match input.check(reader.errors) {
         Ok(c) => c,
         Err(errors) => {
-            let page = FormPage { page, id, form, errors };
+            let page = FormPage {
+                page,
+                id,
+                form,
+                errors,
+            };
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
         }
     };

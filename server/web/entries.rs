@@ -53,23 +53,41 @@ struct Entry {
 impl Entry {
     async fn begin(state: &AppState, build_id: i64, signed: SignedForm) -> AppResult<Self> {
         let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
-        let build = db::builds::by_id(&mut tx, build_id).await?.ok_or(AppError::NotFound)?;
+        let build = db::builds::by_id(&mut tx, build_id)
+            .await?
+            .ok_or(AppError::NotFound)?;
         let units = units_of(&db::settings::get(&mut tx).await?);
-        Ok(Self { tx, build, units, user: signed.user, form: signed.form })
+        Ok(Self {
+            tx,
+            build,
+            units,
+            user: signed.user,
+            form: signed.form,
+        })
     }
 
     /// Commits and goes back to the build page, or shows the page again with the messages.
-    async fn finish(self, state: &AppState, which: Which, result: Result<(), FieldErrors>) -> AppResult<Response> {
+    async fn finish(
+        self,
+        state: &AppState,
+        which: Which,
+        result: Result<(), FieldErrors>,
+    ) -> AppResult<Response> {
         let id = self.build.id;
         let errors = match result {
             Ok(()) => {
                 self.tx.commit().await?;
-                return Ok(Redirect::to(&format!("/builds/{id}#{}", which.anchor())).into_response());
+                return Ok(
+                    Redirect::to(&format!("/builds/{id}#{}", which.anchor())).into_response()
+                );
             }
             Err(errors) => errors,
         };
         drop(self.tx);
-        let entry = Some(EntryForm { form: self.form, errors });
+        let entry = Some(EntryForm {
+            form: self.form,
+            errors,
+        });
         let mut forms = EntryForms::default();
         match which {
             Which::Setup => forms.setup = entry,

@@ -72,7 +72,11 @@ impl FromRequestParts<AppState> for CurrentUser {
         let back_to = || {
             let next = parts.uri.path_and_query().map_or("/", |p| p.as_str());
             // Only come back to pages someone can GET.
-            let next = if parts.method == axum::http::Method::GET { next } else { "/" };
+            let next = if parts.method == axum::http::Method::GET {
+                next
+            } else {
+                "/"
+            };
             AppError::LoginRequired(next.to_string())
         };
         let Some(token) = cookie(&parts.headers, SESSION_COOKIE) else {
@@ -182,7 +186,11 @@ pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
     let mut de = serde_json::Deserializer::from_slice(bytes);
     serde_path_to_error::deserialize(&mut de).map_err(|err| {
         let path = err.path().to_string();
-        let field = if path == "." { "body".to_string() } else { path };
+        let field = if path == "." {
+            "body".to_string()
+        } else {
+            path
+        };
         let inner = err.into_inner();
         let message = if inner.is_syntax() || inner.is_eof() {
             "the body is not valid JSON".to_string()
@@ -203,7 +211,10 @@ impl<S: Send + Sync> FromRequestParts<S> for PathId {
     type Rejection = AppError;
 
     async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, AppError> {
-        #[expect(clippy::disallowed_types, reason = "this is the one wrapper around Path")]
+        #[expect(
+            clippy::disallowed_types,
+            reason = "this is the one wrapper around Path"
+        )]
         let path = axum::extract::Path::<i64>::from_request_parts(parts, state).await;
         match path {
             Ok(axum::extract::Path(id)) if id > 0 => Ok(Self(id)),
@@ -228,7 +239,10 @@ pub fn url_encode(text: &str) -> String {
 impl axum::extract::OptionalFromRequestParts<AppState> for CurrentUser {
     type Rejection = AppError;
 
-    async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Option<Self>, AppError> {
+    async fn from_request_parts(
+        parts: &mut Parts,
+        state: &AppState,
+    ) -> Result<Option<Self>, AppError> {
         match <Self as FromRequestParts<AppState>>::from_request_parts(parts, state).await {
             Ok(user) => Ok(Some(user)),
             Err(AppError::LoginRequired(_)) => Ok(None),

@@ -48,5 +48,14 @@ pub async fn front(
         db::customers::search(&mut conn, &q.q, 0).await?
     };
     let recent = db::activity::recent(&mut conn, 12).await?;
-    Ok(Html(FrontPage { page, q: q.q, found, found_total, recent }.render()?))
+    Ok(Html(
+        FrontPage {
+            page,
+            q: q.q,
+            found,
+            found_total,
+            recent,
+        }
+        .render()?,
+    ))
 }

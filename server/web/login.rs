@@ -28,10 +28,7 @@ pub struct NextQuery {
     next: String,
 }
 
-pub async fn form(
-    user: Option<CurrentUser>,
-    Query(q): Query<NextQuery>,
-) -> AppResult<Response> {
+pub async fn form(user: Option<CurrentUser>, Query(q): Query<NextQuery>) -> AppResult<Response> {
     if user.is_some() {
         return Ok(Redirect::to(safe_next(&q.next)).into_response());
     }
@@ -46,7 +43,10 @@ pub async fn form(
 /// Failed sign-ins allowed per name in 15 minutes before each further try is slowed.
 const FREE_FAILURES: i64 = 3;
 
-pub async fn submit(State(state): State<AppState>, PlainForm(form): PlainForm) -> AppResult<Response> {
+pub async fn submit(
+    State(state): State<AppState>,
+    PlainForm(form): PlainForm,
+) -> AppResult<Response> {
     let username = form.get("username").to_string();
     let password = form.get("password").to_string();
     let next = form.get("next").to_string();

@@ -41,10 +41,6 @@ impl Show {
         Self { units }
     }
 
-    pub fn is_metric(&self) -> bool {
-        self.units == Units::Metric
-    }
-
     /// Decimals for lengths in these units.
     pub fn length_decimals(&self) -> usize {
         length_decimals(self.units)
@@ -82,11 +78,6 @@ impl Show {
         mm.map_or_else(|| DASH.into(), |v| self.len(v))
     }
 
-    pub fn force(&self, n: impl Num) -> String {
-        let n = n.value();
-        format!("{:.0} {}", self.units.n_to_force(n), self.force_unit())
-    }
-
     pub fn force_num(&self, n: impl Num) -> String {
         let n = n.value();
         format!("{:.0}", self.units.n_to_force(n))
@@ -94,7 +85,11 @@ impl Show {
 
     pub fn rate(&self, n_per_mm: impl Num) -> String {
         let n_per_mm = n_per_mm.value();
-        format!("{:.1} {}", self.units.n_per_mm_to_rate(n_per_mm), self.rate_unit())
+        format!(
+            "{:.1} {}",
+            self.units.n_per_mm_to_rate(n_per_mm),
+            self.rate_unit()
+        )
     }
 
     pub fn rate_num(&self, n_per_mm: impl Num) -> String {
@@ -112,11 +107,6 @@ impl Show {
 
     pub fn opt_torque(&self, nm: &Option<f64>) -> String {
         nm.map_or_else(|| DASH.into(), |v| self.torque(v))
-    }
-
-    pub fn torque_num(&self, nm: impl Num) -> String {
-        let nm = nm.value();
-        format!("{:.0}", self.units.nm_to_torque(nm))
     }
 
     pub fn opt_weight(&self, kg: &Option<f64>) -> String {
@@ -155,7 +145,6 @@ impl Show {
     }
 }
 
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -164,6 +153,10 @@ mod tests {
     fn heights_show_to_the_thousandth_inch_or_hundredth_mm() {
         assert_eq!(Show::new(Units::Imperial).len(48.387), "1.905 in");
         assert_eq!(Show::new(Units::Metric).len(48.387), "48.39 mm");
-        assert_eq!(Show::new(Units::Imperial).force(4448.2216152605), "1000 lbf");
+        // 1000 lbf = 4448.2216152605 N exactly (NIST SP 811, App. B.8)
+        assert_eq!(
+            Show::new(Units::Imperial).force_num(4448.2216152605),
+            "1000"
+        );
     }
 }

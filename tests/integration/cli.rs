@@ -1,0 +1,127 @@
+//! The binary's commands, run as a user would.
+
+use std::io::{BufRead, BufReader, Write};
+use std::process::{Command, Stdio};
+
+use crate::support::TempDb;
+
+fn lockpoint() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+}
+
+fn run_with_stdin(args: &[&str], stdin: &str) -> std::process::Output {
+    let mut child = lockpoint()
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(stdin.as_bytes())
+        .unwrap();
+    child.wait_with_output().unwrap()
+}
+
+#[test]
+fn user_add_refuses_a_short_password_and_accepts_a_long_one() {
+    let db = TempDb::new();
+    let path = db.path.to_str().unwrap();
+    let short = run_with_stdin(
+        &["user", "add", "kim", "--role", "tech", "--db", path],
+        "short\n",
+    );
+    assert!(!short.status.success());
+    assert!(String::from_utf8_lossy(&short.stderr).contains("at least 10 characters"));
+    let ok = run_with_stdin(
+        &["user", "add", "kim", "--role", "admin", "--db", path],
+        "long enough pass\n",
+    );
+    assert!(
+        ok.status.success(),
+        "{}",
+        String::from_utf8_lossy(&ok.stderr)
+    );
+    let again = run_with_stdin(
+        &["user", "add", "kim", "--role", "admin", "--db", path],
+        "long enough pass\n",
+    );
+    assert!(!again.status.success(), "duplicate names are refused");
+
+    let token = run_with_stdin(&["token", "create", "kim", "--db", path], "");
+    assert!(token.status.success());
+    let token = String::from_utf8(token.stdout).unwrap();
+    assert!(token.trim().starts_with("lp_") && token.trim().len() == 67);
+    let revoke = run_with_stdin(&["token", "revoke", token.trim(), "--db", path], "");
+    assert!(revoke.status.success());
+    let twice = run_with_stdin(&["token", "revoke", token.trim(), "--db", path], "");
+    assert!(
+        !twice.status.success(),
+        "a revoked token cannot be revoked again"
+    );
+}
+
+#[test]
+fn serve_reports_the_real_port_and_stops_on_sigterm() {
+    let db = TempDb::new();
+    let mut child = lockpoint()
+        .args([
+            "serve",
+            "--db",
+            db.path.to_str().unwrap(),
+            "--addr",
+            "127.0.0.1:0",
+        ])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let mut line = String::new();
+    BufReader::new(child.stdout.take().unwrap())
+        .read_line(&mut line)
+        .unwrap();
+    let addr = line
+        .trim()
+        .strip_prefix("listening on http://")
+        .expect(&line)
+        .to_string();
+    assert!(!addr.ends_with(":0"), "{addr}");
+    let mut stream = std::net::TcpStream::connect(&addr).unwrap();
+    stream
+        .write_all(b"GET /healthz HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n")
+        .unwrap();
+    let mut reply = String::new();
+    std::io::Read::read_to_string(&mut stream, &mut reply).unwrap();
+    assert!(reply.starts_with("HTTP/1.1 200"), "{reply}");
+    let pid = child.id().to_string();
+    assert!(
+        Command::new("kill")
+            .args(["-TERM", &pid])
+            .status()
+            .unwrap()
+            .success()
+    );
+    let status = child.wait().unwrap();
+    assert!(status.success(), "clean exit on SIGTERM: {status:?}");
+}
+
+#[test]
+fn every_command_has_help() {
+    for args in [
+        vec!["--help"],
+        vec!["serve", "--help"],
+        vec!["user", "add", "--help"],
+        vec!["token", "create", "--help"],
+        vec!["token", "revoke", "--help"],
+    ] {
+        let out = lockpoint().args(&args).output().unwrap();
+        assert!(out.status.success(), "{args:?}");
+        assert!(
+            String::from_utf8_lossy(&out.stdout).contains("Usage"),
+            "{args:?}"
+        );
+    }
+}

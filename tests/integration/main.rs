@@ -1,0 +1,6 @@
+//! Integration tests: HTTP through the real router and a real SQLite file.
+
+mod access;
+mod cli;
+mod records;
+mod support;

@@ -1,0 +1,420 @@
+//! Recording a whole build, through the forms and through the API, and refusing bad input
+//! without saving any of it.
+
+use axum::http::StatusCode;
+use serde_json::json;
+
+use crate::support::{TestApp, id_from};
+
+const CURVE: &str = "rpm,torque\n3000,410\n4000,455\n5000,480\n6000,470\n7000,430";
+
+/// Creates customer, car and build through the forms; returns the build's page path.
+async fn build_through_forms(client: &crate::support::Client<'_>) -> String {
+    let c = client
+        .post(
+            "/customers",
+            &[("name", "Avery Lindqvist"), ("phone", "555-0101")],
+        )
+        .await;
+    assert_eq!(c.status, StatusCode::SEE_OTHER, "{}", c.body);
+    let customer = id_from(c.location());
+    let car = client
+        .post(
+            &format!("/customers/{customer}/cars"),
+            &[
+                ("description", "'70 coupe, 440 V8, 4-speed"),
+                ("launch_rpm", "4500"),
+                ("torque_curve", CURVE),
+            ],
+        )
+        .await;
+    assert_eq!(car.status, StatusCode::SEE_OTHER, "{}", car.body);
+    let car_id = id_from(car.location());
+    let build = client
+        .post(
+            &format!("/cars/{car_id}/builds"),
+            &[
+                ("disc_count", "1"),
+                ("facing_material", "organic"),
+                ("facing_od", "10.4"),
+                ("facing_id", "6.6"),
+                ("spring_count", "6"),
+                ("spring_rate", "380"),
+                ("adjuster_thread", "16"),
+                ("adjuster_thread_kind", "tpi"),
+                ("base_compression", "0.220"),
+                ("lever_count", "3"),
+                ("lever_mass_g", "12"),
+                ("lever_cg_radius", "4.1"),
+                ("lever_arm_ratio", "2.6"),
+                ("shim_stack", "0.010, 0.010, 0.020"),
+                ("shimming_limit", "0.015"),
+                ("status", "active"),
+            ],
+        )
+        .await;
+    assert_eq!(build.status, StatusCode::SEE_OTHER, "{}", build.body);
+    build.location().to_string()
+}
+
+#[tokio::test]
+async fn a_tech_records_a_whole_build_through_the_forms() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = build_through_forms(&client).await;
+
+    // Stored in storage units: 10.4 in = 264.16 mm; 380 lbf/in = 66.547... N/mm.
+    let (od, rate): (f64, f64) =
+        sqlx::query_as("SELECT facing_od_mm, spring_rate_n_per_mm FROM builds")
+            .fetch_one(&app.pool)
+            .await
+            .unwrap();
+    assert!((od - 264.16).abs() < 1e-9);
+    assert!((rate - 380.0 * 4.4482216152605 / 25.4).abs() < 1e-9);
+
+    let setup = client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-11-02"),
+                ("adjuster_turns", "1.5"),
+                ("counterweight_g", "24"),
+            ],
+        )
+        .await;
+    assert_eq!(setup.status, StatusCode::SEE_OTHER, "{}", setup.body);
+    let mut bench = vec![("tested_on", "2026-11-02"), ("test_height", "1.600")];
+    let rows: Vec<(String, String)> = (1..=6)
+        .flat_map(|i| {
+            [
+                (format!("free_length_{i}"), "2.100".to_string()),
+                (format!("force_{i}"), "190".to_string()),
+            ]
+        })
+        .collect();
+    bench.extend(rows.iter().map(|(k, v)| (k.as_str(), v.as_str())));
+    let b = client.post(&format!("{build}/bench-tests"), &bench).await;
+    assert_eq!(b.status, StatusCode::SEE_OTHER, "{}", b.body);
+    let h = client
+        .post(
+            &format!("{build}/heights"),
+            &[
+                ("measured_on", "2026-11-02"),
+                ("height", "1.905"),
+                ("passes", "0"),
+                ("shims_pulled", "0"),
+            ],
+        )
+        .await;
+    assert_eq!(h.status, StatusCode::SEE_OTHER, "{}", h.body);
+    let p = client
+        .post(
+            &format!("{build}/passes"),
+            &[
+                ("run_on", "2026-11-08"),
+                ("track", "Test strip"),
+                ("launch_rpm", "4500"),
+                ("sixty_ft", "1.41"),
+                ("et", "10.9"),
+            ],
+        )
+        .await;
+    assert_eq!(p.status, StatusCode::SEE_OTHER, "{}", p.body);
+
+    let page = client.get(&build).await;
+    assert_eq!(page.status, StatusCode::OK);
+    assert!(page.body.contains("Avery Lindqvist"));
+    // bench: 190 lbf at 0.500 in is 380.0 lbf/in
+    assert!(page.body.contains("380.0"), "spring rate shown");
+    assert!(
+        page.body.contains("1.905"),
+        "cover height shown to the thousandth"
+    );
+    assert!(page.body.contains("Test strip"));
+    assert_eq!(app.count("bench_springs").await, 6);
+}
+
+#[tokio::test]
+async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = build_through_forms(&client).await;
+    let car_id: i64 = sqlx::query_scalar("SELECT id FROM cars")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+
+    let bad = client
+        .post(
+            &format!("/cars/{car_id}/builds"),
+            &[
+                ("disc_count", "1"),
+                ("facing_material", "organic"),
+                ("facing_od", "6.0"),
+                ("facing_id", "7.0"),
+                ("spring_count", "40"),
+            ],
+        )
+        .await;
+    assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(bad.body.contains("must be smaller than the outer diameter"));
+    assert!(bad.body.contains("must be between 1 and 24"));
+    assert!(bad.body.contains("value=\"7.0\""), "typed values are kept");
+    assert_eq!(app.count("builds").await, 1);
+
+    let h = client
+        .post(
+            &format!("{build}/heights"),
+            &[
+                ("measured_on", "2026-02-30"),
+                ("height", "-1"),
+                ("passes", "x"),
+                ("shims_pulled", "9"),
+            ],
+        )
+        .await;
+    assert_eq!(h.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(h.body.contains("no such date"));
+    assert!(h.body.contains("enter a number"));
+    assert!(h.body.contains("must be between 0 and 3"));
+    assert_eq!(app.count("cover_heights").await, 0);
+
+    let script = client
+        .post(
+            "/customers",
+            &[("name", "<script>alert(1)</script>"), ("email", "nope")],
+        )
+        .await;
+    assert_eq!(script.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        script.body.contains("&#60;script&#62;"),
+        "markup is escaped"
+    );
+    assert!(!script.body.contains("<script>alert"));
+    assert_eq!(app.count("customers").await, 1);
+}
+
+#[tokio::test]
+async fn a_measurement_cannot_go_back_in_passes() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = build_through_forms(&client).await;
+    let first = client
+        .post(
+            &format!("{build}/heights"),
+            &[
+                ("measured_on", "2026-11-02"),
+                ("height", "1.905"),
+                ("passes", "40"),
+                ("shims_pulled", "0"),
+            ],
+        )
+        .await;
+    assert_eq!(first.status, StatusCode::SEE_OTHER);
+    let back = client
+        .post(
+            &format!("{build}/heights"),
+            &[
+                ("measured_on", "2026-11-03"),
+                ("height", "1.906"),
+                ("passes", "20"),
+                ("shims_pulled", "0"),
+            ],
+        )
+        .await;
+    assert_eq!(back.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(back.body.contains("passes cannot go backwards"));
+    assert_eq!(app.count("cover_heights").await, 1);
+}
+
+#[tokio::test]
+async fn the_api_records_a_whole_build_and_names_bad_fields() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let c = app
+        .api(
+            "POST",
+            "/api/v1/customers",
+            t,
+            Some(json!({"name": "Rosa Vantongeren", "phone": "555-0109"})),
+        )
+        .await;
+    assert_eq!(c.status, StatusCode::CREATED, "{}", c.body);
+    let cid = c.json()["id"].as_i64().unwrap();
+    let car = app
+        .api(
+            "POST",
+            &format!("/api/v1/customers/{cid}/cars"),
+            t,
+            Some(json!({"description": "'69 coupe, 428 V8, 4-speed",
+                        "torque_curve_nm": [[3000, 550], [5000, 650], [4000, 600], [6000, 620]]})),
+        )
+        .await;
+    assert_eq!(car.status, StatusCode::CREATED, "{}", car.body);
+    assert_eq!(
+        car.json()["torque_curve_nm"][1][0],
+        4000.0,
+        "curve is sorted"
+    );
+    let car_id = car.json()["id"].as_i64().unwrap();
+
+    let build_body = json!({"disc_count": 2, "facing_material": "sintered_iron", "facing_od_mm": 184.0,
+        "facing_id_mm": 120.0, "spring_count": 6, "spring_rate_n_per_mm": 55.0, "adjuster_pitch_mm": 1.5,
+        "lever_count": 3, "lever_gain_n_per_g": 2.0, "shim_stack_mm": [0.25, 0.25]});
+    let b = app
+        .api(
+            "POST",
+            &format!("/api/v1/cars/{car_id}/builds"),
+            t,
+            Some(build_body.clone()),
+        )
+        .await;
+    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
+    let bid = b.json()["id"].as_i64().unwrap();
+
+    let bench = app
+        .api("POST", &format!("/api/v1/builds/{bid}/bench-tests"), t,
+            Some(json!({"tested_on": "2026-11-01", "springs": [{"compression_mm": 12.0, "force_n": 660.0}]})))
+        .await;
+    assert_eq!(bench.status, StatusCode::CREATED, "{}", bench.body);
+    let m = app
+        .api("POST", &format!("/api/v1/builds/{bid}/measurements"), t,
+            Some(json!({"measured_on": "2026-11-01", "height_mm": 48.4, "passes": 0, "shims_pulled": 0})))
+        .await;
+    assert_eq!(m.status, StatusCode::CREATED, "{}", m.body);
+    let s = app
+        .api(
+            "POST",
+            &format!("/api/v1/builds/{bid}/setups"),
+            t,
+            Some(
+                json!({"changed_on": "2026-11-01", "adjuster_turns": 2.0, "counterweight_g": 20.0}),
+            ),
+        )
+        .await;
+    assert_eq!(s.status, StatusCode::CREATED, "{}", s.body);
+    let p = app
+        .api("POST", &format!("/api/v1/builds/{bid}/passes"), t,
+            Some(json!({"run_on": "2026-11-08", "track": "North strip", "et_s": 9.8, "sixty_ft_s": 1.3})))
+        .await;
+    assert_eq!(p.status, StatusCode::CREATED, "{}", p.body);
+    let list = app
+        .api(
+            "GET",
+            &format!("/api/v1/builds/{bid}/measurements"),
+            t,
+            None,
+        )
+        .await;
+    assert_eq!(list.json().as_array().unwrap().len(), 1);
+
+    // Range, type and relation errors name the field; nothing is saved.
+    let mut bad = build_body.clone();
+    bad["facing_id_mm"] = json!(200.0);
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/cars/{car_id}/builds"),
+            t,
+            Some(bad),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(r.json()["field"], "facing_id_mm");
+    let mut wrong_type = build_body.clone();
+    wrong_type["spring_count"] = json!("six");
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/cars/{car_id}/builds"),
+            t,
+            Some(wrong_type),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(r.json()["field"], "spring_count");
+    let r = app
+        .api("POST", &format!("/api/v1/builds/{bid}/measurements"), t,
+            Some(json!({"measured_on": "2026-11-02", "height_mm": 48.5, "passes": 10, "shims_pulled": 3})))
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(r.json()["field"], "shims_pulled");
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/customers/999/cars",
+            t,
+            Some(json!({"description": "x"})),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::NOT_FOUND);
+    assert_eq!(app.count("builds").await, 1);
+    assert_eq!(app.count("cover_heights").await, 1);
+
+    let upd = app
+        .api(
+            "PUT",
+            &format!("/api/v1/customers/{cid}"),
+            t,
+            Some(json!({"name": "Rosa V."})),
+        )
+        .await;
+    assert_eq!(upd.status, StatusCode::OK);
+    assert_eq!(upd.json()["name"], "Rosa V.");
+}
+
+#[tokio::test]
+async fn customers_are_found_by_name_phone_or_car() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    build_through_forms(&client).await;
+    for q in ["lindq", "0101", "440 v8"] {
+        let page = client.get(&format!("/?q={}", q.replace(' ', "+"))).await;
+        assert!(page.body.contains("Avery Lindqvist"), "search {q:?}");
+    }
+    let none = client.get("/customers?q=zzz").await;
+    assert!(none.body.contains("Nobody matches"));
+}
+
+#[tokio::test]
+async fn the_demo_shop_loads_once_and_passes_its_own_checks() {
+    let app = TestApp::new().await;
+    // TestApp already has users: the demo must refuse a database that is not empty.
+    assert!(!lockpoint::demo::seed_if_empty(&app.pool).await.unwrap());
+    let fresh = crate::support::TempDb::new();
+    let pool = lockpoint::db::open(&fresh.path).await.unwrap();
+    assert!(lockpoint::demo::seed_if_empty(&pool).await.unwrap());
+    assert!(!lockpoint::demo::seed_if_empty(&pool).await.unwrap());
+    let customers: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers")
+        .fetch_one(&pool)
+        .await
+        .unwrap();
+    let builds: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM builds")
+        .fetch_one(&pool)
+        .await
+        .unwrap();
+    let twin: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM builds WHERE disc_count = 2")
+        .fetch_one(&pool)
+        .await
+        .unwrap();
+    assert!(customers >= 4 && builds >= 6 && twin >= 1);
+}
+
+#[tokio::test]
+async fn the_migrations_folder_and_the_built_in_list_agree() {
+    let mut files: Vec<String> =
+        std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/migrations"))
+            .unwrap()
+            .map(|e| e.unwrap().file_name().into_string().unwrap())
+            .collect();
+    files.sort();
+    assert_eq!(files.len(), lockpoint::db::MIGRATIONS.len());
+    for (file, (version, _, sql)) in files.iter().zip(lockpoint::db::MIGRATIONS) {
+        assert!(file.starts_with(&format!("{version:04}_")), "{file}");
+        let on_disk =
+            std::fs::read_to_string(format!("{}/migrations/{file}", env!("CARGO_MANIFEST_DIR")))
+                .unwrap();
+        assert_eq!(&on_disk, sql);
+    }
+}

@@ -1,0 +1,258 @@
+//! Helpers shared by the integration tests: a fresh app on a temporary SQLite file, requests
+//! through the real router, and a signed-in browser-like client.
+
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicU32, Ordering};
+
+use axum::Router;
+use axum::body::Body;
+use axum::http::{Request, StatusCode, header};
+use http_body_util::BodyExt;
+use lockpoint::records::user::{NewUser, Role};
+use lockpoint::{AppState, app, auth, db};
+use sqlx::SqlitePool;
+use tower::ServiceExt;
+
+pub const PASSWORD: &str = "correct-horse-battery";
+
+/// A temporary database file, removed when dropped.
+pub struct TempDb {
+    pub path: PathBuf,
+}
+
+impl TempDb {
+    pub fn new() -> Self {
+        static N: AtomicU32 = AtomicU32::new(0);
+        let path = std::env::temp_dir().join(format!(
+            "lockpoint-test-{}-{}.db",
+            std::process::id(),
+            N.fetch_add(1, Ordering::Relaxed)
+        ));
+        Self { path }
+    }
+}
+
+impl Drop for TempDb {
+    fn drop(&mut self) {
+        for suffix in ["", "-wal", "-shm"] {
+            let _ = std::fs::remove_file(format!("{}{suffix}", self.path.display()));
+        }
+    }
+}
+
+pub struct TestApp {
+    pub pool: SqlitePool,
+    pub router: Router,
+    _db: TempDb,
+}
+
+/// An answer with its body read.
+pub struct Reply {
+    pub status: StatusCode,
+    pub headers: axum::http::HeaderMap,
+    pub body: String,
+}
+
+impl Reply {
+    pub fn location(&self) -> &str {
+        self.headers
+            .get(header::LOCATION)
+            .and_then(|v| v.to_str().ok())
+            .unwrap_or("")
+    }
+
+    pub fn json(&self) -> serde_json::Value {
+        serde_json::from_str(&self.body).unwrap_or_else(|e| panic!("not JSON ({e}): {}", self.body))
+    }
+}
+
+impl TestApp {
+    /// A migrated database with an admin `boss` and a tech `sam` (password [`PASSWORD`]).
+    pub async fn new() -> Self {
+        let tmp = TempDb::new();
+        let pool = db::open(&tmp.path).await.expect("database opens");
+        let hash = auth::hash_password(PASSWORD.into()).await.unwrap();
+        let mut conn = pool.acquire().await.unwrap();
+        for (name, role) in [("boss", Role::Admin), ("sam", Role::Tech)] {
+            let user = NewUser::parse(name, PASSWORD, role).unwrap();
+            db::users::insert(&mut conn, &user, &hash).await.unwrap();
+        }
+        drop(conn);
+        let router = app(AppState::new(pool.clone()));
+        Self {
+            pool,
+            router,
+            _db: tmp,
+        }
+    }
+
+    pub async fn send(&self, req: Request<Body>) -> Reply {
+        let res = self
+            .router
+            .clone()
+            .oneshot(req)
+            .await
+            .expect("router answers");
+        let status = res.status();
+        let headers = res.headers().clone();
+        let bytes = res.into_body().collect().await.unwrap().to_bytes();
+        Reply {
+            status,
+            headers,
+            body: String::from_utf8_lossy(&bytes).into_owned(),
+        }
+    }
+
+    pub async fn get(&self, path: &str, cookie: Option<&str>) -> Reply {
+        let mut req = Request::get(path);
+        if let Some(c) = cookie {
+            req = req.header(header::COOKIE, c);
+        }
+        self.send(req.body(Body::empty()).unwrap()).await
+    }
+
+    pub async fn post_form(
+        &self,
+        path: &str,
+        pairs: &[(&str, &str)],
+        cookie: Option<&str>,
+    ) -> Reply {
+        let body = form_encode(pairs);
+        let mut req =
+            Request::post(path).header(header::CONTENT_TYPE, "application/x-www-form-urlencoded");
+        if let Some(c) = cookie {
+            req = req.header(header::COOKIE, c);
+        }
+        self.send(req.body(Body::from(body)).unwrap()).await
+    }
+
+    /// Signs in through the login form and returns a client carrying the session.
+    pub async fn login(&self, name: &str) -> Client<'_> {
+        let reply = self
+            .post_form(
+                "/login",
+                &[("username", name), ("password", PASSWORD), ("next", "/")],
+                None,
+            )
+            .await;
+        assert_eq!(
+            reply.status,
+            StatusCode::SEE_OTHER,
+            "login failed: {}",
+            reply.body
+        );
+        let set_cookie = reply
+            .headers
+            .get(header::SET_COOKIE)
+            .unwrap()
+            .to_str()
+            .unwrap();
+        let cookie = set_cookie.split(';').next().unwrap().to_string();
+        let front = self.get("/", Some(&cookie)).await;
+        let csrf = csrf_of(&front.body);
+        Client {
+            app: self,
+            cookie,
+            csrf,
+        }
+    }
+
+    /// A new API token for a user.
+    pub async fn token(&self, name: &str) -> String {
+        let mut conn = self.pool.acquire().await.unwrap();
+        let user = db::users::by_name(&mut conn, name).await.unwrap().unwrap();
+        let token = auth::new_secret("lp_");
+        db::tokens::insert(&mut conn, user.id, &auth::hash_secret(&token))
+            .await
+            .unwrap();
+        token
+    }
+
+    pub async fn api(
+        &self,
+        method: &str,
+        path: &str,
+        token: Option<&str>,
+        body: Option<serde_json::Value>,
+    ) -> Reply {
+        let mut req = Request::builder().method(method).uri(path);
+        if let Some(t) = token {
+            req = req.header(header::AUTHORIZATION, format!("Bearer {t}"));
+        }
+        let body = match body {
+            Some(v) => {
+                req = req.header(header::CONTENT_TYPE, "application/json");
+                Body::from(v.to_string())
+            }
+            None => Body::empty(),
+        };
+        self.send(req.body(body).unwrap()).await
+    }
+
+    pub async fn count(&self, table: &str) -> i64 {
+        sqlx::query_scalar(sqlx::AssertSqlSafe(format!("SELECT COUNT(*) FROM {table}")))
+            .fetch_one(&self.pool)
+            .await
+            .unwrap()
+    }
+}
+
+/// A signed-in browser: its session cookie and the CSRF token its forms carry.
+pub struct Client<'a> {
+    pub app: &'a TestApp,
+    pub cookie: String,
+    pub csrf: String,
+}
+
+impl Client<'_> {
+    pub async fn get(&self, path: &str) -> Reply {
+        self.app.get(path, Some(&self.cookie)).await
+    }
+
+    /// Posts a form with the CSRF token, as the page's own form would.
+    pub async fn post(&self, path: &str, pairs: &[(&str, &str)]) -> Reply {
+        let mut all = vec![("_csrf", self.csrf.as_str())];
+        all.extend_from_slice(pairs);
+        self.app.post_form(path, &all, Some(&self.cookie)).await
+    }
+}
+
+pub fn csrf_of(html: &str) -> String {
+    let marker = "name=\"_csrf\" value=\"";
+    let start = html.find(marker).expect("page has a CSRF field") + marker.len();
+    html[start..].split('"').next().unwrap().to_string()
+}
+
+pub fn form_encode(pairs: &[(&str, &str)]) -> String {
+    pairs
+        .iter()
+        .map(|(k, v)| format!("{}={}", encode(k), encode(v)))
+        .collect::<Vec<_>>()
+        .join("&")
+}
+
+fn encode(s: &str) -> String {
+    let mut out = String::new();
+    for b in s.bytes() {
+        match b {
+            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'_' | b'.' | b'~' => {
+                out.push(b as char)
+            }
+            b' ' => out.push('+'),
+            _ => out.push_str(&format!("%{b:02X}")),
+        }
+    }
+    out
+}
+
+/// The id at the end of a redirect such as `/customers/12`.
+pub fn id_from(location: &str) -> String {
+    location
+        .split('#')
+        .next()
+        .unwrap()
+        .rsplit('/')
+        .next()
+        .unwrap()
+        .to_string()
+}
