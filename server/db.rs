@@ -7,6 +7,7 @@ pub mod bench;
 pub mod builds;
 pub mod cars;
 pub mod customers;
+pub mod dossier;
 pub mod heights;
 pub mod passes;
 pub mod sessions;

@@ -16,6 +16,8 @@ pub mod db;
 pub mod demo;
 /// The web layer's error type (HTML pages and JSON).
 pub mod error;
+/// A stored build as engineering inputs (records -> clutch requests).
+pub mod model;
 /// Shop records as checked inputs, read from forms or JSON (no IO).
 pub mod records;
 /// Pages, forms, the JSON API and the router.

@@ -3,7 +3,10 @@
 mod admin;
 mod api;
 mod builds;
+mod calc;
+mod capacity;
 mod cars;
+mod chart;
 mod customers;
 mod entries;
 mod extract;
@@ -11,6 +14,7 @@ mod home;
 mod layout;
 mod login;
 mod show;
+mod wear;
 
 use std::time::Duration;
 
@@ -65,6 +69,7 @@ pub fn app(state: AppState) -> Router {
         .route("/cars/{id}/builds/new", get(builds::new))
         .route("/builds/{id}", get(builds::show).post(builds::update))
         .route("/builds/{id}/edit", get(builds::edit))
+        .route("/builds/{id}/tune", get(capacity::tune))
         .route("/builds/{id}/setups", post(entries::add_setup))
         .route("/builds/{id}/bench-tests", post(entries::add_bench_test))
         .route("/builds/{id}/heights", post(entries::add_height))

@@ -178,6 +178,25 @@ fn to_metric(r: &CapacityRequest) -> CapacityRequest {
     m
 }
 
+// The general conversion agrees with the hand-written one above (exact factors, NIST SP 811).
+#[test]
+fn in_units_matches_the_hand_conversion_and_round_trips() {
+    let r = example();
+    let m = r.in_units(Units::Metric);
+    let hand = to_metric(&r);
+    assert!(rel(m.disc.outer_diameter, hand.disc.outer_diameter) < 1e-12);
+    assert!(rel(m.springs.rate, hand.springs.rate) < 1e-12);
+    assert!(rel(m.engine.torque_curve[2][1], hand.engine.torque_curve[2][1]) < 1e-12);
+    let back = m.in_units(Units::Imperial);
+    assert!(rel(back.springs.base_compression, r.springs.base_compression) < 1e-12);
+    assert!(
+        rel(
+            back.levers.as_ref().unwrap().cg_radius.unwrap(),
+            r.levers.as_ref().unwrap().cg_radius.unwrap()
+        ) < 1e-12
+    );
+}
+
 fn varied(rate: f64, turns: f64, weight: f64, mu: f64, gain: Option<f64>) -> CapacityRequest {
     let mut r = example();
     r.springs.rate = rate;

@@ -168,6 +168,33 @@ fn count_in(field: &str, v: u32, min: u32, max: u32) -> Result<u32, InputError> 
 }
 
 impl CapacityRequest {
+    /// The same clutch described in another unit system (lengths, forces, rates, torques
+    /// converted; grams, counts, ratios and speeds unchanged). Non-finite values stay so.
+    pub fn in_units(&self, target: Units) -> CapacityRequest {
+        let from = self.units;
+        let len = |v: f64| target.mm_to_length(from.length_to_mm(v));
+        let force = |v: f64| target.n_to_force(from.force_to_n(v));
+        let torque = |v: f64| target.nm_to_torque(from.torque_to_nm(v));
+        let mut r = self.clone();
+        r.units = target;
+        r.disc.outer_diameter = len(r.disc.outer_diameter);
+        r.disc.inner_diameter = len(r.disc.inner_diameter);
+        r.springs.rate = target.n_per_mm_to_rate(from.rate_to_n_per_mm(r.springs.rate));
+        r.springs.base_compression = len(r.springs.base_compression);
+        r.springs.adjuster_pitch = len(r.springs.adjuster_pitch);
+        if let Some(l) = r.levers.as_mut() {
+            l.cg_radius = l.cg_radius.map(len);
+            l.gain = l.gain.map(force);
+        }
+        for p in &mut r.engine.torque_curve {
+            p[1] = torque(p[1]);
+        }
+        if let Some(d) = r.driveline.as_mut() {
+            d.rated_torque = torque(d.rated_torque);
+        }
+        r
+    }
+
     /// Checks every value and builds the model in internal units (mm, N, N/mm, N·m, g).
     /// Errors name the first offending field by its JSON path.
     pub fn validate(&self) -> Result<ValidRequest, InputError> {

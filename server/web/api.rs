@@ -9,7 +9,7 @@ use axum::extract::{FromRequestParts, Query, State};
 use axum::http::StatusCode;
 use axum::http::request::Parts;
 use axum::response::{IntoResponse, Response};
-use axum::routing::get;
+use axum::routing::{get, post};
 use serde::Deserialize;
 use sqlx::SqliteConnection;
 
@@ -58,6 +58,10 @@ pub fn routes() -> Router<AppState> {
             get(passes_of_build).post(pass_create),
         )
         .route("/passes/{id}", get(pass_get).put(pass_update))
+        .route("/builds/{id}/wear", get(super::calc::build_wear))
+        .route("/calc/capacity", post(super::calc::capacity))
+        .route("/calc/recommend", post(super::calc::recommend))
+        .route("/calc/wear", post(super::calc::wear))
         .fallback(api_not_found)
 }
 
@@ -66,7 +70,7 @@ async fn api_not_found() -> ApiError {
 }
 
 /// A path id for the API: anything but a positive integer is a JSON 404.
-struct Id(i64);
+pub struct Id(pub i64);
 
 impl<S: Send + Sync> FromRequestParts<S> for Id {
     type Rejection = ApiError;

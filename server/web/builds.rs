@@ -8,19 +8,22 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 use sqlx::SqliteConnection;
 
 use super::AppState;
+use super::capacity::{capacity_chart, figure_lines};
+use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::{Layout, units_of};
+use super::wear::{self, WearView};
 use crate::clutch::friction::FacingMaterial;
-use crate::clutch::spring_health;
-use crate::clutch::springs::{BenchPoint, SetSpread};
+use crate::clutch::springs::SetSpread;
 use crate::db;
 use crate::db::bench::{BenchSpring, BenchTest};
-use crate::db::builds::{Build, BuildOwner};
+use crate::db::builds::Build;
 use crate::db::cars::Car;
+use crate::db::dossier::Dossier;
 use crate::db::heights::Height;
-use crate::db::passes::Pass;
 use crate::db::setups::Setup;
 use crate::error::{AppError, AppResult};
+use crate::model::{self, BuildFacts, Figures};
 use crate::records::build::BuildInput;
 use crate::records::date::Date;
 use crate::records::length_decimals;
@@ -43,84 +46,19 @@ pub struct EntryForms {
     pub pass: Option<EntryForm>,
 }
 
-/// A bench test with each spring's rate and flags.
-pub struct BenchView {
-    pub test: BenchTest,
-    /// Per spring (by position): rate N/mm and the percent lost since the previous test when
-    /// that loss is past the shop's sag threshold.
-    pub springs: Vec<(BenchSpring, Option<f64>, Option<f64>)>,
-    pub spread: Option<SetSpread>,
-}
-
-/// Pairs each bench test with its review (rates, spread against the tolerance, sag).
-fn bench_views(tests: Vec<BenchTest>, settings: &SettingsInput) -> Vec<BenchView> {
-    let inputs: Vec<spring_health::BenchTest> = tests
-        .iter()
-        .map(|t| spring_health::BenchTest {
-            readings: t
-                .springs
-                .iter()
-                .map(|s| BenchPoint {
-                    compression_mm: s.compression_mm,
-                    force_n: s.force_n,
-                })
-                .collect(),
-        })
-        .collect();
-    let reviews =
-        spring_health::review(&inputs, settings.spring_spread_pct, settings.spring_sag_pct).ok();
-    let mut views: Vec<BenchView> = tests
-        .into_iter()
-        .enumerate()
-        .map(|(i, test)| {
-            let review = reviews.as_ref().map(|r| &r[i]);
-            let springs = test
-                .springs
-                .iter()
-                .enumerate()
-                .map(|(j, s)| {
-                    let rate = review.and_then(|r| r.rates.get(j).copied());
-                    let sag = review.and_then(|r| {
-                        r.sagged
-                            .iter()
-                            .find(|(pos, _)| *pos == j + 1)
-                            .map(|(_, pct)| *pct)
-                    });
-                    (s.clone(), rate, sag)
-                })
-                .collect();
-            BenchView {
-                springs,
-                spread: review.map(|r| r.spread),
-                test,
-            }
-        })
-        .collect();
-    views.reverse();
-    views
-}
-
-/// The four entry forms as shown: submitted ones with their messages, the rest with defaults.
-pub struct FilledForms {
-    setup: EntryForm,
-    bench: EntryForm,
-    height: EntryForm,
-    pass: EntryForm,
-}
-
 #[derive(Template)]
 #[template(path = "builds/show.html")]
 pub struct ShowPage {
     pub page: Layout,
-    pub build: Build,
-    pub owner: BuildOwner,
-    pub car: Car,
+    pub d: Dossier,
     pub material: String,
-    pub setups: Vec<Setup>,
     /// Bench tests, newest first, with what they say about the springs.
     pub bench: Vec<BenchView>,
-    pub heights: Vec<Height>,
-    pub passes: Vec<Pass>,
+    /// The capacity of the current setup, or what is missing to work it out.
+    pub capacity: Result<Figures, String>,
+    pub capacity_chart: Option<Chart>,
+    /// The wear story, or why there is none yet.
+    pub wear: Result<WearView, String>,
     pub forms: FilledForms,
     /// Spring positions 1..=count, for the bench form's rows.
     pub spring_rows: Vec<usize>,
@@ -142,33 +80,86 @@ impl ShowPage {
 
     /// The setup in force now (the latest change), if any was recorded.
     pub fn current_setup(&self) -> Option<&Setup> {
-        self.setups.last()
+        self.d.setups.last()
+    }
+
+    pub fn figures(&self) -> Vec<(&'static str, String)> {
+        self.capacity
+            .as_ref()
+            .map(|f| figure_lines(&self.page.u, f))
+            .unwrap_or_default()
     }
 
     pub fn shims(&self) -> String {
-        if self.build.data.shim_stack_mm.is_empty() {
+        let stack = &self.d.build.data.shim_stack_mm;
+        if stack.is_empty() {
             return "none".into();
         }
-        let list: Vec<String> = self
-            .build
-            .data
-            .shim_stack_mm
-            .iter()
-            .map(|s| self.page.u.len_num(*s))
-            .collect();
+        let list: Vec<String> = stack.iter().map(|s| self.page.u.len_num(*s)).collect();
         format!("{} {}", list.join(", "), self.page.u.length_unit())
     }
 
     pub fn thread(&self) -> String {
         match (
-            self.build.data.adjuster_tpi,
-            self.build.data.adjuster_pitch_mm,
+            self.d.build.data.adjuster_tpi,
+            self.d.build.data.adjuster_pitch_mm,
         ) {
             (Some(tpi), _) => format!("{tpi} threads per inch"),
             (_, Some(p)) => format!("{p} mm pitch"),
             _ => "not recorded".into(),
         }
     }
+}
+
+/// A bench test with each spring's rate and flags.
+pub struct BenchView {
+    pub test: BenchTest,
+    /// Per spring (by position): the reading, its rate N/mm, and the percent lost since the
+    /// previous test when that loss is past the shop's sag threshold.
+    pub springs: Vec<(BenchSpring, Option<f64>, Option<f64>)>,
+    pub spread: Option<SetSpread>,
+}
+
+/// Pairs each bench test with its review (rates, spread against the tolerance, sag).
+fn bench_views(tests: &[BenchTest], settings: &SettingsInput) -> Vec<BenchView> {
+    let reviews = model::bench_review(tests, settings);
+    let mut views: Vec<BenchView> = tests
+        .iter()
+        .enumerate()
+        .map(|(i, test)| {
+            let review = reviews.as_ref().map(|r| &r[i]);
+            let springs = test
+                .springs
+                .iter()
+                .enumerate()
+                .map(|(j, s)| {
+                    let rate = review.and_then(|r| r.rates.get(j).copied());
+                    let sag = review.and_then(|r| {
+                        r.sagged
+                            .iter()
+                            .find(|(pos, _)| *pos == j + 1)
+                            .map(|(_, pct)| *pct)
+                    });
+                    (s.clone(), rate, sag)
+                })
+                .collect();
+            BenchView {
+                springs,
+                spread: review.map(|r| r.spread),
+                test: test.clone(),
+            }
+        })
+        .collect();
+    views.reverse();
+    views
+}
+
+/// The four entry forms as shown: submitted ones with their messages, the rest with defaults.
+pub struct FilledForms {
+    setup: EntryForm,
+    bench: EntryForm,
+    height: EntryForm,
+    pass: EntryForm,
 }
 
 /// Renders a build's page; `forms` carries any entry form that failed its checks (422).
@@ -178,35 +169,41 @@ pub async fn render_page(
     id: i64,
     forms: EntryForms,
 ) -> AppResult<String> {
-    let build = db::builds::by_id(conn, id)
+    let d = db::dossier::load(conn, id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let owner = db::builds::owner(conn, id).await?;
-    let car = db::cars::by_id(conn, build.car_id)
-        .await?
-        .ok_or(AppError::NotFound)?;
-    let title = format!("{} – {}", owner.customer_name, build_title(&build));
+    let title = format!("{} – {}", d.owner.customer_name, build_title(&d.build));
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
-    let setups = db::setups::for_build(conn, id).await?;
-    let bench = bench_views(db::bench::for_build(conn, id).await?, &settings);
-    let heights = db::heights::for_build(conn, id).await?;
-    let passes = db::passes::for_build(conn, id).await?;
-    let forms = default_forms(forms, &car, &setups, &heights);
-    let material = FacingMaterial::from_key(&build.data.facing_material).map_or_else(
-        || build.data.facing_material.clone(),
+    let facts = BuildFacts::of(&d, &settings);
+    let capacity = facts
+        .capacity_request(BuildFacts::current_trial(&d))
+        .and_then(|r| {
+            model::figures(&r, page.units()).map_err(|e| format!("{}: {}", e.field, e.message))
+        });
+    let capacity_chart = capacity
+        .as_ref()
+        .ok()
+        .map(|f| capacity_chart(&page.u, &f.report, None));
+    let wear = facts.wear(&d.heights).and_then(|req| {
+        crate::clutch::wear::analyze(&req)
+            .map(|report| wear::view(&page.u, report, &d.heights, req.shimming_limit))
+            .map_err(|e| format!("{}: {}", e.field, e.message))
+    });
+    let bench = bench_views(&d.bench, &settings);
+    let forms = default_forms(forms, &d.car, &d.setups, &d.heights);
+    let material = FacingMaterial::from_key(&d.build.data.facing_material).map_or_else(
+        || d.build.data.facing_material.clone(),
         |m| m.label().to_string(),
     );
-    let spring_rows = (1..=build.data.spring_count.clamp(0, 24) as usize).collect();
+    let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
     Ok(ShowPage {
         page,
-        build,
-        owner,
-        car,
+        d,
         material,
-        setups,
         bench,
-        heights,
-        passes,
+        capacity,
+        capacity_chart,
+        wear,
         forms,
         spring_rows,
     }

@@ -1,0 +1,272 @@
+//! A stored build as engineering inputs: turns a build with its car, setup, bench tests and
+//! cover heights into the clutch module's requests. Storage units (mm, N, N/mm, N*m, g) are the
+//! metric request units, so nothing is converted here. No IO: it works on loaded records.
+
+use crate::clutch::InputError;
+use crate::clutch::capacity::Theory;
+use crate::clutch::friction::FacingMaterial;
+use crate::clutch::report::{CapacityReport, report_for};
+use crate::clutch::request::{
+    CapacityRequest, DiscInput, DrivelineInput, EngineInput, FrictionInput, LeversInput,
+    SpringsInput,
+};
+use crate::clutch::spring_health::{self, TestReview};
+use crate::clutch::springs::BenchPoint;
+use crate::clutch::units::Units;
+use crate::clutch::wear::{Measurement, WearRequest};
+use crate::db::bench::BenchTest;
+use crate::db::dossier::Dossier;
+use crate::records::build::BuildInput;
+use crate::records::car::CarInput;
+use crate::records::height::HeightInput;
+use crate::records::settings::SettingsInput;
+use crate::records::setup::SetupInput;
+
+/// The settings a capacity figure is for: the recorded setup, or one being tried.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Trial {
+    pub adjuster_turns: f64,
+    pub counterweight_g: f64,
+    /// `None` uses the facing material's nominal friction coefficient.
+    pub mu: Option<f64>,
+}
+
+impl Trial {
+    /// The setup in force, or zero turns and no counterweight when none was recorded.
+    pub fn from_setup(setup: Option<&SetupInput>) -> Self {
+        setup.map_or(
+            Self {
+                adjuster_turns: 0.0,
+                counterweight_g: 0.0,
+                mu: None,
+            },
+            |s| Self {
+                adjuster_turns: s.adjuster_turns,
+                counterweight_g: s.counterweight_g,
+                mu: s.mu,
+            },
+        )
+    }
+}
+
+/// Why a build's capacity cannot be worked out yet, in words for the page.
+pub type Missing = String;
+
+/// Reviews a build's bench tests (oldest first) with the shop's tolerances.
+pub fn bench_review(bench: &[BenchTest], settings: &SettingsInput) -> Option<Vec<TestReview>> {
+    let tests: Vec<spring_health::BenchTest> = bench
+        .iter()
+        .map(|t| spring_health::BenchTest {
+            readings: t
+                .springs
+                .iter()
+                .map(|s| BenchPoint {
+                    compression_mm: s.compression_mm,
+                    force_n: s.force_n,
+                })
+                .collect(),
+        })
+        .collect();
+    spring_health::review(&tests, settings.spring_spread_pct, settings.spring_sag_pct).ok()
+}
+
+impl<'a> BuildFacts<'a> {
+    /// The facts of a loaded build: the spring rate is the latest bench test's mean.
+    pub fn of(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
+        let tested = bench_review(&d.bench, settings).and_then(|r| r.last().map(|t| t.spread.mean));
+        Self {
+            build: &d.build.data,
+            car: &d.car.data,
+            settings,
+            tested_rate_n_per_mm: tested,
+        }
+    }
+
+    /// The setup in force on a loaded build.
+    pub fn current_trial(d: &Dossier) -> Trial {
+        Trial::from_setup(d.setups.last().map(|s| &s.data))
+    }
+
+    /// The wear request of a loaded build.
+    pub fn wear(&self, heights: &[crate::db::heights::Height]) -> Result<WearRequest, Missing> {
+        let data: Vec<HeightInput> = heights.iter().map(|h| h.data.clone()).collect();
+        wear_request(self.build, self.settings, self.spring_rate(), &data)
+    }
+}
+
+/// Everything the capacity calculation needs from the records.
+pub struct BuildFacts<'a> {
+    pub build: &'a BuildInput,
+    pub car: &'a CarInput,
+    pub settings: &'a SettingsInput,
+    /// Mean spring rate of the latest bench test, N/mm, when there is one.
+    pub tested_rate_n_per_mm: Option<f64>,
+}
+
+impl BuildFacts<'_> {
+    /// The spring rate the figures use: the latest bench test's mean, else the nominal rate.
+    pub fn spring_rate(&self) -> Option<f64> {
+        self.tested_rate_n_per_mm
+            .or(self.build.spring_rate_n_per_mm)
+    }
+
+    /// Base compression: given directly, or free minus installed cover height.
+    pub fn base_compression_mm(&self) -> Option<f64> {
+        let b = self.build;
+        b.base_compression_mm.or(
+            match (b.cover_height_free_mm, b.cover_height_installed_mm) {
+                (Some(free), Some(installed)) => Some(free - installed),
+                _ => None,
+            },
+        )
+    }
+
+    /// Adjuster travel per turn, mm (one thread pitch).
+    pub fn pitch_mm(&self) -> f64 {
+        match (self.build.adjuster_tpi, self.build.adjuster_pitch_mm) {
+            (Some(tpi), _) => Units::Imperial.length_to_mm(1.0 / tpi),
+            (None, Some(p)) => p,
+            _ => 0.0,
+        }
+    }
+
+    /// The capacity request for a setting, or what is missing to make one.
+    pub fn capacity_request(&self, trial: Trial) -> Result<CapacityRequest, Missing> {
+        let (b, car) = (self.build, self.car);
+        if car.torque_curve_nm.len() < 3 {
+            return Err("Enter the car's engine torque curve (at least 3 dyno points).".into());
+        }
+        let rate = self
+            .spring_rate()
+            .ok_or("Record a spring bench test or a nominal spring rate.")?;
+        let base = self
+            .base_compression_mm()
+            .ok_or("Enter the base compression, or the cover heights free and installed.")?;
+        let levers = (b.lever_count > 0).then(|| LeversInput {
+            count: b.lever_count as u32,
+            counterweight_g: trial.counterweight_g,
+            lever_mass_g: b.lever_mass_g,
+            cg_radius: b
+                .lever_gain_n_per_g
+                .is_none()
+                .then_some(b.lever_cg_radius_mm)
+                .flatten(),
+            arm_ratio: b
+                .lever_gain_n_per_g
+                .is_none()
+                .then_some(b.lever_arm_ratio)
+                .flatten(),
+            gain: b.lever_gain_n_per_g,
+        });
+        let (lo, hi) = curve_range(&car.torque_curve_nm);
+        let launch_rpm = car.launch_rpm.filter(|rpm| (lo..=hi).contains(rpm));
+        Ok(CapacityRequest {
+            units: Units::Metric,
+            disc: DiscInput {
+                outer_diameter: b.facing_od_mm,
+                inner_diameter: b.facing_id_mm,
+                count: b.disc_count as u32,
+                theory: Theory::UniformWear,
+            },
+            friction: FrictionInput {
+                mu: trial.mu,
+                material: FacingMaterial::from_key(&b.facing_material),
+            },
+            springs: SpringsInput {
+                count: b.spring_count as u32,
+                rate,
+                base_compression: base,
+                adjuster_pitch: self.pitch_mm(),
+                adjuster_turns: trial.adjuster_turns,
+            },
+            levers,
+            engine: EngineInput {
+                torque_curve: car.torque_curve_nm.clone(),
+            },
+            launch_rpm,
+            driveline: car
+                .rated_input_torque_nm
+                .map(|t| DrivelineInput { rated_torque: t }),
+            overclamp_factor: Some(self.settings.overclamp_factor),
+        })
+    }
+}
+
+fn curve_range(points: &[[f64; 2]]) -> (f64, f64) {
+    points
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+            (lo.min(p[0]), hi.max(p[0]))
+        })
+}
+
+/// The wear request for a build's cover-height history (storage units). The baseline is the
+/// first measurement (new disc, full shim stack). The disc's wear allowance is new minus minimum
+/// thickness; without disc data it is the shimming limit plus the whole stack, so the disc is
+/// due exactly when the shims run out.
+pub fn wear_request(
+    build: &BuildInput,
+    settings: &SettingsInput,
+    spring_rate_n_per_mm: Option<f64>,
+    heights: &[HeightInput],
+) -> Result<WearRequest, Missing> {
+    let first = heights.first().ok_or("No cover-height measurement yet.")?;
+    let rate =
+        spring_rate_n_per_mm.ok_or("Record a spring bench test or a nominal spring rate.")?;
+    let limit = shimming_limit_mm(build, settings);
+    let allowance = match (build.disc_thickness_new_mm, build.disc_thickness_min_mm) {
+        (Some(new), Some(min)) => new - min,
+        _ => limit + build.shim_stack_mm.iter().sum::<f64>(),
+    };
+    Ok(WearRequest {
+        units: Units::Metric,
+        baseline_cover_height: first.height_mm,
+        shimming_limit: limit,
+        shims: build.shim_stack_mm.clone(),
+        spring_count: build.spring_count as u32,
+        spring_rate: rate,
+        disc_wear_allowance: allowance,
+        measurements: heights
+            .iter()
+            .map(|h| Measurement {
+                passes: h.passes.max(0) as u32,
+                cover_height: h.height_mm,
+                shims_pulled: h.shims_pulled.max(0) as u32,
+            })
+            .collect(),
+    })
+}
+
+/// The build's own shimming limit, or the shop's default.
+pub fn shimming_limit_mm(build: &BuildInput, settings: &SettingsInput) -> f64 {
+    build
+        .shimming_limit_mm
+        .unwrap_or(settings.shimming_limit_mm)
+}
+
+/// The capacity report of a setting plus the clamp figures the pages quote, all in the units
+/// the figures were asked for (so warnings and numbers read in the shop's units).
+#[derive(Debug, Clone)]
+pub struct Figures {
+    pub units: Units,
+    pub report: CapacityReport,
+    /// Total clamp at the launch speed (when the car has one inside its curve).
+    pub clamp_at_launch: Option<f64>,
+    /// Total clamp at the top of the torque curve.
+    pub clamp_at_top: f64,
+}
+
+/// Works out the capacity report and clamp figures for a stored-units request, in `units`.
+pub fn figures(req: &CapacityRequest, units: Units) -> Result<Figures, InputError> {
+    let valid = req.in_units(units).validate()?;
+    let law = valid.model.law();
+    let (_, top) = valid.model.engine.range();
+    Ok(Figures {
+        units,
+        clamp_at_launch: valid
+            .launch_rpm
+            .map(|rpm| units.n_to_force(law.clamp_n(rpm))),
+        clamp_at_top: units.n_to_force(law.clamp_n(top)),
+        report: report_for(&valid),
+    })
+}

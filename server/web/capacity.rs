@@ -1,0 +1,320 @@
+//! Capacity against engine speed for a build: the chart, the figures, trying other settings
+//! without saving, and the setting recommendation.
+
+use std::collections::HashMap;
+
+use askama::Template;
+use axum::extract::{Query, State};
+use axum::response::Html;
+
+use super::AppState;
+use super::chart::Chart;
+use super::extract::{CurrentUser, PathId};
+use super::layout::Layout;
+use super::show::Show;
+use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
+use crate::clutch::report::CapacityReport;
+use crate::db;
+use crate::db::dossier::Dossier;
+use crate::error::{AppError, AppResult};
+use crate::model::{BuildFacts, Figures, Trial, figures};
+use crate::records::date::Date;
+use crate::records::{Bound, FieldErrors, FormData, FormReader, Rules};
+
+/// The capacity chart: engine torque, clutch capacity, its static share, the slip region, and
+/// the launch and lockup speeds marked. `before` adds the current setting for comparison.
+pub fn capacity_chart(u: &Show, report: &CapacityReport, before: Option<&CapacityReport>) -> Chart {
+    // Report values are already in the shop's units (see `model::figures`).
+    let engine: Vec<(f64, f64)> = report
+        .curve
+        .iter()
+        .map(|p| (p.rpm, p.engine_torque))
+        .collect();
+    let capacity: Vec<(f64, f64)> = report.curve.iter().map(|p| (p.rpm, p.capacity)).collect();
+    let static_share: Vec<(f64, f64)> = report
+        .curve
+        .iter()
+        .map(|p| {
+            (
+                p.rpm,
+                if p.total_clamp > 0.0 {
+                    p.capacity * report.static_clamp / p.total_clamp
+                } else {
+                    0.0
+                },
+            )
+        })
+        .collect();
+    let before_line: Vec<(f64, f64)> = before
+        .map(|b| b.curve.iter().map(|p| (p.rpm, p.capacity)).collect())
+        .unwrap_or_default();
+    let x = (
+        engine.first().map_or(0.0, |p| p.0),
+        engine.last().map_or(1.0, |p| p.0),
+    );
+    let y_max = engine
+        .iter()
+        .chain(&capacity)
+        .chain(&before_line)
+        .map(|p| p.1)
+        .fold(0.0, f64::max);
+    // Cap the scale so a huge capacity at the top does not flatten the engine curve.
+    let engine_max = engine.iter().map(|p| p.1).fold(0.0, f64::max);
+    let y_top = y_max.min(engine_max * 2.5);
+    let (mut chart, f) = Chart::new(
+        "Clutch capacity against engine torque",
+        "engine speed (rpm)",
+        &format!("torque ({})", u.torque_unit()),
+        x,
+        (0.0, y_top),
+    );
+    let clip = |pts: &[(f64, f64)]| -> Vec<(f64, f64)> {
+        pts.iter().map(|&(a, b)| (a, b.min(f.y1))).collect()
+    };
+    chart.shade_below(&f, "slip", &capacity, &engine);
+    chart.line(&f, "static", "static share", &clip(&static_share), false);
+    if before.is_some() {
+        chart.line(&f, "before", "before", &clip(&before_line), false);
+    }
+    chart.line(&f, "engine", "engine", &engine, false);
+    chart.line(&f, "capacity", "clutch", &clip(&capacity), false);
+    if let Some(l) = &report.launch {
+        chart.mark_x(&f, "launch", format!("launch {:.0}", l.rpm), l.rpm);
+    }
+    if let Some(rpm) = report.lockup_rpm {
+        chart.mark_x(&f, "lockup", format!("lockup {rpm:.0}"), rpm);
+    }
+    chart
+}
+
+#[derive(Template)]
+#[template(path = "builds/tune.html")]
+pub struct TunePage {
+    pub page: Layout,
+    pub dossier: Dossier,
+    pub current_trial: Trial,
+    pub current: Result<Figures, String>,
+    /// A setting being tried (not saved), with its figures.
+    pub trial: Option<(Trial, Figures)>,
+    pub recommendation: Option<Recommendation>,
+    pub recommended: Option<Figures>,
+    pub chart: Option<Chart>,
+    pub form: FormData,
+    pub errors: FieldErrors,
+    pub today: String,
+}
+
+/// GET /builds/{id}/tune: the current setting; `try=1` with turns/counterweight/mu shows a
+/// trial; `recommend=1` with a target lockup (and launch ratio) searches for settings.
+pub async fn tune(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+    Query(query): Query<HashMap<String, String>>,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let dossier = db::dossier::load(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let (page, settings) =
+        Layout::load(&mut conn, &user, "customers", "Capacity and tuning").await?;
+    let facts = BuildFacts::of(&dossier, &settings);
+    let current_trial = BuildFacts::current_trial(&dossier);
+    let current = facts
+        .capacity_request(current_trial)
+        .and_then(|r| figures(&r, page.units()).map_err(|e| format!("{}: {}", e.field, e.message)));
+
+    let form = FormData::new(query.into_iter().collect());
+    let mut form = form;
+    let mut reader = FormReader::new(&form, page.units());
+    let mut trial = None;
+    let mut recommendation = None;
+    let mut recommended = None;
+    if form.get("try") == "1" {
+        let t = Trial {
+            adjuster_turns: reader.number("adjuster_turns"),
+            counterweight_g: reader.opt_number("counterweight_g").unwrap_or(0.0),
+            mu: reader.opt_number("mu"),
+        };
+        let mut rules = Rules {
+            errors: &mut reader.errors,
+        };
+        rules.range(
+            "adjuster_turns",
+            t.adjuster_turns,
+            Bound::Incl(0.0),
+            Bound::Incl(20.0),
+        );
+        rules.range(
+            "counterweight_g",
+            t.counterweight_g,
+            Bound::Incl(0.0),
+            Bound::Incl(1000.0),
+        );
+        rules.opt_range("mu", t.mu, Bound::Incl(0.05), Bound::Incl(0.8));
+        if reader.errors.is_empty() {
+            match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
+                Ok(Ok(f)) => trial = Some((t, f)),
+                Ok(Err(e)) => reader.errors.add("adjuster_turns", e.message),
+                Err(missing) => reader.errors.add("adjuster_turns", missing),
+            }
+        }
+    }
+    if form.get("recommend") == "1" {
+        let lockup = reader.number("target_lockup");
+        let ratio = reader.opt_number("target_ratio");
+        if reader.errors.is_empty()
+            && let Ok(setup) = facts.capacity_request(current_trial)
+        {
+            let request = RecommendRequest {
+                setup: setup.in_units(page.units()),
+                targets: Targets {
+                    lockup_rpm: lockup,
+                    launch_ratio: ratio,
+                },
+                steps: Steps::default(),
+                limits: Limits::default(),
+            };
+            match crate::clutch::recommend(&request) {
+                Ok(r) => {
+                    let t = Trial {
+                        adjuster_turns: r.recommended.adjuster_turns,
+                        counterweight_g: r.recommended.counterweight_g,
+                        mu: current_trial.mu,
+                    };
+                    recommended = facts
+                        .capacity_request(t)
+                        .ok()
+                        .and_then(|q| figures(&q, page.units()).ok());
+                    recommendation = Some(r);
+                }
+                Err(e) => {
+                    let field = match e.field.as_str() {
+                        "targets.launch_ratio" => "target_ratio",
+                        _ => "target_lockup",
+                    };
+                    reader.errors.add(field, e.message);
+                }
+            }
+        }
+    }
+    let errors = reader.errors;
+    if form.get("adjuster_turns").is_empty() {
+        form.set_num("adjuster_turns", Some(current_trial.adjuster_turns), 3);
+        form.set_num("counterweight_g", Some(current_trial.counterweight_g), 1);
+        form.set_num("mu", current_trial.mu, 3);
+    }
+    let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
+    let chart = match (&current, shown) {
+        (Ok(cur), Some(new)) => Some(capacity_chart(&page.u, &new.report, Some(&cur.report))),
+        (Ok(cur), None) => Some(capacity_chart(&page.u, &cur.report, None)),
+        _ => None,
+    };
+    let page = TunePage {
+        page,
+        dossier,
+        current_trial,
+        current,
+        trial,
+        recommendation,
+        recommended,
+        chart,
+        form,
+        errors,
+        today: Date::today().to_string(),
+    };
+    Ok(Html(page.render()?))
+}
+
+/// The figures a page quotes for one setting, formatted in the shop's units.
+pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
+    let r = &f.report;
+    let t = |v: f64| format!("{v:.0} {}", u.torque_unit());
+    let clamp = |v: f64| format!("{v:.0} {}", u.force_unit());
+    vec![
+        ("Static clamp", clamp(r.static_clamp)),
+        (
+            "Clamp at launch",
+            f.clamp_at_launch.map_or("–".into(), clamp),
+        ),
+        ("Clamp at the top of the curve", clamp(f.clamp_at_top)),
+        (
+            "Capacity / engine torque at launch",
+            r.launch.as_ref().map_or("–".into(), |l| {
+                format!(
+                    "{:.2} ({} / {})",
+                    l.ratio,
+                    t(l.capacity),
+                    t(l.engine_torque)
+                )
+            }),
+        ),
+        (
+            "Lockup speed",
+            r.lockup_rpm
+                .map_or("slips at the top".into(), |rpm| format!("{rpm:.0} rpm")),
+        ),
+        (
+            "Margin at the top",
+            format!("{:.2} × engine torque at {:.0} rpm", r.top.ratio, r.top.rpm),
+        ),
+    ]
+}
+
+impl TunePage {
+    /// Rows of (figure, current, trial or recommended).
+    pub fn table(&self) -> Vec<(&'static str, String, String)> {
+        let current = self
+            .current
+            .as_ref()
+            .ok()
+            .map(|f| figure_lines(&self.page.u, f))
+            .unwrap_or_default();
+        let other = self
+            .recommended
+            .as_ref()
+            .or(self.trial.as_ref().map(|(_, f)| f))
+            .map(|f| figure_lines(&self.page.u, f));
+        current
+            .into_iter()
+            .enumerate()
+            .map(|(i, (label, value))| {
+                let o = other.as_ref().map_or(String::new(), |o| o[i].1.clone());
+                (label, value, o)
+            })
+            .collect()
+    }
+
+    pub fn other_title(&self) -> &'static str {
+        if self.recommended.is_some() {
+            "Recommended"
+        } else if self.trial.is_some() {
+            "Trying"
+        } else {
+            ""
+        }
+    }
+
+    /// Warnings of the setting shown last (recommended, tried, or current).
+    pub fn warnings(&self) -> Vec<String> {
+        self.recommended
+            .as_ref()
+            .or(self.trial.as_ref().map(|(_, f)| f))
+            .or(self.current.as_ref().ok())
+            .map(|f| f.report.warnings.clone())
+            .unwrap_or_default()
+    }
+
+    /// The setting a "save as new setup" button would record.
+    pub fn to_save(&self) -> Option<Trial> {
+        match (&self.recommendation, &self.trial) {
+            (Some(r), _) => Some(Trial {
+                adjuster_turns: r.recommended.adjuster_turns,
+                counterweight_g: r.recommended.counterweight_g,
+                mu: self.current_trial.mu,
+            }),
+            (None, Some((t, _))) => Some(*t),
+            _ => None,
+        }
+    }
+}

@@ -1,0 +1,162 @@
+//! The wear story of a build, as the page tells it: status in words, forecast, the cover-height
+//! chart and the measurement table.
+
+use super::chart::Chart;
+use super::show::Show;
+use crate::clutch::wear::{WearReport, WearStatus};
+use crate::db::heights::Height;
+
+/// A build's wear, ready for its page and the front page.
+pub struct WearView {
+    pub report: WearReport,
+    /// The status said in words, first.
+    pub headline: String,
+    /// The forecast in words ("about 35 passes to the next shim").
+    pub forecast: Vec<String>,
+    pub chart: Chart,
+    /// Per measurement: the record and its (growth, total wear, clamp lost) figures.
+    pub rows: Vec<(Height, f64, f64, f64)>,
+}
+
+impl WearView {
+    /// CSS class and shape for the status: a word first, a shape second, colour last.
+    pub fn status_class(&self) -> &'static str {
+        status_class(self.report.status)
+    }
+    pub fn status_word(&self) -> &'static str {
+        status_word(self.report.status)
+    }
+}
+
+pub fn status_class(s: WearStatus) -> &'static str {
+    match s {
+        WearStatus::Ok => "ok",
+        WearStatus::ShimDue => "warn",
+        WearStatus::DiscDue => "bad",
+    }
+}
+
+pub fn status_word(s: WearStatus) -> &'static str {
+    match s {
+        WearStatus::Ok => "● ok",
+        WearStatus::ShimDue => "▲ shim due",
+        WearStatus::DiscDue => "■ disc due",
+    }
+}
+
+/// The sentence a technician reads first.
+pub fn headline(u: &Show, r: &WearReport) -> String {
+    match (r.status, r.next_shim) {
+        (WearStatus::DiscDue, _) => "Disc at its wear limit: replace the disc.".into(),
+        (WearStatus::ShimDue, Some(shim)) => format!("Pull the {} shim now.", u.len(shim)),
+        (WearStatus::ShimDue, None) => "Shimming limit reached.".into(),
+        (WearStatus::Ok, _) => "Within limits.".into(),
+    }
+}
+
+/// Forecast sentences from the wear rate.
+pub fn forecast(u: &Show, r: &WearReport) -> Vec<String> {
+    let mut out = Vec::new();
+    match r.wear_per_pass {
+        None => {
+            out.push("Two measurements at different pass counts are needed for a forecast.".into())
+        }
+        Some(rate) if rate <= 0.0 => out.push("No measurable wear yet: no forecast.".into()),
+        Some(rate) => {
+            out.push(format!(
+                "Wearing about {} per 100 passes.",
+                u.len(rate * 100.0)
+            ));
+            if let (Some(n), Some(shim)) = (r.passes_to_shim_due, r.next_shim)
+                && r.status == WearStatus::Ok
+            {
+                out.push(format!(
+                    "About {n:.0} passes to the next shim ({}).",
+                    u.len(shim)
+                ));
+            }
+            if let Some(n) = r.passes_to_disc_due
+                && r.status != WearStatus::DiscDue
+            {
+                out.push(format!("About {n:.0} passes until the disc is due."));
+            }
+        }
+    }
+    out
+}
+
+/// Builds the view from the analysed report (storage units) and the measurements.
+pub fn view(u: &Show, report: WearReport, heights: &[Height], limit_mm: f64) -> WearView {
+    let rows = heights
+        .iter()
+        .zip(&report.measurements)
+        .map(|(h, p)| (h.clone(), p.growth, p.total_wear, p.clamp_loss))
+        .collect();
+    WearView {
+        headline: headline(u, &report),
+        forecast: forecast(u, &report),
+        chart: chart(u, &report, heights, limit_mm),
+        rows,
+        report,
+    }
+}
+
+/// Cover height against passes: the measurements, the height at which a shim is due, each
+/// shim pull, and the forecast to the next limit.
+fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
+    let len = |mm: f64| u.units.mm_to_length(mm);
+    let h0 = heights.first().map_or(0.0, |h| h.data.height_mm);
+    let due_height = h0 + limit_mm;
+    let points: Vec<(f64, f64)> = heights
+        .iter()
+        .map(|h| (h.data.passes as f64, len(h.data.height_mm)))
+        .collect();
+    let last = heights
+        .last()
+        .map_or((0.0, h0), |h| (h.data.passes as f64, h.data.height_mm));
+    let forecast_end = match (
+        r.wear_per_pass,
+        r.passes_to_shim_due.or(r.passes_to_disc_due),
+    ) {
+        (Some(rate), Some(n)) if rate > 0.0 && n > 0.0 => {
+            let to_limit = (due_height - last.1).max(0.0);
+            Some((last.0 + to_limit / rate, due_height))
+        }
+        _ => None,
+    };
+    let x_max = forecast_end
+        .map_or(last.0, |(x, _)| x)
+        .max(last.0)
+        .max(10.0);
+    let y_lo = heights.iter().map(|h| h.data.height_mm).fold(h0, f64::min) - limit_mm * 0.5;
+    let y_hi = due_height + limit_mm * 0.4;
+    let (mut c, f) = Chart::new(
+        "Cover height against passes",
+        "passes on this disc",
+        &format!("cover height ({})", u.length_unit()),
+        (0.0, x_max * 1.05),
+        (len(y_lo), len(y_hi)),
+    );
+    c.mark_y(
+        &f,
+        "limit",
+        format!("shim due {}", u.len_num(due_height)),
+        len(due_height),
+    );
+    for pair in heights.windows(2) {
+        if pair[1].data.shims_pulled > pair[0].data.shims_pulled {
+            c.mark_x(&f, "shim", "shim pulled".into(), pair[1].data.passes as f64);
+        }
+    }
+    if let Some((x, y)) = forecast_end {
+        c.line(
+            &f,
+            "forecast",
+            "forecast",
+            &[(last.0, len(last.1)), (x, len(y))],
+            false,
+        );
+    }
+    c.line(&f, "height", "measured", &points, true);
+    c
+}
