@@ -237,14 +237,14 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
             "Clamp at launch",
             f.clamp_at_launch.map_or("–".into(), clamp),
         ),
-        ("Clamp at the top of the curve", clamp(f.clamp_at_top)),
+        ("Clamp at the top", clamp(f.clamp_at_top)),
         (
-            "Capacity / engine torque at launch",
+            "Launch ratio (capacity / engine)",
             r.launch.as_ref().map_or("–".into(), |l| {
                 format!(
-                    "{:.2} ({} / {})",
+                    "{:.2} ({:.0} / {})",
                     l.ratio,
-                    t(l.capacity),
+                    l.capacity,
                     t(l.engine_torque)
                 )
             }),
@@ -256,7 +256,7 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
         ),
         (
             "Margin at the top",
-            format!("{:.2} × engine torque at {:.0} rpm", r.top.ratio, r.top.rpm),
+            format!("{:.2} × at {:.0} rpm", r.top.ratio, r.top.rpm),
         ),
     ]
 }
