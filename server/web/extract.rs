@@ -186,18 +186,24 @@ pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
     let mut de = serde_json::Deserializer::from_slice(bytes);
     serde_path_to_error::deserialize(&mut de).map_err(|err| {
         let path = err.path().to_string();
-        let field = if path == "." {
-            "body".to_string()
-        } else {
-            path
-        };
         let inner = err.into_inner();
+        // serde names a missing field only in its message ("missing field `rate`"): add it
+        // to the path of the object it is missing from.
+        let text = inner.to_string();
+        let missing = text
+            .strip_prefix("missing field `")
+            .and_then(|rest| rest.split('`').next());
+        let field = match (path.as_str(), missing) {
+            (".", Some(name)) => name.to_string(),
+            (_, Some(name)) => format!("{path}.{name}"),
+            (".", None) => "body".to_string(),
+            _ => path.clone(),
+        };
         let message = if inner.is_syntax() || inner.is_eof() {
             "the body is not valid JSON".to_string()
         } else {
             // serde's message names the expected type ("invalid type: string, expected f64");
             // strip its position suffix, which means nothing to a caller.
-            let text = inner.to_string();
             text.split(" at line ").next().unwrap_or(&text).to_string()
         };
         ApiError(AppError::field(&field, message))

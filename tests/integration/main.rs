@@ -1,6 +1,7 @@
 //! Integration tests: HTTP through the real router and a real SQLite file.
 
 mod access;
+mod calc;
 mod cli;
 mod records;
 mod support;
