@@ -47,11 +47,18 @@ pub async fn open(path: &Path) -> Result<SqlitePool, sqlx::Error> {
 
 /// Every migration, in order, built into the binary. A new file in `migrations/` is added here
 /// (a test checks that the folder and this list agree).
-pub const MIGRATIONS: &[(i64, &str, &str)] = &[(
-    1,
-    "shop records",
-    include_str!("../migrations/0001_shop_records.sql"),
-)];
+pub const MIGRATIONS: &[(i64, &str, &str)] = &[
+    (
+        1,
+        "shop records",
+        include_str!("../migrations/0001_shop_records.sql"),
+    ),
+    (
+        2,
+        "new disc baseline",
+        include_str!("../migrations/0002_new_disc_baseline.sql"),
+    ),
+];
 
 fn migrator() -> Migrator {
     Migrator::with_migrations(

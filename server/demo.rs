@@ -59,6 +59,13 @@ pub async fn seed_if_empty(pool: &SqlitePool) -> Result<bool, DemoError> {
     for customer in demo_customers() {
         seed_customer(&mut tx, admin_id, customer).await?;
     }
+    // The demo's history is set in the past: a build dates from its first setup.
+    sqlx::query(
+        "UPDATE builds SET created_at = (SELECT MIN(changed_on) FROM setup_changes s
+             WHERE s.build_id = builds.id) || 'T09:00:00Z'",
+    )
+    .execute(&mut *tx)
+    .await?;
     tx.commit().await?;
     Ok(true)
 }
@@ -99,8 +106,8 @@ struct DemoBuild {
     /// (turns, counterweight g) per setup change, oldest first.
     setups: Vec<(f64, f64)>,
     shims_in: Vec<f64>,
-    /// (passes, cover height in, shims pulled).
-    heights: Vec<(i64, f64, i64)>,
+    /// (passes, cover height in, shims pulled, new disc fitted).
+    heights: Vec<(i64, f64, i64, bool)>,
     passes: Vec<(&'static str, f64, f64, f64)>,
     status: &'static str,
 }
@@ -160,7 +167,11 @@ fn demo_customers() -> Vec<DemoCustomer> {
                     levers: 3,
                     setups: vec![(1.5, 24.0), (1.75, 26.0)],
                     shims_in: vec![0.010, 0.010, 0.020],
-                    heights: vec![(0, 1.905, 0), (40, 1.913, 0), (80, 1.921, 0)],
+                    heights: vec![
+                        (0, 1.905, 0, false),
+                        (40, 1.913, 0, false),
+                        (80, 1.921, 0, false),
+                    ],
                     passes: vec![
                         ("Eastfield Dragway", 4500.0, 1.42, 10.95),
                         ("Eastfield Dragway", 4600.0, 1.39, 10.88),
@@ -192,12 +203,12 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         setups: vec![(2.0, 18.0)],
                         shims_in: vec![0.010, 0.010],
                         heights: vec![
-                            (0, 1.850, 0),
-                            (50, 1.866, 0),
-                            (50, 1.856, 1),
-                            (100, 1.868, 1),
-                            (100, 1.858, 2),
-                            (140, 1.874, 2),
+                            (0, 1.850, 0, false),
+                            (50, 1.866, 0, false),
+                            (50, 1.856, 1, false),
+                            (100, 1.868, 1, false),
+                            (100, 1.858, 2, false),
+                            (140, 1.874, 2, false),
                         ],
                         passes: vec![("Eastfield Dragway", 5000.0, 1.31, 10.21)],
                         status: "active",
@@ -213,7 +224,7 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         levers: 3,
                         setups: vec![(1.0, 20.0)],
                         shims_in: vec![0.010],
-                        heights: vec![(0, 1.900, 0), (60, 1.909, 0)],
+                        heights: vec![(0, 1.900, 0, false), (60, 1.909, 0, false)],
                         passes: vec![],
                         status: "retired",
                     },
@@ -241,7 +252,14 @@ fn demo_customers() -> Vec<DemoCustomer> {
                     levers: 3,
                     setups: vec![(1.25, 14.0)],
                     shims_in: vec![0.010, 0.010],
-                    heights: vec![(0, 1.780, 0), (30, 1.784, 0)],
+                    heights: vec![
+                        (0, 1.776, 0, false),
+                        (60, 1.792, 0, false),
+                        (60, 1.782, 1, false),
+                        (110, 1.797, 1, false),
+                        (0, 1.780, 0, true),
+                        (30, 1.784, 0, false),
+                    ],
                     passes: vec![("Millbrook Raceway", 5500.0, 1.55, 11.60)],
                     status: "active",
                 }],
@@ -269,7 +287,7 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         levers: 3,
                         setups: vec![(1.0, 18.0)],
                         shims_in: vec![0.010, 0.010, 0.010],
-                        heights: vec![(0, 1.910, 0), (25, 1.913, 0)],
+                        heights: vec![(0, 1.910, 0, false), (25, 1.913, 0, false)],
                         passes: vec![],
                         status: "active",
                     }],
@@ -292,7 +310,7 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         levers: 3,
                         setups: vec![(1.5, 20.0)],
                         shims_in: vec![0.010, 0.010],
-                        heights: vec![(0, 1.900, 0)],
+                        heights: vec![(0, 1.900, 0, false)],
                         passes: vec![("Millbrook Raceway", 4000.0, 1.61, 12.05)],
                         status: "active",
                     }],
@@ -415,16 +433,17 @@ async fn seed_build(
         .await?;
     }
     let mut previous = None;
-    for (i, (passes, height, pulled)) in b.heights.iter().enumerate() {
+    for (i, (passes, height, pulled, new_disc)) in b.heights.iter().enumerate() {
         let h = HeightInput {
-            measured_on: format!("{}-2{}", months[(i).min(5)], i % 8),
+            measured_on: format!("{}-2{}", months[i.min(5)], i % 8),
             height_mm: inch(*height),
             passes: *passes,
             shims_pulled: *pulled,
-            note: if i > 0 && b.heights[i - 1].2 < *pulled {
-                "pulled a shim".into()
-            } else {
-                String::new()
+            new_disc: *new_disc,
+            note: match (new_disc, i > 0 && b.heights[i - 1].2 < *pulled) {
+                (true, _) => "new disc fitted, full shim stack".into(),
+                (false, true) => "pulled a shim".into(),
+                _ => String::new(),
             },
         };
         let ctx = HeightContext {

@@ -2,6 +2,8 @@
 //! cover heights into the clutch module's requests. Storage units (mm, N, N/mm, N*m, g) are the
 //! metric request units, so nothing is converted here. No IO: it works on loaded records.
 
+use std::collections::HashMap;
+
 use crate::clutch::InputError;
 use crate::clutch::capacity::Theory;
 use crate::clutch::friction::FacingMaterial;
@@ -15,6 +17,7 @@ use crate::clutch::springs::BenchPoint;
 use crate::clutch::units::Units;
 use crate::clutch::wear::{Measurement, WearRequest};
 use crate::db::bench::BenchTest;
+use crate::db::builds::ActiveBuild;
 use crate::db::dossier::Dossier;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
@@ -87,10 +90,9 @@ impl<'a> BuildFacts<'a> {
         Trial::from_setup(d.setups.last().map(|s| &s.data))
     }
 
-    /// The wear request of a loaded build.
+    /// The wear request of a loaded build (its current disc).
     pub fn wear(&self, heights: &[crate::db::heights::Height]) -> Result<WearRequest, Missing> {
-        let data: Vec<HeightInput> = heights.iter().map(|h| h.data.clone()).collect();
-        wear_request(self.build, self.settings, self.spring_rate(), &data)
+        wear_request(self.build, self.settings, self.spring_rate(), heights)
     }
 }
 
@@ -204,13 +206,17 @@ fn curve_range(points: &[[f64; 2]]) -> (f64, f64) {
 /// first measurement (new disc, full shim stack). The disc's wear allowance is new minus minimum
 /// thickness; without disc data it is the shimming limit plus the whole stack, so the disc is
 /// due exactly when the shims run out.
-pub fn wear_request(
+pub fn wear_request<T: AsRef<HeightInput>>(
     build: &BuildInput,
     settings: &SettingsInput,
     spring_rate_n_per_mm: Option<f64>,
-    heights: &[HeightInput],
+    heights: &[T],
 ) -> Result<WearRequest, Missing> {
-    let first = heights.first().ok_or("No cover-height measurement yet.")?;
+    let heights = current_disc(heights);
+    let first = heights
+        .first()
+        .ok_or("No cover-height measurement yet.")?
+        .as_ref();
     let rate =
         spring_rate_n_per_mm.ok_or("Record a spring bench test or a nominal spring rate.")?;
     let limit = shimming_limit_mm(build, settings);
@@ -228,6 +234,7 @@ pub fn wear_request(
         disc_wear_allowance: allowance,
         measurements: heights
             .iter()
+            .map(|h| h.as_ref())
             .map(|h| Measurement {
                 passes: h.passes.max(0) as u32,
                 cover_height: h.height_mm,
@@ -235,6 +242,15 @@ pub fn wear_request(
             })
             .collect(),
     })
+}
+
+/// The measurements of the disc in the clutch now: from the latest new-disc baseline on.
+pub fn current_disc<T: AsRef<HeightInput>>(heights: &[T]) -> &[T] {
+    let start = heights
+        .iter()
+        .rposition(|h| h.as_ref().new_disc)
+        .unwrap_or(0);
+    &heights[start..]
 }
 
 /// The build's own shimming limit, or the shop's default.
@@ -269,4 +285,117 @@ pub fn figures(req: &CapacityRequest, units: Units) -> Result<Figures, InputErro
         clamp_at_top: units.n_to_force(law.clamp_n(top)),
         report: report_for(&valid),
     })
+}
+
+/// Why a build is on the work-due list, most urgent first.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DueReason {
+    DiscDue,
+    /// A shim is due now; the thickness of the next one (mm).
+    ShimDue(Option<f64>),
+    /// A forecast falls within the shop's window: passes to go, and whether it is the disc.
+    Soon {
+        passes: f64,
+        disc: bool,
+    },
+    /// The latest bench test found the set out of tolerance or a spring sagged.
+    Springs {
+        spread_pct: f64,
+        out_of_tolerance: bool,
+        sagged: usize,
+    },
+}
+
+impl DueReason {
+    /// Sort key: smaller is more urgent.
+    fn urgency(&self) -> f64 {
+        match self {
+            Self::DiscDue => 0.0,
+            Self::ShimDue(_) => 1.0,
+            Self::Soon { passes, .. } => 2.0 + passes / 1e6,
+            Self::Springs { .. } => 3.0,
+        }
+    }
+}
+
+/// One line of the counter's work-due list.
+#[derive(Debug, Clone)]
+pub struct Due {
+    pub build_id: i64,
+    pub build_label: String,
+    pub customer_id: i64,
+    pub customer_name: String,
+    pub customer_phone: String,
+    pub car_description: String,
+    pub reason: DueReason,
+}
+
+/// The work due across the shop: builds with a disc or shim due, forecasts within
+/// `settings.due_within_passes`, and spring sets flagged by their latest bench test; most
+/// urgent first. Inputs are grouped by build id (any order within the slices is kept).
+pub fn work_due(
+    builds: &[ActiveBuild],
+    heights: &[crate::db::heights::Height],
+    bench: &[BenchTest],
+    settings: &SettingsInput,
+) -> Vec<Due> {
+    let window = settings.due_within_passes as f64;
+    let mut tests_of: HashMap<i64, Vec<BenchTest>> = HashMap::new();
+    for t in bench {
+        tests_of.entry(t.build_id).or_default().push(t.clone());
+    }
+    let mut heights_of: HashMap<i64, Vec<&HeightInput>> = HashMap::new();
+    for h in heights {
+        heights_of.entry(h.build_id).or_default().push(&h.data);
+    }
+    let mut out = Vec::new();
+    for ab in builds {
+        let b = &ab.build;
+        let review = bench_review(tests_of.get(&b.id).map_or(&[], |t| t.as_slice()), settings);
+        let tested = review
+            .as_ref()
+            .and_then(|r| r.last().map(|t| t.spread.mean));
+        let own = heights_of.get(&b.id).map_or(&[][..], |h| h.as_slice());
+        let line = |reason| Due {
+            build_id: b.id,
+            build_label: b.data.label.clone(),
+            customer_id: ab.owner.customer_id,
+            customer_name: ab.owner.customer_name.clone(),
+            customer_phone: ab.owner.customer_phone.clone(),
+            car_description: ab.owner.car_description.clone(),
+            reason,
+        };
+        let rate = tested.or(b.data.spring_rate_n_per_mm);
+        if let Ok(req) = wear_request(&b.data, settings, rate, own)
+            && let Ok(report) = crate::clutch::wear::analyze(&req)
+        {
+            use crate::clutch::wear::WearStatus;
+            let reason = match report.status {
+                WearStatus::DiscDue => Some(DueReason::DiscDue),
+                WearStatus::ShimDue => Some(DueReason::ShimDue(report.next_shim)),
+                WearStatus::Ok => {
+                    let shim = report.passes_to_shim_due.map(|p| (p, false));
+                    let disc = report.passes_to_disc_due.map(|p| (p, true));
+                    [shim, disc]
+                        .into_iter()
+                        .flatten()
+                        .filter(|(p, _)| *p <= window)
+                        .min_by(|a, b| a.0.total_cmp(&b.0))
+                        .map(|(passes, disc)| DueReason::Soon { passes, disc })
+                }
+            };
+            out.extend(reason.map(line));
+        }
+        if let Some(last) = review.as_ref().and_then(|r| r.last())
+            && (last.spread.out_of_tolerance || !last.sagged.is_empty())
+        {
+            out.push(line(DueReason::Springs {
+                spread_pct: last.spread.spread_pct,
+                out_of_tolerance: last.spread.out_of_tolerance,
+                sagged: last.sagged.len(),
+            }));
+        }
+    }
+    out.sort_by(|a, b| a.reason.urgency().total_cmp(&b.reason.urgency()));
+    out
 }

@@ -29,27 +29,52 @@ pub struct BenchSpring {
 
 /// A build's bench tests, oldest first, each with its readings by spring position.
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<BenchTest>> {
-    let mut tests: Vec<BenchTest> = sqlx::query_as(
-        "SELECT id, build_id, tested_on, note, created_at FROM bench_tests
-         WHERE build_id = ? ORDER BY tested_on, id",
+    with_springs(conn, "t.build_id = ?", Some(build_id)).await
+}
+
+/// The bench tests of every active build of a live customer, by build, oldest first.
+pub async fn for_active_builds(conn: &mut SqliteConnection) -> sqlx::Result<Vec<BenchTest>> {
+    with_springs(
+        conn,
+        "t.build_id IN (SELECT b.id FROM builds b JOIN cars k ON k.id = b.car_id
+             JOIN customers c ON c.id = k.customer_id
+             WHERE b.status = 'active' AND c.deleted_at IS NULL)",
+        None,
     )
-    .bind(build_id)
-    .fetch_all(&mut *conn)
-    .await?;
-    let springs: Vec<BenchSpring> = sqlx::query_as(
+    .await
+}
+
+/// Bench tests matching `filter` (a fixed condition on `t`, optionally binding one id) with
+/// their readings: two queries, whatever the number of tests.
+async fn with_springs(
+    conn: &mut SqliteConnection,
+    filter: &str,
+    id: Option<i64>,
+) -> sqlx::Result<Vec<BenchTest>> {
+    let tests_sql = format!(
+        "SELECT t.id, t.build_id, t.tested_on, t.note, t.created_at FROM bench_tests t
+         WHERE {filter} ORDER BY t.build_id, t.tested_on, t.id"
+    );
+    let springs_sql = format!(
         "SELECT s.bench_test_id, s.position, s.free_length_mm, s.compression_mm, s.force_n
          FROM bench_springs s JOIN bench_tests t ON t.id = s.bench_test_id
-         WHERE t.build_id = ? ORDER BY s.bench_test_id, s.position",
-    )
-    .bind(build_id)
-    .fetch_all(conn)
-    .await?;
+         WHERE {filter} ORDER BY s.bench_test_id, s.position"
+    );
+    let mut tests_q = sqlx::query_as::<_, BenchTest>(sqlx::AssertSqlSafe(tests_sql));
+    let mut springs_q = sqlx::query_as::<_, BenchSpring>(sqlx::AssertSqlSafe(springs_sql));
+    if let Some(id) = id {
+        tests_q = tests_q.bind(id);
+        springs_q = springs_q.bind(id);
+    }
+    let mut tests = tests_q.fetch_all(&mut *conn).await?;
+    let springs = springs_q.fetch_all(conn).await?;
+    let mut by_test: std::collections::HashMap<i64, Vec<BenchSpring>> =
+        std::collections::HashMap::new();
+    for s in springs {
+        by_test.entry(s.bench_test_id).or_default().push(s);
+    }
     for test in &mut tests {
-        test.springs = springs
-            .iter()
-            .filter(|s| s.bench_test_id == test.id)
-            .cloned()
-            .collect();
+        test.springs = by_test.remove(&test.id).unwrap_or_default();
     }
     Ok(tests)
 }

@@ -159,3 +159,23 @@ pub async fn update(
         .await?;
     Ok(done.rows_affected() == 1)
 }
+
+/// An active build of a live customer, with who it belongs to (for the work-due list).
+#[derive(Debug, Clone, FromRow)]
+pub struct ActiveBuild {
+    #[sqlx(flatten)]
+    pub build: Build,
+    #[sqlx(flatten)]
+    pub owner: BuildOwner,
+}
+
+pub async fn active(conn: &mut SqliteConnection) -> sqlx::Result<Vec<ActiveBuild>> {
+    sqlx::query_as(
+        "SELECT b.*, c.id AS customer_id, c.name AS customer_name, c.phone AS customer_phone,
+                k.description AS car_description
+         FROM builds b JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
+         WHERE b.status = 'active' AND c.deleted_at IS NULL ORDER BY b.id",
+    )
+    .fetch_all(conn)
+    .await
+}

@@ -18,13 +18,17 @@ pub struct Height {
     pub updated_at: String,
 }
 
+impl AsRef<HeightInput> for Height {
+    fn as_ref(&self) -> &HeightInput {
+        &self.data
+    }
+}
+
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Height>> {
-    sqlx::query_as(
-        "SELECT * FROM cover_heights WHERE build_id = ? ORDER BY passes, measured_on, id",
-    )
-    .bind(build_id)
-    .fetch_all(conn)
-    .await
+    sqlx::query_as("SELECT * FROM cover_heights WHERE build_id = ? ORDER BY id")
+        .bind(build_id)
+        .fetch_all(conn)
+        .await
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Height>> {
@@ -35,6 +39,7 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
 }
 
 /// The latest (passes, shims pulled) on a build, other than measurement `except`.
+/// Measurements keep their order across disc changes; a new disc resets both counts.
 pub async fn latest(
     conn: &mut SqliteConnection,
     build_id: i64,
@@ -42,11 +47,22 @@ pub async fn latest(
 ) -> sqlx::Result<Option<(i64, i64)>> {
     sqlx::query_as(
         "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id != ?
-         ORDER BY passes DESC, id DESC LIMIT 1",
+         ORDER BY id DESC LIMIT 1",
     )
     .bind(build_id)
     .bind(except)
     .fetch_optional(conn)
+    .await
+}
+
+/// Cover heights of every active build of a live customer, by build then in recorded order.
+pub async fn for_active_builds(conn: &mut SqliteConnection) -> sqlx::Result<Vec<Height>> {
+    sqlx::query_as(
+        "SELECT h.* FROM cover_heights h JOIN builds b ON b.id = h.build_id
+         JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
+         WHERE b.status = 'active' AND c.deleted_at IS NULL ORDER BY h.build_id, h.id",
+    )
+    .fetch_all(conn)
     .await
 }
 
@@ -57,14 +73,15 @@ pub async fn insert(
     h: &Checked<HeightInput>,
 ) -> sqlx::Result<i64> {
     sqlx::query_scalar(
-        "INSERT INTO cover_heights (build_id, measured_on, height_mm, passes, shims_pulled, note, user_id)
-         VALUES (?, ?, ?, ?, ?, ?, ?) RETURNING id",
+        "INSERT INTO cover_heights (build_id, measured_on, height_mm, passes, shims_pulled, new_disc, note, user_id)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
     )
     .bind(build_id)
     .bind(&h.measured_on)
     .bind(h.height_mm)
     .bind(h.passes)
     .bind(h.shims_pulled)
+    .bind(h.new_disc)
     .bind(&h.note)
     .bind(user_id)
     .fetch_one(conn)
@@ -78,12 +95,13 @@ pub async fn update(
 ) -> sqlx::Result<bool> {
     let done = sqlx::query(
         "UPDATE cover_heights SET measured_on = ?, height_mm = ?, passes = ?, shims_pulled = ?,
-             note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
+             new_disc = ?, note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
     )
     .bind(&h.measured_on)
     .bind(h.height_mm)
     .bind(h.passes)
     .bind(h.shims_pulled)
+    .bind(h.new_disc)
     .bind(&h.note)
     .bind(id)
     .execute(conn)

@@ -13,6 +13,8 @@ pub struct HeightInput {
     pub passes: i64,
     /// How many shims of the stack had been pulled by then.
     pub shims_pulled: i64,
+    /// This measurement is the baseline of a newly fitted disc (full shim stack back in).
+    pub new_disc: bool,
     pub note: String,
 }
 
@@ -23,6 +25,7 @@ impl Default for HeightInput {
             height_mm: f64::NAN,
             passes: -1,
             shims_pulled: 0,
+            new_disc: false,
             note: String::new(),
         }
     }
@@ -32,8 +35,14 @@ impl Default for HeightInput {
 #[derive(Debug, Clone, Copy, Default)]
 pub struct HeightContext {
     pub shims_in_stack: usize,
-    /// The latest recorded pass count and shims pulled, if any.
+    /// The latest recorded pass count and shims pulled on the current disc, if any.
     pub previous: Option<(i64, i64)>,
+}
+
+impl AsRef<HeightInput> for HeightInput {
+    fn as_ref(&self) -> &HeightInput {
+        self
+    }
 }
 
 impl HeightInput {
@@ -43,6 +52,7 @@ impl HeightInput {
             height_mm: r.length("height"),
             passes: r.integer("passes"),
             shims_pulled: r.opt_number("shims_pulled").map_or(0, |v| v as i64),
+            new_disc: r.checked("new_disc"),
             note: r.text("note"),
         }
     }
@@ -67,7 +77,13 @@ impl HeightInput {
                 format!("must be between 0 and {stack} (the shims in this build's stack)"),
             );
         }
-        if let Some((passes, pulled)) = ctx.previous {
+        if self.new_disc && self.shims_pulled != 0 {
+            errors.add(
+                "shims_pulled",
+                "a new disc starts with the full shim stack (0 pulled)",
+            );
+        }
+        if let Some((passes, pulled)) = ctx.previous.filter(|_| !self.new_disc) {
             if self.passes < passes {
                 errors.add(
                     "passes",

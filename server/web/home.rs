@@ -12,6 +12,7 @@ use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::CustomerSummary;
 use crate::error::AppResult;
+use crate::model::{self, Due, DueReason};
 
 #[derive(Template)]
 #[template(path = "home.html")]
@@ -21,9 +22,61 @@ pub struct FrontPage {
     pub found: Vec<CustomerSummary>,
     pub found_total: i64,
     pub recent: Vec<Activity>,
+    pub due: Vec<Due>,
 }
 
 impl FrontPage {
+    /// (CSS class, status word with its shape, what to do) for a line of the due list.
+    pub fn due_text(&self, d: &Due) -> (&'static str, &'static str, String) {
+        let u = &self.page.u;
+        match &d.reason {
+            DueReason::DiscDue => (
+                "bad",
+                "■ disc due",
+                "Disc at its wear limit: replace the disc.".into(),
+            ),
+            DueReason::ShimDue(Some(shim)) => (
+                "warn",
+                "▲ shim due",
+                format!("Pull the {} shim.", u.len(shim)),
+            ),
+            DueReason::ShimDue(None) => ("warn", "▲ shim due", "Shimming limit reached.".into()),
+            DueReason::Soon {
+                passes,
+                disc: false,
+            } => (
+                "soon",
+                "◆ shim soon",
+                format!("About {passes:.0} passes to the next shim."),
+            ),
+            DueReason::Soon { passes, disc: true } => (
+                "soon",
+                "◆ disc soon",
+                format!("About {passes:.0} passes until the disc is due."),
+            ),
+            DueReason::Springs {
+                spread_pct,
+                out_of_tolerance,
+                sagged,
+            } => {
+                let mut parts = Vec::new();
+                if *out_of_tolerance {
+                    parts.push(format!(
+                        "rate spread {spread_pct:.1} % is over the shop's tolerance"
+                    ));
+                }
+                if *sagged > 0 {
+                    parts.push(format!("{sagged} spring(s) lost rate since the last test"));
+                }
+                (
+                    "warn",
+                    "▲ springs",
+                    format!("Latest bench test: {}.", parts.join("; ")),
+                )
+            }
+        }
+    }
+
     pub fn activity_label(kind: &str) -> &'static str {
         match kind {
             "setup" => "setup change",
@@ -41,21 +94,26 @@ pub async fn front(
     Query(q): Query<ListQuery>,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let (page, _) = Layout::load(&mut conn, &user, "home", "Counter").await?;
+    let (page, settings) = Layout::load(&mut conn, &user, "home", "Counter").await?;
     let (found, found_total) = if q.q.trim().is_empty() {
         (Vec::new(), 0)
     } else {
         db::customers::search(&mut conn, &q.q, 0).await?
     };
     let recent = db::activity::recent(&mut conn, 12).await?;
-    Ok(Html(
-        FrontPage {
-            page,
-            q: q.q,
-            found,
-            found_total,
-            recent,
-        }
-        .render()?,
-    ))
+    let due = model::work_due(
+        &db::builds::active(&mut conn).await?,
+        &db::heights::for_active_builds(&mut conn).await?,
+        &db::bench::for_active_builds(&mut conn).await?,
+        &settings,
+    );
+    let page = FrontPage {
+        page,
+        q: q.q,
+        found,
+        found_total,
+        recent,
+        due,
+    };
+    Ok(Html(page.render()?))
 }

@@ -5,6 +5,10 @@ use super::chart::Chart;
 use super::show::Show;
 use crate::clutch::wear::{WearReport, WearStatus};
 use crate::db::heights::Height;
+use crate::model::current_disc;
+
+/// Growth, total disc wear and clamp lost at one measurement (storage units).
+pub type WearFigures = (f64, f64, f64);
 
 /// A build's wear, ready for its page and the front page.
 pub struct WearView {
@@ -14,8 +18,9 @@ pub struct WearView {
     /// The forecast in words ("about 35 passes to the next shim").
     pub forecast: Vec<String>,
     pub chart: Chart,
-    /// Per measurement: the record and its (growth, total wear, clamp lost) figures.
-    pub rows: Vec<(Height, f64, f64, f64)>,
+    /// Per measurement, newest disc last: the record and, on the disc in the clutch now, its
+    /// (growth, total wear, clamp lost) figures.
+    pub rows: Vec<(Height, Option<WearFigures>)>,
 }
 
 impl WearView {
@@ -85,17 +90,26 @@ pub fn forecast(u: &Show, r: &WearReport) -> Vec<String> {
     out
 }
 
-/// Builds the view from the analysed report (storage units) and the measurements.
+/// Builds the view from the analysed report of the current disc (storage units) and all the
+/// build's measurements (earlier discs are kept as history).
 pub fn view(u: &Show, report: WearReport, heights: &[Height], limit_mm: f64) -> WearView {
+    let current = current_disc(heights);
+    let earlier = heights.len() - current.len();
     let rows = heights
         .iter()
-        .zip(&report.measurements)
-        .map(|(h, p)| (h.clone(), p.growth, p.total_wear, p.clamp_loss))
+        .enumerate()
+        .map(|(i, h)| {
+            let figures = i
+                .checked_sub(earlier)
+                .and_then(|j| report.measurements.get(j))
+                .map(|p| (p.growth, p.total_wear, p.clamp_loss));
+            (h.clone(), figures)
+        })
         .collect();
     WearView {
         headline: headline(u, &report),
         forecast: forecast(u, &report),
-        chart: chart(u, &report, heights, limit_mm),
+        chart: chart(u, &report, current, limit_mm),
         rows,
         report,
     }

@@ -15,9 +15,23 @@ use lockpoint::clutch::units::Units;
 fn request() -> CapacityRequest {
     CapacityRequest {
         units: Units::Imperial,
-        disc: DiscInput { outer_diameter: 10.4, inner_diameter: 6.6, count: 1, theory: Default::default() },
-        friction: FrictionInput { mu: Some(0.32), material: None },
-        springs: SpringsInput { count: 6, rate: 380.0, base_compression: 0.22, adjuster_pitch: 0.0625, adjuster_turns: 1.5 },
+        disc: DiscInput {
+            outer_diameter: 10.4,
+            inner_diameter: 6.6,
+            count: 1,
+            theory: Default::default(),
+        },
+        friction: FrictionInput {
+            mu: Some(0.32),
+            material: None,
+        },
+        springs: SpringsInput {
+            count: 6,
+            rate: 380.0,
+            base_compression: 0.22,
+            adjuster_pitch: 0.0625,
+            adjuster_turns: 1.5,
+        },
         levers: Some(LeversInput {
             count: 3,
             counterweight_g: 24.0,
@@ -28,8 +42,15 @@ fn request() -> CapacityRequest {
         }),
         engine: EngineInput {
             torque_curve: vec![
-                [1000.0, 250.0], [2000.0, 330.0], [3000.0, 410.0], [4000.0, 455.0], [5000.0, 480.0],
-                [6000.0, 470.0], [7000.0, 430.0], [8000.0, 390.0], [9000.0, 340.0],
+                [1000.0, 250.0],
+                [2000.0, 330.0],
+                [3000.0, 410.0],
+                [4000.0, 455.0],
+                [5000.0, 480.0],
+                [6000.0, 470.0],
+                [7000.0, 430.0],
+                [8000.0, 390.0],
+                [9000.0, 340.0],
             ],
         },
         launch_rpm: Some(4500.0),
@@ -46,7 +67,10 @@ fn benches(c: &mut Criterion) {
     });
     let rec = RecommendRequest {
         setup: request(),
-        targets: Targets { lockup_rpm: 5600.0, launch_ratio: Some(0.85) },
+        targets: Targets {
+            lockup_rpm: 5600.0,
+            launch_ratio: Some(0.85),
+        },
         steps: Steps::default(),
         limits: Limits::default(),
     };

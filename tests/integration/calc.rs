@@ -20,7 +20,14 @@ fn example() -> Value {
 async fn capacity_answers_with_the_contract_fields() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app.api("POST", "/api/v1/calc/capacity", Some(&token), Some(example())).await;
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/capacity",
+            Some(&token),
+            Some(example()),
+        )
+        .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     // [D] arithmetic of F = n·k·(x0 + turns·pitch) = 6 × 380 × (0.22 + 1.5 × 0.0625) = 715.35 lbf
@@ -32,7 +39,12 @@ async fn capacity_answers_with_the_contract_fields() {
     assert_eq!(curve.len(), 41, "every 100 rpm from 3000 to 7000 inclusive");
     assert_eq!(curve[0]["rpm"], 3000.0);
     assert_eq!(curve[40]["rpm"], 7000.0);
-    for key in ["centrifugal_clamp", "total_clamp", "capacity", "engine_torque"] {
+    for key in [
+        "centrifugal_clamp",
+        "total_clamp",
+        "capacity",
+        "engine_torque",
+    ] {
         assert!(curve[10][key].is_number(), "{key}");
     }
     assert!(v["lockup_rpm"].is_number());
@@ -55,13 +67,34 @@ async fn field_of(app: &TestApp, token: &str, path: &str, body: Value) -> String
 async fn bad_capacity_input_names_the_field() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
-    let cases: Vec<(&str, Box<dyn Fn(&mut Value)>)> = vec![
-        ("springs", Box::new(|v| { v.as_object_mut().unwrap().remove("springs"); })),
-        ("springs.rate", Box::new(|v| v["springs"]["rate"] = json!("stiff"))),
-        ("springs.rate", Box::new(|v| v["springs"]["rate"] = json!(-380.0))),
-        ("disc.inner_diameter", Box::new(|v| v["disc"]["inner_diameter"] = json!(11.0))),
-        ("friction.mu", Box::new(|v| v["friction"]["mu"] = json!(0.9))),
-        ("engine.torque_curve", Box::new(|v| v["engine"]["torque_curve"] = json!([[3000, 400], [4000, 420]]))),
+    type Change = Box<dyn Fn(&mut Value)>;
+    let cases: Vec<(&str, Change)> = vec![
+        (
+            "springs",
+            Box::new(|v| {
+                v.as_object_mut().unwrap().remove("springs");
+            }),
+        ),
+        (
+            "springs.rate",
+            Box::new(|v| v["springs"]["rate"] = json!("stiff")),
+        ),
+        (
+            "springs.rate",
+            Box::new(|v| v["springs"]["rate"] = json!(-380.0)),
+        ),
+        (
+            "disc.inner_diameter",
+            Box::new(|v| v["disc"]["inner_diameter"] = json!(11.0)),
+        ),
+        (
+            "friction.mu",
+            Box::new(|v| v["friction"]["mu"] = json!(0.9)),
+        ),
+        (
+            "engine.torque_curve",
+            Box::new(|v| v["engine"]["torque_curve"] = json!([[3000, 400], [4000, 420]])),
+        ),
         ("launch_rpm", Box::new(|v| v["launch_rpm"] = json!(9000))),
         ("disc.count", Box::new(|v| v["disc"]["count"] = json!(4))),
         ("units", Box::new(|v| v["units"] = json!("cubits"))),
@@ -72,7 +105,9 @@ async fn bad_capacity_input_names_the_field() {
         let field = field_of(&app, &t, "/api/v1/calc/capacity", body).await;
         assert!(field.starts_with(want), "expected {want}, got {field}");
     }
-    let no_token = app.api("POST", "/api/v1/calc/capacity", None, Some(example())).await;
+    let no_token = app
+        .api("POST", "/api/v1/calc/capacity", None, Some(example()))
+        .await;
     assert_eq!(no_token.status, StatusCode::UNAUTHORIZED);
 }
 
@@ -82,25 +117,48 @@ async fn a_recommendation_comes_back_on_the_grid_and_reproduces_its_result() {
     let t = app.token("sam").await;
     let mut body = example();
     body["targets"] = json!({"lockup_rpm": 5600});
-    let r = app.api("POST", "/api/v1/calc/recommend", Some(&t), Some(body.clone())).await;
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/recommend",
+            Some(&t),
+            Some(body.clone()),
+        )
+        .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     let cw = v["recommended"]["counterweight_g"].as_f64().unwrap();
-    assert_eq!(v["recommended"]["adjuster_turns"], 1.5, "lockup-only keeps the turns");
+    assert_eq!(
+        v["recommended"]["adjuster_turns"], 1.5,
+        "lockup-only keeps the turns"
+    );
     assert_eq!(cw.fract(), 0.0, "1 g grid");
     assert!(v["alternatives"].is_array() && v["notes"].is_array());
     // The reported lockup is what the capacity endpoint gives at that setting.
     let mut check = example();
     check["levers"]["counterweight_g"] = json!(cw);
-    let c = app.api("POST", "/api/v1/calc/capacity", Some(&t), Some(check)).await.json();
-    assert!((c["lockup_rpm"].as_f64().unwrap() - v["result"]["lockup_rpm"].as_f64().unwrap()).abs() < 1e-6);
+    let c = app
+        .api("POST", "/api/v1/calc/capacity", Some(&t), Some(check))
+        .await
+        .json();
+    assert!(
+        (c["lockup_rpm"].as_f64().unwrap() - v["result"]["lockup_rpm"].as_f64().unwrap()).abs()
+            < 1e-6
+    );
 
     let mut bad = body.clone();
     bad["targets"]["lockup_rpm"] = json!("soon");
-    assert_eq!(field_of(&app, &t, "/api/v1/calc/recommend", bad).await, "targets.lockup_rpm");
+    assert_eq!(
+        field_of(&app, &t, "/api/v1/calc/recommend", bad).await,
+        "targets.lockup_rpm"
+    );
     let mut no_levers = body;
     no_levers.as_object_mut().unwrap().remove("levers");
-    assert!(field_of(&app, &t, "/api/v1/calc/recommend", no_levers).await.starts_with("levers"));
+    assert!(
+        field_of(&app, &t, "/api/v1/calc/recommend", no_levers)
+            .await
+            .starts_with("levers")
+    );
 }
 
 fn wear_example() -> Value {
@@ -115,7 +173,9 @@ fn wear_example() -> Value {
 async fn wear_follows_the_shim_rules_and_names_bad_fields() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
-    let r = app.api("POST", "/api/v1/calc/wear", Some(&t), Some(wear_example())).await;
+    let r = app
+        .api("POST", "/api/v1/calc/wear", Some(&t), Some(wear_example()))
+        .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert_eq!(v["status"], "ok");
@@ -132,17 +192,29 @@ async fn wear_follows_the_shim_rules_and_names_bad_fields() {
 
     let mut neg = wear_example();
     neg["measurements"][1]["cover_height"] = json!(-1.0);
-    assert_eq!(field_of(&app, &t, "/api/v1/calc/wear", neg).await, "measurements[1].cover_height");
+    assert_eq!(
+        field_of(&app, &t, "/api/v1/calc/wear", neg).await,
+        "measurements[1].cover_height"
+    );
     let mut beyond = wear_example();
     beyond["measurements"][1]["shims_pulled"] = json!(4);
-    assert_eq!(field_of(&app, &t, "/api/v1/calc/wear", beyond).await, "measurements[1].shims_pulled");
+    assert_eq!(
+        field_of(&app, &t, "/api/v1/calc/wear", beyond).await,
+        "measurements[1].shims_pulled"
+    );
     let mut back = wear_example();
     back["measurements"][1]["passes"] = json!(0);
     back["measurements"][0]["passes"] = json!(10);
-    assert_eq!(field_of(&app, &t, "/api/v1/calc/wear", back).await, "measurements[1].passes");
+    assert_eq!(
+        field_of(&app, &t, "/api/v1/calc/wear", back).await,
+        "measurements[1].passes"
+    );
     let mut empty = wear_example();
     empty["measurements"] = json!([]);
-    assert_eq!(field_of(&app, &t, "/api/v1/calc/wear", empty).await, "measurements");
+    assert_eq!(
+        field_of(&app, &t, "/api/v1/calc/wear", empty).await,
+        "measurements"
+    );
 }
 
 #[tokio::test]
@@ -150,9 +222,22 @@ async fn a_stored_build_answers_its_wear() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
     let ts = Some(t.as_str());
-    let c = app.api("POST", "/api/v1/customers", ts, Some(json!({"name": "Noor Abernethy"}))).await.json();
+    let c = app
+        .api(
+            "POST",
+            "/api/v1/customers",
+            ts,
+            Some(json!({"name": "Noor Abernethy"})),
+        )
+        .await
+        .json();
     let car = app
-        .api("POST", &format!("/api/v1/customers/{}/cars", c["id"]), ts, Some(json!({"description": "'72 coupe, 350 V8, 4-speed"})))
+        .api(
+            "POST",
+            &format!("/api/v1/customers/{}/cars", c["id"]),
+            ts,
+            Some(json!({"description": "'72 coupe, 350 V8, 4-speed"})),
+        )
         .await
         .json();
     let b = app
@@ -163,7 +248,9 @@ async fn a_stored_build_answers_its_wear() {
         .await
         .json();
     let id = b["id"].as_i64().unwrap();
-    let none = app.api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None).await;
+    let none = app
+        .api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None)
+        .await;
     assert_eq!(none.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(none.json()["field"], "measurements");
     for (passes, h) in [(0, 48.387), (30, 48.590)] {
@@ -173,7 +260,9 @@ async fn a_stored_build_answers_its_wear() {
             .await;
         assert_eq!(m.status, StatusCode::CREATED);
     }
-    let w = app.api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None).await;
+    let w = app
+        .api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None)
+        .await;
     assert_eq!(w.status, StatusCode::OK, "{}", w.body);
     // growth 0.203 mm < 0.381 mm limit: ok, next shim 0.254 mm
     assert_eq!(w.json()["status"], "ok");

@@ -5,3 +5,4 @@ mod calc;
 mod cli;
 mod records;
 mod support;
+mod wear;
