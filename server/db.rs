@@ -13,6 +13,7 @@ pub mod passes;
 pub mod sessions;
 pub mod settings;
 pub mod setups;
+pub mod sheets;
 pub mod tokens;
 pub mod users;
 
@@ -57,6 +58,11 @@ pub const MIGRATIONS: &[(i64, &str, &str)] = &[
         2,
         "new disc baseline",
         include_str!("../migrations/0002_new_disc_baseline.sql"),
+    ),
+    (
+        3,
+        "setup sheets",
+        include_str!("../migrations/0003_setup_sheets.sql"),
     ),
 ];
 

@@ -20,6 +20,8 @@ pub mod error;
 pub mod model;
 /// Shop records as checked inputs, read from forms or JSON (no IO).
 pub mod records;
+/// The setup sheet: its stored inputs and the figures it shows (no IO).
+pub mod sheet;
 /// Pages, forms, the JSON API and the router.
 pub mod web;
 

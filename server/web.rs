@@ -13,6 +13,7 @@ mod extract;
 mod home;
 mod layout;
 mod login;
+mod sheets;
 mod show;
 mod wear;
 
@@ -70,6 +71,11 @@ pub fn app(state: AppState) -> Router {
         .route("/builds/{id}", get(builds::show).post(builds::update))
         .route("/builds/{id}/edit", get(builds::edit))
         .route("/builds/{id}/tune", get(capacity::tune))
+        .route("/builds/{id}/sheets", post(sheets::create))
+        .route("/sheets/{id}", get(sheets::show))
+        .route("/sheets/{id}/links", post(sheets::create_link))
+        .route("/links/{id}/revoke", post(sheets::revoke_link))
+        .route("/s/{secret}", get(sheets::public))
         .route("/builds/{id}/setups", post(entries::add_setup))
         .route("/builds/{id}/bench-tests", post(entries::add_bench_test))
         .route("/builds/{id}/heights", post(entries::add_height))
@@ -80,7 +86,8 @@ pub fn app(state: AppState) -> Router {
         .route("/users/{id}/enable", post(admin::enable_user))
         .route("/users/{id}/password", post(admin::reset_password))
         .route("/healthz", get(healthz))
-        .route("/static/style.css", get(stylesheet));
+        .route("/static/style.css", get(stylesheet))
+        .route("/static/print.js", get(print_script));
 
     Router::new()
         .merge(pages)
@@ -121,6 +128,17 @@ async fn healthz() -> &'static str {
 
 async fn not_found() -> crate::error::AppError {
     crate::error::AppError::NotFound
+}
+
+/// The Print button's one line of script (the sheet prints without it too).
+async fn print_script() -> impl IntoResponse {
+    (
+        [
+            (header::CONTENT_TYPE, "text/javascript; charset=utf-8"),
+            (header::CACHE_CONTROL, "public, max-age=3600"),
+        ],
+        include_str!("../static/print.js"),
+    )
 }
 
 /// The one stylesheet (screen and print), built into the binary so the server runs from anywhere.

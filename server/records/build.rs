@@ -6,7 +6,7 @@ use super::{Bound, Checked, FieldErrors, FormData, FormReader, Rules};
 use crate::clutch::friction::FacingMaterial;
 use crate::clutch::units::Units;
 
-#[derive(Debug, Clone, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
 pub struct BuildInput {
     pub label: String,

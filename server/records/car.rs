@@ -5,7 +5,7 @@ use serde::{Deserialize, Serialize};
 use super::{Bound, Checked, FieldErrors, FormData, FormReader, Rules};
 use crate::clutch::units::Units;
 
-#[derive(Debug, Clone, Default, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
 pub struct CarInput {
     pub description: String,

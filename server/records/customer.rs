@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::{Checked, FieldErrors, FormData, FormReader, Rules};
 
-#[derive(Debug, Clone, Default, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
 pub struct CustomerInput {
     pub name: String,

@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::{Bound, Checked, FieldErrors, FormReader, Rules};
 
-#[derive(Debug, Clone, Default, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
 pub struct PassInput {
     pub run_on: String,

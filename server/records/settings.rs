@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::{Bound, Checked, FieldErrors, FormReader, Rules};
 
-#[derive(Debug, Clone, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 pub struct SettingsInput {
     pub name: String,
     pub phone: String,

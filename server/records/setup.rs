@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::{Bound, Checked, FieldErrors, FormReader, Rules};
 
-#[derive(Debug, Clone, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
 pub struct SetupInput {
     pub changed_on: String,

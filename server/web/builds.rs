@@ -22,6 +22,7 @@ use crate::db::cars::Car;
 use crate::db::dossier::Dossier;
 use crate::db::heights::Height;
 use crate::db::setups::Setup;
+use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
 use crate::model::{self, BuildFacts, Figures};
 use crate::records::build::BuildInput;
@@ -62,6 +63,8 @@ pub struct ShowPage {
     pub forms: FilledForms,
     /// Spring positions 1..=count, for the bench form's rows.
     pub spring_rows: Vec<usize>,
+    /// Setup sheets printed for this build, newest first.
+    pub sheets: Vec<SheetSummary>,
 }
 
 impl ShowPage {
@@ -196,6 +199,7 @@ pub async fn render_page(
         |m| m.label().to_string(),
     );
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
+    let sheets = db::sheets::for_build(conn, id).await?;
     Ok(ShowPage {
         page,
         d,
@@ -206,6 +210,7 @@ pub async fn render_page(
         wear,
         forms,
         spring_rows,
+        sheets,
     }
     .render()?)
 }

@@ -4,5 +4,6 @@ mod access;
 mod calc;
 mod cli;
 mod records;
+mod sheets;
 mod support;
 mod wear;

@@ -1,0 +1,161 @@
+//! The setup sheet handed to the customer: the snapshot of inputs it is printed from, and the
+//! figures it shows, worked out again from that snapshot (so a reprint matches the original).
+//! No IO.
+
+use serde::{Deserialize, Serialize};
+
+use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
+use crate::clutch::units::Units;
+use crate::clutch::wear::{WearReport, analyze};
+use crate::db::dossier::Dossier;
+use crate::model::{self, BuildFacts, Figures, Trial};
+use crate::records::build::BuildInput;
+use crate::records::car::CarInput;
+use crate::records::height::HeightInput;
+use crate::records::settings::SettingsInput;
+use crate::records::setup::SetupInput;
+
+/// Everything a sheet was printed from, stored with it as JSON.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SheetInputs {
+    pub prepared_on: String,
+    pub prepared_by: String,
+    /// Shop name, contact, units and limits as they were.
+    pub settings: SettingsInput,
+    pub customer_name: String,
+    pub customer_phone: String,
+    pub car: CarInput,
+    pub build: BuildInput,
+    /// The setup in force.
+    pub setup: Option<SetupInput>,
+    /// The latest spring bench test: date and (compression mm, force N) per spring.
+    pub bench: Option<BenchOnSheet>,
+    /// Cover heights of the disc in the clutch, oldest first.
+    pub heights: Vec<HeightInput>,
+    /// Targets for a recommendation, when the technician asked for one.
+    pub targets: Option<SheetTargets>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BenchOnSheet {
+    pub tested_on: String,
+    pub readings: Vec<[f64; 2]>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct SheetTargets {
+    pub lockup_rpm: f64,
+    pub launch_ratio: Option<f64>,
+}
+
+impl SheetInputs {
+    /// The snapshot of a loaded build as it is now.
+    pub fn capture(
+        d: &Dossier,
+        settings: &SettingsInput,
+        prepared_by: &str,
+        prepared_on: &str,
+        targets: Option<SheetTargets>,
+    ) -> Self {
+        Self {
+            prepared_on: prepared_on.into(),
+            prepared_by: prepared_by.into(),
+            settings: settings.clone(),
+            customer_name: d.owner.customer_name.clone(),
+            customer_phone: d.owner.customer_phone.clone(),
+            car: d.car.data.clone(),
+            build: d.build.data.clone(),
+            setup: d.setups.last().map(|s| s.data.clone()),
+            bench: d.bench.last().map(|t| BenchOnSheet {
+                tested_on: t.tested_on.clone(),
+                readings: t
+                    .springs
+                    .iter()
+                    .map(|s| [s.compression_mm, s.force_n])
+                    .collect(),
+            }),
+            heights: model::current_disc(&d.heights)
+                .iter()
+                .map(|h| h.data.clone())
+                .collect(),
+            targets,
+        }
+    }
+
+    pub fn units(&self) -> Units {
+        Units::from_key(&self.settings.units).unwrap_or_default()
+    }
+}
+
+/// What the sheet shows, worked out from its inputs.
+pub struct SheetFigures {
+    /// Mean tested spring rate (N/mm) when there was a bench test.
+    pub tested_rate_n_per_mm: Option<f64>,
+    pub capacity: Result<Figures, String>,
+    pub wear: Result<WearReport, String>,
+    pub recommendation: Option<Result<Recommendation, String>>,
+}
+
+/// Works out the sheet's figures (capacity in the shop's units; wear in storage units).
+pub fn figures(inputs: &SheetInputs) -> SheetFigures {
+    let tested = inputs.bench.as_ref().and_then(|b| {
+        let test = crate::db::bench::BenchTest {
+            id: 0,
+            build_id: 0,
+            tested_on: b.tested_on.clone(),
+            note: String::new(),
+            created_at: String::new(),
+            springs: b
+                .readings
+                .iter()
+                .enumerate()
+                .map(|(i, [x, f])| crate::db::bench::BenchSpring {
+                    bench_test_id: 0,
+                    position: i as i64 + 1,
+                    free_length_mm: None,
+                    compression_mm: *x,
+                    force_n: *f,
+                })
+                .collect(),
+        };
+        model::bench_review(&[test], &inputs.settings).and_then(|r| r.last().map(|t| t.spread.mean))
+    });
+    let facts = BuildFacts {
+        build: &inputs.build,
+        car: &inputs.car,
+        settings: &inputs.settings,
+        tested_rate_n_per_mm: tested,
+    };
+    let units = inputs.units();
+    let trial = Trial::from_setup(inputs.setup.as_ref());
+    let capacity = facts
+        .capacity_request(trial)
+        .and_then(|r| model::figures(&r, units).map_err(|e| e.to_string()));
+    let wear = model::wear_request(
+        &inputs.build,
+        &inputs.settings,
+        facts.spring_rate(),
+        &inputs.heights,
+    )
+    .and_then(|r| analyze(&r).map_err(|e| e.to_string()));
+    let recommendation = inputs.targets.map(|t| {
+        facts.capacity_request(trial).and_then(|setup| {
+            crate::clutch::recommend(&RecommendRequest {
+                setup: setup.in_units(units),
+                targets: Targets {
+                    lockup_rpm: t.lockup_rpm,
+                    launch_ratio: t.launch_ratio,
+                },
+                steps: Steps::default(),
+                limits: Limits::default(),
+            })
+            .map_err(|e| e.to_string())
+        })
+    });
+    SheetFigures {
+        tested_rate_n_per_mm: tested,
+        capacity,
+        wear,
+        recommendation,
+    }
+}

@@ -1,0 +1,419 @@
+//! Setup sheets: printing one (a stored snapshot), viewing and reprinting it, and the
+//! customer's read-only link to it.
+
+use askama::Template;
+use axum::extract::State;
+use axum::http::{HeaderMap, StatusCode, header};
+use axum::response::{Html, IntoResponse, Redirect, Response};
+
+use super::AppState;
+use super::capacity::{capacity_chart, figure_lines};
+use super::chart::Chart;
+use super::extract::{CurrentUser, PathId, SignedForm};
+use super::show::Show;
+use super::wear;
+use crate::auth;
+use crate::clutch::friction::{FacingMaterial, HeatTrend};
+use crate::clutch::wear::WearReport;
+use crate::db;
+use crate::db::sheets::{Link, LinkState, Sheet};
+use crate::error::{AppError, AppResult};
+use crate::records::date::Date;
+use crate::records::{Bound, FieldErrors, FormReader, Rules};
+use crate::sheet::{self, SheetFigures, SheetInputs, SheetTargets};
+
+/// Days a customer's link lasts unless the shop says otherwise.
+pub const DEFAULT_LINK_DAYS: i64 = 30;
+
+/// The sheet itself, as printed; `staff` adds the toolbar for the shop.
+#[derive(Template)]
+#[template(path = "sheets/sheet.html")]
+pub struct SheetPage {
+    pub i: SheetInputs,
+    pub f: SheetFigures,
+    pub u: Show,
+    pub chart: Option<Chart>,
+    pub staff: Option<StaffTools>,
+}
+
+/// What the shop sees around its own copy of the sheet.
+pub struct StaffTools {
+    pub sheet_id: i64,
+    pub build_id: i64,
+    pub csrf: String,
+    pub links: Vec<Link>,
+    /// A link just made: its full address, shown once.
+    pub new_link: Option<String>,
+    pub errors: FieldErrors,
+}
+
+impl SheetPage {
+    fn new(inputs: SheetInputs, staff: Option<StaffTools>) -> Self {
+        let f = sheet::figures(&inputs);
+        let u = Show::new(inputs.units());
+        let chart = f
+            .capacity
+            .as_ref()
+            .ok()
+            .map(|c| capacity_chart(&u, &c.report, None));
+        Self {
+            i: inputs,
+            f,
+            u,
+            chart,
+            staff,
+        }
+    }
+
+    pub fn figure_lines(&self) -> Vec<(&'static str, String)> {
+        self.f
+            .capacity
+            .as_ref()
+            .map(|c| figure_lines(&self.u, c))
+            .unwrap_or_default()
+    }
+
+    pub fn warnings(&self) -> Vec<String> {
+        self.f
+            .capacity
+            .as_ref()
+            .map(|c| c.report.warnings.clone())
+            .unwrap_or_default()
+    }
+
+    pub fn material(&self) -> String {
+        FacingMaterial::from_key(&self.i.build.facing_material).map_or_else(
+            || self.i.build.facing_material.clone(),
+            |m| m.label().to_string(),
+        )
+    }
+
+    /// What heat does to this facing's grip, in words.
+    pub fn heat_note(&self) -> &'static str {
+        match FacingMaterial::from_key(&self.i.build.facing_material).map(|m| m.data().heat_trend) {
+            Some(HeatTrend::RisesWithHeat) => {
+                "Sintered iron tends to grip harder as it heats: a hot clutch can lock up earlier than these figures."
+            }
+            _ => {
+                "This facing loses grip when it runs past its temperature limit: a hot clutch slips more than these figures."
+            }
+        }
+    }
+
+    pub fn wear(&self) -> Option<&WearReport> {
+        self.f.wear.as_ref().ok()
+    }
+
+    pub fn wear_headline(&self) -> String {
+        self.wear().map_or_else(
+            || "No cover-height measurement yet.".into(),
+            |r| wear::headline(&self.u, r),
+        )
+    }
+
+    pub fn wear_forecast(&self) -> Vec<String> {
+        self.wear()
+            .map(|r| wear::forecast(&self.u, r))
+            .unwrap_or_default()
+    }
+
+    pub fn wear_word(&self) -> &'static str {
+        self.wear()
+            .map_or("– no data", |r| wear::status_word(r.status))
+    }
+
+    pub fn wear_class(&self) -> &'static str {
+        self.wear().map_or("", |r| wear::status_class(r.status))
+    }
+
+    /// The shims still in the clutch, in the order they come out.
+    pub fn shims_in_place(&self) -> String {
+        let pulled = self
+            .i
+            .heights
+            .last()
+            .map_or(0, |h| h.shims_pulled.max(0) as usize);
+        let left: Vec<String> = self
+            .i
+            .build
+            .shim_stack_mm
+            .iter()
+            .skip(pulled)
+            .map(|s| self.u.len_num(s))
+            .collect();
+        if left.is_empty() {
+            "none".into()
+        } else {
+            format!("{} {}", left.join(", "), self.u.length_unit())
+        }
+    }
+
+    pub fn spring_rate_line(&self) -> String {
+        match (self.f.tested_rate_n_per_mm, &self.i.bench) {
+            (Some(k), Some(b)) => format!("{} (bench test {})", self.u.rate(k), b.tested_on),
+            _ => format!(
+                "{} (nominal, not bench tested)",
+                self.u.opt_rate(&self.i.build.spring_rate_n_per_mm)
+            ),
+        }
+    }
+
+    pub fn thread_line(&self) -> String {
+        match (self.i.build.adjuster_tpi, self.i.build.adjuster_pitch_mm) {
+            (Some(tpi), _) => format!("{tpi} threads per inch"),
+            (_, Some(p)) => format!("{p} mm pitch"),
+            _ => "–".into(),
+        }
+    }
+
+    pub fn lever_line(&self) -> String {
+        let b = &self.i.build;
+        if b.lever_count == 0 {
+            return "none (springs only)".into();
+        }
+        let how = match (
+            b.lever_gain_n_per_g,
+            b.lever_cg_radius_mm,
+            b.lever_arm_ratio,
+        ) {
+            (Some(g), _, _) => format!(
+                "gain {:.3} {}/g at 1000 rpm",
+                self.u.units.n_to_force(g),
+                self.u.force_unit()
+            ),
+            (None, Some(r), Some(a)) => format!("CG radius {}, arm ratio {a}", self.u.len(r)),
+            _ => String::new(),
+        };
+        format!(
+            "{} × {} each; {how}",
+            b.lever_count,
+            self.u.grams(b.lever_mass_g)
+        )
+    }
+
+    pub fn curve_line(&self) -> String {
+        let c = &self.i.car.torque_curve_nm;
+        let peak = c.iter().fold(
+            (0.0, 0.0),
+            |best, p| if p[1] > best.1 { (p[0], p[1]) } else { best },
+        );
+        match (c.first(), c.last()) {
+            (Some(lo), Some(hi)) => format!(
+                "{} dyno points, {:.0}–{:.0} rpm, peak {} at {:.0} rpm",
+                c.len(),
+                lo[0],
+                hi[0],
+                self.u.torque(peak.1),
+                peak.0
+            ),
+            _ => "not entered".into(),
+        }
+    }
+}
+
+/// POST /builds/{id}/sheets: stores a snapshot and shows it, ready to print.
+pub async fn create(
+    State(state): State<AppState>,
+    PathId(build_id): PathId,
+    SignedForm { user, form }: SignedForm,
+) -> AppResult<Response> {
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let d = db::dossier::load(&mut tx, build_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let settings = db::settings::get(&mut tx).await?;
+    let mut r = FormReader::new(&form, crate::clutch::units::Units::Metric);
+    let lockup = r.opt_number("target_lockup");
+    let ratio = r.opt_number("target_ratio");
+    let mut errors = r.errors;
+    let mut rules = Rules {
+        errors: &mut errors,
+    };
+    rules.opt_range(
+        "target_lockup",
+        lockup,
+        Bound::Incl(500.0),
+        Bound::Incl(15_000.0),
+    );
+    rules.opt_range("target_ratio", ratio, Bound::Incl(0.1), Bound::Incl(5.0));
+    if ratio.is_some() && lockup.is_none() {
+        errors.add(
+            "target_lockup",
+            "a launch ratio target needs a lockup target too",
+        );
+    }
+    if !errors.is_empty() {
+        return Err(AppError::Invalid(errors));
+    }
+    let targets = lockup.map(|l| SheetTargets {
+        lockup_rpm: l,
+        launch_ratio: ratio,
+    });
+    let inputs = SheetInputs::capture(
+        &d,
+        &settings,
+        &user.username,
+        &Date::today().to_string(),
+        targets,
+    );
+    let id = db::sheets::insert(&mut tx, build_id, user.id, &inputs).await?;
+    tx.commit().await?;
+    Ok(Redirect::to(&format!("/sheets/{id}")).into_response())
+}
+
+async fn staff_page(
+    state: &AppState,
+    user: &CurrentUser,
+    sheet_id: i64,
+    new_link: Option<String>,
+    errors: FieldErrors,
+) -> AppResult<String> {
+    let mut conn = state.pool.acquire().await?;
+    let sheet: Sheet = db::sheets::by_id(&mut conn, sheet_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let links = db::sheets::links(&mut conn, sheet_id).await?;
+    let tools = StaffTools {
+        sheet_id,
+        build_id: sheet.build_id,
+        csrf: user.csrf.clone(),
+        links,
+        new_link,
+        errors,
+    };
+    Ok(SheetPage::new(sheet.inputs, Some(tools)).render()?)
+}
+
+/// GET /sheets/{id}: the shop's copy, with Print and the customer-link tools.
+pub async fn show(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+) -> AppResult<Html<String>> {
+    Ok(Html(
+        staff_page(&state, &user, id, None, FieldErrors::default()).await?,
+    ))
+}
+
+/// POST /sheets/{id}/links: makes a read-only link and shows its address once.
+pub async fn create_link(
+    State(state): State<AppState>,
+    PathId(sheet_id): PathId,
+    headers: HeaderMap,
+    SignedForm { user, form }: SignedForm,
+) -> AppResult<Response> {
+    let mut r = FormReader::new(&form, crate::clutch::units::Units::Metric);
+    let days = r
+        .opt_number("valid_days")
+        .unwrap_or(DEFAULT_LINK_DAYS as f64);
+    let mut errors = r.errors;
+    Rules {
+        errors: &mut errors,
+    }
+    .range("valid_days", days, Bound::Incl(1.0), Bound::Incl(365.0));
+    if !errors.is_empty() {
+        let html = staff_page(&state, &user, sheet_id, None, errors).await?;
+        return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
+    }
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    db::sheets::by_id(&mut tx, sheet_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let secret = auth::new_secret("");
+    db::sheets::insert_link(
+        &mut tx,
+        sheet_id,
+        user.id,
+        &auth::hash_secret(&secret),
+        days.round() as i64,
+    )
+    .await?;
+    tx.commit().await?;
+    let host = headers
+        .get(header::HOST)
+        .and_then(|h| h.to_str().ok())
+        .filter(|h| {
+            h.chars()
+                .all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | ':' | '-' | '[' | ']'))
+        })
+        .unwrap_or("localhost");
+    let address = format!("http://{host}/s/{secret}");
+    Ok(Html(
+        staff_page(
+            &state,
+            &user,
+            sheet_id,
+            Some(address),
+            FieldErrors::default(),
+        )
+        .await?,
+    )
+    .into_response())
+}
+
+/// POST /links/{id}/revoke
+pub async fn revoke_link(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    _signed: SignedForm,
+) -> AppResult<Response> {
+    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let link = db::sheets::link_by_id(&mut tx, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    db::sheets::revoke_link(&mut tx, id).await?;
+    tx.commit().await?;
+    Ok(Redirect::to(&format!("/sheets/{}", link.sheet_id)).into_response())
+}
+
+#[derive(Template)]
+#[template(path = "sheets/gone.html")]
+struct GonePage {
+    status: u16,
+    message: &'static str,
+}
+
+/// GET /s/{secret}: the customer's read-only sheet, no login. Unknown links answer 404,
+/// revoked or expired ones 410, each with a plain page that leads nowhere else.
+pub async fn public(
+    State(state): State<AppState>,
+    params: axum::extract::RawPathParams,
+) -> AppResult<Response> {
+    let secret = params
+        .iter()
+        .next()
+        .map(|(_, v)| v.to_string())
+        .unwrap_or_default();
+    let mut conn = state.pool.acquire().await?;
+    let state = if secret.len() == 64 && secret.bytes().all(|b| b.is_ascii_hexdigit()) {
+        db::sheets::by_link(&mut conn, &auth::hash_secret(&secret)).await?
+    } else {
+        LinkState::Unknown
+    };
+    let (status, message) = match state {
+        LinkState::Live(sheet) => {
+            let html = SheetPage::new(sheet.inputs, None).render()?;
+            return Ok((
+                [
+                    (header::CACHE_CONTROL, "no-store"),
+                    (header::REFERRER_POLICY, "no-referrer"),
+                ],
+                Html(html),
+            )
+                .into_response());
+        }
+        LinkState::Gone => (
+            StatusCode::GONE,
+            "This setup sheet link has expired or was withdrawn by the shop. Ask the shop for a new one.",
+        ),
+        LinkState::Unknown => (
+            StatusCode::NOT_FOUND,
+            "There is no setup sheet at this address. Check the link the shop gave you.",
+        ),
+    };
+    let page = GonePage {
+        status: status.as_u16(),
+        message,
+    };
+    Ok((status, Html(page.render()?)).into_response())
+}

@@ -1,0 +1,1770 @@
+//! Hostile input: thousands of generated requests spread over every form POST and every API
+//! write (wrong types, missing and extra fields, extreme numbers, NaN and infinities spelled out,
+//! 100 KB strings, invalid UTF-8, markup, SQL fragments, deep nesting, empty and oversized bodies,
+//! wrong content types, missing or wrong tokens, cross-site posts, bad path ids).
+//!
+//! For every answer: no 5xx; a refused request leaves the database as it was; a 422 names the
+//! field (JSON `field`, or a message / alert on the page); markup never comes back unescaped in
+//! a page. The generator is a fixed-seed xorshift, so a failure reproduces: the seed and every
+//! failing request are printed. `LOCKPOINT_HOSTILE_SEED` and `LOCKPOINT_HOSTILE_CASES` override
+//! the seed and the number of requests.
+
+use std::collections::BTreeMap;
+use std::fmt::Write as _;
+use std::time::Instant;
+
+use axum::body::Body;
+use axum::http::{Request, StatusCode, header};
+use serde_json::{Value, json};
+use sqlx::sqlite::SqliteConnectOptions;
+use sqlx::{AssertSqlSafe, Connection, SqliteConnection};
+
+use crate::support::{Reply, TestApp};
+
+const DEFAULT_SEED: u64 = 0x4C50_5F48_4F53_5431;
+const DEFAULT_CASES: usize = 6000;
+/// Just over the server's 256 KiB body limit.
+const OVERSIZED: usize = 256 * 1024 + 512;
+
+// ---------------------------------------------------------------------------------------------
+// A small deterministic generator.
+
+struct Rng(u64);
+
+impl Rng {
+    fn new(seed: u64) -> Self {
+        Self(seed.max(1))
+    }
+
+    /// xorshift64* (Marsaglia's xorshift with Vigna's multiplier).
+    fn next(&mut self) -> u64 {
+        let mut x = self.0;
+        x ^= x >> 12;
+        x ^= x << 25;
+        x ^= x >> 27;
+        self.0 = x;
+        x.wrapping_mul(0x2545_F491_4F6C_DD1D)
+    }
+
+    fn below(&mut self, n: usize) -> usize {
+        (self.next() % n as u64) as usize
+    }
+
+    fn chance(&mut self, percent: u64) -> bool {
+        self.next() % 100 < percent
+    }
+
+    fn pick<'a, T>(&mut self, items: &'a [T]) -> &'a T {
+        &items[self.below(items.len())]
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Hostile values.
+
+/// Markup that must never come back raw in a page, and the raw fragments to look for.
+const MARKUP: &[&str] = &[
+    "<script>alert(1)</script>",
+    "\"><img src=x onerror=alert(1)>",
+    "</textarea><script>alert(1)</script>",
+    "'><svg onload=alert(1)>",
+    "<b>bold</b>",
+];
+const MARKUP_MARKERS: &[&str] = &[
+    "<script>alert(1)",
+    "<img src=x onerror",
+    "<svg onload",
+    "<b>bold</b>",
+];
+
+const SQL: &[&str] = &[
+    "'; DROP TABLE customers; --",
+    "x'); DROP TABLE cars; --",
+    "1; DELETE FROM builds",
+    "' OR '1'='1",
+    "\"; UPDATE users SET role = 'admin' WHERE '1'='1",
+];
+
+/// A hostile value for a form field, as typed text.
+fn hostile_text(rng: &mut Rng) -> String {
+    const FIXED: &[&str] = &[
+        "abc",
+        "NaN",
+        "nan",
+        "inf",
+        "-inf",
+        "Infinity",
+        "-Infinity",
+        "1e308",
+        "-1e308",
+        "1e309",
+        "-1e309",
+        "1e-400",
+        "4.9e-324",
+        "0",
+        "-0",
+        "-1",
+        "-0.001",
+        "0x1A",
+        "1,5",
+        "1_000",
+        "\u{ff11}\u{ff12}",
+        "  7  ",
+        "+5",
+        ".5",
+        "5.",
+        "e",
+        "--1",
+        "1.2.3",
+        "9999999999999999999999999",
+        "-9223372036854775809",
+        "2026-02-30",
+        "0000-00-00",
+        "2026-13-01",
+        "99999-01-01",
+        "2026-1-1",
+        "",
+        " ",
+        "\0",
+        "\u{202e}evil",
+        "\u{1F600}\u{1F600}",
+        "\r\n\r\n",
+        "%00",
+        "../../etc/passwd",
+        "{{7*7}}",
+        "on",
+        "true",
+        "metric",
+        "retired",
+        "sintered_iron",
+        "admin",
+    ];
+    match rng.below(12) {
+        0 => "x".repeat(100 * 1024),
+        1 => "y".repeat(rng.pick(&[121, 201, 401, 2001, 4001]).to_owned()),
+        2 | 3 => rng.pick(MARKUP).to_string(),
+        4 => rng.pick(SQL).to_string(),
+        5 => match rng.below(3) {
+            0 => "0.010, ".repeat(3000),
+            1 => "3000,400\n".repeat(5000),
+            _ => "rpm,torque\n3000,abc\n4000,NaN".to_string(),
+        },
+        _ => rng.pick(FIXED).to_string(),
+    }
+}
+
+/// A hostile JSON value, as JSON text (some of it deliberately not valid JSON).
+fn hostile_json(rng: &mut Rng) -> String {
+    const FIXED: &[&str] = &[
+        "\"abc\"",
+        "\"\"",
+        "true",
+        "false",
+        "null",
+        "[]",
+        "{}",
+        "0",
+        "-0",
+        "-1",
+        "0.0",
+        "-0.5",
+        "1e308",
+        "-1e308",
+        "1.7976931348623157e308",
+        "5e-324",
+        "1e309",
+        "-1e309",
+        "123456789012345678901234567890",
+        "18446744073709551616",
+        "-9223372036854775809",
+        "9223372036854775807",
+        "4294967296",
+        "NaN",
+        "Infinity",
+        "-Infinity",
+        "\"NaN\"",
+        "\"inf\"",
+        "\"-Infinity\"",
+        "\"1e308\"",
+        "\"12\"",
+        "0x10",
+        "01",
+        "1.",
+        ".5",
+        "+1",
+        "[1, 2]",
+        "[[1]]",
+        "[[\"a\", \"b\"]]",
+        "{\"a\": 1}",
+        "\"\\u0000\"",
+        "\"\\ud800\"",
+        "\"\\u202eevil\"",
+        "\"2026-02-30\"",
+        "\"metric\"",
+        "\"retired\"",
+    ];
+    let text = |s: &str| Value::String(s.to_string()).to_string();
+    match rng.below(14) {
+        0 => text(&"x".repeat(100 * 1024)),
+        1 => text(&"y".repeat(rng.pick(&[121, 201, 2001, 4001]).to_owned())),
+        2 | 3 => text(rng.pick(MARKUP)),
+        4 => text(rng.pick(SQL)),
+        5 => {
+            let depth = *rng.pick(&[20, 100, 127, 129, 200, 5000]);
+            format!("{}{}", "[".repeat(depth), "]".repeat(depth))
+        }
+        6 => match rng.below(3) {
+            0 => format!("[{}]", vec!["0"; 5000].join(",")),
+            1 => {
+                let points: Vec<String> = (0..3000)
+                    .map(|i| format!("[{}, {}]", 500 + i * 5, 300 + i % 7))
+                    .collect();
+                format!("[{}]", points.join(","))
+            }
+            _ => "[[3000, 400], [3000, 400], [2000, -5]]".to_string(),
+        },
+        _ => rng.pick(FIXED).to_string(),
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Routes and their valid base payloads.
+
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+enum Kind {
+    Form,
+    Api,
+}
+
+struct Route {
+    method: &'static str,
+    template: &'static str,
+    kind: Kind,
+}
+
+const fn form(template: &'static str) -> Route {
+    Route {
+        method: "POST",
+        template,
+        kind: Kind::Form,
+    }
+}
+
+const fn api(method: &'static str, template: &'static str) -> Route {
+    Route {
+        method,
+        template,
+        kind: Kind::Api,
+    }
+}
+
+/// Every form POST and every API write, with the route table's own path syntax.
+const ROUTES: &[Route] = &[
+    form("/login"),
+    form("/logout"),
+    form("/customers"),
+    form("/customers/{id}"),
+    form("/customers/{id}/cars"),
+    form("/cars/{id}"),
+    form("/cars/{id}/builds"),
+    form("/builds/{id}"),
+    form("/builds/{id}/setups"),
+    form("/builds/{id}/bench-tests"),
+    form("/builds/{id}/heights"),
+    form("/builds/{id}/passes"),
+    form("/settings"),
+    form("/users"),
+    form("/users/{id}/disable"),
+    form("/users/{id}/enable"),
+    form("/users/{id}/password"),
+    api("POST", "/api/v1/customers"),
+    api("PUT", "/api/v1/customers/{id}"),
+    api("POST", "/api/v1/customers/{id}/cars"),
+    api("PUT", "/api/v1/cars/{id}"),
+    api("POST", "/api/v1/cars/{id}/builds"),
+    api("PUT", "/api/v1/builds/{id}"),
+    api("POST", "/api/v1/builds/{id}/setups"),
+    api("PUT", "/api/v1/setups/{id}"),
+    api("POST", "/api/v1/builds/{id}/bench-tests"),
+    api("POST", "/api/v1/builds/{id}/measurements"),
+    api("PUT", "/api/v1/measurements/{id}"),
+    api("POST", "/api/v1/builds/{id}/passes"),
+    api("PUT", "/api/v1/passes/{id}"),
+    api("POST", "/api/v1/calc/capacity"),
+    api("POST", "/api/v1/calc/recommend"),
+    api("POST", "/api/v1/calc/wear"),
+];
+
+const ADMIN_FORMS: &[&str] = &[
+    "/settings",
+    "/users",
+    "/users/{id}/disable",
+    "/users/{id}/enable",
+    "/users/{id}/password",
+];
+
+/// The records the requests aim at.
+struct Fixture {
+    customer: i64,
+    car: i64,
+    /// The build that update requests change.
+    build_edit: i64,
+    /// The build that setups, bench tests, measurements and passes are added to (6 springs,
+    /// 3 shims), kept apart so an accepted build update cannot make its entries invalid.
+    build_entries: i64,
+    setup: i64,
+    height: i64,
+    pass: i64,
+    spare_user: i64,
+}
+
+impl Fixture {
+    fn id_for(&self, template: &str) -> i64 {
+        let t = template.trim_start_matches("/api/v1");
+        if t.starts_with("/customers/") {
+            self.customer
+        } else if t.starts_with("/cars/") {
+            self.car
+        } else if t == "/builds/{id}" {
+            self.build_edit
+        } else if t.starts_with("/builds/") {
+            self.build_entries
+        } else if t.starts_with("/setups/") {
+            self.setup
+        } else if t.starts_with("/measurements/") {
+            self.height
+        } else if t.starts_with("/passes/") {
+            self.pass
+        } else if t.starts_with("/users/") {
+            self.spare_user
+        } else {
+            panic!("no id for {template}")
+        }
+    }
+}
+
+const TORQUE_CURVE: &str = "rpm,torque\n3000,410\n4000,455\n5000,480\n6000,470\n7000,430";
+
+fn pairs(items: &[(&str, &str)]) -> Vec<(String, String)> {
+    items
+        .iter()
+        .map(|(k, v)| (k.to_string(), v.to_string()))
+        .collect()
+}
+
+/// A valid form for the route (imperial units, as the shop is set up).
+fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
+    let passes = n.to_string();
+    match template {
+        "/login" => vec![
+            ("username".into(), format!("nobody-{n}")),
+            ("password".into(), format!("not the password {n}")),
+            ("next".into(), "/customers".into()),
+        ],
+        "/logout" | "/users/{id}/disable" | "/users/{id}/enable" => Vec::new(),
+        "/customers" | "/customers/{id}" => vec![
+            ("name".into(), format!("Test Customer {n}")),
+            ("phone".into(), "555-0100".into()),
+            ("email".into(), format!("customer{n}@example.test")),
+            ("notes".into(), "Brings the car on a trailer.".into()),
+        ],
+        "/customers/{id}/cars" | "/cars/{id}" => pairs(&[
+            ("description", "'70 coupe, 440 V8, 4-speed"),
+            ("engine", "440 V8"),
+            ("weight", "3500"),
+            ("transmission", "4-speed manual"),
+            ("rated_input_torque", "600"),
+            ("first_gear_ratio", "2.64"),
+            ("final_drive_ratio", "4.10"),
+            ("tire_diameter", "28"),
+            ("launch_rpm", "4500"),
+            ("torque_curve", TORQUE_CURVE),
+            ("notes", "Street and strip."),
+        ]),
+        "/cars/{id}/builds" | "/builds/{id}" => pairs(&[
+            ("label", "Test build"),
+            ("disc_count", "1"),
+            ("facing_material", "organic"),
+            ("facing_od", "10.4"),
+            ("facing_id", "6.6"),
+            ("disc_thickness_new", "0.320"),
+            ("disc_thickness_min", "0.260"),
+            ("spring_count", "6"),
+            ("spring_description", "six blue"),
+            ("spring_rate", "380"),
+            ("adjuster_thread", "16"),
+            ("adjuster_thread_kind", "tpi"),
+            ("base_compression", "0.220"),
+            ("lever_count", "3"),
+            ("lever_mass_g", "12"),
+            ("lever_cg_radius", "4.1"),
+            ("lever_arm_ratio", "2.6"),
+            ("shim_stack", "0.010, 0.010, 0.020"),
+            ("shimming_limit", "0.015"),
+            ("status", "active"),
+            ("notes", ""),
+        ]),
+        "/builds/{id}/setups" => pairs(&[
+            ("changed_on", "2026-11-02"),
+            ("adjuster_turns", "1.5"),
+            ("counterweight_g", "24"),
+            ("mu", "0.32"),
+            ("note", "base setting"),
+        ]),
+        "/builds/{id}/bench-tests" => {
+            let mut f = pairs(&[
+                ("tested_on", "2026-11-02"),
+                ("test_height", "1.600"),
+                ("note", "bench"),
+            ]);
+            for i in 1..=6 {
+                f.push((format!("free_length_{i}"), "2.100".into()));
+                f.push((format!("force_{i}"), "190".into()));
+            }
+            f
+        }
+        "/builds/{id}/heights" => {
+            let new_disc = rng.chance(50);
+            let mut f = pairs(&[
+                ("measured_on", "2026-11-03"),
+                ("height", "1.905"),
+                ("passes", &passes),
+                ("shims_pulled", "0"),
+                ("note", "checked"),
+            ]);
+            if new_disc {
+                f.push(("new_disc".into(), "on".into()));
+            }
+            f
+        }
+        "/builds/{id}/passes" => pairs(&[
+            ("run_on", "2026-11-08"),
+            ("track", "Test strip"),
+            ("launch_rpm", "4500"),
+            ("sixty_ft", "1.41"),
+            ("et", "10.9"),
+            ("observed_lockup_rpm", "5600"),
+            ("notes", "clean pass"),
+        ]),
+        "/settings" => pairs(&[
+            ("name", "Test Clutch Shop"),
+            ("phone", "555-0199"),
+            ("email", "shop@example.test"),
+            ("address", "1 Test Road"),
+            ("units", "imperial"),
+            ("spring_spread_pct", "5"),
+            ("spring_sag_pct", "3"),
+            ("shimming_limit", "0.015"),
+            ("overclamp_factor", "1.5"),
+            ("due_within_passes", "10"),
+        ]),
+        "/users" => vec![
+            ("username".into(), format!("fuzz-user-{n}")),
+            ("password".into(), "long enough password".into()),
+            ("role".into(), "tech".into()),
+        ],
+        "/users/{id}/password" => pairs(&[("password", "another long password")]),
+        other => panic!("no base form for {other}"),
+    }
+}
+
+fn capacity_example() -> Value {
+    json!({"units": "imperial",
+      "disc": {"outer_diameter": 10.4, "inner_diameter": 6.6, "count": 1, "theory": "uniform_wear"},
+      "friction": {"mu": 0.32},
+      "springs": {"count": 6, "rate": 380.0, "base_compression": 0.22, "adjuster_pitch": 0.0625, "adjuster_turns": 1.5},
+      "levers": {"count": 3, "counterweight_g": 24.0, "lever_mass_g": 12.0, "cg_radius": 4.1, "arm_ratio": 2.6},
+      "engine": {"torque_curve": [[3000, 410], [4000, 455], [5000, 480], [6000, 470], [7000, 430]]},
+      "launch_rpm": 4500,
+      "driveline": {"rated_torque": 600},
+      "overclamp_factor": 1.5})
+}
+
+fn build_json() -> Value {
+    json!({"label": "Test build", "disc_count": 1, "facing_material": "organic",
+      "facing_od_mm": 264.16, "facing_id_mm": 167.64, "disc_thickness_new_mm": 8.1,
+      "disc_thickness_min_mm": 6.6, "spring_count": 6, "spring_description": "six blue",
+      "spring_rate_n_per_mm": 66.5, "adjuster_tpi": 16.0, "base_compression_mm": 5.6,
+      "lever_count": 3, "lever_mass_g": 12.0, "lever_cg_radius_mm": 104.1, "lever_arm_ratio": 2.6,
+      "shim_stack_mm": [0.254, 0.254, 0.508], "shimming_limit_mm": 0.381, "status": "active",
+      "notes": ""})
+}
+
+/// A valid JSON body for the route (storage units).
+fn base_json(template: &str, n: u64, rng: &mut Rng) -> Value {
+    match template.trim_start_matches("/api/v1") {
+        "/customers" | "/customers/{id}" => json!({"name": format!("Test Customer {n}"),
+            "phone": "555-0100", "email": format!("customer{n}@example.test"), "notes": "API"}),
+        "/customers/{id}/cars" | "/cars/{id}" => json!({
+            "description": "'70 coupe, 440 V8, 4-speed", "engine": "440 V8", "weight_kg": 1600.0,
+            "transmission": "4-speed manual", "rated_input_torque_nm": 800.0,
+            "first_gear_ratio": 2.64, "final_drive_ratio": 4.10, "tire_diameter_mm": 720.0,
+            "launch_rpm": 4500.0,
+            "torque_curve_nm": [[3000, 556], [4000, 617], [5000, 651], [6000, 637], [7000, 583]],
+            "notes": ""}),
+        "/cars/{id}/builds" | "/builds/{id}" => build_json(),
+        "/builds/{id}/setups" | "/setups/{id}" => json!({"changed_on": "2026-11-02",
+            "adjuster_turns": 1.5, "counterweight_g": 24.0, "mu": 0.32, "note": "API setting"}),
+        "/builds/{id}/bench-tests" => {
+            let springs: Vec<Value> = (0..6)
+                .map(|_| json!({"free_length_mm": 53.34, "compression_mm": 12.7, "force_n": 845.0}))
+                .collect();
+            json!({"tested_on": "2026-11-02", "note": "API bench", "springs": springs})
+        }
+        "/builds/{id}/measurements" | "/measurements/{id}" => json!({"measured_on": "2026-11-03",
+            "height_mm": 48.387, "passes": n, "shims_pulled": 0, "new_disc": rng.chance(50),
+            "note": ""}),
+        "/builds/{id}/passes" | "/passes/{id}" => json!({"run_on": "2026-11-08",
+            "track": "Test strip", "launch_rpm": 4500.0, "sixty_ft_s": 1.41, "et_s": 10.9,
+            "observed_lockup_rpm": 5600.0, "notes": ""}),
+        "/calc/capacity" => capacity_example(),
+        "/calc/recommend" => {
+            let mut v = capacity_example();
+            v["targets"] = json!({"lockup_rpm": 5600});
+            if rng.chance(30) {
+                v["targets"]["launch_ratio"] = json!(1.1);
+            }
+            v["steps"] = json!({"adjuster_turns": 0.25, "counterweight_g": 1.0});
+            v["limits"] = json!({"max_adjuster_turns": 6.0, "max_counterweight_g": 120.0});
+            v
+        }
+        "/calc/wear" => json!({"units": "imperial", "baseline_cover_height": 1.905,
+            "shimming_limit": 0.015, "shims": [0.010, 0.010, 0.020], "spring_count": 6,
+            "spring_rate": 390.0, "disc_wear_allowance": 0.060,
+            "measurements": [{"passes": 0, "cover_height": 1.905, "shims_pulled": 0},
+                             {"passes": 40, "cover_height": 1.913, "shims_pulled": 0}]}),
+        other => panic!("no base JSON for {other}"),
+    }
+}
+
+// ---------------------------------------------------------------------------------------------
+// One generated request.
+
+/// What the request's mutations alone make certain about the answer.
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+enum Expect {
+    Status(u16),
+    LoginRedirect,
+}
+
+struct Case {
+    route: &'static Route,
+    uri: String,
+    headers: Vec<(String, String)>,
+    body: Vec<u8>,
+    mutations: Vec<String>,
+    /// Set when one mutation decides the answer on its own.
+    expect: Option<Expect>,
+    /// The request carries a live session (forms) or token (API).
+    authenticated: bool,
+}
+
+impl Case {
+    fn describe(&self) -> String {
+        let mut s = format!(
+            "{} {} ({:?})\n  mutations: {}\n",
+            self.route.method,
+            self.uri,
+            self.route.kind,
+            self.mutations.join("; ")
+        );
+        for (k, v) in &self.headers {
+            let v = if k.eq_ignore_ascii_case("cookie") || k.eq_ignore_ascii_case("authorization")
+            {
+                format!("{}...", v.chars().take(24).collect::<String>())
+            } else {
+                v.clone()
+            };
+            let _ = writeln!(s, "  {k}: {v}");
+        }
+        let shown = String::from_utf8_lossy(&self.body[..self.body.len().min(700)]).into_owned();
+        let _ = write!(s, "  body ({} bytes): {shown:?}", self.body.len());
+        s
+    }
+}
+
+fn form_encode_bytes(pairs: &[(String, String)]) -> Vec<u8> {
+    let mut out = Vec::new();
+    for (i, (k, v)) in pairs.iter().enumerate() {
+        if i > 0 {
+            out.push(b'&');
+        }
+        encode_into(&mut out, k);
+        out.push(b'=');
+        encode_into(&mut out, v);
+    }
+    out
+}
+
+fn encode_into(out: &mut Vec<u8>, s: &str) {
+    for b in s.bytes() {
+        match b {
+            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'_' | b'.' | b'~' => out.push(b),
+            b' ' => out.push(b'+'),
+            _ => out.extend_from_slice(format!("%{b:02X}").as_bytes()),
+        }
+    }
+}
+
+/// Path ids that name nothing; every one must be a 404.
+const BAD_IDS: &[&str] = &[
+    "0",
+    "-1",
+    "999999999",
+    "abc",
+    "1.5",
+    "1e3",
+    "99999999999999999999999",
+    "%00",
+    "1%20OR%201%3D1",
+    "%27%3B%20DROP%20TABLE%20customers%3B%20--",
+    "%3Cscript%3Ealert(1)%3C%2Fscript%3E",
+    "%FF%FE",
+];
+
+const CROSS_SITE: &[(&str, &str)] = &[
+    ("sec-fetch-site", "cross-site"),
+    ("origin", "http://attacker.example"),
+];
+
+/// Credentials the generator hands out.
+struct Creds {
+    boss_cookie: String,
+    boss_csrf: String,
+    sam_cookie: String,
+    sam_csrf: String,
+    token: String,
+}
+
+/// Generates one form request from the route's base form.
+fn form_case(
+    route: &'static Route,
+    fx: &Fixture,
+    creds: &Creds,
+    session: Option<(String, String)>,
+    n: u64,
+    rng: &mut Rng,
+) -> Case {
+    let mut fields = base_form(route.template, n, rng);
+    let mut mutations = Vec::new();
+    let mut expect = None;
+    let sole = |m: &Vec<String>| m.len() == 1;
+    let is_login = route.template == "/login";
+    let is_admin = ADMIN_FORMS.contains(&route.template);
+
+    let (mut cookie, mut csrf) = match session {
+        Some(s) => (Some(s.0), Some(s.1)),
+        None if !is_login => (Some(creds.boss_cookie.clone()), Some(creds.boss_csrf.clone())),
+        None => (None, None),
+    };
+    let mut authenticated = !is_login;
+    let mut content_type = Some("application/x-www-form-urlencoded".to_string());
+    let mut extra_headers: Vec<(String, String)> = Vec::new();
+    let mut id_text = route
+        .template
+        .contains("{id}")
+        .then(|| fx.id_for(route.template).to_string());
+    let mut raw_body: Option<Vec<u8>> = None;
+    let mut token_first = true;
+
+    let rounds = 1 + rng.below(3);
+    for _ in 0..rounds {
+        let op = rng.below(100);
+        match op {
+            // a field's value
+            0..=39 if !fields.is_empty() => {
+                let i = rng.below(fields.len());
+                let value = hostile_text(rng);
+                mutations.push(format!(
+                    "{} = {:?}",
+                    fields[i].0,
+                    value.chars().take(60).collect::<String>()
+                ));
+                fields[i].1 = value;
+            }
+            // a field missing
+            40..=49 if !fields.is_empty() => {
+                let i = rng.below(fields.len());
+                mutations.push(format!("without {}", fields[i].0));
+                fields.remove(i);
+            }
+            // an extra or a repeated field, placed first so it is the one read
+            50..=57 => {
+                let value = hostile_text(rng);
+                let key = if !fields.is_empty() && rng.chance(50) {
+                    fields[rng.below(fields.len())].0.clone()
+                } else {
+                    match rng.below(4) {
+                        0 => "name[]".to_string(),
+                        1 => "<script>alert(1)</script>".to_string(),
+                        2 => "z".repeat(2000),
+                        _ => "is_admin".to_string(),
+                    }
+                };
+                mutations.push(format!(
+                    "extra {:?} = {:?}",
+                    key.chars().take(40).collect::<String>(),
+                    value.chars().take(40).collect::<String>()
+                ));
+                fields.insert(0, (key, value));
+                token_first = false;
+            }
+            // the CSRF token
+            58..=63 if !is_login => {
+                match rng.below(4) {
+                    0 => csrf = None,
+                    1 => csrf = Some(String::new()),
+                    2 => csrf = csrf.map(|t| t.to_uppercase() + "0"),
+                    _ => csrf = Some("'; DROP TABLE sessions; --".into()),
+                }
+                mutations.push(format!("csrf token {csrf:?}"));
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(403));
+                }
+            }
+            // the session cookie
+            64..=66 if !is_login => {
+                cookie = match rng.below(3) {
+                    0 => None,
+                    1 => Some("lockpoint_session=forged".into()),
+                    _ => Some(format!("lockpoint_session={}", "A".repeat(4000))),
+                };
+                authenticated = false;
+                mutations.push("no valid session".into());
+                if sole(&mutations) {
+                    expect = Some(Expect::LoginRedirect);
+                }
+            }
+            // a tech on an admin page
+            67..=69 if is_admin => {
+                cookie = Some(creds.sam_cookie.clone());
+                csrf = Some(creds.sam_csrf.clone());
+                mutations.push("as a tech".into());
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(403));
+                }
+            }
+            // a bad path id
+            70..=74 if id_text.is_some() => {
+                let bad = rng.pick(BAD_IDS).to_string();
+                mutations.push(format!("path id {bad}"));
+                id_text = Some(bad);
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(404));
+                }
+            }
+            // cross-site
+            75..=77 => {
+                let (k, v) = *rng.pick(CROSS_SITE);
+                extra_headers.push((k.into(), v.into()));
+                mutations.push(format!("cross-site {k}: {v}"));
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(403));
+                }
+            }
+            // the content type
+            78..=83 => {
+                content_type = rng
+                    .pick(&[
+                        None,
+                        Some("application/json"),
+                        Some("text/plain"),
+                        Some("multipart/form-data; boundary=xyz"),
+                        Some("application/x-www-form-urlencoded-junk"),
+                    ])
+                    .map(str::to_string);
+                mutations.push(format!("content type {content_type:?}"));
+            }
+            // the whole body
+            84..=99 => {
+                let kind = rng.below(8);
+                let body = match kind {
+                    0 => Vec::new(),
+                    1 => b"&&&===&=&".to_vec(),
+                    2 => b"%ZZ%%%=%".to_vec(),
+                    3 => {
+                        let mut b = b"name=".to_vec();
+                        b.extend_from_slice(&[0xff, 0xfe, 0xc3, 0x28, 0xa0, 0xa1]);
+                        b.extend_from_slice(b"&description=%FF%FE%C3%28");
+                        b
+                    }
+                    4 => vec![b'a'; OVERSIZED],
+                    5 => b"{\"name\": \"json in a form\"}".to_vec(),
+                    6 => "a=1&".repeat(30_000).into_bytes(),
+                    _ => {
+                        let mut b = form_encode_bytes(&fields);
+                        b.extend(std::iter::repeat_n(b'&', OVERSIZED));
+                        b
+                    }
+                };
+                mutations.push(format!("whole body #{kind} ({} bytes)", body.len()));
+                raw_body = Some(body);
+            }
+            _ => {
+                mutations.push("unchanged".into());
+            }
+        }
+    }
+
+    let mut all = Vec::new();
+    if let Some(t) = &csrf
+        && !is_login
+    {
+        all.push(("_csrf".to_string(), t.clone()));
+    }
+    if token_first {
+        all.extend(fields);
+    } else {
+        let mut f = fields;
+        f.extend(all);
+        all = f;
+    }
+    let mut body = form_encode_bytes(&all);
+    if let Some(raw) = raw_body {
+        // A replaced body still carries the token in front, so it reaches the form reader.
+        let mut b = Vec::new();
+        if let Some(t) = &csrf
+            && !is_login
+        {
+            b.extend_from_slice(b"_csrf=");
+            b.extend_from_slice(t.as_bytes());
+            b.push(b'&');
+        }
+        b.extend(raw);
+        body = b;
+    }
+    let uri = match &id_text {
+        Some(id) => route.template.replace("{id}", id),
+        None => route.template.to_string(),
+    };
+    let mut headers = Vec::new();
+    if let Some(ct) = content_type {
+        headers.push(("content-type".into(), ct));
+    }
+    if let Some(c) = cookie {
+        headers.push(("cookie".into(), c));
+    }
+    if rng.chance(50) {
+        headers.push(("content-length".into(), body.len().to_string()));
+    }
+    headers.extend(extra_headers);
+    Case {
+        route,
+        uri,
+        headers,
+        body,
+        mutations,
+        expect,
+        authenticated,
+    }
+}
+
+/// A path into a JSON value.
+#[derive(Clone, Debug)]
+enum Seg {
+    Key(String),
+    Idx(usize),
+}
+
+fn json_paths(v: &Value, prefix: &mut Vec<Seg>, out: &mut Vec<Vec<Seg>>) {
+    match v {
+        Value::Object(map) => {
+            for (k, child) in map {
+                prefix.push(Seg::Key(k.clone()));
+                out.push(prefix.clone());
+                json_paths(child, prefix, out);
+                prefix.pop();
+            }
+        }
+        Value::Array(items) => {
+            for (i, child) in items.iter().enumerate() {
+                prefix.push(Seg::Idx(i));
+                out.push(prefix.clone());
+                json_paths(child, prefix, out);
+                prefix.pop();
+            }
+        }
+        _ => {}
+    }
+}
+
+fn show_path(path: &[Seg]) -> String {
+    path.iter()
+        .map(|s| match s {
+            Seg::Key(k) => format!(".{k}"),
+            Seg::Idx(i) => format!("[{i}]"),
+        })
+        .collect()
+}
+
+fn node_mut<'a>(v: &'a mut Value, path: &[Seg]) -> Option<&'a mut Value> {
+    let mut cur = v;
+    for seg in path {
+        cur = match seg {
+            Seg::Key(k) => cur.get_mut(k.as_str())?,
+            Seg::Idx(i) => cur.get_mut(*i)?,
+        };
+    }
+    Some(cur)
+}
+
+const PLACEHOLDER: &str = "\u{1}hostile\u{1}";
+
+/// Generates one API request from the route's base JSON.
+fn api_case(
+    route: &'static Route,
+    fx: &Fixture,
+    creds: &Creds,
+    n: u64,
+    rng: &mut Rng,
+) -> Case {
+    let mut value = base_json(route.template, n, rng);
+    let mut mutations = Vec::new();
+    let mut expect = None;
+    let sole = |m: &Vec<String>| m.len() == 1;
+    let mut raws: Vec<String> = Vec::new();
+    let mut auth = Some(format!("Bearer {}", creds.token));
+    let mut authenticated = true;
+    let mut content_type = Some("application/json".to_string());
+    let mut extra_headers: Vec<(String, String)> = Vec::new();
+    let mut id_text = route
+        .template
+        .contains("{id}")
+        .then(|| fx.id_for(route.template).to_string());
+    let mut raw_body: Option<Vec<u8>> = None;
+
+    let rounds = 1 + rng.below(3);
+    for _ in 0..rounds {
+        let mut paths = Vec::new();
+        json_paths(&value, &mut Vec::new(), &mut paths);
+        let op = rng.below(100);
+        match op {
+            // a value replaced by a hostile one
+            0..=44 if !paths.is_empty() => {
+                let path = rng.pick(&paths).clone();
+                let raw = hostile_json(rng);
+                mutations.push(format!(
+                    "{} = {}",
+                    show_path(&path),
+                    raw.chars().take(60).collect::<String>()
+                ));
+                if let Some(node) = node_mut(&mut value, &path) {
+                    *node = Value::String(format!("{PLACEHOLDER}{}", raws.len()));
+                    raws.push(raw);
+                }
+            }
+            // a value removed
+            45..=56 if !paths.is_empty() => {
+                let path = rng.pick(&paths).clone();
+                mutations.push(format!("without {}", show_path(&path)));
+                let (last, parent) = path.split_last().unwrap();
+                if let Some(p) = node_mut(&mut value, parent) {
+                    match (last, p) {
+                        (Seg::Key(k), Value::Object(map)) => {
+                            map.remove(k);
+                        }
+                        (Seg::Idx(i), Value::Array(items)) if *i < items.len() => {
+                            items.remove(*i);
+                        }
+                        _ => {}
+                    }
+                }
+            }
+            // an extra field
+            57..=64 => {
+                let key = rng
+                    .pick(&["zzz", "id", "created_at", "user_id", "<script>", "__proto__"])
+                    .to_string();
+                let raw = hostile_json(rng);
+                mutations.push(format!(
+                    "extra {key} = {}",
+                    raw.chars().take(40).collect::<String>()
+                ));
+                let mut objects = vec![Vec::new()];
+                objects.extend(
+                    paths
+                        .iter()
+                        .filter(|p| node_mut(&mut value.clone(), p).is_some_and(|v| v.is_object()))
+                        .cloned(),
+                );
+                let at = rng.pick(&objects).clone();
+                if let Some(Value::Object(map)) = node_mut(&mut value, &at) {
+                    map.insert(key, Value::String(format!("{PLACEHOLDER}{}", raws.len())));
+                    raws.push(raw);
+                }
+            }
+            // the bearer token
+            65..=69 => {
+                auth = rng
+                    .pick(&[
+                        None,
+                        Some("Bearer ".to_string()),
+                        Some("Bearer lp_forged".to_string()),
+                        Some(format!("bearer {}", creds.token)),
+                        Some(format!("Basic {}", creds.token)),
+                        Some(format!("Bearer {}x", creds.token)),
+                        Some(format!("Bearer {}", "A".repeat(5000))),
+                    ])
+                    .clone();
+                authenticated = false;
+                mutations.push("no valid token".into());
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(401));
+                }
+            }
+            // a bad path id
+            70..=73 if id_text.is_some() => {
+                let bad = rng.pick(BAD_IDS).to_string();
+                mutations.push(format!("path id {bad}"));
+                id_text = Some(bad);
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(404));
+                }
+            }
+            // cross-site
+            74..=75 => {
+                let (k, v) = *rng.pick(CROSS_SITE);
+                extra_headers.push((k.into(), v.into()));
+                mutations.push(format!("cross-site {k}: {v}"));
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(403));
+                }
+            }
+            // the content type
+            76..=81 => {
+                content_type = rng
+                    .pick(&[
+                        None,
+                        Some("text/plain"),
+                        Some("application/x-www-form-urlencoded"),
+                        Some("text/json"),
+                        Some("multipart/form-data; boundary=xyz"),
+                    ])
+                    .map(str::to_string);
+                mutations.push(format!("content type {content_type:?}"));
+                if sole(&mutations) {
+                    expect = Some(Expect::Status(422));
+                }
+            }
+            // the whole body
+            82..=99 => {
+                let kind = rng.below(14);
+                let body: Vec<u8> = match kind {
+                    0 => Vec::new(),
+                    1 => b"null".to_vec(),
+                    2 => b"[]".to_vec(),
+                    3 => b"\"a string\"".to_vec(),
+                    4 => b"{".to_vec(),
+                    5 => {
+                        let text = value.to_string();
+                        let cut = rng.below(text.len().max(1));
+                        text.as_bytes()[..cut].to_vec()
+                    }
+                    6 => {
+                        let mut b = value.to_string().into_bytes();
+                        b.extend_from_slice(b" trailing garbage");
+                        b
+                    }
+                    7 => {
+                        let mut b = b"{\"name\": \"".to_vec();
+                        b.extend_from_slice(&[0xff, 0xfe, 0xc3, 0x28]);
+                        b.extend_from_slice(b"\", \"description\": \"x\"}");
+                        b
+                    }
+                    8 => format!("{}{}", "[".repeat(100_000), "]".repeat(100_000)).into_bytes(),
+                    9 => json!({"name": "x".repeat(OVERSIZED), "description": "x"})
+                        .to_string()
+                        .into_bytes(),
+                    10 => b"name=Test+Customer&description=x".to_vec(),
+                    11 => {
+                        let mut b = b"\xef\xbb\xbf".to_vec();
+                        b.extend_from_slice(value.to_string().as_bytes());
+                        b
+                    }
+                    12 => {
+                        // every key twice, the second time hostile
+                        let text = value.to_string();
+                        let inner = text.trim_start_matches('{').trim_end_matches('}');
+                        format!("{{{inner}, {}}}", dup_keys(&value, rng)).into_bytes()
+                    }
+                    _ => vec![0u8; 1024],
+                };
+                mutations.push(format!("whole body #{kind} ({} bytes)", body.len()));
+                raw_body = Some(body);
+            }
+            _ => mutations.push("unchanged".into()),
+        }
+    }
+
+    let body = match raw_body {
+        Some(b) => b,
+        None => {
+            let mut text = value.to_string();
+            for (i, raw) in raws.iter().enumerate() {
+                let quoted = Value::String(format!("{PLACEHOLDER}{i}")).to_string();
+                text = text.replace(&quoted, raw);
+            }
+            text.into_bytes()
+        }
+    };
+    let uri = match &id_text {
+        Some(id) => route.template.replace("{id}", id),
+        None => route.template.to_string(),
+    };
+    let mut headers = Vec::new();
+    if let Some(ct) = content_type {
+        headers.push(("content-type".into(), ct));
+    }
+    if let Some(a) = auth {
+        headers.push(("authorization".into(), a));
+    }
+    if rng.chance(50) {
+        headers.push(("content-length".into(), body.len().to_string()));
+    }
+    headers.extend(extra_headers);
+    Case {
+        route,
+        uri,
+        headers,
+        body,
+        mutations,
+        expect,
+        authenticated,
+    }
+}
+
+fn dup_keys(value: &Value, rng: &mut Rng) -> String {
+    let Value::Object(map) = value else {
+        return "\"x\": 1".into();
+    };
+    map.keys()
+        .map(|k| format!("{}: {}", Value::String(k.clone()), hostile_json(rng)))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+async fn send(app: &TestApp, case: &Case) -> Reply {
+    let mut req = Request::builder()
+        .method(case.route.method)
+        .uri(&case.uri);
+    for (k, v) in &case.headers {
+        req = req.header(k.as_str(), v.as_str());
+    }
+    let req = req
+        .body(Body::from(case.body.clone()))
+        .unwrap_or_else(|e| panic!("request builds ({e}): {}", case.describe()));
+    app.send(req).await
+}
+
+// ---------------------------------------------------------------------------------------------
+// The database's state.
+
+/// A separate connection to the test database: `PRAGMA data_version` on it changes exactly when
+/// another connection commits, and a digest of every row of every table shows what changed.
+struct Probe {
+    conn: SqliteConnection,
+    tables: Vec<(String, String)>,
+}
+
+type Digest = Vec<(String, Option<String>)>;
+
+impl Probe {
+    async fn open(app: &TestApp) -> Self {
+        let file: String =
+            sqlx::query_scalar("SELECT file FROM pragma_database_list WHERE name = 'main'")
+                .fetch_one(&app.pool)
+                .await
+                .unwrap();
+        let options = SqliteConnectOptions::new().filename(&file);
+        let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
+        let names: Vec<String> = sqlx::query_scalar(
+            "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%'
+             ORDER BY name",
+        )
+        .fetch_all(&mut conn)
+        .await
+        .unwrap();
+        let mut tables = Vec::new();
+        for name in names {
+            let cols: Vec<String> = sqlx::query_scalar(AssertSqlSafe(format!(
+                "SELECT name FROM pragma_table_info('{name}') ORDER BY cid"
+            )))
+            .fetch_all(&mut conn)
+            .await
+            .unwrap();
+            let row = cols
+                .iter()
+                .map(|c| format!("quote(\"{c}\")"))
+                .collect::<Vec<_>>()
+                .join(" || char(31) || ");
+            let sql = format!(
+                "SELECT group_concat(r, char(30)) FROM \
+                 (SELECT rowid || char(31) || {row} AS r FROM \"{name}\" ORDER BY rowid)"
+            );
+            tables.push((name, sql));
+        }
+        Self { conn, tables }
+    }
+
+    async fn data_version(&mut self) -> i64 {
+        sqlx::query_scalar("PRAGMA data_version")
+            .fetch_one(&mut self.conn)
+            .await
+            .unwrap()
+    }
+
+    async fn digest(&mut self) -> Digest {
+        let mut out = Vec::with_capacity(self.tables.len());
+        for (name, sql) in &self.tables {
+            let rows: Option<String> = sqlx::query_scalar(AssertSqlSafe(sql.clone()))
+                .fetch_one(&mut self.conn)
+                .await
+                .unwrap();
+            out.push((name.clone(), rows));
+        }
+        out
+    }
+
+    async fn count(&mut self, table: &str) -> i64 {
+        sqlx::query_scalar(AssertSqlSafe(format!("SELECT COUNT(*) FROM \"{table}\"")))
+            .fetch_one(&mut self.conn)
+            .await
+            .unwrap()
+    }
+}
+
+/// The tables whose content differs, ignoring `except`.
+fn changed_tables(before: &Digest, after: &Digest, except: &[&str]) -> Vec<String> {
+    let mut out = Vec::new();
+    for ((name, a), (name2, b)) in before.iter().zip(after) {
+        assert_eq!(name, name2, "the schema changed under the test");
+        if a != b && !except.contains(&name.as_str()) {
+            out.push(name.clone());
+        }
+    }
+    if before.len() != after.len() {
+        out.push("(table list)".into());
+    }
+    out
+}
+
+// ---------------------------------------------------------------------------------------------
+// The route table, read from the source, so a new write route cannot go untested.
+
+fn write_routes(source: &str, prefix: &str) -> Vec<(String, String)> {
+    let mut out = Vec::new();
+    for chunk in source.split(".route(").skip(1) {
+        // the call's own text, up to its closing parenthesis
+        let mut depth = 1;
+        let mut end = chunk.len();
+        for (i, c) in chunk.char_indices() {
+            match c {
+                '(' => depth += 1,
+                ')' => {
+                    depth -= 1;
+                    if depth == 0 {
+                        end = i;
+                        break;
+                    }
+                }
+                _ => {}
+            }
+        }
+        let call = &chunk[..end];
+        let Some(path) = call.split('"').nth(1) else {
+            continue;
+        };
+        for method in ["post", "put", "patch", "delete"] {
+            let needle = format!("{method}(");
+            let called = call.match_indices(&needle).any(|(i, _)| {
+                i == 0 || !call.as_bytes()[i - 1].is_ascii_alphanumeric() && call.as_bytes()[i - 1] != b'_'
+            });
+            if called {
+                out.push((method.to_uppercase(), format!("{prefix}{path}")));
+            }
+        }
+    }
+    out
+}
+
+#[test]
+fn the_route_reader_finds_write_routes() {
+    let src = r#"Router::new()
+        .route("/a", get(x).post(y))
+        .route(
+            "/b/{id}",
+            get(input).put(z),
+        )
+        .route("/c", get(output))"#;
+    assert_eq!(
+        write_routes(src, "/p"),
+        vec![
+            ("POST".to_string(), "/p/a".to_string()),
+            ("PUT".to_string(), "/p/b/{id}".to_string())
+        ]
+    );
+}
+
+// ---------------------------------------------------------------------------------------------
+// The run.
+
+#[derive(Default)]
+struct Tally {
+    requests: usize,
+    accepted: BTreeMap<u16, usize>,
+    rejected: BTreeMap<u16, usize>,
+    per_route: BTreeMap<String, (usize, usize)>,
+    expectations_checked: usize,
+    digests_compared: usize,
+    form_422_without_field_message: usize,
+    failures: Vec<String>,
+    failure_count: usize,
+}
+
+impl Tally {
+    fn fail(&mut self, seed: u64, index: usize, case: &Case, why: String) {
+        self.failure_count += 1;
+        if self.failures.len() < 25 {
+            self.failures.push(format!(
+                "case {index} (seed {seed:#x}): {why}\n  {}",
+                case.describe()
+            ));
+        }
+    }
+}
+
+fn env_or<T: std::str::FromStr>(name: &str, default: T) -> T {
+    std::env::var(name)
+        .ok()
+        .and_then(|v| {
+            let v = v.trim();
+            match v.strip_prefix("0x") {
+                Some(hex) => u64::from_str_radix(hex, 16).ok()?.to_string().parse().ok(),
+                None => v.parse().ok(),
+            }
+        })
+        .unwrap_or(default)
+}
+
+fn content_type(reply: &Reply) -> &str {
+    reply
+        .headers
+        .get(header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .unwrap_or("")
+}
+
+fn raw_markup(body: &str) -> Option<&'static str> {
+    MARKUP_MARKERS.iter().copied().find(|m| body.contains(m))
+}
+
+async fn created_id(app: &TestApp, token: &str, path: &str, body: Value) -> i64 {
+    let r = app.api("POST", path, Some(token), Some(body)).await;
+    assert_eq!(r.status, StatusCode::CREATED, "{path}: {}", r.body);
+    r.json()["id"].as_i64().unwrap()
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn thousands_of_hostile_requests_change_nothing_they_are_refused() {
+    let seed: u64 = env_or("LOCKPOINT_HOSTILE_SEED", DEFAULT_SEED);
+    let cases: usize = env_or("LOCKPOINT_HOSTILE_CASES", DEFAULT_CASES);
+    println!("hostile input: seed {seed:#x}, {cases} requests");
+    let started = Instant::now();
+
+    // Every write route in the route table has a generator.
+    let mut table = write_routes(include_str!("../../server/web.rs"), "");
+    table.extend(write_routes(include_str!("../../server/web/api.rs"), "/api/v1"));
+    assert!(table.len() >= 30, "the route table reads: {table:?}");
+    for (method, path) in &table {
+        assert!(
+            ROUTES
+                .iter()
+                .any(|r| r.method == method && r.template == path),
+            "{method} {path} is in the route table but has no hostile-input generator here"
+        );
+    }
+
+    let app = TestApp::new().await;
+    let boss = app.login("boss").await;
+    let sam = app.login("sam").await;
+    let token = app.token("sam").await;
+    let creds = Creds {
+        boss_cookie: boss.cookie.clone(),
+        boss_csrf: boss.csrf.clone(),
+        sam_cookie: sam.cookie.clone(),
+        sam_csrf: sam.csrf.clone(),
+        token: token.clone(),
+    };
+    let mut rng = Rng::new(seed);
+
+    // The records the requests aim at.
+    let t = token.as_str();
+    let customer = created_id(
+        &app,
+        t,
+        "/api/v1/customers",
+        base_json("/customers", 0, &mut rng),
+    )
+    .await;
+    let car = created_id(
+        &app,
+        t,
+        &format!("/api/v1/customers/{customer}/cars"),
+        base_json("/cars/{id}", 0, &mut rng),
+    )
+    .await;
+    let build_edit = created_id(&app, t, &format!("/api/v1/cars/{car}/builds"), build_json()).await;
+    let build_entries =
+        created_id(&app, t, &format!("/api/v1/cars/{car}/builds"), build_json()).await;
+    let b = build_entries;
+    let setup = created_id(
+        &app,
+        t,
+        &format!("/api/v1/builds/{b}/setups"),
+        base_json("/setups/{id}", 0, &mut rng),
+    )
+    .await;
+    let mut first_height = base_json("/measurements/{id}", 0, &mut rng);
+    first_height["new_disc"] = json!(true);
+    let height = created_id(
+        &app,
+        t,
+        &format!("/api/v1/builds/{b}/measurements"),
+        first_height,
+    )
+    .await;
+    let pass = created_id(
+        &app,
+        t,
+        &format!("/api/v1/builds/{b}/passes"),
+        base_json("/passes/{id}", 0, &mut rng),
+    )
+    .await;
+    let spare = boss
+        .post(
+            "/users",
+            &[
+                ("username", "spare-tech"),
+                ("password", "long enough password"),
+                ("role", "tech"),
+            ],
+        )
+        .await;
+    assert_eq!(spare.status, StatusCode::SEE_OTHER, "{}", spare.body);
+    let spare_user: i64 = sqlx::query_scalar("SELECT id FROM users WHERE username = 'spare-tech'")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    let fx = Fixture {
+        customer,
+        car,
+        build_edit,
+        build_entries,
+        setup,
+        height,
+        pass,
+        spare_user,
+    };
+
+    // The detector sees a write, and sees nothing when nothing is written.
+    let mut probe = Probe::open(&app).await;
+    let v0 = probe.data_version().await;
+    let d0 = probe.digest().await;
+    let v1 = probe.data_version().await;
+    assert_eq!(v0, v1, "reading changes nothing");
+    sqlx::query("UPDATE shop_settings SET phone = phone || '1'")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let v2 = probe.data_version().await;
+    let d2 = probe.digest().await;
+    assert_ne!(v1, v2, "data_version sees a commit from the app's pool");
+    assert_eq!(changed_tables(&d0, &d2, &[]), vec!["shop_settings"]);
+
+    let mut tally = Tally::default();
+    let mut cached: Option<(i64, Digest)> = None;
+    for index in 0..cases {
+        let route = &ROUTES[index % ROUTES.len()];
+        let n = index as u64 + 1;
+        let is_login = route.template == "/login";
+        let is_logout = route.template == "/logout";
+
+        // The login slow-down is not under test: forget earlier failures so nothing waits.
+        if is_login {
+            sqlx::query("DELETE FROM login_failures")
+                .execute(&app.pool)
+                .await
+                .unwrap();
+        }
+        // Signing out ends a session: give each attempt a fresh one of its own.
+        let session = if is_logout {
+            let secret = lockpoint::auth::new_secret("");
+            let csrf = lockpoint::auth::new_secret("");
+            let mut conn = app.pool.acquire().await.unwrap();
+            lockpoint::db::sessions::create(
+                &mut conn,
+                &lockpoint::auth::hash_secret(&secret),
+                1,
+                &csrf,
+            )
+            .await
+            .unwrap();
+            Some((format!("lockpoint_session={secret}"), csrf))
+        } else {
+            None
+        };
+        let case = match route.kind {
+            Kind::Form => form_case(route, &fx, &creds, session, n, &mut rng),
+            Kind::Api => api_case(route, &fx, &creds, n, &mut rng),
+        };
+
+        let version_before = probe.data_version().await;
+        // A content digest before: always for sign-in (a refused sign-in is logged), and for
+        // one request in eight besides, so the exact commit check is backed by content.
+        let full = is_login || index % 8 == 0;
+        let digest_before = if full {
+            match cached.take() {
+                Some((v, d)) if v == version_before => Some(d),
+                _ => Some(probe.digest().await),
+            }
+        } else {
+            None
+        };
+        let failures_before = if is_login {
+            probe.count("login_failures").await
+        } else {
+            0
+        };
+
+        let reply = send(&app, &case).await;
+        tally.requests += 1;
+        let status = reply.status.as_u16();
+        let location = reply.location().to_string();
+        let to_login = reply.status == StatusCode::SEE_OTHER && location.starts_with("/login");
+        let refused = reply.status.is_client_error() || (to_login && !case.authenticated);
+        let entry = tally.per_route.entry(format!("{} {}", route.method, route.template));
+        let e = entry.or_default();
+        if refused {
+            e.1 += 1;
+            *tally.rejected.entry(status).or_default() += 1;
+        } else {
+            e.0 += 1;
+            *tally.accepted.entry(status).or_default() += 1;
+        }
+
+        if reply.status.is_server_error() {
+            tally.fail(seed, index, &case, format!("server error {status}: {}", reply.body));
+        }
+        if reply.status.is_informational() || status >= 600 {
+            tally.fail(seed, index, &case, format!("odd status {status}"));
+        }
+        if to_login && case.authenticated && !is_logout {
+            tally.fail(seed, index, &case, "a live session was sent to sign in".into());
+        }
+        if let Some(expect) = case.expect {
+            tally.expectations_checked += 1;
+            let ok = match expect {
+                Expect::Status(s) => status == s,
+                Expect::LoginRedirect => to_login,
+            };
+            if !ok {
+                tally.fail(
+                    seed,
+                    index,
+                    &case,
+                    format!("expected {expect:?}, got {status} {location}: {}", reply.body.chars().take(300).collect::<String>()),
+                );
+            }
+        }
+
+        // Markup comes back only inside JSON, never in a page.
+        let ct = content_type(&reply).to_string();
+        if let Some(marker) = raw_markup(&reply.body)
+            && !ct.starts_with("application/json")
+        {
+            tally.fail(
+                seed,
+                index,
+                &case,
+                format!("raw markup {marker:?} in a {ct:?} answer ({status})"),
+            );
+        }
+        if let Some(marker) = raw_markup(&location) {
+            tally.fail(seed, index, &case, format!("raw markup {marker:?} in Location"));
+        }
+
+        // A 422 names the field.
+        if reply.status == StatusCode::UNPROCESSABLE_ENTITY {
+            match route.kind {
+                Kind::Api => {
+                    let named = serde_json::from_str::<Value>(&reply.body).ok().is_some_and(|v| {
+                        v["field"].as_str().is_some_and(|f| !f.is_empty())
+                            && v["error"].as_str().is_some_and(|e| !e.is_empty())
+                    });
+                    if !named || !ct.starts_with("application/json") {
+                        tally.fail(
+                            seed,
+                            index,
+                            &case,
+                            format!("422 without a named field: {ct} {}", reply.body),
+                        );
+                    }
+                }
+                Kind::Form => {
+                    let msg = reply.body.contains("class=\"msg\"");
+                    let alert = reply.body.contains("class=\"alert\"");
+                    if !msg && !alert {
+                        tally.fail(seed, index, &case, "422 page names no field".into());
+                    } else if !msg {
+                        tally.form_422_without_field_message += 1;
+                    }
+                }
+            }
+        }
+
+        // A refused request leaves the database as it was.
+        let version_after = probe.data_version().await;
+        if refused && !is_login && version_after != version_before {
+            let what = match &digest_before {
+                Some(before) => {
+                    let after = probe.digest().await;
+                    format!("changed {:?}", changed_tables(before, &after, &[]))
+                }
+                None => "committed a write".to_string(),
+            };
+            tally.fail(seed, index, &case, format!("refused with {status} but {what}"));
+        }
+        if let Some(before) = digest_before {
+            let after = if version_after == version_before {
+                None
+            } else {
+                Some(probe.digest().await)
+            };
+            if refused {
+                tally.digests_compared += 1;
+                let after_ref = after.as_ref().unwrap_or(&before);
+                let except: &[&str] = if is_login { &["login_failures"] } else { &[] };
+                let changed = changed_tables(&before, after_ref, except);
+                if !changed.is_empty() {
+                    tally.fail(seed, index, &case, format!("refused with {status} but changed {changed:?}"));
+                }
+                if is_login {
+                    let logged = probe.count("login_failures").await - failures_before;
+                    if !(0..=1).contains(&logged) {
+                        tally.fail(seed, index, &case, format!("{logged} failed sign-ins logged"));
+                    }
+                }
+            }
+            cached = Some((version_after, after.unwrap_or(before)));
+        }
+    }
+    let fuzz_time = started.elapsed();
+
+    // Everything stored since shows escaped wherever it is displayed.
+    let mut pages = vec![
+        "/".to_string(),
+        "/settings".to_string(),
+        "/users".to_string(),
+        "/customers?q=%3Cscript%3Ealert(1)%3C%2Fscript%3E".to_string(),
+    ];
+    for (table, path) in [
+        ("customers", "/customers/"),
+        ("cars", "/cars/"),
+        ("builds", "/builds/"),
+    ] {
+        let ids: Vec<i64> = sqlx::query_scalar(AssertSqlSafe(format!(
+            "SELECT id FROM {table} ORDER BY id DESC LIMIT 40"
+        )))
+        .fetch_all(&app.pool)
+        .await
+        .unwrap();
+        for id in ids {
+            pages.push(format!("{path}{id}"));
+            pages.push(format!("{path}{id}/edit"));
+        }
+    }
+    pages.push(format!("/builds/{}", fx.build_entries));
+    pages.push(format!("/builds/{}/tune", fx.build_entries));
+    let mut pages_checked = 0;
+    for path in &pages {
+        let r = boss.get(path).await;
+        pages_checked += 1;
+        if r.status.is_server_error() {
+            tally.failure_count += 1;
+            tally.failures.push(format!("GET {path}: {} {}", r.status, r.body));
+        }
+        if let Some(marker) = raw_markup(&r.body) {
+            tally.failure_count += 1;
+            tally.failures.push(format!("GET {path}: raw markup {marker:?}"));
+        }
+    }
+    let stored_markup: i64 = sqlx::query_scalar(
+        "SELECT (SELECT COUNT(*) FROM customers WHERE name LIKE '%<%' OR notes LIKE '%<%')
+              + (SELECT COUNT(*) FROM cars WHERE description LIKE '%<%' OR notes LIKE '%<%')
+              + (SELECT COUNT(*) FROM builds WHERE label LIKE '%<%' OR notes LIKE '%<%')",
+    )
+    .fetch_one(&app.pool)
+    .await
+    .unwrap();
+
+    // What was accepted obeys the records' rules, and no SQL fragment ran.
+    let broken: i64 = sqlx::query_scalar(
+        "SELECT (SELECT COUNT(*) FROM builds WHERE facing_id_mm >= facing_od_mm
+                    OR disc_count NOT BETWEEN 1 AND 3 OR spring_count NOT BETWEEN 1 AND 24)
+              + (SELECT COUNT(*) FROM customers WHERE trim(name) = '' OR length(name) > 120)
+              + (SELECT COUNT(*) FROM cover_heights WHERE passes < 0 OR height_mm <= 0)
+              + (SELECT COUNT(*) FROM setup_changes WHERE adjuster_turns < 0)
+              + (SELECT COUNT(*) FROM users WHERE role NOT IN ('admin', 'tech'))",
+    )
+    .fetch_one(&app.pool)
+    .await
+    .unwrap();
+    if broken != 0 {
+        tally.failure_count += 1;
+        tally
+            .failures
+            .push(format!("{broken} stored rows break the records' rules"));
+    }
+    for table in ["customers", "cars", "builds", "users", "sessions"] {
+        let n = app.count(table).await;
+        assert!(n > 0, "{table} is still there and not empty");
+    }
+    let admins: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM users WHERE role = 'admin'")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    assert_eq!(admins, 1, "no request made anyone an admin");
+
+    let accepted: usize = tally.accepted.values().sum();
+    let rejected: usize = tally.rejected.values().sum();
+    println!(
+        "hostile input: {} requests over {} routes in {:.1} s (seed {seed:#x})",
+        tally.requests,
+        tally.per_route.len(),
+        fuzz_time.as_secs_f64()
+    );
+    println!("  accepted {accepted}: {:?}", tally.accepted);
+    println!("  rejected {rejected}: {:?}", tally.rejected);
+    println!(
+        "  single-cause answers checked {}, refusals with a content digest compared {}, \
+         form 422s with only the summary alert {}",
+        tally.expectations_checked, tally.digests_compared, tally.form_422_without_field_message
+    );
+    println!(
+        "  pages checked for escaping {pages_checked} (stored records with markup: {stored_markup})"
+    );
+    for (route, (ok, no)) in &tally.per_route {
+        println!("    {route:<40} accepted {ok:>4}  rejected {no:>4}");
+    }
+    assert!(
+        tally.failures.is_empty(),
+        "{} failures (seed {seed:#x}); the first ones:\n\n{}",
+        tally.failure_count,
+        tally.failures.join("\n\n")
+    );
+    assert!(tally.requests >= 5000 || cases < 5000);
+    assert!(
+        accepted > 0 && rejected > 0,
+        "the mix has both accepted and refused requests"
+    );
+}

@@ -1,0 +1,226 @@
+//! Setup sheets: a stored snapshot that reprints as it was, and the customer's read-only link.
+
+use axum::http::StatusCode;
+
+use crate::support::{TestApp, id_from};
+
+/// Loads the demo shop into the test database (it has users already, so only customers).
+async fn demo_build(app: &TestApp) -> i64 {
+    let client = app.login("sam").await;
+    let c = client
+        .post(
+            "/customers",
+            &[("name", "Orla Brennick"), ("phone", "555-0133")],
+        )
+        .await;
+    let customer = id_from(c.location());
+    let car = client
+        .post(
+            &format!("/customers/{customer}/cars"),
+            &[
+                ("description", "'69 coupe, 427 V8, 4-speed"),
+                ("launch_rpm", "4500"),
+                ("rated_input_torque", "600"),
+                (
+                    "torque_curve",
+                    "3000,410\n4000,455\n5000,480\n6000,470\n7000,430",
+                ),
+            ],
+        )
+        .await;
+    let car = id_from(car.location());
+    let b = client
+        .post(
+            &format!("/cars/{car}/builds"),
+            &[
+                ("disc_count", "1"),
+                ("facing_material", "organic"),
+                ("facing_od", "10.4"),
+                ("facing_id", "6.6"),
+                ("spring_count", "6"),
+                ("spring_rate", "380"),
+                ("adjuster_thread", "16"),
+                ("adjuster_thread_kind", "tpi"),
+                ("base_compression", "0.220"),
+                ("lever_count", "3"),
+                ("lever_mass_g", "12"),
+                ("lever_cg_radius", "4.1"),
+                ("lever_arm_ratio", "2.6"),
+                ("shim_stack", "0.010, 0.010, 0.020"),
+                ("status", "active"),
+            ],
+        )
+        .await;
+    let id: i64 = id_from(b.location()).parse().unwrap();
+    client
+        .post(
+            &format!("/builds/{id}/setups"),
+            &[
+                ("changed_on", "2026-11-02"),
+                ("adjuster_turns", "1.5"),
+                ("counterweight_g", "24"),
+            ],
+        )
+        .await;
+    client
+        .post(
+            &format!("/builds/{id}/heights"),
+            &[
+                ("measured_on", "2026-11-02"),
+                ("height", "1.905"),
+                ("passes", "0"),
+                ("shims_pulled", "0"),
+            ],
+        )
+        .await;
+    id
+}
+
+#[tokio::test]
+async fn a_printed_sheet_keeps_its_figures_after_the_build_changes() {
+    let app = TestApp::new().await;
+    let id = demo_build(&app).await;
+    let client = app.login("sam").await;
+    let made = client
+        .post(
+            &format!("/builds/{id}/sheets"),
+            &[("target_lockup", "5600")],
+        )
+        .await;
+    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
+    let sheet_path = made.location().to_string();
+    let first = client.get(&sheet_path).await;
+    assert_eq!(first.status, StatusCode::OK);
+    for text in [
+        "Clutch setup sheet",
+        "Orla Brennick",
+        "1.5 turns",
+        "24.0 g per lever",
+        "Lockup speed",
+        "Target:",
+        "Safety",
+        "sanctioning body",
+        "springs are loaded",
+        "estimates",
+    ] {
+        assert!(first.body.contains(text), "sheet shows {text:?}");
+    }
+    // The build changes afterwards; the printed sheet does not.
+    client
+        .post(
+            &format!("/builds/{id}/setups"),
+            &[
+                ("changed_on", "2026-11-20"),
+                ("adjuster_turns", "3"),
+                ("counterweight_g", "40"),
+            ],
+        )
+        .await;
+    let again = client.get(&sheet_path).await;
+    assert_eq!(
+        first.body, again.body,
+        "reprint matches the original exactly"
+    );
+    let second = client.post(&format!("/builds/{id}/sheets"), &[]).await;
+    let fresh = client.get(second.location()).await;
+    assert!(fresh.body.contains("3 turns") && fresh.body.contains("40.0 g per lever"));
+    assert_eq!(app.count("sheets").await, 2);
+    let bad = client
+        .post(
+            &format!("/builds/{id}/sheets"),
+            &[("target_lockup", "fast")],
+        )
+        .await;
+    assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(app.count("sheets").await, 2);
+}
+
+#[tokio::test]
+async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn() {
+    let app = TestApp::new().await;
+    let id = demo_build(&app).await;
+    let client = app.login("sam").await;
+    let sheet = client
+        .post(&format!("/builds/{id}/sheets"), &[])
+        .await
+        .location()
+        .to_string();
+    let sheet_id = id_from(&sheet);
+    let made = client
+        .post(&format!("{sheet}/links"), &[("valid_days", "14")])
+        .await;
+    assert_eq!(made.status, StatusCode::OK);
+    let start = made.body.find("/s/").expect("link shown");
+    let link: String = made.body[start..]
+        .chars()
+        .take_while(|c| *c != '<')
+        .collect();
+    assert_eq!(link.len(), 3 + 64);
+
+    let public = app.get(&link, None).await;
+    assert_eq!(public.status, StatusCode::OK);
+    assert!(public.body.contains("Orla Brennick") && public.body.contains("Clutch setup sheet"));
+    for staff_only in [
+        "/customers",
+        "/logout",
+        "_csrf",
+        "Customer link",
+        "Back to the build",
+    ] {
+        assert!(
+            !public.body.contains(staff_only),
+            "the public sheet must not show {staff_only:?}"
+        );
+    }
+    assert_eq!(
+        app.get(&sheet, None).await.status,
+        StatusCode::SEE_OTHER,
+        "the shop's copy needs a login"
+    );
+    assert_eq!(
+        app.get(
+            "/s/0123456789abcdef0123456789abcdef0123456789abcdef0123456789abcdef",
+            None
+        )
+        .await
+        .status,
+        StatusCode::NOT_FOUND
+    );
+    assert_eq!(
+        app.get("/s/not-a-link", None).await.status,
+        StatusCode::NOT_FOUND
+    );
+
+    let link_id: i64 = sqlx::query_scalar("SELECT id FROM sheet_links WHERE sheet_id = ?")
+        .bind(sheet_id.parse::<i64>().unwrap())
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    let revoked = client.post(&format!("/links/{link_id}/revoke"), &[]).await;
+    assert_eq!(revoked.status, StatusCode::SEE_OTHER);
+    let gone = app.get(&link, None).await;
+    assert_eq!(gone.status, StatusCode::GONE);
+    assert!(gone.body.contains("withdrawn"));
+    assert!(!gone.body.contains("Orla Brennick"));
+
+    // An expired link is gone too.
+    let again = client
+        .post(&format!("{sheet}/links"), &[("valid_days", "1")])
+        .await;
+    let start = again.body.find("/s/").unwrap();
+    let link2: String = again.body[start..]
+        .chars()
+        .take_while(|c| *c != '<')
+        .collect();
+    sqlx::query(
+        "UPDATE sheet_links SET expires_at = '2000-01-01T00:00:00Z' WHERE revoked_at IS NULL",
+    )
+    .execute(&app.pool)
+    .await
+    .unwrap();
+    assert_eq!(app.get(&link2, None).await.status, StatusCode::GONE);
+    let bad_days = client
+        .post(&format!("{sheet}/links"), &[("valid_days", "0")])
+        .await;
+    assert_eq!(bad_days.status, StatusCode::UNPROCESSABLE_ENTITY);
+}
