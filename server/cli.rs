@@ -9,6 +9,9 @@ use crate::db;
 use crate::records::user::Role;
 use crate::{AppState, app, auth, demo};
 
+/// The name audit history gives to changes made from the command line.
+const COMMAND_LINE: &str = "command line";
+
 /// Any failure of a command: printed to stderr by `main` with a non-zero exit.
 pub type CliError = Box<dyn std::error::Error + Send + Sync>;
 
@@ -26,7 +29,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             let user = crate::records::user::NewUser::parse(&name, &password, role)
                 .map_err(|e| e.to_string())?;
             let hash = auth::hash_password(password).await?;
-            let mut conn = pool.acquire().await?;
+            let mut conn = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
             if db::users::by_name(&mut conn, &user.username)
                 .await?
                 .is_some()
@@ -34,23 +37,25 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
                 return Err(format!("a user named {:?} already exists", user.username).into());
             }
             db::users::insert(&mut conn, &user, &hash).await?;
+            conn.commit().await?;
             eprintln!("added {} ({})", user.username, role.as_str());
             Ok(())
         }
         Command::Token(TokenCommand::Create { name, db }) => {
             let pool = db::open(&db.path).await?;
-            let mut conn = pool.acquire().await?;
+            let mut conn = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
             let user = db::users::by_name(&mut conn, &name)
                 .await?
                 .ok_or_else(|| format!("no user named {name:?}"))?;
             let token = auth::new_secret("lp_");
             db::tokens::insert(&mut conn, user.id, &auth::hash_secret(&token)).await?;
+            conn.commit().await?;
             println!("{token}");
             Ok(())
         }
         Command::Token(TokenCommand::Revoke { token, user, db }) => {
             let pool = db::open(&db.path).await?;
-            let mut conn = pool.acquire().await?;
+            let mut conn = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
             let revoked = match (token, user) {
                 (Some(token), _) => {
                     db::tokens::revoke_by_hash(&mut conn, &auth::hash_secret(token.trim())).await?
@@ -66,6 +71,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             if revoked == 0 {
                 return Err("no active token matched".into());
             }
+            conn.commit().await?;
             eprintln!("revoked {revoked} token(s)");
             Ok(())
         }

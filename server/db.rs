@@ -3,6 +3,7 @@
 //! pooled connection) and never begin their own transaction: the handler owns the unit of work.
 
 pub mod activity;
+pub mod audit;
 pub mod bench;
 pub mod builds;
 pub mod cars;
@@ -63,6 +64,11 @@ pub const MIGRATIONS: &[(i64, &str, &str)] = &[
         3,
         "setup sheets",
         include_str!("../migrations/0003_setup_sheets.sql"),
+    ),
+    (
+        4,
+        "audit history",
+        include_str!("../migrations/0004_audit_history.sql"),
     ),
 ];
 

@@ -36,7 +36,7 @@ fn lbf_per_in(v: f64) -> f64 {
 
 /// Loads the demo shop into an empty database; returns false (and changes nothing) otherwise.
 pub async fn seed_if_empty(pool: &SqlitePool) -> Result<bool, DemoError> {
-    let mut tx = pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = db::audit::begin_as(pool, None, "demo data").await?;
     let users = db::users::count(&mut tx).await?;
     let customers: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers")
         .fetch_one(&mut *tx)

@@ -10,6 +10,7 @@ mod chart;
 mod customers;
 mod entries;
 mod extract;
+mod history;
 mod home;
 mod layout;
 mod login;
@@ -44,6 +45,15 @@ impl AppState {
     pub fn new(pool: SqlitePool) -> Self {
         Self { pool }
     }
+
+    /// Opens the request's write transaction on behalf of a staff member (see
+    /// `db::audit::begin_as`): every change in it is audited under their name.
+    pub async fn write(
+        &self,
+        user: &extract::CurrentUser,
+    ) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, sqlx::Error> {
+        crate::db::audit::begin_as(&self.pool, Some(user.id), &user.username).await
+    }
 }
 
 /// Largest request body accepted (forms and JSON are small; a torque curve is a few KB).
@@ -57,6 +67,9 @@ pub fn app(state: AppState) -> Router {
         .route("/logout", post(login::logout))
         .route("/customers", get(customers::list).post(customers::create))
         .route("/customers/new", get(customers::new))
+        .route("/customers/deleted", get(customers::deleted))
+        .route("/customers/{id}/delete", post(customers::delete))
+        .route("/customers/{id}/restore", post(customers::restore))
         .route(
             "/customers/{id}",
             get(customers::show).post(customers::update),
@@ -71,6 +84,7 @@ pub fn app(state: AppState) -> Router {
         .route("/builds/{id}", get(builds::show).post(builds::update))
         .route("/builds/{id}/edit", get(builds::edit))
         .route("/builds/{id}/tune", get(capacity::tune))
+        .route("/builds/{id}/history", get(history::history))
         .route("/builds/{id}/sheets", post(sheets::create))
         .route("/sheets/{id}", get(sheets::show))
         .route("/sheets/{id}/links", post(sheets::create_link))

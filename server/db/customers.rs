@@ -112,3 +112,33 @@ pub(crate) fn escape_like(text: &str) -> String {
     }
     out
 }
+
+/// Soft-deletes (`deleted = true`) or restores a customer; false when nothing changed.
+pub async fn set_deleted(
+    conn: &mut SqliteConnection,
+    id: i64,
+    deleted: bool,
+) -> sqlx::Result<bool> {
+    let sql = if deleted {
+        "UPDATE customers SET deleted_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now'),
+             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ? AND deleted_at IS NULL"
+    } else {
+        "UPDATE customers SET deleted_at = NULL, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
+         WHERE id = ? AND deleted_at IS NOT NULL"
+    };
+    Ok(sqlx::query(sql)
+        .bind(id)
+        .execute(conn)
+        .await?
+        .rows_affected()
+        == 1)
+}
+
+/// Soft-deleted customers, most recently deleted first.
+pub async fn deleted(conn: &mut SqliteConnection) -> sqlx::Result<Vec<Customer>> {
+    sqlx::query_as(
+        "SELECT * FROM customers WHERE deleted_at IS NOT NULL ORDER BY deleted_at DESC, id DESC",
+    )
+    .fetch_all(conn)
+    .await
+}

@@ -67,7 +67,7 @@ pub async fn save_settings(
     SignedForm { user, form }: SignedForm,
 ) -> AppResult<Response> {
     user.require_admin()?;
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&user).await?;
     let (page, settings) = Layout::load(&mut tx, &user, "settings", "Shop settings").await?;
     let mut reader = FormReader::new(&form, units_of(&settings));
     let input = SettingsInput::from_form(&mut reader);
@@ -145,7 +145,7 @@ pub async fn add_user(
     };
     if let Some(new_user) = new_user {
         let hash = auth::hash_password(password).await?;
-        let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+        let mut tx = state.write(&user).await?;
         if db::users::by_name(&mut tx, &new_user.username)
             .await?
             .is_some()
@@ -171,7 +171,7 @@ async fn set_disabled(
     if id == admin.id && disabled {
         return Err(AppError::Forbidden("you cannot disable your own account"));
     }
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(admin).await?;
     db::users::by_id(&mut tx, id)
         .await?
         .ok_or(AppError::NotFound)?;
@@ -215,7 +215,7 @@ pub async fn reset_password(
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
     let hash = auth::hash_password(password).await?;
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&user).await?;
     let target = db::users::by_id(&mut tx, id)
         .await?
         .ok_or(AppError::NotFound)?;

@@ -105,12 +105,11 @@ async fn conn(state: &AppState) -> Result<sqlx::pool::PoolConnection<sqlx::Sqlit
     Ok(state.pool.acquire().await.map_err(AppError::from)?)
 }
 
-async fn write_tx(state: &AppState) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, ApiError> {
-    Ok(state
-        .pool
-        .begin_with("BEGIN IMMEDIATE")
-        .await
-        .map_err(AppError::from)?)
+async fn write_tx(
+    state: &AppState,
+    user: &super::extract::CurrentUser,
+) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, ApiError> {
+    Ok(state.write(user).await.map_err(AppError::from)?)
 }
 
 async fn build_exists(conn: &mut SqliteConnection, id: i64) -> Result<db::builds::Build, ApiError> {
@@ -142,11 +141,11 @@ async fn customer_get(
 
 async fn customer_create(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     ApiJson(input): ApiJson<CustomerInput>,
 ) -> Result<Response, ApiError> {
     let c = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     let id = db::customers::insert(&mut tx, &c).await?;
     let row = found(db::customers::by_id(&mut tx, id).await?)?;
     tx.commit().await?;
@@ -155,12 +154,12 @@ async fn customer_create(
 
 async fn customer_update(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<CustomerInput>,
 ) -> ApiResult<db::customers::Customer> {
     let c = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     if !db::customers::update(&mut tx, id, &c).await? {
         return Err(ApiError(AppError::NotFound));
     }
@@ -197,12 +196,12 @@ async fn car_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult
 
 async fn car_create(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(customer_id): Id,
     ApiJson(input): ApiJson<CarInput>,
 ) -> Result<Response, ApiError> {
     let c = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     found(db::customers::by_id(&mut tx, customer_id).await?)?;
     let id = db::cars::insert(&mut tx, customer_id, &c).await?;
     let row = found(db::cars::by_id(&mut tx, id).await?)?;
@@ -212,12 +211,12 @@ async fn car_create(
 
 async fn car_update(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<CarInput>,
 ) -> ApiResult<db::cars::Car> {
     let c = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     found(db::cars::by_id(&mut tx, id).await?)?;
     db::cars::update(&mut tx, id, &c).await?;
     let row = found(db::cars::by_id(&mut tx, id).await?)?;
@@ -255,12 +254,12 @@ async fn build_get(
 
 async fn build_create(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(car_id): Id,
     ApiJson(input): ApiJson<BuildInput>,
 ) -> Result<Response, ApiError> {
     let b = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     found(db::cars::by_id(&mut tx, car_id).await?)?;
     let id = db::builds::insert(&mut tx, car_id, &b).await?;
     let row = build_exists(&mut tx, id).await?;
@@ -270,12 +269,12 @@ async fn build_create(
 
 async fn build_update(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<BuildInput>,
 ) -> ApiResult<db::builds::Build> {
     let b = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, id).await?;
     db::builds::update(&mut tx, id, &b).await?;
     let row = build_exists(&mut tx, id).await?;
@@ -312,7 +311,7 @@ async fn setup_create(
     ApiJson(input): ApiJson<SetupInput>,
 ) -> Result<Response, ApiError> {
     let v = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, build_id).await?;
     let id = db::setups::insert(&mut tx, build_id, user.id, &v).await?;
     let row = found(db::setups::by_id(&mut tx, id).await?)?;
@@ -322,12 +321,12 @@ async fn setup_create(
 
 async fn setup_update(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<SetupInput>,
 ) -> ApiResult<db::setups::Setup> {
     let v = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     found(db::setups::by_id(&mut tx, id).await?)?;
     db::setups::update(&mut tx, id, &v).await?;
     let row = found(db::setups::by_id(&mut tx, id).await?)?;
@@ -354,7 +353,7 @@ async fn bench_create(
     ApiJson(input): ApiJson<BenchInput>,
 ) -> Result<Response, ApiError> {
     let v = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, build_id).await?;
     let id = db::bench::insert(&mut tx, build_id, user.id, &v).await?;
     let rows = db::bench::for_build(&mut tx, build_id).await?;
@@ -403,7 +402,7 @@ async fn height_create(
     Id(build_id): Id,
     ApiJson(input): ApiJson<HeightInput>,
 ) -> Result<Response, ApiError> {
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     let ctx = height_context(&mut tx, build_id, 0).await?;
     let v = checked(input.check(ctx, FieldErrors::default()))?;
     let id = db::heights::insert(&mut tx, build_id, user.id, &v).await?;
@@ -414,11 +413,11 @@ async fn height_create(
 
 async fn height_update(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<HeightInput>,
 ) -> ApiResult<db::heights::Height> {
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     let existing = found(db::heights::by_id(&mut tx, id).await?)?;
     let ctx = height_context(&mut tx, existing.build_id, id).await?;
     let v = checked(input.check(ctx, FieldErrors::default()))?;
@@ -457,7 +456,7 @@ async fn pass_create(
     ApiJson(input): ApiJson<PassInput>,
 ) -> Result<Response, ApiError> {
     let v = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, build_id).await?;
     let id = db::passes::insert(&mut tx, build_id, user.id, &v).await?;
     let row = found(db::passes::by_id(&mut tx, id).await?)?;
@@ -467,12 +466,12 @@ async fn pass_create(
 
 async fn pass_update(
     State(s): State<AppState>,
-    _: ApiUser,
+    ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<PassInput>,
 ) -> ApiResult<db::passes::Pass> {
     let v = checked(input.check(FieldErrors::default()))?;
-    let mut tx = write_tx(&s).await?;
+    let mut tx = write_tx(&s, &user).await?;
     found(db::passes::by_id(&mut tx, id).await?)?;
     db::passes::update(&mut tx, id, &v).await?;
     let row = found(db::passes::by_id(&mut tx, id).await?)?;

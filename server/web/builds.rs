@@ -387,7 +387,7 @@ async fn save(
     car_id: i64,
     id: Option<i64>,
 ) -> AppResult<Response> {
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&user).await?;
     let car = db::cars::by_id(&mut tx, car_id)
         .await?
         .ok_or(AppError::NotFound)?;

@@ -144,7 +144,7 @@ async fn save(
     customer_id: i64,
     id: Option<i64>,
 ) -> AppResult<Response> {
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&user).await?;
     let customer = db::customers::by_id(&mut tx, customer_id)
         .await?
         .ok_or(AppError::NotFound)?;

@@ -166,7 +166,7 @@ async fn save(
     SignedForm { user, form }: SignedForm,
     id: Option<i64>,
 ) -> AppResult<Response> {
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&user).await?;
     let (page, settings) = Layout::load(&mut tx, &user, "customers", "Customer").await?;
     let mut reader = FormReader::new(&form, super::layout::units_of(&settings));
     let input = CustomerInput::from_form(&mut reader);
@@ -193,4 +193,51 @@ async fn save(
     };
     tx.commit().await?;
     Ok(Redirect::to(&format!("/customers/{id}")).into_response())
+}
+
+/// POST /customers/{id}/delete (admin): hides the customer and everything under them; nothing
+/// is erased, and an admin can restore it.
+pub async fn delete(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    signed.user.require_admin()?;
+    let mut tx = state.write(&signed.user).await?;
+    if !db::customers::set_deleted(&mut tx, id, true).await? {
+        return Err(AppError::NotFound);
+    }
+    tx.commit().await?;
+    Ok(Redirect::to("/customers/deleted").into_response())
+}
+
+/// POST /customers/{id}/restore (admin)
+pub async fn restore(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    signed.user.require_admin()?;
+    let mut tx = state.write(&signed.user).await?;
+    if !db::customers::set_deleted(&mut tx, id, false).await? {
+        return Err(AppError::NotFound);
+    }
+    tx.commit().await?;
+    Ok(Redirect::to(&format!("/customers/{id}")).into_response())
+}
+
+#[derive(Template)]
+#[template(path = "customers/deleted.html")]
+pub struct DeletedPage {
+    pub page: Layout,
+    pub rows: Vec<Customer>,
+}
+
+/// GET /customers/deleted (admin): customers that can be restored.
+pub async fn deleted(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
+    user.require_admin()?;
+    let mut conn = state.pool.acquire().await?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "Deleted customers").await?;
+    let rows = db::customers::deleted(&mut conn).await?;
+    Ok(Html(DeletedPage { page, rows }.render()?))
 }

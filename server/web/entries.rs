@@ -52,7 +52,7 @@ struct Entry {
 
 impl Entry {
     async fn begin(state: &AppState, build_id: i64, signed: SignedForm) -> AppResult<Self> {
-        let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+        let mut tx = state.write(&signed.user).await?;
         let build = db::builds::by_id(&mut tx, build_id)
             .await?
             .ok_or(AppError::NotFound)?;

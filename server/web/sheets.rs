@@ -217,7 +217,7 @@ pub async fn create(
     PathId(build_id): PathId,
     SignedForm { user, form }: SignedForm,
 ) -> AppResult<Response> {
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&user).await?;
     let d = db::dossier::load(&mut tx, build_id)
         .await?
         .ok_or(AppError::NotFound)?;
@@ -315,7 +315,7 @@ pub async fn create_link(
         let html = staff_page(&state, &user, sheet_id, None, errors).await?;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&user).await?;
     db::sheets::by_id(&mut tx, sheet_id)
         .await?
         .ok_or(AppError::NotFound)?;
@@ -355,9 +355,9 @@ pub async fn create_link(
 pub async fn revoke_link(
     State(state): State<AppState>,
     PathId(id): PathId,
-    _signed: SignedForm,
+    signed: SignedForm,
 ) -> AppResult<Response> {
-    let mut tx = state.pool.begin_with("BEGIN IMMEDIATE").await?;
+    let mut tx = state.write(&signed.user).await?;
     let link = db::sheets::link_by_id(&mut tx, id)
         .await?
         .ok_or(AppError::NotFound)?;

@@ -3,6 +3,7 @@
 mod access;
 mod calc;
 mod cli;
+mod history;
 mod records;
 mod sheets;
 mod support;
