@@ -43,6 +43,13 @@ pub async fn form(user: Option<CurrentUser>, Query(q): Query<NextQuery>) -> AppR
 /// Failed sign-ins allowed per name in 15 minutes before each further try is slowed.
 const FREE_FAILURES: i64 = 3;
 
+/// How long a sign-in waits after `failures` recent failures for the same name: nothing for
+/// the first few, then a quarter second more per failure, up to 5 s.
+pub fn login_delay(failures: i64) -> Duration {
+    let extra = (failures - FREE_FAILURES).max(0) as u64;
+    Duration::from_millis((250 * extra).min(5000))
+}
+
 pub async fn submit(
     State(state): State<AppState>,
     PlainForm(form): PlainForm,
@@ -54,10 +61,7 @@ pub async fn submit(
 
     // Slow down guessing: past a few recent failures, every attempt waits longer (up to 5 s).
     let failures = db::users::recent_failures(&mut conn, &username).await?;
-    if failures > FREE_FAILURES {
-        let wait = Duration::from_millis((250 * (failures - FREE_FAILURES) as u64).min(5000));
-        tokio::time::sleep(wait).await;
-    }
+    tokio::time::sleep(login_delay(failures)).await;
 
     let user = db::users::by_name(&mut conn, &username).await?;
     let ok = match &user {
@@ -109,5 +113,26 @@ fn safe_next(next: &str) -> &str {
         next
     } else {
         "/"
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn repeated_failures_slow_each_further_try_up_to_a_cap() {
+        assert_eq!(login_delay(0), Duration::ZERO);
+        assert_eq!(login_delay(FREE_FAILURES), Duration::ZERO);
+        assert_eq!(login_delay(FREE_FAILURES + 1), Duration::from_millis(250));
+        assert!(login_delay(10) > login_delay(5));
+        assert_eq!(login_delay(1000), Duration::from_secs(5));
+    }
+
+    #[test]
+    fn only_local_paths_are_followed_after_sign_in() {
+        assert_eq!(safe_next("/builds/3"), "/builds/3");
+        assert_eq!(safe_next("//evil.example"), "/");
+        assert_eq!(safe_next("https://evil.example"), "/");
     }
 }

@@ -5,6 +5,7 @@ mod calc;
 mod cli;
 mod history;
 mod records;
+mod routes;
 mod sheets;
 mod support;
 mod wear;
