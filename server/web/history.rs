@@ -100,7 +100,7 @@ pub fn describe(u: &Show, e: &Entry) -> Line {
         .chain(before.keys().filter(|k| !after.contains_key(*k)))
         .collect();
     for key in keys {
-        if key == "id" || key.ends_with("_id") && e.action == "update" {
+        if key == "id" || key.ends_with("_id") {
             continue;
         }
         let (old, new) = (before.get(key), after.get(key));
@@ -113,7 +113,9 @@ pub fn describe(u: &Show, e: &Entry) -> Line {
                 value(u, key, new)
             )),
             "create" => {
-                if new.is_some_and(|v| !v.is_null() && v != "") {
+                let flag_off =
+                    FLAGS.contains(&key.as_str()) && new.and_then(Value::as_i64) == Some(0);
+                if new.is_some_and(|v| !v.is_null() && v != "") && !flag_off {
                     details.push(format!("{}: {}", label(key), value(u, key, new)));
                 }
             }
@@ -134,6 +136,9 @@ pub fn describe(u: &Show, e: &Entry) -> Line {
     }
 }
 
+/// Yes/no columns (stored as 0 or 1).
+const FLAGS: [&str; 3] = ["new_disc", "disabled", "password_changed"];
+
 fn label(key: &str) -> String {
     crate::records::form_key(key).replace('_', " ")
 }
@@ -141,6 +146,13 @@ fn label(key: &str) -> String {
 /// A stored value in the shop's units where the field name carries a storage unit.
 fn value(u: &Show, key: &str, v: Option<&Value>) -> String {
     let Some(v) = v else { return "–".into() };
+    if FLAGS.contains(&key) {
+        return if v.as_i64() == Some(1) {
+            "yes".into()
+        } else {
+            "no".into()
+        };
+    }
     match (v.as_f64(), key) {
         (Some(x), k) if k.ends_with("_n_per_mm") => u.rate(x),
         (Some(x), k) if k.ends_with("_mm") => u.len(x),
