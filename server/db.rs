@@ -70,6 +70,11 @@ pub const MIGRATIONS: &[(i64, &str, &str)] = &[
         "audit history",
         include_str!("../migrations/0004_audit_history.sql"),
     ),
+    (
+        5,
+        "turns per adjuster",
+        include_str!("../migrations/0005_turns_per_adjuster.sql"),
+    ),
 ];
 
 fn migrator() -> Migrator {

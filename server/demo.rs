@@ -400,6 +400,7 @@ async fn seed_build(
         let s = SetupInput {
             changed_on: format!("{}-0{}", months[i], 2 + i),
             adjuster_turns: *turns,
+            adjuster_turns_each: Vec::new(),
             counterweight_g: *cw,
             mu: None,
             note: if i == 0 {

@@ -39,12 +39,14 @@ pub async fn insert(
     s: &Checked<SetupInput>,
 ) -> sqlx::Result<i64> {
     sqlx::query_scalar(
-        "INSERT INTO setup_changes (build_id, changed_on, adjuster_turns, counterweight_g, mu, note, user_id)
-         VALUES (?, ?, ?, ?, ?, ?, ?) RETURNING id",
+        "INSERT INTO setup_changes (build_id, changed_on, adjuster_turns, adjuster_turns_each,
+             counterweight_g, mu, note, user_id)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
     )
     .bind(build_id)
     .bind(&s.changed_on)
     .bind(s.adjuster_turns)
+    .bind(sqlx::types::Json(&s.adjuster_turns_each))
     .bind(s.counterweight_g)
     .bind(s.mu)
     .bind(&s.note)
@@ -59,11 +61,13 @@ pub async fn update(
     s: &Checked<SetupInput>,
 ) -> sqlx::Result<bool> {
     let done = sqlx::query(
-        "UPDATE setup_changes SET changed_on = ?, adjuster_turns = ?, counterweight_g = ?, mu = ?,
-             note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
+        "UPDATE setup_changes SET changed_on = ?, adjuster_turns = ?, adjuster_turns_each = ?,
+             counterweight_g = ?, mu = ?, note = ?,
+             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
     )
     .bind(&s.changed_on)
     .bind(s.adjuster_turns)
+    .bind(sqlx::types::Json(&s.adjuster_turns_each))
     .bind(s.counterweight_g)
     .bind(s.mu)
     .bind(&s.note)

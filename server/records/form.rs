@@ -163,6 +163,15 @@ impl<'a> FormReader<'a> {
 
     /// A list of lengths separated by commas, spaces or semicolons ("0.010, 0.010, 0.020").
     pub fn length_list(&mut self, name: &str) -> Vec<f64> {
+        let units = self.units;
+        self.number_list(name)
+            .into_iter()
+            .map(|v| units.length_to_mm(v))
+            .collect()
+    }
+
+    /// A list of plain numbers separated by commas, spaces or semicolons.
+    pub fn number_list(&mut self, name: &str) -> Vec<f64> {
         let mut out = Vec::new();
         for item in self
             .form
@@ -171,7 +180,7 @@ impl<'a> FormReader<'a> {
             .filter(|s| !s.trim().is_empty())
         {
             match parse_number(item.trim()) {
-                Some(v) => out.push(self.units.length_to_mm(v)),
+                Some(v) => out.push(v),
                 None => {
                     self.errors.add(
                         name,

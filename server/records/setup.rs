@@ -9,6 +9,9 @@ use super::{Bound, Checked, FieldErrors, FormReader, Rules};
 pub struct SetupInput {
     pub changed_on: String,
     pub adjuster_turns: f64,
+    /// Turns of each adjuster, when measured one by one (empty: all at `adjuster_turns`).
+    #[sqlx(json)]
+    pub adjuster_turns_each: Vec<f64>,
     /// Counterweight per lever, grams.
     pub counterweight_g: f64,
     /// Friction coefficient assumed for this setup; empty uses the facing's nominal value.
@@ -21,6 +24,7 @@ impl Default for SetupInput {
         Self {
             changed_on: String::new(),
             adjuster_turns: f64::NAN,
+            adjuster_turns_each: Vec::new(),
             counterweight_g: 0.0,
             mu: None,
             note: String::new(),
@@ -29,10 +33,21 @@ impl Default for SetupInput {
 }
 
 impl SetupInput {
+    /// Whether the adjusters were recorded at different settings (they must all match).
+    pub fn unequal_adjusters(&self) -> bool {
+        !self.adjuster_turns_each.is_empty()
+            && crate::clutch::clamp::check_adjusters(
+                &self.adjuster_turns_each,
+                "adjuster_turns_each",
+            )
+            .is_ok_and(|c| c.unequal)
+    }
+
     pub fn from_form(r: &mut FormReader) -> Self {
         Self {
             changed_on: r.text("changed_on"),
             adjuster_turns: r.number("adjuster_turns"),
+            adjuster_turns_each: r.number_list("adjuster_turns_each"),
             counterweight_g: r.opt_number("counterweight_g").unwrap_or(0.0),
             mu: r.opt_number("mu"),
             note: r.text("note"),
@@ -46,6 +61,21 @@ impl SetupInput {
         };
         rules.date("changed_on", &self.changed_on);
         rules.range("adjuster_turns", self.adjuster_turns, Incl(0.0), Incl(20.0));
+        if self.adjuster_turns_each.len() > 24 {
+            rules
+                .errors
+                .add("adjuster_turns_each", "at most 24 adjusters");
+        }
+        for (i, t) in self.adjuster_turns_each.iter().enumerate() {
+            if !rules.range(
+                &format!("adjuster_turns_each[{i}]"),
+                *t,
+                Incl(0.0),
+                Incl(20.0),
+            ) {
+                break;
+            }
+        }
         rules.range(
             "counterweight_g",
             self.counterweight_g,

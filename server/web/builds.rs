@@ -81,6 +81,19 @@ impl ShowPage {
         &self.forms.pass
     }
 
+    /// The next shim to pull, if any remain: (shims pulled after it, its thickness mm, the
+    /// latest pass count), for the one-step shim-pull form.
+    pub fn shim_pull(&self) -> Option<(i64, f64, i64)> {
+        let last = model::current_disc(&self.d.heights).last()?;
+        let pulled = last.data.shims_pulled.max(0);
+        let next = self.d.build.data.shim_stack_mm.get(pulled as usize)?;
+        Some((pulled + 1, *next, last.data.passes))
+    }
+
+    pub fn today(&self) -> String {
+        Date::today().to_string()
+    }
+
     /// The setup in force now (the latest change), if any was recorded.
     pub fn current_setup(&self) -> Option<&Setup> {
         self.d.setups.last()

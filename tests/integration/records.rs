@@ -418,3 +418,58 @@ async fn the_migrations_folder_and_the_built_in_list_agree() {
         assert_eq!(&on_disk, sql);
     }
 }
+
+#[tokio::test]
+async fn adjusters_at_different_settings_are_flagged() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = build_through_forms(&client).await;
+    let even = client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-11-02"),
+                ("adjuster_turns", "1.5"),
+                ("adjuster_turns_each", "1.5, 1.5, 1.5"),
+            ],
+        )
+        .await;
+    assert_eq!(even.status, StatusCode::SEE_OTHER);
+    assert!(
+        !client
+            .get(&build)
+            .await
+            .body
+            .contains("adjusters not all at the same setting")
+    );
+    let uneven = client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-11-03"),
+                ("adjuster_turns", "1.5"),
+                ("adjuster_turns_each", "1.5, 1.75, 1.5"),
+            ],
+        )
+        .await;
+    assert_eq!(uneven.status, StatusCode::SEE_OTHER);
+    assert!(
+        client
+            .get(&build)
+            .await
+            .body
+            .contains("adjusters not all at the same setting")
+    );
+    let bad = client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-11-04"),
+                ("adjuster_turns", "1.5"),
+                ("adjuster_turns_each", "1.5, lots"),
+            ],
+        )
+        .await;
+    assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(app.count("setup_changes").await, 2);
+}
