@@ -5,7 +5,7 @@
 use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
-use sqlx::{Sqlite, Transaction};
+use sqlx::{Sqlite, SqliteConnection, Transaction};
 
 use super::AppState;
 use super::builds::{EntryForm, EntryForms, render_page};
@@ -19,7 +19,7 @@ use crate::records::bench::BenchInput;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
-use crate::records::{FieldErrors, FormData, FormReader};
+use crate::records::{Checked, FieldErrors, FormData, FormReader};
 
 /// Which of the build page's forms was sent.
 #[derive(Clone, Copy)]
@@ -101,22 +101,129 @@ impl Entry {
     }
 }
 
+/// One kind of entry on a build page: how it is read from its form, checked against the build
+/// and what is already recorded on it, and stored.
+trait BuildEntry: Sized + Send + Sync {
+    const WHICH: Which;
+    fn read(r: &mut FormReader, build: &Build) -> Self;
+    fn check_on(
+        self,
+        ctx: HeightContext,
+        errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors>;
+    fn store<'a>(
+        tx: &'a mut SqliteConnection,
+        build_id: i64,
+        user_id: i64,
+        value: &'a Checked<Self>,
+    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a;
+}
+
+impl BuildEntry for SetupInput {
+    const WHICH: Which = Which::Setup;
+    fn read(r: &mut FormReader, _: &Build) -> Self {
+        Self::from_form(r)
+    }
+    fn check_on(self, _: HeightContext, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+        self.check(errors)
+    }
+    fn store<'a>(
+        tx: &'a mut SqliteConnection,
+        b: i64,
+        u: i64,
+        v: &'a Checked<Self>,
+    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
+        db::setups::insert(tx, b, u, v)
+    }
+}
+
+impl BuildEntry for BenchInput {
+    const WHICH: Which = Which::Bench;
+    fn read(r: &mut FormReader, build: &Build) -> Self {
+        Self::from_form(r, build.data.spring_count.clamp(0, 24) as usize)
+    }
+    fn check_on(self, _: HeightContext, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+        self.check(errors)
+    }
+    fn store<'a>(
+        tx: &'a mut SqliteConnection,
+        b: i64,
+        u: i64,
+        v: &'a Checked<Self>,
+    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
+        db::bench::insert(tx, b, u, v)
+    }
+}
+
+impl BuildEntry for HeightInput {
+    const WHICH: Which = Which::Height;
+    fn read(r: &mut FormReader, _: &Build) -> Self {
+        Self::from_form(r)
+    }
+    fn check_on(
+        self,
+        ctx: HeightContext,
+        errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors> {
+        self.check(ctx, errors)
+    }
+    fn store<'a>(
+        tx: &'a mut SqliteConnection,
+        b: i64,
+        u: i64,
+        v: &'a Checked<Self>,
+    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
+        db::heights::insert(tx, b, u, v)
+    }
+}
+
+impl BuildEntry for PassInput {
+    const WHICH: Which = Which::Pass;
+    fn read(r: &mut FormReader, _: &Build) -> Self {
+        Self::from_form(r)
+    }
+    fn check_on(self, _: HeightContext, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+        self.check(errors)
+    }
+    fn store<'a>(
+        tx: &'a mut SqliteConnection,
+        b: i64,
+        u: i64,
+        v: &'a Checked<Self>,
+    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
+        db::passes::insert(tx, b, u, v)
+    }
+}
+
+/// Reads, checks and stores one entry in one transaction.
+async fn add<E: BuildEntry>(
+    state: AppState,
+    build_id: i64,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let mut e = Entry::begin(&state, build_id, signed).await?;
+    let ctx = HeightContext {
+        shims_in_stack: e.build.data.shim_stack_mm.len(),
+        previous: db::heights::latest(&mut e.tx, e.build.id, 0).await?,
+    };
+    let mut reader = FormReader::new(&e.form, e.units);
+    let input = E::read(&mut reader, &e.build);
+    let result = match input.check_on(ctx, reader.errors) {
+        Ok(checked) => {
+            E::store(&mut e.tx, e.build.id, e.user.id, &checked).await?;
+            Ok(())
+        }
+        Err(errors) => Err(errors),
+    };
+    e.finish(&state, E::WHICH, result).await
+}
+
 pub async fn add_setup(
     State(state): State<AppState>,
     PathId(id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
-    let mut e = Entry::begin(&state, id, signed).await?;
-    let mut reader = FormReader::new(&e.form, e.units);
-    let input = SetupInput::from_form(&mut reader);
-    let result = match input.check(reader.errors) {
-        Ok(checked) => {
-            db::setups::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
-            Ok(())
-        }
-        Err(errors) => Err(errors),
-    };
-    e.finish(&state, Which::Setup, result).await
+    add::<SetupInput>(state, id, signed).await
 }
 
 pub async fn add_bench_test(
@@ -124,18 +231,7 @@ pub async fn add_bench_test(
     PathId(id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
-    let mut e = Entry::begin(&state, id, signed).await?;
-    let mut reader = FormReader::new(&e.form, e.units);
-    let springs = e.build.data.spring_count.clamp(0, 24) as usize;
-    let input = BenchInput::from_form(&mut reader, springs);
-    let result = match input.check(reader.errors) {
-        Ok(checked) => {
-            db::bench::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
-            Ok(())
-        }
-        Err(errors) => Err(errors),
-    };
-    e.finish(&state, Which::Bench, result).await
+    add::<BenchInput>(state, id, signed).await
 }
 
 pub async fn add_height(
@@ -143,21 +239,7 @@ pub async fn add_height(
     PathId(id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
-    let mut e = Entry::begin(&state, id, signed).await?;
-    let mut reader = FormReader::new(&e.form, e.units);
-    let input = HeightInput::from_form(&mut reader);
-    let ctx = HeightContext {
-        shims_in_stack: e.build.data.shim_stack_mm.len(),
-        previous: db::heights::latest(&mut e.tx, e.build.id, 0).await?,
-    };
-    let result = match input.check(ctx, reader.errors) {
-        Ok(checked) => {
-            db::heights::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
-            Ok(())
-        }
-        Err(errors) => Err(errors),
-    };
-    e.finish(&state, Which::Height, result).await
+    add::<HeightInput>(state, id, signed).await
 }
 
 pub async fn add_pass(
@@ -165,15 +247,5 @@ pub async fn add_pass(
     PathId(id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
-    let mut e = Entry::begin(&state, id, signed).await?;
-    let mut reader = FormReader::new(&e.form, e.units);
-    let input = PassInput::from_form(&mut reader);
-    let result = match input.check(reader.errors) {
-        Ok(checked) => {
-            db::passes::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
-            Ok(())
-        }
-        Err(errors) => Err(errors),
-    };
-    e.finish(&state, Which::Pass, result).await
+    add::<PassInput>(state, id, signed).await
 }

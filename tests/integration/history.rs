@@ -6,36 +6,14 @@ use serde_json::json;
 
 use crate::support::{TestApp, id_from};
 
+/// A customer with one build, recorded through the forms: (customer id, build id).
 async fn customer_with_build(app: &TestApp) -> (String, i64) {
-    let client = app.login("sam").await;
-    let c = client
-        .post(
-            "/customers",
-            &[("name", "Tamsin Oyelaran"), ("phone", "555-0161")],
-        )
-        .await;
-    let customer = id_from(c.location());
-    let car = client
-        .post(
-            &format!("/customers/{customer}/cars"),
-            &[("description", "'73 coupe, 454 V8, 4-speed")],
-        )
-        .await;
-    let car = id_from(car.location());
-    let b = client
-        .post(
-            &format!("/cars/{car}/builds"),
-            &[
-                ("disc_count", "1"),
-                ("facing_material", "organic"),
-                ("facing_od", "10.4"),
-                ("facing_id", "6.6"),
-                ("spring_count", "6"),
-                ("shim_stack", "0.010"),
-            ],
-        )
-        .await;
-    (customer, id_from(b.location()).parse().unwrap())
+    let path = app.login("sam").await.record_build().await;
+    let customer: i64 = sqlx::query_scalar("SELECT id FROM customers")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    (customer.to_string(), id_from(&path).parse().unwrap())
 }
 
 #[tokio::test]
@@ -162,17 +140,17 @@ async fn only_an_admin_deletes_and_restores_a_customer_and_nothing_is_erased() {
     );
     assert!(
         !tech
-            .get("/customers?q=Tamsin")
+            .get("/customers?q=Avery")
             .await
             .body
-            .contains("Tamsin Oyelaran")
+            .contains("Avery Lindqvist")
     );
     assert!(
         admin
             .get("/customers/deleted")
             .await
             .body
-            .contains("Tamsin Oyelaran")
+            .contains("Avery Lindqvist")
     );
     assert_eq!(app.count("customers").await, 1, "soft delete keeps the row");
     assert_eq!(

@@ -4,64 +4,13 @@
 use axum::http::StatusCode;
 use serde_json::json;
 
-use crate::support::{TestApp, id_from};
-
-const CURVE: &str = "rpm,torque\n3000,410\n4000,455\n5000,480\n6000,470\n7000,430";
-
-/// Creates customer, car and build through the forms; returns the build's page path.
-async fn build_through_forms(client: &crate::support::Client<'_>) -> String {
-    let c = client
-        .post(
-            "/customers",
-            &[("name", "Avery Lindqvist"), ("phone", "555-0101")],
-        )
-        .await;
-    assert_eq!(c.status, StatusCode::SEE_OTHER, "{}", c.body);
-    let customer = id_from(c.location());
-    let car = client
-        .post(
-            &format!("/customers/{customer}/cars"),
-            &[
-                ("description", "'70 coupe, 440 V8, 4-speed"),
-                ("launch_rpm", "4500"),
-                ("torque_curve", CURVE),
-            ],
-        )
-        .await;
-    assert_eq!(car.status, StatusCode::SEE_OTHER, "{}", car.body);
-    let car_id = id_from(car.location());
-    let build = client
-        .post(
-            &format!("/cars/{car_id}/builds"),
-            &[
-                ("disc_count", "1"),
-                ("facing_material", "organic"),
-                ("facing_od", "10.4"),
-                ("facing_id", "6.6"),
-                ("spring_count", "6"),
-                ("spring_rate", "380"),
-                ("adjuster_thread", "16"),
-                ("adjuster_thread_kind", "tpi"),
-                ("base_compression", "0.220"),
-                ("lever_count", "3"),
-                ("lever_mass_g", "12"),
-                ("lever_cg_radius", "4.1"),
-                ("lever_arm_ratio", "2.6"),
-                ("shim_stack", "0.010, 0.010, 0.020"),
-                ("shimming_limit", "0.015"),
-                ("status", "active"),
-            ],
-        )
-        .await;
-    assert_eq!(build.status, StatusCode::SEE_OTHER, "{}", build.body);
-    build.location().to_string()
-}
+use crate::support::TestApp;
 
 #[tokio::test]
 async fn a_tech_records_a_whole_build_through_the_forms() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
-    let build = build_through_forms(&client).await;
+    let build = client.record_build().await;
 
     // Stored in storage units: 10.4 in = 264.16 mm; 380 lbf/in = 66.547... N/mm.
     let (od, rate): (f64, f64) =
@@ -138,7 +87,7 @@ async fn a_tech_records_a_whole_build_through_the_forms() {
 async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
-    let build = build_through_forms(&client).await;
+    let build = client.record_build().await;
     let car_id: i64 = sqlx::query_scalar("SELECT id FROM cars")
         .fetch_one(&app.pool)
         .await
@@ -198,7 +147,7 @@ async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
 async fn a_measurement_cannot_go_back_in_passes() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
-    let build = build_through_forms(&client).await;
+    let build = client.record_build().await;
     let first = client
         .post(
             &format!("{build}/heights"),
@@ -368,7 +317,7 @@ async fn the_api_records_a_whole_build_and_names_bad_fields() {
 async fn customers_are_found_by_name_phone_or_car() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
-    build_through_forms(&client).await;
+    client.record_build().await;
     for q in ["lindq", "0101", "440 v8"] {
         let page = client.get(&format!("/?q={}", q.replace(' ', "+"))).await;
         assert!(page.body.contains("Avery Lindqvist"), "search {q:?}");
@@ -423,7 +372,7 @@ async fn the_migrations_folder_and_the_built_in_list_agree() {
 async fn adjusters_at_different_settings_are_flagged() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
-    let build = build_through_forms(&client).await;
+    let build = client.record_build().await;
     let even = client
         .post(
             &format!("{build}/setups"),

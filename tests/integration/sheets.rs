@@ -4,54 +4,11 @@ use axum::http::StatusCode;
 
 use crate::support::{TestApp, id_from};
 
-/// Loads the demo shop into the test database (it has users already, so only customers).
+/// A build recorded through the forms with a setup and a first cover height.
 async fn demo_build(app: &TestApp) -> i64 {
     let client = app.login("sam").await;
-    let c = client
-        .post(
-            "/customers",
-            &[("name", "Orla Brennick"), ("phone", "555-0133")],
-        )
-        .await;
-    let customer = id_from(c.location());
-    let car = client
-        .post(
-            &format!("/customers/{customer}/cars"),
-            &[
-                ("description", "'69 coupe, 427 V8, 4-speed"),
-                ("launch_rpm", "4500"),
-                ("rated_input_torque", "600"),
-                (
-                    "torque_curve",
-                    "3000,410\n4000,455\n5000,480\n6000,470\n7000,430",
-                ),
-            ],
-        )
-        .await;
-    let car = id_from(car.location());
-    let b = client
-        .post(
-            &format!("/cars/{car}/builds"),
-            &[
-                ("disc_count", "1"),
-                ("facing_material", "organic"),
-                ("facing_od", "10.4"),
-                ("facing_id", "6.6"),
-                ("spring_count", "6"),
-                ("spring_rate", "380"),
-                ("adjuster_thread", "16"),
-                ("adjuster_thread_kind", "tpi"),
-                ("base_compression", "0.220"),
-                ("lever_count", "3"),
-                ("lever_mass_g", "12"),
-                ("lever_cg_radius", "4.1"),
-                ("lever_arm_ratio", "2.6"),
-                ("shim_stack", "0.010, 0.010, 0.020"),
-                ("status", "active"),
-            ],
-        )
-        .await;
-    let id: i64 = id_from(b.location()).parse().unwrap();
+    let path = client.record_build().await;
+    let id: i64 = id_from(&path).parse().unwrap();
     client
         .post(
             &format!("/builds/{id}/setups"),
@@ -93,7 +50,7 @@ async fn a_printed_sheet_keeps_its_figures_after_the_build_changes() {
     assert_eq!(first.status, StatusCode::OK);
     for text in [
         "Clutch setup sheet",
-        "Orla Brennick",
+        "Avery Lindqvist",
         "1.5 turns",
         "24.0 g per lever",
         "Lockup speed",
@@ -159,7 +116,7 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
 
     let public = app.get(&link, None).await;
     assert_eq!(public.status, StatusCode::OK);
-    assert!(public.body.contains("Orla Brennick") && public.body.contains("Clutch setup sheet"));
+    assert!(public.body.contains("Avery Lindqvist") && public.body.contains("Clutch setup sheet"));
     for staff_only in [
         "/customers",
         "/logout",
@@ -201,7 +158,7 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
     let gone = app.get(&link, None).await;
     assert_eq!(gone.status, StatusCode::GONE);
     assert!(gone.body.contains("withdrawn"));
-    assert!(!gone.body.contains("Orla Brennick"));
+    assert!(!gone.body.contains("Avery Lindqvist"));
 
     // An expired link is gone too.
     let again = client

@@ -204,9 +204,63 @@ pub struct Client<'a> {
     pub csrf: String,
 }
 
+const CURVE: &str = "rpm,torque\n3000,410\n4000,455\n5000,480\n6000,470\n7000,430";
+
 impl Client<'_> {
     pub async fn get(&self, path: &str) -> Reply {
         self.app.get(path, Some(&self.cookie)).await
+    }
+
+    /// Creates a customer (Avery Lindqvist, 555-0101), a car with a torque curve, and a
+    /// single-disc build with levers and a three-shim stack through the forms; returns the
+    /// build's page path.
+    pub async fn record_build(&self) -> String {
+        let client = self;
+        let c = client
+            .post(
+                "/customers",
+                &[("name", "Avery Lindqvist"), ("phone", "555-0101")],
+            )
+            .await;
+        assert_eq!(c.status, StatusCode::SEE_OTHER, "{}", c.body);
+        let customer = id_from(c.location());
+        let car = client
+            .post(
+                &format!("/customers/{customer}/cars"),
+                &[
+                    ("description", "'70 coupe, 440 V8, 4-speed"),
+                    ("launch_rpm", "4500"),
+                    ("torque_curve", CURVE),
+                ],
+            )
+            .await;
+        assert_eq!(car.status, StatusCode::SEE_OTHER, "{}", car.body);
+        let car_id = id_from(car.location());
+        let build = client
+            .post(
+                &format!("/cars/{car_id}/builds"),
+                &[
+                    ("disc_count", "1"),
+                    ("facing_material", "organic"),
+                    ("facing_od", "10.4"),
+                    ("facing_id", "6.6"),
+                    ("spring_count", "6"),
+                    ("spring_rate", "380"),
+                    ("adjuster_thread", "16"),
+                    ("adjuster_thread_kind", "tpi"),
+                    ("base_compression", "0.220"),
+                    ("lever_count", "3"),
+                    ("lever_mass_g", "12"),
+                    ("lever_cg_radius", "4.1"),
+                    ("lever_arm_ratio", "2.6"),
+                    ("shim_stack", "0.010, 0.010, 0.020"),
+                    ("shimming_limit", "0.015"),
+                    ("status", "active"),
+                ],
+            )
+            .await;
+        assert_eq!(build.status, StatusCode::SEE_OTHER, "{}", build.body);
+        build.location().to_string()
     }
 
     /// Posts a form with the CSRF token, as the page's own form would.
