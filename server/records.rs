@@ -59,6 +59,16 @@ impl FieldErrors {
             .join("; ")
     }
 
+    /// The same messages under other field names (a form whose inputs are named differently
+    /// from the JSON fields).
+    pub fn renamed(self, rename: impl Fn(&str) -> String) -> FieldErrors {
+        let mut out = FieldErrors::default();
+        for (field, message) in self.0 {
+            out.add(&rename(&field), message);
+        }
+        out
+    }
+
     /// `Ok(value)` when nothing was recorded.
     pub fn into_result<T>(self, value: T) -> Result<T, FieldErrors> {
         if self.is_empty() {

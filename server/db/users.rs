@@ -93,6 +93,10 @@ pub async fn set_password(
 
 /// Records a failed sign-in and returns how many failures that name has in the last 15 minutes.
 pub async fn note_failed_login(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<i64> {
+    // Only the last day matters; older failures are dropped as new ones arrive.
+    sqlx::query("DELETE FROM login_failures WHERE created_at < strftime('%Y-%m-%dT%H:%M:%SZ', 'now', '-1 day')")
+        .execute(&mut *conn)
+        .await?;
     sqlx::query("INSERT INTO login_failures (username) VALUES (?)")
         .bind(name)
         .execute(&mut *conn)

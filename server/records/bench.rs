@@ -61,6 +61,24 @@ impl BenchInput {
         }
     }
 
+    /// The form's input name for a field of the JSON shape (`springs[2].force_n` is the form's
+    /// `force_3`; a compression comes from the shared test height or compression).
+    pub fn form_field(field: &str) -> String {
+        let Some(rest) = field.strip_prefix("springs[") else {
+            return match field {
+                "springs" => "test_height".into(),
+                other => other.into(),
+            };
+        };
+        let (index, name) = rest.split_once("].").unwrap_or((rest, ""));
+        let n = index.parse::<usize>().map_or(0, |i| i + 1);
+        match name {
+            "force_n" => format!("force_{n}"),
+            "free_length_mm" => format!("free_length_{n}"),
+            _ => "test_height".into(),
+        }
+    }
+
     pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         use Bound::{Excl, Incl};
         let mut rules = Rules {

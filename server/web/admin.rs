@@ -207,6 +207,11 @@ pub async fn reset_password(
     SignedForm { user, form }: SignedForm,
 ) -> AppResult<Response> {
     user.require_admin()?;
+    let mut conn = state.pool.acquire().await?;
+    db::users::by_id(&mut conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    drop(conn);
     let password = form.get("password").to_string();
     if let Err(e) = check_password(&password) {
         let mut errors = FieldErrors::default();

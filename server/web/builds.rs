@@ -45,6 +45,8 @@ pub struct EntryForms {
     pub bench: Option<EntryForm>,
     pub height: Option<EntryForm>,
     pub pass: Option<EntryForm>,
+    /// The "prepare a setup sheet" form (its optional tuning targets).
+    pub sheet: Option<EntryForm>,
 }
 
 #[derive(Template)]
@@ -79,6 +81,9 @@ impl ShowPage {
     }
     pub fn pass_form(&self) -> &EntryForm {
         &self.forms.pass
+    }
+    pub fn sheet_form(&self) -> &EntryForm {
+        &self.forms.sheet
     }
 
     /// The next shim to pull, if any remain: (shims pulled after it, its thickness mm, the
@@ -176,6 +181,7 @@ pub struct FilledForms {
     bench: EntryForm,
     height: EntryForm,
     pass: EntryForm,
+    sheet: EntryForm,
 }
 
 /// Renders a build's page; `forms` carries any entry form that failed its checks (422).
@@ -272,6 +278,7 @@ fn default_forms(
             e.form.set_num("launch_rpm", car.data.launch_rpm, 0);
             e
         }),
+        sheet: forms.sheet.unwrap_or_default(),
     }
 }
 

@@ -144,6 +144,7 @@ impl BuildEntry for BenchInput {
     }
     fn check_on(self, _: HeightContext, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
         self.check(errors)
+            .map_err(|e| e.renamed(BenchInput::form_field))
     }
     fn store<'a>(
         tx: &'a mut SqliteConnection,

@@ -167,7 +167,8 @@ impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
             .headers()
             .get(header::CONTENT_TYPE)
             .and_then(|v| v.to_str().ok())
-            .is_some_and(|v| v.starts_with("application/json"));
+            .and_then(|v| v.split(';').next())
+            .is_some_and(|mime| mime.trim().eq_ignore_ascii_case("application/json"));
         if !is_json {
             return Err(ApiError(AppError::field(
                 "body",

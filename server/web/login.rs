@@ -54,7 +54,8 @@ pub async fn submit(
     State(state): State<AppState>,
     PlainForm(form): PlainForm,
 ) -> AppResult<Response> {
-    let username = form.get("username").to_string();
+    // Names are short; a longer one cannot match and is cut before it is logged.
+    let username: String = form.get("username").chars().take(60).collect();
     let password = form.get("password").to_string();
     let next = form.get("next").to_string();
     let mut conn = state.pool.acquire().await?;

@@ -7,6 +7,7 @@ use axum::http::{HeaderMap, StatusCode, header};
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use super::AppState;
+use super::builds::{EntryForm, EntryForms, render_page};
 use super::capacity::{capacity_chart, figure_lines};
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
@@ -243,7 +244,14 @@ pub async fn create(
         );
     }
     if !errors.is_empty() {
-        return Err(AppError::Invalid(errors));
+        drop(tx);
+        let forms = EntryForms {
+            sheet: Some(EntryForm { form, errors }),
+            ..Default::default()
+        };
+        let mut conn = state.pool.acquire().await?;
+        let html = render_page(&mut conn, &user, build_id, forms).await?;
+        return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
     let targets = lockup.map(|l| SheetTargets {
         lockup_rpm: l,

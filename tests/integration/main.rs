@@ -3,7 +3,9 @@
 mod access;
 mod calc;
 mod cli;
+mod crash;
 mod history;
+mod hostile;
 mod records;
 mod routes;
 mod sheets;

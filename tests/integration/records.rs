@@ -422,3 +422,23 @@ async fn adjusters_at_different_settings_are_flagged() {
     assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(app.count("setup_changes").await, 2);
 }
+
+#[tokio::test]
+async fn a_bad_spring_reading_is_marked_beside_its_own_input() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    let mut pairs = vec![("tested_on", "2026-11-02"), ("test_compression", "0.500")];
+    let forces = ["190", "190", "-5", "190", "190", "190"];
+    let names: Vec<String> = (1..=6).map(|i| format!("force_{i}")).collect();
+    pairs.extend(names.iter().map(String::as_str).zip(forces));
+    let reply = client.post(&format!("{build}/bench-tests"), &pairs).await;
+    assert_eq!(reply.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let cell = reply
+        .body
+        .find("name=\"force_3\" value=\"-5\"")
+        .expect("typed value kept");
+    let after = &reply.body[cell..cell + 400];
+    assert!(after.contains("class=\"msg\">must be above 0"), "{after}");
+    assert_eq!(app.count("bench_tests").await, 0);
+}
