@@ -7,7 +7,7 @@ use tokio::net::TcpListener;
 use crate::config::{Cli, Command, RoleArg, ServeArgs, TokenCommand, UserCommand};
 use crate::db;
 use crate::records::user::Role;
-use crate::{AppState, app, auth, demo};
+use crate::{AppState, app, auth, backup, demo};
 
 /// The name audit history gives to changes made from the command line.
 const COMMAND_LINE: &str = "command line";
@@ -75,10 +75,71 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             eprintln!("revoked {revoked} token(s)");
             Ok(())
         }
+        Command::Backup { file, db } => {
+            let done = backup::backup_file(&db.path, &file).await?;
+            println!(
+                "backed up {} to {} ({} bytes, {} tables, migration {}); integrity check ok",
+                db.path.display(),
+                file.display(),
+                done.bytes,
+                done.tables,
+                done.version
+            );
+            Ok(())
+        }
+        Command::Restore { file, db } => {
+            let done = backup::restore(&db.path, &file).await?;
+            if let Some(note) = &done.safety_note {
+                eprintln!("warning: {note}");
+            }
+            if let Some(copy) = &done.safety_copy {
+                println!("kept the replaced database as {}", copy.display());
+            }
+            println!(
+                "restored {} from {} (backup at migration {}, now {}); integrity check ok",
+                db.path.display(),
+                file.display(),
+                done.backup_version,
+                done.checked.version
+            );
+            Ok(())
+        }
+        Command::Export { dir, db } => {
+            let done = backup::export_dir(&db.path, &dir).await?;
+            println!(
+                "exported {} rows from {} tables (migration {}) to {}: {} and one CSV file per table",
+                done.rows,
+                done.tables,
+                done.version,
+                dir.display(),
+                db::export::JSON_FILE
+            );
+            println!("the export holds password and token hashes: keep it private");
+            Ok(())
+        }
+        Command::Import { file, db } => {
+            let done = backup::import_file(&db.path, &file).await?;
+            println!(
+                "imported {} rows into {} tables of {} (export at migration {})",
+                done.imported.rows,
+                done.imported.tables,
+                db.path.display(),
+                done.version
+            );
+            Ok(())
+        }
     }
 }
 
 async fn serve(args: ServeArgs) -> Result<(), CliError> {
+    // Held until the server stops: `restore` refuses to replace the file while it is held.
+    let Some(_lock) = backup::DbLock::try_acquire(&args.db.path)? else {
+        return Err(format!(
+            "another Lockpoint server is using this database, or a restore is running ({} is locked)",
+            backup::lock_path(&args.db.path).display()
+        )
+        .into());
+    };
     let pool = db::open(&args.db.path).await?;
     if args.demo {
         match demo::seed_if_empty(&pool).await? {
@@ -97,35 +158,29 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
         }
     }
     let listener = TcpListener::bind(args.addr).await?;
+    let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);
     axum::serve(listener, app(AppState::new(pool.clone())))
-        .with_graceful_shutdown(shutdown_signal())
+        .with_graceful_shutdown(shutdown)
         .await?;
     pool.close().await;
     tracing::info!("stopped");
     Ok(())
 }
 
-/// Resolves on SIGINT (Ctrl-C) or SIGTERM, so in-flight requests finish and SQLite closes cleanly.
-async fn shutdown_signal() {
-    let ctrl_c = async {
-        let _ = tokio::signal::ctrl_c().await;
-    };
-    #[cfg(unix)]
-    let terminate = async {
-        match tokio::signal::unix::signal(tokio::signal::unix::SignalKind::terminate()) {
-            Ok(mut sig) => {
-                sig.recv().await;
-            }
-            Err(_) => std::future::pending::<()>().await,
+/// Resolves on SIGINT (Ctrl-C) or SIGTERM, so in-flight requests finish and SQLite closes
+/// cleanly. The handlers are installed when this is called (before the server announces its
+/// address), so a signal sent right after the "listening on" line is not missed.
+fn shutdown_signal() -> std::io::Result<impl Future<Output = ()>> {
+    use tokio::signal::unix::{SignalKind, signal};
+    let mut interrupt = signal(SignalKind::interrupt())?;
+    let mut terminate = signal(SignalKind::terminate())?;
+    Ok(async move {
+        tokio::select! {
+            _ = interrupt.recv() => {},
+            _ = terminate.recv() => {},
         }
-    };
-    #[cfg(not(unix))]
-    let terminate = std::future::pending::<()>();
-    tokio::select! {
-        () = ctrl_c => {},
-        () = terminate => {},
-    }
+    })
 }
 
 /// The first line of stdin, or a prompt when stdin is a terminal.

@@ -23,6 +23,47 @@ pub enum Command {
     /// Manage API bearer tokens.
     #[command(subcommand)]
     Token(TokenCommand),
+    /// Copy the database to a new file, safely while the server runs, and check the copy.
+    Backup {
+        /// The backup file to write (must not exist yet).
+        #[arg(value_name = "PATH")]
+        file: PathBuf,
+        #[command(flatten)]
+        db: DbArg,
+    },
+    /// Replace the database with a backup (stop the server first).
+    ///
+    /// The backup is checked first (SQLite integrity check, a Lockpoint migration history no
+    /// newer than this program) and brought up to date with this program's migrations. The
+    /// database it replaces is kept beside it as `<db>.before-restore-<unix time>`.
+    Restore {
+        /// The backup file to restore (left unchanged).
+        #[arg(value_name = "PATH")]
+        file: PathBuf,
+        #[command(flatten)]
+        db: DbArg,
+    },
+    /// Write every table as a CSV file and all tables as one JSON document (lockpoint-export.json).
+    ///
+    /// The export is complete, so it can rebuild the shop with `lockpoint import`: it contains the
+    /// staff password hashes and the API token hashes. Keep it as private as the database itself.
+    /// Sign-in sessions, failed sign-ins and the migration history are not exported.
+    Export {
+        /// Directory to write into (created when missing; existing files are never overwritten).
+        dir: PathBuf,
+        #[command(flatten)]
+        db: DbArg,
+    },
+    /// Load a JSON export (lockpoint-export.json) into a new, empty database.
+    ///
+    /// Every row keeps its id. All or nothing: one transaction. Refused when the database already
+    /// holds records.
+    Import {
+        /// The JSON document written by `lockpoint export`.
+        file: PathBuf,
+        #[command(flatten)]
+        db: DbArg,
+    },
 }
 
 /// Where the SQLite database file lives.

@@ -9,6 +9,7 @@ pub mod builds;
 pub mod cars;
 pub mod customers;
 pub mod dossier;
+pub mod export;
 pub mod heights;
 pub mod passes;
 pub mod sessions;

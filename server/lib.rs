@@ -4,6 +4,8 @@
 
 /// Password hashing, random tokens and their stored hashes.
 pub mod auth;
+/// Backups, restore, export and import of the database, and the server's database lock.
+pub mod backup;
 /// What each command of the binary does.
 pub mod cli;
 /// Pure clutch engineering: springs, clamp, capacity, friction, wear (no IO).

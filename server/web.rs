@@ -2,6 +2,7 @@
 
 mod admin;
 mod api;
+mod backup;
 mod builds;
 mod calc;
 mod capacity;
@@ -99,6 +100,9 @@ pub fn app(state: AppState) -> Router {
         .route("/users/{id}/disable", post(admin::disable_user))
         .route("/users/{id}/enable", post(admin::enable_user))
         .route("/users/{id}/password", post(admin::reset_password))
+        .route("/backup", get(backup::page))
+        .route("/backup/download", get(backup::download))
+        .route("/backup/export.json", get(backup::export_json))
         .route("/healthz", get(healthz))
         .route("/static/style.css", get(stylesheet))
         .route("/static/print.js", get(print_script));

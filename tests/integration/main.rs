@@ -1,6 +1,7 @@
 //! Integration tests: HTTP through the real router and a real SQLite file.
 
 mod access;
+mod backup;
 mod calc;
 mod cli;
 mod crash;

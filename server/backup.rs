@@ -1,0 +1,582 @@
+//! Backups and restores of the database file, exports and imports, and the lock that tells a
+//! running server from a stopped one.
+//!
+//! - A backup is `VACUUM INTO` a new file: one consistent snapshot taken in a read transaction,
+//!   so the server keeps answering and writing while it runs. The copy is then checked
+//!   (`PRAGMA integrity_check`, a migration history this program knows), switched to a plain
+//!   rollback journal so it is one self-contained file, and flushed to disk.
+//! - The server holds an exclusive advisory lock on `<db>.lock` for as long as it runs. A
+//!   restore takes the same lock, so it cannot replace the file under a running server.
+//! - A restore checks the backup on a staged copy beside the database, migrates that copy, keeps
+//!   the current database as `<db>.before-restore-<unix time>`, and only then renames the staged
+//!   copy into place.
+
+use std::ffi::OsString;
+use std::fs::{self, File, OpenOptions};
+use std::io;
+use std::path::{Path, PathBuf};
+use std::str::FromStr;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::time::{Duration, SystemTime, UNIX_EPOCH};
+
+use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions};
+use sqlx::{Connection, SqliteConnection, SqlitePool};
+
+use crate::db;
+use crate::db::export::{self, Export, ExportError};
+
+#[derive(Debug, thiserror::Error)]
+pub enum BackupError {
+    /// Not done, for a reason the user can act on.
+    #[error("{0}")]
+    Refused(String),
+    #[error("{what}: {source}")]
+    Io {
+        what: String,
+        #[source]
+        source: io::Error,
+    },
+    #[error("database: {0}")]
+    Sql(#[from] sqlx::Error),
+    #[error("{0}")]
+    Export(#[from] ExportError),
+}
+
+fn io_err(what: impl Into<String>) -> impl FnOnce(io::Error) -> BackupError {
+    let what = what.into();
+    move |source| BackupError::Io { what, source }
+}
+
+/// `path` with `suffix` added to its file name (`shop.db` + `.lock` = `shop.db.lock`).
+pub fn with_suffix(path: &Path, suffix: &str) -> PathBuf {
+    let mut name = OsString::from(path.as_os_str());
+    name.push(suffix);
+    PathBuf::from(name)
+}
+
+/// The lock file beside a database.
+pub fn lock_path(db: &Path) -> PathBuf {
+    with_suffix(db, ".lock")
+}
+
+/// An exclusive OS advisory lock on `<db>.lock`, held from [`DbLock::try_acquire`] until
+/// dropped (or until the process ends, however it ends: the OS releases it). Dropping it removes
+/// the lock file while still holding the lock; a taker that locked the old file just as it was
+/// removed sees that the name now points elsewhere and starts again.
+#[derive(Debug)]
+pub struct DbLock {
+    file: File,
+    pub path: PathBuf,
+}
+
+impl DbLock {
+    /// Takes the lock, or `Ok(None)` when another process (or another handle) holds it.
+    pub fn try_acquire(db: &Path) -> Result<Option<Self>, BackupError> {
+        let path = lock_path(db);
+        for _ in 0..10 {
+            let file = OpenOptions::new()
+                .read(true)
+                .write(true)
+                .create(true)
+                .truncate(false)
+                .open(&path)
+                .map_err(io_err(format!(
+                    "cannot open the lock file {}",
+                    path.display()
+                )))?;
+            match file.try_lock() {
+                Ok(()) => {}
+                Err(fs::TryLockError::WouldBlock) => return Ok(None),
+                Err(fs::TryLockError::Error(e)) => {
+                    return Err(io_err(format!("cannot lock {}", path.display()))(e));
+                }
+            }
+            if names_this_file(&path, &file) {
+                return Ok(Some(Self { file, path }));
+            }
+        }
+        Err(BackupError::Refused(format!(
+            "the lock file {} keeps changing: is another program removing it?",
+            path.display()
+        )))
+    }
+}
+
+/// Whether `path` still names the open `file` (and not a newer file of the same name).
+fn names_this_file(path: &Path, file: &File) -> bool {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::MetadataExt;
+        match (fs::metadata(path), file.metadata()) {
+            (Ok(named), Ok(open)) => named.dev() == open.dev() && named.ino() == open.ino(),
+            _ => false,
+        }
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = (path, file);
+        true
+    }
+}
+
+impl Drop for DbLock {
+    fn drop(&mut self) {
+        // Still locked here: the file is closed (and unlocked) after this returns.
+        if names_this_file(&self.path, &self.file) {
+            let _ = fs::remove_file(&self.path);
+        }
+    }
+}
+
+/// A file removed when this guard is dropped (a temporary download, a staged restore).
+#[derive(Debug)]
+pub struct TempPath(PathBuf);
+
+impl TempPath {
+    /// A unique name in `dir`: `<prefix>-<pid>-<time>-<n><ext>`. Nothing is created yet.
+    pub fn unique_in(dir: &Path, prefix: &str, ext: &str) -> Self {
+        static N: AtomicU64 = AtomicU64::new(0);
+        let nanos = SystemTime::now()
+            .duration_since(UNIX_EPOCH)
+            .map_or(0, |d| d.as_nanos());
+        Self(dir.join(format!(
+            "{prefix}-{}-{nanos}-{}{ext}",
+            std::process::id(),
+            N.fetch_add(1, Ordering::Relaxed)
+        )))
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.0
+    }
+}
+
+impl Drop for TempPath {
+    fn drop(&mut self) {
+        for suffix in ["", "-journal", "-wal", "-shm"] {
+            let _ = fs::remove_file(with_suffix(&self.0, suffix));
+        }
+    }
+}
+
+/// What a check of a database file found.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Checked {
+    /// The newest migration applied to it.
+    pub version: i64,
+    /// Its ordinary tables (migration history included).
+    pub tables: usize,
+    /// Its size on disk.
+    pub bytes: u64,
+}
+
+/// Opens an existing database file as it is: not created when missing, not migrated.
+pub async fn open_existing(path: &Path) -> Result<SqlitePool, BackupError> {
+    if !path.is_file() {
+        return Err(BackupError::Refused(format!(
+            "no database at {}",
+            path.display()
+        )));
+    }
+    let options = SqliteConnectOptions::from_str("sqlite:")?
+        .filename(path)
+        .create_if_missing(false)
+        .busy_timeout(Duration::from_secs(10))
+        .foreign_keys(true);
+    Ok(SqlitePoolOptions::new()
+        .max_connections(1)
+        .connect_with(options)
+        .await?)
+}
+
+/// Checks that a file is a sound Lockpoint database this program can open: SQLite's integrity
+/// check answers "ok", and it has a migration history with no failed step and nothing newer
+/// than this program knows. Switches the file to a rollback journal, so the file is complete by
+/// itself (a fresh copy, not a live database, is what this is for).
+pub async fn check_file(path: &Path) -> Result<Checked, BackupError> {
+    let shown = path.display();
+    let options = SqliteConnectOptions::from_str("sqlite:")?
+        .filename(path)
+        .create_if_missing(false)
+        .journal_mode(SqliteJournalMode::Delete)
+        .busy_timeout(Duration::from_secs(10));
+    let mut conn = SqliteConnection::connect_with(&options)
+        .await
+        .map_err(|e| {
+            BackupError::Refused(format!("{shown} is not a usable SQLite database: {e}"))
+        })?;
+    let checked = check_connection(&mut conn).await.map_err(|e| match e {
+        BackupError::Refused(why) => BackupError::Refused(format!("{shown}: {why}")),
+        BackupError::Sql(e) => BackupError::Refused(format!("{shown} could not be checked: {e}")),
+        other => other,
+    });
+    conn.close().await?;
+    let mut checked = checked?;
+    checked.bytes = fs::metadata(path)
+        .map_err(io_err(format!("cannot read {shown}")))?
+        .len();
+    Ok(checked)
+}
+
+async fn check_connection(conn: &mut SqliteConnection) -> Result<Checked, BackupError> {
+    let report: Vec<String> = sqlx::query_scalar("PRAGMA integrity_check")
+        .fetch_all(&mut *conn)
+        .await?;
+    if report != ["ok"] {
+        let first: Vec<&str> = report.iter().take(3).map(String::as_str).collect();
+        return Err(BackupError::Refused(format!(
+            "the integrity check failed: {}",
+            first.join("; ")
+        )));
+    }
+    let has_history: i64 = sqlx::query_scalar(
+        "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = '_sqlx_migrations'",
+    )
+    .fetch_one(&mut *conn)
+    .await?;
+    if has_history == 0 {
+        return Err(BackupError::Refused(
+            "not a Lockpoint database (it has no migration history)".into(),
+        ));
+    }
+    let applied: Vec<(i64, bool)> =
+        sqlx::query_as("SELECT version, success FROM _sqlx_migrations ORDER BY version")
+            .fetch_all(&mut *conn)
+            .await?;
+    if applied.is_empty() {
+        return Err(BackupError::Refused(
+            "not a Lockpoint database (its migration history is empty)".into(),
+        ));
+    }
+    if let Some((version, _)) = applied.iter().find(|(_, ok)| !ok) {
+        return Err(BackupError::Refused(format!(
+            "migration {version} failed part-way in that database"
+        )));
+    }
+    let latest = export::latest_known_version();
+    let newest = applied.iter().map(|(v, _)| *v).max().unwrap_or(0);
+    if newest > latest {
+        return Err(BackupError::Refused(format!(
+            "it was written by a newer Lockpoint (migration {newest}; this program knows up to \
+             {latest}): upgrade Lockpoint first"
+        )));
+    }
+    if let Some((version, _)) = applied
+        .iter()
+        .find(|(v, _)| !db::MIGRATIONS.iter().any(|m| m.0 == *v))
+    {
+        return Err(BackupError::Refused(format!(
+            "it has migration {version}, which this program does not know"
+        )));
+    }
+    let tables = export::tables(conn).await?.len();
+    Ok(Checked {
+        version: newest,
+        tables,
+        bytes: 0,
+    })
+}
+
+/// Flushes a file and the directory entry that names it to disk.
+fn sync_to_disk(path: &Path) -> Result<(), BackupError> {
+    File::open(path)
+        .and_then(|f| f.sync_all())
+        .map_err(io_err(format!("cannot flush {} to disk", path.display())))?;
+    #[cfg(unix)]
+    if let Some(dir) = path.parent() {
+        let dir = if dir.as_os_str().is_empty() {
+            Path::new(".")
+        } else {
+            dir
+        };
+        // Best effort: not every file system lets a directory be opened and synced.
+        let _ = File::open(dir).and_then(|d| d.sync_all());
+    }
+    Ok(())
+}
+
+/// Writes a consistent, checked copy of the database behind `pool` to `dest`, which must not
+/// exist yet. Safe while the server reads and writes: the copy is one snapshot.
+pub async fn backup_pool(pool: &SqlitePool, dest: &Path) -> Result<Checked, BackupError> {
+    let Some(dest_text) = dest.to_str() else {
+        return Err(BackupError::Refused(format!(
+            "{} is not a UTF-8 path; choose another name",
+            dest.display()
+        )));
+    };
+    // Claims the name: refuses an existing file, and VACUUM INTO accepts an empty one.
+    match OpenOptions::new().write(true).create_new(true).open(dest) {
+        Ok(_) => {}
+        Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
+            return Err(BackupError::Refused(format!(
+                "{} already exists: a backup never overwrites a file, choose a new name",
+                dest.display()
+            )));
+        }
+        Err(e) => return Err(io_err(format!("cannot create {}", dest.display()))(e)),
+    }
+    let made = async {
+        sqlx::query("VACUUM INTO ?")
+            .bind(dest_text)
+            .execute(pool)
+            .await?;
+        let checked = check_file(dest).await?;
+        sync_to_disk(dest)?;
+        Ok(checked)
+    }
+    .await;
+    if made.is_err() {
+        for suffix in ["", "-journal", "-wal", "-shm"] {
+            let _ = fs::remove_file(with_suffix(dest, suffix));
+        }
+    }
+    made
+}
+
+/// `lockpoint backup`: a checked copy of the database file `db` at `dest` (a new file).
+pub async fn backup_file(db: &Path, dest: &Path) -> Result<Checked, BackupError> {
+    if same_file(db, dest) {
+        return Err(BackupError::Refused(
+            "the backup must be a different file from the database".into(),
+        ));
+    }
+    let pool = open_existing(db).await?;
+    let made = backup_pool(&pool, dest).await;
+    pool.close().await;
+    made
+}
+
+fn same_file(a: &Path, b: &Path) -> bool {
+    match (fs::canonicalize(a), fs::canonicalize(b)) {
+        (Ok(a), Ok(b)) => a == b,
+        _ => false,
+    }
+}
+
+/// What a restore did.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Restored {
+    /// The restored database as checked after migrating it.
+    pub checked: Checked,
+    /// The migration the backup was at before it was migrated.
+    pub backup_version: i64,
+    /// Where the database that was replaced now is (None when there was none).
+    pub safety_copy: Option<PathBuf>,
+    /// Set when the replaced database could not be copied cleanly and was copied byte for byte.
+    pub safety_note: Option<String>,
+}
+
+/// `lockpoint restore`: replaces the database `db` with the backup at `src`. Refused while a
+/// server holds the database's lock, and for any file that is not a sound Lockpoint database.
+pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
+    if !src.is_file() {
+        return Err(BackupError::Refused(format!(
+            "no backup file at {}",
+            src.display()
+        )));
+    }
+    if same_file(db, src) {
+        return Err(BackupError::Refused(
+            "that file is the database itself".into(),
+        ));
+    }
+    let src_wal = with_suffix(src, "-wal");
+    if fs::metadata(&src_wal).is_ok_and(|m| m.len() > 0) {
+        return Err(BackupError::Refused(format!(
+            "{} has a write-ahead log beside it ({}), so it is a live database or an incomplete \
+             copy of one: make a backup of it with `lockpoint backup` and restore that",
+            src.display(),
+            src_wal.display()
+        )));
+    }
+    let Some(_lock) = DbLock::try_acquire(db)? else {
+        return Err(BackupError::Refused(format!(
+            "a Lockpoint server is running on {} (it holds {}): stop it, then restore",
+            db.display(),
+            lock_path(db).display()
+        )));
+    };
+
+    // Stage the backup beside the database (same file system, so the final rename is atomic),
+    // check it, and bring it up to this program's migrations. The backup file is never touched.
+    let dir = match db.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let file_name = db
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "lockpoint.db".into());
+    let staged = TempPath::unique_in(&dir, &format!(".{file_name}.restoring"), "");
+    fs::copy(src, staged.path()).map_err(io_err(format!(
+        "cannot copy {} to {}",
+        src.display(),
+        staged.path().display()
+    )))?;
+    let before = check_file(staged.path()).await.map_err(|e| match e {
+        // Name the user's file, not the staged copy.
+        BackupError::Refused(why) => BackupError::Refused(why.replace(
+            &staged.path().display().to_string(),
+            &src.display().to_string(),
+        )),
+        other => other,
+    })?;
+    let pool = db::open(staged.path()).await?;
+    pool.close().await;
+    let checked = check_file(staged.path()).await?;
+    sync_to_disk(staged.path())?;
+
+    // Keep the database being replaced.
+    let (safety_copy, safety_note) = if db.exists() {
+        let (path, note) = safety_copy(db).await?;
+        (Some(path), note)
+    } else {
+        (None, None)
+    };
+
+    // A log left beside the old file would be replayed into the new one: remove it first.
+    for suffix in ["-wal", "-shm", "-journal"] {
+        let stale = with_suffix(db, suffix);
+        match fs::remove_file(&stale) {
+            Ok(()) => {}
+            Err(e) if e.kind() == io::ErrorKind::NotFound => {}
+            Err(e) => return Err(io_err(format!("cannot remove {}", stale.display()))(e)),
+        }
+    }
+    fs::rename(staged.path(), db).map_err(io_err(format!(
+        "cannot move the restored database into place at {}",
+        db.display()
+    )))?;
+    sync_to_disk(db)?;
+
+    // Open it as the server will (WAL, migrations) to be sure it starts.
+    let pool = db::open(db).await?;
+    pool.close().await;
+    Ok(Restored {
+        checked,
+        backup_version: before.version,
+        safety_copy,
+        safety_note,
+    })
+}
+
+/// Copies the database about to be replaced to `<db>.before-restore-<unix time>`: a checked
+/// snapshot when possible, the raw files (with any write-ahead log) when the database is damaged.
+async fn safety_copy(db: &Path) -> Result<(PathBuf, Option<String>), BackupError> {
+    let secs = SystemTime::now()
+        .duration_since(UNIX_EPOCH)
+        .map_or(0, |d| d.as_secs());
+    let mut dest = with_suffix(db, &format!(".before-restore-{secs}"));
+    let mut n = 1;
+    while dest.exists() {
+        n += 1;
+        dest = with_suffix(db, &format!(".before-restore-{secs}-{n}"));
+    }
+    match backup_file(db, &dest).await {
+        Ok(_) => Ok((dest, None)),
+        Err(why) => {
+            fs::copy(db, &dest).map_err(io_err(format!(
+                "cannot keep a copy of {} at {}",
+                db.display(),
+                dest.display()
+            )))?;
+            let wal = with_suffix(db, "-wal");
+            if wal.exists() {
+                fs::copy(&wal, with_suffix(&dest, "-wal"))
+                    .map_err(io_err(format!("cannot keep a copy of {}", wal.display())))?;
+            }
+            sync_to_disk(&dest)?;
+            Ok((
+                dest,
+                Some(format!(
+                    "the replaced database could not be copied cleanly ({why}); its files were \
+                     copied as they were"
+                )),
+            ))
+        }
+    }
+}
+
+/// Reads every exported table from a database in one snapshot.
+pub async fn read_export(pool: &SqlitePool) -> Result<Export, BackupError> {
+    let mut tx = pool.begin().await?;
+    let export = export::read(&mut tx).await?;
+    tx.rollback().await?;
+    Ok(export)
+}
+
+/// What `lockpoint export` wrote.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Exported {
+    pub version: i64,
+    pub tables: usize,
+    pub rows: usize,
+    /// Every file written, the JSON document first.
+    pub files: Vec<PathBuf>,
+}
+
+/// `lockpoint export`: writes `lockpoint-export.json` and one CSV file per table into `dir`
+/// (created when missing). Refuses to overwrite any file.
+pub async fn export_dir(db: &Path, dir: &Path) -> Result<Exported, BackupError> {
+    let pool = open_existing(db).await?;
+    let export = read_export(&pool).await;
+    pool.close().await;
+    let export = export?;
+
+    let mut files = vec![(dir.join(export::JSON_FILE), export.to_json())];
+    for table in &export.tables {
+        files.push((
+            dir.join(export::csv_file_name(&table.name)),
+            export::to_csv(table),
+        ));
+    }
+    if let Some((taken, _)) = files.iter().find(|(p, _)| p.exists()) {
+        return Err(BackupError::Refused(format!(
+            "{} already exists: an export never overwrites a file, choose a new directory",
+            taken.display()
+        )));
+    }
+    fs::create_dir_all(dir).map_err(io_err(format!("cannot create {}", dir.display())))?;
+    for (path, text) in &files {
+        let write = || -> io::Result<()> {
+            let mut file = OpenOptions::new().write(true).create_new(true).open(path)?;
+            io::Write::write_all(&mut file, text.as_bytes())?;
+            file.sync_all()
+        };
+        write().map_err(io_err(format!("cannot write {}", path.display())))?;
+    }
+    Ok(Exported {
+        version: export.version,
+        tables: export.tables.len(),
+        rows: export.row_count(),
+        files: files.into_iter().map(|(p, _)| p).collect(),
+    })
+}
+
+/// What `lockpoint import` loaded.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ImportedFile {
+    pub version: i64,
+    pub imported: export::Imported,
+}
+
+/// `lockpoint import`: loads a JSON export into the database `db` (created and migrated when
+/// missing), which must hold no records yet. All or nothing: one transaction.
+pub async fn import_file(db: &Path, file: &Path) -> Result<ImportedFile, BackupError> {
+    let text =
+        fs::read_to_string(file).map_err(io_err(format!("cannot read {}", file.display())))?;
+    let export = Export::from_json(&text)?;
+    let pool = db::open(db).await?;
+    let done = async {
+        let mut tx = pool.begin_with("BEGIN IMMEDIATE").await?;
+        let imported = export::import(&mut tx, &export).await?;
+        tx.commit().await?;
+        Ok::<_, BackupError>(imported)
+    }
+    .await;
+    pool.close().await;
+    Ok(ImportedFile {
+        version: export.version,
+        imported: done?,
+    })
+}

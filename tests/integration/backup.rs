@@ -1,0 +1,883 @@
+//! Backups, restore, export and import: through the real binary where a user would use it, and
+//! through the router for the admin downloads.
+
+use std::io::{BufRead, BufReader, Read, Write};
+use std::path::{Path, PathBuf};
+use std::process::{Child, Command, Output, Stdio};
+use std::str::FromStr;
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, AtomicU32, AtomicUsize, Ordering};
+use std::time::Duration;
+
+use axum::body::Body;
+use axum::http::{Request, StatusCode, header};
+use http_body_util::BodyExt;
+use lockpoint::backup::{self, DbLock};
+use lockpoint::db::export::{self, Export, ExportError};
+use lockpoint::records::date::Date;
+use lockpoint::{db, demo};
+use sqlx::sqlite::SqliteConnectOptions;
+use sqlx::{Connection, SqliteConnection, SqlitePool};
+use tower::ServiceExt;
+
+use crate::support::TestApp;
+
+/// A temporary directory for one test's database, backups and exports; removed when dropped.
+struct Scratch {
+    dir: PathBuf,
+}
+
+impl Scratch {
+    fn new() -> Self {
+        static N: AtomicU32 = AtomicU32::new(0);
+        let dir = std::env::temp_dir().join(format!(
+            "lockpoint-backup-test-{}-{}",
+            std::process::id(),
+            N.fetch_add(1, Ordering::Relaxed)
+        ));
+        std::fs::create_dir_all(&dir).unwrap();
+        Self { dir }
+    }
+
+    fn path(&self, name: &str) -> PathBuf {
+        self.dir.join(name)
+    }
+
+    /// File names in the directory, sorted.
+    fn names(&self) -> Vec<String> {
+        let mut names: Vec<String> = std::fs::read_dir(&self.dir)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        names
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.dir);
+    }
+}
+
+fn lockpoint(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        .args(args)
+        .stdin(Stdio::null())
+        .output()
+        .expect("the binary runs")
+}
+
+fn text(path: &Path) -> &str {
+    path.to_str().unwrap()
+}
+
+fn stderr(out: &Output) -> String {
+    String::from_utf8_lossy(&out.stderr).into_owned()
+}
+
+fn stdout(out: &Output) -> String {
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+/// A running `lockpoint serve`, killed if a test fails before stopping it.
+struct Server(Option<Child>);
+
+impl Drop for Server {
+    fn drop(&mut self) {
+        if let Some(mut child) = self.0.take() {
+            let _ = child.kill();
+            let _ = child.wait();
+        }
+    }
+}
+
+/// Starts `lockpoint serve` on `db` and waits until it answers a request (by then its
+/// shutdown signal handler is installed too).
+fn start_server(db: &Path) -> Server {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        .args(["serve", "--db", text(db), "--addr", "127.0.0.1:0"])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let stdout = child.stdout.take().unwrap();
+    let server = Server(Some(child));
+    let mut line = String::new();
+    BufReader::new(stdout).read_line(&mut line).unwrap();
+    let addr = line
+        .trim()
+        .strip_prefix("listening on http://")
+        .unwrap_or_else(|| panic!("{line}"));
+    let mut stream = std::net::TcpStream::connect(addr).unwrap();
+    stream
+        .write_all(b"GET /healthz HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n")
+        .unwrap();
+    let mut reply = String::new();
+    stream.read_to_string(&mut reply).unwrap();
+    assert!(reply.starts_with("HTTP/1.1 200"), "{reply}");
+    server
+}
+
+fn stop_server(mut server: Server) {
+    let mut child = server.0.take().unwrap();
+    let pid = child.id().to_string();
+    assert!(
+        Command::new("kill")
+            .args(["-TERM", &pid])
+            .status()
+            .unwrap()
+            .success()
+    );
+    let status = child.wait().unwrap();
+    assert!(status.success(), "clean exit on SIGTERM: {status:?}");
+}
+
+/// Runs `lockpoint serve` expecting it to give up at once; a server that starts is killed and
+/// the test fails.
+fn serve_expecting_refusal(db: &Path) -> Output {
+    let child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        .args(["serve", "--db", text(db), "--addr", "127.0.0.1:0"])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut server = Server(Some(child));
+    for _ in 0..200 {
+        let child = server.0.as_mut().unwrap();
+        if child.try_wait().unwrap().is_some() {
+            return server.0.take().unwrap().wait_with_output().unwrap();
+        }
+        std::thread::sleep(Duration::from_millis(50));
+    }
+    panic!("a second server started on {}", db.display());
+}
+
+/// A single connection to a database file as it is (no migrations).
+async fn connect(path: &Path) -> SqliteConnection {
+    let options = SqliteConnectOptions::from_str("sqlite:")
+        .unwrap()
+        .filename(path)
+        .create_if_missing(false);
+    SqliteConnection::connect_with(&options).await.unwrap()
+}
+
+async fn customer_names(path: &Path) -> Vec<String> {
+    let mut conn = connect(path).await;
+    let names = sqlx::query_scalar("SELECT name FROM customers ORDER BY id")
+        .fetch_all(&mut conn)
+        .await
+        .unwrap();
+    conn.close().await.unwrap();
+    names
+}
+
+async fn add_customer(pool: &SqlitePool, name: &str, notes: &str) -> i64 {
+    sqlx::query_scalar("INSERT INTO customers (name, notes) VALUES (?, ?) RETURNING id")
+        .bind(name)
+        .bind(notes)
+        .fetch_one(pool)
+        .await
+        .unwrap()
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn a_backup_taken_while_writes_go_on_is_sound_and_holds_every_earlier_commit() {
+    let scratch = Scratch::new();
+    let db_path = scratch.path("shop.db");
+    let pool = db::open(&db_path).await.unwrap();
+    for i in 0..300 {
+        add_customer(
+            &pool,
+            &format!("Early Customer {i}"),
+            "'70 coupe, 440 V8, 4-speed",
+        )
+        .await;
+    }
+
+    // A writer that keeps committing new customers until told to stop.
+    let stop = Arc::new(AtomicBool::new(false));
+    let written = Arc::new(AtomicUsize::new(0));
+    let writer = {
+        let (pool, stop, written) = (pool.clone(), stop.clone(), written.clone());
+        tokio::spawn(async move {
+            while !stop.load(Ordering::Relaxed) {
+                let n = written.load(Ordering::Relaxed);
+                add_customer(
+                    &pool,
+                    &format!("Late Customer {n}"),
+                    "bracket car, front-engine",
+                )
+                .await;
+                written.fetch_add(1, Ordering::Relaxed);
+            }
+        })
+    };
+    while written.load(Ordering::Relaxed) < 20 {
+        tokio::time::sleep(Duration::from_millis(5)).await;
+    }
+
+    let committed: Vec<i64> = sqlx::query_scalar("SELECT id FROM customers ORDER BY id")
+        .fetch_all(&pool)
+        .await
+        .unwrap();
+    let written_before = written.load(Ordering::Relaxed);
+    let copy = scratch.path("copy.db");
+    let args = [
+        "backup".to_string(),
+        text(&copy).to_string(),
+        "--db".to_string(),
+        text(&db_path).to_string(),
+    ];
+    let out = tokio::task::spawn_blocking(move || {
+        let args: Vec<&str> = args.iter().map(String::as_str).collect();
+        lockpoint(&args)
+    })
+    .await
+    .unwrap();
+    let written_during = written.load(Ordering::Relaxed) - written_before;
+    stop.store(true, Ordering::Relaxed);
+    writer.await.unwrap();
+
+    assert!(out.status.success(), "{}", stderr(&out));
+    assert!(
+        stdout(&out).contains("integrity check ok"),
+        "{}",
+        stdout(&out)
+    );
+    assert!(
+        written_during > 0,
+        "the writer kept committing while the backup ran"
+    );
+
+    let checked = backup::check_file(&copy)
+        .await
+        .expect("the copy checks out");
+    assert_eq!(checked.version, export::latest_known_version());
+    let mut conn = connect(&copy).await;
+    let integrity: String = sqlx::query_scalar("PRAGMA integrity_check")
+        .fetch_one(&mut conn)
+        .await
+        .unwrap();
+    assert_eq!(integrity, "ok");
+    let in_copy: Vec<i64> = sqlx::query_scalar("SELECT id FROM customers ORDER BY id")
+        .fetch_all(&mut conn)
+        .await
+        .unwrap();
+    let missing: Vec<&i64> = committed
+        .iter()
+        .filter(|id| !in_copy.contains(id))
+        .collect();
+    assert!(
+        missing.is_empty(),
+        "committed before the backup but missing: {missing:?}"
+    );
+    let total: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers")
+        .fetch_one(&pool)
+        .await
+        .unwrap();
+    assert!(in_copy.len() as i64 <= total);
+    // One snapshot: every customer in the copy has the history row its own transaction wrote.
+    let created: i64 = sqlx::query_scalar(
+        "SELECT COUNT(*) FROM audit_log WHERE table_name = 'customers' AND action = 'create'",
+    )
+    .fetch_one(&mut conn)
+    .await
+    .unwrap();
+    assert_eq!(created, in_copy.len() as i64);
+    conn.close().await.unwrap();
+    pool.close().await;
+}
+
+#[tokio::test]
+async fn a_backup_never_overwrites_a_file() {
+    let scratch = Scratch::new();
+    let db_path = scratch.path("shop.db");
+    db::open(&db_path).await.unwrap().close().await;
+    let taken = scratch.path("taken.db");
+    std::fs::write(&taken, "keep me").unwrap();
+    let out = lockpoint(&["backup", text(&taken), "--db", text(&db_path)]);
+    assert!(!out.status.success());
+    assert!(stderr(&out).contains("already exists"), "{}", stderr(&out));
+    assert_eq!(std::fs::read_to_string(&taken).unwrap(), "keep me");
+
+    let out = lockpoint(&[
+        "backup",
+        text(&scratch.path("x.db")),
+        "--db",
+        text(&scratch.path("none.db")),
+    ]);
+    assert!(!out.status.success());
+    assert!(stderr(&out).contains("no database at"), "{}", stderr(&out));
+    assert!(
+        !scratch.path("none.db").exists(),
+        "a backup does not create a database"
+    );
+}
+
+#[test]
+fn the_database_lock_is_exclusive_and_released_when_dropped() {
+    let scratch = Scratch::new();
+    let db_path = scratch.path("shop.db");
+    let first = DbLock::try_acquire(&db_path)
+        .unwrap()
+        .expect("a free lock is taken");
+    assert!(
+        DbLock::try_acquire(&db_path).unwrap().is_none(),
+        "a held lock is refused"
+    );
+    assert!(backup::lock_path(&db_path).exists());
+    drop(first);
+    assert!(
+        !backup::lock_path(&db_path).exists(),
+        "the holder removes the lock file"
+    );
+    assert!(
+        DbLock::try_acquire(&db_path).unwrap().is_some(),
+        "a dropped lock is free again"
+    );
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn restore_is_refused_while_the_server_runs_and_brings_the_backup_back_once_it_stops() {
+    let scratch = Scratch::new();
+    let db_path = scratch.path("shop.db");
+    let saved = scratch.path("saved.db");
+    let pool = db::open(&db_path).await.unwrap();
+    add_customer(&pool, "Orla Brennick", "'68 fastback, 427, 4-speed").await;
+    add_customer(&pool, "Tomas Yelverton", "altered, blown big-block").await;
+    backup::backup_file(&db_path, &saved).await.unwrap();
+    add_customer(&pool, "After The Backup", "must go away on restore").await;
+    pool.close().await;
+
+    let server = start_server(&db_path);
+    let second = serve_expecting_refusal(&db_path);
+    assert!(
+        !second.status.success(),
+        "a second server on the same file is refused"
+    );
+    assert!(
+        stderr(&second).contains("another Lockpoint server"),
+        "{}",
+        stderr(&second)
+    );
+
+    let refused = lockpoint(&["restore", text(&saved), "--db", text(&db_path)]);
+    stop_server(server);
+    assert!(!refused.status.success(), "restore under a running server");
+    assert!(
+        stderr(&refused).contains("server is running"),
+        "{}",
+        stderr(&refused)
+    );
+    assert_eq!(
+        customer_names(&db_path).await,
+        ["Orla Brennick", "Tomas Yelverton", "After The Backup"],
+        "a refused restore changes nothing"
+    );
+    assert!(
+        !scratch
+            .names()
+            .iter()
+            .any(|n| n.contains("before-restore") || n.contains("restoring")),
+        "{:?}",
+        scratch.names()
+    );
+
+    let done = lockpoint(&["restore", text(&saved), "--db", text(&db_path)]);
+    assert!(done.status.success(), "{}", stderr(&done));
+    assert_eq!(
+        customer_names(&db_path).await,
+        customer_names(&saved).await,
+        "the database now holds what the backup holds"
+    );
+    assert_eq!(
+        customer_names(&db_path).await,
+        ["Orla Brennick", "Tomas Yelverton"]
+    );
+    let safety: Vec<String> = scratch
+        .names()
+        .into_iter()
+        .filter(|n| n.starts_with("shop.db.before-restore-"))
+        .collect();
+    assert_eq!(safety.len(), 1, "{:?}", scratch.names());
+    assert!(stdout(&done).contains(&safety[0]), "{}", stdout(&done));
+    assert_eq!(
+        customer_names(&scratch.path(&safety[0])).await,
+        ["Orla Brennick", "Tomas Yelverton", "After The Backup"],
+        "the replaced database is kept"
+    );
+    assert!(
+        !scratch.names().iter().any(|n| n.contains("restoring")),
+        "{:?}",
+        scratch.names()
+    );
+
+    // The restored file serves again.
+    let server = start_server(&db_path);
+    stop_server(server);
+}
+
+#[tokio::test]
+async fn restore_refuses_damaged_and_foreign_files_and_leaves_the_database_alone() {
+    let scratch = Scratch::new();
+    let db_path = scratch.path("shop.db");
+    let pool = db::open(&db_path).await.unwrap();
+    for i in 0..200 {
+        add_customer(
+            &pool,
+            &format!("Kept Customer {i}"),
+            &"dragster notes ".repeat(20),
+        )
+        .await;
+    }
+    let good = scratch.path("good.db");
+    backup::backup_pool(&pool, &good).await.unwrap();
+    pool.close().await;
+    let before = customer_names(&db_path).await;
+
+    let garbage = scratch.path("garbage.db");
+    std::fs::write(
+        &garbage,
+        "these are not the records you are looking for\n".repeat(100),
+    )
+    .unwrap();
+
+    let foreign = scratch.path("foreign.db");
+    {
+        let options = SqliteConnectOptions::from_str("sqlite:")
+            .unwrap()
+            .filename(&foreign)
+            .create_if_missing(true);
+        let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
+        sqlx::query("CREATE TABLE notes (id INTEGER PRIMARY KEY, body TEXT)")
+            .execute(&mut conn)
+            .await
+            .unwrap();
+        conn.close().await.unwrap();
+    }
+
+    let newer = scratch.path("newer.db");
+    std::fs::copy(&good, &newer).unwrap();
+    {
+        let mut conn = connect(&newer).await;
+        sqlx::query(
+            "INSERT INTO _sqlx_migrations (version, description, success, checksum, execution_time)
+             VALUES (9999, 'from the future', 1, x'00', 0)",
+        )
+        .execute(&mut conn)
+        .await
+        .unwrap();
+        conn.close().await.unwrap();
+    }
+
+    // Every page after the first two overwritten: the schema reads, the records do not.
+    let corrupt = scratch.path("corrupt.db");
+    let mut bytes = std::fs::read(&good).unwrap();
+    assert!(bytes.len() > 4 * 4096, "{} bytes", bytes.len());
+    for b in bytes.iter_mut().skip(2 * 4096) {
+        *b = 0x5A;
+    }
+    std::fs::write(&corrupt, bytes).unwrap();
+
+    for (file, why) in [
+        (&garbage, "not a usable SQLite database"),
+        (&foreign, "not a Lockpoint database"),
+        (&newer, "newer Lockpoint"),
+        (&corrupt, "corrupt.db"),
+        (&scratch.path("missing.db"), "no backup file"),
+    ] {
+        let out = lockpoint(&["restore", text(file), "--db", text(&db_path)]);
+        assert!(!out.status.success(), "{} was restored", file.display());
+        assert!(
+            stderr(&out).contains(why),
+            "{}: {}",
+            file.display(),
+            stderr(&out)
+        );
+        assert_eq!(customer_names(&db_path).await, before);
+    }
+    assert_eq!(
+        scratch.names(),
+        [
+            "corrupt.db",
+            "foreign.db",
+            "garbage.db",
+            "good.db",
+            "newer.db",
+            "shop.db",
+        ],
+        "no staged copy or safety copy is left behind"
+    );
+}
+
+/// The demo shop plus values that are hard to carry exactly: reals with long decimal
+/// expansions, extremes, and text with quotes, commas, newlines and non-ASCII letters.
+async fn demo_shop(path: &Path) -> SqlitePool {
+    let pool = db::open(path).await.unwrap();
+    assert!(demo::seed_if_empty(&pool).await.unwrap());
+    let car: i64 = sqlx::query_scalar("SELECT MIN(id) FROM cars")
+        .fetch_one(&pool)
+        .await
+        .unwrap();
+    sqlx::query(
+        "UPDATE cars SET weight_kg = ?, first_gear_ratio = ?, final_drive_ratio = ?,
+             notes = ? WHERE id = ?",
+    )
+    .bind(0.1 + 0.2)
+    .bind(2.0_f64.sqrt())
+    .bind(1.0e-300)
+    .bind("Søren's \"Tuesday\" car,\r\nlaunches at 5,400")
+    .bind(car)
+    .execute(&pool)
+    .await
+    .unwrap();
+    pool
+}
+
+#[tokio::test]
+async fn export_then_import_into_a_new_database_exports_the_identical_document() {
+    let scratch = Scratch::new();
+    let first = demo_shop(&scratch.path("first.db")).await;
+    let document = backup::read_export(&first).await.unwrap().to_json();
+
+    let second = db::open(&scratch.path("second.db")).await.unwrap();
+    let parsed = Export::from_json(&document).unwrap();
+    let mut tx = second.begin_with("BEGIN IMMEDIATE").await.unwrap();
+    let imported = export::import(&mut tx, &parsed).await.unwrap();
+    tx.commit().await.unwrap();
+    assert_eq!(imported.rows, parsed.row_count());
+    let again = backup::read_export(&second).await.unwrap().to_json();
+    assert!(
+        document == again,
+        "the second export differs from the first"
+    );
+
+    // The document is complete and typed.
+    let json: serde_json::Value = serde_json::from_str(&document).unwrap();
+    assert_eq!(json["format"], "lockpoint-export");
+    assert_eq!(json["version"], export::latest_known_version());
+    let tables = json["tables"].as_object().unwrap();
+    for table in [
+        "customers",
+        "cars",
+        "builds",
+        "passes",
+        "users",
+        "shop_settings",
+        "audit_log",
+    ] {
+        assert!(
+            tables[table]
+                .as_array()
+                .is_some_and(|rows| !rows.is_empty()),
+            "{table} is exported"
+        );
+    }
+    for skipped in ["sessions", "login_failures", "_sqlx_migrations"] {
+        assert!(!tables.contains_key(skipped), "{skipped} is not exported");
+    }
+    assert!(
+        tables["users"][0]["password_hash"]
+            .as_str()
+            .is_some_and(|h| h.starts_with("$argon2"))
+    );
+    assert!(tables["customers"][0]["id"].is_i64());
+    assert!(
+        document.contains("0.30000000000000004"),
+        "reals are written exactly"
+    );
+    assert!(document.contains("1e-300"), "{}", &document[..200]);
+    // Parents come before the tables that refer to them.
+    let at = |t: &str| document.find(&format!("\n    \"{t}\": [")).unwrap();
+    assert!(
+        at("customers") < at("cars") && at("cars") < at("builds") && at("builds") < at("passes")
+    );
+    assert!(at("users") < at("api_tokens"));
+
+    // The audit triggers are back after the import, and record new work as before.
+    let triggers = |pool: SqlitePool| async move {
+        sqlx::query_scalar::<_, i64>("SELECT COUNT(*) FROM sqlite_master WHERE type = 'trigger'")
+            .fetch_one(&pool)
+            .await
+            .unwrap()
+    };
+    assert!(triggers(first.clone()).await > 0);
+    assert_eq!(
+        triggers(first.clone()).await,
+        triggers(second.clone()).await
+    );
+    let history = |pool: SqlitePool| async move {
+        sqlx::query_scalar::<_, i64>("SELECT COUNT(*) FROM audit_log")
+            .fetch_one(&pool)
+            .await
+            .unwrap()
+    };
+    let before = history(second.clone()).await;
+    add_customer(&second, "New After Import", "").await;
+    assert_eq!(history(second.clone()).await, before + 1);
+    first.close().await;
+    second.close().await;
+}
+
+#[tokio::test]
+async fn the_export_and_import_commands_round_trip_every_file() {
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    demo_shop(&shop).await.close().await;
+    let out = lockpoint(&["export", text(&scratch.path("one")), "--db", text(&shop)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    assert!(stdout(&out).contains("keep it private"), "{}", stdout(&out));
+
+    let fresh = scratch.path("fresh.db");
+    let json = scratch.path("one").join("lockpoint-export.json");
+    let out = lockpoint(&["import", text(&json), "--db", text(&fresh)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let out = lockpoint(&["export", text(&scratch.path("two")), "--db", text(&fresh)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+
+    let files = |dir: &str| {
+        let mut names: Vec<String> = std::fs::read_dir(scratch.path(dir))
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        names
+    };
+    assert_eq!(files("one"), files("two"));
+    assert!(files("one").contains(&"customers.csv".to_string()));
+    assert!(files("one").len() > 10, "{:?}", files("one"));
+    for name in files("one") {
+        let a = std::fs::read(scratch.path("one").join(&name)).unwrap();
+        let b = std::fs::read(scratch.path("two").join(&name)).unwrap();
+        assert!(a == b, "{name} differs after export, import, export");
+    }
+
+    // Exporting into the same directory again would overwrite: refused.
+    let out = lockpoint(&["export", text(&scratch.path("one")), "--db", text(&shop)]);
+    assert!(!out.status.success());
+    assert!(stderr(&out).contains("already exists"), "{}", stderr(&out));
+    // Importing twice: the database is no longer empty.
+    let out = lockpoint(&["import", text(&json), "--db", text(&fresh)]);
+    assert!(!out.status.success());
+    assert!(
+        stderr(&out).contains("already holds records"),
+        "{}",
+        stderr(&out)
+    );
+}
+
+#[tokio::test]
+async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document() {
+    let scratch = Scratch::new();
+    let demo_pool = demo_shop(&scratch.path("demo.db")).await;
+    let document = backup::read_export(&demo_pool).await.unwrap();
+    demo_pool.close().await;
+
+    // TestApp's database has two staff accounts and nothing else.
+    let app = TestApp::new().await;
+    let mut tx = app.pool.begin_with("BEGIN IMMEDIATE").await.unwrap();
+    let refused = export::import(&mut tx, &document).await;
+    tx.rollback().await.unwrap();
+    match refused {
+        Err(ExportError::Refused(why)) => {
+            assert!(
+                why.contains("already holds records") && why.contains("users: 2"),
+                "{why}"
+            )
+        }
+        other => panic!("import into a database with records: {other:?}"),
+    }
+    assert_eq!(app.count("users").await, 2);
+    assert_eq!(app.count("customers").await, 0);
+
+    // A document from a newer program, and things that are not exports at all.
+    let empty = db::open(&scratch.path("empty.db")).await.unwrap();
+    let mut newer = document.clone();
+    newer.version = export::latest_known_version() + 1;
+    let mut tx = empty.begin_with("BEGIN IMMEDIATE").await.unwrap();
+    let refused = export::import(&mut tx, &newer).await;
+    tx.rollback().await.unwrap();
+    assert!(
+        matches!(&refused, Err(ExportError::Refused(why)) if why.contains("newer Lockpoint")),
+        "{refused:?}"
+    );
+    for text in [
+        "{}",
+        "[1, 2]",
+        r#"{"format": "something-else", "version": 1, "tables": {}}"#,
+        r#"{"format": "lockpoint-export", "version": 1, "tables": {"customers": [{"id": true}]}}"#,
+    ] {
+        assert!(
+            matches!(Export::from_json(text), Err(ExportError::Format(_))),
+            "{text} was accepted"
+        );
+    }
+    let count: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers")
+        .fetch_one(&empty)
+        .await
+        .unwrap();
+    assert_eq!(count, 0);
+    empty.close().await;
+}
+
+/// Splits RFC 4180 text into records of fields, insisting on CRLF after every record.
+fn parse_csv(text: &str) -> Vec<Vec<String>> {
+    let mut records = Vec::new();
+    let mut record = Vec::new();
+    let mut field = String::new();
+    let mut chars = text.chars().peekable();
+    let mut quoted = false;
+    while let Some(c) = chars.next() {
+        match (quoted, c) {
+            (true, '"') if chars.peek() == Some(&'"') => {
+                chars.next();
+                field.push('"');
+            }
+            (true, '"') => quoted = false,
+            (true, c) => field.push(c),
+            (false, '"') if field.is_empty() => quoted = true,
+            (false, ',') => record.push(std::mem::take(&mut field)),
+            (false, '\r') => {
+                assert_eq!(chars.next(), Some('\n'), "CR is followed by LF");
+                record.push(std::mem::take(&mut field));
+                records.push(std::mem::take(&mut record));
+            }
+            (false, c) => {
+                assert!(c != '\n' && c != '"', "bare {c:?} outside quotes");
+                field.push(c);
+            }
+        }
+    }
+    assert!(
+        !quoted && field.is_empty() && record.is_empty(),
+        "the last record ends with CRLF"
+    );
+    records
+}
+
+#[tokio::test]
+async fn csv_export_quotes_a_note_with_comma_quote_and_newline_as_rfc_4180_says() {
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    let pool = db::open(&shop).await.unwrap();
+    let note = "Wants lockup near 5,200 rpm; says \"it slips in 2nd\"\nCall after 5";
+    let id = add_customer(&pool, "Harlan Voss", note).await;
+    add_customer(&pool, "Plain Name", "no special characters").await;
+    pool.close().await;
+
+    let out = lockpoint(&["export", text(&scratch.path("out")), "--db", text(&shop)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let csv = std::fs::read_to_string(scratch.path("out").join("customers.csv")).unwrap();
+
+    assert!(
+        csv.contains(
+            ",\"Wants lockup near 5,200 rpm; says \"\"it slips in 2nd\"\"\nCall after 5\","
+        ),
+        "{csv}"
+    );
+    assert!(
+        csv.contains(",Plain Name,"),
+        "a field without specials is not quoted: {csv}"
+    );
+    let records = parse_csv(&csv);
+    assert_eq!(records.len(), 3, "a header and two records: {records:?}");
+    let header = &records[0];
+    assert_eq!(&header[..5], ["id", "name", "phone", "email", "notes"]);
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let harlan = &records[1];
+    assert_eq!(harlan.len(), header.len());
+    assert_eq!(harlan[col("id")], id.to_string());
+    assert_eq!(harlan[col("name")], "Harlan Voss");
+    assert_eq!(harlan[col("notes")], note);
+    assert_eq!(harlan[col("deleted_at")], "", "NULL is an empty field");
+}
+
+/// Sends a GET through the router and returns status, headers and the raw body.
+async fn get_bytes(
+    app: &TestApp,
+    path: &str,
+    cookie: &str,
+) -> (StatusCode, axum::http::HeaderMap, Vec<u8>) {
+    let req = Request::get(path)
+        .header(header::COOKIE, cookie)
+        .body(Body::empty())
+        .unwrap();
+    let res = app.router.clone().oneshot(req).await.unwrap();
+    let status = res.status();
+    let headers = res.headers().clone();
+    let bytes = res.into_body().collect().await.unwrap().to_bytes().to_vec();
+    (status, headers, bytes)
+}
+
+fn leftover_downloads() -> usize {
+    let prefix = format!("lockpoint-download-{}-", std::process::id());
+    std::fs::read_dir(std::env::temp_dir())
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .is_ok_and(|e| e.file_name().to_string_lossy().starts_with(&prefix))
+        })
+        .count()
+}
+
+#[tokio::test]
+async fn an_admin_downloads_a_checked_backup_and_the_export_and_a_tech_is_refused() {
+    let app = TestApp::new().await;
+    let boss = app.login("boss").await;
+    let sam = app.login("sam").await;
+
+    let page = boss.get("/backup").await;
+    assert_eq!(page.status, StatusCode::OK);
+    assert!(page.body.contains("Backups and export"));
+    assert!(page.body.contains("href=\"/backup/download\""));
+
+    let (status, headers, bytes) = get_bytes(&app, "/backup/download", &boss.cookie).await;
+    assert_eq!(status, StatusCode::OK);
+    assert_eq!(headers[header::CONTENT_TYPE], "application/vnd.sqlite3");
+    assert_eq!(
+        headers[header::CONTENT_DISPOSITION],
+        format!("attachment; filename=\"lockpoint-{}.db\"", Date::today()).as_str()
+    );
+    assert!(
+        bytes.starts_with(b"SQLite format 3\0"),
+        "{:?}",
+        &bytes[..bytes.len().min(16)]
+    );
+    assert_eq!(leftover_downloads(), 0, "the temporary copy is deleted");
+    let scratch = Scratch::new();
+    let file = scratch.path("downloaded.db");
+    std::fs::write(&file, &bytes).unwrap();
+    backup::check_file(&file)
+        .await
+        .expect("the download is a sound Lockpoint database");
+    let mut conn = connect(&file).await;
+    let staff: Vec<String> = sqlx::query_scalar("SELECT username FROM users ORDER BY id")
+        .fetch_all(&mut conn)
+        .await
+        .unwrap();
+    conn.close().await.unwrap();
+    assert_eq!(staff, ["boss", "sam"]);
+
+    let (status, headers, bytes) = get_bytes(&app, "/backup/export.json", &boss.cookie).await;
+    assert_eq!(status, StatusCode::OK);
+    assert!(
+        headers[header::CONTENT_DISPOSITION]
+            .to_str()
+            .unwrap()
+            .starts_with("attachment;")
+    );
+    let json: serde_json::Value = serde_json::from_slice(&bytes).unwrap();
+    assert_eq!(json["format"], "lockpoint-export");
+    assert_eq!(json["tables"]["users"].as_array().map(Vec::len), Some(2));
+
+    for path in ["/backup", "/backup/download", "/backup/export.json"] {
+        let (status, _, bytes) = get_bytes(&app, path, &sam.cookie).await;
+        assert_eq!(status, StatusCode::FORBIDDEN, "{path} as a tech");
+        assert!(!bytes.starts_with(b"SQLite"), "{path}");
+    }
+    assert_eq!(
+        app.get("/backup/download", None).await.status,
+        StatusCode::SEE_OTHER
+    );
+}
