@@ -7,6 +7,7 @@ use std::collections::HashMap;
 use crate::clutch::InputError;
 use crate::clutch::capacity::Theory;
 use crate::clutch::friction::FacingMaterial;
+use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
 use crate::clutch::report::{CapacityReport, report_for};
 use crate::clutch::request::{
     CapacityRequest, DiscInput, DrivelineInput, EngineInput, FrictionInput, LeversInput,
@@ -54,6 +55,13 @@ impl Trial {
 
 /// Why a build's capacity cannot be worked out yet, in words for the page.
 pub type Missing = String;
+
+/// What a tuner aims for: a lockup speed, and optionally a launch ratio.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct TuningTargets {
+    pub lockup_rpm: f64,
+    pub launch_ratio: Option<f64>,
+}
 
 /// Reviews a build's bench tests (oldest first) with the shop's tolerances.
 pub fn bench_review(bench: &[BenchTest], settings: &SettingsInput) -> Option<Vec<TestReview>> {
@@ -130,6 +138,38 @@ impl BuildFacts<'_> {
             (None, Some(p)) => p,
             _ => 0.0,
         }
+    }
+
+    /// Searches adjuster turns and counterweight for the targets, starting from `current`, on
+    /// the clutch module's default grid and limits; returns the recommendation (in `units`) and
+    /// the figures of the recommended setting.
+    pub fn recommend(
+        &self,
+        current: Trial,
+        targets: TuningTargets,
+        units: Units,
+    ) -> Result<(Recommendation, Figures), InputError> {
+        let setup = self
+            .capacity_request(current)
+            .map_err(|missing| InputError::new("build", missing))?;
+        let recommendation = crate::clutch::recommend(&RecommendRequest {
+            setup: setup.in_units(units),
+            targets: Targets {
+                lockup_rpm: targets.lockup_rpm,
+                launch_ratio: targets.launch_ratio,
+            },
+            steps: Steps::default(),
+            limits: Limits::default(),
+        })?;
+        let chosen = Trial {
+            adjuster_turns: recommendation.recommended.adjuster_turns,
+            counterweight_g: recommendation.recommended.counterweight_g,
+            mu: current.mu,
+        };
+        let request = self
+            .capacity_request(chosen)
+            .map_err(|missing| InputError::new("build", missing))?;
+        Ok((recommendation, figures(&request, units)?))
     }
 
     /// The capacity request for a setting, or what is missing to make one.

@@ -4,11 +4,11 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
+use crate::clutch::recommend::Recommendation;
 use crate::clutch::units::Units;
 use crate::clutch::wear::{WearReport, analyze};
 use crate::db::dossier::Dossier;
-use crate::model::{self, BuildFacts, Figures, Trial};
+use crate::model::{self, BuildFacts, Figures, Trial, TuningTargets};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
@@ -33,19 +33,13 @@ pub struct SheetInputs {
     /// Cover heights of the disc in the clutch, oldest first.
     pub heights: Vec<HeightInput>,
     /// Targets for a recommendation, when the technician asked for one.
-    pub targets: Option<SheetTargets>,
+    pub targets: Option<TuningTargets>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct BenchOnSheet {
     pub tested_on: String,
     pub readings: Vec<[f64; 2]>,
-}
-
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-pub struct SheetTargets {
-    pub lockup_rpm: f64,
-    pub launch_ratio: Option<f64>,
 }
 
 impl SheetInputs {
@@ -55,7 +49,7 @@ impl SheetInputs {
         settings: &SettingsInput,
         prepared_by: &str,
         prepared_on: &str,
-        targets: Option<SheetTargets>,
+        targets: Option<TuningTargets>,
     ) -> Self {
         Self {
             prepared_on: prepared_on.into(),
@@ -139,18 +133,10 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
     )
     .and_then(|r| analyze(&r).map_err(|e| e.to_string()));
     let recommendation = inputs.targets.map(|t| {
-        facts.capacity_request(trial).and_then(|setup| {
-            crate::clutch::recommend(&RecommendRequest {
-                setup: setup.in_units(units),
-                targets: Targets {
-                    lockup_rpm: t.lockup_rpm,
-                    launch_ratio: t.launch_ratio,
-                },
-                steps: Steps::default(),
-                limits: Limits::default(),
-            })
+        facts
+            .recommend(trial, t, units)
+            .map(|(r, _)| r)
             .map_err(|e| e.to_string())
-        })
     });
     SheetFigures {
         tested_rate_n_per_mm: tested,

@@ -12,12 +12,12 @@ use super::chart::Chart;
 use super::extract::{CurrentUser, PathId};
 use super::layout::Layout;
 use super::show::Show;
-use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
+use crate::clutch::recommend::Recommendation;
 use crate::clutch::report::CapacityReport;
 use crate::db;
 use crate::db::dossier::Dossier;
 use crate::error::{AppError, AppResult};
-use crate::model::{BuildFacts, Figures, Trial, figures};
+use crate::model::{BuildFacts, Figures, Trial, TuningTargets, figures};
 use crate::records::date::Date;
 use crate::records::{Bound, FieldErrors, FormData, FormReader, Rules};
 
@@ -104,6 +104,32 @@ pub struct TunePage {
     pub today: String,
 }
 
+/// Reads a setting to try (turns, counterweight, optional μ), or `None` with the messages.
+fn read_trial(reader: &mut FormReader) -> Option<Trial> {
+    let t = Trial {
+        adjuster_turns: reader.number("adjuster_turns"),
+        counterweight_g: reader.opt_number("counterweight_g").unwrap_or(0.0),
+        mu: reader.opt_number("mu"),
+    };
+    let mut rules = Rules {
+        errors: &mut reader.errors,
+    };
+    rules.range(
+        "adjuster_turns",
+        t.adjuster_turns,
+        Bound::Incl(0.0),
+        Bound::Incl(20.0),
+    );
+    rules.range(
+        "counterweight_g",
+        t.counterweight_g,
+        Bound::Incl(0.0),
+        Bound::Incl(1000.0),
+    );
+    rules.opt_range("mu", t.mu, Bound::Incl(0.05), Bound::Incl(0.8));
+    reader.errors.is_empty().then_some(t)
+}
+
 /// GET /builds/{id}/tune: the current setting; `try=1` with turns/counterweight/mu shows a
 /// trial; `recommend=1` with a target lockup (and launch ratio) searches for settings.
 pub async fn tune(
@@ -124,77 +150,31 @@ pub async fn tune(
         .capacity_request(current_trial)
         .and_then(|r| figures(&r, page.units()).map_err(|e| format!("{}: {}", e.field, e.message)));
 
-    let form = FormData::new(query.into_iter().collect());
-    let mut form = form;
+    let mut form = FormData::new(query.into_iter().collect());
     let mut reader = FormReader::new(&form, page.units());
     let mut trial = None;
-    let mut recommendation = None;
     let mut recommended = None;
-    if form.get("try") == "1" {
-        let t = Trial {
-            adjuster_turns: reader.number("adjuster_turns"),
-            counterweight_g: reader.opt_number("counterweight_g").unwrap_or(0.0),
-            mu: reader.opt_number("mu"),
-        };
-        let mut rules = Rules {
-            errors: &mut reader.errors,
-        };
-        rules.range(
-            "adjuster_turns",
-            t.adjuster_turns,
-            Bound::Incl(0.0),
-            Bound::Incl(20.0),
-        );
-        rules.range(
-            "counterweight_g",
-            t.counterweight_g,
-            Bound::Incl(0.0),
-            Bound::Incl(1000.0),
-        );
-        rules.opt_range("mu", t.mu, Bound::Incl(0.05), Bound::Incl(0.8));
-        if reader.errors.is_empty() {
-            match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
-                Ok(Ok(f)) => trial = Some((t, f)),
-                Ok(Err(e)) => reader.errors.add("adjuster_turns", e.message),
-                Err(missing) => reader.errors.add("adjuster_turns", missing),
-            }
+    if form.get("try") == "1"
+        && let Some(t) = read_trial(&mut reader)
+    {
+        match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
+            Ok(Ok(f)) => trial = Some((t, f)),
+            Ok(Err(e)) => reader.errors.add("adjuster_turns", e.message),
+            Err(missing) => reader.errors.add("adjuster_turns", missing),
         }
     }
     if form.get("recommend") == "1" {
-        let lockup = reader.number("target_lockup");
-        let ratio = reader.opt_number("target_ratio");
-        if reader.errors.is_empty()
-            && let Ok(setup) = facts.capacity_request(current_trial)
-        {
-            let request = RecommendRequest {
-                setup: setup.in_units(page.units()),
-                targets: Targets {
-                    lockup_rpm: lockup,
-                    launch_ratio: ratio,
-                },
-                steps: Steps::default(),
-                limits: Limits::default(),
-            };
-            match crate::clutch::recommend(&request) {
-                Ok(r) => {
-                    let t = Trial {
-                        adjuster_turns: r.recommended.adjuster_turns,
-                        counterweight_g: r.recommended.counterweight_g,
-                        mu: current_trial.mu,
-                    };
-                    recommended = facts
-                        .capacity_request(t)
-                        .ok()
-                        .and_then(|q| figures(&q, page.units()).ok());
-                    recommendation = Some(r);
+        let targets = TuningTargets {
+            lockup_rpm: reader.number("target_lockup"),
+            launch_ratio: reader.opt_number("target_ratio"),
+        };
+        if reader.errors.is_empty() && current.is_ok() {
+            match facts.recommend(current_trial, targets, page.units()) {
+                Ok(found) => recommended = Some(found),
+                Err(e) if e.field == "targets.launch_ratio" => {
+                    reader.errors.add("target_ratio", e.message)
                 }
-                Err(e) => {
-                    let field = match e.field.as_str() {
-                        "targets.launch_ratio" => "target_ratio",
-                        _ => "target_lockup",
-                    };
-                    reader.errors.add(field, e.message);
-                }
+                Err(e) => reader.errors.add("target_lockup", e.message),
             }
         }
     }
@@ -204,6 +184,10 @@ pub async fn tune(
         form.set_num("counterweight_g", Some(current_trial.counterweight_g), 1);
         form.set_num("mu", current_trial.mu, 3);
     }
+    let (recommendation, recommended) = match recommended {
+        Some((r, f)) => (Some(r), Some(f)),
+        None => (None, None),
+    };
     let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
     let chart = match (&current, shown) {
         (Ok(cur), Some(new)) => Some(capacity_chart(&page.u, &new.report, Some(&cur.report))),

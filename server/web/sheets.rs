@@ -19,9 +19,10 @@ use crate::clutch::wear::WearReport;
 use crate::db;
 use crate::db::sheets::{Link, LinkState, Sheet};
 use crate::error::{AppError, AppResult};
+use crate::model::TuningTargets;
 use crate::records::date::Date;
 use crate::records::{Bound, FieldErrors, FormReader, Rules};
-use crate::sheet::{self, SheetFigures, SheetInputs, SheetTargets};
+use crate::sheet::{self, SheetFigures, SheetInputs};
 
 /// Days a customer's link lasts unless the shop says otherwise.
 pub const DEFAULT_LINK_DAYS: i64 = 30;
@@ -253,7 +254,7 @@ pub async fn create(
         let html = render_page(&mut conn, &user, build_id, forms).await?;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
-    let targets = lockup.map(|l| SheetTargets {
+    let targets = lockup.map(|l| TuningTargets {
         lockup_rpm: l,
         launch_ratio: ratio,
     });

@@ -11,4 +11,5 @@ mod records;
 mod routes;
 mod sheets;
 mod support;
+mod tune;
 mod wear;
