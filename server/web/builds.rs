@@ -282,7 +282,8 @@ fn default_forms(
     }
 }
 
-fn build_title(build: &Build) -> String {
+/// A build's name for headings: its label, or its number.
+pub fn build_title(build: &Build) -> String {
     if build.data.label.is_empty() {
         format!("build #{}", build.id)
     } else {

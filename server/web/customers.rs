@@ -202,12 +202,7 @@ pub async fn delete(
     PathId(id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
-    signed.user.require_admin()?;
-    let mut tx = state.write(&signed.user).await?;
-    if !db::customers::set_deleted(&mut tx, id, true).await? {
-        return Err(AppError::NotFound);
-    }
-    tx.commit().await?;
+    set_deleted(&state, &signed, id, true).await?;
     Ok(Redirect::to("/customers/deleted").into_response())
 }
 
@@ -217,13 +212,23 @@ pub async fn restore(
     PathId(id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
+    set_deleted(&state, &signed, id, false).await?;
+    Ok(Redirect::to(&format!("/customers/{id}")).into_response())
+}
+
+async fn set_deleted(
+    state: &AppState,
+    signed: &SignedForm,
+    id: i64,
+    deleted: bool,
+) -> AppResult<()> {
     signed.user.require_admin()?;
     let mut tx = state.write(&signed.user).await?;
-    if !db::customers::set_deleted(&mut tx, id, false).await? {
+    if !db::customers::set_deleted(&mut tx, id, deleted).await? {
         return Err(AppError::NotFound);
     }
     tx.commit().await?;
-    Ok(Redirect::to(&format!("/customers/{id}")).into_response())
+    Ok(())
 }
 
 #[derive(Template)]

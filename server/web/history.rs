@@ -47,11 +47,7 @@ pub async fn history(
         "{} · {} · {}",
         owner.customer_name,
         owner.car_description,
-        if build.data.label.is_empty() {
-            format!("build #{id}")
-        } else {
-            build.data.label.clone()
-        }
+        super::builds::build_title(&build)
     );
     Ok(Html(
         HistoryPage {
