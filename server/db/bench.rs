@@ -109,3 +109,41 @@ pub async fn insert(
     }
     Ok(id)
 }
+
+/// One bench test with its readings.
+pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<BenchTest>> {
+    Ok(with_springs(conn, "t.id = ?", Some(id)).await?.pop())
+}
+
+/// Corrects a bench test: date, note and each spring's reading, in place (the number of
+/// springs stays; a different set is a new test). False when there is no such test.
+pub async fn update(
+    conn: &mut SqliteConnection,
+    id: i64,
+    b: &Checked<BenchInput>,
+) -> sqlx::Result<bool> {
+    let done = sqlx::query(
+        "UPDATE bench_tests SET tested_on = ?, note = ?,
+             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
+    )
+    .bind(&b.tested_on)
+    .bind(&b.note)
+    .bind(id)
+    .execute(&mut *conn)
+    .await?;
+    for (i, s) in b.springs.iter().enumerate() {
+        sqlx::query(
+            "UPDATE bench_springs SET free_length_mm = ?, compression_mm = ?, force_n = ?,
+                 updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
+             WHERE bench_test_id = ? AND position = ?",
+        )
+        .bind(s.free_length_mm)
+        .bind(s.compression_mm)
+        .bind(s.force_n)
+        .bind(id)
+        .bind(i as i64 + 1)
+        .execute(&mut *conn)
+        .await?;
+    }
+    Ok(done.rows_affected() == 1)
+}

@@ -48,6 +48,7 @@ pub fn routes() -> Router<AppState> {
             "/builds/{id}/bench-tests",
             get(bench_of_build).post(bench_create),
         )
+        .route("/bench-tests/{id}", get(bench_get).put(bench_update))
         .route(
             "/builds/{id}/measurements",
             get(heights_of_build).post(height_create),
@@ -360,6 +361,40 @@ async fn bench_create(
     tx.commit().await?;
     let row = rows.into_iter().find(|t| t.id == id);
     Ok(created(found(row)?))
+}
+
+async fn bench_get(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<db::bench::BenchTest> {
+    Ok(Json(found(
+        db::bench::by_id(&mut *conn(&s).await?, id).await?,
+    )?))
+}
+
+async fn bench_update(
+    State(s): State<AppState>,
+    ApiUser(user): ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<BenchInput>,
+) -> ApiResult<db::bench::BenchTest> {
+    let v = checked(input.check(FieldErrors::default()))?;
+    let mut tx = write_tx(&s, &user).await?;
+    let existing = found(db::bench::by_id(&mut tx, id).await?)?;
+    if existing.springs.len() != v.springs.len() {
+        return Err(ApiError(AppError::field(
+            "springs",
+            format!(
+                "this test has {} springs; a different set is a new bench test",
+                existing.springs.len()
+            ),
+        )));
+    }
+    db::bench::update(&mut tx, id, &v).await?;
+    let row = found(db::bench::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(Json(row))
 }
 
 // Cover-height measurements

@@ -295,6 +295,7 @@ const ROUTES: &[Route] = &[
     api("POST", "/api/v1/builds/{id}/setups"),
     api("PUT", "/api/v1/setups/{id}"),
     api("POST", "/api/v1/builds/{id}/bench-tests"),
+    api("PUT", "/api/v1/bench-tests/{id}"),
     api("POST", "/api/v1/builds/{id}/measurements"),
     api("PUT", "/api/v1/measurements/{id}"),
     api("POST", "/api/v1/builds/{id}/passes"),
@@ -327,6 +328,7 @@ struct Fixture {
     build_entries: i64,
     setup: i64,
     height: i64,
+    bench: i64,
     pass: i64,
     sheet: i64,
     link: i64,
@@ -350,6 +352,8 @@ impl Fixture {
             self.setup
         } else if t.starts_with("/measurements/") {
             self.height
+        } else if t.starts_with("/bench-tests/") {
+            self.bench
         } else if t.starts_with("/passes/") {
             self.pass
         } else if t.starts_with("/sheets/") {
@@ -533,7 +537,7 @@ fn base_json(template: &str, n: u64, rng: &mut Rng) -> Value {
         "/cars/{id}/builds" | "/builds/{id}" => build_json(),
         "/builds/{id}/setups" | "/setups/{id}" => json!({"changed_on": "2026-11-02",
             "adjuster_turns": 1.5, "counterweight_g": 24.0, "mu": 0.32, "note": "API setting"}),
-        "/builds/{id}/bench-tests" => {
+        "/builds/{id}/bench-tests" | "/bench-tests/{id}" => {
             let springs: Vec<Value> = (0..6)
                 .map(|_| json!({"free_length_mm": 53.34, "compression_mm": 12.7, "force_n": 845.0}))
                 .collect();
@@ -1504,6 +1508,13 @@ async fn thousands_of_hostile_requests_change_nothing_they_are_refused() {
         first_height,
     )
     .await;
+    let bench = created_id(
+        &app,
+        t,
+        &format!("/api/v1/builds/{b}/bench-tests"),
+        base_json("/bench-tests/{id}", 0, &mut rng),
+    )
+    .await;
     let pass = created_id(
         &app,
         t,
@@ -1558,6 +1569,7 @@ async fn thousands_of_hostile_requests_change_nothing_they_are_refused() {
         build_entries,
         setup,
         height,
+        bench,
         pass,
         sheet,
         link,

@@ -227,6 +227,19 @@ async fn the_api_records_a_whole_build_and_names_bad_fields() {
             Some(json!({"tested_on": "2026-11-01", "springs": [{"compression_mm": 12.0, "force_n": 660.0}]})))
         .await;
     assert_eq!(bench.status, StatusCode::CREATED, "{}", bench.body);
+    let bench_id = bench.json()["id"].as_i64().unwrap();
+    let fixed = app
+        .api("PUT", &format!("/api/v1/bench-tests/{bench_id}"), t,
+            Some(json!({"tested_on": "2026-11-01", "note": "re-read", "springs": [{"compression_mm": 12.0, "force_n": 672.0}]})))
+        .await;
+    assert_eq!(fixed.status, StatusCode::OK, "{}", fixed.body);
+    assert_eq!(fixed.json()["springs"][0]["force_n"], 672.0);
+    let more = app
+        .api("PUT", &format!("/api/v1/bench-tests/{bench_id}"), t,
+            Some(json!({"tested_on": "2026-11-01", "springs": [{"compression_mm": 12.0, "force_n": 1.0}, {"compression_mm": 12.0, "force_n": 1.0}]})))
+        .await;
+    assert_eq!(more.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(more.json()["field"], "springs");
     let m = app
         .api("POST", &format!("/api/v1/builds/{bid}/measurements"), t,
             Some(json!({"measured_on": "2026-11-01", "height_mm": 48.4, "passes": 0, "shims_pulled": 0})))
