@@ -68,16 +68,13 @@ pub fn capacity_chart(u: &Show, report: &CapacityReport, before: Option<&Capacit
         x,
         (0.0, y_top),
     );
-    let clip = |pts: &[(f64, f64)]| -> Vec<(f64, f64)> {
-        pts.iter().map(|&(a, b)| (a, b.min(f.y1))).collect()
-    };
     chart.shade_below(&f, "slip", &capacity, &engine);
-    chart.line(&f, "static", "static share", &clip(&static_share), false);
+    chart.line(&f, "static", "static share", &static_share);
     if before.is_some() {
-        chart.line(&f, "before", "before", &clip(&before_line), false);
+        chart.line(&f, "before", "before", &before_line);
     }
-    chart.line(&f, "engine", "engine", &engine, false);
-    chart.line(&f, "capacity", "clutch", &clip(&capacity), false);
+    chart.line(&f, "engine", "engine", &engine);
+    chart.line(&f, "capacity", "clutch", &capacity);
     if let Some(l) = &report.launch {
         chart.mark_x(&f, "launch", format!("launch {:.0}", l.rpm), l.rpm);
     }

@@ -40,8 +40,8 @@ pub struct Series {
     /// Where the label sits (end of the line).
     pub label_x: f64,
     pub label_y: f64,
-    /// Points drawn as dots (for measured data).
-    pub dots: Vec<(f64, f64)>,
+    /// Points drawn as dots (for measured data), each with its label (shown on hover).
+    pub dots: Vec<(f64, f64, String)>,
 }
 
 #[derive(Debug, Clone)]
@@ -143,26 +143,37 @@ impl Chart {
     }
 
     /// Adds a line through `points` (data coordinates).
-    pub fn line(
+    pub fn line(&mut self, f: &Frame, class: &'static str, label: &str, points: &[(f64, f64)]) {
+        self.line_with_dots(f, class, label, points, &[]);
+    }
+
+    /// Adds a line through measured points, drawn as dots labelled with `tips` (one per point).
+    pub fn line_with_dots(
         &mut self,
         f: &Frame,
         class: &'static str,
         label: &str,
         points: &[(f64, f64)],
-        dots: bool,
+        tips: &[String],
     ) {
         if points.is_empty() {
             return;
         }
         let px: Vec<(f64, f64)> = points.iter().map(|&(x, y)| (f.x(x), f.y(y))).collect();
         let (lx, ly) = *px.last().unwrap_or(&(0.0, 0.0));
+        let dots = px
+            .iter()
+            .zip(tips)
+            .map(|(&(x, y), tip)| (x, y, tip.clone()))
+            .collect();
         self.series.push(Series {
             class,
             label: label.into(),
             path: path_of(&px),
             label_x: lx + 6.0,
-            label_y: ly + 4.0,
-            dots: if dots { px } else { Vec::new() },
+            // A line that leaves the top of the scale is labelled where it leaves.
+            label_y: (ly + 4.0).clamp(self.top + 8.0, self.bottom),
+            dots,
         });
     }
 

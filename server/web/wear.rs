@@ -168,9 +168,19 @@ fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
             "forecast",
             "forecast",
             &[(last.0, len(last.1)), (x, len(y))],
-            false,
         );
     }
-    c.line(&f, "height", "measured", &points, true);
+    let tips: Vec<String> = heights
+        .iter()
+        .map(|h| {
+            format!(
+                "{}: {} at {} passes",
+                h.data.measured_on,
+                u.len(h.data.height_mm),
+                h.data.passes
+            )
+        })
+        .collect();
+    c.line_with_dots(&f, "height", "measured", &points, &tips);
     c
 }
