@@ -867,32 +867,19 @@ fn form_case(
         b.extend(raw);
         body = b;
     }
-    let uri = match &id_text {
-        Some(id) => route.template.replace("{id}", id),
-        None => route.template.to_string(),
-    };
-    let mut headers = Vec::new();
-    if let Some(ct) = content_type {
-        headers.push(("content-type".into(), ct));
-    }
-    if let Some(c) = cookie {
-        headers.push(("cookie".into(), c));
-    }
-    if rng.chance(50) {
-        headers.push(("content-length".into(), body.len().to_string()));
-    }
-    headers.extend(extra_headers);
-    // Only a request changed in one way has a certain answer.
-    let expect = expect.filter(|_| mutations.len() == 1);
-    Case {
+    let credential = cookie.map(|c| ("cookie".to_string(), c));
+    finish_case(
         route,
-        uri,
-        headers,
+        id_text,
+        content_type,
+        credential,
+        extra_headers,
         body,
         mutations,
         expect,
         authenticated,
-    }
+        rng,
+    )
 }
 
 /// A path into a JSON value.
@@ -1146,6 +1133,38 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
             text.into_bytes()
         }
     };
+    let credential = auth.map(|a| ("authorization".to_string(), a));
+    finish_case(
+        route,
+        id_text,
+        content_type,
+        credential,
+        extra_headers,
+        body,
+        mutations,
+        expect,
+        authenticated,
+        rng,
+    )
+}
+
+/// The request line and headers of a generated case, shared by form and API cases.
+#[expect(
+    clippy::too_many_arguments,
+    reason = "the parts of one generated request"
+)]
+fn finish_case(
+    route: &'static Route,
+    id_text: Option<String>,
+    content_type: Option<String>,
+    credential: Option<(String, String)>,
+    extra_headers: Vec<(String, String)>,
+    body: Vec<u8>,
+    mutations: Vec<String>,
+    expect: Option<Expect>,
+    authenticated: bool,
+    rng: &mut Rng,
+) -> Case {
     let uri = match &id_text {
         Some(id) => route.template.replace("{id}", id),
         None => route.template.to_string(),
@@ -1154,9 +1173,7 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
     if let Some(ct) = content_type {
         headers.push(("content-type".into(), ct));
     }
-    if let Some(a) = auth {
-        headers.push(("authorization".into(), a));
-    }
+    headers.extend(credential);
     if rng.chance(50) {
         headers.push(("content-length".into(), body.len().to_string()));
     }
