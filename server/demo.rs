@@ -450,6 +450,7 @@ async fn seed_build(
         let ctx = HeightContext {
             shims_in_stack: b.shims_in.len(),
             previous,
+            next: None,
         };
         db::heights::insert(
             tx,

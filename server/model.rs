@@ -243,9 +243,9 @@ fn curve_range(points: &[[f64; 2]]) -> (f64, f64) {
 }
 
 /// The wear request for a build's cover-height history (storage units). The baseline is the
-/// first measurement (new disc, full shim stack). The disc's wear allowance is new minus minimum
-/// thickness; without disc data it is the shimming limit plus the whole stack, so the disc is
-/// due exactly when the shims run out.
+/// first measurement (new disc, full shim stack). The wear allowance is new minus minimum disc
+/// thickness, times the number of discs in the pack; without disc data it is the shimming limit
+/// plus the whole stack, so the disc is due exactly when the shims run out.
 pub fn wear_request<T: AsRef<HeightInput>>(
     build: &BuildInput,
     settings: &SettingsInput,
@@ -260,8 +260,10 @@ pub fn wear_request<T: AsRef<HeightInput>>(
     let rate =
         spring_rate_n_per_mm.ok_or("Record a spring bench test or a nominal spring rate.")?;
     let limit = shimming_limit_mm(build, settings);
+    // Cover height grows with the wear of the whole pack, so the allowance is per disc times
+    // the number of discs.
     let allowance = match (build.disc_thickness_new_mm, build.disc_thickness_min_mm) {
-        (Some(new), Some(min)) => new - min,
+        (Some(new), Some(min)) => (new - min) * build.disc_count.max(1) as f64,
         _ => limit + build.shim_stack_mm.iter().sum::<f64>(),
     };
     Ok(WearRequest {

@@ -112,7 +112,10 @@ pub async fn insert(
 
 /// One bench test with its readings.
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<BenchTest>> {
-    Ok(with_springs(conn, "t.id = ?", Some(id)).await?.pop())
+    let live =
+        "t.id = ? AND t.build_id IN (SELECT b.id FROM builds b JOIN cars k ON k.id = b.car_id
+                JOIN customers c ON c.id = k.customer_id WHERE c.deleted_at IS NULL)";
+    Ok(with_springs(conn, live, Some(id)).await?.pop())
 }
 
 /// Corrects a bench test: date, note and each spring's reading, in place (the number of

@@ -32,27 +32,42 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Height>> {
-    sqlx::query_as("SELECT * FROM cover_heights WHERE id = ?")
-        .bind(id)
-        .fetch_optional(conn)
-        .await
+    sqlx::query_as(
+        "SELECT x.* FROM cover_heights x JOIN builds b ON b.id = x.build_id
+         JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
+         WHERE x.id = ? AND c.deleted_at IS NULL",
+    )
+    .bind(id)
+    .fetch_optional(conn)
+    .await
 }
 
-/// The latest (passes, shims pulled) on a build, other than measurement `except`.
-/// Measurements keep their order across disc changes; a new disc resets both counts.
-pub async fn latest(
+/// The (passes, shims pulled) recorded just before and just after a measurement, in recorded
+/// order: for a new measurement (`id` None) the latest one and nothing after. A following
+/// new-disc baseline is not a neighbour (it starts its own counts).
+pub async fn around(
     conn: &mut SqliteConnection,
     build_id: i64,
-    except: i64,
-) -> sqlx::Result<Option<(i64, i64)>> {
-    sqlx::query_as(
-        "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id != ?
+    id: Option<i64>,
+) -> sqlx::Result<(Option<(i64, i64)>, Option<(i64, i64)>)> {
+    let at = id.unwrap_or(i64::MAX);
+    let before = sqlx::query_as(
+        "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id < ?
          ORDER BY id DESC LIMIT 1",
     )
     .bind(build_id)
-    .bind(except)
+    .bind(at)
+    .fetch_optional(&mut *conn)
+    .await?;
+    let after = sqlx::query_as(
+        "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id > ?
+             AND new_disc = 0 ORDER BY id LIMIT 1",
+    )
+    .bind(build_id)
+    .bind(at)
     .fetch_optional(conn)
-    .await
+    .await?;
+    Ok((before, after))
 }
 
 /// Cover heights of every active build of a live customer, by build then in recorded order.

@@ -26,10 +26,14 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Setup>> {
-    sqlx::query_as("SELECT * FROM setup_changes WHERE id = ?")
-        .bind(id)
-        .fetch_optional(conn)
-        .await
+    sqlx::query_as(
+        "SELECT x.* FROM setup_changes x JOIN builds b ON b.id = x.build_id
+         JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
+         WHERE x.id = ? AND c.deleted_at IS NULL",
+    )
+    .bind(id)
+    .fetch_optional(conn)
+    .await
 }
 
 pub async fn insert(

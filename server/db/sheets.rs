@@ -59,10 +59,16 @@ pub async fn insert(
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Sheet>> {
-    sqlx::query_as("SELECT id, build_id, prepared_on, inputs, created_at FROM sheets WHERE id = ?")
-        .bind(id)
-        .fetch_optional(conn)
-        .await
+    // A deleted customer's sheets are hidden with them, customer links included.
+    sqlx::query_as(
+        "SELECT s.id, s.build_id, s.prepared_on, s.inputs, s.created_at FROM sheets s
+         JOIN builds b ON b.id = s.build_id JOIN cars k ON k.id = b.car_id
+         JOIN customers c ON c.id = k.customer_id
+         WHERE s.id = ? AND c.deleted_at IS NULL",
+    )
+    .bind(id)
+    .fetch_optional(conn)
+    .await
 }
 
 pub async fn for_build(
@@ -145,7 +151,7 @@ pub async fn by_link(conn: &mut SqliteConnection, token_hash: &str) -> sqlx::Res
         Some((_, false)) => LinkState::Gone,
         Some((sheet_id, true)) => match by_id(conn, sheet_id).await? {
             Some(sheet) => LinkState::Live(Box::new(sheet)),
-            None => LinkState::Unknown,
+            None => LinkState::Gone,
         },
     })
 }

@@ -26,11 +26,16 @@ impl BenchInput {
     pub fn from_form(r: &mut FormReader, spring_count: usize) -> Self {
         let height = r.opt_length("test_height");
         let compression = r.opt_length("test_compression");
-        if height.is_none() && compression.is_none() {
-            r.errors.add(
+        match (height, compression) {
+            (None, None) => r.errors.add(
                 "test_height",
                 "give the test height, or the test compression",
-            );
+            ),
+            (Some(_), Some(_)) => r.errors.add(
+                "test_compression",
+                "give the test height or the test compression, not both",
+            ),
+            _ => {}
         }
         let mut springs = Vec::with_capacity(spring_count);
         for i in 1..=spring_count {

@@ -97,7 +97,7 @@ impl BuildInput {
             base_compression_mm: r.opt_length("base_compression"),
             cover_height_free_mm: r.opt_length("cover_height_free"),
             cover_height_installed_mm: r.opt_length("cover_height_installed"),
-            lever_count: r.opt_number("lever_count").map_or(0, |v| v as i64),
+            lever_count: r.opt_integer("lever_count", 0),
             lever_mass_g: r.opt_number("lever_mass_g").unwrap_or(0.0),
             lever_cg_radius_mm: r.opt_length("lever_cg_radius"),
             lever_arm_ratio: r.opt_number("lever_arm_ratio"),

@@ -123,6 +123,14 @@ impl<'a> FormReader<'a> {
         self.opt_number(name).unwrap_or(f64::NAN)
     }
 
+    /// An optional whole number: empty gives `default`; a fraction is an error, not cut off.
+    pub fn opt_integer(&mut self, name: &str, default: i64) -> i64 {
+        if self.form.get(name).is_empty() {
+            return default;
+        }
+        self.integer(name)
+    }
+
     /// A required whole number.
     pub fn integer(&mut self, name: &str) -> i64 {
         let v = self.number(name);

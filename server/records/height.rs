@@ -35,8 +35,10 @@ impl Default for HeightInput {
 #[derive(Debug, Clone, Copy, Default)]
 pub struct HeightContext {
     pub shims_in_stack: usize,
-    /// The latest recorded pass count and shims pulled on the current disc, if any.
+    /// The pass count and shims pulled recorded just before this measurement, if any.
     pub previous: Option<(i64, i64)>,
+    /// The same just after it (when an older measurement is corrected).
+    pub next: Option<(i64, i64)>,
 }
 
 impl AsRef<HeightInput> for HeightInput {
@@ -51,7 +53,7 @@ impl HeightInput {
             measured_on: r.text("measured_on"),
             height_mm: r.length("height"),
             passes: r.integer("passes"),
-            shims_pulled: r.opt_number("shims_pulled").map_or(0, |v| v as i64),
+            shims_pulled: r.opt_integer("shims_pulled", 0),
             new_disc: r.checked("new_disc"),
             note: r.text("note"),
         }
@@ -82,6 +84,20 @@ impl HeightInput {
                 "shims_pulled",
                 "a new disc starts with the full shim stack (0 pulled)",
             );
+        }
+        if let Some((passes, pulled)) = ctx.next {
+            if self.passes > passes {
+                errors.add(
+                    "passes",
+                    format!("the next measurement is at {passes} passes"),
+                );
+            }
+            if self.shims_pulled > pulled {
+                errors.add(
+                    "shims_pulled",
+                    format!("the next measurement has {pulled} shims pulled"),
+                );
+            }
         }
         if let Some((passes, pulled)) = ctx.previous.filter(|_| !self.new_disc) {
             if self.passes < passes {

@@ -76,6 +76,22 @@ impl SetupInput {
                 break;
             }
         }
+        // The figures use `adjuster_turns`: it must be what the adjusters average.
+        if !self.adjuster_turns_each.is_empty()
+            && let Ok(c) = crate::clutch::clamp::check_adjusters(
+                &self.adjuster_turns_each,
+                "adjuster_turns_each",
+            )
+            && (c.mean - self.adjuster_turns).abs() > 0.01
+        {
+            rules.errors.add(
+                "adjuster_turns_each",
+                format!(
+                    "these average {:.3} turns: enter that as the adjuster turns",
+                    c.mean
+                ),
+            );
+        }
         rules.range(
             "counterweight_g",
             self.counterweight_g,

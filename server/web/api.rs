@@ -422,12 +422,14 @@ async fn height_get(
 async fn height_context(
     conn: &mut SqliteConnection,
     build_id: i64,
-    except: i64,
+    id: Option<i64>,
 ) -> Result<HeightContext, ApiError> {
     let build = build_exists(conn, build_id).await?;
+    let (previous, next) = db::heights::around(conn, build_id, id).await?;
     Ok(HeightContext {
         shims_in_stack: build.data.shim_stack_mm.len(),
-        previous: db::heights::latest(conn, build_id, except).await?,
+        previous,
+        next,
     })
 }
 
@@ -438,7 +440,7 @@ async fn height_create(
     ApiJson(input): ApiJson<HeightInput>,
 ) -> Result<Response, ApiError> {
     let mut tx = write_tx(&s, &user).await?;
-    let ctx = height_context(&mut tx, build_id, 0).await?;
+    let ctx = height_context(&mut tx, build_id, None).await?;
     let v = checked(input.check(ctx, FieldErrors::default()))?;
     let id = db::heights::insert(&mut tx, build_id, user.id, &v).await?;
     let row = found(db::heights::by_id(&mut tx, id).await?)?;
@@ -454,7 +456,7 @@ async fn height_update(
 ) -> ApiResult<db::heights::Height> {
     let mut tx = write_tx(&s, &user).await?;
     let existing = found(db::heights::by_id(&mut tx, id).await?)?;
-    let ctx = height_context(&mut tx, existing.build_id, id).await?;
+    let ctx = height_context(&mut tx, existing.build_id, Some(id)).await?;
     let v = checked(input.check(ctx, FieldErrors::default()))?;
     db::heights::update(&mut tx, id, &v).await?;
     let row = found(db::heights::by_id(&mut tx, id).await?)?;

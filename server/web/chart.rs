@@ -103,13 +103,25 @@ impl Chart {
             right,
             bottom,
         };
-        let label = |v: f64| {
-            if v.abs() >= 100.0 || v.fract() == 0.0 {
-                format!("{v:.0}")
-            } else {
-                format!("{v:.3}").trim_end_matches('0').to_string()
-            }
+        let label_of = |ticks: &[f64]| {
+            let step = ticks
+                .windows(2)
+                .map(|w| w[1] - w[0])
+                .next()
+                .unwrap_or(1.0)
+                .abs();
+            // Enough decimals to tell neighbouring ticks apart, and no more.
+            let decimals = (0..6)
+                .find(|d| {
+                    let scaled = step * 10f64.powi(*d as i32);
+                    (scaled - scaled.round()).abs() < 1e-6
+                })
+                .unwrap_or(6);
+            move |v: f64| format!("{v:.decimals$}")
         };
+        let x_label = label_of(&x_ticks_v);
+        let y_label = label_of(&y_ticks_v);
+
         let chart = Self {
             width,
             height,
@@ -124,14 +136,14 @@ impl Chart {
                 .iter()
                 .map(|v| Tick {
                     at: frame.x(*v),
-                    label: label(*v),
+                    label: x_label(*v),
                 })
                 .collect(),
             y_ticks: y_ticks_v
                 .iter()
                 .map(|v| Tick {
                     at: frame.y(*v),
-                    label: label(*v),
+                    label: y_label(*v),
                 })
                 .collect(),
             series: Vec::new(),
@@ -275,6 +287,14 @@ pub fn nice_ticks(lo: f64, hi: f64, n: usize) -> Vec<f64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn tick_labels_carry_the_decimals_their_step_needs() {
+        let (c, _) = Chart::new("t", "x", "y", (0.0, 100.0), (1.84, 1.875));
+        assert_eq!(c.x_ticks[1].label, "20");
+        let labels: Vec<&str> = c.y_ticks.iter().map(|t| t.label.as_str()).collect();
+        assert_eq!(labels, ["1.84", "1.85", "1.86", "1.87", "1.88"]);
+    }
 
     #[test]
     fn ticks_are_round_and_cover_the_range() {

@@ -203,9 +203,11 @@ async fn add<E: BuildEntry>(
     signed: SignedForm,
 ) -> AppResult<Response> {
     let mut e = Entry::begin(&state, build_id, signed).await?;
+    let (previous, next) = db::heights::around(&mut e.tx, e.build.id, None).await?;
     let ctx = HeightContext {
         shims_in_stack: e.build.data.shim_stack_mm.len(),
-        previous: db::heights::latest(&mut e.tx, e.build.id, 0).await?,
+        previous,
+        next,
     };
     let mut reader = FormReader::new(&e.form, e.units);
     let input = E::read(&mut reader, &e.build);

@@ -128,14 +128,14 @@ fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
     let last = heights
         .last()
         .map_or((0.0, h0), |h| (h.data.passes as f64, h.data.height_mm));
-    let forecast_end = match (
-        r.wear_per_pass,
-        r.passes_to_shim_due.or(r.passes_to_disc_due),
-    ) {
-        (Some(rate), Some(n)) if rate > 0.0 && n > 0.0 => {
-            let to_limit = (due_height - last.1).max(0.0);
-            Some((last.0 + to_limit / rate, due_height))
-        }
+    // The forecast runs to whichever comes first, the next shim or the disc, as the report says;
+    // between pulls the cover height grows as fast as the disc wears.
+    let next_due = [r.passes_to_shim_due, r.passes_to_disc_due]
+        .into_iter()
+        .flatten()
+        .min_by(f64::total_cmp);
+    let forecast_end = match (r.wear_per_pass, next_due) {
+        (Some(rate), Some(n)) if rate > 0.0 && n > 0.0 => Some((last.0 + n, last.1 + rate * n)),
         _ => None,
     };
     let x_max = forecast_end
@@ -143,7 +143,7 @@ fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
         .max(last.0)
         .max(10.0);
     let y_lo = heights.iter().map(|h| h.data.height_mm).fold(h0, f64::min) - limit_mm * 0.5;
-    let y_hi = due_height + limit_mm * 0.4;
+    let y_hi = forecast_end.map_or(due_height, |(_, y)| y.max(due_height)) + limit_mm * 0.4;
     let (mut c, f) = Chart::new(
         "Cover height against passes",
         "passes on this disc",

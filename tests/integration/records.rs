@@ -410,7 +410,7 @@ async fn adjusters_at_different_settings_are_flagged() {
             &[
                 ("changed_on", "2026-11-03"),
                 ("adjuster_turns", "1.5"),
-                ("adjuster_turns_each", "1.5, 1.75, 1.5"),
+                ("adjuster_turns_each", "1.25, 1.75, 1.5"),
             ],
         )
         .await;
@@ -433,6 +433,18 @@ async fn adjusters_at_different_settings_are_flagged() {
         )
         .await;
     assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let off = client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-11-04"),
+                ("adjuster_turns", "1.5"),
+                ("adjuster_turns_each", "1.75, 1.75, 1.75"),
+            ],
+        )
+        .await;
+    assert_eq!(off.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(off.body.contains("these average 1.750 turns"));
     assert_eq!(app.count("setup_changes").await, 2);
 }
 

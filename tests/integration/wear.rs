@@ -162,3 +162,103 @@ async fn running_out_of_shims_makes_the_disc_due_and_a_new_disc_starts_a_new_bas
     assert!(page.contains("1.931"), "old history kept");
     assert_eq!(app.count("cover_heights").await, 9);
 }
+
+#[tokio::test]
+async fn an_older_measurement_can_be_corrected_between_its_neighbours() {
+    let app = TestApp::new().await;
+    let (id, token) = build_with_stack(&app).await;
+    let t = Some(token.as_str());
+    let mut ids = Vec::new();
+    for (passes, h) in [(0, 48.387), (40, 48.590), (80, 48.800)] {
+        let r = app
+            .api("POST", &format!("/api/v1/builds/{id}/measurements"), t,
+                Some(json!({"measured_on": "2026-11-10", "height_mm": h, "passes": passes, "shims_pulled": 0})))
+            .await;
+        ids.push(r.json()["id"].as_i64().unwrap());
+    }
+    let fix = |passes: i64| json!({"measured_on": "2026-11-10", "height_mm": 48.6, "passes": passes, "shims_pulled": 0});
+    let ok = app
+        .api(
+            "PUT",
+            &format!("/api/v1/measurements/{}", ids[1]),
+            t,
+            Some(fix(50)),
+        )
+        .await;
+    assert_eq!(ok.status, StatusCode::OK, "{}", ok.body);
+    let past_next = app
+        .api(
+            "PUT",
+            &format!("/api/v1/measurements/{}", ids[1]),
+            t,
+            Some(fix(90)),
+        )
+        .await;
+    assert_eq!(past_next.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(past_next.json()["field"], "passes");
+    let before_prev = app
+        .api(
+            "PUT",
+            &format!("/api/v1/measurements/{}", ids[2]),
+            t,
+            Some(fix(20)),
+        )
+        .await;
+    assert_eq!(before_prev.status, StatusCode::UNPROCESSABLE_ENTITY);
+}
+
+#[tokio::test]
+async fn a_twin_disc_pack_has_twice_the_single_disc_allowance() {
+    // Common shop practice, no published source: cover height grows with the wear of the whole
+    // pack, so the allowance is (new - minimum thickness) per disc times the number of discs.
+    let app = TestApp::new().await;
+    let (id, token) = build_with_stack(&app).await;
+    let t = Some(token.as_str());
+    let inch = |v: f64| v * 25.4;
+    let mut build = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json();
+    build["disc_thickness_min_mm"] = json!(inch(0.280)); // 0.020 in per disc
+    let put = app
+        .api(
+            "PUT",
+            &format!("/api/v1/builds/{id}"),
+            t,
+            Some(build.clone()),
+        )
+        .await;
+    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    // Total wear 0.009 in growth + 0.010 + 0.010 in of shims pulled = 0.029 in.
+    for (passes, h, pulled) in [
+        (0, 1.905, 0),
+        (100, 1.915, 0),
+        (100, 1.905, 1),
+        (200, 1.915, 1),
+        (200, 1.905, 2),
+        (300, 1.914, 2),
+    ] {
+        app.api("POST", &format!("/api/v1/builds/{id}/measurements"), t,
+            Some(json!({"measured_on": "2026-11-10", "height_mm": inch(h), "passes": passes, "shims_pulled": pulled})))
+            .await;
+    }
+    let single = app
+        .api("GET", &format!("/api/v1/builds/{id}/wear"), t, None)
+        .await
+        .json();
+    assert_eq!(
+        single["status"], "disc_due",
+        "one disc: 0.029 in is past its 0.020 in"
+    );
+    build["disc_count"] = json!(2);
+    app.api("PUT", &format!("/api/v1/builds/{id}"), t, Some(build))
+        .await;
+    let twin = app
+        .api("GET", &format!("/api/v1/builds/{id}/wear"), t, None)
+        .await
+        .json();
+    assert_eq!(
+        twin["status"], "ok",
+        "two discs: 0.029 in is inside 0.040 in"
+    );
+}
