@@ -87,7 +87,14 @@ impl<S: Send + Sync> FromRequestParts<S> for Id {
 #[serde(default)]
 struct ListQuery {
     q: String,
-    page: i64,
+    page: String,
+}
+
+impl ListQuery {
+    /// The page asked for; anything but a number is the first page.
+    fn page(&self) -> i64 {
+        self.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000)
+    }
 }
 
 fn checked<T>(result: Result<Checked<T>, FieldErrors>) -> Result<Checked<T>, ApiError> {
@@ -124,9 +131,9 @@ async fn customers_list(
     _: ApiUser,
     Query(q): Query<ListQuery>,
 ) -> ApiResult<serde_json::Value> {
-    let (rows, total) = db::customers::search(&mut *conn(&s).await?, &q.q, q.page).await?;
+    let (rows, total) = db::customers::search(&mut *conn(&s).await?, &q.q, q.page()).await?;
     Ok(Json(
-        serde_json::json!({ "customers": rows, "total": total, "page": q.page }),
+        serde_json::json!({ "customers": rows, "total": total, "page": q.page() }),
     ))
 }
 
@@ -176,7 +183,7 @@ async fn cars_list(
     _: ApiUser,
     Query(q): Query<ListQuery>,
 ) -> ApiResult<Vec<db::cars::Car>> {
-    Ok(Json(db::cars::page(&mut *conn(&s).await?, q.page).await?))
+    Ok(Json(db::cars::page(&mut *conn(&s).await?, q.page()).await?))
 }
 
 async fn cars_of_customer(
@@ -232,7 +239,9 @@ async fn builds_list(
     _: ApiUser,
     Query(q): Query<ListQuery>,
 ) -> ApiResult<Vec<db::builds::Build>> {
-    Ok(Json(db::builds::page(&mut *conn(&s).await?, q.page).await?))
+    Ok(Json(
+        db::builds::page(&mut *conn(&s).await?, q.page()).await?,
+    ))
 }
 
 async fn builds_of_car(

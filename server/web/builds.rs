@@ -67,6 +67,8 @@ pub struct ShowPage {
     pub spring_rows: Vec<usize>,
     /// Setup sheets printed for this build, newest first.
     pub sheets: Vec<SheetSummary>,
+    /// The spring rate the figures use, and where it comes from, in words.
+    pub rate_used: String,
 }
 
 impl ShowPage {
@@ -121,14 +123,7 @@ impl ShowPage {
     }
 
     pub fn thread(&self) -> String {
-        match (
-            self.d.build.data.adjuster_tpi,
-            self.d.build.data.adjuster_pitch_mm,
-        ) {
-            (Some(tpi), _) => format!("{tpi} threads per inch"),
-            (_, Some(p)) => format!("{p} mm pitch"),
-            _ => "not recorded".into(),
-        }
+        super::show::thread_text(&self.d.build.data)
     }
 }
 
@@ -197,6 +192,19 @@ pub async fn render_page(
     let title = format!("{} – {}", d.owner.customer_name, build_title(&d.build));
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
     let facts = BuildFacts::of(&d, &settings);
+    let rate_used = match (
+        facts.tested_rate_n_per_mm,
+        d.bench.last(),
+        facts.spring_rate(),
+    ) {
+        (Some(k), Some(test), _) => format!(
+            "{} (mean of the {} bench test)",
+            page.u.rate(k),
+            test.tested_on
+        ),
+        (None, _, Some(k)) => format!("{} (nominal, not bench tested)", page.u.rate(k)),
+        _ => "none recorded".into(),
+    };
     let capacity = facts
         .capacity_request(BuildFacts::current_trial(&d))
         .and_then(|r| {
@@ -213,10 +221,7 @@ pub async fn render_page(
     });
     let bench = bench_views(&d.bench, &settings);
     let forms = default_forms(forms, &d.car, &d.setups, &d.heights);
-    let material = FacingMaterial::from_key(&d.build.data.facing_material).map_or_else(
-        || d.build.data.facing_material.clone(),
-        |m| m.label().to_string(),
-    );
+    let material = super::show::material_text(&d.build.data);
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
     let sheets = db::sheets::for_build(conn, id).await?;
     Ok(ShowPage {
@@ -230,6 +235,7 @@ pub async fn render_page(
         forms,
         spring_rows,
         sheets,
+        rate_used,
     }
     .render()?)
 }

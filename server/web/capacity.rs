@@ -19,7 +19,8 @@ use crate::db::dossier::Dossier;
 use crate::error::{AppError, AppResult};
 use crate::model::{BuildFacts, Figures, Trial, TuningTargets, figures};
 use crate::records::date::Date;
-use crate::records::{Bound, FieldErrors, FormData, FormReader, Rules};
+use crate::records::setup::SetupInput;
+use crate::records::{FieldErrors, FormData, FormReader};
 
 /// The capacity chart: engine torque, clutch capacity, its static share, the slip region, and
 /// the launch and lockup speeds marked. `before` adds the current setting for comparison.
@@ -101,30 +102,24 @@ pub struct TunePage {
     pub today: String,
 }
 
-/// Reads a setting to try (turns, counterweight, optional μ), or `None` with the messages.
+/// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
+/// change, or `None` with the messages.
 fn read_trial(reader: &mut FormReader) -> Option<Trial> {
-    let t = Trial {
+    let input = SetupInput {
+        changed_on: Date::today().to_string(),
         adjuster_turns: reader.number("adjuster_turns"),
+        adjuster_turns_each: Vec::new(),
         counterweight_g: reader.opt_number("counterweight_g").unwrap_or(0.0),
         mu: reader.opt_number("mu"),
+        note: String::new(),
     };
-    let mut rules = Rules {
-        errors: &mut reader.errors,
-    };
-    rules.range(
-        "adjuster_turns",
-        t.adjuster_turns,
-        Bound::Incl(0.0),
-        Bound::Incl(20.0),
-    );
-    rules.range(
-        "counterweight_g",
-        t.counterweight_g,
-        Bound::Incl(0.0),
-        Bound::Incl(1000.0),
-    );
-    rules.opt_range("mu", t.mu, Bound::Incl(0.05), Bound::Incl(0.8));
-    reader.errors.is_empty().then_some(t)
+    match input.check(std::mem::take(&mut reader.errors)) {
+        Ok(checked) => Some(Trial::from_setup(Some(&checked))),
+        Err(errors) => {
+            reader.errors = errors;
+            None
+        }
+    }
 }
 
 /// GET /builds/{id}/tune: the current setting; `try=1` with turns/counterweight/mu shows a

@@ -20,7 +20,8 @@ use crate::records::{FieldErrors, FormData, FormReader};
 #[serde(default)]
 pub struct ListQuery {
     pub q: String,
-    pub page: i64,
+    /// Read leniently: anything but a page number shows the first page.
+    pub page: String,
 }
 
 #[derive(Template)]
@@ -52,7 +53,7 @@ pub async fn list(
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Customers").await?;
-    let page_no = q.page.clamp(0, 100_000);
+    let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
     let (rows, total) = db::customers::search(&mut conn, &q.q, page_no).await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     Ok(Html(

@@ -8,6 +8,8 @@ use super::AppState;
 use super::customers::ListQuery;
 use super::extract::CurrentUser;
 use super::layout::Layout;
+use super::wear;
+use crate::clutch::wear::WearStatus;
 use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::CustomerSummary;
@@ -31,16 +33,17 @@ impl FrontPage {
         let u = &self.page.u;
         match &d.reason {
             DueReason::DiscDue => (
-                "bad",
-                "■ disc due",
+                wear::status_class(WearStatus::DiscDue),
+                wear::status_word(WearStatus::DiscDue),
                 "Disc at its wear limit: replace the disc.".into(),
             ),
-            DueReason::ShimDue(Some(shim)) => (
-                "warn",
-                "▲ shim due",
-                format!("Pull the {} shim.", u.len(shim)),
+            DueReason::ShimDue(shim) => (
+                wear::status_class(WearStatus::ShimDue),
+                wear::status_word(WearStatus::ShimDue),
+                shim.map_or("Shimming limit reached.".into(), |s| {
+                    format!("Pull the {} shim.", u.len(s))
+                }),
             ),
-            DueReason::ShimDue(None) => ("warn", "▲ shim due", "Shimming limit reached.".into()),
             DueReason::Soon {
                 passes,
                 disc: false,

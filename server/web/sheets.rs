@@ -84,10 +84,7 @@ impl SheetPage {
     }
 
     pub fn material(&self) -> String {
-        FacingMaterial::from_key(&self.i.build.facing_material).map_or_else(
-            || self.i.build.facing_material.clone(),
-            |m| m.label().to_string(),
-        )
+        super::show::material_text(&self.i.build)
     }
 
     /// What heat does to this facing's grip, in words.
@@ -161,11 +158,7 @@ impl SheetPage {
     }
 
     pub fn thread_line(&self) -> String {
-        match (self.i.build.adjuster_tpi, self.i.build.adjuster_pitch_mm) {
-            (Some(tpi), _) => format!("{tpi} threads per inch"),
-            (_, Some(p)) => format!("{p} mm pitch"),
-            _ => "–".into(),
-        }
+        super::show::thread_text(&self.i.build)
     }
 
     pub fn lever_line(&self) -> String {

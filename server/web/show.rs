@@ -145,6 +145,21 @@ impl Show {
     }
 }
 
+/// A build's adjuster thread in words.
+pub fn thread_text(b: &crate::records::build::BuildInput) -> String {
+    match (b.adjuster_tpi, b.adjuster_pitch_mm) {
+        (Some(tpi), _) => format!("{tpi} threads per inch"),
+        (_, Some(p)) => format!("{p} mm pitch"),
+        _ => "not recorded".into(),
+    }
+}
+
+/// A build's facing material in words.
+pub fn material_text(b: &crate::records::build::BuildInput) -> String {
+    crate::clutch::friction::FacingMaterial::from_key(&b.facing_material)
+        .map_or_else(|| b.facing_material.clone(), |m| m.label().to_string())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
