@@ -84,12 +84,6 @@ impl FieldErrors {
 #[derive(Debug, Clone)]
 pub struct Checked<T>(T);
 
-impl<T> Checked<T> {
-    pub fn get(&self) -> &T {
-        &self.0
-    }
-}
-
 impl<T> std::ops::Deref for Checked<T> {
     type Target = T;
     fn deref(&self) -> &T {

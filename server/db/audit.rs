@@ -43,19 +43,3 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
     .fetch_all(conn)
     .await
 }
-
-/// Everything recorded about one record, newest first.
-pub async fn for_record(
-    conn: &mut SqliteConnection,
-    table: &str,
-    id: i64,
-) -> sqlx::Result<Vec<Entry>> {
-    sqlx::query_as(
-        "SELECT id, at, username, action, table_name, record_id, before, after FROM audit_log
-         WHERE table_name = ? AND record_id = ? ORDER BY id DESC",
-    )
-    .bind(table)
-    .bind(id)
-    .fetch_all(conn)
-    .await
-}
