@@ -143,22 +143,55 @@ pub async fn fill(c: &Client, css: &str, value: &str) {
     field.send_keys(value).await.unwrap();
 }
 
+/// Clicks something that loads a new page (a submit button or a link) and waits until the old
+/// page is gone, so the next step never acts on the page being left.
 pub async fn click(c: &Client, css: &str) {
+    let target = c
+        .find(Locator::Css(css))
+        .await
+        .unwrap_or_else(|e| panic!("nothing to click at {css}: {e}"));
+    click_and_wait(c, target).await;
+}
+
+pub async fn click_link(c: &Client, text: &str) {
+    let target = c
+        .find(Locator::LinkText(text))
+        .await
+        .unwrap_or_else(|e| panic!("no link {text:?}: {e}"));
+    click_and_wait(c, target).await;
+}
+
+/// Clicks something that changes the page in place (opens a `<details>`).
+pub async fn toggle(c: &Client, css: &str) {
     c.find(Locator::Css(css))
         .await
-        .unwrap_or_else(|e| panic!("nothing to click at {css}: {e}"))
+        .unwrap_or_else(|e| panic!("nothing at {css}: {e}"))
         .click()
         .await
         .unwrap();
 }
 
-pub async fn click_link(c: &Client, text: &str) {
-    c.find(Locator::LinkText(text))
-        .await
-        .unwrap_or_else(|e| panic!("no link {text:?}: {e}"))
-        .click()
-        .await
-        .unwrap();
+async fn click_and_wait(c: &Client, target: fantoccini::elements::Element) {
+    let old_page = c.find(Locator::Css("html")).await.unwrap();
+    target.click().await.unwrap();
+    for _ in 0..100 {
+        // A reference to the old page's root goes stale once the new page has replaced it.
+        if old_page.tag_name().await.is_err() {
+            break;
+        }
+        tokio::time::sleep(Duration::from_millis(50)).await;
+    }
+    wait_loaded(c).await;
+}
+
+async fn wait_loaded(c: &Client) {
+    for _ in 0..100 {
+        let state = c.execute("return document.readyState", vec![]).await;
+        if state.ok().and_then(|v| v.as_str().map(|s| s == "complete")) == Some(true) {
+            return;
+        }
+        tokio::time::sleep(Duration::from_millis(50)).await;
+    }
 }
 
 /// The visible text of the page, or empty while a new page is loading.

@@ -137,7 +137,7 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
     }
 
     // The customer's link, opened in a fresh browser without a login.
-    harness::click(&c, "details.links summary").await;
+    harness::toggle(&c, "details.links summary").await;
     harness::click(&c, "details.links button[type=submit]").await;
     let link = c
         .find(Locator::Css(".link-address"))
