@@ -13,6 +13,8 @@ pub mod clamp;
 pub mod friction;
 /// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
 pub mod lockup;
+/// Quantity kinds (internal and display units) and the one table of limits.
+pub mod quantity;
 /// Search for adjuster turns and counterweight that meet lockup and launch targets.
 pub mod recommend;
 /// Ordinary least-squares straight line, numerically careful.

@@ -5,15 +5,16 @@
 use sqlx::{SqliteConnection, SqlitePool};
 
 use crate::clutch::units::Units;
-use crate::records::FieldErrors;
 use crate::records::bench::{BenchInput, SpringReading};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::customer::CustomerInput;
+use crate::records::date::{Date, ShopZone};
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::user::{NewUser, Role};
+use crate::records::{Ctx, FieldErrors, field};
 use crate::{auth, db};
 
 pub const DEMO_USERNAME: &str = "demo";
@@ -320,6 +321,20 @@ fn demo_customers() -> Vec<DemoCustomer> {
     ]
 }
 
+/// Demo records are checked in storage units like the record API; their dates are all before
+/// the first of December 2026.
+fn demo_ctx() -> Ctx {
+    let latest = Date::parse("2026-12-01").unwrap_or(Date {
+        year: 2026,
+        month: 12,
+        day: 1,
+    });
+    Ctx {
+        units: Units::Metric,
+        today: Date::today(&ShopZone::server()).max(latest),
+    }
+}
+
 fn ok<T>(r: Result<T, FieldErrors>) -> Result<T, DemoError> {
     r.map_err(|e| format!("demo data failed its own checks: {}", e.summary()).into())
 }
@@ -329,12 +344,12 @@ async fn seed_customer(
     user_id: i64,
     c: DemoCustomer,
 ) -> Result<(), DemoError> {
-    let customer = ok(CustomerInput {
+    let customer = CustomerInput {
         name: c.name.into(),
         phone: c.phone.into(),
         ..Default::default()
-    }
-    .check(FieldErrors::default()))?;
+    };
+    let customer = ok(field::check(customer, &demo_ctx(), FieldErrors::default()))?;
     let customer_id = db::customers::insert(tx, &customer).await?;
     for car in c.cars {
         let input = CarInput {
@@ -354,8 +369,12 @@ async fn seed_customer(
                 .collect(),
             notes: String::new(),
         };
-        let car_id =
-            db::cars::insert(tx, customer_id, &ok(input.check(FieldErrors::default()))?).await?;
+        let car_id = db::cars::insert(
+            tx,
+            customer_id,
+            &ok(field::check(input, &demo_ctx(), FieldErrors::default()))?,
+        )
+        .await?;
         for b in car.builds {
             seed_build(tx, user_id, car_id, b).await?;
         }
@@ -391,8 +410,12 @@ async fn seed_build(
         status: b.status.into(),
         ..Default::default()
     };
-    let build_id =
-        db::builds::insert(tx, car_id, &ok(input.check(FieldErrors::default()))?).await?;
+    let build_id = db::builds::insert(
+        tx,
+        car_id,
+        &ok(field::check(input, &demo_ctx(), FieldErrors::default()))?,
+    )
+    .await?;
     let months = [
         "2026-03", "2026-05", "2026-07", "2026-08", "2026-09", "2026-10",
     ];
@@ -409,7 +432,13 @@ async fn seed_build(
                 "more counterweight for a later lockup".into()
             },
         };
-        db::setups::insert(tx, build_id, user_id, &ok(s.check(FieldErrors::default()))?).await?;
+        db::setups::insert(
+            tx,
+            build_id,
+            user_id,
+            &ok(field::check(s, &demo_ctx(), FieldErrors::default()))?,
+        )
+        .await?;
     }
     for (i, rates) in b.bench_rates.iter().enumerate() {
         let compression = inch(0.500);
@@ -419,6 +448,7 @@ async fn seed_build(
             springs: rates
                 .iter()
                 .map(|r| SpringReading {
+                    position: None,
                     free_length_mm: Some(inch(2.100)),
                     compression_mm: compression,
                     force_n: lbf(r * 0.5),
@@ -429,7 +459,7 @@ async fn seed_build(
             tx,
             build_id,
             user_id,
-            &ok(bench.check(FieldErrors::default()))?,
+            &ok(bench.check(&demo_ctx(), FieldErrors::default()))?,
         )
         .await?;
     }
@@ -447,7 +477,7 @@ async fn seed_build(
                 _ => String::new(),
             },
         };
-        let ctx = HeightContext {
+        let hc = HeightContext {
             shims_in_stack: b.shims_in.len(),
             previous,
             next: None,
@@ -456,7 +486,7 @@ async fn seed_build(
             tx,
             build_id,
             user_id,
-            &ok(h.check(ctx, FieldErrors::default()))?,
+            &ok(h.check_on(hc, &demo_ctx(), FieldErrors::default()))?,
         )
         .await?;
         previous = Some((*passes, *pulled));
@@ -471,7 +501,13 @@ async fn seed_build(
             observed_lockup_rpm: None,
             notes: String::new(),
         };
-        db::passes::insert(tx, build_id, user_id, &ok(p.check(FieldErrors::default()))?).await?;
+        db::passes::insert(
+            tx,
+            build_id,
+            user_id,
+            &ok(field::check(p, &demo_ctx(), FieldErrors::default()))?,
+        )
+        .await?;
     }
     Ok(())
 }

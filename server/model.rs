@@ -51,6 +51,16 @@ impl Trial {
             },
         )
     }
+
+    /// This setting as a setup record (no date or note), e.g. to prefill a form.
+    pub fn as_setup(&self) -> SetupInput {
+        SetupInput {
+            adjuster_turns: self.adjuster_turns,
+            counterweight_g: self.counterweight_g,
+            mu: self.mu,
+            ..SetupInput::default()
+        }
+    }
 }
 
 /// Why a build's capacity cannot be worked out yet, in words for the page.

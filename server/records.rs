@@ -1,7 +1,7 @@
-//! The shop's records as they must be before they are stored: each input type is read from a
-//! form (in the shop's display units) or from JSON (in storage units, named with their unit), and
-//! checked against physically sensible ranges. No IO here; the database layer only takes checked
-//! inputs.
+//! The shop's records as they must be before they are stored. Each record declares its fields
+//! once ([`field`]): it is read from a form (in the shop's display units) or from JSON (in storage
+//! units), checked against the one table of limits, and only a [`Checked`] record reaches the
+//! database. No IO here.
 
 pub mod bench;
 pub mod build;
@@ -14,59 +14,106 @@ pub mod settings;
 pub mod setup;
 pub mod user;
 
+pub mod field;
 mod form;
 
-pub use form::{FormData, FormReader, form_key, length_decimals};
+pub use field::{Ctx, Record};
+pub use form::FormData;
 
-/// Messages for bad fields, in the order they were found, keyed by field name.
+/// Messages for bad fields, in the order they were found. Each is kept under the field's column
+/// (its JSON name, for the API) and its form input's name (for the page), with the index of a
+/// list item where there is one (`shim_stack_mm[1]` / `shim_stack[1]`).
 #[derive(Debug, Clone, Default, PartialEq)]
-pub struct FieldErrors(Vec<(String, String)>);
+pub struct FieldErrors(Vec<Problem>);
+
+#[derive(Debug, Clone, PartialEq)]
+struct Problem {
+    column: String,
+    form: String,
+    index: Option<usize>,
+    message: String,
+}
+
+impl Problem {
+    fn path(&self) -> String {
+        match self.index {
+            Some(i) => format!("{}[{i}]", self.column),
+            None => self.column.clone(),
+        }
+    }
+}
 
 impl FieldErrors {
-    /// Records a message for a field (the first message per field wins).
+    /// Records a message for a field whose form input has the same name as its column (forms
+    /// that are not records: sign-in, sheet targets). The first message per field wins.
     pub fn add(&mut self, field: &str, message: impl Into<String>) {
-        if self.get(field).is_none() {
-            self.0.push((field.to_string(), message.into()));
+        let (base, index) = match field.split_once('[') {
+            Some((b, rest)) => (b, rest.trim_end_matches(']').parse().ok()),
+            None => (field, None),
+        };
+        self.add_at(base, base, index, message);
+    }
+
+    /// Records a message for a declared field (or one item of a list field).
+    pub fn add_at(
+        &mut self,
+        column: &str,
+        form: &str,
+        index: Option<usize>,
+        message: impl Into<String>,
+    ) {
+        if !self
+            .0
+            .iter()
+            .any(|p| p.column == column && p.index == index)
+        {
+            self.0.push(Problem {
+                column: column.to_string(),
+                form: form.to_string(),
+                index,
+                message: message.into(),
+            });
         }
     }
 
-    /// The message for a field, if any. Looks the key up as given and as a form key.
-    pub fn get(&self, field: &str) -> Option<&str> {
-        self.0
-            .iter()
-            .find(|(f, _)| f == field || form_key(f) == field)
-            .map(|(_, m)| m.as_str())
+    /// Whether the field (or any of its items) already has a message, by column or form name.
+    pub fn has(&self, name: &str) -> bool {
+        self.get(name).is_some()
     }
 
-    pub fn first(&self) -> Option<(&str, &str)> {
-        self.0.first().map(|(f, m)| (f.as_str(), m.as_str()))
+    /// The first message for an input, by its form or column name; a list input shows the
+    /// first message about any of its items.
+    pub fn get(&self, name: &str) -> Option<&str> {
+        self.0
+            .iter()
+            .find(|p| p.form == name || p.column == name || p.path() == name)
+            .map(|p| p.message.as_str())
+    }
+
+    /// The first problem as (JSON path, message), for the API's answer.
+    pub fn first(&self) -> Option<(String, &str)> {
+        self.0.first().map(|p| (p.path(), p.message.as_str()))
     }
 
     pub fn is_empty(&self) -> bool {
         self.0.is_empty()
     }
 
+    /// How many inputs carry a message (several items of one list are one input).
     pub fn len(&self) -> usize {
-        self.0.len()
+        let mut inputs: Vec<&str> = self.0.iter().map(|p| p.form.as_str()).collect();
+        inputs.sort_unstable();
+        inputs.dedup();
+        inputs.len()
     }
 
     /// One line naming every bad field.
     pub fn summary(&self) -> String {
         self.0
             .iter()
-            .map(|(f, m)| format!("{f}: {m}"))
+            .map(|p| format!("{}: {}", p.path(), p.message))
             .collect::<Vec<_>>()
             .join("; ")
-    }
-
-    /// The same messages under other field names (a form whose inputs are named differently
-    /// from the JSON fields).
-    pub fn renamed(self, rename: impl Fn(&str) -> String) -> FieldErrors {
-        let mut out = FieldErrors::default();
-        for (field, message) in self.0 {
-            out.add(&rename(&field), message);
-        }
-        out
     }
 
     /// `Ok(value)` when nothing was recorded.
@@ -79,7 +126,7 @@ impl FieldErrors {
     }
 }
 
-/// A record input that passed its checks. Only the checking function makes one, so the
+/// A record input that passed its checks. Only the checking functions make one, so the
 /// database layer can demand it.
 #[derive(Debug, Clone)]
 pub struct Checked<T>(T);
@@ -91,101 +138,22 @@ impl<T> std::ops::Deref for Checked<T> {
     }
 }
 
-/// Shared range checks, so every record says the same thing about the same kind of value.
-pub(crate) struct Rules<'a> {
-    pub errors: &'a mut FieldErrors,
-}
-
-impl Rules<'_> {
-    pub fn text(&mut self, field: &str, value: &str, required: bool, max_chars: usize) {
-        if required && value.trim().is_empty() {
-            self.errors.add(field, "required");
-        } else if value.chars().count() > max_chars {
-            self.errors
-                .add(field, format!("too long (at most {max_chars} characters)"));
-        }
-    }
-
-    /// A finite number inside `[min, max]` (either bound may be exclusive).
-    pub fn range(&mut self, field: &str, value: f64, min: Bound, max: Bound) -> bool {
-        let ok = value.is_finite() && min.below(value) && max.above(value);
-        if !ok {
-            self.errors.add(field, range_message(min, max));
-        }
-        ok
-    }
-
-    pub fn opt_range(&mut self, field: &str, value: Option<f64>, min: Bound, max: Bound) {
-        if let Some(v) = value {
-            self.range(field, v, min, max);
-        }
-    }
-
-    pub fn date(&mut self, field: &str, value: &str) {
-        if let Err(message) = date::Date::parse(value) {
-            self.errors.add(field, message);
-        }
-    }
-}
-
-/// A range bound: inclusive or exclusive.
-#[derive(Debug, Clone, Copy)]
-pub enum Bound {
-    Incl(f64),
-    Excl(f64),
-}
-
-impl Bound {
-    fn below(self, v: f64) -> bool {
-        match self {
-            Self::Incl(b) => v >= b,
-            Self::Excl(b) => v > b,
-        }
-    }
-    fn above(self, v: f64) -> bool {
-        match self {
-            Self::Incl(b) => v <= b,
-            Self::Excl(b) => v < b,
-        }
-    }
-}
-
-fn range_message(min: Bound, max: Bound) -> String {
-    let show = |b: f64| {
-        let s = format!("{b:.4}");
-        s.trim_end_matches('0').trim_end_matches('.').to_string()
-    };
-    match (min, max) {
-        (Bound::Excl(0.0), Bound::Incl(hi)) => format!("must be above 0 and at most {}", show(hi)),
-        (Bound::Incl(lo), Bound::Incl(hi)) => {
-            format!("must be between {} and {}", show(lo), show(hi))
-        }
-        (Bound::Excl(lo), Bound::Incl(hi)) => {
-            format!("must be above {} and at most {}", show(lo), show(hi))
-        }
-        (Bound::Incl(lo), Bound::Excl(hi)) => {
-            format!("must be at least {} and below {}", show(lo), show(hi))
-        }
-        (Bound::Excl(lo), Bound::Excl(hi)) => {
-            format!("must be between {} and {} (exclusive)", show(lo), show(hi))
-        }
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
     #[test]
-    fn range_checks_name_the_field_and_reject_non_finite_values() {
+    fn a_message_on_a_list_item_is_found_by_the_list_input() {
         let mut errors = FieldErrors::default();
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        assert!(rules.range("a", 5.0, Bound::Incl(1.0), Bound::Incl(24.0)));
-        assert!(!rules.range("b", f64::NAN, Bound::Incl(1.0), Bound::Incl(24.0)));
-        assert!(!rules.range("c", 0.0, Bound::Excl(0.0), Bound::Incl(10.0)));
+        errors.add_at("shim_stack_mm", "shim_stack", Some(1), "shim 2: too thick");
+        errors.add_at("shim_stack_mm", "shim_stack", Some(2), "shim 3: too thick");
+        errors.add("label", "too long");
+        assert_eq!(errors.get("shim_stack"), Some("shim 2: too thick"));
+        assert_eq!(errors.get("shim_stack_mm[2]"), Some("shim 3: too thick"));
         assert_eq!(errors.len(), 2);
-        assert_eq!(errors.get("c"), Some("must be above 0 and at most 10"));
+        assert_eq!(
+            errors.first().map(|(p, _)| p),
+            Some("shim_stack_mm[1]".into())
+        );
     }
 }

@@ -109,7 +109,7 @@ impl FacingMaterial {
     }
 
     /// Display name in plain words.
-    pub fn label(self) -> &'static str {
+    pub const fn label(self) -> &'static str {
         match self {
             FacingMaterial::Organic => "Organic (woven)",
             FacingMaterial::Molded => "Molded",
@@ -143,7 +143,7 @@ pub fn friction_pairs(driving_plates: u32, driven_plates: u32) -> Result<u32, In
 
 impl FacingMaterial {
     /// The name used in storage and JSON ("organic", "molded", "cermet", "sintered_iron").
-    pub fn key(self) -> &'static str {
+    pub const fn key(self) -> &'static str {
         match self {
             FacingMaterial::Organic => "organic",
             FacingMaterial::Molded => "molded",
@@ -151,6 +151,17 @@ impl FacingMaterial {
             FacingMaterial::SinteredIron => "sintered_iron",
         }
     }
+
+    /// Every material as (stored name, words), in display order, for a choice on a form.
+    pub const CHOICES: [(&'static str, &'static str); 4] = {
+        let m = Self::ALL;
+        [
+            (m[0].key(), m[0].label()),
+            (m[1].key(), m[1].label()),
+            (m[2].key(), m[2].label()),
+            (m[3].key(), m[3].label()),
+        ]
+    };
 
     /// Parses a stored name.
     pub fn from_key(key: &str) -> Option<Self> {

@@ -2,7 +2,10 @@
 
 use serde::Deserialize;
 
-use super::{Bound, Checked, FieldErrors, FormReader, Rules};
+use super::field::{self, Ctx, Field, Record, Value, parse_number};
+use super::{Checked, FieldErrors, FormData};
+use crate::clutch::quantity::{Kind, limits};
+use crate::clutch::units::Units;
 
 #[derive(Debug, Clone, Default, Deserialize)]
 #[serde(default)]
@@ -12,26 +15,51 @@ pub struct BenchInput {
     pub springs: Vec<SpringReading>,
 }
 
-#[derive(Debug, Clone, Deserialize)]
+#[derive(Debug, Clone, Default, Deserialize)]
 pub struct SpringReading {
+    /// The spring's place in the set (1-based); the list order when not given.
+    #[serde(skip)]
+    pub position: Option<i64>,
     #[serde(default)]
     pub free_length_mm: Option<f64>,
     pub compression_mm: f64,
     pub force_n: f64,
 }
 
+/// Where a spring reading's problem is shown: its JSON path, and the form input beside which
+/// the page shows it.
+struct Place {
+    path: String,
+    input: String,
+}
+
 impl BenchInput {
-    /// Reads `spring_count` rows: per spring a free length and a force, plus one test height
+    /// Reads the bench form: per spring row a free length and a force, plus one test height
     /// (compression = free length - height) or one test compression shared by all springs.
-    pub fn from_form(r: &mut FormReader, spring_count: usize) -> Self {
-        let height = r.opt_length("test_height");
-        let compression = r.opt_length("test_compression");
+    /// Rows left empty are springs not tested this time.
+    pub fn from_form(form: &FormData, units: Units, spring_count: usize) -> (Self, FieldErrors) {
+        let mut errors = FieldErrors::default();
+        let length = |name: &str, errors: &mut FieldErrors| -> Option<f64> {
+            let raw = form.get(name);
+            if raw.is_empty() {
+                return None;
+            }
+            match parse_number(raw) {
+                Some(v) => Some(Kind::Length.from_shown(units, v)),
+                None => {
+                    errors.add(name, "enter a number");
+                    Some(f64::NAN)
+                }
+            }
+        };
+        let height = length("test_height", &mut errors);
+        let compression = length("test_compression", &mut errors);
         match (height, compression) {
-            (None, None) => r.errors.add(
+            (None, None) => errors.add(
                 "test_height",
                 "give the test height, or the test compression",
             ),
-            (Some(_), Some(_)) => r.errors.add(
+            (Some(_), Some(_)) => errors.add(
                 "test_compression",
                 "give the test height or the test compression, not both",
             ),
@@ -39,14 +67,29 @@ impl BenchInput {
         }
         let mut springs = Vec::with_capacity(spring_count);
         for i in 1..=spring_count {
-            let free = r.opt_length(&format!("free_length_{i}"));
-            let force = r.force(&format!("force_{i}"));
+            let (free_name, force_name) = (format!("free_length_{i}"), format!("force_{i}"));
+            if form.get(&free_name).is_empty() && form.get(&force_name).is_empty() {
+                continue;
+            }
+            let free = length(&free_name, &mut errors);
+            let force = match parse_number(form.get(&force_name)) {
+                Some(v) => Kind::Force.from_shown(units, v),
+                None => {
+                    let m = if form.get(&force_name).is_empty() {
+                        "required"
+                    } else {
+                        "enter a number"
+                    };
+                    errors.add(&force_name, m);
+                    f64::NAN
+                }
+            };
             let compression = match (compression, height, free) {
                 (Some(c), _, _) => c,
                 (None, Some(h), Some(free)) => free - h,
                 (None, Some(_), None) => {
-                    r.errors.add(
-                        &format!("free_length_{i}"),
+                    errors.add(
+                        &free_name,
                         "needed to work out the compression from the test height",
                     );
                     f64::NAN
@@ -54,66 +97,148 @@ impl BenchInput {
                 (None, None, _) => f64::NAN,
             };
             springs.push(SpringReading {
+                position: Some(i as i64),
                 free_length_mm: free,
                 compression_mm: compression,
                 force_n: force,
             });
         }
-        Self {
-            tested_on: r.text("tested_on"),
-            note: r.text("note"),
+        if springs.is_empty() {
+            errors.add("force_1", "enter at least one spring");
+        }
+        let input = Self {
+            tested_on: form.get("tested_on").to_string(),
+            note: form.get("note").to_string(),
             springs,
+        };
+        (input, errors)
+    }
+
+    /// Where the reading at `index` is shown: the JSON path of `field`, and the form input
+    /// (`force_3`, `free_length_3`; a compression comes from the shared test height).
+    fn place(&self, index: usize, field: &str, by_height: bool) -> Place {
+        let row = self.springs[index].position.unwrap_or(index as i64 + 1);
+        let input = match field {
+            "force_n" => format!("force_{row}"),
+            "free_length_mm" => format!("free_length_{row}"),
+            _ if by_height => "test_height".into(),
+            _ => "test_compression".into(),
+        };
+        Place {
+            path: format!("springs[{index}].{field}"),
+            input,
         }
     }
 
-    /// The form's input name for a field of the JSON shape (`springs[2].force_n` is the form's
-    /// `force_3`; a compression comes from the shared test height or compression).
-    pub fn form_field(field: &str) -> String {
-        let Some(rest) = field.strip_prefix("springs[") else {
-            return match field {
-                "springs" => "test_height".into(),
-                other => other.into(),
-            };
-        };
-        let (index, name) = rest.split_once("].").unwrap_or((rest, ""));
-        let n = index.parse::<usize>().map_or(0, |i| i + 1);
-        match name {
-            "force_n" => format!("force_{n}"),
-            "free_length_mm" => format!("free_length_{n}"),
-            _ => "test_height".into(),
-        }
+    /// Checks the date, the note and every reading; messages land beside the form inputs
+    /// (and under the JSON paths for the API).
+    pub fn check(self, ctx: &Ctx, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+        field::check(self, ctx, errors)
     }
+}
 
-    pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        use Bound::{Excl, Incl};
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        rules.date("tested_on", &self.tested_on);
-        rules.text("note", &self.note, false, 2000);
-        if self.springs.is_empty() || self.springs.len() > 24 {
-            rules.errors.add("springs", "give 1 to 24 spring readings");
+impl Record for BenchInput {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "tested_on",
+            form: "tested_on",
+            label: "Date",
+            value: Value::Date {
+                get: |r| &r.tested_on,
+                set: |r, v| r.tested_on = v,
+            },
+        },
+        Field {
+            column: "note",
+            form: "note",
+            label: "Note",
+            value: Value::Text {
+                max_chars: 2000,
+                required: false,
+                get: |r| &r.note,
+                set: |r, v| r.note = v,
+            },
+        },
+    ];
+
+    fn check_more(&mut self, ctx: &Ctx, errors: &mut FieldErrors) {
+        let units = ctx.units;
+        if self.springs.is_empty() && !errors.has("springs") && !errors.has("force_1") {
+            errors.add_at("springs", "force_1", None, "enter at least one spring");
+        }
+        if self.springs.len() > limits::ADJUSTER_COUNT {
+            errors.add(
+                "springs",
+                format!("at most {} springs", limits::ADJUSTER_COUNT),
+            );
         }
         for (i, s) in self.springs.iter().enumerate() {
-            rules.opt_range(
-                &format!("springs[{i}].free_length_mm"),
-                s.free_length_mm,
-                Excl(0.0),
-                Incl(200.0),
-            );
-            rules.range(
-                &format!("springs[{i}].compression_mm"),
-                s.compression_mm,
-                Excl(0.0),
-                Incl(100.0),
-            );
-            rules.range(
-                &format!("springs[{i}].force_n"),
-                s.force_n,
-                Excl(0.0),
-                Incl(50_000.0),
-            );
+            let by_height = s.free_length_mm.is_some();
+            let mut fault = |column: &str, message: String| {
+                let p = self.place(i, column, by_height);
+                if !errors.has(&p.input) {
+                    errors.add_at(&p.path, &p.input, None, message);
+                }
+            };
+            if let Some(free) = s.free_length_mm
+                && !limits::SPRING_FREE_LENGTH.admits(free)
+            {
+                fault("free_length_mm", limits::SPRING_FREE_LENGTH.message(units));
+            }
+            if !limits::SPRING_COMPRESSION.admits(s.compression_mm) {
+                let message = match s.free_length_mm {
+                    Some(free) if free.is_finite() && s.compression_mm <= 0.0 => format!(
+                        "must be below the free length of spring {} ({})",
+                        s.position.unwrap_or(i as i64 + 1),
+                        Kind::Length.show(units, free)
+                    ),
+                    _ => limits::SPRING_COMPRESSION.message(units),
+                };
+                fault("compression_mm", message);
+            }
+            if !limits::SPRING_FORCE.admits(s.force_n) {
+                fault("force_n", limits::SPRING_FORCE.message(units));
+            }
         }
-        errors.into_result(Checked(self))
     }
+}
+
+/// One spring's reading as stored (`bench_springs`); its fields are read through the bench
+/// form above, so the form names here are only its inputs' stems.
+impl Record for SpringReading {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "free_length_mm",
+            form: "free_length",
+            label: "Free length",
+            value: Value::Number {
+                limit: limits::SPRING_FREE_LENGTH,
+                required: false,
+                get: |r| r.free_length_mm,
+                set: |r, v| r.free_length_mm = v,
+            },
+        },
+        Field {
+            column: "compression_mm",
+            form: "compression",
+            label: "Compression",
+            value: Value::Number {
+                limit: limits::SPRING_COMPRESSION,
+                required: true,
+                get: |r| Some(r.compression_mm),
+                set: |r, v| r.compression_mm = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "force_n",
+            form: "force",
+            label: "Force",
+            value: Value::Number {
+                limit: limits::SPRING_FORCE,
+                required: true,
+                get: |r| Some(r.force_n),
+                set: |r, v| r.force_n = v.unwrap_or(f64::NAN),
+            },
+        },
+    ];
 }

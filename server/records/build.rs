@@ -2,9 +2,10 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{Bound, Checked, FieldErrors, FormData, FormReader, Rules};
+use super::FieldErrors;
+use super::field::{Ctx, Field, Record, Value};
 use crate::clutch::friction::FacingMaterial;
-use crate::clutch::units::Units;
+use crate::clutch::quantity::limits;
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
@@ -73,247 +74,320 @@ impl Default for BuildInput {
     }
 }
 
-impl BuildInput {
-    pub fn from_form(r: &mut FormReader) -> Self {
-        let units = r.units;
-        let thread_value = r.opt_number("adjuster_thread");
-        let (adjuster_tpi, adjuster_pitch_mm) = match r.text("adjuster_thread_kind").as_str() {
-            "metric" => (None, thread_value),
-            _ => (thread_value, None),
-        };
-        Self {
-            label: r.text("label"),
-            disc_count: r.integer("disc_count"),
-            facing_material: r.text("facing_material"),
-            facing_od_mm: r.length("facing_od"),
-            facing_id_mm: r.length("facing_id"),
-            disc_thickness_new_mm: r.opt_length("disc_thickness_new"),
-            disc_thickness_min_mm: r.opt_length("disc_thickness_min"),
-            spring_count: r.integer("spring_count"),
-            spring_description: r.text("spring_description"),
-            spring_rate_n_per_mm: r.opt_rate("spring_rate"),
-            adjuster_tpi,
-            adjuster_pitch_mm,
-            base_compression_mm: r.opt_length("base_compression"),
-            cover_height_free_mm: r.opt_length("cover_height_free"),
-            cover_height_installed_mm: r.opt_length("cover_height_installed"),
-            lever_count: r.opt_integer("lever_count", 0),
-            lever_mass_g: r.opt_number("lever_mass_g").unwrap_or(0.0),
-            lever_cg_radius_mm: r.opt_length("lever_cg_radius"),
-            lever_arm_ratio: r.opt_number("lever_arm_ratio"),
-            lever_gain_n_per_g: r.opt_number("lever_gain").map(|g| units.force_to_n(g)),
-            shim_stack_mm: r.length_list("shim_stack"),
-            shimming_limit_mm: r.opt_length("shimming_limit"),
-            status: match r.text("status").as_str() {
-                "" => "active".into(),
-                s => s.into(),
+impl Record for BuildInput {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "label",
+            form: "label",
+            label: "Name for this build",
+            value: Value::Text {
+                max_chars: 120,
+                required: false,
+                get: |r| &r.label,
+                set: |r, v| r.label = v,
             },
-            notes: r.text("notes"),
-        }
-    }
+        },
+        Field {
+            column: "disc_count",
+            form: "disc_count",
+            label: "Discs",
+            value: Value::Whole {
+                limit: limits::DISC_COUNT,
+                default: None,
+                get: |r| r.disc_count,
+                set: |r, v| r.disc_count = v,
+            },
+        },
+        Field {
+            column: "facing_material",
+            form: "facing_material",
+            label: "Facing material",
+            value: Value::Choice {
+                options: &FacingMaterial::CHOICES,
+                get: |r| &r.facing_material,
+                set: |r, v| r.facing_material = v,
+            },
+        },
+        Field {
+            column: "facing_od_mm",
+            form: "facing_od",
+            label: "Facing outer diameter",
+            value: Value::Number {
+                limit: limits::FACING_DIAMETER,
+                required: true,
+                get: |r| Some(r.facing_od_mm),
+                set: |r, v| r.facing_od_mm = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "facing_id_mm",
+            form: "facing_id",
+            label: "Facing inner diameter",
+            value: Value::Number {
+                limit: limits::FACING_DIAMETER,
+                required: true,
+                get: |r| Some(r.facing_id_mm),
+                set: |r, v| r.facing_id_mm = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "disc_thickness_new_mm",
+            form: "disc_thickness_new",
+            label: "Disc thickness, new",
+            value: Value::Number {
+                limit: limits::DISC_THICKNESS,
+                required: false,
+                get: |r| r.disc_thickness_new_mm,
+                set: |r, v| r.disc_thickness_new_mm = v,
+            },
+        },
+        Field {
+            column: "disc_thickness_min_mm",
+            form: "disc_thickness_min",
+            label: "Disc thickness, minimum",
+            value: Value::Number {
+                limit: limits::DISC_THICKNESS,
+                required: false,
+                get: |r| r.disc_thickness_min_mm,
+                set: |r, v| r.disc_thickness_min_mm = v,
+            },
+        },
+        Field {
+            column: "spring_count",
+            form: "spring_count",
+            label: "Springs",
+            value: Value::Whole {
+                limit: limits::SPRING_COUNT,
+                default: None,
+                get: |r| r.spring_count,
+                set: |r, v| r.spring_count = v,
+            },
+        },
+        Field {
+            column: "spring_description",
+            form: "spring_description",
+            label: "Spring part description",
+            value: Value::Text {
+                max_chars: 200,
+                required: false,
+                get: |r| &r.spring_description,
+                set: |r, v| r.spring_description = v,
+            },
+        },
+        Field {
+            column: "spring_rate_n_per_mm",
+            form: "spring_rate",
+            label: "Nominal spring rate",
+            value: Value::Number {
+                limit: limits::SPRING_RATE,
+                required: false,
+                get: |r| r.spring_rate_n_per_mm,
+                set: |r, v| r.spring_rate_n_per_mm = v,
+            },
+        },
+        Field {
+            column: "adjuster_tpi",
+            form: "adjuster_tpi",
+            label: "Adjuster thread, threads per inch",
+            value: Value::Number {
+                limit: limits::ADJUSTER_TPI,
+                required: false,
+                get: |r| r.adjuster_tpi,
+                set: |r, v| r.adjuster_tpi = v,
+            },
+        },
+        Field {
+            column: "adjuster_pitch_mm",
+            form: "adjuster_pitch",
+            label: "Adjuster thread, metric pitch",
+            value: Value::Number {
+                limit: limits::ADJUSTER_PITCH,
+                required: false,
+                get: |r| r.adjuster_pitch_mm,
+                set: |r, v| r.adjuster_pitch_mm = v,
+            },
+        },
+        Field {
+            column: "base_compression_mm",
+            form: "base_compression",
+            label: "Base compression",
+            value: Value::Number {
+                limit: limits::BASE_COMPRESSION,
+                required: false,
+                get: |r| r.base_compression_mm,
+                set: |r, v| r.base_compression_mm = v,
+            },
+        },
+        Field {
+            column: "cover_height_free_mm",
+            form: "cover_height_free",
+            label: "Cover height, springs free",
+            value: Value::Number {
+                limit: limits::COVER_HEIGHT,
+                required: false,
+                get: |r| r.cover_height_free_mm,
+                set: |r, v| r.cover_height_free_mm = v,
+            },
+        },
+        Field {
+            column: "cover_height_installed_mm",
+            form: "cover_height_installed",
+            label: "Cover height, installed",
+            value: Value::Number {
+                limit: limits::COVER_HEIGHT,
+                required: false,
+                get: |r| r.cover_height_installed_mm,
+                set: |r, v| r.cover_height_installed_mm = v,
+            },
+        },
+        Field {
+            column: "lever_count",
+            form: "lever_count",
+            label: "Levers",
+            value: Value::Whole {
+                limit: limits::LEVER_COUNT,
+                default: Some(0),
+                get: |r| r.lever_count,
+                set: |r, v| r.lever_count = v,
+            },
+        },
+        Field {
+            column: "lever_mass_g",
+            form: "lever_mass_g",
+            label: "Lever mass (each)",
+            value: Value::Number {
+                limit: limits::LEVER_MASS,
+                required: false,
+                get: |r| Some(r.lever_mass_g),
+                set: |r, v| r.lever_mass_g = v.unwrap_or(0.0),
+            },
+        },
+        Field {
+            column: "lever_cg_radius_mm",
+            form: "lever_cg_radius",
+            label: "Lever CG radius",
+            value: Value::Number {
+                limit: limits::LEVER_CG_RADIUS,
+                required: false,
+                get: |r| r.lever_cg_radius_mm,
+                set: |r, v| r.lever_cg_radius_mm = v,
+            },
+        },
+        Field {
+            column: "lever_arm_ratio",
+            form: "lever_arm_ratio",
+            label: "Lever arm ratio",
+            value: Value::Number {
+                limit: limits::LEVER_ARM_RATIO,
+                required: false,
+                get: |r| r.lever_arm_ratio,
+                set: |r, v| r.lever_arm_ratio = v,
+            },
+        },
+        Field {
+            column: "lever_gain_n_per_g",
+            form: "lever_gain",
+            label: "Measured lever gain (per g at 1000 rpm)",
+            value: Value::Number {
+                limit: limits::LEVER_GAIN,
+                required: false,
+                get: |r| r.lever_gain_n_per_g,
+                set: |r, v| r.lever_gain_n_per_g = v,
+            },
+        },
+        Field {
+            column: "shim_stack_mm",
+            form: "shim_stack",
+            label: "Shim stack",
+            value: Value::List {
+                limit: limits::SHIM,
+                max_items: limits::SHIM_COUNT,
+                item: "shim",
+                get: |r| &r.shim_stack_mm,
+                set: |r, v| r.shim_stack_mm = v,
+            },
+        },
+        Field {
+            column: "shimming_limit_mm",
+            form: "shimming_limit",
+            label: "Shimming limit",
+            value: Value::Number {
+                limit: limits::SHIMMING_LIMIT,
+                required: false,
+                get: |r| r.shimming_limit_mm,
+                set: |r, v| r.shimming_limit_mm = v,
+            },
+        },
+        Field {
+            column: "status",
+            form: "status",
+            label: "Status",
+            value: Value::Choice {
+                options: &[("active", "active"), ("retired", "retired")],
+                get: |r| &r.status,
+                set: |r, v| r.status = if v.is_empty() { "active".into() } else { v },
+            },
+        },
+        Field {
+            column: "notes",
+            form: "notes",
+            label: "Notes",
+            value: Value::Text {
+                max_chars: 4000,
+                required: false,
+                get: |r| &r.notes,
+                set: |r, v| r.notes = v,
+            },
+        },
+    ];
 
-    pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        use Bound::{Excl, Incl};
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        rules.text("label", &self.label, false, 120);
-        rules.text("spring_description", &self.spring_description, false, 200);
-        rules.text("notes", &self.notes, false, 4000);
-        rules.range("disc_count", self.disc_count as f64, Incl(1.0), Incl(3.0));
-        rules.range(
-            "spring_count",
-            self.spring_count as f64,
-            Incl(1.0),
-            Incl(24.0),
-        );
-        rules.range(
-            "lever_count",
-            self.lever_count as f64,
-            Incl(0.0),
-            Incl(24.0),
-        );
-        if rules.range("facing_od_mm", self.facing_od_mm, Excl(0.0), Incl(400.0))
-            && rules.range("facing_id_mm", self.facing_id_mm, Excl(0.0), Incl(400.0))
-            && self.facing_id_mm >= self.facing_od_mm
-        {
-            rules
-                .errors
-                .add("facing_id_mm", "must be smaller than the outer diameter");
+    fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {
+        if self.facing_id_mm >= self.facing_od_mm {
+            Self::fault(
+                errors,
+                "facing_id_mm",
+                "must be smaller than the outer diameter",
+            );
         }
-        rules.opt_range(
-            "disc_thickness_new_mm",
-            self.disc_thickness_new_mm,
-            Excl(0.0),
-            Incl(30.0),
-        );
-        rules.opt_range(
-            "disc_thickness_min_mm",
-            self.disc_thickness_min_mm,
-            Excl(0.0),
-            Incl(30.0),
-        );
         if let (Some(new), Some(min)) = (self.disc_thickness_new_mm, self.disc_thickness_min_mm)
             && min >= new
         {
-            rules.errors.add(
+            Self::fault(
+                errors,
                 "disc_thickness_min_mm",
                 "must be less than the new thickness",
             );
         }
-        rules.opt_range(
-            "spring_rate_n_per_mm",
-            self.spring_rate_n_per_mm,
-            Excl(0.0),
-            Incl(2000.0),
-        );
-        match (self.adjuster_tpi, self.adjuster_pitch_mm) {
-            (Some(_), Some(_)) => rules.errors.add(
+        if self.adjuster_tpi.is_some() && self.adjuster_pitch_mm.is_some() {
+            Self::fault(
+                errors,
                 "adjuster_pitch_mm",
                 "give threads per inch or a metric pitch, not both",
-            ),
-            (tpi, pitch) => {
-                rules.opt_range("adjuster_tpi", tpi, Incl(4.0), Incl(80.0));
-                rules.opt_range("adjuster_pitch_mm", pitch, Incl(0.2), Incl(6.0));
-            }
+            );
         }
-        rules.opt_range(
-            "base_compression_mm",
-            self.base_compression_mm,
-            Incl(0.0),
-            Incl(50.0),
-        );
-        rules.opt_range(
-            "cover_height_free_mm",
-            self.cover_height_free_mm,
-            Excl(0.0),
-            Incl(200.0),
-        );
-        rules.opt_range(
-            "cover_height_installed_mm",
-            self.cover_height_installed_mm,
-            Excl(0.0),
-            Incl(200.0),
-        );
         match (self.cover_height_free_mm, self.cover_height_installed_mm) {
-            (Some(free), Some(inst)) if inst > free => rules.errors.add(
+            (Some(free), Some(inst)) if inst > free => Self::fault(
+                errors,
                 "cover_height_installed_mm",
                 "installed height must not exceed the free height",
             ),
-            (Some(_), None) => rules
-                .errors
-                .add("cover_height_installed_mm", "give both cover heights"),
-            (None, Some(_)) => rules
-                .errors
-                .add("cover_height_free_mm", "give both cover heights"),
+            (Some(_), None) => Self::fault(
+                errors,
+                "cover_height_installed_mm",
+                "give both cover heights",
+            ),
+            (None, Some(_)) => {
+                Self::fault(errors, "cover_height_free_mm", "give both cover heights")
+            }
             _ => {}
         }
-        rules.range("lever_mass_g", self.lever_mass_g, Incl(0.0), Incl(2000.0));
-        rules.opt_range(
-            "lever_cg_radius_mm",
-            self.lever_cg_radius_mm,
-            Excl(0.0),
-            Incl(300.0),
-        );
-        rules.opt_range(
-            "lever_arm_ratio",
-            self.lever_arm_ratio,
-            Excl(0.0),
-            Incl(20.0),
-        );
-        rules.opt_range(
-            "lever_gain_n_per_g",
-            self.lever_gain_n_per_g,
-            Excl(0.0),
-            Incl(100.0),
-        );
         let has_geometry = self.lever_cg_radius_mm.is_some() && self.lever_arm_ratio.is_some();
         if self.lever_count > 0 && !has_geometry && self.lever_gain_n_per_g.is_none() {
-            rules.errors.add(
+            Self::fault(
+                errors,
                 "lever_gain_n_per_g",
                 "levers need a measured gain, or both CG radius and arm ratio",
             );
         }
-        if self.shim_stack_mm.len() > 20 {
-            rules.errors.add("shim_stack_mm", "at most 20 shims");
-        }
-        for (i, shim) in self.shim_stack_mm.iter().enumerate() {
-            if !rules.range(&format!("shim_stack_mm[{i}]"), *shim, Excl(0.0), Incl(5.0)) {
-                break;
-            }
-        }
-        rules.opt_range(
-            "shimming_limit_mm",
-            self.shimming_limit_mm,
-            Excl(0.0),
-            Incl(10.0),
-        );
-        if FacingMaterial::from_key(&self.facing_material).is_none() {
-            errors.add(
-                "facing_material",
-                "choose organic, molded, cermet or sintered_iron",
-            );
-        }
-        if !matches!(self.status.as_str(), "active" | "retired") {
-            errors.add("status", "choose active or retired");
-        }
-        errors.into_result(Checked(self))
-    }
-
-    /// The form prefilled from a stored build, in the shop's units.
-    pub fn to_form(&self, units: Units) -> FormData {
-        let mut f = FormData::default();
-        let len = |v: f64| units.mm_to_length(v);
-        let d = super::length_decimals(units);
-        f.set("label", &self.label);
-        f.set_num("disc_count", Some(self.disc_count as f64), 0);
-        f.set("facing_material", &self.facing_material);
-        f.set_num("facing_od", Some(len(self.facing_od_mm)), d);
-        f.set_num("facing_id", Some(len(self.facing_id_mm)), d);
-        f.set_num("disc_thickness_new", self.disc_thickness_new_mm.map(len), d);
-        f.set_num("disc_thickness_min", self.disc_thickness_min_mm.map(len), d);
-        f.set_num("spring_count", Some(self.spring_count as f64), 0);
-        f.set("spring_description", &self.spring_description);
-        f.set_num(
-            "spring_rate",
-            self.spring_rate_n_per_mm.map(|k| units.n_per_mm_to_rate(k)),
-            1,
-        );
-        match (self.adjuster_tpi, self.adjuster_pitch_mm) {
-            (_, Some(p)) => {
-                f.set("adjuster_thread_kind", "metric");
-                f.set_num("adjuster_thread", Some(p), 3);
-            }
-            (tpi, None) => {
-                f.set("adjuster_thread_kind", "tpi");
-                f.set_num("adjuster_thread", tpi, 2);
-            }
-        }
-        f.set_num("base_compression", self.base_compression_mm.map(len), d);
-        f.set_num("cover_height_free", self.cover_height_free_mm.map(len), d);
-        f.set_num(
-            "cover_height_installed",
-            self.cover_height_installed_mm.map(len),
-            d,
-        );
-        f.set_num("lever_count", Some(self.lever_count as f64), 0);
-        f.set_num("lever_mass_g", Some(self.lever_mass_g), 1);
-        f.set_num("lever_cg_radius", self.lever_cg_radius_mm.map(len), d);
-        f.set_num("lever_arm_ratio", self.lever_arm_ratio, 3);
-        f.set_num(
-            "lever_gain",
-            self.lever_gain_n_per_g.map(|g| units.n_to_force(g)),
-            4,
-        );
-        let shims: Vec<String> = self
-            .shim_stack_mm
-            .iter()
-            .map(|s| format!("{:.*}", d, len(*s)))
-            .collect();
-        f.set("shim_stack", shims.join(", "));
-        f.set_num("shimming_limit", self.shimming_limit_mm.map(len), d);
-        f.set("status", &self.status);
-        f.set("notes", &self.notes);
-        f
     }
 }

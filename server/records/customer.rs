@@ -2,7 +2,8 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{Checked, FieldErrors, FormData, FormReader, Rules};
+use super::FieldErrors;
+use super::field::{Ctx, Field, Record, Value};
 
 #[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
@@ -13,43 +14,65 @@ pub struct CustomerInput {
     pub notes: String,
 }
 
-impl CustomerInput {
-    pub fn from_form(r: &mut FormReader) -> Self {
-        Self {
-            name: r.text("name"),
-            phone: r.text("phone"),
-            email: r.text("email"),
-            notes: r.text("notes"),
+impl Record for CustomerInput {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "name",
+            form: "name",
+            label: "Name",
+            value: Value::Text {
+                max_chars: 120,
+                required: true,
+                get: |r| &r.name,
+                set: |r, v| r.name = v,
+            },
+        },
+        Field {
+            column: "phone",
+            form: "phone",
+            label: "Phone",
+            value: Value::Text {
+                max_chars: 40,
+                required: false,
+                get: |r| &r.phone,
+                set: |r, v| r.phone = v,
+            },
+        },
+        Field {
+            column: "email",
+            form: "email",
+            label: "Email",
+            value: Value::Text {
+                max_chars: 120,
+                required: false,
+                get: |r| &r.email,
+                set: |r, v| r.email = v,
+            },
+        },
+        Field {
+            column: "notes",
+            form: "notes",
+            label: "Notes",
+            value: Value::Text {
+                max_chars: 4000,
+                required: false,
+                get: |r| &r.notes,
+                set: |r, v| r.notes = v,
+            },
+        },
+    ];
+
+    fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {
+        if let Err(m) = check_email(&self.email) {
+            Self::fault(errors, "email", m);
         }
     }
+}
 
-    pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        rules.text("name", &self.name, true, 120);
-        rules.text("phone", &self.phone, false, 40);
-        rules.text("email", &self.email, false, 120);
-        rules.text("notes", &self.notes, false, 4000);
-        if !self.email.is_empty() && !self.email.contains('@') {
-            errors.add("email", "an email address needs an @");
-        }
-        let trimmed = Self {
-            name: self.name.trim().to_string(),
-            phone: self.phone.trim().to_string(),
-            email: self.email.trim().to_string(),
-            notes: self.notes,
-        };
-        errors.into_result(Checked(trimmed))
+/// An email address as far as a counter can tell: empty, or something@something.
+pub fn check_email(email: &str) -> Result<(), &'static str> {
+    if !email.is_empty() && !email.contains('@') {
+        return Err("an email address needs an @");
     }
-
-    /// The form prefilled from a stored customer.
-    pub fn to_form(&self) -> FormData {
-        let mut f = FormData::default();
-        f.set("name", &self.name);
-        f.set("phone", &self.phone);
-        f.set("email", &self.email);
-        f.set("notes", &self.notes);
-        f
-    }
+    Ok(())
 }

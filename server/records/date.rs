@@ -1,4 +1,4 @@
-//! Calendar dates as the shop writes them (ISO 8601, `YYYY-MM-DD`), without a date crate.
+//! Calendar dates as the shop writes them (ISO 8601, `YYYY-MM-DD`) and the shop's time zone.
 
 use std::fmt;
 
@@ -38,27 +38,73 @@ impl Date {
         Ok(Self { year, month, day })
     }
 
-    /// Today's date in UTC from the system clock.
-    pub fn today() -> Self {
-        let secs = std::time::SystemTime::now()
-            .duration_since(std::time::UNIX_EPOCH)
-            .map(|d| d.as_secs())
-            .unwrap_or(0);
-        Self::from_days_since_epoch((secs / 86_400) as i64)
+    /// Refuses a date more than one day after the shop's `today` (one day of slack for a
+    /// counter working past midnight or a zone setting that is off by a few hours).
+    pub fn not_after(self, today: Date) -> Result<Self, String> {
+        let limit = today.next_day();
+        if self > limit {
+            Err(format!(
+                "cannot be later than tomorrow ({limit}); today is {today}"
+            ))
+        } else {
+            Ok(self)
+        }
     }
 
-    /// Civil date from days since 1970-01-01 (H. Hinnant's `civil_from_days` algorithm).
-    fn from_days_since_epoch(days: i64) -> Self {
-        let z = days + 719_468;
-        let era = z.div_euclid(146_097);
-        let doe = z.rem_euclid(146_097);
-        let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
-        let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
-        let mp = (5 * doy + 2) / 153;
-        let day = (doy - (153 * mp + 2) / 5 + 1) as u32;
-        let month = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
-        let year = (yoe + era * 400 + i64::from(month <= 2)) as i32;
-        Self { year, month, day }
+    fn civil(self) -> jiff::civil::Date {
+        jiff::civil::date(self.year as i16, self.month as i8, self.day as i8)
+    }
+
+    fn from_civil(d: jiff::civil::Date) -> Self {
+        Self {
+            year: i32::from(d.year()),
+            month: d.month() as u32,
+            day: d.day() as u32,
+        }
+    }
+
+    /// The day after.
+    pub fn next_day(self) -> Self {
+        self.civil().tomorrow().map_or(self, Self::from_civil)
+    }
+
+    /// Today's date in the shop's time zone (see [`ShopZone`]).
+    pub fn today(zone: &ShopZone) -> Self {
+        Self::from_civil(jiff::Timestamp::now().to_zoned(zone.0.clone()).date())
+    }
+}
+
+/// The shop's time zone: an IANA name from the settings, or the server's own zone when the
+/// setting is empty. Dates ("today") and the times in History are read in it.
+#[derive(Debug, Clone)]
+pub struct ShopZone(jiff::tz::TimeZone);
+
+impl ShopZone {
+    /// The zone named `name` (IANA, e.g. "America/Chicago"); empty is the server's zone.
+    pub fn parse(name: &str) -> Result<Self, String> {
+        if name.trim().is_empty() {
+            return Ok(Self::server());
+        }
+        jiff::tz::TimeZone::get(name.trim())
+            .map(Self)
+            .map_err(|_| format!("{name:?} is not a time zone name (e.g. America/Chicago)"))
+    }
+
+    /// The server's own zone (UTC when it cannot be told).
+    pub fn server() -> Self {
+        Self(jiff::tz::TimeZone::try_system().unwrap_or(jiff::tz::TimeZone::UTC))
+    }
+
+    /// A stored UTC stamp (`2026-11-02T10:00:00Z`) as the shop's local date and time
+    /// (`2026-11-02 04:00`); text that is not a stamp is returned as it is.
+    pub fn local_stamp(&self, utc: &str) -> String {
+        match utc.parse::<jiff::Timestamp>() {
+            Ok(t) => t
+                .to_zoned(self.0.clone())
+                .strftime("%Y-%m-%d %H:%M")
+                .to_string(),
+            Err(_) => utc.to_string(),
+        }
     }
 }
 
@@ -94,12 +140,25 @@ mod tests {
     }
 
     #[test]
-    fn days_since_the_epoch_map_to_known_dates() {
-        // Unix time 0 is 1970-01-01; 951_782_400 s is 2000-02-29 (POSIX time definition).
-        assert_eq!(Date::from_days_since_epoch(0).to_string(), "1970-01-01");
+    fn a_date_past_tomorrow_is_refused() {
+        let today = Date::parse("2026-12-31").unwrap();
         assert_eq!(
-            Date::from_days_since_epoch(951_782_400 / 86_400).to_string(),
-            "2000-02-29"
+            Date::parse("2027-01-01")
+                .unwrap()
+                .not_after(today)
+                .map(|d| d.to_string()),
+            Ok("2027-01-01".into())
         );
+        assert!(Date::parse("2027-01-02").unwrap().not_after(today).is_err());
+        assert!(Date::parse("2099-06-01").unwrap().not_after(today).is_err());
+    }
+
+    #[test]
+    fn stored_stamps_read_in_the_shop_zone() {
+        // IANA tz database: America/Chicago is UTC-6 in November (CST) and UTC-5 in July (CDT).
+        let zone = ShopZone::parse("America/Chicago").unwrap();
+        assert_eq!(zone.local_stamp("2026-11-02T10:00:00Z"), "2026-11-02 04:00");
+        assert_eq!(zone.local_stamp("2026-07-02T03:30:00Z"), "2026-07-01 22:30");
+        assert!(ShopZone::parse("Mars/Olympus").is_err());
     }
 }

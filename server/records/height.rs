@@ -2,7 +2,9 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{Bound, Checked, FieldErrors, FormReader, Rules};
+use super::field::{self, Ctx, Field, Record, Value};
+use super::{Checked, FieldErrors};
+use crate::clutch::quantity::{Bound, Kind, Limit, limits};
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
@@ -47,72 +49,136 @@ impl AsRef<HeightInput> for HeightInput {
     }
 }
 
-impl HeightInput {
-    pub fn from_form(r: &mut FormReader) -> Self {
-        Self {
-            measured_on: r.text("measured_on"),
-            height_mm: r.length("height"),
-            passes: r.integer("passes"),
-            shims_pulled: r.opt_integer("shims_pulled", 0),
-            new_disc: r.checked("new_disc"),
-            note: r.text("note"),
-        }
-    }
+impl Record for HeightInput {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "measured_on",
+            form: "measured_on",
+            label: "Date",
+            value: Value::Date {
+                get: |r| &r.measured_on,
+                set: |r, v| r.measured_on = v,
+            },
+        },
+        Field {
+            column: "height_mm",
+            form: "height",
+            label: "Cover height",
+            value: Value::Number {
+                limit: limits::COVER_HEIGHT,
+                required: true,
+                get: |r| Some(r.height_mm),
+                set: |r, v| r.height_mm = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "passes",
+            form: "passes",
+            label: "Passes on this disc",
+            value: Value::Whole {
+                limit: limits::PASSES,
+                default: None,
+                get: |r| r.passes,
+                set: |r, v| r.passes = v,
+            },
+        },
+        Field {
+            column: "shims_pulled",
+            form: "shims_pulled",
+            label: "Shims pulled",
+            value: Value::Whole {
+                limit: Limit::new(
+                    Kind::Count,
+                    Bound::Incl(0.0),
+                    Bound::Incl(limits::SHIM_COUNT as f64),
+                ),
+                default: Some(0),
+                get: |r| r.shims_pulled,
+                set: |r, v| r.shims_pulled = v,
+            },
+        },
+        Field {
+            column: "new_disc",
+            form: "new_disc",
+            label: "New disc fitted",
+            value: Value::Flag {
+                get: |r| r.new_disc,
+                set: |r, v| r.new_disc = v,
+            },
+        },
+        Field {
+            column: "note",
+            form: "note",
+            label: "Note",
+            value: Value::Text {
+                max_chars: 2000,
+                required: false,
+                get: |r| &r.note,
+                set: |r, v| r.note = v,
+            },
+        },
+    ];
+}
 
-    pub fn check(
+impl HeightInput {
+    /// Checks the measurement's own fields, then that it agrees with what the build already
+    /// records (shims in the stack, the measurements before and after it).
+    pub fn check_on(
         self,
-        ctx: HeightContext,
-        mut errors: FieldErrors,
+        hc: HeightContext,
+        ctx: &Ctx,
+        errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
-        use Bound::{Excl, Incl};
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        rules.date("measured_on", &self.measured_on);
-        rules.range("height_mm", self.height_mm, Excl(0.0), Incl(200.0));
-        rules.range("passes", self.passes as f64, Incl(0.0), Incl(100_000.0));
-        rules.text("note", &self.note, false, 2000);
-        let stack = ctx.shims_in_stack as i64;
-        if self.shims_pulled < 0 || self.shims_pulled > stack {
-            errors.add(
+        let checked = field::check(self, ctx, errors)?;
+        let mut errors = FieldErrors::default();
+        let this = &*checked;
+        let stack = hc.shims_in_stack as i64;
+        if this.shims_pulled > stack {
+            Self::fault(
+                &mut errors,
                 "shims_pulled",
                 format!("must be between 0 and {stack} (the shims in this build's stack)"),
             );
         }
-        if self.new_disc && self.shims_pulled != 0 {
-            errors.add(
+        if this.new_disc && this.shims_pulled != 0 {
+            Self::fault(
+                &mut errors,
                 "shims_pulled",
                 "a new disc starts with the full shim stack (0 pulled)",
             );
         }
-        if let Some((passes, pulled)) = ctx.next {
-            if self.passes > passes {
-                errors.add(
+        if let Some((passes, pulled)) = hc.next {
+            if this.passes > passes {
+                Self::fault(
+                    &mut errors,
                     "passes",
                     format!("the next measurement is at {passes} passes"),
                 );
             }
-            if self.shims_pulled > pulled {
-                errors.add(
+            if this.shims_pulled > pulled {
+                Self::fault(
+                    &mut errors,
                     "shims_pulled",
                     format!("the next measurement has {pulled} shims pulled"),
                 );
             }
         }
-        if let Some((passes, pulled)) = ctx.previous.filter(|_| !self.new_disc) {
-            if self.passes < passes {
-                errors.add(
+        if let Some((passes, pulled)) = hc.previous.filter(|_| !this.new_disc) {
+            if this.passes < passes {
+                Self::fault(
+                    &mut errors,
                     "passes",
                     format!("passes cannot go backwards: the last measurement was at {passes}"),
                 );
             }
-            if self.shims_pulled < pulled {
-                errors.add(
+            if this.shims_pulled < pulled {
+                Self::fault(
+                    &mut errors,
                     "shims_pulled",
                     format!("{pulled} shims were already pulled; a pulled shim does not go back"),
                 );
             }
         }
-        errors.into_result(Checked(self))
+        errors.into_result(checked)
     }
 }

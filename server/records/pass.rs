@@ -2,7 +2,9 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{Bound, Checked, FieldErrors, FormReader, Rules};
+use super::FieldErrors;
+use super::field::{Ctx, Field, Record, Value};
+use crate::clutch::quantity::limits;
 
 #[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
@@ -16,41 +18,90 @@ pub struct PassInput {
     pub notes: String,
 }
 
-impl PassInput {
-    pub fn from_form(r: &mut FormReader) -> Self {
-        Self {
-            run_on: r.text("run_on"),
-            track: r.text("track"),
-            launch_rpm: r.opt_number("launch_rpm"),
-            sixty_ft_s: r.opt_number("sixty_ft"),
-            et_s: r.opt_number("et"),
-            observed_lockup_rpm: r.opt_number("observed_lockup_rpm"),
-            notes: r.text("notes"),
-        }
-    }
+impl Record for PassInput {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "run_on",
+            form: "run_on",
+            label: "Date",
+            value: Value::Date {
+                get: |r| &r.run_on,
+                set: |r, v| r.run_on = v,
+            },
+        },
+        Field {
+            column: "track",
+            form: "track",
+            label: "Track",
+            value: Value::Text {
+                max_chars: 120,
+                required: false,
+                get: |r| &r.track,
+                set: |r, v| r.track = v,
+            },
+        },
+        Field {
+            column: "launch_rpm",
+            form: "launch_rpm",
+            label: "Launch speed",
+            value: Value::Number {
+                limit: limits::ENGINE_SPEED,
+                required: false,
+                get: |r| r.launch_rpm,
+                set: |r, v| r.launch_rpm = v,
+            },
+        },
+        Field {
+            column: "sixty_ft_s",
+            form: "sixty_ft",
+            label: "60-ft",
+            value: Value::Number {
+                limit: limits::SIXTY_FT,
+                required: false,
+                get: |r| r.sixty_ft_s,
+                set: |r, v| r.sixty_ft_s = v,
+            },
+        },
+        Field {
+            column: "et_s",
+            form: "et",
+            label: "ET",
+            value: Value::Number {
+                limit: limits::ET,
+                required: false,
+                get: |r| r.et_s,
+                set: |r, v| r.et_s = v,
+            },
+        },
+        Field {
+            column: "observed_lockup_rpm",
+            form: "observed_lockup_rpm",
+            label: "Lockup seen in the data log",
+            value: Value::Number {
+                limit: limits::ENGINE_SPEED,
+                required: false,
+                get: |r| r.observed_lockup_rpm,
+                set: |r, v| r.observed_lockup_rpm = v,
+            },
+        },
+        Field {
+            column: "notes",
+            form: "notes",
+            label: "Notes",
+            value: Value::Text {
+                max_chars: 2000,
+                required: false,
+                get: |r| &r.notes,
+                set: |r, v| r.notes = v,
+            },
+        },
+    ];
 
-    pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        use Bound::Incl;
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        rules.date("run_on", &self.run_on);
-        rules.text("track", &self.track, false, 120);
-        rules.text("notes", &self.notes, false, 2000);
-        rules.opt_range("launch_rpm", self.launch_rpm, Incl(500.0), Incl(15_000.0));
-        rules.opt_range(
-            "observed_lockup_rpm",
-            self.observed_lockup_rpm,
-            Incl(500.0),
-            Incl(15_000.0),
-        );
-        rules.opt_range("sixty_ft_s", self.sixty_ft_s, Incl(0.5), Incl(10.0));
-        rules.opt_range("et_s", self.et_s, Incl(1.0), Incl(60.0));
+    fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {
         if let (Some(sixty), Some(et)) = (self.sixty_ft_s, self.et_s)
             && et <= sixty
         {
-            errors.add("et_s", "the ET must be longer than the 60-ft time");
+            Self::fault(errors, "et_s", "the ET must be longer than the 60-ft time");
         }
-        errors.into_result(Checked(self))
     }
 }

@@ -1,8 +1,13 @@
-//! The shop's own settings: name and contact for the sheets, display units, rule limits.
+//! The shop's own settings: name and contact for the sheets, display units, time zone, limits.
 
 use serde::{Deserialize, Serialize};
 
-use super::{Bound, Checked, FieldErrors, FormReader, Rules};
+use super::FieldErrors;
+use super::customer::check_email;
+use super::date::ShopZone;
+use super::field::{Ctx, Field, Record, Value};
+use crate::clutch::quantity::limits;
+use crate::clutch::units::Units;
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 pub struct SettingsInput {
@@ -17,66 +22,187 @@ pub struct SettingsInput {
     pub shimming_limit_mm: f64,
     pub overclamp_factor: f64,
     pub due_within_passes: i64,
+    /// IANA time zone name; empty for the server's own zone.
+    pub time_zone: String,
+}
+
+impl Default for SettingsInput {
+    fn default() -> Self {
+        Self {
+            name: String::new(),
+            phone: String::new(),
+            email: String::new(),
+            address: String::new(),
+            units: Units::default().key().into(),
+            spring_spread_pct: f64::NAN,
+            spring_sag_pct: f64::NAN,
+            shimming_limit_mm: f64::NAN,
+            overclamp_factor: f64::NAN,
+            due_within_passes: 0,
+            time_zone: String::new(),
+        }
+    }
 }
 
 impl SettingsInput {
-    /// Reads the form. Lengths are typed in the units chosen on the same form.
-    pub fn from_form(r: &mut FormReader) -> Self {
-        let units = r.text("units");
-        if let Some(u) = crate::clutch::units::Units::from_key(&units) {
-            r.units = u;
-        }
-        Self {
-            name: r.text("name"),
-            phone: r.text("phone"),
-            email: r.text("email"),
-            address: r.text("address"),
-            units,
-            spring_spread_pct: r.number("spring_spread_pct"),
-            spring_sag_pct: r.number("spring_sag_pct"),
-            shimming_limit_mm: r.length("shimming_limit"),
-            overclamp_factor: r.number("overclamp_factor"),
-            due_within_passes: r.integer("due_within_passes"),
+    /// The shop's display units.
+    pub fn units(&self) -> Units {
+        Units::from_key(&self.units).unwrap_or_default()
+    }
+
+    /// What a record check needs: the shop's units and today in its time zone.
+    pub fn ctx(&self) -> Ctx {
+        Ctx {
+            units: self.units(),
+            today: super::date::Date::today(&self.zone()),
         }
     }
 
-    pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        use Bound::{Excl, Incl};
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        rules.text("name", &self.name, true, 120);
-        rules.text("phone", &self.phone, false, 40);
-        rules.text("email", &self.email, false, 120);
-        rules.text("address", &self.address, false, 400);
-        rules.range(
-            "spring_spread_pct",
-            self.spring_spread_pct,
-            Excl(0.0),
-            Incl(50.0),
-        );
-        rules.range("spring_sag_pct", self.spring_sag_pct, Excl(0.0), Incl(50.0));
-        rules.range(
-            "shimming_limit_mm",
-            self.shimming_limit_mm,
-            Excl(0.0),
-            Incl(5.0),
-        );
-        rules.range(
-            "overclamp_factor",
-            self.overclamp_factor,
-            Incl(1.0),
-            Incl(5.0),
-        );
-        rules.range(
-            "due_within_passes",
-            self.due_within_passes as f64,
-            Incl(0.0),
-            Incl(1000.0),
-        );
-        if crate::clutch::units::Units::from_key(&self.units).is_none() {
-            errors.add("units", "choose imperial or metric");
+    /// What the record API checks with: storage units (metric; the JSON fields name them) and
+    /// the shop's today.
+    pub fn record_ctx(&self) -> Ctx {
+        Ctx {
+            units: Units::Metric,
+            ..self.ctx()
         }
-        errors.into_result(Checked(self))
+    }
+
+    /// The shop's time zone (the server's own when unset or no longer known).
+    pub fn zone(&self) -> ShopZone {
+        ShopZone::parse(&self.time_zone).unwrap_or_else(|_| ShopZone::server())
+    }
+}
+
+impl Record for SettingsInput {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "name",
+            form: "name",
+            label: "Shop name",
+            value: Value::Text {
+                max_chars: 120,
+                required: true,
+                get: |r| &r.name,
+                set: |r, v| r.name = v,
+            },
+        },
+        Field {
+            column: "phone",
+            form: "phone",
+            label: "Phone",
+            value: Value::Text {
+                max_chars: 40,
+                required: false,
+                get: |r| &r.phone,
+                set: |r, v| r.phone = v,
+            },
+        },
+        Field {
+            column: "email",
+            form: "email",
+            label: "Email",
+            value: Value::Text {
+                max_chars: 120,
+                required: false,
+                get: |r| &r.email,
+                set: |r, v| r.email = v,
+            },
+        },
+        Field {
+            column: "address",
+            form: "address",
+            label: "Address",
+            value: Value::Text {
+                max_chars: 400,
+                required: false,
+                get: |r| &r.address,
+                set: |r, v| r.address = v,
+            },
+        },
+        Field {
+            column: "units",
+            form: "units",
+            label: "Units",
+            value: Value::Choice {
+                options: &[("imperial", "imperial"), ("metric", "metric")],
+                get: |r| &r.units,
+                set: |r, v| r.units = v,
+            },
+        },
+        Field {
+            column: "spring_spread_pct",
+            form: "spring_spread_pct",
+            label: "Spring spread flag",
+            value: Value::Number {
+                limit: limits::SPRING_SPREAD,
+                required: true,
+                get: |r| Some(r.spring_spread_pct),
+                set: |r, v| r.spring_spread_pct = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "spring_sag_pct",
+            form: "spring_sag_pct",
+            label: "Spring sag flag",
+            value: Value::Number {
+                limit: limits::SPRING_SAG,
+                required: true,
+                get: |r| Some(r.spring_sag_pct),
+                set: |r, v| r.spring_sag_pct = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "shimming_limit_mm",
+            form: "shimming_limit",
+            label: "Shimming limit",
+            value: Value::Number {
+                limit: limits::SHIMMING_LIMIT,
+                required: true,
+                get: |r| Some(r.shimming_limit_mm),
+                set: |r, v| r.shimming_limit_mm = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "overclamp_factor",
+            form: "overclamp_factor",
+            label: "Over-clamp warning factor",
+            value: Value::Number {
+                limit: limits::OVERCLAMP_FACTOR,
+                required: true,
+                get: |r| Some(r.overclamp_factor),
+                set: |r, v| r.overclamp_factor = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "due_within_passes",
+            form: "due_within_passes",
+            label: "List work due within",
+            value: Value::Whole {
+                limit: limits::DUE_WITHIN_PASSES,
+                default: None,
+                get: |r| r.due_within_passes,
+                set: |r, v| r.due_within_passes = v,
+            },
+        },
+        Field {
+            column: "time_zone",
+            form: "time_zone",
+            label: "Time zone",
+            value: Value::Text {
+                max_chars: 64,
+                required: false,
+                get: |r| &r.time_zone,
+                set: |r, v| r.time_zone = v,
+            },
+        },
+    ];
+
+    fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {
+        if let Err(m) = check_email(&self.email) {
+            Self::fault(errors, "email", m);
+        }
+        if let Err(m) = ShopZone::parse(&self.time_zone) {
+            Self::fault(errors, "time_zone", m);
+        }
     }
 }

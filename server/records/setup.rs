@@ -2,7 +2,9 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::{Bound, Checked, FieldErrors, FormReader, Rules};
+use super::FieldErrors;
+use super::field::{Ctx, Field, Record, Value};
+use crate::clutch::quantity::{Kind, limits};
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
@@ -42,40 +44,78 @@ impl SetupInput {
             )
             .is_ok_and(|c| c.unequal)
     }
+}
 
-    pub fn from_form(r: &mut FormReader) -> Self {
-        Self {
-            changed_on: r.text("changed_on"),
-            adjuster_turns: r.number("adjuster_turns"),
-            adjuster_turns_each: r.number_list("adjuster_turns_each"),
-            counterweight_g: r.opt_number("counterweight_g").unwrap_or(0.0),
-            mu: r.opt_number("mu"),
-            note: r.text("note"),
-        }
-    }
+impl Record for SetupInput {
+    const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "changed_on",
+            form: "changed_on",
+            label: "Date",
+            value: Value::Date {
+                get: |r| &r.changed_on,
+                set: |r, v| r.changed_on = v,
+            },
+        },
+        Field {
+            column: "adjuster_turns",
+            form: "adjuster_turns",
+            label: "Adjuster turns",
+            value: Value::Number {
+                limit: limits::ADJUSTER_TURNS,
+                required: true,
+                get: |r| Some(r.adjuster_turns),
+                set: |r, v| r.adjuster_turns = v.unwrap_or(f64::NAN),
+            },
+        },
+        Field {
+            column: "adjuster_turns_each",
+            form: "adjuster_turns_each",
+            label: "Turns of each adjuster",
+            value: Value::List {
+                limit: limits::ADJUSTER_TURNS,
+                max_items: limits::ADJUSTER_COUNT,
+                item: "adjuster",
+                get: |r| &r.adjuster_turns_each,
+                set: |r, v| r.adjuster_turns_each = v,
+            },
+        },
+        Field {
+            column: "counterweight_g",
+            form: "counterweight_g",
+            label: "Counterweight per lever",
+            value: Value::Number {
+                limit: limits::COUNTERWEIGHT,
+                required: false,
+                get: |r| Some(r.counterweight_g),
+                set: |r, v| r.counterweight_g = v.unwrap_or(0.0),
+            },
+        },
+        Field {
+            column: "mu",
+            form: "mu",
+            label: "Friction μ",
+            value: Value::Number {
+                limit: limits::MU,
+                required: false,
+                get: |r| r.mu,
+                set: |r, v| r.mu = v,
+            },
+        },
+        Field {
+            column: "note",
+            form: "note",
+            label: "Note",
+            value: Value::Text {
+                max_chars: 2000,
+                required: false,
+                get: |r| &r.note,
+                set: |r, v| r.note = v,
+            },
+        },
+    ];
 
-    pub fn check(self, mut errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        use Bound::Incl;
-        let mut rules = Rules {
-            errors: &mut errors,
-        };
-        rules.date("changed_on", &self.changed_on);
-        rules.range("adjuster_turns", self.adjuster_turns, Incl(0.0), Incl(20.0));
-        if self.adjuster_turns_each.len() > 24 {
-            rules
-                .errors
-                .add("adjuster_turns_each", "at most 24 adjusters");
-        }
-        for (i, t) in self.adjuster_turns_each.iter().enumerate() {
-            if !rules.range(
-                &format!("adjuster_turns_each[{i}]"),
-                *t,
-                Incl(0.0),
-                Incl(20.0),
-            ) {
-                break;
-            }
-        }
+    fn check_more(&mut self, ctx: &Ctx, errors: &mut FieldErrors) {
         // The figures use `adjuster_turns`: it must be what the adjusters average.
         if !self.adjuster_turns_each.is_empty()
             && let Ok(c) = crate::clutch::clamp::check_adjusters(
@@ -84,22 +124,14 @@ impl SetupInput {
             )
             && (c.mean - self.adjuster_turns).abs() > 0.01
         {
-            rules.errors.add(
+            Self::fault(
+                errors,
                 "adjuster_turns_each",
                 format!(
-                    "these average {:.3} turns: enter that as the adjuster turns",
-                    c.mean
+                    "these average {}: enter that as the adjuster turns",
+                    Kind::Turns.show(ctx.units, c.mean)
                 ),
             );
         }
-        rules.range(
-            "counterweight_g",
-            self.counterweight_g,
-            Incl(0.0),
-            Incl(1000.0),
-        );
-        rules.opt_range("mu", self.mu, Incl(0.05), Incl(0.8));
-        rules.text("note", &self.note, false, 2000);
-        errors.into_result(Checked(self))
     }
 }

@@ -7,15 +7,16 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use super::AppState;
 use super::extract::{CurrentUser, PathId, SignedForm};
-use super::layout::{Layout, units_of};
+use super::layout::Layout;
 use crate::auth;
+use crate::clutch::units::Units;
 use crate::db;
 use crate::db::users::User;
 use crate::error::{AppError, AppResult};
-use crate::records::length_decimals;
+use crate::records::field;
 use crate::records::settings::SettingsInput;
 use crate::records::user::{NewUser, Role, check_password};
-use crate::records::{FieldErrors, FormData, FormReader};
+use crate::records::{Ctx, FieldErrors, FormData};
 
 #[derive(Template)]
 #[template(path = "admin/settings.html")]
@@ -26,24 +27,11 @@ pub struct SettingsPage {
     pub saved: bool,
 }
 
+/// The settings form prefilled, numbers in the shop's units (and which units those are).
 fn settings_form(s: &SettingsInput) -> FormData {
-    let units = units_of(s);
-    let mut f = FormData::default();
-    f.set("name", &s.name);
-    f.set("phone", &s.phone);
-    f.set("email", &s.email);
-    f.set("address", &s.address);
-    f.set("units", &s.units);
-    f.set_num("spring_spread_pct", Some(s.spring_spread_pct), 2);
-    f.set_num("spring_sag_pct", Some(s.spring_sag_pct), 2);
-    f.set_num(
-        "shimming_limit",
-        Some(units.mm_to_length(s.shimming_limit_mm)),
-        length_decimals(units),
-    );
-    f.set_num("overclamp_factor", Some(s.overclamp_factor), 2);
-    f.set_num("due_within_passes", Some(s.due_within_passes as f64), 0);
-    f
+    let mut form = field::to_form(s, s.units());
+    form.set("shown_units", &s.units);
+    form
 }
 
 pub async fn settings(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
@@ -69,9 +57,15 @@ pub async fn save_settings(
     user.require_admin()?;
     let mut tx = state.write(&user).await?;
     let (page, settings) = Layout::load(&mut tx, &user, "settings", "Shop settings").await?;
-    let mut reader = FormReader::new(&form, units_of(&settings));
-    let input = SettingsInput::from_form(&mut reader);
-    match input.check(reader.errors) {
+    // Numbers are read in the units the form showed them in, so switching the units alone
+    // changes how values are shown, never the stored values.
+    let shown = Units::from_key(form.get("shown_units")).unwrap_or(settings.units());
+    let (input, errors) = field::read::<SettingsInput>(&form, shown);
+    let ctx = Ctx {
+        units: shown,
+        ..settings.ctx()
+    };
+    match field::check(input, &ctx, errors) {
         Ok(checked) => {
             db::settings::update(&mut tx, &checked).await?;
             tx.commit().await?;

@@ -24,7 +24,7 @@ use crate::records::customer::CustomerInput;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
-use crate::records::{Checked, FieldErrors};
+use crate::records::{Checked, Ctx, FieldErrors, field};
 
 pub fn routes() -> Router<AppState> {
     Router::new()
@@ -109,6 +109,12 @@ fn found<T>(value: Option<T>) -> Result<T, ApiError> {
     value.ok_or(ApiError(AppError::NotFound))
 }
 
+/// What the record API checks with: storage units (the JSON's own) and the shop's today.
+async fn record_ctx(state: &AppState) -> Result<Ctx, ApiError> {
+    let settings = db::settings::get(&mut *conn(state).await?).await?;
+    Ok(settings.record_ctx())
+}
+
 async fn conn(state: &AppState) -> Result<sqlx::pool::PoolConnection<sqlx::Sqlite>, ApiError> {
     Ok(state.pool.acquire().await.map_err(AppError::from)?)
 }
@@ -152,7 +158,11 @@ async fn customer_create(
     ApiUser(user): ApiUser,
     ApiJson(input): ApiJson<CustomerInput>,
 ) -> Result<Response, ApiError> {
-    let c = checked(input.check(FieldErrors::default()))?;
+    let c = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     let id = db::customers::insert(&mut tx, &c).await?;
     let row = found(db::customers::by_id(&mut tx, id).await?)?;
@@ -166,7 +176,11 @@ async fn customer_update(
     Id(id): Id,
     ApiJson(input): ApiJson<CustomerInput>,
 ) -> ApiResult<db::customers::Customer> {
-    let c = checked(input.check(FieldErrors::default()))?;
+    let c = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     if !db::customers::update(&mut tx, id, &c).await? {
         return Err(ApiError(AppError::NotFound));
@@ -208,7 +222,11 @@ async fn car_create(
     Id(customer_id): Id,
     ApiJson(input): ApiJson<CarInput>,
 ) -> Result<Response, ApiError> {
-    let c = checked(input.check(FieldErrors::default()))?;
+    let c = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     found(db::customers::by_id(&mut tx, customer_id).await?)?;
     let id = db::cars::insert(&mut tx, customer_id, &c).await?;
@@ -223,7 +241,11 @@ async fn car_update(
     Id(id): Id,
     ApiJson(input): ApiJson<CarInput>,
 ) -> ApiResult<db::cars::Car> {
-    let c = checked(input.check(FieldErrors::default()))?;
+    let c = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     found(db::cars::by_id(&mut tx, id).await?)?;
     db::cars::update(&mut tx, id, &c).await?;
@@ -268,7 +290,11 @@ async fn build_create(
     Id(car_id): Id,
     ApiJson(input): ApiJson<BuildInput>,
 ) -> Result<Response, ApiError> {
-    let b = checked(input.check(FieldErrors::default()))?;
+    let b = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     found(db::cars::by_id(&mut tx, car_id).await?)?;
     let id = db::builds::insert(&mut tx, car_id, &b).await?;
@@ -283,7 +309,11 @@ async fn build_update(
     Id(id): Id,
     ApiJson(input): ApiJson<BuildInput>,
 ) -> ApiResult<db::builds::Build> {
-    let b = checked(input.check(FieldErrors::default()))?;
+    let b = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, id).await?;
     db::builds::update(&mut tx, id, &b).await?;
@@ -320,7 +350,11 @@ async fn setup_create(
     Id(build_id): Id,
     ApiJson(input): ApiJson<SetupInput>,
 ) -> Result<Response, ApiError> {
-    let v = checked(input.check(FieldErrors::default()))?;
+    let v = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, build_id).await?;
     let id = db::setups::insert(&mut tx, build_id, user.id, &v).await?;
@@ -335,7 +369,11 @@ async fn setup_update(
     Id(id): Id,
     ApiJson(input): ApiJson<SetupInput>,
 ) -> ApiResult<db::setups::Setup> {
-    let v = checked(input.check(FieldErrors::default()))?;
+    let v = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     found(db::setups::by_id(&mut tx, id).await?)?;
     db::setups::update(&mut tx, id, &v).await?;
@@ -362,7 +400,7 @@ async fn bench_create(
     Id(build_id): Id,
     ApiJson(input): ApiJson<BenchInput>,
 ) -> Result<Response, ApiError> {
-    let v = checked(input.check(FieldErrors::default()))?;
+    let v = checked(input.check(&record_ctx(&s).await?, FieldErrors::default()))?;
     let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, build_id).await?;
     let id = db::bench::insert(&mut tx, build_id, user.id, &v).await?;
@@ -388,7 +426,7 @@ async fn bench_update(
     Id(id): Id,
     ApiJson(input): ApiJson<BenchInput>,
 ) -> ApiResult<db::bench::BenchTest> {
-    let v = checked(input.check(FieldErrors::default()))?;
+    let v = checked(input.check(&record_ctx(&s).await?, FieldErrors::default()))?;
     let mut tx = write_tx(&s, &user).await?;
     let existing = found(db::bench::by_id(&mut tx, id).await?)?;
     if existing.springs.len() != v.springs.len() {
@@ -449,8 +487,9 @@ async fn height_create(
     ApiJson(input): ApiJson<HeightInput>,
 ) -> Result<Response, ApiError> {
     let mut tx = write_tx(&s, &user).await?;
-    let ctx = height_context(&mut tx, build_id, None).await?;
-    let v = checked(input.check(ctx, FieldErrors::default()))?;
+    let hc = height_context(&mut tx, build_id, None).await?;
+    let ctx = db::settings::get(&mut tx).await?.record_ctx();
+    let v = checked(input.check_on(hc, &ctx, FieldErrors::default()))?;
     let id = db::heights::insert(&mut tx, build_id, user.id, &v).await?;
     let row = found(db::heights::by_id(&mut tx, id).await?)?;
     tx.commit().await?;
@@ -465,8 +504,9 @@ async fn height_update(
 ) -> ApiResult<db::heights::Height> {
     let mut tx = write_tx(&s, &user).await?;
     let existing = found(db::heights::by_id(&mut tx, id).await?)?;
-    let ctx = height_context(&mut tx, existing.build_id, Some(id)).await?;
-    let v = checked(input.check(ctx, FieldErrors::default()))?;
+    let hc = height_context(&mut tx, existing.build_id, Some(id)).await?;
+    let ctx = db::settings::get(&mut tx).await?.record_ctx();
+    let v = checked(input.check_on(hc, &ctx, FieldErrors::default()))?;
     db::heights::update(&mut tx, id, &v).await?;
     let row = found(db::heights::by_id(&mut tx, id).await?)?;
     tx.commit().await?;
@@ -501,7 +541,11 @@ async fn pass_create(
     Id(build_id): Id,
     ApiJson(input): ApiJson<PassInput>,
 ) -> Result<Response, ApiError> {
-    let v = checked(input.check(FieldErrors::default()))?;
+    let v = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     build_exists(&mut tx, build_id).await?;
     let id = db::passes::insert(&mut tx, build_id, user.id, &v).await?;
@@ -516,7 +560,11 @@ async fn pass_update(
     Id(id): Id,
     ApiJson(input): ApiJson<PassInput>,
 ) -> ApiResult<db::passes::Pass> {
-    let v = checked(input.check(FieldErrors::default()))?;
+    let v = checked(field::check(
+        input,
+        &record_ctx(&s).await?,
+        FieldErrors::default(),
+    ))?;
     let mut tx = write_tx(&s, &user).await?;
     found(db::passes::by_id(&mut tx, id).await?)?;
     db::passes::update(&mut tx, id, &v).await?;

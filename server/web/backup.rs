@@ -11,7 +11,7 @@ use super::extract::CurrentUser;
 use super::layout::Layout;
 use crate::backup::{self, BackupError, TempPath};
 use crate::error::{AppError, AppResult};
-use crate::records::date::Date;
+use crate::records::date::{Date, ShopZone};
 
 impl From<BackupError> for AppError {
     fn from(err: BackupError) -> Self {
@@ -66,7 +66,7 @@ pub async fn download(State(state): State<AppState>, user: CurrentUser) -> AppRe
     tracing::info!(user = %user.username, bytes = bytes.len(), "backup downloaded");
     Ok(attachment(
         "application/vnd.sqlite3",
-        format!("lockpoint-{}.db", Date::today()),
+        format!("lockpoint-{}.db", Date::today(&ShopZone::server())),
         bytes,
     ))
 }
@@ -78,7 +78,7 @@ pub async fn export_json(State(state): State<AppState>, user: CurrentUser) -> Ap
     tracing::info!(user = %user.username, rows = export.row_count(), "export downloaded");
     Ok(attachment(
         "application/json",
-        format!("lockpoint-export-{}.json", Date::today()),
+        format!("lockpoint-export-{}.json", Date::today(&ShopZone::server())),
         export.to_json().into_bytes(),
     ))
 }

@@ -11,7 +11,7 @@ use super::AppState;
 use super::capacity::{capacity_chart, figure_lines};
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
-use super::layout::{Layout, units_of};
+use super::layout::Layout;
 use super::wear::{self, WearView};
 use crate::clutch::friction::FacingMaterial;
 use crate::clutch::springs::SetSpread;
@@ -26,10 +26,10 @@ use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
 use crate::model::{self, BuildFacts, Figures};
 use crate::records::build::BuildInput;
-use crate::records::date::Date;
-use crate::records::length_decimals;
+use crate::records::height::HeightInput;
+use crate::records::pass::PassInput;
 use crate::records::settings::SettingsInput;
-use crate::records::{FieldErrors, FormData, FormReader};
+use crate::records::{Ctx, FieldErrors, FormData, field};
 
 /// One quick-entry form on the build page: what was typed and what was wrong with it.
 #[derive(Debug, Clone, Default)]
@@ -98,7 +98,7 @@ impl ShowPage {
     }
 
     pub fn today(&self) -> String {
-        Date::today().to_string()
+        self.page.today()
     }
 
     /// The setup in force now (the latest change), if any was recorded.
@@ -220,7 +220,7 @@ pub async fn render_page(
             .map_err(|e| format!("{}: {}", e.field, e.message))
     });
     let bench = bench_views(&d.bench, &settings);
-    let forms = default_forms(forms, &d.car, &d.setups, &d.heights);
+    let forms = default_forms(forms, &page.ctx, &d.car, &d.setups, &d.heights);
     let material = super::show::material_text(&d.build.data);
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
     let sheets = db::sheets::for_build(conn, id).await?;
@@ -244,13 +244,13 @@ pub async fn render_page(
 /// and the build's last values, so a bench entry is a few keystrokes.
 fn default_forms(
     forms: EntryForms,
+    ctx: &Ctx,
     car: &Car,
     setups: &[Setup],
     heights: &[Height],
 ) -> FilledForms {
-    let today = Date::today().to_string();
-    let blank = |date_field: &str| {
-        let mut form = FormData::default();
+    let today = ctx.today.to_string();
+    let filled = |mut form: FormData, date_field: &str| {
         form.set(date_field, &today);
         EntryForm {
             form,
@@ -259,30 +259,32 @@ fn default_forms(
     };
     FilledForms {
         setup: forms.setup.unwrap_or_else(|| {
-            let mut e = blank("changed_on");
-            if let Some(s) = setups.last() {
-                e.form
-                    .set_num("adjuster_turns", Some(s.data.adjuster_turns), 3);
-                e.form
-                    .set_num("counterweight_g", Some(s.data.counterweight_g), 1);
-                e.form.set_num("mu", s.data.mu, 3);
-            }
-            e
+            let last = setups.last().map(|s| s.data.clone()).unwrap_or_default();
+            let mut form = field::to_form(&last, ctx.units);
+            form.set("adjuster_turns_each", "");
+            form.set("note", "");
+            filled(form, "changed_on")
         }),
-        bench: forms.bench.unwrap_or_else(|| blank("tested_on")),
+        bench: forms
+            .bench
+            .unwrap_or_else(|| filled(FormData::default(), "tested_on")),
         height: forms.height.unwrap_or_else(|| {
-            let mut e = blank("measured_on");
-            let (passes, pulled) = heights
+            let (passes, shims_pulled) = heights
                 .last()
                 .map_or((0, 0), |h| (h.data.passes, h.data.shims_pulled));
-            e.form.set("passes", passes.to_string());
-            e.form.set("shims_pulled", pulled.to_string());
-            e
+            let next = HeightInput {
+                passes,
+                shims_pulled,
+                ..HeightInput::default()
+            };
+            filled(field::to_form(&next, ctx.units), "measured_on")
         }),
         pass: forms.pass.unwrap_or_else(|| {
-            let mut e = blank("run_on");
-            e.form.set_num("launch_rpm", car.data.launch_rpm, 0);
-            e
+            let next = PassInput {
+                launch_rpm: car.data.launch_rpm,
+                ..PassInput::default()
+            };
+            filled(field::to_form(&next, ctx.units), "run_on")
         }),
         sheet: forms.sheet.unwrap_or_default(),
     }
@@ -322,10 +324,7 @@ pub struct FormPage {
 
 impl FormPage {
     fn new(page: Layout, car: Car, id: Option<i64>, form: FormData, errors: FieldErrors) -> Self {
-        let materials = FacingMaterial::ALL
-            .iter()
-            .map(|m| (m.key(), m.label()))
-            .collect();
+        let materials = FacingMaterial::CHOICES.to_vec();
         Self {
             page,
             car,
@@ -354,15 +353,12 @@ pub async fn new(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(&mut conn, &user, "customers", "New clutch build").await?;
-    let mut form = FormData::default();
-    form.set("disc_count", "1");
-    form.set("adjuster_thread_kind", "tpi");
-    form.set("status", "active");
-    form.set_num(
-        "shimming_limit",
-        Some(page.units().mm_to_length(settings.shimming_limit_mm)),
-        length_decimals(page.units()),
-    );
+    let fresh = BuildInput {
+        shimming_limit_mm: Some(settings.shimming_limit_mm),
+        ..BuildInput::default()
+    };
+    let mut form = field::to_form(&fresh, page.units());
+    form.set("spring_count", "");
     Ok(Html(
         FormPage::new(page, car, None, form, FieldErrors::default()).render()?,
     ))
@@ -381,7 +377,7 @@ pub async fn edit(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit clutch build").await?;
-    let form = build.data.to_form(page.units());
+    let form = field::to_form(&build.data, page.units());
     Ok(Html(
         FormPage::new(page, car, Some(id), form, FieldErrors::default()).render()?,
     ))
@@ -418,10 +414,9 @@ async fn save(
     let car = db::cars::by_id(&mut tx, car_id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let (page, settings) = Layout::load(&mut tx, &user, "customers", "Clutch build").await?;
-    let mut reader = FormReader::new(&form, units_of(&settings));
-    let input = BuildInput::from_form(&mut reader);
-    let checked = match input.check(reader.errors) {
+    let (page, _) = Layout::load(&mut tx, &user, "customers", "Clutch build").await?;
+    let (input, errors) = field::read::<BuildInput>(&form, page.units());
+    let checked = match field::check(input, &page.ctx, errors) {
         Ok(c) => c,
         Err(errors) => {
             let page = FormPage::new(page, car, id, form, errors);

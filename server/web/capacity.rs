@@ -12,15 +12,15 @@ use super::chart::Chart;
 use super::extract::{CurrentUser, PathId};
 use super::layout::Layout;
 use super::show::Show;
+use crate::clutch::quantity::limits;
 use crate::clutch::recommend::Recommendation;
 use crate::clutch::report::CapacityReport;
 use crate::db;
 use crate::db::dossier::Dossier;
 use crate::error::{AppError, AppResult};
 use crate::model::{BuildFacts, Figures, Trial, TuningTargets, figures};
-use crate::records::date::Date;
 use crate::records::setup::SetupInput;
-use crate::records::{FieldErrors, FormData, FormReader};
+use crate::records::{Ctx, FieldErrors, FormData, field};
 
 /// The capacity chart: engine torque, clutch capacity, its static share, the slip region, and
 /// the launch and lockup speeds marked. `before` adds the current setting for comparison.
@@ -104,19 +104,15 @@ pub struct TunePage {
 
 /// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
 /// change, or `None` with the messages.
-fn read_trial(reader: &mut FormReader) -> Option<Trial> {
-    let input = SetupInput {
-        changed_on: Date::today().to_string(),
-        adjuster_turns: reader.number("adjuster_turns"),
-        adjuster_turns_each: Vec::new(),
-        counterweight_g: reader.opt_number("counterweight_g").unwrap_or(0.0),
-        mu: reader.opt_number("mu"),
-        note: String::new(),
-    };
-    match input.check(std::mem::take(&mut reader.errors)) {
+fn read_trial(form: &FormData, ctx: &Ctx, errors: &mut FieldErrors) -> Option<Trial> {
+    let (mut input, read_errors) = field::read::<SetupInput>(form, ctx.units);
+    input.changed_on = ctx.today.to_string();
+    input.note.clear();
+    input.adjuster_turns_each.clear();
+    match field::check(input, ctx, read_errors) {
         Ok(checked) => Some(Trial::from_setup(Some(&checked))),
-        Err(errors) => {
-            reader.errors = errors;
+        Err(e) => {
+            *errors = e;
             None
         }
     }
@@ -143,38 +139,57 @@ pub async fn tune(
         .and_then(|r| figures(&r, page.units()).map_err(|e| format!("{}: {}", e.field, e.message)));
 
     let mut form = FormData::new(query.into_iter().collect());
-    let mut reader = FormReader::new(&form, page.units());
+    let mut errors = FieldErrors::default();
     let mut trial = None;
     let mut recommended = None;
     if form.get("try") == "1"
-        && let Some(t) = read_trial(&mut reader)
+        && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
     {
         match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
             Ok(Ok(f)) => trial = Some((t, f)),
-            Ok(Err(e)) => reader.errors.add("adjuster_turns", e.message),
-            Err(missing) => reader.errors.add("adjuster_turns", missing),
+            Ok(Err(e)) => errors.add("adjuster_turns", e.message),
+            Err(missing) => errors.add("adjuster_turns", missing),
         }
     }
     if form.get("recommend") == "1" {
-        let targets = TuningTargets {
-            lockup_rpm: reader.number("target_lockup"),
-            launch_ratio: reader.opt_number("target_ratio"),
-        };
-        if reader.errors.is_empty() && current.is_ok() {
+        let units = page.units();
+        let lockup = field::number(
+            &form,
+            "target_lockup",
+            limits::ENGINE_SPEED,
+            units,
+            &mut errors,
+        );
+        let ratio = field::number(
+            &form,
+            "target_ratio",
+            limits::LAUNCH_RATIO,
+            units,
+            &mut errors,
+        );
+        if lockup.is_none() && !errors.has("target_lockup") {
+            errors.add("target_lockup", "required");
+        }
+        if let (Some(lockup_rpm), true, true) = (lockup, errors.is_empty(), current.is_ok()) {
+            let targets = TuningTargets {
+                lockup_rpm,
+                launch_ratio: ratio,
+            };
             match facts.recommend(current_trial, targets, page.units()) {
                 Ok(found) => recommended = Some(found),
                 Err(e) if e.field == "targets.launch_ratio" => {
-                    reader.errors.add("target_ratio", e.message)
+                    errors.add("target_ratio", e.message)
                 }
-                Err(e) => reader.errors.add("target_lockup", e.message),
+                Err(e) => errors.add("target_lockup", e.message),
             }
         }
     }
-    let errors = reader.errors;
     if form.get("adjuster_turns").is_empty() {
-        form.set_num("adjuster_turns", Some(current_trial.adjuster_turns), 3);
-        form.set_num("counterweight_g", Some(current_trial.counterweight_g), 1);
-        form.set_num("mu", current_trial.mu, 3);
+        let now = current_trial.as_setup();
+        let prefill = field::to_form(&now, page.units());
+        for name in ["adjuster_turns", "counterweight_g", "mu"] {
+            form.set(name, prefill.get(name));
+        }
     }
     let (recommendation, recommended) = match recommended {
         Some((r, f)) => (Some(r), Some(f)),
@@ -186,6 +201,7 @@ pub async fn tune(
         (Ok(cur), None) => Some(capacity_chart(&page.u, &cur.report, None)),
         _ => None,
     };
+    let today = page.today();
     let page = TunePage {
         page,
         dossier,
@@ -197,7 +213,7 @@ pub async fn tune(
         chart,
         form,
         errors,
-        today: Date::today().to_string(),
+        today,
     };
     Ok(Html(page.render()?))
 }

@@ -7,14 +7,14 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use super::AppState;
 use super::extract::{CurrentUser, PathId, SignedForm};
-use super::layout::{Layout, units_of};
+use super::layout::Layout;
 use crate::db;
 use crate::db::builds::Build;
 use crate::db::cars::Car;
 use crate::db::customers::Customer;
 use crate::error::{AppError, AppResult};
 use crate::records::car::CarInput;
-use crate::records::{FieldErrors, FormData, FormReader};
+use crate::records::{FieldErrors, FormData, field};
 
 #[derive(Template)]
 #[template(path = "cars/show.html")]
@@ -104,7 +104,7 @@ pub async fn edit(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit car").await?;
-    let form = car.data.to_form(page.units());
+    let form = field::to_form(&car.data, page.units());
     Ok(Html(
         FormPage {
             page,
@@ -148,10 +148,9 @@ async fn save(
     let customer = db::customers::by_id(&mut tx, customer_id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let (page, settings) = Layout::load(&mut tx, &user, "customers", "Car").await?;
-    let mut reader = FormReader::new(&form, units_of(&settings));
-    let input = CarInput::from_form(&mut reader);
-    let checked = match input.check(reader.errors) {
+    let (page, _) = Layout::load(&mut tx, &user, "customers", "Car").await?;
+    let (input, errors) = field::read::<CarInput>(&form, page.units());
+    let checked = match field::check(input, &page.ctx, errors) {
         Ok(c) => c,
         Err(errors) => {
             let page = FormPage {

@@ -14,7 +14,7 @@ use crate::db::cars::Car;
 use crate::db::customers::{Customer, CustomerSummary};
 use crate::error::{AppError, AppResult};
 use crate::records::customer::CustomerInput;
-use crate::records::{FieldErrors, FormData, FormReader};
+use crate::records::{FieldErrors, FormData, field};
 
 #[derive(Debug, Default, Deserialize)]
 #[serde(default)]
@@ -137,7 +137,7 @@ pub async fn edit(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit customer").await?;
-    let form = customer.data.to_form();
+    let form = field::to_form(&customer.data, page.units());
     Ok(Html(
         FormPage {
             page,
@@ -168,10 +168,9 @@ async fn save(
     id: Option<i64>,
 ) -> AppResult<Response> {
     let mut tx = state.write(&user).await?;
-    let (page, settings) = Layout::load(&mut tx, &user, "customers", "Customer").await?;
-    let mut reader = FormReader::new(&form, super::layout::units_of(&settings));
-    let input = CustomerInput::from_form(&mut reader);
-    let checked = match input.check(reader.errors) {
+    let (page, _) = Layout::load(&mut tx, &user, "customers", "Customer").await?;
+    let (input, errors) = field::read::<CustomerInput>(&form, page.units());
+    let checked = match field::check(input, &page.ctx, errors) {
         Ok(c) => c,
         Err(errors) => {
             let page = FormPage {

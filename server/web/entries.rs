@@ -10,7 +10,6 @@ use sqlx::{Sqlite, SqliteConnection, Transaction};
 use super::AppState;
 use super::builds::{EntryForm, EntryForms, render_page};
 use super::extract::{CurrentUser, PathId, SignedForm};
-use super::layout::units_of;
 use crate::clutch::units::Units;
 use crate::db;
 use crate::db::builds::Build;
@@ -19,7 +18,7 @@ use crate::records::bench::BenchInput;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
-use crate::records::{Checked, FieldErrors, FormData, FormReader};
+use crate::records::{Checked, Ctx, FieldErrors, FormData, field};
 
 /// Which of the build page's forms was sent.
 #[derive(Clone, Copy)]
@@ -45,7 +44,7 @@ impl Which {
 struct Entry {
     tx: Transaction<'static, Sqlite>,
     build: Build,
-    units: Units,
+    ctx: Ctx,
     user: CurrentUser,
     form: FormData,
 }
@@ -56,11 +55,11 @@ impl Entry {
         let build = db::builds::by_id(&mut tx, build_id)
             .await?
             .ok_or(AppError::NotFound)?;
-        let units = units_of(&db::settings::get(&mut tx).await?);
+        let ctx = db::settings::get(&mut tx).await?.ctx();
         Ok(Self {
             tx,
             build,
-            units,
+            ctx,
             user: signed.user,
             form: signed.form,
         })
@@ -105,10 +104,11 @@ impl Entry {
 /// and what is already recorded on it, and stored.
 trait BuildEntry: Sized + Send + Sync {
     const WHICH: Which;
-    fn read(r: &mut FormReader, build: &Build) -> Self;
+    fn read(form: &FormData, units: Units, build: &Build) -> (Self, FieldErrors);
     fn check_on(
         self,
-        ctx: HeightContext,
+        hc: HeightContext,
+        ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors>;
     fn store<'a>(
@@ -121,11 +121,16 @@ trait BuildEntry: Sized + Send + Sync {
 
 impl BuildEntry for SetupInput {
     const WHICH: Which = Which::Setup;
-    fn read(r: &mut FormReader, _: &Build) -> Self {
-        Self::from_form(r)
+    fn read(form: &FormData, units: Units, _: &Build) -> (Self, FieldErrors) {
+        field::read(form, units)
     }
-    fn check_on(self, _: HeightContext, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        self.check(errors)
+    fn check_on(
+        self,
+        _: HeightContext,
+        ctx: &Ctx,
+        errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors> {
+        field::check(self, ctx, errors)
     }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
@@ -139,12 +144,16 @@ impl BuildEntry for SetupInput {
 
 impl BuildEntry for BenchInput {
     const WHICH: Which = Which::Bench;
-    fn read(r: &mut FormReader, build: &Build) -> Self {
-        Self::from_form(r, build.data.spring_count.clamp(0, 24) as usize)
+    fn read(form: &FormData, units: Units, build: &Build) -> (Self, FieldErrors) {
+        Self::from_form(form, units, build.data.spring_count.clamp(0, 24) as usize)
     }
-    fn check_on(self, _: HeightContext, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        self.check(errors)
-            .map_err(|e| e.renamed(BenchInput::form_field))
+    fn check_on(
+        self,
+        _: HeightContext,
+        ctx: &Ctx,
+        errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors> {
+        self.check(ctx, errors)
     }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
@@ -158,15 +167,16 @@ impl BuildEntry for BenchInput {
 
 impl BuildEntry for HeightInput {
     const WHICH: Which = Which::Height;
-    fn read(r: &mut FormReader, _: &Build) -> Self {
-        Self::from_form(r)
+    fn read(form: &FormData, units: Units, _: &Build) -> (Self, FieldErrors) {
+        field::read(form, units)
     }
     fn check_on(
         self,
-        ctx: HeightContext,
+        hc: HeightContext,
+        ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
-        self.check(ctx, errors)
+        self.check_on(hc, ctx, errors)
     }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
@@ -180,11 +190,16 @@ impl BuildEntry for HeightInput {
 
 impl BuildEntry for PassInput {
     const WHICH: Which = Which::Pass;
-    fn read(r: &mut FormReader, _: &Build) -> Self {
-        Self::from_form(r)
+    fn read(form: &FormData, units: Units, _: &Build) -> (Self, FieldErrors) {
+        field::read(form, units)
     }
-    fn check_on(self, _: HeightContext, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
-        self.check(errors)
+    fn check_on(
+        self,
+        _: HeightContext,
+        ctx: &Ctx,
+        errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors> {
+        field::check(self, ctx, errors)
     }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
@@ -204,14 +219,13 @@ async fn add<E: BuildEntry>(
 ) -> AppResult<Response> {
     let mut e = Entry::begin(&state, build_id, signed).await?;
     let (previous, next) = db::heights::around(&mut e.tx, e.build.id, None).await?;
-    let ctx = HeightContext {
+    let hc = HeightContext {
         shims_in_stack: e.build.data.shim_stack_mm.len(),
         previous,
         next,
     };
-    let mut reader = FormReader::new(&e.form, e.units);
-    let input = E::read(&mut reader, &e.build);
-    let result = match input.check_on(ctx, reader.errors) {
+    let (input, errors) = E::read(&e.form, e.ctx.units, &e.build);
+    let result = match BuildEntry::check_on(input, hc, &e.ctx, errors) {
         Ok(checked) => {
             E::store(&mut e.tx, e.build.id, e.user.id, &checked).await?;
             Ok(())

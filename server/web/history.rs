@@ -9,9 +9,12 @@ use super::AppState;
 use super::extract::{CurrentUser, PathId};
 use super::layout::Layout;
 use super::show::Show;
+use crate::clutch::units::Units;
 use crate::db;
 use crate::db::audit::Entry;
 use crate::error::{AppError, AppResult};
+use crate::records::date::ShopZone;
+use crate::records::field;
 
 /// One line of history in words.
 pub struct Line {
@@ -42,7 +45,10 @@ pub async fn history(
     let owner = db::builds::owner(&mut conn, id).await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "History").await?;
     let entries = db::audit::for_build(&mut conn, id).await?;
-    let lines = entries.iter().map(|e| describe(&page.u, e)).collect();
+    let lines = entries
+        .iter()
+        .map(|e| describe(&page.u, &page.zone, e))
+        .collect();
     let title = format!(
         "{} · {} · {}",
         owner.customer_name,
@@ -76,8 +82,9 @@ fn noun(table: &str) -> &'static str {
     }
 }
 
-/// Puts one audit row into words: who did what, and each value before and after.
-pub fn describe(u: &Show, e: &Entry) -> Line {
+/// Puts one audit row into words: who did what, and each value before and after, with the
+/// labels, units and rounding the rest of the pages use, at the shop's local time.
+pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
     let parse = |s: &Option<String>| -> Map<String, Value> {
         s.as_deref()
             .and_then(|t| serde_json::from_str::<Value>(t).ok())
@@ -99,23 +106,26 @@ pub fn describe(u: &Show, e: &Entry) -> Line {
         if key == "id" || key.ends_with("_id") {
             continue;
         }
+        let show = |v: Option<&Value>| shown(u.units, &e.table_name, key, v);
         let (old, new) = (before.get(key), after.get(key));
         match e.action.as_str() {
             "update" if old == new => {}
-            "update" => details.push(format!(
-                "{}: {} → {}",
-                label(key),
-                value(u, key, old),
-                value(u, key, new)
-            )),
+            "update" => {
+                let (label, old) = show(old);
+                details.push(format!("{label}: {old} → {}", show(new).1));
+            }
             "create" => {
-                let flag_off =
-                    FLAGS.contains(&key.as_str()) && new.and_then(Value::as_i64) == Some(0);
-                if new.is_some_and(|v| !v.is_null() && v != "") && !flag_off {
-                    details.push(format!("{}: {}", label(key), value(u, key, new)));
+                let (label, value) = show(new);
+                let flag_off = value == "no" && new.is_some_and(|v| v == 0 || v == false);
+                let empty = new.is_none_or(|v| v.is_null() || v == "");
+                if !empty && !flag_off {
+                    details.push(format!("{label}: {value}"));
                 }
             }
-            _ => details.push(format!("{}: {}", label(key), value(u, key, old))),
+            _ => {
+                let (label, value) = show(old);
+                details.push(format!("{label}: {value}"));
+            }
         }
     }
     let what =
@@ -125,74 +135,139 @@ pub fn describe(u: &Show, e: &Entry) -> Line {
             format!("{verb} {} (#{})", noun(&e.table_name), e.record_id)
         };
     Line {
-        at: e.at.replace('T', " ").trim_end_matches('Z').to_string(),
+        at: zone.local_stamp(&e.at),
         who: e.username.clone(),
         what,
         details,
     }
 }
 
-/// Yes/no columns (stored as 0 or 1).
-const FLAGS: [&str; 3] = ["new_disc", "disabled", "password_changed"];
+/// Yes/no columns of tables that are not records (staff accounts), stored as 0 or 1.
+const ACCOUNT_FLAGS: [&str; 2] = ["disabled", "password_changed"];
 
-fn label(key: &str) -> String {
-    crate::records::form_key(key).replace('_', " ")
-}
-
-/// A stored value in the shop's units where the field name carries a storage unit.
-fn value(u: &Show, key: &str, v: Option<&Value>) -> String {
-    let Some(v) = v else { return "–".into() };
-    if FLAGS.contains(&key) {
-        return if v.as_i64() == Some(1) {
-            "yes".into()
-        } else {
-            "no".into()
-        };
+/// A stored value with its label: a declared record field as the pages show it, anything else
+/// (ids, stamps, staff flags) in plain words.
+fn shown(units: Units, table: &str, column: &str, v: Option<&Value>) -> (String, String) {
+    let Some(v) = v else {
+        return (column.replace('_', " "), "–".into());
+    };
+    if let Some((label, text)) = field::stored_view(table, column, v, units) {
+        return (label.to_string(), text);
     }
-    match (v.as_f64(), key) {
-        (Some(x), k) if k.ends_with("_n_per_mm") => u.rate(x),
-        (Some(x), k) if k.ends_with("_mm") => u.len(x),
-        (Some(x), k) if k.ends_with("_nm") => {
-            format!("{:.0} {}", u.units.nm_to_torque(x), u.torque_unit())
+    let text = match v {
+        Value::Null => "–".into(),
+        Value::Number(n) if ACCOUNT_FLAGS.contains(&column) => {
+            if n.as_i64() == Some(1) { "yes" } else { "no" }.into()
         }
-        (Some(x), k) if k.ends_with("_n") => format!("{} {}", u.force_num(x), u.force_unit()),
-        (Some(x), k) if k.ends_with("_g") => u.grams(x),
-        (Some(_), _) => v.to_string(),
-        (None, _) => match v {
-            Value::Null => "–".into(),
-            Value::String(s) if s.is_empty() => "(empty)".into(),
-            Value::String(s) => s.clone(),
-            other => other.to_string(),
-        },
-    }
+        Value::Bool(b) => if *b { "yes" } else { "no" }.into(),
+        Value::String(s) if s.is_empty() => "(empty)".into(),
+        Value::String(s) => s.clone(),
+        other => other.to_string(),
+    };
+    (column.replace('_', " "), text)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::clutch::units::Units;
 
-    #[test]
-    fn a_changed_setup_reads_as_before_and_after_in_the_shop_units() {
-        let e = Entry {
+    fn entry(table: &str, action: &str, before: Option<&str>, after: Option<&str>) -> Entry {
+        Entry {
             id: 1,
             at: "2026-11-02T10:00:00Z".into(),
             username: "sam".into(),
-            action: "update".into(),
-            table_name: "cover_heights".into(),
+            action: action.into(),
+            table_name: table.into(),
             record_id: 7,
-            before: Some(r#"{"id":7,"height_mm":48.387,"passes":40,"note":""}"#.into()),
-            after: Some(r#"{"id":7,"height_mm":48.59,"passes":40,"note":"recheck"}"#.into()),
-        };
-        let line = describe(&Show::new(Units::Imperial), &e);
+            before: before.map(str::to_string),
+            after: after.map(str::to_string),
+        }
+    }
+
+    fn utc() -> ShopZone {
+        ShopZone::parse("UTC").unwrap()
+    }
+
+    #[test]
+    fn a_changed_measurement_reads_as_before_and_after_in_the_shop_units() {
+        let e = entry(
+            "cover_heights",
+            "update",
+            Some(r#"{"id":7,"height_mm":48.387,"passes":40,"note":""}"#),
+            Some(r#"{"id":7,"height_mm":48.59,"passes":40,"note":"recheck"}"#),
+        );
+        let line = describe(&Show::new(Units::Imperial), &utc(), &e);
         assert_eq!(line.what, "changed a cover-height measurement (#7)");
         assert_eq!(
             line.details,
             vec![
-                "height: 1.905 in → 1.913 in".to_string(),
-                "note: (empty) → recheck".to_string()
+                "Cover height: 1.905 in → 1.913 in".to_string(),
+                "Note: (empty) → recheck".to_string()
             ]
         );
-        assert_eq!(line.at, "2026-11-02 10:00:00");
+        assert_eq!(line.at, "2026-11-02 10:00");
+    }
+
+    #[test]
+    fn history_shows_lists_times_and_speeds_as_the_pages_do() {
+        // 0.254 mm = 0.010 in exactly (1 in = 25.4 mm).
+        let build = entry(
+            "builds",
+            "create",
+            None,
+            Some(
+                r#"{"id":7,"shim_stack_mm":"[0.254,0.254,0.508]","facing_material":"sintered_iron"}"#,
+            ),
+        );
+        let line = describe(&Show::new(Units::Imperial), &utc(), &build);
+        assert!(
+            line.details
+                .contains(&"Shim stack: 0.010 in, 0.010 in, 0.020 in".to_string()),
+            "{:?}",
+            line.details
+        );
+        assert!(
+            line.details
+                .contains(&"Facing material: Sintered iron".to_string()),
+            "{:?}",
+            line.details
+        );
+        let setup = entry(
+            "setup_changes",
+            "update",
+            Some(r#"{"adjuster_turns_each":"[]","adjuster_turns":1.5}"#),
+            Some(r#"{"adjuster_turns_each":"[1.5,1.5]","adjuster_turns":1.5}"#),
+        );
+        let line = describe(&Show::new(Units::Imperial), &utc(), &setup);
+        assert_eq!(
+            line.details,
+            vec!["Turns of each adjuster: none → 1.500 turns, 1.500 turns".to_string()]
+        );
+        let pass = entry(
+            "passes",
+            "create",
+            None,
+            Some(r#"{"et_s":10.88,"launch_rpm":4600.0,"run_on":"2026-10-04"}"#),
+        );
+        let line = describe(&Show::new(Units::Metric), &utc(), &pass);
+        assert_eq!(
+            line.details,
+            vec![
+                "ET: 10.880 s".to_string(),
+                "Launch speed: 4600 rpm".to_string(),
+                "Date: 2026-10-04".to_string()
+            ]
+        );
+    }
+
+    #[test]
+    fn stored_times_are_read_in_the_shop_zone() {
+        let e = entry("passes", "create", None, Some("{}"));
+        let chicago = ShopZone::parse("America/Chicago").unwrap();
+        // IANA tz database: America/Chicago is UTC-6 on 2 November 2026 (CST).
+        assert_eq!(
+            describe(&Show::new(Units::Imperial), &chicago, &e).at,
+            "2026-11-02 04:00"
+        );
     }
 }

@@ -8,6 +8,8 @@ use super::show::Show;
 use crate::clutch::units::Units;
 use crate::db;
 use crate::error::AppResult;
+use crate::records::Ctx;
+use crate::records::date::ShopZone;
 use crate::records::settings::SettingsInput;
 
 pub struct Layout {
@@ -19,6 +21,10 @@ pub struct Layout {
     /// The navigation section this page belongs to.
     pub section: &'static str,
     pub u: Show,
+    /// The shop's units and today, for checking what is typed on this page.
+    pub ctx: Ctx,
+    /// The shop's time zone, for stored times.
+    pub zone: ShopZone,
 }
 
 impl Layout {
@@ -37,7 +43,9 @@ impl Layout {
             csrf: user.csrf.clone(),
             shop_name: settings.name.clone(),
             section,
-            u: Show::new(units_of(&settings)),
+            u: Show::new(settings.units()),
+            ctx: settings.ctx(),
+            zone: settings.zone(),
         };
         Ok((layout, settings))
     }
@@ -45,9 +53,9 @@ impl Layout {
     pub fn units(&self) -> Units {
         self.u.units
     }
-}
 
-/// The shop's display units.
-pub fn units_of(settings: &SettingsInput) -> Units {
-    Units::from_key(&settings.units).unwrap_or_default()
+    /// The shop's today, as a form prefills it.
+    pub fn today(&self) -> String {
+        self.ctx.today.to_string()
+    }
 }

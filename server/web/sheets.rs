@@ -15,13 +15,14 @@ use super::show::Show;
 use super::wear;
 use crate::auth;
 use crate::clutch::friction::{FacingMaterial, HeatTrend};
+use crate::clutch::quantity::limits;
+use crate::clutch::units::Units;
 use crate::clutch::wear::WearReport;
 use crate::db;
 use crate::db::sheets::{Link, LinkState, Sheet};
 use crate::error::{AppError, AppResult};
 use crate::model::TuningTargets;
-use crate::records::date::Date;
-use crate::records::{Bound, FieldErrors, FormReader, Rules};
+use crate::records::{FieldErrors, field};
 use crate::sheet::{self, SheetFigures, SheetInputs};
 
 /// Days a customer's link lasts unless the shop says otherwise.
@@ -217,20 +218,22 @@ pub async fn create(
         .await?
         .ok_or(AppError::NotFound)?;
     let settings = db::settings::get(&mut tx).await?;
-    let mut r = FormReader::new(&form, crate::clutch::units::Units::Metric);
-    let lockup = r.opt_number("target_lockup");
-    let ratio = r.opt_number("target_ratio");
-    let mut errors = r.errors;
-    let mut rules = Rules {
-        errors: &mut errors,
-    };
-    rules.opt_range(
+    let units = settings.units();
+    let mut errors = FieldErrors::default();
+    let lockup = field::number(
+        &form,
         "target_lockup",
-        lockup,
-        Bound::Incl(500.0),
-        Bound::Incl(15_000.0),
+        limits::ENGINE_SPEED,
+        units,
+        &mut errors,
     );
-    rules.opt_range("target_ratio", ratio, Bound::Incl(0.1), Bound::Incl(5.0));
+    let ratio = field::number(
+        &form,
+        "target_ratio",
+        limits::LAUNCH_RATIO,
+        units,
+        &mut errors,
+    );
     if ratio.is_some() && lockup.is_none() {
         errors.add(
             "target_lockup",
@@ -255,7 +258,7 @@ pub async fn create(
         &d,
         &settings,
         &user.username,
-        &Date::today().to_string(),
+        &settings.ctx().today.to_string(),
         targets,
     );
     let id = db::sheets::insert(&mut tx, build_id, user.id, &inputs).await?;
@@ -304,15 +307,15 @@ pub async fn create_link(
     headers: HeaderMap,
     SignedForm { user, form }: SignedForm,
 ) -> AppResult<Response> {
-    let mut r = FormReader::new(&form, crate::clutch::units::Units::Metric);
-    let days = r
-        .opt_number("valid_days")
-        .unwrap_or(DEFAULT_LINK_DAYS as f64);
-    let mut errors = r.errors;
-    Rules {
-        errors: &mut errors,
-    }
-    .range("valid_days", days, Bound::Incl(1.0), Bound::Incl(365.0));
+    let mut errors = FieldErrors::default();
+    let days = field::number(
+        &form,
+        "valid_days",
+        limits::LINK_DAYS,
+        Units::Metric,
+        &mut errors,
+    )
+    .unwrap_or(DEFAULT_LINK_DAYS as f64);
     if !errors.is_empty() {
         let html = staff_page(&state, &user, sheet_id, None, errors).await?;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());

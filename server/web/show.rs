@@ -1,8 +1,8 @@
 //! Numbers as the shop reads them: converted to its units, rounded the shop's way, unit attached.
 //! Heights to 0.001 in or 0.01 mm; forces, torque and speed whole; counterweights to 0.1 g.
 
+use crate::clutch::quantity::Kind;
 use crate::clutch::units::Units;
-use crate::records::length_decimals;
 
 /// A number a template hands over, by value or by reference (askama passes arguments by
 /// reference, and loop variables add another level).
@@ -41,11 +41,6 @@ impl Show {
         Self { units }
     }
 
-    /// Decimals for lengths in these units.
-    pub fn length_decimals(&self) -> usize {
-        length_decimals(self.units)
-    }
-
     pub fn length_unit(&self) -> &'static str {
         self.units.length_label()
     }
@@ -64,14 +59,12 @@ impl Show {
 
     /// A length with its unit ("1.905 in").
     pub fn len(&self, mm: impl Num) -> String {
-        let mm = mm.value();
-        format!("{} {}", self.len_num(mm), self.length_unit())
+        Kind::Length.show(self.units, mm.value())
     }
 
     /// A length without its unit, for table cells under a titled column.
     pub fn len_num(&self, mm: impl Num) -> String {
-        let mm = mm.value();
-        format!("{:.*}", self.length_decimals(), self.units.mm_to_length(mm))
+        Kind::Length.number(self.units, mm.value())
     }
 
     pub fn opt_len(&self, mm: &Option<f64>) -> String {
@@ -79,21 +72,15 @@ impl Show {
     }
 
     pub fn force_num(&self, n: impl Num) -> String {
-        let n = n.value();
-        format!("{:.0}", self.units.n_to_force(n))
+        Kind::Force.number(self.units, n.value())
     }
 
     pub fn rate(&self, n_per_mm: impl Num) -> String {
-        let n_per_mm = n_per_mm.value();
-        format!(
-            "{:.1} {}",
-            self.units.n_per_mm_to_rate(n_per_mm),
-            self.rate_unit()
-        )
+        Kind::Rate.show(self.units, n_per_mm.value())
     }
 
     pub fn rate_num(&self, n_per_mm: impl Num) -> String {
-        format!("{:.1}", self.units.n_per_mm_to_rate(n_per_mm.value()))
+        Kind::Rate.number(self.units, n_per_mm.value())
     }
 
     pub fn opt_rate(&self, n_per_mm: &Option<f64>) -> String {
@@ -101,8 +88,7 @@ impl Show {
     }
 
     pub fn torque(&self, nm: impl Num) -> String {
-        let nm = nm.value();
-        format!("{:.0} {}", self.units.nm_to_torque(nm), self.torque_unit())
+        Kind::Torque.show(self.units, nm.value())
     }
 
     pub fn opt_torque(&self, nm: &Option<f64>) -> String {
@@ -110,21 +96,16 @@ impl Show {
     }
 
     pub fn opt_weight(&self, kg: &Option<f64>) -> String {
-        kg.map_or_else(
-            || DASH.into(),
-            |v| format!("{:.0} {}", self.units.kg_to_weight(v), self.weight_unit()),
-        )
+        kg.map_or_else(|| DASH.into(), |v| Kind::VehicleMass.show(self.units, v))
     }
 
     /// Grams to 0.1 g.
     pub fn grams(&self, g: impl Num) -> String {
-        let g = g.value();
-        format!("{g:.1} g")
+        Kind::Grams.show(self.units, g.value())
     }
 
     pub fn rpm(&self, rpm: impl Num) -> String {
-        let rpm = rpm.value();
-        format!("{rpm:.0} rpm")
+        Kind::Speed.show(self.units, rpm.value())
     }
 
     pub fn opt_rpm(&self, rpm: &Option<f64>) -> String {
@@ -136,7 +117,7 @@ impl Show {
     }
 
     pub fn opt_seconds(&self, s: &Option<f64>) -> String {
-        s.map_or_else(|| DASH.into(), |v| format!("{v:.3} s"))
+        s.map_or_else(|| DASH.into(), |v| Kind::Seconds.show(self.units, v))
     }
 
     pub fn pct(&self, pct: impl Num) -> String {

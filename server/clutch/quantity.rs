@@ -1,0 +1,405 @@
+//! What kind of quantity a number is, how each unit system writes it, and the one table of
+//! limits every form, record check and calculation request uses.
+//!
+//! Inside the program a quantity is always in its internal unit (mm, N, N/mm, N·m, kg, g, rpm,
+//! s, %); [`Kind`] converts to and from the shop's display units at the edges, and [`Limit`]
+//! says what range is accepted and words a refusal in the units the person typed in.
+
+use super::InputError;
+use super::units::Units;
+
+/// The physical kind of a number, which fixes its internal unit and how it is shown.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kind {
+    /// Length, mm (in / mm).
+    Length,
+    /// Metric thread pitch, mm in both systems (a metric thread is named by its pitch).
+    Pitch,
+    /// Threads per inch, in both systems.
+    ThreadsPerInch,
+    /// Force, N (lbf / N).
+    Force,
+    /// Force per gram of counterweight at 1000 rpm, N/g (lbf/g / N/g).
+    ForcePerGram,
+    /// Spring rate, N/mm (lbf/in / N/mm).
+    Rate,
+    /// Torque, N·m (lbf·ft / N·m).
+    Torque,
+    /// Vehicle mass, kg (lb / kg).
+    VehicleMass,
+    /// Small masses (counterweights, levers), grams in both systems.
+    Grams,
+    /// Engine speed, rev/min.
+    Speed,
+    /// Adjuster turns.
+    Turns,
+    /// A ratio (gears, lever arms, a multiple of a torque).
+    Ratio,
+    /// Friction coefficient.
+    Mu,
+    /// Percent.
+    Percent,
+    /// Time, s.
+    Seconds,
+    /// A whole count.
+    Count,
+}
+
+impl Kind {
+    /// An internal value as the shop reads it in `units`.
+    pub fn to_shown(self, units: Units, v: f64) -> f64 {
+        match self {
+            Kind::Length => units.mm_to_length(v),
+            Kind::Force | Kind::ForcePerGram => units.n_to_force(v),
+            Kind::Rate => units.n_per_mm_to_rate(v),
+            Kind::Torque => units.nm_to_torque(v),
+            Kind::VehicleMass => units.kg_to_weight(v),
+            _ => v,
+        }
+    }
+
+    /// A value typed in `units` → internal unit.
+    pub fn from_shown(self, units: Units, v: f64) -> f64 {
+        match self {
+            Kind::Length => units.length_to_mm(v),
+            Kind::Force | Kind::ForcePerGram => units.force_to_n(v),
+            Kind::Rate => units.rate_to_n_per_mm(v),
+            Kind::Torque => units.torque_to_nm(v),
+            Kind::VehicleMass => units.weight_to_kg(v),
+            _ => v,
+        }
+    }
+
+    /// The unit symbol in `units` ("in", "lbf·ft", "g"); empty for plain numbers.
+    pub fn symbol(self, units: Units) -> &'static str {
+        match self {
+            Kind::Length => units.length_label(),
+            Kind::Pitch => "mm",
+            Kind::ThreadsPerInch => "TPI",
+            Kind::Force => units.force_label(),
+            Kind::ForcePerGram => match units {
+                Units::Imperial => "lbf/g",
+                Units::Metric => "N/g",
+            },
+            Kind::Rate => units.rate_label(),
+            Kind::Torque => units.torque_label(),
+            Kind::VehicleMass => units.weight_label(),
+            Kind::Grams => "g",
+            Kind::Speed => "rpm",
+            Kind::Turns => "turns",
+            Kind::Percent => "%",
+            Kind::Seconds => "s",
+            Kind::Ratio | Kind::Mu | Kind::Count => "",
+        }
+    }
+
+    /// Decimals the shop reads this quantity to: heights to 0.001 in or 0.01 mm, forces,
+    /// torques, masses and speeds whole, counterweights to 0.1 g.
+    pub fn decimals(self, units: Units) -> usize {
+        match self {
+            Kind::Length => match units {
+                Units::Imperial => 3,
+                Units::Metric => 2,
+            },
+            Kind::Force | Kind::Torque | Kind::VehicleMass | Kind::Speed | Kind::Count => 0,
+            Kind::Grams | Kind::Rate | Kind::Percent => 1,
+            Kind::Ratio | Kind::ThreadsPerInch => 2,
+            Kind::Pitch | Kind::Turns | Kind::Mu | Kind::Seconds => 3,
+            Kind::ForcePerGram => 4,
+        }
+    }
+
+    /// Decimals a form is prefilled with: enough that saving an untouched form keeps the value
+    /// to the precision it was typed with.
+    pub fn entry_decimals(self, units: Units) -> usize {
+        match self {
+            Kind::Ratio => 3,
+            other => other.decimals(units),
+        }
+    }
+
+    /// A value in `units`, rounded the shop's way, without its unit ("1.905").
+    pub fn number(self, units: Units, v: f64) -> String {
+        format!("{:.*}", self.decimals(units), self.to_shown(units, v))
+    }
+
+    /// A value in `units`, rounded the shop's way, with its unit ("1.905 in", "455 lbf·ft").
+    pub fn show(self, units: Units, v: f64) -> String {
+        let number = self.number(units, v);
+        match self.symbol(units) {
+            "" => number,
+            unit => format!("{number} {unit}"),
+        }
+    }
+}
+
+/// `12345.6` → `12,345.6`: thousands grouped with commas, the way the shop writes them.
+pub fn group_thousands(number: &str) -> String {
+    let (sign, rest) = match number.strip_prefix('-') {
+        Some(r) => ("-", r),
+        None => ("", number),
+    };
+    let (whole, frac) = rest
+        .split_once('.')
+        .map_or((rest, None), |(w, f)| (w, Some(f)));
+    let mut grouped = String::with_capacity(whole.len() + whole.len() / 3);
+    for (i, c) in whole.chars().enumerate() {
+        if i > 0 && (whole.len() - i) % 3 == 0 {
+            grouped.push(',');
+        }
+        grouped.push(c);
+    }
+    match frac {
+        Some(f) => format!("{sign}{grouped}.{f}"),
+        None => format!("{sign}{grouped}"),
+    }
+}
+
+/// One end of an accepted range: inclusive or exclusive.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Bound {
+    Incl(f64),
+    Excl(f64),
+}
+
+use Bound::{Excl, Incl};
+
+/// The accepted range of one kind of value, in internal units.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Limit {
+    pub kind: Kind,
+    pub min: Bound,
+    pub max: Bound,
+}
+
+impl Limit {
+    pub const fn new(kind: Kind, min: Bound, max: Bound) -> Self {
+        Self { kind, min, max }
+    }
+
+    /// Whether a finite `v` (internal units) lies inside the range.
+    pub fn admits(&self, v: f64) -> bool {
+        let above_min = match self.min {
+            Incl(b) => v >= b,
+            Excl(b) => v > b,
+        };
+        let below_max = match self.max {
+            Incl(b) => v <= b,
+            Excl(b) => v < b,
+        };
+        v.is_finite() && above_min && below_max
+    }
+
+    /// The refusal in `units`: "must be between 441 and 11,023 lb". A converted bound is
+    /// rounded inwards at the shop's precision (lower bounds up, upper bounds down), so the
+    /// message never offers a value the check refuses.
+    pub fn message(&self, units: Units) -> String {
+        let d = self.kind.decimals(units).max(match self.kind {
+            Kind::Length | Kind::Rate | Kind::ForcePerGram => 1,
+            _ => 0,
+        });
+        let scale = 10f64.powi(d as i32);
+        let show = |b: f64, up: bool| {
+            let v = self.kind.to_shown(units, b) * scale;
+            // Rounded inwards; a bound that is already a whole step stays as it is.
+            let near = v.round();
+            let v = if (v - near).abs() < 1e-6 {
+                near
+            } else if up {
+                v.ceil()
+            } else {
+                v.floor()
+            };
+            let text = group_thousands(&format!("{:.*}", d, v / scale));
+            if text.contains('.') {
+                text.trim_end_matches('0').trim_end_matches('.').to_string()
+            } else {
+                text
+            }
+        };
+        let unit = match self.kind.symbol(units) {
+            "" => String::new(),
+            u => format!(" {u}"),
+        };
+        let (lo, hi) = match (self.min, self.max) {
+            (Incl(lo) | Excl(lo), Incl(hi) | Excl(hi)) => (lo, hi),
+        };
+        let (lo, hi) = (show(lo, true), show(hi, false));
+        match (self.min, self.max) {
+            (Incl(_), Incl(_)) => format!("must be between {lo} and {hi}{unit}"),
+            (Excl(_), Incl(_)) => format!("must be above {lo} and at most {hi}{unit}"),
+            (Incl(_), Excl(_)) => format!("must be at least {lo} and below {hi}{unit}"),
+            (Excl(_), Excl(_)) => format!("must be above {lo} and below {hi}{unit}"),
+        }
+    }
+
+    /// `v` (internal units) if it is inside the range, else an error naming `field` with the
+    /// message in `units` (for the calculation API, whose numbers are in the request's units).
+    pub fn check(&self, field: &str, v: f64, units: Units) -> Result<f64, InputError> {
+        if self.admits(v) {
+            Ok(v)
+        } else {
+            Err(InputError::new(field, self.message(units)))
+        }
+    }
+
+    /// Like [`Limit::check`] for a value given in `units` (converted first).
+    pub fn check_shown(&self, field: &str, shown: f64, units: Units) -> Result<f64, InputError> {
+        self.check(field, self.kind.from_shown(units, shown), units)
+    }
+}
+
+/// The one table of limits: forms, the record API and the calculation API all check against
+/// these. Ranges are deliberately wide (physically possible, not typical) so that they catch
+/// typing mistakes and unit mix-ups without second-guessing an unusual build.
+pub mod limits {
+    use super::Bound::{Excl, Incl};
+    use super::Kind::*;
+    use super::Limit;
+
+    pub const DISC_COUNT: Limit = Limit::new(Count, Incl(1.0), Incl(3.0));
+    pub const FACING_DIAMETER: Limit = Limit::new(Length, Excl(0.0), Incl(400.0));
+    pub const DISC_THICKNESS: Limit = Limit::new(Length, Excl(0.0), Incl(30.0));
+    pub const SPRING_COUNT: Limit = Limit::new(Count, Incl(1.0), Incl(24.0));
+    pub const SPRING_RATE: Limit = Limit::new(Rate, Excl(0.0), Incl(2000.0));
+    pub const ADJUSTER_TPI: Limit = Limit::new(ThreadsPerInch, Incl(4.0), Incl(80.0));
+    pub const ADJUSTER_PITCH: Limit = Limit::new(Pitch, Incl(0.2), Incl(6.0));
+    /// Adjuster travel per turn when given as a length (the calculation API).
+    pub const ADJUSTER_TRAVEL: Limit = Limit::new(Length, Incl(0.0), Incl(10.0));
+    pub const ADJUSTER_TURNS: Limit = Limit::new(Turns, Incl(0.0), Incl(20.0));
+    pub const ADJUSTER_COUNT: usize = 24;
+    pub const BASE_COMPRESSION: Limit = Limit::new(Length, Incl(0.0), Incl(50.0));
+    pub const COVER_HEIGHT: Limit = Limit::new(Length, Excl(0.0), Incl(200.0));
+    pub const LEVER_COUNT: Limit = Limit::new(Count, Incl(0.0), Incl(24.0));
+    pub const LEVER_MASS: Limit = Limit::new(Grams, Incl(0.0), Incl(2000.0));
+    pub const COUNTERWEIGHT: Limit = Limit::new(Grams, Incl(0.0), Incl(1000.0));
+    pub const LEVER_CG_RADIUS: Limit = Limit::new(Length, Excl(0.0), Incl(300.0));
+    pub const LEVER_ARM_RATIO: Limit = Limit::new(Ratio, Excl(0.0), Incl(20.0));
+    pub const LEVER_GAIN: Limit = Limit::new(ForcePerGram, Excl(0.0), Incl(100.0));
+    pub const SHIM: Limit = Limit::new(Length, Excl(0.0), Incl(5.0));
+    pub const SHIM_COUNT: usize = 20;
+    pub const SHIMMING_LIMIT: Limit = Limit::new(Length, Excl(0.0), Incl(5.0));
+    pub const MU: Limit = Limit::new(Mu, Incl(0.05), Incl(0.8));
+    pub const VEHICLE_MASS: Limit = Limit::new(VehicleMass, Incl(200.0), Incl(5000.0));
+    pub const RATED_TORQUE: Limit = Limit::new(Torque, Excl(0.0), Incl(20_000.0));
+    pub const FIRST_GEAR: Limit = Limit::new(Ratio, Incl(0.5), Incl(10.0));
+    pub const FINAL_DRIVE: Limit = Limit::new(Ratio, Incl(1.0), Incl(10.0));
+    pub const TIRE_DIAMETER: Limit = Limit::new(Length, Incl(300.0), Incl(1500.0));
+    pub const ENGINE_SPEED: Limit = Limit::new(Speed, Incl(500.0), Incl(15_000.0));
+    pub const CURVE_TORQUE: Limit = Limit::new(Torque, Excl(0.0), Incl(100_000.0));
+    pub const CURVE_POINTS: usize = 500;
+    pub const SIXTY_FT: Limit = Limit::new(Seconds, Incl(0.5), Incl(10.0));
+    pub const ET: Limit = Limit::new(Seconds, Incl(1.0), Incl(60.0));
+    pub const PASSES: Limit = Limit::new(Count, Incl(0.0), Incl(100_000.0));
+    pub const SPRING_FREE_LENGTH: Limit = Limit::new(Length, Excl(0.0), Incl(200.0));
+    pub const SPRING_COMPRESSION: Limit = Limit::new(Length, Excl(0.0), Incl(100.0));
+    pub const SPRING_FORCE: Limit = Limit::new(Force, Excl(0.0), Incl(50_000.0));
+    pub const SPRING_SPREAD: Limit = Limit::new(Percent, Excl(0.0), Incl(50.0));
+    pub const SPRING_SAG: Limit = Limit::new(Percent, Excl(0.0), Incl(50.0));
+    pub const OVERCLAMP_FACTOR: Limit = Limit::new(Ratio, Incl(1.0), Incl(5.0));
+    pub const DUE_WITHIN_PASSES: Limit = Limit::new(Count, Incl(0.0), Incl(1000.0));
+    pub const LAUNCH_RATIO: Limit = Limit::new(Ratio, Excl(0.0), Incl(5.0));
+    /// Days a customer link stays valid.
+    pub const LINK_DAYS: Limit = Limit::new(Count, Incl(1.0), Incl(365.0));
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_refusal_quotes_the_range_in_the_shop_units() {
+        // 200 kg = 440.92 lb and 5000 kg = 11 023.1 lb (1 lb = 0.45359237 kg exactly, NIST
+        // SP 811 App. B.8); the bounds are rounded inwards.
+        assert_eq!(
+            limits::VEHICLE_MASS.message(Units::Imperial),
+            "must be between 441 and 11,023 lb"
+        );
+        assert_eq!(
+            limits::VEHICLE_MASS.message(Units::Metric),
+            "must be between 200 and 5,000 kg"
+        );
+        // 5 mm = 0.19685 in: the message must not offer 0.197 in, which is refused.
+        assert_eq!(
+            limits::SHIMMING_LIMIT.message(Units::Imperial),
+            "must be above 0 and at most 0.196 in"
+        );
+        assert!(!limits::SHIMMING_LIMIT.admits(Kind::Length.from_shown(Units::Imperial, 0.197)));
+        assert!(limits::SHIMMING_LIMIT.admits(Kind::Length.from_shown(Units::Imperial, 0.196)));
+        assert_eq!(
+            limits::DISC_COUNT.message(Units::Imperial),
+            "must be between 1 and 3"
+        );
+    }
+
+    #[test]
+    fn every_limit_admits_what_its_message_offers() {
+        use limits::*;
+        let all = [
+            DISC_COUNT,
+            FACING_DIAMETER,
+            DISC_THICKNESS,
+            SPRING_COUNT,
+            SPRING_RATE,
+            ADJUSTER_TPI,
+            ADJUSTER_PITCH,
+            ADJUSTER_TURNS,
+            BASE_COMPRESSION,
+            COVER_HEIGHT,
+            LEVER_COUNT,
+            LEVER_MASS,
+            COUNTERWEIGHT,
+            LEVER_CG_RADIUS,
+            LEVER_ARM_RATIO,
+            LEVER_GAIN,
+            SHIM,
+            SHIMMING_LIMIT,
+            MU,
+            VEHICLE_MASS,
+            RATED_TORQUE,
+            FIRST_GEAR,
+            FINAL_DRIVE,
+            TIRE_DIAMETER,
+            ENGINE_SPEED,
+            SIXTY_FT,
+            ET,
+            PASSES,
+            SPRING_FREE_LENGTH,
+            SPRING_COMPRESSION,
+            SPRING_FORCE,
+            OVERCLAMP_FACTOR,
+            DUE_WITHIN_PASSES,
+        ];
+        for limit in all {
+            for units in [Units::Imperial, Units::Metric] {
+                let message = limit.message(units);
+                let numbers: Vec<f64> = message
+                    .split(' ')
+                    .filter_map(|w| w.replace(',', "").parse::<f64>().ok())
+                    .collect();
+                let (lo, hi) = (numbers[0], numbers[1]);
+                if matches!(limit.min, Bound::Incl(_)) {
+                    assert!(limit.admits(limit.kind.from_shown(units, lo)), "{message}");
+                }
+                if matches!(limit.max, Bound::Incl(_)) {
+                    assert!(limit.admits(limit.kind.from_shown(units, hi)), "{message}");
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn thousands_are_grouped() {
+        assert_eq!(group_thousands("11023"), "11,023");
+        assert_eq!(group_thousands("-1234567.25"), "-1,234,567.25");
+        assert_eq!(group_thousands("999"), "999");
+    }
+
+    #[test]
+    fn a_value_is_shown_with_its_unit_at_the_shop_precision() {
+        assert_eq!(Kind::Length.show(Units::Imperial, 48.387), "1.905 in");
+        assert_eq!(Kind::Length.show(Units::Metric, 48.387), "48.39 mm");
+        assert_eq!(Kind::Grams.show(Units::Imperial, 26.0), "26.0 g");
+        assert_eq!(Kind::Speed.show(Units::Metric, 4600.0), "4600 rpm");
+    }
+}

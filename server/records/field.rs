@@ -1,0 +1,563 @@
+//! Every record field declared once: its column (also its JSON name), its form input, its
+//! label, what kind of value it holds and the limit it must meet. Reading a form, prefilling
+//! one, the range checks and their messages, the SQL column lists and the History view are all
+//! worked out from these declarations, so no unit or name is ever guessed from spelling.
+
+use serde_json::Value as Json;
+
+use super::date::Date;
+use super::{FieldErrors, FormData};
+use crate::clutch::quantity::{Kind, Limit};
+use crate::clutch::units::Units;
+
+/// What a check needs to know beyond the record: the units the person reads (so messages quote
+/// limits in them) and the shop's today (so a date cannot lie in the future).
+#[derive(Debug, Clone, Copy)]
+pub struct Ctx {
+    pub units: Units,
+    pub today: Date,
+}
+
+/// One stored field of record `R`.
+pub struct Field<R: 'static> {
+    /// Column and JSON name, in storage units (`facing_od_mm`).
+    pub column: &'static str,
+    /// The form input's name (`facing_od`), in the shop's units.
+    pub form: &'static str,
+    /// What people call it ("Facing outer diameter").
+    pub label: &'static str,
+    pub value: Value<R>,
+}
+
+/// The kind of value a field holds, how to reach it on the record, and its rules.
+pub enum Value<R: 'static> {
+    Text {
+        max_chars: usize,
+        required: bool,
+        get: fn(&R) -> &str,
+        set: fn(&mut R, String),
+    },
+    /// A measured number; `None` is an empty input.
+    Number {
+        limit: Limit,
+        required: bool,
+        get: fn(&R) -> Option<f64>,
+        set: fn(&mut R, Option<f64>),
+    },
+    /// A whole number; an empty input takes `default`, or is required when there is none.
+    Whole {
+        limit: Limit,
+        default: Option<i64>,
+        get: fn(&R) -> i64,
+        set: fn(&mut R, i64),
+    },
+    /// A list of numbers typed in one input, separated by commas or spaces; `item` names one
+    /// entry in messages ("shim 2: ...").
+    List {
+        limit: Limit,
+        max_items: usize,
+        item: &'static str,
+        get: fn(&R) -> &[f64],
+        set: fn(&mut R, Vec<f64>),
+    },
+    /// `rpm, torque` lines (a pasted dyno table).
+    Curve {
+        get: fn(&R) -> &[[f64; 2]],
+        set: fn(&mut R, Vec<[f64; 2]>),
+    },
+    /// A calendar date, `YYYY-MM-DD`, not later than the day after the shop's today.
+    Date {
+        get: fn(&R) -> &str,
+        set: fn(&mut R, String),
+    },
+    /// One of a fixed set of keys, each with its words.
+    Choice {
+        options: &'static [(&'static str, &'static str)],
+        get: fn(&R) -> &str,
+        set: fn(&mut R, String),
+    },
+    /// A yes/no box.
+    Flag {
+        get: fn(&R) -> bool,
+        set: fn(&mut R, bool),
+    },
+}
+
+/// A record type whose fields are declared in one table.
+pub trait Record: Default + Sized + 'static {
+    const FIELDS: &'static [Field<Self>];
+
+    /// Rules between fields, with messages in `ctx.units`. Runs after the per-field checks; a
+    /// field that already has a message keeps it (the first message per field wins).
+    fn check_more(&mut self, _ctx: &Ctx, _errors: &mut FieldErrors) {}
+
+    /// The declaration of the field stored in `column`.
+    fn field(column: &str) -> Option<&'static Field<Self>> {
+        Self::FIELDS.iter().find(|f| f.column == column)
+    }
+
+    /// Records a message for the field stored in `column` (or for a list item,
+    /// `column[index]`), under both its column and its form name.
+    fn fault(errors: &mut FieldErrors, path: &str, message: impl Into<String>) {
+        let (base, index) = split_path(path);
+        match Self::field(base) {
+            Some(f) => errors.add_at(f.column, f.form, index, message),
+            None => {
+                debug_assert!(false, "no field stored in {base}");
+                errors.add(path, message);
+            }
+        }
+    }
+}
+
+/// `shim_stack_mm[2]` → (`shim_stack_mm`, Some(2)).
+fn split_path(path: &str) -> (&str, Option<usize>) {
+    match path.split_once('[') {
+        Some((base, rest)) => (
+            base,
+            rest.trim_end_matches(']')
+                .split(']')
+                .next()
+                .and_then(|i| i.parse().ok()),
+        ),
+        None => (path, None),
+    }
+}
+
+/// The stored column names of `R`, in declaration order (for SQL and exports).
+pub fn columns<R: Record>() -> impl Iterator<Item = &'static str> {
+    R::FIELDS.iter().map(|f| f.column)
+}
+
+/// A number as people type it ("1.905", "-0.5", "1e3"). Commas separate list items, so a
+/// decimal comma is not a number here; NaN and infinities spelled out are refused.
+pub fn parse_number(raw: &str) -> Option<f64> {
+    let raw = raw.trim();
+    let ok_chars = raw
+        .chars()
+        .all(|c| c.is_ascii_digit() || matches!(c, '.' | '-' | '+' | 'e' | 'E'));
+    if !ok_chars || raw.is_empty() {
+        return None;
+    }
+    raw.parse::<f64>().ok().filter(|v| v.is_finite())
+}
+
+/// Items of a typed list: separated by commas, semicolons, spaces or new lines.
+fn list_items(raw: &str) -> impl Iterator<Item = &str> {
+    raw.split([',', ';', ' ', '\n', '\t', '\r'])
+        .map(str::trim)
+        .filter(|s| !s.is_empty())
+}
+
+/// A number in the shop's display units as internal units.
+fn number_in(kind: Kind, units: Units, raw: &str) -> Result<Option<f64>, &'static str> {
+    if raw.is_empty() {
+        return Ok(None);
+    }
+    parse_number(raw)
+        .map(|v| Some(kind.from_shown(units, v)))
+        .ok_or("enter a number")
+}
+
+/// One number typed on a form that is not a record (a target, a number of days), checked
+/// against its limit, in internal units; `None` when empty or refused (with the message).
+pub fn number(
+    form: &FormData,
+    name: &str,
+    limit: Limit,
+    units: Units,
+    errors: &mut FieldErrors,
+) -> Option<f64> {
+    match number_in(limit.kind, units, form.get(name)) {
+        Ok(Some(v)) if limit.kind == Kind::Count && v.fract() != 0.0 => {
+            errors.add(name, "enter a whole number");
+            None
+        }
+        Ok(Some(v)) if limit.admits(v) => Some(v),
+        Ok(Some(_)) => {
+            errors.add(name, limit.message(units));
+            None
+        }
+        Ok(None) => None,
+        Err(m) => {
+            errors.add(name, m);
+            None
+        }
+    }
+}
+
+/// Reads a record from a form typed in `units`. Text that does not parse is an error beside its
+/// input; the person's text stays in the form for the re-rendered page.
+pub fn read<R: Record>(form: &FormData, units: Units) -> (R, FieldErrors) {
+    let mut r = R::default();
+    let mut errors = FieldErrors::default();
+    for f in R::FIELDS {
+        let raw = form.get(f.form);
+        let mut fault = |index: Option<usize>, m: String| errors.add_at(f.column, f.form, index, m);
+        match &f.value {
+            Value::Text { set, .. } | Value::Date { set, .. } | Value::Choice { set, .. } => {
+                set(&mut r, raw.to_string())
+            }
+            Value::Number {
+                limit,
+                required,
+                set,
+                ..
+            } => match number_in(limit.kind, units, raw) {
+                Ok(None) if *required => {
+                    fault(None, "required".into());
+                    set(&mut r, Some(f64::NAN));
+                }
+                Ok(v) => set(&mut r, v),
+                Err(m) => {
+                    fault(None, m.into());
+                    set(&mut r, Some(f64::NAN));
+                }
+            },
+            Value::Whole { default, set, .. } => match (raw.is_empty(), default) {
+                (true, Some(d)) => set(&mut r, *d),
+                (true, None) => fault(None, "required".into()),
+                (false, _) => match parse_number(raw) {
+                    Some(v) if v.fract() == 0.0 && v.abs() < 1e15 => set(&mut r, v as i64),
+                    Some(_) => fault(None, "enter a whole number".into()),
+                    None => fault(None, "enter a number".into()),
+                },
+            },
+            Value::List {
+                limit, item, set, ..
+            } => {
+                let mut values = Vec::new();
+                for (i, text) in list_items(raw).enumerate() {
+                    match parse_number(text) {
+                        Some(v) => values.push(limit.kind.from_shown(units, v)),
+                        None => {
+                            fault(
+                                Some(i),
+                                format!("{item} {}: {text:?} is not a number", i + 1),
+                            );
+                            values.push(f64::NAN);
+                        }
+                    }
+                }
+                set(&mut r, values);
+            }
+            Value::Curve { set, .. } => {
+                let mut points = Vec::new();
+                for (line_no, line) in raw.lines().enumerate() {
+                    let line = line.trim();
+                    if line.is_empty() {
+                        continue;
+                    }
+                    let cells: Vec<&str> = list_items(line).collect();
+                    let parsed = match cells.as_slice() {
+                        [rpm, torque] => parse_number(rpm).zip(parse_number(torque)),
+                        _ => None,
+                    };
+                    match parsed {
+                        Some((rpm, torque)) => {
+                            points.push([rpm, Kind::Torque.from_shown(units, torque)])
+                        }
+                        None if points.is_empty() && line.chars().any(char::is_alphabetic) => {}
+                        None => {
+                            fault(
+                                Some(points.len()),
+                                format!(
+                                    "line {}: expected an engine speed and a torque, got {:?}",
+                                    line_no + 1,
+                                    line
+                                ),
+                            );
+                            points.push([f64::NAN, f64::NAN]);
+                        }
+                    }
+                }
+                set(&mut r, points);
+            }
+            Value::Flag { set, .. } => set(&mut r, form.is_checked(f.form)),
+        }
+    }
+    (r, errors)
+}
+
+/// Checks every field against its declaration, then the record's own rules. Fields that already
+/// have a message (from reading the form) are not checked again.
+pub fn check<R: Record>(
+    mut r: R,
+    ctx: &Ctx,
+    mut errors: FieldErrors,
+) -> Result<super::Checked<R>, FieldErrors> {
+    let units = ctx.units;
+    for f in R::FIELDS {
+        if errors.has(f.column) {
+            continue;
+        }
+        let mut fault = |index: Option<usize>, m: String| errors.add_at(f.column, f.form, index, m);
+        match &f.value {
+            Value::Text {
+                max_chars,
+                required,
+                get,
+                set,
+            } => {
+                let text = get(&r).trim().to_string();
+                if *required && text.is_empty() {
+                    fault(None, "required".into());
+                } else if text.chars().count() > *max_chars {
+                    fault(None, format!("too long (at most {max_chars} characters)"));
+                }
+                set(&mut r, text);
+            }
+            Value::Number {
+                limit,
+                required,
+                get,
+                ..
+            } => match get(&r) {
+                Some(v) if v.is_nan() && *required => fault(None, "required".into()),
+                Some(v) if !limit.admits(v) => fault(None, limit.message(units)),
+                None if *required => fault(None, "required".into()),
+                _ => {}
+            },
+            Value::Whole { limit, get, .. } => {
+                if !limit.admits(get(&r) as f64) {
+                    fault(None, limit.message(units));
+                }
+            }
+            Value::List {
+                limit,
+                max_items,
+                item,
+                get,
+                ..
+            } => {
+                let values = get(&r);
+                if values.len() > *max_items {
+                    fault(None, format!("at most {max_items} entries"));
+                }
+                for (i, v) in values.iter().enumerate() {
+                    if !limit.admits(*v) {
+                        fault(
+                            Some(i),
+                            format!("{item} {}: {}", i + 1, limit.message(units)),
+                        );
+                    }
+                }
+            }
+            Value::Curve { get, set } => match check_curve(get(&r), f.column, units) {
+                Ok(points) => set(&mut r, points),
+                Err((index, m)) => fault(index, m),
+            },
+            Value::Date { get, .. } => {
+                if let Err(m) = Date::parse(get(&r))
+                    .map_err(String::from)
+                    .and_then(|d| d.not_after(ctx.today))
+                {
+                    fault(None, m);
+                }
+            }
+            Value::Choice { options, get, .. } => {
+                let key = get(&r);
+                if !options.iter().any(|(k, _)| *k == key) {
+                    let words: Vec<&str> = options.iter().map(|(_, w)| *w).collect();
+                    fault(None, format!("choose {}", words.join(", ")));
+                }
+            }
+            Value::Flag { .. } => {}
+        }
+    }
+    r.check_more(ctx, &mut errors);
+    errors.into_result(super::Checked(r))
+}
+
+/// A torque curve's points checked one by one (engine speed and torque limits), then as a curve
+/// (distinct speeds, at least three points). Returns the points sorted by engine speed.
+fn check_curve(
+    points: &[[f64; 2]],
+    column: &str,
+    units: Units,
+) -> Result<Vec<[f64; 2]>, (Option<usize>, String)> {
+    use crate::clutch::quantity::limits::{CURVE_POINTS, CURVE_TORQUE, ENGINE_SPEED};
+    if points.is_empty() {
+        return Ok(Vec::new());
+    }
+    if points.len() > CURVE_POINTS {
+        return Err((None, format!("at most {CURVE_POINTS} points")));
+    }
+    for (i, [rpm, nm]) in points.iter().enumerate() {
+        if !ENGINE_SPEED.admits(*rpm) {
+            let m = ENGINE_SPEED.message(units);
+            return Err((Some(i), format!("point {}: engine speed {m}", i + 1)));
+        }
+        if !CURVE_TORQUE.admits(*nm) {
+            let m = CURVE_TORQUE.message(units);
+            return Err((Some(i), format!("point {}: torque {m}", i + 1)));
+        }
+    }
+    let pairs: Vec<(f64, f64)> = points.iter().map(|p| (p[0], p[1])).collect();
+    match crate::clutch::torque_curve::TorqueCurve::new(&pairs, column) {
+        Ok(curve) => Ok(curve.points().map(|(r, t)| [r, t]).collect()),
+        Err(e) => {
+            let index = split_path(&e.field).1;
+            let message = match index {
+                Some(i) => format!("point {}: {}", i + 1, e.message),
+                None => e.message,
+            };
+            Err((index, message))
+        }
+    }
+}
+
+/// `v` with `decimals`, trailing zeros dropped ("1.500" → "1.5").
+fn trimmed(v: f64, decimals: usize) -> String {
+    let s = format!("{v:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+/// The form prefilled from a stored record, in `units`.
+pub fn to_form<R: Record>(r: &R, units: Units) -> FormData {
+    let mut form = FormData::default();
+    for f in R::FIELDS {
+        let text = match &f.value {
+            Value::Text { get, .. } | Value::Date { get, .. } | Value::Choice { get, .. } => {
+                get(r).to_string()
+            }
+            Value::Number { limit, get, .. } => get(r)
+                .filter(|v| v.is_finite())
+                .map(|v| {
+                    let kind = limit.kind;
+                    trimmed(kind.to_shown(units, v), kind.entry_decimals(units))
+                })
+                .unwrap_or_default(),
+            Value::Whole { get, .. } => get(r).to_string(),
+            Value::List { limit, get, .. } => {
+                let kind = limit.kind;
+                let items: Vec<String> = get(r)
+                    .iter()
+                    .map(|v| {
+                        format!(
+                            "{:.*}",
+                            kind.entry_decimals(units),
+                            kind.to_shown(units, *v)
+                        )
+                    })
+                    .collect();
+                items.join(", ")
+            }
+            Value::Curve { get, .. } => {
+                let lines: Vec<String> = get(r)
+                    .iter()
+                    .map(|[rpm, nm]| {
+                        format!("{rpm:.0},{}", trimmed(Kind::Torque.to_shown(units, *nm), 1))
+                    })
+                    .collect();
+                lines.join("\n")
+            }
+            Value::Flag { get, .. } => if get(r) { "on" } else { "" }.to_string(),
+        };
+        form.set(f.form, text);
+    }
+    form
+}
+
+/// A field's stored value (as the audit log keeps it, JSON in storage units) in words and the
+/// shop's units, the way the pages show it.
+pub fn show_stored<R: Record>(f: &Field<R>, stored: &Json, units: Units) -> String {
+    const DASH: &str = "–";
+    let number = |kind: Kind, v: &Json| v.as_f64().map_or(DASH.into(), |x| kind.show(units, x));
+    match (&f.value, stored) {
+        (_, Json::Null) => DASH.into(),
+        (Value::Number { limit, .. }, v) => number(limit.kind, v),
+        (Value::Whole { .. }, v) => v.as_i64().map_or(DASH.into(), |n| n.to_string()),
+        (Value::List { limit, .. }, v) => {
+            let items = list_of(v);
+            if items.is_empty() {
+                "none".into()
+            } else {
+                let shown: Vec<String> = items.iter().map(|x| number(limit.kind, x)).collect();
+                shown.join(", ")
+            }
+        }
+        (Value::Curve { .. }, v) => {
+            let n = list_of(v).len();
+            format!("{n} point{}", if n == 1 { "" } else { "s" })
+        }
+        (Value::Flag { .. }, v) => {
+            if v.as_i64() == Some(1) || v.as_bool() == Some(true) {
+                "yes".into()
+            } else {
+                "no".into()
+            }
+        }
+        (Value::Choice { options, .. }, Json::String(s)) => options
+            .iter()
+            .find(|(k, _)| k == s)
+            .map_or_else(|| s.clone(), |(_, w)| (*w).to_string()),
+        (_, Json::String(s)) if s.is_empty() => "(empty)".into(),
+        (_, Json::String(s)) => s.clone(),
+        (_, other) => other.to_string(),
+    }
+}
+
+/// A stored column of an audited table in words: its label and its value in `units`, as the
+/// pages show it; `None` for a column no record declares (ids, stamps, links).
+pub fn stored_view(
+    table: &str,
+    column: &str,
+    value: &Json,
+    units: Units,
+) -> Option<(&'static str, String)> {
+    use super::{bench, build, car, customer, height, pass, settings, setup};
+    fn view<R: Record>(column: &str, value: &Json, units: Units) -> Option<(&'static str, String)> {
+        R::field(column).map(|f| (f.label, show_stored(f, value, units)))
+    }
+    match table {
+        "customers" => view::<customer::CustomerInput>(column, value, units),
+        "cars" => view::<car::CarInput>(column, value, units),
+        "builds" => view::<build::BuildInput>(column, value, units),
+        "setup_changes" => view::<setup::SetupInput>(column, value, units),
+        "bench_tests" => view::<bench::BenchInput>(column, value, units),
+        "bench_springs" => view::<bench::SpringReading>(column, value, units),
+        "cover_heights" => view::<height::HeightInput>(column, value, units),
+        "passes" => view::<pass::PassInput>(column, value, units),
+        "shop_settings" => view::<settings::SettingsInput>(column, value, units),
+        _ => None,
+    }
+}
+
+/// A JSON list, or a JSON list stored as text (SQLite JSON columns read back as text).
+fn list_of(v: &Json) -> Vec<Json> {
+    match v {
+        Json::Array(a) => a.clone(),
+        Json::String(s) => serde_json::from_str::<Vec<Json>>(s).unwrap_or_default(),
+        _ => Vec::new(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn list_paths_split_into_column_and_index() {
+        assert_eq!(split_path("shim_stack_mm[2]"), ("shim_stack_mm", Some(2)));
+        assert_eq!(
+            split_path("torque_curve_nm[0]"),
+            ("torque_curve_nm", Some(0))
+        );
+        assert_eq!(split_path("label"), ("label", None));
+    }
+
+    #[test]
+    fn numbers_as_people_type_them() {
+        assert_eq!(parse_number(" 1.905 "), Some(1.905));
+        assert_eq!(parse_number("1e3"), Some(1000.0));
+        assert_eq!(parse_number("NaN"), None);
+        assert_eq!(parse_number("inf"), None);
+        assert_eq!(parse_number("0,5"), None);
+        assert_eq!(parse_number("1e400"), None);
+    }
+}
