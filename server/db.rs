@@ -12,6 +12,7 @@ pub mod dossier;
 pub mod export;
 pub mod heights;
 pub mod passes;
+pub mod record;
 pub mod sessions;
 pub mod settings;
 pub mod setups;

@@ -51,26 +51,7 @@ pub async fn insert(
     customer_id: i64,
     c: &Checked<CarInput>,
 ) -> sqlx::Result<i64> {
-    sqlx::query_scalar(
-        "INSERT INTO cars (customer_id, description, engine, weight_kg, transmission,
-             rated_input_torque_nm, first_gear_ratio, final_drive_ratio, tire_diameter_mm,
-             launch_rpm, torque_curve_nm, notes)
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
-    )
-    .bind(customer_id)
-    .bind(&c.description)
-    .bind(&c.engine)
-    .bind(c.weight_kg)
-    .bind(&c.transmission)
-    .bind(c.rated_input_torque_nm)
-    .bind(c.first_gear_ratio)
-    .bind(c.final_drive_ratio)
-    .bind(c.tire_diameter_mm)
-    .bind(c.launch_rpm)
-    .bind(sqlx::types::Json(&c.torque_curve_nm))
-    .bind(&c.notes)
-    .fetch_one(conn)
-    .await
+    super::record::insert(conn, "cars", &[("customer_id", customer_id)], c).await
 }
 
 pub async fn update(
@@ -78,26 +59,5 @@ pub async fn update(
     id: i64,
     c: &Checked<CarInput>,
 ) -> sqlx::Result<bool> {
-    let done = sqlx::query(
-        "UPDATE cars SET description = ?, engine = ?, weight_kg = ?, transmission = ?,
-             rated_input_torque_nm = ?, first_gear_ratio = ?, final_drive_ratio = ?,
-             tire_diameter_mm = ?, launch_rpm = ?, torque_curve_nm = ?, notes = ?,
-             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
-         WHERE id = ?",
-    )
-    .bind(&c.description)
-    .bind(&c.engine)
-    .bind(c.weight_kg)
-    .bind(&c.transmission)
-    .bind(c.rated_input_torque_nm)
-    .bind(c.first_gear_ratio)
-    .bind(c.final_drive_ratio)
-    .bind(c.tire_diameter_mm)
-    .bind(c.launch_rpm)
-    .bind(sqlx::types::Json(&c.torque_curve_nm))
-    .bind(&c.notes)
-    .bind(id)
-    .execute(conn)
-    .await?;
-    Ok(done.rows_affected() == 1)
+    super::record::update(conn, "cars", id, c).await
 }

@@ -68,16 +68,11 @@ pub async fn search(
     Ok((rows, total))
 }
 
-pub async fn insert(conn: &mut SqliteConnection, c: &Checked<CustomerInput>) -> sqlx::Result<i64> {
-    sqlx::query_scalar(
-        "INSERT INTO customers (name, phone, email, notes) VALUES (?, ?, ?, ?) RETURNING id",
-    )
-    .bind(&c.name)
-    .bind(&c.phone)
-    .bind(&c.email)
-    .bind(&c.notes)
-    .fetch_one(conn)
-    .await
+pub async fn insert(
+    conn: &mut SqliteConnection,
+    c: &Checked<CustomerInput>,
+) -> sqlx::Result<i64> {
+    super::record::insert(conn, "customers", &[], c).await
 }
 
 /// Updates a customer; false when there is no such (live) customer.
@@ -86,19 +81,7 @@ pub async fn update(
     id: i64,
     c: &Checked<CustomerInput>,
 ) -> sqlx::Result<bool> {
-    let done = sqlx::query(
-        "UPDATE customers SET name = ?, phone = ?, email = ?, notes = ?,
-             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
-         WHERE id = ? AND deleted_at IS NULL",
-    )
-    .bind(&c.name)
-    .bind(&c.phone)
-    .bind(&c.email)
-    .bind(&c.notes)
-    .bind(id)
-    .execute(conn)
-    .await?;
-    Ok(done.rows_affected() == 1)
+    super::record::update(conn, "customers", id, c).await
 }
 
 /// Escapes `%`, `_` and `\` so user text matches literally in `LIKE ... ESCAPE '\'`.

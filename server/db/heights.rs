@@ -87,20 +87,7 @@ pub async fn insert(
     user_id: i64,
     h: &Checked<HeightInput>,
 ) -> sqlx::Result<i64> {
-    sqlx::query_scalar(
-        "INSERT INTO cover_heights (build_id, measured_on, height_mm, passes, shims_pulled, new_disc, note, user_id)
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
-    )
-    .bind(build_id)
-    .bind(&h.measured_on)
-    .bind(h.height_mm)
-    .bind(h.passes)
-    .bind(h.shims_pulled)
-    .bind(h.new_disc)
-    .bind(&h.note)
-    .bind(user_id)
-    .fetch_one(conn)
-    .await
+    super::record::insert(conn, "cover_heights", &[("build_id", build_id), ("user_id", user_id)], h).await
 }
 
 pub async fn update(
@@ -108,18 +95,5 @@ pub async fn update(
     id: i64,
     h: &Checked<HeightInput>,
 ) -> sqlx::Result<bool> {
-    let done = sqlx::query(
-        "UPDATE cover_heights SET measured_on = ?, height_mm = ?, passes = ?, shims_pulled = ?,
-             new_disc = ?, note = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
-    )
-    .bind(&h.measured_on)
-    .bind(h.height_mm)
-    .bind(h.passes)
-    .bind(h.shims_pulled)
-    .bind(h.new_disc)
-    .bind(&h.note)
-    .bind(id)
-    .execute(conn)
-    .await?;
-    Ok(done.rows_affected() == 1)
+    super::record::update(conn, "cover_heights", id, h).await
 }

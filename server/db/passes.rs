@@ -42,22 +42,7 @@ pub async fn insert(
     user_id: i64,
     p: &Checked<PassInput>,
 ) -> sqlx::Result<i64> {
-    sqlx::query_scalar(
-        "INSERT INTO passes (build_id, run_on, track, launch_rpm, sixty_ft_s, et_s,
-             observed_lockup_rpm, notes, user_id)
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
-    )
-    .bind(build_id)
-    .bind(&p.run_on)
-    .bind(&p.track)
-    .bind(p.launch_rpm)
-    .bind(p.sixty_ft_s)
-    .bind(p.et_s)
-    .bind(p.observed_lockup_rpm)
-    .bind(&p.notes)
-    .bind(user_id)
-    .fetch_one(conn)
-    .await
+    super::record::insert(conn, "passes", &[("build_id", build_id), ("user_id", user_id)], p).await
 }
 
 pub async fn update(
@@ -65,20 +50,5 @@ pub async fn update(
     id: i64,
     p: &Checked<PassInput>,
 ) -> sqlx::Result<bool> {
-    let done = sqlx::query(
-        "UPDATE passes SET run_on = ?, track = ?, launch_rpm = ?, sixty_ft_s = ?, et_s = ?,
-             observed_lockup_rpm = ?, notes = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
-         WHERE id = ?",
-    )
-    .bind(&p.run_on)
-    .bind(&p.track)
-    .bind(p.launch_rpm)
-    .bind(p.sixty_ft_s)
-    .bind(p.et_s)
-    .bind(p.observed_lockup_rpm)
-    .bind(&p.notes)
-    .bind(id)
-    .execute(conn)
-    .await?;
-    Ok(done.rows_affected() == 1)
+    super::record::update(conn, "passes", id, p).await
 }

@@ -12,24 +12,6 @@ pub async fn get(conn: &mut SqliteConnection) -> sqlx::Result<SettingsInput> {
 }
 
 pub async fn update(conn: &mut SqliteConnection, s: &Checked<SettingsInput>) -> sqlx::Result<()> {
-    sqlx::query(
-        "UPDATE shop_settings SET name = ?, phone = ?, email = ?, address = ?, units = ?,
-             spring_spread_pct = ?, spring_sag_pct = ?, shimming_limit_mm = ?,
-             overclamp_factor = ?, due_within_passes = ?,
-             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
-         WHERE id = 1",
-    )
-    .bind(&s.name)
-    .bind(&s.phone)
-    .bind(&s.email)
-    .bind(&s.address)
-    .bind(&s.units)
-    .bind(s.spring_spread_pct)
-    .bind(s.spring_sag_pct)
-    .bind(s.shimming_limit_mm)
-    .bind(s.overclamp_factor)
-    .bind(s.due_within_passes)
-    .execute(conn)
-    .await?;
+    super::record::update(conn, "shop_settings", 1, s).await?;
     Ok(())
 }

@@ -42,21 +42,7 @@ pub async fn insert(
     user_id: i64,
     s: &Checked<SetupInput>,
 ) -> sqlx::Result<i64> {
-    sqlx::query_scalar(
-        "INSERT INTO setup_changes (build_id, changed_on, adjuster_turns, adjuster_turns_each,
-             counterweight_g, mu, note, user_id)
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?) RETURNING id",
-    )
-    .bind(build_id)
-    .bind(&s.changed_on)
-    .bind(s.adjuster_turns)
-    .bind(sqlx::types::Json(&s.adjuster_turns_each))
-    .bind(s.counterweight_g)
-    .bind(s.mu)
-    .bind(&s.note)
-    .bind(user_id)
-    .fetch_one(conn)
-    .await
+    super::record::insert(conn, "setup_changes", &[("build_id", build_id), ("user_id", user_id)], s).await
 }
 
 pub async fn update(
@@ -64,19 +50,5 @@ pub async fn update(
     id: i64,
     s: &Checked<SetupInput>,
 ) -> sqlx::Result<bool> {
-    let done = sqlx::query(
-        "UPDATE setup_changes SET changed_on = ?, adjuster_turns = ?, adjuster_turns_each = ?,
-             counterweight_g = ?, mu = ?, note = ?,
-             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
-    )
-    .bind(&s.changed_on)
-    .bind(s.adjuster_turns)
-    .bind(sqlx::types::Json(&s.adjuster_turns_each))
-    .bind(s.counterweight_g)
-    .bind(s.mu)
-    .bind(&s.note)
-    .bind(id)
-    .execute(conn)
-    .await?;
-    Ok(done.rows_affected() == 1)
+    super::record::update(conn, "setup_changes", id, s).await
 }
