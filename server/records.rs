@@ -47,11 +47,17 @@ impl FieldErrors {
     /// Records a message for a field whose form input has the same name as its column (forms
     /// that are not records: sign-in, sheet targets). The first message per field wins.
     pub fn add(&mut self, field: &str, message: impl Into<String>) {
-        let (base, index) = match field.split_once('[') {
-            Some((b, rest)) => (b, rest.trim_end_matches(']').parse().ok()),
-            None => (field, None),
-        };
-        self.add_at(base, base, index, message);
+        // `torque_curve[2]` is item 2 of `torque_curve`; a deeper path
+        // (`measurements[1].cover_height`) is kept whole.
+        let item = field
+            .strip_suffix(']')
+            .and_then(|f| f.rsplit_once('['))
+            .and_then(|(base, i)| Some((base, i.parse::<usize>().ok()?)))
+            .filter(|(base, _)| !base.contains('['));
+        match item {
+            Some((base, index)) => self.add_at(base, base, Some(index), message),
+            None => self.add_at(field, field, None, message),
+        }
     }
 
     /// Records a message for a declared field (or one item of a list field).

@@ -2,6 +2,7 @@
 //! load from the levers, F(n) = F_static + F_centrifugal(n).
 
 use super::InputError;
+use super::quantity::limits;
 use super::units::rpm_to_rad_s;
 
 /// Base spring compression from two cover-height readings, mm: free − installed
@@ -72,7 +73,7 @@ pub fn check_adjusters(turns_each: &[f64], field: &str) -> Result<AdjusterCheck,
         return Err(InputError::new(field, "needs at least one adjuster"));
     }
     for (i, &t) in turns_each.iter().enumerate() {
-        super::require_range(&format!("{field}[{i}]"), t, 0.0, 1000.0)?;
+        limits::ADJUSTER_TURNS.check(&format!("{field}[{i}]"), t, super::units::Units::Metric)?;
     }
     let min = turns_each.iter().copied().fold(f64::INFINITY, f64::min);
     let max = turns_each.iter().copied().fold(f64::NEG_INFINITY, f64::max);

@@ -226,7 +226,12 @@ mod tests {
             (6000.0, 470.0),
             (7000.0, 430.0),
         ];
-        TorqueCurve::new(&pts, "engine.torque_curve").expect("valid curve")
+        TorqueCurve::new(
+            &pts,
+            "engine.torque_curve",
+            crate::clutch::units::Units::Metric,
+        )
+        .expect("valid curve")
     }
 
     fn law(static_nm: f64, nm_per_rpm2: f64) -> CapacityLaw {
@@ -289,8 +294,12 @@ mod tests {
         assert_eq!(c[1].rpm, 3100.0);
         assert_eq!(c[40].rpm, 7000.0);
         assert!((c[5].engine_torque_nm - 432.5).abs() < 1e-9);
-        let odd = TorqueCurve::new(&[(3050.0, 1.0), (4000.0, 2.0), (6990.0, 3.0)], "c")
-            .expect("valid curve");
+        let odd = TorqueCurve::new(
+            &[(3050.0, 1.0), (4000.0, 2.0), (6990.0, 3.0)],
+            "c",
+            crate::clutch::units::Units::Metric,
+        )
+        .expect("valid curve");
         let c = curve_at(&law(1.0, 0.0), &odd, 100.0).expect("valid step");
         let rpms: Vec<f64> = c.iter().map(|p| p.rpm).collect();
         assert_eq!(rpms[..3], [3050.0, 3100.0, 3200.0]);
@@ -301,8 +310,12 @@ mod tests {
 
     #[test]
     fn one_rpm_curve_over_1000_to_9000_has_8001_points() {
-        let e = TorqueCurve::new(&[(1000.0, 300.0), (5000.0, 500.0), (9000.0, 420.0)], "c")
-            .expect("valid curve");
+        let e = TorqueCurve::new(
+            &[(1000.0, 300.0), (5000.0, 500.0), (9000.0, 420.0)],
+            "c",
+            crate::clutch::units::Units::Metric,
+        )
+        .expect("valid curve");
         let c = curve_at(&law(300.0, 5e-6), &e, 1.0).expect("valid step");
         assert_eq!(c.len(), 8001);
         assert!(c.windows(2).all(|w| w[1].rpm - w[0].rpm == 1.0));

@@ -177,14 +177,17 @@ impl Limit {
         Self { kind, min, max }
     }
 
-    /// Whether a finite `v` (internal units) lies inside the range.
+    /// Whether a finite `v` (internal units) lies inside the range. An inclusive bound admits
+    /// a value a rounding error beyond it (a bound typed in the other unit system and
+    /// converted back).
     pub fn admits(&self, v: f64) -> bool {
+        let slack = |b: f64| 1e-12 * b.abs().max(1.0);
         let above_min = match self.min {
-            Incl(b) => v >= b,
+            Incl(b) => v >= b - slack(b),
             Excl(b) => v > b,
         };
         let below_max = match self.max {
-            Incl(b) => v <= b,
+            Incl(b) => v <= b + slack(b),
             Excl(b) => v < b,
         };
         v.is_finite() && above_min && below_max

@@ -8,8 +8,9 @@
 
 use super::InputError;
 use super::lockup::{CapacityLaw, ClutchModel, torque_ratio};
+use super::quantity::{Bound, limits};
 use super::report::capacity;
-use super::request::{CapacityRequest, MAX_MASS_G, MAX_TURNS};
+use super::request::CapacityRequest;
 use serde::{Deserialize, Serialize};
 
 /// Most grid points accepted on either axis.
@@ -294,14 +295,14 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         req.steps.adjuster_turns,
         "limits.max_adjuster_turns",
         req.limits.max_adjuster_turns,
-        MAX_TURNS,
+        upper(limits::ADJUSTER_TURNS.max),
     )?;
     let (weight_step, weights) = grid(
         "steps.counterweight_g",
         req.steps.counterweight_g,
         "limits.max_counterweight_g",
         req.limits.max_counterweight_g,
-        MAX_MASS_G,
+        upper(limits::COUNTERWEIGHT.max),
     )?;
     if target_ratio.is_some() && turns_n * weights > MAX_SEARCH_SETTINGS {
         return Err(InputError::new(
@@ -361,6 +362,13 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         alternatives,
         notes,
     })
+}
+
+/// The value of an upper bound from the table of limits.
+fn upper(b: Bound) -> f64 {
+    match b {
+        Bound::Incl(v) | Bound::Excl(v) => v,
+    }
 }
 
 /// Validates a step and its limit; returns the step and the number of grid points 0..=limit.

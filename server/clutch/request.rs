@@ -11,6 +11,7 @@ use super::capacity::{Theory, effective_radius_mm};
 use super::clamp::{LeverSet, SpringPack};
 use super::friction::{FacingMaterial, friction_surfaces};
 use super::lockup::ClutchModel;
+use super::quantity::{Limit, limits};
 use super::torque_curve::TorqueCurve;
 use super::units::Units;
 use serde::{Deserialize, Serialize};
@@ -18,10 +19,6 @@ use serde::{Deserialize, Serialize};
 /// Default multiple of the driveline's rated input torque above which capacity is flagged
 /// (common shop practice, no published source).
 pub const DEFAULT_OVERCLAMP_FACTOR: f64 = 1.5;
-/// Most counterweight or lever mass accepted, g.
-pub const MAX_MASS_G: f64 = 5000.0;
-/// Most adjuster turns accepted.
-pub const MAX_TURNS: f64 = 100.0;
 
 /// POST /api/v1/calc/capacity body.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -150,21 +147,9 @@ pub struct ValidRequest {
 }
 
 /// A bound that reads as a round number in each system: (imperial, metric).
-fn bound(units: Units, imperial: f64, metric: f64) -> f64 {
-    match units {
-        Units::Imperial => imperial,
-        Units::Metric => metric,
-    }
-}
-
-fn count_in(field: &str, v: u32, min: u32, max: u32) -> Result<u32, InputError> {
-    if v < min || v > max {
-        return Err(InputError::new(
-            field,
-            format!("must be {min} to {max} (got {v})"),
-        ));
-    }
-    Ok(v)
+/// A whole count checked against its limit.
+fn count_in(field: &str, v: u32, limit: Limit) -> Result<u32, InputError> {
+    limit.check(field, f64::from(v), Units::Metric).map(|_| v)
 }
 
 impl CapacityRequest {
@@ -199,21 +184,21 @@ impl CapacityRequest {
     /// Errors name the first offending field by its JSON path.
     pub fn validate(&self) -> Result<ValidRequest, InputError> {
         let u = self.units;
-        let od = super::require_positive(
+        let od = limits::FACING_DIAMETER.check_shown(
             "disc.outer_diameter",
             self.disc.outer_diameter,
-            bound(u, 40.0, 1000.0),
+            u,
         )?;
-        let id = super::require_positive(
+        let id = limits::FACING_DIAMETER.check_shown(
             "disc.inner_diameter",
             self.disc.inner_diameter,
-            bound(u, 40.0, 1000.0),
+            u,
         )?;
-        let r_eff = effective_radius_mm(u.length_to_mm(od), u.length_to_mm(id), self.disc.theory)?;
-        count_in("disc.count", self.disc.count, 1, 3)?;
+        let r_eff = effective_radius_mm(od, id, self.disc.theory)?;
+        count_in("disc.count", self.disc.count, limits::DISC_COUNT)?;
         let surfaces = friction_surfaces(self.disc.count)?;
         let mu = match (self.friction.mu, self.friction.material) {
-            (Some(mu), _) => super::require_range("friction.mu", mu, 0.05, 0.8)?,
+            (Some(mu), _) => limits::MU.check("friction.mu", mu, u)?,
             (None, Some(m)) => m.data().mu_nominal,
             (None, None) => {
                 return Err(InputError::new(
@@ -223,11 +208,10 @@ impl CapacityRequest {
             }
         };
         let springs = self.spring_pack()?;
-        let turns = super::require_range(
+        let turns = limits::ADJUSTER_TURNS.check(
             "springs.adjuster_turns",
             self.springs.adjuster_turns,
-            0.0,
-            MAX_TURNS,
+            u,
         )?;
         let (levers, counterweight_g) = match &self.levers {
             Some(l) => (Some(l.lever_set(u)?), l.counterweight_g),
@@ -239,7 +223,7 @@ impl CapacityRequest {
             .iter()
             .map(|&[rpm, t]| (rpm, if t.is_finite() { u.torque_to_nm(t) } else { t }))
             .collect();
-        let engine = TorqueCurve::new(&points, "engine.torque_curve")?;
+        let engine = TorqueCurve::new(&points, "engine.torque_curve", u)?;
         let launch_rpm = match self.launch_rpm {
             Some(rpm) => {
                 let (lo, hi) = engine.range();
@@ -248,15 +232,15 @@ impl CapacityRequest {
             None => None,
         };
         let rated_torque_nm = match &self.driveline {
-            Some(d) => Some(u.torque_to_nm(super::require_positive(
+            Some(d) => Some(limits::RATED_TORQUE.check_shown(
                 "driveline.rated_torque",
                 d.rated_torque,
-                bound(u, 70_000.0, 100_000.0),
-            )?)),
+                u,
+            )?),
             None => None,
         };
         let overclamp_factor = match self.overclamp_factor {
-            Some(f) => super::require_range("overclamp_factor", f, 1.0, 10.0)?,
+            Some(f) => limits::OVERCLAMP_FACTOR.check("overclamp_factor", f, u)?,
             None => DEFAULT_OVERCLAMP_FACTOR,
         };
         Ok(ValidRequest {
@@ -280,58 +264,42 @@ impl CapacityRequest {
 
     fn spring_pack(&self) -> Result<SpringPack, InputError> {
         let (u, s) = (self.units, &self.springs);
-        let count = count_in("springs.count", s.count, 1, 24)?;
-        let rate = super::require_positive("springs.rate", s.rate, bound(u, 100_000.0, 20_000.0))?;
-        let base = super::require_range(
-            "springs.base_compression",
-            s.base_compression,
-            0.0,
-            bound(u, 4.0, 100.0),
-        )?;
-        let pitch = super::require_range(
-            "springs.adjuster_pitch",
-            s.adjuster_pitch,
-            0.0,
-            bound(u, 0.5, 12.0),
-        )?;
+        let count = count_in("springs.count", s.count, limits::SPRING_COUNT)?;
         Ok(SpringPack {
             count,
-            rate_n_per_mm: u.rate_to_n_per_mm(rate),
-            base_compression_mm: u.length_to_mm(base),
-            pitch_mm: u.length_to_mm(pitch),
+            rate_n_per_mm: limits::SPRING_RATE.check_shown("springs.rate", s.rate, u)?,
+            base_compression_mm: limits::BASE_COMPRESSION.check_shown(
+                "springs.base_compression",
+                s.base_compression,
+                u,
+            )?,
+            pitch_mm: limits::ADJUSTER_TRAVEL.check_shown(
+                "springs.adjuster_pitch",
+                s.adjuster_pitch,
+                u,
+            )?,
         })
     }
 }
 
 impl LeversInput {
     fn lever_set(&self, u: Units) -> Result<LeverSet, InputError> {
-        let count = count_in("levers.count", self.count, 0, 24)?;
-        super::require_range(
-            "levers.counterweight_g",
-            self.counterweight_g,
-            0.0,
-            MAX_MASS_G,
-        )?;
-        let lever_mass =
-            super::require_range("levers.lever_mass_g", self.lever_mass_g, 0.0, MAX_MASS_G)?;
+        let count = count_in("levers.count", self.count, limits::LEVER_COUNT)?;
+        limits::COUNTERWEIGHT.check("levers.counterweight_g", self.counterweight_g, u)?;
+        let lever_mass = limits::LEVER_MASS.check("levers.lever_mass_g", self.lever_mass_g, u)?;
         match (self.gain, self.cg_radius, self.arm_ratio) {
             (Some(_), Some(_), _) | (Some(_), _, Some(_)) => Err(InputError::new(
                 "levers.gain",
                 "give either gain or cg_radius with arm_ratio, not both",
             )),
             (Some(gain), None, None) => {
-                let gain = super::require_range("levers.gain", gain, 0.0, 1000.0)?;
-                Ok(LeverSet::from_gain(count, lever_mass, u.force_to_n(gain)))
+                let gain = limits::LEVER_GAIN.check_shown("levers.gain", gain, u)?;
+                Ok(LeverSet::from_gain(count, lever_mass, gain))
             }
             (None, Some(r), Some(ratio)) => {
-                let r = super::require_positive("levers.cg_radius", r, bound(u, 40.0, 1000.0))?;
-                let ratio = super::require_positive("levers.arm_ratio", ratio, 50.0)?;
-                Ok(LeverSet::from_geometry(
-                    count,
-                    lever_mass,
-                    u.length_to_mm(r),
-                    ratio,
-                ))
+                let r = limits::LEVER_CG_RADIUS.check_shown("levers.cg_radius", r, u)?;
+                let ratio = limits::LEVER_ARM_RATIO.check("levers.arm_ratio", ratio, u)?;
+                Ok(LeverSet::from_geometry(count, lever_mass, r, ratio))
             }
             (None, None, _) => Err(InputError::new(
                 "levers.cg_radius",

@@ -2,7 +2,8 @@
 //! which is the extra spring compression per turn.
 
 use super::InputError;
-use super::units::MM_PER_IN;
+use super::quantity::limits;
+use super::units::{MM_PER_IN, Units};
 use serde::{Deserialize, Serialize};
 
 /// An adjuster thread, as the shop names it.
@@ -19,14 +20,15 @@ impl Thread {
     /// Axial travel per full turn in mm: 25.4 / TPI, or the metric pitch itself
     /// (single-start thread). Source: definition of pitch, ASME B1.1 / ISO 261.
     ///
-    /// Valid range: TPI 1–100, metric pitch 0.2–10 mm. `field` names the thread in errors.
+    /// Valid range: the table of limits (TPI 4–80, metric pitch 0.2–6 mm). `field` names the
+    /// thread in errors.
     pub fn travel_per_turn_mm(self, field: &str) -> Result<f64, InputError> {
         match self {
             Thread::Tpi(tpi) => {
-                super::require_range(field, tpi, 1.0, 100.0)?;
+                limits::ADJUSTER_TPI.check(field, tpi, Units::Metric)?;
                 Ok(MM_PER_IN / tpi)
             }
-            Thread::MetricPitch(p) => super::require_range(field, p, 0.2, 10.0),
+            Thread::MetricPitch(p) => limits::ADJUSTER_PITCH.check(field, p, Units::Metric),
         }
     }
 

@@ -1,15 +1,8 @@
 //! Engine torque against speed from dyno points, linear between points.
 
 use super::InputError;
-
-/// Lowest engine speed accepted in a torque curve, rev/min.
-pub const MIN_RPM: f64 = 500.0;
-/// Highest engine speed accepted in a torque curve, rev/min.
-pub const MAX_RPM: f64 = 15_000.0;
-/// Most points accepted in one curve.
-pub const MAX_POINTS: usize = 500;
-/// Largest torque accepted, N·m (far above any clutch this module is for).
-pub const MAX_TORQUE_NM: f64 = 100_000.0;
+use super::quantity::limits::{CURVE_POINTS, CURVE_TORQUE, ENGINE_SPEED};
+use super::units::Units;
 
 /// A validated torque curve: at least 3 points, strictly rising rpm within 500–15 000,
 /// positive finite torque in N·m.
@@ -22,24 +15,26 @@ pub struct TorqueCurve {
 impl TorqueCurve {
     /// Builds a curve from (rpm, N·m) points in any order. Exact duplicate points are dropped;
     /// two different torques at one rpm are an error. `field` is the JSON path of the list;
-    /// errors point at `field[i]` (index as given).
-    pub fn new(points: &[(f64, f64)], field: &str) -> Result<Self, InputError> {
-        if points.len() > MAX_POINTS {
+    /// errors point at `field[i]` (index as given) and quote limits in `units`.
+    pub fn new(points: &[(f64, f64)], field: &str, units: Units) -> Result<Self, InputError> {
+        if points.len() > CURVE_POINTS {
             return Err(InputError::new(
                 field,
-                format!("has more than {MAX_POINTS} points"),
+                format!("has more than {CURVE_POINTS} points"),
             ));
         }
         for (i, &(rpm, nm)) in points.iter().enumerate() {
             let at = format!("{field}[{i}]");
-            if !(rpm.is_finite() && (MIN_RPM..=MAX_RPM).contains(&rpm)) {
+            if !ENGINE_SPEED.admits(rpm) {
+                let m = ENGINE_SPEED.message(units);
                 return Err(InputError::new(
                     at,
-                    format!("engine speed must be between {MIN_RPM} and {MAX_RPM} rpm"),
+                    format!("point {}: engine speed {m}", i + 1),
                 ));
             }
-            if !(nm.is_finite() && nm > 0.0 && nm <= MAX_TORQUE_NM) {
-                return Err(InputError::new(at, "torque must be a positive number"));
+            if !CURVE_TORQUE.admits(nm) {
+                let m = CURVE_TORQUE.message(units);
+                return Err(InputError::new(at, format!("point {}: torque {m}", i + 1)));
             }
         }
         let mut order: Vec<usize> = (0..points.len()).collect();
@@ -54,7 +49,7 @@ impl TorqueCurve {
                 if nm.last() != Some(&t) {
                     return Err(InputError::new(
                         format!("{field}[{i}]"),
-                        format!("gives a second, different torque at {r} rpm"),
+                        format!("point {}: a second, different torque at {r} rpm", i + 1),
                     ));
                 }
                 continue;
@@ -137,7 +132,7 @@ mod tests {
             (4000.0, 455.0),
             (4000.0, 455.0),
         ];
-        TorqueCurve::new(&pts, "engine.torque_curve").expect("valid curve")
+        TorqueCurve::new(&pts, "engine.torque_curve", Units::Metric).expect("valid curve")
     }
 
     #[test]
@@ -153,7 +148,11 @@ mod tests {
 
     #[test]
     fn bad_points_name_their_index() {
-        let field = |pts: &[(f64, f64)]| TorqueCurve::new(pts, "c").err().map(|e| e.field);
+        let field = |pts: &[(f64, f64)]| {
+            TorqueCurve::new(pts, "c", Units::Metric)
+                .err()
+                .map(|e| e.field)
+        };
         assert_eq!(field(&[(3000.0, 1.0), (4000.0, 2.0)]), Some("c".into()));
         assert_eq!(
             field(&[(3000.0, 1.0), (4000.0, 2.0), (4000.0, 3.0)]),

@@ -10,6 +10,7 @@
 //! conversion is needed: clamp loss comes out in lbf or N.
 
 use super::InputError;
+use super::quantity::{Limit, limits};
 use super::regression::fit_line;
 use super::units::Units;
 use serde::{Deserialize, Serialize};
@@ -102,19 +103,23 @@ pub struct WearPoint {
 pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
     let u = req.units;
     let tol = u.mm_to_length(AT_LIMIT_TOLERANCE_MM);
-    let max_len = u.mm_to_length(1000.0);
-    let h0 = super::require_positive("baseline_cover_height", req.baseline_cover_height, max_len)?;
-    let limit = super::require_positive("shimming_limit", req.shimming_limit, max_len)?;
-    let allowance =
-        super::require_positive("disc_wear_allowance", req.disc_wear_allowance, max_len)?;
+    let shown = |limit: Limit, field: &str, v: f64| limit.check_shown(field, v, u).map(|_| v);
+    let h0 = shown(
+        limits::COVER_HEIGHT,
+        "baseline_cover_height",
+        req.baseline_cover_height,
+    )?;
+    let limit = shown(limits::SHIMMING_LIMIT, "shimming_limit", req.shimming_limit)?;
+    let allowance = shown(
+        limits::DISC_THICKNESS,
+        "disc_wear_allowance",
+        req.disc_wear_allowance,
+    )?;
     for (i, &s) in req.shims.iter().enumerate() {
-        super::require_positive(&format!("shims[{i}]"), s, max_len)?;
+        shown(limits::SHIM, &format!("shims[{i}]"), s)?;
     }
-    if req.spring_count == 0 || req.spring_count > 24 {
-        return Err(InputError::new("spring_count", "must be 1 to 24"));
-    }
-    let rate =
-        super::require_positive("spring_rate", req.spring_rate, u.n_per_mm_to_rate(20_000.0))?;
+    limits::SPRING_COUNT.check("spring_count", req.spring_count as f64, u)?;
+    let rate = shown(limits::SPRING_RATE, "spring_rate", req.spring_rate)?;
     if req.measurements.is_empty() {
         return Err(InputError::new(
             "measurements",
@@ -125,10 +130,10 @@ pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
     let mut points = Vec::with_capacity(req.measurements.len());
     let mut prev: Option<&Measurement> = None;
     for (i, m) in req.measurements.iter().enumerate() {
-        super::require_positive(
+        shown(
+            limits::COVER_HEIGHT,
             &format!("measurements[{i}].cover_height"),
             m.cover_height,
-            max_len,
         )?;
         if m.shims_pulled as usize > req.shims.len() {
             return Err(InputError::new(

@@ -68,10 +68,7 @@ pub async fn search(
     Ok((rows, total))
 }
 
-pub async fn insert(
-    conn: &mut SqliteConnection,
-    c: &Checked<CustomerInput>,
-) -> sqlx::Result<i64> {
+pub async fn insert(conn: &mut SqliteConnection, c: &Checked<CustomerInput>) -> sqlx::Result<i64> {
     super::record::insert(conn, "customers", &[], c).await
 }
 

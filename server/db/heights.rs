@@ -87,7 +87,13 @@ pub async fn insert(
     user_id: i64,
     h: &Checked<HeightInput>,
 ) -> sqlx::Result<i64> {
-    super::record::insert(conn, "cover_heights", &[("build_id", build_id), ("user_id", user_id)], h).await
+    super::record::insert(
+        conn,
+        "cover_heights",
+        &[("build_id", build_id), ("user_id", user_id)],
+        h,
+    )
+    .await
 }
 
 pub async fn update(

@@ -42,7 +42,13 @@ pub async fn insert(
     user_id: i64,
     p: &Checked<PassInput>,
 ) -> sqlx::Result<i64> {
-    super::record::insert(conn, "passes", &[("build_id", build_id), ("user_id", user_id)], p).await
+    super::record::insert(
+        conn,
+        "passes",
+        &[("build_id", build_id), ("user_id", user_id)],
+        p,
+    )
+    .await
 }
 
 pub async fn update(

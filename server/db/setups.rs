@@ -42,7 +42,13 @@ pub async fn insert(
     user_id: i64,
     s: &Checked<SetupInput>,
 ) -> sqlx::Result<i64> {
-    super::record::insert(conn, "setup_changes", &[("build_id", build_id), ("user_id", user_id)], s).await
+    super::record::insert(
+        conn,
+        "setup_changes",
+        &[("build_id", build_id), ("user_id", user_id)],
+        s,
+    )
+    .await
 }
 
 pub async fn update(

@@ -376,34 +376,13 @@ fn check_curve(
     column: &str,
     units: Units,
 ) -> Result<Vec<[f64; 2]>, (Option<usize>, String)> {
-    use crate::clutch::quantity::limits::{CURVE_POINTS, CURVE_TORQUE, ENGINE_SPEED};
     if points.is_empty() {
         return Ok(Vec::new());
     }
-    if points.len() > CURVE_POINTS {
-        return Err((None, format!("at most {CURVE_POINTS} points")));
-    }
-    for (i, [rpm, nm]) in points.iter().enumerate() {
-        if !ENGINE_SPEED.admits(*rpm) {
-            let m = ENGINE_SPEED.message(units);
-            return Err((Some(i), format!("point {}: engine speed {m}", i + 1)));
-        }
-        if !CURVE_TORQUE.admits(*nm) {
-            let m = CURVE_TORQUE.message(units);
-            return Err((Some(i), format!("point {}: torque {m}", i + 1)));
-        }
-    }
     let pairs: Vec<(f64, f64)> = points.iter().map(|p| (p[0], p[1])).collect();
-    match crate::clutch::torque_curve::TorqueCurve::new(&pairs, column) {
+    match crate::clutch::torque_curve::TorqueCurve::new(&pairs, column, units) {
         Ok(curve) => Ok(curve.points().map(|(r, t)| [r, t]).collect()),
-        Err(e) => {
-            let index = split_path(&e.field).1;
-            let message = match index {
-                Some(i) => format!("point {}: {}", i + 1, e.message),
-                None => e.message,
-            };
-            Err((index, message))
-        }
+        Err(e) => Err((split_path(&e.field).1, e.message)),
     }
 }
 

@@ -129,20 +129,27 @@ impl HeightInput {
         ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
-        let checked = field::check(self, ctx, errors)?;
-        let mut errors = FieldErrors::default();
-        let this = &*checked;
+        let mut errors = errors;
+        self.context_faults(hc, &mut errors);
+        field::check(self, ctx, errors)
+    }
+
+    /// The rules against the build's other records (they come first: "between 0 and 3, the
+    /// shims in this build's stack" says more than the general limit).
+    fn context_faults(&self, hc: HeightContext, errors: &mut FieldErrors) {
+        let errors = &mut *errors;
+        let this = self;
         let stack = hc.shims_in_stack as i64;
         if this.shims_pulled > stack {
             Self::fault(
-                &mut errors,
+                errors,
                 "shims_pulled",
                 format!("must be between 0 and {stack} (the shims in this build's stack)"),
             );
         }
         if this.new_disc && this.shims_pulled != 0 {
             Self::fault(
-                &mut errors,
+                errors,
                 "shims_pulled",
                 "a new disc starts with the full shim stack (0 pulled)",
             );
@@ -150,14 +157,14 @@ impl HeightInput {
         if let Some((passes, pulled)) = hc.next {
             if this.passes > passes {
                 Self::fault(
-                    &mut errors,
+                    errors,
                     "passes",
                     format!("the next measurement is at {passes} passes"),
                 );
             }
             if this.shims_pulled > pulled {
                 Self::fault(
-                    &mut errors,
+                    errors,
                     "shims_pulled",
                     format!("the next measurement has {pulled} shims pulled"),
                 );
@@ -166,19 +173,18 @@ impl HeightInput {
         if let Some((passes, pulled)) = hc.previous.filter(|_| !this.new_disc) {
             if this.passes < passes {
                 Self::fault(
-                    &mut errors,
+                    errors,
                     "passes",
                     format!("passes cannot go backwards: the last measurement was at {passes}"),
                 );
             }
             if this.shims_pulled < pulled {
                 Self::fault(
-                    &mut errors,
+                    errors,
                     "shims_pulled",
                     format!("{pulled} shims were already pulled; a pulled shim does not go back"),
                 );
             }
         }
-        errors.into_result(checked)
     }
 }

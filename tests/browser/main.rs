@@ -52,7 +52,7 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
         ("spring_count", "6"),
         ("spring_description", "coil, 2.10 in free"),
         ("spring_rate", "380"),
-        ("adjuster_thread", "16"),
+        ("adjuster_tpi", "16"),
         ("base_compression", "0.220"),
         ("lever_count", "3"),
         ("lever_mass_g", "12"),

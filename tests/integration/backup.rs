@@ -837,7 +837,11 @@ async fn an_admin_downloads_a_checked_backup_and_the_export_and_a_tech_is_refuse
     assert_eq!(headers[header::CONTENT_TYPE], "application/vnd.sqlite3");
     assert_eq!(
         headers[header::CONTENT_DISPOSITION],
-        format!("attachment; filename=\"lockpoint-{}.db\"", Date::today()).as_str()
+        format!(
+            "attachment; filename=\"lockpoint-{}.db\"",
+            Date::today(&lockpoint::records::date::ShopZone::server())
+        )
+        .as_str()
     );
     assert!(
         bytes.starts_with(b"SQLite format 3\0"),

@@ -86,7 +86,10 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
         "{}",
         page.body
     );
-    assert!(page.body.contains("facing od: 10.400 in → 10.500 in"));
+    assert!(
+        page.body
+            .contains("Facing outer diameter: 10.400 in → 10.500 in")
+    );
     assert!(page.body.contains("boss"));
     assert!(page.body.contains("recorded a cover-height measurement"));
 
