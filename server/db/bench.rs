@@ -100,7 +100,7 @@ pub async fn insert(
              VALUES (?, ?, ?, ?, ?)",
         )
         .bind(id)
-        .bind(i as i64 + 1)
+        .bind(s.position.unwrap_or(i as i64 + 1))
         .bind(s.free_length_mm)
         .bind(s.compression_mm)
         .bind(s.force_n)

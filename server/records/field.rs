@@ -233,7 +233,7 @@ pub fn read<R: Record>(form: &FormData, units: Units) -> (R, FieldErrors) {
                         None => {
                             fault(
                                 Some(i),
-                                format!("{item} {}: {text:?} is not a number", i + 1),
+                                format!("{item} {}: “{text}” is not a number", i + 1),
                             );
                             values.push(f64::NAN);
                         }
@@ -262,7 +262,7 @@ pub fn read<R: Record>(form: &FormData, units: Units) -> (R, FieldErrors) {
                             fault(
                                 Some(points.len()),
                                 format!(
-                                    "line {}: expected an engine speed and a torque, got {:?}",
+                                    "line {}: expected an engine speed and a torque, got “{}”",
                                     line_no + 1,
                                     line
                                 ),

@@ -12,4 +12,5 @@ mod routes;
 mod sheets;
 mod support;
 mod tune;
+mod units;
 mod wear;
