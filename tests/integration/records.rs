@@ -464,6 +464,9 @@ async fn a_bad_spring_reading_is_marked_beside_its_own_input() {
         .find("name=\"force_3\" value=\"-5\"")
         .expect("typed value kept");
     let after = &reply.body[cell..cell + 400];
-    assert!(after.contains("class=\"msg\">must be above 0"), "{after}");
+    assert!(
+        after.contains("class=\"msg\" id=\"force_3-msg\">must be above 0"),
+        "{after}"
+    );
     assert_eq!(app.count("bench_tests").await, 0);
 }
