@@ -3,15 +3,14 @@
 use serde::Serialize;
 use sqlx::{FromRow, SqliteConnection};
 
-use crate::sheet::SheetInputs;
-
+/// A stored sheet. `inputs` is its snapshot, a JSON document the `sheet` module writes and
+/// reads; the database keeps it as it was printed.
 #[derive(Debug, Clone, FromRow)]
 pub struct Sheet {
     pub id: i64,
     pub build_id: i64,
     pub prepared_on: String,
-    #[sqlx(json)]
-    pub inputs: SheetInputs,
+    pub inputs: String,
     pub created_at: String,
 }
 
@@ -41,19 +40,21 @@ pub enum LinkState {
     Unknown,
 }
 
+/// Stores a sheet's snapshot (`inputs`, a JSON document) prepared on `prepared_on`.
 pub async fn insert(
     conn: &mut SqliteConnection,
     build_id: i64,
     user_id: i64,
-    inputs: &SheetInputs,
+    prepared_on: &str,
+    inputs: &str,
 ) -> sqlx::Result<i64> {
     sqlx::query_scalar(
         "INSERT INTO sheets (build_id, prepared_by, prepared_on, inputs) VALUES (?, ?, ?, ?) RETURNING id",
     )
     .bind(build_id)
     .bind(user_id)
-    .bind(&inputs.prepared_on)
-    .bind(sqlx::types::Json(inputs))
+    .bind(prepared_on)
+    .bind(inputs)
     .fetch_one(conn)
     .await
 }

@@ -261,7 +261,8 @@ pub async fn create(
         &settings.ctx().today.to_string(),
         targets,
     );
-    let id = db::sheets::insert(&mut tx, build_id, user.id, &inputs).await?;
+    let snapshot = serde_json::to_string(&inputs)?;
+    let id = db::sheets::insert(&mut tx, build_id, user.id, &inputs.prepared_on, &snapshot).await?;
     tx.commit().await?;
     Ok(Redirect::to(&format!("/sheets/{id}")).into_response())
 }
@@ -286,7 +287,8 @@ async fn staff_page(
         new_link,
         errors,
     };
-    Ok(SheetPage::new(sheet.inputs, Some(tools)).render()?)
+    let inputs: SheetInputs = serde_json::from_str(&sheet.inputs)?;
+    Ok(SheetPage::new(inputs, Some(tools)).render()?)
 }
 
 /// GET /sheets/{id}: the shop's copy, with Print and the customer-link tools.
@@ -397,7 +399,8 @@ pub async fn public(
     };
     let (status, message) = match state {
         LinkState::Live(sheet) => {
-            let html = SheetPage::new(sheet.inputs, None).render()?;
+            let inputs: SheetInputs = serde_json::from_str(&sheet.inputs)?;
+            let html = SheetPage::new(inputs, None).render()?;
             return Ok((
                 [
                     (header::CACHE_CONTROL, "no-store"),
