@@ -148,8 +148,8 @@ fn demo_customers() -> Vec<DemoCustomer> {
             name: "Dana Whitcombe",
             phone: "555-0117",
             cars: vec![DemoCar {
-                description: "'68 fastback, 427 V8, 4-speed",
-                engine: "427 cu in V8, carbureted",
+                description: "two-door, 7.0 L carbureted V8, 4-speed",
+                engine: "7.0 L V8, carbureted",
                 transmission: "4-speed manual",
                 rated_lbf_ft: 600.0,
                 launch_rpm: 4500.0,
@@ -185,8 +185,8 @@ fn demo_customers() -> Vec<DemoCustomer> {
             name: "Marcus Ellery",
             phone: "555-0163",
             cars: vec![DemoCar {
-                description: "'71 coupe, 455 V8, 4-speed",
-                engine: "455 cu in V8, aluminum heads",
+                description: "two-door, 7.5 L V8, 4-speed",
+                engine: "7.5 L V8, aluminum heads",
                 transmission: "4-speed manual, close ratio",
                 rated_lbf_ft: 650.0,
                 launch_rpm: 5000.0,
@@ -236,7 +236,7 @@ fn demo_customers() -> Vec<DemoCustomer> {
             name: "Priya Castellan",
             phone: "555-0190",
             cars: vec![DemoCar {
-                description: "'92 hatchback, turbo 2.0 four, 5-speed",
+                description: "three-door, 2.0 L turbo four, 5-speed",
                 engine: "2.0 L turbocharged four",
                 transmission: "5-speed manual",
                 rated_lbf_ft: 450.0,
@@ -271,8 +271,8 @@ fn demo_customers() -> Vec<DemoCustomer> {
             phone: "555-0128",
             cars: vec![
                 DemoCar {
-                    description: "'79 notchback, 351 V8, 5-speed",
-                    engine: "351 cu in V8",
+                    description: "two-door, 5.8 L V8, 5-speed",
+                    engine: "5.8 L V8",
                     transmission: "5-speed manual",
                     rated_lbf_ft: 500.0,
                     launch_rpm: 4200.0,
@@ -294,8 +294,8 @@ fn demo_customers() -> Vec<DemoCustomer> {
                     }],
                 },
                 DemoCar {
-                    description: "'66 wagon, 396 V8, 4-speed",
-                    engine: "396 cu in V8",
+                    description: "five-door long roof, 6.5 L V8, 4-speed",
+                    engine: "6.5 L V8",
                     transmission: "4-speed manual, wide ratio",
                     rated_lbf_ft: 550.0,
                     launch_rpm: 4000.0,

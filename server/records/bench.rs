@@ -4,7 +4,7 @@ use serde::Deserialize;
 
 use super::field::{self, Ctx, Field, Record, Value, parse_number};
 use super::{Checked, FieldErrors, FormData};
-use crate::clutch::quantity::{Kind, limits};
+use crate::clutch::quantity::{Bound, Kind, Limit, limits};
 use crate::clutch::units::Units;
 
 #[derive(Debug, Clone, Default, Deserialize)]
@@ -207,6 +207,21 @@ impl Record for BenchInput {
 /// form above, so the form names here are only its inputs' stems.
 impl Record for SpringReading {
     const FIELDS: &'static [Field<Self>] = &[
+        Field {
+            column: "position",
+            form: "position",
+            label: "Spring",
+            value: Value::Whole {
+                limit: Limit::new(
+                    Kind::Count,
+                    Bound::Incl(1.0),
+                    Bound::Incl(limits::ADJUSTER_COUNT as f64),
+                ),
+                default: None,
+                get: |r| r.position.unwrap_or(0),
+                set: |r, v| r.position = Some(v),
+            },
+        },
         Field {
             column: "free_length_mm",
             form: "free_length",

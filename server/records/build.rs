@@ -342,7 +342,9 @@ impl Record for BuildInput {
     ];
 
     fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {
-        if self.facing_id_mm >= self.facing_od_mm {
+        // Rules between two fields only speak when both fields passed their own checks.
+        let ok = |errors: &FieldErrors, columns: &[&str]| columns.iter().all(|c| !errors.has(c));
+        if ok(errors, &["facing_od_mm", "facing_id_mm"]) && self.facing_id_mm >= self.facing_od_mm {
             Self::fault(
                 errors,
                 "facing_id_mm",
@@ -350,6 +352,7 @@ impl Record for BuildInput {
             );
         }
         if let (Some(new), Some(min)) = (self.disc_thickness_new_mm, self.disc_thickness_min_mm)
+            && ok(errors, &["disc_thickness_new_mm", "disc_thickness_min_mm"])
             && min >= new
         {
             Self::fault(
@@ -366,11 +369,19 @@ impl Record for BuildInput {
             );
         }
         match (self.cover_height_free_mm, self.cover_height_installed_mm) {
-            (Some(free), Some(inst)) if inst > free => Self::fault(
-                errors,
-                "cover_height_installed_mm",
-                "installed height must not exceed the free height",
-            ),
+            (Some(free), Some(inst))
+                if inst > free
+                    && ok(
+                        errors,
+                        &["cover_height_free_mm", "cover_height_installed_mm"],
+                    ) =>
+            {
+                Self::fault(
+                    errors,
+                    "cover_height_installed_mm",
+                    "installed height must not exceed the free height",
+                )
+            }
             (Some(_), None) => Self::fault(
                 errors,
                 "cover_height_installed_mm",

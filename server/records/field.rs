@@ -481,17 +481,24 @@ pub fn show_stored<R: Record>(f: &Field<R>, stored: &Json, units: Units) -> Stri
     }
 }
 
-/// A stored column of an audited table in words: its label and its value in `units`, as the
-/// pages show it; `None` for a column no record declares (ids, stamps, links).
+/// A stored column of an audited table in words: its place in the record's declaration, its
+/// label and its value in `units`, as the pages show it; `None` for a column no record declares
+/// (ids, stamps, links).
 pub fn stored_view(
     table: &str,
     column: &str,
     value: &Json,
     units: Units,
-) -> Option<(&'static str, String)> {
+) -> Option<(usize, &'static str, String)> {
     use super::{bench, build, car, customer, height, pass, settings, setup};
-    fn view<R: Record>(column: &str, value: &Json, units: Units) -> Option<(&'static str, String)> {
-        R::field(column).map(|f| (f.label, show_stored(f, value, units)))
+    fn view<R: Record>(
+        column: &str,
+        value: &Json,
+        units: Units,
+    ) -> Option<(usize, &'static str, String)> {
+        let i = R::FIELDS.iter().position(|f| f.column == column)?;
+        let f = &R::FIELDS[i];
+        Some((i, f.label, show_stored(f, value, units)))
     }
     match table {
         "customers" => view::<customer::CustomerInput>(column, value, units),

@@ -98,10 +98,14 @@ pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
         _ => "deleted",
     };
     let mut details = Vec::new();
-    let keys: Vec<&String> = after
+    // In the order the record declares its fields; other columns after them.
+    let mut keys: Vec<&String> = after
         .keys()
         .chain(before.keys().filter(|k| !after.contains_key(*k)))
         .collect();
+    keys.sort_by_key(|k| {
+        field::stored_view(&e.table_name, k, &Value::Null, u.units).map_or(usize::MAX, |v| v.0)
+    });
     for key in keys {
         if key == "id" || key.ends_with("_id") {
             continue;
@@ -117,7 +121,7 @@ pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
             "create" => {
                 let (label, value) = show(new);
                 let flag_off = value == "no" && new.is_some_and(|v| v == 0 || v == false);
-                let empty = new.is_none_or(|v| v.is_null() || v == "");
+                let empty = new.is_none_or(|v| v.is_null() || v == "" || v == "[]");
                 if !empty && !flag_off {
                     details.push(format!("{label}: {value}"));
                 }
@@ -151,7 +155,7 @@ fn shown(units: Units, table: &str, column: &str, v: Option<&Value>) -> (String,
     let Some(v) = v else {
         return (column.replace('_', " "), "–".into());
     };
-    if let Some((label, text)) = field::stored_view(table, column, v, units) {
+    if let Some((_, label, text)) = field::stored_view(table, column, v, units) {
         return (label.to_string(), text);
     }
     let text = match v {
@@ -253,9 +257,9 @@ mod tests {
         assert_eq!(
             line.details,
             vec![
-                "ET: 10.880 s".to_string(),
+                "Date: 2026-10-04".to_string(),
                 "Launch speed: 4600 rpm".to_string(),
-                "Date: 2026-10-04".to_string()
+                "ET: 10.880 s".to_string()
             ]
         );
     }

@@ -33,7 +33,7 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
     harness::click(&c, "button.primary").await;
     harness::expect_text(&c, "Wren Castellanos").await;
     harness::click_link(&c, "Add a car").await;
-    harness::fill(&c, "input[name=description]", "'70 coupe, 440 V8, 4-speed").await;
+    harness::fill(&c, "input[name=description]", "two-door, 7.2 L V8, 4-speed").await;
     harness::fill(&c, "input[name=launch_rpm]", "4500").await;
     harness::fill(&c, "input[name=rated_input_torque]", "650").await;
     harness::fill(&c, "textarea[name=torque_curve]", CURVE).await;

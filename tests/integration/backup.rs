@@ -190,7 +190,7 @@ async fn a_backup_taken_while_writes_go_on_is_sound_and_holds_every_earlier_comm
         add_customer(
             &pool,
             &format!("Early Customer {i}"),
-            "'70 coupe, 440 V8, 4-speed",
+            "two-door, 7.2 L V8, 4-speed",
         )
         .await;
     }
@@ -344,7 +344,7 @@ async fn restore_is_refused_while_the_server_runs_and_brings_the_backup_back_onc
     let db_path = scratch.path("shop.db");
     let saved = scratch.path("saved.db");
     let pool = db::open(&db_path).await.unwrap();
-    add_customer(&pool, "Orla Brennick", "'68 fastback, 427, 4-speed").await;
+    add_customer(&pool, "Orla Brennick", "two-door, 7.0 L, 4-speed").await;
     add_customer(&pool, "Tomas Yelverton", "altered, blown big-block").await;
     backup::backup_file(&db_path, &saved).await.unwrap();
     add_customer(&pool, "After The Backup", "must go away on restore").await;

@@ -236,7 +236,7 @@ async fn a_stored_build_answers_its_wear() {
             "POST",
             &format!("/api/v1/customers/{}/cars", c["id"]),
             ts,
-            Some(json!({"description": "'72 coupe, 350 V8, 4-speed"})),
+            Some(json!({"description": "two-door, 5.7 L V8, 4-speed"})),
         )
         .await
         .json();

@@ -229,7 +229,7 @@ fn client(run: &Run, addr: SocketAddr, stop: &AtomicBool, me: usize, seq: &mut u
                 "cars",
                 format!("/api/v1/customers/{}/cars", run.parent_customer),
                 "description",
-                format!("'70 coupe, 440 V8, 4-speed, unit {me}-{n}"),
+                format!("two-door, 7.2 L V8, 4-speed, unit {me}-{n}"),
             )
         } else {
             (

@@ -401,8 +401,8 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
             ("notes".into(), "Brings the car on a trailer.".into()),
         ],
         "/customers/{id}/cars" | "/cars/{id}" => pairs(&[
-            ("description", "'70 coupe, 440 V8, 4-speed"),
-            ("engine", "440 V8"),
+            ("description", "two-door, 7.2 L V8, 4-speed"),
+            ("engine", "7.2 L V8"),
             ("weight", "3500"),
             ("transmission", "4-speed manual"),
             ("rated_input_torque", "600"),
@@ -527,7 +527,7 @@ fn base_json(template: &str, n: u64, rng: &mut Rng) -> Value {
         "/customers" | "/customers/{id}" => json!({"name": format!("Test Customer {n}"),
             "phone": "555-0100", "email": format!("customer{n}@example.test"), "notes": "API"}),
         "/customers/{id}/cars" | "/cars/{id}" => json!({
-            "description": "'70 coupe, 440 V8, 4-speed", "engine": "440 V8", "weight_kg": 1600.0,
+            "description": "two-door, 7.2 L V8, 4-speed", "engine": "7.2 L V8", "weight_kg": 1600.0,
             "transmission": "4-speed manual", "rated_input_torque_nm": 800.0,
             "first_gear_ratio": 2.64, "final_drive_ratio": 4.10, "tire_diameter_mm": 720.0,
             "launch_rpm": 4500.0,

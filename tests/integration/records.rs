@@ -196,7 +196,7 @@ async fn the_api_records_a_whole_build_and_names_bad_fields() {
             "POST",
             &format!("/api/v1/customers/{cid}/cars"),
             t,
-            Some(json!({"description": "'69 coupe, 428 V8, 4-speed",
+            Some(json!({"description": "two-door, 7.0 L V8, 4-speed",
                         "torque_curve_nm": [[3000, 550], [5000, 650], [4000, 600], [6000, 620]]})),
         )
         .await;
@@ -331,7 +331,7 @@ async fn customers_are_found_by_name_phone_or_car() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     client.record_build().await;
-    for q in ["lindq", "0101", "440 v8"] {
+    for q in ["lindq", "0101", "7.2 l v8"] {
         let page = client.get(&format!("/?q={}", q.replace(' ', "+"))).await;
         assert!(page.body.contains("Avery Lindqvist"), "search {q:?}");
     }

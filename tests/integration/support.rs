@@ -228,7 +228,7 @@ impl Client<'_> {
             .post(
                 &format!("/customers/{customer}/cars"),
                 &[
-                    ("description", "'70 coupe, 440 V8, 4-speed"),
+                    ("description", "two-door, 7.2 L V8, 4-speed"),
                     ("launch_rpm", "4500"),
                     ("torque_curve", CURVE),
                 ],

@@ -34,7 +34,7 @@ async fn build_with_stack(app: &TestApp) -> (i64, String) {
             "POST",
             &format!("/api/v1/customers/{}/cars", c["id"]),
             t,
-            Some(json!({"description": "'67 coupe, 390 V8, 4-speed"})),
+            Some(json!({"description": "two-door, 6.4 L V8, 4-speed"})),
         )
         .await
         .json();
