@@ -107,7 +107,7 @@ pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
         field::stored_view(&e.table_name, k, &Value::Null, u.units).map_or(usize::MAX, |v| v.0)
     });
     for key in keys {
-        if key == "id" || key.ends_with("_id") {
+        if LINK_COLUMNS.contains(&key.as_str()) {
             continue;
         }
         let show = |v: Option<&Value>| shown(u.units, &e.table_name, key, v);
@@ -145,6 +145,17 @@ pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
         details,
     }
 }
+
+/// Columns that only link rows together; the line names its record already.
+const LINK_COLUMNS: [&str; 7] = [
+    "id",
+    "build_id",
+    "car_id",
+    "customer_id",
+    "bench_test_id",
+    "sheet_id",
+    "user_id",
+];
 
 /// Yes/no columns of tables that are not records (staff accounts), stored as 0 or 1.
 const ACCOUNT_FLAGS: [&str; 2] = ["disabled", "password_changed"];
