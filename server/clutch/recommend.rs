@@ -279,7 +279,7 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
     let target_rpm = super::require_range("targets.lockup_rpm", req.targets.lockup_rpm, lo, hi)?;
     let target_ratio = match req.targets.launch_ratio {
         Some(r) => {
-            super::require_positive("targets.launch_ratio", r, 10.0)?;
+            limits::LAUNCH_RATIO.check("targets.launch_ratio", r, req.setup.units)?;
             if valid.launch_rpm.is_none() {
                 return Err(InputError::new(
                     "launch_rpm",

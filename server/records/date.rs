@@ -95,6 +95,11 @@ impl ShopZone {
         Self(jiff::tz::TimeZone::try_system().unwrap_or(jiff::tz::TimeZone::UTC))
     }
 
+    /// The zone's IANA name ("America/Chicago"), or "UTC" when it has none.
+    pub fn name(&self) -> &str {
+        self.0.iana_name().unwrap_or("UTC")
+    }
+
     /// A stored UTC stamp (`2026-11-02T10:00:00Z`) as the shop's local date and time
     /// (`2026-11-02 04:00`); text that is not a stamp is returned as it is.
     pub fn local_stamp(&self, utc: &str) -> String {

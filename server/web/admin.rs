@@ -1,7 +1,7 @@
 //! Admin pages: the shop's settings and the staff accounts.
 
 use askama::Template;
-use axum::extract::State;
+use axum::extract::{Query, State};
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
@@ -13,6 +13,7 @@ use crate::clutch::units::Units;
 use crate::db;
 use crate::db::users::User;
 use crate::error::{AppError, AppResult};
+use crate::records::date::ShopZone;
 use crate::records::field;
 use crate::records::settings::SettingsInput;
 use crate::records::user::{NewUser, Role, check_password};
@@ -25,6 +26,8 @@ pub struct SettingsPage {
     pub form: FormData,
     pub errors: FieldErrors,
     pub saved: bool,
+    /// The server's own time zone, used when the shop names none.
+    pub server_zone: String,
 }
 
 /// The settings form prefilled, numbers in the shop's units (and which units those are).
@@ -34,7 +37,17 @@ fn settings_form(s: &SettingsInput) -> FormData {
     form
 }
 
-pub async fn settings(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
+#[derive(Debug, Default, serde::Deserialize)]
+#[serde(default)]
+pub struct SavedQuery {
+    saved: String,
+}
+
+pub async fn settings(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    Query(q): Query<SavedQuery>,
+) -> AppResult<Html<String>> {
     user.require_admin()?;
     let mut conn = state.pool.acquire().await?;
     let (page, settings) = Layout::load(&mut conn, &user, "settings", "Shop settings").await?;
@@ -44,7 +57,8 @@ pub async fn settings(State(state): State<AppState>, user: CurrentUser) -> AppRe
             page,
             form,
             errors: FieldErrors::default(),
-            saved: false,
+            saved: q.saved == "1",
+            server_zone: ShopZone::server().name().to_string(),
         }
         .render()?,
     ))
@@ -77,6 +91,7 @@ pub async fn save_settings(
                 form,
                 errors,
                 saved: false,
+                server_zone: ShopZone::server().name().to_string(),
             };
             Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response())
         }

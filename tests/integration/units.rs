@@ -286,8 +286,12 @@ async fn switching_the_display_units_keeps_the_stored_values() {
         StatusCode::SEE_OTHER
     );
     assert!((stored().await - before).abs() < 1e-12);
-    let metric = admin.get("/settings").await;
+    let metric = admin.get("/settings?saved=1").await;
     assert!(metric.body.contains("value=\"0.38\""), "shown in mm now");
+    assert!(
+        metric.body.contains("Settings saved."),
+        "the save is confirmed"
+    );
     assert_eq!(
         save("imperial", "metric", "0.38").await.status,
         StatusCode::SEE_OTHER
