@@ -22,7 +22,9 @@ pub struct SettingsInput {
     pub shimming_limit_mm: f64,
     pub overclamp_factor: f64,
     pub due_within_passes: i64,
-    /// IANA time zone name; empty for the server's own zone.
+    /// IANA time zone name; empty for the server's own zone. (Sheets printed before the
+    /// setting existed keep settings without it.)
+    #[serde(default)]
     pub time_zone: String,
 }
 

@@ -181,3 +181,39 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
         .await;
     assert_eq!(bad_days.status, StatusCode::UNPROCESSABLE_ENTITY);
 }
+
+/// A sheet printed by an earlier release (its stored snapshot and the page its customer link
+/// showed then, both kept under `tests/fixtures/`) reprints byte for byte: stored sheets never
+/// change when the code around them does. A deliberate change of the sheet's layout for every
+/// sheet, old ones included, replaces the HTML fixture in the same commit and says so.
+#[tokio::test]
+async fn a_sheet_printed_by_an_earlier_release_reprints_byte_for_byte() {
+    let app = TestApp::new().await;
+    let id = demo_build(&app).await;
+    let snapshot = include_str!("../fixtures/sheet-printed-2026-12.json");
+    let printed = include_str!("../fixtures/sheet-printed-2026-12.html");
+    let sheet: i64 = sqlx::query_scalar(
+        "INSERT INTO sheets (build_id, prepared_by, prepared_on, inputs)
+         VALUES (?, (SELECT id FROM users WHERE username = 'sam'), '2026-12-02', ?) RETURNING id",
+    )
+    .bind(id)
+    .bind(snapshot)
+    .fetch_one(&app.pool)
+    .await
+    .unwrap();
+    let client = app.login("sam").await;
+    let made = client
+        .post(&format!("/sheets/{sheet}/links"), &[("valid_days", "14")])
+        .await;
+    let start = made.body.find("/s/").expect("link shown");
+    let link: String = made.body[start..]
+        .chars()
+        .take_while(|c| c.is_ascii_alphanumeric() || matches!(c, '/' | '_' | '-'))
+        .collect();
+    let page = app.get(&link, None).await;
+    assert_eq!(page.status, StatusCode::OK);
+    assert!(
+        page.body == printed,
+        "the reprint differs from the printed sheet"
+    );
+}
