@@ -77,11 +77,6 @@ pub const MIGRATIONS: &[(i64, &str, &str)] = &[
         "turns per adjuster",
         include_str!("../migrations/0005_turns_per_adjuster.sql"),
     ),
-    (
-        6,
-        "shop time zone",
-        include_str!("../migrations/0006_shop_time_zone.sql"),
-    ),
 ];
 
 fn migrator() -> Migrator {
