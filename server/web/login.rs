@@ -108,9 +108,18 @@ pub async fn logout(
     Ok(([(header::SET_COOKIE, clear)], Redirect::to("/login")).into_response())
 }
 
-/// Only local paths are followed after sign-in (no open redirect to another site).
-fn safe_next(next: &str) -> &str {
-    if next.starts_with('/') && !next.starts_with("//") && !next.contains('\\') {
+/// Only a plain local path is followed after sign-in, anything else goes to `/`: no open
+/// redirect to another site (`//host`, `/\\host`, or a tab or newline that browsers drop to
+/// make `/\t/host` read as `//host`), and no character that cannot go in a `Location` header.
+pub fn safe_next(next: &str) -> &str {
+    let plain = next.bytes().all(|b| {
+        b.is_ascii_alphanumeric()
+            || matches!(
+                b,
+                b'/' | b'_' | b'.' | b'~' | b'%' | b'?' | b'&' | b'=' | b'#' | b'-'
+            )
+    });
+    if plain && next.starts_with('/') && !next.starts_with("//") && next.len() <= 2000 {
         next
     } else {
         "/"
@@ -135,5 +144,13 @@ mod tests {
         assert_eq!(safe_next("/builds/3"), "/builds/3");
         assert_eq!(safe_next("//evil.example"), "/");
         assert_eq!(safe_next("https://evil.example"), "/");
+        assert_eq!(safe_next("/\t/evil.example"), "/");
+        assert_eq!(safe_next("/\\evil.example"), "/");
+        assert_eq!(safe_next("/x\ny"), "/");
+        assert_eq!(safe_next(""), "/");
+        assert_eq!(
+            safe_next("/customers?q=a%20b&page=2#top"),
+            "/customers?q=a%20b&page=2#top"
+        );
     }
 }

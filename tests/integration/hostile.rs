@@ -1958,3 +1958,113 @@ async fn thousands_of_hostile_requests_change_nothing_they_are_refused() {
         "the mix has both accepted and refused requests"
     );
 }
+
+/// `next` values that try to leave the site or break the `Location` header after sign-in.
+const HOSTILE_NEXT: &[&str] = &[
+    "/\t/evil.example",
+    "/%09/evil.example",
+    "/\n/evil.example",
+    "/\r/evil.example",
+    "/\x0b/evil.example",
+    "/\x7f/evil.example",
+    "/\0/evil.example",
+    "/\\evil.example",
+    "/\\/evil.example",
+    "//evil.example",
+    "///evil.example",
+    "https://evil.example/",
+    "http:/evil.example",
+    "javascript:alert(1)",
+    " /evil.example",
+    "/ /evil.example",
+    "/\u{2028}/evil.example",
+    "/é",
+    "/customers\r\nSet-Cookie: x=1",
+    "",
+];
+
+/// What a browser may be sent to after sign-in: a path on this site and nothing a browser could
+/// read as another host.
+#[track_caller]
+fn assert_local(location: &str, next: &str) {
+    let plain = location.bytes().all(|b| {
+        b.is_ascii_alphanumeric()
+            || matches!(
+                b,
+                b'/' | b'_' | b'.' | b'~' | b'%' | b'?' | b'&' | b'=' | b'#' | b'-'
+            )
+    });
+    assert!(
+        plain && location.starts_with('/') && !location.starts_with("//"),
+        "next={next:?} sent the browser to {location:?}"
+    );
+}
+
+#[tokio::test]
+async fn sign_ins_with_hostile_next_values_stay_on_the_site_and_never_fail() {
+    let app = TestApp::new().await;
+    for next in HOSTILE_NEXT {
+        // Signing in with the right password: the session is made and the browser stays here.
+        let reply = app
+            .post_form(
+                "/login",
+                &[
+                    ("username", "boss"),
+                    ("password", crate::support::PASSWORD),
+                    ("next", next),
+                ],
+                None,
+            )
+            .await;
+        assert_eq!(
+            reply.status,
+            StatusCode::SEE_OTHER,
+            "next={next:?}: {}",
+            reply.body
+        );
+        assert!(reply.headers.get(header::SET_COOKIE).is_some(), "{next:?}");
+        assert_local(reply.location(), next);
+        // `%09` as three characters is a plain path on this site (no browser reads it as a tab).
+        // A form value is trimmed, so " /evil.example" is the local path "/evil.example".
+        let expected = match *next {
+            "/%09/evil.example" => next,
+            " /evil.example" => "/evil.example",
+            _ => "/",
+        };
+        assert_eq!(reply.location(), expected, "next={next:?}");
+
+        // A signed-in browser following a crafted sign-in link goes nowhere else either.
+        let cookie = reply.headers[header::SET_COOKIE]
+            .to_str()
+            .unwrap()
+            .split(';')
+            .next()
+            .unwrap()
+            .to_string();
+        let query = crate::support::form_encode(&[("next", next)]);
+        let followed = app.get(&format!("/login?{query}"), Some(&cookie)).await;
+        assert_eq!(followed.status, StatusCode::SEE_OTHER, "{next:?}");
+        // The query string is not trimmed: " /evil.example" is not a plain path there.
+        let expected = if *next == "/%09/evil.example" {
+            next
+        } else {
+            "/"
+        };
+        assert_eq!(followed.location(), expected, "GET /login?{query}");
+    }
+
+    // A plain local path is still followed, query and fragment included.
+    let reply = app
+        .post_form(
+            "/login",
+            &[
+                ("username", "sam"),
+                ("password", crate::support::PASSWORD),
+                ("next", "/customers?q=a%20b&page=2"),
+            ],
+            None,
+        )
+        .await;
+    assert_eq!(reply.status, StatusCode::SEE_OTHER);
+    assert_eq!(reply.location(), "/customers?q=a%20b&page=2");
+}
