@@ -4,7 +4,7 @@
 
 use askama::Template;
 use axum::Json;
-use axum::http::StatusCode;
+use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use crate::records::FieldErrors;
@@ -31,6 +31,15 @@ pub enum AppError {
     Invalid(FieldErrors),
     #[error("the request body is too large or malformed")]
     BadRequest,
+    /// The body went past the size limit while it was read (a chunked upload has no length).
+    #[error("the request body is too large")]
+    TooLarge,
+    /// Too many tries: come back after the given number of seconds.
+    #[error("{message}")]
+    TooMany {
+        retry_after_secs: u64,
+        message: &'static str,
+    },
     #[error("internal error: {0}")]
     Internal(String),
 }
@@ -51,6 +60,8 @@ impl AppError {
             Self::Unauthorized => StatusCode::UNAUTHORIZED,
             Self::Invalid(_) => StatusCode::UNPROCESSABLE_ENTITY,
             Self::BadRequest => StatusCode::BAD_REQUEST,
+            Self::TooLarge => StatusCode::PAYLOAD_TOO_LARGE,
+            Self::TooMany { .. } => StatusCode::TOO_MANY_REQUESTS,
             Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
         }
     }
@@ -107,10 +118,19 @@ impl IntoResponse for AppError {
             title: status.canonical_reason().unwrap_or("Error"),
             message: self.public_message(),
         };
-        match page.render() {
+        let mut response = match page.render() {
             Ok(html) => (status, Html(html)).into_response(),
             Err(_) => (status, page.message).into_response(),
+        };
+        if let Self::TooMany {
+            retry_after_secs, ..
+        } = self
+        {
+            response
+                .headers_mut()
+                .insert(header::RETRY_AFTER, HeaderValue::from(retry_after_secs));
         }
+        response
     }
 }
 

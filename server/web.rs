@@ -122,9 +122,16 @@ pub fn app(state: AppState) -> Router {
             header::X_CONTENT_TYPE_OPTIONS,
             HeaderValue::from_static("nosniff"),
         ))
-        .layer(SetResponseHeaderLayer::overriding(
+        // The customer's link page sets its own (no-referrer): keep it.
+        .layer(SetResponseHeaderLayer::if_not_present(
             header::REFERRER_POLICY,
             HeaderValue::from_static("same-origin"),
+        ))
+        // Signed-in pages are never kept by a browser or proxy cache; the stylesheet and
+        // script set their own caching.
+        .layer(SetResponseHeaderLayer::if_not_present(
+            header::CACHE_CONTROL,
+            HeaderValue::from_static("no-store"),
         ))
         .layer(
             CompressionLayer::new()
