@@ -20,6 +20,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
     match cli.command {
         Command::Serve(args) => serve(args).await,
         Command::User(UserCommand::Add { name, role, db }) => {
+            let _commands = backup::DbLock::wait_for_commands(&db.path)?;
             let pool = db::open(&db.path).await?;
             let password = read_password()?;
             let role = match role {
@@ -42,6 +43,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Token(TokenCommand::Create { name, db }) => {
+            let _commands = backup::DbLock::wait_for_commands(&db.path)?;
             let pool = db::open(&db.path).await?;
             let mut conn = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
             let user = db::users::by_name(&mut conn, &name)
@@ -54,6 +56,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Token(TokenCommand::Revoke { token, user, db }) => {
+            let _commands = backup::DbLock::wait_for_commands(&db.path)?;
             let pool = db::open(&db.path).await?;
             let mut conn = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
             let revoked = match (token, user) {
