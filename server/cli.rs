@@ -160,11 +160,16 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
             );
         }
     }
+    tokio::spawn(crate::web::forget_old_failures(pool.clone()));
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);
-    axum::serve(listener, app(AppState::new(pool.clone())))
-        .with_graceful_shutdown(shutdown)
+    axum::serve(
+        listener,
+        app(AppState::new(pool.clone()))
+            .into_make_service_with_connect_info::<std::net::SocketAddr>(),
+    )
+    .with_graceful_shutdown(shutdown)
         .await?;
     pool.close().await;
     tracing::info!("stopped");

@@ -16,6 +16,7 @@ pub mod sessions;
 pub mod settings;
 pub mod setups;
 pub mod sheets;
+pub mod throttle;
 pub mod tokens;
 pub mod users;
 
@@ -75,6 +76,11 @@ pub const MIGRATIONS: &[(i64, &str, &str)] = &[
         5,
         "turns per adjuster",
         include_str!("../migrations/0005_turns_per_adjuster.sql"),
+    ),
+    (
+        6,
+        "sign in throttle",
+        include_str!("../migrations/0006_sign_in_throttle.sql"),
     ),
 ];
 

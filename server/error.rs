@@ -4,7 +4,7 @@
 
 use askama::Template;
 use axum::Json;
-use axum::http::{HeaderValue, StatusCode, header};
+use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use crate::records::FieldErrors;
@@ -34,12 +34,6 @@ pub enum AppError {
     /// The body went past the size limit while it was read (a chunked upload has no length).
     #[error("the request body is too large")]
     TooLarge,
-    /// Too many tries: come back after the given number of seconds.
-    #[error("{message}")]
-    TooMany {
-        retry_after_secs: u64,
-        message: &'static str,
-    },
     #[error("internal error: {0}")]
     Internal(String),
 }
@@ -61,7 +55,6 @@ impl AppError {
             Self::Invalid(_) => StatusCode::UNPROCESSABLE_ENTITY,
             Self::BadRequest => StatusCode::BAD_REQUEST,
             Self::TooLarge => StatusCode::PAYLOAD_TOO_LARGE,
-            Self::TooMany { .. } => StatusCode::TOO_MANY_REQUESTS,
             Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
         }
     }
@@ -118,19 +111,10 @@ impl IntoResponse for AppError {
             title: status.canonical_reason().unwrap_or("Error"),
             message: self.public_message(),
         };
-        let mut response = match page.render() {
+        match page.render() {
             Ok(html) => (status, Html(html)).into_response(),
             Err(_) => (status, page.message).into_response(),
-        };
-        if let Self::TooMany {
-            retry_after_secs, ..
-        } = self
-        {
-            response
-                .headers_mut()
-                .insert(header::RETRY_AFTER, HeaderValue::from(retry_after_secs));
         }
-        response
     }
 }
 

@@ -19,6 +19,7 @@ mod sheets;
 mod show;
 mod wear;
 
+use std::sync::Arc;
 use std::time::Duration;
 
 use axum::Router;
@@ -26,6 +27,7 @@ use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::IntoResponse;
 use axum::routing::{get, post};
 use sqlx::SqlitePool;
+use tokio::sync::Semaphore;
 use tower_http::compression::predicate::{DefaultPredicate, Predicate, SizeAbove};
 use tower_http::compression::{CompressionLayer, CompressionLevel};
 use tower_http::csrf::CsrfLayer;
@@ -35,16 +37,23 @@ use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
 pub use extract::url_encode;
+pub use login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
 
 /// What every handler can reach.
 #[derive(Clone)]
 pub struct AppState {
     pub pool: SqlitePool,
+    /// Password checks allowed at once (see `login::SIGN_IN_SLOTS`); a sign-in that finds
+    /// none free answers 429 at once instead of queueing.
+    pub sign_ins: Arc<Semaphore>,
 }
 
 impl AppState {
     pub fn new(pool: SqlitePool) -> Self {
-        Self { pool }
+        Self {
+            pool,
+            sign_ins: Arc::new(Semaphore::new(login::SIGN_IN_SLOTS)),
+        }
     }
 
     /// Opens the request's write transaction on behalf of a staff member (see

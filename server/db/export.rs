@@ -29,8 +29,14 @@ pub const FORMAT: &str = "lockpoint-export";
 pub const JSON_FILE: &str = "lockpoint-export.json";
 
 /// Tables never exported: the migration history (the target database has its own) and sign-in
-/// state that means nothing on another server (sessions, failed sign-ins).
-pub const SKIPPED: &[&str] = &["_sqlx_migrations", "sessions", "login_failures"];
+/// state that means nothing on another server (sessions, failed sign-ins: `login_failures` up to
+/// migration 5, `login_throttle` since).
+pub const SKIPPED: &[&str] = &[
+    "_sqlx_migrations",
+    "sessions",
+    "login_failures",
+    "login_throttle",
+];
 
 /// One stored value, with SQLite's own storage class.
 #[derive(Debug, Clone, PartialEq)]

@@ -90,26 +90,3 @@ pub async fn set_password(
         .await?;
     Ok(())
 }
-
-/// Records a failed sign-in and returns how many failures that name has in the last 15 minutes.
-pub async fn note_failed_login(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<i64> {
-    // Only the last day matters; older failures are dropped as new ones arrive.
-    sqlx::query("DELETE FROM login_failures WHERE created_at < strftime('%Y-%m-%dT%H:%M:%SZ', 'now', '-1 day')")
-        .execute(&mut *conn)
-        .await?;
-    sqlx::query("INSERT INTO login_failures (username) VALUES (?)")
-        .bind(name)
-        .execute(&mut *conn)
-        .await?;
-    recent_failures(conn, name).await
-}
-
-pub async fn recent_failures(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<i64> {
-    sqlx::query_scalar(
-        "SELECT COUNT(*) FROM login_failures WHERE username = ?
-         AND created_at > strftime('%Y-%m-%dT%H:%M:%SZ', 'now', '-15 minutes')",
-    )
-    .bind(name)
-    .fetch_one(conn)
-    .await
-}

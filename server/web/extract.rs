@@ -267,3 +267,21 @@ impl axum::extract::OptionalFromRequestParts<AppState> for CurrentUser {
         }
     }
 }
+
+/// The address of the client at the other end of the connection (`None` when the server was
+/// not told, as in tests through the router). Forwarding headers are not trusted: anyone can
+/// write them.
+pub struct ClientAddr(pub Option<std::net::IpAddr>);
+
+impl<S: Send + Sync> FromRequestParts<S> for ClientAddr {
+    type Rejection = std::convert::Infallible;
+
+    async fn from_request_parts(parts: &mut Parts, _state: &S) -> Result<Self, Self::Rejection> {
+        Ok(Self(
+            parts
+                .extensions
+                .get::<axum::extract::ConnectInfo<std::net::SocketAddr>>()
+                .map(|info| info.0.ip().to_canonical()),
+        ))
+    }
+}

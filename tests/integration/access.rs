@@ -64,7 +64,8 @@ async fn a_wrong_password_is_refused_and_counted() {
     assert_eq!(reply.status, StatusCode::UNAUTHORIZED);
     assert!(reply.body.contains("do not match"));
     assert!(reply.headers.get(header::SET_COOKIE).is_none());
-    assert_eq!(app.count("login_failures").await, 1);
+    // Counted once against the client and once against the name.
+    assert_eq!(app.count("login_throttle").await, 2);
 }
 
 #[tokio::test]

@@ -574,7 +574,7 @@ async fn export_then_import_into_a_new_database_exports_the_identical_document()
             "{table} is exported"
         );
     }
-    for skipped in ["sessions", "login_failures", "_sqlx_migrations"] {
+    for skipped in ["sessions", "login_throttle", "_sqlx_migrations"] {
         assert!(!tables.contains_key(skipped), "{skipped} is not exported");
     }
     assert!(

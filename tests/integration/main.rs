@@ -10,6 +10,7 @@ mod hostile;
 mod records;
 mod routes;
 mod sheets;
+mod signin;
 mod support;
 mod tune;
 mod wear;

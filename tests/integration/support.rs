@@ -43,6 +43,8 @@ impl Drop for TempDb {
 pub struct TestApp {
     pub pool: SqlitePool,
     pub router: Router,
+    /// The state the router was built with (its sign-in slots, for one).
+    pub state: AppState,
     _db: TempDb,
 }
 
@@ -78,10 +80,12 @@ impl TestApp {
             db::users::insert(&mut conn, &user, &hash).await.unwrap();
         }
         drop(conn);
-        let router = app(AppState::new(pool.clone()));
+        let state = AppState::new(pool.clone());
+        let router = app(state.clone());
         Self {
             pool,
             router,
+            state,
             _db: tmp,
         }
     }
