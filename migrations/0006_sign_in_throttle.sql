@@ -16,5 +16,5 @@ CREATE TABLE login_throttle (
     key              TEXT    PRIMARY KEY,
     failures         INTEGER NOT NULL CHECK (failures > 0),
     last_failure_ms  INTEGER NOT NULL
-) WITHOUT ROWID;
+);
 CREATE INDEX login_throttle_by_age ON login_throttle (last_failure_ms);

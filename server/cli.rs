@@ -164,14 +164,20 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);
-    axum::serve(
+    crate::web::serve::run(
         listener,
-        app(AppState::new(pool.clone()))
-            .into_make_service_with_connect_info::<std::net::SocketAddr>(),
+        app(AppState::new(pool.clone())),
+        shutdown,
+        crate::web::serve::Limits::for_this_process(),
     )
-    .with_graceful_shutdown(shutdown)
-        .await?;
-    pool.close().await;
+    .await;
+    // A request cut off at the shutdown deadline may still hold a connection for a moment.
+    if tokio::time::timeout(std::time::Duration::from_secs(5), pool.close())
+        .await
+        .is_err()
+    {
+        tracing::warn!("the database did not close within 5 s");
+    }
     tracing::info!("stopped");
     Ok(())
 }

@@ -15,6 +15,7 @@ mod history;
 mod home;
 mod layout;
 mod login;
+pub mod serve;
 mod sheets;
 mod show;
 mod wear;

@@ -9,6 +9,7 @@ mod history;
 mod hostile;
 mod records;
 mod routes;
+mod serving;
 mod sheets;
 mod signin;
 mod support;
