@@ -166,7 +166,7 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
     println!("listening on http://{}", listener.local_addr()?);
     crate::web::serve::run(
         listener,
-        app(AppState::new(pool.clone())),
+        app(AppState::new(pool.clone()).with_public_url(args.public_url.clone())),
         shutdown,
         crate::web::serve::Limits::for_this_process(),
     )

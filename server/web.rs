@@ -47,6 +47,8 @@ pub struct AppState {
     /// Password checks allowed at once (see `login::SIGN_IN_SLOTS`); a sign-in that finds
     /// none free answers 429 at once instead of queueing.
     pub sign_ins: Arc<Semaphore>,
+    /// `--public-url`: the address customer links are built from (no trailing `/`).
+    pub public_url: Option<Arc<str>>,
 }
 
 impl AppState {
@@ -54,7 +56,22 @@ impl AppState {
         Self {
             pool,
             sign_ins: Arc::new(Semaphore::new(login::SIGN_IN_SLOTS)),
+            public_url: None,
         }
+    }
+
+    /// The same state, reached by people at `url` (see `--public-url`).
+    #[must_use]
+    pub fn with_public_url(mut self, url: Option<String>) -> Self {
+        self.public_url = url.map(|u| Arc::from(u.trim_end_matches('/')));
+        self
+    }
+
+    /// Whether the session cookie is `Secure`: the server is reached over https.
+    pub fn secure_cookies(&self) -> bool {
+        self.public_url
+            .as_deref()
+            .is_some_and(|u| u.starts_with("https://"))
     }
 
     /// Opens the request's write transaction on behalf of a staff member (see

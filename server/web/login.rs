@@ -182,8 +182,9 @@ pub async fn submit(
     db::throttle::clear(&mut conn, &name).await?;
     drop(conn);
     let cookie = format!(
-        "{SESSION_COOKIE}={token}; Path=/; HttpOnly; SameSite=Lax; Max-Age={}",
-        db::sessions::LIFETIME_DAYS * 86_400
+        "{SESSION_COOKIE}={token}; Path=/; HttpOnly; SameSite=Lax; Max-Age={}{}",
+        db::sessions::LIFETIME_DAYS * 86_400,
+        secure(&state)
     );
     Ok((
         [(header::SET_COOKIE, cookie)],
@@ -228,8 +229,16 @@ pub async fn logout(
         let mut conn = state.pool.acquire().await?;
         db::sessions::delete(&mut conn, &auth::hash_secret(token)).await?;
     }
-    let clear = format!("{SESSION_COOKIE}=; Path=/; HttpOnly; SameSite=Lax; Max-Age=0");
+    let clear = format!(
+        "{SESSION_COOKIE}=; Path=/; HttpOnly; SameSite=Lax; Max-Age=0{}",
+        secure(&state)
+    );
     Ok(([(header::SET_COOKIE, clear)], Redirect::to("/login")).into_response())
+}
+
+/// The cookie attribute that keeps the session cookie off plain http, when served over https.
+fn secure(state: &AppState) -> &'static str {
+    if state.secure_cookies() { "; Secure" } else { "" }
 }
 
 /// Only a plain local path is followed after sign-in, anything else goes to `/`: no open

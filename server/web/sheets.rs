@@ -331,15 +331,22 @@ pub async fn create_link(
     )
     .await?;
     tx.commit().await?;
-    let host = headers
-        .get(header::HOST)
-        .and_then(|h| h.to_str().ok())
-        .filter(|h| {
-            h.chars()
-                .all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | ':' | '-' | '[' | ']'))
-        })
-        .unwrap_or("localhost");
-    let address = format!("http://{host}/s/{secret}");
+    // The configured public address when there is one: the Host header is the client's word.
+    let address = match &state.public_url {
+        Some(base) => format!("{base}/s/{secret}"),
+        None => {
+            let host = headers
+                .get(header::HOST)
+                .and_then(|h| h.to_str().ok())
+                .filter(|h| {
+                    h.chars().all(|c| {
+                        c.is_ascii_alphanumeric() || matches!(c, '.' | ':' | '-' | '[' | ']')
+                    })
+                })
+                .unwrap_or("localhost");
+            format!("http://{host}/s/{secret}")
+        }
+    };
     Ok(Html(
         staff_page(
             &state,
