@@ -82,6 +82,11 @@ pub const MIGRATIONS: &[(i64, &str, &str)] = &[
         "sign in throttle",
         include_str!("../migrations/0006_sign_in_throttle.sql"),
     ),
+    (
+        7,
+        "staff display name",
+        include_str!("../migrations/0007_staff_display_name.sql"),
+    ),
 ];
 
 fn migrator() -> Migrator {

@@ -127,6 +127,7 @@ pub fn app(state: AppState) -> Router {
         .route("/users/{id}/disable", post(admin::disable_user))
         .route("/users/{id}/enable", post(admin::enable_user))
         .route("/users/{id}/password", post(admin::reset_password))
+        .route("/users/{id}/display-name", post(admin::set_display_name))
         .route("/backup", get(backup::page))
         .route("/backup/download", get(backup::download))
         .route("/backup/export.json", get(backup::export_json))

@@ -9,6 +9,8 @@ use crate::records::user::{NewUser, Role};
 pub struct User {
     pub id: i64,
     pub username: String,
+    /// What customers see on a sheet; empty shows the shop's name.
+    pub display_name: String,
     #[serde(skip)]
     pub password_hash: String,
     pub role: String,
@@ -20,10 +22,18 @@ impl User {
     pub fn role(&self) -> Role {
         Role::parse(&self.role).unwrap_or(Role::Tech)
     }
+
+    /// The name a customer sees: the display name, or the shop's name when none is set.
+    pub fn shown_to_customers(&self, shop_name: &str) -> String {
+        match self.display_name.trim() {
+            "" => shop_name.to_string(),
+            name => name.to_string(),
+        }
+    }
 }
 
 pub async fn by_name(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<Option<User>> {
-    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE username = ?")
+    sqlx::query_as("SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users WHERE username = ?")
         .bind(name.trim())
         .fetch_optional(conn)
         .await
@@ -31,7 +41,7 @@ pub async fn by_name(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<Op
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<User>> {
     sqlx::query_as(
-        "SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE id = ?",
+        "SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users WHERE id = ?",
     )
     .bind(id)
     .fetch_optional(conn)
@@ -39,7 +49,7 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
 }
 
 pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<User>> {
-    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users ORDER BY username")
+    sqlx::query_as("SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users ORDER BY username")
         .fetch_all(conn)
         .await
 }
@@ -72,6 +82,19 @@ pub async fn set_disabled(
 ) -> sqlx::Result<()> {
     sqlx::query("UPDATE users SET disabled = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?")
         .bind(disabled)
+        .bind(id)
+        .execute(conn)
+        .await?;
+    Ok(())
+}
+
+pub async fn set_display_name(
+    conn: &mut SqliteConnection,
+    id: i64,
+    display_name: &str,
+) -> sqlx::Result<()> {
+    sqlx::query("UPDATE users SET display_name = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?")
+        .bind(display_name)
         .bind(id)
         .execute(conn)
         .await?;

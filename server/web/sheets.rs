@@ -251,10 +251,14 @@ pub async fn create(
         lockup_rpm: l,
         launch_ratio: ratio,
     });
+    // Customers see a display name (or the shop's name), never a login name.
+    let prepared_by = db::users::by_id(&mut tx, user.id)
+        .await?
+        .map_or_else(|| settings.name.clone(), |u| u.shown_to_customers(&settings.name));
     let inputs = SheetInputs::capture(
         &d,
         &settings,
-        &user.username,
+        &prepared_by,
         &Date::today().to_string(),
         targets,
     );
@@ -401,7 +405,13 @@ pub async fn public(
     };
     let (status, message) = match state {
         LinkState::Live(sheet) => {
-            let html = SheetPage::new(sheet.inputs, None).render()?;
+            let mut inputs = sheet.inputs;
+            // Sheets printed before display names stored the login name: show the display
+            // name (or the shop's name) instead.
+            if let Some(staff) = db::users::by_name(&mut conn, &inputs.prepared_by).await? {
+                inputs.prepared_by = staff.shown_to_customers(&inputs.settings.name);
+            }
+            let html = SheetPage::new(inputs, None).render()?;
             return Ok((
                 [
                     (header::CACHE_CONTROL, "no-store"),

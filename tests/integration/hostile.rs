@@ -286,6 +286,7 @@ const ROUTES: &[Route] = &[
     form("/users/{id}/disable"),
     form("/users/{id}/enable"),
     form("/users/{id}/password"),
+    form("/users/{id}/display-name"),
     api("POST", "/api/v1/customers"),
     api("PUT", "/api/v1/customers/{id}"),
     api("POST", "/api/v1/customers/{id}/cars"),
@@ -313,6 +314,7 @@ const ADMIN_FORMS: &[&str] = &[
     "/users/{id}/disable",
     "/users/{id}/enable",
     "/users/{id}/password",
+    "/users/{id}/display-name",
 ];
 
 /// The records the requests aim at.
@@ -496,6 +498,7 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
             ("role".into(), "tech".into()),
         ],
         "/users/{id}/password" => pairs(&[("password", "another long password")]),
+        "/users/{id}/display-name" => pairs(&[("display_name", "Counter staff")]),
         other => panic!("no base form for {other}"),
     }
 }

@@ -255,3 +255,61 @@ async fn with_a_public_url_links_use_it_and_the_session_cookie_is_secure() {
     let link = customer_link(&plain).await;
     assert!(link.starts_with("http://10.0.0.5:3000/s/"), "{link}");
 }
+
+#[tokio::test]
+async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name() {
+    let app = TestApp::new().await;
+    let link = customer_link(&app).await;
+    let path = link[link.find("/s/").unwrap()..].to_string();
+    let public = app.get(&path, None).await;
+    assert!(public.body.contains("prepared by My clutch shop"), "{}", public.body);
+    assert!(!public.body.contains("prepared by sam"));
+
+    // An admin gives the tech a display name; it shows on new sheets and on the old link.
+    let boss = app.login("boss").await;
+    let sam_id: i64 = sqlx::query_scalar("SELECT id FROM users WHERE username = 'sam'")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    let set = boss
+        .post(
+            &format!("/users/{sam_id}/display-name"),
+            &[("display_name", "Counter <staff>")],
+        )
+        .await;
+    assert_eq!(set.status, StatusCode::SEE_OTHER, "{}", set.body);
+    let too_long = boss
+        .post(
+            &format!("/users/{sam_id}/display-name"),
+            &[("display_name", &"x".repeat(61))],
+        )
+        .await;
+    assert_eq!(too_long.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let newer = customer_link(&app).await;
+    let public = app
+        .get(&newer[newer.find("/s/").unwrap()..], None)
+        .await;
+    assert!(
+        public.body.contains("prepared by Counter &lt;staff&gt;")
+            || public.body.contains("prepared by Counter &#60;staff&#62;"),
+        "{}",
+        public.body
+    );
+    // A sheet stored with the login name (before display names) is shown with the new name.
+    sqlx::query("UPDATE sheets SET inputs = json_set(inputs, '$.prepared_by', 'sam')")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let old = app.get(&path, None).await;
+    assert!(!old.body.contains("prepared by sam"), "{}", old.body);
+    assert!(old.body.contains("prepared by Counter"), "{}", old.body);
+    // A tech may not change it.
+    let sam = app.login("sam").await;
+    let refused = sam
+        .post(
+            &format!("/users/{sam_id}/display-name"),
+            &[("display_name", "Chief")],
+        )
+        .await;
+    assert_eq!(refused.status, StatusCode::FORBIDDEN);
+}
