@@ -104,9 +104,8 @@ impl DbLock {
 
     /// Takes the command lock, waiting while a restore, an import or another command holds it.
     pub fn wait_for_commands(db: &Path) -> Result<Self, BackupError> {
-        Self::take(command_lock_path(db), true)?.ok_or_else(|| {
-            BackupError::Refused("the command lock could not be taken".to_string())
-        })
+        Self::take(command_lock_path(db), true)?
+            .ok_or_else(|| BackupError::Refused("the command lock could not be taken".to_string()))
     }
 
     fn take(path: PathBuf, wait: bool) -> Result<Option<Self>, BackupError> {

@@ -149,9 +149,7 @@ pub async fn submit(
         return too_many(username, next, wait);
     }
     let client_has_failed = client_failures.is_some_and(|c| c.last_failure_ms >= now - WINDOW_MS);
-    if client_has_failed
-        && let Some(wait) = still_waiting(name_failures, NAME_FREE_FAILURES, now)
-    {
+    if client_has_failed && let Some(wait) = still_waiting(name_failures, NAME_FREE_FAILURES, now) {
         return too_many(username, next, wait);
     }
     let Ok(slot) = state.sign_ins.clone().try_acquire_owned() else {
@@ -238,7 +236,11 @@ pub async fn logout(
 
 /// The cookie attribute that keeps the session cookie off plain http, when served over https.
 fn secure(state: &AppState) -> &'static str {
-    if state.secure_cookies() { "; Secure" } else { "" }
+    if state.secure_cookies() {
+        "; Secure"
+    } else {
+        ""
+    }
 }
 
 /// Only a plain local path is followed after sign-in, anything else goes to `/`: no open
@@ -285,7 +287,10 @@ mod tests {
         assert_eq!(still_waiting(None, 5, now), None);
         assert_eq!(still_waiting(c(4, 0), 5, now), None);
         assert_eq!(still_waiting(c(5, 0), 5, now), Some(Duration::from_secs(1)));
-        assert_eq!(still_waiting(c(5, 400), 5, now), Some(Duration::from_millis(600)));
+        assert_eq!(
+            still_waiting(c(5, 400), 5, now),
+            Some(Duration::from_millis(600))
+        );
         assert_eq!(still_waiting(c(5, 1000), 5, now), None);
         assert_eq!(still_waiting(c(100, WINDOW_MS + 1), 5, now), None);
     }

@@ -39,8 +39,8 @@ impl Limits {
     /// The limits `lockpoint serve` uses: up to 1024 connections, fewer when the process may
     /// open fewer files (a quarter of those are kept for the database and the rest).
     pub fn for_this_process() -> Self {
-        let max_connections = open_file_limit()
-            .map_or(1024, |files| (files.saturating_mul(3) / 4).clamp(16, 1024));
+        let max_connections =
+            open_file_limit().map_or(1024, |files| (files.saturating_mul(3) / 4).clamp(16, 1024));
         Self {
             max_connections,
             header_read_timeout: Duration::from_secs(10),
@@ -111,10 +111,8 @@ pub async fn run(
                 .timer(TokioTimer::new())
                 .header_read_timeout(header_timeout)
                 .keep_alive(true);
-            let conn = builder.serve_connection(
-                TokioIo::new(stream),
-                TowerToHyperService::new(service),
-            );
+            let conn =
+                builder.serve_connection(TokioIo::new(stream), TowerToHyperService::new(service));
             let mut conn = std::pin::pin!(conn);
             tokio::select! {
                 _ = conn.as_mut() => {}

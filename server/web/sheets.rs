@@ -252,9 +252,10 @@ pub async fn create(
         launch_ratio: ratio,
     });
     // Customers see a display name (or the shop's name), never a login name.
-    let prepared_by = db::users::by_id(&mut tx, user.id)
-        .await?
-        .map_or_else(|| settings.name.clone(), |u| u.shown_to_customers(&settings.name));
+    let prepared_by = db::users::by_id(&mut tx, user.id).await?.map_or_else(
+        || settings.name.clone(),
+        |u| u.shown_to_customers(&settings.name),
+    );
     let inputs = SheetInputs::capture(
         &d,
         &settings,

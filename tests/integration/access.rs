@@ -249,7 +249,10 @@ async fn signed_in_pages_are_never_stored_by_a_cache() {
         let reply = client.get(path).await;
         assert_eq!(reply.status, StatusCode::OK, "{path}");
         assert_eq!(
-            reply.headers.get(header::CACHE_CONTROL).map(|v| v.to_str().unwrap()),
+            reply
+                .headers
+                .get(header::CACHE_CONTROL)
+                .map(|v| v.to_str().unwrap()),
             Some("no-store"),
             "{path}"
         );
@@ -274,7 +277,12 @@ async fn a_chunked_body_over_the_limit_is_refused_as_too_large() {
         .unwrap();
     assert!(form.headers().get(header::CONTENT_LENGTH).is_none());
     let reply = app.send(form).await;
-    assert_eq!(reply.status, StatusCode::PAYLOAD_TOO_LARGE, "{}", reply.body);
+    assert_eq!(
+        reply.status,
+        StatusCode::PAYLOAD_TOO_LARGE,
+        "{}",
+        reply.body
+    );
 
     let login = Request::post("/login")
         .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
@@ -288,7 +296,12 @@ async fn a_chunked_body_over_the_limit_is_refused_as_too_large() {
         .body(chunks())
         .unwrap();
     let reply = app.send(api).await;
-    assert_eq!(reply.status, StatusCode::PAYLOAD_TOO_LARGE, "{}", reply.body);
+    assert_eq!(
+        reply.status,
+        StatusCode::PAYLOAD_TOO_LARGE,
+        "{}",
+        reply.body
+    );
     assert!(reply.body.contains("too large"), "{}", reply.body);
     assert_eq!(app.count("customers").await, 0);
 }

@@ -928,7 +928,11 @@ async fn csv_export_defuses_text_a_spreadsheet_would_run_and_json_keeps_it_exact
         .iter()
         .map(|row| row["name"].as_str().unwrap())
         .collect();
-    assert_eq!(exported[..hostile.len()], hostile, "the JSON keeps every text as it is");
+    assert_eq!(
+        exported[..hostile.len()],
+        hostile,
+        "the JSON keeps every text as it is"
+    );
 }
 
 #[cfg(unix)]
@@ -997,7 +1001,15 @@ fn the_backup_download_is_staged_beside_the_database_not_in_the_system_temp_fold
     let scratch = Scratch::new();
     let shop = scratch.path("shop.db");
     let mut add = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-        .args(["user", "add", "boss", "--role", "admin", "--db", text(&shop)])
+        .args([
+            "user",
+            "add",
+            "boss",
+            "--role",
+            "admin",
+            "--db",
+            text(&shop),
+        ])
         .stdin(Stdio::piped())
         .stdout(Stdio::null())
         .stderr(Stdio::null())
@@ -1081,7 +1093,11 @@ async fn a_server_started_through_a_symlink_still_blocks_restore_and_import() {
     for path in [real.clone(), scratch.dir.join(".").join("shop.db")] {
         let out = lockpoint(&["restore", text(&saved), "--db", text(&path)]);
         assert!(!out.status.success(), "restore through {}", path.display());
-        assert!(stderr(&out).contains("server is running"), "{}", stderr(&out));
+        assert!(
+            stderr(&out).contains("server is running"),
+            "{}",
+            stderr(&out)
+        );
     }
     let out = lockpoint(&[
         "import",

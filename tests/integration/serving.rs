@@ -135,7 +135,8 @@ fn a_client_that_never_finishes_its_headers_or_sits_idle_is_disconnected() {
     let started = Instant::now();
 
     // One byte a second, never reaching the end of the headers.
-    let request = b"GET /healthz HTTP/1.1\r\nHost: x\r\nX-Slow: aaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa";
+    let request =
+        b"GET /healthz HTTP/1.1\r\nHost: x\r\nX-Slow: aaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa";
     let mut dropped_after = None;
     for byte in request {
         if slow.write_all(&[*byte]).is_err() {
@@ -159,5 +160,9 @@ fn a_client_that_never_finishes_its_headers_or_sits_idle_is_disconnected() {
     let mut rest = Vec::new();
     let waited = Instant::now();
     let _ = idle.read_to_end(&mut rest);
-    assert!(waited.elapsed() < Duration::from_secs(2), "{:?}", waited.elapsed());
+    assert!(
+        waited.elapsed() < Duration::from_secs(2),
+        "{:?}",
+        waited.elapsed()
+    );
 }

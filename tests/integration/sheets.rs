@@ -222,7 +222,8 @@ async fn with_a_public_url_links_use_it_and_the_session_cookie_is_secure() {
     let app = TestApp::reached_at(Some("https://clutch.shop.example/")).await;
     let link = customer_link(&app).await;
     assert!(
-        link.starts_with("https://clutch.shop.example/s/") && link.len() == "https://clutch.shop.example/s/".len() + 64,
+        link.starts_with("https://clutch.shop.example/s/")
+            && link.len() == "https://clutch.shop.example/s/".len() + 64,
         "{link}"
     );
     let reply = app
@@ -262,7 +263,11 @@ async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name()
     let link = customer_link(&app).await;
     let path = link[link.find("/s/").unwrap()..].to_string();
     let public = app.get(&path, None).await;
-    assert!(public.body.contains("prepared by My clutch shop"), "{}", public.body);
+    assert!(
+        public.body.contains("prepared by My clutch shop"),
+        "{}",
+        public.body
+    );
     assert!(!public.body.contains("prepared by sam"));
 
     // An admin gives the tech a display name; it shows on new sheets and on the old link.
@@ -286,9 +291,7 @@ async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name()
         .await;
     assert_eq!(too_long.status, StatusCode::UNPROCESSABLE_ENTITY);
     let newer = customer_link(&app).await;
-    let public = app
-        .get(&newer[newer.find("/s/").unwrap()..], None)
-        .await;
+    let public = app.get(&newer[newer.find("/s/").unwrap()..], None).await;
     assert!(
         public.body.contains("prepared by Counter &lt;staff&gt;")
             || public.body.contains("prepared by Counter &#60;staff&#62;"),

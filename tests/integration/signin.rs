@@ -59,7 +59,10 @@ async fn sign_ins_for_a_guessed_name_do_not_hold_up_the_shops_pages() {
             let ip = IpAddr::V4(Ipv4Addr::new(10, 1, 0, client));
             req.extensions_mut()
                 .insert(ConnectInfo(SocketAddr::new(ip, 40_000)));
-            tower::ServiceExt::oneshot(router, req).await.unwrap().status()
+            tower::ServiceExt::oneshot(router, req)
+                .await
+                .unwrap()
+                .status()
         }));
     }
     tokio::time::sleep(Duration::from_millis(20)).await;
@@ -98,7 +101,12 @@ async fn when_every_password_check_slot_is_busy_a_sign_in_answers_429_at_once() 
     assert_eq!(app.count("sessions").await, 0);
     drop(busy);
     let signed_in = sign_in(&app, "boss", PASSWORD, 1).await;
-    assert_eq!(signed_in.status, StatusCode::SEE_OTHER, "{}", signed_in.body);
+    assert_eq!(
+        signed_in.status,
+        StatusCode::SEE_OTHER,
+        "{}",
+        signed_in.body
+    );
 }
 
 #[tokio::test]
