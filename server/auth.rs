@@ -30,6 +30,37 @@ pub async fn verify_password(password: String, stored: String) -> bool {
     .unwrap_or(false)
 }
 
+/// Checks a password against the stored hash of an account that may sign in, or, when there is
+/// none (no such name, or a disabled account), against a fixed hash made at first use with the
+/// same parameters, and answers no. Either way one full argon2id check runs, so the time taken
+/// does not tell which names exist.
+pub async fn verify_password_or_dummy(password: String, stored: Option<String>) -> bool {
+    match stored {
+        Some(stored) => verify_password(password, stored).await,
+        None => {
+            tokio::task::spawn_blocking(move || {
+                if let Ok(parsed) = PasswordHash::new(dummy_hash()) {
+                    let _ = Argon2::default().verify_password(password.as_bytes(), &parsed);
+                }
+            })
+            .await
+            .ok();
+            false
+        }
+    }
+}
+
+/// The stand-in hash: a random secret nobody knows, hashed once per process.
+fn dummy_hash() -> &'static str {
+    static DUMMY: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    DUMMY.get_or_init(|| {
+        Argon2::default()
+            .hash_password(new_secret("").as_bytes())
+            .map(|h| h.to_string())
+            .unwrap_or_default()
+    })
+}
+
 /// Hashing a password failed (never expected with default parameters).
 #[derive(Debug, thiserror::Error)]
 #[error("could not hash the password")]

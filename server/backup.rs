@@ -6,7 +6,9 @@
 //!   (`PRAGMA integrity_check`, a migration history this program knows), switched to a plain
 //!   rollback journal so it is one self-contained file, and flushed to disk.
 //! - The server holds an exclusive advisory lock on `<db>.lock` for as long as it runs. A
-//!   restore takes the same lock, so it cannot replace the file under a running server.
+//!   restore or an import takes the same lock, so it cannot replace the file under a running
+//!   server; the lock is named from the database's canonical path, so a symlink or another
+//!   spelling of the path finds the same lock (see [`DbLock`]).
 //! - A restore checks the backup on a staged copy beside the database, migrates that copy, keeps
 //!   the current database as `<db>.before-restore-<unix time>`, and only then renames the staged
 //!   copy into place.
@@ -54,15 +56,40 @@ pub fn with_suffix(path: &Path, suffix: &str) -> PathBuf {
     PathBuf::from(name)
 }
 
-/// The lock file beside a database.
-pub fn lock_path(db: &Path) -> PathBuf {
-    with_suffix(db, ".lock")
+/// The database file's one true name: symlinks, `.` and `..` resolved (the folder's, when the
+/// file does not exist yet), so every path that reaches the same file gives the same locks.
+pub fn canonical(db: &Path) -> PathBuf {
+    if let Ok(path) = fs::canonicalize(db) {
+        return path;
+    }
+    match (fs::canonicalize(folder_of(db)), db.file_name()) {
+        (Ok(dir), Some(name)) => dir.join(name),
+        _ => db.to_path_buf(),
+    }
 }
 
-/// An exclusive OS advisory lock on `<db>.lock`, held from [`DbLock::try_acquire`] until
-/// dropped (or until the process ends, however it ends: the OS releases it). Dropping it removes
-/// the lock file while still holding the lock; a taker that locked the old file just as it was
-/// removed sees that the name now points elsewhere and starts again.
+/// The lock file of a database: beside its canonical name, whatever path the command was given.
+pub fn lock_path(db: &Path) -> PathBuf {
+    with_suffix(&canonical(db), ".lock")
+}
+
+/// The lock that one-shot commands (`user`, `token`) hold while they write, so a restore or an
+/// import never replaces the file under them; the server does not take it.
+pub fn command_lock_path(db: &Path) -> PathBuf {
+    with_suffix(&canonical(db), ".command-lock")
+}
+
+/// An exclusive OS advisory lock on a lock file beside the database, held until dropped (or
+/// until the process ends, however it ends: the OS releases it). Dropping it removes the lock
+/// file while still holding the lock; a taker that locked the old file just as it was removed
+/// sees that the name now points elsewhere and starts again.
+///
+/// - `<db>.lock` ([`DbLock::try_acquire`]): the server, `restore` and `import`; one at a time.
+/// - `<db>.command-lock` ([`DbLock::wait_for_commands`]): `user`, `token`, and `restore` and
+///   `import` too, so a one-shot write and a replacement of the file never overlap.
+///
+/// Both are named from the canonical path of the database, so a symlink or another spelling of
+/// the path cannot slip past them.
 #[derive(Debug)]
 pub struct DbLock {
     file: File,
@@ -70,9 +97,18 @@ pub struct DbLock {
 }
 
 impl DbLock {
-    /// Takes the lock, or `Ok(None)` when another process (or another handle) holds it.
+    /// Takes the server lock, or `Ok(None)` when another process (or another handle) holds it.
     pub fn try_acquire(db: &Path) -> Result<Option<Self>, BackupError> {
-        let path = lock_path(db);
+        Self::take(lock_path(db), false)
+    }
+
+    /// Takes the command lock, waiting while a restore, an import or another command holds it.
+    pub fn wait_for_commands(db: &Path) -> Result<Self, BackupError> {
+        Self::take(command_lock_path(db), true)?
+            .ok_or_else(|| BackupError::Refused("the command lock could not be taken".to_string()))
+    }
+
+    fn take(path: PathBuf, wait: bool) -> Result<Option<Self>, BackupError> {
         for _ in 0..10 {
             let file = OpenOptions::new()
                 .read(true)
@@ -84,7 +120,12 @@ impl DbLock {
                     "cannot open the lock file {}",
                     path.display()
                 )))?;
-            match file.try_lock() {
+            let locked = if wait {
+                file.lock().map_err(fs::TryLockError::Error)
+            } else {
+                file.try_lock()
+            };
+            match locked {
                 Ok(()) => {}
                 Err(fs::TryLockError::WouldBlock) => return Ok(None),
                 Err(fs::TryLockError::Error(e)) => {
@@ -277,6 +318,34 @@ async fn check_connection(conn: &mut SqliteConnection) -> Result<Checked, Backup
     })
 }
 
+/// Options that create a file only its owner can read and write (0600 on Unix): backups and
+/// exports hold password and token hashes and customer data.
+fn private_file() -> OpenOptions {
+    let mut options = OpenOptions::new();
+    #[cfg(unix)]
+    std::os::unix::fs::OpenOptionsExt::mode(&mut options, 0o600);
+    options
+}
+
+/// Creates a directory (and its parents) that only its owner can enter (0700 on Unix); an
+/// existing directory is left as it is.
+fn private_dir(dir: &Path) -> io::Result<()> {
+    let mut builder = fs::DirBuilder::new();
+    builder.recursive(true);
+    #[cfg(unix)]
+    std::os::unix::fs::DirBuilderExt::mode(&mut builder, 0o700);
+    builder.create(dir)
+}
+
+/// The folder holding a database file, where its temporary copies are staged (the same file
+/// system and the same privacy as the database, not the shared system temp folder).
+pub fn folder_of(db: &Path) -> PathBuf {
+    match db.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    }
+}
+
 /// Flushes a file and the directory entry that names it to disk.
 fn sync_to_disk(path: &Path) -> Result<(), BackupError> {
     File::open(path)
@@ -304,8 +373,9 @@ pub async fn backup_pool(pool: &SqlitePool, dest: &Path) -> Result<Checked, Back
             dest.display()
         )));
     };
-    // Claims the name: refuses an existing file, and VACUUM INTO accepts an empty one.
-    match OpenOptions::new().write(true).create_new(true).open(dest) {
+    // Claims the name: refuses an existing file, and VACUUM INTO accepts an empty one. Only the
+    // owner may read it: it holds password and token hashes and customer data.
+    match private_file().write(true).create_new(true).open(dest) {
         Ok(_) => {}
         Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
             return Err(BackupError::Refused(format!(
@@ -396,13 +466,11 @@ pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
             lock_path(db).display()
         )));
     };
+    let _commands = DbLock::wait_for_commands(db)?;
 
     // Stage the backup beside the database (same file system, so the final rename is atomic),
     // check it, and bring it up to this program's migrations. The backup file is never touched.
-    let dir = match db.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
+    let dir = folder_of(db);
     let file_name = db
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
@@ -536,10 +604,10 @@ pub async fn export_dir(db: &Path, dir: &Path) -> Result<Exported, BackupError> 
             taken.display()
         )));
     }
-    fs::create_dir_all(dir).map_err(io_err(format!("cannot create {}", dir.display())))?;
+    private_dir(dir).map_err(io_err(format!("cannot create {}", dir.display())))?;
     for (path, text) in &files {
         let write = || -> io::Result<()> {
-            let mut file = OpenOptions::new().write(true).create_new(true).open(path)?;
+            let mut file = private_file().write(true).create_new(true).open(path)?;
             io::Write::write_all(&mut file, text.as_bytes())?;
             file.sync_all()
         };
@@ -566,6 +634,14 @@ pub async fn import_file(db: &Path, file: &Path) -> Result<ImportedFile, BackupE
     let text =
         fs::read_to_string(file).map_err(io_err(format!("cannot read {}", file.display())))?;
     let export = Export::from_json(&text)?;
+    let Some(_lock) = DbLock::try_acquire(db)? else {
+        return Err(BackupError::Refused(format!(
+            "a Lockpoint server or a restore is using {} (it holds {}): stop it, then import",
+            db.display(),
+            lock_path(db).display()
+        )));
+    };
+    let _commands = DbLock::wait_for_commands(db)?;
     let pool = db::open(db).await?;
     let done = async {
         let mut tx = pool.begin_with("BEGIN IMMEDIATE").await?;

@@ -20,6 +20,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
     match cli.command {
         Command::Serve(args) => serve(args).await,
         Command::User(UserCommand::Add { name, role, db }) => {
+            let _commands = backup::DbLock::wait_for_commands(&db.path)?;
             let pool = db::open(&db.path).await?;
             let password = read_password()?;
             let role = match role {
@@ -42,6 +43,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Token(TokenCommand::Create { name, db }) => {
+            let _commands = backup::DbLock::wait_for_commands(&db.path)?;
             let pool = db::open(&db.path).await?;
             let mut conn = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
             let user = db::users::by_name(&mut conn, &name)
@@ -54,6 +56,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Token(TokenCommand::Revoke { token, user, db }) => {
+            let _commands = backup::DbLock::wait_for_commands(&db.path)?;
             let pool = db::open(&db.path).await?;
             let mut conn = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
             let revoked = match (token, user) {
@@ -157,13 +160,24 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
             );
         }
     }
+    tokio::spawn(crate::web::forget_old_failures(pool.clone()));
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);
-    axum::serve(listener, app(AppState::new(pool.clone())))
-        .with_graceful_shutdown(shutdown)
-        .await?;
-    pool.close().await;
+    crate::web::serve::run(
+        listener,
+        app(AppState::new(pool.clone()).with_public_url(args.public_url.clone())),
+        shutdown,
+        crate::web::serve::Limits::for_this_process(),
+    )
+    .await;
+    // A request cut off at the shutdown deadline may still hold a connection for a moment.
+    if tokio::time::timeout(std::time::Duration::from_secs(5), pool.close())
+        .await
+        .is_err()
+    {
+        tracing::warn!("the database did not close within 5 s");
+    }
     tracing::info!("stopped");
     Ok(())
 }

@@ -84,6 +84,27 @@ pub struct ServeArgs {
     /// Fill an empty database with an invented demo shop (changes nothing otherwise).
     #[arg(long)]
     pub demo: bool,
+    /// The address people reach the server by, such as `https://clutch.shop.example` (behind a
+    /// TLS proxy). Customer sheet links are built from it instead of the request's Host header;
+    /// when it starts with `https://` the session cookie is marked `Secure`.
+    #[arg(long, env = "LOCKPOINT_PUBLIC_URL", value_name = "URL", value_parser = public_url)]
+    pub public_url: Option<String>,
+}
+
+/// An `http://` or `https://` address with a host and nothing after the host but an optional
+/// path, kept without its trailing `/`.
+fn public_url(text: &str) -> Result<String, String> {
+    let url = text.trim().trim_end_matches('/');
+    let rest = url
+        .strip_prefix("https://")
+        .or_else(|| url.strip_prefix("http://"))
+        .ok_or("give the address with http:// or https://")?;
+    let host = rest.split('/').next().unwrap_or("");
+    let plain = |c: char| c.is_ascii_alphanumeric() || "-._~/:[]%".contains(c);
+    if host.is_empty() || !rest.chars().all(plain) {
+        return Err("give a plain address such as https://clutch.shop.example".into());
+    }
+    Ok(url.to_string())
 }
 
 #[derive(Debug, Subcommand)]

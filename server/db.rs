@@ -17,6 +17,7 @@ pub mod sessions;
 pub mod settings;
 pub mod setups;
 pub mod sheets;
+pub mod throttle;
 pub mod tokens;
 pub mod users;
 
@@ -76,6 +77,21 @@ pub const MIGRATIONS: &[(i64, &str, &str)] = &[
         5,
         "turns per adjuster",
         include_str!("../migrations/0005_turns_per_adjuster.sql"),
+    ),
+    (
+        6,
+        "sign in throttle",
+        include_str!("../migrations/0006_sign_in_throttle.sql"),
+    ),
+    (
+        7,
+        "staff display name",
+        include_str!("../migrations/0007_staff_display_name.sql"),
+    ),
+    (
+        8,
+        "shop time zone",
+        include_str!("../migrations/0008_shop_time_zone.sql"),
     ),
 ];
 

@@ -31,6 +31,9 @@ pub enum AppError {
     Invalid(FieldErrors),
     #[error("the request body is too large or malformed")]
     BadRequest,
+    /// The body went past the size limit while it was read (a chunked upload has no length).
+    #[error("the request body is too large")]
+    TooLarge,
     #[error("internal error: {0}")]
     Internal(String),
 }
@@ -51,6 +54,7 @@ impl AppError {
             Self::Unauthorized => StatusCode::UNAUTHORIZED,
             Self::Invalid(_) => StatusCode::UNPROCESSABLE_ENTITY,
             Self::BadRequest => StatusCode::BAD_REQUEST,
+            Self::TooLarge => StatusCode::PAYLOAD_TOO_LARGE,
             Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
         }
     }

@@ -15,10 +15,12 @@ mod history;
 mod home;
 mod layout;
 mod login;
+pub mod serve;
 mod sheets;
 mod show;
 mod wear;
 
+use std::sync::Arc;
 use std::time::Duration;
 
 use axum::Router;
@@ -26,6 +28,7 @@ use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::IntoResponse;
 use axum::routing::{get, post};
 use sqlx::SqlitePool;
+use tokio::sync::Semaphore;
 use tower_http::compression::predicate::{DefaultPredicate, Predicate, SizeAbove};
 use tower_http::compression::{CompressionLayer, CompressionLevel};
 use tower_http::csrf::CsrfLayer;
@@ -35,16 +38,40 @@ use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
 pub use extract::url_encode;
+pub use login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
 
 /// What every handler can reach.
 #[derive(Clone)]
 pub struct AppState {
     pub pool: SqlitePool,
+    /// Password checks allowed at once (see `login::SIGN_IN_SLOTS`); a sign-in that finds
+    /// none free answers 429 at once instead of queueing.
+    pub sign_ins: Arc<Semaphore>,
+    /// `--public-url`: the address customer links are built from (no trailing `/`).
+    pub public_url: Option<Arc<str>>,
 }
 
 impl AppState {
     pub fn new(pool: SqlitePool) -> Self {
-        Self { pool }
+        Self {
+            pool,
+            sign_ins: Arc::new(Semaphore::new(login::SIGN_IN_SLOTS)),
+            public_url: None,
+        }
+    }
+
+    /// The same state, reached by people at `url` (see `--public-url`).
+    #[must_use]
+    pub fn with_public_url(mut self, url: Option<String>) -> Self {
+        self.public_url = url.map(|u| Arc::from(u.trim_end_matches('/')));
+        self
+    }
+
+    /// Whether the session cookie is `Secure`: the server is reached over https.
+    pub fn secure_cookies(&self) -> bool {
+        self.public_url
+            .as_deref()
+            .is_some_and(|u| u.starts_with("https://"))
     }
 
     /// Opens the request's write transaction on behalf of a staff member (see
@@ -100,6 +127,7 @@ pub fn app(state: AppState) -> Router {
         .route("/users/{id}/disable", post(admin::disable_user))
         .route("/users/{id}/enable", post(admin::enable_user))
         .route("/users/{id}/password", post(admin::reset_password))
+        .route("/users/{id}/display-name", post(admin::set_display_name))
         .route("/backup", get(backup::page))
         .route("/backup/download", get(backup::download))
         .route("/backup/export.json", get(backup::export_json))
@@ -122,9 +150,16 @@ pub fn app(state: AppState) -> Router {
             header::X_CONTENT_TYPE_OPTIONS,
             HeaderValue::from_static("nosniff"),
         ))
-        .layer(SetResponseHeaderLayer::overriding(
+        // The customer's link page sets its own (no-referrer): keep it.
+        .layer(SetResponseHeaderLayer::if_not_present(
             header::REFERRER_POLICY,
             HeaderValue::from_static("same-origin"),
+        ))
+        // Signed-in pages are never kept by a browser or proxy cache; the stylesheet and
+        // script set their own caching.
+        .layer(SetResponseHeaderLayer::if_not_present(
+            header::CACHE_CONTROL,
+            HeaderValue::from_static("no-store"),
         ))
         .layer(
             CompressionLayer::new()

@@ -29,8 +29,14 @@ pub const FORMAT: &str = "lockpoint-export";
 pub const JSON_FILE: &str = "lockpoint-export.json";
 
 /// Tables never exported: the migration history (the target database has its own) and sign-in
-/// state that means nothing on another server (sessions, failed sign-ins).
-pub const SKIPPED: &[&str] = &["_sqlx_migrations", "sessions", "login_failures"];
+/// state that means nothing on another server (sessions, failed sign-ins: `login_failures` up to
+/// migration 5, `login_throttle` since).
+pub const SKIPPED: &[&str] = &[
+    "_sqlx_migrations",
+    "sessions",
+    "login_failures",
+    "login_throttle",
+];
 
 /// One stored value, with SQLite's own storage class.
 #[derive(Debug, Clone, PartialEq)]
@@ -624,6 +630,11 @@ pub fn csv_file_name(table: &str) -> String {
 /// ended by CRLF. A field holding a comma, a double quote, CR or LF is enclosed in double quotes
 /// and its quotes doubled. NULL is an empty field; a real is written in its shortest exact form;
 /// a blob in hex. (CSV cannot tell NULL from empty text: the JSON document is the exact copy.)
+///
+/// A text cell that a spreadsheet would run as a formula (it starts with `=`, `+`, `-`, `@`, a
+/// tab or a carriage return) is written with a `'` in front, so opening the file cannot run
+/// `=HYPERLINK(...)` or fetch anything: the usual advice for CSV meant for spreadsheets. Numbers
+/// are stored as numbers and are never prefixed; the JSON document keeps every text exact.
 pub fn to_csv(table: &Table) -> String {
     let mut out = String::new();
     push_record(&mut out, table.columns.iter().map(String::as_str));
@@ -639,6 +650,7 @@ fn csv_text(cell: &Cell) -> String {
         Cell::Null => String::new(),
         Cell::Integer(v) => v.to_string(),
         Cell::Real(v) => format!("{v:?}"),
+        Cell::Text(v) if v.starts_with(['=', '+', '-', '@', '\t', '\r']) => format!("'{v}"),
         Cell::Text(v) => v.clone(),
         Cell::Blob(v) => to_hex(v),
     }

@@ -9,6 +9,8 @@ use crate::records::user::{NewUser, Role};
 pub struct User {
     pub id: i64,
     pub username: String,
+    /// What customers see on a sheet; empty shows the shop's name.
+    pub display_name: String,
     #[serde(skip)]
     pub password_hash: String,
     pub role: String,
@@ -20,10 +22,18 @@ impl User {
     pub fn role(&self) -> Role {
         Role::parse(&self.role).unwrap_or(Role::Tech)
     }
+
+    /// The name a customer sees: the display name, or the shop's name when none is set.
+    pub fn shown_to_customers(&self, shop_name: &str) -> String {
+        match self.display_name.trim() {
+            "" => shop_name.to_string(),
+            name => name.to_string(),
+        }
+    }
 }
 
 pub async fn by_name(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<Option<User>> {
-    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE username = ?")
+    sqlx::query_as("SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users WHERE username = ?")
         .bind(name.trim())
         .fetch_optional(conn)
         .await
@@ -31,7 +41,7 @@ pub async fn by_name(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<Op
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<User>> {
     sqlx::query_as(
-        "SELECT id, username, password_hash, role, disabled, created_at FROM users WHERE id = ?",
+        "SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users WHERE id = ?",
     )
     .bind(id)
     .fetch_optional(conn)
@@ -39,7 +49,7 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
 }
 
 pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<User>> {
-    sqlx::query_as("SELECT id, username, password_hash, role, disabled, created_at FROM users ORDER BY username")
+    sqlx::query_as("SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users ORDER BY username")
         .fetch_all(conn)
         .await
 }
@@ -78,6 +88,19 @@ pub async fn set_disabled(
     Ok(())
 }
 
+pub async fn set_display_name(
+    conn: &mut SqliteConnection,
+    id: i64,
+    display_name: &str,
+) -> sqlx::Result<()> {
+    sqlx::query("UPDATE users SET display_name = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?")
+        .bind(display_name)
+        .bind(id)
+        .execute(conn)
+        .await?;
+    Ok(())
+}
+
 pub async fn set_password(
     conn: &mut SqliteConnection,
     id: i64,
@@ -89,27 +112,4 @@ pub async fn set_password(
         .execute(conn)
         .await?;
     Ok(())
-}
-
-/// Records a failed sign-in and returns how many failures that name has in the last 15 minutes.
-pub async fn note_failed_login(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<i64> {
-    // Only the last day matters; older failures are dropped as new ones arrive.
-    sqlx::query("DELETE FROM login_failures WHERE created_at < strftime('%Y-%m-%dT%H:%M:%SZ', 'now', '-1 day')")
-        .execute(&mut *conn)
-        .await?;
-    sqlx::query("INSERT INTO login_failures (username) VALUES (?)")
-        .bind(name)
-        .execute(&mut *conn)
-        .await?;
-    recent_failures(conn, name).await
-}
-
-pub async fn recent_failures(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<i64> {
-    sqlx::query_scalar(
-        "SELECT COUNT(*) FROM login_failures WHERE username = ?
-         AND created_at > strftime('%Y-%m-%dT%H:%M:%SZ', 'now', '-15 minutes')",
-    )
-    .bind(name)
-    .fetch_one(conn)
-    .await
 }

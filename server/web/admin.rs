@@ -249,3 +249,42 @@ pub async fn reset_password(
     )
     .into_response())
 }
+
+/// The longest display name a sheet shows.
+const DISPLAY_NAME_MAX: usize = 60;
+
+/// POST /users/{id}/display-name: the name customers see on the sheets this person prints
+/// (empty: the shop's name).
+pub async fn set_display_name(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    SignedForm { user, form }: SignedForm,
+) -> AppResult<Response> {
+    user.require_admin()?;
+    let name = form.get("display_name").to_string();
+    let problem = if name.chars().count() > DISPLAY_NAME_MAX {
+        Some(format!("at most {DISPLAY_NAME_MAX} characters"))
+    } else if name.chars().any(char::is_control) {
+        Some("letters, digits, spaces and punctuation only".to_string())
+    } else {
+        None
+    };
+    if let Some(message) = problem {
+        let mut conn = state.pool.acquire().await?;
+        db::users::by_id(&mut conn, id)
+            .await?
+            .ok_or(AppError::NotFound)?;
+        drop(conn);
+        let mut errors = FieldErrors::default();
+        errors.add(&format!("display_name_{id}"), message);
+        let html = users_page(&state, &user, FormData::default(), errors, None).await?;
+        return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
+    }
+    let mut tx = state.write(&user).await?;
+    db::users::by_id(&mut tx, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    db::users::set_display_name(&mut tx, id, &name).await?;
+    tx.commit().await?;
+    Ok(Redirect::to("/users").into_response())
+}

@@ -52,8 +52,14 @@ fn attachment(content_type: &'static str, file_name: String, body: Vec<u8>) -> R
 /// `lockpoint-YYYY-MM-DD.db`.
 pub async fn download(State(state): State<AppState>, user: CurrentUser) -> AppResult<Response> {
     user.require_admin()?;
-    // Removed when this guard drops: after reading, on an error, or if the client goes away.
-    let temp = TempPath::unique_in(&std::env::temp_dir(), "lockpoint-download", ".db");
+    // Staged beside the database, created 0600 (it holds password hashes), and removed when
+    // this guard drops: after reading, on an error, or if the client goes away.
+    let db = state.pool.connect_options().get_filename().to_path_buf();
+    let name = db.file_name().map_or_else(
+        || "lockpoint.db".into(),
+        |n| n.to_string_lossy().into_owned(),
+    );
+    let temp = TempPath::unique_in(&backup::folder_of(&db), &format!(".{name}.download"), ".db");
     backup::backup_pool(&state.pool, temp.path()).await?;
     let bytes = tokio::task::spawn_blocking(move || {
         let bytes = std::fs::read(temp.path());

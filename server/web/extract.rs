@@ -90,6 +90,16 @@ impl FromRequestParts<AppState> for CurrentUser {
     }
 }
 
+/// A body that could not be read: 413 when it went past the size limit (also when it came
+/// chunked, with no length to refuse it by up front), else 400.
+fn body_error(rejection: impl axum::response::IntoResponse) -> AppError {
+    if rejection.into_response().status() == axum::http::StatusCode::PAYLOAD_TOO_LARGE {
+        AppError::TooLarge
+    } else {
+        AppError::BadRequest
+    }
+}
+
 /// A form POST from a signed-in user, its CSRF token checked against the session's.
 pub struct SignedForm {
     pub user: CurrentUser,
@@ -105,7 +115,7 @@ impl FromRequest<AppState> for SignedForm {
         let req = Request::from_parts(parts, body);
         let Form(pairs) = Form::<Vec<(String, String)>>::from_request(req, state)
             .await
-            .map_err(|_| AppError::BadRequest)?;
+            .map_err(body_error)?;
         let form = FormData::new(pairs);
         if !auth::same_secret(form.get("_csrf"), &user.csrf) {
             return Err(AppError::BadCsrf);
@@ -124,7 +134,7 @@ impl FromRequest<AppState> for PlainForm {
     async fn from_request(req: Request, state: &AppState) -> Result<Self, AppError> {
         let Form(pairs) = Form::<Vec<(String, String)>>::from_request(req, state)
             .await
-            .map_err(|_| AppError::BadRequest)?;
+            .map_err(body_error)?;
         Ok(Self(FormData::new(pairs)))
     }
 }
@@ -177,7 +187,7 @@ impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
         }
         let bytes = Bytes::from_request(req, state)
             .await
-            .map_err(|_| ApiError(AppError::BadRequest))?;
+            .map_err(|e| ApiError(body_error(e)))?;
         parse_json(&bytes).map(Self)
     }
 }
@@ -255,5 +265,23 @@ impl axum::extract::OptionalFromRequestParts<AppState> for CurrentUser {
             Err(AppError::LoginRequired(_)) => Ok(None),
             Err(other) => Err(other),
         }
+    }
+}
+
+/// The address of the client at the other end of the connection (`None` when the server was
+/// not told, as in tests through the router). Forwarding headers are not trusted: anyone can
+/// write them.
+pub struct ClientAddr(pub Option<std::net::IpAddr>);
+
+impl<S: Send + Sync> FromRequestParts<S> for ClientAddr {
+    type Rejection = std::convert::Infallible;
+
+    async fn from_request_parts(parts: &mut Parts, _state: &S) -> Result<Self, Self::Rejection> {
+        Ok(Self(
+            parts
+                .extensions
+                .get::<axum::extract::ConnectInfo<std::net::SocketAddr>>()
+                .map(|info| info.0.ip().to_canonical()),
+        ))
     }
 }

@@ -4,12 +4,12 @@ use std::time::Duration;
 
 use askama::Template;
 use axum::extract::{Query, State};
-use axum::http::{HeaderMap, header};
+use axum::http::{HeaderMap, StatusCode, header};
 use axum::response::{Html, IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
 use super::AppState;
-use super::extract::{CurrentUser, PlainForm, SESSION_COOKIE, SignedForm, cookie};
+use super::extract::{ClientAddr, CurrentUser, PlainForm, SESSION_COOKIE, SignedForm, cookie};
 use crate::auth;
 use crate::db;
 use crate::error::AppResult;
@@ -40,57 +40,180 @@ pub async fn form(user: Option<CurrentUser>, Query(q): Query<NextQuery>) -> AppR
     Ok(Html(page.render()?).into_response())
 }
 
-/// Failed sign-ins allowed per name in 15 minutes before each further try is slowed.
-const FREE_FAILURES: i64 = 3;
+/// Password checks that may run at once. Each is an argon2id hash (tens of milliseconds of one
+/// core); more would only queue on the two cores the counter's pages need too.
+pub const SIGN_IN_SLOTS: usize = 4;
 
-/// How long a sign-in waits after `failures` recent failures for the same name: nothing for
-/// the first few, then a quarter second more per failure, up to 5 s.
-pub fn login_delay(failures: i64) -> Duration {
-    let extra = (failures - FREE_FAILURES).max(0) as u64;
-    Duration::from_millis((250 * extra).min(5000))
+/// Failures are counted over this long since the last one; after it the count starts again.
+const WINDOW_MS: i64 = 15 * 60 * 1000;
+
+/// Failures a client address may have before each further try must wait.
+const CLIENT_FREE_FAILURES: i64 = 10;
+
+/// Failures a name may have before clients that have failed themselves must wait to try it.
+const NAME_FREE_FAILURES: i64 = 5;
+
+/// At most this many client addresses and names are tracked (the oldest go first).
+pub const TRACKED_CAP: i64 = 20_000;
+
+/// Rows one purge step deletes, so the write lock is held only briefly.
+pub const PURGE_BATCH: i64 = 500;
+
+/// How long the next try must wait after `failures` failures when `free` are allowed: nothing
+/// before that, then 1 s doubling with each further failure, up to 5 minutes.
+pub fn wait_after(failures: i64, free: i64) -> Duration {
+    if failures < free {
+        return Duration::ZERO;
+    }
+    let doublings = (failures - free).min(20) as u32;
+    Duration::from_secs((1u64 << doublings).min(300))
 }
 
+/// How much longer a key must wait, given its counter (`None` when it may try now).
+fn still_waiting(
+    counter: Option<db::throttle::Failures>,
+    free: i64,
+    now_ms: i64,
+) -> Option<Duration> {
+    let c = counter.filter(|c| c.last_failure_ms >= now_ms - WINDOW_MS)?;
+    let until = c.last_failure_ms + wait_after(c.failures, free).as_millis() as i64;
+    (until > now_ms).then(|| Duration::from_millis((until - now_ms) as u64))
+}
+
+fn now_ms() -> i64 {
+    std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map_or(0, |d| d.as_millis() as i64)
+}
+
+/// The throttle's key for a client address.
+fn client_key(addr: Option<std::net::IpAddr>) -> String {
+    match addr {
+        Some(ip) => format!("client:{ip}"),
+        None => "client:unknown".into(),
+    }
+}
+
+/// The throttle's key for a name (names are compared without case, as the users table does).
+fn name_key(username: &str) -> String {
+    format!("name:{}", username.trim().to_lowercase())
+}
+
+/// The sign-in page again with a 429 and `Retry-After`: nothing was checked.
+fn too_many(username: String, next: String, wait: Duration) -> AppResult<Response> {
+    let secs = wait.as_secs_f64().ceil().max(1.0) as u64;
+    let page = LoginPage {
+        username,
+        next,
+        error: Some(format!(
+            "Too many sign-in attempts. Wait {secs} s, then try again."
+        )),
+    };
+    Ok((
+        StatusCode::TOO_MANY_REQUESTS,
+        [(header::RETRY_AFTER, secs.to_string())],
+        Html(page.render()?),
+    )
+        .into_response())
+}
+
+/// POST /login. The order matters for a shop under a guessing attack:
+///
+/// 1. one short read of the throttle counters and the account (the pooled connection goes back
+///    at once: nothing below holds one while it waits or hashes);
+/// 2. a client address past its free failures must wait (429 with `Retry-After`, no check);
+/// 3. a name past its free failures may only be tried by clients that have not failed
+///    themselves, so whoever is guessing waits but the account's owner, elsewhere, gets in;
+/// 4. a free password-check slot, or 429 at once (a bounded number of hashes run together);
+/// 5. one argon2id check, against a stand-in hash when there is no usable account (the time
+///    taken does not tell which names exist);
+/// 6. a failure is one upsert of the two counters; a success makes the session.
 pub async fn submit(
     State(state): State<AppState>,
+    ClientAddr(addr): ClientAddr,
     PlainForm(form): PlainForm,
 ) -> AppResult<Response> {
     // Names are short; a longer one cannot match and is cut before it is logged.
     let username: String = form.get("username").chars().take(60).collect();
     let password = form.get("password").to_string();
     let next = form.get("next").to_string();
-    let mut conn = state.pool.acquire().await?;
+    let (client, name) = (client_key(addr), name_key(&username));
 
-    // Slow down guessing: past a few recent failures, every attempt waits longer (up to 5 s).
-    let failures = db::users::recent_failures(&mut conn, &username).await?;
-    tokio::time::sleep(login_delay(failures)).await;
-
-    let user = db::users::by_name(&mut conn, &username).await?;
-    let ok = match &user {
-        Some(u) if !u.disabled => auth::verify_password(password, u.password_hash.clone()).await,
-        _ => false,
+    let now = now_ms();
+    let (user, (client_failures, name_failures)) = {
+        let mut conn = state.pool.acquire().await?;
+        let user = db::users::by_name(&mut conn, &username).await?;
+        (user, db::throttle::get(&mut conn, &client, &name).await?)
     };
-    let Some(user) = user.filter(|_| ok) else {
-        db::users::note_failed_login(&mut conn, &username).await?;
+    if let Some(wait) = still_waiting(client_failures, CLIENT_FREE_FAILURES, now) {
+        return too_many(username, next, wait);
+    }
+    let client_has_failed = client_failures.is_some_and(|c| c.last_failure_ms >= now - WINDOW_MS);
+    if client_has_failed && let Some(wait) = still_waiting(name_failures, NAME_FREE_FAILURES, now) {
+        return too_many(username, next, wait);
+    }
+    let Ok(slot) = state.sign_ins.clone().try_acquire_owned() else {
+        return too_many(username, next, Duration::from_secs(1));
+    };
+    let usable = user.as_ref().filter(|u| !u.disabled);
+    let ok =
+        auth::verify_password_or_dummy(password, usable.map(|u| u.password_hash.clone())).await;
+    drop(slot);
+
+    let Some(user) = usable.filter(|_| ok) else {
+        let mut conn = state.pool.acquire().await?;
+        db::throttle::note_failure(&mut conn, &client, &name, now_ms(), now_ms() - WINDOW_MS)
+            .await?;
+        drop(conn);
         let page = LoginPage {
             username,
             next,
             error: Some("That name and password do not match an active account.".into()),
         };
-        return Ok((axum::http::StatusCode::UNAUTHORIZED, Html(page.render()?)).into_response());
+        return Ok((StatusCode::UNAUTHORIZED, Html(page.render()?)).into_response());
     };
 
     let token = auth::new_secret("");
     let csrf = auth::new_secret("");
+    let mut conn = state.pool.acquire().await?;
     db::sessions::create(&mut conn, &auth::hash_secret(&token), user.id, &csrf).await?;
+    db::throttle::clear(&mut conn, &name).await?;
+    drop(conn);
     let cookie = format!(
-        "{SESSION_COOKIE}={token}; Path=/; HttpOnly; SameSite=Lax; Max-Age={}",
-        db::sessions::LIFETIME_DAYS * 86_400
+        "{SESSION_COOKIE}={token}; Path=/; HttpOnly; SameSite=Lax; Max-Age={}{}",
+        db::sessions::LIFETIME_DAYS * 86_400,
+        secure(&state)
     );
     Ok((
         [(header::SET_COOKIE, cookie)],
         Redirect::to(safe_next(&next)),
     )
         .into_response())
+}
+
+/// Runs until the server stops: every few seconds deletes the throttle rows whose window has
+/// passed, and the oldest past [`TRACKED_CAP`], a batch at a time (each batch its own short
+/// write, so a shop write waits at most one batch). Off the request path.
+pub async fn forget_old_failures(pool: sqlx::SqlitePool) {
+    loop {
+        let mut full = false;
+        if let Ok(mut conn) = pool.acquire().await {
+            match db::throttle::purge_batch(
+                &mut conn,
+                now_ms() - WINDOW_MS,
+                TRACKED_CAP,
+                PURGE_BATCH,
+            )
+            .await
+            {
+                Ok(n) => full = n as i64 >= PURGE_BATCH,
+                Err(e) => tracing::warn!(error = %e, "sign-in throttle purge failed"),
+            }
+        }
+        // A full batch means more is waiting: go on soon, but leave room for other writes.
+        let pause = if full { 50 } else { 5_000 };
+        tokio::time::sleep(Duration::from_millis(pause)).await;
+    }
 }
 
 /// Ends this browser's session (the form carries the CSRF token, so no other site can sign
@@ -104,13 +227,34 @@ pub async fn logout(
         let mut conn = state.pool.acquire().await?;
         db::sessions::delete(&mut conn, &auth::hash_secret(token)).await?;
     }
-    let clear = format!("{SESSION_COOKIE}=; Path=/; HttpOnly; SameSite=Lax; Max-Age=0");
+    let clear = format!(
+        "{SESSION_COOKIE}=; Path=/; HttpOnly; SameSite=Lax; Max-Age=0{}",
+        secure(&state)
+    );
     Ok(([(header::SET_COOKIE, clear)], Redirect::to("/login")).into_response())
 }
 
-/// Only local paths are followed after sign-in (no open redirect to another site).
-fn safe_next(next: &str) -> &str {
-    if next.starts_with('/') && !next.starts_with("//") && !next.contains('\\') {
+/// The cookie attribute that keeps the session cookie off plain http, when served over https.
+fn secure(state: &AppState) -> &'static str {
+    if state.secure_cookies() {
+        "; Secure"
+    } else {
+        ""
+    }
+}
+
+/// Only a plain local path is followed after sign-in, anything else goes to `/`: no open
+/// redirect to another site (`//host`, `/\\host`, or a tab or newline that browsers drop to
+/// make `/\t/host` read as `//host`), and no character that cannot go in a `Location` header.
+pub fn safe_next(next: &str) -> &str {
+    let plain = next.bytes().all(|b| {
+        b.is_ascii_alphanumeric()
+            || matches!(
+                b,
+                b'/' | b'_' | b'.' | b'~' | b'%' | b'?' | b'&' | b'=' | b'#' | b'-'
+            )
+    });
+    if plain && next.starts_with('/') && !next.starts_with("//") && next.len() <= 2000 {
         next
     } else {
         "/"
@@ -122,12 +266,33 @@ mod tests {
     use super::*;
 
     #[test]
-    fn repeated_failures_slow_each_further_try_up_to_a_cap() {
-        assert_eq!(login_delay(0), Duration::ZERO);
-        assert_eq!(login_delay(FREE_FAILURES), Duration::ZERO);
-        assert_eq!(login_delay(FREE_FAILURES + 1), Duration::from_millis(250));
-        assert!(login_delay(10) > login_delay(5));
-        assert_eq!(login_delay(1000), Duration::from_secs(5));
+    fn repeated_failures_make_each_further_try_wait_longer_up_to_a_cap() {
+        assert_eq!(wait_after(0, 5), Duration::ZERO);
+        assert_eq!(wait_after(4, 5), Duration::ZERO);
+        assert_eq!(wait_after(5, 5), Duration::from_secs(1));
+        assert_eq!(wait_after(6, 5), Duration::from_secs(2));
+        assert!(wait_after(12, 5) > wait_after(8, 5));
+        assert_eq!(wait_after(1000, 5), Duration::from_secs(300));
+    }
+
+    #[test]
+    fn a_counter_past_its_window_no_longer_holds_anyone_back() {
+        let now = 10 * WINDOW_MS;
+        let c = |failures, ago| {
+            Some(db::throttle::Failures {
+                failures,
+                last_failure_ms: now - ago,
+            })
+        };
+        assert_eq!(still_waiting(None, 5, now), None);
+        assert_eq!(still_waiting(c(4, 0), 5, now), None);
+        assert_eq!(still_waiting(c(5, 0), 5, now), Some(Duration::from_secs(1)));
+        assert_eq!(
+            still_waiting(c(5, 400), 5, now),
+            Some(Duration::from_millis(600))
+        );
+        assert_eq!(still_waiting(c(5, 1000), 5, now), None);
+        assert_eq!(still_waiting(c(100, WINDOW_MS + 1), 5, now), None);
     }
 
     #[test]
@@ -135,5 +300,13 @@ mod tests {
         assert_eq!(safe_next("/builds/3"), "/builds/3");
         assert_eq!(safe_next("//evil.example"), "/");
         assert_eq!(safe_next("https://evil.example"), "/");
+        assert_eq!(safe_next("/\t/evil.example"), "/");
+        assert_eq!(safe_next("/\\evil.example"), "/");
+        assert_eq!(safe_next("/x\ny"), "/");
+        assert_eq!(safe_next(""), "/");
+        assert_eq!(
+            safe_next("/customers?q=a%20b&page=2#top"),
+            "/customers?q=a%20b&page=2#top"
+        );
     }
 }

@@ -254,10 +254,15 @@ pub async fn create(
         lockup_rpm: l,
         launch_ratio: ratio,
     });
+    // Customers see a display name (or the shop's name), never a login name.
+    let prepared_by = db::users::by_id(&mut tx, user.id).await?.map_or_else(
+        || settings.name.clone(),
+        |u| u.shown_to_customers(&settings.name),
+    );
     let inputs = SheetInputs::capture(
         &d,
         &settings,
-        &user.username,
+        &prepared_by,
         &settings.ctx().today.to_string(),
         targets,
     );
@@ -336,15 +341,22 @@ pub async fn create_link(
     )
     .await?;
     tx.commit().await?;
-    let host = headers
-        .get(header::HOST)
-        .and_then(|h| h.to_str().ok())
-        .filter(|h| {
-            h.chars()
-                .all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | ':' | '-' | '[' | ']'))
-        })
-        .unwrap_or("localhost");
-    let address = format!("http://{host}/s/{secret}");
+    // The configured public address when there is one: the Host header is the client's word.
+    let address = match &state.public_url {
+        Some(base) => format!("{base}/s/{secret}"),
+        None => {
+            let host = headers
+                .get(header::HOST)
+                .and_then(|h| h.to_str().ok())
+                .filter(|h| {
+                    h.chars().all(|c| {
+                        c.is_ascii_alphanumeric() || matches!(c, '.' | ':' | '-' | '[' | ']')
+                    })
+                })
+                .unwrap_or("localhost");
+            format!("http://{host}/s/{secret}")
+        }
+    };
     Ok(Html(
         staff_page(
             &state,
@@ -399,7 +411,12 @@ pub async fn public(
     };
     let (status, message) = match state {
         LinkState::Live(sheet) => {
-            let inputs: SheetInputs = serde_json::from_str(&sheet.inputs)?;
+            let mut inputs: SheetInputs = serde_json::from_str(&sheet.inputs)?;
+            // Sheets printed before display names stored the login name: show the display
+            // name (or the shop's name) instead.
+            if let Some(staff) = db::users::by_name(&mut conn, &inputs.prepared_by).await? {
+                inputs.prepared_by = staff.shown_to_customers(&inputs.settings.name);
+            }
             let html = SheetPage::new(inputs, None).render()?;
             return Ok((
                 [

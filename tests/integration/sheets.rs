@@ -1,8 +1,8 @@
 //! Setup sheets: a stored snapshot that reprints as it was, and the customer's read-only link.
 
-use axum::http::StatusCode;
+use axum::http::{StatusCode, header};
 
-use crate::support::{TestApp, id_from};
+use crate::support::{PASSWORD, TestApp, id_from};
 
 /// A build recorded through the forms with a setup and a first cover height.
 async fn demo_build(app: &TestApp) -> i64 {
@@ -216,4 +216,139 @@ async fn a_sheet_printed_by_an_earlier_release_reprints_byte_for_byte() {
         page.body == printed,
         "the reprint differs from the printed sheet"
     );
+}
+
+/// Prints a sheet of a new build, makes a customer link and returns the link's address as shown.
+async fn customer_link(app: &TestApp) -> String {
+    let id = demo_build(app).await;
+    let client = app.login("sam").await;
+    let sheet = client
+        .post(&format!("/builds/{id}/sheets"), &[])
+        .await
+        .location()
+        .to_string();
+    let made = client
+        .post(&format!("{sheet}/links"), &[("valid_days", "14")])
+        .await;
+    assert_eq!(made.status, StatusCode::OK, "{}", made.body);
+    let start = made.body.find("/s/").expect("link shown");
+    let begin = made.body[..start].rfind('>').map_or(start, |i| i + 1);
+    made.body[begin..]
+        .chars()
+        .take_while(|c| *c != '<')
+        .collect()
+}
+
+#[tokio::test]
+async fn the_customer_link_page_sends_no_referrer_and_is_not_cached() {
+    let app = TestApp::new().await;
+    let link = customer_link(&app).await;
+    let path = &link[link.find("/s/").unwrap()..];
+    let public = app.get(path, None).await;
+    assert_eq!(public.status, StatusCode::OK);
+    assert_eq!(public.headers[header::REFERRER_POLICY], "no-referrer");
+    assert_eq!(public.headers[header::CACHE_CONTROL], "no-store");
+    // Other pages keep the site-wide policy.
+    let login = app.get("/login", None).await;
+    assert_eq!(login.headers[header::REFERRER_POLICY], "same-origin");
+}
+
+#[tokio::test]
+async fn with_a_public_url_links_use_it_and_the_session_cookie_is_secure() {
+    let app = TestApp::reached_at(Some("https://clutch.shop.example/")).await;
+    let link = customer_link(&app).await;
+    assert!(
+        link.starts_with("https://clutch.shop.example/s/")
+            && link.len() == "https://clutch.shop.example/s/".len() + 64,
+        "{link}"
+    );
+    let reply = app
+        .post_form(
+            "/login",
+            &[("username", "sam"), ("password", PASSWORD)],
+            None,
+        )
+        .await;
+    let cookie = reply.headers[header::SET_COOKIE].to_str().unwrap();
+    assert!(cookie.contains("; Secure"), "{cookie}");
+
+    // Without one (or with plain http) the link follows the Host header and the cookie must
+    // work over http.
+    for app in [
+        TestApp::new().await,
+        TestApp::reached_at(Some("http://10.0.0.5:3000")).await,
+    ] {
+        let reply = app
+            .post_form(
+                "/login",
+                &[("username", "sam"), ("password", PASSWORD)],
+                None,
+            )
+            .await;
+        let cookie = reply.headers[header::SET_COOKIE].to_str().unwrap();
+        assert!(!cookie.contains("Secure"), "{cookie}");
+    }
+    let plain = TestApp::reached_at(Some("http://10.0.0.5:3000")).await;
+    let link = customer_link(&plain).await;
+    assert!(link.starts_with("http://10.0.0.5:3000/s/"), "{link}");
+}
+
+#[tokio::test]
+async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name() {
+    let app = TestApp::new().await;
+    let link = customer_link(&app).await;
+    let path = link[link.find("/s/").unwrap()..].to_string();
+    let public = app.get(&path, None).await;
+    assert!(
+        public.body.contains("prepared by My clutch shop"),
+        "{}",
+        public.body
+    );
+    assert!(!public.body.contains("prepared by sam"));
+
+    // An admin gives the tech a display name; it shows on new sheets and on the old link.
+    let boss = app.login("boss").await;
+    let sam_id: i64 = sqlx::query_scalar("SELECT id FROM users WHERE username = 'sam'")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    let set = boss
+        .post(
+            &format!("/users/{sam_id}/display-name"),
+            &[("display_name", "Counter <staff>")],
+        )
+        .await;
+    assert_eq!(set.status, StatusCode::SEE_OTHER, "{}", set.body);
+    let too_long = boss
+        .post(
+            &format!("/users/{sam_id}/display-name"),
+            &[("display_name", &"x".repeat(61))],
+        )
+        .await;
+    assert_eq!(too_long.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let newer = customer_link(&app).await;
+    let public = app.get(&newer[newer.find("/s/").unwrap()..], None).await;
+    assert!(
+        public.body.contains("prepared by Counter &lt;staff&gt;")
+            || public.body.contains("prepared by Counter &#60;staff&#62;"),
+        "{}",
+        public.body
+    );
+    // A sheet stored with the login name (before display names) is shown with the new name.
+    sqlx::query("UPDATE sheets SET inputs = json_set(inputs, '$.prepared_by', 'sam')")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let old = app.get(&path, None).await;
+    assert!(!old.body.contains("prepared by sam"), "{}", old.body);
+    assert!(old.body.contains("prepared by Counter"), "{}", old.body);
+    // A tech may not change it.
+    let sam = app.login("sam").await;
+    let refused = sam
+        .post(
+            &format!("/users/{sam_id}/display-name"),
+            &[("display_name", "Chief")],
+        )
+        .await;
+    assert_eq!(refused.status, StatusCode::FORBIDDEN);
 }

@@ -43,6 +43,8 @@ impl Drop for TempDb {
 pub struct TestApp {
     pub pool: SqlitePool,
     pub router: Router,
+    /// The state the router was built with (its sign-in slots, for one).
+    pub state: AppState,
     _db: TempDb,
 }
 
@@ -69,6 +71,11 @@ impl Reply {
 impl TestApp {
     /// A migrated database with an admin `boss` and a tech `sam` (password [`PASSWORD`]).
     pub async fn new() -> Self {
+        Self::reached_at(None).await
+    }
+
+    /// The same, served as if reached at `--public-url` `url`.
+    pub async fn reached_at(public_url: Option<&str>) -> Self {
         let tmp = TempDb::new();
         let pool = db::open(&tmp.path).await.expect("database opens");
         let hash = auth::hash_password(PASSWORD.into()).await.unwrap();
@@ -78,10 +85,12 @@ impl TestApp {
             db::users::insert(&mut conn, &user, &hash).await.unwrap();
         }
         drop(conn);
-        let router = app(AppState::new(pool.clone()));
+        let state = AppState::new(pool.clone()).with_public_url(public_url.map(String::from));
+        let router = app(state.clone());
         Self {
             pool,
             router,
+            state,
             _db: tmp,
         }
     }

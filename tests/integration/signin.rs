@@ -1,0 +1,302 @@
+//! Signing in under attack: nobody without an account can stall the shop. Password checks run
+//! a bounded number at a time and hold no database connection; failures are counted per client
+//! address and per name in a bounded table; the owner of an account someone is guessing at still
+//! gets in; the time taken does not tell which names exist.
+
+use std::net::{IpAddr, Ipv4Addr, SocketAddr};
+use std::time::{Duration, Instant};
+
+use axum::body::Body;
+use axum::extract::ConnectInfo;
+use axum::http::{Request, StatusCode, header};
+use lockpoint::db;
+
+use crate::support::{PASSWORD, Reply, TestApp, form_encode};
+
+/// A sign-in from the client address 10.0.x.y.
+async fn sign_in(app: &TestApp, name: &str, password: &str, client: u16) -> Reply {
+    let body = form_encode(&[("username", name), ("password", password), ("next", "/")]);
+    let mut req = Request::post("/login")
+        .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+        .body(Body::from(body))
+        .unwrap();
+    let [hi, lo] = client.to_be_bytes();
+    let ip = IpAddr::V4(Ipv4Addr::new(10, 0, hi, lo));
+    req.extensions_mut()
+        .insert(ConnectInfo(SocketAddr::new(ip, 40_000)));
+    app.send(req).await
+}
+
+fn retry_after(reply: &Reply) -> u64 {
+    reply
+        .headers
+        .get(header::RETRY_AFTER)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("a 429 says when to come back: {:?}", reply.headers))
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn sign_ins_for_a_guessed_name_do_not_hold_up_the_shops_pages() {
+    let app = TestApp::new().await;
+    let sam = app.login("sam").await;
+    // A name guessed at many times already, from many addresses.
+    for client in 0..20 {
+        let r = sign_in(&app, "ghost", "guess", 1000 + client).await;
+        assert_eq!(r.status, StatusCode::UNAUTHORIZED);
+    }
+
+    // 16 more at once, each from a new address, while a technician loads a page.
+    let mut attempts = Vec::new();
+    for client in 0..16 {
+        let router = app.router.clone();
+        let body = form_encode(&[("username", "ghost"), ("password", "guess")]);
+        attempts.push(tokio::spawn(async move {
+            let mut req = Request::post("/login")
+                .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+                .body(Body::from(body))
+                .unwrap();
+            let ip = IpAddr::V4(Ipv4Addr::new(10, 1, 0, client));
+            req.extensions_mut()
+                .insert(ConnectInfo(SocketAddr::new(ip, 40_000)));
+            tower::ServiceExt::oneshot(router, req)
+                .await
+                .unwrap()
+                .status()
+        }));
+    }
+    tokio::time::sleep(Duration::from_millis(20)).await;
+    let started = Instant::now();
+    let page = sam.get("/customers").await;
+    let took = started.elapsed();
+    assert_eq!(page.status, StatusCode::OK);
+    assert!(
+        took < Duration::from_secs(1),
+        "a page waited {took:?} behind sign-ins"
+    );
+    for attempt in attempts {
+        let status = attempt.await.unwrap();
+        assert!(
+            status == StatusCode::UNAUTHORIZED || status == StatusCode::TOO_MANY_REQUESTS,
+            "{status}"
+        );
+    }
+}
+
+#[tokio::test]
+async fn when_every_password_check_slot_is_busy_a_sign_in_answers_429_at_once() {
+    let app = TestApp::new().await;
+    let busy = app
+        .state
+        .sign_ins
+        .clone()
+        .try_acquire_many_owned(lockpoint::web::SIGN_IN_SLOTS as u32)
+        .unwrap();
+    let started = Instant::now();
+    let refused = sign_in(&app, "boss", PASSWORD, 1).await;
+    assert_eq!(refused.status, StatusCode::TOO_MANY_REQUESTS);
+    assert_eq!(retry_after(&refused), 1);
+    assert!(refused.body.contains("Too many sign-in attempts"));
+    assert!(started.elapsed() < Duration::from_secs(1));
+    assert_eq!(app.count("sessions").await, 0);
+    drop(busy);
+    let signed_in = sign_in(&app, "boss", PASSWORD, 1).await;
+    assert_eq!(
+        signed_in.status,
+        StatusCode::SEE_OTHER,
+        "{}",
+        signed_in.body
+    );
+}
+
+#[tokio::test]
+async fn a_client_past_its_free_failures_waits_whatever_name_it_tries() {
+    let app = TestApp::new().await;
+    for n in 0..10 {
+        let r = sign_in(&app, &format!("name-{n}"), "guess", 7).await;
+        assert_eq!(r.status, StatusCode::UNAUTHORIZED, "failure {n}");
+    }
+    let started = Instant::now();
+    let refused = sign_in(&app, "boss", PASSWORD, 7).await;
+    assert_eq!(refused.status, StatusCode::TOO_MANY_REQUESTS);
+    assert!((1..=300).contains(&retry_after(&refused)));
+    assert!(
+        started.elapsed() < Duration::from_millis(500),
+        "refused without a password check or a wait"
+    );
+    // Another address is not held back by this one.
+    let other = sign_in(&app, "boss", PASSWORD, 8).await;
+    assert_eq!(other.status, StatusCode::SEE_OTHER);
+}
+
+#[tokio::test]
+async fn someone_guessing_at_an_account_does_not_lock_its_owner_out() {
+    let app = TestApp::new().await;
+    // Eight addresses guess at the admin's password: each first try from an address is checked.
+    for client in 0..8 {
+        let r = sign_in(&app, "Boss", "guess", 100 + client).await;
+        assert_eq!(r.status, StatusCode::UNAUTHORIZED);
+    }
+    // A guesser trying again must wait: the name is past its free failures.
+    let again = sign_in(&app, "boss", "guess again", 100).await;
+    assert_eq!(again.status, StatusCode::TOO_MANY_REQUESTS);
+    assert!(retry_after(&again) >= 1);
+
+    // The owner, at the counter, gets in at the first try and without waiting.
+    let started = Instant::now();
+    let owner = sign_in(&app, "boss", PASSWORD, 1).await;
+    assert_eq!(owner.status, StatusCode::SEE_OTHER, "{}", owner.body);
+    assert!(started.elapsed() < Duration::from_secs(2));
+    // Signing in clears the name's count: the guessers' own addresses still carry theirs.
+    let mut conn = app.pool.acquire().await.unwrap();
+    let (client, name) = db::throttle::get(&mut conn, "client:10.0.0.100", "name:boss")
+        .await
+        .unwrap();
+    assert_eq!(name, None);
+    assert_eq!(client.map(|c| c.failures), Some(1));
+}
+
+/// The shortest time of `n` sign-ins made by `attempt(i)`.
+async fn fastest<F: std::future::Future<Output = Reply>>(
+    n: u16,
+    attempt: impl Fn(u16) -> F,
+) -> Duration {
+    let mut best = Duration::MAX;
+    for i in 0..n {
+        let started = Instant::now();
+        let reply = attempt(i).await;
+        best = best.min(started.elapsed());
+        assert_eq!(reply.status, StatusCode::UNAUTHORIZED);
+    }
+    best
+}
+
+#[tokio::test]
+async fn a_sign_in_takes_as_long_for_a_name_that_does_not_exist() {
+    let app = TestApp::new().await;
+    // Each try from its own address, so the throttle plays no part; the shortest of several
+    // tries, so a busy machine's pauses do not decide.
+    sign_in(&app, "warm-up", "x", 1).await;
+    let real = fastest(5, |i| sign_in(&app, "sam", "not the password", 200 + i)).await;
+    let shop = &app;
+    let unknown = fastest(5, |i| {
+        let name = format!("nobody-{i}");
+        async move { sign_in(shop, &name, "not the password", 300 + i).await }
+    })
+    .await;
+    assert!(
+        unknown * 2 >= real,
+        "a real name took {real:?}, an unknown one {unknown:?}: that tells names apart"
+    );
+    // A disabled account answers in the same time as well.
+    sqlx::query("UPDATE users SET disabled = 1 WHERE username = 'sam'")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let disabled = fastest(5, |i| sign_in(&app, "sam", PASSWORD, 400 + i)).await;
+    assert!(disabled * 2 >= real, "{disabled:?} against {real:?}");
+}
+
+#[tokio::test]
+async fn failed_sign_ins_keep_one_row_per_client_and_name_and_the_purge_is_bounded_and_indexed() {
+    let app = TestApp::new().await;
+    // Thirty failures from three addresses at one name: four rows, not thirty.
+    for n in 0..30 {
+        sign_in(&app, "ghost", "guess", 500 + n % 3).await;
+    }
+    assert_eq!(app.count("login_throttle").await, 4);
+
+    // Both purge statements go through the age index, never a scan of the table.
+    for sql in [db::throttle::PURGE_EXPIRED, db::throttle::PURGE_OVER_CAP] {
+        let plan = query_plan(&app, sql).await;
+        assert!(
+            plan.iter().any(|d| d.contains("login_throttle_by_age")),
+            "{sql}\n{plan:?}"
+        );
+        assert!(
+            !plan.iter().any(|d| d == "SCAN login_throttle"),
+            "{sql}\n{plan:?}"
+        );
+    }
+
+    // A flooded table: fresh rows past the cap and expired ones.
+    let now = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .unwrap()
+        .as_millis() as i64;
+    let cap = lockpoint::web::TRACKED_CAP;
+    let batch = lockpoint::web::PURGE_BATCH;
+    sqlx::query(
+        "WITH RECURSIVE n(i) AS (SELECT 1 UNION ALL SELECT i + 1 FROM n WHERE i < ?)
+         INSERT INTO login_throttle (key, failures, last_failure_ms)
+         SELECT 'name:flood-' || i, 1, CASE WHEN i % 4 = 0 THEN ? - 86400000 ELSE ? - i END FROM n",
+    )
+    .bind(cap * 2)
+    .bind(now)
+    .bind(now)
+    .execute(&app.pool)
+    .await
+    .unwrap();
+    let flooded = app.count("login_throttle").await;
+    assert_eq!(flooded, cap * 2 + 4);
+
+    // A shop write goes through beside the flood.
+    let token = app.token("sam").await;
+    let made = app
+        .api(
+            "POST",
+            "/api/v1/customers",
+            Some(&token),
+            Some(serde_json::json!({"name": "Harlan Voss"})),
+        )
+        .await;
+    assert_eq!(made.status, StatusCode::CREATED, "{}", made.body);
+
+    // Each purge step deletes one bounded batch, expired rows first, then the oldest past the
+    // cap, until the cap is reached.
+    let window_start = now - 15 * 60 * 1000;
+    let mut conn = app.pool.acquire().await.unwrap();
+    let first = db::throttle::purge_batch(&mut conn, window_start, cap, batch)
+        .await
+        .unwrap();
+    assert_eq!(first as i64, batch);
+    let expired_left: i64 =
+        sqlx::query_scalar("SELECT COUNT(*) FROM login_throttle WHERE last_failure_ms < ?")
+            .bind(window_start)
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap();
+    assert_eq!(expired_left, cap * 2 / 4 - batch, "expired rows go first");
+    let mut steps = 1;
+    while db::throttle::purge_batch(&mut conn, window_start, cap, batch)
+        .await
+        .unwrap()
+        > 0
+    {
+        steps += 1;
+        assert!(steps < 1000);
+    }
+    assert_eq!(db::throttle::count(&mut conn).await.unwrap(), cap);
+    // The newest rows are the ones kept.
+    let kept_newest: i64 = sqlx::query_scalar(
+        "SELECT COUNT(*) FROM login_throttle WHERE key IN ('name:ghost', 'name:flood-1')",
+    )
+    .fetch_one(&mut *conn)
+    .await
+    .unwrap();
+    assert_eq!(kept_newest, 2);
+}
+
+/// The query plan of a statement, one line per step.
+async fn query_plan(app: &TestApp, sql: &str) -> Vec<String> {
+    use sqlx::Row;
+    sqlx::query(sqlx::AssertSqlSafe(format!("EXPLAIN QUERY PLAN {sql}")))
+        .bind(0_i64)
+        .bind(0_i64)
+        .fetch_all(&app.pool)
+        .await
+        .unwrap()
+        .iter()
+        .map(|row| row.get::<String, _>("detail"))
+        .collect()
+}
