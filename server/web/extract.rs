@@ -53,16 +53,30 @@ impl CurrentUser {
     }
 }
 
-/// The value of one cookie from the request headers.
-pub fn cookie<'a>(headers: &'a HeaderMap, name: &str) -> Option<&'a str> {
+/// The value of one cookie from the request headers (every `Cookie` header, parsed by the
+/// `cookie` crate; a malformed pair is skipped).
+pub fn cookie(headers: &HeaderMap, name: &str) -> Option<String> {
     headers
         .get_all(header::COOKIE)
         .iter()
         .filter_map(|v| v.to_str().ok())
-        .flat_map(|v| v.split(';'))
-        .filter_map(|pair| pair.trim().split_once('='))
-        .find(|(k, _)| *k == name)
-        .map(|(_, v)| v)
+        .flat_map(cookie::Cookie::split_parse)
+        .flatten()
+        .find(|c| c.name() == name)
+        .map(|c| c.value().to_string())
+}
+
+/// The `Set-Cookie` value of the session cookie: `token` for `max_age_s` seconds (an empty token
+/// with 0 clears it), HttpOnly, SameSite=Lax, and Secure when served over https.
+pub fn session_cookie(token: &str, max_age_s: i64, secure: bool) -> String {
+    cookie::Cookie::build((SESSION_COOKIE, token))
+        .path("/")
+        .http_only(true)
+        .same_site(cookie::SameSite::Lax)
+        .max_age(cookie::time::Duration::seconds(max_age_s))
+        .secure(secure)
+        .build()
+        .to_string()
 }
 
 impl FromRequestParts<AppState> for CurrentUser {
@@ -283,5 +297,34 @@ impl<S: Send + Sync> FromRequestParts<S> for ClientAddr {
                 .get::<axum::extract::ConnectInfo<std::net::SocketAddr>>()
                 .map(|info| info.0.ip().to_canonical()),
         ))
+    }
+}
+
+#[cfg(test)]
+mod cookie_tests {
+    use super::*;
+
+    #[test]
+    fn the_session_cookie_is_read_among_others_and_written_with_its_attributes() {
+        let mut headers = HeaderMap::new();
+        headers.append(
+            header::COOKIE,
+            "theme=light; lockpoint_session=abc123".parse().unwrap(),
+        );
+        headers.append(header::COOKIE, "other=1".parse().unwrap());
+        assert_eq!(cookie(&headers, SESSION_COOKIE).as_deref(), Some("abc123"));
+        assert_eq!(cookie(&headers, "missing"), None);
+
+        // Read back by the cookie crate's own parser (RFC 6265 attributes).
+        let set = cookie::Cookie::parse(session_cookie("abc123", 60, true)).unwrap();
+        assert_eq!((set.name(), set.value()), (SESSION_COOKIE, "abc123"));
+        assert_eq!(set.http_only(), Some(true));
+        assert_eq!(set.secure(), Some(true));
+        assert_eq!(set.same_site(), Some(cookie::SameSite::Lax));
+        assert_eq!(set.path(), Some("/"));
+        assert_eq!(set.max_age(), Some(cookie::time::Duration::seconds(60)));
+        let plain = cookie::Cookie::parse(session_cookie("", 0, false)).unwrap();
+        assert_eq!(plain.secure(), None);
+        assert_eq!(plain.max_age(), Some(cookie::time::Duration::ZERO));
     }
 }

@@ -9,7 +9,9 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
 use super::AppState;
-use super::extract::{ClientAddr, CurrentUser, PlainForm, SESSION_COOKIE, SignedForm, cookie};
+use super::extract::{
+    ClientAddr, CurrentUser, PlainForm, SESSION_COOKIE, SignedForm, cookie, session_cookie,
+};
 use crate::auth;
 use crate::db;
 use crate::error::AppResult;
@@ -179,10 +181,10 @@ pub async fn submit(
     db::sessions::create(&mut conn, &auth::hash_secret(&token), user.id, &csrf).await?;
     db::throttle::clear(&mut conn, &name).await?;
     drop(conn);
-    let cookie = format!(
-        "{SESSION_COOKIE}={token}; Path=/; HttpOnly; SameSite=Lax; Max-Age={}{}",
+    let cookie = session_cookie(
+        &token,
         db::sessions::LIFETIME_DAYS * 86_400,
-        secure(&state)
+        state.secure_cookies(),
     );
     Ok((
         [(header::SET_COOKIE, cookie)],
@@ -225,22 +227,10 @@ pub async fn logout(
 ) -> AppResult<Response> {
     if let Some(token) = cookie(&headers, SESSION_COOKIE) {
         let mut conn = state.pool.acquire().await?;
-        db::sessions::delete(&mut conn, &auth::hash_secret(token)).await?;
+        db::sessions::delete(&mut conn, &auth::hash_secret(&token)).await?;
     }
-    let clear = format!(
-        "{SESSION_COOKIE}=; Path=/; HttpOnly; SameSite=Lax; Max-Age=0{}",
-        secure(&state)
-    );
+    let clear = session_cookie("", 0, state.secure_cookies());
     Ok(([(header::SET_COOKIE, clear)], Redirect::to("/login")).into_response())
-}
-
-/// The cookie attribute that keeps the session cookie off plain http, when served over https.
-fn secure(state: &AppState) -> &'static str {
-    if state.secure_cookies() {
-        "; Secure"
-    } else {
-        ""
-    }
 }
 
 /// Only a plain local path is followed after sign-in, anything else goes to `/`: no open
