@@ -34,8 +34,6 @@ use tower_http::set_header::SetResponseHeaderLayer;
 use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
-pub use extract::url_encode;
-
 /// What every handler can reach.
 #[derive(Clone)]
 pub struct AppState {

@@ -230,19 +230,6 @@ impl<S: Send + Sync> FromRequestParts<S> for PathId {
     }
 }
 
-/// Percent-encodes a path for a `?next=` parameter.
-pub fn url_encode(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for b in text.bytes() {
-        if b.is_ascii_alphanumeric() || matches!(b, b'-' | b'_' | b'.' | b'~' | b'/') {
-            out.push(b as char);
-        } else {
-            out.push_str(&format!("%{b:02X}"));
-        }
-    }
-    out
-}
-
 impl axum::extract::OptionalFromRequestParts<AppState> for CurrentUser {
     type Rejection = AppError;
 
