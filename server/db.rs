@@ -23,9 +23,9 @@ use std::path::Path;
 use std::str::FromStr;
 use std::time::Duration;
 
+use sqlx::SqlitePool;
 use sqlx::migrate::Migrator;
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
-use sqlx::SqlitePool;
 
 /// Opens (creating if needed) the database file and applies pending migrations.
 ///

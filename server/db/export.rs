@@ -242,7 +242,9 @@ async fn seeded_counts() -> sqlx::Result<HashMap<String, i64>> {
     let options = SqliteConnectOptions::from_str("sqlite::memory:")?.foreign_keys(true);
     let mut mem = SqliteConnection::connect_with(&options).await?;
     for migration in MIGRATOR.iter() {
-        sqlx::raw_sql(migration.sql.clone()).execute(&mut mem).await?;
+        sqlx::raw_sql(migration.sql.clone())
+            .execute(&mut mem)
+            .await?;
     }
     let mut counts = HashMap::new();
     for table in tables(&mut mem).await? {

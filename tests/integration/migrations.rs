@@ -78,7 +78,10 @@ fn every_file_in_the_migrations_folder_is_built_in_unchanged() {
     assert_eq!(files.len(), built_in.len(), "{files:?}");
     for (i, (file, migration)) in files.iter().zip(&built_in).enumerate() {
         let number = i64::try_from(i).unwrap() + 1;
-        assert_eq!(migration.version, number, "{file}: numbered in order, no gaps");
+        assert_eq!(
+            migration.version, number,
+            "{file}: numbered in order, no gaps"
+        );
         assert!(file.starts_with(&format!("{number:04}_")), "{file}");
         assert_eq!(migration.migration_type, MigrationType::Simple, "{file}");
         assert!(!migration.no_tx, "{file} runs in a transaction");
@@ -116,7 +119,9 @@ async fn a_database_made_by_the_old_runner_opens_and_is_not_migrated_again() {
     assert_eq!(recorded.len(), 5);
     conn.close().await.unwrap();
 
-    let pool = db::open(&file.path).await.expect("the new runner accepts it");
+    let pool = db::open(&file.path)
+        .await
+        .expect("the new runner accepts it");
     let mut conn = pool.acquire().await.unwrap();
     let after = history(&mut conn).await;
     assert_eq!(
@@ -129,10 +134,11 @@ async fn a_database_made_by_the_old_runner_opens_and_is_not_migrated_again() {
         db::MIGRATOR.iter().count(),
         "steps newer than the old list are applied"
     );
-    let kept: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers WHERE name = 'Kept Customer'")
-        .fetch_one(&mut *conn)
-        .await
-        .unwrap();
+    let kept: i64 =
+        sqlx::query_scalar("SELECT COUNT(*) FROM customers WHERE name = 'Kept Customer'")
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap();
     assert_eq!(kept, 1);
 }
 
