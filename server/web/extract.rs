@@ -69,6 +69,10 @@ impl FromRequestParts<AppState> for CurrentUser {
     type Rejection = AppError;
 
     async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, AppError> {
+        // Already looked up by the route's access layer (`web::routes`).
+        if let Some(user) = parts.extensions.get::<Self>() {
+            return Ok(user.clone());
+        }
         let back_to = || {
             let next = parts.uri.path_and_query().map_or("/", |p| p.as_str());
             // Only come back to pages someone can GET.
@@ -137,6 +141,10 @@ impl FromRequestParts<AppState> for ApiUser {
     type Rejection = ApiError;
 
     async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, ApiError> {
+        // Already looked up by the route's access layer (`web::routes`).
+        if let Some(user) = parts.extensions.get::<Self>() {
+            return Ok(user.clone());
+        }
         let token = parts
             .headers
             .get(header::AUTHORIZATION)
