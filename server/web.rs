@@ -1,4 +1,5 @@
-//! The web layer: every route with its access in one table, the middleware stack, and one module per page group.
+//! The web layer: every route with its access in one table, the middleware stack, and one module
+//! per page group.
 
 mod admin;
 mod api;

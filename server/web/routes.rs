@@ -60,12 +60,14 @@ pub fn post<H: Handler<T, AppState>, T: 'static>(handler: H) -> Methods {
 }
 
 impl Methods {
+    /// Also handles POST with `handler`.
     pub fn post<H: Handler<T, AppState>, T: 'static>(mut self, handler: H) -> Self {
         self.methods.push(Method::POST);
         self.router = self.router.post(handler);
         self
     }
 
+    /// Also handles PUT with `handler`.
     pub fn put<H: Handler<T, AppState>, T: 'static>(mut self, handler: H) -> Self {
         self.methods.push(Method::PUT);
         self.router = self.router.put(handler);
@@ -84,6 +86,7 @@ pub struct Routes {
 }
 
 impl Routes {
+    /// No routes yet.
     pub fn new() -> Self {
         Self::default()
     }
