@@ -302,10 +302,7 @@ async fn check_connection(conn: &mut SqliteConnection) -> Result<Checked, Backup
              {latest}): upgrade Lockpoint first"
         )));
     }
-    if let Some((version, _)) = applied
-        .iter()
-        .find(|(v, _)| !db::MIGRATIONS.iter().any(|m| m.0 == *v))
-    {
+    if let Some((version, _)) = applied.iter().find(|(v, _)| !db::knows_migration(*v)) {
         return Err(BackupError::Refused(format!(
             "it has migration {version}, which this program does not know"
         )));

@@ -25,9 +25,9 @@ use std::path::Path;
 use std::str::FromStr;
 use std::time::Duration;
 
-use sqlx::migrate::{Migration, MigrationType, Migrator};
+use sqlx::SqlitePool;
+use sqlx::migrate::Migrator;
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
-use sqlx::{AssertSqlSafe, SqlSafeStr, SqlitePool};
 
 /// Opens (creating if needed) the database file and applies pending migrations.
 ///
@@ -46,70 +46,25 @@ pub async fn open(path: &Path) -> Result<SqlitePool, sqlx::Error> {
         .max_connections(8)
         .connect_with(options)
         .await?;
-    migrator().run(&pool).await?;
+    MIGRATOR.run(&pool).await?;
     Ok(pool)
 }
 
-/// Every migration, in order, built into the binary. A new file in `migrations/` is added here
-/// (a test checks that the folder and this list agree).
-pub const MIGRATIONS: &[(i64, &str, &str)] = &[
-    (
-        1,
-        "shop records",
-        include_str!("../migrations/0001_shop_records.sql"),
-    ),
-    (
-        2,
-        "new disc baseline",
-        include_str!("../migrations/0002_new_disc_baseline.sql"),
-    ),
-    (
-        3,
-        "setup sheets",
-        include_str!("../migrations/0003_setup_sheets.sql"),
-    ),
-    (
-        4,
-        "audit history",
-        include_str!("../migrations/0004_audit_history.sql"),
-    ),
-    (
-        5,
-        "turns per adjuster",
-        include_str!("../migrations/0005_turns_per_adjuster.sql"),
-    ),
-    (
-        6,
-        "sign in throttle",
-        include_str!("../migrations/0006_sign_in_throttle.sql"),
-    ),
-    (
-        7,
-        "staff display name",
-        include_str!("../migrations/0007_staff_display_name.sql"),
-    ),
-    (
-        8,
-        "shop time zone",
-        include_str!("../migrations/0008_shop_time_zone.sql"),
-    ),
-];
+/// Every file in `migrations/`, in order, built into the binary by `sqlx::migrate!` (the build
+/// script reruns it when a file is added). Each applied step is recorded in `_sqlx_migrations`
+/// with its version, description (the file name after the number, `_` read as a space) and the
+/// SHA-384 of the file, exactly as the hand-written list before it recorded them, so databases,
+/// backups and exports made by earlier builds open unchanged.
+pub static MIGRATOR: Migrator = sqlx::migrate!();
 
-fn migrator() -> Migrator {
-    Migrator::with_migrations(
-        MIGRATIONS
-            .iter()
-            .map(|(version, description, sql)| {
-                Migration::new(
-                    *version,
-                    (*description).into(),
-                    MigrationType::Simple,
-                    AssertSqlSafe(*sql).into_sql_str(),
-                    false,
-                )
-            })
-            .collect(),
-    )
+/// The newest migration this program knows (0 when it knows none).
+pub fn latest_migration() -> i64 {
+    MIGRATOR.iter().map(|m| m.version).max().unwrap_or(0)
+}
+
+/// Whether this program knows the migration numbered `version`.
+pub fn knows_migration(version: i64) -> bool {
+    MIGRATOR.version_exists(version)
 }
 
 /// Rows per page in long lists.

@@ -101,7 +101,10 @@ impl IntoResponse for AppError {
             let target = if next.is_empty() || next == "/" {
                 "/login".to_string()
             } else {
-                format!("/login?next={}", crate::web::url_encode(next))
+                let query = form_urlencoded::Serializer::new(String::new())
+                    .append_pair("next", next)
+                    .finish();
+                format!("/login?{query}")
             };
             return Redirect::to(&target).into_response();
         }

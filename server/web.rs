@@ -1,4 +1,5 @@
-//! The web layer: every route in one table, the middleware stack, and one module per page group.
+//! The web layer: every route with its access in one table, the middleware stack, and one module
+//! per page group.
 
 mod admin;
 mod api;
@@ -15,6 +16,7 @@ mod history;
 mod home;
 mod layout;
 mod login;
+pub mod routes;
 pub mod serve;
 mod sheets;
 mod show;
@@ -26,7 +28,6 @@ use std::time::Duration;
 use axum::Router;
 use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::IntoResponse;
-use axum::routing::{get, post};
 use sqlx::SqlitePool;
 use tokio::sync::Semaphore;
 use tower_http::compression::predicate::{DefaultPredicate, Predicate, SizeAbove};
@@ -37,8 +38,8 @@ use tower_http::set_header::SetResponseHeaderLayer;
 use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
-pub use extract::url_encode;
 pub use login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
+use routes::{Access, RouteInfo, Routes, get, post};
 
 /// What every handler can reach.
 #[derive(Clone)]
@@ -87,57 +88,99 @@ impl AppState {
 /// Largest request body accepted (forms and JSON are small; a torque curve is a few KB).
 pub const BODY_LIMIT_BYTES: usize = 256 * 1024;
 
-/// The whole application: routes, then middleware (outermost last).
-pub fn app(state: AppState) -> Router {
-    let pages = Router::new()
-        .route("/", get(home::front))
-        .route("/login", get(login::form).post(login::submit))
-        .route("/logout", post(login::logout))
-        .route("/customers", get(customers::list).post(customers::create))
-        .route("/customers/new", get(customers::new))
-        .route("/customers/deleted", get(customers::deleted))
-        .route("/customers/{id}/delete", post(customers::delete))
-        .route("/customers/{id}/restore", post(customers::restore))
+/// Where the JSON API is nested.
+pub const API_PREFIX: &str = "/api/v1";
+
+/// Every page route with who may reach it (see `routes`: the access is checked by the group a
+/// route is declared in).
+fn pages() -> Routes {
+    use Access::{Admin, Public, SignedIn};
+    Routes::new()
+        .route(SignedIn, "/", get(home::front))
+        .route(Public, "/login", get(login::form).post(login::submit))
+        .route(SignedIn, "/logout", post(login::logout))
         .route(
+            SignedIn,
+            "/customers",
+            get(customers::list).post(customers::create),
+        )
+        .route(SignedIn, "/customers/new", get(customers::new))
+        .route(Admin, "/customers/deleted", get(customers::deleted))
+        .route(Admin, "/customers/{id}/delete", post(customers::delete))
+        .route(Admin, "/customers/{id}/restore", post(customers::restore))
+        .route(
+            SignedIn,
             "/customers/{id}",
             get(customers::show).post(customers::update),
         )
-        .route("/customers/{id}/edit", get(customers::edit))
-        .route("/customers/{id}/cars", post(cars::create))
-        .route("/customers/{id}/cars/new", get(cars::new))
-        .route("/cars/{id}", get(cars::show).post(cars::update))
-        .route("/cars/{id}/edit", get(cars::edit))
-        .route("/cars/{id}/builds", post(builds::create))
-        .route("/cars/{id}/builds/new", get(builds::new))
-        .route("/builds/{id}", get(builds::show).post(builds::update))
-        .route("/builds/{id}/edit", get(builds::edit))
-        .route("/builds/{id}/tune", get(capacity::tune))
-        .route("/builds/{id}/history", get(history::history))
-        .route("/builds/{id}/sheets", post(sheets::create))
-        .route("/sheets/{id}", get(sheets::show))
-        .route("/sheets/{id}/links", post(sheets::create_link))
-        .route("/links/{id}/revoke", post(sheets::revoke_link))
-        .route("/s/{secret}", get(sheets::public))
-        .route("/builds/{id}/setups", post(entries::add_setup))
-        .route("/builds/{id}/bench-tests", post(entries::add_bench_test))
-        .route("/builds/{id}/heights", post(entries::add_height))
-        .route("/builds/{id}/passes", post(entries::add_pass))
-        .route("/settings", get(admin::settings).post(admin::save_settings))
-        .route("/users", get(admin::users).post(admin::add_user))
-        .route("/users/{id}/disable", post(admin::disable_user))
-        .route("/users/{id}/enable", post(admin::enable_user))
-        .route("/users/{id}/password", post(admin::reset_password))
-        .route("/users/{id}/display-name", post(admin::set_display_name))
-        .route("/backup", get(backup::page))
-        .route("/backup/download", get(backup::download))
-        .route("/backup/export.json", get(backup::export_json))
-        .route("/healthz", get(healthz))
-        .route("/static/style.css", get(stylesheet))
-        .route("/static/print.js", get(print_script));
+        .route(SignedIn, "/customers/{id}/edit", get(customers::edit))
+        .route(SignedIn, "/customers/{id}/cars", post(cars::create))
+        .route(SignedIn, "/customers/{id}/cars/new", get(cars::new))
+        .route(SignedIn, "/cars/{id}", get(cars::show).post(cars::update))
+        .route(SignedIn, "/cars/{id}/edit", get(cars::edit))
+        .route(SignedIn, "/cars/{id}/builds", post(builds::create))
+        .route(SignedIn, "/cars/{id}/builds/new", get(builds::new))
+        .route(
+            SignedIn,
+            "/builds/{id}",
+            get(builds::show).post(builds::update),
+        )
+        .route(SignedIn, "/builds/{id}/edit", get(builds::edit))
+        .route(SignedIn, "/builds/{id}/tune", get(capacity::tune))
+        .route(SignedIn, "/builds/{id}/history", get(history::history))
+        .route(SignedIn, "/builds/{id}/sheets", post(sheets::create))
+        .route(SignedIn, "/sheets/{id}", get(sheets::show))
+        .route(SignedIn, "/sheets/{id}/links", post(sheets::create_link))
+        .route(SignedIn, "/links/{id}/revoke", post(sheets::revoke_link))
+        .route(Public, "/s/{secret}", get(sheets::public))
+        .route(SignedIn, "/builds/{id}/setups", post(entries::add_setup))
+        .route(
+            SignedIn,
+            "/builds/{id}/bench-tests",
+            post(entries::add_bench_test),
+        )
+        .route(SignedIn, "/builds/{id}/heights", post(entries::add_height))
+        .route(SignedIn, "/builds/{id}/passes", post(entries::add_pass))
+        .route(
+            Admin,
+            "/settings",
+            get(admin::settings).post(admin::save_settings),
+        )
+        .route(Admin, "/users", get(admin::users).post(admin::add_user))
+        .route(Admin, "/users/{id}/disable", post(admin::disable_user))
+        .route(Admin, "/users/{id}/enable", post(admin::enable_user))
+        .route(Admin, "/users/{id}/password", post(admin::reset_password))
+        .route(
+            Admin,
+            "/users/{id}/display-name",
+            post(admin::set_display_name),
+        )
+        .route(Admin, "/backup", get(backup::page))
+        .route(Admin, "/backup/download", get(backup::download))
+        .route(Admin, "/backup/export.json", get(backup::export_json))
+        .route(Public, "/healthz", get(healthz))
+        .route(Public, "/static/style.css", get(stylesheet))
+        .route(Public, "/static/print.js", get(print_script))
+}
 
+/// Every route the application serves (pages, then the API under [`API_PREFIX`]), with who may
+/// reach it: the table the router is built from.
+pub fn route_table() -> Vec<RouteInfo> {
+    let mut table = pages().table("");
+    table.extend(api::routes().table(API_PREFIX));
+    table
+}
+
+/// The whole application: routes, then middleware (outermost last).
+pub fn app(state: AppState) -> Router {
     Router::new()
-        .merge(pages)
-        .nest("/api/v1", api::routes())
+        .merge(pages().into_router(&state))
+        .nest(
+            API_PREFIX,
+            api::routes()
+                .into_router(&state)
+                .fallback(api::not_found),
+        )
         .fallback(not_found)
         .with_state(state)
         .layer(SetResponseHeaderLayer::if_not_present(

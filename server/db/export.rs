@@ -20,7 +20,7 @@ use serde_json::value::RawValue;
 use sqlx::sqlite::{SqliteConnectOptions, SqliteRow};
 use sqlx::{AssertSqlSafe, Connection, Row, SqliteConnection, TypeInfo, ValueRef};
 
-use super::MIGRATIONS;
+use super::MIGRATOR;
 
 /// The `format` field of every export document.
 pub const FORMAT: &str = "lockpoint-export";
@@ -85,7 +85,7 @@ pub struct Imported {
 
 /// The newest migration this program knows.
 pub fn latest_known_version() -> i64 {
-    MIGRATIONS.iter().map(|m| m.0).max().unwrap_or(0)
+    super::latest_migration()
 }
 
 /// A name quoted as an SQL identifier.
@@ -247,8 +247,10 @@ pub async fn read(conn: &mut SqliteConnection) -> Result<Export, ExportError> {
 async fn seeded_counts() -> sqlx::Result<HashMap<String, i64>> {
     let options = SqliteConnectOptions::from_str("sqlite::memory:")?.foreign_keys(true);
     let mut mem = SqliteConnection::connect_with(&options).await?;
-    for (_, _, sql) in MIGRATIONS {
-        sqlx::raw_sql(AssertSqlSafe(*sql)).execute(&mut mem).await?;
+    for migration in MIGRATOR.iter() {
+        sqlx::raw_sql(migration.sql.clone())
+            .execute(&mut mem)
+            .await?;
     }
     let mut counts = HashMap::new();
     for table in tables(&mut mem).await? {

@@ -4,17 +4,16 @@
 //! 401 without a valid bearer token.
 
 use axum::Json;
-use axum::Router;
 use axum::extract::{FromRequestParts, Query, State};
 use axum::http::StatusCode;
 use axum::http::request::Parts;
 use axum::response::{IntoResponse, Response};
-use axum::routing::{get, post};
 use serde::Deserialize;
 use sqlx::SqliteConnection;
 
 use super::AppState;
 use super::extract::{ApiJson, ApiUser, PathId};
+use super::routes::{Access, Routes, get, post};
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::records::bench::BenchInput;
@@ -26,47 +25,70 @@ use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::{Checked, Ctx, FieldErrors, field};
 
-pub fn routes() -> Router<AppState> {
-    Router::new()
-        .route("/customers", get(customers_list).post(customer_create))
-        .route("/customers/{id}", get(customer_get).put(customer_update))
+/// Every API route (paths under `web::API_PREFIX`); all need a bearer token.
+pub fn routes() -> Routes {
+    use Access::Token;
+    Routes::new()
         .route(
+            Token,
+            "/customers",
+            get(customers_list).post(customer_create),
+        )
+        .route(
+            Token,
+            "/customers/{id}",
+            get(customer_get).put(customer_update),
+        )
+        .route(
+            Token,
             "/customers/{id}/cars",
             get(cars_of_customer).post(car_create),
         )
-        .route("/cars", get(cars_list))
-        .route("/cars/{id}", get(car_get).put(car_update))
-        .route("/cars/{id}/builds", get(builds_of_car).post(build_create))
-        .route("/builds", get(builds_list))
-        .route("/builds/{id}", get(build_get).put(build_update))
+        .route(Token, "/cars", get(cars_list))
+        .route(Token, "/cars/{id}", get(car_get).put(car_update))
         .route(
+            Token,
+            "/cars/{id}/builds",
+            get(builds_of_car).post(build_create),
+        )
+        .route(Token, "/builds", get(builds_list))
+        .route(Token, "/builds/{id}", get(build_get).put(build_update))
+        .route(
+            Token,
             "/builds/{id}/setups",
             get(setups_of_build).post(setup_create),
         )
-        .route("/setups/{id}", get(setup_get).put(setup_update))
+        .route(Token, "/setups/{id}", get(setup_get).put(setup_update))
         .route(
+            Token,
             "/builds/{id}/bench-tests",
             get(bench_of_build).post(bench_create),
         )
-        .route("/bench-tests/{id}", get(bench_get).put(bench_update))
+        .route(Token, "/bench-tests/{id}", get(bench_get).put(bench_update))
         .route(
+            Token,
             "/builds/{id}/measurements",
             get(heights_of_build).post(height_create),
         )
-        .route("/measurements/{id}", get(height_get).put(height_update))
         .route(
+            Token,
+            "/measurements/{id}",
+            get(height_get).put(height_update),
+        )
+        .route(
+            Token,
             "/builds/{id}/passes",
             get(passes_of_build).post(pass_create),
         )
-        .route("/passes/{id}", get(pass_get).put(pass_update))
-        .route("/builds/{id}/wear", get(super::calc::build_wear))
-        .route("/calc/capacity", post(super::calc::capacity))
-        .route("/calc/recommend", post(super::calc::recommend))
-        .route("/calc/wear", post(super::calc::wear))
-        .fallback(api_not_found)
+        .route(Token, "/passes/{id}", get(pass_get).put(pass_update))
+        .route(Token, "/builds/{id}/wear", get(super::calc::build_wear))
+        .route(Token, "/calc/capacity", post(super::calc::capacity))
+        .route(Token, "/calc/recommend", post(super::calc::recommend))
+        .route(Token, "/calc/wear", post(super::calc::wear))
 }
 
-async fn api_not_found() -> ApiError {
+/// Any other path under the API: a JSON 404.
+pub async fn not_found() -> ApiError {
     ApiError(AppError::NotFound)
 }
 

@@ -38,11 +38,11 @@ pub struct ListPage {
 impl ListPage {
     /// The link to another page of the same search.
     pub fn page_link(&self, page_no: &i64) -> String {
-        format!(
-            "/customers?q={}&page={}",
-            super::url_encode(&self.q),
-            page_no
-        )
+        let query = form_urlencoded::Serializer::new(String::new())
+            .append_pair("q", &self.q)
+            .append_pair("page", &page_no.to_string())
+            .finish();
+        format!("/customers?{query}")
     }
 }
 

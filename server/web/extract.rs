@@ -83,6 +83,10 @@ impl FromRequestParts<AppState> for CurrentUser {
     type Rejection = AppError;
 
     async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, AppError> {
+        // Already looked up by the route's access layer (`web::routes`).
+        if let Some(user) = parts.extensions.get::<Self>() {
+            return Ok(user.clone());
+        }
         let back_to = || {
             let next = parts.uri.path_and_query().map_or("/", |p| p.as_str());
             // Only come back to pages someone can GET.
@@ -161,6 +165,10 @@ impl FromRequestParts<AppState> for ApiUser {
     type Rejection = ApiError;
 
     async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, ApiError> {
+        // Already looked up by the route's access layer (`web::routes`).
+        if let Some(user) = parts.extensions.get::<Self>() {
+            return Ok(user.clone());
+        }
         let token = parts
             .headers
             .get(header::AUTHORIZATION)
@@ -252,19 +260,6 @@ impl<S: Send + Sync> FromRequestParts<S> for PathId {
             _ => Err(AppError::NotFound),
         }
     }
-}
-
-/// Percent-encodes a path for a `?next=` parameter.
-pub fn url_encode(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for b in text.bytes() {
-        if b.is_ascii_alphanumeric() || matches!(b, b'-' | b'_' | b'.' | b'~' | b'/') {
-            out.push(b as char);
-        } else {
-            out.push_str(&format!("%{b:02X}"));
-        }
-    }
-    out
 }
 
 impl axum::extract::OptionalFromRequestParts<AppState> for CurrentUser {

@@ -10,7 +10,7 @@ async fn a_page_without_login_redirects_to_the_login_page() {
     let app = TestApp::new().await;
     let reply = app.get("/customers?q=x", None).await;
     assert_eq!(reply.status, StatusCode::SEE_OTHER);
-    assert_eq!(reply.location(), "/login?next=/customers%3Fq%3Dx");
+    assert_eq!(reply.location(), "/login?next=%2Fcustomers%3Fq%3Dx");
     assert_eq!(app.get("/healthz", None).await.status, StatusCode::OK);
     assert_eq!(app.get("/login", None).await.status, StatusCode::OK);
 }

@@ -7,6 +7,7 @@ mod cli;
 mod crash;
 mod history;
 mod hostile;
+mod migrations;
 mod records;
 mod routes;
 mod serving;

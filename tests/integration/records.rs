@@ -364,24 +364,6 @@ async fn the_demo_shop_loads_once_and_passes_its_own_checks() {
 }
 
 #[tokio::test]
-async fn the_migrations_folder_and_the_built_in_list_agree() {
-    let mut files: Vec<String> =
-        std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/migrations"))
-            .unwrap()
-            .map(|e| e.unwrap().file_name().into_string().unwrap())
-            .collect();
-    files.sort();
-    assert_eq!(files.len(), lockpoint::db::MIGRATIONS.len());
-    for (file, (version, _, sql)) in files.iter().zip(lockpoint::db::MIGRATIONS) {
-        assert!(file.starts_with(&format!("{version:04}_")), "{file}");
-        let on_disk =
-            std::fs::read_to_string(format!("{}/migrations/{file}", env!("CARGO_MANIFEST_DIR")))
-                .unwrap();
-        assert_eq!(&on_disk, sql);
-    }
-}
-
-#[tokio::test]
 async fn adjusters_at_different_settings_are_flagged() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;

@@ -1,62 +1,20 @@
-//! The whole route table, read from the source of the router, checked for access: every page
-//! and API route except sign-in, health, static files and the customer's sheet link needs a
-//! session or a token; admin routes refuse a tech.
+//! The route table the router is built from (`lockpoint::web::route_table`), walked route by
+//! route: every route answers as its declared access says. Public: anyone; signed in: a session,
+//! else the sign-in page; admin: a tech gets 403; the API: a bearer token, else 401.
 
 use axum::body::Body;
 use axum::http::{Method, Request, StatusCode, header};
+use lockpoint::web::route_table;
+use lockpoint::web::routes::{Access, RouteInfo};
 
-use crate::support::TestApp;
-
-/// (method, path) of every route in `server/web.rs` and (under /api/v1) `server/web/api.rs`.
-fn route_table() -> Vec<(Method, String)> {
-    let mut out = Vec::new();
-    for (file, prefix) in [("server/web.rs", ""), ("server/web/api.rs", "/api/v1")] {
-        let src =
-            std::fs::read_to_string(format!("{}/{file}", env!("CARGO_MANIFEST_DIR"))).unwrap();
-        let mut rest = src.as_str();
-        while let Some(at) = rest.find(".route(") {
-            rest = &rest[at + ".route(".len()..];
-            // The call's text up to its balanced closing parenthesis.
-            let mut depth = 1;
-            let end = rest
-                .char_indices()
-                .find(|(_, c)| {
-                    match c {
-                        '(' => depth += 1,
-                        ')' => depth -= 1,
-                        _ => {}
-                    }
-                    depth == 0
-                })
-                .map(|(i, _)| i)
-                .unwrap();
-            let call = &rest[..end];
-            let path = call.split('"').nth(1).unwrap();
-            for (name, method) in [
-                ("get(", Method::GET),
-                ("post(", Method::POST),
-                ("put(", Method::PUT),
-                ("delete(", Method::DELETE),
-            ] {
-                let found = call.match_indices(name).any(|(i, _)| {
-                    i == 0
-                        || !call.as_bytes()[i - 1].is_ascii_alphanumeric()
-                            && call.as_bytes()[i - 1] != b'_'
-                });
-                if found {
-                    out.push((method, format!("{prefix}{path}")));
-                }
-            }
-        }
-    }
-    out
-}
+use crate::support::{Reply, TestApp};
 
 fn concrete(path: &str) -> String {
     path.replace("{id}", "1")
         .replace("{secret}", &"ab".repeat(32))
 }
 
+/// The only routes anyone may reach. Making a route public is a decision to review here.
 const PUBLIC: [(&str, &str); 6] = [
     ("GET", "/login"),
     ("POST", "/login"),
@@ -66,76 +24,96 @@ const PUBLIC: [(&str, &str); 6] = [
     ("GET", "/s/{secret}"),
 ];
 
-fn is_admin_route(path: &str) -> bool {
-    [
-        "/settings",
-        "/users",
-        "/customers/deleted",
-        "/delete",
-        "/restore",
-        "/backup",
-    ]
-    .iter()
-    .any(|p| path.starts_with(p) || path.ends_with(p) || path.contains(&format!("{p}/")))
+fn of(access: Access) -> Vec<RouteInfo> {
+    route_table()
+        .into_iter()
+        .filter(|r| r.access == access)
+        .collect()
+}
+
+/// A request with no session or token; a body of the route's kind for writes.
+async fn anonymous(app: &TestApp, route: &RouteInfo, path: &str) -> Reply {
+    let mut req = Request::builder().method(route.method.clone()).uri(path);
+    let body = if route.method == Method::GET {
+        Body::empty()
+    } else if route.path.starts_with("/api/") {
+        req = req.header(header::CONTENT_TYPE, "application/json");
+        Body::from("{}")
+    } else {
+        req = req.header(header::CONTENT_TYPE, "application/x-www-form-urlencoded");
+        Body::from("a=b")
+    };
+    app.send(req.body(body).unwrap()).await
+}
+
+#[test]
+fn the_table_lists_each_route_once_and_only_the_known_ones_are_public() {
+    let table = route_table();
+    assert!(table.len() >= 50, "{} routes", table.len());
+    for (i, r) in table.iter().enumerate() {
+        assert!(
+            !table[..i]
+                .iter()
+                .any(|o| o.method == r.method && o.path == r.path),
+            "{} {} is declared twice",
+            r.method,
+            r.path
+        );
+        assert_eq!(
+            r.path.starts_with("/api/"),
+            r.access == Access::Token,
+            "{} {}: the API and only the API is reached by token",
+            r.method,
+            r.path
+        );
+    }
+    let mut public: Vec<(String, String)> = of(Access::Public)
+        .into_iter()
+        .map(|r| (r.method.to_string(), r.path))
+        .collect();
+    public.sort();
+    let mut expected: Vec<(String, String)> = PUBLIC
+        .iter()
+        .map(|(m, p)| (m.to_string(), p.to_string()))
+        .collect();
+    expected.sort();
+    assert_eq!(public, expected);
 }
 
 #[tokio::test]
-async fn every_route_but_the_public_ones_needs_a_login_or_a_token() {
-    let table = route_table();
-    assert!(
-        table.len() >= 50,
-        "the route table was read ({} routes)",
-        table.len()
-    );
-    for (m, p) in PUBLIC {
-        assert!(
-            table
-                .iter()
-                .any(|(method, path)| method.as_str() == m && path == p),
-            "public route {m} {p} exists"
-        );
-    }
+async fn every_route_without_credentials_answers_as_its_access_says() {
     let app = TestApp::new().await;
-    for (method, path) in &table {
-        let public = PUBLIC
-            .iter()
-            .any(|(m, p)| *m == method.as_str() && p == path);
-        let mut req = Request::builder()
-            .method(method.clone())
-            .uri(concrete(path));
-        let body = if *method == Method::GET {
-            Body::empty()
-        } else if path.starts_with("/api/") {
-            req = req.header(header::CONTENT_TYPE, "application/json");
-            Body::from("{}")
-        } else {
-            req = req.header(header::CONTENT_TYPE, "application/x-www-form-urlencoded");
-            Body::from("a=b")
-        };
-        let reply = app.send(req.body(body).unwrap()).await;
-        if public {
-            assert!(
-                reply.status != StatusCode::UNAUTHORIZED && reply.status.as_u16() != 303
+    for route in route_table() {
+        let (method, path) = (&route.method, &route.path);
+        let reply = anonymous(&app, &route, &concrete(path)).await;
+        assert_ne!(
+            reply.status,
+            StatusCode::METHOD_NOT_ALLOWED,
+            "{method} {path} is served as the table says"
+        );
+        match route.access {
+            Access::Public => assert!(
+                reply.status != StatusCode::UNAUTHORIZED && reply.status != StatusCode::SEE_OTHER
                     || path == "/login",
                 "{method} {path} is public: {}",
                 reply.status
-            );
-        } else if path.starts_with("/api/") {
-            assert_eq!(
+            ),
+            Access::SignedIn | Access::Admin => {
+                assert_eq!(
+                    reply.status,
+                    StatusCode::SEE_OTHER,
+                    "{method} {path} without a session"
+                );
+                assert!(
+                    reply.location().starts_with("/login"),
+                    "{method} {path} sends to the sign-in page"
+                );
+            }
+            Access::Token => assert_eq!(
                 reply.status,
                 StatusCode::UNAUTHORIZED,
                 "{method} {path} without a token"
-            );
-        } else {
-            assert_eq!(
-                reply.status,
-                StatusCode::SEE_OTHER,
-                "{method} {path} without a session"
-            );
-            assert!(
-                reply.location().starts_with("/login"),
-                "{method} {path} sends to the login page"
-            );
+            ),
         }
     }
 }
@@ -144,12 +122,9 @@ async fn every_route_but_the_public_ones_needs_a_login_or_a_token() {
 async fn admin_routes_refuse_a_tech() {
     let app = TestApp::new().await;
     let tech = app.login("sam").await;
-    let admin_routes: Vec<(Method, String)> = route_table()
-        .into_iter()
-        .filter(|(_, p)| is_admin_route(p))
-        .collect();
+    let admin_routes = of(Access::Admin);
     assert!(admin_routes.len() >= 8, "{admin_routes:?}");
-    for (method, path) in admin_routes {
+    for RouteInfo { method, path, .. } in admin_routes {
         let reply = if method == Method::GET {
             tech.get(&concrete(&path)).await
         } else {
@@ -162,4 +137,49 @@ async fn admin_routes_refuse_a_tech() {
             "{method} {path} as a tech"
         );
     }
+}
+
+#[tokio::test]
+async fn a_tech_reaches_every_signed_in_page_and_an_admin_every_admin_page() {
+    let app = TestApp::new().await;
+    let tech = app.login("sam").await;
+    let admin = app.login("boss").await;
+    let mut pages = 0;
+    for route in route_table() {
+        let who = match route.access {
+            Access::SignedIn => &tech,
+            Access::Admin => &admin,
+            Access::Public | Access::Token => continue,
+        };
+        if route.method != Method::GET {
+            continue;
+        }
+        pages += 1;
+        let reply = who.get(&concrete(&route.path)).await;
+        let refused = matches!(
+            reply.status,
+            StatusCode::UNAUTHORIZED | StatusCode::FORBIDDEN | StatusCode::METHOD_NOT_ALLOWED
+        ) || reply.location().starts_with("/login");
+        assert!(!refused, "GET {}: {}", route.path, reply.status);
+    }
+    assert!(pages >= 15, "{pages} pages");
+}
+
+#[tokio::test]
+async fn access_is_checked_before_the_path_id_is_read() {
+    let app = TestApp::new().await;
+    let route = |path: &str| RouteInfo {
+        access: Access::SignedIn,
+        method: Method::POST,
+        path: path.into(),
+    };
+    let reply = anonymous(&app, &route("/cars/{id}/builds"), "/cars/abc/builds").await;
+    assert_eq!(reply.status, StatusCode::SEE_OTHER);
+    assert!(reply.location().starts_with("/login"));
+    let tech = app.login("sam").await;
+    let reply = tech.post("/users/abc/disable", &[]).await;
+    assert_eq!(reply.status, StatusCode::FORBIDDEN);
+    let admin = app.login("boss").await;
+    let reply = admin.post("/users/abc/disable", &[]).await;
+    assert_eq!(reply.status, StatusCode::NOT_FOUND);
 }

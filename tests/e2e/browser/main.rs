@@ -1,6 +1,7 @@
 //! Browser tests in real headless Chromium, driven through chromedriver (WebDriver), against the
 //! real server binary with the demo shop on a temporary database. Run explicitly:
-//! `cargo test --test browser` (needs chromium, chromium-driver and poppler-utils).
+//! `cargo test -p lockpoint-e2e --test browser` (needs chromium, chromium-driver and
+//! poppler-utils).
 //! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/`.
 
 mod harness;

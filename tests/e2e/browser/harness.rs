@@ -52,7 +52,7 @@ pub struct Server {
 impl Server {
     pub async fn start() -> Self {
         let db = temp_path("shop.db");
-        let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint-e2e-server"))
             .args(["serve", "--demo", "--addr", "127.0.0.1:0", "--db"])
             .arg(&db)
             .stdout(Stdio::piped())

@@ -1,4 +1,4 @@
-//! Engineering benchmarks: `cargo bench --bench engineering`.
+//! Engineering benchmarks: `cargo bench -p lockpoint-e2e --bench engineering`.
 //! Targets: the capacity curve at 1 rpm over 1000-9000 rpm under 100 µs; one recommendation with
 //! both targets under 10 ms (2-core machine).
 
