@@ -160,6 +160,13 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
             );
         }
     }
+    if db::users::count(&mut *pool.acquire().await?).await? == 0 {
+        println!(
+            "no staff accounts yet: nobody can sign in. Stop the server and create the first \
+             one with `lockpoint user add NAME --role admin --db {}`",
+            args.db.path.display()
+        );
+    }
     tokio::spawn(crate::web::forget_old_failures(pool.clone()));
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;

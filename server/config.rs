@@ -69,7 +69,8 @@ pub enum Command {
 /// Where the SQLite database file lives.
 #[derive(Debug, Clone, Args)]
 pub struct DbArg {
-    /// SQLite database file (created when missing).
+    /// SQLite database file (`serve` and `user add` create it when missing; the other commands
+    /// need it to exist, except `import`, which fills a new one).
     #[arg(long = "db", env = "LOCKPOINT_DB", default_value = "lockpoint.db")]
     pub path: PathBuf,
 }

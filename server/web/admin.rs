@@ -142,15 +142,19 @@ pub async fn add_user(
     SignedForm { user, form }: SignedForm,
 ) -> AppResult<Response> {
     user.require_admin()?;
-    let role = Role::parse(form.get("role")).unwrap_or(Role::Tech);
     let password = form.get("password").to_string();
     let mut errors = FieldErrors::default();
-    let new_user = match NewUser::parse(form.get("username"), &password, role) {
-        Ok(u) => Some(u),
-        Err(e) => {
+    let role = Role::parse(form.get("role"));
+    if role.is_none() {
+        errors.add("role", "choose admin or tech");
+    }
+    let new_user = match role.map(|r| NewUser::parse(form.get("username"), &password, r)) {
+        Some(Ok(u)) => Some(u),
+        Some(Err(e)) => {
             errors.add(e.field, e.message);
             None
         }
+        None => None,
     };
     if let Some(new_user) = new_user {
         let hash = auth::hash_password(password).await?;

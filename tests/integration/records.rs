@@ -452,3 +452,23 @@ async fn a_bad_spring_reading_is_marked_beside_its_own_input() {
     );
     assert_eq!(app.count("bench_tests").await, 0);
 }
+
+#[tokio::test]
+async fn an_unknown_role_is_refused_not_stored_as_tech() {
+    let app = TestApp::new().await;
+    let admin = app.login("boss").await;
+    let before = app.count("users").await;
+    let reply = admin
+        .post(
+            "/users",
+            &[
+                ("username", "newhand"),
+                ("password", "long-enough-pass"),
+                ("role", "root"),
+            ],
+        )
+        .await;
+    assert_eq!(reply.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(reply.body.contains("choose admin or tech"));
+    assert_eq!(app.count("users").await, before);
+}
