@@ -161,7 +161,7 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
         }
     }
     if db::users::count(&mut *pool.acquire().await?).await? == 0 {
-        println!(
+        eprintln!(
             "no staff accounts yet: nobody can sign in. Stop the server and create the first \
              one with `lockpoint user add NAME --role admin --db {}`",
             args.db.path.display()

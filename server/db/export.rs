@@ -7,6 +7,11 @@
 //! foreign_key_list`) decide the order. Only migration bookkeeping and short-lived sign-in state
 //! are left out ([`SKIPPED`]).
 //!
+//! An import admits only what an export writes and what keeps the shop working: no skipped
+//! table, the singleton rows the migrations seed (the shop settings, the audit actor), every
+//! cell of its column's stored type, and every row of a record table passing its record's
+//! checks (`check`). A refusal names the table, row and column; nothing is written before.
+//!
 //! An export holds everything needed to rebuild the shop, staff password hashes and API token
 //! hashes included: it must be kept as private as the database file.
 
@@ -21,6 +26,8 @@ use sqlx::sqlite::{SqliteConnectOptions, SqliteRow};
 use sqlx::{AssertSqlSafe, Connection, Row, SqliteConnection, TypeInfo, ValueRef};
 
 use super::MIGRATOR;
+
+mod check;
 
 /// The `format` field of every export document.
 pub const FORMAT: &str = "lockpoint-export";
@@ -118,6 +125,17 @@ pub async fn applied_version(conn: &mut SqliteConnection) -> sqlx::Result<i64> {
 /// A table's columns in declared order (generated and hidden columns left out).
 async fn columns(conn: &mut SqliteConnection, table: &str) -> sqlx::Result<Vec<String>> {
     sqlx::query_scalar("SELECT name FROM pragma_table_info(?) ORDER BY cid")
+        .bind(table)
+        .fetch_all(conn)
+        .await
+}
+
+/// A table's columns with their declared types, in declared order.
+async fn declared_types(
+    conn: &mut SqliteConnection,
+    table: &str,
+) -> sqlx::Result<Vec<(String, String)>> {
+    sqlx::query_as("SELECT name, type FROM pragma_table_info(?) ORDER BY cid")
         .bind(table)
         .fetch_all(conn)
         .await
@@ -241,17 +259,23 @@ pub async fn read(conn: &mut SqliteConnection) -> Result<Export, ExportError> {
     })
 }
 
-/// How many rows each table holds before anyone has used the database: the rows the
-/// migrations themselves insert (the one shop settings row, for example), found by running them
-/// on a database in memory.
-async fn seeded_counts() -> sqlx::Result<HashMap<String, i64>> {
+/// A database in memory with the migrations up to `version` applied.
+async fn migrated_in_memory(version: i64) -> sqlx::Result<SqliteConnection> {
     let options = SqliteConnectOptions::from_str("sqlite::memory:")?.foreign_keys(true);
     let mut mem = SqliteConnection::connect_with(&options).await?;
-    for migration in MIGRATOR.iter() {
+    for migration in MIGRATOR.iter().filter(|m| m.version <= version) {
         sqlx::raw_sql(migration.sql.clone())
             .execute(&mut mem)
             .await?;
     }
+    Ok(mem)
+}
+
+/// How many rows each table holds before anyone has used the database: the rows the
+/// migrations themselves insert (the one shop settings row, for example), found by running them
+/// on a database in memory.
+async fn seeded_counts() -> sqlx::Result<HashMap<String, i64>> {
+    let mut mem = migrated_in_memory(i64::MAX).await?;
     let mut counts = HashMap::new();
     for table in tables(&mut mem).await? {
         let n = count(&mut mem, &table).await?;
@@ -278,13 +302,84 @@ pub async fn records_present(conn: &mut SqliteConnection) -> sqlx::Result<Vec<(S
     Ok(present)
 }
 
+/// The ids of the rows the migrations up to `version` insert, by table: the shop's singleton
+/// rows (the shop settings, the audit actor), which the shop cannot work without and which
+/// every export made at that version holds.
+async fn seeded_ids(version: i64) -> sqlx::Result<BTreeMap<String, Vec<i64>>> {
+    let mut mem = migrated_in_memory(version).await?;
+    let mut seeded = BTreeMap::new();
+    for table in tables(&mut mem).await? {
+        if table == "_sqlx_migrations" || count(&mut mem, &table).await? == 0 {
+            continue;
+        }
+        let ids: Vec<i64> = sqlx::query_scalar(AssertSqlSafe(format!(
+            "SELECT id FROM {} ORDER BY id",
+            ident(&table)
+        )))
+        .fetch_all(&mut mem)
+        .await?;
+        seeded.insert(table, ids);
+    }
+    mem.close().await?;
+    Ok(seeded)
+}
+
+/// Refuses a document without the singleton rows its version holds, or with other rows than
+/// those in a singleton table (an empty `shop_settings` would leave every page failing).
+async fn check_singletons(
+    export: &Export,
+    by_name: &BTreeMap<String, &Table>,
+) -> Result<(), ExportError> {
+    let at_version = seeded_ids(export.version).await?;
+    for (name, ids) in seeded_ids(latest_known_version()).await? {
+        let list = ids
+            .iter()
+            .map(i64::to_string)
+            .collect::<Vec<_>>()
+            .join(", ");
+        let rows = if ids.len() == 1 { "row" } else { "rows" };
+        let Some(table) = by_name.get(&name) else {
+            if at_version.contains_key(&name) {
+                return Err(ExportError::Refused(format!(
+                    "the export has no table {name:?}: every export holds its {rows} with id \
+                     {list}"
+                )));
+            }
+            continue;
+        };
+        let id = table.columns.iter().position(|c| c == "id");
+        let found: Vec<Option<i64>> = table
+            .rows
+            .iter()
+            .map(|row| match id.map(|i| &row[i]) {
+                Some(Cell::Integer(v)) => Some(*v),
+                _ => None,
+            })
+            .collect();
+        if found.len() != ids.len() || found.iter().zip(&ids).any(|(f, i)| *f != Some(*i)) {
+            return Err(ExportError::Refused(format!(
+                "table {name:?} must hold exactly {} {rows} with id {list} (the shop cannot \
+                 work without it); the export's table holds {}",
+                ids.len(),
+                match found.len() {
+                    0 => "none".to_string(),
+                    1 => "1 row".to_string(),
+                    n => format!("{n} rows"),
+                }
+            )));
+        }
+    }
+    Ok(())
+}
+
 /// Loads an export into an empty database, every row with its id, parents first. Run it inside
 /// one `BEGIN IMMEDIATE` transaction and commit only when it returns `Ok`.
 ///
 /// The rows the migrations seeded (such as the shop settings row) are replaced by the export's.
 /// Triggers are set aside while loading, so audit triggers do not record the load as new edits
 /// (the export carries the audit history itself), and put back unchanged before returning.
-/// Foreign keys are checked once everything is in.
+/// Foreign keys are checked once everything is in. Everything else the import refuses (see the
+/// module's documentation) is found before the first row is written.
 pub async fn import(conn: &mut SqliteConnection, export: &Export) -> Result<Imported, ExportError> {
     let latest = latest_known_version();
     if export.version > latest {
@@ -306,23 +401,28 @@ pub async fn import(conn: &mut SqliteConnection, export: &Export) -> Result<Impo
              database (give a new file with --db)"
         )));
     }
+    // Names are matched exactly, as an export writes them: the record checks below go by name.
     let existing = tables(conn).await?;
     let mut by_name: BTreeMap<String, &Table> = BTreeMap::new();
     for table in &export.tables {
-        let Some(target) = existing
-            .iter()
-            .find(|t| t.eq_ignore_ascii_case(&table.name))
-        else {
+        if SKIPPED.iter().any(|s| s.eq_ignore_ascii_case(&table.name)) {
+            return Err(ExportError::Refused(format!(
+                "the export has a table {:?}, which an export never holds (migration history and \
+                 sign-in state belong to the database they were made in)",
+                table.name
+            )));
+        }
+        let Some(target) = existing.iter().find(|t| **t == table.name) else {
             return Err(ExportError::Refused(format!(
                 "the export has a table {:?} that this database does not have",
                 table.name
             )));
         };
-        let target_columns = columns(conn, target).await?;
+        let target_columns = declared_types(conn, target).await?;
         if let Some(c) = table
             .columns
             .iter()
-            .find(|c| !target_columns.iter().any(|t| t.eq_ignore_ascii_case(c)))
+            .find(|c| !target_columns.iter().any(|(t, _)| t == *c))
         {
             return Err(ExportError::Refused(format!(
                 "the export's table {:?} has a column {c:?} that this database does not have",
@@ -335,7 +435,10 @@ pub async fn import(conn: &mut SqliteConnection, export: &Export) -> Result<Impo
                 table.name
             )));
         }
+        check::stored_types(table, &target_columns)?;
     }
+    check_singletons(export, &by_name).await?;
+    check::records(export, &check::import_ctx(export))?;
     let seeded = seeded_counts().await?;
 
     let triggers: Vec<(String, String)> = sqlx::query_as(
@@ -378,7 +481,7 @@ pub async fn import(conn: &mut SqliteConnection, export: &Export) -> Result<Impo
                 .join(", "),
             vec!["?"; table.columns.len()].join(", ")
         );
-        for row in &table.rows {
+        for (n, row) in table.rows.iter().enumerate() {
             let mut query = sqlx::query(AssertSqlSafe(sql.clone()));
             for value in row {
                 query = match value {
@@ -389,7 +492,13 @@ pub async fn import(conn: &mut SqliteConnection, export: &Export) -> Result<Impo
                     Cell::Blob(v) => query.bind(v.clone()),
                 };
             }
-            query.execute(&mut *conn).await?;
+            // A refused row (a constraint such as NOT NULL or UNIQUE) is named by its place.
+            query.execute(&mut *conn).await.map_err(|e| match e {
+                sqlx::Error::Database(db) => {
+                    ExportError::Refused(format!("{}: {}", check::place(table, n), db.message()))
+                }
+                other => ExportError::Sql(other),
+            })?;
             rows += 1;
         }
     }

@@ -286,6 +286,14 @@ pub fn check<R: Record>(
     ctx: &Ctx,
     mut errors: FieldErrors,
 ) -> Result<super::Checked<R>, FieldErrors> {
+    check_fields(&mut r, ctx, &mut errors);
+    r.check_more(ctx, &mut errors);
+    errors.into_result(super::Checked(r))
+}
+
+/// Checks every field against its own declaration only (no rules between fields or records):
+/// what an imported row of a table holding part of a record is checked with.
+pub fn check_fields<R: Record>(r: &mut R, ctx: &Ctx, errors: &mut FieldErrors) {
     let units = ctx.units;
     for f in R::FIELDS {
         if errors.has(f.column) {
@@ -299,27 +307,27 @@ pub fn check<R: Record>(
                 get,
                 set,
             } => {
-                let text = get(&r).trim().to_string();
+                let text = get(r).trim().to_string();
                 if *required && text.is_empty() {
                     fault(None, "required".into());
                 } else if text.chars().count() > *max_chars {
                     fault(None, format!("too long (at most {max_chars} characters)"));
                 }
-                set(&mut r, text);
+                set(r, text);
             }
             Value::Number {
                 limit,
                 required,
                 get,
                 ..
-            } => match get(&r) {
+            } => match get(r) {
                 Some(v) if v.is_nan() && *required => fault(None, "required".into()),
                 Some(v) if !limit.admits(v) => fault(None, limit.message(units)),
                 None if *required => fault(None, "required".into()),
                 _ => {}
             },
             Value::Whole { limit, get, .. } => {
-                if !limit.admits(get(&r) as f64) {
+                if !limit.admits(get(r) as f64) {
                     fault(None, limit.message(units));
                 }
             }
@@ -330,7 +338,7 @@ pub fn check<R: Record>(
                 get,
                 ..
             } => {
-                let values = get(&r);
+                let values = get(r);
                 if values.len() > *max_items {
                     fault(None, format!("at most {max_items} entries"));
                 }
@@ -343,12 +351,12 @@ pub fn check<R: Record>(
                     }
                 }
             }
-            Value::Curve { get, set } => match check_curve(get(&r), f.column, units) {
-                Ok(points) => set(&mut r, points),
+            Value::Curve { get, set } => match check_curve(get(r), f.column, units) {
+                Ok(points) => set(r, points),
                 Err((index, m)) => fault(index, m),
             },
             Value::Date { get, .. } => {
-                if let Err(m) = Date::parse(get(&r))
+                if let Err(m) = Date::parse(get(r))
                     .map_err(String::from)
                     .and_then(|d| d.not_after(ctx.today))
                 {
@@ -356,7 +364,7 @@ pub fn check<R: Record>(
                 }
             }
             Value::Choice { options, get, .. } => {
-                let key = get(&r);
+                let key = get(r);
                 if !options.iter().any(|(k, _)| *k == key) {
                     let words: Vec<&str> = options.iter().map(|(_, w)| *w).collect();
                     fault(None, format!("choose {}", words.join(", ")));
@@ -365,8 +373,6 @@ pub fn check<R: Record>(
             Value::Flag { .. } => {}
         }
     }
-    r.check_more(ctx, &mut errors);
-    errors.into_result(super::Checked(r))
 }
 
 /// A torque curve's points checked one by one (engine speed and torque limits), then as a curve

@@ -512,7 +512,8 @@ async fn restore_refuses_damaged_and_foreign_files_and_leaves_the_database_alone
 }
 
 /// The demo shop plus values that are hard to carry exactly: reals with long decimal
-/// expansions, extremes, and text with quotes, commas, newlines and non-ASCII letters.
+/// expansions (within the cars' limits, which an import checks), and text with quotes, commas,
+/// newlines and non-ASCII letters.
 async fn demo_shop(path: &Path) -> SqlitePool {
     let pool = db::open(path).await.unwrap();
     assert!(demo::seed_if_empty(&pool).await.unwrap());
@@ -524,9 +525,9 @@ async fn demo_shop(path: &Path) -> SqlitePool {
         "UPDATE cars SET weight_kg = ?, first_gear_ratio = ?, final_drive_ratio = ?,
              notes = ? WHERE id = ?",
     )
-    .bind(0.1 + 0.2)
+    .bind(1000.0 + 0.1 + 0.2)
     .bind(2.0_f64.sqrt())
-    .bind(1.0e-300)
+    .bind(1.0 + f64::EPSILON)
     .bind("Søren's \"Tuesday\" car,\r\nlaunches at 5,400")
     .bind(car)
     .execute(&pool)
@@ -584,10 +585,14 @@ async fn export_then_import_into_a_new_database_exports_the_identical_document()
     );
     assert!(tables["customers"][0]["id"].is_i64());
     assert!(
-        document.contains("0.30000000000000004"),
+        document.contains("1000.3000000000001"),
         "reals are written exactly"
     );
-    assert!(document.contains("1e-300"), "{}", &document[..200]);
+    assert!(
+        document.contains("1.0000000000000002"),
+        "{}",
+        &document[..200]
+    );
     // Parents come before the tables that refer to them.
     let at = |t: &str| document.find(&format!("\n    \"{t}\": [")).unwrap();
     assert!(
@@ -719,6 +724,398 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
         .unwrap();
     assert_eq!(count, 0);
     empty.close().await;
+}
+
+/// The demo shop's export as a JSON value, for a test to alter.
+async fn demo_document(scratch: &Scratch) -> serde_json::Value {
+    let pool = demo_shop(&scratch.path("demo.db")).await;
+    let document = backup::read_export(&pool).await.unwrap().to_json();
+    pool.close().await;
+    serde_json::from_str(&document).unwrap()
+}
+
+/// Runs `lockpoint import` of `document` into a new database, insists that it is refused and
+/// that the database holds no records afterwards (nothing partial), and returns the message.
+async fn import_refused(scratch: &Scratch, case: &str, document: &serde_json::Value) -> String {
+    let json = scratch.path(&format!("{case}.json"));
+    std::fs::write(&json, serde_json::to_string_pretty(document).unwrap()).unwrap();
+    let db_path = scratch.path(&format!("{case}.db"));
+    let out = lockpoint(&["import", text(&json), "--db", text(&db_path)]);
+    assert!(
+        !out.status.success(),
+        "{case} was imported: {}",
+        stdout(&out)
+    );
+    assert!(
+        stderr(&out).starts_with("error: "),
+        "{case}: {}",
+        stderr(&out)
+    );
+    let pool = db::open(&db_path).await.unwrap();
+    let mut conn = pool.acquire().await.unwrap();
+    let present = export::records_present(&mut conn).await.unwrap();
+    assert!(present.is_empty(), "{case} left records: {present:?}");
+    let settings: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM shop_settings WHERE id = 1")
+        .fetch_one(&mut *conn)
+        .await
+        .unwrap();
+    assert_eq!(settings, 1, "{case} left the shop settings row");
+    drop(conn);
+    pool.close().await;
+    stderr(&out)
+}
+
+/// `document` with `rows` as table `name` (added or replaced).
+fn with_table(
+    document: &serde_json::Value,
+    name: &str,
+    rows: serde_json::Value,
+) -> serde_json::Value {
+    let mut document = document.clone();
+    document["tables"][name] = rows;
+    document
+}
+
+#[tokio::test]
+async fn import_refuses_tables_an_export_never_writes() {
+    let scratch = Scratch::new();
+    let document = demo_document(&scratch).await;
+    let stamp = "2026-01-01T00:00:00Z";
+    let cases = [
+        (
+            "migrations",
+            "_sqlx_migrations",
+            serde_json::json!([{"version": 99, "description": "later", "installed_on": stamp,
+                "success": 1, "checksum": {"$blob": "00"}, "execution_time": 1}]),
+            "never holds",
+        ),
+        (
+            "session",
+            "sessions",
+            serde_json::json!([{"token_hash": "0f", "user_id": 1, "csrf_token": "c",
+                "expires_at": "2099-01-01T00:00:00Z", "created_at": stamp, "updated_at": stamp}]),
+            "never holds",
+        ),
+        (
+            "no_sessions",
+            "sessions",
+            serde_json::json!([]),
+            "never holds",
+        ),
+        (
+            "spelled_sessions",
+            "Sessions",
+            serde_json::json!([]),
+            "never holds",
+        ),
+        (
+            "throttle",
+            "login_throttle",
+            serde_json::json!([]),
+            "never holds",
+        ),
+        (
+            "unknown",
+            "extras",
+            serde_json::json!([{"id": 1}]),
+            "this database does not have",
+        ),
+        (
+            "spelled_customers",
+            "Customers",
+            serde_json::json!([]),
+            "this database does not have",
+        ),
+    ];
+    for (case, table, rows, why) in cases {
+        let message = import_refused(&scratch, case, &with_table(&document, table, rows)).await;
+        assert!(
+            message.contains(&format!("table {table:?}")) && message.contains(why),
+            "{case}: {message}"
+        );
+    }
+}
+
+#[tokio::test]
+async fn import_requires_the_shop_settings_and_audit_actor_rows() {
+    let scratch = Scratch::new();
+    let document = demo_document(&scratch).await;
+    let settings = document["tables"]["shop_settings"][0].clone();
+    let mut other_id = settings.clone();
+    other_id["id"] = 2.into();
+    let actor = document["tables"]["audit_actor"][0].clone();
+    let without = |table: &str| {
+        let mut d = document.clone();
+        d["tables"].as_object_mut().unwrap().remove(table).unwrap();
+        d
+    };
+    let (no_settings, no_actor) = (without("shop_settings"), without("audit_actor"));
+    let cases = [
+        ("settings_missing", "shop_settings", no_settings, "no table"),
+        (
+            "settings_empty",
+            "shop_settings",
+            with_table(&document, "shop_settings", serde_json::json!([])),
+            "holds none",
+        ),
+        (
+            "settings_other_id",
+            "shop_settings",
+            with_table(&document, "shop_settings", serde_json::json!([other_id])),
+            "id 1",
+        ),
+        (
+            "settings_twice",
+            "shop_settings",
+            with_table(
+                &document,
+                "shop_settings",
+                serde_json::json!([settings, other_id]),
+            ),
+            "holds 2 rows",
+        ),
+        ("actor_missing", "audit_actor", no_actor, "no table"),
+        (
+            "actor_empty",
+            "audit_actor",
+            with_table(&document, "audit_actor", serde_json::json!([])),
+            "holds none",
+        ),
+    ];
+    for (case, table, document, why) in cases {
+        let message = import_refused(&scratch, case, &document).await;
+        assert!(
+            message.contains(&format!("table {table:?}")) && message.contains(why),
+            "{case}: {message}"
+        );
+    }
+
+    // An export made before the audit history existed (migration 4) has no audit actor row:
+    // it imports, and the new database keeps its own.
+    let mut old = document.clone();
+    old["version"] = 3.into();
+    let tables = old["tables"].as_object_mut().unwrap();
+    tables.remove("audit_actor");
+    tables.remove("audit_log");
+    for (table, column) in [
+        ("users", "display_name"),
+        ("shop_settings", "time_zone"),
+        ("setup_changes", "adjuster_turns_each"),
+    ] {
+        for row in tables[table].as_array_mut().unwrap() {
+            row.as_object_mut().unwrap().remove(column);
+        }
+    }
+    let json = scratch.path("old.json");
+    std::fs::write(&json, serde_json::to_string(&old).unwrap()).unwrap();
+    let fresh = scratch.path("old.db");
+    let out = lockpoint(&["import", text(&json), "--db", text(&fresh)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let pool = db::open(&fresh).await.unwrap();
+    let kept: (i64, String) = sqlx::query_as("SELECT id, username FROM audit_actor")
+        .fetch_one(&pool)
+        .await
+        .unwrap();
+    assert_eq!(kept, (actor["id"].as_i64().unwrap(), "system".to_string()));
+    pool.close().await;
+}
+
+#[tokio::test]
+async fn import_runs_every_record_row_through_its_checks_and_names_the_cell() {
+    let scratch = Scratch::new();
+    let document = demo_document(&scratch).await;
+    // (table, column set, value, the column the message names, what it says)
+    let cases: &[(&str, &str, serde_json::Value, &str, &str)] = &[
+        (
+            "builds",
+            "facing_od_mm",
+            "abc".into(),
+            "facing_od_mm",
+            "expected a number, found text \"abc\"",
+        ),
+        (
+            "builds",
+            "facing_od_mm",
+            5000.0.into(),
+            "facing_od_mm",
+            "at most 400 mm",
+        ),
+        (
+            "builds",
+            "facing_od_mm",
+            serde_json::Value::Null,
+            "facing_od_mm",
+            "required",
+        ),
+        (
+            "builds",
+            "facing_id_mm",
+            399.0.into(),
+            "facing_id_mm",
+            "smaller than the outer",
+        ),
+        (
+            "builds",
+            "disc_count",
+            1.5.into(),
+            "disc_count",
+            "expected a whole number",
+        ),
+        (
+            "builds",
+            "facing_material",
+            "cardboard".into(),
+            "facing_material",
+            "choose",
+        ),
+        (
+            "builds",
+            "shim_stack_mm",
+            "[0.5, \"x\"]".into(),
+            "shim_stack_mm",
+            "expected a JSON list of numbers",
+        ),
+        (
+            "builds",
+            "shim_stack_mm",
+            "[0.5, 9.0]".into(),
+            "shim_stack_mm[1]",
+            "shim 2",
+        ),
+        (
+            "cars",
+            "weight_kg",
+            0.3.into(),
+            "weight_kg",
+            "must be between",
+        ),
+        (
+            "cars",
+            "torque_curve_nm",
+            "{}".into(),
+            "torque_curve_nm",
+            "[rpm, N*m] pairs",
+        ),
+        ("customers", "name", "".into(), "name", "required"),
+        (
+            "customers",
+            "email",
+            "not an address".into(),
+            "email",
+            "needs an @",
+        ),
+        (
+            "setup_changes",
+            "adjuster_turns_each",
+            "[1.0, 25.0]".into(),
+            "adjuster_turns_each[1]",
+            "adjuster 2: must be between",
+        ),
+        (
+            "setup_changes",
+            "changed_on",
+            "2099-01-01".into(),
+            "changed_on",
+            "later than",
+        ),
+        (
+            "bench_tests",
+            "tested_on",
+            "soon".into(),
+            "tested_on",
+            "YYYY-MM-DD",
+        ),
+        (
+            "bench_springs",
+            "force_n",
+            (-5.0).into(),
+            "force_n",
+            "at most 50,000 N",
+        ),
+        (
+            "cover_heights",
+            "new_disc",
+            2.into(),
+            "new_disc",
+            "expected 0 or 1",
+        ),
+        (
+            "cover_heights",
+            "passes",
+            (-1).into(),
+            "passes",
+            "must be between",
+        ),
+        (
+            "passes",
+            "run_on",
+            "2099-01-01".into(),
+            "run_on",
+            "later than",
+        ),
+        ("passes", "et_s", 0.6.into(), "et_s", "must be between"),
+        (
+            "passes",
+            "et_s",
+            1.2.into(),
+            "et_s",
+            "longer than the 60-ft",
+        ),
+        (
+            "shop_settings",
+            "units",
+            "furlongs".into(),
+            "units",
+            "choose",
+        ),
+        (
+            "shop_settings",
+            "time_zone",
+            "Nowhere/Atlantis".into(),
+            "time_zone",
+            "time zone",
+        ),
+        (
+            "audit_log",
+            "user_id",
+            "abc".into(),
+            "user_id",
+            "expected a whole number",
+        ),
+        (
+            "users",
+            "created_at",
+            5.into(),
+            "created_at",
+            "expected text",
+        ),
+    ];
+    let mut wrong = Vec::new();
+    for (n, (table, column, value, names, says)) in cases.iter().enumerate() {
+        let mut document = document.clone();
+        let row = document["tables"][*table][0]
+            .as_object_mut()
+            .unwrap_or_else(|| panic!("the demo shop has {table}"));
+        assert!(row.contains_key(*column), "{table}.{column}");
+        row.insert(column.to_string(), value.clone());
+        let id = row["id"].as_i64().unwrap();
+        let case = format!("{n}-{table}-{column}");
+        let message = import_refused(&scratch, &case, &document).await;
+        let place = format!("table {table:?}, row 1 (id {id}), column {names:?}: ");
+        if !(message.contains(&place) && message.contains(says)) {
+            wrong.push(format!("{case}: expected {place}{says}\n{message}"));
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+
+    // A row the database itself refuses (a CHECK constraint) is named by its place too.
+    let mut document = document.clone();
+    document["tables"]["users"][0]["role"] = "owner".into();
+    let message = import_refused(&scratch, "role", &document).await;
+    assert!(
+        message.contains("table \"users\", row 1") && message.contains("role"),
+        "{message}"
+    );
 }
 
 /// Splits RFC 4180 text into records of fields, insisting on CRLF after every record.

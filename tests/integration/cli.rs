@@ -125,3 +125,33 @@ fn every_command_has_help() {
         );
     }
 }
+
+#[test]
+fn serve_on_a_database_without_accounts_says_how_to_make_the_first() {
+    let db = TempDb::new();
+    let mut child = lockpoint()
+        .args([
+            "serve",
+            "--db",
+            db.path.to_str().unwrap(),
+            "--addr",
+            "127.0.0.1:0",
+        ])
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let stderr = BufReader::new(child.stderr.take().unwrap());
+    let hint = stderr
+        .lines()
+        .take(20)
+        .map_while(Result::ok)
+        .find(|l| l.contains("no staff accounts yet"));
+    let _ = child.kill();
+    let _ = child.wait();
+    let hint = hint.expect("the hint is printed");
+    assert!(
+        hint.contains("lockpoint user add NAME --role admin"),
+        "{hint}"
+    );
+}
