@@ -138,6 +138,7 @@ impl BenchInput {
 }
 
 impl Record for BenchInput {
+    const WHOLE_ROW: bool = false;
     const FIELDS: &'static [Field<Self>] = &[
         Field {
             column: "tested_on",

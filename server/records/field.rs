@@ -87,6 +87,10 @@ pub enum Value<R: 'static> {
 pub trait Record: Default + Sized + 'static {
     const FIELDS: &'static [Field<Self>];
 
+    /// Whether one stored row holds the whole record (a bench test's springs are rows of a
+    /// table of their own, so its row holds only the date and note).
+    const WHOLE_ROW: bool = true;
+
     /// Rules between fields, with messages in `ctx.units`. Runs after the per-field checks; a
     /// field that already has a message keeps it (the first message per field wins).
     fn check_more(&mut self, _ctx: &Ctx, _errors: &mut FieldErrors) {}
@@ -487,6 +491,30 @@ pub fn show_stored<R: Record>(f: &Field<R>, stored: &Json, units: Units) -> Stri
     }
 }
 
+/// Something done with the record type a table stores, whichever it is (see [`for_table`]).
+pub trait RecordVisitor {
+    type Out;
+    fn visit<R: Record>(self) -> Self::Out;
+}
+
+/// Runs `v` with the record type stored in `table`; `None` for a table that holds no record
+/// (ids, links, sheets, staff). The one list of record tables.
+pub fn for_table<V: RecordVisitor>(table: &str, v: V) -> Option<V::Out> {
+    use super::{bench, build, car, customer, height, pass, settings, setup};
+    Some(match table {
+        "customers" => v.visit::<customer::CustomerInput>(),
+        "cars" => v.visit::<car::CarInput>(),
+        "builds" => v.visit::<build::BuildInput>(),
+        "setup_changes" => v.visit::<setup::SetupInput>(),
+        "bench_tests" => v.visit::<bench::BenchInput>(),
+        "bench_springs" => v.visit::<bench::SpringReading>(),
+        "cover_heights" => v.visit::<height::HeightInput>(),
+        "passes" => v.visit::<pass::PassInput>(),
+        "shop_settings" => v.visit::<settings::SettingsInput>(),
+        _ => return None,
+    })
+}
+
 /// A stored column of an audited table in words: its place in the record's declaration, its
 /// label and its value in `units`, as the pages show it; `None` for a column no record declares
 /// (ids, stamps, links).
@@ -496,28 +524,28 @@ pub fn stored_view(
     value: &Json,
     units: Units,
 ) -> Option<(usize, &'static str, String)> {
-    use super::{bench, build, car, customer, height, pass, settings, setup};
-    fn view<R: Record>(
-        column: &str,
-        value: &Json,
+    struct View<'a> {
+        column: &'a str,
+        value: &'a Json,
         units: Units,
-    ) -> Option<(usize, &'static str, String)> {
-        let i = R::FIELDS.iter().position(|f| f.column == column)?;
-        let f = &R::FIELDS[i];
-        Some((i, f.label, show_stored(f, value, units)))
     }
-    match table {
-        "customers" => view::<customer::CustomerInput>(column, value, units),
-        "cars" => view::<car::CarInput>(column, value, units),
-        "builds" => view::<build::BuildInput>(column, value, units),
-        "setup_changes" => view::<setup::SetupInput>(column, value, units),
-        "bench_tests" => view::<bench::BenchInput>(column, value, units),
-        "bench_springs" => view::<bench::SpringReading>(column, value, units),
-        "cover_heights" => view::<height::HeightInput>(column, value, units),
-        "passes" => view::<pass::PassInput>(column, value, units),
-        "shop_settings" => view::<settings::SettingsInput>(column, value, units),
-        _ => None,
+    impl RecordVisitor for View<'_> {
+        type Out = Option<(usize, &'static str, String)>;
+        fn visit<R: Record>(self) -> Self::Out {
+            let i = R::FIELDS.iter().position(|f| f.column == self.column)?;
+            let f = &R::FIELDS[i];
+            Some((i, f.label, show_stored(f, self.value, self.units)))
+        }
     }
+    for_table(
+        table,
+        View {
+            column,
+            value,
+            units,
+        },
+    )
+    .flatten()
 }
 
 /// A JSON list, or a JSON list stored as text (SQLite JSON columns read back as text).

@@ -6,9 +6,9 @@
 
 use super::{Cell, Export, ExportError, Table};
 use crate::clutch::units::Units;
+use crate::records::FieldErrors;
 use crate::records::date::{Date, ShopZone};
-use crate::records::field::{self, Ctx, Field, Record, Value};
-use crate::records::{FieldErrors, bench, build, car, customer, height, pass, settings, setup};
+use crate::records::field::{self, Ctx, Field, Record, RecordVisitor, Value, for_table};
 
 /// Where a row is, for messages: `table "builds", row 3 (id 7)`. Rows count from 1 in the
 /// document's order.
@@ -146,18 +146,19 @@ pub(super) fn import_ctx(export: &Export) -> Ctx {
 /// only the test's date and note (its springs are rows of `bench_springs`, checked on their
 /// own), so it gets the field checks without the rules about the whole test.
 pub(super) fn records(export: &Export, ctx: &Ctx) -> Result<(), ExportError> {
+    struct Rows<'a> {
+        table: &'a Table,
+        ctx: &'a Ctx,
+    }
+    impl RecordVisitor for Rows<'_> {
+        type Out = Result<(), ExportError>;
+        fn visit<R: Record>(self) -> Self::Out {
+            rows::<R>(self.table, self.ctx, R::WHOLE_ROW)
+        }
+    }
     for table in &export.tables {
-        match table.name.as_str() {
-            "customers" => rows::<customer::CustomerInput>(table, ctx, true)?,
-            "cars" => rows::<car::CarInput>(table, ctx, true)?,
-            "builds" => rows::<build::BuildInput>(table, ctx, true)?,
-            "setup_changes" => rows::<setup::SetupInput>(table, ctx, true)?,
-            "bench_tests" => rows::<bench::BenchInput>(table, ctx, false)?,
-            "bench_springs" => rows::<bench::SpringReading>(table, ctx, true)?,
-            "cover_heights" => rows::<height::HeightInput>(table, ctx, true)?,
-            "passes" => rows::<pass::PassInput>(table, ctx, true)?,
-            "shop_settings" => rows::<settings::SettingsInput>(table, ctx, true)?,
-            _ => {}
+        if let Some(result) = for_table(&table.name, Rows { table, ctx }) {
+            result?;
         }
     }
     Ok(())
