@@ -81,9 +81,12 @@ pub fn bench_review(bench: &[BenchTest], settings: &SettingsInput) -> Option<Vec
             readings: t
                 .springs
                 .iter()
-                .map(|s| BenchPoint {
-                    compression_mm: s.compression_mm,
-                    force_n: s.force_n,
+                .map(|s| {
+                    let point = BenchPoint {
+                        compression_mm: s.compression_mm,
+                        force_n: s.force_n,
+                    };
+                    (s.position.max(1) as usize, point)
                 })
                 .collect(),
         })

@@ -130,9 +130,10 @@ impl ShowPage {
 /// A bench test with each spring's rate and flags.
 pub struct BenchView {
     pub test: BenchTest,
-    /// Per spring (by position): the reading, its rate N/mm, and the percent lost since the
-    /// previous test when that loss is past the shop's sag threshold.
-    pub springs: Vec<(BenchSpring, Option<f64>, Option<f64>)>,
+    /// Per spring (by position): the reading, its rate N/mm, its rate's change since that
+    /// spring's last test (percent), and the percent lost when that loss is past the shop's
+    /// sag threshold.
+    pub springs: Vec<(BenchSpring, Option<f64>, Option<f64>, Option<f64>)>,
     pub spread: Option<SetSpread>,
 }
 
@@ -153,10 +154,11 @@ fn bench_views(tests: &[BenchTest], settings: &SettingsInput) -> Vec<BenchView> 
                     let sag = review.and_then(|r| {
                         r.sagged
                             .iter()
-                            .find(|(pos, _)| *pos == j + 1)
+                            .find(|(pos, _)| *pos as i64 == s.position)
                             .map(|(_, pct)| *pct)
                     });
-                    (s.clone(), rate, sag)
+                    let change = review.and_then(|r| r.change_pct.get(j).copied().flatten());
+                    (s.clone(), rate, change, sag)
                 })
                 .collect();
             BenchView {

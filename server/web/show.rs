@@ -120,6 +120,13 @@ impl Show {
         s.map_or_else(|| DASH.into(), |v| Kind::Seconds.show(self.units, v))
     }
 
+    /// A change in percent with its sign ("+0.4 %", "−1.2 %").
+    pub fn signed_pct(&self, pct: impl Num) -> String {
+        let v = pct.value();
+        let sign = if v < 0.0 { "−" } else { "+" };
+        format!("{sign}{:.1} %", v.abs())
+    }
+
     pub fn pct(&self, pct: impl Num) -> String {
         let pct = pct.value();
         format!("{pct:.1} %")
