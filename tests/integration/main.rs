@@ -4,6 +4,7 @@ mod access;
 mod backup;
 mod calc;
 mod cli;
+mod counter;
 mod crash;
 mod history;
 mod hostile;
