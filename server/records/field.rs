@@ -153,6 +153,78 @@ fn list_items(raw: &str) -> impl Iterator<Item = &str> {
         .filter(|s| !s.is_empty())
 }
 
+/// The rows of a pasted dyno table as (engine speed, torque) in the units typed. Accepts the
+/// usual exports: two or more columns separated by tabs, semicolons, commas or spaces (the
+/// first of those a line holds), with a decimal comma when columns are split by semicolons, and
+/// an optional header line naming the columns: the engine speed is the column whose header says
+/// rpm or speed, the torque the one that says torque or tq; without a header, the first two.
+/// A line that cannot be read gives its message (line number and text as typed).
+pub fn dyno_rows(raw: &str) -> Vec<Result<[f64; 2], String>> {
+    let split = |line: &str| -> (Vec<String>, bool) {
+        let (cells, decimal_comma): (Vec<&str>, bool) = if line.contains('\t') {
+            (line.split('\t').collect(), false)
+        } else if line.contains(';') {
+            (line.split(';').collect(), true)
+        } else if line.contains(',') {
+            (line.split(',').collect(), false)
+        } else {
+            (line.split_whitespace().collect(), false)
+        };
+        let cells = cells
+            .into_iter()
+            .map(|c| c.trim().to_string())
+            .filter(|c| !c.is_empty())
+            .collect();
+        (cells, decimal_comma)
+    };
+    let mut columns = (0, 1);
+    let mut rows = Vec::new();
+    let mut first = true;
+    for (line_no, line) in raw.lines().enumerate() {
+        let line = line.trim();
+        if line.is_empty() {
+            continue;
+        }
+        let (cells, decimal_comma) = split(line);
+        let find = |words: &[&str]| {
+            cells.iter().position(|c| {
+                let c = c.to_lowercase();
+                words.iter().any(|w| c.contains(w))
+            })
+        };
+        let named = find(&["rpm", "speed"]).zip(find(&["torque", "tq"]));
+        // A header: the first line when it holds words, or any line before the data that
+        // names both columns.
+        if rows.is_empty() && (named.is_some() || (first && line.chars().any(char::is_alphabetic)))
+        {
+            if let Some(named) = named {
+                columns = named;
+            }
+            first = false;
+            continue;
+        }
+        first = false;
+        let number = |i: usize| {
+            let cell = cells.get(i)?;
+            let cell = if decimal_comma {
+                cell.replace(',', ".")
+            } else {
+                cell.clone()
+            };
+            parse_number(&cell)
+        };
+        rows.push(match (number(columns.0), number(columns.1)) {
+            (Some(rpm), Some(torque)) => Ok([rpm, torque]),
+            _ => Err(format!(
+                "line {}: expected an engine speed and a torque, got “{}”",
+                line_no + 1,
+                cells.join(" | ")
+            )),
+        });
+    }
+    rows
+}
+
 /// A number in the shop's display units as internal units.
 fn number_in(kind: Kind, units: Units, raw: &str) -> Result<Option<f64>, &'static str> {
     if raw.is_empty() {
@@ -247,30 +319,13 @@ pub fn read<R: Record>(form: &FormData, units: Units) -> (R, FieldErrors) {
             }
             Value::Curve { set, .. } => {
                 let mut points = Vec::new();
-                for (line_no, line) in raw.lines().enumerate() {
-                    let line = line.trim();
-                    if line.is_empty() {
-                        continue;
-                    }
-                    let cells: Vec<&str> = list_items(line).collect();
-                    let parsed = match cells.as_slice() {
-                        [rpm, torque] => parse_number(rpm).zip(parse_number(torque)),
-                        _ => None,
-                    };
-                    match parsed {
-                        Some((rpm, torque)) => {
+                for row in dyno_rows(raw) {
+                    match row {
+                        Ok([rpm, torque]) => {
                             points.push([rpm, Kind::Torque.from_shown(units, torque)])
                         }
-                        None if points.is_empty() && line.chars().any(char::is_alphabetic) => {}
-                        None => {
-                            fault(
-                                Some(points.len()),
-                                format!(
-                                    "line {}: expected an engine speed and a torque, got “{}”",
-                                    line_no + 1,
-                                    line
-                                ),
-                            );
+                        Err(message) => {
+                            fault(Some(points.len()), message);
                             points.push([f64::NAN, f64::NAN]);
                         }
                     }
@@ -569,6 +624,26 @@ mod tests {
             ("torque_curve_nm", Some(0))
         );
         assert_eq!(split_path("label"), ("label", None));
+    }
+
+    #[test]
+    fn dyno_exports_are_read_by_their_header() {
+        // Tab-separated, three columns, header naming them in another order.
+        let tab = "Power (hp)\tEngine speed (rpm)\tTorque (lbf·ft)\n250\t3000\t410\n330\t4000\t455";
+        let rows: Vec<_> = dyno_rows(tab).into_iter().map(Result::unwrap).collect();
+        assert_eq!(rows, vec![[3000.0, 410.0], [4000.0, 455.0]]);
+        // Semicolons with decimal commas, no header: the first two columns.
+        let semi = "3000;410,5;234\n4000;455;346";
+        let rows: Vec<_> = dyno_rows(semi).into_iter().map(Result::unwrap).collect();
+        assert_eq!(rows, vec![[3000.0, 410.5], [4000.0, 455.0]]);
+        // A bad line is named with its text, tabs shown as column breaks, never as escapes.
+        let bad = dyno_rows("rpm\ttorque\n3000\tx");
+        let message = bad[0].clone().unwrap_err();
+        assert_eq!(
+            message,
+            "line 2: expected an engine speed and a torque, got “3000 | x”"
+        );
+        assert!(!message.contains('\\'));
     }
 
     #[test]
