@@ -130,11 +130,19 @@ impl ShowPage {
 /// A bench test with each spring's rate and flags.
 pub struct BenchView {
     pub test: BenchTest,
-    /// Per spring (by position): the reading, its rate N/mm, its rate's change since that
-    /// spring's last test (percent), and the percent lost when that loss is past the shop's
-    /// sag threshold.
-    pub springs: Vec<(BenchSpring, Option<f64>, Option<f64>, Option<f64>)>,
+    pub springs: Vec<SpringRow>,
     pub spread: Option<SetSpread>,
+}
+
+/// One spring's line in a bench test's table.
+pub struct SpringRow {
+    pub reading: BenchSpring,
+    /// Its rate, N/mm.
+    pub rate: Option<f64>,
+    /// The rate's change since that spring's last test, percent.
+    pub change: Option<f64>,
+    /// The percent lost, when that loss is past the shop's sag threshold.
+    pub sag: Option<f64>,
 }
 
 /// Pairs each bench test with its review (rates, spread against the tolerance, sag).
@@ -158,7 +166,12 @@ fn bench_views(tests: &[BenchTest], settings: &SettingsInput) -> Vec<BenchView> 
                             .map(|(_, pct)| *pct)
                     });
                     let change = review.and_then(|r| r.change_pct.get(j).copied().flatten());
-                    (s.clone(), rate, change, sag)
+                    SpringRow {
+                        reading: s.clone(),
+                        rate,
+                        change,
+                        sag,
+                    }
                 })
                 .collect();
             BenchView {
