@@ -9,6 +9,27 @@ use serde_json::json;
 
 use crate::support::{TestApp, id_from};
 
+/// The settings form as a shop admin fills it in: display units, the units the numbers on the
+/// form were shown in, the shimming limit (in those) and the time zone; the rest as shipped.
+fn settings<'a>(
+    units: &'a str,
+    shown: &'a str,
+    shimming_limit: &'a str,
+    zone: &'a str,
+) -> [(&'static str, &'a str); 9] {
+    [
+        ("name", "Test shop"),
+        ("units", units),
+        ("shown_units", shown),
+        ("spring_spread_pct", "5"),
+        ("spring_sag_pct", "3"),
+        ("shimming_limit", shimming_limit),
+        ("overclamp_factor", "1.5"),
+        ("due_within_passes", "10"),
+        ("time_zone", zone),
+    ]
+}
+
 /// The number in "Please fix the N marked field(s)".
 fn announced(body: &str) -> usize {
     let start = body.find("Please fix the ").expect("an alert") + "Please fix the ".len();
@@ -116,19 +137,7 @@ async fn range_messages_quote_the_limits_in_the_shop_units() {
 
     let admin = app.login("boss").await;
     let settings = admin
-        .post(
-            "/settings",
-            &[
-                ("name", "Test shop"),
-                ("units", "imperial"),
-                ("shown_units", "imperial"),
-                ("spring_spread_pct", "5"),
-                ("spring_sag_pct", "3"),
-                ("shimming_limit", "0.5"),
-                ("overclamp_factor", "1.5"),
-                ("due_within_passes", "10"),
-            ],
-        )
+        .post("/settings", &settings("imperial", "imperial", "0.5", ""))
         .await;
     assert_eq!(settings.status, StatusCode::UNPROCESSABLE_ENTITY);
     // 5 mm = 0.19685 in: rounded down so that the message offers nothing refused
@@ -252,19 +261,7 @@ async fn switching_the_display_units_keeps_the_stored_values() {
         let admin = &admin;
         async move {
             admin
-                .post(
-                    "/settings",
-                    &[
-                        ("name", "Test shop"),
-                        ("units", units),
-                        ("shown_units", shown),
-                        ("spring_spread_pct", "5"),
-                        ("spring_sag_pct", "3"),
-                        ("shimming_limit", limit),
-                        ("overclamp_factor", "1.5"),
-                        ("due_within_passes", "10"),
-                    ],
-                )
+                .post("/settings", &settings(units, shown, limit, ""))
                 .await
         }
     };
@@ -360,17 +357,7 @@ async fn today_is_the_shops_own_date_and_later_dates_are_refused() {
     let saved = admin
         .post(
             "/settings",
-            &[
-                ("name", "Test shop"),
-                ("units", "imperial"),
-                ("shown_units", "imperial"),
-                ("spring_spread_pct", "5"),
-                ("spring_sag_pct", "3"),
-                ("shimming_limit", "0.015"),
-                ("overclamp_factor", "1.5"),
-                ("due_within_passes", "10"),
-                ("time_zone", zone),
-            ],
+            &settings("imperial", "imperial", "0.015", zone),
         )
         .await;
     assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
@@ -405,17 +392,7 @@ async fn today_is_the_shops_own_date_and_later_dates_are_refused() {
     let bad_zone = admin
         .post(
             "/settings",
-            &[
-                ("name", "Test shop"),
-                ("units", "imperial"),
-                ("shown_units", "imperial"),
-                ("spring_spread_pct", "5"),
-                ("spring_sag_pct", "3"),
-                ("shimming_limit", "0.015"),
-                ("overclamp_factor", "1.5"),
-                ("due_within_passes", "10"),
-                ("time_zone", "Mars/Olympus"),
-            ],
+            &settings("imperial", "imperial", "0.015", "Mars/Olympus"),
         )
         .await;
     assert_eq!(bad_zone.status, StatusCode::UNPROCESSABLE_ENTITY);
