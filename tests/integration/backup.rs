@@ -1,9 +1,9 @@
 //! Backups, restore, export and import: through the real binary where a user would use it, and
 //! through the router for the admin downloads.
 
-use std::io::{BufRead, BufReader, Read, Write};
+use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
-use std::process::{Child, Command, Output, Stdio};
+use std::process::{Command, Output, Stdio};
 use std::str::FromStr;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, AtomicU32, AtomicUsize, Ordering};
@@ -20,7 +20,7 @@ use sqlx::sqlite::SqliteConnectOptions;
 use sqlx::{Connection, SqliteConnection, SqlitePool};
 use tower::ServiceExt;
 
-use crate::support::TestApp;
+use crate::support::{Server, TestApp};
 
 /// A temporary directory for one test's database, backups and exports; removed when dropped.
 struct Scratch {
@@ -80,56 +80,17 @@ fn stdout(out: &Output) -> String {
     String::from_utf8_lossy(&out.stdout).into_owned()
 }
 
-/// A running `lockpoint serve`, killed if a test fails before stopping it.
-struct Server(Option<Child>);
-
-impl Drop for Server {
-    fn drop(&mut self) {
-        if let Some(mut child) = self.0.take() {
-            let _ = child.kill();
-            let _ = child.wait();
-        }
-    }
-}
-
 /// Starts `lockpoint serve` on `db` and waits until it answers a request (by then its
 /// shutdown signal handler is installed too).
 fn start_server(db: &Path) -> Server {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-        .args(["serve", "--db", text(db), "--addr", "127.0.0.1:0"])
-        .stdout(Stdio::piped())
-        .stderr(Stdio::null())
-        .spawn()
-        .unwrap();
-    let stdout = child.stdout.take().unwrap();
-    let server = Server(Some(child));
-    let mut line = String::new();
-    BufReader::new(stdout).read_line(&mut line).unwrap();
-    let addr = line
-        .trim()
-        .strip_prefix("listening on http://")
-        .unwrap_or_else(|| panic!("{line}"));
-    let mut stream = std::net::TcpStream::connect(addr).unwrap();
-    stream
-        .write_all(b"GET /healthz HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n")
-        .unwrap();
-    let mut reply = String::new();
-    stream.read_to_string(&mut reply).unwrap();
+    let server = Server::start(db);
+    let reply = server.get("/healthz");
     assert!(reply.starts_with("HTTP/1.1 200"), "{reply}");
     server
 }
 
 fn stop_server(mut server: Server) {
-    let mut child = server.0.take().unwrap();
-    let pid = child.id().to_string();
-    assert!(
-        Command::new("kill")
-            .args(["-TERM", &pid])
-            .status()
-            .unwrap()
-            .success()
-    );
-    let status = child.wait().unwrap();
+    let (status, _) = server.terminate_within(Duration::from_secs(30));
     assert!(status.success(), "clean exit on SIGTERM: {status:?}");
 }
 
@@ -142,14 +103,15 @@ fn serve_expecting_refusal(db: &Path) -> Output {
         .stderr(Stdio::piped())
         .spawn()
         .unwrap();
-    let mut server = Server(Some(child));
+    let mut child = child;
     for _ in 0..200 {
-        let child = server.0.as_mut().unwrap();
         if child.try_wait().unwrap().is_some() {
-            return server.0.take().unwrap().wait_with_output().unwrap();
+            return child.wait_with_output().unwrap();
         }
         std::thread::sleep(Duration::from_millis(50));
     }
+    let _ = child.kill();
+    let _ = child.wait();
     panic!("a second server started on {}", db.display());
 }
 
@@ -1424,22 +1386,9 @@ fn the_backup_download_is_staged_beside_the_database_not_in_the_system_temp_fold
     assert!(add.wait().unwrap().success());
 
     // A system temp folder nobody can write to: the download must not need it.
-    let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-        .args(["serve", "--db", text(&shop), "--addr", "127.0.0.1:0"])
-        .env("TMPDIR", scratch.path("no-such-folder"))
-        .stdout(Stdio::piped())
-        .stderr(Stdio::null())
-        .spawn()
-        .unwrap();
-    let stdout = child.stdout.take().unwrap();
-    let server = Server(Some(child));
-    let mut line = String::new();
-    BufReader::new(stdout).read_line(&mut line).unwrap();
-    let addr = line
-        .trim()
-        .strip_prefix("listening on http://")
-        .unwrap_or_else(|| panic!("{line}"))
-        .to_string();
+    let no_temp = scratch.path("no-such-folder");
+    let server = Server::start_with_env(&shop, &[("TMPDIR", no_temp.as_path())]);
+    let addr = server.addr.clone();
 
     let body = "username=boss&password=download+test+password&next=%2F";
     let (head, _) = http(

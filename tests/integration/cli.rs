@@ -3,7 +3,7 @@
 use std::io::{BufRead, BufReader, Write};
 use std::process::{Command, Stdio};
 
-use crate::support::TempDb;
+use crate::support::{Server, TempDb};
 
 fn lockpoint() -> Command {
     Command::new(env!("CARGO_BIN_EXE_lockpoint"))
@@ -67,44 +67,11 @@ fn user_add_refuses_a_short_password_and_accepts_a_long_one() {
 #[test]
 fn serve_reports_the_real_port_and_stops_on_sigterm() {
     let db = TempDb::new();
-    let mut child = lockpoint()
-        .args([
-            "serve",
-            "--db",
-            db.path.to_str().unwrap(),
-            "--addr",
-            "127.0.0.1:0",
-        ])
-        .stdout(Stdio::piped())
-        .stderr(Stdio::null())
-        .spawn()
-        .unwrap();
-    let mut line = String::new();
-    BufReader::new(child.stdout.take().unwrap())
-        .read_line(&mut line)
-        .unwrap();
-    let addr = line
-        .trim()
-        .strip_prefix("listening on http://")
-        .expect(&line)
-        .to_string();
-    assert!(!addr.ends_with(":0"), "{addr}");
-    let mut stream = std::net::TcpStream::connect(&addr).unwrap();
-    stream
-        .write_all(b"GET /healthz HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n")
-        .unwrap();
-    let mut reply = String::new();
-    std::io::Read::read_to_string(&mut stream, &mut reply).unwrap();
+    let mut server = Server::start(&db.path);
+    assert!(!server.addr.ends_with(":0"), "{}", server.addr);
+    let reply = server.get("/healthz");
     assert!(reply.starts_with("HTTP/1.1 200"), "{reply}");
-    let pid = child.id().to_string();
-    assert!(
-        Command::new("kill")
-            .args(["-TERM", &pid])
-            .status()
-            .unwrap()
-            .success()
-    );
-    let status = child.wait().unwrap();
+    let (status, _) = server.terminate_within(std::time::Duration::from_secs(30));
     assert!(status.success(), "clean exit on SIGTERM: {status:?}");
 }
 

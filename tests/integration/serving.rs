@@ -2,98 +2,16 @@
 //! dropped, hundreds of them do not stop pages from answering, and a shutdown signal ends the
 //! process within its deadline even while they hang on.
 
-use std::io::{BufRead, BufReader, Read, Write};
+use std::io::{Read, Write};
 use std::net::TcpStream;
-use std::process::{Child, Command, Stdio};
 use std::time::{Duration, Instant};
 
-use crate::support::TempDb;
-
-/// A running `lockpoint serve` on a new database, killed if a test fails before stopping it.
-struct Server {
-    child: Child,
-    addr: String,
-}
-
-impl Server {
-    fn start(db: &TempDb) -> Self {
-        let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-            .args([
-                "serve",
-                "--db",
-                db.path.to_str().unwrap(),
-                "--addr",
-                "127.0.0.1:0",
-            ])
-            .stdout(Stdio::piped())
-            .stderr(Stdio::null())
-            .spawn()
-            .unwrap();
-        let mut line = String::new();
-        BufReader::new(child.stdout.take().unwrap())
-            .read_line(&mut line)
-            .unwrap();
-        let addr = line
-            .trim()
-            .strip_prefix("listening on http://")
-            .unwrap_or_else(|| panic!("{line}"))
-            .to_string();
-        Self { child, addr }
-    }
-
-    /// One request on its own connection: the status line and the whole answer.
-    fn get(&self, path: &str) -> String {
-        let mut stream = TcpStream::connect(&self.addr).unwrap();
-        stream
-            .set_read_timeout(Some(Duration::from_secs(20)))
-            .unwrap();
-        write!(
-            stream,
-            "GET {path} HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n"
-        )
-        .unwrap();
-        let mut reply = String::new();
-        stream.read_to_string(&mut reply).unwrap();
-        reply
-    }
-
-    /// Sends SIGTERM and waits at most `limit` for the process to end; its exit status.
-    fn terminate_within(&mut self, limit: Duration) -> (std::process::ExitStatus, Duration) {
-        let started = Instant::now();
-        let pid = self.child.id().to_string();
-        assert!(
-            Command::new("kill")
-                .args(["-TERM", &pid])
-                .status()
-                .unwrap()
-                .success()
-        );
-        loop {
-            if let Some(status) = self.child.try_wait().unwrap() {
-                return (status, started.elapsed());
-            }
-            assert!(
-                started.elapsed() < limit,
-                "still running {limit:?} after SIGTERM"
-            );
-            std::thread::sleep(Duration::from_millis(50));
-        }
-    }
-}
-
-impl Drop for Server {
-    fn drop(&mut self) {
-        if let Ok(None) = self.child.try_wait() {
-            let _ = self.child.kill();
-            let _ = self.child.wait();
-        }
-    }
-}
+use crate::support::{Server, TempDb};
 
 #[test]
 fn pages_answer_and_sigterm_ends_the_server_while_300_requests_hang_half_sent() {
     let db = TempDb::new();
-    let mut server = Server::start(&db);
+    let mut server = Server::start(&db.path);
     // Each sends a request line and one header, then nothing more.
     let held: Vec<TcpStream> = (0..300)
         .map(|_| {
@@ -125,7 +43,7 @@ fn pages_answer_and_sigterm_ends_the_server_while_300_requests_hang_half_sent() 
 #[test]
 fn a_client_that_never_finishes_its_headers_or_sits_idle_is_disconnected() {
     let db = TempDb::new();
-    let server = Server::start(&db);
+    let server = Server::start(&db.path);
     let mut slow = TcpStream::connect(&server.addr).unwrap();
     slow.set_read_timeout(Some(Duration::from_secs(30)))
         .unwrap();

@@ -1,8 +1,12 @@
 //! Helpers shared by the integration tests: a fresh app on a temporary SQLite file, requests
 //! through the real router, and a signed-in browser-like client.
 
-use std::path::PathBuf;
+use std::io::{BufRead, BufReader, Read, Write};
+use std::net::TcpStream;
+use std::path::{Path, PathBuf};
+use std::process::{Child, Command, Stdio};
 use std::sync::atomic::{AtomicU32, Ordering};
+use std::time::{Duration, Instant};
 
 use axum::Router;
 use axum::body::Body;
@@ -301,4 +305,93 @@ pub fn id_from(location: &str) -> String {
         .next()
         .unwrap()
         .to_string()
+}
+
+/// A running `lockpoint serve` (the real binary) on a database file, killed if a test fails
+/// before stopping it.
+pub struct Server {
+    pub child: Child,
+    pub addr: String,
+}
+
+impl Server {
+    /// Starts it on `db` and waits for the address it announces.
+    pub fn start(db: &Path) -> Self {
+        Self::start_with_env(db, &[])
+    }
+
+    /// The same, with environment variables set for the server process.
+    pub fn start_with_env(db: &Path, env: &[(&str, &Path)]) -> Self {
+        let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+            .envs(env.iter().copied())
+            .args([
+                "serve",
+                "--db",
+                db.to_str().unwrap(),
+                "--addr",
+                "127.0.0.1:0",
+            ])
+            .stdout(Stdio::piped())
+            .stderr(Stdio::null())
+            .spawn()
+            .unwrap();
+        let mut line = String::new();
+        BufReader::new(child.stdout.take().unwrap())
+            .read_line(&mut line)
+            .unwrap();
+        let addr = line
+            .trim()
+            .strip_prefix("listening on http://")
+            .unwrap_or_else(|| panic!("{line}"))
+            .to_string();
+        Self { child, addr }
+    }
+
+    /// One request on its own connection: the status line and the whole answer.
+    pub fn get(&self, path: &str) -> String {
+        let mut stream = TcpStream::connect(&self.addr).unwrap();
+        stream
+            .set_read_timeout(Some(Duration::from_secs(20)))
+            .unwrap();
+        write!(
+            stream,
+            "GET {path} HTTP/1.1\r\nHost: x\r\nConnection: close\r\n\r\n"
+        )
+        .unwrap();
+        let mut reply = String::new();
+        stream.read_to_string(&mut reply).unwrap();
+        reply
+    }
+
+    /// Sends SIGTERM and waits at most `limit` for the process to end; its exit status.
+    pub fn terminate_within(&mut self, limit: Duration) -> (std::process::ExitStatus, Duration) {
+        let started = Instant::now();
+        let pid = self.child.id().to_string();
+        assert!(
+            Command::new("kill")
+                .args(["-TERM", &pid])
+                .status()
+                .unwrap()
+                .success()
+        );
+        loop {
+            if let Some(status) = self.child.try_wait().unwrap() {
+                return (status, started.elapsed());
+            }
+            assert!(
+                started.elapsed() < limit,
+                "still running {limit:?} after SIGTERM"
+            );
+            std::thread::sleep(Duration::from_millis(50));
+        }
+    }
+}
+
+impl Drop for Server {
+    fn drop(&mut self) {
+        if let Ok(None) = self.child.try_wait() {
+            let _ = self.child.kill();
+            let _ = self.child.wait();
+        }
+    }
 }
