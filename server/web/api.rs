@@ -84,6 +84,7 @@ pub fn routes() -> Routes {
         .route(Token, "/builds/{id}/wear", get(super::calc::build_wear))
         .route(Token, "/calc/capacity", post(super::calc::capacity))
         .route(Token, "/calc/recommend", post(super::calc::recommend))
+        .route(Token, "/calc/calibrate", post(super::calc::calibrate))
         .route(Token, "/calc/wear", post(super::calc::wear))
 }
 

@@ -8,6 +8,7 @@ use super::AppState;
 use super::api::Id;
 use super::extract::{ApiJson, ApiUser};
 use crate::clutch::InputError;
+use crate::clutch::calibrate::{CalibrateRequest, CalibrationReport};
 use crate::clutch::recommend::{RecommendRequest, Recommendation};
 use crate::clutch::report::CapacityReport;
 use crate::clutch::request::CapacityRequest;
@@ -32,6 +33,15 @@ pub async fn recommend(
     ApiJson(req): ApiJson<RecommendRequest>,
 ) -> ApiResult<Recommendation> {
     crate::clutch::recommend(&req).map(Json).map_err(invalid)
+}
+
+pub async fn calibrate(
+    _: ApiUser,
+    ApiJson(req): ApiJson<CalibrateRequest>,
+) -> ApiResult<CalibrationReport> {
+    crate::clutch::calibrate::calibrate_request(&req)
+        .map(Json)
+        .map_err(invalid)
 }
 
 pub async fn wear(_: ApiUser, ApiJson(req): ApiJson<WearRequest>) -> ApiResult<WearReport> {
