@@ -5,8 +5,10 @@
 use std::collections::HashMap;
 
 use crate::clutch::InputError;
+use crate::clutch::calibrate::{CalibrateRequest, Fit, PassObserved};
 use crate::clutch::capacity::Theory;
 use crate::clutch::friction::FacingMaterial;
+use crate::clutch::quantity::limits;
 use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
 use crate::clutch::report::{CapacityReport, report_for};
 use crate::clutch::request::{
@@ -241,6 +243,105 @@ impl BuildFacts<'_> {
                 .map(|t| DrivelineInput { rated_torque: t }),
             overclamp_factor: Some(self.settings.overclamp_factor),
         })
+    }
+}
+
+/// A stored build's calibration request: every pass with a lockup seen, oldest first, each with
+/// the setting in force on its date and the wear (clamp loss since the last shim) measured on or
+/// before it; the run date of each pass; and notes on the passes left out.
+pub struct CalibrationInput {
+    pub request: CalibrateRequest,
+    /// Run date of each pass in `request.passes`.
+    pub dates: Vec<String>,
+    /// Why some passes were left out, in words.
+    pub notes: Vec<String>,
+}
+
+impl BuildFacts<'_> {
+    /// The calibration request of a loaded build (storage units), or what is missing.
+    pub fn calibration(&self, d: &Dossier, fit: Fit) -> Result<CalibrationInput, Missing> {
+        let clutch = self.capacity_request(Self::current_trial(d))?;
+        let (lo, hi) = curve_range(&clutch.engine.torque_curve);
+        let mut notes = Vec::new();
+        let (mut no_setup, mut outside) = (0, 0);
+        let mut passes = Vec::new();
+        let mut dates = Vec::new();
+        // Stored newest first; the calibration reads them oldest first.
+        for pass in d.passes.iter().rev() {
+            let Some(rpm) = pass.data.observed_lockup_rpm else {
+                continue;
+            };
+            let day = pass.data.run_on.as_str();
+            let Some(setup) = d
+                .setups
+                .iter()
+                .rev()
+                .find(|s| s.data.changed_on.as_str() <= day)
+            else {
+                no_setup += 1;
+                continue;
+            };
+            if !(lo..=hi).contains(&rpm) {
+                outside += 1;
+                continue;
+            }
+            passes.push(PassObserved {
+                lockup_rpm: rpm,
+                clutch_torque: None,
+                adjuster_turns: Some(setup.data.adjuster_turns),
+                counterweight_g: Some(setup.data.counterweight_g),
+                clamp_loss: self.clamp_loss_on(&d.heights, day),
+            });
+            dates.push(pass.data.run_on.clone());
+        }
+        if no_setup > 0 {
+            notes.push(format!(
+                "{no_setup} pass(es) with a lockup seen were left out: no setup was recorded on or before their date."
+            ));
+        }
+        if outside > 0 {
+            notes.push(format!(
+                "{outside} pass(es) were left out: their lockup lies outside the car's torque curve ({lo:.0}–{hi:.0} rpm)."
+            ));
+        }
+        if passes.is_empty() {
+            return Err("No pass with a lockup seen (and a setup recorded before it) yet.".into());
+        }
+        let most = limits::CALIBRATION_PASSES_MAX;
+        if passes.len() > most {
+            let skip = passes.len() - most;
+            passes.drain(..skip);
+            dates.drain(..skip);
+            notes.push(format!("Only the latest {most} passes were used."));
+        }
+        Ok(CalibrationInput {
+            request: CalibrateRequest {
+                units: Units::Metric,
+                disc: clutch.disc,
+                springs: clutch.springs,
+                levers: clutch.levers,
+                engine: clutch.engine,
+                fit,
+                passes,
+            },
+            dates,
+            notes,
+        })
+    }
+
+    /// Static clamp lost to wear, N, by the latest cover-height measurement on or before `day`
+    /// (the wear model's clamp loss; 0 without measurements or a spring rate).
+    fn clamp_loss_on(&self, heights: &[crate::db::heights::Height], day: &str) -> f64 {
+        let upto: Vec<&HeightInput> = heights
+            .iter()
+            .map(|h| &h.data)
+            .filter(|h| h.measured_on.as_str() <= day)
+            .collect();
+        wear_request(self.build, self.settings, self.spring_rate(), &upto)
+            .ok()
+            .and_then(|req| crate::clutch::wear::analyze(&req).ok())
+            .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))
+            .unwrap_or(0.0)
     }
 }
 

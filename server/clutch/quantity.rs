@@ -304,6 +304,8 @@ pub mod limits {
     pub const LAUNCH_RATIO: Limit = Limit::new(Ratio, Excl(0.0), Incl(5.0));
     /// Passes one calibration request may carry.
     pub const CALIBRATION_PASSES: Limit = Limit::new(Count, Incl(1.0), Incl(1000.0));
+    /// The most passes a calibration uses (a stored build's latest ones).
+    pub const CALIBRATION_PASSES_MAX: usize = 1000;
     /// Torque a clutch carried at lockup (from a data log).
     pub const CARRIED_TORQUE: Limit = Limit::new(Torque, Excl(0.0), Incl(100_000.0));
     /// Static clamp lost to wear at a pass.

@@ -236,3 +236,117 @@ async fn mu_and_gain_fits_when_the_passes_spread() {
     assert!((num(&v["gain_scale"]) - 1.15).abs() < 1e-9, "{v}");
     assert!(num(&v["passes"][1]["residual"]).abs() < 1e-6, "{v}");
 }
+
+/// A stored build equal to the worked example's clutch; returns (build id, token).
+async fn stored_build(app: &TestApp) -> (i64, String) {
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let c = app
+        .api(
+            "POST",
+            "/api/v1/customers",
+            t,
+            Some(json!({"name": "Test Racer"})),
+        )
+        .await
+        .json();
+    let car = app
+        .api(
+            "POST",
+            &format!("/api/v1/customers/{}/cars", c["id"]),
+            t,
+            Some(json!({"description": "two-door, 7.2 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]})),
+        )
+        .await
+        .json();
+    let gain = 0.005 * (1000.0 * std::f64::consts::PI / 30.0).powi(2) / 40.0;
+    let b = app
+        .api(
+            "POST",
+            &format!("/api/v1/cars/{}/builds", car["id"]),
+            t,
+            Some(
+                json!({"disc_count": 2, "facing_material": "organic", "facing_od_mm": 250.0,
+                        "facing_id_mm": 150.0, "spring_count": 4, "spring_rate_n_per_mm": 100.0,
+                        "base_compression_mm": 8.0, "adjuster_pitch_mm": 1.0, "lever_count": 1,
+                        "lever_mass_g": 0.0, "lever_gain_n_per_g": gain}),
+            ),
+        )
+        .await;
+    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
+    (b.json()["id"].as_i64().unwrap_or(0), token)
+}
+
+// Each pass is read with the setting in force and the wear measured on or before its date.
+// Lockups made from μ = 0.30 on the flat 700 N·m curve: with 40 g and no wear the crossover is
+// 5782.4 rpm (launch-and-logs §6 C6 [D]); with 60 g (K_c = 0.0075) and 0.10 mm growth
+// (4 × 100 N/mm × 0.10 mm = 40 N clamp loss) it is 4772.5 rpm [D]. Reading either pass with the
+// other setting, or ignoring the wear, moves μ well away from 0.30.
+#[tokio::test]
+async fn a_stored_builds_calibration_uses_the_setting_and_wear_of_each_pass_date() {
+    let app = TestApp::new().await;
+    let (id, token) = stored_build(&app).await;
+    let t = Some(token.as_str());
+    let post = |path: String, body: Value| {
+        let app = &app;
+        async move {
+            let r = app.api("POST", &path, t, Some(body)).await;
+            assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        }
+    };
+    let before = app
+        .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+        .await;
+    assert_eq!(
+        before.status,
+        StatusCode::UNPROCESSABLE_ENTITY,
+        "{}",
+        before.body
+    );
+    assert_eq!(before.json()["field"], "passes");
+    for (day, cw) in [("2026-10-01", 40.0), ("2026-10-10", 60.0)] {
+        post(
+            format!("/api/v1/builds/{id}/setups"),
+            json!({"changed_on": day, "adjuster_turns": 2.0, "counterweight_g": cw}),
+        )
+        .await;
+    }
+    for (day, h, passes) in [("2026-10-01", 40.0, 0), ("2026-10-11", 40.1, 10)] {
+        post(
+            format!("/api/v1/builds/{id}/measurements"),
+            json!({"measured_on": day, "height_mm": h, "passes": passes, "shims_pulled": 0}),
+        )
+        .await;
+    }
+    for (day, lockup) in [
+        ("2026-09-20", Some(5000.0)),
+        ("2026-10-05", Some(5782.386)),
+        ("2026-10-06", None),
+        ("2026-10-12", Some(4772.526)),
+    ] {
+        post(
+            format!("/api/v1/builds/{id}/passes"),
+            json!({"run_on": day, "observed_lockup_rpm": lockup}),
+        )
+        .await;
+    }
+    let r = app
+        .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    assert_eq!(v["n"], 2, "{v}");
+    assert!((num(&v["mu"]) - 0.30).abs() < 1e-6, "{v}");
+    assert_eq!(num(&v["passes"][0]["lockup_rpm"]), 5782.386, "oldest first");
+    for p in v["passes"].as_array().into_iter().flatten() {
+        assert!(num(&p["residual"]).abs() < 1e-3, "{p}");
+        assert!((num(&p["predicted_lockup_rpm"]) - num(&p["lockup_rpm"])).abs() < 0.01);
+    }
+    let notes = v["notes"].to_string();
+    assert!(notes.contains("no setup was recorded"), "{notes}");
+    let missing = app
+        .api("GET", "/api/v1/builds/999999/calibration", t, None)
+        .await;
+    assert_eq!(missing.status, StatusCode::NOT_FOUND);
+}
