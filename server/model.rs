@@ -5,7 +5,10 @@
 use std::collections::HashMap;
 
 use crate::clutch::InputError;
-use crate::clutch::calibrate::{CalibrateRequest, Fit, PassObserved};
+use crate::clutch::calibrate::{
+    CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_request,
+    drifting,
+};
 use crate::clutch::capacity::Theory;
 use crate::clutch::friction::FacingMaterial;
 use crate::clutch::quantity::limits;
@@ -342,6 +345,89 @@ impl BuildFacts<'_> {
             .and_then(|req| crate::clutch::wear::analyze(&req).ok())
             .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))
             .unwrap_or(0.0)
+    }
+}
+
+/// A stored build's calibration as the pages show it (storage units: N·m, rpm, g).
+#[derive(Debug, Clone)]
+pub struct BuildCalibration {
+    pub report: CalibrationReport,
+    /// Run date of each pass in `report.passes` (oldest first).
+    pub dates: Vec<String>,
+    /// (adjuster turns, counterweight g, clamp loss N) in force at each pass.
+    pub settings: Vec<(f64, f64, f64)>,
+    /// At least [`ENOUGH_PASSES`] passes.
+    pub enough: bool,
+    /// Whether per-pass μ trends with time (`None` below 3 passes).
+    pub drifting: Option<bool>,
+}
+
+impl BuildFacts<'_> {
+    /// The μ calibration of a loaded build from its passes with a lockup seen, or why there is
+    /// none.
+    pub fn calibrated(&self, d: &Dossier) -> Result<BuildCalibration, Missing> {
+        let input = self.calibration(d, Fit::Mu)?;
+        let mut report = calibrate_request(&input.request).map_err(|e| e.message)?;
+        report.notes.extend(input.notes);
+        let mus: Vec<f64> = report.passes.iter().map(|p| p.mu).collect();
+        let valid = input.request.clutch().map_err(|e| e.message)?;
+        let settings = input
+            .request
+            .observations(&valid.model)
+            .map_err(|e| e.message)?
+            .iter()
+            .map(|o| (o.adjuster_turns, o.counterweight_g, o.clamp_loss_n))
+            .collect();
+        Ok(BuildCalibration {
+            enough: report.n >= ENOUGH_PASSES,
+            drifting: drifting(&mus),
+            report,
+            dates: input.dates,
+            settings,
+        })
+    }
+}
+
+/// Where a calibrated μ comes from, in words: "0.300 from the track: 3 passes from
+/// 2026-10-05 to 2026-10-12, 95 % interval 0.289–0.312".
+pub fn calibration_source(c: &BuildCalibration) -> String {
+    let r = &c.report;
+    let span = match (c.dates.first(), c.dates.last()) {
+        (Some(a), Some(b)) if a != b => format!("from {a} to {b}"),
+        (Some(a), _) => format!("on {a}"),
+        _ => String::new(),
+    };
+    let interval = r.ci95.map_or("no interval yet".to_string(), |[lo, hi]| {
+        format!("95 % interval {lo:.3}–{hi:.3}")
+    });
+    let passes = if r.n == 1 { "pass" } else { "passes" };
+    format!(
+        "{:.3} from the track: {} {passes} {span}, {interval}",
+        r.mu, r.n
+    )
+}
+
+/// Where the μ of the setup in force comes from, in words, for the setup sheet: the track's
+/// calibration (when the setup's μ is the calibrated one to 3 decimals), a value entered with
+/// the setup, or the facing's nominal value; with what the passes say when that differs.
+pub fn mu_source(facts: &BuildFacts, d: &Dossier) -> String {
+    let setup = d.setups.last().map(|s| &s.data);
+    let cal = facts.calibrated(d).ok();
+    let same = |mu: f64, c: &BuildCalibration| format!("{mu:.3}") == format!("{:.3}", c.report.mu);
+    match (setup.and_then(|s| s.mu.map(|mu| (mu, &s.changed_on))), &cal) {
+        (Some((mu, _)), Some(c)) if same(mu, c) => {
+            format!("calibrated: μ {}", calibration_source(c))
+        }
+        (Some((_, day)), Some(c)) => format!(
+            "entered with the setup of {day}; the track's passes now give μ {}",
+            calibration_source(c)
+        ),
+        (Some((_, day)), None) => format!("entered with the setup of {day}"),
+        (None, Some(c)) => format!(
+            "the facing's nominal value; the track's passes give μ {}",
+            calibration_source(c)
+        ),
+        (None, None) => "the facing's nominal value (no passes with a lockup seen yet)".into(),
     }
 }
 
