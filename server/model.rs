@@ -388,7 +388,7 @@ impl BuildFacts<'_> {
     }
 }
 
-/// Where a calibrated μ comes from, in words: "0.300 from the track: 3 passes from
+/// Where a calibrated μ comes from, in words: "0.300 from 3 passes on the track from
 /// 2026-10-05 to 2026-10-12, 95 % interval 0.289–0.312".
 pub fn calibration_source(c: &BuildCalibration) -> String {
     let r = &c.report;
@@ -402,7 +402,7 @@ pub fn calibration_source(c: &BuildCalibration) -> String {
     });
     let passes = if r.n == 1 { "pass" } else { "passes" };
     format!(
-        "{:.3} from the track: {} {passes} {span}, {interval}",
+        "{:.3} from {} {passes} on the track {span}, {interval}",
         r.mu, r.n
     )
 }
@@ -419,12 +419,12 @@ pub fn mu_source(facts: &BuildFacts, d: &Dossier) -> String {
             format!("calibrated: μ {}", calibration_source(c))
         }
         (Some((_, day)), Some(c)) => format!(
-            "entered with the setup of {day}; the track's passes now give μ {}",
+            "entered with the setup of {day}; the calibration now gives μ {}",
             calibration_source(c)
         ),
         (Some((_, day)), None) => format!("entered with the setup of {day}"),
         (None, Some(c)) => format!(
-            "the facing's nominal value; the track's passes give μ {}",
+            "the facing's nominal value; the calibration gives μ {}",
             calibration_source(c)
         ),
         (None, None) => "the facing's nominal value (no passes with a lockup seen yet)".into(),

@@ -201,7 +201,10 @@ pub async fn tune(
         let now = current_trial.as_setup();
         let prefill = field::to_form(&now, page.units());
         for name in ["adjuster_turns", "counterweight_g", "mu"] {
-            form.set(name, prefill.get(name));
+            // A μ given for the recommendation (e.g. the calibrated one) stays.
+            if name != "mu" || form.get("mu").is_empty() {
+                form.set(name, prefill.get(name));
+            }
         }
     }
     let (recommendation, recommended) = match recommended {

@@ -350,3 +350,109 @@ async fn a_stored_builds_calibration_uses_the_setting_and_wear_of_each_pass_date
         .await;
     assert_eq!(missing.status, StatusCode::NOT_FOUND);
 }
+
+/// The stored build with two setups, wear and passes from μ = 0.30 (see the API test above).
+async fn calibrated_build(app: &TestApp) -> i64 {
+    let (id, token) = stored_build(app).await;
+    let t = Some(token.as_str());
+    let mut posts = vec![(
+        format!("/api/v1/builds/{id}/setups"),
+        json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0}),
+    )];
+    for (day, lockup) in [("2026-10-05", 5782.386), ("2026-10-06", 5782.386)] {
+        posts.push((
+            format!("/api/v1/builds/{id}/passes"),
+            json!({"run_on": day, "observed_lockup_rpm": lockup}),
+        ));
+    }
+    for (path, body) in posts {
+        let r = app.api("POST", &path, t, Some(body)).await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    }
+    id
+}
+
+#[tokio::test]
+async fn the_tuning_page_shows_the_calibration_and_uses_it_with_one_click() {
+    let app = TestApp::new().await;
+    let id = calibrated_build(&app).await;
+    let client = app.login("sam").await;
+    let page = client.get(&format!("/builds/{id}/tune")).await;
+    assert_eq!(page.status, StatusCode::OK);
+    let body = page.body;
+    for text in [
+        "What the track says about friction",
+        "μ 0.300",
+        "from 2 passes with a lockup seen",
+        "Not enough data yet: 2 passes",
+        "2026-10-05",
+        "Friction of each pass against its date",
+        "Before you change a setting",
+    ] {
+        assert!(body.contains(text), "missing {text:?}");
+    }
+    let href = format!(
+        "/builds/{id}/tune?try=1&#38;adjuster_turns=2&#38;counterweight_g=40&#38;mu=0.300#try"
+    );
+    assert!(body.contains(&href), "no use-calibration link");
+    // One click: the current setting with the calibrated μ. [D] launch-and-logs §6 C6: μ 0.30
+    // on this clutch and a flat 700 N·m curve locks up at 5782.4 rpm.
+    let tried = client
+        .get(&format!(
+            "/builds/{id}/tune?try=1&adjuster_turns=2&counterweight_g=40&mu=0.300"
+        ))
+        .await
+        .body;
+    assert!(tried.contains("The figures above use this calibrated μ"));
+    assert!(tried.contains("5782 rpm"), "trial lockup with μ 0.30");
+    // The recommendation searches with it and the saved setup says where μ came from.
+    let rec = client
+        .get(&format!(
+            "/builds/{id}/tune?recommend=1&mu=0.300&target_lockup=6000"
+        ))
+        .await
+        .body;
+    assert!(rec.contains("The figures and the recommendation above use this calibrated μ"));
+    assert!(
+        rec.contains("name=\"mu\" value=\"0.3\""),
+        "save form carries μ 0.3"
+    );
+    assert!(rec.contains("μ 0.300 from 2 passes on the track from 2026-10-05 to 2026-10-06"));
+}
+
+async fn print_sheet(client: &crate::support::Client<'_>, id: i64) -> String {
+    let made = client.post(&format!("/builds/{id}/sheets"), &[]).await;
+    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
+    client.get(made.location()).await.body
+}
+
+#[tokio::test]
+async fn the_setup_sheet_says_where_its_mu_came_from() {
+    let app = TestApp::new().await;
+    let id = calibrated_build(&app).await;
+    let client = app.login("sam").await;
+    let nominal = print_sheet(&client, id).await;
+    assert!(
+        nominal.contains("the facing&#39;s nominal value; the calibration gives μ 0.300 from 2 passes on the track"),
+        "nominal sheet"
+    );
+    let saved = client
+        .post(
+            &format!("/builds/{id}/setups"),
+            &[
+                ("changed_on", "2026-10-07"),
+                ("adjuster_turns", "2"),
+                ("counterweight_g", "40"),
+                ("mu", "0.300"),
+            ],
+        )
+        .await;
+    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    let calibrated = print_sheet(&client, id).await;
+    assert!(
+        calibrated.contains(
+            "calibrated: μ 0.300 from 2 passes on the track from 2026-10-05 to 2026-10-06"
+        ),
+        "calibrated sheet"
+    );
+}
