@@ -410,25 +410,28 @@ pub fn calibration_source(c: &BuildCalibration) -> String {
 /// Where the μ of the setup in force comes from, in words, for the setup sheet: the track's
 /// calibration (when the setup's μ is the calibrated one to 3 decimals), a value entered with
 /// the setup, or the facing's nominal value; with what the passes say when that differs.
-pub fn mu_source(facts: &BuildFacts, d: &Dossier) -> String {
+/// `None` for the nominal value with no calibration (the sheet already says "nominal").
+pub fn mu_source(facts: &BuildFacts, d: &Dossier) -> Option<String> {
     let setup = d.setups.last().map(|s| &s.data);
     let cal = facts.calibrated(d).ok();
     let same = |mu: f64, c: &BuildCalibration| format!("{mu:.3}") == format!("{:.3}", c.report.mu);
-    match (setup.and_then(|s| s.mu.map(|mu| (mu, &s.changed_on))), &cal) {
-        (Some((mu, _)), Some(c)) if same(mu, c) => {
-            format!("calibrated: μ {}", calibration_source(c))
-        }
-        (Some((_, day)), Some(c)) => format!(
-            "entered with the setup of {day}; the calibration now gives μ {}",
-            calibration_source(c)
-        ),
-        (Some((_, day)), None) => format!("entered with the setup of {day}"),
-        (None, Some(c)) => format!(
-            "the facing's nominal value; the calibration gives μ {}",
-            calibration_source(c)
-        ),
-        (None, None) => "the facing's nominal value (no passes with a lockup seen yet)".into(),
-    }
+    Some(
+        match (setup.and_then(|s| s.mu.map(|mu| (mu, &s.changed_on))), &cal) {
+            (Some((mu, _)), Some(c)) if same(mu, c) => {
+                format!("calibrated: μ {}", calibration_source(c))
+            }
+            (Some((_, day)), Some(c)) => format!(
+                "entered with the setup of {day}; the calibration now gives μ {}",
+                calibration_source(c)
+            ),
+            (Some((_, day)), None) => format!("entered with the setup of {day}"),
+            (None, Some(c)) => format!(
+                "the facing's nominal value; the calibration gives μ {}",
+                calibration_source(c)
+            ),
+            (None, None) => return None,
+        },
+    )
 }
 
 fn curve_range(points: &[[f64; 2]]) -> (f64, f64) {

@@ -77,7 +77,7 @@ impl SheetInputs {
                 .map(|h| h.data.clone())
                 .collect(),
             targets,
-            mu_source: Some(model::mu_source(&BuildFacts::of(d, settings), d)),
+            mu_source: model::mu_source(&BuildFacts::of(d, settings), d),
         }
     }
 
