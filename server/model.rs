@@ -224,6 +224,7 @@ impl BuildFacts<'_> {
                 inner_diameter: b.facing_id_mm,
                 count: b.disc_count as u32,
                 theory: Theory::UniformWear,
+                extra_face_efficiency: None,
             },
             friction: FrictionInput {
                 mu: trial.mu,

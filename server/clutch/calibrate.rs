@@ -672,6 +672,7 @@ mod tests {
             }),
             counterweight_g: 40.0,
             surfaces: 4,
+            extra_face_efficiency: 1.0,
             mu: 0.3,
             effective_radius_mm: 100.0,
             engine: TorqueCurve::new(

@@ -308,6 +308,8 @@ pub mod limits {
     pub const CALIBRATION_PASSES_MAX: usize = 1000;
     /// Torque a clutch carried at lockup (from a data log).
     pub const CARRIED_TORQUE: Limit = Limit::new(Torque, Excl(0.0), Incl(100_000.0));
+    /// Share of its torque each disc face beyond the first two carries.
+    pub const EXTRA_FACE_EFFICIENCY: Limit = Limit::new(Ratio, Excl(0.0), Incl(1.0));
     /// Static clamp lost to wear at a pass.
     pub const CLAMP_LOSS: Limit = Limit::new(Force, Incl(0.0), Incl(50_000.0));
     /// Days a customer link stays valid.
@@ -383,6 +385,7 @@ mod tests {
             CALIBRATION_PASSES,
             CARRIED_TORQUE,
             CLAMP_LOSS,
+            EXTRA_FACE_EFFICIENCY,
         ];
         for limit in all {
             for units in [Units::Imperial, Units::Metric] {
