@@ -5,6 +5,8 @@
 //! sheet. Inside the module internal units are mm, N, N/mm, N·m, rpm and grams; conversion to
 //! and from the shop's display units happens only in [`units`] and at the request edges.
 
+/// Friction (and lever gain) calibrated from passes with an observed lockup.
+pub mod calibrate;
 /// Torque capacity of a dry plate clutch and its effective friction radius.
 pub mod capacity;
 /// Clamp load: static spring load from compression, centrifugal load from the levers.

@@ -109,7 +109,8 @@ struct DemoBuild {
     shims_in: Vec<f64>,
     /// (passes, cover height in, shims pulled, new disc fitted).
     heights: Vec<(i64, f64, i64, bool)>,
-    passes: Vec<(&'static str, f64, f64, f64)>,
+    /// (track, launch rpm, 60-ft s, ET s, lockup seen in the data log rpm).
+    passes: Vec<(&'static str, f64, f64, f64, Option<f64>)>,
     status: &'static str,
 }
 
@@ -174,8 +175,11 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         (80, 1.921, 0, false),
                     ],
                     passes: vec![
-                        ("County dragstrip", 4500.0, 1.42, 10.95),
-                        ("County dragstrip", 4600.0, 1.39, 10.88),
+                        ("County dragstrip", 4500.0, 1.42, 10.95, Some(4760.0)),
+                        ("County dragstrip", 4600.0, 1.39, 10.88, Some(4720.0)),
+                        ("County dragstrip", 4500.0, 1.40, 10.91, Some(4790.0)),
+                        ("County dragstrip", 4550.0, 1.38, 10.86, Some(4740.0)),
+                        ("County dragstrip", 4500.0, 1.41, 10.90, None),
                     ],
                     status: "active",
                 }],
@@ -211,7 +215,12 @@ fn demo_customers() -> Vec<DemoCustomer> {
                             (100, 1.858, 2, false),
                             (140, 1.874, 2, false),
                         ],
-                        passes: vec![("County dragstrip", 5000.0, 1.31, 10.21)],
+                        passes: vec![
+                            ("County dragstrip", 5000.0, 1.31, 10.21, Some(4050.0)),
+                            ("County dragstrip", 5000.0, 1.30, 10.18, Some(4150.0)),
+                            ("County dragstrip", 5100.0, 1.29, 10.15, Some(4300.0)),
+                            ("County dragstrip", 5000.0, 1.30, 10.17, Some(4420.0)),
+                        ],
                         status: "active",
                     },
                     DemoBuild {
@@ -261,7 +270,7 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         (0, 1.780, 0, true),
                         (30, 1.784, 0, false),
                     ],
-                    passes: vec![("Valley eighth-mile", 5500.0, 1.55, 11.60)],
+                    passes: vec![("Valley eighth-mile", 5500.0, 1.55, 11.60, None)],
                     status: "active",
                 }],
             }],
@@ -312,7 +321,7 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         setups: vec![(1.5, 20.0)],
                         shims_in: vec![0.010, 0.010],
                         heights: vec![(0, 1.900, 0, false)],
-                        passes: vec![("Valley eighth-mile", 4000.0, 1.61, 12.05)],
+                        passes: vec![("Valley eighth-mile", 4000.0, 1.61, 12.05, None)],
                         status: "active",
                     }],
                 },
@@ -491,14 +500,20 @@ async fn seed_build(
         .await?;
         previous = Some((*passes, *pulled));
     }
-    for (i, (track, launch, sixty, et)) in b.passes.iter().enumerate() {
+    for (i, (track, launch, sixty, et, lockup)) in b.passes.iter().enumerate() {
+        // Weekly from 2026-10-04.
+        let day = 4 + 7 * i;
         let p = PassInput {
-            run_on: format!("2026-10-{:02}", 4 + 7 * i),
+            run_on: if day <= 31 {
+                format!("2026-10-{day:02}")
+            } else {
+                format!("2026-11-{:02}", day - 31)
+            },
             track: (*track).into(),
             launch_rpm: Some(*launch),
             sixty_ft_s: Some(*sixty),
             et_s: Some(*et),
-            observed_lockup_rpm: None,
+            observed_lockup_rpm: *lockup,
             notes: String::new(),
         };
         db::passes::insert(

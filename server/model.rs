@@ -5,8 +5,13 @@
 use std::collections::HashMap;
 
 use crate::clutch::InputError;
+use crate::clutch::calibrate::{
+    CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_request,
+    drifting,
+};
 use crate::clutch::capacity::Theory;
 use crate::clutch::friction::FacingMaterial;
+use crate::clutch::quantity::limits;
 use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
 use crate::clutch::report::{CapacityReport, report_for};
 use crate::clutch::request::{
@@ -222,6 +227,7 @@ impl BuildFacts<'_> {
                 inner_diameter: b.facing_id_mm,
                 count: b.disc_count as u32,
                 theory: Theory::UniformWear,
+                extra_face_efficiency: None,
             },
             friction: FrictionInput {
                 mu: trial.mu,
@@ -245,6 +251,191 @@ impl BuildFacts<'_> {
             overclamp_factor: Some(self.settings.overclamp_factor),
         })
     }
+}
+
+/// A stored build's calibration request: every pass with a lockup seen, oldest first, each with
+/// the setting in force on its date and the wear (clamp loss since the last shim) measured on or
+/// before it; the run date of each pass; and notes on the passes left out.
+pub struct CalibrationInput {
+    pub request: CalibrateRequest,
+    /// Run date of each pass in `request.passes`.
+    pub dates: Vec<String>,
+    /// Why some passes were left out, in words.
+    pub notes: Vec<String>,
+}
+
+impl BuildFacts<'_> {
+    /// The calibration request of a loaded build (storage units), or what is missing.
+    pub fn calibration(&self, d: &Dossier, fit: Fit) -> Result<CalibrationInput, Missing> {
+        let clutch = self.capacity_request(Self::current_trial(d))?;
+        let (lo, hi) = curve_range(&clutch.engine.torque_curve);
+        let mut notes = Vec::new();
+        let (mut no_setup, mut outside) = (0, 0);
+        let mut passes = Vec::new();
+        let mut dates = Vec::new();
+        // Stored newest first; the calibration reads them oldest first.
+        for pass in d.passes.iter().rev() {
+            let Some(rpm) = pass.data.observed_lockup_rpm else {
+                continue;
+            };
+            let day = pass.data.run_on.as_str();
+            let Some(setup) = d
+                .setups
+                .iter()
+                .rev()
+                .find(|s| s.data.changed_on.as_str() <= day)
+            else {
+                no_setup += 1;
+                continue;
+            };
+            if !(lo..=hi).contains(&rpm) {
+                outside += 1;
+                continue;
+            }
+            passes.push(PassObserved {
+                lockup_rpm: rpm,
+                clutch_torque: None,
+                adjuster_turns: Some(setup.data.adjuster_turns),
+                counterweight_g: Some(setup.data.counterweight_g),
+                clamp_loss: self.clamp_loss_on(&d.heights, day),
+            });
+            dates.push(pass.data.run_on.clone());
+        }
+        if no_setup > 0 {
+            notes.push(format!(
+                "{no_setup} pass(es) with a lockup seen were left out: no setup was recorded on or before their date."
+            ));
+        }
+        if outside > 0 {
+            notes.push(format!(
+                "{outside} pass(es) were left out: their lockup lies outside the car's torque curve ({lo:.0}–{hi:.0} rpm)."
+            ));
+        }
+        if passes.is_empty() {
+            return Err("No pass with a lockup seen (and a setup recorded before it) yet.".into());
+        }
+        let most = limits::CALIBRATION_PASSES_MAX;
+        if passes.len() > most {
+            let skip = passes.len() - most;
+            passes.drain(..skip);
+            dates.drain(..skip);
+            notes.push(format!("Only the latest {most} passes were used."));
+        }
+        Ok(CalibrationInput {
+            request: CalibrateRequest {
+                units: Units::Metric,
+                disc: clutch.disc,
+                springs: clutch.springs,
+                levers: clutch.levers,
+                engine: clutch.engine,
+                fit,
+                passes,
+            },
+            dates,
+            notes,
+        })
+    }
+
+    /// Static clamp lost to wear, N, by the latest cover-height measurement on or before `day`
+    /// (the wear model's clamp loss; 0 without measurements or a spring rate).
+    fn clamp_loss_on(&self, heights: &[crate::db::heights::Height], day: &str) -> f64 {
+        let upto: Vec<&HeightInput> = heights
+            .iter()
+            .map(|h| &h.data)
+            .filter(|h| h.measured_on.as_str() <= day)
+            .collect();
+        wear_request(self.build, self.settings, self.spring_rate(), &upto)
+            .ok()
+            .and_then(|req| crate::clutch::wear::analyze(&req).ok())
+            .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))
+            .unwrap_or(0.0)
+    }
+}
+
+/// A stored build's calibration as the pages show it (storage units: N·m, rpm, g).
+#[derive(Debug, Clone)]
+pub struct BuildCalibration {
+    pub report: CalibrationReport,
+    /// Run date of each pass in `report.passes` (oldest first).
+    pub dates: Vec<String>,
+    /// (adjuster turns, counterweight g, clamp loss N) in force at each pass.
+    pub settings: Vec<(f64, f64, f64)>,
+    /// At least [`ENOUGH_PASSES`] passes.
+    pub enough: bool,
+    /// Whether per-pass μ trends with time (`None` below 3 passes).
+    pub drifting: Option<bool>,
+}
+
+impl BuildFacts<'_> {
+    /// The μ calibration of a loaded build from its passes with a lockup seen, or why there is
+    /// none.
+    pub fn calibrated(&self, d: &Dossier) -> Result<BuildCalibration, Missing> {
+        let input = self.calibration(d, Fit::Mu)?;
+        let mut report = calibrate_request(&input.request).map_err(|e| e.message)?;
+        report.notes.extend(input.notes);
+        let mus: Vec<f64> = report.passes.iter().map(|p| p.mu).collect();
+        let valid = input.request.clutch().map_err(|e| e.message)?;
+        let settings = input
+            .request
+            .observations(&valid.model)
+            .map_err(|e| e.message)?
+            .iter()
+            .map(|o| (o.adjuster_turns, o.counterweight_g, o.clamp_loss_n))
+            .collect();
+        Ok(BuildCalibration {
+            enough: report.n >= ENOUGH_PASSES,
+            drifting: drifting(&mus),
+            report,
+            dates: input.dates,
+            settings,
+        })
+    }
+}
+
+/// Where a calibrated μ comes from, in words: "0.300 from 3 passes on the track from
+/// 2026-10-05 to 2026-10-12, 95 % interval 0.289–0.312".
+pub fn calibration_source(c: &BuildCalibration) -> String {
+    let r = &c.report;
+    let span = match (c.dates.first(), c.dates.last()) {
+        (Some(a), Some(b)) if a != b => format!("from {a} to {b}"),
+        (Some(a), _) => format!("on {a}"),
+        _ => String::new(),
+    };
+    let interval = r.ci95.map_or("no interval yet".to_string(), |[lo, hi]| {
+        format!("95 % interval {lo:.3}–{hi:.3}")
+    });
+    let passes = if r.n == 1 { "pass" } else { "passes" };
+    format!(
+        "{:.3} from {} {passes} on the track {span}, {interval}",
+        r.mu, r.n
+    )
+}
+
+/// Where the μ of the setup in force comes from, in words, for the setup sheet: the track's
+/// calibration (when the setup's μ is the calibrated one to 3 decimals), a value entered with
+/// the setup, or the facing's nominal value; with what the passes say when that differs.
+/// `None` for the nominal value with no calibration (the sheet already says "nominal").
+pub fn mu_source(facts: &BuildFacts, d: &Dossier) -> Option<String> {
+    let setup = d.setups.last().map(|s| &s.data);
+    let cal = facts.calibrated(d).ok();
+    let same = |mu: f64, c: &BuildCalibration| format!("{mu:.3}") == format!("{:.3}", c.report.mu);
+    Some(
+        match (setup.and_then(|s| s.mu.map(|mu| (mu, &s.changed_on))), &cal) {
+            (Some((mu, _)), Some(c)) if same(mu, c) => {
+                format!("calibrated: μ {}", calibration_source(c))
+            }
+            (Some((_, day)), Some(c)) => format!(
+                "entered with the setup of {day}; the calibration now gives μ {}",
+                calibration_source(c)
+            ),
+            (Some((_, day)), None) => format!("entered with the setup of {day}"),
+            (None, Some(c)) => format!(
+                "the facing's nominal value; the calibration gives μ {}",
+                calibration_source(c)
+            ),
+            (None, None) => return None,
+        },
+    )
 }
 
 fn curve_range(points: &[[f64; 2]]) -> (f64, f64) {

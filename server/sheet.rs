@@ -34,6 +34,10 @@ pub struct SheetInputs {
     pub heights: Vec<HeightInput>,
     /// Targets for a recommendation, when the technician asked for one.
     pub targets: Option<TuningTargets>,
+    /// Where the friction coefficient came from, in words (absent on sheets printed before
+    /// the calibration existed).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mu_source: Option<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -73,6 +77,7 @@ impl SheetInputs {
                 .map(|h| h.data.clone())
                 .collect(),
             targets,
+            mu_source: model::mu_source(&BuildFacts::of(d, settings), d),
         }
     }
 

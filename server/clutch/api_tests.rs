@@ -21,6 +21,29 @@ fn example() -> CapacityRequest {
     serde_json::from_str(EXAMPLE).expect("example parses")
 }
 
+// Correction 4 of issue 10: a twin disc with each extra face at 0.9 works like 3.8 faces, so
+// every capacity is 0.95 of the textbook 4-face value [D]; the efficiency is from memory.
+// Absent, the answer is the same as before (bit for bit); outside (0, 1] it is refused.
+#[test]
+fn extra_face_efficiency_scales_the_extra_faces_only_when_given() {
+    let mut twin = example();
+    twin.disc.count = 2;
+    let full = capacity(&twin).expect("valid");
+    twin.disc.extra_face_efficiency = Some(1.0);
+    assert_eq!(capacity(&twin).expect("valid"), full);
+    twin.disc.extra_face_efficiency = Some(0.9);
+    let derated = capacity(&twin).expect("valid");
+    assert_eq!(derated.friction_surfaces, 4);
+    for (a, b) in derated.curve.iter().zip(&full.curve) {
+        assert!(rel(a.capacity, 0.95 * b.capacity) < 1e-12, "{} rpm", a.rpm);
+    }
+    twin.disc.extra_face_efficiency = Some(1.2);
+    assert_eq!(
+        field_of(capacity(&twin)).as_deref(),
+        Some("disc.extra_face_efficiency")
+    );
+}
+
 fn field_of(r: Result<CapacityReport, InputError>) -> Option<String> {
     r.err().map(|e| e.field)
 }

@@ -4,7 +4,7 @@
 //! up to the top of the curve.
 
 use super::InputError;
-use super::capacity::torque_capacity_nm;
+use super::capacity::{effective_faces, torque_capacity_faces_nm};
 use super::clamp::{LeverSet, SpringPack};
 use super::torque_curve::TorqueCurve;
 
@@ -25,6 +25,9 @@ pub struct ClutchModel {
     pub counterweight_g: f64,
     /// Friction surfaces (2 per disc).
     pub surfaces: u32,
+    /// Share of its torque each face beyond the first two carries, 0–1 (1 = all; see
+    /// [`super::capacity::effective_faces`]).
+    pub extra_face_efficiency: f64,
     /// Friction coefficient.
     pub mu: f64,
     /// Effective friction radius, mm.
@@ -41,12 +44,30 @@ impl ClutchModel {
 
     /// The capacity law at another setting (turns, counterweight g), hardware unchanged.
     pub fn law_for(&self, adjuster_turns: f64, counterweight_g: f64) -> CapacityLaw {
+        self.law_at(adjuster_turns, counterweight_g, 0.0, self.mu)
+    }
+
+    /// The capacity law at a setting with `clamp_loss_n` N taken off the static clamp (wear
+    /// since the last shim; the static clamp never goes below zero) and friction `mu`.
+    /// With `mu` = 1 its capacity is the calibration's C (see [`super::calibrate`]).
+    pub fn law_at(
+        &self,
+        adjuster_turns: f64,
+        counterweight_g: f64,
+        clamp_loss_n: f64,
+        mu: f64,
+    ) -> CapacityLaw {
         CapacityLaw {
-            static_clamp_n: self.springs.static_clamp_n(adjuster_turns),
+            static_clamp_n: (self.springs.static_clamp_n(adjuster_turns) - clamp_loss_n).max(0.0),
             centrifugal_n_per_rpm2: self
                 .levers
                 .map_or(0.0, |l| l.total_n_per_rpm2(counterweight_g)),
-            nm_per_n: torque_capacity_nm(self.surfaces, self.mu, 1.0, self.effective_radius_mm),
+            nm_per_n: torque_capacity_faces_nm(
+                effective_faces(self.surfaces, self.extra_face_efficiency),
+                mu,
+                1.0,
+                self.effective_radius_mm,
+            ),
         }
     }
 }

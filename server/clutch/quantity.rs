@@ -302,6 +302,16 @@ pub mod limits {
     pub const OVERCLAMP_FACTOR: Limit = Limit::new(Ratio, Incl(1.0), Incl(5.0));
     pub const DUE_WITHIN_PASSES: Limit = Limit::new(Count, Incl(0.0), Incl(1000.0));
     pub const LAUNCH_RATIO: Limit = Limit::new(Ratio, Excl(0.0), Incl(5.0));
+    /// Passes one calibration request may carry.
+    pub const CALIBRATION_PASSES: Limit = Limit::new(Count, Incl(1.0), Incl(1000.0));
+    /// The most passes a calibration uses (a stored build's latest ones).
+    pub const CALIBRATION_PASSES_MAX: usize = 1000;
+    /// Torque a clutch carried at lockup (from a data log).
+    pub const CARRIED_TORQUE: Limit = Limit::new(Torque, Excl(0.0), Incl(100_000.0));
+    /// Share of its torque each disc face beyond the first two carries.
+    pub const EXTRA_FACE_EFFICIENCY: Limit = Limit::new(Ratio, Excl(0.0), Incl(1.0));
+    /// Static clamp lost to wear at a pass.
+    pub const CLAMP_LOSS: Limit = Limit::new(Force, Incl(0.0), Incl(50_000.0));
     /// Days a customer link stays valid.
     pub const LINK_DAYS: Limit = Limit::new(Count, Incl(1.0), Incl(365.0));
 }
@@ -372,6 +382,10 @@ mod tests {
             SPRING_FORCE,
             OVERCLAMP_FACTOR,
             DUE_WITHIN_PASSES,
+            CALIBRATION_PASSES,
+            CARRIED_TORQUE,
+            CLAMP_LOSS,
+            EXTRA_FACE_EFFICIENCY,
         ];
         for limit in all {
             for units in [Units::Imperial, Units::Metric] {

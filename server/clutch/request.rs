@@ -60,6 +60,10 @@ pub struct DiscInput {
     /// Effective-radius assumption (default uniform wear).
     #[serde(default)]
     pub theory: Theory,
+    /// Share of its torque each face beyond the first two carries, 0–1 (default 1: every
+    /// face counts fully). From memory, no published value.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub extra_face_efficiency: Option<f64>,
 }
 
 fn one() -> u32 {
@@ -197,6 +201,10 @@ impl CapacityRequest {
         let r_eff = effective_radius_mm(od, id, self.disc.theory)?;
         count_in("disc.count", self.disc.count, limits::DISC_COUNT)?;
         let surfaces = friction_surfaces(self.disc.count)?;
+        let extra_face_efficiency = match self.disc.extra_face_efficiency {
+            Some(e) => limits::EXTRA_FACE_EFFICIENCY.check("disc.extra_face_efficiency", e, u)?,
+            None => 1.0,
+        };
         let mu = match (self.friction.mu, self.friction.material) {
             (Some(mu), _) => limits::MU.check("friction.mu", mu, u)?,
             (None, Some(m)) => m.data().mu_nominal,
@@ -251,6 +259,7 @@ impl CapacityRequest {
                 levers,
                 counterweight_g,
                 surfaces,
+                extra_face_efficiency,
                 mu,
                 effective_radius_mm: r_eff,
                 engine,

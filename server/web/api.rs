@@ -82,8 +82,14 @@ pub fn routes() -> Routes {
         )
         .route(Token, "/passes/{id}", get(pass_get).put(pass_update))
         .route(Token, "/builds/{id}/wear", get(super::calc::build_wear))
+        .route(
+            Token,
+            "/builds/{id}/calibration",
+            get(super::calc::build_calibration),
+        )
         .route(Token, "/calc/capacity", post(super::calc::capacity))
         .route(Token, "/calc/recommend", post(super::calc::recommend))
+        .route(Token, "/calc/calibrate", post(super::calc::calibrate))
         .route(Token, "/calc/wear", post(super::calc::wear))
 }
 

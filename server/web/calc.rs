@@ -2,12 +2,13 @@
 //! JSON, and the wear of a stored build. Bad input answers 422 naming the field, never 500.
 
 use axum::Json;
-use axum::extract::State;
+use axum::extract::{Query, State};
 
 use super::AppState;
 use super::api::Id;
 use super::extract::{ApiJson, ApiUser};
 use crate::clutch::InputError;
+use crate::clutch::calibrate::{CalibrateRequest, CalibrationReport, Fit};
 use crate::clutch::recommend::{RecommendRequest, Recommendation};
 use crate::clutch::report::CapacityReport;
 use crate::clutch::request::CapacityRequest;
@@ -34,6 +35,15 @@ pub async fn recommend(
     crate::clutch::recommend(&req).map(Json).map_err(invalid)
 }
 
+pub async fn calibrate(
+    _: ApiUser,
+    ApiJson(req): ApiJson<CalibrateRequest>,
+) -> ApiResult<CalibrationReport> {
+    crate::clutch::calibrate::calibrate_request(&req)
+        .map(Json)
+        .map_err(invalid)
+}
+
 pub async fn wear(_: ApiUser, ApiJson(req): ApiJson<WearRequest>) -> ApiResult<WearReport> {
     crate::clutch::wear::analyze(&req)
         .map(Json)
@@ -57,4 +67,33 @@ pub async fn build_wear(
     crate::clutch::wear::analyze(&request)
         .map(Json)
         .map_err(invalid)
+}
+
+/// `?fit=mu_and_gain` on a stored build's calibration (default `mu`).
+#[derive(Debug, Default, serde::Deserialize)]
+#[serde(default)]
+pub struct FitQuery {
+    fit: Fit,
+}
+
+/// The calibration of a stored build from its passes with a lockup seen (storage units: N·m),
+/// each with the setting in force and the wear measured on or before its date.
+pub async fn build_calibration(
+    State(state): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+    Query(query): Query<FitQuery>,
+) -> ApiResult<CalibrationReport> {
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let dossier = db::dossier::load(&mut conn, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let settings = db::settings::get(&mut conn).await?;
+    let input = BuildFacts::of(&dossier, &settings)
+        .calibration(&dossier, query.fit)
+        .map_err(|missing| ApiError(AppError::field("passes", missing)))?;
+    let mut report =
+        crate::clutch::calibrate::calibrate_request(&input.request).map_err(invalid)?;
+    report.notes.extend(input.notes);
+    Ok(Json(report))
 }

@@ -12,13 +12,15 @@ use super::chart::Chart;
 use super::extract::{CurrentUser, PathId};
 use super::layout::Layout;
 use super::show::Show;
-use crate::clutch::quantity::limits;
+use crate::clutch::quantity::{Kind, limits};
 use crate::clutch::recommend::Recommendation;
 use crate::clutch::report::CapacityReport;
 use crate::db;
 use crate::db::dossier::Dossier;
 use crate::error::{AppError, AppResult};
-use crate::model::{BuildFacts, Figures, Trial, TuningTargets, figures};
+use crate::model::{
+    BuildCalibration, BuildFacts, Figures, Trial, TuningTargets, calibration_source, figures,
+};
 use crate::records::setup::SetupInput;
 use crate::records::{Ctx, FieldErrors, FormData, field};
 
@@ -100,6 +102,10 @@ pub struct TunePage {
     pub form: FormData,
     pub errors: FieldErrors,
     pub today: String,
+    /// μ fitted to the build's passes with a lockup seen, or why there is none.
+    pub calibration: Result<BuildCalibration, String>,
+    /// The setting the recommendation searched from (its μ included).
+    pub recommended_from: Trial,
 }
 
 /// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
@@ -142,6 +148,8 @@ pub async fn tune(
     let mut errors = FieldErrors::default();
     let mut trial = None;
     let mut recommended = None;
+    let mut recommended_from = current_trial;
+    let calibration = facts.calibrated(&dossier);
     if form.get("try") == "1"
         && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
     {
@@ -170,12 +178,17 @@ pub async fn tune(
         if lockup.is_none() && !errors.has("target_lockup") {
             errors.add("target_lockup", "required");
         }
+        // The μ being tried (e.g. the calibrated one) carries into the recommendation.
+        if !form.get("mu").is_empty() {
+            let mu = field::number(&form, "mu", limits::MU, units, &mut errors);
+            recommended_from.mu = mu.or(current_trial.mu);
+        }
         if let (Some(lockup_rpm), true, true) = (lockup, errors.is_empty(), current.is_ok()) {
             let targets = TuningTargets {
                 lockup_rpm,
                 launch_ratio: ratio,
             };
-            match facts.recommend(current_trial, targets, page.units()) {
+            match facts.recommend(recommended_from, targets, page.units()) {
                 Ok(found) => recommended = Some(found),
                 Err(e) if e.field == "targets.launch_ratio" => {
                     errors.add("target_ratio", e.message)
@@ -188,7 +201,10 @@ pub async fn tune(
         let now = current_trial.as_setup();
         let prefill = field::to_form(&now, page.units());
         for name in ["adjuster_turns", "counterweight_g", "mu"] {
-            form.set(name, prefill.get(name));
+            // A μ given for the recommendation (e.g. the calibrated one) stays.
+            if name != "mu" || form.get("mu").is_empty() {
+                form.set(name, prefill.get(name));
+            }
         }
     }
     let (recommendation, recommended) = match recommended {
@@ -214,6 +230,8 @@ pub async fn tune(
         form,
         errors,
         today,
+        calibration,
+        recommended_from,
     };
     Ok(Html(page.render()?))
 }
@@ -303,10 +321,171 @@ impl TunePage {
             (Some(r), _) => Some(Trial {
                 adjuster_turns: r.recommended.adjuster_turns,
                 counterweight_g: r.recommended.counterweight_g,
-                mu: self.current_trial.mu,
+                mu: self.recommended_from.mu,
             }),
             (None, Some((t, _))) => Some(*t),
             _ => None,
         }
     }
+}
+
+impl TunePage {
+    /// The calibrated μ as the try form takes it (3 decimals), when there is one the setup
+    /// form accepts.
+    pub fn calibrated_mu_text(&self) -> Option<String> {
+        let cal = self.calibration.as_ref().ok()?;
+        limits::MU
+            .admits(cal.report.mu)
+            .then(|| format!("{:.3}", cal.report.mu))
+    }
+
+    /// Whether the μ being tried (or recommended from) is the calibrated one.
+    pub fn using_calibration(&self) -> bool {
+        let Some(text) = self.calibrated_mu_text() else {
+            return false;
+        };
+        let tried = if self.recommendation.is_some() {
+            self.recommended_from.mu
+        } else {
+            self.trial.as_ref().and_then(|(t, _)| t.mu)
+        };
+        tried.is_some_and(|mu| format!("{mu:.3}") == text)
+    }
+
+    /// The link that tries the current setting with the calibrated μ.
+    pub fn use_calibration_href(&self) -> Option<String> {
+        let mu = self.calibrated_mu_text()?;
+        let t = self.current_trial;
+        Some(format!(
+            "/builds/{}/tune?try=1&adjuster_turns={}&counterweight_g={}&mu={mu}#try",
+            self.dossier.build.id, t.adjuster_turns, t.counterweight_g
+        ))
+    }
+
+    /// The note a setup saved from this page carries.
+    pub fn save_note(&self) -> String {
+        let how = if self.recommendation.is_some() {
+            "recommended on the tuning page"
+        } else {
+            "tried on the tuning page"
+        };
+        match (&self.calibration, self.using_calibration()) {
+            (Ok(c), true) => format!("{how}; μ {}", calibration_source(c)),
+            _ => how.to_string(),
+        }
+    }
+
+    /// The verdict on the calibration in plain words.
+    pub fn calibration_verdict(&self) -> Vec<String> {
+        self.calibration
+            .as_ref()
+            .map(calibration_verdict)
+            .unwrap_or_default()
+    }
+
+    /// Per-pass rows: date, setting, lockup seen, torque carried, μ, residual, predicted.
+    pub fn calibration_rows(&self) -> Vec<[String; 7]> {
+        let Ok(c) = &self.calibration else {
+            return Vec::new();
+        };
+        let u = &self.page.u;
+        c.report
+            .passes
+            .iter()
+            .zip(&c.dates)
+            .zip(&c.settings)
+            .map(|((p, date), (turns, cw, _))| {
+                [
+                    date.clone(),
+                    format!("{turns} turns, {}", u.grams(*cw)),
+                    u.rpm(p.lockup_rpm),
+                    u.torque(p.clutch_torque),
+                    format!("{:.3}", p.mu),
+                    format!(
+                        "{:+.1} {}",
+                        Kind::Torque.to_shown(self.page.units(), p.residual),
+                        u.torque_unit()
+                    ),
+                    u.opt_rpm(&p.predicted_lockup_rpm),
+                ]
+            })
+            .collect()
+    }
+
+    /// Per-pass μ against the pass date, with the calibrated value as a level.
+    pub fn calibration_chart(&self) -> Option<Chart> {
+        let c = self.calibration.as_ref().ok()?;
+        let days: Vec<f64> = c
+            .dates
+            .iter()
+            .map(|d| day_number(d))
+            .collect::<Option<_>>()?;
+        let first = *days.first()?;
+        let points: Vec<(f64, f64)> = days
+            .iter()
+            .zip(&c.report.passes)
+            .map(|(d, p)| (d - first, p.mu))
+            .collect();
+        let tips: Vec<String> = c
+            .dates
+            .iter()
+            .zip(&c.report.passes)
+            .map(|(d, p)| format!("{d}: μ {:.3}", p.mu))
+            .collect();
+        let lo = points.iter().map(|p| p.1).fold(c.report.mu, f64::min);
+        let hi = points.iter().map(|p| p.1).fold(c.report.mu, f64::max);
+        let pad = ((hi - lo) * 0.2).max(0.01);
+        let last = points.last().map_or(1.0, |p| p.0).max(1.0);
+        let (mut chart, f) = Chart::new(
+            "Friction of each pass against its date",
+            &format!("days since {}", c.dates[0]),
+            "μ",
+            (0.0, last),
+            (lo - pad, hi + pad),
+        );
+        chart.mark_y(
+            &f,
+            "calibrated",
+            format!("μ {:.3}", c.report.mu),
+            c.report.mu,
+        );
+        chart.line_with_dots(&f, "mu", "per pass", &points, &tips);
+        Some(chart)
+    }
+}
+
+/// Days since 1970-01-01 of an ISO date ("2026-10-05").
+fn day_number(iso: &str) -> Option<f64> {
+    let date: jiff::civil::Date = iso.parse().ok()?;
+    let epoch = jiff::civil::date(1970, 1, 1);
+    Some(f64::from((date - epoch).get_days()))
+}
+
+/// The plain-words verdict: enough data or not; steady or drifting; the interval's width.
+pub fn calibration_verdict(c: &BuildCalibration) -> Vec<String> {
+    let r = &c.report;
+    let mut out = Vec::new();
+    if c.enough {
+        out.push(format!("Enough data: {} passes with a lockup seen.", r.n));
+    } else {
+        out.push(format!(
+            "Not enough data yet: {} pass{} with a lockup seen; at least {} are needed before this value should steer a setting.",
+            r.n,
+            if r.n == 1 { "" } else { "es" },
+            crate::clutch::calibrate::ENOUGH_PASSES
+        ));
+    }
+    match c.drifting {
+        Some(true) => out.push(
+            "Drifting: the friction changes steadily from pass to pass (a trend at the 95 % level). The facing may be bedding in, glazing or running hotter; the latest passes say more than the average.".into(),
+        ),
+        Some(false) => out.push("Steady: no trend in the friction from pass to pass.".into()),
+        None => {}
+    }
+    if let Some([lo, hi]) = r.ci95 {
+        out.push(format!(
+            "With 95 % confidence the clutch's friction lies between {lo:.3} and {hi:.3}."
+        ));
+    }
+    out
 }

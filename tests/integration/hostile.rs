@@ -516,6 +516,22 @@ fn base_json(template: &str, n: u64, rng: &mut Rng) -> Value {
             v["limits"] = json!({"max_adjuster_turns": 6.0, "max_counterweight_g": 120.0});
             v
         }
+        "/calc/calibrate" => {
+            let mut v = capacity_example();
+            if let Some(o) = v.as_object_mut() {
+                for key in ["friction", "launch_rpm", "driveline", "overclamp_factor"] {
+                    o.remove(key);
+                }
+            }
+            v["fit"] = json!(if rng.chance(30) { "mu_and_gain" } else { "mu" });
+            v["passes"] = json!([
+                {"lockup_rpm": 5600, "clutch_torque": 470.0, "adjuster_turns": 1.5,
+                 "counterweight_g": 20.0, "clamp_loss": 0.0},
+                {"lockup_rpm": 5900, "counterweight_g": 28.0},
+                {"lockup_rpm": 6200, "clutch_torque": 455.0, "counterweight_g": 36.0,
+                 "clamp_loss": 20.0}]);
+            v
+        }
         "/calc/wear" => json!({"units": "imperial", "baseline_cover_height": 1.905,
             "shimming_limit": 0.015, "shims": [0.010, 0.010, 0.020], "spring_count": 6,
             "spring_rate": 390.0, "disc_wear_allowance": 0.060,

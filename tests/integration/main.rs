@@ -3,6 +3,7 @@
 mod access;
 mod backup;
 mod calc;
+mod calibrate;
 mod cli;
 mod counter;
 mod crash;

@@ -20,6 +20,7 @@ fn request() -> CapacityRequest {
             inner_diameter: 6.6,
             count: 1,
             theory: Default::default(),
+            extra_face_efficiency: None,
         },
         friction: FrictionInput {
             mu: Some(0.32),

@@ -1,0 +1,458 @@
+//! The calibration API through the real router: the issue's contract, the reference's worked
+//! example, and every bad input answered 422 with its field path.
+
+use axum::http::StatusCode;
+use serde_json::{Value, json};
+
+use crate::support::TestApp;
+
+/// Clutch of the worked example (launch-and-logs §4.3): 2 discs = 4 faces, r_eff =
+/// (125 + 75)/2 = 100 mm, static clamp 4 × 100 N/mm × (8 + 2 × 1) mm = 4000 N, one lever with
+/// 40 g and a gain giving K_c = 0.005 N/(rad/s)²: 0.005 × (1000·π/30)² / 40 g N/g.
+fn example() -> Value {
+    let gain = 0.005 * (1000.0 * std::f64::consts::PI / 30.0).powi(2) / 40.0;
+    json!({"units": "metric",
+      "disc": {"outer_diameter": 250.0, "inner_diameter": 150.0, "count": 2},
+      "springs": {"count": 4, "rate": 100.0, "base_compression": 8.0, "adjuster_pitch": 1.0,
+                  "adjuster_turns": 2.0},
+      "levers": {"count": 1, "counterweight_g": 40.0, "gain": gain},
+      "engine": {"torque_curve": [[3000, 700], [5000, 700], [7000, 700]]},
+      "fit": "mu",
+      "passes": [
+        {"lockup_rpm": 5780, "clutch_torque": 702.0, "adjuster_turns": 2.0,
+         "counterweight_g": 40.0, "clamp_loss": 0.0},
+        {"lockup_rpm": 6100, "clutch_torque": 735.0},
+        {"lockup_rpm": 5500, "clutch_torque": 668.0}]})
+}
+
+fn num(v: &Value) -> f64 {
+    v.as_f64().unwrap_or(f64::NAN)
+}
+
+// [D] launch-and-logs §4.3 (derived there): μ = 0.30028, 95 % interval 0.289–0.312,
+// residuals +1.5, +9.5, −11.7 N·m; predicted lockup of the first pass on the flat 700 N·m
+// curve 5773.65 rpm (the issue rounds it to "about 5773.7").
+#[tokio::test]
+async fn calibrate_answers_the_worked_example_with_the_contract_fields() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/calibrate",
+            Some(&token),
+            Some(example()),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    assert_eq!(v["n"], 3);
+    assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
+    assert!((num(&v["ci95"][0]) - 0.2889).abs() < 1e-4, "{v}");
+    assert!((num(&v["ci95"][1]) - 0.3117).abs() < 1e-4, "{v}");
+    assert!(v["gain_scale"].is_null());
+    assert_eq!(v["notes"], json!([]));
+    let p = &v["passes"][0];
+    assert_eq!(num(&p["lockup_rpm"]), 5780.0);
+    assert_eq!(num(&p["clutch_torque"]), 702.0);
+    assert!((num(&p["mu"]) - 0.3009).abs() < 5e-5, "{p}");
+    assert!((num(&p["residual"]) - 1.5).abs() < 0.05, "{p}");
+    assert!(
+        (num(&p["predicted_lockup_rpm"]) - 5773.65).abs() < 0.01,
+        "{p}"
+    );
+    assert!((num(&v["passes"][2]["residual"]) + 11.7).abs() < 0.05);
+}
+
+// The same clutch described in imperial units gives the same μ, and residuals in lbf·ft
+// (1 lbf·ft = 1.3558179483314004 N·m, NIST SP 811 App. B.8, exact from the definitions).
+#[tokio::test]
+async fn imperial_and_metric_give_the_same_mu() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let mm = 1.0 / 25.4;
+    let lbf = 1.0 / 4.4482216152605;
+    let lbf_ft = 1.0 / 1.3558179483314004;
+    let mut body = example();
+    body["units"] = json!("imperial");
+    body["disc"]["outer_diameter"] = json!(250.0 * mm);
+    body["disc"]["inner_diameter"] = json!(150.0 * mm);
+    body["springs"]["rate"] = json!(100.0 * lbf / mm);
+    body["springs"]["base_compression"] = json!(8.0 * mm);
+    body["springs"]["adjuster_pitch"] = json!(1.0 * mm);
+    body["levers"]["gain"] = json!(num(&body["levers"]["gain"]) * lbf);
+    body["engine"]["torque_curve"] = json!([
+        [3000, 700.0 * lbf_ft],
+        [5000, 700.0 * lbf_ft],
+        [7000, 700.0 * lbf_ft]
+    ]);
+    for (i, t) in [702.0, 735.0, 668.0].iter().enumerate() {
+        body["passes"][i]["clutch_torque"] = json!(t * lbf_ft);
+    }
+    let r = app
+        .api("POST", "/api/v1/calc/calibrate", Some(&token), Some(body))
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
+    assert!(
+        (num(&v["passes"][0]["residual"]) - 1.5 * lbf_ft).abs() < 0.05,
+        "{v}"
+    );
+}
+
+#[tokio::test]
+async fn defaults_fill_missing_torque_and_one_pass_has_no_interval() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let mut body = example();
+    body["passes"] = json!([{"lockup_rpm": 5780}]);
+    let r = app
+        .api("POST", "/api/v1/calc/calibrate", Some(&token), Some(body))
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    assert!(v["ci95"].is_null());
+    assert_eq!(num(&v["passes"][0]["clutch_torque"]), 700.0);
+    let notes = v["notes"].as_array().map_or(0, |n| n.len());
+    assert_eq!(notes, 2, "{v}");
+    // [D] 700 / C(5780 rpm) with C = 2332.73 N·m.
+    assert!((num(&v["mu"]) - 700.0 / 2332.728).abs() < 1e-6, "{v}");
+    // One pass fits exactly, so its own setting locks up where it was seen.
+    assert!((num(&v["passes"][0]["predicted_lockup_rpm"]) - 5780.0).abs() < 1e-6);
+}
+
+async fn field_of(app: &TestApp, token: &str, body: Value) -> String {
+    let r = app
+        .api("POST", "/api/v1/calc/calibrate", Some(token), Some(body))
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
+    let v = r.json();
+    assert!(!v["error"].as_str().unwrap_or("").is_empty());
+    v["field"].as_str().unwrap_or("").to_string()
+}
+
+#[tokio::test]
+async fn bad_calibration_input_names_the_field_path() {
+    let app = TestApp::new().await;
+    let t = app.token("sam").await;
+    type Change = Box<dyn Fn(&mut Value)>;
+    let four = |v: &mut Value| {
+        v["passes"] = json!([{"lockup_rpm": 5000}, {"lockup_rpm": 5500},
+            {"lockup_rpm": 6000}, {"lockup_rpm": 7200}]);
+    };
+    let cases: Vec<(&str, Change)> = vec![
+        ("passes[3].lockup_rpm", Box::new(four)),
+        ("passes", Box::new(|v| v["passes"] = json!([]))),
+        (
+            "passes",
+            Box::new(|v| v["passes"] = json!(vec![json!({"lockup_rpm": 5000}); 1001])),
+        ),
+        (
+            "passes[1].lockup_rpm",
+            Box::new(|v| v["passes"][1]["lockup_rpm"] = json!("fast")),
+        ),
+        (
+            "passes[0].clutch_torque",
+            Box::new(|v| v["passes"][0]["clutch_torque"] = json!(-5.0)),
+        ),
+        (
+            "passes[2].counterweight_g",
+            Box::new(|v| v["passes"][2]["counterweight_g"] = json!(5000.0)),
+        ),
+        (
+            "passes[0].adjuster_turns",
+            Box::new(|v| v["passes"][0]["adjuster_turns"] = json!(-1.0)),
+        ),
+        (
+            "passes[1].clamp_loss",
+            Box::new(|v| v["passes"][1]["clamp_loss"] = json!(-10.0)),
+        ),
+        (
+            "springs.rate",
+            Box::new(|v| v["springs"]["rate"] = json!(-1.0)),
+        ),
+        ("disc.count", Box::new(|v| v["disc"]["count"] = json!(4))),
+        ("fit", Box::new(|v| v["fit"] = json!("everything"))),
+        // Three passes whose centrifugal/static ratio hardly varies: refused.
+        ("fit", Box::new(|v| v["fit"] = json!("mu_and_gain"))),
+        (
+            "fit",
+            Box::new(|v| {
+                v["fit"] = json!("mu_and_gain");
+                v.as_object_mut().map(|o| o.remove("levers"));
+            }),
+        ),
+    ];
+    for (want, change) in cases {
+        let mut body = example();
+        change(&mut body);
+        let field = field_of(&app, &t, body).await;
+        assert_eq!(field, want);
+    }
+    let refused = {
+        let mut body = example();
+        body["fit"] = json!("mu_and_gain");
+        app.api("POST", "/api/v1/calc/calibrate", Some(&t), Some(body))
+            .await
+            .json()
+    };
+    let msg = refused["error"].as_str().unwrap_or("");
+    assert!(msg.contains("counterweights or launch speeds"), "{msg}");
+    let no_token = app
+        .api("POST", "/api/v1/calc/calibrate", None, Some(example()))
+        .await;
+    assert_eq!(no_token.status, StatusCode::UNAUTHORIZED);
+}
+
+// Passes at 20–80 g and different speeds, their torques made from μ = 0.34 and a lever gain
+// 1.15 times the entered one, give both back (exact data: a check of the fit's algebra).
+#[tokio::test]
+async fn mu_and_gain_fits_when_the_passes_spread() {
+    let app = TestApp::new().await;
+    let t = app.token("sam").await;
+    let k_per_g = 0.005 * (std::f64::consts::PI / 30.0).powi(2) / 40.0;
+    let passes: Vec<Value> = [
+        (20.0, 6500.0),
+        (40.0, 5000.0),
+        (60.0, 6000.0),
+        (80.0, 5500.0),
+    ]
+    .iter()
+    .map(|&(cw, rpm): &(f64, f64)| {
+        let c = 0.4 * (4000.0 + 1.15 * k_per_g * cw * rpm * rpm);
+        json!({"lockup_rpm": rpm, "counterweight_g": cw, "clutch_torque": 0.34 * c})
+    })
+    .collect();
+    let mut body = example();
+    body["fit"] = json!("mu_and_gain");
+    body["passes"] = json!(passes);
+    let r = app
+        .api("POST", "/api/v1/calc/calibrate", Some(&t), Some(body))
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    assert!((num(&v["mu"]) - 0.34).abs() < 1e-9, "{v}");
+    assert!((num(&v["gain_scale"]) - 1.15).abs() < 1e-9, "{v}");
+    assert!(num(&v["passes"][1]["residual"]).abs() < 1e-6, "{v}");
+}
+
+/// A stored build equal to the worked example's clutch; returns (build id, token).
+async fn stored_build(app: &TestApp) -> (i64, String) {
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let c = app
+        .api(
+            "POST",
+            "/api/v1/customers",
+            t,
+            Some(json!({"name": "Test Racer"})),
+        )
+        .await
+        .json();
+    let car = app
+        .api(
+            "POST",
+            &format!("/api/v1/customers/{}/cars", c["id"]),
+            t,
+            Some(json!({"description": "two-door, 7.2 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]})),
+        )
+        .await
+        .json();
+    let gain = 0.005 * (1000.0 * std::f64::consts::PI / 30.0).powi(2) / 40.0;
+    let b = app
+        .api(
+            "POST",
+            &format!("/api/v1/cars/{}/builds", car["id"]),
+            t,
+            Some(
+                json!({"disc_count": 2, "facing_material": "organic", "facing_od_mm": 250.0,
+                        "facing_id_mm": 150.0, "spring_count": 4, "spring_rate_n_per_mm": 100.0,
+                        "base_compression_mm": 8.0, "adjuster_pitch_mm": 1.0, "lever_count": 1,
+                        "lever_mass_g": 0.0, "lever_gain_n_per_g": gain}),
+            ),
+        )
+        .await;
+    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
+    (b.json()["id"].as_i64().unwrap_or(0), token)
+}
+
+// Each pass is read with the setting in force and the wear measured on or before its date.
+// Lockups made from μ = 0.30 on the flat 700 N·m curve: with 40 g and no wear the crossover is
+// 5782.4 rpm (launch-and-logs §6 C6 [D]); with 60 g (K_c = 0.0075) and 0.10 mm growth
+// (4 × 100 N/mm × 0.10 mm = 40 N clamp loss) it is 4772.5 rpm [D]. Reading either pass with the
+// other setting, or ignoring the wear, moves μ well away from 0.30.
+#[tokio::test]
+async fn a_stored_builds_calibration_uses_the_setting_and_wear_of_each_pass_date() {
+    let app = TestApp::new().await;
+    let (id, token) = stored_build(&app).await;
+    let t = Some(token.as_str());
+    let post = |path: String, body: Value| {
+        let app = &app;
+        async move {
+            let r = app.api("POST", &path, t, Some(body)).await;
+            assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        }
+    };
+    let before = app
+        .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+        .await;
+    assert_eq!(
+        before.status,
+        StatusCode::UNPROCESSABLE_ENTITY,
+        "{}",
+        before.body
+    );
+    assert_eq!(before.json()["field"], "passes");
+    for (day, cw) in [("2026-10-01", 40.0), ("2026-10-10", 60.0)] {
+        post(
+            format!("/api/v1/builds/{id}/setups"),
+            json!({"changed_on": day, "adjuster_turns": 2.0, "counterweight_g": cw}),
+        )
+        .await;
+    }
+    for (day, h, passes) in [("2026-10-01", 40.0, 0), ("2026-10-11", 40.1, 10)] {
+        post(
+            format!("/api/v1/builds/{id}/measurements"),
+            json!({"measured_on": day, "height_mm": h, "passes": passes, "shims_pulled": 0}),
+        )
+        .await;
+    }
+    for (day, lockup) in [
+        ("2026-09-20", Some(5000.0)),
+        ("2026-10-05", Some(5782.386)),
+        ("2026-10-06", None),
+        ("2026-10-12", Some(4772.526)),
+    ] {
+        post(
+            format!("/api/v1/builds/{id}/passes"),
+            json!({"run_on": day, "observed_lockup_rpm": lockup}),
+        )
+        .await;
+    }
+    let r = app
+        .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    assert_eq!(v["n"], 2, "{v}");
+    assert!((num(&v["mu"]) - 0.30).abs() < 1e-6, "{v}");
+    assert_eq!(num(&v["passes"][0]["lockup_rpm"]), 5782.386, "oldest first");
+    for p in v["passes"].as_array().into_iter().flatten() {
+        assert!(num(&p["residual"]).abs() < 1e-3, "{p}");
+        assert!((num(&p["predicted_lockup_rpm"]) - num(&p["lockup_rpm"])).abs() < 0.01);
+    }
+    let notes = v["notes"].to_string();
+    assert!(notes.contains("no setup was recorded"), "{notes}");
+    let missing = app
+        .api("GET", "/api/v1/builds/999999/calibration", t, None)
+        .await;
+    assert_eq!(missing.status, StatusCode::NOT_FOUND);
+}
+
+/// The stored build with two setups, wear and passes from μ = 0.30 (see the API test above).
+async fn calibrated_build(app: &TestApp) -> i64 {
+    let (id, token) = stored_build(app).await;
+    let t = Some(token.as_str());
+    let mut posts = vec![(
+        format!("/api/v1/builds/{id}/setups"),
+        json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0}),
+    )];
+    for (day, lockup) in [("2026-10-05", 5782.386), ("2026-10-06", 5782.386)] {
+        posts.push((
+            format!("/api/v1/builds/{id}/passes"),
+            json!({"run_on": day, "observed_lockup_rpm": lockup}),
+        ));
+    }
+    for (path, body) in posts {
+        let r = app.api("POST", &path, t, Some(body)).await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    }
+    id
+}
+
+#[tokio::test]
+async fn the_tuning_page_shows_the_calibration_and_uses_it_with_one_click() {
+    let app = TestApp::new().await;
+    let id = calibrated_build(&app).await;
+    let client = app.login("sam").await;
+    let page = client.get(&format!("/builds/{id}/tune")).await;
+    assert_eq!(page.status, StatusCode::OK);
+    let body = page.body;
+    for text in [
+        "What the track says about friction",
+        "μ 0.300",
+        "from 2 passes with a lockup seen",
+        "Not enough data yet: 2 passes",
+        "2026-10-05",
+        "Friction of each pass against its date",
+        "Before you change a setting",
+    ] {
+        assert!(body.contains(text), "missing {text:?}");
+    }
+    let href = format!(
+        "/builds/{id}/tune?try=1&#38;adjuster_turns=2&#38;counterweight_g=40&#38;mu=0.300#try"
+    );
+    assert!(body.contains(&href), "no use-calibration link");
+    // One click: the current setting with the calibrated μ. [D] launch-and-logs §6 C6: μ 0.30
+    // on this clutch and a flat 700 N·m curve locks up at 5782.4 rpm.
+    let tried = client
+        .get(&format!(
+            "/builds/{id}/tune?try=1&adjuster_turns=2&counterweight_g=40&mu=0.300"
+        ))
+        .await
+        .body;
+    assert!(tried.contains("The figures above use this calibrated μ"));
+    assert!(tried.contains("5782 rpm"), "trial lockup with μ 0.30");
+    // The recommendation searches with it and the saved setup says where μ came from.
+    let rec = client
+        .get(&format!(
+            "/builds/{id}/tune?recommend=1&mu=0.300&target_lockup=6000"
+        ))
+        .await
+        .body;
+    assert!(rec.contains("The figures and the recommendation above use this calibrated μ"));
+    assert!(
+        rec.contains("name=\"mu\" value=\"0.3\""),
+        "save form carries μ 0.3"
+    );
+    assert!(rec.contains("μ 0.300 from 2 passes on the track from 2026-10-05 to 2026-10-06"));
+}
+
+async fn print_sheet(client: &crate::support::Client<'_>, id: i64) -> String {
+    let made = client.post(&format!("/builds/{id}/sheets"), &[]).await;
+    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
+    client.get(made.location()).await.body
+}
+
+#[tokio::test]
+async fn the_setup_sheet_says_where_its_mu_came_from() {
+    let app = TestApp::new().await;
+    let id = calibrated_build(&app).await;
+    let client = app.login("sam").await;
+    let nominal = print_sheet(&client, id).await;
+    assert!(
+        nominal.contains("the facing&#39;s nominal value; the calibration gives μ 0.300 from 2 passes on the track"),
+        "nominal sheet"
+    );
+    let saved = client
+        .post(
+            &format!("/builds/{id}/setups"),
+            &[
+                ("changed_on", "2026-10-07"),
+                ("adjuster_turns", "2"),
+                ("counterweight_g", "40"),
+                ("mu", "0.300"),
+            ],
+        )
+        .await;
+    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    let calibrated = print_sheet(&client, id).await;
+    assert!(
+        calibrated.contains(
+            "calibrated: μ 0.300 from 2 passes on the track from 2026-10-05 to 2026-10-06"
+        ),
+        "calibrated sheet"
+    );
+}
