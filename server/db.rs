@@ -17,6 +17,7 @@ pub mod sessions;
 pub mod settings;
 pub mod setups;
 pub mod sheets;
+pub mod status;
 pub mod throttle;
 pub mod tokens;
 pub mod users;

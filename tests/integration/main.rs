@@ -13,6 +13,7 @@ mod routes;
 mod serving;
 mod sheets;
 mod signin;
+mod status;
 mod support;
 mod tune;
 mod units;
