@@ -13,6 +13,7 @@ pub mod export;
 pub mod heights;
 pub mod passes;
 pub mod record;
+pub mod search;
 pub mod sessions;
 pub mod settings;
 pub mod setups;

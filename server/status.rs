@@ -132,9 +132,13 @@ pub async fn refresh_stale(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
     Ok(ids.len())
 }
 
-/// Gives every build a status row and works out the stale ones: for a database that was loaded
+/// Gives every build a status row and works out the stale ones, and fills the search index
+/// when it does not hold every customer: for a database that was loaded
 /// with the triggers set aside, or that has just been migrated. Returns how many were worked out.
 pub async fn ensure(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
+    if !db::search::in_step(conn).await? {
+        db::search::rebuild(conn).await?;
+    }
     db::status::mark_missing(conn).await?;
     refresh_stale(conn).await
 }
@@ -142,6 +146,7 @@ pub async fn ensure(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
 /// Works out every derived table again from the records: every build's status and the search
 /// index. For `restore`, and for `import` to call once its rows are in (inside its transaction).
 pub async fn rebuild_derived(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
+    db::search::rebuild(conn).await?;
     db::status::mark_all_stale(conn).await?;
     refresh_stale(conn).await
 }

@@ -10,6 +10,7 @@ mod hostile;
 mod migrations;
 mod records;
 mod routes;
+mod search;
 mod serving;
 mod sheets;
 mod signin;
