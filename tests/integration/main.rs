@@ -8,6 +8,7 @@ mod crash;
 mod history;
 mod hostile;
 mod migrations;
+mod plans;
 mod records;
 mod routes;
 mod search;
