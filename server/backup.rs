@@ -514,8 +514,12 @@ pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
     )))?;
     sync_to_disk(db)?;
 
-    // Open it as the server will (WAL, migrations) to be sure it starts.
+    // Open it as the server will (WAL, migrations) to be sure it starts, and work out the
+    // derived tables (work-due status, search index) from the restored records.
     let pool = db::open(db).await?;
+    let mut tx = db::audit::begin_as(&pool, None, "restore").await?;
+    crate::status::rebuild_derived(&mut tx).await?;
+    tx.commit().await?;
     pool.close().await;
     Ok(Restored {
         checked,

@@ -167,6 +167,14 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
             args.db.path.display()
         );
     }
+    // A database just migrated, or loaded by an import, may hold builds whose work-due status is
+    // not worked out yet.
+    let mut tx = db::audit::begin_as(&pool, None, COMMAND_LINE).await?;
+    let worked_out = crate::status::ensure(&mut tx).await?;
+    tx.commit().await?;
+    if worked_out > 0 {
+        tracing::info!(builds = worked_out, "work-due status worked out");
+    }
     tokio::spawn(crate::web::forget_old_failures(pool.clone()));
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;

@@ -13,10 +13,12 @@ pub mod export;
 pub mod heights;
 pub mod passes;
 pub mod record;
+pub mod search;
 pub mod sessions;
 pub mod settings;
 pub mod setups;
 pub mod sheets;
+pub mod status;
 pub mod throttle;
 pub mod tokens;
 pub mod users;
@@ -41,14 +43,24 @@ pub async fn open(path: &Path) -> Result<SqlitePool, sqlx::Error> {
         .journal_mode(SqliteJournalMode::Wal)
         .synchronous(SqliteSynchronous::Full)
         .busy_timeout(Duration::from_secs(10))
-        .foreign_keys(true);
+        .foreign_keys(true)
+        // Sized for a 2-core box with a 64 MB goal: see DEVELOPERS.md, "SQLite and the pool".
+        .pragma("cache_size", "-2048")
+        .pragma("mmap_size", "0")
+        .pragma("temp_store", "memory");
     let pool = SqlitePoolOptions::new()
-        .max_connections(8)
+        .max_connections(POOL_SIZE)
+        .min_connections(1)
+        .idle_timeout(Duration::from_secs(60))
         .connect_with(options)
         .await?;
     MIGRATOR.run(&pool).await?;
     Ok(pool)
 }
+
+/// Pooled connections: enough for writers queued on the write lock (each holds one while it
+/// waits) to leave readers some, few enough that the per-connection page caches stay small.
+pub const POOL_SIZE: u32 = 8;
 
 /// Every file in `migrations/`, in order, built into the binary by `sqlx::migrate!` (the build
 /// script reruns it when a file is added). Each applied step is recorded in `_sqlx_migrations`

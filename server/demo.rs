@@ -67,6 +67,7 @@ pub async fn seed_if_empty(pool: &SqlitePool) -> Result<bool, DemoError> {
     )
     .execute(&mut *tx)
     .await?;
+    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(true)
 }

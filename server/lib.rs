@@ -24,6 +24,8 @@ pub mod model;
 pub mod records;
 /// The setup sheet: its stored inputs and the figures it shows (no IO).
 pub mod sheet;
+/// The counter's work-due list from the per-build status kept current by every write.
+pub mod status;
 /// Pages, forms, the JSON API and the router.
 pub mod web;
 

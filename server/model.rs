@@ -554,7 +554,7 @@ pub enum DueReason {
 
 impl DueReason {
     /// Sort key: smaller is more urgent.
-    fn urgency(&self) -> f64 {
+    pub fn urgency(&self) -> f64 {
         match self {
             Self::DiscDue => 0.0,
             Self::ShimDue(_) => 1.0,

@@ -38,6 +38,15 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
     .await
 }
 
+/// A build whatever its customer's state (a soft-deleted customer's builds keep their status,
+/// so a restore lists them again at once).
+pub async fn any_by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Build>> {
+    sqlx::query_as("SELECT * FROM builds WHERE id = ?")
+        .bind(id)
+        .fetch_optional(conn)
+        .await
+}
+
 pub async fn owner(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<BuildOwner> {
     sqlx::query_as(
         "SELECT c.id AS customer_id, c.name AS customer_name, c.phone AS customer_phone,

@@ -25,6 +25,10 @@ pub struct CustomerSummary {
     pub phone: String,
     pub car_count: i64,
     pub cars: String,
+    /// Search results: the customer's cars, each with its active builds, for direct links.
+    #[sqlx(skip)]
+    #[serde(skip)]
+    pub found_cars: Vec<super::search::FoundCar>,
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Customer>> {
@@ -34,13 +38,18 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
         .await
 }
 
-/// One page of customers whose name, phone, or any car's description or engine matches `query`
-/// (case-insensitive substring), by name; and the total count of matches.
+/// One page of customers whose name, phone, email, or any car's description or engine
+/// matches `query`, and the total count of matches: through the trigram index, best match
+/// first (`db::search`), when any word has 3 or more characters; otherwise (a 1-2 character
+/// query, or none) by case-insensitive substring over name, phone and cars, by name.
 pub async fn search(
     conn: &mut SqliteConnection,
     query: &str,
     page: i64,
 ) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
+    if let Some(expr) = super::search::match_expr(query) {
+        return super::search::customers(conn, &expr, page).await;
+    }
     let pattern = format!("%{}%", escape_like(query.trim()));
     const MATCH: &str =
         "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'

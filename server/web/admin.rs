@@ -82,6 +82,8 @@ pub async fn save_settings(
     match field::check(input, &ctx, errors) {
         Ok(checked) => {
             db::settings::update(&mut tx, &checked).await?;
+            // A changed shimming limit or spring tolerance marks every build stale.
+            crate::status::refresh_stale(&mut tx).await?;
             tx.commit().await?;
             Ok(Redirect::to("/settings?saved=1").into_response())
         }

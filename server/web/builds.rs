@@ -445,6 +445,7 @@ async fn save(
         }
         None => db::builds::insert(&mut tx, car_id, &checked).await?,
     };
+    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(Redirect::to(&format!("/builds/{id}")).into_response())
 }

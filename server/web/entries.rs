@@ -19,6 +19,7 @@ use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::{Checked, Ctx, FieldErrors, FormData, field};
+use crate::status;
 
 /// Which of the build page's forms was sent.
 #[derive(Clone, Copy)]
@@ -75,7 +76,9 @@ impl Entry {
         let id = self.build.id;
         let errors = match result {
             Ok(()) => {
-                self.tx.commit().await?;
+                let mut tx = self.tx;
+                status::refresh_stale(&mut tx).await?;
+                tx.commit().await?;
                 return Ok(
                     Redirect::to(&format!("/builds/{id}#{}", which.anchor())).into_response()
                 );

@@ -14,7 +14,8 @@ use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::CustomerSummary;
 use crate::error::AppResult;
-use crate::model::{self, Due, DueReason};
+use crate::model::{Due, DueReason};
+use crate::status;
 
 #[derive(Template)]
 #[template(path = "home.html")]
@@ -104,12 +105,7 @@ pub async fn front(
         db::customers::search(&mut conn, &q.q, 0).await?
     };
     let recent = db::activity::recent(&mut conn, 12).await?;
-    let due = model::work_due(
-        &db::builds::active(&mut conn).await?,
-        &db::heights::for_active_builds(&mut conn).await?,
-        &db::bench::for_active_builds(&mut conn).await?,
-        &settings,
-    );
+    let due = status::work_due(&mut conn, &settings).await?;
     let page = FrontPage {
         page,
         q: q.q,

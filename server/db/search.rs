@@ -1,0 +1,179 @@
+//! Customer search through the FTS5 trigram index `customer_search` (migration 0010): the
+//! query turned into an FTS5 expression, ranked hits, and the cars and active builds each hit
+//! links to.
+
+use serde::Serialize;
+use sqlx::{FromRow, SqliteConnection};
+
+use super::customers::CustomerSummary;
+
+/// The shortest run of characters the trigram index can look up.
+const TRIGRAM: usize = 3;
+
+/// The FTS5 expression for what was typed, or None when no part of it is long enough for the
+/// trigram index (the caller falls back to a plain substring scan).
+///
+/// Every word (3+ characters) must match somewhere: as text in any column, or, by its digits,
+/// in the phone column (indexed as digits only). A query made only of phone characters also
+/// matches the phone by all its digits together, so "(555) 0190" finds "555-0190".
+pub fn match_expr(query: &str) -> Option<String> {
+    let phrase = |text: &str| format!("\"{}\"", text.replace('"', "\"\""));
+    let digits = |text: &str| {
+        text.chars()
+            .filter(char::is_ascii_digit)
+            .collect::<String>()
+    };
+    let mut words = Vec::new();
+    for word in query.split_whitespace() {
+        let mut alternatives = Vec::new();
+        if word.chars().count() >= TRIGRAM {
+            alternatives.push(phrase(word));
+        }
+        let d = digits(word);
+        if d.len() >= TRIGRAM && d != word {
+            alternatives.push(format!("phone : {}", phrase(&d)));
+        }
+        match alternatives.len() {
+            0 => {}
+            1 => words.push(alternatives.remove(0)),
+            _ => words.push(format!("({})", alternatives.join(" OR "))),
+        }
+    }
+    let all = digits(query);
+    let phone_like = query
+        .chars()
+        .all(|c| c.is_ascii_digit() || " -().+/".contains(c));
+    let whole_phone =
+        (phone_like && all.len() >= TRIGRAM).then(|| format!("phone : {}", phrase(&all)));
+    match (words.is_empty(), whole_phone) {
+        (true, None) => None,
+        (true, Some(p)) => Some(p),
+        (false, None) => Some(words.join(" AND ")),
+        (false, Some(p)) => Some(format!("({}) OR {p}", words.join(" AND "))),
+    }
+}
+
+/// The ranked search: one page of live customers matching the expression (best match first,
+/// bm25 over the trigram index), and the number of matches.
+pub const HITS_SQL: &str = "SELECT c.id, c.name, c.phone,
+        (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
+        COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
+                  WHERE k.customer_id = c.id), '') AS cars
+     FROM customer_search s JOIN customers c ON c.id = s.rowid
+     WHERE customer_search MATCH ?1 AND c.deleted_at IS NULL
+     ORDER BY s.rank, c.name COLLATE NOCASE, c.id LIMIT ?2 OFFSET ?3";
+
+pub async fn customers(
+    conn: &mut SqliteConnection,
+    expr: &str,
+    page: i64,
+) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
+    let mut rows: Vec<CustomerSummary> = sqlx::query_as(HITS_SQL)
+        .bind(expr)
+        .bind(super::PAGE_SIZE)
+        .bind(page.max(0) * super::PAGE_SIZE)
+        .fetch_all(&mut *conn)
+        .await?;
+    let total: i64 = sqlx::query_scalar(
+        "SELECT COUNT(*) FROM customer_search s JOIN customers c ON c.id = s.rowid
+         WHERE customer_search MATCH ? AND c.deleted_at IS NULL",
+    )
+    .bind(expr)
+    .fetch_one(&mut *conn)
+    .await?;
+    attach_links(conn, &mut rows).await?;
+    Ok((rows, total))
+}
+
+/// A car of a found customer, with its active builds (id, label), for the result's links.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct FoundCar {
+    pub id: i64,
+    pub description: String,
+    pub builds: Vec<FoundBuild>,
+}
+
+/// An active build of a found customer's car.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct FoundBuild {
+    pub id: i64,
+    pub label: String,
+}
+
+#[derive(FromRow)]
+struct CarBuild {
+    customer_id: i64,
+    car_id: i64,
+    description: String,
+    build_id: Option<i64>,
+    label: Option<String>,
+}
+
+/// The cars of every customer listed, each with its active builds: one query for the page.
+pub const LINKS_SQL: &str = "SELECT k.customer_id, k.id AS car_id, k.description,
+        b.id AS build_id, b.label
+     FROM cars k LEFT JOIN builds b ON b.car_id = k.id AND b.status = 'active'
+     WHERE k.customer_id IN (SELECT value FROM json_each(?))
+     ORDER BY k.customer_id, k.id, b.id";
+
+pub async fn attach_links(
+    conn: &mut SqliteConnection,
+    rows: &mut [CustomerSummary],
+) -> sqlx::Result<()> {
+    if rows.is_empty() {
+        return Ok(());
+    }
+    let ids = serde_json::to_string(&rows.iter().map(|r| r.id).collect::<Vec<_>>())
+        .unwrap_or_else(|_| "[]".into());
+    let found: Vec<CarBuild> = sqlx::query_as(LINKS_SQL).bind(ids).fetch_all(conn).await?;
+    for row in rows.iter_mut() {
+        for f in found.iter().filter(|f| f.customer_id == row.id) {
+            if row.found_cars.last().is_none_or(|c| c.id != f.car_id) {
+                row.found_cars.push(FoundCar {
+                    id: f.car_id,
+                    description: f.description.clone(),
+                    builds: Vec::new(),
+                });
+            }
+            if let (Some(id), Some(label), Some(car)) =
+                (f.build_id, &f.label, row.found_cars.last_mut())
+            {
+                car.builds.push(FoundBuild {
+                    id,
+                    label: label.clone(),
+                });
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Fills the index again from the customers and cars (after an import, which loads rows with
+/// the triggers set aside).
+pub async fn rebuild(conn: &mut SqliteConnection) -> sqlx::Result<()> {
+    sqlx::query("DELETE FROM customer_search")
+        .execute(&mut *conn)
+        .await?;
+    sqlx::query(
+        "INSERT INTO customer_search (rowid, name, phone, email, cars)
+         SELECT c.id, c.name,
+             REPLACE(REPLACE(REPLACE(REPLACE(REPLACE(REPLACE(REPLACE(c.phone,
+                 ' ', ''), '-', ''), '(', ''), ')', ''), '.', ''), '+', ''), '/', ''),
+             c.email,
+             COALESCE((SELECT group_concat(k.description || ' ' || k.engine, ' | ') FROM cars k
+                       WHERE k.customer_id = c.id), '')
+         FROM customers c",
+    )
+    .execute(conn)
+    .await?;
+    Ok(())
+}
+
+/// Whether the index holds one row per customer (false after an import without a rebuild).
+pub async fn in_step(conn: &mut SqliteConnection) -> sqlx::Result<bool> {
+    sqlx::query_scalar(
+        "SELECT (SELECT COUNT(*) FROM customers) = (SELECT COUNT(*) FROM customer_search)",
+    )
+    .fetch_one(conn)
+    .await
+}

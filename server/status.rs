@@ -1,0 +1,175 @@
+//! The counter's work-due list from a per-build status kept current by every write
+//! (`build_status`, migration 0009), so the counter reads a few rows whatever the history's size.
+//!
+//! The status of a build is worked out here from its full history ([`of_history`], the same wear
+//! analysis and spring review `model::work_due` uses); the triggers mark a build stale when a
+//! record it depends on is written, and every write path calls [`refresh_stale`] before it
+//! commits. [`work_due`] reads the listed rows and gives exactly `model::work_due`'s answer (the
+//! property test in `tests/integration/status.rs` compares the two on random histories).
+
+use sqlx::SqliteConnection;
+
+use crate::clutch::wear::{self, WearStatus};
+use crate::db;
+use crate::db::bench::BenchTest;
+use crate::db::heights::Height;
+use crate::db::status::{BuildStatus, Listed};
+use crate::model::{self, Due, DueReason};
+use crate::records::build::BuildInput;
+use crate::records::settings::SettingsInput;
+
+/// A build's status from its whole history: its cover heights (recorded order) and bench tests
+/// (oldest first), with the shop's limits. Independent of the "due within" window.
+pub fn of_history(
+    build: &BuildInput,
+    heights: &[Height],
+    bench: &[BenchTest],
+    settings: &SettingsInput,
+) -> BuildStatus {
+    let review = model::bench_review(bench, settings);
+    let tested = review
+        .as_ref()
+        .and_then(|r| r.last().map(|t| t.spread.mean));
+    let rate = tested.or(build.spring_rate_n_per_mm);
+    let mut s = BuildStatus::default();
+    if let Ok(req) = model::wear_request(build, settings, rate, heights)
+        && let Ok(report) = wear::analyze(&req)
+    {
+        match report.status {
+            WearStatus::DiscDue => s.wear = Some("disc_due".into()),
+            WearStatus::ShimDue => {
+                s.wear = Some("shim_due".into());
+                s.next_shim_mm = report.next_shim;
+            }
+            WearStatus::Ok => {
+                s.wear = Some("ok".into());
+                // The nearer forecast, the shim's on a tie (as `model::work_due` picks it).
+                let shim = report.passes_to_shim_due.map(|p| (p, false));
+                let disc = report.passes_to_disc_due.map(|p| (p, true));
+                if let Some((passes, disc)) = [shim, disc]
+                    .into_iter()
+                    .flatten()
+                    .min_by(|a, b| a.0.total_cmp(&b.0))
+                {
+                    s.soon_passes = Some(passes);
+                    s.soon_disc = disc;
+                }
+            }
+        }
+    }
+    if let Some(last) = review.as_ref().and_then(|r| r.last())
+        && (last.spread.out_of_tolerance || !last.sagged.is_empty())
+    {
+        s.springs_flagged = true;
+        s.spread_pct = Some(last.spread.spread_pct);
+        s.out_of_tolerance = last.spread.out_of_tolerance;
+        s.sagged = last.sagged.len() as i64;
+    }
+    s
+}
+
+/// The lines of the due list one build's status gives at `window` passes, wear first.
+pub fn lines(row: &Listed, status: &BuildStatus, window: i64) -> Vec<Due> {
+    let line = |reason| Due {
+        build_id: row.build_id,
+        build_label: row.build_label.clone(),
+        customer_id: row.customer_id,
+        customer_name: row.customer_name.clone(),
+        customer_phone: row.customer_phone.clone(),
+        car_description: row.car_description.clone(),
+        reason,
+    };
+    let mut out = Vec::new();
+    let wear = match status.wear.as_deref() {
+        Some("disc_due") => Some(DueReason::DiscDue),
+        Some("shim_due") => Some(DueReason::ShimDue(status.next_shim_mm)),
+        _ => status
+            .soon_passes
+            .filter(|p| *p <= window as f64)
+            .map(|passes| DueReason::Soon {
+                passes,
+                disc: status.soon_disc,
+            }),
+    };
+    out.extend(wear.map(line));
+    if status.springs_flagged {
+        out.push(line(DueReason::Springs {
+            spread_pct: status.spread_pct.unwrap_or(0.0),
+            out_of_tolerance: status.out_of_tolerance,
+            sagged: status.sagged.max(0) as usize,
+        }));
+    }
+    out
+}
+
+/// Works out one build's status from its stored history (None when there is no such build).
+pub async fn work_out(
+    conn: &mut SqliteConnection,
+    build_id: i64,
+    settings: &SettingsInput,
+) -> sqlx::Result<Option<BuildStatus>> {
+    let Some(build) = db::builds::any_by_id(conn, build_id).await? else {
+        return Ok(None);
+    };
+    let heights = db::heights::for_build(conn, build_id).await?;
+    let bench = db::bench::for_build(conn, build_id).await?;
+    Ok(Some(of_history(&build.data, &heights, &bench, settings)))
+}
+
+/// Works out and stores every build marked stale by this transaction's writes; returns how many.
+/// Every write path calls it before committing.
+pub async fn refresh_stale(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
+    let ids = db::status::stale(conn).await?;
+    if ids.is_empty() {
+        return Ok(0);
+    }
+    let settings = db::settings::get(conn).await?;
+    for &id in &ids {
+        if let Some(status) = work_out(conn, id, &settings).await? {
+            db::status::store(conn, id, &status).await?;
+        }
+    }
+    Ok(ids.len())
+}
+
+/// Gives every build a status row and works out the stale ones, and fills the search index
+/// when it does not hold every customer: for a database that was loaded
+/// with the triggers set aside, or that has just been migrated. Returns how many were worked out.
+pub async fn ensure(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
+    if !db::search::in_step(conn).await? {
+        db::search::rebuild(conn).await?;
+    }
+    db::status::mark_missing(conn).await?;
+    refresh_stale(conn).await
+}
+
+/// Works out every derived table again from the records: every build's status and the search
+/// index. For `restore`, and for `import` to call once its rows are in (inside its transaction).
+pub async fn rebuild_derived(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
+    db::search::rebuild(conn).await?;
+    db::status::mark_all_stale(conn).await?;
+    refresh_stale(conn).await
+}
+
+/// The work due across the shop, most urgent first: exactly `model::work_due` on the full
+/// history, read from the kept status. A row still marked stale (a write path that did not
+/// refresh) is worked out here from its history, so the list is right either way.
+pub async fn work_due(
+    conn: &mut SqliteConnection,
+    settings: &SettingsInput,
+) -> sqlx::Result<Vec<Due>> {
+    let window = settings.due_within_passes;
+    let rows = db::status::listed(conn, window).await?;
+    let mut out = Vec::new();
+    for row in &rows {
+        if row.stale {
+            if let Some(status) = work_out(conn, row.build_id, settings).await? {
+                out.extend(lines(row, &status, window));
+            }
+        } else {
+            out.extend(lines(row, &row.status, window));
+        }
+    }
+    out.sort_by(|a, b| a.reason.urgency().total_cmp(&b.reason.urgency()));
+    Ok(out)
+}

@@ -1,0 +1,75 @@
+#!/usr/bin/env bash
+# The scale load run (a benchmark, not a test): one release server on loopback against a shop
+# grown by the scale generator (tests/load/scale.rs: 10,000 customers, cars and builds,
+# 1,000,000 cover heights, 200,000 passes, invented, fixed seed), each route in turn for
+# [seconds] with [connections] wrk connections: requests/s, p99, errors, the ratio to /healthz's
+# requests/s, and the server's peak resident memory (VmHWM) over the whole run.
+# Needs wrk and curl. Usage: tests/load/scale.sh [seconds] [connections]
+# The generated database is kept in target/load/ and copied for each run (the write route
+# adds passes to the copy only).
+set -euo pipefail
+cd "$(dirname "$0")/../.."
+SECS=${1:-10}
+CONNS=${2:-8}
+SEED=13
+BUILD=4321
+QUERY=Halvorsen
+command -v wrk >/dev/null || { echo "wrk is not installed (apt-get install wrk)" >&2; exit 1; }
+
+cargo build --release --quiet --example scale --bin lockpoint
+mkdir -p target/load
+CACHED="target/load/scale-$SEED.db"
+if [ ! -f "$CACHED" ]; then
+  rm -f "$CACHED.tmp"
+  ./target/release/examples/scale --db "$CACHED.tmp" --seed "$SEED"
+  mv "$CACHED.tmp" "$CACHED"
+fi
+WORK=$(mktemp -d)
+DB="$WORK/scale.db"
+cp "$CACHED" "$DB"
+./target/release/lockpoint serve --db "$DB" --addr 127.0.0.1:0 > "$WORK/serve.out" 2> "$WORK/serve.err" &
+SERVER=$!
+trap 'kill $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
+for _ in $(seq 300); do grep -q '^listening on' "$WORK/serve.out" 2>/dev/null && break; sleep 0.2; done
+BASE=$(sed -n 's/^listening on //p' "$WORK/serve.out")
+[ -n "$BASE" ] || { cat "$WORK/serve.err" >&2; exit 1; }
+
+curl -s -c "$WORK/jar" -o /dev/null -d 'username=loadtest&password=load-test-password' "$BASE/login"
+COOKIE="lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
+TOKEN=$(./target/release/lockpoint token create loadtest --db "$DB")
+cat > "$WORK/post.lua" <<LUA
+wrk.method = "POST"
+wrk.body = '{"run_on": "2026-11-20", "track": "Load strip", "launch_rpm": 4500, "sixty_ft_s": 1.4, "et_s": 10.9}'
+wrk.headers["Content-Type"] = "application/json"
+wrk.headers["Authorization"] = "Bearer $TOKEN"
+LUA
+for path in / "/customers?q=$QUERY" "/builds/$BUILD" "/builds/$BUILD/tune"; do
+  code=$(curl -s -o /dev/null -w '%{http_code}' -H "Cookie: $COOKIE" "$BASE$path")
+  [ "$code" = 200 ] || { echo "$path answers $code" >&2; exit 1; }
+done
+
+echo "$CONNS connections, ${SECS} s per route, $(nproc) cores shared by wrk and the server"
+printf '| %-40s | %10s | %9s | %6s | %9s |\n' "route" "requests/s" "p99" "errors" "/healthz"
+printf '|%s|%s|%s|%s|%s|\n' "------------------------------------------" "------------" "-----------" "--------" "-----------"
+HEALTHZ=
+run() {
+  local name=$1; shift
+  local out rps p99 errs ratio
+  out=$(wrk -t2 -c"$CONNS" -d"${SECS}s" --latency "$@")
+  rps=$(awk '/^Requests\/sec/ {print $2}' <<<"$out")
+  p99=$(awk '$1 == "99%" {print $2}' <<<"$out")
+  errs=$(awk '/Non-2xx or 3xx/ {n += $NF} /Socket errors/ {gsub(/[^0-9 ]/, " "); for (i = 1; i <= NF; i++) n += $i} END {print n + 0}' <<<"$out")
+  [ -n "$HEALTHZ" ] || HEALTHZ=$rps
+  ratio=$(awk -v a="$rps" -v b="$HEALTHZ" 'BEGIN {printf "%.1f %%", 100 * a / b}')
+  printf '| %-40s | %10s | %9s | %6s | %9s |\n' "$name" "$rps" "$p99" "$errs" "$ratio"
+}
+run "GET /healthz" "$BASE/healthz"
+run "GET / (counter, work due)" -H "Cookie: $COOKIE" "$BASE/"
+run "GET /customers?q=$QUERY" -H "Cookie: $COOKIE" "$BASE/customers?q=$QUERY"
+run "GET /builds/$BUILD (build page)" -H "Cookie: $COOKIE" "$BASE/builds/$BUILD"
+run "GET /builds/$BUILD/tune (tuning page)" -H "Cookie: $COOKIE" "$BASE/builds/$BUILD/tune"
+run "POST /api/v1/builds/$BUILD/passes (write)" -s "$WORK/post.lua" "$BASE/api/v1/builds/$BUILD/passes"
+echo "server peak resident memory (VmHWM): $(awk '/VmHWM/ {printf "%.1f MB", $2 / 1024}' /proc/$SERVER/status)"
+if grep -qi 'database is locked\|panicked' "$WORK/serve.err"; then
+  echo "server log shows lock errors or panics" >&2; exit 1
+fi
