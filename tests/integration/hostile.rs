@@ -1188,7 +1188,9 @@ async fn send(app: &TestApp, case: &Case) -> Reply {
 // The database's state.
 
 /// A separate connection to the test database: `PRAGMA data_version` on it changes exactly when
-/// another connection commits, and a digest of every row of every table shows what changed.
+/// another connection commits, and a digest of every row of every table shows what changed (the
+/// search index, a virtual table with shadow tables, is left out: it is derived from customers
+/// and cars, which are digested).
 struct Probe {
     conn: SqliteConnection,
     tables: Vec<(String, String)>,
@@ -1207,6 +1209,8 @@ impl Probe {
         let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
         let names: Vec<String> = sqlx::query_scalar(
             "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%'
+               AND name NOT IN (SELECT name FROM pragma_table_list
+                                WHERE type IN ('shadow', 'virtual'))
              ORDER BY name",
         )
         .fetch_all(&mut conn)
