@@ -647,6 +647,9 @@ pub async fn import_file(db: &Path, file: &Path) -> Result<ImportedFile, BackupE
     let done = async {
         let mut tx = pool.begin_with("BEGIN IMMEDIATE").await?;
         let imported = export::import(&mut tx, &export).await?;
+        // The work-due status and the search index are derived: worked out from the imported
+        // records in the same transaction.
+        crate::status::rebuild_derived(&mut tx).await?;
         tx.commit().await?;
         Ok::<_, BackupError>(imported)
     }
