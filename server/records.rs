@@ -47,14 +47,7 @@ impl FieldErrors {
     /// Records a message for a field whose form input has the same name as its column (forms
     /// that are not records: sign-in, sheet targets). The first message per field wins.
     pub fn add(&mut self, field: &str, message: impl Into<String>) {
-        // `torque_curve[2]` is item 2 of `torque_curve`; a deeper path
-        // (`measurements[1].cover_height`) is kept whole.
-        let item = field
-            .strip_suffix(']')
-            .and_then(|f| f.rsplit_once('['))
-            .and_then(|(base, i)| Some((base, i.parse::<usize>().ok()?)))
-            .filter(|(base, _)| !base.contains('['));
-        match item {
+        match list_item(field) {
             Some((base, index)) => self.add_at(base, base, Some(index), message),
             None => self.add_at(field, field, None, message),
         }
@@ -130,6 +123,15 @@ impl FieldErrors {
             Err(self)
         }
     }
+}
+
+/// `torque_curve[2]` → (`torque_curve`, 2): a path naming one item of a list. A deeper path
+/// (`measurements[1].cover_height`) or a plain name is not one.
+pub(crate) fn list_item(path: &str) -> Option<(&str, usize)> {
+    path.strip_suffix(']')
+        .and_then(|f| f.rsplit_once('['))
+        .and_then(|(base, i)| Some((base, i.parse::<usize>().ok()?)))
+        .filter(|(base, _)| !base.contains('['))
 }
 
 /// A record input that passed its checks. Only the checking functions make one, so the

@@ -197,10 +197,7 @@ impl Limit {
     /// rounded inwards at the shop's precision (lower bounds up, upper bounds down), so the
     /// message never offers a value the check refuses.
     pub fn message(&self, units: Units) -> String {
-        let d = self.kind.decimals(units).max(match self.kind {
-            Kind::Length | Kind::Rate | Kind::ForcePerGram => 1,
-            _ => 0,
-        });
+        let d = self.kind.decimals(units);
         let scale = 10f64.powi(d as i32);
         let show = |b: f64, up: bool| {
             let v = self.kind.to_shown(units, b) * scale;

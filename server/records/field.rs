@@ -116,16 +116,7 @@ pub trait Record: Default + Sized + 'static {
 
 /// `shim_stack_mm[2]` → (`shim_stack_mm`, Some(2)).
 fn split_path(path: &str) -> (&str, Option<usize>) {
-    match path.split_once('[') {
-        Some((base, rest)) => (
-            base,
-            rest.trim_end_matches(']')
-                .split(']')
-                .next()
-                .and_then(|i| i.parse().ok()),
-        ),
-        None => (path, None),
-    }
+    super::list_item(path).map_or((path, None), |(base, i)| (base, Some(i)))
 }
 
 /// The stored column names of `R`, in declaration order (for SQL and exports).
