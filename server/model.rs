@@ -57,6 +57,12 @@ impl Trial {
         )
     }
 
+    /// Whether going from this setting to `to` moves both the adjusters and the counterweight.
+    pub fn moves_both(&self, to: &Trial) -> bool {
+        (to.adjuster_turns - self.adjuster_turns).abs() > 1e-9
+            && (to.counterweight_g - self.counterweight_g).abs() > 1e-9
+    }
+
     /// This setting as a setup record (no date or note), e.g. to prefill a form.
     pub fn as_setup(&self) -> SetupInput {
         SetupInput {

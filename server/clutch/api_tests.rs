@@ -318,6 +318,7 @@ fn both_targets_give_a_grid_setting_inside_the_limits() {
         "{:?}",
         rec.notes
     );
+    assert!(!rec.target_reached);
     let s = rec.recommended;
     assert!(on_grid(s.adjuster_turns, 0.25) && (0.0..=6.0).contains(&s.adjuster_turns));
     assert!(on_grid(s.counterweight_g, 1.0) && (0.0..=120.0).contains(&s.counterweight_g));
@@ -378,6 +379,11 @@ fn unreachable_targets_are_noted_and_the_closest_returned() {
         "{:?}",
         rec.notes
     );
+    assert!(!rec.target_reached);
+    // The same target with the whole counterweight range is bracketed: reached.
+    req.limits.max_counterweight_g = 120.0;
+    req.targets.lockup_rpm = 6200.0;
+    assert!(recommend(&req).expect("valid").target_reached);
 }
 
 #[test]

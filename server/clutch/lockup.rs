@@ -187,6 +187,43 @@ impl CapacityLaw {
     }
 }
 
+/// How a lockup speed reads wherever it is shown (page, chart, tables, sheet): a speed, "at or
+/// below" the curve's first speed when the clutch already holds there (the curve says nothing
+/// about lower speeds), or "not reached" when it slips at the top.
+pub fn lockup_text(lockup_rpm: Option<f64>, curve_start_rpm: f64) -> String {
+    match lockup_rpm {
+        None => "not reached (slips at the top of the curve)".into(),
+        Some(rpm) if rpm <= curve_start_rpm => {
+            format!("at or below {curve_start_rpm:.0} rpm (start of the curve)")
+        }
+        Some(rpm) => format!("{rpm:.0} rpm"),
+    }
+}
+
+/// Friction a little lower than assumed: the share of μ [`knife_edge`] takes off.
+pub const KNIFE_EDGE_MU_DROP: f64 = 0.01;
+/// A lockup that moves by more than this, rev/min, when μ drops by [`KNIFE_EDGE_MU_DROP`] is on
+/// a knife edge (common shop practice, no published source: a few hundred rpm is what a tuner
+/// notices in a data log).
+pub const KNIFE_EDGE_RPM: f64 = 250.0;
+
+/// Where the lockup would be with 1 % less friction, when that moves it by more than
+/// [`KNIFE_EDGE_RPM`] (`Some(None)`: it would then slip at the top). The answer is exact for
+/// the law as given; this flags the laws whose capacity only just touches the engine curve
+/// somewhere above the lockup, where a tiny change of μ flips the answer between speeds far
+/// apart.
+pub fn knife_edge(law: &CapacityLaw, engine: &TorqueCurve) -> Option<Option<f64>> {
+    let now = law.lockup_rpm(engine)?;
+    let lower = CapacityLaw {
+        nm_per_n: law.nm_per_n * (1.0 - KNIFE_EDGE_MU_DROP),
+        ..*law
+    };
+    match lower.lockup_rpm(engine) {
+        Some(l) if l - now <= KNIFE_EDGE_RPM => None,
+        other => Some(other),
+    }
+}
+
 /// The capacity curve over the whole engine curve: its first speed, every multiple of
 /// `step_rpm` strictly between the ends, and its last speed.
 ///
@@ -305,6 +342,40 @@ mod tests {
     fn slipping_at_the_top_gives_none_and_holding_everywhere_gives_the_start() {
         assert_eq!(law(429.0, 0.0).lockup_rpm(&engine()), None);
         assert_eq!(law(480.0, 0.0).lockup_rpm(&engine()), Some(3000.0));
+    }
+
+    #[test]
+    fn lockup_reads_at_or_below_the_start_when_it_holds_there() {
+        let e = engine();
+        let start = e.range().0;
+        assert_eq!(
+            lockup_text(law(480.0, 0.0).lockup_rpm(&e), start),
+            "at or below 3000 rpm (start of the curve)"
+        );
+        assert_eq!(lockup_text(Some(6500.0), start), "6500 rpm");
+        assert_eq!(
+            lockup_text(law(429.0, 0.0).lockup_rpm(&e), start),
+            "not reached (slips at the top of the curve)"
+        );
+    }
+
+    // [D] A constant capacity of exactly 480 N·m touches the curve's 480 N·m peak at 5000 rpm
+    // and holds everywhere (lockup at the start); 1 % less (475.2 N·m) is passed by the
+    // torque from 4000 + 1000·20.2/25 = 4808 rpm to 5000 + 1000·4.8/10 = 5480 rpm, so the
+    // lockup jumps to 5480 rpm (linear algebra check).
+    #[test]
+    fn a_capacity_that_only_touches_the_curve_is_flagged_as_a_knife_edge() {
+        let e = engine();
+        let touching = law(480.0, 0.0);
+        assert_eq!(touching.lockup_rpm(&e), Some(3000.0));
+        let moved = knife_edge(&touching, &e)
+            .expect("flagged")
+            .expect("still locks");
+        assert!((moved - 5480.0).abs() < 1e-6, "{moved}");
+        // Plenty of margin: no flag.
+        assert_eq!(knife_edge(&law(600.0, 0.0), &e), None);
+        // Slipping at the top already: nothing to flag.
+        assert_eq!(knife_edge(&law(429.0, 0.0), &e), None);
     }
 
     #[test]

@@ -7,11 +7,15 @@
 //! (≈ log2(steps) lockup solves), then the two settings either side of the target are scored.
 
 use super::InputError;
-use super::lockup::{CapacityLaw, ClutchModel, torque_ratio};
+use super::lockup::{CapacityLaw, ClutchModel, lockup_text, torque_ratio};
 use super::quantity::{Bound, limits};
 use super::report::capacity;
 use super::request::CapacityRequest;
 use serde::{Deserialize, Serialize};
+
+/// A lockup-only target counts as reached within this share of it (2 %: about 100 rpm at
+/// 5000 rpm; common shop practice, no published source).
+pub const LOCKUP_CLOSE: f64 = 0.02;
 
 /// Most grid points accepted on either axis.
 pub const MAX_GRID_POINTS: f64 = 10_000.0;
@@ -103,6 +107,11 @@ impl Default for Limits {
 pub struct Recommendation {
     /// The chosen setting.
     pub recommended: Setting,
+    /// Whether the chosen setting meets the targets: lockup only, settings inside the limits
+    /// lie either side of the target and the chosen one locks up within [`LOCKUP_CLOSE`] of
+    /// it; with a launch-ratio target, lockup within 1 % and ratio within 2 %. `false`:
+    /// `recommended` is only the closest setting.
+    pub target_reached: bool,
     /// What [`capacity`] gives for the chosen setting.
     pub result: SettingResult,
     /// Next-best settings, best first.
@@ -341,7 +350,7 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         launch_ratio: report.launch.as_ref().map(|l| l.ratio),
         static_clamp: report.static_clamp,
     };
-    let notes = notes(req, &search, &best, &candidates);
+    let (notes, target_reached) = notes(req, &search, &best, &candidates);
     let alternatives = candidates
         .iter()
         .skip(1)
@@ -358,6 +367,7 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
             adjuster_turns: best.turns,
             counterweight_g: best.weight_g,
         },
+        target_reached,
         result,
         alternatives,
         notes,
@@ -391,17 +401,24 @@ fn grid(
     Ok((step, points as usize))
 }
 
-fn notes(req: &RecommendRequest, s: &Search, best: &Candidate, all: &[Candidate]) -> Vec<String> {
+/// The notes, and whether the targets are reached (see [`Recommendation::target_reached`]).
+fn notes(
+    req: &RecommendRequest,
+    s: &Search,
+    best: &Candidate,
+    all: &[Candidate],
+) -> (Vec<String>, bool) {
     let mut notes = Vec::new();
     let any_above = all.iter().any(|c| s.lockup_key(c.lockup) > s.target_rpm);
     let any_below = all
         .iter()
         .any(|c| c.lockup.is_some_and(|l| l <= s.target_rpm));
-    let lockup_text = best
-        .lockup
-        .map_or("slips at the top of the curve".to_string(), |l| {
-            format!("locks up at {l:.0} rpm")
-        });
+    let start = s.model.engine.range().0;
+    let lockup_text = match best.lockup {
+        None => "slips at the top of the curve".to_string(),
+        Some(l) if l <= start => format!("locks up {}", lockup_text(Some(l), start)),
+        Some(l) => format!("locks up at {}", lockup_text(Some(l), start)),
+    };
     if !any_above {
         notes.push(format!(
             "The lockup target can't be reached inside the limits: even the lightest setting tried {lockup_text}, below the {:.0} rpm target. Less static clamp (fewer adjuster turns) or lighter levers would be needed.",
@@ -416,18 +433,32 @@ fn notes(req: &RecommendRequest, s: &Search, best: &Candidate, all: &[Candidate]
     let lockup_met = best
         .lockup
         .is_some_and(|l| ((l - s.target_rpm) / s.target_rpm).abs() <= 0.01);
+    let ratio_met = |t: f64, r: f64| ((r - t) / t).abs() <= 0.02;
+    let lockup_close = best
+        .lockup
+        .is_some_and(|l| ((l - s.target_rpm) / s.target_rpm).abs() <= LOCKUP_CLOSE);
+    let bracketed = any_above && any_below;
+    let reached = match (s.target_ratio, best.launch_ratio) {
+        (Some(t), Some(r)) => lockup_met && ratio_met(t, r),
+        _ => bracketed && lockup_close,
+    };
     match (s.target_ratio, best.launch_ratio) {
-        (Some(t), Some(r)) if lockup_met && ((r - t) / t).abs() <= 0.02 => notes.push(format!(
-            "The clutch {lockup_text} (target {:.0} rpm) with a launch ratio of {r:.3} (target {t:.3}).",
+        (Some(t), Some(r)) if lockup_met && ratio_met(t, r) => notes.push(format!(
+            "The clutch {lockup_text} against a {:.0} rpm target with a launch ratio of {r:.3} (target {t:.3}).",
             s.target_rpm
         )),
         (Some(t), Some(r)) => notes.push(format!(
-            "The two targets can't both be met inside the limits; closest compromise: the clutch {lockup_text} (target {:.0} rpm) with a launch ratio of {r:.3} (target {t:.3}).",
+            "The two targets can't both be met inside the limits; closest compromise: the clutch {lockup_text} against a {:.0} rpm target with a launch ratio of {r:.3} (target {t:.3}).",
             s.target_rpm
         )),
-        _ if any_above && any_below => notes.push(format!(
-            "The clutch {lockup_text} (target {:.0} rpm), as close as the {} g counterweight step allows.",
+        _ if bracketed && lockup_close => notes.push(format!(
+            "The clutch {lockup_text} against a {:.0} rpm target, as close as the {} g counterweight step allows.",
             s.target_rpm, s.weight_step
+        )),
+        _ if bracketed => notes.push(format!(
+            "No setting inside the limits locks up within {:.0} % of the {:.0} rpm target: one counterweight step moves the lockup right past it, because the capacity line runs almost alongside the torque curve there. Closest: the clutch {lockup_text}.",
+            LOCKUP_CLOSE * 100.0,
+            s.target_rpm
         )),
         _ => {}
     }
@@ -444,5 +475,5 @@ fn notes(req: &RecommendRequest, s: &Search, best: &Candidate, all: &[Candidate]
         "Estimates from the entered measurements: confirm on the bench and at the track, within the parts maker's limits."
             .to_string(),
     );
-    notes
+    (notes, reached)
 }

@@ -3,7 +3,7 @@
 //! Every output is in the request's unit system.
 
 use super::InputError;
-use super::lockup::{SpeedPoint, curve_at};
+use super::lockup::{KNIFE_EDGE_MU_DROP, SpeedPoint, curve_at, knife_edge, lockup_text};
 use super::request::{CapacityRequest, ValidRequest};
 use super::units::Units;
 use serde::Serialize;
@@ -116,9 +116,19 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
         && l.capacity_nm >= l.engine_torque_nm
     {
         warnings.push(format!(
-            "Capacity at the {:.0} rpm launch is {:.2} times engine torque: the clutch will not slip at launch.",
+            "Capacity at the {:.0} rpm launch is {:.2} times engine torque: the clutch will not slip at launch: the engine is pulled down, or the driveline and tyres take the shock.",
             l.rpm,
             l.capacity_nm / l.engine_torque_nm
+        ));
+    }
+    if let (Some(now), Some(moved)) = (lockup_rpm, knife_edge(&law, engine)) {
+        warnings.push(format!(
+            "The lockup is on a knife edge: above the lockup ({}) capacity only just covers engine torque somewhere. With {:.0} % less friction (a hot or glazed disc) the clutch would {}.",
+            lockup_text(Some(now), engine.range().0),
+            KNIFE_EDGE_MU_DROP * 100.0,
+            moved.map_or("slip at the top of the curve".to_string(), |l| format!(
+                "lock up only at {l:.0} rpm"
+            ))
         ));
     }
     if let Some(rated) = v.rated_torque_nm {

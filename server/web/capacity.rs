@@ -82,9 +82,23 @@ pub fn capacity_chart(u: &Show, report: &CapacityReport, before: Option<&Capacit
         chart.mark_x(&f, "launch", format!("launch {:.0}", l.rpm), l.rpm);
     }
     if let Some(rpm) = report.lockup_rpm {
-        chart.mark_x(&f, "lockup", format!("lockup {rpm:.0}"), rpm);
+        let label = if rpm <= x.0 {
+            format!("lockup at or below {rpm:.0}")
+        } else {
+            format!("lockup {rpm:.0}")
+        };
+        chart.mark_x(&f, "lockup", label, rpm);
     }
     chart
+}
+
+/// The first speed of the torque curve the figures were worked out over (0 without figures).
+pub fn curve_start<E>(figures: &Result<Figures, E>) -> f64 {
+    figures
+        .as_ref()
+        .ok()
+        .and_then(|f| f.report.curve.first())
+        .map_or(0.0, |p| p.rpm)
 }
 
 #[derive(Template)]
@@ -261,8 +275,7 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
         ),
         (
             "Lockup speed",
-            r.lockup_rpm
-                .map_or("slips at the top".into(), |rpm| format!("{rpm:.0} rpm")),
+            u.lockup(&r.lockup_rpm, r.curve.first().map_or(0.0, |p| p.rpm)),
         ),
         (
             "Margin at the top",
@@ -315,17 +328,24 @@ impl TunePage {
             .unwrap_or_default()
     }
 
+    /// The first speed of the car's torque curve (where "at or below" lockups sit).
+    pub fn curve_start(&self) -> f64 {
+        curve_start(&self.current)
+    }
+
+    /// The recommended setting, with the friction the search used.
+    pub fn recommended_setting(&self) -> Option<Trial> {
+        self.recommendation.as_ref().map(|r| Trial {
+            adjuster_turns: r.recommended.adjuster_turns,
+            counterweight_g: r.recommended.counterweight_g,
+            mu: self.recommended_from.mu,
+        })
+    }
+
     /// The setting a "save as new setup" button would record.
     pub fn to_save(&self) -> Option<Trial> {
-        match (&self.recommendation, &self.trial) {
-            (Some(r), _) => Some(Trial {
-                adjuster_turns: r.recommended.adjuster_turns,
-                counterweight_g: r.recommended.counterweight_g,
-                mu: self.recommended_from.mu,
-            }),
-            (None, Some((t, _))) => Some(*t),
-            _ => None,
-        }
+        self.recommended_setting()
+            .or(self.trial.as_ref().map(|(t, _)| *t))
     }
 }
 

@@ -16,6 +16,9 @@ pub struct Chart {
     pub y_title: String,
     pub x_ticks: Vec<Tick>,
     pub y_ticks: Vec<Tick>,
+    /// Decimals of the tick labels (values quoted on the chart use the same).
+    pub x_decimals: usize,
+    pub y_decimals: usize,
     pub series: Vec<Series>,
     /// Shaded regions (closed paths), e.g. where the clutch slips.
     pub bands: Vec<Band>,
@@ -42,6 +45,20 @@ pub struct Series {
     pub label_y: f64,
     /// Points drawn as dots (for measured data), each with its label (shown on hover).
     pub dots: Vec<(f64, f64, String)>,
+    /// Where the line leaves the top of the scale, if it does.
+    pub off_scale: Option<OffScale>,
+}
+
+/// The mark where a line leaves the top of the scale: a triangle on the top edge and the
+/// highest value the line reaches, so a clipped line never reads as lower than it is.
+#[derive(Debug, Clone)]
+pub struct OffScale {
+    /// Pixel x of the exit point on the top edge.
+    pub x: f64,
+    /// E.g. "clutch off scale, up to 1582 at 7000".
+    pub label: String,
+    /// Text anchor that keeps the label inside the chart (`start` or `end`).
+    pub anchor: &'static str,
 }
 
 #[derive(Debug, Clone)]
@@ -103,24 +120,10 @@ impl Chart {
             right,
             bottom,
         };
-        let label_of = |ticks: &[f64]| {
-            let step = ticks
-                .windows(2)
-                .map(|w| w[1] - w[0])
-                .next()
-                .unwrap_or(1.0)
-                .abs();
-            // Enough decimals to tell neighbouring ticks apart, and no more.
-            let decimals = (0..6)
-                .find(|d| {
-                    let scaled = step * 10f64.powi(*d as i32);
-                    (scaled - scaled.round()).abs() < 1e-6
-                })
-                .unwrap_or(6);
-            move |v: f64| format!("{v:.decimals$}")
-        };
-        let x_label = label_of(&x_ticks_v);
-        let y_label = label_of(&y_ticks_v);
+        let x_decimals = decimals_of(&x_ticks_v);
+        let y_decimals = decimals_of(&y_ticks_v);
+        let x_label = |v: f64| format!("{v:.x_decimals$}");
+        let y_label = |v: f64| format!("{v:.y_decimals$}");
 
         let chart = Self {
             width,
@@ -146,6 +149,8 @@ impl Chart {
                     label: y_label(*v),
                 })
                 .collect(),
+            x_decimals,
+            y_decimals,
             series: Vec::new(),
             bands: Vec::new(),
             marks: Vec::new(),
@@ -178,6 +183,7 @@ impl Chart {
             .zip(tips)
             .map(|(&(x, y), tip)| (x, y, tip.clone()))
             .collect();
+        let off_scale = self.off_scale(f, label, points);
         self.series.push(Series {
             class,
             label: label.into(),
@@ -186,7 +192,42 @@ impl Chart {
             // A line that leaves the top of the scale is labelled where it leaves.
             label_y: (ly + 4.0).clamp(self.top + 8.0, self.bottom),
             dots,
+            off_scale,
         });
+    }
+
+    /// The off-scale mark of a line that rises above the top of the scale: where it first
+    /// leaves (interpolated on the segment that crosses) and its highest point.
+    fn off_scale(&self, f: &Frame, label: &str, points: &[(f64, f64)]) -> Option<OffScale> {
+        let exit = points.iter().position(|p| p.1 > f.y1)?;
+        let x_exit = match exit.checked_sub(1).map(|i| points[i]) {
+            Some((x0, y0)) => {
+                let (x1, y1) = points[exit];
+                x0 + (x1 - x0) * (f.y1 - y0) / (y1 - y0)
+            }
+            None => points[exit].0,
+        };
+        let (x_max, y_max) = points
+            .iter()
+            .copied()
+            .fold(
+                (f64::NAN, f64::NEG_INFINITY),
+                |a, p| if p.1 > a.1 { p } else { a },
+            );
+        let px = (f.x(x_exit) * 10.0).round() / 10.0;
+        Some(OffScale {
+            x: px,
+            label: format!(
+                "{label} off scale, up to {y_max:.yd$} at {x_max:.xd$}",
+                yd = self.y_decimals,
+                xd = self.x_decimals
+            ),
+            anchor: if px > (self.left + self.right) / 2.0 {
+                "end"
+            } else {
+                "start"
+            },
+        })
     }
 
     /// Shades the area between two lines sampled at the same x values wherever `lower` is
@@ -251,6 +292,22 @@ impl Chart {
     }
 }
 
+/// Enough decimals to tell neighbouring ticks apart, and no more.
+fn decimals_of(ticks: &[f64]) -> usize {
+    let step = ticks
+        .windows(2)
+        .map(|w| w[1] - w[0])
+        .next()
+        .unwrap_or(1.0)
+        .abs();
+    (0..6)
+        .find(|d| {
+            let scaled = step * 10f64.powi(*d as i32);
+            (scaled - scaled.round()).abs() < 1e-6
+        })
+        .unwrap_or(6)
+}
+
 fn path_of(px: &[(f64, f64)]) -> String {
     let mut d = String::with_capacity(px.len() * 14);
     for (i, (x, y)) in px.iter().enumerate() {
@@ -307,6 +364,23 @@ mod tests {
         let t = nice_ticks(0.0, 583.0, 6);
         assert_eq!(t.first(), Some(&0.0));
         assert!(*t.last().unwrap() >= 583.0);
+    }
+
+    #[test]
+    fn a_line_that_leaves_the_scale_is_marked_where_it_leaves_with_its_top_value() {
+        let (mut c, f) = Chart::new("t", "x", "y", (0.0, 4.0), (0.0, 10.0));
+        // Crosses y = 10 halfway between x = 2 and x = 3, tops out at 30.
+        c.line(
+            &f,
+            "capacity",
+            "clutch",
+            &[(0.0, 0.0), (2.0, 8.0), (3.0, 12.0), (4.0, 30.0)],
+        );
+        c.line(&f, "engine", "engine", &[(0.0, 5.0), (4.0, 5.0)]);
+        let off = c.series[0].off_scale.as_ref().expect("marked");
+        assert_eq!(off.label, "clutch off scale, up to 30 at 4.0");
+        assert!((off.x - f.x(2.5)).abs() <= 0.05 + 1e-9, "{} vs {}", off.x, f.x(2.5));
+        assert!(c.series[1].off_scale.is_none());
     }
 
     #[test]

@@ -8,7 +8,7 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use super::AppState;
 use super::builds::{EntryForm, EntryForms, render_page};
-use super::capacity::{capacity_chart, figure_lines};
+use super::capacity::{capacity_chart, curve_start, figure_lines};
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::show::Show;
@@ -16,12 +16,13 @@ use super::wear;
 use crate::auth;
 use crate::clutch::friction::{FacingMaterial, HeatTrend};
 use crate::clutch::quantity::limits;
+use crate::clutch::recommend::Recommendation;
 use crate::clutch::units::Units;
 use crate::clutch::wear::WearReport;
 use crate::db;
 use crate::db::sheets::{Link, LinkState, Sheet};
 use crate::error::{AppError, AppResult};
-use crate::model::TuningTargets;
+use crate::model::{Trial, TuningTargets};
 use crate::records::{FieldErrors, field};
 use crate::sheet::{self, SheetFigures, SheetInputs};
 
@@ -86,6 +87,34 @@ impl SheetPage {
 
     pub fn material(&self) -> String {
         super::show::material_text(&self.i.build)
+    }
+
+    /// The first speed of the car's torque curve (where "at or below" lockups sit).
+    pub fn curve_start(&self) -> f64 {
+        curve_start(&self.f.capacity)
+    }
+
+    /// The setting in force when the sheet was printed.
+    pub fn current(&self) -> Trial {
+        Trial::from_setup(self.i.setup.as_ref())
+    }
+
+    /// The recommended setting, friction as in the current setting.
+    pub fn suggested(&self, r: &Recommendation) -> Trial {
+        Trial {
+            adjuster_turns: r.recommended.adjuster_turns,
+            counterweight_g: r.recommended.counterweight_g,
+            mu: self.current().mu,
+        }
+    }
+
+    /// Whether the recommendation moves both the adjusters and the counterweight, so "one
+    /// thing at a time" would be the wrong advice beside it.
+    pub fn suggestion_moves_both(&self) -> bool {
+        match &self.f.recommendation {
+            Some(Ok(r)) => self.current().moves_both(&self.suggested(r)),
+            _ => false,
+        }
     }
 
     /// What heat does to this facing's grip, in words.

@@ -1,8 +1,10 @@
 //! Numbers as the shop reads them: converted to its units, rounded the shop's way, unit attached.
 //! Heights to 0.001 in or 0.01 mm; forces, torque and speed whole; counterweights to 0.1 g.
 
+use crate::clutch::lockup::lockup_text;
 use crate::clutch::quantity::Kind;
 use crate::clutch::units::Units;
+use crate::model::Trial;
 
 /// A number a template hands over, by value or by reference (askama passes arguments by
 /// reference, and loop variables add another level).
@@ -25,6 +27,23 @@ impl Num for i64 {
 impl<T: Num> Num for &T {
     fn value(self) -> f64 {
         (*self).value()
+    }
+}
+
+/// A setting a template hands over, by value or by reference (as [`Num`]).
+pub trait Setting: Copy {
+    fn trial(self) -> Trial;
+}
+
+impl Setting for Trial {
+    fn trial(self) -> Trial {
+        self
+    }
+}
+
+impl<T: Setting> Setting for &T {
+    fn trial(self) -> Trial {
+        (*self).trial()
     }
 }
 
@@ -131,6 +150,61 @@ impl Show {
         let pct = pct.value();
         format!("{pct:.1} %")
     }
+
+    /// Adjuster turns with the word agreeing ("1 turn", "1.75 turns").
+    pub fn turns(&self, turns: impl Num) -> String {
+        let t = turns.value();
+        if t == 1.0 {
+            "1 turn".into()
+        } else {
+            format!("{t} turns")
+        }
+    }
+
+    /// A lockup speed in words (see [`lockup_text`]).
+    pub fn lockup(&self, rpm: &Option<f64>, curve_start_rpm: f64) -> String {
+        lockup_text(*rpm, curve_start_rpm)
+    }
+
+    /// Every value a setting sets: "1 turn, 26.0 g per lever, μ 0.35".
+    pub fn setting(&self, t: impl Setting) -> String {
+        let t = t.trial();
+        let mu =
+            t.mu.map_or("the facing's nominal μ".into(), |mu| format!("μ {mu:.2}"));
+        format!(
+            "{}, {} per lever, {mu}",
+            self.turns(t.adjuster_turns),
+            self.grams(t.counterweight_g)
+        )
+    }
+
+    /// The step from one setting to another, value by value ("+0.5 turn, −8.0 g per lever";
+    /// "no change").
+    pub fn step(&self, from: impl Setting, to: impl Setting) -> String {
+        let (from, to) = (from.trial(), to.trial());
+        let mut parts = Vec::new();
+        let turns = to.adjuster_turns - from.adjuster_turns;
+        if turns.abs() > 1e-9 {
+            let sign = if turns < 0.0 { "−" } else { "+" };
+            parts.push(format!("{sign}{}", self.turns(turns.abs())));
+        }
+        let grams = to.counterweight_g - from.counterweight_g;
+        if grams.abs() > 1e-9 {
+            let sign = if grams < 0.0 { "−" } else { "+" };
+            parts.push(format!("{sign}{} per lever", self.grams(grams.abs())));
+        }
+        if to.mu != from.mu {
+            parts.push(match to.mu {
+                Some(mu) => format!("μ {mu:.2}"),
+                None => "the facing's nominal μ".into(),
+            });
+        }
+        if parts.is_empty() {
+            "no change".into()
+        } else {
+            parts.join(", ")
+        }
+    }
 }
 
 /// A build's adjuster thread in words.
@@ -161,5 +235,33 @@ mod tests {
             Show::new(Units::Imperial).force_num(4448.2216152605),
             "1000"
         );
+    }
+
+    #[test]
+    fn settings_name_every_value_and_steps_name_what_moves() {
+        let u = Show::new(Units::Metric);
+        let from = Trial {
+            adjuster_turns: 1.75,
+            counterweight_g: 26.0,
+            mu: None,
+        };
+        let to = Trial {
+            adjuster_turns: 1.0,
+            counterweight_g: 18.0,
+            mu: Some(0.35),
+        };
+        assert_eq!(u.setting(to), "1 turn, 18.0 g per lever, μ 0.35");
+        assert_eq!(
+            u.setting(from),
+            "1.75 turns, 26.0 g per lever, the facing's nominal μ"
+        );
+        assert_eq!(u.step(from, to), "−0.75 turns, −8.0 g per lever, μ 0.35");
+        assert_eq!(u.step(to, from).split(", ").next(), Some("+0.75 turns"));
+        assert_eq!(u.step(from, from), "no change");
+        assert!(from.moves_both(&to));
+        assert!(!from.moves_both(&Trial {
+            mu: Some(0.3),
+            ..from
+        }));
     }
 }

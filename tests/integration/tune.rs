@@ -42,7 +42,11 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
         .await;
     assert_eq!(tried.status, StatusCode::OK);
     assert!(tried.body.contains("Trying"));
-    assert!(tried.body.contains("Save 2 turns, 30.0 g as the new setup"));
+    assert!(
+        tried.body.contains(
+            "Save 2 turns, 30.0 g per lever, the facing&#39;s nominal μ as the new setup"
+        )
+    );
 
     let bad = client
         .get(&format!(

@@ -275,7 +275,14 @@ pub struct Artifacts {
 
 impl Artifacts {
     pub fn new() -> Self {
-        let dir = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("browser-artifacts");
+        Self::named("workflow")
+    }
+
+    /// The artifacts of one test, in a folder of their own (tests run side by side).
+    pub fn named(test: &str) -> Self {
+        let dir = PathBuf::from(env!("CARGO_TARGET_TMPDIR"))
+            .join("browser-artifacts")
+            .join(test);
         let _ = std::fs::remove_dir_all(&dir);
         std::fs::create_dir_all(&dir).unwrap();
         Self { dir }

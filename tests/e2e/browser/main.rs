@@ -5,6 +5,7 @@
 //! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/`.
 
 mod harness;
+mod tuning;
 
 use fantoccini::Locator;
 use harness::{Artifacts, Browser, Server, pdf_pages, pdf_text};
