@@ -109,12 +109,15 @@ impl<'a> BuildFacts<'a> {
     /// The facts of a loaded build: the spring rate is the latest bench test's mean.
     pub fn of(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
         let tested = bench_review(&d.bench, settings).and_then(|r| r.last().map(|t| t.spread.mean));
-        Self {
+        let mut facts = Self {
             build: &d.build.data,
             car: &d.car.data,
             settings,
             tested_rate_n_per_mm: tested,
-        }
+            clamp_loss_n: 0.0,
+        };
+        facts.clamp_loss_n = facts.clamp_loss(&d.heights);
+        facts
     }
 
     /// The setup in force on a loaded build.
@@ -135,6 +138,8 @@ pub struct BuildFacts<'a> {
     pub settings: &'a SettingsInput,
     /// Mean spring rate of the latest bench test, N/mm, when there is one.
     pub tested_rate_n_per_mm: Option<f64>,
+    /// Static clamp lost to disc wear since the last shim, N, by the latest cover height.
+    pub clamp_loss_n: f64,
 }
 
 impl BuildFacts<'_> {
@@ -245,6 +250,7 @@ impl BuildFacts<'_> {
                 base_compression: base,
                 adjuster_pitch: self.pitch_mm(),
                 adjuster_turns: trial.adjuster_turns,
+                clamp_loss: self.clamp_loss_n,
             },
             levers,
             engine: EngineInput {
@@ -350,7 +356,13 @@ impl BuildFacts<'_> {
             .map(|h| &h.data)
             .filter(|h| h.measured_on.as_str() <= day)
             .collect();
-        wear_request(self.build, self.settings, self.spring_rate(), &upto)
+        self.clamp_loss(&upto)
+    }
+
+    /// Static clamp lost to wear, N, by the last of `heights` (oldest first): the wear model's
+    /// clamp loss, 0 without measurements or a spring rate.
+    pub fn clamp_loss<H: AsRef<HeightInput>>(&self, heights: &[H]) -> f64 {
+        wear_request(self.build, self.settings, self.spring_rate(), heights)
             .ok()
             .and_then(|req| crate::clutch::wear::analyze(&req).ok())
             .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))

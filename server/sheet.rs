@@ -38,6 +38,11 @@ pub struct SheetInputs {
     /// the calibration existed).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub mu_source: Option<String>,
+    /// Whether the figures take the static clamp lost to wear since the last shim off the
+    /// springs' clamp (absent, so false, on sheets printed before they did: those reprint the
+    /// figures they showed).
+    #[serde(default)]
+    pub wear_in_clamp: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -78,6 +83,7 @@ impl SheetInputs {
                 .collect(),
             targets,
             mu_source: model::mu_source(&BuildFacts::of(d, settings), d),
+            wear_in_clamp: true,
         }
     }
 
@@ -119,12 +125,16 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
         };
         model::bench_review(&[test], &inputs.settings).and_then(|r| r.last().map(|t| t.spread.mean))
     });
-    let facts = BuildFacts {
+    let mut facts = BuildFacts {
         build: &inputs.build,
         car: &inputs.car,
         settings: &inputs.settings,
         tested_rate_n_per_mm: tested,
+        clamp_loss_n: 0.0,
     };
+    if inputs.wear_in_clamp {
+        facts.clamp_loss_n = facts.clamp_loss(&inputs.heights);
+    }
     let units = inputs.units();
     let trial = Trial::from_setup(inputs.setup.as_ref());
     let capacity = facts

@@ -21,7 +21,33 @@ fn example() -> CapacityRequest {
     serde_json::from_str(EXAMPLE).expect("example parses")
 }
 
-// Correction 4 of issue 10: a twin disc with each extra face at 0.9 works like 3.8 faces, so
+// Wear since the last shim: the springs extend by the cover-height growth, so the static clamp
+// falls by count × rate × growth (Hooke's law for parallel springs, as the static clamp itself)
+// and nothing else moves [D]. Absent, the answer is the same as before, field left out.
+#[test]
+fn clamp_loss_comes_off_the_static_clamp_and_nothing_else() {
+    let fresh = capacity(&example()).expect("valid");
+    let json = serde_json::to_value(&fresh).expect("serialises");
+    assert!(json.get("clamp_loss").is_none());
+    let mut worn = example();
+    // 0.003 in of growth on six 380 lbf/in springs: 6.84 lbf.
+    worn.springs.clamp_loss = 6.0 * 380.0 * 0.003;
+    let r = capacity(&worn).expect("valid");
+    assert!(rel(r.static_clamp, fresh.static_clamp - 6.84) < 1e-12);
+    assert!(rel(r.clamp_loss, 6.84) < 1e-12);
+    for (a, b) in r.curve.iter().zip(&fresh.curve) {
+        assert!(rel(b.total_clamp - a.total_clamp, 6.84) < 1e-9);
+        assert_eq!(a.centrifugal_clamp, b.centrifugal_clamp);
+    }
+    assert!(r.lockup_rpm.unwrap_or(f64::MAX) >= fresh.lockup_rpm.unwrap_or(f64::MAX));
+    worn.springs.clamp_loss = -1.0;
+    assert_eq!(
+        capacity(&worn).err().map(|e| e.field).as_deref(),
+        Some("springs.clamp_loss")
+    );
+}
+
+// A twin disc with each extra face at 0.9 works like 3.8 faces, so
 // every capacity is 0.95 of the textbook 4-face value [D]; the efficiency is from memory.
 // Absent, the answer is the same as before (bit for bit); outside (0, 1] it is refused.
 #[test]

@@ -665,6 +665,7 @@ mod tests {
                 pitch_mm: 0.0,
             },
             adjuster_turns: 0.0,
+            clamp_loss_n: 0.0,
             levers: Some(LeverSet {
                 count: 1,
                 lever_mass_g: 0.0,
@@ -727,7 +728,7 @@ mod tests {
         assert!(cal.notes.is_empty(), "{:?}", cal.notes);
     }
 
-    // [D] issue 10's API example: on a flat 700 N·m curve (3000–7000 rpm) the 5780 rpm pass's
+    // [D] The API's worked example: on a flat 700 N·m curve (3000–7000 rpm) the 5780 rpm pass's
     // setting with the fitted μ locks up at about 5773.7 rpm: n·μ·r·(F_s + K_c·ω²) = 700.
     #[test]
     fn worked_example_predicted_lockup_on_a_flat_curve() {

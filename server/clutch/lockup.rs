@@ -19,6 +19,8 @@ pub struct ClutchModel {
     pub springs: SpringPack,
     /// Adjuster turns from the base setting.
     pub adjuster_turns: f64,
+    /// Static clamp lost to disc wear since the last shim, N (0 for a fresh disc).
+    pub clamp_loss_n: f64,
     /// Levers, if the clutch has any.
     pub levers: Option<LeverSet>,
     /// Counterweight on each lever, g.
@@ -42,9 +44,10 @@ impl ClutchModel {
         self.law_for(self.adjuster_turns, self.counterweight_g)
     }
 
-    /// The capacity law at another setting (turns, counterweight g), hardware unchanged.
+    /// The capacity law at another setting (turns, counterweight g), hardware and wear
+    /// unchanged.
     pub fn law_for(&self, adjuster_turns: f64, counterweight_g: f64) -> CapacityLaw {
-        self.law_at(adjuster_turns, counterweight_g, 0.0, self.mu)
+        self.law_at(adjuster_turns, counterweight_g, self.clamp_loss_n, self.mu)
     }
 
     /// The capacity law at a setting with `clamp_loss_n` N taken off the static clamp (wear

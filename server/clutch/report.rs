@@ -14,8 +14,11 @@ pub const REPORT_STEP_RPM: f64 = 100.0;
 /// Answer to POST /api/v1/calc/capacity.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct CapacityReport {
-    /// Static spring clamp (lbf / N).
+    /// Static spring clamp (lbf / N), after the clamp lost to wear.
     pub static_clamp: f64,
+    /// Static clamp lost to wear since the last shim (lbf / N), as given; left out when 0.
+    #[serde(skip_serializing_if = "is_zero")]
+    pub clamp_loss: f64,
     /// Effective friction radius (in / mm).
     pub effective_radius: f64,
     /// Friction surfaces (2 per disc).
@@ -158,6 +161,7 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
 
     CapacityReport {
         static_clamp: u.n_to_force(law.static_clamp_n),
+        clamp_loss: u.n_to_force(m.clamp_loss_n),
         effective_radius: u.mm_to_length(m.effective_radius_mm),
         friction_surfaces: m.surfaces,
         curve: rows.iter().map(|p| CurvePoint::from_si(p, u)).collect(),
@@ -166,6 +170,10 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
         top: SpeedCheck::from_si(&top, u),
         warnings,
     }
+}
+
+fn is_zero(v: &f64) -> bool {
+    *v == 0.0
 }
 
 fn torque_text(nm: f64, u: Units) -> String {

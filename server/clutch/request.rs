@@ -96,6 +96,15 @@ pub struct SpringsInput {
     /// Adjuster turns (default 0).
     #[serde(default)]
     pub adjuster_turns: f64,
+    /// Static clamp lost to disc wear since the last shim (lbf / N; default 0): the springs
+    /// extend by the cover-height growth and push less. Taken off the static clamp, which never
+    /// goes below zero.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub clamp_loss: f64,
+}
+
+fn is_zero(v: &f64) -> bool {
+    *v == 0.0
 }
 
 /// Levers: geometry (`cg_radius` + `arm_ratio`) or a calibrated `gain`.
@@ -171,6 +180,7 @@ impl CapacityRequest {
         r.springs.rate = target.n_per_mm_to_rate(from.rate_to_n_per_mm(r.springs.rate));
         r.springs.base_compression = len(r.springs.base_compression);
         r.springs.adjuster_pitch = len(r.springs.adjuster_pitch);
+        r.springs.clamp_loss = force(r.springs.clamp_loss);
         if let Some(l) = r.levers.as_mut() {
             l.cg_radius = l.cg_radius.map(len);
             l.gain = l.gain.map(force);
@@ -221,6 +231,8 @@ impl CapacityRequest {
             self.springs.adjuster_turns,
             u,
         )?;
+        let clamp_loss_n =
+            limits::CLAMP_LOSS.check_shown("springs.clamp_loss", self.springs.clamp_loss, u)?;
         let (levers, counterweight_g) = match &self.levers {
             Some(l) => (Some(l.lever_set(u)?), l.counterweight_g),
             None => (None, 0.0),
@@ -256,6 +268,7 @@ impl CapacityRequest {
             model: ClutchModel {
                 springs,
                 adjuster_turns: turns,
+                clamp_loss_n,
                 levers,
                 counterweight_g,
                 surfaces,

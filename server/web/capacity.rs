@@ -255,8 +255,14 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
     let r = &f.report;
     let t = |v: f64| format!("{v:.0} {}", u.torque_unit());
     let clamp = |v: f64| format!("{v:.0} {}", u.force_unit());
-    vec![
-        ("Static clamp", clamp(r.static_clamp)),
+    let mut lines = vec![("Static clamp", clamp(r.static_clamp))];
+    if r.clamp_loss > 0.0 {
+        lines.push((
+            "Lost to wear since the last shim",
+            format!("{} (taken off above)", clamp(r.clamp_loss)),
+        ));
+    }
+    lines.extend([
         (
             "Clamp at launch",
             f.clamp_at_launch.map_or("–".into(), clamp),
@@ -281,7 +287,8 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
             "Margin at the top",
             format!("{:.2} × at {:.0} rpm", r.top.ratio, r.top.rpm),
         ),
-    ]
+    ]);
+    lines
 }
 
 impl TunePage {

@@ -379,7 +379,12 @@ mod tests {
         c.line(&f, "engine", "engine", &[(0.0, 5.0), (4.0, 5.0)]);
         let off = c.series[0].off_scale.as_ref().expect("marked");
         assert_eq!(off.label, "clutch off scale, up to 30 at 4.0");
-        assert!((off.x - f.x(2.5)).abs() <= 0.05 + 1e-9, "{} vs {}", off.x, f.x(2.5));
+        assert!(
+            (off.x - f.x(2.5)).abs() <= 0.05 + 1e-9,
+            "{} vs {}",
+            off.x,
+            f.x(2.5)
+        );
         assert!(c.series[1].off_scale.is_none());
     }
 
