@@ -32,6 +32,7 @@ fn request() -> CapacityRequest {
             base_compression: 0.22,
             adjuster_pitch: 0.0625,
             adjuster_turns: 1.5,
+            clamp_loss: 0.0,
         },
         levers: Some(LeversInput {
             count: 3,
