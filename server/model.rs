@@ -228,6 +228,11 @@ impl BuildFacts<'_> {
                 .then_some(b.lever_arm_ratio)
                 .flatten(),
             gain: b.lever_gain_n_per_g,
+            body_cg_radius: b
+                .lever_gain_n_per_g
+                .is_none()
+                .then_some(b.lever_body_cg_radius_mm)
+                .flatten(),
         });
         let (lo, hi) = curve_range(&car.torque_curve_nm);
         let launch_rpm = car.launch_rpm.filter(|rpm| (lo..=hi).contains(rpm));

@@ -47,6 +47,39 @@ fn clamp_loss_comes_off_the_static_clamp_and_nothing_else() {
     );
 }
 
+// The lever body's own CG radius only changes the answer when it differs from cg_radius, and
+// only works with geometry (not with a measured gain) [D: F = m·r·ω² per part].
+#[test]
+fn lever_body_radius_is_optional_and_needs_geometry() {
+    let plain = capacity(&example()).expect("valid");
+    let mut same = example();
+    if let Some(l) = same.levers.as_mut() {
+        l.body_cg_radius = Some(4.1);
+    }
+    assert_eq!(capacity(&same).expect("valid"), plain);
+    let mut inner = example();
+    if let Some(l) = inner.levers.as_mut() {
+        l.body_cg_radius = Some(2.05);
+    }
+    let r = capacity(&inner).expect("valid");
+    // 12 g lever + 24 g weight at 4.1 in → 24 + 12·2.05/4.1 = 30 g-equivalent: 30/36 of the
+    // centrifugal clamp.
+    for (a, b) in r.curve.iter().zip(&plain.curve) {
+        assert!(rel(a.centrifugal_clamp, b.centrifugal_clamp * 30.0 / 36.0) < 1e-12);
+    }
+    let mut gain = example();
+    if let Some(l) = gain.levers.as_mut() {
+        l.cg_radius = None;
+        l.arm_ratio = None;
+        l.gain = Some(2.0);
+        l.body_cg_radius = Some(2.0);
+    }
+    assert_eq!(
+        capacity(&gain).err().map(|e| e.field).as_deref(),
+        Some("levers.body_cg_radius")
+    );
+}
+
 // A twin disc with each extra face at 0.9 works like 3.8 faces, so
 // every capacity is 0.95 of the textbook 4-face value [D]; the efficiency is from memory.
 // Absent, the answer is the same as before (bit for bit); outside (0, 1] it is refused.

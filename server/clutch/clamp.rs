@@ -106,7 +106,9 @@ pub fn speed_for_force_rpm(mass_g: f64, radius_mm: f64, force_n: f64) -> f64 {
 pub struct LeverSet {
     /// Number of levers (0 for a spring-only clutch).
     pub count: u32,
-    /// Mass of one lever itself, g (it counts with the counterweight).
+    /// Mass of one lever itself as if it sat at the counterweight's radius, g: its mass times
+    /// the radius of its own centre of gravity over the counterweight's (F = m·r·ω² is linear
+    /// in m·r), so it counts with the counterweight.
     pub lever_mass_g: f64,
     /// Axial clamp per gram on one lever per (rev/min)², N/(g·rpm²).
     pub n_per_g_rpm2: f64,
@@ -115,11 +117,21 @@ pub struct LeverSet {
 impl LeverSet {
     /// Levers from geometry. Moment balance about the pivot: F_clamp = m·r_cg·ω²·(a/b), with
     /// a the arm of the centrifugal force and b the arm of the plate reaction (the same balance
-    /// as the bell-crank spring governor). r_cg in mm, arm ratio a/b > 0.
-    pub fn from_geometry(count: u32, lever_mass_g: f64, cg_radius_mm: f64, arm_ratio: f64) -> Self {
+    /// as the bell-crank spring governor). r_cg in mm, arm ratio a/b > 0. With the lever body's
+    /// own CG radius, the body adds m_body·r_body·ω²·(a/b) and the counterweight sits at
+    /// r_cg; without it the body counts at r_cg (both assume the body's centrifugal force acts
+    /// on the same arm a as the weight's).
+    pub fn from_geometry(
+        count: u32,
+        lever_mass_g: f64,
+        cg_radius_mm: f64,
+        arm_ratio: f64,
+        body_cg_radius_mm: Option<f64>,
+    ) -> Self {
+        let body_share = body_cg_radius_mm.map_or(1.0, |r| r / cg_radius_mm);
         Self {
             count,
-            lever_mass_g,
+            lever_mass_g: lever_mass_g * body_share,
             n_per_g_rpm2: centrifugal_force_n(1.0, cg_radius_mm, 1.0) * arm_ratio,
         }
     }
@@ -180,14 +192,28 @@ mod tests {
         let f = centrifugal_force_n(100.0, 76.2, 6000.0);
         assert!((f - 3008.2554).abs() < 5e-4, "{f}");
         assert!((f / N_PER_LBF - 676.2827).abs() < 5e-4);
-        let levers = LeverSet::from_geometry(3, 0.0, 76.2, 2.0);
+        let levers = LeverSet::from_geometry(3, 0.0, 76.2, 2.0, None);
         assert!((levers.per_lever_n(100.0, 6000.0) - 6016.51).abs() < 5e-3);
         assert!((levers.total_n(100.0, 6000.0) - 3.0 * 6016.51).abs() < 2e-2);
     }
 
+    // [D] F = m·r·ω² summed over the lever's parts: a 40 g lever body at 38.1 mm and a 100 g
+    // weight at 76.2 mm, 6000 rpm, a/b = 2: (40·38.1 + 100·76.2)/(100·76.2) = 1.2 times the
+    // weight's own 6016.51 N, i.e. 7219.81 N. Counted at the weight's radius, the body would
+    // add 40 % instead of 20 %.
+    #[test]
+    fn a_lever_body_nearer_the_axis_pulls_in_proportion_to_its_radius() {
+        let split = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, Some(38.1));
+        assert!((split.per_lever_n(100.0, 6000.0) - 1.2 * 6016.51).abs() < 5e-3);
+        let lumped = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, None);
+        assert!((lumped.per_lever_n(100.0, 6000.0) - 1.4 * 6016.51).abs() < 5e-3);
+        let same = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, Some(76.2));
+        assert_eq!(same, lumped);
+    }
+
     #[test]
     fn gain_form_equals_geometry_form_when_gain_is_the_force_at_1000_rpm() {
-        let geo = LeverSet::from_geometry(3, 12.0, 104.14, 2.6);
+        let geo = LeverSet::from_geometry(3, 12.0, 104.14, 2.6, None);
         let gain = geo.per_lever_n(1.0, 1000.0) - geo.per_lever_n(0.0, 1000.0);
         let cal = LeverSet::from_gain(3, 12.0, gain);
         let (a, b) = (geo.total_n(24.0, 6500.0), cal.total_n(24.0, 6500.0));

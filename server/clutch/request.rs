@@ -123,6 +123,11 @@ pub struct LeversInput {
     /// Lever arm ratio a/b (centrifugal-force arm over plate-reaction arm).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub arm_ratio: Option<f64>,
+    /// Radius of the lever body's own centre of gravity (in / mm), with `cg_radius` and
+    /// `arm_ratio` (then `cg_radius` is the counterweight's); absent: the lever's mass counts
+    /// at `cg_radius`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub body_cg_radius: Option<f64>,
     /// Clamp per gram per lever at 1000 rpm (lbf / N), instead of cg_radius and arm_ratio.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub gain: Option<f64>,
@@ -183,6 +188,7 @@ impl CapacityRequest {
         r.springs.clamp_loss = force(r.springs.clamp_loss);
         if let Some(l) = r.levers.as_mut() {
             l.cg_radius = l.cg_radius.map(len);
+            l.body_cg_radius = l.body_cg_radius.map(len);
             l.gain = l.gain.map(force);
         }
         for p in &mut r.engine.torque_curve {
@@ -309,6 +315,16 @@ impl LeversInput {
         let count = count_in("levers.count", self.count, limits::LEVER_COUNT)?;
         limits::COUNTERWEIGHT.check("levers.counterweight_g", self.counterweight_g, u)?;
         let lever_mass = limits::LEVER_MASS.check("levers.lever_mass_g", self.lever_mass_g, u)?;
+        let body_radius = match self.body_cg_radius {
+            Some(_) if self.gain.is_some() => {
+                return Err(InputError::new(
+                    "levers.body_cg_radius",
+                    "works with cg_radius and arm_ratio, not with gain",
+                ));
+            }
+            Some(r) => Some(limits::LEVER_CG_RADIUS.check_shown("levers.body_cg_radius", r, u)?),
+            None => None,
+        };
         match (self.gain, self.cg_radius, self.arm_ratio) {
             (Some(_), Some(_), _) | (Some(_), _, Some(_)) => Err(InputError::new(
                 "levers.gain",
@@ -321,7 +337,13 @@ impl LeversInput {
             (None, Some(r), Some(ratio)) => {
                 let r = limits::LEVER_CG_RADIUS.check_shown("levers.cg_radius", r, u)?;
                 let ratio = limits::LEVER_ARM_RATIO.check("levers.arm_ratio", ratio, u)?;
-                Ok(LeverSet::from_geometry(count, lever_mass, r, ratio))
+                Ok(LeverSet::from_geometry(
+                    count,
+                    lever_mass,
+                    r,
+                    ratio,
+                    body_radius,
+                ))
             }
             (None, None, _) => Err(InputError::new(
                 "levers.cg_radius",

@@ -32,6 +32,9 @@ pub struct BuildInput {
     pub lever_mass_g: f64,
     pub lever_cg_radius_mm: Option<f64>,
     pub lever_arm_ratio: Option<f64>,
+    /// Radius of the lever body's own centre of gravity, mm (absent: its mass counts at
+    /// `lever_cg_radius_mm`).
+    pub lever_body_cg_radius_mm: Option<f64>,
     /// Measured gain: clamp N per gram of counterweight at 1000 rpm, per lever.
     pub lever_gain_n_per_g: Option<f64>,
     /// Shim thicknesses in mm, in the order they come out.
@@ -65,6 +68,7 @@ impl Default for BuildInput {
             lever_mass_g: 0.0,
             lever_cg_radius_mm: None,
             lever_arm_ratio: None,
+            lever_body_cg_radius_mm: None,
             lever_gain_n_per_g: None,
             shim_stack_mm: Vec::new(),
             shimming_limit_mm: None,
@@ -285,6 +289,17 @@ impl Record for BuildInput {
             },
         },
         Field {
+            column: "lever_body_cg_radius_mm",
+            form: "lever_body_cg_radius",
+            label: "Lever body CG radius",
+            value: Value::Number {
+                limit: limits::LEVER_CG_RADIUS,
+                required: false,
+                get: |r| r.lever_body_cg_radius_mm,
+                set: |r, v| r.lever_body_cg_radius_mm = v,
+            },
+        },
+        Field {
             column: "lever_gain_n_per_g",
             form: "lever_gain",
             label: "Measured lever gain (per g at 1000 rpm)",
@@ -398,6 +413,15 @@ impl Record for BuildInput {
                 errors,
                 "lever_gain_n_per_g",
                 "levers need a measured gain, or both CG radius and arm ratio",
+            );
+        }
+        if self.lever_body_cg_radius_mm.is_some()
+            && (!has_geometry || self.lever_gain_n_per_g.is_some())
+        {
+            Self::fault(
+                errors,
+                "lever_body_cg_radius_mm",
+                "works with the CG radius and arm ratio, not with a measured gain",
             );
         }
     }

@@ -115,3 +115,37 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     let sheet = client.get(made.location()).await;
     assert!(sheet.body.contains("<dt>Static clamp</dt><dd>709 lbf</dd>"));
 }
+
+/// The lever body's own CG radius is stored with the build and refused beside a measured gain
+/// (the gain already holds the whole lever); the arithmetic is checked in the clutch module.
+#[tokio::test]
+async fn the_lever_body_radius_is_stored_used_and_checked() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let mut body = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json();
+    body["lever_body_cg_radius_mm"] = serde_json::json!(2.05 * 25.4);
+    let put = app
+        .api(
+            "PUT",
+            &format!("/api/v1/builds/{id}"),
+            t,
+            Some(body.clone()),
+        )
+        .await;
+    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    assert_eq!(put.json()["lever_body_cg_radius_mm"], 2.05 * 25.4);
+
+    body["lever_gain_n_per_g"] = serde_json::json!(2.0);
+    let refused = app
+        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
+        .await;
+    assert_eq!(refused.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert_eq!(refused.json()["field"], "lever_body_cg_radius_mm");
+}

@@ -41,6 +41,7 @@ fn request() -> CapacityRequest {
             cg_radius: Some(4.1),
             arm_ratio: Some(2.6),
             gain: None,
+            body_cg_radius: None,
         }),
         engine: EngineInput {
             torque_curve: vec![
