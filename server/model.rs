@@ -243,7 +243,9 @@ impl BuildFacts<'_> {
                 inner_diameter: b.facing_id_mm,
                 count: b.disc_count as u32,
                 theory: Theory::UniformWear,
-                extra_face_efficiency: None,
+                // Full share is the API's default; only a derated shop sends it.
+                extra_face_efficiency: (self.settings.extra_face_efficiency < 1.0)
+                    .then_some(self.settings.extra_face_efficiency),
             },
             friction: FrictionInput {
                 mu: trial.mu,

@@ -26,6 +26,14 @@ pub struct SettingsInput {
     /// setting existed keep settings without it.)
     #[serde(default)]
     pub time_zone: String,
+    /// Share of its torque each face beyond the first two carries, 0–1 (1: all; sheets printed
+    /// before the setting existed keep 1).
+    #[serde(default = "full_share")]
+    pub extra_face_efficiency: f64,
+}
+
+fn full_share() -> f64 {
+    1.0
 }
 
 impl Default for SettingsInput {
@@ -42,6 +50,7 @@ impl Default for SettingsInput {
             overclamp_factor: f64::NAN,
             due_within_passes: 0,
             time_zone: String::new(),
+            extra_face_efficiency: full_share(),
         }
     }
 }
@@ -184,6 +193,18 @@ impl Record for SettingsInput {
                 default: None,
                 get: |r| r.due_within_passes,
                 set: |r, v| r.due_within_passes = v,
+            },
+        },
+        Field {
+            column: "extra_face_efficiency",
+            form: "extra_face_efficiency",
+            label: "Torque share of each extra face",
+            value: Value::Number {
+                limit: limits::EXTRA_FACE_EFFICIENCY,
+                required: false,
+                get: |r| Some(r.extra_face_efficiency),
+                // Blank: every face carries its full share.
+                set: |r, v| r.extra_face_efficiency = v.unwrap_or_else(full_share),
             },
         },
         Field {

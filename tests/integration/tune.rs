@@ -149,3 +149,55 @@ async fn the_lever_body_radius_is_stored_used_and_checked() {
     assert_eq!(refused.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(refused.json()["field"], "lever_body_cg_radius_mm");
 }
+
+/// The shop's torque share for extra faces reaches a twin disc's figures: [D] with 0.9 the
+/// 4 faces work like 2 + 2 × 0.9 = 3.8, so every capacity, and the margin at the top, is 0.95
+/// of the full-share value. A single disc is unaffected (it has no extra faces).
+#[tokio::test]
+async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let mut body = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json();
+    body["disc_count"] = serde_json::json!(2);
+    let put = app
+        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
+        .await;
+    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    let margin = |page: &str| -> f64 {
+        let at = page.find("Margin at the top").expect("figure shown");
+        let cell = &page[at..];
+        let start = cell.find("<td class=\"num\">").unwrap() + "<td class=\"num\">".len();
+        cell[start..].split(' ').next().unwrap().parse().unwrap()
+    };
+    let full = margin(&client.get(&format!("{build}/tune")).await.body);
+    let admin = app.login("boss").await;
+    let saved = admin
+        .post(
+            "/settings",
+            &[
+                ("name", "Test shop"),
+                ("units", "imperial"),
+                ("shown_units", "imperial"),
+                ("spring_spread_pct", "5"),
+                ("spring_sag_pct", "3"),
+                ("shimming_limit", "0.015"),
+                ("overclamp_factor", "1.5"),
+                ("due_within_passes", "10"),
+                ("extra_face_efficiency", "0.9"),
+            ],
+        )
+        .await;
+    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    let derated = margin(&client.get(&format!("{build}/tune")).await.body);
+    assert!(
+        (derated - full * 0.95).abs() <= 0.006,
+        "{derated} vs {full}"
+    );
+}
