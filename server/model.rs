@@ -84,9 +84,26 @@ pub struct TuningTargets {
     pub launch_ratio: Option<f64>,
 }
 
-/// Reviews a build's bench tests (oldest first) with the shop's tolerances.
-pub fn bench_review(bench: &[BenchTest], settings: &SettingsInput) -> Option<Vec<TestReview>> {
-    let tests: Vec<spring_health::BenchTest> = bench
+/// Reviews a build's bench tests (oldest first) with the shop's tolerances, each spring's load
+/// taken at the installed length (see [`installed_length_mm`]).
+pub fn bench_review(
+    bench: &[BenchTest],
+    build: &BuildInput,
+    settings: &SettingsInput,
+) -> Option<Vec<TestReview>> {
+    let tests = health_tests(bench);
+    spring_health::review(
+        &tests,
+        settings.spring_spread_pct,
+        settings.spring_sag_pct,
+        installed_length_mm(&tests, build),
+    )
+    .ok()
+}
+
+/// Stored bench tests as the spring-health review reads them.
+fn health_tests(bench: &[BenchTest]) -> Vec<spring_health::BenchTest> {
+    bench
         .iter()
         .map(|t| spring_health::BenchTest {
             readings: t
@@ -100,21 +117,44 @@ pub fn bench_review(bench: &[BenchTest], settings: &SettingsInput) -> Option<Vec
                     (s.position.max(1) as usize, point)
                 })
                 .collect(),
+            free_lengths_mm: t.springs.iter().map(|s| s.free_length_mm).collect(),
         })
-        .collect();
-    spring_health::review(&tests, settings.spring_spread_pct, settings.spring_sag_pct).ok()
+        .collect()
+}
+
+/// The length the clutch holds its springs at with the adjusters at zero turns, mm: their mean
+/// free length at the first bench test that measured every free length, minus the base
+/// compression (free length when first tested stands for the free length the base compression
+/// was measured against). `None` without such a test or a base compression.
+fn installed_length_mm(tests: &[spring_health::BenchTest], build: &BuildInput) -> Option<f64> {
+    let free = tests.iter().find_map(|t| t.mean_free_length_mm())?;
+    base_compression_mm(build).map(|base| free - base)
+}
+
+/// Base compression of a build's springs, mm: given directly, or free minus installed cover
+/// height.
+pub fn base_compression_mm(b: &BuildInput) -> Option<f64> {
+    b.base_compression_mm.or(
+        match (b.cover_height_free_mm, b.cover_height_installed_mm) {
+            (Some(free), Some(installed)) => Some(free - installed),
+            _ => None,
+        },
+    )
 }
 
 impl<'a> BuildFacts<'a> {
     /// The facts of a loaded build: the spring rate is the latest bench test's mean.
     pub fn of(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
-        let tested = bench_review(&d.bench, settings).and_then(|r| r.last().map(|t| t.spread.mean));
+        let review = bench_review(&d.bench, &d.build.data, settings);
+        let latest = review.as_ref().and_then(|r| r.last());
         let mut facts = Self {
             build: &d.build.data,
             car: &d.car.data,
             settings,
-            tested_rate_n_per_mm: tested,
+            tested_rate_n_per_mm: latest.map(|t| t.spread.mean),
+            tested_load_n: latest.and_then(|t| t.mean_load_n()),
             clamp_loss_n: 0.0,
+            installed_length_mm: installed_length_mm(&health_tests(&d.bench), &d.build.data),
         };
         facts.clamp_loss_n = facts.clamp_loss(&d.heights);
         facts
@@ -138,8 +178,14 @@ pub struct BuildFacts<'a> {
     pub settings: &'a SettingsInput,
     /// Mean spring rate of the latest bench test, N/mm, when there is one.
     pub tested_rate_n_per_mm: Option<f64>,
+    /// Mean spring load at the installed length in the latest bench test, N, when it measured
+    /// free lengths (see [`bench_review`]).
+    pub tested_load_n: Option<f64>,
     /// Static clamp lost to disc wear since the last shim, N, by the latest cover height.
     pub clamp_loss_n: f64,
+    /// The length the clutch holds its springs at with the adjusters at zero turns, mm (see
+    /// [`bench_review`]).
+    pub installed_length_mm: Option<f64>,
 }
 
 impl BuildFacts<'_> {
@@ -149,15 +195,14 @@ impl BuildFacts<'_> {
             .or(self.build.spring_rate_n_per_mm)
     }
 
-    /// Base compression: given directly, or free minus installed cover height.
+    /// Spring compression at zero turns the figures use, mm: the one the latest bench test's
+    /// loads at the installed length give at its mean rate (so sagged springs clamp less),
+    /// else the build's base compression.
     pub fn base_compression_mm(&self) -> Option<f64> {
-        let b = self.build;
-        b.base_compression_mm.or(
-            match (b.cover_height_free_mm, b.cover_height_installed_mm) {
-                (Some(free), Some(installed)) => Some(free - installed),
-                _ => None,
-            },
-        )
+        match (self.tested_load_n, self.tested_rate_n_per_mm) {
+            (Some(load), Some(rate)) if rate > 0.0 => Some(load / rate),
+            _ => base_compression_mm(self.build),
+        }
     }
 
     /// Adjuster travel per turn, mm (one thread pitch).
@@ -258,6 +303,12 @@ impl BuildFacts<'_> {
                 adjuster_pitch: self.pitch_mm(),
                 adjuster_turns: trial.adjuster_turns,
                 clamp_loss: self.clamp_loss_n,
+                // The springs' free length now: installed length plus compression at zero turns.
+                free_length: self
+                    .installed_length_mm
+                    .filter(|_| b.spring_solid_height_mm.is_some())
+                    .map(|l| l + base),
+                solid_height: self.installed_length_mm.and(b.spring_solid_height_mm),
             },
             levers,
             engine: EngineInput {
@@ -622,7 +673,11 @@ pub fn work_due(
     let mut out = Vec::new();
     for ab in builds {
         let b = &ab.build;
-        let review = bench_review(tests_of.get(&b.id).map_or(&[], |t| t.as_slice()), settings);
+        let review = bench_review(
+            tests_of.get(&b.id).map_or(&[], |t| t.as_slice()),
+            &b.data,
+            settings,
+        );
         let tested = review
             .as_ref()
             .and_then(|r| r.last().map(|t| t.spread.mean));

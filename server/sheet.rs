@@ -49,6 +49,13 @@ pub struct SheetInputs {
 pub struct BenchOnSheet {
     pub tested_on: String,
     pub readings: Vec<[f64; 2]>,
+    /// Mean spring load at the installed length, N, when the test measured free lengths
+    /// (absent on sheets printed before loads were tracked: those keep their figures).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub installed_load_n: Option<f64>,
+    /// The springs' installed length, mm, when known (for the coil-bind check).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub installed_length_mm: Option<f64>,
 }
 
 impl SheetInputs {
@@ -60,6 +67,7 @@ impl SheetInputs {
         prepared_on: &str,
         targets: Option<TuningTargets>,
     ) -> Self {
+        let facts = BuildFacts::of(d, settings);
         Self {
             prepared_on: prepared_on.into(),
             prepared_by: prepared_by.into(),
@@ -76,13 +84,15 @@ impl SheetInputs {
                     .iter()
                     .map(|s| [s.compression_mm, s.force_n])
                     .collect(),
+                installed_load_n: facts.tested_load_n,
+                installed_length_mm: facts.installed_length_mm,
             }),
             heights: model::current_disc(&d.heights)
                 .iter()
                 .map(|h| h.data.clone())
                 .collect(),
             targets,
-            mu_source: model::mu_source(&BuildFacts::of(d, settings), d),
+            mu_source: model::mu_source(&facts, d),
             wear_in_clamp: true,
         }
     }
@@ -123,14 +133,17 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
                 })
                 .collect(),
         };
-        model::bench_review(&[test], &inputs.settings).and_then(|r| r.last().map(|t| t.spread.mean))
+        model::bench_review(&[test], &inputs.build, &inputs.settings)
+            .and_then(|r| r.last().map(|t| t.spread.mean))
     });
     let mut facts = BuildFacts {
         build: &inputs.build,
         car: &inputs.car,
         settings: &inputs.settings,
         tested_rate_n_per_mm: tested,
+        tested_load_n: inputs.bench.as_ref().and_then(|b| b.installed_load_n),
         clamp_loss_n: 0.0,
+        installed_length_mm: inputs.bench.as_ref().and_then(|b| b.installed_length_mm),
     };
     if inputs.wear_in_clamp {
         facts.clamp_loss_n = facts.clamp_loss(&inputs.heights);

@@ -26,7 +26,7 @@ pub fn of_history(
     bench: &[BenchTest],
     settings: &SettingsInput,
 ) -> BuildStatus {
-    let review = model::bench_review(bench, settings);
+    let review = model::bench_review(bench, build, settings);
     let tested = review
         .as_ref()
         .and_then(|r| r.last().map(|t| t.spread.mean));

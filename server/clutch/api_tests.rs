@@ -80,6 +80,46 @@ fn lever_body_radius_is_optional_and_needs_geometry() {
     );
 }
 
+// Coil bind: springs 2.10 in free, 1.20 in solid, base compression 0.22 in, 1/16 in per turn
+// bind at (0.90 − 0.22) × 16 = 10.88 turns [D]. Past that the answer warns; the recommendation's
+// grid stops short of it; without both lengths nothing changes.
+#[test]
+fn coil_bind_turns_warn_and_bound_the_recommendation() {
+    let plain = capacity(&example()).expect("valid");
+    assert_eq!(plain.coil_bind_turns, None);
+    let mut req = example();
+    req.springs.free_length = Some(2.10);
+    req.springs.solid_height = Some(1.20);
+    let r = capacity(&req).expect("valid");
+    assert!(rel(r.coil_bind_turns.unwrap(), 10.88) < 1e-12);
+    assert!(!r.warnings.iter().any(|w| w.contains("coil bind")));
+    req.springs.adjuster_turns = 11.0;
+    let bound = capacity(&req).expect("valid");
+    assert!(
+        bound.warnings.iter().any(|w| w.contains("coil bind")),
+        "{:?}",
+        bound.warnings
+    );
+    // A recommendation over 0–20 turns in whole turns never goes past 10 turns.
+    let mut rec = recommend_request();
+    rec.setup.springs.free_length = Some(2.10);
+    rec.setup.springs.solid_height = Some(1.20);
+    rec.steps.adjuster_turns = 1.0;
+    rec.limits.max_adjuster_turns = 20.0;
+    rec.targets.launch_ratio = Some(3.0);
+    let got = recommend(&rec).expect("valid");
+    assert!(
+        got.recommended.adjuster_turns <= 10.0,
+        "{:?}",
+        got.recommended
+    );
+    req.springs.solid_height = Some(2.2);
+    assert_eq!(
+        capacity(&req).err().map(|e| e.field).as_deref(),
+        Some("springs.solid_height")
+    );
+}
+
 // A twin disc with each extra face at 0.9 works like 3.8 faces, so
 // every capacity is 0.95 of the textbook 4-face value [D]; the efficiency is from memory.
 // Absent, the answer is the same as before (bit for bit); outside (0, 1] it is refused.

@@ -663,6 +663,7 @@ mod tests {
                 rate_n_per_mm: 400.0,
                 base_compression_mm: 10.0,
                 pitch_mm: 0.0,
+                bind_compression_mm: None,
             },
             adjuster_turns: 0.0,
             clamp_loss_n: 0.0,

@@ -33,6 +33,8 @@ pub struct SpringPack {
     pub base_compression_mm: f64,
     /// Adjuster travel per turn, mm (thread pitch; see [`super::threads`]).
     pub pitch_mm: f64,
+    /// Compression at which the coils touch (free length − solid height), mm, when known.
+    pub bind_compression_mm: Option<f64>,
 }
 
 impl SpringPack {
@@ -44,6 +46,15 @@ impl SpringPack {
     /// Load of one spring, N: Hooke's law F = k·x in the spring's linear range.
     pub fn per_spring_n(&self, turns: f64) -> f64 {
         self.rate_n_per_mm * self.compression_mm(turns)
+    }
+
+    /// Adjuster turns at which the springs reach solid height (coil bind): (x_bind − x_base) /
+    /// pitch. `None` when the solid height or the pitch is unknown; 0 when they are already
+    /// solid at zero turns. Past it the spring is no longer a spring: load rises without limit
+    /// and the coils or the adjusters are damaged.
+    pub fn coil_bind_turns(&self) -> Option<f64> {
+        let bind = self.bind_compression_mm?;
+        (self.pitch_mm > 0.0).then(|| ((bind - self.base_compression_mm) / self.pitch_mm).max(0.0))
     }
 
     /// Static clamp of all springs acting in parallel, N: count × k × x
@@ -227,9 +238,12 @@ mod tests {
             rate_n_per_mm: 60.0,
             base_compression_mm: 5.0,
             pitch_mm: 1.5875,
+            bind_compression_mm: Some(12.0),
         };
         assert!((pack.compression_mm(2.0) - 8.175).abs() < 1e-12);
         assert!((pack.static_clamp_n(2.0) - 6.0 * 60.0 * 8.175).abs() < 1e-9);
+        // [D] coils touch at 12 mm of compression: (12 − 5)/1.5875 = 4.409 turns.
+        assert!((pack.coil_bind_turns().unwrap() - 7.0 / 1.5875).abs() < 1e-12);
     }
 
     #[test]

@@ -299,13 +299,18 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         }
         None => None,
     };
-    let (turn_step, turns_n) = grid(
+    let (turn_step, mut turns_n) = grid(
         "steps.adjuster_turns",
         req.steps.adjuster_turns,
         "limits.max_adjuster_turns",
         req.limits.max_adjuster_turns,
         upper(limits::ADJUSTER_TURNS.max),
     )?;
+    // Settings at or past coil bind are not settings: the grid stops short of it.
+    if let Some(bind) = valid.model.springs.coil_bind_turns() {
+        let below = ((bind / turn_step) * (1.0 - 1e-12)).ceil().max(1.0) as usize;
+        turns_n = turns_n.min(below);
+    }
     let (weight_step, weights) = grid(
         "steps.counterweight_g",
         req.steps.counterweight_g,

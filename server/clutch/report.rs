@@ -19,6 +19,10 @@ pub struct CapacityReport {
     /// Static clamp lost to wear since the last shim (lbf / N), as given; left out when 0.
     #[serde(skip_serializing_if = "is_zero")]
     pub clamp_loss: f64,
+    /// Adjuster turns at which the springs reach solid height; left out without
+    /// `springs.free_length` and `springs.solid_height`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub coil_bind_turns: Option<f64>,
     /// Effective friction radius (in / mm).
     pub effective_radius: f64,
     /// Friction surfaces (2 per disc).
@@ -134,6 +138,15 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
             ))
         ));
     }
+    let coil_bind_turns = m.springs.coil_bind_turns();
+    if let Some(bind) = coil_bind_turns
+        && m.adjuster_turns >= bind
+    {
+        warnings.push(format!(
+            "At {} turns the springs are at solid height (coil bind from {bind:.2} turns): the clamp figures no longer hold, and the springs, adjusters and cover can be damaged. Back the adjusters off.",
+            m.adjuster_turns
+        ));
+    }
     if let Some(rated) = v.rated_torque_nm {
         let limit = rated * v.overclamp_factor;
         if top.capacity_nm > limit {
@@ -162,6 +175,7 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
     CapacityReport {
         static_clamp: u.n_to_force(law.static_clamp_n),
         clamp_loss: u.n_to_force(m.clamp_loss_n),
+        coil_bind_turns,
         effective_radius: u.mm_to_length(m.effective_radius_mm),
         friction_surfaces: m.surfaces,
         curve: rows.iter().map(|p| CurvePoint::from_si(p, u)).collect(),

@@ -101,6 +101,12 @@ pub struct SpringsInput {
     /// goes below zero.
     #[serde(default, skip_serializing_if = "is_zero")]
     pub clamp_loss: f64,
+    /// Free length of the springs (in / mm), with `solid_height`: for the coil-bind check.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub free_length: Option<f64>,
+    /// Solid height of the springs, coils touching (in / mm), with `free_length`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub solid_height: Option<f64>,
 }
 
 fn is_zero(v: &f64) -> bool {
@@ -186,6 +192,8 @@ impl CapacityRequest {
         r.springs.base_compression = len(r.springs.base_compression);
         r.springs.adjuster_pitch = len(r.springs.adjuster_pitch);
         r.springs.clamp_loss = force(r.springs.clamp_loss);
+        r.springs.free_length = r.springs.free_length.map(len);
+        r.springs.solid_height = r.springs.solid_height.map(len);
         if let Some(l) = r.levers.as_mut() {
             l.cg_radius = l.cg_radius.map(len);
             l.body_cg_radius = l.body_cg_radius.map(len);
@@ -306,7 +314,37 @@ impl CapacityRequest {
                 s.adjuster_pitch,
                 u,
             )?,
+            bind_compression_mm: self.bind_compression_mm()?,
         })
+    }
+
+    /// Free length minus solid height, mm, when both are given.
+    fn bind_compression_mm(&self) -> Result<Option<f64>, InputError> {
+        let (u, s) = (self.units, &self.springs);
+        match (s.free_length, s.solid_height) {
+            (None, None) => Ok(None),
+            (Some(free), Some(solid)) => {
+                let free =
+                    limits::SPRING_FREE_LENGTH.check_shown("springs.free_length", free, u)?;
+                let solid =
+                    limits::SPRING_FREE_LENGTH.check_shown("springs.solid_height", solid, u)?;
+                if solid >= free {
+                    return Err(InputError::new(
+                        "springs.solid_height",
+                        "must be less than the free length",
+                    ));
+                }
+                Ok(Some(free - solid))
+            }
+            (Some(_), None) => Err(InputError::new(
+                "springs.solid_height",
+                "is needed with free_length",
+            )),
+            (None, Some(_)) => Err(InputError::new(
+                "springs.free_length",
+                "is needed with solid_height",
+            )),
+        }
     }
 }
 

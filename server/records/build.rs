@@ -21,6 +21,8 @@ pub struct BuildInput {
     pub spring_count: i64,
     pub spring_description: String,
     pub spring_rate_n_per_mm: Option<f64>,
+    /// Solid height of the springs (coils touching), mm.
+    pub spring_solid_height_mm: Option<f64>,
     /// Adjuster thread: threads per inch, or a metric pitch (exactly one).
     pub adjuster_tpi: Option<f64>,
     pub adjuster_pitch_mm: Option<f64>,
@@ -59,6 +61,7 @@ impl Default for BuildInput {
             spring_count: 0,
             spring_description: String::new(),
             spring_rate_n_per_mm: None,
+            spring_solid_height_mm: None,
             adjuster_tpi: None,
             adjuster_pitch_mm: None,
             base_compression_mm: None,
@@ -187,6 +190,17 @@ impl Record for BuildInput {
                 required: false,
                 get: |r| r.spring_rate_n_per_mm,
                 set: |r, v| r.spring_rate_n_per_mm = v,
+            },
+        },
+        Field {
+            column: "spring_solid_height_mm",
+            form: "spring_solid_height",
+            label: "Spring solid height",
+            value: Value::Number {
+                limit: limits::SPRING_FREE_LENGTH,
+                required: false,
+                get: |r| r.spring_solid_height_mm,
+                set: |r, v| r.spring_solid_height_mm = v,
             },
         },
         Field {

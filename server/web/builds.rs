@@ -143,11 +143,17 @@ pub struct SpringRow {
     pub change: Option<f64>,
     /// The percent lost, when that loss is past the shop's sag threshold.
     pub sag: Option<f64>,
+    /// Its load at the installed length, N.
+    pub load: Option<f64>,
 }
 
 /// Pairs each bench test with its review (rates, spread against the tolerance, sag).
-fn bench_views(tests: &[BenchTest], settings: &SettingsInput) -> Vec<BenchView> {
-    let reviews = model::bench_review(tests, settings);
+fn bench_views(
+    tests: &[BenchTest],
+    build: &BuildInput,
+    settings: &SettingsInput,
+) -> Vec<BenchView> {
+    let reviews = model::bench_review(tests, build, settings);
     let mut views: Vec<BenchView> = tests
         .iter()
         .enumerate()
@@ -171,6 +177,7 @@ fn bench_views(tests: &[BenchTest], settings: &SettingsInput) -> Vec<BenchView> 
                         rate,
                         change,
                         sag,
+                        load: review.and_then(|r| r.loads_n.get(j).copied().flatten()),
                     }
                 })
                 .collect();
@@ -234,7 +241,7 @@ pub async fn render_page(
             .map(|report| wear::view(&page.u, report, &d.heights, req.shimming_limit))
             .map_err(|e| format!("{}: {}", e.field, e.message))
     });
-    let bench = bench_views(&d.bench, &settings);
+    let bench = bench_views(&d.bench, &d.build.data, &settings);
     let forms = default_forms(forms, &page.ctx, &d.car, &d.setups, &d.heights);
     let material = super::show::material_text(&d.build.data);
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();

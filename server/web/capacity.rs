@@ -262,6 +262,9 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
             format!("{} (taken off above)", clamp(r.clamp_loss)),
         ));
     }
+    if let Some(t) = r.coil_bind_turns {
+        lines.push(("Springs solid (coil bind) at", format!("{t:.2} turns")));
+    }
     lines.extend([
         (
             "Clamp at launch",

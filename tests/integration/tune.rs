@@ -201,3 +201,73 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
         "{derated} vs {full}"
     );
 }
+
+/// A spring that loses free length at an unchanged rate (the usual sag) is flagged on its load
+/// at the installed length, and the figures use the loads. [D] 380 lbf/in springs, 2.100 in
+/// free, base compression 0.220 in: installed at 1.880 in with 83.6 lbf each. Spring 1 later
+/// measures 2.080 in free at the same rate: 380 × 0.200 = 76.0 lbf, 9.1 % lost. The mean load
+/// (76.0 + 5 × 83.6)/6 = 82.33 lbf stands for 0.21667 in of compression, so at 1.5 turns of a
+/// 16 TPI adjuster the static clamp is 6 × 380 × (0.21667 + 0.09375) = 707.75 lbf (715.35
+/// before).
+#[tokio::test]
+async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-11-02"),
+                ("adjuster_turns", "1.5"),
+                ("counterweight_g", "24"),
+            ],
+        )
+        .await;
+    for (day, first_free, first_force) in [
+        ("2026-11-03", "2.100", "190"),
+        ("2026-11-25", "2.080", "182.4"),
+    ] {
+        let mut form = vec![("tested_on", day), ("test_height", "1.600")];
+        let names: Vec<(String, String)> = (1..=6)
+            .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
+            .collect();
+        for (i, (free, force)) in names.iter().enumerate() {
+            form.push((free, if i == 0 { first_free } else { "2.100" }));
+            form.push((force, if i == 0 { first_force } else { "190" }));
+        }
+        let r = client.post(&format!("{build}/bench-tests"), &form).await;
+        assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    }
+    let page = client.get(&build).await;
+    assert!(page.body.contains("▲ sagged 9.1 %"), "sag on load");
+    let tune = client.get(&format!("{build}/tune")).await;
+    assert!(
+        tune.body.contains("708 lbf"),
+        "static clamp from the tested loads"
+    );
+    assert!(!tune.body.contains("coil bind"));
+
+    // With a solid height of 1.200 in the springs, installed at 1.880 in, bind after
+    // (1.880 − 1.200) × 16 = 10.88 turns [D].
+    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let mut body = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json();
+    body["spring_solid_height_mm"] = serde_json::json!(1.2 * 25.4);
+    let put = app
+        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
+        .await;
+    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    let tune = client.get(&format!("{build}/tune")).await;
+    assert!(tune.body.contains("10.88 turns"), "coil bind shown");
+    let past = client
+        .get(&format!(
+            "{build}/tune?try=1&adjuster_turns=11&counterweight_g=24&mu="
+        ))
+        .await;
+    assert!(past.body.contains("coil bind from 10.88 turns"));
+}

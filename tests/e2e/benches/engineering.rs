@@ -33,6 +33,8 @@ fn request() -> CapacityRequest {
             adjuster_pitch: 0.0625,
             adjuster_turns: 1.5,
             clamp_loss: 0.0,
+            free_length: None,
+            solid_height: None,
         },
         levers: Some(LeversInput {
             count: 3,
