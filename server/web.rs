@@ -12,6 +12,7 @@ mod chart;
 mod customers;
 mod entries;
 mod extract;
+mod flash;
 mod history;
 mod home;
 mod layout;
