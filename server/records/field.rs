@@ -696,6 +696,33 @@ fn list_of(v: &Json) -> Vec<Json> {
 mod tests {
     use super::*;
 
+    /// Every form input name declared by more than one record asks for the same keyboard, so
+    /// looking the keyboard up by the input's name alone is never ambiguous.
+    #[test]
+    fn an_input_name_has_one_keyboard_whichever_record_declares_it() {
+        struct Modes;
+        impl RecordVisitor for Modes {
+            type Out = Vec<(&'static str, Option<&'static str>)>;
+            fn visit<R: Record>(self) -> Self::Out {
+                R::FIELDS
+                    .iter()
+                    .map(|f| (f.form, f.value.input_mode()))
+                    .collect()
+            }
+        }
+        let mut seen = std::collections::BTreeMap::new();
+        for table in RECORD_TABLES {
+            for (name, mode) in for_table(table, Modes).expect("a record table") {
+                let first = *seen.entry(name).or_insert(mode);
+                assert_eq!(first, mode, "{name} in {table}");
+                assert_eq!(input_mode(name), mode, "{name}");
+            }
+        }
+        assert_eq!(input_mode("passes"), Some("numeric"));
+        assert_eq!(input_mode("facing_od"), Some("decimal"));
+        assert_eq!(input_mode("measured_on"), None);
+    }
+
     #[test]
     fn list_paths_split_into_column_and_index() {
         assert_eq!(split_path("shim_stack_mm[2]"), ("shim_stack_mm", Some(2)));
