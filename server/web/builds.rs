@@ -165,6 +165,9 @@ impl ShowPage {
     /// What is due on this build, in words: a shim or the disc now, the forecast, the springs.
     pub fn due_lines(&self) -> Vec<String> {
         let mut lines = Vec::new();
+        if self.retired() {
+            return lines;
+        }
         if let Ok(w) = &self.wear {
             if w.report.status != crate::clutch::wear::WearStatus::Ok {
                 lines.push(w.headline.clone());

@@ -33,17 +33,6 @@ enum Which {
     Pass,
 }
 
-impl Which {
-    fn anchor(self) -> &'static str {
-        match self {
-            Self::Setup => "setup",
-            Self::Bench => "bench",
-            Self::Height => "heights",
-            Self::Pass => "passes",
-        }
-    }
-}
-
 /// One entry being saved: its transaction, the build, and the form as typed.
 struct Entry {
     tx: Transaction<'static, Sqlite>,
@@ -83,8 +72,8 @@ impl Entry {
                 let mut tx = self.tx;
                 status::refresh_stale(&mut tx).await?;
                 tx.commit().await?;
-                let to = format!("/builds/{id}#{}", which.anchor());
-                return Ok(flash::redirect(state, &to, &note));
+                // Back to the top: the note and the summary, updated, are the first screen.
+                return Ok(flash::redirect(state, &format!("/builds/{id}"), &note));
             }
             Err(errors) => errors,
         };

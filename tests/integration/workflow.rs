@@ -209,6 +209,10 @@ async fn a_retired_build_shows_no_entry_forms_and_says_retired_once() {
             "{action} form on a retired build"
         );
     }
+    assert!(
+        page.contains("nothing: not in service"),
+        "no work due on it"
+    );
     let title = page
         .split("<h1>")
         .nth(1)
