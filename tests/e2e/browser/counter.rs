@@ -84,6 +84,27 @@ async fn a_phone_number_leads_to_the_build_in_one_click_and_its_first_screen_sho
     assert!(text.contains("▲ shim due"), "{text}");
     assert!(text.contains("1.75 turns · 26.0 g per lever"), "{text}");
 
+    // The summary's links open the folded form they point to.
+    c.find(Locator::Css("#summary a[href='#pass-form']"))
+        .await
+        .unwrap()
+        .click()
+        .await
+        .unwrap();
+    let opened = c
+        .execute("return document.getElementById('pass-entry').open", vec![])
+        .await
+        .unwrap();
+    assert_eq!(opened, Value::Bool(true), "the pass form opened");
+    assert!(
+        c.find(Locator::Css("#pass-form input[name=run_on]"))
+            .await
+            .unwrap()
+            .is_displayed()
+            .await
+            .unwrap()
+    );
+
     // A folded form opens, saves, and the page says what changed, once.
     harness::toggle(&c, "#setup details.entry summary").await;
     harness::fill(&c, "#setup input[name=adjuster_turns]", "2").await;
