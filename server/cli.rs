@@ -79,10 +79,10 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Backup { file, db } => {
-            let done = backup::backup_file(&db.path, &file).await?;
+            let done = backup::backup_file(&db, &file).await?;
             println!(
                 "backed up {} to {} ({} bytes, {} tables, migration {}); integrity check ok",
-                db.path.display(),
+                db.display(),
                 file.display(),
                 done.bytes,
                 done.tables,
@@ -91,7 +91,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Restore { file, db } => {
-            let done = backup::restore(&db.path, &file).await?;
+            let done = backup::restore(&db, &file).await?;
             if let Some(note) = &done.safety_note {
                 eprintln!("warning: {note}");
             }
@@ -100,7 +100,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             }
             println!(
                 "restored {} from {} (backup at migration {}, now {}); integrity check ok",
-                db.path.display(),
+                db.display(),
                 file.display(),
                 done.backup_version,
                 done.checked.version
@@ -108,7 +108,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Export { dir, db } => {
-            let done = backup::export_dir(&db.path, &dir).await?;
+            let done = backup::export_dir(&db, &dir).await?;
             println!(
                 "exported {} rows from {} tables (migration {}) to {}: {} and one CSV file per table",
                 done.rows,
@@ -121,12 +121,12 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Import { file, db } => {
-            let done = backup::import_file(&db.path, &file).await?;
+            let done = backup::import_file(&db, &file).await?;
             println!(
                 "imported {} rows into {} tables of {} (export at migration {})",
                 done.imported.rows,
                 done.imported.tables,
-                db.path.display(),
+                db.display(),
                 done.version
             );
             Ok(())
@@ -152,12 +152,13 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
                 args.db.path.display()
             ),
         }
-        if demo::demo_user_exists(&pool).await? {
-            println!(
-                "demo login: {} / {}",
-                demo::DEMO_USERNAME,
-                demo::DEMO_PASSWORD
-            );
+        for (name, role) in [
+            (demo::DEMO_USERNAME, "admin"),
+            (demo::DEMO_TECH_USERNAME, "tech"),
+        ] {
+            if demo::demo_user_exists(&pool, name).await? {
+                println!("demo login: {name} / {} ({role})", demo::DEMO_PASSWORD);
+            }
         }
     }
     if db::users::count(&mut *pool.acquire().await?).await? == 0 {

@@ -28,8 +28,9 @@ pub enum Command {
         /// The backup file to write (must not exist yet).
         #[arg(value_name = "PATH")]
         file: PathBuf,
-        #[command(flatten)]
-        db: DbArg,
+        /// The SQLite database file to copy (it must exist).
+        #[arg(long = "db", env = "LOCKPOINT_DB", default_value = "lockpoint.db")]
+        db: PathBuf,
     },
     /// Replace the database with a backup (stop the server first).
     ///
@@ -40,8 +41,9 @@ pub enum Command {
         /// The backup file to restore (left unchanged).
         #[arg(value_name = "PATH")]
         file: PathBuf,
-        #[command(flatten)]
-        db: DbArg,
+        /// The SQLite database file to replace.
+        #[arg(long = "db", env = "LOCKPOINT_DB", default_value = "lockpoint.db")]
+        db: PathBuf,
     },
     /// Write every table as a CSV file and all tables as one JSON document (lockpoint-export.json).
     ///
@@ -51,8 +53,9 @@ pub enum Command {
     Export {
         /// Directory to write into (created when missing; existing files are never overwritten).
         dir: PathBuf,
-        #[command(flatten)]
-        db: DbArg,
+        /// The SQLite database file to export (it must exist).
+        #[arg(long = "db", env = "LOCKPOINT_DB", default_value = "lockpoint.db")]
+        db: PathBuf,
     },
     /// Load a JSON export (lockpoint-export.json) into a new, empty database.
     ///
@@ -61,16 +64,16 @@ pub enum Command {
     Import {
         /// The JSON document written by `lockpoint export`.
         file: PathBuf,
-        #[command(flatten)]
-        db: DbArg,
+        /// The SQLite database file to fill: a new file, or one without records.
+        #[arg(long = "db", env = "LOCKPOINT_DB", default_value = "lockpoint.db")]
+        db: PathBuf,
     },
 }
 
 /// Where the SQLite database file lives.
 #[derive(Debug, Clone, Args)]
 pub struct DbArg {
-    /// SQLite database file (`serve` and `user add` create it when missing; the other commands
-    /// need it to exist, except `import`, which fills a new one).
+    /// SQLite database file (created when missing).
     #[arg(long = "db", env = "LOCKPOINT_DB", default_value = "lockpoint.db")]
     pub path: PathBuf,
 }

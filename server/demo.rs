@@ -19,6 +19,8 @@ use crate::{auth, db};
 
 pub const DEMO_USERNAME: &str = "demo";
 pub const DEMO_PASSWORD: &str = "lockpoint-demo";
+/// The demo's second account, a technician (no admin pages), with the same password.
+pub const DEMO_TECH_USERNAME: &str = "bench";
 
 /// Any failure while loading the demo (a bug: the demo data must pass the same checks as input).
 pub type DemoError = Box<dyn std::error::Error + Send + Sync>;
@@ -48,7 +50,7 @@ pub async fn seed_if_empty(pool: &SqlitePool) -> Result<bool, DemoError> {
     let hash = auth::hash_password(DEMO_PASSWORD.into()).await?;
     let admin = NewUser::parse(DEMO_USERNAME, DEMO_PASSWORD, Role::Admin)?;
     let admin_id = db::users::insert(&mut tx, &admin, &hash).await?;
-    let tech = NewUser::parse("bench", DEMO_PASSWORD, Role::Tech)?;
+    let tech = NewUser::parse(DEMO_TECH_USERNAME, DEMO_PASSWORD, Role::Tech)?;
     db::users::insert(&mut tx, &tech, &hash).await?;
     sqlx::query(
         "UPDATE shop_settings SET name = 'Quarry Road Clutch & Driveline',
@@ -67,16 +69,25 @@ pub async fn seed_if_empty(pool: &SqlitePool) -> Result<bool, DemoError> {
     )
     .execute(&mut *tx)
     .await?;
+    // ...and a car and its owner date from the car's first build, so "Customer since" is never
+    // later than the builds on the customer's page.
+    for sql in [
+        "UPDATE cars SET created_at = COALESCE((SELECT MIN(b.created_at) FROM builds b
+             WHERE b.car_id = cars.id), created_at)",
+        "UPDATE customers SET created_at = COALESCE((SELECT MIN(k.created_at) FROM cars k
+             WHERE k.customer_id = customers.id), created_at)",
+    ] {
+        sqlx::query(sql).execute(&mut *tx).await?;
+    }
     crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(true)
 }
 
-pub async fn demo_user_exists(pool: &SqlitePool) -> Result<bool, sqlx::Error> {
+/// Whether the demo account `name` (DEMO_USERNAME or DEMO_TECH_USERNAME) is still there.
+pub async fn demo_user_exists(pool: &SqlitePool, name: &str) -> Result<bool, sqlx::Error> {
     let mut conn = pool.acquire().await?;
-    Ok(db::users::by_name(&mut conn, DEMO_USERNAME)
-        .await?
-        .is_some())
+    Ok(db::users::by_name(&mut conn, name).await?.is_some())
 }
 
 struct DemoCustomer {
@@ -225,7 +236,7 @@ fn demo_customers() -> Vec<DemoCustomer> {
                         status: "active",
                     },
                     DemoBuild {
-                        label: "Old single (retired)",
+                        label: "Old single",
                         discs: 1,
                         material: "organic",
                         od_in: 10.4,

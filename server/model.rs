@@ -25,6 +25,8 @@ use crate::clutch::wear::{Measurement, WearRequest};
 use crate::db::bench::BenchTest;
 use crate::db::builds::ActiveBuild;
 use crate::db::dossier::Dossier;
+use crate::db::heights::Height;
+use crate::db::passes::Pass;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
@@ -573,6 +575,39 @@ pub fn current_disc<T: AsRef<HeightInput>>(heights: &[T]) -> &[T] {
         .rposition(|h| h.as_ref().new_disc)
         .unwrap_or(0);
     &heights[start..]
+}
+
+/// The pass count of the disc in the clutch now, worked out so nobody counts passes twice.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct DiscPasses {
+    /// The count recorded with the latest cover height of this disc, if any.
+    pub measured: Option<i64>,
+    /// Passes logged after that measurement: a later date, or its date and entered after it.
+    pub logged_since: i64,
+}
+
+impl DiscPasses {
+    /// The disc's passes now: the measured count plus the passes logged since.
+    pub fn now(&self) -> i64 {
+        self.measured.unwrap_or(0) + self.logged_since
+    }
+}
+
+/// The disc's pass count from the latest cover height of the current disc and the passes
+/// logged after it; with no measurement yet, every logged pass counts.
+pub fn disc_passes(heights: &[Height], passes: &[Pass]) -> DiscPasses {
+    let last = current_disc(heights).last();
+    let after = |p: &&Pass| match last {
+        None => true,
+        Some(h) => {
+            p.data.run_on.as_str() > h.data.measured_on.as_str()
+                || (p.data.run_on == h.data.measured_on && p.created_at > h.created_at)
+        }
+    };
+    DiscPasses {
+        measured: last.map(|h| h.data.passes),
+        logged_since: passes.iter().filter(after).count() as i64,
+    }
 }
 
 /// The build's own shimming limit, or the shop's default.

@@ -12,6 +12,7 @@ mod chart;
 mod customers;
 mod entries;
 mod extract;
+mod flash;
 mod history;
 mod home;
 mod layout;
@@ -161,6 +162,7 @@ fn pages() -> Routes {
         .route(Public, "/healthz", get(healthz))
         .route(Public, "/static/style.css", get(stylesheet))
         .route(Public, "/static/print.js", get(print_script))
+        .route(Public, "/static/page.js", get(page_script))
 }
 
 /// Every route the application serves (pages, then the API under [`API_PREFIX`]), with who may
@@ -234,6 +236,17 @@ async fn print_script() -> impl IntoResponse {
             (header::CACHE_CONTROL, "public, max-age=3600"),
         ],
         include_str!("../static/print.js"),
+    )
+}
+
+/// The build page's script: a link to a folded form opens it (the page works without it).
+async fn page_script() -> impl IntoResponse {
+    (
+        [
+            (header::CONTENT_TYPE, "text/javascript; charset=utf-8"),
+            (header::CACHE_CONTROL, "public, max-age=3600"),
+        ],
+        include_str!("../static/page.js"),
     )
 }
 

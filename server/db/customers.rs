@@ -31,6 +31,40 @@ pub struct CustomerSummary {
     pub found_cars: Vec<super::search::FoundCar>,
 }
 
+/// How a list of customers is sorted.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub enum Order {
+    /// A search: best match first; the whole list: by name as written (first name first).
+    #[default]
+    Best,
+    /// By the last word of the name (the family name, as most customers give it), then by name.
+    LastName,
+}
+
+impl Order {
+    /// The sort a page asked for (`sort=last`); anything else is the default.
+    pub fn from_query(sort: &str) -> Self {
+        if sort == "last" {
+            Self::LastName
+        } else {
+            Self::Best
+        }
+    }
+
+    /// The ORDER BY terms after the match rank (`c` is the customers table).
+    pub(crate) fn terms(self) -> &'static str {
+        match self {
+            Self::Best => "c.name COLLATE NOCASE, c.id",
+            // The last word: what follows the last space (rtrim strips the trailing run of the
+            // name's non-space characters, leaving everything up to that space).
+            Self::LastName => {
+                "substr(trim(c.name), length(rtrim(trim(c.name), replace(trim(c.name), ' ', ''))) + 1)
+                     COLLATE NOCASE, c.name COLLATE NOCASE, c.id"
+            }
+        }
+    }
+}
+
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Customer>> {
     sqlx::query_as("SELECT * FROM customers WHERE id = ? AND deleted_at IS NULL")
         .bind(id)
@@ -46,22 +80,24 @@ pub async fn search(
     conn: &mut SqliteConnection,
     query: &str,
     page: i64,
+    order: Order,
 ) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
     if let Some(expr) = super::search::match_expr(query) {
-        return super::search::customers(conn, &expr, page).await;
+        return super::search::customers(conn, &expr, page, order).await;
     }
     let pattern = format!("%{}%", escape_like(query.trim()));
     const MATCH: &str =
         "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
          OR EXISTS (SELECT 1 FROM cars k WHERE k.customer_id = c.id
                     AND (k.description LIKE ?1 ESCAPE '\\' OR k.engine LIKE ?1 ESCAPE '\\')))";
-    let rows = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+    let mut rows = sqlx::query_as(sqlx::AssertSqlSafe(format!(
         "SELECT c.id, c.name, c.phone,
                 (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
                 COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
                           WHERE k.customer_id = c.id), '') AS cars
          FROM customers c WHERE {MATCH}
-         ORDER BY c.name COLLATE NOCASE, c.id LIMIT ?2 OFFSET ?3"
+         ORDER BY {} LIMIT ?2 OFFSET ?3",
+        order.terms()
     )))
     .bind(&pattern)
     .bind(super::PAGE_SIZE)
@@ -72,8 +108,9 @@ pub async fn search(
         "SELECT COUNT(*) FROM customers c WHERE {MATCH}"
     )))
     .bind(&pattern)
-    .fetch_one(conn)
+    .fetch_one(&mut *conn)
     .await?;
+    super::search::attach_links(conn, &mut rows).await?;
     Ok((rows, total))
 }
 

@@ -5,7 +5,7 @@
 use serde::Serialize;
 use sqlx::{FromRow, SqliteConnection};
 
-use super::customers::CustomerSummary;
+use super::customers::{CustomerSummary, Order};
 
 /// The shortest run of characters the trigram index can look up.
 const TRIGRAM: usize = 3;
@@ -53,22 +53,29 @@ pub fn match_expr(query: &str) -> Option<String> {
     }
 }
 
-/// The ranked search: one page of live customers matching the expression (best match first,
-/// bm25 over the trigram index), and the number of matches.
+/// The ranked search: one page of live customers matching the expression, and the number of
+/// matches. `{order}` is replaced by the sort: best match first (bm25 over the trigram index),
+/// or by last name.
 pub const HITS_SQL: &str = "SELECT c.id, c.name, c.phone,
         (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
         COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
                   WHERE k.customer_id = c.id), '') AS cars
      FROM customer_search s JOIN customers c ON c.id = s.rowid
      WHERE customer_search MATCH ?1 AND c.deleted_at IS NULL
-     ORDER BY s.rank, c.name COLLATE NOCASE, c.id LIMIT ?2 OFFSET ?3";
+     ORDER BY {order} LIMIT ?2 OFFSET ?3";
 
 pub async fn customers(
     conn: &mut SqliteConnection,
     expr: &str,
     page: i64,
+    order: Order,
 ) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
-    let mut rows: Vec<CustomerSummary> = sqlx::query_as(HITS_SQL)
+    let terms = match order {
+        Order::Best => format!("s.rank, {}", order.terms()),
+        Order::LastName => order.terms().to_string(),
+    };
+    let sql = HITS_SQL.replace("{order}", &terms);
+    let mut rows: Vec<CustomerSummary> = sqlx::query_as(sqlx::AssertSqlSafe(sql))
         .bind(expr)
         .bind(super::PAGE_SIZE)
         .bind(page.max(0) * super::PAGE_SIZE)
@@ -93,11 +100,14 @@ pub struct FoundCar {
     pub builds: Vec<FoundBuild>,
 }
 
-/// An active build of a found customer's car.
+/// An active build of a found customer's car, with its kept work-due status.
 #[derive(Debug, Clone, Default, Serialize)]
 pub struct FoundBuild {
     pub id: i64,
     pub label: String,
+    /// `disc_due`, `shim_due`, `ok`, or None when wear cannot be worked out yet.
+    pub wear: Option<String>,
+    pub springs_flagged: bool,
 }
 
 #[derive(FromRow)]
@@ -107,12 +117,16 @@ struct CarBuild {
     description: String,
     build_id: Option<i64>,
     label: Option<String>,
+    wear: Option<String>,
+    springs_flagged: Option<bool>,
 }
 
-/// The cars of every customer listed, each with its active builds: one query for the page.
+/// The cars of every customer listed, each with its active builds and their kept status: one
+/// query for the page.
 pub const LINKS_SQL: &str = "SELECT k.customer_id, k.id AS car_id, k.description,
-        b.id AS build_id, b.label
+        b.id AS build_id, b.label, s.wear, s.springs_flagged
      FROM cars k LEFT JOIN builds b ON b.car_id = k.id AND b.status = 'active'
+     LEFT JOIN build_status s ON s.build_id = b.id
      WHERE k.customer_id IN (SELECT value FROM json_each(?))
      ORDER BY k.customer_id, k.id, b.id";
 
@@ -141,6 +155,8 @@ pub async fn attach_links(
                 car.builds.push(FoundBuild {
                     id,
                     label: label.clone(),
+                    wear: f.wear.clone(),
+                    springs_flagged: f.springs_flagged.unwrap_or(false),
                 });
             }
         }

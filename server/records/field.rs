@@ -498,6 +498,95 @@ pub fn to_form<R: Record>(r: &R, units: Units) -> FormData {
     form
 }
 
+/// Each field with a value, as the forms show it and with its unit: (label, "1.75 turns").
+pub fn shown<R: Record>(r: &R, units: Units) -> Vec<(&'static str, String)> {
+    let form = to_form(r, units);
+    R::FIELDS
+        .iter()
+        .filter_map(|f| {
+            let text = form.get(f.form);
+            let words = match &f.value {
+                Value::Number { limit, .. } | Value::List { limit, .. } if !text.is_empty() => {
+                    match limit.kind.symbol(units) {
+                        "" => text.to_string(),
+                        "turns" if text == "1" => "1 turn".into(),
+                        unit => format!("{text} {unit}"),
+                    }
+                }
+                Value::Curve { get, .. } => {
+                    let n = get(r).len();
+                    format!("{n} point{}", if n == 1 { "" } else { "s" })
+                }
+                Value::Flag { get, .. } => if get(r) { "yes" } else { "no" }.into(),
+                _ => text.to_string(),
+            };
+            (!words.is_empty()).then_some((f.label, words))
+        })
+        .collect()
+}
+
+/// What differs between two versions of a record, as the forms show it: "Label: before → after"
+/// (a dash for an empty value), in declaration order; `skip` names columns left out.
+pub fn changes<R: Record>(before: &R, after: &R, units: Units, skip: &[&str]) -> Vec<String> {
+    let (old, new) = (shown(before, units), shown(after, units));
+    let of = |list: &[(&'static str, String)], label: &str| {
+        list.iter()
+            .find(|(l, _)| *l == label)
+            .map_or("–".to_string(), |(_, v)| v.clone())
+    };
+    R::FIELDS
+        .iter()
+        .filter(|f| !skip.contains(&f.column))
+        .filter_map(|f| {
+            let (a, b) = (of(&old, f.label), of(&new, f.label));
+            (a != b).then(|| format!("{}: {a} → {b}", f.label))
+        })
+        .collect()
+}
+
+impl<R> Value<R> {
+    /// The on-screen keyboard a tablet should open for this value (`inputmode`): digits for a
+    /// whole number, digits and a decimal point for a measured one.
+    pub fn input_mode(&self) -> Option<&'static str> {
+        match self {
+            Value::Whole { .. } => Some("numeric"),
+            Value::Number { .. } => Some("decimal"),
+            _ => None,
+        }
+    }
+}
+
+/// The keyboard for the form input `form_name` of any record (see [`Value::input_mode`]);
+/// None for inputs no record declares and for text, dates and lists.
+pub fn input_mode(form_name: &str) -> Option<&'static str> {
+    struct Find<'a>(&'a str);
+    impl RecordVisitor for Find<'_> {
+        type Out = Option<&'static str>;
+        fn visit<R: Record>(self) -> Self::Out {
+            R::FIELDS
+                .iter()
+                .find(|f| f.form == self.0)
+                .and_then(|f| f.value.input_mode())
+        }
+    }
+    RECORD_TABLES
+        .iter()
+        .find_map(|t| for_table(t, Find(form_name)).flatten())
+}
+
+/// Every table [`for_table`] knows.
+pub const RECORD_TABLES: &[&str] = &[
+    "customers",
+    "cars",
+    "builds",
+    "setup_changes",
+    "bench_tests",
+    "bench_springs",
+    "cover_heights",
+    "passes",
+    "shop_settings",
+];
+
 /// A field's stored value (as the audit log keeps it, JSON in storage units) in words and the
 /// shop's units, the way the pages show it.
 pub fn show_stored<R: Record>(f: &Field<R>, stored: &Json, units: Units) -> String {
@@ -606,6 +695,33 @@ fn list_of(v: &Json) -> Vec<Json> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Every form input name declared by more than one record asks for the same keyboard, so
+    /// looking the keyboard up by the input's name alone is never ambiguous.
+    #[test]
+    fn an_input_name_has_one_keyboard_whichever_record_declares_it() {
+        struct Modes;
+        impl RecordVisitor for Modes {
+            type Out = Vec<(&'static str, Option<&'static str>)>;
+            fn visit<R: Record>(self) -> Self::Out {
+                R::FIELDS
+                    .iter()
+                    .map(|f| (f.form, f.value.input_mode()))
+                    .collect()
+            }
+        }
+        let mut seen = std::collections::BTreeMap::new();
+        for table in RECORD_TABLES {
+            for (name, mode) in for_table(table, Modes).expect("a record table") {
+                let first = *seen.entry(name).or_insert(mode);
+                assert_eq!(first, mode, "{name} in {table}");
+                assert_eq!(input_mode(name), mode, "{name}");
+            }
+        }
+        assert_eq!(input_mode("passes"), Some("numeric"));
+        assert_eq!(input_mode("facing_od"), Some("decimal"));
+        assert_eq!(input_mode("measured_on"), None);
+    }
 
     #[test]
     fn list_paths_split_into_column_and_index() {

@@ -165,7 +165,13 @@ async fn customers_list(
     _: ApiUser,
     Query(q): Query<ListQuery>,
 ) -> ApiResult<serde_json::Value> {
-    let (rows, total) = db::customers::search(&mut *conn(&s).await?, &q.q, q.page()).await?;
+    let (rows, total) = db::customers::search(
+        &mut *conn(&s).await?,
+        &q.q,
+        q.page(),
+        db::customers::Order::Best,
+    )
+    .await?;
     Ok(Json(
         serde_json::json!({ "customers": rows, "total": total, "page": q.page() }),
     ))

@@ -4,13 +4,14 @@
 use askama::Template;
 use axum::extract::State;
 use axum::http::StatusCode;
-use axum::response::{Html, IntoResponse, Redirect, Response};
+use axum::response::{Html, IntoResponse, Response};
 use sqlx::SqliteConnection;
 
 use super::AppState;
 use super::capacity::{capacity_chart, figure_lines};
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
+use super::flash::{self, Flash};
 use super::layout::Layout;
 use super::wear::{self, WearView};
 use crate::clutch::friction::FacingMaterial;
@@ -20,11 +21,10 @@ use crate::db::bench::{BenchSpring, BenchTest};
 use crate::db::builds::Build;
 use crate::db::cars::Car;
 use crate::db::dossier::Dossier;
-use crate::db::heights::Height;
 use crate::db::setups::Setup;
 use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
-use crate::model::{self, BuildFacts, Figures};
+use crate::model::{self, BuildFacts, DiscPasses, Figures};
 use crate::records::build::BuildInput;
 use crate::records::height::HeightInput;
 use crate::records::pass::PassInput;
@@ -47,6 +47,8 @@ pub struct EntryForms {
     pub pass: Option<EntryForm>,
     /// The "prepare a setup sheet" form (its optional tuning targets).
     pub sheet: Option<EntryForm>,
+    /// "Saved: ..." left by the form that redirected here.
+    pub flash: Option<String>,
 }
 
 #[derive(Template)]
@@ -69,6 +71,10 @@ pub struct ShowPage {
     pub sheets: Vec<SheetSummary>,
     /// The spring rate the figures use, and where it comes from, in words.
     pub rate_used: String,
+    /// "Saved: ..." after a save, shown once.
+    pub flash: Option<String>,
+    /// The disc's pass count now (the cover-height form starts from it).
+    pub disc_passes: DiscPasses,
 }
 
 impl ShowPage {
@@ -88,17 +94,103 @@ impl ShowPage {
         &self.forms.sheet
     }
 
-    /// The next shim to pull, if any remain: (shims pulled after it, its thickness mm, the
-    /// latest pass count), for the one-step shim-pull form.
-    pub fn shim_pull(&self) -> Option<(i64, f64, i64)> {
+    /// The next shim to pull, if any remain: its thickness (mm) and the one-step shim-pull form
+    /// (date and pass count to confirm, the shim count and a note already filled in).
+    pub fn shim_pull(&self) -> Option<(f64, EntryForm)> {
         let last = model::current_disc(&self.d.heights).last()?;
         let pulled = last.data.shims_pulled.max(0);
-        let next = self.d.build.data.shim_stack_mm.get(pulled as usize)?;
-        Some((pulled + 1, *next, last.data.passes))
+        let next = *self.d.build.data.shim_stack_mm.get(pulled as usize)?;
+        let mut form = FormData::default();
+        form.set("measured_on", self.page.today());
+        form.set("passes", self.disc_passes.now().to_string());
+        form.set("shims_pulled", (pulled + 1).to_string());
+        form.set("note", format!("pulled the {} shim", self.page.u.len(next)));
+        Some((
+            next,
+            EntryForm {
+                form,
+                errors: FieldErrors::default(),
+            },
+        ))
     }
 
-    pub fn today(&self) -> String {
-        self.page.today()
+    /// Whether a shim is due now (the shim-pull form opens by itself).
+    pub fn shim_due(&self) -> bool {
+        matches!(&self.wear, Ok(w) if w.report.status == crate::clutch::wear::WearStatus::ShimDue)
+    }
+
+    /// Whether the build is retired: its page shows the record but no entry forms.
+    pub fn retired(&self) -> bool {
+        self.d.build.data.status == "retired"
+    }
+
+    /// The status tag beside the title, unless the title already says it.
+    pub fn status_tag(&self) -> Option<&str> {
+        let status = self.d.build.data.status.as_str();
+        let label = self.d.build.data.label.to_lowercase();
+        (!label.contains(status)).then_some(status)
+    }
+
+    /// The current setting in words for the summary: "1.75 turns · 26.0 g per lever".
+    pub fn setting_text(&self) -> String {
+        match self.current_setup() {
+            Some(s) => {
+                let turns = format!("{}", s.data.adjuster_turns);
+                let word = if turns == "1" { "turn" } else { "turns" };
+                format!(
+                    "{turns} {word} · {} per lever",
+                    self.page.u.grams(s.data.counterweight_g)
+                )
+            }
+            None => "no setup recorded".into(),
+        }
+    }
+
+    /// The lockup figure of the current setting, as the capacity figures say it.
+    pub fn lockup_text(&self) -> String {
+        self.figures()
+            .into_iter()
+            .find(|(label, _)| label.starts_with("Lockup"))
+            .map_or_else(|| "–".into(), |(_, v)| v)
+    }
+
+    /// The wear in one line for the summary: its rate, or why there is no forecast.
+    pub fn wear_line(&self) -> String {
+        match &self.wear {
+            Ok(w) => w.forecast.first().cloned().unwrap_or_default(),
+            Err(_) => "no cover height recorded yet".into(),
+        }
+    }
+
+    /// What is due on this build, in words: a shim or the disc now, the forecast, the springs.
+    pub fn due_lines(&self) -> Vec<String> {
+        let mut lines = Vec::new();
+        if self.retired() {
+            return lines;
+        }
+        if let Ok(w) = &self.wear {
+            if w.report.status != crate::clutch::wear::WearStatus::Ok {
+                lines.push(w.headline.clone());
+            }
+            lines.extend(
+                w.forecast
+                    .iter()
+                    .filter(|l| l.starts_with("About"))
+                    .cloned(),
+            );
+        }
+        if let Some(latest) = self.bench.first() {
+            if latest.spread.is_some_and(|s| s.out_of_tolerance) {
+                lines.push("Springs: the latest bench test is out of tolerance.".into());
+            }
+            let sagged = latest.springs.iter().filter(|r| r.sag.is_some()).count();
+            if sagged > 0 {
+                lines.push(format!(
+                    "Springs: {sagged} lost rate since the previous test."
+                ));
+            }
+        }
+        lines
     }
 
     /// The setup in force now (the latest change), if any was recorded.
@@ -242,10 +334,12 @@ pub async fn render_page(
             .map_err(|e| format!("{}: {}", e.field, e.message))
     });
     let bench = bench_views(&d.bench, &d.build.data, &settings);
-    let forms = default_forms(forms, &page.ctx, &d.car, &d.setups, &d.heights);
+    let flash = forms.flash.clone();
+    let forms = default_forms(forms, &page.ctx, &d);
     let material = super::show::material_text(&d.build.data);
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
     let sheets = db::sheets::for_build(conn, id).await?;
+    let disc_passes = model::disc_passes(&d.heights, &d.passes);
     Ok(ShowPage {
         page,
         d,
@@ -258,19 +352,16 @@ pub async fn render_page(
         spring_rows,
         sheets,
         rate_used,
+        flash,
+        disc_passes,
     }
     .render()?)
 }
 
 /// Fills each entry form the user has not just submitted with sensible defaults: today's date
 /// and the build's last values, so a bench entry is a few keystrokes.
-fn default_forms(
-    forms: EntryForms,
-    ctx: &Ctx,
-    car: &Car,
-    setups: &[Setup],
-    heights: &[Height],
-) -> FilledForms {
+fn default_forms(forms: EntryForms, ctx: &Ctx, d: &Dossier) -> FilledForms {
+    let (car, setups) = (&d.car, &d.setups);
     let today = ctx.today.to_string();
     let filled = |mut form: FormData, date_field: &str| {
         form.set(date_field, &today);
@@ -291,9 +382,9 @@ fn default_forms(
             .bench
             .unwrap_or_else(|| filled(FormData::default(), "tested_on")),
         height: forms.height.unwrap_or_else(|| {
-            let (passes, shims_pulled) = heights
-                .last()
-                .map_or((0, 0), |h| (h.data.passes, h.data.shims_pulled));
+            // The passes logged since the last measurement count on the disc already.
+            let passes = model::disc_passes(&d.heights, &d.passes).now();
+            let shims_pulled = d.heights.last().map_or(0, |h| h.data.shims_pulled);
             let next = HeightInput {
                 passes,
                 shims_pulled,
@@ -325,11 +416,14 @@ pub async fn show(
     State(state): State<AppState>,
     user: CurrentUser,
     PathId(id): PathId,
-) -> AppResult<Html<String>> {
+    flash: Flash,
+) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
-    Ok(Html(
-        render_page(&mut conn, &user, id, EntryForms::default()).await?,
-    ))
+    let forms = EntryForms {
+        flash: flash.note.clone(),
+        ..EntryForms::default()
+    };
+    Ok(flash.respond(Html(render_page(&mut conn, &user, id, forms).await?)))
 }
 
 #[derive(Template)]
@@ -445,14 +539,26 @@ async fn save(
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
         }
     };
-    let id = match id {
+    let (id, note) = match id {
         Some(id) => {
+            let before = db::builds::by_id(&mut tx, id)
+                .await?
+                .ok_or(AppError::NotFound)?;
             db::builds::update(&mut tx, id, &checked).await?;
-            id
+            let changes = field::changes(&before.data, &checked, page.units(), &[]);
+            let note = if changes.is_empty() {
+                "Saved: the build, nothing changed.".to_string()
+            } else {
+                format!("Saved: the build: {}.", changes.join("; "))
+            };
+            (id, note)
         }
-        None => db::builds::insert(&mut tx, car_id, &checked).await?,
+        None => {
+            let id = db::builds::insert(&mut tx, car_id, &checked).await?;
+            (id, "Saved: a new build. Record its setup next.".to_string())
+        }
     };
     crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
-    Ok(Redirect::to(&format!("/builds/{id}")).into_response())
+    Ok(flash::redirect(&state, &format!("/builds/{id}"), &note))
 }

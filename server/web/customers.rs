@@ -11,7 +11,7 @@ use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::Layout;
 use crate::db;
 use crate::db::cars::Car;
-use crate::db::customers::{Customer, CustomerSummary};
+use crate::db::customers::{Customer, CustomerSummary, Order};
 use crate::error::{AppError, AppResult};
 use crate::records::customer::CustomerInput;
 use crate::records::{FieldErrors, FormData, field};
@@ -22,6 +22,8 @@ pub struct ListQuery {
     pub q: String,
     /// Read leniently: anything but a page number shows the first page.
     pub page: String,
+    /// `last` sorts by last name; anything else by best match (a search) or by name.
+    pub sort: String,
 }
 
 #[derive(Template)]
@@ -33,16 +35,35 @@ pub struct ListPage {
     pub total: i64,
     pub page_no: i64,
     pub pages: i64,
+    pub by_last_name: bool,
 }
 
 impl ListPage {
-    /// The link to another page of the same search.
+    /// The link to another page of the same search, in the same order.
     pub fn page_link(&self, page_no: &i64) -> String {
-        let query = form_urlencoded::Serializer::new(String::new())
-            .append_pair("q", &self.q)
-            .append_pair("page", &page_no.to_string())
-            .finish();
-        format!("/customers?{query}")
+        self.link(*page_no, self.by_last_name)
+    }
+
+    /// The link to the same search sorted by last name (`true`) or the usual way.
+    pub fn sort_link(&self, by_last_name: &bool) -> String {
+        self.link(0, *by_last_name)
+    }
+
+    fn link(&self, page_no: i64, by_last_name: bool) -> String {
+        let mut query = form_urlencoded::Serializer::new(String::new());
+        if !self.q.is_empty() {
+            query.append_pair("q", &self.q);
+        }
+        if by_last_name {
+            query.append_pair("sort", "last");
+        }
+        if page_no > 0 {
+            query.append_pair("page", &page_no.to_string());
+        }
+        match query.finish() {
+            q if q.is_empty() => "/customers".into(),
+            q => format!("/customers?{q}"),
+        }
     }
 }
 
@@ -54,7 +75,8 @@ pub async fn list(
     let mut conn = state.pool.acquire().await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Customers").await?;
     let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
-    let (rows, total) = db::customers::search(&mut conn, &q.q, page_no).await?;
+    let order = Order::from_query(&q.sort);
+    let (rows, total) = db::customers::search(&mut conn, &q.q, page_no, order).await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     Ok(Html(
         ListPage {
@@ -64,6 +86,7 @@ pub async fn list(
             total,
             page_no,
             pages,
+            by_last_name: order == Order::LastName,
         }
         .render()?,
     ))

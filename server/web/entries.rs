@@ -4,17 +4,20 @@
 
 use axum::extract::State;
 use axum::http::StatusCode;
-use axum::response::{Html, IntoResponse, Redirect, Response};
+use axum::response::{Html, IntoResponse, Response};
 use sqlx::{Sqlite, SqliteConnection, Transaction};
 
 use super::AppState;
 use super::builds::{EntryForm, EntryForms, render_page};
 use super::extract::{CurrentUser, PathId, SignedForm};
+use super::flash;
 use crate::clutch::units::Units;
 use crate::db;
 use crate::db::builds::Build;
 use crate::error::{AppError, AppResult};
+use crate::model;
 use crate::records::bench::BenchInput;
+use crate::records::field::Record;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
@@ -28,17 +31,6 @@ enum Which {
     Bench,
     Height,
     Pass,
-}
-
-impl Which {
-    fn anchor(self) -> &'static str {
-        match self {
-            Self::Setup => "setup",
-            Self::Bench => "bench",
-            Self::Height => "heights",
-            Self::Pass => "passes",
-        }
-    }
 }
 
 /// One entry being saved: its transaction, the build, and the form as typed.
@@ -66,22 +58,22 @@ impl Entry {
         })
     }
 
-    /// Commits and goes back to the build page, or shows the page again with the messages.
+    /// Commits and goes back to the build page with a note of what was saved, or shows the
+    /// page again with the messages.
     async fn finish(
         self,
         state: &AppState,
         which: Which,
-        result: Result<(), FieldErrors>,
+        result: Result<String, FieldErrors>,
     ) -> AppResult<Response> {
         let id = self.build.id;
         let errors = match result {
-            Ok(()) => {
+            Ok(note) => {
                 let mut tx = self.tx;
                 status::refresh_stale(&mut tx).await?;
                 tx.commit().await?;
-                return Ok(
-                    Redirect::to(&format!("/builds/{id}#{}", which.anchor())).into_response()
-                );
+                // Back to the top: the note and the summary, updated, are the first screen.
+                return Ok(flash::redirect(state, &format!("/builds/{id}"), &note));
             }
             Err(errors) => errors,
         };
@@ -120,6 +112,25 @@ trait BuildEntry: Sized + Send + Sync {
         user_id: i64,
         value: &'a Checked<Self>,
     ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a;
+    /// "Saved: ..." in words, saying what changed; worked out before the entry is stored.
+    fn saved_note<'a>(
+        tx: &'a mut SqliteConnection,
+        build_id: i64,
+        value: &'a Checked<Self>,
+        units: Units,
+    ) -> impl Future<Output = sqlx::Result<String>> + Send + 'a;
+}
+
+/// "label value" for each shown field of a record, leaving out `skip` (columns).
+fn listed<R: Record>(r: &R, units: Units, skip: &[&str]) -> String {
+    let shown = field::shown(r, units);
+    R::FIELDS
+        .iter()
+        .filter(|f| !skip.contains(&f.column))
+        .filter_map(|f| shown.iter().find(|(l, _)| *l == f.label))
+        .map(|(label, value)| format!("{label} {value}"))
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 impl BuildEntry for SetupInput {
@@ -142,6 +153,29 @@ impl BuildEntry for SetupInput {
         v: &'a Checked<Self>,
     ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
         db::setups::insert(tx, b, u, v)
+    }
+    async fn saved_note(
+        tx: &mut SqliteConnection,
+        b: i64,
+        v: &Checked<Self>,
+        units: Units,
+    ) -> sqlx::Result<String> {
+        let before = db::setups::for_build(tx, b).await?.pop();
+        let skip = ["changed_on", "note"];
+        Ok(match before {
+            None => format!(
+                "Saved: the first setup, {}: {}.",
+                v.changed_on,
+                listed::<Self>(v, units, &skip)
+            ),
+            Some(before) => match field::changes(&before.data, v, units, &skip) {
+                c if c.is_empty() => format!(
+                    "Saved: setup check of {}, the same settings as before.",
+                    v.changed_on
+                ),
+                c => format!("Saved: setup change of {}: {}.", v.changed_on, c.join("; ")),
+            },
+        })
     }
 }
 
@@ -166,6 +200,19 @@ impl BuildEntry for BenchInput {
     ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
         db::bench::insert(tx, b, u, v)
     }
+    async fn saved_note(
+        _: &mut SqliteConnection,
+        _: i64,
+        v: &Checked<Self>,
+        _: Units,
+    ) -> sqlx::Result<String> {
+        let n = v.springs.len();
+        Ok(format!(
+            "Saved: bench test of {}, {n} spring{}.",
+            v.tested_on,
+            if n == 1 { "" } else { "s" }
+        ))
+    }
 }
 
 impl BuildEntry for HeightInput {
@@ -188,6 +235,23 @@ impl BuildEntry for HeightInput {
         v: &'a Checked<Self>,
     ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
         db::heights::insert(tx, b, u, v)
+    }
+    async fn saved_note(
+        _: &mut SqliteConnection,
+        _: i64,
+        v: &Checked<Self>,
+        units: Units,
+    ) -> sqlx::Result<String> {
+        let skip: &[&str] = if v.new_disc {
+            &["measured_on", "note"]
+        } else {
+            &["measured_on", "note", "new_disc"]
+        };
+        Ok(format!(
+            "Saved: cover height of {}: {}.",
+            v.measured_on,
+            listed::<Self>(v, units, skip)
+        ))
     }
 }
 
@@ -212,6 +276,27 @@ impl BuildEntry for PassInput {
     ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
         db::passes::insert(tx, b, u, v)
     }
+    async fn saved_note(
+        tx: &mut SqliteConnection,
+        b: i64,
+        v: &Checked<Self>,
+        units: Units,
+    ) -> sqlx::Result<String> {
+        let heights = db::heights::for_build(tx, b).await?;
+        let passes = db::passes::for_build(tx, b).await?;
+        let count = model::disc_passes(&heights, &passes);
+        // The new pass counts when it is not dated before the disc's latest measurement.
+        let counted = model::current_disc(&heights)
+            .last()
+            .is_none_or(|h| v.run_on >= h.data.measured_on);
+        let now = count.now() + i64::from(counted);
+        let what = listed::<Self>(v, units, &["run_on", "notes"]);
+        Ok(format!(
+            "Saved: pass of {}{}{what}. Passes on this disc: {now}.",
+            v.run_on,
+            if what.is_empty() { "" } else { ": " }
+        ))
+    }
 }
 
 /// Reads, checks and stores one entry in one transaction.
@@ -230,8 +315,9 @@ async fn add<E: BuildEntry>(
     let (input, errors) = E::read(&e.form, e.ctx.units, &e.build);
     let result = match BuildEntry::check_on(input, hc, &e.ctx, errors) {
         Ok(checked) => {
+            let note = E::saved_note(&mut e.tx, e.build.id, &checked, e.ctx.units).await?;
             E::store(&mut e.tx, e.build.id, e.user.id, &checked).await?;
-            Ok(())
+            Ok(note)
         }
         Err(errors) => Err(errors),
     };

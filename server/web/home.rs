@@ -12,7 +12,7 @@ use super::wear;
 use crate::clutch::wear::WearStatus;
 use crate::db;
 use crate::db::activity::Activity;
-use crate::db::customers::CustomerSummary;
+use crate::db::customers::{CustomerSummary, Order};
 use crate::error::AppResult;
 use crate::model::{Due, DueReason};
 use crate::status;
@@ -102,7 +102,7 @@ pub async fn front(
     let (found, found_total) = if q.q.trim().is_empty() {
         (Vec::new(), 0)
     } else {
-        db::customers::search(&mut conn, &q.q, 0).await?
+        db::customers::search(&mut conn, &q.q, 0, Order::from_query(&q.sort)).await?
     };
     let recent = db::activity::recent(&mut conn, 12).await?;
     let due = status::work_due(&mut conn, &settings).await?;

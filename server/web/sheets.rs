@@ -11,6 +11,7 @@ use super::builds::{EntryForm, EntryForms, render_page};
 use super::capacity::{capacity_chart, curve_start, figure_lines};
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
+use super::flash::{self, Flash};
 use super::show::Show;
 use super::wear;
 use crate::auth;
@@ -48,6 +49,8 @@ pub struct StaffTools {
     pub links: Vec<Link>,
     /// A link just made: its full address, shown once.
     pub new_link: Option<String>,
+    /// The days typed into the link form (kept when it is refused).
+    pub valid_days: String,
     pub errors: FieldErrors,
 }
 
@@ -306,8 +309,9 @@ async fn staff_page(
     user: &CurrentUser,
     sheet_id: i64,
     new_link: Option<String>,
-    errors: FieldErrors,
+    link_form: (String, FieldErrors),
 ) -> AppResult<String> {
+    let (valid_days, errors) = link_form;
     let mut conn = state.pool.acquire().await?;
     let sheet: Sheet = db::sheets::by_id(&mut conn, sheet_id)
         .await?
@@ -319,24 +323,29 @@ async fn staff_page(
         csrf: user.csrf.clone(),
         links,
         new_link,
+        valid_days,
         errors,
     };
     let inputs: SheetInputs = serde_json::from_str(&sheet.inputs)?;
     Ok(SheetPage::new(inputs, Some(tools)).render()?)
 }
 
-/// GET /sheets/{id}: the shop's copy, with Print and the customer-link tools.
+/// GET /sheets/{id}: the shop's copy, with Print and the customer-link tools; a link just made
+/// (left by the POST that made it) is shown this once.
 pub async fn show(
     State(state): State<AppState>,
     user: CurrentUser,
     PathId(id): PathId,
-) -> AppResult<Html<String>> {
-    Ok(Html(
-        staff_page(&state, &user, id, None, FieldErrors::default()).await?,
-    ))
+    flash: Flash,
+) -> AppResult<Response> {
+    let new_link = flash.note.clone().filter(|a| a.contains("/s/"));
+    let form = (DEFAULT_LINK_DAYS.to_string(), FieldErrors::default());
+    let html = staff_page(&state, &user, id, new_link, form).await?;
+    Ok(flash.respond(Html(html)))
 }
 
-/// POST /sheets/{id}/links: makes a read-only link and shows its address once.
+/// POST /sheets/{id}/links: makes a read-only link, then redirects to the sheet, which shows
+/// its address once (a refresh there makes no second link).
 pub async fn create_link(
     State(state): State<AppState>,
     PathId(sheet_id): PathId,
@@ -353,7 +362,8 @@ pub async fn create_link(
     )
     .unwrap_or(DEFAULT_LINK_DAYS as f64);
     if !errors.is_empty() {
-        let html = staff_page(&state, &user, sheet_id, None, errors).await?;
+        let typed = (form.get("valid_days").to_string(), errors);
+        let html = staff_page(&state, &user, sheet_id, None, typed).await?;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
     let mut tx = state.write(&user).await?;
@@ -366,7 +376,7 @@ pub async fn create_link(
         sheet_id,
         user.id,
         &auth::hash_secret(&secret),
-        days.round() as i64,
+        days as i64,
     )
     .await?;
     tx.commit().await?;
@@ -386,17 +396,11 @@ pub async fn create_link(
             format!("http://{host}/s/{secret}")
         }
     };
-    Ok(Html(
-        staff_page(
-            &state,
-            &user,
-            sheet_id,
-            Some(address),
-            FieldErrors::default(),
-        )
-        .await?,
-    )
-    .into_response())
+    Ok(flash::redirect(
+        &state,
+        &format!("/sheets/{sheet_id}"),
+        &address,
+    ))
 }
 
 /// POST /links/{id}/revoke
@@ -419,6 +423,8 @@ pub async fn revoke_link(
 struct GonePage {
     status: u16,
     message: &'static str,
+    /// The shop's name and phone, so the customer knows whom to ask (expired or withdrawn).
+    shop: Option<(String, String)>,
 }
 
 /// GET /s/{secret}: the customer's read-only sheet, no login. Unknown links answer 404,
@@ -465,9 +471,16 @@ pub async fn public(
             "There is no setup sheet at this address. Check the link the shop gave you.",
         ),
     };
+    let shop = if status == StatusCode::GONE {
+        let settings = db::settings::get(&mut conn).await?;
+        Some((settings.name, settings.phone))
+    } else {
+        None
+    };
     let page = GonePage {
         status: status.as_u16(),
         message,
+        shop,
     };
     Ok((status, Html(page.render()?)).into_response())
 }

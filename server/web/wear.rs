@@ -184,3 +184,17 @@ fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
     c.line_with_dots(&f, "height", "measured", &points, &tips);
     c
 }
+
+/// The pill of a found build's kept work-due status (`build_status`) in a search result: (CSS
+/// class, word with its shape). Springs are said when the wear is fine but they are flagged.
+pub fn found_status(b: &crate::db::search::FoundBuild) -> (&'static str, &'static str) {
+    let of = |s: WearStatus| (status_class(s), status_word(s));
+    let springs_flagged = b.springs_flagged;
+    match b.wear.as_deref() {
+        Some("disc_due") => of(WearStatus::DiscDue),
+        Some("shim_due") => of(WearStatus::ShimDue),
+        _ if springs_flagged => ("warn", "▲ springs"),
+        Some("ok") => of(WearStatus::Ok),
+        _ => ("", "– no wear data"),
+    }
+}

@@ -1473,7 +1473,7 @@ async fn thousands_of_hostile_requests_change_nothing_they_are_refused() {
     let linked = boss
         .post(&format!("/sheets/{sheet}/links"), &[("valid_days", "30")])
         .await;
-    assert_eq!(linked.status, StatusCode::OK, "{}", linked.body);
+    assert_eq!(linked.status, StatusCode::SEE_OTHER, "{}", linked.body);
     let link: i64 = sqlx::query_scalar("SELECT id FROM sheet_links")
         .fetch_one(&app.pool)
         .await

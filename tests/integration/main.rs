@@ -22,3 +22,4 @@ mod support;
 mod tune;
 mod units;
 mod wear;
+mod workflow;

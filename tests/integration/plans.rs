@@ -209,6 +209,7 @@ async fn captured_in_a_process_of_its_own() {
         "/?q=Lindqvist".into(),
         "/customers?q=Lindqvist".into(),
         "/customers?q=5550101".into(),
+        "/customers?q=Lindqvist&sort=last".into(),
         build.clone(),
         format!("{build}/tune"),
     ] {

@@ -198,7 +198,9 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
         .await;
     }
     let mut conn = app.pool.acquire().await.unwrap();
-    let (rows, total) = db::customers::search(&mut conn, "rask", 0).await.unwrap();
+    let (rows, total) = db::customers::search(&mut conn, "rask", 0, db::customers::Order::Best)
+        .await
+        .unwrap();
     assert_eq!(total, 2);
     assert_eq!(
         rows[0].name, "Odile Rask",
@@ -210,12 +212,18 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
         .await
         .unwrap();
     assert_eq!(
-        db::customers::search(&mut conn, "rask", 0).await.unwrap().1,
+        db::customers::search(&mut conn, "rask", 0, db::customers::Order::Best)
+            .await
+            .unwrap()
+            .1,
         0
     );
     status::rebuild_derived(&mut conn).await.unwrap();
     assert_eq!(
-        db::customers::search(&mut conn, "rask", 0).await.unwrap().1,
+        db::customers::search(&mut conn, "rask", 0, db::customers::Order::Best)
+            .await
+            .unwrap()
+            .1,
         2
     );
 }

@@ -104,7 +104,11 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
         .to_string();
     let sheet_id = id_from(&sheet);
     let made = client
-        .post(&format!("{sheet}/links"), &[("valid_days", "14")])
+        .follow(
+            &client
+                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
+                .await,
+        )
         .await;
     assert_eq!(made.status, StatusCode::OK);
     let start = made.body.find("/s/").expect("link shown");
@@ -162,7 +166,11 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
 
     // An expired link is gone too.
     let again = client
-        .post(&format!("{sheet}/links"), &[("valid_days", "1")])
+        .follow(
+            &client
+                .post(&format!("{sheet}/links"), &[("valid_days", "1")])
+                .await,
+        )
         .await;
     let start = again.body.find("/s/").unwrap();
     let link2: String = again.body[start..]
@@ -203,7 +211,11 @@ async fn a_sheet_printed_by_an_earlier_release_reprints_byte_for_byte() {
     .unwrap();
     let client = app.login("sam").await;
     let made = client
-        .post(&format!("/sheets/{sheet}/links"), &[("valid_days", "14")])
+        .follow(
+            &client
+                .post(&format!("/sheets/{sheet}/links"), &[("valid_days", "14")])
+                .await,
+        )
         .await;
     let start = made.body.find("/s/").expect("link shown");
     let link: String = made.body[start..]
@@ -228,7 +240,11 @@ async fn customer_link(app: &TestApp) -> String {
         .location()
         .to_string();
     let made = client
-        .post(&format!("{sheet}/links"), &[("valid_days", "14")])
+        .follow(
+            &client
+                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
+                .await,
+        )
         .await;
     assert_eq!(made.status, StatusCode::OK, "{}", made.body);
     let start = made.body.find("/s/").expect("link shown");

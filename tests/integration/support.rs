@@ -275,6 +275,20 @@ impl Client<'_> {
         build.location().to_string()
     }
 
+    /// Follows a redirect as a browser would: a GET of its Location with the session and any
+    /// cookie the redirect set (a note left for the next page).
+    pub async fn follow(&self, reply: &Reply) -> Reply {
+        assert_eq!(reply.status, StatusCode::SEE_OTHER, "{}", reply.body);
+        let mut cookies = vec![self.cookie.clone()];
+        for set in reply.headers.get_all(header::SET_COOKIE) {
+            let pair = set.to_str().unwrap().split(';').next().unwrap().to_string();
+            cookies.push(pair);
+        }
+        self.app
+            .get(reply.location(), Some(&cookies.join("; ")))
+            .await
+    }
+
     /// Posts a form with the CSRF token, as the page's own form would.
     pub async fn post(&self, path: &str, pairs: &[(&str, &str)]) -> Reply {
         let mut all = vec![("_csrf", self.csrf.as_str())];

@@ -288,6 +288,25 @@ impl Artifacts {
         Self { dir }
     }
 
+    /// A directory of its own beside the main one (`browser-artifacts-<name>`), so tests that
+    /// run at the same time never clear each other's files.
+    pub fn named(name: &str) -> Self {
+        let dir =
+            PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join(format!("browser-artifacts-{name}"));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        Self { dir }
+    }
+
+    /// What a person sees on a screen of `width` x `height` CSS pixels (the first screen of
+    /// the page, unscrolled).
+    pub async fn screen(&self, c: &Client, name: &str, width: u32, height: u32) {
+        set_viewport(c, width, height).await;
+        c.execute("window.scrollTo(0, 0)", vec![]).await.unwrap();
+        let png = c.screenshot().await.unwrap();
+        self.save(&format!("{name}-{width}x{height}.png"), &png);
+    }
+
     pub fn save(&self, name: &str, bytes: &[u8]) -> PathBuf {
         let path = self.dir.join(name);
         std::fs::write(&path, bytes).unwrap();
@@ -320,4 +339,24 @@ impl Artifacts {
             .expect("pdftoppm (poppler-utils) is installed");
         assert!(status.success());
     }
+}
+
+/// Resizes the window so that the page's viewport (not the window with its frame) is `width` x
+/// `height` CSS pixels.
+pub async fn set_viewport(c: &Client, width: u32, height: u32) {
+    c.set_window_size(width, height).await.unwrap();
+    let inner = c
+        .execute("return [window.innerWidth, window.innerHeight]", vec![])
+        .await
+        .unwrap();
+    let (iw, ih) = (
+        inner[0].as_u64().unwrap_or(width as u64) as u32,
+        inner[1].as_u64().unwrap_or(height as u64) as u32,
+    );
+    c.set_window_size(
+        width + (width - iw.min(width)),
+        height + (height - ih.min(height)),
+    )
+    .await
+    .unwrap();
 }

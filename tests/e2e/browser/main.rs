@@ -4,6 +4,7 @@
 //! poppler-utils).
 //! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/`.
 
+mod counter;
 mod harness;
 mod tuning;
 
@@ -68,10 +69,14 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
     harness::click(&c, "button.primary").await;
     harness::expect_text(&c, "Record a setup change").await;
 
-    // Setup, bench test, two cover heights, through the build page's quick forms.
+    // Setup, bench test, two cover heights, through the build page's quick forms (folded until
+    // opened).
+    harness::toggle(&c, "#setup details.entry summary").await;
     harness::fill(&c, "#setup input[name=adjuster_turns]", "1.5").await;
     harness::fill(&c, "#setup input[name=counterweight_g]", "24").await;
     harness::click(&c, "#setup button.primary").await;
+    harness::expect_text(&c, "Saved: the first setup").await;
+    harness::toggle(&c, "#bench details.entry summary").await;
     harness::fill(&c, "#bench input[name=test_height]", "1.600").await;
     for i in 1..=6 {
         harness::fill(&c, &format!("#bench input[name=free_length_{i}]"), "2.100").await;
@@ -80,9 +85,10 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
     harness::click(&c, "#bench button.primary").await;
     harness::expect_text(&c, "set within tolerance").await;
     for (height, passes) in [("1.905", "0"), ("1.913", "40")] {
-        harness::fill(&c, "#heights input[name=height]", height).await;
-        harness::fill(&c, "#heights input[name=passes]", passes).await;
-        harness::click(&c, "#heights button.primary").await;
+        harness::toggle(&c, "#height-entry summary").await;
+        harness::fill(&c, "#height-entry input[name=height]", height).await;
+        harness::fill(&c, "#height-entry input[name=passes]", passes).await;
+        harness::click(&c, "#height-entry button.primary").await;
     }
     harness::expect_text(&c, "Within limits.").await;
     harness::expect_text(&c, "About 35 passes to the next shim").await;
@@ -102,6 +108,7 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
     c.back().await.unwrap();
     c.back().await.unwrap();
     harness::expect_text(&c, "Prepare a setup sheet").await;
+    harness::toggle(&c, "#sheets details.entry summary").await;
     harness::fill(&c, "#sheets input[name=target_lockup]", "5600").await;
     harness::click(&c, "#sheets button.primary").await;
     harness::expect_text(&c, "Clutch setup sheet").await;
