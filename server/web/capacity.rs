@@ -257,10 +257,8 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
     let clamp = |v: f64| format!("{v:.0} {}", u.force_unit());
     let mut lines = vec![("Static clamp", clamp(r.static_clamp))];
     if r.clamp_loss > 0.0 {
-        lines.push((
-            "Lost to wear since the last shim",
-            format!("{} (taken off above)", clamp(r.clamp_loss)),
-        ));
+        // Already taken off the static clamp above.
+        lines.push(("Wear since last shim", format!("−{}", clamp(r.clamp_loss))));
     }
     if let Some(t) = r.coil_bind_turns {
         lines.push(("Springs solid (coil bind) at", format!("{t:.2} turns")));

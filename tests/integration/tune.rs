@@ -94,7 +94,7 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
         .await;
     let fresh = client.get(&format!("{build}/tune")).await;
     assert!(fresh.body.contains("715 lbf"));
-    assert!(!fresh.body.contains("Lost to wear"));
+    assert!(!fresh.body.contains("Wear since last shim"));
     for (day, height, passes) in [("2026-11-03", "1.905", "0"), ("2026-11-20", "1.908", "40")] {
         let r = client
             .post(
@@ -106,8 +106,10 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     }
     let worn = client.get(&format!("{build}/tune")).await;
     assert!(worn.body.contains("709 lbf"), "static clamp after wear");
-    assert!(worn.body.contains("Lost to wear since the last shim"));
-    assert!(worn.body.contains("7 lbf (taken off above)"));
+    assert!(
+        worn.body
+            .contains("<td>Wear since last shim</td><td class=\"num\">−7 lbf</td>")
+    );
     // A sheet printed now shows the same; sheets printed before keep their figures (see
     // sheets.rs, the reprint of an earlier sheet).
     let made = client.post(&format!("{build}/sheets"), &[]).await;

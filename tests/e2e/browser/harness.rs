@@ -288,16 +288,6 @@ impl Artifacts {
         Self { dir }
     }
 
-    /// A directory of its own beside the main one (`browser-artifacts-<name>`), so tests that
-    /// run at the same time never clear each other's files.
-    pub fn named(name: &str) -> Self {
-        let dir =
-            PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join(format!("browser-artifacts-{name}"));
-        let _ = std::fs::remove_dir_all(&dir);
-        std::fs::create_dir_all(&dir).unwrap();
-        Self { dir }
-    }
-
     /// What a person sees on a screen of `width` x `height` CSS pixels (the first screen of
     /// the page, unscrolled).
     pub async fn screen(&self, c: &Client, name: &str, width: u32, height: u32) {

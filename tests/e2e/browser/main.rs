@@ -2,7 +2,7 @@
 //! real server binary with the demo shop on a temporary database. Run explicitly:
 //! `cargo test -p lockpoint-e2e --test browser` (needs chromium, chromium-driver and
 //! poppler-utils).
-//! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/`.
+//! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/<test>/`.
 
 mod counter;
 mod harness;
