@@ -3,14 +3,11 @@
 
 use axum::http::StatusCode;
 
-use crate::support::TestApp;
+use crate::support::{Client, Reply, TestApp};
 
-#[tokio::test]
-async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
-    let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client
+/// Records the setup the checks below start from: 1.5 turns, 24 g, nominal μ.
+async fn set_up(client: &Client<'_>, build: &str) {
+    let r = client
         .post(
             &format!("{build}/setups"),
             &[
@@ -20,6 +17,31 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
             ],
         )
         .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+}
+
+/// Changes one field of a stored build through the record API (GET, change, PUT).
+async fn edit_build(app: &TestApp, id: i64, field: &str, value: serde_json::Value) -> Reply {
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let mut body = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json();
+    body[field] = value;
+    let put = app
+        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
+        .await;
+    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    put
+}
+
+#[tokio::test]
+async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    set_up(&client, &build).await;
     let audit_before = app.count("audit_log").await;
 
     let page = client.get(&format!("{build}/tune")).await;
@@ -82,16 +104,7 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-11-02"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
+    set_up(&client, &build).await;
     let fresh = client.get(&format!("{build}/tune")).await;
     assert!(fresh.body.contains("715 lbf"));
     assert!(!fresh.body.contains("Wear since last shim"));
@@ -126,24 +139,18 @@ async fn the_lever_body_radius_is_stored_used_and_checked() {
     let client = app.login("sam").await;
     let build = client.record_build().await;
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
+    let put = edit_build(
+        &app,
+        id,
+        "lever_body_cg_radius_mm",
+        serde_json::json!(2.05 * 25.4),
+    )
+    .await;
+    let mut body = put.json();
+    assert_eq!(body["lever_body_cg_radius_mm"], 2.05 * 25.4);
+
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let mut body = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
-        .await
-        .json();
-    body["lever_body_cg_radius_mm"] = serde_json::json!(2.05 * 25.4);
-    let put = app
-        .api(
-            "PUT",
-            &format!("/api/v1/builds/{id}"),
-            t,
-            Some(body.clone()),
-        )
-        .await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
-    assert_eq!(put.json()["lever_body_cg_radius_mm"], 2.05 * 25.4);
-
     body["lever_gain_n_per_g"] = serde_json::json!(2.0);
     let refused = app
         .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
@@ -161,17 +168,7 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
     let client = app.login("sam").await;
     let build = client.record_build().await;
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    let token = app.token("sam").await;
-    let t = Some(token.as_str());
-    let mut body = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
-        .await
-        .json();
-    body["disc_count"] = serde_json::json!(2);
-    let put = app
-        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
-        .await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    edit_build(&app, id, "disc_count", serde_json::json!(2)).await;
     let margin = |page: &str| -> f64 {
         let at = page.find("Margin at the top").expect("figure shown");
         let cell = &page[at..];
@@ -216,16 +213,7 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-11-02"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
+    set_up(&client, &build).await;
     for (day, first_free, first_force) in [
         ("2026-11-03", "2.100", "190"),
         ("2026-11-25", "2.080", "182.4"),
@@ -253,17 +241,13 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     // With a solid height of 1.200 in the springs, installed at 1.880 in, bind after
     // (1.880 − 1.200) × 16 = 10.88 turns [D].
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    let token = app.token("sam").await;
-    let t = Some(token.as_str());
-    let mut body = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
-        .await
-        .json();
-    body["spring_solid_height_mm"] = serde_json::json!(1.2 * 25.4);
-    let put = app
-        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
-        .await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    edit_build(
+        &app,
+        id,
+        "spring_solid_height_mm",
+        serde_json::json!(1.2 * 25.4),
+    )
+    .await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(tune.body.contains("10.88 turns"), "coil bind shown");
     let past = client

@@ -10,14 +10,6 @@ use super::harness::{self, Artifacts, Browser, Server};
 /// The two screens the shop uses: a desktop and a 10-inch tablet held upright.
 const SCREENS: [(u32, u32); 2] = [(1366, 900), (820, 1180)];
 
-async fn sign_in(c: &Client, base: &str) {
-    c.goto(&format!("{base}/login")).await.unwrap();
-    harness::fill(c, "input[name=username]", "demo").await;
-    harness::fill(c, "input[name=password]", "lockpoint-demo").await;
-    harness::click(c, "button[type=submit]").await;
-    harness::expect_text(c, "Work due").await;
-}
-
 /// How far down the page the summary's answers for `labels` reach, and the screen's height.
 async fn summary_bottom(c: &Client, labels: &[&str]) -> (usize, f64, f64) {
     let script = "const want = arguments[0];
@@ -54,7 +46,7 @@ async fn a_phone_number_leads_to_the_build_in_one_click_and_its_first_screen_sho
     let browser = Browser::start().await;
     let shots = Artifacts::named("counter");
     let c = browser.session().await;
-    sign_in(&c, &server.base).await;
+    harness::sign_in(&c, &server.base).await;
 
     // The phone number as the caller says it: the result names the build and what is due.
     harness::fill(&c, "input[name=q]", "(555) 0117").await;
@@ -127,7 +119,7 @@ async fn a_customer_link_has_a_copy_button_a_refresh_makes_no_second_and_a_withd
     let browser = Browser::start().await;
     let shots = Artifacts::named("link");
     let c = browser.session().await;
-    sign_in(&c, &server.base).await;
+    harness::sign_in(&c, &server.base).await;
     c.goto(&format!("{}/builds/1", server.base)).await.unwrap();
     harness::toggle(&c, "#sheets details.entry summary").await;
     harness::click(&c, "#sheets button.primary").await;

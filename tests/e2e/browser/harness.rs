@@ -134,6 +134,15 @@ impl Drop for Browser {
     }
 }
 
+/// Signs in as the demo shop's first account and waits for the counter.
+pub async fn sign_in(c: &Client, base: &str) {
+    c.goto(&format!("{base}/login")).await.unwrap();
+    fill(c, "input[name=username]", "demo").await;
+    fill(c, "input[name=password]", "lockpoint-demo").await;
+    click(c, "button[type=submit]").await;
+    expect_text(c, "Work due").await;
+}
+
 pub async fn fill(c: &Client, css: &str, value: &str) {
     let field = c
         .find(Locator::Css(css))

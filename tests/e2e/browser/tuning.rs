@@ -6,14 +6,6 @@ use fantoccini::{Client, Locator};
 
 use crate::harness::{self, Artifacts, Browser, Server, pdf_pages, pdf_text};
 
-async fn sign_in(c: &Client, base: &str) {
-    c.goto(&format!("{base}/login")).await.unwrap();
-    harness::fill(c, "input[name=username]", "demo").await;
-    harness::fill(c, "input[name=password]", "lockpoint-demo").await;
-    harness::click(c, "button[type=submit]").await;
-    harness::expect_text(c, "Work due").await;
-}
-
 async fn text_of(c: &Client, css: &str) -> String {
     c.find(Locator::Css(css))
         .await
@@ -30,7 +22,7 @@ async fn tuning_figures_and_the_sheet_say_what_the_tool_knows() {
     let shots = Artifacts::named("tuning");
     let c = browser.session().await;
     let base = server.base.clone();
-    sign_in(&c, &base).await;
+    harness::sign_in(&c, &base).await;
 
     // Demo build 2 holds at the first point of its torque curve, and its capacity at the top
     // is far above the engine's: the chart's scale is capped, so the line leaves it.
