@@ -11,6 +11,8 @@ pub mod calibrate;
 pub mod capacity;
 /// Clamp load: static spring load from compression, centrifugal load from the levers.
 pub mod clamp;
+/// A logged pass: launch, lockup, slip, clutch torque, slip power and energy, tyre spin.
+pub mod datalog;
 /// Facing materials: friction coefficients, temperature limits, friction surfaces.
 pub mod friction;
 /// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
@@ -25,6 +27,8 @@ pub mod regression;
 pub mod report;
 /// The capacity calculation request (as received by the API) and its validation.
 pub mod request;
+/// Savitzky–Golay smoothing and derivatives.
+pub mod savgol;
 /// Slip energy during engagement and the temperature rise it causes.
 pub mod slip;
 /// A spring set across its bench tests: rates, spread, sag.
