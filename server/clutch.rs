@@ -17,6 +17,10 @@ pub mod datalog;
 pub mod friction;
 /// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
 pub mod lockup;
+/// The data-log analysis request (CSV text, column mapping) and its answer.
+pub mod log_analysis;
+/// Reading a logger's CSV export: delimiter, header, units line, decimal comma, blanks.
+pub mod logfile;
 /// Quantity kinds (internal and display units) and the one table of limits.
 pub mod quantity;
 /// Search for adjuster turns and counterweight that meet lockup and launch targets.
