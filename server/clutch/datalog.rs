@@ -46,6 +46,9 @@ pub const SPIN_MIN_SPEED_MPS: f64 = 0.5;
 pub const CALIBRATION_EDGE_S: f64 = 0.050;
 /// Sample rate below which lockup timing is coarse, Hz.
 pub const COARSE_RATE_HZ: f64 = 50.0;
+/// Most samples in the derivative window: 60 ms up to 6.7 kHz; faster logs get a shorter
+/// window (a cap on the work per sample, not a method choice).
+pub const DERIVATIVE_MAX_SAMPLES: usize = 401;
 /// Fewest samples a log must have.
 pub const MIN_SAMPLES: usize = 10;
 /// Relative step spread within which a clock counts as uniform (no resampling).
@@ -126,8 +129,9 @@ pub fn looks_like_ms(time: &[f64]) -> bool {
 /// median the samples are kept as logged (time rebased to the first sample), otherwise every
 /// channel is interpolated linearly onto t_k = k·Δt with Δt the median step. `time_s` must be
 /// strictly increasing and every channel gap-free (see [`fill_blanks`]). Returns the step and
-/// whether the samples were moved.
-pub fn to_uniform_clock(series: &mut Series) -> (f64, bool) {
+/// whether the samples were moved; `None` when the steps are so uneven that the clock at the
+/// median step would hold more than four times the samples logged.
+pub fn to_uniform_clock(series: &mut Series) -> Option<(f64, bool)> {
     let t0 = series.time_s.first().copied().unwrap_or(0.0);
     for t in &mut series.time_s {
         *t -= t0;
@@ -138,10 +142,14 @@ pub fn to_uniform_clock(series: &mut Series) -> (f64, bool) {
         .windows(2)
         .all(|w| ((w[1] - w[0]) - dt).abs() <= UNIFORM_TOLERANCE * dt);
     if uniform || dt <= 0.0 {
-        return (dt, false);
+        return Some((dt, false));
     }
     let end = *series.time_s.last().unwrap_or(&0.0);
-    let n = (end / dt + 1e-9).floor() as usize + 1;
+    let steps = end / dt + 1e-9;
+    if !steps.is_finite() || steps > 4.0 * series.time_s.len() as f64 + 1000.0 {
+        return None;
+    }
+    let n = steps.floor() as usize + 1;
     let grid: Vec<f64> = (0..n).map(|k| k as f64 * dt).collect();
     let old = std::mem::take(&mut series.time_s);
     let resample = |v: &Vec<f64>| interpolate_at(&old, v, &grid);
@@ -158,7 +166,7 @@ pub fn to_uniform_clock(series: &mut Series) -> (f64, bool) {
         }
     }
     series.time_s = grid;
-    (dt, true)
+    Some((dt, true))
 }
 
 /// Values of (t, v) at the increasing times `at` (linear, ends held).
@@ -254,10 +262,10 @@ pub fn slip_pct(engine_rpm: f64, input_rpm: f64) -> f64 {
 pub fn derivative_window(dt: f64) -> usize {
     let steps = (DERIVATIVE_SPAN_S / dt - 1e-9).ceil().max(0.0) as usize;
     let mut n = (steps + 1).max(DERIVATIVE_MIN_SAMPLES);
-    if n % 2 == 0 {
+    if n.is_multiple_of(2) {
         n += 1;
     }
-    n
+    n.min(DERIVATIVE_MAX_SAMPLES)
 }
 
 /// The launch: the clutch switch's first change of state (≥ 0.5 counts as on) if there is a
@@ -468,8 +476,12 @@ pub fn analyze(
                     "The engine speed left the torque curve at {outside} sample(s); the curve's end values were used there."
                 ));
             }
+            // The clutch carries nothing before the launch: no slip power there.
             let p: Vec<f64> = (0..n)
                 .map(|i| {
+                    if i < first {
+                        return 0.0;
+                    }
                     let slip_w = rpm_to_rad_s(series.engine_rpm[i] - series.input_rpm[i]);
                     tc[i] * slip_w.max(0.0)
                 })

@@ -101,6 +101,74 @@ fn default_hold_ms() -> f64 {
     LockupRule::default().hold_s * 1000.0
 }
 
+/// How a shop reads its logger's files: remembered per car and stored with each pass's file
+/// (storage units).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LogSettings {
+    #[serde(default)]
+    pub columns: LogColumns,
+    #[serde(default)]
+    pub time_unit: TimeUnit,
+    #[serde(default = "default_slip_on")]
+    pub slip_on_pct: f64,
+    #[serde(default = "default_hold_ms")]
+    pub hold_ms: f64,
+    /// Engine inertia, kg·m² (the car record does not hold it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub engine_inertia_kgm2: Option<f64>,
+}
+
+impl Default for LogSettings {
+    fn default() -> Self {
+        Self {
+            columns: LogColumns::default(),
+            time_unit: TimeUnit::Auto,
+            slip_on_pct: default_slip_on(),
+            hold_ms: default_hold_ms(),
+            engine_inertia_kgm2: None,
+        }
+    }
+}
+
+/// What a stored car says about its driveline (storage units: mm, N·m).
+#[derive(Debug, Clone, Copy)]
+pub struct CarFacts<'a> {
+    pub first_gear_ratio: Option<f64>,
+    pub final_drive_ratio: Option<f64>,
+    pub tire_diameter_mm: Option<f64>,
+    pub torque_curve_nm: &'a [[f64; 2]],
+}
+
+impl LogSettings {
+    /// The validated analysis for a stored pass: ratios, tyre and torque curve from its car,
+    /// the inertia from these settings (without it, or without a curve, no torque or energy),
+    /// wheel speeds in the file read in `wheel_units` (the shop's).
+    pub fn valid(&self, car: CarFacts, wheel_units: Units) -> Result<ValidLog, InputError> {
+        let engine = match self.engine_inertia_kgm2 {
+            Some(inertia) if car.torque_curve_nm.len() >= 2 => Some(LogEngine {
+                torque_curve: car.torque_curve_nm.to_vec(),
+                inertia,
+            }),
+            _ => None,
+        };
+        let req = LogAnalysisRequest {
+            units: Units::Metric,
+            csv: String::new(),
+            columns: self.columns.clone(),
+            time_unit: self.time_unit,
+            slip_on_pct: self.slip_on_pct,
+            hold_ms: self.hold_ms,
+            first_gear_ratio: car.first_gear_ratio,
+            final_drive_ratio: car.final_drive_ratio,
+            tire_diameter: car.tire_diameter_mm,
+            engine,
+        };
+        let mut valid = req.validate()?;
+        valid.units = wheel_units;
+        Ok(valid)
+    }
+}
+
 /// POST /api/v1/calc/log-analysis body.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LogAnalysisRequest {
@@ -425,7 +493,12 @@ impl ValidLog {
             clutch_switch,
             throttle,
         };
-        let (dt, moved) = datalog::to_uniform_clock(&mut series);
+        let (dt, moved) = datalog::to_uniform_clock(&mut series).ok_or_else(|| {
+            InputError::new(
+                "columns.time",
+                "the time steps are too uneven to put the samples on one clock",
+            )
+        })?;
         let mut analysis = datalog::analyze(&series, dt, self.rule, self.engine.as_ref())?;
         if moved {
             analysis.notes.push(format!(

@@ -118,6 +118,23 @@ fn sniff(text: &[u8]) -> Option<(u8, usize)> {
     None
 }
 
+/// The file line a record just read started on. (The reader's own record position counts
+/// from where it started reading, blank lines skipped before the record included.)
+fn start_line(text: &[u8], rdr: &csv::Reader<&[u8]>, record: &csv::ByteRecord) -> u64 {
+    let end = rdr.position();
+    let after_newline = end.byte() > 0 && text.get(end.byte() as usize - 1) == Some(&b'\n');
+    let last = if after_newline {
+        end.line() - 1
+    } else {
+        end.line()
+    };
+    let inside = record
+        .iter()
+        .map(|f| f.iter().filter(|&&b| b == b'\n').count() as u64)
+        .sum::<u64>();
+    last.saturating_sub(inside).max(1)
+}
+
 fn csv_error(message: impl Into<String>) -> InputError {
     InputError::new("csv", message)
 }
@@ -146,7 +163,7 @@ pub fn layout(text: &[u8]) -> Result<Layout, InputError> {
             }
             Err(e) => return Err(csv_error(format!("line {line}: {e}"))),
         }
-        let line = record.position().map_or(line, |p| p.line());
+        let line = start_line(text, &rdr, &record);
         if record.len() != width {
             block.clear();
             continue;
@@ -230,7 +247,7 @@ pub fn read(text: &[u8], wanted: &[Wanted]) -> Result<Columns, InputError> {
             Ok(false) => break,
             Err(e) => return Err(csv_error(format!("line {at}: {e}"))),
         }
-        let line = record.position().map_or(at, |p| p.line());
+        let line = start_line(text, &rdr, &record);
         if line < layout.first_data_line {
             continue;
         }
@@ -353,6 +370,15 @@ mod tests {
         assert_eq!(err.field, "csv");
         let err = layout(b"a,b\nc,d\n").unwrap_err();
         assert!(err.message.contains("no data"), "{}", err.message);
+    }
+
+    #[test]
+    fn blank_lines_do_not_shift_the_line_numbers() {
+        let text = "Logger;x\n\nt;a;b\n\n0;1;2\n0,1;x;3\n";
+        let l = layout(text.as_bytes()).unwrap();
+        assert_eq!((l.header_line, l.first_data_line), (3, 5));
+        let err = read(text.as_bytes(), &want(&["a"])).unwrap_err();
+        assert!(err.message.starts_with("line 6,"), "{}", err.message);
     }
 
     #[test]

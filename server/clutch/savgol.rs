@@ -54,10 +54,12 @@ fn solve(mut m: Vec<Vec<f64>>) -> Option<Vec<f64>> {
             return None;
         }
         m.swap(col, pivot);
-        for r in col + 1..n {
-            let f = m[r][col] / m[col][col];
-            for c in col..=n {
-                m[r][c] -= f * m[col][c];
+        let (upper, lower) = m.split_at_mut(col + 1);
+        let pivot_row = &upper[col];
+        for row in lower {
+            let f = row[col] / pivot_row[col];
+            for (v, p) in row[col..].iter_mut().zip(&pivot_row[col..]) {
+                *v -= f * p;
             }
         }
     }
@@ -80,7 +82,7 @@ pub fn filter(
     deriv: usize,
     delta: f64,
 ) -> Option<Vec<f64>> {
-    if window % 2 == 0 || x.len() < window || delta <= 0.0 {
+    if window.is_multiple_of(2) || x.len() < window || delta <= 0.0 {
         return None;
     }
     let half = window / 2;

@@ -246,7 +246,7 @@ fn an_uneven_clock_is_resampled_at_its_median_step() {
         input_rpm: vec![0.0; 6],
         ..Series::default()
     };
-    let (dt, moved) = to_uniform_clock(&mut s);
+    let (dt, moved) = to_uniform_clock(&mut s).unwrap();
     assert!(moved);
     assert!((dt - 0.01).abs() < 1e-12);
     assert_eq!(s.time_s.len(), 6);
@@ -254,6 +254,17 @@ fn an_uneven_clock_is_resampled_at_its_median_step() {
     for (t, e) in s.time_s.iter().zip(&s.engine_rpm) {
         assert!((e - 1000.0 * t).abs() < 1e-6, "{t} {e}");
     }
+}
+
+#[test]
+fn a_clock_too_uneven_to_resample_is_refused() {
+    let mut s = Series {
+        time_s: vec![0.0, 1e-9, 2e-9, 3e-9, 1e6],
+        engine_rpm: vec![0.0; 5],
+        input_rpm: vec![0.0; 5],
+        ..Series::default()
+    };
+    assert!(to_uniform_clock(&mut s).is_none());
 }
 
 #[test]
@@ -270,6 +281,8 @@ fn the_derivative_window_spans_60_ms_and_at_least_5_samples() {
     assert_eq!(derivative_window(0.001), 61);
     assert_eq!(derivative_window(0.05), 5);
     assert_eq!(derivative_window(0.004), 17);
+    // 100 kHz would need 6001: capped.
+    assert_eq!(derivative_window(0.00001), DERIVATIVE_MAX_SAMPLES);
 }
 
 #[test]
