@@ -83,6 +83,9 @@ pub struct TraceChart {
 #[template(path = "passes/show.html")]
 pub struct PassPage {
     pub page: Layout,
+    /// Other passes of the build with a log: (id, label), for the comparison.
+    pub others: Vec<(i64, String)>,
+    pub compare: Option<i64>,
     pub pc: PassCar,
     pub build_label: String,
     pub log: Option<LogSummary>,
@@ -96,6 +99,13 @@ pub struct PassPage {
     /// Why the stored file does not read any more (the method changed), if so.
     pub problem: Option<String>,
     pub upload_error: Option<String>,
+}
+
+impl PassPage {
+    /// Whether pass `id` is the one drawn beside this one.
+    pub fn is_compared(&self, id: &i64) -> bool {
+        self.compare == Some(*id)
+    }
 }
 
 /// Every other sample at most `n` points (the charts need no more than the pixels they have).
@@ -184,8 +194,17 @@ pub async fn show(
     State(state): State<AppState>,
     user: CurrentUser,
     PathId(id): PathId,
+    Query(q): Query<CompareQuery>,
 ) -> AppResult<Response> {
-    render(&state, &user, id, None, StatusCode::OK).await
+    let compare = q.compare.trim().parse::<i64>().ok().filter(|&c| c != id);
+    render_with(&state, &user, id, None, StatusCode::OK, compare).await
+}
+
+/// `?compare=<pass id>`: another logged pass of the same build drawn over this one.
+#[derive(Debug, Default, serde::Deserialize)]
+#[serde(default)]
+pub struct CompareQuery {
+    compare: String,
 }
 
 async fn render(
@@ -194,6 +213,90 @@ async fn render(
     id: i64,
     upload_error: Option<String>,
     status: StatusCode,
+) -> AppResult<Response> {
+    render_with(state, user, id, upload_error, status, None).await
+}
+
+/// Engine and input speed of two passes against time from each one's launch.
+fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult)) -> Chart {
+    let shifted = |r: &LogResult, v: &[f64]| -> Vec<(f64, f64)> {
+        let s = &r.series;
+        let step = thin(700, s.time_s.len());
+        (0..s.time_s.len())
+            .step_by(step)
+            .map(|i| (s.time_s[i] - r.analysis.launch_s, v[i]))
+            .filter(|(t, _)| *t >= -0.2)
+            .collect()
+    };
+    let span = |r: &LogResult| *r.series.time_s.last().unwrap_or(&1.0) - r.analysis.launch_s;
+    let top = [this.1, other.1]
+        .iter()
+        .flat_map(|r| r.series.engine_rpm.iter().chain(&r.series.input_rpm))
+        .copied()
+        .fold(0.0, f64::max);
+    let (mut c, f) = Chart::new(
+        "Two passes, time from each launch",
+        "time from launch, s",
+        "rpm",
+        (-0.2, span(this.1).max(span(other.1))),
+        (0.0, top * 1.05),
+    );
+    let (a, b) = (this.1, other.1);
+    c.line(
+        &f,
+        "engine",
+        &format!("engine {}", this.0),
+        &shifted(a, &a.series.engine_rpm),
+    );
+    c.line(
+        &f,
+        "input",
+        &format!("input {}", this.0),
+        &shifted(a, &a.series.input_rpm),
+    );
+    c.line(
+        &f,
+        "before",
+        &format!("engine {}", other.0),
+        &shifted(b, &b.series.engine_rpm),
+    );
+    c.line(
+        &f,
+        "static",
+        &format!("input {}", other.0),
+        &shifted(b, &b.series.input_rpm),
+    );
+    c.mark_x(
+        &f,
+        "lockup",
+        format!("lockup {}", this.0),
+        a.analysis.lockup_s - a.analysis.launch_s,
+    );
+    c.mark_x(
+        &f,
+        "launch",
+        format!("lockup {}", other.0),
+        b.analysis.lockup_s - b.analysis.launch_s,
+    );
+    // Labels of lines ending together are spread out.
+    let mut ys: Vec<usize> = (0..c.series.len()).collect();
+    ys.sort_by(|&i, &j| c.series[i].label_y.total_cmp(&c.series[j].label_y));
+    for k in 1..ys.len() {
+        let (prev, cur) = (ys[k - 1], ys[k]);
+        if c.series[cur].label_y - c.series[prev].label_y < 12.0 {
+            c.series[cur].label_y = c.series[prev].label_y + 12.0;
+        }
+    }
+    c
+}
+
+async fn render_with(
+    state: &AppState,
+    user: &CurrentUser,
+    id: i64,
+    upload_error: Option<String>,
+    status: StatusCode,
+    compare: Option<i64>,
 ) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
     let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
@@ -213,6 +316,35 @@ async fn render(
         build.data.label.clone()
     };
     let log = db::pass_logs::summary(&mut conn, id).await?;
+    let passes = db::passes::for_build(&mut conn, pc.pass.build_id).await?;
+    let logged = db::pass_logs::for_build(&mut conn, pc.pass.build_id).await?;
+    let others: Vec<(i64, String)> = passes
+        .iter()
+        .filter(|p| p.id != id)
+        .filter_map(|p| {
+            let l = logged.iter().find(|l| l.pass_id == p.id)?;
+            Some((
+                p.id,
+                format!(
+                    "{} · lockup {:.3} s after launch",
+                    p.data.run_on,
+                    l.lockup_after_launch_s()
+                ),
+            ))
+        })
+        .collect();
+    let compare_file = match compare.filter(|c| others.iter().any(|o| o.0 == *c)) {
+        Some(c) => db::pass_logs::file(&mut conn, c, limits::LOG_FILE_BYTES)
+            .await?
+            .map(|f| (c, f)),
+        None => None,
+    };
+    let compare_day = compare_file.as_ref().and_then(|(c, _)| {
+        passes
+            .iter()
+            .find(|p| p.id == *c)
+            .map(|p| p.data.run_on.clone())
+    });
     let stored = match log {
         Some(_) => db::pass_logs::file(&mut conn, id, limits::LOG_FILE_BYTES).await?,
         None => None,
@@ -290,12 +422,25 @@ async fn render(
                 ));
                 notes = a.notes.clone();
                 charts_v = charts(&r, true);
+                if let (Some((_, file)), Some(day)) = (compare_file, &compare_day)
+                    && let Ok(other) = pc.analyse(&file.settings, Arc::new(file.text)).await
+                {
+                    let this_day = pc.pass.data.run_on.clone();
+                    charts_v.insert(
+                        0,
+                        TraceChart {
+                            chart: compare_chart((&this_day, &r), (day, &other)),
+                        },
+                    );
+                }
             }
             Err(e) => problem = Some(format!("{}: {}", e.field, e.message)),
         }
     }
     let page = PassPage {
         page,
+        others,
+        compare,
         pc,
         build_label,
         log,

@@ -433,3 +433,62 @@ async fn upload_then_mapping_then_the_pass_page() {
     );
     assert!(page.body.contains("value=\"4.746\""), "{}", page.body);
 }
+
+#[tokio::test]
+async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let first = pass_on_a_build(&client).await;
+    let build: i64 = {
+        let mut conn = app.pool.acquire().await.unwrap();
+        sqlx::query_scalar("SELECT build_id FROM passes WHERE id = ?")
+            .bind(first.parse::<i64>().unwrap())
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap()
+    };
+    let r = client
+        .post(
+            &format!("/builds/{build}/passes"),
+            &[("run_on", "2026-10-11"), ("track", "Test strip")],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let second = (first.parse::<i64>().unwrap() + 1).to_string();
+    let token = app.token("sam").await;
+    for pass in [&first, &second] {
+        let body = json!({ "csv": launch_csv(),
+            "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
+            "engine_inertia_kgm2": 0.2 });
+        let r = app
+            .api(
+                "POST",
+                &format!("/api/v1/passes/{pass}/log"),
+                Some(&token),
+                Some(body),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    }
+    let alone = client.get(&format!("/passes/{first}")).await;
+    assert!(
+        alone
+            .body
+            .contains(&format!("<option value=\"{second}\">2026-10-11")),
+        "{}",
+        alone.body
+    );
+    assert_eq!(alone.body.matches("<svg").count(), 3);
+    let both = client
+        .get(&format!("/passes/{first}?compare={second}"))
+        .await;
+    assert_eq!(both.status, StatusCode::OK);
+    assert_eq!(both.body.matches("<svg").count(), 4);
+    assert!(both.body.contains("Two passes, time from each launch"));
+    // Anything else in the query is no comparison, not an error.
+    let odd = client.get(&format!("/passes/{first}?compare=abc")).await;
+    assert_eq!(
+        (odd.status, odd.body.matches("<svg").count()),
+        (StatusCode::OK, 3)
+    );
+}
