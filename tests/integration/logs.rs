@@ -423,6 +423,13 @@ async fn upload_then_mapping_then_the_pass_page() {
         "{}",
         b.body
     );
+    // No lockup was typed on this pass: the log's fills the column, marked as such.
+    assert!(
+        b.body
+            .contains("4800 rpm <span class=\"muted\">(log)</span>"),
+        "{}",
+        b.body
+    );
     // The mapping (and the inertia, 4.746 lb·ft² = 0.200 kg·m²) is offered for the next file.
     let r = upload(&client, &pass, launch_csv().as_bytes()).await;
     let page = client.get(r.location()).await;
