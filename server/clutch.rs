@@ -11,10 +11,16 @@ pub mod calibrate;
 pub mod capacity;
 /// Clamp load: static spring load from compression, centrifugal load from the levers.
 pub mod clamp;
+/// A logged pass: launch, lockup, slip, clutch torque, slip power and energy, tyre spin.
+pub mod datalog;
 /// Facing materials: friction coefficients, temperature limits, friction surfaces.
 pub mod friction;
 /// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
 pub mod lockup;
+/// The data-log analysis request (CSV text, column mapping) and its answer.
+pub mod log_analysis;
+/// Reading a logger's CSV export: delimiter, header, units line, decimal comma, blanks.
+pub mod logfile;
 /// Quantity kinds (internal and display units) and the one table of limits.
 pub mod quantity;
 /// Search for adjuster turns and counterweight that meet lockup and launch targets.
@@ -25,6 +31,8 @@ pub mod regression;
 pub mod report;
 /// The capacity calculation request (as received by the API) and its validation.
 pub mod request;
+/// Savitzky–Golay smoothing and derivatives.
+pub mod savgol;
 /// Slip energy during engagement and the temperature rise it causes.
 pub mod slip;
 /// A spring set across its bench tests: rates, spread, sag.

@@ -11,6 +11,7 @@ pub mod customers;
 pub mod dossier;
 pub mod export;
 pub mod heights;
+pub mod pass_logs;
 pub mod passes;
 pub mod record;
 pub mod search;

@@ -17,6 +17,8 @@ use crate::records::user::{NewUser, Role};
 use crate::records::{Ctx, FieldErrors, field};
 use crate::{auth, db};
 
+mod log;
+
 pub const DEMO_USERNAME: &str = "demo";
 pub const DEMO_PASSWORD: &str = "lockpoint-demo";
 /// The demo's second account, a technician (no admin pages), with the same password.
@@ -528,13 +530,83 @@ async fn seed_build(
             observed_lockup_rpm: *lockup,
             notes: String::new(),
         };
-        db::passes::insert(
+        let pass_id = db::passes::insert(
             tx,
             build_id,
             user_id,
             &ok(field::check(p, &demo_ctx(), FieldErrors::default()))?,
         )
         .await?;
+        if b.label == LOGGED_BUILD && i + 1 == b.passes.len() {
+            seed_log(tx, user_id, car_id, pass_id).await?;
+        }
     }
+    Ok(())
+}
+
+/// The build whose latest pass carries a data log.
+const LOGGED_BUILD: &str = "Street/strip single";
+
+/// Keeps the invented log with a pass, read the way the upload reads it.
+async fn seed_log(
+    tx: &mut SqliteConnection,
+    user_id: i64,
+    car_id: i64,
+    pass_id: i64,
+) -> Result<(), DemoError> {
+    use crate::clutch::log_analysis::{CarFacts, LogColumns, LogSettings, TimeUnit};
+    let Some(car) = db::cars::by_id(tx, car_id).await? else {
+        return Ok(());
+    };
+    let c = &car.data;
+    let (Some(first), Some(fin), Some(tire)) =
+        (c.first_gear_ratio, c.final_drive_ratio, c.tire_diameter_mm)
+    else {
+        return Ok(());
+    };
+    let text = log::pass_log(&c.torque_curve_nm, first, fin, tire);
+    let settings = LogSettings {
+        columns: LogColumns {
+            time: "Time".into(),
+            engine_rpm: "Engine".into(),
+            input_rpm: Some("Input shaft".into()),
+            undriven_wheel_speed: Some("Front wheel".into()),
+            throttle: Some("Throttle".into()),
+            ..LogColumns::default()
+        },
+        time_unit: TimeUnit::Auto,
+        engine_inertia_kgm2: Some(log::ENGINE_INERTIA_KGM2),
+        ..LogSettings::default()
+    };
+    let facts = CarFacts {
+        first_gear_ratio: c.first_gear_ratio,
+        final_drive_ratio: c.final_drive_ratio,
+        tire_diameter_mm: c.tire_diameter_mm,
+        torque_curve_nm: &c.torque_curve_nm,
+    };
+    let result = settings
+        .valid(facts, IN)
+        .and_then(|v| v.run(text.as_bytes()))
+        .map_err(|e| DemoError::from(format!("demo log: {e}")))?;
+    let a = &result.analysis;
+    db::pass_logs::put(
+        tx,
+        &db::pass_logs::NewLog {
+            pass_id,
+            user_id,
+            file_name: "pass-2026-11-01.csv",
+            text: text.as_bytes(),
+            settings: &settings,
+            sample_rate_hz: a.sample_rate_hz,
+            launch_s: a.launch_s,
+            lockup_s: a.lockup_s,
+            lockup_engine_rpm: a.lockup_engine_rpm,
+            slip_energy_j: a.slip_energy_j,
+            peak_slip_power_w: a.peak_slip_power_w,
+            slip_window: &result.calibration_pairs(),
+        },
+    )
+    .await?;
+    db::pass_logs::remember(tx, car_id, &settings).await?;
     Ok(())
 }

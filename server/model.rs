@@ -347,7 +347,13 @@ impl BuildFacts<'_> {
         let mut dates = Vec::new();
         // Stored newest first; the calibration reads them oldest first.
         for pass in d.passes.iter().rev() {
-            let Some(rpm) = pass.data.observed_lockup_rpm else {
+            // The lockup typed by the technician, else the one the pass's data log found.
+            let log = d.log_of(pass.id);
+            let Some(rpm) = pass
+                .data
+                .observed_lockup_rpm
+                .or(log.map(|l| l.lockup_engine_rpm))
+            else {
                 continue;
             };
             let day = pass.data.run_on.as_str();
@@ -366,7 +372,7 @@ impl BuildFacts<'_> {
             }
             passes.push(PassObserved {
                 lockup_rpm: rpm,
-                clutch_torque: None,
+                clutch_torque: log.and_then(|l| self.log_value(d, pass, l)).map(|v| v.1),
                 adjuster_turns: Some(setup.data.adjuster_turns),
                 counterweight_g: Some(setup.data.counterweight_g),
                 clamp_loss: self.clamp_loss_on(&d.heights, day),
@@ -406,6 +412,50 @@ impl BuildFacts<'_> {
             dates,
             notes,
         })
+    }
+
+    /// What a pass's data log says of the friction: the median of clutch torque over capacity
+    /// at μ = 1 across its slip window (launch + 50 ms to lockup − 50 ms, the setting in force
+    /// on the pass's date), and the torque that ratio means at the lockup speed (typed, else
+    /// the log's), N·m, which is what the calibration is fed. `None` without a setup on or
+    /// before the pass, without clutch torque (no engine inertia) or a usable capacity.
+    pub fn log_value(
+        &self,
+        d: &Dossier,
+        pass: &crate::db::passes::Pass,
+        log: &crate::db::pass_logs::LogSummary,
+    ) -> Option<(f64, f64)> {
+        let day = pass.data.run_on.as_str();
+        let setup = d
+            .setups
+            .iter()
+            .rev()
+            .find(|s| s.data.changed_on.as_str() <= day)?;
+        let clutch = self.capacity_request(Self::current_trial(d)).ok()?;
+        let request = CalibrateRequest {
+            units: Units::Metric,
+            disc: clutch.disc,
+            springs: clutch.springs,
+            levers: clutch.levers,
+            engine: clutch.engine,
+            fit: Fit::Mu,
+            passes: Vec::new(),
+        };
+        let model = request.clutch().ok()?.model;
+        let law = model.law_at(
+            setup.data.adjuster_turns,
+            setup.data.counterweight_g,
+            self.clamp_loss_on(&d.heights, day),
+            1.0,
+        );
+        let ratio =
+            crate::clutch::datalog::median_ratio(&log.window(), |rpm| law.capacity_nm(rpm))?;
+        let rpm = pass
+            .data
+            .observed_lockup_rpm
+            .unwrap_or(log.lockup_engine_rpm);
+        let torque = ratio * law.capacity_nm(rpm);
+        (ratio > 0.0 && torque > 0.0).then_some((ratio, torque))
     }
 
     /// Static clamp lost to wear, N, by the latest cover-height measurement on or before `day`

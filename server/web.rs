@@ -17,6 +17,8 @@ mod history;
 mod home;
 mod layout;
 mod login;
+mod logs;
+mod passlog;
 pub mod routes;
 pub mod serve;
 mod sheets;
@@ -27,6 +29,7 @@ use std::sync::Arc;
 use std::time::Duration;
 
 use axum::Router;
+use axum::extract::DefaultBodyLimit;
 use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::IntoResponse;
 use sqlx::SqlitePool;
@@ -51,6 +54,8 @@ pub struct AppState {
     pub sign_ins: Arc<Semaphore>,
     /// `--public-url`: the address customer links are built from (no trailing `/`).
     pub public_url: Option<Arc<str>>,
+    /// Data-log files sent and waiting for their column mapping (memory only).
+    pub staged_logs: Arc<passlog::Staging>,
 }
 
 impl AppState {
@@ -59,6 +64,7 @@ impl AppState {
             pool,
             sign_ins: Arc::new(Semaphore::new(login::SIGN_IN_SLOTS)),
             public_url: None,
+            staged_logs: passlog::staging(),
         }
     }
 
@@ -142,6 +148,17 @@ fn pages() -> Routes {
         )
         .route(SignedIn, "/builds/{id}/heights", post(entries::add_height))
         .route(SignedIn, "/builds/{id}/passes", post(entries::add_pass))
+        .route(SignedIn, "/passes/{id}", get(passlog::show))
+        .route(
+            SignedIn,
+            "/passes/{id}/log",
+            post(passlog::upload).body_limit(logs::LOG_BODY_LIMIT_BYTES),
+        )
+        .route(
+            SignedIn,
+            "/passes/{id}/log/map",
+            get(passlog::map_form).post(passlog::map_save),
+        )
         .route(
             Admin,
             "/settings",
@@ -163,6 +180,7 @@ fn pages() -> Routes {
         .route(Public, "/static/style.css", get(stylesheet))
         .route(Public, "/static/print.js", get(print_script))
         .route(Public, "/static/page.js", get(page_script))
+        .route(Public, "/static/upload.js", get(passlog::script))
 }
 
 /// Every route the application serves (pages, then the API under [`API_PREFIX`]), with who may
@@ -212,7 +230,11 @@ pub fn app(state: AppState) -> Router {
                 .compress_when(DefaultPredicate::new().and(SizeAbove::new(1024))),
         )
         .layer(CsrfLayer::new())
-        .layer(RequestBodyLimitLayer::new(BODY_LIMIT_BYTES))
+        // Every body is read through axum's limit, BODY_LIMIT_BYTES unless a route raises it
+        // (`Methods::body_limit`, the data-log uploads); a declared length past the largest
+        // of them is refused before the body is read at all.
+        .layer(DefaultBodyLimit::max(BODY_LIMIT_BYTES))
+        .layer(RequestBodyLimitLayer::new(logs::LOG_BODY_LIMIT_BYTES))
         .layer(TimeoutLayer::with_status_code(
             StatusCode::REQUEST_TIMEOUT,
             Duration::from_secs(30),

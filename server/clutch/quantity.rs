@@ -43,6 +43,12 @@ pub enum Kind {
     Seconds,
     /// A whole count.
     Count,
+    /// A short time, ms in both systems (a data log's hold window).
+    Milliseconds,
+    /// Rotating inertia, kg·m² (lb·ft² / kg·m²).
+    Inertia,
+    /// Road speed, m/s inside (mph / km/h).
+    RoadSpeed,
 }
 
 impl Kind {
@@ -54,6 +60,8 @@ impl Kind {
             Kind::Rate => units.n_per_mm_to_rate(v),
             Kind::Torque => units.nm_to_torque(v),
             Kind::VehicleMass => units.kg_to_weight(v),
+            Kind::Inertia => units.kgm2_to_inertia(v),
+            Kind::RoadSpeed => units.mps_to_road_speed(v),
             _ => v,
         }
     }
@@ -66,6 +74,8 @@ impl Kind {
             Kind::Rate => units.rate_to_n_per_mm(v),
             Kind::Torque => units.torque_to_nm(v),
             Kind::VehicleMass => units.weight_to_kg(v),
+            Kind::Inertia => units.inertia_to_kgm2(v),
+            Kind::RoadSpeed => units.road_speed_to_mps(v),
             _ => v,
         }
     }
@@ -89,6 +99,15 @@ impl Kind {
             Kind::Turns => "turns",
             Kind::Percent => "%",
             Kind::Seconds => "s",
+            Kind::Milliseconds => "ms",
+            Kind::Inertia => match units {
+                Units::Imperial => "lb·ft²",
+                Units::Metric => "kg·m²",
+            },
+            Kind::RoadSpeed => match units {
+                Units::Imperial => "mph",
+                Units::Metric => "km/h",
+            },
             Kind::Ratio | Kind::Mu | Kind::Count => "",
         }
     }
@@ -101,10 +120,15 @@ impl Kind {
                 Units::Imperial => 3,
                 Units::Metric => 2,
             },
-            Kind::Force | Kind::Torque | Kind::VehicleMass | Kind::Speed | Kind::Count => 0,
-            Kind::Grams | Kind::Rate | Kind::Percent => 1,
+            Kind::Force
+            | Kind::Torque
+            | Kind::VehicleMass
+            | Kind::Speed
+            | Kind::Count
+            | Kind::Milliseconds => 0,
+            Kind::Grams | Kind::Rate | Kind::Percent | Kind::RoadSpeed => 1,
             Kind::Ratio | Kind::ThreadsPerInch => 2,
-            Kind::Pitch | Kind::Turns | Kind::Mu | Kind::Seconds => 3,
+            Kind::Pitch | Kind::Turns | Kind::Mu | Kind::Seconds | Kind::Inertia => 3,
             Kind::ForcePerGram => 4,
         }
     }
@@ -311,6 +335,14 @@ pub mod limits {
     pub const CLAMP_LOSS: Limit = Limit::new(Force, Incl(0.0), Incl(50_000.0));
     /// Days a customer link stays valid.
     pub const LINK_DAYS: Limit = Limit::new(Count, Incl(1.0), Incl(365.0));
+    /// Slip below which a data log's clutch counts as locked.
+    pub const LOG_SLIP_ON: Limit = Limit::new(Percent, Excl(0.0), Incl(50.0));
+    /// How long the slip must stay below that for a lockup.
+    pub const LOG_HOLD: Limit = Limit::new(Milliseconds, Incl(0.0), Incl(2000.0));
+    /// Engine rotating inertia (crank, flywheel, clutch cover) for the clutch torque of a log.
+    pub const ENGINE_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(20.0));
+    /// A data-log file, bytes.
+    pub const LOG_FILE_BYTES: usize = 50 * 1024 * 1024;
 }
 
 #[cfg(test)]

@@ -197,7 +197,45 @@ impl Units {
             Units::Metric => "kg",
         }
     }
+
+    /// Rotating inertia in this system (lb·ft² or kg·m²) → kg·m².
+    pub fn inertia_to_kgm2(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v * KGM2_PER_LBFT2,
+            Units::Metric => v,
+        }
+    }
+
+    /// kg·m² → rotating inertia in this system.
+    pub fn kgm2_to_inertia(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v / KGM2_PER_LBFT2,
+            Units::Metric => v,
+        }
+    }
+
+    /// Road speed in this system (mph or km/h) → m/s.
+    pub fn road_speed_to_mps(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v * MPS_PER_MPH,
+            Units::Metric => v / 3.6,
+        }
+    }
+
+    /// m/s → road speed in this system.
+    pub fn mps_to_road_speed(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v / MPS_PER_MPH,
+            Units::Metric => v * 3.6,
+        }
+    }
 }
+
+/// kg·m² per lb·ft², exact from the pound and the foot (0.45359237 kg × 0.3048² m²).
+pub const KGM2_PER_LBFT2: f64 = KG_PER_LB * 0.3048 * 0.3048;
+
+/// m/s per mile per hour, exact (1609.344 m / 3600 s; NIST SP 811 App. B.8).
+pub const MPS_PER_MPH: f64 = 0.44704;
 
 #[cfg(test)]
 mod tests {

@@ -6,6 +6,7 @@ use super::bench::BenchTest;
 use super::builds::{Build, BuildOwner};
 use super::cars::Car;
 use super::heights::Height;
+use super::pass_logs::LogSummary;
 use super::passes::Pass;
 use super::setups::Setup;
 
@@ -21,6 +22,15 @@ pub struct Dossier {
     pub heights: Vec<Height>,
     /// Newest first.
     pub passes: Vec<Pass>,
+    /// The data logs of those passes (figures only; the files stay in the table).
+    pub logs: Vec<LogSummary>,
+}
+
+impl Dossier {
+    /// The data log of pass `pass_id`, if it has one.
+    pub fn log_of(&self, pass_id: i64) -> Option<&LogSummary> {
+        self.logs.iter().find(|l| l.pass_id == pass_id)
+    }
 }
 
 /// The build and all its records, or `None` when there is no such (live) build.
@@ -39,6 +49,7 @@ pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Op
         bench: super::bench::for_build(conn, build_id).await?,
         heights: super::heights::for_build(conn, build_id).await?,
         passes: super::passes::for_build(conn, build_id).await?,
+        logs: super::pass_logs::for_build(conn, build_id).await?,
         build,
     }))
 }

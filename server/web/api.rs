@@ -91,6 +91,21 @@ pub fn routes() -> Routes {
         .route(Token, "/calc/recommend", post(super::calc::recommend))
         .route(Token, "/calc/calibrate", post(super::calc::calibrate))
         .route(Token, "/calc/wear", post(super::calc::wear))
+        .route(
+            Token,
+            "/calc/log-analysis",
+            post(super::logs::calc).body_limit(super::logs::LOG_BODY_LIMIT_BYTES),
+        )
+        .route(
+            Token,
+            "/passes/{id}/log",
+            post(super::logs::api_store).body_limit(super::logs::LOG_BODY_LIMIT_BYTES),
+        )
+        .route(
+            Token,
+            "/passes/{id}/analysis",
+            get(super::logs::api_analysis),
+        )
 }
 
 /// Any other path under the API: a JSON 404.

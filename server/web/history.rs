@@ -74,6 +74,7 @@ fn noun(table: &str) -> &'static str {
         "bench_springs" => "a spring reading",
         "cover_heights" => "a cover-height measurement",
         "passes" => "a track pass",
+        "pass_logs" => "a pass's data log",
         "sheets" => "a setup sheet",
         "sheet_links" => "a customer link",
         "customers" => "the customer",

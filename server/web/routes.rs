@@ -67,6 +67,15 @@ impl Methods {
         self
     }
 
+    /// Accepts bodies up to `bytes` on this path (the application's limit is
+    /// [`super::BODY_LIMIT_BYTES`]; a data-log upload needs more).
+    pub fn body_limit(mut self, bytes: usize) -> Self {
+        self.router = self
+            .router
+            .layer(axum::extract::DefaultBodyLimit::max(bytes));
+        self
+    }
+
     /// Also handles PUT with `handler`.
     pub fn put<H: Handler<T, AppState>, T: 'static>(mut self, handler: H) -> Self {
         self.methods.push(Method::PUT);

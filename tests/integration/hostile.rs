@@ -452,6 +452,19 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
         ],
         "/users/{id}/password" => pairs(&[("password", "another long password")]),
         "/users/{id}/display-name" => pairs(&[("display_name", "Counter staff")]),
+        // The upload is multipart: a form body here is refused as not from the upload form.
+        "/passes/{id}/log" => Vec::new(),
+        // No upload waits under this token: the pass page says so (422).
+        "/passes/{id}/log/map" => pairs(&[
+            ("upload", "up-none"),
+            ("time", "t"),
+            ("engine_rpm", "engine"),
+            ("input_rpm", "input"),
+            ("time_unit", "auto"),
+            ("slip_on_pct", "3"),
+            ("hold_ms", "100"),
+            ("inertia", "4.7"),
+        ]),
         other => panic!("no base form for {other}"),
     }
 }
@@ -476,6 +489,19 @@ fn build_json() -> Value {
       "lever_count": 3, "lever_mass_g": 12.0, "lever_cg_radius_mm": 104.1, "lever_arm_ratio": 2.6,
       "shim_stack_mm": [0.254, 0.254, 0.508], "shimming_limit_mm": 0.381, "status": "active",
       "notes": ""})
+}
+
+/// A short launch log: engine 4800 rpm, input rising to it in 0.5 s, 100 Hz.
+fn log_csv() -> String {
+    let mut s = String::from("t,engine,input\n");
+    for k in 0..=80 {
+        let t = k as f64 * 0.01;
+        s.push_str(&format!(
+            "{t:.2},4800,{:.0}\n",
+            (9600.0 * (t - 0.05)).clamp(0.0, 4800.0)
+        ));
+    }
+    s
 }
 
 /// A valid JSON body for the route (storage units).
@@ -537,6 +563,13 @@ fn base_json(template: &str, n: u64, rng: &mut Rng) -> Value {
             "spring_rate": 390.0, "disc_wear_allowance": 0.060,
             "measurements": [{"passes": 0, "cover_height": 1.905, "shims_pulled": 0},
                              {"passes": 40, "cover_height": 1.913, "shims_pulled": 0}]}),
+        "/calc/log-analysis" => json!({"units": "imperial", "csv": log_csv(),
+            "columns": {"time": "t", "engine_rpm": "engine", "input_rpm": "input"},
+            "time_unit": "auto", "slip_on_pct": 3, "hold_ms": 100,
+            "engine": {"torque_curve": [[3000, 410], [5000, 480], [7000, 430]], "inertia": 4.7}}),
+        "/passes/{id}/log" => json!({"csv": log_csv(), "file_name": "run.csv",
+            "columns": {"time": "t", "engine_rpm": "engine", "input_rpm": "input"},
+            "engine_inertia_kgm2": 0.2}),
         other => panic!("no base JSON for {other}"),
     }
 }

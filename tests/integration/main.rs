@@ -9,6 +9,7 @@ mod counter;
 mod crash;
 mod history;
 mod hostile;
+mod logs;
 mod migrations;
 mod plans;
 mod records;

@@ -15,13 +15,14 @@ fn concrete(path: &str) -> String {
 }
 
 /// The only routes anyone may reach. Making a route public is a decision to review here.
-const PUBLIC: [(&str, &str); 7] = [
+const PUBLIC: [(&str, &str); 8] = [
     ("GET", "/login"),
     ("POST", "/login"),
     ("GET", "/healthz"),
     ("GET", "/static/style.css"),
     ("GET", "/static/print.js"),
     ("GET", "/static/page.js"),
+    ("GET", "/static/upload.js"),
     ("GET", "/s/{secret}"),
 ];
 

@@ -1,0 +1,310 @@
+use super::*;
+
+fn flat_curve(nm: f64) -> TorqueCurve {
+    TorqueCurve::new(
+        &[(3000.0, nm), (5500.0, nm), (8000.0, nm)],
+        "engine.torque_curve",
+        crate::clutch::units::Units::Metric,
+    )
+    .unwrap()
+}
+
+/// The reference's check case C12 (launch-and-logs §6, [derived]): engine 6000 rpm throughout,
+/// input 6000·t/0.8 up to 0.8 s then 6000, 100 Hz from 0 to 1 s, flat 600 N·m.
+fn worked_file() -> Series {
+    let time_s: Vec<f64> = (0..=100).map(|k| k as f64 / 100.0).collect();
+    Series {
+        engine_rpm: vec![6000.0; time_s.len()],
+        input_rpm: time_s
+            .iter()
+            .map(|&t| if t <= 0.8 { 6000.0 * t / 0.8 } else { 6000.0 })
+            .collect(),
+        time_s,
+        ..Series::default()
+    }
+}
+
+#[test]
+fn the_worked_file_locks_up_at_0_776_s_with_150_796_joules() {
+    let series = worked_file();
+    let engine = EngineModel {
+        curve: flat_curve(600.0),
+        inertia_kgm2: 0.25,
+    };
+    let a = analyze(&series, 0.01, LockupRule::default(), Some(&engine)).unwrap();
+    // slip(0.77) = 3.75 %, slip(0.78) = 2.50 %: crossing at 0.776 s [derived, reference C12].
+    assert!((a.slip_pct[77] - 3.75).abs() < 1e-9);
+    assert!((a.slip_pct[78] - 2.5).abs() < 1e-9);
+    assert!((a.lockup_s - 0.776).abs() < 1e-9, "{}", a.lockup_s);
+    // The line through 0.02–0.07 s goes through the origin: launch at 0 [derived].
+    assert!(a.launch_s.abs() < 1e-9, "{}", a.launch_s);
+    // 600 N·m × 628.3185 rad/s × 0.4 s = 150 796 J (trapezoid exact on a straight line) [derived].
+    let e = a.slip_energy_j.unwrap();
+    assert!(
+        (e - 600.0 * 200.0 * std::f64::consts::PI * 0.4).abs() < 1e-6,
+        "{e}"
+    );
+    assert!((e - 150_796.0).abs() < 1.0);
+    // Peak slip power 600 × 628.3185 = 377.0 kW at launch [derived].
+    assert!((a.peak_slip_power_w.unwrap() - 376_991.1).abs() < 0.1);
+    assert_eq!(
+        (a.launch_engine_rpm, a.min_engine_rpm, a.lockup_engine_rpm),
+        (6000.0, 6000.0, 6000.0)
+    );
+    assert_eq!(a.samples, 101);
+    assert!((a.sample_rate_hz - 100.0).abs() < 1e-9);
+    // The energy window runs to the end of the hold: 0.78 + 0.10 s.
+    assert_eq!(a.window, (0, 88));
+}
+
+#[test]
+fn without_an_engine_there_is_no_torque_or_energy_but_the_events_stand() {
+    let a = analyze(&worked_file(), 0.01, LockupRule::default(), None).unwrap();
+    assert!(a.slip_energy_j.is_none() && a.clutch_torque_nm.is_none());
+    assert!((a.lockup_s - 0.776).abs() < 1e-9);
+    assert_eq!(a.notes.len(), 1);
+}
+
+#[test]
+fn a_longer_hold_than_the_file_allows_finds_no_lockup() {
+    let rule = LockupRule {
+        slip_on_pct: 3.0,
+        hold_s: 0.5,
+    };
+    let err = analyze(&worked_file(), 0.01, rule, None).unwrap_err();
+    assert_eq!(err.field, "columns.input_rpm");
+    assert!(err.message.contains("no lockup found"), "{}", err.message);
+}
+
+#[test]
+fn an_input_that_never_turns_has_no_launch() {
+    let mut s = worked_file();
+    s.input_rpm.fill(50.0);
+    let err = analyze(&s, 0.01, LockupRule::default(), None).unwrap_err();
+    assert!(err.message.contains("no launch found"), "{}", err.message);
+}
+
+#[test]
+fn too_few_samples_are_refused() {
+    let mut s = worked_file();
+    s.time_s.truncate(9);
+    let err = analyze(&s, 0.01, LockupRule::default(), None).unwrap_err();
+    assert_eq!(err.field, "csv");
+}
+
+/// A small launch generator (the project's own, for these tests only): two inertias joined by
+/// a clutch whose torque ramps linearly from 0 at launch to `clutch_nm` over `ramp_s`, the
+/// engine making a flat `engine_nm` (reference §1.5, slip mode, no road load), integrated at
+/// 10 µs with the midpoint rule and sampled every `dt`. Locked, both accelerate together.
+/// Returns the samples, the true crossing of 3 % slip and the true slip energy ∫T·Δω dt.
+struct Launch {
+    engine_nm: f64,
+    clutch_nm: f64,
+    ramp_s: f64,
+    i_engine: f64,
+    j_driven: f64,
+    start_rpm: f64,
+    launch_s: f64,
+}
+
+impl Launch {
+    fn run(&self, dt: f64, end_s: f64) -> (Series, f64, f64) {
+        let h = 1e-5;
+        let per_sample = (dt / h).round() as usize;
+        let steps = (end_s / h).round() as usize;
+        let (mut we, mut wi) = (rpm_to_rad_s(self.start_rpm), 0.0f64);
+        let mut locked = false;
+        let mut energy = 0.0;
+        let mut crossing = None;
+        let mut s = Series {
+            clutch_switch: Some(Vec::new()),
+            ..Series::default()
+        };
+        let torque = |t: f64| {
+            if t < self.launch_s {
+                0.0
+            } else {
+                self.clutch_nm * ((t - self.launch_s) / self.ramp_s).min(1.0)
+            }
+        };
+        let rates = |t: f64, we: f64, wi: f64, locked: bool| {
+            if locked {
+                let a = self.engine_nm / (self.i_engine + self.j_driven);
+                (a, a)
+            } else {
+                let tc = torque(t);
+                let _ = (we, wi);
+                ((self.engine_nm - tc) / self.i_engine, tc / self.j_driven)
+            }
+        };
+        for k in 0..=steps {
+            let t = k as f64 * h;
+            if k % per_sample == 0 {
+                s.time_s.push(t);
+                s.engine_rpm.push(we / super::super::units::RAD_S_PER_RPM);
+                s.input_rpm.push(wi / super::super::units::RAD_S_PER_RPM);
+                s.clutch_switch
+                    .as_mut()
+                    .unwrap()
+                    .push(if t >= self.launch_s - 1e-12 { 1.0 } else { 0.0 });
+            }
+            let (ae, ai) = rates(t, we, wi, locked);
+            let (me, mi) = (we + ae * h / 2.0, wi + ai * h / 2.0);
+            let (ae, ai) = rates(t + h / 2.0, me, mi, locked);
+            if !locked {
+                energy += torque(t + h / 2.0) * (me - mi) * h;
+            }
+            let before = 100.0 * (we - wi) / we;
+            we += ae * h;
+            wi += ai * h;
+            let after = 100.0 * (we - wi) / we;
+            if crossing.is_none() && t >= self.launch_s && before >= 3.0 && after < 3.0 {
+                crossing = Some(t + h * (before - 3.0) / (before - after));
+            }
+            if !locked && t >= self.launch_s && wi >= we {
+                locked = true;
+                wi = we;
+            }
+        }
+        (s, crossing.unwrap(), energy)
+    }
+}
+
+const GENERATED: Launch = Launch {
+    engine_nm: 600.0,
+    clutch_nm: 800.0,
+    ramp_s: 0.05,
+    i_engine: 0.25,
+    j_driven: 2.0,
+    start_rpm: 5000.0,
+    launch_s: 0.05,
+};
+
+#[test]
+fn a_generated_launch_is_read_back_within_one_sample_and_half_a_percent() {
+    let dt = 0.005;
+    let (series, true_lockup, true_energy) = GENERATED.run(dt, 1.2);
+    let engine = EngineModel {
+        curve: flat_curve(600.0),
+        inertia_kgm2: 0.25,
+    };
+    let a = analyze(&series, dt, LockupRule::default(), Some(&engine)).unwrap();
+    assert!(
+        (a.launch_s - GENERATED.launch_s).abs() < 1e-9,
+        "{}",
+        a.launch_s
+    );
+    assert!(
+        (a.lockup_s - true_lockup).abs() <= dt,
+        "lockup {} against {true_lockup}",
+        a.lockup_s
+    );
+    let e = a.slip_energy_j.unwrap();
+    assert!(
+        ((e - true_energy) / true_energy).abs() < 0.005,
+        "energy {e} against {true_energy}"
+    );
+    // The clutch torque read from the engine's slowing matches the generator's mid-slip.
+    let mid = a.calibration_samples(&series.time_s);
+    let tc = a.clutch_torque_nm.as_ref().unwrap();
+    let i = (mid.start + mid.end) / 2;
+    assert!((tc[i] - 800.0).abs() < 8.0, "{}", tc[i]);
+}
+
+#[test]
+fn the_three_sample_rule_finds_a_generated_launch_within_one_sample() {
+    // Full clamp at once: the input speed rises in a straight line from the launch, so the
+    // line moved back to zero lands on it.
+    let launch = Launch {
+        ramp_s: 1e-5,
+        launch_s: 0.1,
+        ..GENERATED
+    };
+    let dt = 0.004;
+    let (mut series, true_lockup, _) = launch.run(dt, 1.2);
+    series.clutch_switch = None;
+    let a = analyze(&series, dt, LockupRule::default(), None).unwrap();
+    assert!((a.launch_s - 0.1).abs() <= dt, "{}", a.launch_s);
+    assert!((a.lockup_s - true_lockup).abs() <= dt);
+}
+
+#[test]
+fn blanks_are_interpolated_in_time_and_held_at_the_ends() {
+    let t = [0.0, 1.0, 3.0, 4.0, 5.0];
+    let mut v = [f64::NAN, 10.0, f64::NAN, 40.0, f64::NAN];
+    fill_blanks(&t, &mut v).unwrap();
+    // 10 at t = 1 and 40 at t = 4: at t = 3, 10 + 30·2/3 = 30.
+    assert_eq!(v, [10.0, 10.0, 30.0, 40.0, 40.0]);
+    assert!(fill_blanks(&t, &mut [f64::NAN; 5]).is_none());
+}
+
+#[test]
+fn an_uneven_clock_is_resampled_at_its_median_step() {
+    let mut s = Series {
+        time_s: vec![10.0, 10.01, 10.02, 10.035, 10.04, 10.05],
+        engine_rpm: vec![0.0, 10.0, 20.0, 35.0, 40.0, 50.0],
+        input_rpm: vec![0.0; 6],
+        ..Series::default()
+    };
+    let (dt, moved) = to_uniform_clock(&mut s).unwrap();
+    assert!(moved);
+    assert!((dt - 0.01).abs() < 1e-12);
+    assert_eq!(s.time_s.len(), 6);
+    // engine = 1000·(t − 10) throughout, so every resampled value lies on that line.
+    for (t, e) in s.time_s.iter().zip(&s.engine_rpm) {
+        assert!((e - 1000.0 * t).abs() < 1e-6, "{t} {e}");
+    }
+}
+
+#[test]
+fn a_clock_too_uneven_to_resample_is_refused() {
+    let mut s = Series {
+        time_s: vec![0.0, 1e-9, 2e-9, 3e-9, 1e6],
+        engine_rpm: vec![0.0; 5],
+        input_rpm: vec![0.0; 5],
+        ..Series::default()
+    };
+    assert!(to_uniform_clock(&mut s).is_none());
+}
+
+#[test]
+fn millisecond_clocks_are_told_from_seconds_by_the_median_step() {
+    assert!(looks_like_ms(&[0.0, 1.0, 2.0, 3.0]));
+    assert!(looks_like_ms(&[0.0, 0.5, 1.0, 1.5]));
+    assert!(!looks_like_ms(&[0.0, 0.01, 0.02, 0.9]));
+}
+
+#[test]
+fn the_derivative_window_spans_60_ms_and_at_least_5_samples() {
+    // 100 Hz: 6 steps = 60 ms → 7 samples; 1000 Hz → 61; 20 Hz → 5 (the minimum).
+    assert_eq!(derivative_window(0.01), 7);
+    assert_eq!(derivative_window(0.001), 61);
+    assert_eq!(derivative_window(0.05), 5);
+    assert_eq!(derivative_window(0.004), 17);
+    // 100 kHz would need 6001: capped.
+    assert_eq!(derivative_window(0.00001), DERIVATIVE_MAX_SAMPLES);
+}
+
+#[test]
+fn tyre_spin_needs_fifteen_percent_for_fifty_milliseconds() {
+    let t: Vec<f64> = (0..100).map(|k| k as f64 * 0.01).collect();
+    let undriven = vec![10.0; 100];
+    let mut driven = vec![10.0; 100];
+    // 20 % over for 0.20–0.29 s (10 samples = 100 ms), 16 % over for 0.50–0.52 (30 ms).
+    for v in &mut driven[20..30] {
+        *v = 12.0;
+    }
+    for v in &mut driven[50..53] {
+        *v = 11.6;
+    }
+    assert_eq!(tire_spin(&t, &driven, &undriven), vec![[0.2, 0.29]]);
+}
+
+#[test]
+fn the_calibration_value_is_the_median_ratio() {
+    let pairs = [[6000.0, 600.0], [6000.0, 660.0], [6000.0, 5000.0]];
+    // C = 2000 N·m at μ = 1: ratios 0.30, 0.33, 2.5 → median 0.33.
+    let r = median_ratio(&pairs, |_| 2000.0).unwrap();
+    assert!((r - 0.33).abs() < 1e-12);
+    assert!(median_ratio(&pairs, |_| 0.0).is_none());
+}

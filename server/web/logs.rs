@@ -1,0 +1,221 @@
+//! Data logs of passes: the analysis of any CSV sent to the calculation API, a pass's file
+//! stored through the API and its analysis read back. The file is read and analysed before
+//! anything is written; a file that cannot be read or analysed saves nothing.
+
+use axum::Json;
+use axum::extract::State;
+use serde::Deserialize;
+use sqlx::SqliteConnection;
+
+use super::AppState;
+use super::extract::{ApiJson, ApiUser, CurrentUser, PathId};
+use crate::clutch::InputError;
+use crate::clutch::log_analysis::{
+    CarFacts, LogAnalysisReport, LogAnalysisRequest, LogColumns, LogResult, LogSettings, TimeUnit,
+};
+use crate::clutch::quantity::limits;
+use crate::clutch::units::Units;
+use crate::db;
+use crate::db::cars::Car;
+use crate::db::passes::Pass;
+use crate::error::{ApiError, ApiResult, AppError};
+
+/// Largest body of a log upload: the largest file, with room for JSON escaping or the
+/// multipart envelope.
+pub const LOG_BODY_LIMIT_BYTES: usize = limits::LOG_FILE_BYTES + limits::LOG_FILE_BYTES / 4;
+
+fn invalid(err: InputError) -> ApiError {
+    ApiError(AppError::field(&err.field, err.message))
+}
+
+/// POST /api/v1/calc/log-analysis.
+pub async fn calc(
+    _: ApiUser,
+    ApiJson(req): ApiJson<LogAnalysisRequest>,
+) -> ApiResult<LogAnalysisReport> {
+    // Parsing a large file is CPU work: off the async threads.
+    tokio::task::spawn_blocking(move || crate::clutch::log_analysis::analyze_request(&req))
+        .await
+        .map_err(|e| ApiError(AppError::Internal(e.to_string())))?
+        .map(Json)
+        .map_err(invalid)
+}
+
+/// A pass with its car and the shop's units.
+pub struct PassCar {
+    pub pass: Pass,
+    pub car: Car,
+    pub units: Units,
+}
+
+/// The pass `id` (of a live customer) with its car.
+pub async fn pass_car(conn: &mut SqliteConnection, id: i64) -> Result<Option<PassCar>, AppError> {
+    let Some(pass) = db::passes::by_id(conn, id).await? else {
+        return Ok(None);
+    };
+    let Some(build) = db::builds::by_id(conn, pass.build_id).await? else {
+        return Ok(None);
+    };
+    let Some(car) = db::cars::by_id(conn, build.car_id).await? else {
+        return Ok(None);
+    };
+    let units = db::settings::get(conn).await?.units();
+    Ok(Some(PassCar { pass, car, units }))
+}
+
+impl PassCar {
+    fn facts(&self) -> CarFacts<'_> {
+        let c = &self.car.data;
+        CarFacts {
+            first_gear_ratio: c.first_gear_ratio,
+            final_drive_ratio: c.final_drive_ratio,
+            tire_diameter_mm: c.tire_diameter_mm,
+            torque_curve_nm: &c.torque_curve_nm,
+        }
+    }
+
+    /// Reads and analyses `text` with `settings` for this pass's car (CPU work, off the async
+    /// threads).
+    pub async fn analyse(
+        &self,
+        settings: &LogSettings,
+        text: std::sync::Arc<Vec<u8>>,
+    ) -> Result<LogResult, InputError> {
+        let valid = settings.valid(self.facts(), self.units)?;
+        tokio::task::spawn_blocking(move || valid.run(&text))
+            .await
+            .map_err(|e| InputError::new("csv", format!("the analysis stopped: {e}")))?
+    }
+}
+
+/// Stores a pass's log and remembers its settings for the car, in the caller's transaction.
+pub async fn save(
+    conn: &mut SqliteConnection,
+    pc: &PassCar,
+    user: &CurrentUser,
+    file_name: &str,
+    text: &[u8],
+    settings: &LogSettings,
+    result: &LogResult,
+) -> Result<(), AppError> {
+    let a = &result.analysis;
+    let window = result.calibration_pairs();
+    db::pass_logs::put(
+        conn,
+        &db::pass_logs::NewLog {
+            pass_id: pc.pass.id,
+            user_id: user.id,
+            file_name,
+            text,
+            settings,
+            sample_rate_hz: a.sample_rate_hz,
+            launch_s: a.launch_s,
+            lockup_s: a.lockup_s,
+            lockup_engine_rpm: a.lockup_engine_rpm,
+            slip_energy_j: a.slip_energy_j,
+            peak_slip_power_w: a.peak_slip_power_w,
+            slip_window: &window,
+        },
+    )
+    .await?;
+    db::pass_logs::remember(conn, pc.car.id, settings).await?;
+    Ok(())
+}
+
+/// POST /api/v1/passes/{id}/log body: the file and how to read it (storage units). Without
+/// `columns`, the mapping remembered for the car is used.
+#[derive(Debug, Deserialize)]
+pub struct PassLogBody {
+    pub csv: String,
+    #[serde(default)]
+    pub file_name: String,
+    pub columns: Option<LogColumns>,
+    pub time_unit: Option<TimeUnit>,
+    pub slip_on_pct: Option<f64>,
+    pub hold_ms: Option<f64>,
+    /// kg·m²; default the one remembered for the car.
+    pub engine_inertia_kgm2: Option<f64>,
+}
+
+/// POST /api/v1/passes/{id}/log: analyse the file with the car's data and keep it with the
+/// pass; answers the analysis (N·m, storage units).
+pub async fn api_store(
+    State(state): State<AppState>,
+    ApiUser(user): ApiUser,
+    PathId(id): PathId,
+    ApiJson(body): ApiJson<PassLogBody>,
+) -> ApiResult<LogAnalysisReport> {
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let pc = pass_car(&mut conn, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let remembered = db::pass_logs::mapping(&mut conn, pc.car.id)
+        .await
+        .map_err(AppError::from)?
+        .unwrap_or_default();
+    drop(conn);
+    let settings = LogSettings {
+        columns: body.columns.unwrap_or(remembered.columns),
+        time_unit: body.time_unit.unwrap_or(remembered.time_unit),
+        slip_on_pct: body.slip_on_pct.unwrap_or(remembered.slip_on_pct),
+        hold_ms: body.hold_ms.unwrap_or(remembered.hold_ms),
+        engine_inertia_kgm2: body.engine_inertia_kgm2.or(remembered.engine_inertia_kgm2),
+    };
+    if let Some(i) = settings.engine_inertia_kgm2 {
+        limits::ENGINE_INERTIA
+            .check("engine_inertia_kgm2", i, Units::Metric)
+            .map_err(invalid)?;
+    }
+    let text = std::sync::Arc::new(body.csv.into_bytes());
+    let result = pc.analyse(&settings, text.clone()).await.map_err(invalid)?;
+    let mut tx = state.write(&user).await.map_err(AppError::from)?;
+    // The pass may have gone (its customer deleted) while the file was read.
+    if db::passes::by_id(&mut tx, id)
+        .await
+        .map_err(AppError::from)?
+        .is_none()
+    {
+        return Err(ApiError(AppError::NotFound));
+    }
+    save(
+        &mut tx,
+        &pc,
+        &user,
+        &body.file_name,
+        &text,
+        &settings,
+        &result,
+    )
+    .await?;
+    tx.commit().await.map_err(AppError::from)?;
+    Ok(Json(result.report(Units::Metric)))
+}
+
+/// GET /api/v1/passes/{id}/analysis: the stored file analysed again (N·m, storage units).
+pub async fn api_analysis(
+    State(state): State<AppState>,
+    _: ApiUser,
+    PathId(id): PathId,
+) -> ApiResult<LogAnalysisReport> {
+    let (pc, stored) = stored(&state, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let result = pc
+        .analyse(&stored.settings, std::sync::Arc::new(stored.text))
+        .await
+        .map_err(invalid)?;
+    Ok(Json(result.report(Units::Metric)))
+}
+
+/// A pass with its stored file, or `None` when either is missing.
+pub async fn stored(
+    state: &AppState,
+    id: i64,
+) -> Result<Option<(PassCar, db::pass_logs::StoredFile)>, AppError> {
+    let mut conn = state.pool.acquire().await?;
+    let Some(pc) = pass_car(&mut conn, id).await? else {
+        return Ok(None);
+    };
+    let file = db::pass_logs::file(&mut conn, id, limits::LOG_FILE_BYTES).await?;
+    Ok(file.map(|f| (pc, f)))
+}

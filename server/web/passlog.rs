@@ -1,0 +1,852 @@
+//! A pass's page (its data log's traces, events and figures) and the upload of a log: the file
+//! is sent (its layout read at once, so an unreadable file is refused before anything is kept),
+//! held in memory for the mapping step, then read with the columns chosen from its own header
+//! names and stored with the pass. Nothing is written to the database before the analysis has
+//! succeeded.
+
+use std::sync::{Arc, Mutex};
+use std::time::{Duration, Instant};
+
+use askama::Template;
+use axum::extract::{Multipart, Query, State};
+use axum::http::StatusCode;
+use axum::response::{Html, IntoResponse, Redirect, Response};
+
+use super::AppState;
+use super::chart::Chart;
+use super::extract::{CurrentUser, PathId, SignedForm};
+use super::layout::Layout;
+use super::logs::{PassCar, pass_car, save};
+use crate::clutch::InputError;
+use crate::clutch::log_analysis::{LogColumns, LogResult, LogSettings, TimeUnit};
+use crate::clutch::logfile;
+use crate::clutch::quantity::{Kind, limits};
+use crate::db;
+use crate::db::pass_logs::LogSummary;
+use crate::error::{AppError, AppResult};
+use crate::records::FieldErrors;
+
+/// Uploads waiting for their mapping, at most this many at once (the oldest goes first).
+const STAGED_MAX: usize = 6;
+/// How long an upload waits for its mapping.
+const STAGED_FOR: Duration = Duration::from_secs(3600);
+
+/// A file sent but not yet mapped, kept deflated in memory (never in the database).
+struct Staged {
+    token: String,
+    pass_id: i64,
+    user_id: i64,
+    name: String,
+    deflated: Vec<u8>,
+    at: Instant,
+}
+
+/// Uploads waiting for their mapping.
+#[derive(Default)]
+pub struct Staging(Mutex<Vec<Staged>>);
+
+impl Staging {
+    fn put(&self, s: Staged) {
+        let mut all = self.0.lock().unwrap_or_else(|e| e.into_inner());
+        all.retain(|x| x.at.elapsed() < STAGED_FOR && x.pass_id != s.pass_id);
+        if all.len() >= STAGED_MAX {
+            all.remove(0);
+        }
+        all.push(s);
+    }
+
+    /// (file name, text) of an upload for this pass and user.
+    fn get(&self, token: &str, pass_id: i64, user_id: i64) -> Option<(String, Vec<u8>)> {
+        let all = self.0.lock().unwrap_or_else(|e| e.into_inner());
+        let s = all.iter().find(|s| {
+            s.token == token
+                && s.pass_id == pass_id
+                && s.user_id == user_id
+                && s.at.elapsed() < STAGED_FOR
+        })?;
+        let text = db::pass_logs::inflate(&s.deflated, limits::LOG_FILE_BYTES).ok()?;
+        Some((s.name.clone(), text))
+    }
+
+    fn drop_token(&self, token: &str) {
+        let mut all = self.0.lock().unwrap_or_else(|e| e.into_inner());
+        all.retain(|s| s.token != token);
+    }
+}
+
+/// One trace chart and what it shows.
+pub struct TraceChart {
+    pub chart: Chart,
+}
+
+#[derive(Template)]
+#[template(path = "passes/show.html")]
+pub struct PassPage {
+    pub page: Layout,
+    /// Other passes of the build with a log: (id, label), for the comparison.
+    pub others: Vec<(i64, String)>,
+    pub compare: Option<i64>,
+    pub pc: PassCar,
+    pub build_label: String,
+    pub log: Option<LogSummary>,
+    /// Charts of the stored log (speeds, slip, slip power).
+    pub charts: Vec<TraceChart>,
+    /// The analysis of the stored file, when it reads.
+    pub figures: Vec<(&'static str, String)>,
+    pub notes: Vec<String>,
+    /// The friction value this pass contributes to the calibration, in words.
+    pub calibration: Option<String>,
+    /// Why the stored file does not read any more (the method changed), if so.
+    pub problem: Option<String>,
+    pub upload_error: Option<String>,
+}
+
+impl PassPage {
+    /// Whether pass `id` is the one drawn beside this one.
+    pub fn is_compared(&self, id: &i64) -> bool {
+        self.compare == Some(*id)
+    }
+}
+
+/// Every other sample at most `n` points (the charts need no more than the pixels they have).
+fn thin(n: usize, len: usize) -> usize {
+    len.div_ceil(n).max(1)
+}
+
+fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
+    let s = &r.series;
+    let a = &r.analysis;
+    let step = thin(900, s.time_s.len());
+    let idx: Vec<usize> = (0..s.time_s.len()).step_by(step).collect();
+    let t_end = *s.time_s.last().unwrap_or(&1.0);
+    let mark = |c: &mut Chart, f: &super::chart::Frame| {
+        c.mark_x(
+            f,
+            "launch",
+            format!("launch {:.3} s", a.launch_s),
+            a.launch_s,
+        );
+        c.mark_x(
+            f,
+            "lockup",
+            format!("lockup {:.3} s", a.lockup_s),
+            a.lockup_s,
+        );
+        for [x, y] in &a.tire_spin {
+            c.mark_x(f, "spin", format!("tyre spin {x:.2}–{y:.2} s"), *x);
+        }
+    };
+    let mut out = Vec::new();
+    let top = s
+        .engine_rpm
+        .iter()
+        .chain(&s.input_rpm)
+        .copied()
+        .fold(0.0, f64::max);
+    let (mut c, f) = Chart::new(
+        "Engine and input shaft speed",
+        "time from the file's start, s",
+        "rpm",
+        (0.0, t_end),
+        (0.0, top * 1.05),
+    );
+    let pts = |v: &[f64]| -> Vec<(f64, f64)> { idx.iter().map(|&i| (s.time_s[i], v[i])).collect() };
+    c.line(&f, "engine", "engine", &pts(&s.engine_rpm));
+    c.line(&f, "input", "input", &pts(&s.input_rpm));
+    // Locked, both lines end together: keep their labels apart.
+    if let [.., e, i] = c.series.as_mut_slice()
+        && (e.label_y - i.label_y).abs() < 13.0
+    {
+        i.label_y = e.label_y + 13.0;
+    }
+    mark(&mut c, &f);
+    out.push(TraceChart { chart: c });
+    let slip: Vec<f64> = a.slip_pct.iter().map(|v| v.clamp(-5.0, 100.0)).collect();
+    let (mut c, f) = Chart::new(
+        "Clutch slip",
+        "time from the file's start, s",
+        "slip, %",
+        (0.0, t_end),
+        (-5.0, 100.0),
+    );
+    c.line(&f, "slip", "slip", &pts(&slip));
+    mark(&mut c, &f);
+    out.push(TraceChart { chart: c });
+    if let (Some(p), true) = (&a.slip_power_w, shown_torque) {
+        let kw: Vec<f64> = p.iter().map(|w| w / 1000.0).collect();
+        let peak = kw.iter().copied().fold(1.0, f64::max);
+        let (mut c, f) = Chart::new(
+            "Slip power",
+            "time from the file's start, s",
+            "kW",
+            (0.0, t_end),
+            (0.0, peak * 1.05),
+        );
+        c.line(&f, "power", "slip power", &pts(&kw));
+        mark(&mut c, &f);
+        out.push(TraceChart { chart: c });
+    }
+    out
+}
+
+/// GET /passes/{id}.
+pub async fn show(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+    Query(q): Query<CompareQuery>,
+) -> AppResult<Response> {
+    let compare = q.compare.trim().parse::<i64>().ok().filter(|&c| c != id);
+    render_with(&state, &user, id, None, StatusCode::OK, compare).await
+}
+
+/// `?compare=<pass id>`: another logged pass of the same build drawn over this one.
+#[derive(Debug, Default, serde::Deserialize)]
+#[serde(default)]
+pub struct CompareQuery {
+    compare: String,
+}
+
+async fn render(
+    state: &AppState,
+    user: &CurrentUser,
+    id: i64,
+    upload_error: Option<String>,
+    status: StatusCode,
+) -> AppResult<Response> {
+    render_with(state, user, id, upload_error, status, None).await
+}
+
+/// Engine and input speed of two passes against time from each one's launch.
+fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult)) -> Chart {
+    let shifted = |r: &LogResult, v: &[f64]| -> Vec<(f64, f64)> {
+        let s = &r.series;
+        let step = thin(700, s.time_s.len());
+        (0..s.time_s.len())
+            .step_by(step)
+            .map(|i| (s.time_s[i] - r.analysis.launch_s, v[i]))
+            .filter(|(t, _)| *t >= -0.2)
+            .collect()
+    };
+    let span = |r: &LogResult| *r.series.time_s.last().unwrap_or(&1.0) - r.analysis.launch_s;
+    let top = [this.1, other.1]
+        .iter()
+        .flat_map(|r| r.series.engine_rpm.iter().chain(&r.series.input_rpm))
+        .copied()
+        .fold(0.0, f64::max);
+    let (mut c, f) = Chart::new(
+        "Two passes, time from each launch",
+        "time from launch, s",
+        "rpm",
+        (-0.2, span(this.1).max(span(other.1))),
+        (0.0, top * 1.05),
+    );
+    let (a, b) = (this.1, other.1);
+    c.line(
+        &f,
+        "engine",
+        &format!("engine {}", this.0),
+        &shifted(a, &a.series.engine_rpm),
+    );
+    c.line(
+        &f,
+        "input",
+        &format!("input {}", this.0),
+        &shifted(a, &a.series.input_rpm),
+    );
+    c.line(
+        &f,
+        "before",
+        &format!("engine {}", other.0),
+        &shifted(b, &b.series.engine_rpm),
+    );
+    c.line(
+        &f,
+        "static",
+        &format!("input {}", other.0),
+        &shifted(b, &b.series.input_rpm),
+    );
+    c.mark_x(
+        &f,
+        "lockup",
+        format!("lockup {}", this.0),
+        a.analysis.lockup_s - a.analysis.launch_s,
+    );
+    c.mark_x(
+        &f,
+        "launch",
+        format!("lockup {}", other.0),
+        b.analysis.lockup_s - b.analysis.launch_s,
+    );
+    // Labels of lines ending together are spread out.
+    let mut ys: Vec<usize> = (0..c.series.len()).collect();
+    ys.sort_by(|&i, &j| c.series[i].label_y.total_cmp(&c.series[j].label_y));
+    for k in 1..ys.len() {
+        let (prev, cur) = (ys[k - 1], ys[k]);
+        if c.series[cur].label_y - c.series[prev].label_y < 12.0 {
+            c.series[cur].label_y = c.series[prev].label_y + 12.0;
+        }
+    }
+    c
+}
+
+async fn render_with(
+    state: &AppState,
+    user: &CurrentUser,
+    id: i64,
+    upload_error: Option<String>,
+    status: StatusCode,
+    compare: Option<i64>,
+) -> AppResult<Response> {
+    let mut conn = state.pool.acquire().await?;
+    let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let (page, settings) = Layout::load(
+        &mut conn,
+        user,
+        "customers",
+        format!("Pass on {}", pc.pass.data.run_on),
+    )
+    .await?;
+    let build = db::builds::by_id(&mut conn, pc.pass.build_id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let build_label = if build.data.label.is_empty() {
+        format!("Clutch build #{}", build.id)
+    } else {
+        build.data.label.clone()
+    };
+    let log = db::pass_logs::summary(&mut conn, id).await?;
+    let passes = db::passes::for_build(&mut conn, pc.pass.build_id).await?;
+    let logged = db::pass_logs::for_build(&mut conn, pc.pass.build_id).await?;
+    let others: Vec<(i64, String)> = passes
+        .iter()
+        .filter(|p| p.id != id)
+        .filter_map(|p| {
+            let l = logged.iter().find(|l| l.pass_id == p.id)?;
+            Some((
+                p.id,
+                format!(
+                    "{} · lockup {:.3} s after launch",
+                    p.data.run_on,
+                    l.lockup_after_launch_s()
+                ),
+            ))
+        })
+        .collect();
+    let compare_file = match compare.filter(|c| others.iter().any(|o| o.0 == *c)) {
+        Some(c) => db::pass_logs::file(&mut conn, c, limits::LOG_FILE_BYTES)
+            .await?
+            .map(|f| (c, f)),
+        None => None,
+    };
+    let compare_day = compare_file.as_ref().and_then(|(c, _)| {
+        passes
+            .iter()
+            .find(|p| p.id == *c)
+            .map(|p| p.data.run_on.clone())
+    });
+    let stored = match log {
+        Some(_) => db::pass_logs::file(&mut conn, id, limits::LOG_FILE_BYTES).await?,
+        None => None,
+    };
+    let calibration = match &log {
+        Some(l) => {
+            let dossier = db::dossier::load(&mut conn, pc.pass.build_id).await?;
+            dossier.and_then(|d| {
+                crate::model::BuildFacts::of(&d, &settings)
+                    .log_value(&d, &pc.pass, l)
+                    .map(|(mu, tc)| {
+                        format!(
+                            "μ {mu:.3} (median of clutch torque over capacity at μ = 1 from launch + 50 ms to lockup − 50 ms), fed to the calibration as {} carried at {}",
+                            page.u.torque(tc),
+                            page.u.rpm(pc.pass.data.observed_lockup_rpm.unwrap_or(l.lockup_engine_rpm))
+                        )
+                    })
+            })
+        }
+        None => None,
+    };
+    drop(conn);
+    let (mut charts_v, mut figures, mut notes, mut problem) =
+        (Vec::new(), Vec::new(), Vec::new(), None);
+    if let Some(file) = stored {
+        match pc.analyse(&file.settings, Arc::new(file.text)).await {
+            Ok(r) => {
+                let a = &r.analysis;
+                let u = &page.u;
+                figures.push((
+                    "Samples",
+                    format!(
+                        "{} at {:.0} Hz (time read in {})",
+                        a.samples,
+                        a.sample_rate_hz,
+                        if r.ms { "ms" } else { "s" }
+                    ),
+                ));
+                figures.push((
+                    "Launch",
+                    format!("{:.3} s, engine {}", a.launch_s, u.rpm(a.launch_engine_rpm)),
+                ));
+                figures.push((
+                    "Lockup",
+                    format!(
+                        "{:.3} s ({:.3} s after launch), engine {}",
+                        a.lockup_s,
+                        a.lockup_s - a.launch_s,
+                        u.rpm(a.lockup_engine_rpm)
+                    ),
+                ));
+                figures.push(("Lowest engine speed", u.rpm(a.min_engine_rpm)));
+                figures.push((
+                    "Slip energy",
+                    a.slip_energy_j.map_or("– (no engine inertia)".into(), |e| {
+                        format!("{:.1} kJ", e / 1000.0)
+                    }),
+                ));
+                figures.push((
+                    "Peak slip power",
+                    a.peak_slip_power_w
+                        .map_or("–".into(), |p| format!("{:.1} kW", p / 1000.0)),
+                ));
+                figures.push((
+                    "Tyre spin",
+                    if a.tire_spin.is_empty() {
+                        "none found".into()
+                    } else {
+                        a.tire_spin
+                            .iter()
+                            .map(|[x, y]| format!("{x:.2}–{y:.2} s"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    },
+                ));
+                notes = a.notes.clone();
+                charts_v = charts(&r, true);
+                if let (Some((_, file)), Some(day)) = (compare_file, &compare_day)
+                    && let Ok(other) = pc.analyse(&file.settings, Arc::new(file.text)).await
+                {
+                    let this_day = pc.pass.data.run_on.clone();
+                    charts_v.insert(
+                        0,
+                        TraceChart {
+                            chart: compare_chart((&this_day, &r), (day, &other)),
+                        },
+                    );
+                }
+            }
+            Err(e) => problem = Some(format!("{}: {}", e.field, e.message)),
+        }
+    }
+    let page = PassPage {
+        page,
+        others,
+        compare,
+        pc,
+        build_label,
+        log,
+        charts: charts_v,
+        figures,
+        notes,
+        calibration,
+        problem,
+        upload_error,
+    };
+    Ok((status, Html(page.render()?)).into_response())
+}
+
+/// POST /passes/{id}/log: the file (multipart, with the CSRF token), its layout read at once;
+/// on to the mapping.
+pub async fn upload(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+    multipart: Result<Multipart, axum::extract::multipart::MultipartRejection>,
+) -> AppResult<Response> {
+    // Until the form's token has been read and matched, a body that is not our upload form is
+    // a form that did not come from Lockpoint.
+    let Ok(mut multipart) = multipart else {
+        return Err(AppError::BadCsrf);
+    };
+    let (mut csrf, mut name, mut text) = (String::new(), String::new(), None::<Vec<u8>>);
+    let unread = |csrf: &str| {
+        if crate::auth::same_secret(csrf, &user.csrf) {
+            AppError::BadRequest
+        } else {
+            AppError::BadCsrf
+        }
+    };
+    loop {
+        let field = match multipart.next_field().await {
+            Ok(Some(f)) => f,
+            Ok(None) => break,
+            Err(e) if e.status() == StatusCode::PAYLOAD_TOO_LARGE => {
+                return render(
+                    &state,
+                    &user,
+                    id,
+                    Some(too_large()),
+                    StatusCode::PAYLOAD_TOO_LARGE,
+                )
+                .await;
+            }
+            Err(_) => return Err(unread(&csrf)),
+        };
+        match field.name() {
+            Some("_csrf") => csrf = field.text().await.map_err(|_| AppError::BadCsrf)?,
+            Some("file") => {
+                name = field.file_name().unwrap_or("").chars().take(200).collect();
+                match field.bytes().await {
+                    Ok(b) => text = Some(b.to_vec()),
+                    Err(e) if e.status() == StatusCode::PAYLOAD_TOO_LARGE => {
+                        return render(
+                            &state,
+                            &user,
+                            id,
+                            Some(too_large()),
+                            StatusCode::PAYLOAD_TOO_LARGE,
+                        )
+                        .await;
+                    }
+                    Err(_) => return Err(unread(&csrf)),
+                }
+            }
+            _ => {}
+        }
+    }
+    if !crate::auth::same_secret(&csrf, &user.csrf) {
+        return Err(AppError::BadCsrf);
+    }
+    {
+        let mut conn = state.pool.acquire().await?;
+        pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    }
+    let text = text.unwrap_or_default();
+    let refusal = if text.is_empty() {
+        Some("Choose a CSV file to upload.".to_string())
+    } else if text.len() > limits::LOG_FILE_BYTES {
+        Some(too_large())
+    } else {
+        logfile::layout(&text).err().map(|e| {
+            format!(
+                "This file cannot be read as a data log: {}. Nothing was saved.",
+                e.message
+            )
+        })
+    };
+    if let Some(m) = refusal {
+        return render(&state, &user, id, Some(m), StatusCode::UNPROCESSABLE_ENTITY).await;
+    }
+    let token = crate::auth::new_secret("up");
+    state.staged_logs.put(Staged {
+        token: token.clone(),
+        pass_id: id,
+        user_id: user.id,
+        name,
+        deflated: db::pass_logs::deflate(&text),
+        at: Instant::now(),
+    });
+    Ok(Redirect::to(&format!("/passes/{id}/log/map?upload={token}")).into_response())
+}
+
+fn too_large() -> String {
+    format!(
+        "The file is larger than {} MB. Nothing was saved.",
+        limits::LOG_FILE_BYTES / 1048576
+    )
+}
+
+#[derive(Debug, Default, serde::Deserialize)]
+#[serde(default)]
+pub struct UploadQuery {
+    upload: String,
+}
+
+/// One mapping choice on the form.
+pub struct Choice {
+    pub name: &'static str,
+    pub label: &'static str,
+    pub required: bool,
+    pub selected: String,
+}
+
+#[derive(Template)]
+#[template(path = "passes/map.html")]
+pub struct MapPage {
+    pub page: Layout,
+    pub pass_id: i64,
+    pub pass_day: String,
+    pub token: String,
+    pub file_name: String,
+    pub file_kb: String,
+    pub layout_words: String,
+    pub names: Vec<String>,
+    pub choices: Vec<Choice>,
+    pub time_unit: String,
+    pub slip_on: String,
+    pub hold_ms: String,
+    pub inertia: String,
+    pub inertia_unit: &'static str,
+    pub wheel_unit: &'static str,
+    pub errors: FieldErrors,
+}
+
+const ROLES: &[(&str, &str, bool)] = &[
+    ("time", "Time", true),
+    ("engine_rpm", "Engine speed (rpm)", true),
+    ("input_rpm", "Input shaft speed (rpm)", false),
+    (
+        "driveshaft_rpm",
+        "Driveshaft speed (rpm, × first gear)",
+        false,
+    ),
+    ("driven_wheel_speed", "Driven wheel speed", false),
+    ("undriven_wheel_speed", "Undriven wheel speed", false),
+    ("throttle", "Throttle", false),
+    ("clutch_switch", "Clutch switch", false),
+];
+
+fn column_of<'a>(c: &'a LogColumns, key: &str) -> Option<&'a str> {
+    match key {
+        "time" => Some(&c.time),
+        "engine_rpm" => Some(&c.engine_rpm),
+        "input_rpm" => c.input_rpm.as_deref(),
+        "driveshaft_rpm" => c.driveshaft_rpm.as_deref(),
+        "driven_wheel_speed" => c.driven_wheel_speed.as_deref(),
+        "undriven_wheel_speed" => c.undriven_wheel_speed.as_deref(),
+        "throttle" => c.throttle.as_deref(),
+        "clutch_switch" => c.clutch_switch.as_deref(),
+        _ => None,
+    }
+}
+
+impl MapPage {
+    fn new(
+        page: Layout,
+        pc: &PassCar,
+        token: String,
+        name: String,
+        text: &[u8],
+        settings: &LogSettings,
+        errors: FieldErrors,
+    ) -> Result<Self, InputError> {
+        let layout = logfile::layout(text)?;
+        let delimiter = match layout.delimiter {
+            b'\t' => "tabs",
+            b';' => "semicolons",
+            _ => "commas",
+        };
+        let layout_words = format!(
+            "{} columns separated by {delimiter}{}; header on line {}{}, data from line {}",
+            layout.names.len(),
+            if layout.decimal_comma {
+                " (decimal comma accepted)"
+            } else {
+                ""
+            },
+            layout.header_line,
+            layout
+                .units_line
+                .map_or(String::new(), |l| format!(", units line {l} skipped")),
+            layout.first_data_line
+        );
+        let choices = ROLES
+            .iter()
+            .map(|&(key, label, required)| {
+                let remembered = column_of(&settings.columns, key).unwrap_or("");
+                let selected = logfile::find(&layout.names, remembered)
+                    .map(|i| layout.names[i].clone())
+                    .unwrap_or_default();
+                Choice {
+                    name: key,
+                    label,
+                    required,
+                    selected,
+                }
+            })
+            .collect();
+        let u = page.units();
+        Ok(Self {
+            pass_id: pc.pass.id,
+            pass_day: pc.pass.data.run_on.clone(),
+            token,
+            file_name: name,
+            file_kb: format!("{:.0} KB", text.len() as f64 / 1024.0),
+            layout_words,
+            names: layout.names,
+            choices,
+            time_unit: settings.time_unit.key().into(),
+            slip_on: format!("{}", settings.slip_on_pct),
+            hold_ms: format!("{}", settings.hold_ms),
+            inertia: settings
+                .engine_inertia_kgm2
+                .map_or(String::new(), |i| Kind::Inertia.number(u, i)),
+            inertia_unit: Kind::Inertia.symbol(u),
+            wheel_unit: Kind::RoadSpeed.symbol(u),
+            errors,
+            page,
+        })
+    }
+}
+
+/// GET /passes/{id}/log/map?upload=...: the mapping form for a file just sent.
+pub async fn map_form(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+    Query(q): Query<UploadQuery>,
+) -> AppResult<Response> {
+    let Some((name, text)) = state.staged_logs.get(&q.upload, id, user.id) else {
+        return render(
+            &state,
+            &user,
+            id,
+            Some("That upload has expired: send the file again.".into()),
+            StatusCode::NOT_FOUND,
+        )
+        .await;
+    };
+    let mut conn = state.pool.acquire().await?;
+    let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let settings = db::pass_logs::mapping(&mut conn, pc.car.id)
+        .await?
+        .unwrap_or_default();
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "Map the log's columns").await?;
+    drop(conn);
+    let map = MapPage::new(
+        page,
+        &pc,
+        q.upload,
+        name,
+        &text,
+        &settings,
+        FieldErrors::default(),
+    )
+    .map_err(|e| AppError::field(&e.field, e.message))?;
+    Ok(Html(map.render()?).into_response())
+}
+
+/// The form's name for an analysis error's field.
+fn form_name(field: &str) -> &str {
+    match field {
+        "engine.inertia" | "engine_inertia_kgm2" => "inertia",
+        f => f.strip_prefix("columns.").unwrap_or(f),
+    }
+}
+
+/// POST /passes/{id}/log/map: read the file with the chosen columns; store it with the pass,
+/// or show the form again with the message beside the choice it is about.
+pub async fn map_save(
+    State(state): State<AppState>,
+    PathId(id): PathId,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    let SignedForm { user, form } = signed;
+    let token = form.get("upload").to_string();
+    let Some((name, text)) = state.staged_logs.get(&token, id, user.id) else {
+        return render(
+            &state,
+            &user,
+            id,
+            Some("That upload has expired: send the file again.".into()),
+            StatusCode::UNPROCESSABLE_ENTITY,
+        )
+        .await;
+    };
+    let mut conn = state.pool.acquire().await?;
+    let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "Map the log's columns").await?;
+    drop(conn);
+    let u = page.units();
+    let pick = |k: &str| Some(form.get(k).trim().to_string()).filter(|s| !s.is_empty());
+    let mut errors = FieldErrors::default();
+    let number = |k: &str, errors: &mut FieldErrors| -> Option<f64> {
+        let t = form.get(k).trim();
+        if t.is_empty() {
+            return None;
+        }
+        match t.parse::<f64>() {
+            Ok(v) if v.is_finite() => Some(v),
+            _ => {
+                errors.add(k, "enter a number");
+                None
+            }
+        }
+    };
+    let slip_on = number("slip_on_pct", &mut errors);
+    let hold = number("hold_ms", &mut errors);
+    let inertia = number("inertia", &mut errors).map(|v| Kind::Inertia.from_shown(u, v));
+    if let Some(i) = inertia
+        && let Err(e) = limits::ENGINE_INERTIA.check("inertia", i, u)
+    {
+        errors.add("inertia", e.message);
+    }
+    let defaults = LogSettings::default();
+    let settings = LogSettings {
+        columns: LogColumns {
+            time: pick("time").unwrap_or_default(),
+            engine_rpm: pick("engine_rpm").unwrap_or_default(),
+            input_rpm: pick("input_rpm"),
+            driveshaft_rpm: pick("driveshaft_rpm"),
+            driven_wheel_speed: pick("driven_wheel_speed"),
+            undriven_wheel_speed: pick("undriven_wheel_speed"),
+            throttle: pick("throttle"),
+            clutch_switch: pick("clutch_switch"),
+        },
+        time_unit: TimeUnit::from_key(form.get("time_unit")).unwrap_or_default(),
+        slip_on_pct: slip_on.unwrap_or(defaults.slip_on_pct),
+        hold_ms: hold.unwrap_or(defaults.hold_ms),
+        engine_inertia_kgm2: inertia,
+    };
+    let text = Arc::new(text);
+    if errors.is_empty() {
+        match pc.analyse(&settings, text.clone()).await {
+            Ok(result) => {
+                let mut tx = state.write(&user).await?;
+                if db::passes::by_id(&mut tx, id).await?.is_none() {
+                    return Err(AppError::NotFound);
+                }
+                save(&mut tx, &pc, &user, &name, &text, &settings, &result).await?;
+                crate::status::refresh_stale(&mut tx).await?;
+                tx.commit().await?;
+                state.staged_logs.drop_token(&token);
+                return Ok(Redirect::to(&format!("/passes/{id}")).into_response());
+            }
+            Err(e) => {
+                let at = form_name(&e.field);
+                let known = ROLES.iter().any(|r| r.0 == at)
+                    || ["slip_on_pct", "hold_ms", "inertia"].contains(&at);
+                let msg = if known {
+                    e.message
+                } else {
+                    format!("{} (from the car: {})", e.message, e.field)
+                };
+                errors.add(
+                    if known { at } else { "csv" },
+                    format!("{msg}. Nothing was saved."),
+                );
+            }
+        }
+    }
+    let map = MapPage::new(page, &pc, token, name, &text, &settings, errors)
+        .map_err(|e| AppError::field(&e.field, e.message))?;
+    Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(map.render()?)).into_response())
+}
+
+/// The upload form's progress script (the form works without it).
+pub async fn script() -> impl IntoResponse {
+    (
+        [
+            (
+                axum::http::header::CONTENT_TYPE,
+                "text/javascript; charset=utf-8",
+            ),
+            (axum::http::header::CACHE_CONTROL, "public, max-age=3600"),
+        ],
+        include_str!("../../static/upload.js"),
+    )
+}
+
+/// Shared with the state: see [`Staging`].
+pub fn staging() -> Arc<Staging> {
+    Arc::new(Staging::default())
+}

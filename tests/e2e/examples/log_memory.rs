@@ -1,0 +1,62 @@
+//! One 10 MB data log read and analysed, with the time it took and the process's peak
+//! resident memory (Linux `VmHWM`) against the file's size:
+//! `cargo run --release -p lockpoint-e2e --example log_memory [-- FILE]`. Without a file it
+//! makes the benchmark's invented one. With `--write FILE` it only writes that file (for a side
+//! by side run with another reader).
+
+use std::time::Instant;
+
+use lockpoint::clutch::log_analysis::LogAnalysisRequest;
+
+fn vm_hwm_kb() -> u64 {
+    std::fs::read_to_string("/proc/self/status")
+        .ok()
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("VmHWM:"))
+                .and_then(|l| l.split_whitespace().nth(1)?.parse().ok())
+        })
+        .unwrap_or(0)
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    if args.first().map(String::as_str) == Some("--write") {
+        let path = args.get(1).expect("--write FILE");
+        std::fs::write(path, lockpoint_e2e::logfile::text(215_000)).expect("write");
+        return;
+    }
+    let text = match args.first() {
+        Some(path) => std::fs::read(path).expect("read the file"),
+        None => lockpoint_e2e::logfile::text(215_000).into_bytes(),
+    };
+    let before = vm_hwm_kb();
+    let req: LogAnalysisRequest = serde_json::from_value(serde_json::json!({
+        "units": "imperial", "csv": "",
+        "columns": {"time": "time", "engine_rpm": "engine", "input_rpm": "input",
+                    "undriven_wheel_speed": "front", "throttle": "throttle"},
+        "first_gear_ratio": 2.43, "final_drive_ratio": 4.11, "tire_diameter": 28,
+        "engine": {"torque_curve": [[3000, 410], [5000, 480], [7000, 430]], "inertia": 4.7}
+    }))
+    .expect("request");
+    let start = Instant::now();
+    let r = req
+        .validate()
+        .and_then(|v| v.run(&text))
+        .expect("the file reads");
+    let took = start.elapsed();
+    let peak = vm_hwm_kb();
+    let mb = text.len() as f64 / 1e6;
+    println!(
+        "file {mb:.2} MB, {} samples: read and analysed in {:.1} ms; lockup {:.3} s",
+        r.analysis.samples,
+        took.as_secs_f64() * 1000.0,
+        r.analysis.lockup_s
+    );
+    println!(
+        "peak resident {:.1} MB (with the file in memory {:.1} MB before the analysis): {:.2} x the file",
+        peak as f64 / 1024.0,
+        before as f64 / 1024.0,
+        peak as f64 * 1024.0 / text.len() as f64
+    );
+}

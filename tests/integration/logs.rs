@@ -1,0 +1,501 @@
+//! Data logs: the calculation API on the reference's worked file, its refusals, a pass's file
+//! stored through the API and through the upload pages, and nothing kept on a bad file.
+
+use axum::body::Body;
+use axum::http::{Request, StatusCode, header};
+use serde_json::{Value, json};
+
+use crate::support::{Client, TestApp, id_from};
+
+/// The reference's check case C12 (launch-and-logs §6, [derived]): engine 6000 rpm, input
+/// 6000·t/0.8 up to 0.8 s then 6000, 100 Hz from 0 to 1 s.
+fn worked_csv() -> String {
+    let mut s = String::from("time,rpm,shaft\n");
+    for k in 0..=100 {
+        let t = k as f64 / 100.0;
+        let n = if t <= 0.8 { 6000.0 * t / 0.8 } else { 6000.0 };
+        s.push_str(&format!("{t:.2},6000,{n}\n"));
+    }
+    s
+}
+
+fn calc_body(csv: String) -> Value {
+    json!({ "units": "metric", "csv": csv,
+        "columns": { "time": "time", "engine_rpm": "rpm", "input_rpm": "shaft" },
+        "time_unit": "auto", "slip_on_pct": 3, "hold_ms": 100,
+        "engine": { "torque_curve": [[3000, 600], [8000, 600]], "inertia": 0.25 } })
+}
+
+#[tokio::test]
+async fn the_worked_file_answers_as_the_contract_documents() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/log-analysis",
+            Some(&token),
+            Some(calc_body(worked_csv())),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    // Lockup 0.776 s and 600 × 628.3185 × 0.4 = 150 796 J [derived, reference C12].
+    assert_eq!(v["samples"], 101);
+    assert_eq!(v["sample_rate_hz"], 100.0);
+    assert_eq!(v["launch_s"], 0.0);
+    assert_eq!(v["lockup_s"], 0.776);
+    assert_eq!(v["launch_engine_rpm"], 6000.0);
+    assert_eq!(v["min_engine_rpm"], 6000.0);
+    assert_eq!(v["lockup_engine_rpm"], 6000.0);
+    assert_eq!(v["slip_energy_kj"], 150.8);
+    assert_eq!(v["peak_slip_power_kw"], 377.0);
+    assert_eq!(v["tire_spin"], json!([]));
+    assert_eq!(
+        v["trace"][0],
+        json!({"time_s": 0.0, "engine_rpm": 6000.0, "input_rpm": 0.0, "slip_pct": 100.0,
+               "clutch_torque": 600.0, "slip_power_kw": 377.0})
+    );
+    assert_eq!(v["trace"].as_array().unwrap().len(), 101);
+    assert_eq!(v["notes"], json!([]));
+    // Without the engine: the events, but no torque or energy.
+    let mut body = calc_body(worked_csv());
+    body.as_object_mut().unwrap().remove("engine");
+    let v = app
+        .api(
+            "POST",
+            "/api/v1/calc/log-analysis",
+            Some(&token),
+            Some(body),
+        )
+        .await
+        .json();
+    assert_eq!(v["lockup_s"], 0.776);
+    assert!(v["slip_energy_kj"].is_null() && v["trace"][0]["clutch_torque"].is_null());
+}
+
+#[tokio::test]
+async fn bad_files_answer_422_naming_the_column_or_csv_and_the_line() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let cases: Vec<(String, Value, &str, &str)> = vec![
+        (
+            worked_csv().replace("0.30,6000", "0.30,six"),
+            json!(null),
+            "columns.engine_rpm",
+            "line 32",
+        ),
+        (
+            worked_csv().replace("0.50,", "0.40,"),
+            json!(null),
+            "columns.time",
+            "line 52",
+        ),
+        (
+            worked_csv(),
+            json!({"time": "time", "engine_rpm": "crank", "input_rpm": "shaft"}),
+            "columns.engine_rpm",
+            "line 1",
+        ),
+        (
+            worked_csv().lines().take(6).collect::<Vec<_>>().join("\n"),
+            json!(null),
+            "csv",
+            "line 2",
+        ),
+        (
+            worked_csv().replace(",6000\n", ",5000\n"),
+            json!(null),
+            "columns.input_rpm",
+            "no lockup",
+        ),
+    ];
+    for (csv, columns, field, said) in cases {
+        let mut body = calc_body(csv);
+        if !columns.is_null() {
+            body["columns"] = columns;
+        }
+        let r = app
+            .api(
+                "POST",
+                "/api/v1/calc/log-analysis",
+                Some(&token),
+                Some(body),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
+        let v = r.json();
+        assert_eq!(v["field"], field, "{v}");
+        assert!(v["error"].as_str().unwrap().contains(said), "{v}");
+    }
+}
+
+#[tokio::test]
+async fn a_log_larger_than_a_form_is_accepted_on_the_log_routes_only() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    // About 1 MB: far past the 256 KiB every other body may have.
+    let mut csv = String::from("time,rpm,shaft,pad\n");
+    let pad = "1234567890".repeat(8);
+    for k in 0..=12_000 {
+        let t = k as f64 / 1000.0;
+        let n = (6000.0 * t / 0.8).min(6000.0);
+        csv.push_str(&format!("{t:.3},6000,{n},{pad}\n"));
+    }
+    assert!(csv.len() > 1_000_000);
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/log-analysis",
+            Some(&token),
+            Some(calc_body(csv.clone())),
+        )
+        .await;
+    assert_eq!(
+        r.status,
+        StatusCode::OK,
+        "{}",
+        &r.body[..r.body.len().min(300)]
+    );
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/wear",
+            Some(&token),
+            Some(json!({ "units": "metric", "pad": csv })),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::PAYLOAD_TOO_LARGE);
+}
+
+/// A pass on a recorded build with a setup before it; returns its id.
+async fn pass_on_a_build(client: &Client<'_>) -> String {
+    let build = client.record_build().await;
+    let r = client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-10-01"),
+                ("adjuster_turns", "1.5"),
+                ("counterweight_g", "24"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let r = client
+        .post(
+            &format!("{build}/passes"),
+            &[
+                ("run_on", "2026-10-04"),
+                ("track", "Test strip"),
+                ("launch_rpm", "4500"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let mut conn = client.app.pool.acquire().await.unwrap();
+    let id: i64 = sqlx::query_scalar("SELECT MAX(id) FROM passes")
+        .fetch_one(&mut *conn)
+        .await
+        .unwrap();
+    id.to_string()
+}
+
+/// A launch on the test car's curve: engine 4800 rpm, input rising to it in 1 s, 200 Hz.
+fn launch_csv() -> String {
+    let mut s = String::from("Logger export\nt;engine;input\ns;rpm;rpm\n");
+    for k in 0..=300 {
+        let t = k as f64 * 0.005;
+        let n = (4800.0 * (t - 0.1) / 1.0).clamp(0.0, 4800.0);
+        s.push_str(&format!(
+            "{};4800;{}\n",
+            format!("{t:.3}").replace('.', ","),
+            n
+        ));
+    }
+    s
+}
+
+#[tokio::test]
+async fn a_pass_log_is_stored_read_back_and_feeds_the_calibration() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let pass = pass_on_a_build(&client).await;
+    let token = app.token("sam").await;
+    let body = json!({ "csv": launch_csv(), "file_name": "run.csv",
+        "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
+        "engine_inertia_kgm2": 0.2 });
+    // A bad mapping saves nothing.
+    let mut bad = body.clone();
+    bad["columns"]["input_rpm"] = json!("shaft");
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/passes/{pass}/log"),
+            Some(&token),
+            Some(bad),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
+    assert_eq!(app.count("pass_logs").await, 0);
+    assert_eq!(app.count("car_log_mappings").await, 0);
+
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/passes/{pass}/log"),
+            Some(&token),
+            Some(body),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let stored = r.json();
+    // Input = 4800·(t − 0.1): launch 0.1 s; 3 % slip at 0.1 + 0.97 s [derived].
+    assert!(
+        (stored["launch_s"].as_f64().unwrap() - 0.1).abs() < 1e-6,
+        "{stored}"
+    );
+    assert!(
+        (stored["lockup_s"].as_f64().unwrap() - 1.07).abs() < 1e-6,
+        "{stored}"
+    );
+    let again = app
+        .api(
+            "GET",
+            &format!("/api/v1/passes/{pass}/analysis"),
+            Some(&token),
+            None,
+        )
+        .await;
+    assert_eq!(again.status, StatusCode::OK);
+    assert_eq!(again.json(), stored);
+    assert_eq!(app.count("pass_logs").await, 1);
+    // The mapping is remembered for the car: a second file needs no columns.
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/passes/{pass}/log"),
+            Some(&token),
+            Some(json!({ "csv": launch_csv() })),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+
+    // The pass had no lockup typed: the log's lockup (4800 rpm here) is its calibration point.
+    let build = {
+        let mut conn = app.pool.acquire().await.unwrap();
+        sqlx::query_scalar::<_, i64>("SELECT build_id FROM passes WHERE id = ?")
+            .bind(pass.parse::<i64>().unwrap())
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap()
+    };
+    let cal = app
+        .api(
+            "GET",
+            &format!("/api/v1/builds/{build}/calibration"),
+            Some(&token),
+            None,
+        )
+        .await;
+    assert_eq!(cal.status, StatusCode::OK, "{}", cal.body);
+    let cal = cal.json();
+    assert_eq!(cal["n"], 1, "{cal}");
+    assert_eq!(cal["passes"][0]["lockup_rpm"], 4800.0);
+    // A flat 4800 rpm engine: clutch torque is the curve's torque there (480 lbf·ft at 5000,
+    // 455 at 4000: 475 lbf·ft = 644.0 N·m at 4800 [derived]), and that is what it carried.
+    let tc = cal["passes"][0]["clutch_torque"].as_f64().unwrap();
+    assert!((tc - 644.0).abs() < 1.5, "{cal}");
+}
+
+fn multipart(csrf: &str, name: &str, file: &[u8]) -> (String, Vec<u8>) {
+    let boundary = "lockpoint-test-boundary";
+    let mut body = Vec::new();
+    body.extend_from_slice(
+        format!("--{boundary}\r\nContent-Disposition: form-data; name=\"_csrf\"\r\n\r\n{csrf}\r\n")
+            .as_bytes(),
+    );
+    body.extend_from_slice(
+        format!("--{boundary}\r\nContent-Disposition: form-data; name=\"file\"; filename=\"{name}\"\r\nContent-Type: text/csv\r\n\r\n")
+            .as_bytes(),
+    );
+    body.extend_from_slice(file);
+    body.extend_from_slice(format!("\r\n--{boundary}--\r\n").as_bytes());
+    (format!("multipart/form-data; boundary={boundary}"), body)
+}
+
+async fn upload(client: &Client<'_>, pass: &str, file: &[u8]) -> crate::support::Reply {
+    let (kind, body) = multipart(&client.csrf, "run.csv", file);
+    client
+        .app
+        .send(
+            Request::post(format!("/passes/{pass}/log"))
+                .header(header::CONTENT_TYPE, kind)
+                .header(header::COOKIE, &client.cookie)
+                .body(Body::from(body))
+                .unwrap(),
+        )
+        .await
+}
+
+#[tokio::test]
+async fn upload_then_mapping_then_the_pass_page() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let pass = pass_on_a_build(&client).await;
+
+    // An unreadable file: a message on the pass page, nothing kept.
+    let r = upload(&client, &pass, b"just words\nno table\n").await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        r.body.contains("cannot be read as a data log"),
+        "{}",
+        r.body
+    );
+    assert!(r.body.contains("Nothing was saved"));
+
+    let r = upload(&client, &pass, launch_csv().as_bytes()).await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let map = r.location().to_string();
+    assert!(map.starts_with(&format!("/passes/{pass}/log/map?upload=")));
+    let page = client.get(&map).await;
+    assert_eq!(page.status, StatusCode::OK);
+    // The choices are the file's own header names; the units line was skipped.
+    assert!(
+        page.body.contains("<option value=\"engine\""),
+        "{}",
+        page.body
+    );
+    assert!(page.body.contains("units line 3 skipped"), "{}", page.body);
+    let upload_token = map.split("upload=").nth(1).unwrap();
+
+    // A mapping that finds no launch: the form again, the message beside the choice.
+    let r = client
+        .post(
+            &format!("/passes/{pass}/log/map"),
+            &[
+                ("upload", upload_token),
+                ("time", "t"),
+                ("engine_rpm", "engine"),
+                ("input_rpm", "t"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(r.body.contains("id=\"input_rpm-msg\""), "{}", r.body);
+    assert_eq!(app.count("pass_logs").await, 0);
+
+    let r = client
+        .post(
+            &format!("/passes/{pass}/log/map"),
+            &[
+                ("upload", upload_token),
+                ("time", "t"),
+                ("engine_rpm", "engine"),
+                ("input_rpm", "input"),
+                ("time_unit", "auto"),
+                ("slip_on_pct", "3"),
+                ("hold_ms", "100"),
+                ("inertia", "4.746"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    assert_eq!(r.location(), format!("/passes/{pass}"));
+    assert_eq!(app.count("pass_logs").await, 1);
+    let page = client.get(&format!("/passes/{pass}")).await;
+    assert_eq!(page.status, StatusCode::OK);
+    assert!(page.body.contains("1.070 s"), "{}", page.body);
+    assert_eq!(page.body.matches("<svg").count(), 3);
+    // The build's pass table shows the lockup time and links the pass.
+    let build = id_from(&format!("/builds/{}", {
+        let mut conn = app.pool.acquire().await.unwrap();
+        sqlx::query_scalar::<_, i64>("SELECT build_id FROM passes WHERE id = ?")
+            .bind(pass.parse::<i64>().unwrap())
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap()
+    }));
+    let b = client.get(&format!("/builds/{build}")).await;
+    assert!(
+        b.body
+            .contains(&format!("<a href=\"/passes/{pass}\">0.970 s</a>")),
+        "{}",
+        b.body
+    );
+    // No lockup was typed on this pass: the log's fills the column, marked as such.
+    assert!(
+        b.body
+            .contains("4800 rpm <span class=\"muted\">(log)</span>"),
+        "{}",
+        b.body
+    );
+    // The mapping (and the inertia, 4.746 lb·ft² = 0.200 kg·m²) is offered for the next file.
+    let r = upload(&client, &pass, launch_csv().as_bytes()).await;
+    let page = client.get(r.location()).await;
+    assert!(
+        page.body.contains("<option value=\"input\" selected>"),
+        "{}",
+        page.body
+    );
+    assert!(page.body.contains("value=\"4.746\""), "{}", page.body);
+}
+
+#[tokio::test]
+async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let first = pass_on_a_build(&client).await;
+    let build: i64 = {
+        let mut conn = app.pool.acquire().await.unwrap();
+        sqlx::query_scalar("SELECT build_id FROM passes WHERE id = ?")
+            .bind(first.parse::<i64>().unwrap())
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap()
+    };
+    let r = client
+        .post(
+            &format!("/builds/{build}/passes"),
+            &[("run_on", "2026-10-11"), ("track", "Test strip")],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let second = (first.parse::<i64>().unwrap() + 1).to_string();
+    let token = app.token("sam").await;
+    for pass in [&first, &second] {
+        let body = json!({ "csv": launch_csv(),
+            "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
+            "engine_inertia_kgm2": 0.2 });
+        let r = app
+            .api(
+                "POST",
+                &format!("/api/v1/passes/{pass}/log"),
+                Some(&token),
+                Some(body),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    }
+    let alone = client.get(&format!("/passes/{first}")).await;
+    assert!(
+        alone
+            .body
+            .contains(&format!("<option value=\"{second}\">2026-10-11")),
+        "{}",
+        alone.body
+    );
+    assert_eq!(alone.body.matches("<svg").count(), 3);
+    let both = client
+        .get(&format!("/passes/{first}?compare={second}"))
+        .await;
+    assert_eq!(both.status, StatusCode::OK);
+    assert_eq!(both.body.matches("<svg").count(), 4);
+    assert!(both.body.contains("Two passes, time from each launch"));
+    // Anything else in the query is no comparison, not an error.
+    let odd = client.get(&format!("/passes/{first}?compare=abc")).await;
+    assert_eq!(
+        (odd.status, odd.body.matches("<svg").count()),
+        (StatusCode::OK, 3)
+    );
+}
