@@ -13,6 +13,10 @@ pub mod capacity;
 pub mod clamp;
 /// Facing materials: friction coefficients, temperature limits, friction surfaces.
 pub mod friction;
+/// Launch preview: engine, slipping clutch, driveline and tyres simulated through a launch.
+pub mod launch;
+/// The launch preview request (as the API receives it), its validation and its answer.
+pub mod launch_request;
 /// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
 pub mod lockup;
 /// Quantity kinds (internal and display units) and the one table of limits.

@@ -91,6 +91,7 @@ pub fn routes() -> Routes {
         .route(Token, "/calc/recommend", post(super::calc::recommend))
         .route(Token, "/calc/calibrate", post(super::calc::calibrate))
         .route(Token, "/calc/wear", post(super::calc::wear))
+        .route(Token, "/calc/launch", post(super::calc::launch))
 }
 
 /// Any other path under the API: a JSON 404.
