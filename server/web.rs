@@ -14,6 +14,7 @@ mod entries;
 mod extract;
 mod history;
 mod home;
+mod launch;
 mod layout;
 mod login;
 pub mod routes;

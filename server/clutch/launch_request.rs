@@ -504,11 +504,11 @@ pub fn describe(event: &Event, u: Units) -> String {
             torque(static_nm)
         ),
         Event::Spin { needed_n, limit_n } => format!(
-            "tyres spin: gripping would need {} of tyre force, the tyres give at most {}",
+            "tires spin: gripping would need {} of tire force, the tires give at most {}",
             force(needed_n),
             force(limit_n)
         ),
-        Event::Grip => "tyres hook up again".to_string(),
+        Event::Grip => "tires hook up again".to_string(),
         Event::SixtyFeet { speed_m_s } => format!(
             "60 ft reached at {:.1} {}",
             u.m_s_to_road_speed(speed_m_s),
@@ -532,19 +532,19 @@ impl LaunchReport {
         let mut notes = Vec::new();
         if run.lockup.is_none() {
             notes.push(format!(
-                "the clutch did not lock within {:.2} s",
+                "The clutch did not lock within {:.2} s.",
                 run.end_s.min(duration_s)
             ));
         }
         if run.end_s < duration_s - 1e-9 {
             notes.push(format!(
-                "the run stopped at {:.3} s, where the engine left its torque curve; a longer \
-                 curve lets it run on",
+                "The run stops at {:.2} s, where the engine leaves its torque curve (a longer \
+                 curve lets it run on).",
                 run.end_s
             ));
         }
         if run.tire_spin.last().is_some_and(|s| s.1.is_none()) {
-            notes.push("the tyres were still spinning when the run ended".to_string());
+            notes.push("The tires were still spinning when the run ended.".to_string());
         }
         LaunchReport {
             lockup: run.lockup.map(|l| LockupReport {

@@ -69,3 +69,115 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     );
     assert_eq!(app.count("audit_log").await, audit_before);
 }
+
+/// Lockup times (s) of the launch preview columns, in page order.
+fn lockup_times(html: &str) -> Vec<f64> {
+    html.split("<td>Lockup</td><td class=\"num\">")
+        .skip(1)
+        .filter_map(|rest| rest.split(' ').next()?.parse().ok())
+        .collect()
+}
+
+#[tokio::test]
+async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    client
+        .post(
+            &format!("{build}/setups"),
+            &[
+                ("changed_on", "2026-11-02"),
+                ("adjuster_turns", "1.5"),
+                ("counterweight_g", "24"),
+            ],
+        )
+        .await;
+    let page = client.get(&format!("{build}/tune")).await;
+    assert!(page.body.contains("Launch preview"));
+    assert!(
+        page.body
+            .contains("No launch preview yet. Enter the car&#39;s race weight."),
+        "a car without its weight says what is missing"
+    );
+    let car = page
+        .body
+        .split("href=\"/cars/")
+        .nth(1)
+        .and_then(|s| s.split(['/', '"']).next())
+        .expect("a link to the car")
+        .to_string();
+    let saved = client
+        .post(
+            &format!("/cars/{car}"),
+            &[
+                ("description", "two-door, 7.2 L V8, 4-speed"),
+                ("weight", "3300"),
+                ("first_gear_ratio", "2.43"),
+                ("final_drive_ratio", "4.11"),
+                ("tire_diameter", "28"),
+                ("launch_rpm", "4500"),
+                (
+                    "torque_curve",
+                    "3000 410\n4000 455\n5000 480\n6000 470\n7000 430",
+                ),
+                ("engine_inertia", "4.7"),
+                ("tire_grip", "1.8"),
+            ],
+        )
+        .await;
+    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    let audit: String = sqlx::query_scalar(
+        "SELECT after FROM audit_log WHERE table_name = 'cars' ORDER BY id DESC LIMIT 1",
+    )
+    .fetch_one(&app.pool)
+    .await
+    .unwrap();
+    assert!(audit.contains("\"engine_inertia_kg_m2\""), "{audit}");
+
+    let page = client.get(&format!("{build}/tune")).await;
+    for text in [
+        "Current setup",
+        "clutch locked at",
+        "Slip energy",
+        "Pressure plate / flywheel rise",
+        "Plate heat",
+        "driveshaft inertia 1.187 lb·ft²",
+    ] {
+        assert!(page.body.contains(text), "{text}");
+    }
+    // The car's own figures replace their estimates.
+    assert!(!page.body.contains("engine inertia "));
+    assert!(!page.body.contains("tire grip (hooked)"));
+    let now = lockup_times(&page.body);
+    assert_eq!(now.len(), 1, "one column without a trial");
+
+    // More counterweight: more centrifugal clamp at every speed, so the clutch reaches the
+    // slipping engine's torque sooner and locks earlier [derived from T_cap = n·μ·r·(F_s + c·ω²)].
+    let tried = client
+        .get(&format!(
+            "{build}/tune?try=1&adjuster_turns=1.5&counterweight_g=40&mu=&launch_rpm=4500"
+        ))
+        .await;
+    let both = lockup_times(&tried.body);
+    assert_eq!(both.len(), 2, "current and trial side by side");
+    assert!(both[1] < both[0], "{both:?}");
+    assert!(tried.body.contains("40.0 g per lever, launch 4500 rpm"));
+
+    // A launch speed alone is a what-if too, and an impossible one is named beside its input.
+    let rpm_only = client
+        .get(&format!(
+            "{build}/tune?try=1&adjuster_turns=1.5&counterweight_g=24&mu=&launch_rpm=5000"
+        ))
+        .await;
+    assert!(rpm_only.body.contains("24.0 g per lever, launch 5000 rpm"));
+    let bad = client
+        .get(&format!(
+            "{build}/tune?try=1&adjuster_turns=1.5&counterweight_g=24&mu=&launch_rpm=99999"
+        ))
+        .await;
+    assert!(
+        bad.body.contains("id=\"launch_rpm-msg\""),
+        "the launch speed is named"
+    );
+}
