@@ -17,6 +17,8 @@ pub mod friction;
 pub mod launch;
 /// The launch preview request (as the API receives it), its validation and its answer.
 pub mod launch_request;
+/// The counterweight that meets a lockup-time target or a slip-energy limit in the launch preview.
+pub mod launch_target;
 /// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
 pub mod lockup;
 /// Quantity kinds (internal and display units) and the one table of limits.

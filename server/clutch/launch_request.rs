@@ -12,6 +12,7 @@ use super::friction::FacingMaterial;
 use super::launch::{
     Clutch, Driveline, Engine, Event, LaunchModel, LaunchRun, STANDARD_GRAVITY, Thermal, Vehicle,
 };
+use super::lockup::ClutchModel;
 use super::quantity::{Limit, limits};
 use super::request::{CapacityRequest, DiscInput, EngineInput, FrictionInput};
 use super::request::{LeversInput, SpringsInput};
@@ -155,6 +156,8 @@ pub struct ThermalInput {
 pub struct ValidLaunch {
     pub units: Units,
     pub model: LaunchModel,
+    /// The clutch as the capacity calculation checked it (for trying other settings).
+    pub clutch: ClutchModel,
 }
 
 fn shown(limit: Limit, field: &str, v: f64, u: Units) -> Result<f64, InputError> {
@@ -288,6 +291,7 @@ impl LaunchRequest {
                 step_s: step_ms / 1000.0,
                 duration_s,
             },
+            clutch: capacity.model.clone(),
         })
     }
 }

@@ -55,6 +55,8 @@ pub enum Kind {
     Temperature,
     /// Time, ms in both systems (integration steps).
     Milliseconds,
+    /// Energy, kJ in both systems (slip energy).
+    Kilojoules,
 }
 
 impl Kind {
@@ -126,6 +128,7 @@ impl Kind {
             },
             Kind::Temperature => units.temperature_label(),
             Kind::Milliseconds => "ms",
+            Kind::Kilojoules => "kJ",
             Kind::Ratio | Kind::Mu | Kind::Count => "",
         }
     }
@@ -143,7 +146,7 @@ impl Kind {
             Kind::Ratio | Kind::ThreadsPerInch => 2,
             Kind::Pitch | Kind::Turns | Kind::Mu | Kind::Seconds => 3,
             Kind::ForcePerGram => 4,
-            Kind::Temperature => 0,
+            Kind::Temperature | Kind::Kilojoules => 0,
             Kind::Area | Kind::Density | Kind::Milliseconds => 2,
             Kind::Inertia => 3,
             Kind::SpecificHeat => match units {
@@ -387,6 +390,10 @@ pub mod limits {
     pub const LAUNCH_STEP: Limit = Limit::new(Milliseconds, Incl(0.05), Incl(5.0));
     /// Time the launch preview runs for.
     pub const LAUNCH_DURATION: Limit = Limit::new(Seconds, Incl(0.1), Incl(10.0));
+    /// Target lockup time after the launch (launch preview search).
+    pub const LOCKUP_TIME: Limit = Limit::new(Seconds, Incl(0.05), Incl(10.0));
+    /// Most slip energy one launch may put into the clutch (launch preview search).
+    pub const SLIP_ENERGY: Limit = Limit::new(Kilojoules, Incl(1.0), Incl(10_000.0));
     /// Points of a μ-against-temperature table.
     pub const MU_TABLE_POINTS: usize = 50;
     /// Days a customer link stays valid.
@@ -480,6 +487,8 @@ mod tests {
             PLATE_SHARE,
             LAUNCH_STEP,
             LAUNCH_DURATION,
+            LOCKUP_TIME,
+            SLIP_ENERGY,
         ];
         for limit in all {
             for units in [Units::Imperial, Units::Metric] {

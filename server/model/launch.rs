@@ -26,9 +26,15 @@ pub struct Estimate {
 }
 
 impl Estimate {
-    /// "engine inertia 4.746 lb·ft²": the estimate in `units`.
+    /// "engine inertia 4.75 lb·ft²": the estimate in `units` to three significant figures
+    /// (an estimate is not known better than that).
     pub fn text(&self, units: Units) -> String {
-        format!("{} {}", self.label, self.kind.show(units, self.value))
+        let v = self.kind.to_shown(units, self.value);
+        let decimals = (2 - v.abs().log10().floor() as i32).clamp(0, 3) as usize;
+        match self.kind.symbol(units) {
+            "" => format!("{} {v:.decimals$}", self.label),
+            unit => format!("{} {v:.decimals$} {unit}", self.label),
+        }
     }
 }
 
@@ -261,12 +267,14 @@ mod tests {
     fn an_estimate_reads_in_the_shop_units() {
         assert_eq!(
             ESTIMATES[0].text(Units::Imperial),
-            "engine inertia 4.746 lb·ft²"
+            "engine inertia 4.75 lb·ft²"
         );
         assert_eq!(
             ESTIMATES[0].text(Units::Metric),
             "engine inertia 0.200 kg·m²"
         );
+        // 2700 mm = 106.3 in: three figures.
+        assert_eq!(ESTIMATES[5].text(Units::Imperial), "wheelbase 106 in");
     }
 
     #[test]

@@ -13,6 +13,7 @@ use super::extract::{CurrentUser, PathId};
 use super::launch::LaunchColumn;
 use super::layout::Layout;
 use super::show::Show;
+use crate::clutch::launch_target::LaunchTarget;
 use crate::clutch::quantity::{Kind, limits};
 use crate::clutch::recommend::Recommendation;
 use crate::clutch::report::CapacityReport;
@@ -276,6 +277,29 @@ fn launch_columns(
     {
         form.set("launch_rpm", format!("{rpm:.0}"));
     }
+    let target = if form.get("launch_target") == "1" {
+        let time = field::number(form, "target_lock_time", limits::LOCKUP_TIME, units, errors);
+        let energy = field::number(form, "max_slip_energy", limits::SLIP_ENERGY, units, errors);
+        match (time, energy) {
+            (Some(t), None) => Some(LaunchTarget::LockupTime(t)),
+            (None, Some(e)) => Some(LaunchTarget::MaxSlipEnergy(e * 1000.0)),
+            (Some(_), Some(_)) => {
+                errors.add(
+                    "max_slip_energy",
+                    "give a lockup time or a slip energy, not both",
+                );
+                None
+            }
+            (None, None) => {
+                if !errors.has("target_lock_time") && !errors.has("max_slip_energy") {
+                    errors.add("target_lock_time", "give a lockup time or a slip energy");
+                }
+                None
+            }
+        }
+    } else {
+        None
+    };
     if !capacity_ok {
         return Vec::new();
     }
@@ -286,6 +310,15 @@ fn launch_columns(
         None,
         units,
     )];
+    if let Some(target) = target {
+        columns.push(super::launch::target_column(
+            facts,
+            current_trial,
+            target,
+            units,
+        ));
+        return columns;
+    }
     let other = match (recommendation, trial) {
         (Some(r), _) => Some((
             "Recommended",

@@ -2,8 +2,11 @@
 //! being tried), each with its speed and slip-power charts, its figures and its event log.
 
 use super::chart::Chart;
+use crate::clutch::launch::LaunchRun;
 use crate::clutch::launch_request::{LaunchReport, describe};
+use crate::clutch::launch_target::{Grid, LaunchTarget, find_counterweight};
 use crate::clutch::units::Units;
+use crate::model::launch::LaunchPlan;
 use crate::model::{BuildFacts, Trial};
 
 /// One setting's launch, ready to show.
@@ -148,7 +151,7 @@ fn figures(report: &LaunchReport, u: Units) -> Vec<(&'static str, String)> {
                 }),
         ),
         (
-            "Engine pulled down to",
+            "Lowest engine speed",
             format!("{:.0} rpm", report.min_engine_rpm),
         ),
         ("Slip energy", format!("{:.0} kJ", report.slip_energy_kj)),
@@ -175,6 +178,39 @@ fn figures(report: &LaunchReport, u: Units) -> Vec<(&'static str, String)> {
     ]
 }
 
+fn shown(
+    run: &LaunchRun,
+    plan: &LaunchPlan,
+    duration_s: f64,
+    title: &str,
+    u: Units,
+) -> LaunchShown {
+    let report = LaunchReport::of(run, duration_s, u);
+    let short = title.to_lowercase();
+    LaunchShown {
+        speed_chart: speed_chart(&report, &short),
+        power_chart: power_chart(&report, &short),
+        figures: figures(&report, u),
+        events: run
+            .events
+            .iter()
+            .map(|e| (format!("{:.3} s", e.time_s), describe(&e.event, u)))
+            .collect(),
+        notes: report.notes.clone(),
+        estimated: plan.estimated.iter().map(|e| e.text(u)).collect(),
+        plate_rise_k: run.plate_rise_k.map_or(0.0, |r| r.0),
+    }
+}
+
+fn setting_text(turns: f64, counterweight_g: f64, rpm: Option<f64>) -> String {
+    format!(
+        "{} turns, {:.1} g per lever{}",
+        turns,
+        counterweight_g,
+        rpm.map_or(String::new(), |r| format!(", launch {r:.0} rpm"))
+    )
+}
+
 /// The launch of `trial` from `launch_rpm` (the car's when `None`) in `u`, or why there is none.
 pub fn column(
     facts: &BuildFacts,
@@ -185,33 +221,68 @@ pub fn column(
 ) -> LaunchColumn {
     let plan = facts.launch_request(trial, launch_rpm);
     let rpm = launch_rpm.or(facts.car.launch_rpm);
-    let setting = format!(
-        "{} turns, {:.1} g per lever{}",
-        trial.adjuster_turns,
-        trial.counterweight_g,
-        rpm.map_or(String::new(), |r| format!(", launch {r:.0} rpm"))
-    );
     let result = plan.and_then(|plan| {
         let valid = plan
             .request
             .validate()
             .map_err(|e| format!("{}: {}", e.field, e.message))?;
         let run = valid.model.simulate();
-        let report = LaunchReport::of(&run, valid.model.duration_s, u);
-        let short = title.to_lowercase();
-        Ok(LaunchShown {
-            speed_chart: speed_chart(&report, &short),
-            power_chart: power_chart(&report, &short),
-            figures: figures(&report, u),
-            events: run
-                .events
-                .iter()
-                .map(|e| (format!("{:.3} s", e.time_s), describe(&e.event, u)))
-                .collect(),
-            notes: report.notes.clone(),
-            estimated: plan.estimated.iter().map(|e| e.text(u)).collect(),
-            plate_rise_k: run.plate_rise_k.map_or(0.0, |r| r.0),
-        })
+        Ok(shown(&run, &plan, valid.model.duration_s, title, u))
+    });
+    LaunchColumn {
+        title: title.to_string(),
+        setting: setting_text(trial.adjuster_turns, trial.counterweight_g, rpm),
+        result,
+    }
+}
+
+/// The current setup's turns with the counterweight (1 g steps, 0–120 g) that meets `target`
+/// from the car's launch speed, as a column.
+pub fn target_column(
+    facts: &BuildFacts,
+    current: Trial,
+    target: LaunchTarget,
+    u: Units,
+) -> LaunchColumn {
+    let title = "For the launch target";
+    let rpm = facts.car.launch_rpm;
+    let mut setting = setting_text(current.adjuster_turns, current.counterweight_g, rpm);
+    let result = facts.launch_request(current, None).and_then(|plan| {
+        let valid = plan
+            .request
+            .validate()
+            .map_err(|e| format!("{}: {}", e.field, e.message))?;
+        let pick = find_counterweight(&valid, target, Grid::default()).map_err(|e| e.message)?;
+        setting = setting_text(pick.adjuster_turns, pick.counterweight_g, rpm);
+        let mut s = shown(&pick.run, &plan, valid.model.duration_s, title, u);
+        let goal = match target {
+            LaunchTarget::LockupTime(t) => format!("lock {t:.2} s after the launch"),
+            LaunchTarget::MaxSlipEnergy(e) => {
+                format!("at most {:.0} kJ of slip energy", e / 1000.0)
+            }
+        };
+        s.notes.insert(
+            0,
+            if pick.spin_beyond {
+                format!(
+                    "Aiming to {goal}: one gram more spins the tires, so this is as early as the \
+                     clutch locks with the tires hooked ({} launches simulated).",
+                    pick.runs
+                )
+            } else if pick.met {
+                format!(
+                    "Counterweight searched in 1 g steps (0–120 g) at the current turns to {goal}; \
+                     {} launches simulated.",
+                    pick.runs
+                )
+            } else {
+                format!(
+                    "No counterweight up to 120 g at the current turns meets the target ({goal}); \
+                     this is the nearest. More static clamp (turns) or a lower launch speed may."
+                )
+            },
+        );
+        Ok(s)
     });
     LaunchColumn {
         title: title.to_string(),

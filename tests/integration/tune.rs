@@ -70,6 +70,14 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     assert_eq!(app.count("audit_log").await, audit_before);
 }
 
+/// Slip energies (kJ) of the launch preview columns, in page order.
+fn slip_energies(html: &str) -> Vec<f64> {
+    html.split("<td>Slip energy</td><td class=\"num\">")
+        .skip(1)
+        .filter_map(|rest| rest.split(' ').next()?.parse().ok())
+        .collect()
+}
+
 /// Lockup times (s) of the launch preview columns, in page order.
 fn lockup_times(html: &str) -> Vec<f64> {
     html.split("<td>Lockup</td><td class=\"num\">")
@@ -142,7 +150,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
         "Slip energy",
         "Pressure plate / flywheel rise",
         "Plate heat",
-        "driveshaft inertia 1.187 lb·ft²",
+        "driveshaft inertia 1.19 lb·ft²",
     ] {
         assert!(page.body.contains(text), "{text}");
     }
@@ -180,4 +188,38 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
         bad.body.contains("id=\"launch_rpm-msg\""),
         "the launch speed is named"
     );
+
+    // The counterweight search: a lock 20 % sooner than now, found within a 1 g step's reach;
+    // a slip-energy limit below today's, kept.
+    let goal = (now[0] * 0.8 * 100.0).round() / 100.0;
+    let found = client
+        .get(&format!(
+            "{build}/tune?launch_target=1&target_lock_time={goal}&max_slip_energy="
+        ))
+        .await;
+    assert!(found.body.contains("For the launch target"));
+    assert!(found.body.contains("launches simulated"));
+    let t = lockup_times(&found.body);
+    assert_eq!(t.len(), 2);
+    if found.body.contains("one gram more spins the tires") {
+        // Stopped short of the goal by wheelspin: earlier than now, later than the goal.
+        assert!(t[1] < t[0] && t[1] > goal, "{t:?} for {goal}");
+    } else {
+        // Nearer the goal than today.
+        assert!(
+            (t[1] - goal).abs() < (t[0] - goal).abs(),
+            "{t:?} for {goal}"
+        );
+    }
+    let energy = slip_energies(&page.body)[0];
+    let limit = (energy * 0.9).round();
+    let kept = client
+        .get(&format!(
+            "{build}/tune?launch_target=1&target_lock_time=&max_slip_energy={limit}"
+        ))
+        .await;
+    let e = slip_energies(&kept.body);
+    assert!(e.len() == 2 && e[1] <= limit, "{e:?} within {limit}");
+    let neither = client.get(&format!("{build}/tune?launch_target=1")).await;
+    assert!(neither.body.contains("id=\"target_lock_time-msg\""));
 }
