@@ -8,7 +8,7 @@
 //! simulations instead of one per step; a test checks it against trying every step.
 
 use super::InputError;
-use super::launch::{LaunchModel, LaunchRun};
+use super::launch::{Event, LaunchModel, LaunchRun};
 use super::launch_request::ValidLaunch;
 use super::quantity::limits;
 use super::units::Units;
@@ -32,9 +32,9 @@ pub struct LaunchPick {
     pub runs: usize,
     /// False when no counterweight on the grid meets the target (the nearest end is given).
     pub met: bool,
-    /// For a lockup time: the next counterweight up spins the tires (a lock that early comes
-    /// only with wheelspin, so the pick stops short of the target).
-    pub spin_beyond: bool,
+    /// For a lockup time: the next counterweight up spins the tires or pulls the engine below
+    /// its torque curve (a lock that early comes only that way, so the pick stops short).
+    pub too_much_beyond: bool,
 }
 
 /// How the launch preview searches counterweight.
@@ -65,11 +65,20 @@ fn with_counterweight(valid: &ValidLaunch, counterweight_g: f64) -> LaunchModel 
     m
 }
 
+/// The clamp is too much for the car: the tires spin, or the engine is pulled below its curve.
+fn too_much(run: &LaunchRun) -> bool {
+    !run.tire_spin.is_empty()
+        || run
+            .events
+            .iter()
+            .any(|e| matches!(e.event, Event::LeftCurve { above: false, .. }))
+}
+
 /// A measure that falls as counterweight rises. For a lockup time a launch that spins the tires
-/// counts as past every target: the early lock that wheelspin brings is not the one wanted.
+/// or bogs the engine out of its curve counts as past every target: that is not the lock wanted.
 fn measure(run: &LaunchRun, target: LaunchTarget) -> f64 {
     match target {
-        LaunchTarget::LockupTime(_) if !run.tire_spin.is_empty() => f64::NEG_INFINITY,
+        LaunchTarget::LockupTime(_) if too_much(run) => f64::NEG_INFINITY,
         LaunchTarget::LockupTime(_) => run.lockup.map_or(f64::INFINITY, |l| l.time_s),
         LaunchTarget::MaxSlipEnergy(_) => run.slip_energy_j,
     }
@@ -116,7 +125,7 @@ pub fn find_counterweight(
             run: hi_run,
             runs,
             met: false,
-            spin_beyond: false,
+            too_much_beyond: false,
         });
     }
     let lo_run = run_at(0);
@@ -135,7 +144,7 @@ pub fn find_counterweight(
             }
         }
     }
-    let spins = !hi_run.tire_spin.is_empty();
+    let spins = too_much(&hi_run);
     let (k, run, met) = match target {
         LaunchTarget::MaxSlipEnergy(_) => (hi, hi_run, true),
         LaunchTarget::LockupTime(t) if hi > 0 => {
@@ -157,7 +166,7 @@ pub fn find_counterweight(
         run,
         runs,
         met,
-        spin_beyond: spins && matches!(target, LaunchTarget::LockupTime(_)),
+        too_much_beyond: spins && matches!(target, LaunchTarget::LockupTime(_)),
     })
 }
 
@@ -244,11 +253,11 @@ mod tests {
         let v = valid();
         let pick =
             find_counterweight(&v, LaunchTarget::LockupTime(0.001), Grid::default()).expect("ok");
-        // No lock in a millisecond: the search stops where more counterweight spins the tires.
-        assert!(!pick.met && pick.spin_beyond);
-        assert!(pick.run.tire_spin.is_empty());
+        // No lock in a millisecond: the search stops where more counterweight is too much.
+        assert!(!pick.met && pick.too_much_beyond);
+        assert!(!too_much(&pick.run) && pick.run.lockup.is_some());
         let one_more = with_counterweight(&v, pick.counterweight_g + 1.0).simulate();
-        assert!(!one_more.tire_spin.is_empty());
+        assert!(too_much(&one_more));
         assert!(
             find_counterweight(&v, LaunchTarget::MaxSlipEnergy(-1.0), Grid::default()).is_err()
         );

@@ -263,10 +263,11 @@ pub fn target_column(
         };
         s.notes.insert(
             0,
-            if pick.spin_beyond {
+            if pick.too_much_beyond {
                 format!(
-                    "Aiming to {goal}: one gram more spins the tires, so this is as early as the \
-                     clutch locks with the tires hooked ({} launches simulated).",
+                    "Aiming to {goal}: one gram more spins the tires or pulls the engine below \
+                     its torque curve, so this is as early as the clutch locks cleanly ({} \
+                     launches simulated).",
                     pick.runs
                 )
             } else if pick.met {

@@ -202,7 +202,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
     let t = lockup_times(&found.body);
     assert_eq!(t.len(), 2);
     if found.body.contains("one gram more spins the tires") {
-        // Stopped short of the goal by wheelspin: earlier than now, later than the goal.
+        // Stopped short of the goal by wheelspin or a bog: earlier than now, later than the goal.
         assert!(t[1] < t[0] && t[1] > goal, "{t:?} for {goal}");
     } else {
         // Nearer the goal than today.

@@ -1,10 +1,12 @@
 //! Engineering benchmarks: `cargo bench -p lockpoint-e2e --bench engineering`.
 //! Targets: the capacity curve at 1 rpm over 1000-9000 rpm under 100 µs; one recommendation with
-//! both targets under 10 ms; one 3 s launch preview at 0.5 ms steps under 5 ms (2-core machine).
+//! both targets under 10 ms; one 3 s launch preview at 0.5 ms steps under 5 ms; a counterweight
+//! search for a lockup time through the launch preview under 100 ms (2-core machine).
 
 use std::hint::black_box;
 
 use criterion::{Criterion, criterion_group, criterion_main};
+use lockpoint::clutch::launch_target::{Grid, LaunchTarget, find_counterweight};
 use lockpoint::clutch::lockup::curve_at;
 use lockpoint::clutch::recommend::{Limits, RecommendRequest, Steps, Targets};
 use lockpoint::clutch::request::{
@@ -95,6 +97,11 @@ fn benches(c: &mut Criterion) {
     );
     c.bench_function("launch preview, 3 s at 0.5 ms", |b| {
         b.iter(|| black_box(&launch).simulate())
+    });
+    let valid = launch_request().validate().expect("valid launch");
+    let target = LaunchTarget::LockupTime(1.5);
+    c.bench_function("counterweight for a 1.5 s lockup, launch preview", |b| {
+        b.iter(|| find_counterweight(black_box(&valid), target, Grid::default()).unwrap())
     });
     let valid = request().validate().expect("valid request");
     let law = valid.model.law();
