@@ -81,13 +81,13 @@ pub const ESTIMATES: [Estimate; 13] = [
     },
     Estimate {
         column: "cg_to_front_axle_mm",
-        label: "centre of gravity behind the front axle",
+        label: "center of gravity behind the front axle",
         kind: Kind::Length,
         value: 1600.0,
     },
     Estimate {
         column: "cg_height_mm",
-        label: "centre of gravity height",
+        label: "center of gravity height",
         kind: Kind::Length,
         value: 500.0,
     },
