@@ -217,7 +217,26 @@ async fn bad_launch_input_names_the_field() {
             json!(0.9),
         ),
         ("vehicle.drag_area", "/vehicle/drag_area", json!("big")),
+        (
+            "friction.mu_vs_temperature[1]",
+            "/friction/mu_vs_temperature",
+            json!([[100, 0.3], [50, 0.28]]),
+        ),
+        (
+            "friction.mu_vs_temperature[0]",
+            "/friction/mu_vs_temperature",
+            json!([[100, 0.9]]),
+        ),
     ];
+    // A μ(θ) table without the plates it is read at.
+    let mut body = worked();
+    body.as_object_mut().unwrap().remove("thermal");
+    body["friction"]["mu_vs_temperature"] = json!([[20, 0.38], [300, 0.30]]);
+    let r = app
+        .api("POST", "/api/v1/calc/launch", Some(&t), Some(body))
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
+    assert_eq!(r.json()["field"], "friction.mu_vs_temperature");
     for (field, pointer, value) in cases {
         let mut body = worked();
         let mut at = &mut body;
@@ -236,4 +255,30 @@ async fn bad_launch_input_names_the_field() {
         );
         assert_eq!(r.json()["field"], field, "{}", r.body);
     }
+}
+
+// A μ(θ) table that holds μ at 0.30 everywhere is the constant μ: the same launch to the last
+// digit; one that falls with heat (a made-up table for the check) slips longer.
+#[tokio::test]
+async fn a_mu_table_is_read_at_the_plate_temperature() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let plain = app
+        .api("POST", "/api/v1/calc/launch", Some(&token), Some(worked()))
+        .await
+        .json();
+    let mut flat = worked();
+    flat["friction"]["mu_vs_temperature"] = json!([[20, 0.30], [300, 0.30]]);
+    let r = app
+        .api("POST", "/api/v1/calc/launch", Some(&token), Some(flat))
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    assert_eq!(r.json()["lockup"], plain["lockup"]);
+    let mut fading = worked();
+    fading["friction"]["mu_vs_temperature"] = json!([[30, 0.30], [80, 0.26]]);
+    let faded = app
+        .api("POST", "/api/v1/calc/launch", Some(&token), Some(fading))
+        .await
+        .json();
+    assert!(num(&faded["slip_energy_kj"]) > num(&plain["slip_energy_kj"]));
 }
