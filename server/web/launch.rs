@@ -204,8 +204,9 @@ fn shown(
 
 fn setting_text(turns: f64, counterweight_g: f64, rpm: Option<f64>) -> String {
     format!(
-        "{} turns, {:.1} g per lever{}",
+        "{} turn{}, {:.1} g per lever{}",
         turns,
+        if turns == 1.0 { "" } else { "s" },
         counterweight_g,
         rpm.map_or(String::new(), |r| format!(", launch {r:.0} rpm"))
     )
