@@ -15,6 +15,12 @@ pub mod clamp;
 pub mod datalog;
 /// Facing materials: friction coefficients, temperature limits, friction surfaces.
 pub mod friction;
+/// Launch preview: engine, slipping clutch, driveline and tyres simulated through a launch.
+pub mod launch;
+/// The launch preview request (as the API receives it), its validation and its answer.
+pub mod launch_request;
+/// The counterweight that meets a lockup-time target or a slip-energy limit in the launch preview.
+pub mod launch_target;
 /// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
 pub mod lockup;
 /// The data-log analysis request (CSV text, column mapping) and its answer.

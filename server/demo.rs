@@ -391,6 +391,7 @@ async fn seed_customer(
                 .map(|[rpm, t]| [*rpm, IN.torque_to_nm(*t)])
                 .collect(),
             notes: String::new(),
+            ..Default::default()
         };
         let car_id = db::cars::insert(
             tx,

@@ -4,6 +4,9 @@
 
 use std::collections::HashMap;
 
+/// A stored build's launch preview request, with estimates for what the car's record lacks.
+pub mod launch;
+
 use crate::clutch::InputError;
 use crate::clutch::calibrate::{
     CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_request,

@@ -15,6 +15,7 @@ mod extract;
 mod flash;
 mod history;
 mod home;
+mod launch;
 mod layout;
 mod login;
 mod logs;

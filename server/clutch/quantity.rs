@@ -43,12 +43,22 @@ pub enum Kind {
     Seconds,
     /// A whole count.
     Count,
-    /// A short time, ms in both systems (a data log's hold window).
-    Milliseconds,
-    /// Rotating inertia, kg·m² (lb·ft² / kg·m²).
-    Inertia,
     /// Road speed, m/s inside (mph / km/h).
     RoadSpeed,
+    /// Moment of inertia, kg·m² (lb·ft² / kg·m²).
+    Inertia,
+    /// Area, m² (ft² / m²).
+    Area,
+    /// Density, kg/m³ (lb/ft³ / kg/m³).
+    Density,
+    /// Specific heat, J/(kg·K) (BTU/(lb·°F) / J/(kg·K)).
+    SpecificHeat,
+    /// Temperature, °C (°F / °C).
+    Temperature,
+    /// Time, ms in both systems (integration steps).
+    Milliseconds,
+    /// Energy, kJ in both systems (slip energy).
+    Kilojoules,
 }
 
 impl Kind {
@@ -60,8 +70,12 @@ impl Kind {
             Kind::Rate => units.n_per_mm_to_rate(v),
             Kind::Torque => units.nm_to_torque(v),
             Kind::VehicleMass => units.kg_to_weight(v),
-            Kind::Inertia => units.kgm2_to_inertia(v),
-            Kind::RoadSpeed => units.mps_to_road_speed(v),
+            Kind::RoadSpeed => units.m_s_to_road_speed(v),
+            Kind::Inertia => units.kg_m2_to_inertia(v),
+            Kind::Area => units.m2_to_area(v),
+            Kind::Density => units.kg_m3_to_density(v),
+            Kind::SpecificHeat => units.si_to_specific_heat(v),
+            Kind::Temperature => units.c_to_temperature(v),
             _ => v,
         }
     }
@@ -74,8 +88,12 @@ impl Kind {
             Kind::Rate => units.rate_to_n_per_mm(v),
             Kind::Torque => units.torque_to_nm(v),
             Kind::VehicleMass => units.weight_to_kg(v),
-            Kind::Inertia => units.inertia_to_kgm2(v),
-            Kind::RoadSpeed => units.road_speed_to_mps(v),
+            Kind::RoadSpeed => units.road_speed_to_m_s(v),
+            Kind::Inertia => units.inertia_to_kg_m2(v),
+            Kind::Area => units.area_to_m2(v),
+            Kind::Density => units.density_to_kg_m3(v),
+            Kind::SpecificHeat => units.specific_heat_to_si(v),
+            Kind::Temperature => units.temperature_to_c(v),
             _ => v,
         }
     }
@@ -99,15 +117,23 @@ impl Kind {
             Kind::Turns => "turns",
             Kind::Percent => "%",
             Kind::Seconds => "s",
+            Kind::RoadSpeed => units.road_speed_label(),
+            Kind::Inertia => units.inertia_label(),
+            Kind::Area => match units {
+                Units::Imperial => "ft²",
+                Units::Metric => "m²",
+            },
+            Kind::Density => match units {
+                Units::Imperial => "lb/ft³",
+                Units::Metric => "kg/m³",
+            },
+            Kind::SpecificHeat => match units {
+                Units::Imperial => "BTU/(lb·°F)",
+                Units::Metric => "J/(kg·K)",
+            },
+            Kind::Temperature => units.temperature_label(),
             Kind::Milliseconds => "ms",
-            Kind::Inertia => match units {
-                Units::Imperial => "lb·ft²",
-                Units::Metric => "kg·m²",
-            },
-            Kind::RoadSpeed => match units {
-                Units::Imperial => "mph",
-                Units::Metric => "km/h",
-            },
+            Kind::Kilojoules => "kJ",
             Kind::Ratio | Kind::Mu | Kind::Count => "",
         }
     }
@@ -120,16 +146,17 @@ impl Kind {
                 Units::Imperial => 3,
                 Units::Metric => 2,
             },
-            Kind::Force
-            | Kind::Torque
-            | Kind::VehicleMass
-            | Kind::Speed
-            | Kind::Count
-            | Kind::Milliseconds => 0,
+            Kind::Force | Kind::Torque | Kind::VehicleMass | Kind::Speed | Kind::Count => 0,
             Kind::Grams | Kind::Rate | Kind::Percent | Kind::RoadSpeed => 1,
             Kind::Ratio | Kind::ThreadsPerInch => 2,
             Kind::Pitch | Kind::Turns | Kind::Mu | Kind::Seconds | Kind::Inertia => 3,
             Kind::ForcePerGram => 4,
+            Kind::Temperature | Kind::Kilojoules => 0,
+            Kind::Area | Kind::Density | Kind::Milliseconds => 2,
+            Kind::SpecificHeat => match units {
+                Units::Imperial => 3,
+                Units::Metric => 0,
+            },
         }
     }
 
@@ -333,14 +360,52 @@ pub mod limits {
     pub const EXTRA_FACE_EFFICIENCY: Limit = Limit::new(Ratio, Excl(0.0), Incl(1.0));
     /// Static clamp lost to wear at a pass.
     pub const CLAMP_LOSS: Limit = Limit::new(Force, Incl(0.0), Incl(50_000.0));
+    /// Engine (crank, flywheel, pressure plate) moment of inertia.
+    pub const ENGINE_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(10.0));
+    /// Gearbox input (disc, input shaft, gear cluster) or driveshaft moment of inertia.
+    pub const SHAFT_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(10.0));
+    /// Rear or front axle (wheels, tyres, hubs, axles) moment of inertia.
+    pub const AXLE_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(100.0));
+    /// Engine friction torque taken off the torque curve in the launch preview.
+    pub const FRICTION_TORQUE: Limit = Limit::new(Torque, Incl(0.0), Incl(5_000.0));
+    /// Driveline efficiency (torque only).
+    pub const DRIVELINE_EFFICIENCY: Limit = Limit::new(Ratio, Incl(0.5), Incl(1.0));
+    /// Wheelbase, CG to front axle, CG height, drag height.
+    pub const CAR_LENGTH: Limit = Limit::new(Length, Excl(0.0), Incl(10_000.0));
+    /// Rolling-resistance coefficient.
+    pub const ROLLING_RESISTANCE: Limit = Limit::new(Ratio, Incl(0.0), Incl(0.5));
+    /// Drag area Cd·A.
+    pub const DRAG_AREA: Limit = Limit::new(Area, Incl(0.0), Incl(20.0));
+    /// Air density.
+    pub const AIR_DENSITY: Limit = Limit::new(Density, Excl(0.0), Incl(5.0));
+    /// Tyre-road friction coefficient, gripping or spinning.
+    pub const TIRE_GRIP: Limit = Limit::new(Ratio, Incl(0.1), Incl(4.0));
+    /// Static over kinetic friction of the clutch (for the lock test).
+    pub const STATIC_RATIO: Limit = Limit::new(Ratio, Incl(1.0), Incl(3.0));
+    /// Pressure plate or flywheel mass.
+    pub const PLATE_MASS: Limit = Limit::new(VehicleMass, Excl(0.0), Incl(200.0));
+    /// Specific heat of the plates.
+    pub const SPECIFIC_HEAT: Limit = Limit::new(SpecificHeat, Excl(0.0), Incl(5_000.0));
+    /// Plate temperature (start, or a point of μ against temperature).
+    pub const PLATE_TEMPERATURE: Limit = Limit::new(Temperature, Incl(-50.0), Incl(1_000.0));
+    /// Share of the slip energy each of the two plates takes.
+    pub const PLATE_SHARE: Limit = Limit::new(Ratio, Excl(0.0), Incl(0.5));
+    /// Integration step of the launch preview.
+    pub const LAUNCH_STEP: Limit = Limit::new(Milliseconds, Incl(0.05), Incl(5.0));
+    /// Time the launch preview runs for.
+    pub const LAUNCH_DURATION: Limit = Limit::new(Seconds, Incl(0.1), Incl(10.0));
+    /// Target lockup time after the launch (launch preview search).
+    pub const LOCKUP_TIME: Limit = Limit::new(Seconds, Incl(0.05), Incl(10.0));
+    /// Most slip energy one launch may put into the clutch (launch preview search).
+    pub const SLIP_ENERGY: Limit = Limit::new(Kilojoules, Incl(1.0), Incl(10_000.0));
+    /// Points of a μ-against-temperature table.
+    pub const MU_TABLE_POINTS: usize = 50;
     /// Days a customer link stays valid.
     pub const LINK_DAYS: Limit = Limit::new(Count, Incl(1.0), Incl(365.0));
     /// Slip below which a data log's clutch counts as locked.
     pub const LOG_SLIP_ON: Limit = Limit::new(Percent, Excl(0.0), Incl(50.0));
     /// How long the slip must stay below that for a lockup.
     pub const LOG_HOLD: Limit = Limit::new(Milliseconds, Incl(0.0), Incl(2000.0));
-    /// Engine rotating inertia (crank, flywheel, clutch cover) for the clutch torque of a log.
-    pub const ENGINE_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(20.0));
     /// A data-log file, bytes.
     pub const LOG_FILE_BYTES: usize = 50 * 1024 * 1024;
 }
@@ -415,6 +480,25 @@ mod tests {
             CARRIED_TORQUE,
             CLAMP_LOSS,
             EXTRA_FACE_EFFICIENCY,
+            ENGINE_INERTIA,
+            SHAFT_INERTIA,
+            AXLE_INERTIA,
+            FRICTION_TORQUE,
+            DRIVELINE_EFFICIENCY,
+            CAR_LENGTH,
+            ROLLING_RESISTANCE,
+            DRAG_AREA,
+            AIR_DENSITY,
+            TIRE_GRIP,
+            STATIC_RATIO,
+            PLATE_MASS,
+            SPECIFIC_HEAT,
+            PLATE_TEMPERATURE,
+            PLATE_SHARE,
+            LAUNCH_STEP,
+            LAUNCH_DURATION,
+            LOCKUP_TIME,
+            SLIP_ENERGY,
         ];
         for limit in all {
             for units in [Units::Imperial, Units::Metric] {

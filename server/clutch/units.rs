@@ -148,6 +148,118 @@ impl Units {
     }
 }
 
+/// kg·m² per lb·ft², exact: 0.45359237 kg × (0.3048 m)².
+pub const KG_M2_PER_LB_FT2: f64 = 0.45359237 * 0.3048 * 0.3048;
+/// m² per ft², exact: (0.3048 m)².
+pub const M2_PER_FT2: f64 = 0.3048 * 0.3048;
+/// kg/m³ per lb/ft³, exact: 0.45359237 kg / (0.3048 m)³.
+pub const KG_M3_PER_LB_FT3: f64 = 0.45359237 / (0.3048 * 0.3048 * 0.3048);
+/// J/(kg·K) per BTU/(lb·°F), exact for the International Table BTU: 4186.8 (NIST SP 811,
+/// App. B.8, "British thermal unit_IT per pound degree Fahrenheit").
+pub const J_KG_K_PER_BTU_LB_F: f64 = 4186.8;
+/// Metres per second per km/h, exact: 1000/3600.
+pub const M_S_PER_KMH: f64 = 1000.0 / 3600.0;
+/// Metres per second per mile per hour, exact: 1609.344/3600.
+pub const M_S_PER_MPH: f64 = 1609.344 / 3600.0;
+
+impl Units {
+    /// Moment of inertia in this system (lb·ft² or kg·m²) → kg·m².
+    pub fn inertia_to_kg_m2(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v * KG_M2_PER_LB_FT2,
+            Units::Metric => v,
+        }
+    }
+
+    /// kg·m² → moment of inertia in this system.
+    pub fn kg_m2_to_inertia(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v / KG_M2_PER_LB_FT2,
+            Units::Metric => v,
+        }
+    }
+
+    /// Area in this system (ft² or m²) → m².
+    pub fn area_to_m2(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v * M2_PER_FT2,
+            Units::Metric => v,
+        }
+    }
+
+    /// m² → area in this system.
+    pub fn m2_to_area(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v / M2_PER_FT2,
+            Units::Metric => v,
+        }
+    }
+
+    /// Density in this system (lb/ft³ or kg/m³) → kg/m³.
+    pub fn density_to_kg_m3(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v * KG_M3_PER_LB_FT3,
+            Units::Metric => v,
+        }
+    }
+
+    /// kg/m³ → density in this system.
+    pub fn kg_m3_to_density(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v / KG_M3_PER_LB_FT3,
+            Units::Metric => v,
+        }
+    }
+
+    /// Specific heat in this system (BTU/(lb·°F) or J/(kg·K)) → J/(kg·K).
+    pub fn specific_heat_to_si(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v * J_KG_K_PER_BTU_LB_F,
+            Units::Metric => v,
+        }
+    }
+
+    /// J/(kg·K) → specific heat in this system.
+    pub fn si_to_specific_heat(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v / J_KG_K_PER_BTU_LB_F,
+            Units::Metric => v,
+        }
+    }
+
+    /// A temperature difference in K → this system (K or °F difference: × 9/5).
+    pub fn k_to_temperature_rise(self, k: f64) -> f64 {
+        match self {
+            Units::Imperial => k * 9.0 / 5.0,
+            Units::Metric => k,
+        }
+    }
+
+    /// Road speed m/s → this system (mph or km/h).
+    pub fn m_s_to_road_speed(self, v: f64) -> f64 {
+        match self {
+            Units::Imperial => v / M_S_PER_MPH,
+            Units::Metric => v / M_S_PER_KMH,
+        }
+    }
+
+    /// Label for road speeds: "mph" or "km/h".
+    pub fn road_speed_label(self) -> &'static str {
+        match self {
+            Units::Imperial => "mph",
+            Units::Metric => "km/h",
+        }
+    }
+
+    /// Label for moments of inertia: "lb·ft²" or "kg·m²".
+    pub fn inertia_label(self) -> &'static str {
+        match self {
+            Units::Imperial => "lb·ft²",
+            Units::Metric => "kg·m²",
+        }
+    }
+}
+
 /// Engine speed rev/min → angular speed rad/s: ω = 2π·n/60.
 pub fn rpm_to_rad_s(rpm: f64) -> f64 {
     rpm * RAD_S_PER_RPM
@@ -198,44 +310,14 @@ impl Units {
         }
     }
 
-    /// Rotating inertia in this system (lb·ft² or kg·m²) → kg·m².
-    pub fn inertia_to_kgm2(self, v: f64) -> f64 {
-        match self {
-            Units::Imperial => v * KGM2_PER_LBFT2,
-            Units::Metric => v,
-        }
-    }
-
-    /// kg·m² → rotating inertia in this system.
-    pub fn kgm2_to_inertia(self, v: f64) -> f64 {
-        match self {
-            Units::Imperial => v / KGM2_PER_LBFT2,
-            Units::Metric => v,
-        }
-    }
-
     /// Road speed in this system (mph or km/h) → m/s.
-    pub fn road_speed_to_mps(self, v: f64) -> f64 {
+    pub fn road_speed_to_m_s(self, v: f64) -> f64 {
         match self {
-            Units::Imperial => v * MPS_PER_MPH,
-            Units::Metric => v / 3.6,
-        }
-    }
-
-    /// m/s → road speed in this system.
-    pub fn mps_to_road_speed(self, v: f64) -> f64 {
-        match self {
-            Units::Imperial => v / MPS_PER_MPH,
-            Units::Metric => v * 3.6,
+            Units::Imperial => v * M_S_PER_MPH,
+            Units::Metric => v * M_S_PER_KMH,
         }
     }
 }
-
-/// kg·m² per lb·ft², exact from the pound and the foot (0.45359237 kg × 0.3048² m²).
-pub const KGM2_PER_LBFT2: f64 = KG_PER_LB * 0.3048 * 0.3048;
-
-/// m/s per mile per hour, exact (1609.344 m / 3600 s; NIST SP 811 App. B.8).
-pub const MPS_PER_MPH: f64 = 0.44704;
 
 #[cfg(test)]
 mod tests {

@@ -3,7 +3,7 @@
 //! a quarter of the rate with blank cells between, a little sensor noise). Deterministic: the
 //! same text every time.
 
-use crate::clutch::units::{MPS_PER_MPH, RAD_S_PER_RPM};
+use crate::clutch::units::{M_S_PER_MPH, RAD_S_PER_RPM};
 
 /// Engine inertia the demo's log settings use, kg·m² (invented).
 pub const ENGINE_INERTIA_KGM2: f64 = 0.20;
@@ -34,7 +34,7 @@ pub fn pass_log(curve_nm: &[[f64; 2]], first: f64, final_drive: f64, tire_mm: f6
     };
     let wheel_mph = |w_in: f64| {
         let wheel_rad_s = w_in / (first * final_drive);
-        wheel_rad_s * tire_mm / 2000.0 / MPS_PER_MPH
+        wheel_rad_s * tire_mm / 2000.0 / M_S_PER_MPH
     };
     let mut out = String::from(
         "Session export,invented demo pass\nTime,Engine,Input shaft,Front wheel,Rear wheel,Throttle\nms,rpm,rpm,mph,mph,%\n",

@@ -21,6 +21,21 @@ pub struct CarInput {
     #[sqlx(json)]
     pub torque_curve_nm: Vec<[f64; 2]>,
     pub notes: String,
+    // What the launch preview needs (each optional: an estimate stands in, see
+    // `model::launch_defaults`).
+    pub engine_inertia_kg_m2: Option<f64>,
+    pub input_inertia_kg_m2: Option<f64>,
+    pub driveshaft_inertia_kg_m2: Option<f64>,
+    pub rear_axle_inertia_kg_m2: Option<f64>,
+    pub front_axle_inertia_kg_m2: Option<f64>,
+    pub wheelbase_mm: Option<f64>,
+    pub cg_to_front_axle_mm: Option<f64>,
+    pub cg_height_mm: Option<f64>,
+    pub drag_area_m2: Option<f64>,
+    pub tire_grip: Option<f64>,
+    pub tire_grip_spinning: Option<f64>,
+    pub flywheel_mass_kg: Option<f64>,
+    pub pressure_plate_mass_kg: Option<f64>,
 }
 
 impl Record for CarInput {
@@ -142,6 +157,149 @@ impl Record for CarInput {
                 required: false,
                 get: |r| &r.notes,
                 set: |r, v| r.notes = v,
+            },
+        },
+        Field {
+            column: "engine_inertia_kg_m2",
+            form: "engine_inertia",
+            label: "Engine inertia (crank, flywheel, pressure plate)",
+            value: Value::Number {
+                limit: limits::ENGINE_INERTIA,
+                required: false,
+                get: |r| r.engine_inertia_kg_m2,
+                set: |r, v| r.engine_inertia_kg_m2 = v,
+            },
+        },
+        Field {
+            column: "input_inertia_kg_m2",
+            form: "input_inertia",
+            label: "Gearbox input inertia (disc, input shaft, gears)",
+            value: Value::Number {
+                limit: limits::SHAFT_INERTIA,
+                required: false,
+                get: |r| r.input_inertia_kg_m2,
+                set: |r, v| r.input_inertia_kg_m2 = v,
+            },
+        },
+        Field {
+            column: "driveshaft_inertia_kg_m2",
+            form: "driveshaft_inertia",
+            label: "Driveshaft inertia",
+            value: Value::Number {
+                limit: limits::SHAFT_INERTIA,
+                required: false,
+                get: |r| r.driveshaft_inertia_kg_m2,
+                set: |r, v| r.driveshaft_inertia_kg_m2 = v,
+            },
+        },
+        Field {
+            column: "rear_axle_inertia_kg_m2",
+            form: "rear_axle_inertia",
+            label: "Rear axle inertia (axles, wheels, tires)",
+            value: Value::Number {
+                limit: limits::AXLE_INERTIA,
+                required: false,
+                get: |r| r.rear_axle_inertia_kg_m2,
+                set: |r, v| r.rear_axle_inertia_kg_m2 = v,
+            },
+        },
+        Field {
+            column: "front_axle_inertia_kg_m2",
+            form: "front_axle_inertia",
+            label: "Front wheels inertia",
+            value: Value::Number {
+                limit: limits::AXLE_INERTIA,
+                required: false,
+                get: |r| r.front_axle_inertia_kg_m2,
+                set: |r, v| r.front_axle_inertia_kg_m2 = v,
+            },
+        },
+        Field {
+            column: "wheelbase_mm",
+            form: "wheelbase",
+            label: "Wheelbase",
+            value: Value::Number {
+                limit: limits::CAR_LENGTH,
+                required: false,
+                get: |r| r.wheelbase_mm,
+                set: |r, v| r.wheelbase_mm = v,
+            },
+        },
+        Field {
+            column: "cg_to_front_axle_mm",
+            form: "cg_to_front_axle",
+            label: "Center of gravity behind the front axle",
+            value: Value::Number {
+                limit: limits::CAR_LENGTH,
+                required: false,
+                get: |r| r.cg_to_front_axle_mm,
+                set: |r, v| r.cg_to_front_axle_mm = v,
+            },
+        },
+        Field {
+            column: "cg_height_mm",
+            form: "cg_height",
+            label: "Center of gravity height",
+            value: Value::Number {
+                limit: limits::CAR_LENGTH,
+                required: false,
+                get: |r| r.cg_height_mm,
+                set: |r, v| r.cg_height_mm = v,
+            },
+        },
+        Field {
+            column: "drag_area_m2",
+            form: "drag_area",
+            label: "Drag area (Cd × frontal area)",
+            value: Value::Number {
+                limit: limits::DRAG_AREA,
+                required: false,
+                get: |r| r.drag_area_m2,
+                set: |r, v| r.drag_area_m2 = v,
+            },
+        },
+        Field {
+            column: "tire_grip",
+            form: "tire_grip",
+            label: "Tire grip μ (hooked)",
+            value: Value::Number {
+                limit: limits::TIRE_GRIP,
+                required: false,
+                get: |r| r.tire_grip,
+                set: |r, v| r.tire_grip = v,
+            },
+        },
+        Field {
+            column: "tire_grip_spinning",
+            form: "tire_grip_spinning",
+            label: "Tire grip μ (spinning)",
+            value: Value::Number {
+                limit: limits::TIRE_GRIP,
+                required: false,
+                get: |r| r.tire_grip_spinning,
+                set: |r, v| r.tire_grip_spinning = v,
+            },
+        },
+        Field {
+            column: "flywheel_mass_kg",
+            form: "flywheel_mass",
+            label: "Flywheel mass",
+            value: Value::Number {
+                limit: limits::PLATE_MASS,
+                required: false,
+                get: |r| r.flywheel_mass_kg,
+                set: |r, v| r.flywheel_mass_kg = v,
+            },
+        },
+        Field {
+            column: "pressure_plate_mass_kg",
+            form: "pressure_plate_mass",
+            label: "Pressure plate mass",
+            value: Value::Number {
+                limit: limits::PLATE_MASS,
+                required: false,
+                get: |r| r.pressure_plate_mass_kg,
+                set: |r, v| r.pressure_plate_mass_kg = v,
             },
         },
     ];

@@ -106,6 +106,7 @@ pub fn routes() -> Routes {
             "/passes/{id}/analysis",
             get(super::logs::api_analysis),
         )
+        .route(Token, "/calc/launch", post(super::calc::launch))
 }
 
 /// Any other path under the API: a JSON 404.

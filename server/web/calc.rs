@@ -1,4 +1,4 @@
-//! The calculation API: capacity, setting recommendation and disc wear, for any clutch sent as
+//! The calculation API: capacity, setting recommendation, disc wear and the launch preview, for any clutch sent as
 //! JSON, and the wear of a stored build. Bad input answers 422 naming the field, never 500.
 
 use axum::Json;
@@ -9,6 +9,7 @@ use super::api::Id;
 use super::extract::{ApiJson, ApiUser};
 use crate::clutch::InputError;
 use crate::clutch::calibrate::{CalibrateRequest, CalibrationReport, Fit};
+use crate::clutch::launch_request::{LaunchReport, LaunchRequest};
 use crate::clutch::recommend::{RecommendRequest, Recommendation};
 use crate::clutch::report::CapacityReport;
 use crate::clutch::request::CapacityRequest;
@@ -40,6 +41,12 @@ pub async fn calibrate(
     ApiJson(req): ApiJson<CalibrateRequest>,
 ) -> ApiResult<CalibrationReport> {
     crate::clutch::calibrate::calibrate_request(&req)
+        .map(Json)
+        .map_err(invalid)
+}
+
+pub async fn launch(_: ApiUser, ApiJson(req): ApiJson<LaunchRequest>) -> ApiResult<LaunchReport> {
+    crate::clutch::launch_request::launch(&req)
         .map(Json)
         .map_err(invalid)
 }

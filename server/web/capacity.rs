@@ -10,8 +10,10 @@ use axum::response::Html;
 use super::AppState;
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId};
+use super::launch::LaunchColumn;
 use super::layout::Layout;
 use super::show::Show;
+use crate::clutch::launch_target::LaunchTarget;
 use crate::clutch::quantity::{Kind, limits};
 use crate::clutch::recommend::Recommendation;
 use crate::clutch::report::CapacityReport;
@@ -120,6 +122,8 @@ pub struct TunePage {
     pub calibration: Result<BuildCalibration, String>,
     /// The setting the recommendation searched from (its μ included).
     pub recommended_from: Trial,
+    /// Launch previews: the current setup, and the setting tried or recommended beside it.
+    pub launch: Vec<LaunchColumn>,
 }
 
 /// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
@@ -225,6 +229,15 @@ pub async fn tune(
         Some((r, f)) => (Some(r), Some(f)),
         None => (None, None),
     };
+    let launch = launch_columns(
+        &facts,
+        &mut form,
+        &mut errors,
+        &page.ctx,
+        current.is_ok(),
+        current_trial,
+        (&trial, &recommendation, recommended_from),
+    );
     let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
     let chart = match (&current, shown) {
         (Ok(cur), Some(new)) => Some(capacity_chart(&page.u, &new.report, Some(&cur.report))),
@@ -246,8 +259,96 @@ pub async fn tune(
         today,
         calibration,
         recommended_from,
+        launch,
     };
     Ok(Html(page.render()?))
+}
+
+/// The launch preview columns: the current setup from the car's launch speed, and beside it the
+/// recommended or tried setting from the launch speed tried (`launch_rpm`, with `try=1`).
+/// Prefills the launch speed with the car's.
+fn launch_columns(
+    facts: &BuildFacts,
+    form: &mut FormData,
+    errors: &mut FieldErrors,
+    ctx: &Ctx,
+    capacity_ok: bool,
+    current_trial: Trial,
+    (trial, recommendation, recommended_from): (
+        &Option<(Trial, Figures)>,
+        &Option<Recommendation>,
+        Trial,
+    ),
+) -> Vec<LaunchColumn> {
+    let units = ctx.units;
+    let tried_rpm = if form.get("try") == "1" && !form.get("launch_rpm").is_empty() {
+        field::number(form, "launch_rpm", limits::ENGINE_SPEED, units, errors)
+    } else {
+        None
+    };
+    if form.get("launch_rpm").is_empty()
+        && let Some(rpm) = facts.car.launch_rpm
+    {
+        form.set("launch_rpm", format!("{rpm:.0}"));
+    }
+    let target = if form.get("launch_target") == "1" {
+        let time = field::number(form, "target_lock_time", limits::LOCKUP_TIME, units, errors);
+        let energy = field::number(form, "max_slip_energy", limits::SLIP_ENERGY, units, errors);
+        match (time, energy) {
+            (Some(t), None) => Some(LaunchTarget::LockupTime(t)),
+            (None, Some(e)) => Some(LaunchTarget::MaxSlipEnergy(e * 1000.0)),
+            (Some(_), Some(_)) => {
+                errors.add(
+                    "max_slip_energy",
+                    "give a lockup time or a slip energy, not both",
+                );
+                None
+            }
+            (None, None) => {
+                if !errors.has("target_lock_time") && !errors.has("max_slip_energy") {
+                    errors.add("target_lock_time", "give a lockup time or a slip energy");
+                }
+                None
+            }
+        }
+    } else {
+        None
+    };
+    if !capacity_ok {
+        return Vec::new();
+    }
+    let mut columns = vec![super::launch::column(
+        facts,
+        "Current setup",
+        current_trial,
+        None,
+        units,
+    )];
+    if let Some(target) = target {
+        columns.push(super::launch::target_column(
+            facts,
+            current_trial,
+            target,
+            units,
+        ));
+        return columns;
+    }
+    let other = match (recommendation, trial) {
+        (Some(r), _) => Some((
+            "Recommended",
+            Trial {
+                adjuster_turns: r.recommended.adjuster_turns,
+                counterweight_g: r.recommended.counterweight_g,
+                mu: recommended_from.mu,
+            },
+        )),
+        (None, Some((t, _))) => Some(("Trying", *t)),
+        (None, None) => tried_rpm.map(|_| ("Trying", current_trial)),
+    };
+    if let Some((title, t)) = other {
+        columns.push(super::launch::column(facts, title, t, tried_rpm, units));
+    }
+    columns
 }
 
 /// The figures a page quotes for one setting, formatted in the shop's units.

@@ -75,6 +75,12 @@ impl Show {
     pub fn weight_unit(&self) -> &'static str {
         self.units.weight_label()
     }
+    pub fn inertia_unit(&self) -> &'static str {
+        Kind::Inertia.symbol(self.units)
+    }
+    pub fn area_unit(&self) -> &'static str {
+        Kind::Area.symbol(self.units)
+    }
 
     /// A length with its unit ("1.905 in").
     pub fn len(&self, mm: impl Num) -> String {

@@ -558,6 +558,24 @@ fn base_json(template: &str, n: u64, rng: &mut Rng) -> Value {
                  "clamp_loss": 20.0}]);
             v
         }
+        "/calc/launch" => {
+            let mut v = capacity_example();
+            if let Some(o) = v.as_object_mut() {
+                for key in ["driveline", "overclamp_factor"] {
+                    o.remove(key);
+                }
+            }
+            v["engine"]["inertia"] = json!(4.7);
+            v["driveline"] = json!({"first_gear_ratio": 2.2, "final_drive_ratio": 4.1,
+                "efficiency": 0.95, "input_inertia": 0.5, "driveshaft_inertia": 1.2,
+                "rear_axle_inertia": 71.0, "front_axle_inertia": 24.0});
+            v["vehicle"] = json!({"mass": 3200, "tire_diameter": 30, "wheelbase": 108,
+                "cg_to_front_axle": 58, "cg_height": 20, "drag_height": 20,
+                "rolling_resistance": 0.015, "drag_area": 6.5, "tire_grip": 1.8,
+                "tire_grip_spinning": 1.4});
+            v["duration_s"] = json!(1.0);
+            v
+        }
         "/calc/wear" => json!({"units": "imperial", "baseline_cover_height": 1.905,
             "shimming_limit": 0.015, "shims": [0.010, 0.010, 0.020], "spring_count": 6,
             "spring_rate": 390.0, "disc_wear_allowance": 0.060,

@@ -9,6 +9,7 @@ mod counter;
 mod crash;
 mod history;
 mod hostile;
+mod launch;
 mod logs;
 mod migrations;
 mod plans;

@@ -1,0 +1,297 @@
+//! A stored build's launch preview: the capacity request of a setting plus what the car's
+//! record says about its engine, driveline and body, with a documented estimate standing in for
+//! each value the record leaves empty (and the page told which). Storage units are the metric
+//! request units, so nothing is converted here. No IO.
+
+use super::{BuildFacts, Missing, Trial};
+use crate::clutch::launch_request::{
+    DEFAULT_AIR_DENSITY, LaunchDriveline, LaunchEngine, LaunchFriction, LaunchRequest,
+    LaunchVehicle, ThermalInput,
+};
+use crate::clutch::quantity::Kind;
+use crate::clutch::units::Units;
+use crate::records::car::CarInput;
+
+/// An estimate for one car value the record leaves empty.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Estimate {
+    /// The car record's column it stands in for.
+    pub column: &'static str,
+    /// What the page calls it.
+    pub label: &'static str,
+    /// What kind of number it is (for showing it in the shop's units).
+    pub kind: Kind,
+    /// The value, storage units (kg·m², mm, m², kg, plain μ).
+    pub value: f64,
+}
+
+impl Estimate {
+    /// "engine inertia 4.75 lb·ft²": the estimate in `units` to three significant figures
+    /// (an estimate is not known better than that).
+    pub fn text(&self, units: Units) -> String {
+        let v = self.kind.to_shown(units, self.value);
+        let decimals = (2 - v.abs().log10().floor() as i32).clamp(0, 3) as usize;
+        match self.kind.symbol(units) {
+            "" => format!("{} {v:.decimals$}", self.label),
+            unit => format!("{} {v:.decimals$} {unit}", self.label),
+        }
+    }
+}
+
+/// Estimates for a typical car of the class the shop serves: a front-engined, rear-drive drag
+/// car of about 1.5 t with a manual gearbox, on slicks on a prepared track. Every value is an
+/// estimate from memory (low confidence), chosen to match the worked launch of the project's
+/// reference; the shop's own figures replace them field by field on the car form.
+pub const ESTIMATES: [Estimate; 13] = [
+    Estimate {
+        column: "engine_inertia_kg_m2",
+        label: "engine inertia",
+        kind: Kind::Inertia,
+        value: 0.20,
+    },
+    Estimate {
+        column: "input_inertia_kg_m2",
+        label: "gearbox input inertia",
+        kind: Kind::Inertia,
+        value: 0.02,
+    },
+    Estimate {
+        column: "driveshaft_inertia_kg_m2",
+        label: "driveshaft inertia",
+        kind: Kind::Inertia,
+        value: 0.05,
+    },
+    Estimate {
+        column: "rear_axle_inertia_kg_m2",
+        label: "rear axle inertia",
+        kind: Kind::Inertia,
+        value: 3.0,
+    },
+    Estimate {
+        column: "front_axle_inertia_kg_m2",
+        label: "front wheels inertia",
+        kind: Kind::Inertia,
+        value: 1.0,
+    },
+    Estimate {
+        column: "wheelbase_mm",
+        label: "wheelbase",
+        kind: Kind::Length,
+        value: 2700.0,
+    },
+    Estimate {
+        column: "cg_to_front_axle_mm",
+        label: "center of gravity behind the front axle",
+        kind: Kind::Length,
+        value: 1600.0,
+    },
+    Estimate {
+        column: "cg_height_mm",
+        label: "center of gravity height",
+        kind: Kind::Length,
+        value: 500.0,
+    },
+    Estimate {
+        column: "drag_area_m2",
+        label: "drag area",
+        kind: Kind::Area,
+        value: 0.6,
+    },
+    Estimate {
+        column: "tire_grip",
+        label: "tire grip (hooked)",
+        kind: Kind::Ratio,
+        value: 2.0,
+    },
+    Estimate {
+        column: "tire_grip_spinning",
+        label: "tire grip (spinning)",
+        kind: Kind::Ratio,
+        value: 1.6,
+    },
+    Estimate {
+        column: "flywheel_mass_kg",
+        label: "flywheel",
+        kind: Kind::VehicleMass,
+        value: 12.0,
+    },
+    Estimate {
+        column: "pressure_plate_mass_kg",
+        label: "pressure plate",
+        kind: Kind::VehicleMass,
+        value: 8.0,
+    },
+];
+
+/// Driveline efficiency on torque, first gear (estimate from memory; said on the page).
+pub const DRIVELINE_EFFICIENCY: f64 = 0.95;
+/// Rolling-resistance coefficient of a slick on a prepared track (estimate from memory).
+pub const ROLLING_RESISTANCE: f64 = 0.015;
+/// Specific heat of grey iron plates, J/(kg·K) (Engineering ToolBox, "Metals – Specific
+/// Heats", 460).
+pub const PLATE_SPECIFIC_HEAT: f64 = 460.0;
+/// Plate temperature at the start of a pass, °C (a clutch cooled to the air between rounds;
+/// an assumption).
+pub const PLATE_START_C: f64 = 30.0;
+/// Seconds the page simulates.
+pub const PREVIEW_SECONDS: f64 = 3.0;
+
+/// The launch request of a stored build and which values were estimated.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LaunchPlan {
+    pub request: LaunchRequest,
+    /// The estimates used, in declaration order.
+    pub estimated: Vec<Estimate>,
+}
+
+/// The car's value in `column`, or the estimate (noted in `used`).
+fn or_estimate(car: &CarInput, column: &str, used: &mut Vec<Estimate>) -> f64 {
+    let stored = match column {
+        "engine_inertia_kg_m2" => car.engine_inertia_kg_m2,
+        "input_inertia_kg_m2" => car.input_inertia_kg_m2,
+        "driveshaft_inertia_kg_m2" => car.driveshaft_inertia_kg_m2,
+        "rear_axle_inertia_kg_m2" => car.rear_axle_inertia_kg_m2,
+        "front_axle_inertia_kg_m2" => car.front_axle_inertia_kg_m2,
+        "wheelbase_mm" => car.wheelbase_mm,
+        "cg_to_front_axle_mm" => car.cg_to_front_axle_mm,
+        "cg_height_mm" => car.cg_height_mm,
+        "drag_area_m2" => car.drag_area_m2,
+        "tire_grip" => car.tire_grip,
+        "tire_grip_spinning" => car.tire_grip_spinning,
+        "flywheel_mass_kg" => car.flywheel_mass_kg,
+        "pressure_plate_mass_kg" => car.pressure_plate_mass_kg,
+        _ => None,
+    };
+    stored.unwrap_or_else(|| {
+        let e = ESTIMATES.iter().find(|e| e.column == column);
+        debug_assert!(e.is_some(), "no estimate for {column}");
+        if let Some(e) = e {
+            used.push(*e);
+        }
+        e.map_or(f64::NAN, |e| e.value)
+    })
+}
+
+impl BuildFacts<'_> {
+    /// The launch preview request for `trial` from `launch_rpm` (the car's when `None`), in
+    /// storage units, or what the records lack.
+    pub fn launch_request(
+        &self,
+        trial: Trial,
+        launch_rpm: Option<f64>,
+    ) -> Result<LaunchPlan, Missing> {
+        let clutch = self.capacity_request(trial)?;
+        let car = self.car;
+        let launch_rpm = launch_rpm
+            .or(car.launch_rpm)
+            .ok_or("Enter the car's typical launch speed.")?;
+        let mass = car.weight_kg.ok_or("Enter the car's race weight.")?;
+        let first_gear_ratio = car
+            .first_gear_ratio
+            .ok_or("Enter the car's first gear ratio.")?;
+        let final_drive_ratio = car
+            .final_drive_ratio
+            .ok_or("Enter the car's final drive ratio.")?;
+        let tire_diameter = car
+            .tire_diameter_mm
+            .ok_or("Enter the car's tire diameter.")?;
+        let mut used = Vec::new();
+        let mut v = |column: &str| or_estimate(car, column, &mut used);
+        let engine_inertia = v("engine_inertia_kg_m2");
+        let driveline = LaunchDriveline {
+            first_gear_ratio,
+            final_drive_ratio,
+            efficiency: DRIVELINE_EFFICIENCY,
+            input_inertia: v("input_inertia_kg_m2"),
+            driveshaft_inertia: v("driveshaft_inertia_kg_m2"),
+            rear_axle_inertia: v("rear_axle_inertia_kg_m2"),
+            front_axle_inertia: v("front_axle_inertia_kg_m2"),
+        };
+        let cg_height = v("cg_height_mm");
+        let vehicle = LaunchVehicle {
+            mass,
+            tire_diameter,
+            wheelbase: v("wheelbase_mm"),
+            cg_to_front_axle: v("cg_to_front_axle_mm"),
+            cg_height,
+            // Drag taken to act at the centre of gravity's height (an assumption).
+            drag_height: cg_height,
+            rolling_resistance: ROLLING_RESISTANCE,
+            drag_area: v("drag_area_m2"),
+            air_density: Some(DEFAULT_AIR_DENSITY),
+            tire_grip: v("tire_grip"),
+            tire_grip_spinning: v("tire_grip_spinning"),
+        };
+        let thermal = ThermalInput {
+            pressure_plate_mass: v("pressure_plate_mass_kg"),
+            flywheel_mass: v("flywheel_mass_kg"),
+            specific_heat: PLATE_SPECIFIC_HEAT,
+            start_temperature: PLATE_START_C,
+            plate_share: None,
+        };
+        Ok(LaunchPlan {
+            request: LaunchRequest {
+                units: clutch.units,
+                disc: clutch.disc,
+                friction: LaunchFriction {
+                    mu: clutch.friction.mu,
+                    material: clutch.friction.material,
+                    static_ratio: None,
+                    mu_vs_temperature: None,
+                },
+                springs: clutch.springs,
+                levers: clutch.levers,
+                engine: LaunchEngine {
+                    torque_curve: clutch.engine.torque_curve,
+                    inertia: engine_inertia,
+                    friction_torque: 0.0,
+                },
+                launch_rpm,
+                driveline,
+                vehicle,
+                thermal: Some(thermal),
+                step_ms: crate::clutch::launch_request::DEFAULT_STEP_MS,
+                duration_s: PREVIEW_SECONDS,
+            },
+            estimated: used,
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // 0.20 kg·m² = 4.746 lb·ft² (1 lb·ft² = 0.45359237 kg × 0.3048² m², NIST SP 811 App. B.8).
+    #[test]
+    fn an_estimate_reads_in_the_shop_units() {
+        assert_eq!(
+            ESTIMATES[0].text(Units::Imperial),
+            "engine inertia 4.75 lb·ft²"
+        );
+        assert_eq!(
+            ESTIMATES[0].text(Units::Metric),
+            "engine inertia 0.200 kg·m²"
+        );
+        // 2700 mm = 106.3 in: three figures.
+        assert_eq!(ESTIMATES[5].text(Units::Imperial), "wheelbase 106 in");
+    }
+
+    #[test]
+    fn every_estimate_names_a_car_field_and_passes_its_limit() {
+        use crate::records::field::{Record, Value};
+        for e in ESTIMATES {
+            let field = CarInput::field(e.column).expect("a car field");
+            match field.value {
+                Value::Number { limit, .. } => assert!(limit.admits(e.value), "{}", e.column),
+                _ => panic!("{} is not a number", e.column),
+            }
+            let mut used = Vec::new();
+            assert_eq!(
+                or_estimate(&CarInput::default(), e.column, &mut used),
+                e.value
+            );
+            assert_eq!(used, vec![e]);
+        }
+    }
+}

@@ -1,0 +1,294 @@
+//! The launch preview on the tuning page: one column per setting (the current one and the one
+//! being tried), each with its speed and slip-power charts, its figures and its event log.
+
+use super::chart::Chart;
+use crate::clutch::launch::LaunchRun;
+use crate::clutch::launch_request::{LaunchReport, describe};
+use crate::clutch::launch_target::{Grid, LaunchTarget, find_counterweight};
+use crate::clutch::units::Units;
+use crate::model::launch::LaunchPlan;
+use crate::model::{BuildFacts, Trial};
+
+/// One setting's launch, ready to show.
+pub struct LaunchColumn {
+    /// "Current setup" / "Trying" and the setting in words.
+    pub title: String,
+    pub setting: String,
+    pub result: Result<LaunchShown, String>,
+}
+
+/// A launch worked out, in the shop's units.
+pub struct LaunchShown {
+    pub speed_chart: Chart,
+    pub power_chart: Chart,
+    /// (label, value) rows.
+    pub figures: Vec<(&'static str, String)>,
+    /// (time, what) rows.
+    pub events: Vec<(String, String)>,
+    pub notes: Vec<String>,
+    /// Estimates used for values the car's record lacks, in the shop's units.
+    pub estimated: Vec<String>,
+    /// Bulk pressure plate rise, K, for the heat caution.
+    pub plate_rise_k: f64,
+}
+
+/// Pressure-plate bulk rise in one pass, K, above which the page adds a stronger heat warning.
+/// Our own threshold, no published source: three or four such passes without cooling take a
+/// plate from the air to around the 250 °C working limit commonly quoted for organic facings
+/// (from memory).
+pub const HOT_RISE_K: f64 = 60.0;
+
+impl LaunchShown {
+    /// Both charts, speed first.
+    pub fn charts(&self) -> [&Chart; 2] {
+        [&self.speed_chart, &self.power_chart]
+    }
+
+    /// The bulk pressure-plate rise is past [`HOT_RISE_K`].
+    pub fn hot(&self) -> bool {
+        self.plate_rise_k > HOT_RISE_K
+    }
+}
+
+/// Engine and clutch speed against time, with the lockup marked.
+fn speed_chart(report: &LaunchReport, title: &str) -> Chart {
+    let engine: Vec<(f64, f64)> = report
+        .trace
+        .iter()
+        .map(|p| (p.time_s, p.engine_rpm))
+        .collect();
+    // After lockup the two turn together: the clutch line stops there and the engine line
+    // carries both names.
+    let lock_s = report.lockup.as_ref().map(|l| l.time_s);
+    let locked_at_end = report
+        .trace
+        .last()
+        .is_some_and(|p| (p.engine_rpm - p.clutch_rpm).abs() < 1.0);
+    let mut clutch: Vec<(f64, f64)> = report
+        .trace
+        .iter()
+        .filter(|p| !locked_at_end || lock_s.is_none_or(|t| p.time_s <= t))
+        .map(|p| (p.time_s, p.clutch_rpm))
+        .collect();
+    if let (true, Some(l)) = (locked_at_end, &report.lockup) {
+        clutch.push((l.time_s, l.engine_rpm));
+    }
+    let t_end = engine.last().map_or(1.0, |p| p.0).max(0.1);
+    let top = engine
+        .iter()
+        .chain(&clutch)
+        .map(|p| p.1)
+        .fold(1000.0, f64::max);
+    let (mut chart, f) = Chart::new(
+        &format!("Engine and clutch speed, {title}"),
+        "time (s)",
+        "speed (rpm)",
+        (0.0, t_end),
+        (0.0, top),
+    );
+    if locked_at_end {
+        chart.line(&f, "clutch", "", &clutch);
+        chart.line(&f, "engine", "engine = clutch", &engine);
+    } else {
+        chart.line(&f, "engine", "engine", &engine);
+        chart.line(&f, "clutch", "clutch", &clutch);
+    }
+    if let Some(l) = &report.lockup {
+        chart.mark_x(&f, "lockup", format!("locks {:.2} s", l.time_s), l.time_s);
+    }
+    chart
+}
+
+/// Slip power against time.
+fn power_chart(report: &LaunchReport, title: &str) -> Chart {
+    let power: Vec<(f64, f64)> = report
+        .trace
+        .iter()
+        .map(|p| (p.time_s, p.slip_power_kw))
+        .collect();
+    let t_end = power.last().map_or(1.0, |p| p.0).max(0.1);
+    let (mut chart, f) = Chart::new(
+        &format!("Heat going into the clutch, {title}"),
+        "time (s)",
+        "slip power (kW)",
+        (0.0, t_end),
+        (0.0, report.peak_slip_power_kw.max(1.0)),
+    );
+    chart.line(&f, "power", "slip power", &power);
+    chart
+}
+
+fn figures(report: &LaunchReport, u: Units) -> Vec<(&'static str, String)> {
+    let speed = u.road_speed_label();
+    let rise = match u {
+        Units::Imperial => "°F",
+        Units::Metric => "K",
+    };
+    let spin = if report.tire_spin.is_empty() {
+        "none".to_string()
+    } else {
+        report
+            .tire_spin
+            .iter()
+            .map(|s| match s.end_s {
+                Some(e) => format!("{:.2}–{:.2} s", s.start_s, e),
+                None => format!("from {:.2} s on", s.start_s),
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    vec![
+        (
+            "Lockup",
+            report
+                .lockup
+                .as_ref()
+                .map_or("not within the run".into(), |l| {
+                    format!(
+                        "{:.2} s at {:.0} rpm, {:.0} {speed}",
+                        l.time_s, l.engine_rpm, l.speed
+                    )
+                }),
+        ),
+        (
+            "Lowest engine speed",
+            format!("{:.0} rpm", report.min_engine_rpm),
+        ),
+        ("Slip energy", format!("{:.0} kJ", report.slip_energy_kj)),
+        (
+            "Peak slip power",
+            format!("{:.0} kW", report.peak_slip_power_kw),
+        ),
+        (
+            "Pressure plate / flywheel rise",
+            report.thermal.as_ref().map_or("–".into(), |t| {
+                format!(
+                    "{:.0} / {:.0} {rise}",
+                    t.pressure_plate_rise, t.flywheel_rise
+                )
+            }),
+        ),
+        ("Tire spin", spin),
+        (
+            "60 ft",
+            report
+                .sixty_ft_s
+                .map_or("not reached".into(), |t| format!("{t:.2} s")),
+        ),
+    ]
+}
+
+fn shown(
+    run: &LaunchRun,
+    plan: &LaunchPlan,
+    duration_s: f64,
+    title: &str,
+    u: Units,
+) -> LaunchShown {
+    let report = LaunchReport::of(run, duration_s, u);
+    let short = title.to_lowercase();
+    LaunchShown {
+        speed_chart: speed_chart(&report, &short),
+        power_chart: power_chart(&report, &short),
+        figures: figures(&report, u),
+        events: run
+            .events
+            .iter()
+            .map(|e| (format!("{:.3} s", e.time_s), describe(&e.event, u)))
+            .collect(),
+        notes: report.notes.clone(),
+        estimated: plan.estimated.iter().map(|e| e.text(u)).collect(),
+        plate_rise_k: run.plate_rise_k.map_or(0.0, |r| r.0),
+    }
+}
+
+fn setting_text(turns: f64, counterweight_g: f64, rpm: Option<f64>) -> String {
+    format!(
+        "{} turn{}, {:.1} g per lever{}",
+        turns,
+        if turns == 1.0 { "" } else { "s" },
+        counterweight_g,
+        rpm.map_or(String::new(), |r| format!(", launch {r:.0} rpm"))
+    )
+}
+
+/// The launch of `trial` from `launch_rpm` (the car's when `None`) in `u`, or why there is none.
+pub fn column(
+    facts: &BuildFacts,
+    title: &str,
+    trial: Trial,
+    launch_rpm: Option<f64>,
+    u: Units,
+) -> LaunchColumn {
+    let plan = facts.launch_request(trial, launch_rpm);
+    let rpm = launch_rpm.or(facts.car.launch_rpm);
+    let result = plan.and_then(|plan| {
+        let valid = plan
+            .request
+            .validate()
+            .map_err(|e| format!("{}: {}", e.field, e.message))?;
+        let run = valid.model.simulate();
+        Ok(shown(&run, &plan, valid.model.duration_s, title, u))
+    });
+    LaunchColumn {
+        title: title.to_string(),
+        setting: setting_text(trial.adjuster_turns, trial.counterweight_g, rpm),
+        result,
+    }
+}
+
+/// The current setup's turns with the counterweight (1 g steps, 0–120 g) that meets `target`
+/// from the car's launch speed, as a column.
+pub fn target_column(
+    facts: &BuildFacts,
+    current: Trial,
+    target: LaunchTarget,
+    u: Units,
+) -> LaunchColumn {
+    let title = "For the launch target";
+    let rpm = facts.car.launch_rpm;
+    let mut setting = setting_text(current.adjuster_turns, current.counterweight_g, rpm);
+    let result = facts.launch_request(current, None).and_then(|plan| {
+        let valid = plan
+            .request
+            .validate()
+            .map_err(|e| format!("{}: {}", e.field, e.message))?;
+        let pick = find_counterweight(&valid, target, Grid::default()).map_err(|e| e.message)?;
+        setting = setting_text(pick.adjuster_turns, pick.counterweight_g, rpm);
+        let mut s = shown(&pick.run, &plan, valid.model.duration_s, title, u);
+        let goal = match target {
+            LaunchTarget::LockupTime(t) => format!("lock {t:.2} s after the launch"),
+            LaunchTarget::MaxSlipEnergy(e) => {
+                format!("at most {:.0} kJ of slip energy", e / 1000.0)
+            }
+        };
+        s.notes.insert(
+            0,
+            if pick.too_much_beyond {
+                format!(
+                    "Aiming to {goal}: one gram more spins the tires or pulls the engine below \
+                     its torque curve, so this is as early as the clutch locks cleanly ({} \
+                     launches simulated).",
+                    pick.runs
+                )
+            } else if pick.met {
+                format!(
+                    "Counterweight searched in 1 g steps (0–120 g) at the current turns to {goal}; \
+                     {} launches simulated.",
+                    pick.runs
+                )
+            } else {
+                format!(
+                    "No counterweight up to 120 g at the current turns meets the target ({goal}); \
+                     this is the nearest. More static clamp (turns) or a lower launch speed may."
+                )
+            },
+        );
+        Ok(s)
+    });
+    LaunchColumn {
+        title: title.to_string(),
+        setting,
+        result,
+    }
+}
