@@ -64,6 +64,16 @@ pub async fn pass_car(conn: &mut SqliteConnection, id: i64) -> Result<Option<Pas
 }
 
 impl PassCar {
+    /// What this car's last log was read with; the engine inertia, when no log gave one, from
+    /// the car record (the launch preview's field).
+    pub async fn remembered(&self, conn: &mut SqliteConnection) -> sqlx::Result<LogSettings> {
+        let mut s = db::pass_logs::mapping(conn, self.car.id)
+            .await?
+            .unwrap_or_default();
+        s.engine_inertia_kgm2 = s.engine_inertia_kgm2.or(self.car.data.engine_inertia_kg_m2);
+        Ok(s)
+    }
+
     fn facts(&self) -> CarFacts<'_> {
         let c = &self.car.data;
         CarFacts {
@@ -149,10 +159,7 @@ pub async fn api_store(
     let pc = pass_car(&mut conn, id)
         .await?
         .ok_or(ApiError(AppError::NotFound))?;
-    let remembered = db::pass_logs::mapping(&mut conn, pc.car.id)
-        .await
-        .map_err(AppError::from)?
-        .unwrap_or_default();
+    let remembered = pc.remembered(&mut conn).await.map_err(AppError::from)?;
     drop(conn);
     let settings = LogSettings {
         columns: body.columns.unwrap_or(remembered.columns),

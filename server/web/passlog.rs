@@ -707,9 +707,7 @@ pub async fn map_form(
     };
     let mut conn = state.pool.acquire().await?;
     let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
-    let settings = db::pass_logs::mapping(&mut conn, pc.car.id)
-        .await?
-        .unwrap_or_default();
+    let settings = pc.remembered(&mut conn).await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Map the log's columns").await?;
     drop(conn);
     let map = MapPage::new(

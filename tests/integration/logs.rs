@@ -499,3 +499,57 @@ async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
         (StatusCode::OK, 3)
     );
 }
+
+/// Without an inertia in the request or a remembered one, a stored log takes the engine inertia
+/// from the car record (the launch preview's field), so its clutch torque and energy are worked
+/// out; with neither, they stay empty.
+#[tokio::test]
+async fn a_stored_log_takes_the_engine_inertia_from_the_car_record() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let pass = pass_on_a_build(&client).await;
+    let token = app.token("sam").await;
+    let body = json!({ "csv": launch_csv(), "file_name": "run.csv",
+        "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" } });
+    let store = |body: serde_json::Value| {
+        let (app, token, pass) = (&app, &token, &pass);
+        async move {
+            app.api(
+                "POST",
+                &format!("/api/v1/passes/{pass}/log"),
+                Some(token),
+                Some(body),
+            )
+            .await
+        }
+    };
+    let without = store(body.clone()).await;
+    assert_eq!(without.status, StatusCode::OK, "{}", without.body);
+    assert!(without.json()["slip_energy_kj"].is_null());
+
+    let car: i64 = sqlx::query_scalar("SELECT MAX(id) FROM cars")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    let mut record = app
+        .api("GET", &format!("/api/v1/cars/{car}"), Some(&token), None)
+        .await
+        .json();
+    record["engine_inertia_kg_m2"] = json!(0.2);
+    let put = app
+        .api(
+            "PUT",
+            &format!("/api/v1/cars/{car}"),
+            Some(&token),
+            Some(record),
+        )
+        .await;
+    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    let with = store(body).await;
+    assert_eq!(with.status, StatusCode::OK, "{}", with.body);
+    assert!(
+        with.json()["slip_energy_kj"].as_f64().unwrap() > 0.0,
+        "{}",
+        with.body
+    );
+}
