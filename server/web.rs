@@ -181,7 +181,7 @@ fn pages() -> Routes {
         .route(Public, "/static/style.css", get(stylesheet))
         .route(Public, "/static/print.js", get(print_script))
         .route(Public, "/static/page.js", get(page_script))
-        .route(Public, "/static/upload.js", get(passlog::script))
+        .route(Public, "/static/upload.js", get(upload_script))
 }
 
 /// Every route the application serves (pages, then the API under [`API_PREFIX`]), with who may
@@ -251,35 +251,39 @@ async fn not_found() -> crate::error::AppError {
     crate::error::AppError::NotFound
 }
 
-/// The Print button's one line of script (the sheet prints without it too).
-async fn print_script() -> impl IntoResponse {
+/// A file built into the binary (so the server runs from anywhere), served with its type and
+/// kept by browsers for an hour.
+fn asset(content_type: &'static str, body: &'static str) -> impl IntoResponse {
     (
         [
-            (header::CONTENT_TYPE, "text/javascript; charset=utf-8"),
+            (header::CONTENT_TYPE, content_type),
             (header::CACHE_CONTROL, "public, max-age=3600"),
         ],
-        include_str!("../static/print.js"),
+        body,
     )
+}
+
+const JS: &str = "text/javascript; charset=utf-8";
+
+/// The one stylesheet (screen and print).
+async fn stylesheet() -> impl IntoResponse {
+    asset(
+        "text/css; charset=utf-8",
+        include_str!("../static/style.css"),
+    )
+}
+
+/// The Print and Copy buttons (the sheet prints without them too).
+async fn print_script() -> impl IntoResponse {
+    asset(JS, include_str!("../static/print.js"))
 }
 
 /// The build page's script: a link to a folded form opens it (the page works without it).
 async fn page_script() -> impl IntoResponse {
-    (
-        [
-            (header::CONTENT_TYPE, "text/javascript; charset=utf-8"),
-            (header::CACHE_CONTROL, "public, max-age=3600"),
-        ],
-        include_str!("../static/page.js"),
-    )
+    asset(JS, include_str!("../static/page.js"))
 }
 
-/// The one stylesheet (screen and print), built into the binary so the server runs from anywhere.
-async fn stylesheet() -> impl IntoResponse {
-    (
-        [
-            (header::CONTENT_TYPE, "text/css; charset=utf-8"),
-            (header::CACHE_CONTROL, "public, max-age=3600"),
-        ],
-        include_str!("../static/style.css"),
-    )
+/// The upload form's progress (the form works without it).
+async fn upload_script() -> impl IntoResponse {
+    asset(JS, include_str!("../static/upload.js"))
 }

@@ -2,6 +2,7 @@
 //! being tried), each with its speed and slip-power charts, its figures and its event log.
 
 use super::chart::Chart;
+use super::show::Show;
 use crate::clutch::launch::LaunchRun;
 use crate::clutch::launch_request::{LaunchReport, describe};
 use crate::clutch::launch_target::{Grid, LaunchTarget, find_counterweight};
@@ -202,12 +203,13 @@ fn shown(
     }
 }
 
-fn setting_text(turns: f64, counterweight_g: f64, rpm: Option<f64>) -> String {
+/// The setting a column is for: turns and counterweight as everywhere else, and the launch speed.
+fn setting_text(u: Units, turns: f64, counterweight_g: f64, rpm: Option<f64>) -> String {
+    let show = Show::new(u);
     format!(
-        "{} turn{}, {:.1} g per lever{}",
-        turns,
-        if turns == 1.0 { "" } else { "s" },
-        counterweight_g,
+        "{}, {} per lever{}",
+        show.turns(turns),
+        show.grams(counterweight_g),
         rpm.map_or(String::new(), |r| format!(", launch {r:.0} rpm"))
     )
 }
@@ -232,7 +234,7 @@ pub fn column(
     });
     LaunchColumn {
         title: title.to_string(),
-        setting: setting_text(trial.adjuster_turns, trial.counterweight_g, rpm),
+        setting: setting_text(u, trial.adjuster_turns, trial.counterweight_g, rpm),
         result,
     }
 }
@@ -247,14 +249,14 @@ pub fn target_column(
 ) -> LaunchColumn {
     let title = "For the launch target";
     let rpm = facts.car.launch_rpm;
-    let mut setting = setting_text(current.adjuster_turns, current.counterweight_g, rpm);
+    let mut setting = setting_text(u, current.adjuster_turns, current.counterweight_g, rpm);
     let result = facts.launch_request(current, None).and_then(|plan| {
         let valid = plan
             .request
             .validate()
             .map_err(|e| format!("{}: {}", e.field, e.message))?;
         let pick = find_counterweight(&valid, target, Grid::default()).map_err(|e| e.message)?;
-        setting = setting_text(pick.adjuster_turns, pick.counterweight_g, rpm);
+        setting = setting_text(u, pick.adjuster_turns, pick.counterweight_g, rpm);
         let mut s = shown(&pick.run, &plan, valid.model.duration_s, title, u);
         let goal = match target {
             LaunchTarget::LockupTime(t) => format!("lock {t:.2} s after the launch"),

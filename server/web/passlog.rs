@@ -830,20 +830,6 @@ pub async fn map_save(
     Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(map.render()?)).into_response())
 }
 
-/// The upload form's progress script (the form works without it).
-pub async fn script() -> impl IntoResponse {
-    (
-        [
-            (
-                axum::http::header::CONTENT_TYPE,
-                "text/javascript; charset=utf-8",
-            ),
-            (axum::http::header::CACHE_CONTROL, "public, max-age=3600"),
-        ],
-        include_str!("../../static/upload.js"),
-    )
-}
-
 /// Shared with the state: see [`Staging`].
 pub fn staging() -> Arc<Staging> {
     Arc::new(Staging::default())
