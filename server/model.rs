@@ -406,7 +406,11 @@ impl BuildFacts<'_> {
             request: CalibrateRequest {
                 units: Units::Metric,
                 disc: clutch.disc,
-                springs: clutch.springs,
+                // Each pass carries the wear at its own date.
+                springs: SpringsInput {
+                    clamp_loss: 0.0,
+                    ..clutch.springs
+                },
                 levers: clutch.levers,
                 engine: clutch.engine,
                 fit,

@@ -457,6 +457,13 @@ impl CalibrateRequest {
     /// checks as `/calc/capacity`. Friction is not part of a calibration request; the
     /// placeholder μ here is never used (every law is built with its own μ).
     pub fn clutch(&self) -> Result<ValidRequest, InputError> {
+        // Wear differs from pass to pass; one figure for the clutch would be silently unused.
+        if self.springs.clamp_loss != 0.0 {
+            return Err(InputError::new(
+                "springs.clamp_loss",
+                "give the wear of each pass as passes[i].clamp_loss instead",
+            ));
+        }
         CapacityRequest {
             units: self.units,
             disc: self.disc.clone(),

@@ -172,6 +172,11 @@ async fn bad_calibration_input_names_the_field_path() {
             "springs.rate",
             Box::new(|v| v["springs"]["rate"] = json!(-1.0)),
         ),
+        // Wear is per pass here; one figure for the clutch would go unused.
+        (
+            "springs.clamp_loss",
+            Box::new(|v| v["springs"]["clamp_loss"] = json!(10.0)),
+        ),
         ("disc.count", Box::new(|v| v["disc"]["count"] = json!(4))),
         ("fit", Box::new(|v| v["fit"] = json!("everything"))),
         // Three passes whose centrifugal/static ratio hardly varies: refused.
