@@ -5,6 +5,7 @@ mod admin;
 mod api;
 mod backup;
 mod builds;
+mod cache;
 mod calc;
 mod capacity;
 mod cars;
@@ -57,15 +58,21 @@ pub struct AppState {
     pub public_url: Option<Arc<str>>,
     /// Data-log files sent and waiting for their column mapping (memory only).
     pub staged_logs: Arc<passlog::Staging>,
+    /// Sessions and rendered pages reused while nothing has been committed (`web::cache`).
+    pub cache: Arc<cache::Cache>,
 }
 
 impl AppState {
+    /// The state of a server on `pool`; starts the cache's watcher, so it needs a Tokio runtime.
     pub fn new(pool: SqlitePool) -> Self {
+        let cache = Arc::new(cache::Cache::default());
+        cache::watch(Arc::downgrade(&cache), &pool);
         Self {
             pool,
             sign_ins: Arc::new(Semaphore::new(login::SIGN_IN_SLOTS)),
             public_url: None,
             staged_logs: passlog::staging(),
+            cache,
         }
     }
 
@@ -85,11 +92,41 @@ impl AppState {
 
     /// Opens the request's write transaction on behalf of a staff member (see
     /// `db::audit::begin_as`): every change in it is audited under their name.
-    pub async fn write(
-        &self,
-        user: &extract::CurrentUser,
-    ) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, sqlx::Error> {
-        crate::db::audit::begin_as(&self.pool, Some(user.id), &user.username).await
+    pub async fn write(&self, user: &extract::CurrentUser) -> Result<Write, sqlx::Error> {
+        let tx = crate::db::audit::begin_as(&self.pool, Some(user.id), &user.username).await?;
+        Ok(Write {
+            tx,
+            cache: Arc::clone(&self.cache),
+        })
+    }
+}
+
+/// A write transaction from [`AppState::write`]: used as a connection, rolled back when dropped
+/// uncommitted, and its commit tells the page cache at once, so the page a save redirects to
+/// shows the save.
+pub struct Write {
+    tx: sqlx::Transaction<'static, sqlx::Sqlite>,
+    cache: Arc<cache::Cache>,
+}
+
+impl Write {
+    pub async fn commit(self) -> Result<(), sqlx::Error> {
+        self.tx.commit().await?;
+        self.cache.changed();
+        Ok(())
+    }
+}
+
+impl std::ops::Deref for Write {
+    type Target = sqlx::SqliteConnection;
+    fn deref(&self) -> &Self::Target {
+        &self.tx
+    }
+}
+
+impl std::ops::DerefMut for Write {
+    fn deref_mut(&mut self) -> &mut Self::Target {
+        &mut self.tx
     }
 }
 

@@ -53,16 +53,25 @@ pub fn match_expr(query: &str) -> Option<String> {
     }
 }
 
-/// The ranked search: one page of live customers matching the expression, and the number of
-/// matches. `{order}` is replaced by the sort: best match first (bm25 over the trigram index),
-/// or by last name.
+/// The ranked search: one page of live customers matching the expression, with the number of
+/// matches on every row. `{order}` is replaced by the sort: best match first (bm25 over the
+/// trigram index), or by last name. The page is picked first and only its rows get their cars
+/// counted and listed; the ranking is worked out once for the page and the total together.
 pub const HITS_SQL: &str = "SELECT c.id, c.name, c.phone,
         (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
         COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
-                  WHERE k.customer_id = c.id), '') AS cars
-     FROM customer_search s JOIN customers c ON c.id = s.rowid
-     WHERE customer_search MATCH ?1 AND c.deleted_at IS NULL
-     ORDER BY {order} LIMIT ?2 OFFSET ?3";
+                  WHERE k.customer_id = c.id), '') AS cars,
+        h.total
+     FROM (SELECT c.id, c.name, s.rank, count(*) OVER () AS total
+           FROM customer_search s JOIN customers c ON c.id = s.rowid
+           WHERE customer_search MATCH ?1 AND c.deleted_at IS NULL
+           ORDER BY {order} LIMIT ?2 OFFSET ?3) h
+     JOIN customers c ON c.id = h.id
+     ORDER BY {outer}";
+
+/// The number of matches, for a page past the last one (which has no rows to carry it).
+const COUNT_SQL: &str = "SELECT COUNT(*) FROM customer_search s JOIN customers c ON c.id = s.rowid
+     WHERE customer_search MATCH ? AND c.deleted_at IS NULL";
 
 pub async fn customers(
     conn: &mut SqliteConnection,
@@ -70,24 +79,40 @@ pub async fn customers(
     page: i64,
     order: Order,
 ) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
-    let terms = match order {
-        Order::Best => format!("s.rank, {}", order.terms()),
-        Order::LastName => order.terms().to_string(),
+    #[derive(FromRow)]
+    struct Hit {
+        #[sqlx(flatten)]
+        customer: CustomerSummary,
+        total: i64,
+    }
+    // The same sort inside (on the index's columns) and outside (on the page's rows).
+    let (inner, outer) = match order {
+        Order::Best => (
+            format!("s.rank, {}", order.terms()),
+            format!("h.rank, {}", order.terms()),
+        ),
+        Order::LastName => (order.terms().to_string(), order.terms().to_string()),
     };
-    let sql = HITS_SQL.replace("{order}", &terms);
-    let mut rows: Vec<CustomerSummary> = sqlx::query_as(sqlx::AssertSqlSafe(sql))
+    let sql = HITS_SQL
+        .replace("{order}", &inner)
+        .replace("{outer}", &outer);
+    let hits: Vec<Hit> = sqlx::query_as(sqlx::AssertSqlSafe(sql))
         .bind(expr)
         .bind(super::PAGE_SIZE)
         .bind(page.max(0) * super::PAGE_SIZE)
         .fetch_all(&mut *conn)
         .await?;
-    let total: i64 = sqlx::query_scalar(
-        "SELECT COUNT(*) FROM customer_search s JOIN customers c ON c.id = s.rowid
-         WHERE customer_search MATCH ? AND c.deleted_at IS NULL",
-    )
-    .bind(expr)
-    .fetch_one(&mut *conn)
-    .await?;
+    let total = match hits.first() {
+        Some(hit) => hit.total,
+        None if page > 0 => {
+            sqlx::query_scalar(COUNT_SQL)
+                .bind(expr)
+                .fetch_one(&mut *conn)
+                .await?
+        }
+        None => 0,
+    };
+    let mut rows: Vec<CustomerSummary> = hits.into_iter().map(|h| h.customer).collect();
     attach_links(conn, &mut rows).await?;
     Ok((rows, total))
 }

@@ -37,19 +37,28 @@ pub async fn create(
     Ok(())
 }
 
+/// The user behind a live session and how many seconds the session has left.
 pub async fn user(
     conn: &mut SqliteConnection,
     token_hash: &str,
-) -> sqlx::Result<Option<SessionUser>> {
-    sqlx::query_as(
-        "SELECT u.id AS user_id, u.username, u.role, s.csrf_token
+) -> sqlx::Result<Option<(SessionUser, f64)>> {
+    #[derive(FromRow)]
+    struct Row {
+        #[sqlx(flatten)]
+        user: SessionUser,
+        left_s: f64,
+    }
+    let row: Option<Row> = sqlx::query_as(
+        "SELECT u.id AS user_id, u.username, u.role, s.csrf_token,
+                (julianday(s.expires_at) - julianday('now')) * 86400.0 AS left_s
          FROM sessions s JOIN users u ON u.id = s.user_id
          WHERE s.token_hash = ? AND u.disabled = 0
            AND s.expires_at > strftime('%Y-%m-%dT%H:%M:%SZ', 'now')",
     )
     .bind(token_hash)
     .fetch_optional(conn)
-    .await
+    .await?;
+    Ok(row.map(|r| (r.user, r.left_s)))
 }
 
 pub async fn delete(conn: &mut SqliteConnection, token_hash: &str) -> sqlx::Result<()> {

@@ -166,7 +166,7 @@ async fn conn(state: &AppState) -> Result<sqlx::pool::PoolConnection<sqlx::Sqlit
 async fn write_tx(
     state: &AppState,
     user: &super::extract::CurrentUser,
-) -> Result<sqlx::Transaction<'static, sqlx::Sqlite>, ApiError> {
+) -> Result<super::Write, ApiError> {
     Ok(state.write(user).await.map_err(AppError::from)?)
 }
 

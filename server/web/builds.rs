@@ -8,6 +8,7 @@ use axum::response::{Html, IntoResponse, Response};
 use sqlx::SqliteConnection;
 
 use super::AppState;
+use super::cache::PageKey;
 use super::capacity::{capacity_chart, figure_lines};
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
@@ -26,6 +27,7 @@ use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
 use crate::model::{self, BuildFacts, DiscPasses, Figures};
 use crate::records::build::BuildInput;
+use crate::records::date::ShopZone;
 use crate::records::height::HeightInput;
 use crate::records::pass::PassInput;
 use crate::records::settings::SettingsInput;
@@ -294,12 +296,13 @@ pub struct FilledForms {
 }
 
 /// Renders a build's page; `forms` carries any entry form that failed its checks (422).
+/// Answers the page and the shop's zone it was rendered in.
 pub async fn render_page(
     conn: &mut SqliteConnection,
     user: &CurrentUser,
     id: i64,
     forms: EntryForms,
-) -> AppResult<String> {
+) -> AppResult<(String, ShopZone)> {
     let d = db::dossier::load(conn, id)
         .await?
         .ok_or(AppError::NotFound)?;
@@ -340,7 +343,8 @@ pub async fn render_page(
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
     let sheets = db::sheets::for_build(conn, id).await?;
     let disc_passes = model::disc_passes(&d.heights, &d.passes);
-    Ok(ShowPage {
+    let zone = page.zone.clone();
+    let html = ShowPage {
         page,
         d,
         material,
@@ -355,7 +359,8 @@ pub async fn render_page(
         flash,
         disc_passes,
     }
-    .render()?)
+    .render()?;
+    Ok((html, zone))
 }
 
 /// Fills each entry form the user has not just submitted with sensible defaults: today's date
@@ -418,12 +423,22 @@ pub async fn show(
     PathId(id): PathId,
     flash: Flash,
 ) -> AppResult<Response> {
-    let mut conn = state.pool.acquire().await?;
-    let forms = EntryForms {
-        flash: flash.note.clone(),
-        ..EntryForms::default()
+    let html = if flash.note.is_some() {
+        let mut conn = state.pool.acquire().await?;
+        let forms = EntryForms {
+            flash: flash.note.clone(),
+            ..EntryForms::default()
+        };
+        render_page(&mut conn, &user, id, forms).await?.0
+    } else {
+        let pool = &state.pool;
+        let render = |stand_in: CurrentUser| async move {
+            let mut conn = pool.acquire().await?;
+            render_page(&mut conn, &stand_in, id, EntryForms::default()).await
+        };
+        state.cache.page(PageKey::Build(id), &user, render).await?
     };
-    Ok(flash.respond(Html(render_page(&mut conn, &user, id, forms).await?)))
+    Ok(flash.respond(Html(html)))
 }
 
 #[derive(Template)]

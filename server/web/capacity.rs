@@ -4,10 +4,12 @@
 use std::collections::HashMap;
 
 use askama::Template;
-use axum::extract::{Query, State};
+use axum::extract::{Query, RawQuery, State};
+use sqlx::SqliteConnection;
 use axum::response::Html;
 
 use super::AppState;
+use super::cache::PageKey;
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId};
 use super::launch::LaunchColumn;
@@ -23,6 +25,7 @@ use crate::error::{AppError, AppResult};
 use crate::model::{
     BuildCalibration, BuildFacts, Figures, Trial, TuningTargets, calibration_source, figures,
 };
+use crate::records::date::ShopZone;
 use crate::records::setup::SetupInput;
 use crate::records::{Ctx, FieldErrors, FormData, field};
 
@@ -149,13 +152,28 @@ pub async fn tune(
     user: CurrentUser,
     PathId(id): PathId,
     Query(query): Query<HashMap<String, String>>,
+    RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
-    let mut conn = state.pool.acquire().await?;
-    let dossier = db::dossier::load(&mut conn, id)
+    let key = PageKey::Tune(id, raw.unwrap_or_default());
+    let pool = &state.pool;
+    let render = |stand_in: CurrentUser| async move {
+        let mut conn = pool.acquire().await?;
+        render_tune(&mut conn, &stand_in, id, query).await
+    };
+    Ok(Html(state.cache.page(key, &user, render).await?))
+}
+
+/// The tuning page for `query` (see [`tune`]), and the shop's zone it was rendered in.
+async fn render_tune(
+    conn: &mut SqliteConnection,
+    user: &CurrentUser,
+    id: i64,
+    query: HashMap<String, String>,
+) -> AppResult<(String, ShopZone)> {
+    let dossier = db::dossier::load(conn, id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let (page, settings) =
-        Layout::load(&mut conn, &user, "customers", "Capacity and tuning").await?;
+    let (page, settings) = Layout::load(conn, user, "customers", "Capacity and tuning").await?;
     let facts = BuildFacts::of(&dossier, &settings);
     let current_trial = BuildFacts::current_trial(&dossier);
     let current = facts
@@ -245,6 +263,7 @@ pub async fn tune(
         _ => None,
     };
     let today = page.today();
+    let zone = page.zone.clone();
     let page = TunePage {
         page,
         dossier,
@@ -261,7 +280,7 @@ pub async fn tune(
         recommended_from,
         launch,
     };
-    Ok(Html(page.render()?))
+    Ok((page.render()?, zone))
 }
 
 /// The launch preview columns: the current setup from the car's launch speed, and beside it the

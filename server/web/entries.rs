@@ -5,7 +5,7 @@
 use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Response};
-use sqlx::{Sqlite, SqliteConnection, Transaction};
+use sqlx::SqliteConnection;
 
 use super::AppState;
 use super::builds::{EntryForm, EntryForms, render_page};
@@ -35,7 +35,7 @@ enum Which {
 
 /// One entry being saved: its transaction, the build, and the form as typed.
 struct Entry {
-    tx: Transaction<'static, Sqlite>,
+    tx: super::Write,
     build: Build,
     ctx: Ctx,
     user: CurrentUser,
@@ -90,7 +90,7 @@ impl Entry {
             Which::Pass => forms.pass = entry,
         }
         let mut conn = state.pool.acquire().await?;
-        let html = render_page(&mut conn, &self.user, id, forms).await?;
+        let html = render_page(&mut conn, &self.user, id, forms).await?.0;
         Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response())
     }
 }

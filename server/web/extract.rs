@@ -100,8 +100,11 @@ impl FromRequestParts<AppState> for CurrentUser {
         let Some(token) = cookie(&parts.headers, SESSION_COOKIE) else {
             return Err(back_to());
         };
-        let mut conn = state.pool.acquire().await?;
-        match db::sessions::user(&mut conn, &auth::hash_secret(token)).await? {
+        match state
+            .cache
+            .session(&state.pool, &auth::hash_secret(&token))
+            .await?
+        {
             Some(user) => Ok(user.into()),
             None => Err(back_to()),
         }

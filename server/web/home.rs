@@ -1,10 +1,12 @@
 //! The counter's front page: find a customer fast, see what happened lately, and the work due.
 
 use askama::Template;
-use axum::extract::{Query, State};
+use axum::extract::{Query, RawQuery, State};
+use sqlx::SqliteConnection;
 use axum::response::Html;
 
 use super::AppState;
+use super::cache::PageKey;
 use super::customers::ListQuery;
 use super::extract::CurrentUser;
 use super::layout::Layout;
@@ -15,6 +17,7 @@ use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
 use crate::error::AppResult;
 use crate::model::{Due, DueReason};
+use crate::records::date::ShopZone;
 use crate::status;
 
 #[derive(Template)]
@@ -96,16 +99,32 @@ pub async fn front(
     State(state): State<AppState>,
     user: CurrentUser,
     Query(q): Query<ListQuery>,
+    RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
-    let mut conn = state.pool.acquire().await?;
-    let (page, settings) = Layout::load(&mut conn, &user, "home", "Counter").await?;
+    let key = PageKey::Counter(raw.unwrap_or_default());
+    let pool = &state.pool;
+    let render = |stand_in: CurrentUser| async move {
+        let mut conn = pool.acquire().await?;
+        render_front(&mut conn, &stand_in, q).await
+    };
+    Ok(Html(state.cache.page(key, &user, render).await?))
+}
+
+/// The counter for the search `q`, and the shop's zone it was rendered in.
+async fn render_front(
+    conn: &mut SqliteConnection,
+    user: &CurrentUser,
+    q: ListQuery,
+) -> AppResult<(String, ShopZone)> {
+    let (page, settings) = Layout::load(conn, user, "home", "Counter").await?;
     let (found, found_total) = if q.q.trim().is_empty() {
         (Vec::new(), 0)
     } else {
-        db::customers::search(&mut conn, &q.q, 0, Order::from_query(&q.sort)).await?
+        db::customers::search(conn, &q.q, 0, Order::from_query(&q.sort)).await?
     };
-    let recent = db::activity::recent(&mut conn, 12).await?;
-    let due = status::work_due(&mut conn, &settings).await?;
+    let recent = db::activity::recent(conn, 12).await?;
+    let due = status::work_due(conn, &settings).await?;
+    let zone = page.zone.clone();
     let page = FrontPage {
         page,
         q: q.q,
@@ -114,5 +133,5 @@ pub async fn front(
         recent,
         due,
     };
-    Ok(Html(page.render()?))
+    Ok((page.render()?, zone))
 }

@@ -226,8 +226,10 @@ pub async fn logout(
     _signed: SignedForm,
 ) -> AppResult<Response> {
     if let Some(token) = cookie(&headers, SESSION_COOKIE) {
+        let hash = auth::hash_secret(&token);
         let mut conn = state.pool.acquire().await?;
-        db::sessions::delete(&mut conn, &auth::hash_secret(&token)).await?;
+        db::sessions::delete(&mut conn, &hash).await?;
+        state.cache.forget_session(&hash);
     }
     let clear = session_cookie("", 0, state.secure_cookies());
     Ok(([(header::SET_COOKIE, clear)], Redirect::to("/login")).into_response())

@@ -279,7 +279,7 @@ pub async fn create(
             ..Default::default()
         };
         let mut conn = state.pool.acquire().await?;
-        let html = render_page(&mut conn, &user, build_id, forms).await?;
+        let html = render_page(&mut conn, &user, build_id, forms).await?.0;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
     let targets = lockup.map(|l| TuningTargets {

@@ -2,6 +2,7 @@
 
 mod access;
 mod backup;
+mod cache;
 mod calc;
 mod calibrate;
 mod cli;

@@ -1,0 +1,338 @@
+//! What the busiest pages reuse while nothing in the database has changed: the sessions behind
+//! cookies and whole rendered pages (the counter, a build's page, its tuning page).
+//!
+//! Every entry carries the shop's *generation*, a number that moves on after every commit:
+//! at once after a write through [`AppState::write`](super::AppState::write) commits (so the
+//! page a save redirects to is never stale), and within [`WATCH_INTERVAL`] after any other
+//! commit, by this process or another one (a `lockpoint user` command while the server runs),
+//! seen through SQLite's `PRAGMA data_version` on a connection of its own. An entry is used
+//! only while the generation is the one it was made in, and an entry is kept only when the
+//! generation did not move while it was being made, so no entry ever holds data older than the
+//! last commit it could have seen.
+//!
+//! A cached page is rendered once for every viewer of the same role: the parts that differ per
+//! viewer (the CSRF token, the user name) are rendered as *holes*, random markers replaced on
+//! the way out. A page with a one-time note, or one re-shown with form errors, is never cached.
+//! What changes with the clock alone is at most [`PAGE_MAX_AGE`] behind (a new day is not).
+
+use std::collections::HashMap;
+use std::future::Future;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Arc, Mutex, Weak};
+use std::time::{Duration, Instant};
+
+use sqlx::{ConnectOptions, SqlitePool};
+
+use super::extract::CurrentUser;
+use crate::auth;
+use crate::db::sessions::SessionUser;
+use crate::error::AppResult;
+use crate::records::date::{Date, ShopZone};
+
+/// How often commits from outside [`AppState::write`](super::AppState::write) are looked for.
+pub const WATCH_INTERVAL: Duration = Duration::from_millis(100);
+
+/// How long a page is reused at most, for what changes with the clock alone (a customer link
+/// that expires counts as live until then); a new day makes a new page at once.
+const PAGE_MAX_AGE: Duration = Duration::from_secs(10);
+
+/// Rendered pages kept at most (bytes of HTML); past it the oldest generation's pages go first.
+const PAGE_BUDGET_BYTES: usize = 8 << 20;
+
+/// Sessions kept at most; past it the table is emptied (each is looked up again once).
+const SESSION_CAP: usize = 4096;
+
+/// A page that can be cached, with what picks its content (the query string as sent).
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub enum PageKey {
+    Counter(String),
+    Build(i64),
+    Tune(i64, String),
+}
+
+struct Page {
+    generation: u64,
+    made: Instant,
+    zone: ShopZone,
+    today: Date,
+    html: Arc<str>,
+}
+
+struct Session {
+    generation: u64,
+    until: Instant,
+    user: SessionUser,
+}
+
+pub struct Cache {
+    generation: AtomicU64,
+    /// The random stem of the holes' markers (nobody can type it into a record).
+    stem: String,
+    sessions: Mutex<HashMap<String, Session>>,
+    pages: Mutex<HashMap<(PageKey, bool), Page>>,
+}
+
+impl Default for Cache {
+    fn default() -> Self {
+        Self {
+            generation: AtomicU64::new(0),
+            stem: auth::new_secret("hole"),
+            sessions: Mutex::default(),
+            pages: Mutex::default(),
+        }
+    }
+}
+
+impl Cache {
+    /// The generation now.
+    pub fn generation(&self) -> u64 {
+        self.generation.load(Ordering::Acquire)
+    }
+
+    /// Something was committed: nothing cached before now is used again.
+    pub fn changed(&self) {
+        self.generation.fetch_add(1, Ordering::AcqRel);
+    }
+
+    /// The user behind a session (by the hash of its cookie), looked up in the database only
+    /// when this generation has not seen it yet.
+    pub async fn session(
+        &self,
+        pool: &SqlitePool,
+        token_hash: &str,
+    ) -> sqlx::Result<Option<SessionUser>> {
+        let generation = self.generation();
+        if let Some(seen) = lock(&self.sessions).get(token_hash)
+            && seen.generation == generation
+            && seen.until > Instant::now()
+        {
+            return Ok(Some(seen.user.clone()));
+        }
+        let mut conn = pool.acquire().await?;
+        let Some((user, left_s)) = crate::db::sessions::user(&mut conn, token_hash).await? else {
+            return Ok(None);
+        };
+        if self.generation() == generation {
+            let mut sessions = lock(&self.sessions);
+            if sessions.len() >= SESSION_CAP {
+                sessions.clear();
+            }
+            let until = Instant::now() + Duration::from_secs_f64(left_s.max(0.0));
+            sessions.insert(
+                token_hash.to_string(),
+                Session {
+                    generation,
+                    until,
+                    user: user.clone(),
+                },
+            );
+        }
+        Ok(Some(user))
+    }
+
+    /// A session ended (sign-out): forgotten at once.
+    pub fn forget_session(&self, token_hash: &str) {
+        lock(&self.sessions).remove(token_hash);
+    }
+
+    /// The page `key` for `user`: the cached one when it is of this generation and today, else
+    /// `render`ed for a stand-in user whose CSRF token and name are holes, kept, and filled.
+    /// `render` answers the page and the shop's zone it was rendered in.
+    pub async fn page<F, Fut>(&self, key: PageKey, user: &CurrentUser, render: F) -> AppResult<String>
+    where
+        F: FnOnce(CurrentUser) -> Fut,
+        Fut: Future<Output = AppResult<(String, ShopZone)>>,
+    {
+        let slot = (key, user.is_admin());
+        let generation = self.generation();
+        let cached = lock(&self.pages).get(&slot).and_then(|p| {
+            let fresh = p.generation == generation
+                && p.made.elapsed() < PAGE_MAX_AGE
+                && Date::today(&p.zone) == p.today;
+            fresh.then(|| Arc::clone(&p.html))
+        });
+        if let Some(html) = cached {
+            return Ok(self.fill(&html, user));
+        }
+        let stand_in = CurrentUser {
+            username: self.hole('U'),
+            csrf: self.hole('C'),
+            ..user.clone()
+        };
+        let (html, zone) = render(stand_in).await?;
+        let filled = self.fill(&html, user);
+        if self.generation() == generation {
+            let today = Date::today(&zone);
+            self.keep(
+                slot,
+                Page {
+                    generation,
+                    made: Instant::now(),
+                    zone,
+                    today,
+                    html: html.into(),
+                },
+            );
+        }
+        Ok(filled)
+    }
+
+    fn keep(&self, slot: (PageKey, bool), page: Page) {
+        let mut pages = lock(&self.pages);
+        let now = self.generation();
+        pages.retain(|_, p| p.generation == now);
+        let mut used: usize = pages.values().map(|p| p.html.len()).sum();
+        while used + page.html.len() > PAGE_BUDGET_BYTES {
+            let Some(largest) = pages
+                .iter()
+                .max_by_key(|(_, p)| p.html.len())
+                .map(|(k, _)| k.clone())
+            else {
+                break;
+            };
+            used -= pages.remove(&largest).map_or(0, |p| p.html.len());
+        }
+        if used + page.html.len() <= PAGE_BUDGET_BYTES {
+            pages.insert(slot, page);
+        }
+    }
+
+    fn hole(&self, which: char) -> String {
+        format!("{}{which}", self.stem)
+    }
+
+    /// The page with its holes filled for `user` (both values HTML-escaped).
+    fn fill(&self, html: &str, user: &CurrentUser) -> String {
+        let mut out = String::with_capacity(html.len() + 256);
+        let mut rest = html;
+        while let Some(at) = rest.find(&self.stem) {
+            out.push_str(&rest[..at]);
+            let after = &rest[at + self.stem.len()..];
+            match after.as_bytes().first() {
+                Some(b'U') => escape_into(&mut out, &user.username),
+                Some(b'C') => escape_into(&mut out, &user.csrf),
+                _ => {
+                    out.push_str(&self.stem);
+                    rest = after;
+                    continue;
+                }
+            }
+            rest = &after[1..];
+        }
+        out.push_str(rest);
+        out
+    }
+}
+
+/// Watches for commits this process did not announce (another process, or a write outside
+/// [`AppState::write`](super::AppState::write)) and moves the generation on. Stops when the
+/// cache is dropped.
+pub fn watch(cache: Weak<Cache>, pool: &SqlitePool) {
+    let options = pool.connect_options().as_ref().clone();
+    tokio::spawn(async move {
+        let Ok(mut conn) = options.connect().await else {
+            return;
+        };
+        // The first reading counts as a change too: whatever was cached before the watch
+        // began is not trusted.
+        let mut seen: Option<i64> = None;
+        loop {
+            let Some(cache) = cache.upgrade() else {
+                return;
+            };
+            let Ok(version) = sqlx::query_scalar::<_, i64>("PRAGMA data_version")
+                .fetch_one(&mut conn)
+                .await
+            else {
+                // The database went away (a test ending); nothing left to watch.
+                return;
+            };
+            if seen != Some(version) {
+                cache.changed();
+                seen = Some(version);
+            }
+            drop(cache);
+            tokio::time::sleep(WATCH_INTERVAL).await;
+        }
+    });
+}
+
+fn lock<T>(m: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
+    // A panic while holding the lock leaves a table that is still consistent (every change is
+    // one insert or remove), so a poisoned lock is taken over.
+    m.lock().unwrap_or_else(std::sync::PoisonError::into_inner)
+}
+
+fn escape_into(out: &mut String, text: &str) {
+    for c in text.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&#34;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::records::user::Role;
+
+    fn user(name: &str, csrf: &str) -> CurrentUser {
+        CurrentUser {
+            id: 7,
+            username: name.into(),
+            role: Role::Tech,
+            csrf: csrf.into(),
+        }
+    }
+
+    #[test]
+    fn holes_are_filled_per_viewer_and_escaped() {
+        let cache = Cache::default();
+        let page = format!(
+            "<b>{}</b><input value=\"{}\">{}x",
+            cache.hole('U'),
+            cache.hole('C'),
+            cache.hole('C')
+        );
+        let filled = cache.fill(&page, &user("o'neil<", "abc"));
+        assert_eq!(
+            filled,
+            "<b>o&#39;neil&lt;</b><input value=\"abc\">abcx"
+        );
+        // The stem alone (not a hole) is left as it is.
+        let odd = format!("{}Z", cache.stem);
+        assert_eq!(cache.fill(&odd, &user("a", "b")), odd);
+    }
+
+    #[tokio::test]
+    async fn a_page_is_rendered_once_per_generation_and_never_kept_across_a_change() {
+        let cache = Cache::default();
+        let renders = std::sync::atomic::AtomicUsize::new(0);
+        let render = |u: CurrentUser| {
+            renders.fetch_add(1, Ordering::SeqCst);
+            async move { Ok((format!("hi {} {}", u.username, u.csrf), ShopZone::server())) }
+        };
+        let key = PageKey::Build(1);
+        let first = cache.page(key.clone(), &user("ann", "t1"), render).await.unwrap();
+        let second = cache.page(key.clone(), &user("bob", "t2"), render).await.unwrap();
+        assert_eq!((first.as_str(), second.as_str()), ("hi ann t1", "hi bob t2"));
+        assert_eq!(renders.load(Ordering::SeqCst), 1);
+        cache.changed();
+        cache.page(key.clone(), &user("ann", "t1"), render).await.unwrap();
+        assert_eq!(renders.load(Ordering::SeqCst), 2);
+        // A commit while the page is being made: answered, but not kept.
+        let racing = |u: CurrentUser| {
+            renders.fetch_add(1, Ordering::SeqCst);
+            cache.changed();
+            async move { Ok((u.username, ShopZone::server())) }
+        };
+        cache.page(PageKey::Build(2), &user("ann", "t1"), racing).await.unwrap();
+        cache.page(PageKey::Build(2), &user("ann", "t1"), render).await.unwrap();
+        assert_eq!(renders.load(Ordering::SeqCst), 4);
+    }
+}

@@ -1,0 +1,102 @@
+//! The page cache (`web::cache`): a page rendered once serves every viewer with their own name
+//! and CSRF token, and no page or session outlives the commit that changed it.
+
+use std::time::{Duration, Instant};
+
+use axum::http::StatusCode;
+
+use crate::support::{TestApp, csrf_of};
+
+/// The counter searched for a name nobody has yet.
+const SEARCH: &str = "/?q=Quorrendal";
+
+#[tokio::test]
+async fn one_rendered_page_serves_each_viewer_with_their_own_name_and_token() {
+    let app = TestApp::new().await;
+    let boss = app.login("boss").await;
+    let sam = app.login("sam").await;
+    let build = boss.record_build().await;
+    let seen_by_boss = boss.get(&build).await;
+    let seen_by_sam = sam.get(&build).await;
+    assert_eq!(seen_by_boss.status, StatusCode::OK);
+    assert_eq!(seen_by_sam.status, StatusCode::OK);
+    assert_eq!(csrf_of(&seen_by_boss.body), boss.csrf);
+    assert_eq!(csrf_of(&seen_by_sam.body), sam.csrf);
+    assert_ne!(boss.csrf, sam.csrf);
+    assert!(seen_by_sam.body.contains("<span class=\"who\">sam</span>"));
+    assert!(!seen_by_sam.body.contains(&boss.csrf), "no other viewer's token");
+    assert!(!seen_by_sam.body.contains("<span class=\"who\">boss</span>"));
+    // Every form on the page carries the viewer's token, so a form sent from it is accepted.
+    let tokens = seen_by_sam.body.matches("name=\"_csrf\"").count();
+    assert!(tokens > 2, "{tokens} forms");
+    assert_eq!(seen_by_sam.body.matches(&sam.csrf).count(), tokens);
+    let logged = sam
+        .post(
+            &format!("{build}/passes"),
+            &[("run_on", "2026-11-20"), ("launch_rpm", "4500")],
+        )
+        .await;
+    assert_eq!(logged.status, StatusCode::SEE_OTHER, "{}", logged.body);
+}
+
+#[tokio::test]
+async fn a_save_shows_on_the_next_view_of_a_page_seen_before_it() {
+    let app = TestApp::new().await;
+    let boss = app.login("boss").await;
+    let before = boss.get(SEARCH).await;
+    assert!(!before.body.contains("Nell Quorrendal"));
+    let saved = boss
+        .post("/customers", &[("name", "Nell Quorrendal"), ("phone", "555-0142")])
+        .await;
+    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    let after = boss.get(SEARCH).await;
+    assert!(after.body.contains("Nell Quorrendal"), "{}", after.body);
+}
+
+#[tokio::test]
+async fn a_commit_made_outside_the_server_shows_within_moments() {
+    let app = TestApp::new().await;
+    let boss = app.login("boss").await;
+    assert!(!boss.get(SEARCH).await.body.contains("Ivo Quorrendal"));
+    // Well after the watch on the database has taken its first reading.
+    tokio::time::sleep(Duration::from_millis(500)).await;
+    assert!(!boss.get(SEARCH).await.body.contains("Ivo Quorrendal"));
+    // As another process would (a command-line tool on the same file): straight to SQLite.
+    sqlx::query("INSERT INTO customers (name, phone) VALUES ('Ivo Quorrendal', '555-0143')")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let start = Instant::now();
+    loop {
+        if boss.get(SEARCH).await.body.contains("Ivo Quorrendal") {
+            break;
+        }
+        // Pages are kept 10 s at most: well before that, the watch must have seen the commit.
+        assert!(
+            start.elapsed() < Duration::from_secs(5),
+            "the counter still shows the page from before the commit"
+        );
+        tokio::time::sleep(Duration::from_millis(20)).await;
+    }
+}
+
+#[tokio::test]
+async fn signing_out_or_being_disabled_ends_a_session_at_once() {
+    let app = TestApp::new().await;
+    let boss = app.login("boss").await;
+    let sam = app.login("sam").await;
+    assert_eq!(sam.get("/").await.status, StatusCode::OK);
+    let out = sam.post("/logout", &[]).await;
+    assert_eq!(out.status, StatusCode::SEE_OTHER);
+    assert_eq!(sam.get("/").await.status, StatusCode::SEE_OTHER, "signed out");
+
+    let sam = app.login("sam").await;
+    assert_eq!(sam.get("/").await.status, StatusCode::OK);
+    let id: i64 = sqlx::query_scalar("SELECT id FROM users WHERE username = 'sam'")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    let off = boss.post(&format!("/users/{id}/disable"), &[]).await;
+    assert_eq!(off.status, StatusCode::SEE_OTHER, "{}", off.body);
+    assert_eq!(sam.get("/").await.status, StatusCode::SEE_OTHER, "disabled");
+}
