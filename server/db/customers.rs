@@ -85,7 +85,10 @@ pub async fn search(
     if let Some(expr) = super::search::match_expr(query) {
         return super::search::customers(conn, &expr, page, order).await;
     }
+    let everyone = query.trim().is_empty();
     let pattern = format!("%{}%", escape_like(query.trim()));
+    // No query lists everyone: no pattern to test on every row (?1 goes unused).
+    const EVERYONE: &str = "c.deleted_at IS NULL";
     const MATCH: &str =
         "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
          OR EXISTS (SELECT 1 FROM cars k WHERE k.customer_id = c.id
@@ -95,8 +98,9 @@ pub async fn search(
                 (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
                 COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
                           WHERE k.customer_id = c.id), '') AS cars
-         FROM customers c WHERE {MATCH}
+         FROM customers c WHERE {}
          ORDER BY {} LIMIT ?2 OFFSET ?3",
+        if everyone { EVERYONE } else { MATCH },
         order.terms()
     )))
     .bind(&pattern)
@@ -104,12 +108,20 @@ pub async fn search(
     .bind(page.max(0) * super::PAGE_SIZE)
     .fetch_all(&mut *conn)
     .await?;
-    let total: i64 = sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
-        "SELECT COUNT(*) FROM customers c WHERE {MATCH}"
-    )))
-    .bind(&pattern)
-    .fetch_one(&mut *conn)
-    .await?;
+    let total: i64 = if everyone {
+        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
+            "SELECT COUNT(*) FROM customers c WHERE {EVERYONE}"
+        )))
+        .fetch_one(&mut *conn)
+        .await?
+    } else {
+        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
+            "SELECT COUNT(*) FROM customers c WHERE {MATCH}"
+        )))
+        .bind(&pattern)
+        .fetch_one(&mut *conn)
+        .await?
+    };
     super::search::attach_links(conn, &mut rows).await?;
     Ok((rows, total))
 }

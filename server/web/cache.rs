@@ -1,5 +1,6 @@
 //! What the busiest pages reuse while nothing in the database has changed: the sessions behind
-//! cookies and whole rendered pages (the counter, a build's page, its tuning page).
+//! cookies and whole rendered pages (the counter, the customer list and search, a build's page,
+//! its tuning page).
 //!
 //! Every entry carries the shop's *generation*, a number that moves on after every commit:
 //! at once after a write through [`AppState::write`](super::AppState::write) commits (so the
@@ -46,6 +47,7 @@ const SESSION_CAP: usize = 4096;
 #[derive(Debug, Clone, PartialEq, Eq, Hash)]
 pub enum PageKey {
     Counter(String),
+    Customers(String),
     Build(i64),
     Tune(i64, String),
 }

@@ -1,12 +1,14 @@
 //! Customer pages: the searchable list, a customer's page with their cars, new and edit.
 
 use askama::Template;
-use axum::extract::{Query, State};
+use axum::extract::{Query, RawQuery, State};
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 use serde::Deserialize;
+use sqlx::SqliteConnection;
 
 use super::AppState;
+use super::cache::PageKey;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::Layout;
 use crate::db;
@@ -14,6 +16,7 @@ use crate::db::cars::Car;
 use crate::db::customers::{Customer, CustomerSummary, Order};
 use crate::error::{AppError, AppResult};
 use crate::records::customer::CustomerInput;
+use crate::records::date::ShopZone;
 use crate::records::{FieldErrors, FormData, field};
 
 #[derive(Debug, Default, Deserialize)]
@@ -71,25 +74,40 @@ pub async fn list(
     State(state): State<AppState>,
     user: CurrentUser,
     Query(q): Query<ListQuery>,
+    RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
-    let mut conn = state.pool.acquire().await?;
-    let (page, _) = Layout::load(&mut conn, &user, "customers", "Customers").await?;
+    let key = PageKey::Customers(raw.unwrap_or_default());
+    let pool = &state.pool;
+    let render = |stand_in: CurrentUser| async move {
+        let mut conn = pool.acquire().await?;
+        render_list(&mut conn, &stand_in, q).await
+    };
+    Ok(Html(state.cache.page(key, &user, render).await?))
+}
+
+/// One page of the customer list or of a search, and the shop's zone it was rendered in.
+async fn render_list(
+    conn: &mut SqliteConnection,
+    user: &CurrentUser,
+    q: ListQuery,
+) -> AppResult<(String, ShopZone)> {
+    let (page, _) = Layout::load(conn, user, "customers", "Customers").await?;
     let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
     let order = Order::from_query(&q.sort);
-    let (rows, total) = db::customers::search(&mut conn, &q.q, page_no, order).await?;
+    let (rows, total) = db::customers::search(conn, &q.q, page_no, order).await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
-    Ok(Html(
-        ListPage {
-            page,
-            q: q.q,
-            rows,
-            total,
-            page_no,
-            pages,
-            by_last_name: order == Order::LastName,
-        }
-        .render()?,
-    ))
+    let zone = page.zone.clone();
+    let html = ListPage {
+        page,
+        q: q.q,
+        rows,
+        total,
+        page_no,
+        pages,
+        by_last_name: order == Order::LastName,
+    }
+    .render()?;
+    Ok((html, zone))
 }
 
 #[derive(Template)]
