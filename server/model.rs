@@ -396,7 +396,14 @@ impl BuildFacts<'_> {
             return Err("No pass with a lockup seen (and a setup recorded before it) yet.".into());
         }
         let most = limits::CALIBRATION_PASSES_MAX;
-        if passes.len() > most {
+        if d.passes_total > d.passes.len() as i64 {
+            // A build loads its newest passes only (`db::dossier::PASSES_LOADED`).
+            notes.push(format!(
+                "Only the latest {} of the build's {} passes were read.",
+                d.passes.len(),
+                d.passes_total
+            ));
+        } else if passes.len() > most {
             let skip = passes.len() - most;
             passes.drain(..skip);
             dates.drain(..skip);

@@ -21,6 +21,7 @@ mod layout;
 mod login;
 mod logs;
 mod passlog;
+mod records_pages;
 pub mod routes;
 pub mod serve;
 mod sheets;
@@ -184,8 +185,16 @@ fn pages() -> Routes {
             "/builds/{id}/bench-tests",
             post(entries::add_bench_test),
         )
-        .route(SignedIn, "/builds/{id}/heights", post(entries::add_height))
-        .route(SignedIn, "/builds/{id}/passes", post(entries::add_pass))
+        .route(
+            SignedIn,
+            "/builds/{id}/heights",
+            get(records_pages::heights).post(entries::add_height),
+        )
+        .route(
+            SignedIn,
+            "/builds/{id}/passes",
+            get(records_pages::passes).post(entries::add_pass),
+        )
         .route(SignedIn, "/passes/{id}", get(passlog::show))
         .route(
             SignedIn,

@@ -20,8 +20,10 @@ pub struct Dossier {
     pub bench: Vec<BenchTest>,
     /// In pass order.
     pub heights: Vec<Height>,
-    /// Newest first.
+    /// The newest passes, newest first: at most [`PASSES_LOADED`] (what a calibration uses).
     pub passes: Vec<Pass>,
+    /// How many passes the build has in all.
+    pub passes_total: i64,
     /// The data logs of those passes (figures only; the files stay in the table).
     pub logs: Vec<LogSummary>,
 }
@@ -33,7 +35,10 @@ impl Dossier {
     }
 }
 
-/// The build and all its records, or `None` when there is no such (live) build.
+/// The most passes loaded with a build: the most a calibration uses.
+pub const PASSES_LOADED: usize = crate::clutch::quantity::limits::CALIBRATION_PASSES_MAX;
+
+/// The build and all its records (its newest passes), or `None` when there is no such (live) build.
 pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Option<Dossier>> {
     let Some(build) = super::builds::by_id(conn, build_id).await? else {
         return Ok(None);
@@ -48,7 +53,8 @@ pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Op
         setups: super::setups::for_build(conn, build_id).await?,
         bench: super::bench::for_build(conn, build_id).await?,
         heights: super::heights::for_build(conn, build_id).await?,
-        passes: super::passes::for_build(conn, build_id).await?,
+        passes: super::passes::page_for_build(conn, build_id, 0, PASSES_LOADED as i64).await?,
+        passes_total: super::passes::count_for_build(conn, build_id).await?,
         logs: super::pass_logs::for_build(conn, build_id).await?,
         build,
     }))

@@ -25,6 +25,30 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
         .await
 }
 
+/// `limit` of the build's passes, newest first, skipping the `offset` newest.
+pub async fn page_for_build(
+    conn: &mut SqliteConnection,
+    build_id: i64,
+    offset: i64,
+    limit: i64,
+) -> sqlx::Result<Vec<Pass>> {
+    sqlx::query_as(
+        "SELECT * FROM passes WHERE build_id = ? ORDER BY run_on DESC, id DESC LIMIT ? OFFSET ?",
+    )
+    .bind(build_id)
+    .bind(limit)
+    .bind(offset)
+    .fetch_all(conn)
+    .await
+}
+
+pub async fn count_for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<i64> {
+    sqlx::query_scalar("SELECT COUNT(*) FROM passes WHERE build_id = ?")
+        .bind(build_id)
+        .fetch_one(conn)
+        .await
+}
+
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Pass>> {
     sqlx::query_as(
         "SELECT x.* FROM passes x JOIN builds b ON b.id = x.build_id

@@ -14,7 +14,7 @@ use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::flash::{self, Flash};
 use super::layout::Layout;
-use super::wear::{self, WearView};
+use super::wear::{self, WearFigures, WearView};
 use crate::clutch::friction::FacingMaterial;
 use crate::clutch::springs::SetSpread;
 use crate::db;
@@ -22,6 +22,8 @@ use crate::db::bench::{BenchSpring, BenchTest};
 use crate::db::builds::Build;
 use crate::db::cars::Car;
 use crate::db::dossier::Dossier;
+use crate::db::heights::Height;
+use crate::db::pass_logs::LogSummary;
 use crate::db::setups::Setup;
 use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
@@ -119,6 +121,20 @@ impl ShowPage {
     /// Whether a shim is due now (the shim-pull form opens by itself).
     pub fn shim_due(&self) -> bool {
         matches!(&self.wear, Ok(w) if w.report.status == crate::clutch::wear::WearStatus::ShimDue)
+    }
+
+    /// The passes the page lists: the newest [`RECENT_ROWS`] (all of them on their own page).
+    pub fn recent_passes(&self) -> &[db::passes::Pass] {
+        &self.d.passes[..self.d.passes.len().min(RECENT_ROWS)]
+    }
+
+    /// The cover heights the page lists: the newest [`RECENT_ROWS`], oldest first.
+    pub fn recent_heights<'w>(&self, w: &'w WearView) -> &'w [(Height, Option<WearFigures>)] {
+        &w.rows[w.rows.len().saturating_sub(RECENT_ROWS)..]
+    }
+
+    pub fn log_of(&self, pass_id: i64) -> Option<&LogSummary> {
+        self.d.log_of(pass_id)
     }
 
     /// Whether the build is retired: its page shows the record but no entry forms.
@@ -294,6 +310,9 @@ pub struct FilledForms {
     pass: EntryForm,
     sheet: EntryForm,
 }
+
+/// Rows of passes and of cover heights a build's page lists; the rest are a link away.
+pub const RECENT_ROWS: usize = 20;
 
 /// Renders a build's page; `forms` carries any entry form that failed its checks (422).
 /// Answers the page and the shop's zone it was rendered in.

@@ -140,7 +140,12 @@ impl Cache {
     /// The page `key` for `user`: the cached one when it is of this generation and today, else
     /// `render`ed for a stand-in user whose CSRF token and name are holes, kept, and filled.
     /// `render` answers the page and the shop's zone it was rendered in.
-    pub async fn page<F, Fut>(&self, key: PageKey, user: &CurrentUser, render: F) -> AppResult<String>
+    pub async fn page<F, Fut>(
+        &self,
+        key: PageKey,
+        user: &CurrentUser,
+        render: F,
+    ) -> AppResult<String>
     where
         F: FnOnce(CurrentUser) -> Fut,
         Fut: Future<Output = AppResult<(String, ShopZone)>>,
@@ -302,10 +307,7 @@ mod tests {
             cache.hole('C')
         );
         let filled = cache.fill(&page, &user("o'neil<", "abc"));
-        assert_eq!(
-            filled,
-            "<b>o&#39;neil&lt;</b><input value=\"abc\">abcx"
-        );
+        assert_eq!(filled, "<b>o&#39;neil&lt;</b><input value=\"abc\">abcx");
         // The stem alone (not a hole) is left as it is.
         let odd = format!("{}Z", cache.stem);
         assert_eq!(cache.fill(&odd, &user("a", "b")), odd);
@@ -320,12 +322,24 @@ mod tests {
             async move { Ok((format!("hi {} {}", u.username, u.csrf), ShopZone::server())) }
         };
         let key = PageKey::Build(1);
-        let first = cache.page(key.clone(), &user("ann", "t1"), render).await.unwrap();
-        let second = cache.page(key.clone(), &user("bob", "t2"), render).await.unwrap();
-        assert_eq!((first.as_str(), second.as_str()), ("hi ann t1", "hi bob t2"));
+        let first = cache
+            .page(key.clone(), &user("ann", "t1"), render)
+            .await
+            .unwrap();
+        let second = cache
+            .page(key.clone(), &user("bob", "t2"), render)
+            .await
+            .unwrap();
+        assert_eq!(
+            (first.as_str(), second.as_str()),
+            ("hi ann t1", "hi bob t2")
+        );
         assert_eq!(renders.load(Ordering::SeqCst), 1);
         cache.changed();
-        cache.page(key.clone(), &user("ann", "t1"), render).await.unwrap();
+        cache
+            .page(key.clone(), &user("ann", "t1"), render)
+            .await
+            .unwrap();
         assert_eq!(renders.load(Ordering::SeqCst), 2);
         // A commit while the page is being made: answered, but not kept.
         let racing = |u: CurrentUser| {
@@ -333,8 +347,14 @@ mod tests {
             cache.changed();
             async move { Ok((u.username, ShopZone::server())) }
         };
-        cache.page(PageKey::Build(2), &user("ann", "t1"), racing).await.unwrap();
-        cache.page(PageKey::Build(2), &user("ann", "t1"), render).await.unwrap();
+        cache
+            .page(PageKey::Build(2), &user("ann", "t1"), racing)
+            .await
+            .unwrap();
+        cache
+            .page(PageKey::Build(2), &user("ann", "t1"), render)
+            .await
+            .unwrap();
         assert_eq!(renders.load(Ordering::SeqCst), 4);
     }
 }

@@ -5,8 +5,8 @@ use std::collections::HashMap;
 
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
-use sqlx::SqliteConnection;
 use axum::response::Html;
+use sqlx::SqliteConnection;
 
 use super::AppState;
 use super::cache::PageKey;

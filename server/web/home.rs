@@ -2,8 +2,8 @@
 
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
-use sqlx::SqliteConnection;
 use axum::response::Html;
+use sqlx::SqliteConnection;
 
 use super::AppState;
 use super::cache::PageKey;

@@ -24,7 +24,10 @@ async fn one_rendered_page_serves_each_viewer_with_their_own_name_and_token() {
     assert_eq!(csrf_of(&seen_by_sam.body), sam.csrf);
     assert_ne!(boss.csrf, sam.csrf);
     assert!(seen_by_sam.body.contains("<span class=\"who\">sam</span>"));
-    assert!(!seen_by_sam.body.contains(&boss.csrf), "no other viewer's token");
+    assert!(
+        !seen_by_sam.body.contains(&boss.csrf),
+        "no other viewer's token"
+    );
     assert!(!seen_by_sam.body.contains("<span class=\"who\">boss</span>"));
     // Every form on the page carries the viewer's token, so a form sent from it is accepted.
     let tokens = seen_by_sam.body.matches("name=\"_csrf\"").count();
@@ -46,7 +49,10 @@ async fn a_save_shows_on_the_next_view_of_a_page_seen_before_it() {
     let before = boss.get(SEARCH).await;
     assert!(!before.body.contains("Nell Quorrendal"));
     let saved = boss
-        .post("/customers", &[("name", "Nell Quorrendal"), ("phone", "555-0142")])
+        .post(
+            "/customers",
+            &[("name", "Nell Quorrendal"), ("phone", "555-0142")],
+        )
         .await;
     assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
     let after = boss.get(SEARCH).await;
@@ -88,7 +94,11 @@ async fn signing_out_or_being_disabled_ends_a_session_at_once() {
     assert_eq!(sam.get("/").await.status, StatusCode::OK);
     let out = sam.post("/logout", &[]).await;
     assert_eq!(out.status, StatusCode::SEE_OTHER);
-    assert_eq!(sam.get("/").await.status, StatusCode::SEE_OTHER, "signed out");
+    assert_eq!(
+        sam.get("/").await.status,
+        StatusCode::SEE_OTHER,
+        "signed out"
+    );
 
     let sam = app.login("sam").await;
     assert_eq!(sam.get("/").await.status, StatusCode::OK);

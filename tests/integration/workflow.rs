@@ -660,3 +660,52 @@ async fn the_delete_customer_hint_says_what_happens_to_customer_links() {
     assert!(hint.contains("customer links show no sheet"), "{hint}");
     assert!(hint.contains("links that were not withdrawn and have not expired work again"));
 }
+
+#[tokio::test]
+async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
+    let app = TestApp::new().await;
+    let client = app.login("boss").await;
+    let build = client.record_build().await;
+    let id = id_from(&build);
+    let token = app.token("boss").await;
+    for n in 0..125 {
+        let day = format!("2026-{:02}-{:02}", 1 + n / 28, 1 + n % 28);
+        let r = app
+            .api(
+                "POST",
+                &format!("/api/v1/builds/{id}/passes"),
+                Some(&token),
+                Some(serde_json::json!({"run_on": day, "track": format!("Strip {n}")})),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    }
+    let page = client.get(&build).await.body;
+    let listed = page.matches("<td>Strip ").count();
+    assert_eq!(listed, 20, "the newest 20 passes on the build's page");
+    assert!(page.contains("<td>Strip 124</td>"), "newest first");
+    assert!(!page.contains("<td>Strip 104</td>"));
+    assert!(page.contains("The latest 20 of 125 passes."));
+    assert!(page.contains(&format!("href=\"/builds/{id}/passes\"")));
+
+    let all = client.get(&format!("/builds/{id}/passes")).await;
+    assert_eq!(all.status, StatusCode::OK);
+    assert_eq!(all.body.matches("<td>Strip ").count(), 100, "a page of 100");
+    assert!(all.body.contains("Page 1 of 2"));
+    let older = client
+        .get(&format!("/builds/{id}/passes?page=1"))
+        .await
+        .body;
+    assert_eq!(older.matches("<td>Strip ").count(), 25);
+    assert!(
+        older.contains("<td>Strip 0</td>"),
+        "the oldest on the last page"
+    );
+    let heights = client.get(&format!("/builds/{id}/heights")).await;
+    assert_eq!(heights.status, StatusCode::OK);
+    assert!(heights.body.contains("No cover heights recorded yet."));
+    assert_eq!(
+        client.get("/builds/999999/passes").await.status,
+        StatusCode::NOT_FOUND
+    );
+}

@@ -3,14 +3,18 @@
 # grown by the scale generator (tests/load/scale.rs: 10,000 customers, cars and builds,
 # 1,000,000 cover heights, 200,000 passes, invented, fixed seed), each route in turn for
 # [seconds] with [connections] wrk connections: requests/s, p99, errors, the ratio to /healthz's
-# requests/s, and the server's peak resident memory (VmHWM) over the whole run.
-# Needs wrk and curl. Usage: tests/load/scale.sh [seconds] [connections]
+# requests/s, and the server's peak resident memory (VmHWM) over the whole run. Then every
+# route again at [burst connections] for [burst seconds] each (errors are what counts there).
+# Needs wrk and curl.
+# Usage: tests/load/scale.sh [seconds] [connections] [burst seconds] [burst connections]
 # The generated database is kept in target/load/ and copied for each run (the write route
 # adds passes to the copy only).
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 SECS=${1:-10}
 CONNS=${2:-8}
+BURST_SECS=${3:-30}
+BURST_CONNS=${4:-64}
 SEED=13
 BUILD=4321
 QUERY=Halvorsen
@@ -48,10 +52,7 @@ for path in / "/customers?q=$QUERY" "/builds/$BUILD" "/builds/$BUILD/tune"; do
   [ "$code" = 200 ] || { echo "$path answers $code" >&2; exit 1; }
 done
 
-echo "$CONNS connections, ${SECS} s per route, $(nproc) cores shared by wrk and the server"
-printf '| %-40s | %10s | %9s | %6s | %9s |\n' "route" "requests/s" "p99" "errors" "/healthz"
-printf '|%s|%s|%s|%s|%s|\n' "------------------------------------------" "------------" "-----------" "--------" "-----------"
-HEALTHZ=
+# run NAME WRK-ARGS...: one route for $SECS s at $CONNS connections, one table row.
 run() {
   local name=$1; shift
   local out rps p99 errs ratio
@@ -63,12 +64,22 @@ run() {
   ratio=$(awk -v a="$rps" -v b="$HEALTHZ" 'BEGIN {printf "%.1f %%", 100 * a / b}')
   printf '| %-40s | %10s | %9s | %6s | %9s |\n' "$name" "$rps" "$p99" "$errs" "$ratio"
 }
-run "GET /healthz" "$BASE/healthz"
-run "GET / (counter, work due)" -H "Cookie: $COOKIE" "$BASE/"
-run "GET /customers?q=$QUERY" -H "Cookie: $COOKIE" "$BASE/customers?q=$QUERY"
-run "GET /builds/$BUILD (build page)" -H "Cookie: $COOKIE" "$BASE/builds/$BUILD"
-run "GET /builds/$BUILD/tune (tuning page)" -H "Cookie: $COOKIE" "$BASE/builds/$BUILD/tune"
-run "POST /api/v1/builds/$BUILD/passes (write)" -s "$WORK/post.lua" "$BASE/api/v1/builds/$BUILD/passes"
+routes() {
+  echo "$CONNS connections, ${SECS} s per route, $(nproc) cores shared by wrk and the server"
+  printf '| %-40s | %10s | %9s | %6s | %9s |\n' "route" "requests/s" "p99" "errors" "/healthz"
+  printf '|%s|%s|%s|%s|%s|\n' "------------------------------------------" "------------" "-----------" "--------" "-----------"
+  HEALTHZ=
+  run "GET /healthz" "$BASE/healthz"
+  run "GET / (counter, work due)" -H "Cookie: $COOKIE" "$BASE/"
+  run "GET /customers?q=$QUERY" -H "Cookie: $COOKIE" "$BASE/customers?q=$QUERY"
+  run "GET /builds/$BUILD (build page)" -H "Cookie: $COOKIE" "$BASE/builds/$BUILD"
+  run "GET /builds/$BUILD/tune (tuning page)" -H "Cookie: $COOKIE" "$BASE/builds/$BUILD/tune"
+  run "POST /api/v1/builds/$BUILD/passes (write)" -s "$WORK/post.lua" "$BASE/api/v1/builds/$BUILD/passes"
+}
+routes
+SECS=$BURST_SECS CONNS=$BURST_CONNS
+echo
+routes
 echo "server peak resident memory (VmHWM): $(awk '/VmHWM/ {printf "%.1f MB", $2 / 1024}' /proc/$SERVER/status)"
 if grep -qi 'database is locked\|panicked' "$WORK/serve.err"; then
   echo "server log shows lock errors or panics" >&2; exit 1

@@ -1,0 +1,138 @@
+//! Every pass and every cover height of a build, a page at a time (the build's own page lists
+//! the newest few).
+
+use askama::Template;
+use axum::extract::{Query, State};
+use axum::response::Html;
+use serde::Deserialize;
+
+use super::AppState;
+use super::builds::build_title;
+use super::extract::{CurrentUser, PathId};
+use super::layout::Layout;
+use crate::db;
+use crate::db::heights::Height;
+use crate::db::pass_logs::LogSummary;
+use crate::db::passes::Pass;
+use crate::error::{AppError, AppResult};
+
+/// Rows per page.
+const PER_PAGE: i64 = 100;
+
+#[derive(Deserialize, Default)]
+pub struct PageNo {
+    #[serde(default)]
+    page: String,
+}
+
+/// Where a list is: its page number (from 0), how many pages, and the list's address.
+pub struct Paging {
+    pub no: i64,
+    pub pages: i64,
+    pub total: i64,
+    pub path: String,
+}
+
+impl Paging {
+    fn new(q: &PageNo, total: i64, path: String) -> Self {
+        let pages = ((total + PER_PAGE - 1) / PER_PAGE).max(1);
+        let no = q.page.parse::<i64>().unwrap_or(0).clamp(0, pages - 1);
+        Self {
+            no,
+            pages,
+            total,
+            path,
+        }
+    }
+    fn offset(&self) -> i64 {
+        self.no * PER_PAGE
+    }
+}
+
+#[derive(Template)]
+#[template(path = "builds/passes.html")]
+pub struct PassesPage {
+    pub page: Layout,
+    pub build_id: i64,
+    pub title: String,
+    pub passes: Vec<Pass>,
+    pub logs: Vec<LogSummary>,
+    pub paging: Paging,
+}
+
+impl PassesPage {
+    pub fn log_of(&self, pass_id: i64) -> Option<&LogSummary> {
+        self.logs.iter().find(|l| l.pass_id == pass_id)
+    }
+}
+
+/// The title of build `id` ("customer – build"), or 404.
+async fn title_of(conn: &mut sqlx::SqliteConnection, id: i64) -> AppResult<String> {
+    let build = db::builds::by_id(conn, id)
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let owner = db::builds::owner(conn, id).await?;
+    Ok(format!("{} – {}", owner.customer_name, build_title(&build)))
+}
+
+/// GET /builds/{id}/passes: every pass, newest first.
+pub async fn passes(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+    Query(q): Query<PageNo>,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let title = title_of(&mut conn, id).await?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "All passes").await?;
+    let total = db::passes::count_for_build(&mut conn, id).await?;
+    let paging = Paging::new(&q, total, format!("/builds/{id}/passes"));
+    let passes = db::passes::page_for_build(&mut conn, id, paging.offset(), PER_PAGE).await?;
+    let logs = db::pass_logs::for_build(&mut conn, id).await?;
+    Ok(Html(
+        PassesPage {
+            page,
+            build_id: id,
+            title,
+            passes,
+            logs,
+            paging,
+        }
+        .render()?,
+    ))
+}
+
+#[derive(Template)]
+#[template(path = "builds/heights.html")]
+pub struct HeightsPage {
+    pub page: Layout,
+    pub build_id: i64,
+    pub title: String,
+    pub heights: Vec<Height>,
+    pub paging: Paging,
+}
+
+/// GET /builds/{id}/heights: every cover height, newest first.
+pub async fn heights(
+    State(state): State<AppState>,
+    user: CurrentUser,
+    PathId(id): PathId,
+    Query(q): Query<PageNo>,
+) -> AppResult<Html<String>> {
+    let mut conn = state.pool.acquire().await?;
+    let title = title_of(&mut conn, id).await?;
+    let (page, _) = Layout::load(&mut conn, &user, "customers", "All cover heights").await?;
+    let total = db::heights::count_for_build(&mut conn, id).await?;
+    let paging = Paging::new(&q, total, format!("/builds/{id}/heights"));
+    let heights = db::heights::page_for_build(&mut conn, id, paging.offset(), PER_PAGE).await?;
+    Ok(Html(
+        HeightsPage {
+            page,
+            build_id: id,
+            title,
+            heights,
+            paging,
+        }
+        .render()?,
+    ))
+}
