@@ -72,6 +72,17 @@ pub struct Cache {
     stem: String,
     sessions: Mutex<HashMap<String, Session>>,
     pages: Mutex<HashMap<(PageKey, bool), Page>>,
+    /// Taken while a page is rendered, one per stripe of the pages (by hash).
+    renders: [tokio::sync::Mutex<()>; RENDER_STRIPES],
+}
+
+/// Stripes of the render locks: two different pages rarely share one.
+const RENDER_STRIPES: usize = 64;
+
+fn stripe(slot: &(PageKey, bool)) -> usize {
+    use std::hash::{BuildHasher, RandomState};
+    static HASHER: std::sync::OnceLock<RandomState> = std::sync::OnceLock::new();
+    (HASHER.get_or_init(RandomState::new).hash_one(slot) % RENDER_STRIPES as u64) as usize
 }
 
 impl Default for Cache {
@@ -81,6 +92,7 @@ impl Default for Cache {
             stem: auth::new_secret("hole"),
             sessions: Mutex::default(),
             pages: Mutex::default(),
+            renders: std::array::from_fn(|_| tokio::sync::Mutex::new(())),
         }
     }
 }
@@ -151,16 +163,16 @@ impl Cache {
         Fut: Future<Output = AppResult<(String, ShopZone)>>,
     {
         let slot = (key, user.is_admin());
-        let generation = self.generation();
-        let cached = lock(&self.pages).get(&slot).and_then(|p| {
-            let fresh = p.generation == generation
-                && p.made.elapsed() < PAGE_MAX_AGE
-                && Date::today(&p.zone) == p.today;
-            fresh.then(|| Arc::clone(&p.html))
-        });
-        if let Some(html) = cached {
+        if let Some(html) = self.fresh(&slot) {
             return Ok(self.fill(&html, user));
         }
+        // One render per page at a time: the others asking for it meanwhile wait for that one
+        // (a burst of requests after a commit renders it once, not once per request).
+        let _turn = self.renders[stripe(&slot)].lock().await;
+        if let Some(html) = self.fresh(&slot) {
+            return Ok(self.fill(&html, user));
+        }
+        let generation = self.generation();
         let stand_in = CurrentUser {
             username: self.hole('U'),
             csrf: self.hole('C'),
@@ -182,6 +194,17 @@ impl Cache {
             );
         }
         Ok(filled)
+    }
+
+    /// The kept page for `slot`, if it is of this generation, this day and young enough.
+    fn fresh(&self, slot: &(PageKey, bool)) -> Option<Arc<str>> {
+        let generation = self.generation();
+        lock(&self.pages).get(slot).and_then(|p| {
+            let fresh = p.generation == generation
+                && p.made.elapsed() < PAGE_MAX_AGE
+                && Date::today(&p.zone) == p.today;
+            fresh.then(|| Arc::clone(&p.html))
+        })
     }
 
     fn keep(&self, slot: (PageKey, bool), page: Page) {
@@ -356,5 +379,29 @@ mod tests {
             .await
             .unwrap();
         assert_eq!(renders.load(Ordering::SeqCst), 4);
+    }
+
+    #[tokio::test]
+    async fn requests_arriving_while_a_page_renders_wait_for_that_render() {
+        let cache = Cache::default();
+        let renders = std::sync::atomic::AtomicUsize::new(0);
+        let render = |u: CurrentUser| {
+            renders.fetch_add(1, Ordering::SeqCst);
+            async move {
+                tokio::time::sleep(Duration::from_millis(50)).await;
+                Ok((u.csrf, ShopZone::server()))
+            }
+        };
+        let (ann, bob, cy) = (user("ann", "t1"), user("bob", "t2"), user("cy", "t3"));
+        let (a, b, c) = tokio::join!(
+            cache.page(PageKey::Build(3), &ann, render),
+            cache.page(PageKey::Build(3), &bob, render),
+            cache.page(PageKey::Build(3), &cy, render),
+        );
+        assert_eq!(
+            (a.unwrap(), b.unwrap(), c.unwrap()),
+            ("t1".into(), "t2".into(), "t3".into())
+        );
+        assert_eq!(renders.load(Ordering::SeqCst), 1);
     }
 }

@@ -1,6 +1,7 @@
 //! Query plans of the busiest pages: every statement the counter, the search, the build page
-//! and the tuning page run (captured from sqlx's own statement log while the real router
-//! answers) is put through EXPLAIN QUERY PLAN, and none may read a whole table of records.
+//! (with its lists of every pass and cover height) and the tuning page run (captured from
+//! sqlx's own statement log while the real router answers) is put through EXPLAIN QUERY PLAN,
+//! and none may read a whole table of records.
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::sync::{Arc, Mutex};
@@ -212,6 +213,8 @@ async fn captured_in_a_process_of_its_own() {
         "/customers?q=Lindqvist&sort=last".into(),
         build.clone(),
         format!("{build}/tune"),
+        format!("{build}/passes"),
+        format!("{build}/heights?page=1"),
     ] {
         let reply = client.get(&path).await;
         assert_eq!(reply.status, StatusCode::OK, "{path}");
