@@ -48,6 +48,13 @@ impl Entry {
         let build = db::builds::by_id(&mut tx, build_id)
             .await?
             .ok_or(AppError::NotFound)?;
+        if build.data.status == "retired" {
+            // Its page offers no entry forms; a form kept open from before, or a crafted post,
+            // gets the reason.
+            return Err(AppError::Forbidden(
+                "this build is retired: set it back to active (Edit hardware) to record on it",
+            ));
+        }
         let ctx = db::settings::get(&mut tx).await?.ctx();
         Ok(Self {
             tx,

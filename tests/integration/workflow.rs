@@ -221,6 +221,17 @@ async fn a_retired_build_shows_no_entry_forms_and_says_retired_once() {
         .next()
         .unwrap();
     assert_eq!(title.matches("retired").count(), 1, "{title}");
+    // An entry posted to it anyway (a form left open from before) is refused, nothing saved.
+    let passes = app.count("passes").await;
+    let late = client
+        .post(
+            &format!("{build}/passes"),
+            &[("run_on", "2026-11-20"), ("launch_rpm", "4500")],
+        )
+        .await;
+    assert_eq!(late.status, StatusCode::FORBIDDEN, "{}", late.body);
+    assert!(late.body.contains("retired"), "{}", late.body);
+    assert_eq!(app.count("passes").await, passes);
 
     // The demo shop's retired build does not put the word in its label.
     let fresh = TempDb::new();
