@@ -580,12 +580,7 @@ async fn save(
                 .ok_or(AppError::NotFound)?;
             db::builds::update(&mut tx, id, &checked).await?;
             let changes = field::changes(&before.data, &checked, page.units(), &[]);
-            let note = if changes.is_empty() {
-                "Saved: the build, nothing changed.".to_string()
-            } else {
-                format!("Saved: the build: {}.", changes.join("; "))
-            };
-            (id, note)
+            (id, flash::saved_note("the build", &changes))
         }
         None => {
             let id = db::builds::insert(&mut tx, car_id, &checked).await?;

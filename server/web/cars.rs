@@ -3,10 +3,11 @@
 use askama::Template;
 use axum::extract::State;
 use axum::http::StatusCode;
-use axum::response::{Html, IntoResponse, Redirect, Response};
+use axum::response::{Html, IntoResponse, Response};
 
 use super::AppState;
 use super::extract::{CurrentUser, PathId, SignedForm};
+use super::flash::{self, Flash, saved_note};
 use super::layout::Layout;
 use crate::db;
 use crate::db::builds::Build;
@@ -23,13 +24,16 @@ pub struct ShowPage {
     pub car: Car,
     pub customer: Customer,
     pub builds: Vec<Build>,
+    /// "Saved: ..." after a save, shown once.
+    pub flash: Option<String>,
 }
 
 pub async fn show(
     State(state): State<AppState>,
     user: CurrentUser,
     PathId(id): PathId,
-) -> AppResult<Html<String>> {
+    flash: Flash,
+) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
     let car = db::cars::by_id(&mut conn, id)
         .await?
@@ -40,15 +44,14 @@ pub async fn show(
     let (page, _) =
         Layout::load(&mut conn, &user, "customers", car.data.description.clone()).await?;
     let builds = db::builds::for_car(&mut conn, id).await?;
-    Ok(Html(
-        ShowPage {
-            page,
-            car,
-            customer,
-            builds,
-        }
-        .render()?,
-    ))
+    let page = ShowPage {
+        page,
+        car,
+        customer,
+        builds,
+        flash: flash.note.clone(),
+    };
+    Ok(flash.respond(Html(page.render()?)))
 }
 
 #[derive(Template)]
@@ -163,13 +166,23 @@ async fn save(
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
         }
     };
-    let id = match id {
+    let (id, note) = match id {
         Some(id) => {
+            let before = db::cars::by_id(&mut tx, id)
+                .await?
+                .ok_or(AppError::NotFound)?;
             db::cars::update(&mut tx, id, &checked).await?;
-            id
+            let changes = field::changes(&before.data, &checked, page.units(), &[]);
+            (id, saved_note("the car", &changes))
         }
-        None => db::cars::insert(&mut tx, customer_id, &checked).await?,
+        None => {
+            let id = db::cars::insert(&mut tx, customer_id, &checked).await?;
+            (
+                id,
+                "Saved: a new car. Add its clutch build next.".to_string(),
+            )
+        }
     };
     tx.commit().await?;
-    Ok(Redirect::to(&format!("/cars/{id}")).into_response())
+    Ok(flash::redirect(&state, &format!("/cars/{id}"), &note))
 }

@@ -10,6 +10,7 @@ use sqlx::SqliteConnection;
 use super::AppState;
 use super::cache::PageKey;
 use super::extract::{CurrentUser, PathId, SignedForm};
+use super::flash::{self, Flash, saved_note};
 use super::layout::Layout;
 use crate::db;
 use crate::db::cars::Car;
@@ -116,27 +117,29 @@ pub struct ShowPage {
     pub page: Layout,
     pub customer: Customer,
     pub cars: Vec<Car>,
+    /// "Saved: ..." after a save, shown once.
+    pub flash: Option<String>,
 }
 
 pub async fn show(
     State(state): State<AppState>,
     user: CurrentUser,
     PathId(id): PathId,
-) -> AppResult<Html<String>> {
+    flash: Flash,
+) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
     let customer = db::customers::by_id(&mut conn, id)
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", customer.data.name.clone()).await?;
     let cars = db::cars::for_customer(&mut conn, id).await?;
-    Ok(Html(
-        ShowPage {
-            page,
-            customer,
-            cars,
-        }
-        .render()?,
-    ))
+    let page = ShowPage {
+        page,
+        customer,
+        cars,
+        flash: flash.note.clone(),
+    };
+    Ok(flash.respond(Html(page.render()?)))
 }
 
 #[derive(Template)]
@@ -223,17 +226,22 @@ async fn save(
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
         }
     };
-    let id = match id {
+    let (id, note) = match id {
         Some(id) => {
-            if !db::customers::update(&mut tx, id, &checked).await? {
-                return Err(AppError::NotFound);
-            }
-            id
+            let before = db::customers::by_id(&mut tx, id)
+                .await?
+                .ok_or(AppError::NotFound)?;
+            db::customers::update(&mut tx, id, &checked).await?;
+            let changes = field::changes(&before.data, &checked, page.units(), &[]);
+            (id, saved_note("the customer", &changes))
         }
-        None => db::customers::insert(&mut tx, &checked).await?,
+        None => {
+            let id = db::customers::insert(&mut tx, &checked).await?;
+            (id, "Saved: a new customer. Add their car next.".to_string())
+        }
     };
     tx.commit().await?;
-    Ok(Redirect::to(&format!("/customers/{id}")).into_response())
+    Ok(flash::redirect(&state, &format!("/customers/{id}"), &note))
 }
 
 /// POST /customers/{id}/delete (admin): hides the customer and everything under them; nothing

@@ -36,6 +36,16 @@ fn page_path(to: &str) -> &str {
     to.split(['?', '#']).next().unwrap_or("/")
 }
 
+/// The note for a record saved with `changes` (as `records::field::changes` words them):
+/// "Saved: the car: Engine 7.2 L V8 → 7.4 L V8." or "Saved: the car, nothing changed."
+pub fn saved_note(what: &str, changes: &[String]) -> String {
+    if changes.is_empty() {
+        format!("Saved: {what}, nothing changed.")
+    } else {
+        format!("Saved: {what}: {}.", changes.join("; "))
+    }
+}
+
 /// A 303 redirect to `to` that shows `note` once on the page there.
 pub fn redirect(state: &AppState, to: &str, note: &str) -> Response {
     let note: String = note.chars().take(MAX_CHARS).collect();

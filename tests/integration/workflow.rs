@@ -720,3 +720,57 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
         StatusCode::NOT_FOUND
     );
 }
+
+#[tokio::test]
+async fn customer_and_car_saves_say_once_what_changed() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let made = client
+        .post(
+            "/customers",
+            &[("name", "Orla Penhallow"), ("phone", "555-0177")],
+        )
+        .await;
+    let shown = client.follow(&made).await;
+    assert!(
+        shown.body.contains("Saved: a new customer."),
+        "{}",
+        shown.body
+    );
+    let customer = id_from(made.location());
+    let edited = client
+        .post(
+            &format!("/customers/{customer}"),
+            &[("name", "Orla Penhallow"), ("phone", "555-0178")],
+        )
+        .await;
+    let shown = client.follow(&edited).await;
+    assert!(
+        shown
+            .body
+            .contains("Saved: the customer: Phone: 555-0177 → 555-0178."),
+        "{}",
+        shown.body
+    );
+    assert!(!client.get(edited.location()).await.body.contains("Saved:"));
+
+    let car = client
+        .post(
+            &format!("/customers/{customer}/cars"),
+            &[("description", "roadster, 5.0 L V8, 5-speed")],
+        )
+        .await;
+    assert!(client.follow(&car).await.body.contains("Saved: a new car."));
+    let again = client
+        .post(
+            car.location(),
+            &[("description", "roadster, 5.0 L V8, 5-speed")],
+        )
+        .await;
+    let shown = client.follow(&again).await;
+    assert!(
+        shown.body.contains("Saved: the car, nothing changed."),
+        "{}",
+        shown.body
+    );
+}
