@@ -13,7 +13,8 @@ use axum::body::Body;
 use axum::http::{Request, StatusCode, header};
 use http_body_util::BodyExt;
 use lockpoint::backup::{self, DbLock};
-use lockpoint::db::export::{self, Export, ExportError};
+use lockpoint::db::export::{self, Document, ExportError};
+use lockpoint::progress::Progress;
 use lockpoint::records::date::Date;
 use lockpoint::{db, demo};
 use sqlx::sqlite::SqliteConnectOptions;
@@ -308,7 +309,9 @@ async fn restore_is_refused_while_the_server_runs_and_brings_the_backup_back_onc
     let pool = db::open(&db_path).await.unwrap();
     add_customer(&pool, "Orla Brennick", "two-door, 7.0 L, 4-speed").await;
     add_customer(&pool, "Tomas Yelverton", "altered, blown big-block").await;
-    backup::backup_file(&db_path, &saved).await.unwrap();
+    backup::backup_file(&db_path, &saved, &mut Progress::none())
+        .await
+        .unwrap();
     add_customer(&pool, "After The Backup", "must go away on restore").await;
     pool.close().await;
 
@@ -394,7 +397,9 @@ async fn restore_refuses_damaged_and_foreign_files_and_leaves_the_database_alone
         .await;
     }
     let good = scratch.path("good.db");
-    backup::backup_pool(&pool, &good).await.unwrap();
+    backup::backup_pool(&pool, &good, &mut Progress::none())
+        .await
+        .unwrap();
     pool.close().await;
     let before = customer_names(&db_path).await;
 
@@ -498,19 +503,53 @@ async fn demo_shop(path: &Path) -> SqlitePool {
     pool
 }
 
+/// The JSON export of the database behind `pool`, as `lockpoint export` writes it.
+async fn export_text(pool: &SqlitePool) -> String {
+    let mut tx = pool.begin().await.unwrap();
+    let plan = export::plan(&mut tx).await.unwrap();
+    let mut json = export::JsonWriter::begin(Vec::new(), plan.version).unwrap();
+    let rows = export::write(&mut tx, &plan, &mut json, None, &mut Progress::none())
+        .await
+        .unwrap();
+    assert_eq!(rows, plan.rows());
+    tx.rollback().await.unwrap();
+    String::from_utf8(json.finish().unwrap()).unwrap()
+}
+
+/// `text` imported into the database behind `pool` in one transaction, committed only when the
+/// import succeeds.
+async fn import_text(pool: &SqlitePool, text: &str) -> Result<export::Imported, ExportError> {
+    let mut tx = pool.begin_with("BEGIN IMMEDIATE").await.unwrap();
+    let done = export::import(
+        &mut tx,
+        &Document::from(text.to_string()),
+        &mut Progress::none(),
+    )
+    .await;
+    match done {
+        Ok(_) => tx.commit().await.unwrap(),
+        Err(_) => tx.rollback().await.unwrap(),
+    }
+    done
+}
+
 #[tokio::test]
 async fn export_then_import_into_a_new_database_exports_the_identical_document() {
     let scratch = Scratch::new();
     let first = demo_shop(&scratch.path("first.db")).await;
-    let document = backup::read_export(&first).await.unwrap().to_json();
+    let document = export_text(&first).await;
 
     let second = db::open(&scratch.path("second.db")).await.unwrap();
-    let parsed = Export::from_json(&document).unwrap();
-    let mut tx = second.begin_with("BEGIN IMMEDIATE").await.unwrap();
-    let imported = export::import(&mut tx, &parsed).await.unwrap();
-    tx.commit().await.unwrap();
-    assert_eq!(imported.rows, parsed.row_count());
-    let again = backup::read_export(&second).await.unwrap().to_json();
+    let imported = import_text(&second, &document).await.unwrap();
+    let parsed: serde_json::Value = serde_json::from_str(&document).unwrap();
+    let rows: usize = parsed["tables"]
+        .as_object()
+        .unwrap()
+        .values()
+        .map(|rows| rows.as_array().unwrap().len())
+        .sum();
+    assert_eq!(imported.rows, rows);
+    let again = export_text(&second).await;
     assert!(
         document == again,
         "the second export differs from the first"
@@ -662,14 +701,12 @@ async fn the_export_and_import_commands_round_trip_every_file() {
 async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document() {
     let scratch = Scratch::new();
     let demo_pool = demo_shop(&scratch.path("demo.db")).await;
-    let document = backup::read_export(&demo_pool).await.unwrap();
+    let document = export_text(&demo_pool).await;
     demo_pool.close().await;
 
     // TestApp's database has two staff accounts and nothing else.
     let app = TestApp::new().await;
-    let mut tx = app.pool.begin_with("BEGIN IMMEDIATE").await.unwrap();
-    let refused = export::import(&mut tx, &document).await;
-    tx.rollback().await.unwrap();
+    let refused = import_text(&app.pool, &document).await;
     match refused {
         Err(ExportError::Refused(why)) => {
             assert!(
@@ -684,11 +721,9 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
 
     // A document from a newer program, and things that are not exports at all.
     let empty = db::open(&scratch.path("empty.db")).await.unwrap();
-    let mut newer = document.clone();
-    newer.version = export::latest_known_version() + 1;
-    let mut tx = empty.begin_with("BEGIN IMMEDIATE").await.unwrap();
-    let refused = export::import(&mut tx, &newer).await;
-    tx.rollback().await.unwrap();
+    let mut newer: serde_json::Value = serde_json::from_str(&document).unwrap();
+    newer["version"] = (export::latest_known_version() + 1).into();
+    let refused = import_text(&empty, &newer.to_string()).await;
     assert!(
         matches!(&refused, Err(ExportError::Refused(why)) if why.contains("newer Lockpoint")),
         "{refused:?}"
@@ -699,9 +734,10 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
         r#"{"format": "something-else", "version": 1, "tables": {}}"#,
         r#"{"format": "lockpoint-export", "version": 1, "tables": {"customers": [{"id": true}]}}"#,
     ] {
+        let refused = import_text(&empty, text).await;
         assert!(
-            matches!(Export::from_json(text), Err(ExportError::Format(_))),
-            "{text} was accepted"
+            matches!(refused, Err(ExportError::Format(_))),
+            "{text}: {refused:?}"
         );
     }
     let count: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers")
@@ -715,7 +751,7 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
 /// The demo shop's export as a JSON value, for a test to alter.
 async fn demo_document(scratch: &Scratch) -> serde_json::Value {
     let pool = demo_shop(&scratch.path("demo.db")).await;
-    let document = backup::read_export(&pool).await.unwrap().to_json();
+    let document = export_text(&pool).await;
     pool.close().await;
     serde_json::from_str(&document).unwrap()
 }
