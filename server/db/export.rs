@@ -876,6 +876,7 @@ impl OnTable for SurveyRows<'_> {
             n += 1;
             self.progress.rows("checking", &name, n, None);
         }
+        self.progress.rows("checking", &name, n, Some(n));
         self.tables.push(Surveyed {
             name,
             columns,

@@ -1529,3 +1529,72 @@ async fn a_server_started_through_a_symlink_still_blocks_restore_and_import() {
     let out = lockpoint(&["restore", text(&saved), "--db", text(&real)]);
     assert!(out.status.success(), "{}", stderr(&out));
 }
+
+/// `lockpoint ARGS` run on a pseudo-terminal (util-linux `script`), with everything it wrote
+/// to the terminal.
+fn lockpoint_on_a_terminal(args: &[&str]) -> (bool, String) {
+    let command = std::iter::once(env!("CARGO_BIN_EXE_lockpoint"))
+        .chain(args.iter().copied())
+        .map(|a| format!("'{}'", a.replace('\'', "'\\''")))
+        .collect::<Vec<_>>()
+        .join(" ");
+    let out = Command::new("script")
+        .args(["-qec", &command, "/dev/null"])
+        .stdin(Stdio::null())
+        .output()
+        .expect("util-linux `script` runs (it gives the command a terminal)");
+    (out.status.success(), stdout(&out))
+}
+
+#[tokio::test]
+async fn long_commands_show_progress_on_a_terminal_and_nothing_extra_otherwise() {
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    demo_shop(&shop).await.close().await;
+
+    // Not a terminal: the output is only the commands' own lines.
+    let out = lockpoint(&["export", text(&scratch.path("plain")), "--db", text(&shop)]);
+    assert!(out.status.success());
+    assert_eq!(stderr(&out), "");
+    let json = scratch.path("plain").join(export::JSON_FILE);
+    let out = lockpoint(&["import", text(&json), "--db", text(&scratch.path("a.db"))]);
+    assert!(out.status.success());
+    assert_eq!(stderr(&out), "");
+    assert!(!stdout(&out).contains('\r'), "{}", stdout(&out));
+
+    // A terminal: a line per table, rewritten in place, cleared before the last line.
+    let (ok, shown) =
+        lockpoint_on_a_terminal(&["export", text(&scratch.path("tty")), "--db", text(&shop)]);
+    assert!(ok, "{shown}");
+    assert!(shown.contains("\rexporting customers: "), "{shown:?}");
+    assert!(shown.contains(" rows"), "{shown:?}");
+    assert!(shown.contains("exported "), "{shown:?}");
+    let (ok, shown) =
+        lockpoint_on_a_terminal(&["import", text(&json), "--db", text(&scratch.path("b.db"))]);
+    assert!(ok, "{shown}");
+    assert!(shown.contains("\rimporting customers: "), "{shown:?}");
+    assert!(shown.contains("\rchecking customers: "), "{shown:?}");
+    let backup = scratch.path("copy.db");
+    let (ok, shown) = lockpoint_on_a_terminal(&["backup", text(&backup), "--db", text(&shop)]);
+    assert!(ok, "{shown}");
+    assert!(
+        shown.contains("\rbacking up: checking the copy"),
+        "{shown:?}"
+    );
+    let (ok, shown) = lockpoint_on_a_terminal(&[
+        "restore",
+        text(&backup),
+        "--db",
+        text(&scratch.path("a.db")),
+    ]);
+    assert!(ok, "{shown}");
+    assert!(
+        shown.contains("\rrestoring: checking the backup"),
+        "{shown:?}"
+    );
+    // The imported and restored shops are the exported one.
+    assert_eq!(
+        customer_names(&scratch.path("b.db")).await,
+        customer_names(&shop).await
+    );
+}
