@@ -4,8 +4,9 @@
 # passes, fixed seed) written once as an export document, then `lockpoint import` of it into a
 # fresh database and `lockpoint export` of the result, each under /usr/bin/time -v: elapsed
 # time and peak resident memory (maximum resident set size) of the whole process.
-# Goals: import under 60 s and 100 MB. Also reports whether every imported build has a
-# current work-due status (needs sqlite3 for that line).
+# Goals: import under 60 s and 100 MB. Then checks that the imported database's work-due list
+# (the kept status) equals the one worked out from the full history (`scale --check-due`), and
+# reports whether every imported build has a current status (needs sqlite3 for that line).
 # Needs /usr/bin/time (Debian package `time`). Usage: tests/load/import_scale.sh [seed]
 set -euo pipefail
 cd "$(dirname "$0")/../.."
@@ -40,6 +41,7 @@ if command -v sqlite3 >/dev/null; then
   STALE=$(sqlite3 "$WORK/imported.db" \
     "SELECT (SELECT COUNT(*) FROM builds) - (SELECT COUNT(*) FROM build_status WHERE stale = 0)")
 fi
+./target/release/examples/scale --check-due "$WORK/imported.db"
 read -r ESECS EMB < <(measure ./target/release/lockpoint export "$WORK/export" --db "$WORK/imported.db")
 cat "$WORK/out"
 

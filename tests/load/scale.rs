@@ -15,6 +15,11 @@
 //! seed database made by `db::open` and the usual user insert, copied into the document as an
 //! export copies them. With `--json FILE` the document is kept there (without `--db`, only the
 //! document is written); otherwise it is staged beside the database and removed.
+//!
+//! `--check-due FILE` generates nothing: it compares the counter's work-due list of the
+//! database FILE, read from the kept per-build status (`status::work_due`), with the list
+//! worked out from the full history (`model::work_due`), and fails when they differ
+//! (`tests/load/import_scale.sh` runs it on the database `lockpoint import` made).
 
 use std::fs::File;
 use std::io::{BufWriter, Write};
@@ -25,7 +30,7 @@ use lockpoint::backup::{self, TempPath};
 use lockpoint::db::export::{self, Cell, JsonWriter, Plan};
 use lockpoint::progress::Progress;
 use lockpoint::records::user::{NewUser, Role};
-use lockpoint::{auth, db};
+use lockpoint::{auth, db, model, status};
 
 /// The sign-in the load script uses.
 const USER: &str = "loadtest";
@@ -124,6 +129,7 @@ const MATERIAL: &[&str] = &["organic", "molded", "cermet", "sintered_iron"];
 struct Args {
     db: Option<PathBuf>,
     json: Option<PathBuf>,
+    check_due: Option<PathBuf>,
     seed: u64,
     customers: u64,
     heights_per_build: u64,
@@ -134,6 +140,7 @@ fn args() -> Result<Args, String> {
     let mut a = Args {
         db: None,
         json: None,
+        check_due: None,
         seed: 13,
         customers: 10_000,
         heights_per_build: 100,
@@ -146,6 +153,7 @@ fn args() -> Result<Args, String> {
         match flag.as_str() {
             "--db" => a.db = Some(PathBuf::from(&value)),
             "--json" => a.json = Some(PathBuf::from(&value)),
+            "--check-due" => a.check_due = Some(PathBuf::from(&value)),
             "--seed" => a.seed = number()?,
             "--customers" => a.customers = number()?,
             "--heights-per-build" => a.heights_per_build = number()?,
@@ -153,8 +161,8 @@ fn args() -> Result<Args, String> {
             _ => return Err(format!("unknown option {flag}")),
         }
     }
-    if a.db.is_none() && a.json.is_none() {
-        return Err("--db FILE (or --json FILE) is required".into());
+    if a.db.is_none() && a.json.is_none() && a.check_due.is_none() {
+        return Err("--db FILE (or --json FILE, or --check-due FILE) is required".into());
     }
     Ok(a)
 }
@@ -168,7 +176,10 @@ fn date(day: u64) -> String {
 
 #[tokio::main(flavor = "current_thread")]
 async fn main() -> Result<(), Box<dyn std::error::Error>> {
-    let a = args().map_err(|e| format!("{e}\nusage: scale --db FILE [--seed N] [--json FILE] [--customers N] [--heights-per-build N] [--passes-per-build N]"))?;
+    let a = args().map_err(|e| format!("{e}\nusage: scale --db FILE [--seed N] [--json FILE] [--customers N] [--heights-per-build N] [--passes-per-build N] | scale --check-due FILE"))?;
+    if let Some(path) = &a.check_due {
+        return check_due(path).await;
+    }
     for path in a.db.iter().chain(&a.json) {
         if path.exists() {
             return Err(format!("{} exists: give a new file", path.display()).into());
@@ -209,6 +220,36 @@ async fn main() -> Result<(), Box<dyn std::error::Error>> {
         );
     }
     drop(staged);
+    Ok(())
+}
+
+/// The kept due list of the database at `path` against the one from the full history.
+async fn check_due(path: &Path) -> Result<(), Box<dyn std::error::Error>> {
+    let pool = backup::open_existing(path).await?;
+    let mut conn = pool.acquire().await?;
+    let settings = db::settings::get(&mut conn).await?;
+    let kept = status::work_due(&mut conn, &settings).await?;
+    let full = model::work_due(
+        &db::builds::active(&mut conn).await?,
+        &db::heights::for_active_builds(&mut conn).await?,
+        &db::bench::for_active_builds(&mut conn).await?,
+        &settings,
+    );
+    drop(conn);
+    pool.close().await;
+    if format!("{kept:?}") != format!("{full:?}") {
+        return Err(format!(
+            "{}: the kept due list ({} lines) differs from the full history's ({} lines)",
+            path.display(),
+            kept.len(),
+            full.len()
+        )
+        .into());
+    }
+    println!(
+        "due list: {} lines, equal to the one worked out from the full history",
+        kept.len()
+    );
     Ok(())
 }
 
