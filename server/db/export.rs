@@ -534,12 +534,26 @@ pub enum Document {
 }
 
 impl Document {
-    fn open(&self) -> io::Result<Box<dyn Read + Send>> {
-        Ok(match self {
-            Self::File(path) => Box::new(BufReader::with_capacity(1 << 16, File::open(path)?)),
-            Self::Bytes(bytes) => Box::new(io::Cursor::new(Arc::clone(bytes))),
-        })
+    /// Reads the whole document through `on`. A file is read through a `BufReader` as such:
+    /// serde_json reads its input a byte at a time, and the standard library takes those bytes
+    /// straight from a `BufReader`'s buffer (behind a `Box<dyn Read>` each would be a call).
+    fn read<H: OnTable>(&self, on: &mut H) -> Result<Head, serde_json::Error> {
+        match self {
+            Self::File(path) => {
+                let file = File::open(path).map_err(serde_json::Error::io)?;
+                parse(BufReader::with_capacity(1 << 16, file), on)
+            }
+            Self::Bytes(bytes) => parse(io::Cursor::new(Arc::clone(bytes)), on),
+        }
     }
+}
+
+/// The document in `reader`, each table's rows handed to `on`; nothing may follow it.
+fn parse<R: Read, H: OnTable>(reader: R, on: &mut H) -> Result<Head, serde_json::Error> {
+    let mut de = serde_json::Deserializer::from_reader(reader);
+    let head = DocSeed(on).deserialize(&mut de)?;
+    de.end()?;
+    Ok(head)
 }
 
 impl From<String> for Document {
@@ -905,11 +919,7 @@ fn survey(
         tables: Vec::new(),
         progress,
     };
-    let mut de = serde_json::Deserializer::from_reader(doc.open()?);
-    let head = DocSeed(&mut on)
-        .deserialize(&mut de)
-        .map_err(format_error)?;
-    de.end().map_err(format_error)?;
+    let head = doc.read(&mut on).map_err(format_error)?;
     Ok(Survey {
         format: head.format,
         version: head.version,
@@ -1291,8 +1301,7 @@ pub async fn import(
                 send,
                 stopped: None,
             };
-            let mut de = serde_json::Deserializer::from_reader(doc.open()?);
-            let read = DocSeed(&mut on).deserialize(&mut de).map(|_| ());
+            let read = doc.read(&mut on).map(|_| ());
             match (read, on.stopped) {
                 (_, Some(why)) => Err(why),
                 (Err(e), None) => Err(format_error(e)),
