@@ -735,9 +735,17 @@ pub async fn import_file(
         )));
     };
     let _commands = DbLock::wait_for_commands(db)?;
+    // A database this import creates is removed again when the import is refused, so a
+    // refusal leaves nothing behind (the document is only read once the database is open).
+    let created = !db.exists();
     let pool = db::open(db).await?;
     let done = import_into(&pool, &Document::File(file.to_path_buf()), progress).await;
     pool.close().await;
+    if done.is_err() && created {
+        for suffix in ["", "-wal", "-shm", "-journal"] {
+            let _ = fs::remove_file(with_suffix(db, suffix));
+        }
+    }
     let imported = done?;
     Ok(ImportedFile {
         version: imported.version,

@@ -756,12 +756,22 @@ async fn demo_document(scratch: &Scratch) -> serde_json::Value {
     serde_json::from_str(&document).unwrap()
 }
 
-/// Runs `lockpoint import` of `document` into a new database, insists that it is refused and
-/// that the database holds no records afterwards (nothing partial), and returns the message.
+/// Runs `lockpoint import` of `document` into a new, empty database, insists that it is
+/// refused and that the database holds no records afterwards (nothing partial), and returns the
+/// message. Into a path with no database yet, the same refusal leaves no file behind.
 async fn import_refused(scratch: &Scratch, case: &str, document: &serde_json::Value) -> String {
     let json = scratch.path(&format!("{case}.json"));
     std::fs::write(&json, serde_json::to_string_pretty(document).unwrap()).unwrap();
+    let fresh = scratch.path(&format!("{case}-fresh.db"));
+    let out = lockpoint(&["import", text(&json), "--db", text(&fresh)]);
+    assert!(
+        !out.status.success(),
+        "{case} was imported: {}",
+        stdout(&out)
+    );
+    assert!(!fresh.exists(), "{case} left a new database behind");
     let db_path = scratch.path(&format!("{case}.db"));
+    db::open(&db_path).await.unwrap().close().await;
     let out = lockpoint(&["import", text(&json), "--db", text(&db_path)]);
     assert!(
         !out.status.success(),
