@@ -22,10 +22,11 @@ use std::sync::atomic::{AtomicU64, Ordering};
 use std::time::{Duration, SystemTime, UNIX_EPOCH};
 
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions};
-use sqlx::{Connection, SqliteConnection, SqlitePool};
+use sqlx::{AssertSqlSafe, Connection, SqliteConnection, SqlitePool};
 
 use crate::db;
-use crate::db::export::{self, Export, ExportError};
+use crate::db::export::{self, Document, ExportError, JsonWriter};
+use crate::progress::Progress;
 
 #[derive(Debug, thiserror::Error)]
 pub enum BackupError {
@@ -363,7 +364,11 @@ fn sync_to_disk(path: &Path) -> Result<(), BackupError> {
 
 /// Writes a consistent, checked copy of the database behind `pool` to `dest`, which must not
 /// exist yet. Safe while the server reads and writes: the copy is one snapshot.
-pub async fn backup_pool(pool: &SqlitePool, dest: &Path) -> Result<Checked, BackupError> {
+pub async fn backup_pool(
+    pool: &SqlitePool,
+    dest: &Path,
+    progress: &mut Progress,
+) -> Result<Checked, BackupError> {
     let Some(dest_text) = dest.to_str() else {
         return Err(BackupError::Refused(format!(
             "{} is not a UTF-8 path; choose another name",
@@ -383,12 +388,35 @@ pub async fn backup_pool(pool: &SqlitePool, dest: &Path) -> Result<Checked, Back
         Err(e) => return Err(io_err(format!("cannot create {}", dest.display()))(e)),
     }
     let made = async {
-        sqlx::query("VACUUM INTO ?")
-            .bind(dest_text)
-            .execute(pool)
-            .await?;
+        let size: (i64, i64) = sqlx::query_as(
+            "SELECT page_count * page_size, freelist_count * page_size
+             FROM pragma_page_count(), pragma_page_size(), pragma_freelist_count()",
+        )
+        .fetch_one(pool)
+        .await?;
+        let expected = (size.0 - size.1).max(0) as u64;
+        let vacuum = sqlx::query("VACUUM INTO ?").bind(dest_text).execute(pool);
+        tokio::pin!(vacuum);
+        loop {
+            tokio::select! {
+                done = &mut vacuum => {
+                    done?;
+                    break;
+                }
+                () = tokio::time::sleep(Duration::from_millis(250)), if progress.is_on() => {
+                    let written = fs::metadata(dest).map_or(0, |m| m.len());
+                    progress.step(&format!(
+                        "backing up: {} / {} MB",
+                        written / 1_000_000,
+                        expected / 1_000_000
+                    ));
+                }
+            }
+        }
+        progress.step("backing up: checking the copy (integrity check)");
         let checked = check_file(dest).await?;
         sync_to_disk(dest)?;
+        progress.done();
         Ok(checked)
     }
     .await;
@@ -401,14 +429,18 @@ pub async fn backup_pool(pool: &SqlitePool, dest: &Path) -> Result<Checked, Back
 }
 
 /// `lockpoint backup`: a checked copy of the database file `db` at `dest` (a new file).
-pub async fn backup_file(db: &Path, dest: &Path) -> Result<Checked, BackupError> {
+pub async fn backup_file(
+    db: &Path,
+    dest: &Path,
+    progress: &mut Progress,
+) -> Result<Checked, BackupError> {
     if same_file(db, dest) {
         return Err(BackupError::Refused(
             "the backup must be a different file from the database".into(),
         ));
     }
     let pool = open_existing(db).await?;
-    let made = backup_pool(&pool, dest).await;
+    let made = backup_pool(&pool, dest, progress).await;
     pool.close().await;
     made
 }
@@ -435,7 +467,11 @@ pub struct Restored {
 
 /// `lockpoint restore`: replaces the database `db` with the backup at `src`. Refused while a
 /// server holds the database's lock, and for any file that is not a sound Lockpoint database.
-pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
+pub async fn restore(
+    db: &Path,
+    src: &Path,
+    progress: &mut Progress,
+) -> Result<Restored, BackupError> {
     if !src.is_file() {
         return Err(BackupError::Refused(format!(
             "no backup file at {}",
@@ -473,11 +509,13 @@ pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_else(|| "lockpoint.db".into());
     let staged = TempPath::unique_in(&dir, &format!(".{file_name}.restoring"), "");
+    progress.step("restoring: copying the backup");
     fs::copy(src, staged.path()).map_err(io_err(format!(
         "cannot copy {} to {}",
         src.display(),
         staged.path().display()
     )))?;
+    progress.step("restoring: checking the backup (integrity check)");
     let before = check_file(staged.path()).await.map_err(|e| match e {
         // Name the user's file, not the staged copy.
         BackupError::Refused(why) => BackupError::Refused(why.replace(
@@ -486,6 +524,7 @@ pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
         )),
         other => other,
     })?;
+    progress.step("restoring: bringing the backup up to this program's migrations");
     let pool = db::open(staged.path()).await?;
     pool.close().await;
     let checked = check_file(staged.path()).await?;
@@ -493,7 +532,8 @@ pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
 
     // Keep the database being replaced.
     let (safety_copy, safety_note) = if db.exists() {
-        let (path, note) = safety_copy(db).await?;
+        progress.step("restoring: keeping a copy of the database being replaced");
+        let (path, note) = safety_copy(db, progress).await?;
         (Some(path), note)
     } else {
         (None, None)
@@ -516,11 +556,13 @@ pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
 
     // Open it as the server will (WAL, migrations) to be sure it starts, and work out the
     // derived tables (work-due status, search index) from the restored records.
+    progress.step("restoring: working out the work-due status and the search index");
     let pool = db::open(db).await?;
     let mut tx = db::audit::begin_as(&pool, None, "restore").await?;
     crate::status::rebuild_derived(&mut tx).await?;
     tx.commit().await?;
     pool.close().await;
+    progress.done();
     Ok(Restored {
         checked,
         backup_version: before.version,
@@ -531,7 +573,10 @@ pub async fn restore(db: &Path, src: &Path) -> Result<Restored, BackupError> {
 
 /// Copies the database about to be replaced to `<db>.before-restore-<unix time>`: a checked
 /// snapshot when possible, the raw files (with any write-ahead log) when the database is damaged.
-async fn safety_copy(db: &Path) -> Result<(PathBuf, Option<String>), BackupError> {
+async fn safety_copy(
+    db: &Path,
+    progress: &mut Progress,
+) -> Result<(PathBuf, Option<String>), BackupError> {
     let secs = SystemTime::now()
         .duration_since(UNIX_EPOCH)
         .map_or(0, |d| d.as_secs());
@@ -541,7 +586,7 @@ async fn safety_copy(db: &Path) -> Result<(PathBuf, Option<String>), BackupError
         n += 1;
         dest = with_suffix(db, &format!(".before-restore-{secs}-{n}"));
     }
-    match backup_file(db, &dest).await {
+    match backup_file(db, &dest, progress).await {
         Ok(_) => Ok((dest, None)),
         Err(why) => {
             fs::copy(db, &dest).map_err(io_err(format!(
@@ -566,60 +611,104 @@ async fn safety_copy(db: &Path) -> Result<(PathBuf, Option<String>), BackupError
     }
 }
 
-/// Reads every exported table from a database in one snapshot.
-pub async fn read_export(pool: &SqlitePool) -> Result<Export, BackupError> {
-    let mut tx = pool.begin().await?;
-    let export = export::read(&mut tx).await?;
-    tx.rollback().await?;
-    Ok(export)
-}
-
 /// What `lockpoint export` wrote.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Exported {
     pub version: i64,
     pub tables: usize,
-    pub rows: usize,
+    pub rows: u64,
     /// Every file written, the JSON document first.
     pub files: Vec<PathBuf>,
 }
 
-/// `lockpoint export`: writes `lockpoint-export.json` and one CSV file per table into `dir`
-/// (created when missing). Refuses to overwrite any file.
-pub async fn export_dir(db: &Path, dir: &Path) -> Result<Exported, BackupError> {
-    let pool = open_existing(db).await?;
-    let export = read_export(&pool).await;
-    pool.close().await;
-    let export = export?;
+/// A new file only its owner can read, behind a buffer.
+fn create_private(path: &Path) -> io::Result<io::BufWriter<File>> {
+    let file = private_file().write(true).create_new(true).open(path)?;
+    Ok(io::BufWriter::with_capacity(1 << 16, file))
+}
 
-    let mut files = vec![(dir.join(export::JSON_FILE), export.to_json())];
-    for table in &export.tables {
-        files.push((
-            dir.join(export::csv_file_name(&table.name)),
-            export::to_csv(table),
-        ));
-    }
-    if let Some((taken, _)) = files.iter().find(|(p, _)| p.exists()) {
-        return Err(BackupError::Refused(format!(
-            "{} already exists: an export never overwrites a file, choose a new directory",
-            taken.display()
-        )));
-    }
-    private_dir(dir).map_err(io_err(format!("cannot create {}", dir.display())))?;
-    for (path, text) in &files {
-        let write = || -> io::Result<()> {
-            let mut file = private_file().write(true).create_new(true).open(path)?;
-            io::Write::write_all(&mut file, text.as_bytes())?;
-            file.sync_all()
+/// Flushes a buffered file and the file itself to disk.
+fn finish_file(out: io::BufWriter<File>) -> io::Result<()> {
+    out.into_inner().map_err(|e| e.into_error())?.sync_all()
+}
+
+/// `lockpoint export`: writes `lockpoint-export.json` and one CSV file per table into `dir`
+/// (created when missing), streaming the rows from one snapshot of the database. Refuses to
+/// overwrite any file.
+pub async fn export_dir(
+    db: &Path,
+    dir: &Path,
+    progress: &mut Progress,
+) -> Result<Exported, BackupError> {
+    let pool = open_existing(db).await?;
+    let done = async {
+        let mut tx = pool.begin().await?;
+        let plan = export::plan(&mut tx).await?;
+        let mut files = vec![dir.join(export::JSON_FILE)];
+        files.extend(
+            plan.tables
+                .iter()
+                .map(|t| dir.join(export::csv_file_name(&t.name))),
+        );
+        if let Some(taken) = files.iter().find(|p| p.exists()) {
+            return Err(BackupError::Refused(format!(
+                "{} already exists: an export never overwrites a file, choose a new directory",
+                taken.display()
+            )));
+        }
+        private_dir(dir).map_err(io_err(format!("cannot create {}", dir.display())))?;
+        let written = async {
+            let mut json = JsonWriter::begin(create_private(&files[0])?, plan.version)?;
+            let mut open_csv =
+                |table: &str| create_private(&dir.join(export::csv_file_name(table)));
+            let rows =
+                export::write(&mut tx, &plan, &mut json, Some(&mut open_csv), progress).await?;
+            finish_file(json.finish()?)?;
+            Ok::<_, ExportError>(rows)
+        }
+        .await;
+        let rows = match written {
+            Ok(rows) => rows,
+            Err(ExportError::Io(e)) => {
+                return Err(io_err(format!(
+                    "cannot write the export into {}",
+                    dir.display()
+                ))(e));
+            }
+            Err(other) => return Err(other.into()),
         };
-        write().map_err(io_err(format!("cannot write {}", path.display())))?;
+        tx.rollback().await?;
+        Ok(Exported {
+            version: plan.version,
+            tables: plan.tables.len(),
+            rows,
+            files,
+        })
     }
-    Ok(Exported {
-        version: export.version,
-        tables: export.tables.len(),
-        rows: export.row_count(),
-        files: files.into_iter().map(|(p, _)| p).collect(),
-    })
+    .await;
+    pool.close().await;
+    done
+}
+
+/// Writes the JSON export of the database behind `pool` to `dest` (a new file, readable by its
+/// owner only), streaming the rows from one snapshot. Returns the rows written.
+pub async fn export_json_file(
+    pool: &SqlitePool,
+    dest: &Path,
+    progress: &mut Progress,
+) -> Result<u64, BackupError> {
+    let mut tx = pool.begin().await?;
+    let plan = export::plan(&mut tx).await?;
+    let out = create_private(dest).map_err(io_err(format!("cannot create {}", dest.display())))?;
+    let written = async {
+        let mut json = JsonWriter::begin(out, plan.version)?;
+        let rows = export::write(&mut tx, &plan, &mut json, None, progress).await?;
+        finish_file(json.finish()?)?;
+        Ok::<_, ExportError>(rows)
+    }
+    .await;
+    tx.rollback().await?;
+    Ok(written?)
 }
 
 /// What `lockpoint import` loaded.
@@ -630,11 +719,14 @@ pub struct ImportedFile {
 }
 
 /// `lockpoint import`: loads a JSON export into the database `db` (created and migrated when
-/// missing), which must hold no records yet. All or nothing: one transaction.
-pub async fn import_file(db: &Path, file: &Path) -> Result<ImportedFile, BackupError> {
-    let text =
-        fs::read_to_string(file).map_err(io_err(format!("cannot read {}", file.display())))?;
-    let export = Export::from_json(&text)?;
+/// missing), which must hold no records yet, streaming the rows from the file. All or nothing:
+/// one transaction, which also works out the derived tables (work-due status, search index).
+pub async fn import_file(
+    db: &Path,
+    file: &Path,
+    progress: &mut Progress,
+) -> Result<ImportedFile, BackupError> {
+    File::open(file).map_err(io_err(format!("cannot read {}", file.display())))?;
     let Some(_lock) = DbLock::try_acquire(db)? else {
         return Err(BackupError::Refused(format!(
             "a Lockpoint server or a restore is using {} (it holds {}): stop it, then import",
@@ -643,20 +735,59 @@ pub async fn import_file(db: &Path, file: &Path) -> Result<ImportedFile, BackupE
         )));
     };
     let _commands = DbLock::wait_for_commands(db)?;
+    // A database this import creates is removed again when the import is refused, so a
+    // refusal leaves nothing behind (the document is only read once the database is open).
+    let created = !db.exists();
     let pool = db::open(db).await?;
+    let done = import_into(&pool, &Document::File(file.to_path_buf()), progress).await;
+    pool.close().await;
+    if done.is_err() && created {
+        for suffix in ["", "-wal", "-shm", "-journal"] {
+            let _ = fs::remove_file(with_suffix(db, suffix));
+        }
+    }
+    let imported = done?;
+    Ok(ImportedFile {
+        version: imported.version,
+        imported,
+    })
+}
+
+/// The import's page cache, in KiB (see [`import_into`]).
+const IMPORT_CACHE_KIB: i64 = 32 * 1024;
+
+/// Loads a document into the empty database behind `pool` in one `BEGIN IMMEDIATE`
+/// transaction, then works out the derived tables (work-due status, search index) from the
+/// imported records in the same transaction: the one way an import is done.
+pub async fn import_into(
+    pool: &SqlitePool,
+    doc: &Document,
+    progress: &mut Progress,
+) -> Result<export::Imported, BackupError> {
+    let mut tx = pool.begin_with("BEGIN IMMEDIATE").await?;
+    // A larger page cache for this one transaction: with the usual 2 MiB the pages of the
+    // tables and indexes being filled spill to the write-ahead log and are written there again
+    // and again. Put back before the connection returns to the pool.
+    let usual: i64 = sqlx::query_scalar("PRAGMA cache_size")
+        .fetch_one(&mut *tx)
+        .await?;
+    sqlx::query(AssertSqlSafe(format!(
+        "PRAGMA cache_size = -{IMPORT_CACHE_KIB}"
+    )))
+    .execute(&mut *tx)
+    .await?;
     let done = async {
-        let mut tx = pool.begin_with("BEGIN IMMEDIATE").await?;
-        let imported = export::import(&mut tx, &export).await?;
-        // The work-due status and the search index are derived: worked out from the imported
-        // records in the same transaction.
+        let imported = export::import(&mut tx, doc, progress).await?;
+        progress.step("importing: working out the work-due status and the search index");
         crate::status::rebuild_derived(&mut tx).await?;
-        tx.commit().await?;
         Ok::<_, BackupError>(imported)
     }
     .await;
-    pool.close().await;
-    Ok(ImportedFile {
-        version: export.version,
-        imported: done?,
-    })
+    sqlx::query(AssertSqlSafe(format!("PRAGMA cache_size = {usual}")))
+        .execute(&mut *tx)
+        .await?;
+    let imported = done?;
+    tx.commit().await?;
+    progress.done();
+    Ok(imported)
 }

@@ -6,6 +6,7 @@ use tokio::net::TcpListener;
 
 use crate::config::{Cli, Command, RoleArg, ServeArgs, TokenCommand, UserCommand};
 use crate::db;
+use crate::progress::Progress;
 use crate::records::user::Role;
 use crate::{AppState, app, auth, backup, demo};
 
@@ -79,7 +80,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Backup { file, db } => {
-            let done = backup::backup_file(&db, &file).await?;
+            let done = backup::backup_file(&db, &file, &mut Progress::on_terminal()).await?;
             println!(
                 "backed up {} to {} ({} bytes, {} tables, migration {}); integrity check ok",
                 db.display(),
@@ -91,7 +92,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Restore { file, db } => {
-            let done = backup::restore(&db, &file).await?;
+            let done = backup::restore(&db, &file, &mut Progress::on_terminal()).await?;
             if let Some(note) = &done.safety_note {
                 eprintln!("warning: {note}");
             }
@@ -108,7 +109,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Export { dir, db } => {
-            let done = backup::export_dir(&db, &dir).await?;
+            let done = backup::export_dir(&db, &dir, &mut Progress::on_terminal()).await?;
             println!(
                 "exported {} rows from {} tables (migration {}) to {}: {} and one CSV file per table",
                 done.rows,
@@ -121,7 +122,7 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             Ok(())
         }
         Command::Import { file, db } => {
-            let done = backup::import_file(&db, &file).await?;
+            let done = backup::import_file(&db, &file, &mut Progress::on_terminal()).await?;
             println!(
                 "imported {} rows into {} tables of {} (export at migration {})",
                 done.imported.rows,

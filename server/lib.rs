@@ -20,6 +20,8 @@ pub mod demo;
 pub mod error;
 /// A stored build as engineering inputs (records -> clutch requests).
 pub mod model;
+/// Progress of long command-line work on a terminal (stderr, only when it is a terminal).
+pub mod progress;
 /// Shop records as checked inputs, read from forms or JSON (no IO).
 pub mod records;
 /// The setup sheet: its stored inputs and the figures it shows (no IO).

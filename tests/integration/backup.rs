@@ -13,7 +13,8 @@ use axum::body::Body;
 use axum::http::{Request, StatusCode, header};
 use http_body_util::BodyExt;
 use lockpoint::backup::{self, DbLock};
-use lockpoint::db::export::{self, Export, ExportError};
+use lockpoint::db::export::{self, Document, ExportError};
+use lockpoint::progress::Progress;
 use lockpoint::records::date::Date;
 use lockpoint::{db, demo};
 use sqlx::sqlite::SqliteConnectOptions;
@@ -308,7 +309,9 @@ async fn restore_is_refused_while_the_server_runs_and_brings_the_backup_back_onc
     let pool = db::open(&db_path).await.unwrap();
     add_customer(&pool, "Orla Brennick", "two-door, 7.0 L, 4-speed").await;
     add_customer(&pool, "Tomas Yelverton", "altered, blown big-block").await;
-    backup::backup_file(&db_path, &saved).await.unwrap();
+    backup::backup_file(&db_path, &saved, &mut Progress::none())
+        .await
+        .unwrap();
     add_customer(&pool, "After The Backup", "must go away on restore").await;
     pool.close().await;
 
@@ -394,7 +397,9 @@ async fn restore_refuses_damaged_and_foreign_files_and_leaves_the_database_alone
         .await;
     }
     let good = scratch.path("good.db");
-    backup::backup_pool(&pool, &good).await.unwrap();
+    backup::backup_pool(&pool, &good, &mut Progress::none())
+        .await
+        .unwrap();
     pool.close().await;
     let before = customer_names(&db_path).await;
 
@@ -498,19 +503,53 @@ async fn demo_shop(path: &Path) -> SqlitePool {
     pool
 }
 
+/// The JSON export of the database behind `pool`, as `lockpoint export` writes it.
+async fn export_text(pool: &SqlitePool) -> String {
+    let mut tx = pool.begin().await.unwrap();
+    let plan = export::plan(&mut tx).await.unwrap();
+    let mut json = export::JsonWriter::begin(Vec::new(), plan.version).unwrap();
+    let rows = export::write(&mut tx, &plan, &mut json, None, &mut Progress::none())
+        .await
+        .unwrap();
+    assert_eq!(rows, plan.rows());
+    tx.rollback().await.unwrap();
+    String::from_utf8(json.finish().unwrap()).unwrap()
+}
+
+/// `text` imported into the database behind `pool` in one transaction, committed only when the
+/// import succeeds.
+async fn import_text(pool: &SqlitePool, text: &str) -> Result<export::Imported, ExportError> {
+    let mut tx = pool.begin_with("BEGIN IMMEDIATE").await.unwrap();
+    let done = export::import(
+        &mut tx,
+        &Document::from(text.to_string()),
+        &mut Progress::none(),
+    )
+    .await;
+    match done {
+        Ok(_) => tx.commit().await.unwrap(),
+        Err(_) => tx.rollback().await.unwrap(),
+    }
+    done
+}
+
 #[tokio::test]
 async fn export_then_import_into_a_new_database_exports_the_identical_document() {
     let scratch = Scratch::new();
     let first = demo_shop(&scratch.path("first.db")).await;
-    let document = backup::read_export(&first).await.unwrap().to_json();
+    let document = export_text(&first).await;
 
     let second = db::open(&scratch.path("second.db")).await.unwrap();
-    let parsed = Export::from_json(&document).unwrap();
-    let mut tx = second.begin_with("BEGIN IMMEDIATE").await.unwrap();
-    let imported = export::import(&mut tx, &parsed).await.unwrap();
-    tx.commit().await.unwrap();
-    assert_eq!(imported.rows, parsed.row_count());
-    let again = backup::read_export(&second).await.unwrap().to_json();
+    let imported = import_text(&second, &document).await.unwrap();
+    let parsed: serde_json::Value = serde_json::from_str(&document).unwrap();
+    let rows: usize = parsed["tables"]
+        .as_object()
+        .unwrap()
+        .values()
+        .map(|rows| rows.as_array().unwrap().len())
+        .sum();
+    assert_eq!(imported.rows, rows);
+    let again = export_text(&second).await;
     assert!(
         document == again,
         "the second export differs from the first"
@@ -662,14 +701,12 @@ async fn the_export_and_import_commands_round_trip_every_file() {
 async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document() {
     let scratch = Scratch::new();
     let demo_pool = demo_shop(&scratch.path("demo.db")).await;
-    let document = backup::read_export(&demo_pool).await.unwrap();
+    let document = export_text(&demo_pool).await;
     demo_pool.close().await;
 
     // TestApp's database has two staff accounts and nothing else.
     let app = TestApp::new().await;
-    let mut tx = app.pool.begin_with("BEGIN IMMEDIATE").await.unwrap();
-    let refused = export::import(&mut tx, &document).await;
-    tx.rollback().await.unwrap();
+    let refused = import_text(&app.pool, &document).await;
     match refused {
         Err(ExportError::Refused(why)) => {
             assert!(
@@ -684,11 +721,9 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
 
     // A document from a newer program, and things that are not exports at all.
     let empty = db::open(&scratch.path("empty.db")).await.unwrap();
-    let mut newer = document.clone();
-    newer.version = export::latest_known_version() + 1;
-    let mut tx = empty.begin_with("BEGIN IMMEDIATE").await.unwrap();
-    let refused = export::import(&mut tx, &newer).await;
-    tx.rollback().await.unwrap();
+    let mut newer: serde_json::Value = serde_json::from_str(&document).unwrap();
+    newer["version"] = (export::latest_known_version() + 1).into();
+    let refused = import_text(&empty, &newer.to_string()).await;
     assert!(
         matches!(&refused, Err(ExportError::Refused(why)) if why.contains("newer Lockpoint")),
         "{refused:?}"
@@ -699,9 +734,10 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
         r#"{"format": "something-else", "version": 1, "tables": {}}"#,
         r#"{"format": "lockpoint-export", "version": 1, "tables": {"customers": [{"id": true}]}}"#,
     ] {
+        let refused = import_text(&empty, text).await;
         assert!(
-            matches!(Export::from_json(text), Err(ExportError::Format(_))),
-            "{text} was accepted"
+            matches!(refused, Err(ExportError::Format(_))),
+            "{text}: {refused:?}"
         );
     }
     let count: i64 = sqlx::query_scalar("SELECT COUNT(*) FROM customers")
@@ -715,17 +751,27 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
 /// The demo shop's export as a JSON value, for a test to alter.
 async fn demo_document(scratch: &Scratch) -> serde_json::Value {
     let pool = demo_shop(&scratch.path("demo.db")).await;
-    let document = backup::read_export(&pool).await.unwrap().to_json();
+    let document = export_text(&pool).await;
     pool.close().await;
     serde_json::from_str(&document).unwrap()
 }
 
-/// Runs `lockpoint import` of `document` into a new database, insists that it is refused and
-/// that the database holds no records afterwards (nothing partial), and returns the message.
+/// Runs `lockpoint import` of `document` into a new, empty database, insists that it is
+/// refused and that the database holds no records afterwards (nothing partial), and returns the
+/// message. Into a path with no database yet, the same refusal leaves no file behind.
 async fn import_refused(scratch: &Scratch, case: &str, document: &serde_json::Value) -> String {
     let json = scratch.path(&format!("{case}.json"));
     std::fs::write(&json, serde_json::to_string_pretty(document).unwrap()).unwrap();
+    let fresh = scratch.path(&format!("{case}-fresh.db"));
+    let out = lockpoint(&["import", text(&json), "--db", text(&fresh)]);
+    assert!(
+        !out.status.success(),
+        "{case} was imported: {}",
+        stdout(&out)
+    );
+    assert!(!fresh.exists(), "{case} left a new database behind");
     let db_path = scratch.path(&format!("{case}.db"));
+    db::open(&db_path).await.unwrap().close().await;
     let out = lockpoint(&["import", text(&json), "--db", text(&db_path)]);
     assert!(
         !out.status.success(),
@@ -1492,4 +1538,73 @@ async fn a_server_started_through_a_symlink_still_blocks_restore_and_import() {
 
     let out = lockpoint(&["restore", text(&saved), "--db", text(&real)]);
     assert!(out.status.success(), "{}", stderr(&out));
+}
+
+/// `lockpoint ARGS` run on a pseudo-terminal (util-linux `script`), with everything it wrote
+/// to the terminal.
+fn lockpoint_on_a_terminal(args: &[&str]) -> (bool, String) {
+    let command = std::iter::once(env!("CARGO_BIN_EXE_lockpoint"))
+        .chain(args.iter().copied())
+        .map(|a| format!("'{}'", a.replace('\'', "'\\''")))
+        .collect::<Vec<_>>()
+        .join(" ");
+    let out = Command::new("script")
+        .args(["-qec", &command, "/dev/null"])
+        .stdin(Stdio::null())
+        .output()
+        .expect("util-linux `script` runs (it gives the command a terminal)");
+    (out.status.success(), stdout(&out))
+}
+
+#[tokio::test]
+async fn long_commands_show_progress_on_a_terminal_and_nothing_extra_otherwise() {
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    demo_shop(&shop).await.close().await;
+
+    // Not a terminal: the output is only the commands' own lines.
+    let out = lockpoint(&["export", text(&scratch.path("plain")), "--db", text(&shop)]);
+    assert!(out.status.success());
+    assert_eq!(stderr(&out), "");
+    let json = scratch.path("plain").join(export::JSON_FILE);
+    let out = lockpoint(&["import", text(&json), "--db", text(&scratch.path("a.db"))]);
+    assert!(out.status.success());
+    assert_eq!(stderr(&out), "");
+    assert!(!stdout(&out).contains('\r'), "{}", stdout(&out));
+
+    // A terminal: a line per table, rewritten in place, cleared before the last line.
+    let (ok, shown) =
+        lockpoint_on_a_terminal(&["export", text(&scratch.path("tty")), "--db", text(&shop)]);
+    assert!(ok, "{shown}");
+    assert!(shown.contains("\rexporting customers: "), "{shown:?}");
+    assert!(shown.contains(" rows"), "{shown:?}");
+    assert!(shown.contains("exported "), "{shown:?}");
+    let (ok, shown) =
+        lockpoint_on_a_terminal(&["import", text(&json), "--db", text(&scratch.path("b.db"))]);
+    assert!(ok, "{shown}");
+    assert!(shown.contains("\rimporting customers: "), "{shown:?}");
+    assert!(shown.contains("\rchecking customers: "), "{shown:?}");
+    let backup = scratch.path("copy.db");
+    let (ok, shown) = lockpoint_on_a_terminal(&["backup", text(&backup), "--db", text(&shop)]);
+    assert!(ok, "{shown}");
+    assert!(
+        shown.contains("\rbacking up: checking the copy"),
+        "{shown:?}"
+    );
+    let (ok, shown) = lockpoint_on_a_terminal(&[
+        "restore",
+        text(&backup),
+        "--db",
+        text(&scratch.path("a.db")),
+    ]);
+    assert!(ok, "{shown}");
+    assert!(
+        shown.contains("\rrestoring: checking the backup"),
+        "{shown:?}"
+    );
+    // The imported and restored shops are the exported one.
+    assert_eq!(
+        customer_names(&scratch.path("b.db")).await,
+        customer_names(&shop).await
+    );
 }

@@ -3,11 +3,15 @@
 //! real routes (API, forms).
 
 use axum::http::StatusCode;
+use lockpoint::backup;
+use lockpoint::db::export::Document;
+use lockpoint::progress::Progress;
 use lockpoint::{db, model, status};
 use proptest::prelude::*;
 use serde_json::json;
+use sqlx::SqlitePool;
 
-use crate::support::{Client, TestApp};
+use crate::support::{Client, TempDb, TestApp};
 
 /// One write, as a shop would make it.
 #[derive(Debug, Clone)]
@@ -268,7 +272,12 @@ async fn apply(app: &TestApp, admin: &Client<'_>, shop: &mut Shop, op: &Op) {
 
 /// (kept, worked out from the full history, stale rows left) as comparable text.
 async fn both(app: &TestApp) -> (String, String, i64) {
-    let mut conn = app.pool.acquire().await.unwrap();
+    both_in(&app.pool).await
+}
+
+/// [`both`] on any database.
+async fn both_in(pool: &SqlitePool) -> (String, String, i64) {
+    let mut conn = pool.acquire().await.unwrap();
     let settings = db::settings::get(&mut conn).await.unwrap();
     let kept = status::work_due(&mut conn, &settings).await.unwrap();
     let full = model::work_due(
@@ -307,6 +316,51 @@ proptest! {
     }
 }
 
+/// The shop's export (streamed to a file) imported into a new database, the way `lockpoint
+/// import` does it (`backup::import_into`: rows, then the derived tables worked out).
+async fn exported_and_imported(app: &TestApp) -> (SqlitePool, TempDb) {
+    let (json, fresh) = (TempDb::new(), TempDb::new());
+    backup::export_json_file(&app.pool, &json.path, &mut Progress::none())
+        .await
+        .unwrap();
+    let pool = db::open(&fresh.path).await.unwrap();
+    backup::import_into(
+        &pool,
+        &Document::File(json.path.clone()),
+        &mut Progress::none(),
+    )
+    .await
+    .unwrap();
+    (pool, fresh)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 8, ..ProptestConfig::default() })]
+
+    #[test]
+    fn after_an_import_the_due_list_equals_the_one_worked_out_from_the_full_history(
+        shapes in prop::collection::vec(build_shape(), 3),
+        ops in prop::collection::vec(op(), 1..30),
+    ) {
+        let rt = tokio::runtime::Builder::new_current_thread().enable_all().build().unwrap();
+        rt.block_on(async {
+            let app = TestApp::new().await;
+            let admin = app.login("boss").await;
+            let mut shop = shop(&app, &shapes).await;
+            for op in &ops {
+                apply(&app, &admin, &mut shop, op).await;
+            }
+            let (before, _, _) = both(&app).await;
+            let (imported, _files) = exported_and_imported(&app).await;
+            let (kept, full, stale) = both_in(&imported).await;
+            imported.close().await;
+            assert_eq!(stale, 0, "the import left a stale status");
+            assert_eq!(kept, full, "kept against full history after the import");
+            assert_eq!(kept, before, "the imported shop lists what the original listed");
+        });
+    }
+}
+
 #[tokio::test]
 async fn random_histories_do_reach_the_due_list() {
     // The property above is only worth something if its histories put builds on the list:
@@ -338,6 +392,13 @@ async fn random_histories_do_reach_the_due_list() {
     assert_eq!(kept, full);
     let front = admin.get("/").await.body;
     assert!(front.contains("Pull the"), "counter shows the shim due");
+    // The import test above is only worth something if an imported shop can list work: this
+    // one must list the same shim due.
+    let (imported, _files) = exported_and_imported(&app).await;
+    let (after, full, stale) = both_in(&imported).await;
+    imported.close().await;
+    assert!(after.contains("ShimDue"), "{after}");
+    assert_eq!((after, stale), (full, 0));
     apply(
         &app,
         &admin,

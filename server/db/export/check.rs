@@ -1,33 +1,27 @@
-//! What an import admits, checked before anything is written: every cell has the stored type
-//! its column declares, and every row of a record table passes its record's checks (the same
-//! declarations, limits and rules as the forms and the record API), so a value that would break
-//! a page later (`builds.facing_od_mm = "abc"`, a facing wider than any clutch) is refused with
-//! the table, row and column it is in.
+//! What an import admits, checked row by row as the document is read: every cell has the
+//! stored type its column declares, and every row of a record table passes its record's checks
+//! (the same declarations, limits and rules as the forms and the record API), so a value that
+//! would break a page later (`builds.facing_od_mm = "abc"`, a facing wider than any clutch) is
+//! refused with the table, row and column it is in.
 
-use super::{Cell, Export, ExportError, Table};
+use super::{Cell, ExportError};
 use crate::clutch::units::Units;
 use crate::records::FieldErrors;
 use crate::records::date::{Date, ShopZone};
 use crate::records::field::{self, Ctx, Field, Record, RecordVisitor, Value, for_table};
 
 /// Where a row is, for messages: `table "builds", row 3 (id 7)`. Rows count from 1 in the
-/// document's order.
-pub(super) fn place(table: &Table, row: usize) -> String {
-    let id = table
-        .columns
+/// document's order; `n` counts from 0.
+pub(super) fn place(table: &str, columns: &[String], n: usize, row: &[Cell]) -> String {
+    let id = columns
         .iter()
         .position(|c| c == "id")
-        .and_then(|i| match table.rows[row].get(i) {
+        .and_then(|i| match row.get(i) {
             Some(Cell::Integer(id)) => Some(format!(" (id {id})")),
             _ => None,
         })
         .unwrap_or_default();
-    format!("table {:?}, row {}{id}", table.name, row + 1)
-}
-
-/// A refusal naming the cell: `table "builds", row 3 (id 7), column "facing_od_mm": ...`.
-fn refused(table: &Table, row: usize, column: &str, why: impl std::fmt::Display) -> ExportError {
-    ExportError::Refused(format!("{}, column {column:?}: {why}", place(table, row)))
+    format!("table {table:?}, row {}{id}", n + 1)
 }
 
 /// A cell in words, for messages.
@@ -85,56 +79,86 @@ impl Stored {
     }
 }
 
-/// Refuses a cell whose stored type is not its column's: text in a number column would be kept
-/// as text by SQLite and fail when a page reads it. `declared` gives each column's declared
-/// type in the target database.
-pub(super) fn stored_types(
-    table: &Table,
-    declared: &[(String, String)],
-) -> Result<(), ExportError> {
-    let wanted: Vec<Option<Stored>> = table
-        .columns
-        .iter()
-        .map(|c| {
-            declared
-                .iter()
-                .find(|(name, _)| name == c)
-                .and_then(|(_, t)| Stored::of(t))
-        })
-        .collect();
-    for (n, row) in table.rows.iter().enumerate() {
-        for ((column, cell), want) in table.columns.iter().zip(row).zip(&wanted) {
+/// A record's per-row check: the first (column, message) it finds.
+type RecordCheck = Box<dyn Fn(&[Cell], &Ctx) -> Option<(String, String)> + Send + Sync>;
+
+/// Everything one table's rows are checked against, prepared once per table.
+pub(super) struct RowChecks {
+    /// The stored type each column of the document's table asks for (`None`: anything).
+    types: Vec<Option<Stored>>,
+    /// The record's checks, for a table that stores a declared record.
+    record: Option<RecordCheck>,
+}
+
+impl RowChecks {
+    /// For a table whose document columns are `columns`, `declared` giving each column's
+    /// declared type in the target database.
+    pub(super) fn new(table: &str, columns: &[String], declared: &[(String, String)]) -> Self {
+        let types = columns
+            .iter()
+            .map(|c| {
+                declared
+                    .iter()
+                    .find(|(name, _)| name == c)
+                    .and_then(|(_, t)| Stored::of(t))
+            })
+            .collect();
+        struct Build<'a>(&'a [String]);
+        impl RecordVisitor for Build<'_> {
+            type Out = RecordCheck;
+            fn visit<R: Record>(self) -> Self::Out {
+                record_check::<R>(self.0, R::WHOLE_ROW)
+            }
+        }
+        Self {
+            types,
+            record: for_table(table, Build(columns)),
+        }
+    }
+
+    /// Refuses a cell whose stored type is not its column's (text in a number column would be
+    /// kept as text by SQLite and fail when a page reads it), then a row its record refuses.
+    pub(super) fn check(
+        &self,
+        table: &str,
+        columns: &[String],
+        n: usize,
+        row: &[Cell],
+        ctx: &Ctx,
+    ) -> Result<(), ExportError> {
+        let refused = |column: &str, why: String| {
+            ExportError::Refused(format!(
+                "{}, column {column:?}: {why}",
+                place(table, columns, n, row)
+            ))
+        };
+        for ((column, cell), want) in columns.iter().zip(row).zip(&self.types) {
             if let Some(want) = want
                 && !want.admits(cell)
             {
                 return Err(refused(
-                    table,
-                    n,
                     column,
                     format!("expected {}, found {}", want.words(), found(cell)),
                 ));
             }
         }
+        if let Some(record) = &self.record
+            && let Some((column, why)) = record(row, ctx)
+        {
+            return Err(refused(&column, why));
+        }
+        Ok(())
     }
-    Ok(())
 }
 
 /// What the record checks of imported rows run with: storage units (the stored values are
 /// metric, as in the record API) and a today late enough for history: the later of the
-/// server's today and the imported shop's today in its own time zone.
-pub(super) fn import_ctx(export: &Export) -> Ctx {
+/// server's today and the imported shop's today in its own time zone (`zone`, the document's
+/// `shop_settings.time_zone`).
+pub(super) fn import_ctx(zone: Option<&str>) -> Ctx {
     let server = Date::today(&ShopZone::server());
-    let shop = export
-        .tables
-        .iter()
-        .find(|t| t.name == "shop_settings")
-        .and_then(|t| {
-            let i = t.columns.iter().position(|c| c == "time_zone")?;
-            match t.rows.first()?.get(i)? {
-                Cell::Text(zone) => ShopZone::parse(zone).ok(),
-                _ => None,
-            }
-        })
+    let shop = zone
+        .and_then(|zone| ShopZone::parse(zone).ok())
         .map(|zone| Date::today(&zone));
     Ctx {
         units: Units::Metric,
@@ -142,50 +166,32 @@ pub(super) fn import_ctx(export: &Export) -> Ctx {
     }
 }
 
-/// Runs every row of every record table through its record's checks. A bench test's row holds
-/// only the test's date and note (its springs are rows of `bench_springs`, checked on their
-/// own), so it gets the field checks without the rules about the whole test.
-pub(super) fn records(export: &Export, ctx: &Ctx) -> Result<(), ExportError> {
-    struct Rows<'a> {
-        table: &'a Table,
-        ctx: &'a Ctx,
-    }
-    impl RecordVisitor for Rows<'_> {
-        type Out = Result<(), ExportError>;
-        fn visit<R: Record>(self) -> Self::Out {
-            rows::<R>(self.table, self.ctx, R::WHOLE_ROW)
-        }
-    }
-    for table in &export.tables {
-        if let Some(result) = for_table(&table.name, Rows { table, ctx }) {
-            result?;
-        }
-    }
-    Ok(())
-}
-
-/// Each row of `table` as record `R` (its declared columns; a column the document lacks keeps
-/// the record's default), checked field by field and, when `whole`, by the record's own rules.
-fn rows<R: Record>(table: &Table, ctx: &Ctx, whole: bool) -> Result<(), ExportError> {
-    let at: Vec<(&Field<R>, usize)> = R::FIELDS
+/// A row of the document's table as record `R` (its declared columns; a column the document
+/// lacks keeps the record's default), checked field by field and, when `whole`, by the record's
+/// own rules. A bench test's row holds only the test's date and note (its springs are rows of
+/// `bench_springs`, checked on their own), so it gets the field checks without the rules about
+/// the whole test.
+fn record_check<R: Record>(columns: &[String], whole: bool) -> RecordCheck {
+    let at: Vec<(&'static Field<R>, usize)> = R::FIELDS
         .iter()
-        .filter_map(|f| Some((f, table.columns.iter().position(|c| c == f.column)?)))
+        .filter_map(|f| Some((f, columns.iter().position(|c| c == f.column)?)))
         .collect();
-    for (n, row) in table.rows.iter().enumerate() {
+    Box::new(move |row: &[Cell], ctx: &Ctx| {
         let mut r = R::default();
         for (f, i) in &at {
-            set_stored(&mut r, f, &row[*i]).map_err(|why| refused(table, n, f.column, why))?;
+            if let Err(why) = set_stored(&mut r, f, &row[*i]) {
+                return Some((f.column.to_string(), why));
+            }
         }
         let mut errors = FieldErrors::default();
         field::check_fields(&mut r, ctx, &mut errors);
         if whole {
             r.check_more(ctx, &mut errors);
         }
-        if let Some((path, message)) = errors.first() {
-            return Err(refused(table, n, &path, message));
-        }
-    }
-    Ok(())
+        errors
+            .first()
+            .map(|(path, message)| (path, message.to_string()))
+    })
 }
 
 /// Sets field `f` of `r` from its stored cell, the way `db::record` stores it: text as text,
