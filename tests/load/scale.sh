@@ -59,7 +59,12 @@ run() {
   out=$(wrk -t2 -c"$CONNS" -d"${SECS}s" --latency "$@")
   rps=$(awk '/^Requests\/sec/ {print $2}' <<<"$out")
   p99=$(awk '$1 == "99%" {print $2}' <<<"$out")
-  errs=$(awk '/Non-2xx or 3xx/ {n += $NF} /Socket errors/ {gsub(/[^0-9 ]/, " "); for (i = 1; i <= NF; i++) n += $i} END {print n + 0}' <<<"$out")
+  # Errors: answers other than 2xx/3xx, and socket errors (connect, read, write, timeout: no
+  # answer within wrk's 2 s), each kind named when there are any.
+  errs=$(awk '/Non-2xx or 3xx/ {printf "%s", (n++ ? ", " : "") $NF " non-2xx"}
+    /Socket errors/ {split("connect read write timeout", kind, " ");
+      gsub(/[^0-9 ]/, " "); for (i = 1; i <= NF; i++) if ($i > 0) printf "%s", (n++ ? ", " : "") $i " " kind[i]}
+    END {if (!n) print 0; else print ""}' <<<"$out")
   [ -n "$HEALTHZ" ] || HEALTHZ=$rps
   ratio=$(awk -v a="$rps" -v b="$HEALTHZ" 'BEGIN {printf "%.1f %%", 100 * a / b}')
   printf '| %-40s | %10s | %9s | %6s | %9s |\n' "$name" "$rps" "$p99" "$errs" "$ratio"
