@@ -77,28 +77,95 @@ pub struct Series {
 /// logged samples, holding the first and last logged values at the ends. `None` when the
 /// channel has no value at all.
 pub fn fill_blanks(time: &[f64], values: &mut [f64]) -> Option<()> {
-    let known: Vec<usize> = (0..values.len())
-        .filter(|&i| values[i].is_finite())
-        .collect();
-    let (&first, &last) = (known.first()?, known.last()?);
+    let first = values.iter().position(|v| v.is_finite())?;
+    let last = values.iter().rposition(|v| v.is_finite())?;
     let head = values[first];
     values[..first].fill(head);
     let tail = values[last];
     values[last + 1..].fill(tail);
-    for pair in known.windows(2) {
-        let (a, b) = (pair[0], pair[1]);
-        let (ta, tb, va, vb) = (time[a], time[b], values[a], values[b]);
-        for i in a + 1..b {
-            values[i] = va + (vb - va) * (time[i] - ta) / (tb - ta);
+    // Each run of blanks between two logged samples a and b.
+    let mut a = first;
+    for b in first + 1..=last {
+        if !values[b].is_finite() {
+            continue;
         }
+        if b > a + 1 {
+            let (ta, tb, va, vb) = (time[a], time[b], values[a], values[b]);
+            for i in a + 1..b {
+                values[i] = va + (vb - va) * (time[i] - ta) / (tb - ta);
+            }
+        }
+        a = b;
     }
     Some(())
 }
 
 /// Median of the steps of a strictly increasing clock (0 for fewer than 2 samples).
 pub fn median_step(time: &[f64]) -> f64 {
+    if let Some(m) = few_valued_median_step(time) {
+        return m;
+    }
     let mut steps: Vec<f64> = time.windows(2).map(|w| w[1] - w[0]).collect();
     median(&mut steps).unwrap_or(0.0)
+}
+
+/// Most distinct step values [`few_valued_median_step`] keeps count of.
+const FEW_STEPS: usize = 64;
+
+/// [`median_step`] for a clock whose steps take at most [`FEW_STEPS`] distinct values (a
+/// logger's fixed rate, written with a few decimals: its steps differ only in their last
+/// bits), counted without storing them: the same median [`median`] finds, as the median of a
+/// list is a property of its values, not of how they are ordered. `None` for more values.
+fn few_valued_median_step(time: &[f64]) -> Option<f64> {
+    let mut seen = [(0f64, 0usize); FEW_STEPS];
+    let mut kinds = 0;
+    let mut last = 0;
+    for w in time.windows(2) {
+        let step = w[1] - w[0];
+        if step.is_nan() {
+            return None;
+        }
+        if last < kinds && seen[last].0.to_bits() == step.to_bits() {
+            seen[last].1 += 1;
+            continue;
+        }
+        match seen[..kinds]
+            .iter()
+            .position(|s| s.0.to_bits() == step.to_bits())
+        {
+            Some(k) => last = k,
+            None if kinds < FEW_STEPS => {
+                seen[kinds] = (step, 0);
+                last = kinds;
+                kinds += 1;
+            }
+            None => return None,
+        }
+        seen[last].1 += 1;
+    }
+    let n = time.len().saturating_sub(1);
+    if n == 0 {
+        return None;
+    }
+    let seen = &mut seen[..kinds];
+    seen.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
+    // The values at sorted places `mid` and, for an even count, `mid − 1`.
+    let at = |place: usize| {
+        let mut before = 0;
+        seen.iter()
+            .find(|s| {
+                before += s.1;
+                place < before
+            })
+            .map(|s| s.0)
+    };
+    let mid = n / 2;
+    let m = at(mid)?;
+    Some(if n % 2 == 1 {
+        m
+    } else {
+        (at(mid - 1)? + m) / 2.0
+    })
 }
 
 /// The median of `values` (reordered); `None` when empty.
