@@ -77,6 +77,10 @@ pub struct Series {
 /// logged samples, holding the first and last logged values at the ends. `None` when the
 /// channel has no value at all.
 pub fn fill_blanks(time: &[f64], values: &mut [f64]) -> Option<()> {
+    // Most channels have no blank: said by one pass the compiler can run several lanes wide.
+    if !values.is_empty() && values.iter().fold(true, |all, v| all & v.is_finite()) {
+        return Some(());
+    }
     let first = values.iter().position(|v| v.is_finite())?;
     let last = values.iter().rposition(|v| v.is_finite())?;
     let head = values[first];
@@ -113,43 +117,52 @@ pub fn median_step(time: &[f64]) -> f64 {
 const FEW_STEPS: usize = 64;
 
 /// [`median_step`] for a clock whose steps take at most [`FEW_STEPS`] distinct values (a
-/// logger's fixed rate, written with a few decimals: its steps differ only in their last
-/// bits), counted without storing them: the same median [`median`] finds, as the median of a
-/// list is a property of its values, not of how they are ordered. `None` for more values.
+/// logger's fixed rate written with a few decimals: its steps differ only in their last bits),
+/// counted in a small table by value without storing them: the same median [`median`] finds,
+/// as the median of a list is a property of its values, not of their order. `None` for more
+/// values (or a NaN step).
 fn few_valued_median_step(time: &[f64]) -> Option<f64> {
-    let mut seen = [(0f64, 0usize); FEW_STEPS];
+    // Open addressing on the step's bits; the table at most half full. NaN bits never occur
+    // as a step here, so all ones marks a free slot.
+    const SLOTS: usize = 2 * FEW_STEPS;
+    const FREE: u64 = u64::MAX;
+    let mut table = [(FREE, 0usize); SLOTS];
     let mut kinds = 0;
-    let mut last = 0;
     for w in time.windows(2) {
         let step = w[1] - w[0];
         if step.is_nan() {
             return None;
         }
-        if last < kinds && seen[last].0.to_bits() == step.to_bits() {
-            seen[last].1 += 1;
-            continue;
-        }
-        match seen[..kinds]
-            .iter()
-            .position(|s| s.0.to_bits() == step.to_bits())
-        {
-            Some(k) => last = k,
-            None if kinds < FEW_STEPS => {
-                seen[kinds] = (step, 0);
-                last = kinds;
-                kinds += 1;
+        let bits = step.to_bits();
+        let mut slot = (bits.wrapping_mul(0x9E37_79B9_7F4A_7C15) >> 57) as usize;
+        loop {
+            let entry = &mut table[slot];
+            if entry.0 == bits {
+                entry.1 += 1;
+                break;
             }
-            None => return None,
+            if entry.0 == FREE {
+                if kinds == FEW_STEPS {
+                    return None;
+                }
+                *entry = (bits, 1);
+                kinds += 1;
+                break;
+            }
+            slot = (slot + 1) % SLOTS;
         }
-        seen[last].1 += 1;
     }
     let n = time.len().saturating_sub(1);
     if n == 0 {
         return None;
     }
-    let seen = &mut seen[..kinds];
+    let mut seen: Vec<(f64, usize)> = table
+        .iter()
+        .filter(|e| e.0 != FREE)
+        .map(|&(bits, count)| (f64::from_bits(bits), count))
+        .collect();
     seen.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
-    // The values at sorted places `mid` and, for an even count, `mid − 1`.
+    // The value at a place of the sorted steps.
     let at = |place: usize| {
         let mut before = 0;
         seen.iter()
@@ -468,22 +481,19 @@ pub fn tire_spin(time: &[f64], driven: &[f64], undriven: &[f64]) -> Vec<[f64; 2]
 /// speeds outside the torque curve take its end values (counted in the second result).
 pub fn clutch_torque(series: &Series, dt: f64, engine: &EngineModel) -> (Vec<f64>, usize) {
     let window = derivative_window(dt);
-    let omega: Vec<f64> = series.engine_rpm.iter().map(|&n| rpm_to_rad_s(n)).collect();
-    let domega = savgol::filter(&omega, window, 2, 1, dt).unwrap_or_else(|| vec![0.0; omega.len()]);
+    // The filter is linear: the derivative of the speed in rev/min, turned into rad/s² per
+    // sample, is dω/dt; it is turned into the torque where it lies.
+    let mut torque = savgol::filter(&series.engine_rpm, window, 2, 1, dt)
+        .unwrap_or_else(|| vec![0.0; series.engine_rpm.len()]);
     let (lo, hi) = engine.curve.range();
     let mut outside = 0;
-    let torque = series
-        .engine_rpm
-        .iter()
-        .zip(&domega)
-        .map(|(&n, &a)| {
-            if !(lo..=hi).contains(&n) {
-                outside += 1;
-            }
-            let te = engine.curve.torque_at(n.clamp(lo, hi)).unwrap_or(0.0);
-            te - engine.inertia_kgm2 * a
-        })
-        .collect();
+    for (&n, t) in series.engine_rpm.iter().zip(&mut torque) {
+        if !(lo..=hi).contains(&n) {
+            outside += 1;
+        }
+        let te = engine.curve.torque_at(n.clamp(lo, hi)).unwrap_or(0.0);
+        *t = te - engine.inertia_kgm2 * rpm_to_rad_s(*t);
+    }
     (torque, outside)
 }
 

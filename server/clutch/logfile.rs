@@ -498,15 +498,7 @@ fn plain_row(rest: &[u8], delim: u8, point: u8, wanted: &[bool], row: &mut [f64]
             row[cell] = v;
             p = end;
         } else {
-            while let Some(&b) = rest.get(p) {
-                if b == delim || b == b'\n' || b == b'\r' {
-                    break;
-                }
-                if b == b'"' {
-                    return None;
-                }
-                p += 1;
-            }
+            p = cell_end(rest, p, delim)?;
         }
         cell += 1;
         if rest.get(p) != Some(&delim) {
@@ -523,11 +515,40 @@ fn plain_row(rest: &[u8], delim: u8, point: u8, wanted: &[bool], row: &mut [f64]
     Some(p)
 }
 
+/// Where the unquoted cell from `rest[p]` ends (its delimiter, a line break or the end of the
+/// text), eight bytes looked at at once; `None` at a quote.
+#[inline(always)]
+fn cell_end(rest: &[u8], mut p: usize, delim: u8) -> Option<usize> {
+    const ONES: u64 = 0x0101_0101_0101_0101;
+    // High bit of each byte of `w` equal to `b`; exact up to the first such byte (above it a
+    // borrow may mark others, which are never looked at).
+    let marks = |w: u64, b: u8| {
+        let x = w ^ (u64::from(b) * ONES);
+        x.wrapping_sub(ONES) & !x & (0x80 * ONES)
+    };
+    while p + 8 <= rest.len() {
+        let w = word(rest, p);
+        let m = marks(w, delim) | marks(w, b'\n') | marks(w, b'\r') | marks(w, b'"');
+        if m != 0 {
+            p += (m.trailing_zeros() / 8) as usize;
+            return (rest[p] != b'"').then_some(p);
+        }
+        p += 8;
+    }
+    while let Some(&b) = rest.get(p) {
+        if b == delim || b == b'\n' || b == b'\r' {
+            break;
+        }
+        if b == b'"' {
+            return None;
+        }
+        p += 1;
+    }
+    Some(p)
+}
+
 /// 2^52: the doubles from it to 2^53 are the integers, one apart.
 const TWO_52: f64 = 4_503_599_627_370_496.0;
-
-/// `10^k` as an integer, k = 0..=7.
-const POW10_INT: [u64; 8] = [1, 10, 100, 1_000, 10_000, 100_000, 1_000_000, 10_000_000];
 
 /// The 8 bytes at `rest[p..]` as one word, the first byte lowest.
 #[inline(always)]
@@ -537,30 +558,19 @@ fn word(rest: &[u8], p: usize) -> u64 {
     u64::from_le_bytes(b)
 }
 
-/// The decimal digits an 8-byte word (first byte lowest) starts with: how many (0 to 8) and
-/// their value, the eight bytes tested and converted at once ("SIMD within a register"; the
-/// conversion is D. Lemire's, "Quickly parsing eight digits", 2018).
+/// The value of the decimal digits held, one per byte, in the low `count` bytes of `t` (each
+/// 0..=9, the first digit in the lowest byte; 1 ≤ `count` ≤ 8), all at once ("SIMD within a
+/// register"; D. Lemire, "Quickly parsing eight digits", 2018).
 #[inline(always)]
-fn leading_digits(w: u64) -> (usize, u64) {
-    const ONES: u64 = 0x0101_0101_0101_0101;
-    // '0'..'9' become 0..9, every other byte something else.
-    let t = w ^ (0x30 * ONES);
-    // The high bit of a byte is set when it is not 0..9: it is above 127, or its low 7 bits
-    // plus 118 reach bit 7 (≥ 10); the sum stays within the byte (127 + 118 < 256).
-    let not_digit = (t | ((t & (0x7F * ONES)) + 0x76 * ONES)) & (0x80 * ONES);
-    let n = (not_digit.trailing_zeros() / 8) as usize;
-    if n == 0 {
-        return (0, 0);
-    }
-    // The n digits moved to the top of the word, zeros (leading zero digits) below them.
-    let mut v = t << (8 * (8 - n));
+fn digits_value(t: u64, count: usize) -> u64 {
+    // The digits moved to the top of the word, zeros (leading zero digits) below them.
+    let mut v = t << (8 * (8 - count));
     v = v.wrapping_mul(10).wrapping_add(v >> 8);
     let mask = 0x0000_00FF_0000_00FF;
-    v = ((v & mask)
+    ((v & mask)
         .wrapping_mul(100 + (1_000_000 << 32))
         .wrapping_add(((v >> 16) & mask).wrapping_mul(1 + (10_000 << 32))))
-        >> 32;
-    (n, v)
+        >> 32
 }
 
 /// The cell starting at `rest[p]` as a number and where it ends (at its delimiter, line break
@@ -591,20 +601,37 @@ fn plain_cell(rest: &[u8], mut p: usize, delim: u8, point: u8) -> Option<(f64, u
         let v = whole / POW10[decimals];
         if negative { -v } else { v }
     };
-    // Whole part and fraction of up to 7 digits each, eight bytes at a time: the same integer
-    // of all the digits and count of decimals as the byte-wise loop below.
-    if p + 17 <= rest.len() {
-        let (whole, m) = leading_digits(word(rest, p));
+    // A cell of up to 7 characters after its sign, and the byte that ends it, in one 8-byte
+    // word (first byte lowest): the same integer of all the digits and count of decimals as
+    // the byte-wise loop below.
+    if p + 8 <= rest.len() {
+        const ONES: u64 = 0x0101_0101_0101_0101;
+        let low_bytes = |n: usize| (1u64 << (8 * n)) - 1;
+        let w = word(rest, p);
+        // '0'..'9' become 0..9, every other byte something else.
+        let t = w ^ (0x30 * ONES);
+        // The high bit of a byte set when it is not 0..9: above 127, or its low 7 bits plus
+        // 118 reach bit 7 (≥ 10); the sum stays within the byte (127 + 118 < 256).
+        let not_digit = (t | ((t & (0x7F * ONES)) + 0x76 * ONES)) & (0x80 * ONES);
+        let whole = (not_digit.trailing_zeros() / 8) as usize;
         if whole < 8 {
-            let q = p + whole;
-            if rest[q] == point {
-                let (frac, f) = leading_digits(word(rest, q + 1));
-                let end = q + 1 + frac;
-                if frac < 8 && whole + frac > 0 && ends_at(end) {
-                    return Some((signed(m * POW10_INT[frac] + f, frac), end));
-                }
-            } else if whole > 0 && ends_at(q) {
-                return Some((signed(m, 0), q));
+            let (digits, count, frac, end) = if (w >> (8 * whole)) as u8 == point {
+                // The first byte that is not a digit after the point ends the cell.
+                let above = not_digit & (u64::MAX << (8 * whole) << 8);
+                let end = (above.trailing_zeros() / 8) as usize;
+                // The fraction's digits moved down a byte, over the point.
+                let fraction = (t >> 8) & low_bytes(end.saturating_sub(1)) & !low_bytes(whole);
+                (
+                    t & low_bytes(whole) | fraction,
+                    end - 1,
+                    end - 1 - whole,
+                    end,
+                )
+            } else {
+                (t & low_bytes(whole), whole, 0, whole)
+            };
+            if end < 8 && count > 0 && ends_at(p + end) {
+                return Some((signed(digits_value(digits, count), frac), p + end));
             }
         }
     }
@@ -631,16 +658,8 @@ fn plain_cell(rest: &[u8], mut p: usize, delim: u8, point: u8) -> Option<(f64, u
         }
     }
     // Anything else: find the cell's end and read it the general way.
-    while let Some(&b) = rest.get(p) {
-        if b == delim || b == b'\n' || b == b'\r' {
-            break;
-        }
-        if b == b'"' {
-            return None;
-        }
-        p += 1;
-    }
-    Some((number(&rest[start..p], point == b',')?, p))
+    let end = cell_end(rest, p, delim)?;
+    Some((number(&rest[start..end], point == b',')?, end))
 }
 
 #[cfg(test)]
@@ -1006,29 +1025,68 @@ mod tests {
         );
     }
 
-    // Eight digits at once as one at a time, for every count of leading digits and whatever
-    // follows them.
+    // One cell read on the fast path against the general reading of the same bytes
+    // ([`number`], whose plain decimals are checked against the standard parser above): cells
+    // of up to 12 characters of digits, points, signs and other bytes, followed by each kind of
+    // end, also right at the end of the text; the same bits, the same end, the same refusals.
     #[test]
-    fn eight_bytes_of_digits_read_as_the_byte_loop_reads_them() {
+    fn a_cell_on_the_fast_path_reads_as_the_general_reading_reads_it() {
         let mut x = 0x2545_F491_4F6C_DD1Du64;
-        for _ in 0..100_000 {
+        let mut next = move |n: u64| {
             x ^= x << 13;
             x ^= x >> 7;
             x ^= x << 17;
-            let mut bytes = [0u8; 8];
-            for (k, b) in bytes.iter_mut().enumerate() {
-                let r = (x >> (k * 7)) as u8;
-                *b = if r.is_multiple_of(5) { r } else { b'0' + r % 10 };
+            x % n
+        };
+        let alphabet = b"0123456789012345678901234567890123456789..,,-+e ";
+        let mut read = 0;
+        for _ in 0..300_000 {
+            let (delim, point) = if next(2) == 0 {
+                (b',', b'.')
+            } else {
+                (b';', b',')
+            };
+            let len = next(13) as usize;
+            let mut cell: Vec<u8> = (0..len)
+                .map(|_| alphabet[next(alphabet.len() as u64) as usize])
+                .filter(|&b| b != delim)
+                .collect();
+            if next(20) == 0 {
+                cell.insert(0, b'"');
             }
-            let n = bytes.iter().take_while(|b| b.is_ascii_digit()).count();
-            let v = bytes[..n]
-                .iter()
-                .fold(0u64, |v, b| v * 10 + u64::from(b - b'0'));
-            assert_eq!(
-                leading_digits(u64::from_le_bytes(bytes)),
-                (n, v),
-                "{bytes:?}"
-            );
+            let mut rest = cell.clone();
+            match next(5) {
+                0 => {}
+                1 => rest.extend_from_slice(b"\n7,8\n"),
+                2 => rest.extend_from_slice(b"\r\n"),
+                _ => {
+                    rest.push(delim);
+                    rest.extend_from_slice(b"12345678");
+                }
+            }
+            let got = plain_cell(&rest, 0, delim, point);
+            let expected = if cell.contains(&b'"') {
+                None
+            } else {
+                number(&cell, point == b',').map(|v| (v, cell.len()))
+            };
+            match (got, expected) {
+                (Some((a, p)), Some((b, q))) => {
+                    assert_eq!(
+                        (a.to_bits(), p),
+                        (b.to_bits(), q),
+                        "{:?}",
+                        String::from_utf8_lossy(&rest)
+                    );
+                    read += 1;
+                }
+                (None, None) => {}
+                _ => panic!(
+                    "{:?}: {got:?} against {expected:?}",
+                    String::from_utf8_lossy(&rest)
+                ),
+            }
         }
+        assert!(read > 50_000, "{read}");
     }
 }
