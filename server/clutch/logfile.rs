@@ -295,9 +295,16 @@ fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, Inpu
         index.push(i);
     }
     let width = layout.names.len();
-    let mut is_wanted = vec![false; width];
-    for &i in &index {
-        is_wanted[i] = true;
+    // For each cell of a row, the wanted column it goes to (the first, when a file column is
+    // mapped twice; the others are copied from it).
+    let mut slot = vec![NOT_WANTED; width];
+    let mut copies = Vec::new();
+    for (k, &i) in index.iter().enumerate() {
+        if slot[i] == NOT_WANTED {
+            slot[i] = k;
+        } else {
+            copies.push((slot[i], k));
+        }
     }
     // The row count guessed from the first data line's length (half as much again, as later
     // rows tend to be longer), never more than a row per `width` bytes: the columns are not
@@ -318,7 +325,6 @@ fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, Inpu
 
     let mut engine = Engine::new(layout.delimiter);
     let point = if layout.decimal_comma { b',' } else { b'.' };
-    let mut row = vec![f64::NAN; width];
     let mut line = 1 + text[..start].iter().filter(|&&b| b == b'\n').count() as u64;
     let mut pos = start;
     loop {
@@ -335,16 +341,22 @@ fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, Inpu
         if pos >= text.len() {
             break;
         }
-        if fast
-            && let Some(used) =
-                plain_row(&text[pos..], layout.delimiter, point, &is_wanted, &mut row)
-        {
-            for (column, &i) in values.iter_mut().zip(&index) {
-                column.push(row[i]);
+        if fast {
+            let rows = lines.len();
+            if let Some(used) = plain_row(&text[pos..], layout.delimiter, point, &slot, &mut values)
+            {
+                for &(from, to) in &copies {
+                    let v = values[from][rows];
+                    values[to].push(v);
+                }
+                lines.push(line);
+                pos += used;
+                continue;
             }
-            lines.push(line);
-            pos += used;
-            continue;
+            // Whatever the row pushed before it was handed over is taken back.
+            for column in &mut values {
+                column.truncate(rows);
+            }
         }
         let used = engine.record(&text[pos..]);
         let here = line;
@@ -482,23 +494,34 @@ impl Engine {
     }
 }
 
+/// [`plain_row`]'s mark of a cell no column is read from.
+const NOT_WANTED: usize = usize::MAX;
+
 /// One data row on the fast path: a row without quotes, whose wanted cells are read straight
 /// from the bytes as they are scanned (plain decimals as [`plain_decimal`] reads them, any
-/// other cell by [`number`]), into `row` (NaN for a blank or missing cell). Returns the bytes
-/// used, up to the row's line break (not included). `None` hands the row to the CSV engine,
-/// which reads it as it reads any row: a row with a quote, a row of one cell, a cell that is
-/// not a number (so that the engine's path reports it).
+/// other cell by [`number`]) and pushed onto their columns (`slot[cell]`, NaN for a blank or
+/// missing cell). Returns the bytes used, up to the row's line break (not included). `None`
+/// hands the row to the CSV engine, which reads it as it reads any row: a row with a quote, a
+/// row of one cell, a cell that is not a number (so that the engine's path reports it); the
+/// caller then takes back what this row pushed.
 #[inline]
-fn plain_row(rest: &[u8], delim: u8, point: u8, wanted: &[bool], row: &mut [f64]) -> Option<usize> {
+fn plain_row(
+    rest: &[u8],
+    delim: u8,
+    point: u8,
+    slot: &[usize],
+    columns: &mut [Vec<f64>],
+) -> Option<usize> {
     let mut p = 0;
     let mut cell = 0;
     loop {
-        if wanted.get(cell) == Some(&true) {
-            let (v, end) = plain_cell(rest, p, delim, point)?;
-            row[cell] = v;
-            p = end;
-        } else {
-            p = cell_end(rest, p, delim)?;
+        match slot.get(cell) {
+            Some(&k) if k != NOT_WANTED => {
+                let (v, end) = plain_cell(rest, p, delim, point)?;
+                columns[k].push(v);
+                p = end;
+            }
+            _ => p = cell_end(rest, p, delim)?,
         }
         cell += 1;
         if rest.get(p) != Some(&delim) {
@@ -509,8 +532,10 @@ fn plain_row(rest: &[u8], delim: u8, point: u8, wanted: &[bool], row: &mut [f64]
     if cell < 2 {
         return None;
     }
-    for v in row.iter_mut().skip(cell) {
-        *v = f64::NAN;
+    for &k in slot.iter().skip(cell) {
+        if k != NOT_WANTED {
+            columns[k].push(f64::NAN);
+        }
     }
     Some(p)
 }
@@ -977,7 +1002,7 @@ mod tests {
                     text.push_str(end);
                 }
             }
-            let wanted: Vec<Wanted> = names
+            let mut wanted: Vec<Wanted> = names
                 .iter()
                 .filter(|_| next(3) != 0)
                 .map(|n| Wanted {
@@ -985,6 +1010,12 @@ mod tests {
                     name: n,
                 })
                 .collect();
+            // One file column mapped to two channels now and then.
+            if let Some(&first) = wanted.first()
+                && next(4) == 0
+            {
+                wanted.push(first);
+            }
             let bytes = text.as_bytes();
             let fast = read_with(bytes, &wanted, true);
             let engine = read_with(bytes, &wanted, false);
