@@ -77,28 +77,108 @@ pub struct Series {
 /// logged samples, holding the first and last logged values at the ends. `None` when the
 /// channel has no value at all.
 pub fn fill_blanks(time: &[f64], values: &mut [f64]) -> Option<()> {
-    let known: Vec<usize> = (0..values.len())
-        .filter(|&i| values[i].is_finite())
-        .collect();
-    let (&first, &last) = (known.first()?, known.last()?);
+    // Most channels have no blank: said by one pass the compiler can run several lanes wide.
+    if !values.is_empty() && values.iter().fold(true, |all, v| all & v.is_finite()) {
+        return Some(());
+    }
+    let first = values.iter().position(|v| v.is_finite())?;
+    let last = values.iter().rposition(|v| v.is_finite())?;
     let head = values[first];
     values[..first].fill(head);
     let tail = values[last];
     values[last + 1..].fill(tail);
-    for pair in known.windows(2) {
-        let (a, b) = (pair[0], pair[1]);
-        let (ta, tb, va, vb) = (time[a], time[b], values[a], values[b]);
-        for i in a + 1..b {
-            values[i] = va + (vb - va) * (time[i] - ta) / (tb - ta);
+    // Each run of blanks between two logged samples a and b.
+    let mut a = first;
+    for b in first + 1..=last {
+        if !values[b].is_finite() {
+            continue;
         }
+        if b > a + 1 {
+            let (ta, tb, va, vb) = (time[a], time[b], values[a], values[b]);
+            for i in a + 1..b {
+                values[i] = va + (vb - va) * (time[i] - ta) / (tb - ta);
+            }
+        }
+        a = b;
     }
     Some(())
 }
 
 /// Median of the steps of a strictly increasing clock (0 for fewer than 2 samples).
 pub fn median_step(time: &[f64]) -> f64 {
+    if let Some(m) = few_valued_median_step(time) {
+        return m;
+    }
     let mut steps: Vec<f64> = time.windows(2).map(|w| w[1] - w[0]).collect();
     median(&mut steps).unwrap_or(0.0)
+}
+
+/// Most distinct step values [`few_valued_median_step`] keeps count of.
+const FEW_STEPS: usize = 64;
+
+/// [`median_step`] for a clock whose steps take at most [`FEW_STEPS`] distinct values (a
+/// logger's fixed rate written with a few decimals: its steps differ only in their last bits),
+/// counted in a small table by value without storing them: the same median [`median`] finds,
+/// as the median of a list is a property of its values, not of their order. `None` for more
+/// values (or a NaN step).
+fn few_valued_median_step(time: &[f64]) -> Option<f64> {
+    // Open addressing on the step's bits; the table at most half full. NaN bits never occur
+    // as a step here, so all ones marks a free slot.
+    const SLOTS: usize = 2 * FEW_STEPS;
+    const FREE: u64 = u64::MAX;
+    let mut table = [(FREE, 0usize); SLOTS];
+    let mut kinds = 0;
+    for w in time.windows(2) {
+        let step = w[1] - w[0];
+        if step.is_nan() {
+            return None;
+        }
+        let bits = step.to_bits();
+        let mut slot = (bits.wrapping_mul(0x9E37_79B9_7F4A_7C15) >> 57) as usize;
+        loop {
+            let entry = &mut table[slot];
+            if entry.0 == bits {
+                entry.1 += 1;
+                break;
+            }
+            if entry.0 == FREE {
+                if kinds == FEW_STEPS {
+                    return None;
+                }
+                *entry = (bits, 1);
+                kinds += 1;
+                break;
+            }
+            slot = (slot + 1) % SLOTS;
+        }
+    }
+    let n = time.len().saturating_sub(1);
+    if n == 0 {
+        return None;
+    }
+    let mut seen: Vec<(f64, usize)> = table
+        .iter()
+        .filter(|e| e.0 != FREE)
+        .map(|&(bits, count)| (f64::from_bits(bits), count))
+        .collect();
+    seen.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
+    // The value at a place of the sorted steps.
+    let at = |place: usize| {
+        let mut before = 0;
+        seen.iter()
+            .find(|s| {
+                before += s.1;
+                place < before
+            })
+            .map(|s| s.0)
+    };
+    let mid = n / 2;
+    let m = at(mid)?;
+    Some(if n % 2 == 1 {
+        m
+    } else {
+        (at(mid - 1)? + m) / 2.0
+    })
 }
 
 /// The median of `values` (reordered); `None` when empty.
@@ -401,22 +481,19 @@ pub fn tire_spin(time: &[f64], driven: &[f64], undriven: &[f64]) -> Vec<[f64; 2]
 /// speeds outside the torque curve take its end values (counted in the second result).
 pub fn clutch_torque(series: &Series, dt: f64, engine: &EngineModel) -> (Vec<f64>, usize) {
     let window = derivative_window(dt);
-    let omega: Vec<f64> = series.engine_rpm.iter().map(|&n| rpm_to_rad_s(n)).collect();
-    let domega = savgol::filter(&omega, window, 2, 1, dt).unwrap_or_else(|| vec![0.0; omega.len()]);
+    // The filter is linear: the derivative of the speed in rev/min, turned into rad/s² per
+    // sample, is dω/dt; it is turned into the torque where it lies.
+    let mut torque = savgol::filter(&series.engine_rpm, window, 2, 1, dt)
+        .unwrap_or_else(|| vec![0.0; series.engine_rpm.len()]);
     let (lo, hi) = engine.curve.range();
     let mut outside = 0;
-    let torque = series
-        .engine_rpm
-        .iter()
-        .zip(&domega)
-        .map(|(&n, &a)| {
-            if !(lo..=hi).contains(&n) {
-                outside += 1;
-            }
-            let te = engine.curve.torque_at(n.clamp(lo, hi)).unwrap_or(0.0);
-            te - engine.inertia_kgm2 * a
-        })
-        .collect();
+    for (&n, t) in series.engine_rpm.iter().zip(&mut torque) {
+        if !(lo..=hi).contains(&n) {
+            outside += 1;
+        }
+        let te = engine.curve.torque_at(n.clamp(lo, hi)).unwrap_or(0.0);
+        *t = te - engine.inertia_kgm2 * rpm_to_rad_s(*t);
+    }
     (torque, outside)
 }
 

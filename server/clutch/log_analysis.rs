@@ -413,7 +413,7 @@ impl ValidLog {
             if time[i].is_nan() {
                 return Err(InputError::new(
                     "columns.time",
-                    format!("line {}: the time cell is blank", cols.lines[i]),
+                    format!("line {}: the time cell is blank", cols.lines.get(i)),
                 ));
             }
             if i > 0 && time[i] <= time[i - 1] {
@@ -421,7 +421,7 @@ impl ValidLog {
                     "columns.time",
                     format!(
                         "line {}: the time {} is not later than the line before ({})",
-                        cols.lines[i],
+                        cols.lines.get(i),
                         time[i],
                         time[i - 1]
                     ),

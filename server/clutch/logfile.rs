@@ -32,7 +32,7 @@ pub struct Columns {
     /// In the order asked for.
     pub values: Vec<Vec<f64>>,
     /// File line of each data row.
-    pub lines: Vec<u64>,
+    pub lines: RowLines,
 }
 
 /// One column asked for: the request field that names it (for errors) and its header name.
@@ -190,6 +190,12 @@ fn csv_error(message: impl Into<String>) -> InputError {
 /// such lines come before the data, the second is taken as a units line and skipped (unless the
 /// first has empty cells, the mark of a padded metadata line, and the second does not).
 pub fn layout(text: &[u8]) -> Result<Layout, InputError> {
+    layout_and_start(text).map(|(layout, _)| layout)
+}
+
+/// [`layout`], with the byte offset where the reading of the first data row began (the end of
+/// the record before it).
+fn layout_and_start(text: &[u8]) -> Result<(Layout, usize), InputError> {
     let (delimiter, width) = sniff(text).ok_or_else(|| {
         csv_error("no delimiter found: the first lines are not split by commas, semicolons or tabs into the same columns")
     })?;
@@ -200,6 +206,7 @@ pub fn layout(text: &[u8]) -> Result<Layout, InputError> {
     let mut block: Vec<(u64, csv::ByteRecord)> = Vec::new();
     loop {
         let line = rdr.position().line();
+        let from = rdr.position().byte() as usize;
         match rdr.read_byte_record(&mut record) {
             Ok(true) => {}
             Ok(false) => {
@@ -240,14 +247,15 @@ pub fn layout(text: &[u8]) -> Result<Layout, InputError> {
                 }
             }
         };
-        return Ok(Layout {
+        let layout = Layout {
             delimiter,
             decimal_comma,
             names: names_of(&header.1),
             header_line: header.0,
             units_line: units,
             first_data_line: line,
-        });
+        };
+        return Ok((layout, from));
     }
 }
 
@@ -264,7 +272,13 @@ pub fn find(names: &[String], name: &str) -> Option<usize> {
 /// cell that is not a number, or a row the CSV rules cannot read, names its line and column.
 /// Rows shorter than the header leave the missing cells blank; empty lines are skipped.
 pub fn read(text: &[u8], wanted: &[Wanted]) -> Result<Columns, InputError> {
-    let layout = layout(text)?;
+    read_with(text, wanted, true)
+}
+
+/// [`read`], with the fast path for plain rows on or off (off: every row goes through the CSV
+/// engine; the tests compare the two).
+fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, InputError> {
+    let (layout, start) = layout_and_start(text)?;
     let mut index = Vec::with_capacity(wanted.len());
     for w in wanted {
         let i = find(&layout.names, w.name).ok_or_else(|| {
@@ -280,33 +294,88 @@ pub fn read(text: &[u8], wanted: &[Wanted]) -> Result<Columns, InputError> {
         })?;
         index.push(i);
     }
-    // A rough row count from the size keeps the columns from re-growing many times.
-    let guess = text.len() / (layout.names.len().max(1) * 6).max(1);
+    let width = layout.names.len();
+    // For each cell of a row, the wanted column it goes to (the first, when a file column is
+    // mapped twice; the others are copied from it).
+    let mut slot = vec![NOT_WANTED; width];
+    let mut copies = Vec::new();
+    for (k, &i) in index.iter().enumerate() {
+        if slot[i] == NOT_WANTED {
+            slot[i] = k;
+        } else {
+            copies.push((slot[i], k));
+        }
+    }
+    // The row count guessed from the first data line's length (half as much again, as later
+    // rows tend to be longer), never more than a row per `width` bytes: the columns are not
+    // re-grown, and capacity never written takes no memory.
+    let rest = &text[start..];
+    let body = rest
+        .iter()
+        .position(|&b| b != b'\n' && b != b'\r')
+        .unwrap_or(rest.len());
+    let first_len = rest[body..]
+        .iter()
+        .position(|&b| b == b'\n')
+        .map_or(rest.len() - body, |p| p + 1)
+        .max(1);
+    let guess = ((rest.len() / first_len) * 3 / 2 + 16).min(rest.len() / width.max(1) + 1);
     let mut values: Vec<Vec<f64>> = wanted.iter().map(|_| Vec::with_capacity(guess)).collect();
-    let mut lines = Vec::with_capacity(guess);
-    let mut rdr = reader(text, layout.delimiter);
-    let mut record = csv::ByteRecord::new();
+    let mut lines = RowLines::default();
+
+    let mut engine = Engine::new(layout.delimiter);
+    let point = if layout.decimal_comma { b',' } else { b'.' };
+    let mut line = 1 + text[..start].iter().filter(|&&b| b == b'\n').count() as u64;
+    let mut pos = start;
     loop {
-        let at = rdr.position().line();
-        match rdr.read_byte_record(&mut record) {
-            Ok(true) => {}
-            Ok(false) => break,
-            Err(e) => return Err(csv_error(format!("line {at}: {e}"))),
+        // Empty lines (and the second half of a CR LF) between rows are skipped, as the CSV
+        // engine skips them; only LF counts a line, as the engine counts them.
+        while let Some(&b) = text.get(pos) {
+            if b == b'\n' {
+                line += 1;
+            } else if b != b'\r' {
+                break;
+            }
+            pos += 1;
         }
-        let line = start_line(text, &rdr, &record);
-        if line < layout.first_data_line {
-            continue;
+        if pos >= text.len() {
+            break;
         }
-        if record.len() == 1 && record[0].trim_ascii().is_empty() {
+        if fast {
+            let rows = lines.len();
+            if let Some(used) = plain_row(&text[pos..], layout.delimiter, point, &slot, &mut values)
+            {
+                for &(from, to) in &copies {
+                    let v = values[from][rows];
+                    values[to].push(v);
+                }
+                lines.push(line);
+                pos += used;
+                continue;
+            }
+            // Whatever the row pushed before it was handed over is taken back.
+            for column in &mut values {
+                column.truncate(rows);
+            }
+        }
+        let used = engine.record(&text[pos..]);
+        let here = line;
+        line += text[pos..pos + used]
+            .iter()
+            .filter(|&&b| b == b'\n')
+            .count() as u64;
+        pos += used;
+        let fields = engine.fields();
+        if fields == 0 || (fields == 1 && engine.cell(0).trim_ascii().is_empty()) {
             continue;
         }
         for ((w, &i), column) in wanted.iter().zip(&index).zip(&mut values) {
-            let cell = record.get(i).unwrap_or(b"");
+            let cell = if i < fields { engine.cell(i) } else { b"" };
             let v = number(cell, layout.decimal_comma).ok_or_else(|| {
                 InputError::new(
                     w.field,
                     format!(
-                        "line {line}, column \"{}\": \"{}\" is not a number",
+                        "line {here}, column \"{}\": \"{}\" is not a number",
                         layout.names[i],
                         String::from_utf8_lossy(cell).trim()
                     ),
@@ -314,13 +383,308 @@ pub fn read(text: &[u8], wanted: &[Wanted]) -> Result<Columns, InputError> {
             })?;
             column.push(v);
         }
-        lines.push(line);
+        lines.push(here);
     }
     Ok(Columns {
         layout,
         values,
         lines,
     })
+}
+
+/// The file line of each data row, kept as runs of consecutive lines (one run for a file
+/// without blank lines or quoted line breaks among its rows).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct RowLines {
+    /// (first row, its line) of each run.
+    runs: Vec<(usize, u64)>,
+    rows: usize,
+}
+
+impl RowLines {
+    fn push(&mut self, line: u64) {
+        let continues = self
+            .runs
+            .last()
+            .is_some_and(|&(row, first)| first + (self.rows - row) as u64 == line);
+        if !continues {
+            self.runs.push((self.rows, line));
+        }
+        self.rows += 1;
+    }
+
+    /// The line of data row `row` (0-based; must be below [`Self::len`]).
+    pub fn get(&self, row: usize) -> u64 {
+        let k = self.runs.partition_point(|&(first, _)| first <= row) - 1;
+        let (first, line) = self.runs[k];
+        line + (row - first) as u64
+    }
+
+    pub fn len(&self) -> usize {
+        self.rows
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.rows == 0
+    }
+
+    /// Every row's line.
+    pub fn to_vec(&self) -> Vec<u64> {
+        (0..self.rows).map(|r| self.get(r)).collect()
+    }
+}
+
+/// The CSV engine the `csv` crate is built on (`csv_core`), reading one record at a time from
+/// wherever a record starts, into one reused buffer.
+struct Engine {
+    core: csv_core::Reader,
+    out: Vec<u8>,
+    ends: Vec<usize>,
+    fields: usize,
+}
+
+impl Engine {
+    fn new(delimiter: u8) -> Self {
+        let mut core = csv_core::ReaderBuilder::new().delimiter(delimiter).build();
+        // The engine drops a byte-order mark only before its first input; the data rows are
+        // not the start of the file, so it is shown a line break first (skipped as a blank
+        // line).
+        let _ = core.read_record(b"\n", &mut [0; 1], &mut [0; 1]);
+        Self {
+            core,
+            out: vec![0; 4096],
+            ends: vec![0; 64],
+            fields: 0,
+        }
+    }
+
+    /// Reads the record `input` starts with; returns the bytes it took (its line break
+    /// included).
+    fn record(&mut self, input: &[u8]) -> usize {
+        use csv_core::ReadRecordResult as R;
+        let (mut nin, mut nout, mut nend) = (0, 0, 0);
+        loop {
+            let (res, i, o, e) =
+                self.core
+                    .read_record(&input[nin..], &mut self.out[nout..], &mut self.ends[nend..]);
+            nin += i;
+            nout += o;
+            nend += e;
+            match res {
+                // All the input was given: the empty rest passed next tells the engine the
+                // data has ended.
+                R::InputEmpty => {}
+                R::OutputFull => self.out.resize(self.out.len() * 2, 0),
+                R::OutputEndsFull => self.ends.resize(self.ends.len() * 2, 0),
+                R::Record | R::End => {
+                    self.fields = nend;
+                    return nin;
+                }
+            }
+        }
+    }
+
+    fn fields(&self) -> usize {
+        self.fields
+    }
+
+    fn cell(&self, k: usize) -> &[u8] {
+        let from = if k == 0 { 0 } else { self.ends[k - 1] };
+        &self.out[from..self.ends[k]]
+    }
+}
+
+/// [`plain_row`]'s mark of a cell no column is read from.
+const NOT_WANTED: usize = usize::MAX;
+
+/// One data row on the fast path: a row without quotes, whose wanted cells are read straight
+/// from the bytes as they are scanned (plain decimals as [`plain_decimal`] reads them, any
+/// other cell by [`number`]) and pushed onto their columns (`slot[cell]`, NaN for a blank or
+/// missing cell). Returns the bytes used, up to the row's line break (not included). `None`
+/// hands the row to the CSV engine, which reads it as it reads any row: a row with a quote, a
+/// row of one cell, a cell that is not a number (so that the engine's path reports it); the
+/// caller then takes back what this row pushed.
+#[inline]
+fn plain_row(
+    rest: &[u8],
+    delim: u8,
+    point: u8,
+    slot: &[usize],
+    columns: &mut [Vec<f64>],
+) -> Option<usize> {
+    let mut p = 0;
+    let mut cell = 0;
+    loop {
+        match slot.get(cell) {
+            Some(&k) if k != NOT_WANTED => {
+                let (v, end) = plain_cell(rest, p, delim, point)?;
+                columns[k].push(v);
+                p = end;
+            }
+            _ => p = cell_end(rest, p, delim)?,
+        }
+        cell += 1;
+        if rest.get(p) != Some(&delim) {
+            break;
+        }
+        p += 1;
+    }
+    if cell < 2 {
+        return None;
+    }
+    for &k in slot.iter().skip(cell) {
+        if k != NOT_WANTED {
+            columns[k].push(f64::NAN);
+        }
+    }
+    Some(p)
+}
+
+/// Where the unquoted cell from `rest[p]` ends (its delimiter, a line break or the end of the
+/// text), eight bytes looked at at once; `None` at a quote.
+#[inline(always)]
+fn cell_end(rest: &[u8], mut p: usize, delim: u8) -> Option<usize> {
+    const ONES: u64 = 0x0101_0101_0101_0101;
+    // High bit of each byte of `w` equal to `b`; exact up to the first such byte (above it a
+    // borrow may mark others, which are never looked at).
+    let marks = |w: u64, b: u8| {
+        let x = w ^ (u64::from(b) * ONES);
+        x.wrapping_sub(ONES) & !x & (0x80 * ONES)
+    };
+    while p + 8 <= rest.len() {
+        let w = word(rest, p);
+        let m = marks(w, delim) | marks(w, b'\n') | marks(w, b'\r') | marks(w, b'"');
+        if m != 0 {
+            p += (m.trailing_zeros() / 8) as usize;
+            return (rest[p] != b'"').then_some(p);
+        }
+        p += 8;
+    }
+    while let Some(&b) = rest.get(p) {
+        if b == delim || b == b'\n' || b == b'\r' {
+            break;
+        }
+        if b == b'"' {
+            return None;
+        }
+        p += 1;
+    }
+    Some(p)
+}
+
+/// 2^52: the doubles from it to 2^53 are the integers, one apart.
+const TWO_52: f64 = 4_503_599_627_370_496.0;
+
+/// The 8 bytes at `rest[p..]` as one word, the first byte lowest.
+#[inline(always)]
+fn word(rest: &[u8], p: usize) -> u64 {
+    let mut b = [0u8; 8];
+    b.copy_from_slice(&rest[p..p + 8]);
+    u64::from_le_bytes(b)
+}
+
+/// The value of the decimal digits held, one per byte, in the low `count` bytes of `t` (each
+/// 0..=9, the first digit in the lowest byte; 1 ≤ `count` ≤ 8), all at once ("SIMD within a
+/// register"; D. Lemire, "Quickly parsing eight digits", 2018).
+#[inline(always)]
+fn digits_value(t: u64, count: usize) -> u64 {
+    // The digits moved to the top of the word, zeros (leading zero digits) below them.
+    let mut v = t << (8 * (8 - count));
+    v = v.wrapping_mul(10).wrapping_add(v >> 8);
+    let mask = 0x0000_00FF_0000_00FF;
+    ((v & mask)
+        .wrapping_mul(100 + (1_000_000 << 32))
+        .wrapping_add(((v >> 16) & mask).wrapping_mul(1 + (10_000 << 32))))
+        >> 32
+}
+
+/// The cell starting at `rest[p]` as a number and where it ends (at its delimiter, line break
+/// or the end of the text); `None` for a quote or a cell that is not a number.
+#[inline(always)]
+fn plain_cell(rest: &[u8], mut p: usize, delim: u8, point: u8) -> Option<(f64, usize)> {
+    let start = p;
+    let negative = match rest.get(p) {
+        Some(b'-') => {
+            p += 1;
+            true
+        }
+        Some(b'+') => {
+            p += 1;
+            false
+        }
+        _ => false,
+    };
+    let ends_at = |q: usize| match rest.get(q) {
+        None => true,
+        Some(&b) => b == delim || b == b'\n' || b == b'\r',
+    };
+    // m < 10^15 < 2^52 is exact as a double: put in the mantissa of 2^52 and 2^52 taken off
+    // (the same value as `m as f64`, without the conversion instruction that waits for the
+    // previous cell's division); then one correctly rounded division.
+    let signed = |m: u64, decimals: usize| {
+        let whole = f64::from_bits(TWO_52.to_bits() | m) - TWO_52;
+        let v = whole / POW10[decimals];
+        if negative { -v } else { v }
+    };
+    // A cell of up to 7 characters after its sign, and the byte that ends it, in one 8-byte
+    // word (first byte lowest): the same integer of all the digits and count of decimals as
+    // the byte-wise loop below.
+    if p + 8 <= rest.len() {
+        const ONES: u64 = 0x0101_0101_0101_0101;
+        let low_bytes = |n: usize| (1u64 << (8 * n)) - 1;
+        let w = word(rest, p);
+        // '0'..'9' become 0..9, every other byte something else.
+        let t = w ^ (0x30 * ONES);
+        // The high bit of a byte set when it is not 0..9: above 127, or its low 7 bits plus
+        // 118 reach bit 7 (≥ 10); the sum stays within the byte (127 + 118 < 256).
+        let not_digit = (t | ((t & (0x7F * ONES)) + 0x76 * ONES)) & (0x80 * ONES);
+        let whole = (not_digit.trailing_zeros() / 8) as usize;
+        if whole < 8 {
+            let (digits, count, frac, end) = if (w >> (8 * whole)) as u8 == point {
+                // The first byte that is not a digit after the point ends the cell.
+                let above = not_digit & (u64::MAX << (8 * whole) << 8);
+                let end = (above.trailing_zeros() / 8) as usize;
+                // The fraction's digits moved down a byte, over the point.
+                let fraction = (t >> 8) & low_bytes(end.saturating_sub(1)) & !low_bytes(whole);
+                (
+                    t & low_bytes(whole) | fraction,
+                    end - 1,
+                    end - 1 - whole,
+                    end,
+                )
+            } else {
+                (t & low_bytes(whole), whole, 0, whole)
+            };
+            if end < 8 && count > 0 && ends_at(p + end) {
+                return Some((signed(digits_value(digits, count), frac), p + end));
+            }
+        }
+    }
+    let (mut mantissa, mut count, mut decimals, mut seen_point) = (0u64, 0usize, 0usize, false);
+    while let Some(&b) = rest.get(p) {
+        let d = b.wrapping_sub(b'0');
+        if d < 10 {
+            mantissa = mantissa.wrapping_mul(10).wrapping_add(u64::from(d));
+            count += 1;
+            decimals += usize::from(seen_point);
+        } else if b == point && !seen_point {
+            seen_point = true;
+        } else {
+            break;
+        }
+        p += 1;
+    }
+    if ends_at(p) {
+        if p == start {
+            return Some((f64::NAN, p));
+        }
+        if count > 0 && count <= 15 {
+            return Some((signed(mantissa, decimals), p));
+        }
+    }
+    // Anything else: find the cell's end and read it the general way.
+    let end = cell_end(rest, p, delim)?;
+    Some((number(&rest[start..end], point == b',')?, end))
 }
 
 #[cfg(test)]
@@ -382,7 +746,7 @@ mod tests {
         )
         .unwrap();
         assert_eq!(c.values, vec![vec![0.0, 75.0], vec![0.0, 0.01]]);
-        assert_eq!(c.lines, vec![2, 3]);
+        assert_eq!(c.lines.to_vec(), vec![2, 3]);
         assert_eq!(c.layout.delimiter, b',');
     }
 
@@ -395,7 +759,7 @@ mod tests {
         assert_eq!(c.layout.units_line, Some(4));
         assert_eq!(c.values[1], vec![6000.5, 5990.0]);
         assert_eq!(c.values[2], vec![0.0, 75.25]);
-        assert_eq!(c.lines, vec![5, 6]);
+        assert_eq!(c.lines.to_vec(), vec![5, 6]);
     }
 
     #[test]
@@ -422,7 +786,7 @@ mod tests {
         assert_eq!(c.layout.names[0], "time, s");
         assert_eq!(c.values[1], vec![0.0, 75.0]);
         // The header spans lines 1–2, so the data rows are lines 3 and 4.
-        assert_eq!(c.lines, vec![3, 4]);
+        assert_eq!(c.lines.to_vec(), vec![3, 4]);
     }
 
     #[test]
@@ -470,5 +834,290 @@ mod tests {
         let l = layout(text.as_bytes()).unwrap();
         assert_eq!(l.header_line, 2);
         assert_eq!(l.units_line, None);
+    }
+
+    /// Every wanted column of every row as the `csv` crate's own reader gives it: its byte
+    /// records from the top of the file, the rows before the first data line left out, each
+    /// cell through [`number`] (the way the data rows were read before the fast path).
+    fn read_by_csv_reader(
+        text: &[u8],
+        wanted: &[Wanted],
+    ) -> Result<(Vec<Vec<f64>>, Vec<u64>), InputError> {
+        let layout = layout(text)?;
+        let mut index = Vec::new();
+        for w in wanted {
+            index.push(find(&layout.names, w.name).ok_or_else(|| {
+                InputError::new(
+                    w.field,
+                    format!(
+                        "no column named \"{}\" in the header (line {}); the file has: {}",
+                        w.name,
+                        layout.header_line,
+                        layout.names.join(", ")
+                    ),
+                )
+            })?);
+        }
+        let mut values = vec![Vec::new(); wanted.len()];
+        let mut lines = Vec::new();
+        let mut rdr = reader(text, layout.delimiter);
+        let mut record = csv::ByteRecord::new();
+        while rdr
+            .read_byte_record(&mut record)
+            .expect("byte records always read")
+        {
+            let line = start_line(text, &rdr, &record);
+            if line < layout.first_data_line
+                || (record.len() == 1 && record[0].trim_ascii().is_empty())
+            {
+                continue;
+            }
+            for ((w, &i), column) in wanted.iter().zip(&index).zip(&mut values) {
+                let cell = record.get(i).unwrap_or(b"");
+                let v = number(cell, layout.decimal_comma).ok_or_else(|| {
+                    InputError::new(
+                        w.field,
+                        format!(
+                            "line {line}, column \"{}\": \"{}\" is not a number",
+                            layout.names[i],
+                            String::from_utf8_lossy(cell).trim()
+                        ),
+                    )
+                })?;
+                column.push(v);
+            }
+            lines.push(line);
+        }
+        Ok((values, lines))
+    }
+
+    fn same_bits(a: &[Vec<f64>], b: &[Vec<f64>]) -> bool {
+        a.len() == b.len()
+            && a.iter().zip(b).all(|(x, y)| {
+                x.len() == y.len() && x.iter().zip(y).all(|(p, q)| p.to_bits() == q.to_bits())
+            })
+    }
+
+    // The fast path for plain rows against the CSV engine reading every row, and both against
+    // the csv crate's own reader (RFC 4180 quoting, CR LF and CR line ends, blank lines and
+    // cells, short and long rows, cells with spaces, signs, exponents, too many digits, decimal
+    // commas, words): the same numbers to the bit, the same lines, the same errors.
+    #[test]
+    fn the_fast_path_reads_every_file_as_the_csv_engine_does() {
+        let mut x = 0x853C_49E6_748F_EA9Bu64;
+        let mut next = move |n: u64| {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            x % n
+        };
+        let (mut fast_rows, mut errors) = (0, 0);
+        for case in 0..3000 {
+            let (delim, comma) = match next(4) {
+                0 => (',', false),
+                1 => (';', true),
+                2 => ('\t', true),
+                _ => ('\t', false),
+            };
+            let point = if comma { ',' } else { '.' };
+            let end = match next(8) {
+                0 => "\r\n",
+                1 if case % 3 == 0 => "\r",
+                _ => "\n",
+            };
+            let width = 2 + next(5) as usize;
+            let mut text = String::new();
+            if next(3) == 0 {
+                text.push_str(&format!("Logger export{end}Run{delim}12{end}"));
+            }
+            let names: Vec<String> = (0..width).map(|c| format!("ch{c}")).collect();
+            let quoted_header = next(4) == 0;
+            for (c, n) in names.iter().enumerate() {
+                if c > 0 {
+                    text.push(delim);
+                }
+                if quoted_header {
+                    text.push_str(&format!("\"{n}\""));
+                } else {
+                    text.push_str(n);
+                }
+            }
+            text.push_str(end);
+            if next(3) == 0 {
+                let units: Vec<&str> = (0..width).map(|_| "rpm").collect();
+                text.push_str(&units.join(&delim.to_string()));
+                text.push_str(end);
+            }
+            // A third of the files hold cells that are not numbers.
+            let spoilt = next(3) == 0;
+            let rows = 5 + next(40);
+            for r in 0..rows {
+                if r > 0 && next(25) == 0 {
+                    text.push_str(if next(2) == 0 { "" } else { "  " });
+                    text.push_str(end);
+                }
+                let cells = if next(15) == 0 {
+                    1 + next(width as u64 + 2) as usize
+                } else {
+                    width
+                };
+                for c in 0..cells {
+                    if c > 0 {
+                        text.push(delim);
+                    }
+                    // The first row stays plain so the layout finds the data.
+                    let kind = match next(40) {
+                        _ if r == 0 => 0,
+                        33 | 37 | 38 if !spoilt => 0,
+                        k => k,
+                    };
+                    let digits = 1 + next(8) as usize;
+                    let whole = next(10u64.pow(digits as u32));
+                    let decimals = next(9) as usize;
+                    let frac = next(10u64.pow(decimals as u32));
+                    let plain = if decimals == 0 {
+                        format!("{whole}")
+                    } else {
+                        format!("{whole}{point}{frac:0decimals$}")
+                    };
+                    let cell = match kind {
+                        0..=27 => plain,
+                        28 => format!("-{plain}"),
+                        29 => format!("+{plain}"),
+                        30 => String::new(),
+                        31 => format!(" {plain} "),
+                        32 => format!("\"{plain}\""),
+                        33 => format!("\"a{delim}b\nc\""),
+                        34 => format!("{whole}e{}", next(5)),
+                        35 => format!("{whole}{frac}{frac}{frac}"),
+                        36 => format!("{point}{frac}"),
+                        37 if next(4) == 0 => "oops".into(),
+                        37 => format!("{whole}{point}"),
+                        38 => format!("{whole}{point}{frac}{point}1"),
+                        _ => format!("0{plain}"),
+                    };
+                    text.push_str(&cell);
+                }
+                if r + 1 < rows || next(2) == 0 {
+                    text.push_str(end);
+                }
+            }
+            let mut wanted: Vec<Wanted> = names
+                .iter()
+                .filter(|_| next(3) != 0)
+                .map(|n| Wanted {
+                    field: "columns.x",
+                    name: n,
+                })
+                .collect();
+            // One file column mapped to two channels now and then.
+            if let Some(&first) = wanted.first()
+                && next(4) == 0
+            {
+                wanted.push(first);
+            }
+            let bytes = text.as_bytes();
+            let fast = read_with(bytes, &wanted, true);
+            let engine = read_with(bytes, &wanted, false);
+            // With CR alone ending lines every record is on line 1 by the reader's count, so the
+            // row-by-line rule above cannot tell the header from the data: compared with the
+            // engine only.
+            let by_reader = if end == "\r" {
+                engine.clone().map(|c| (c.values, c.lines.to_vec()))
+            } else {
+                read_by_csv_reader(bytes, &wanted)
+            };
+            match (&fast, &engine, &by_reader) {
+                (Ok(f), Ok(e), Ok((values, lines))) => {
+                    assert!(same_bits(&f.values, &e.values), "{text:?}");
+                    assert!(same_bits(&f.values, values), "{text:?}");
+                    assert_eq!(f.lines, e.lines, "{text:?}");
+                    assert_eq!(&f.lines.to_vec(), lines, "{text:?}");
+                    assert_eq!(f.layout, e.layout);
+                    fast_rows += f.lines.len();
+                }
+                (Err(f), Err(e), Err(r)) => {
+                    assert_eq!((&f.field, &f.message), (&e.field, &e.message), "{text:?}");
+                    assert_eq!((&f.field, &f.message), (&r.field, &r.message), "{text:?}");
+                    errors += 1;
+                }
+                _ => panic!(
+                    "{text:?}: fast {:?}, engine {:?}, csv reader {:?}",
+                    fast.map(|c| c.values),
+                    engine.map(|c| c.values),
+                    by_reader.map(|c| c.0)
+                ),
+            }
+        }
+        // Both outcomes were exercised.
+        assert!(
+            fast_rows > 10_000 && errors > 100,
+            "{fast_rows} rows, {errors} errors"
+        );
+    }
+
+    // One cell read on the fast path against the general reading of the same bytes
+    // ([`number`], whose plain decimals are checked against the standard parser above): cells
+    // of up to 12 characters of digits, points, signs and other bytes, followed by each kind of
+    // end, also right at the end of the text; the same bits, the same end, the same refusals.
+    #[test]
+    fn a_cell_on_the_fast_path_reads_as_the_general_reading_reads_it() {
+        let mut x = 0x2545_F491_4F6C_DD1Du64;
+        let mut next = move |n: u64| {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            x % n
+        };
+        let alphabet = b"0123456789012345678901234567890123456789..,,-+e ";
+        let mut read = 0;
+        for _ in 0..300_000 {
+            let (delim, point) = if next(2) == 0 {
+                (b',', b'.')
+            } else {
+                (b';', b',')
+            };
+            let len = next(13) as usize;
+            let mut cell: Vec<u8> = (0..len)
+                .map(|_| alphabet[next(alphabet.len() as u64) as usize])
+                .filter(|&b| b != delim)
+                .collect();
+            if next(20) == 0 {
+                cell.insert(0, b'"');
+            }
+            let mut rest = cell.clone();
+            match next(5) {
+                0 => {}
+                1 => rest.extend_from_slice(b"\n7,8\n"),
+                2 => rest.extend_from_slice(b"\r\n"),
+                _ => {
+                    rest.push(delim);
+                    rest.extend_from_slice(b"12345678");
+                }
+            }
+            let got = plain_cell(&rest, 0, delim, point);
+            let expected = if cell.contains(&b'"') {
+                None
+            } else {
+                number(&cell, point == b',').map(|v| (v, cell.len()))
+            };
+            match (got, expected) {
+                (Some((a, p)), Some((b, q))) => {
+                    assert_eq!(
+                        (a.to_bits(), p),
+                        (b.to_bits(), q),
+                        "{:?}",
+                        String::from_utf8_lossy(&rest)
+                    );
+                    read += 1;
+                }
+                (None, None) => {}
+                _ => panic!(
+                    "{:?}: {got:?} against {expected:?}",
+                    String::from_utf8_lossy(&rest)
+                ),
+            }
+        }
+        assert!(read > 50_000, "{read}");
     }
 }

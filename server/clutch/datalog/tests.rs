@@ -308,3 +308,48 @@ fn the_calibration_value_is_the_median_ratio() {
     assert!((r - 0.33).abs() < 1e-12);
     assert!(median_ratio(&pairs, |_| 0.0).is_none());
 }
+
+// The median step counted by value (no list of steps kept) against the median of the list of
+// steps, on clocks as loggers write them (a fixed rate printed to 2 to 5 decimals, in s or ms,
+// some with dropped samples), odd and even counts, and on clocks of too many step values for
+// the count (the list is used then): the same bits every time.
+#[test]
+fn the_median_step_counted_by_value_is_the_median_of_the_steps() {
+    let mut x = 0x9E37_79B9_7F4A_7C15u64;
+    let mut next = move |n: u64| {
+        x ^= x << 13;
+        x ^= x >> 7;
+        x ^= x << 17;
+        x % n
+    };
+    let mut counted = 0;
+    for case in 0..400 {
+        let n = 2 + next(3000) as usize;
+        let decimals = 2 + next(4) as i32;
+        let scale = 10f64.powi(decimals);
+        let step = [0.001, 0.002, 0.01, 1.0, 2.5][next(5) as usize];
+        let start = next(100_000) as f64 * step;
+        let mut time = Vec::with_capacity(n);
+        let mut k = 0u64;
+        for _ in 0..n {
+            k += if next(50) == 0 { 2 } else { 1 };
+            let t = start + k as f64 * step;
+            // Printed to `decimals` and read back; every 7th case left unrounded with jitter.
+            time.push(if case % 7 == 0 {
+                t + next(1000) as f64 * 1e-9
+            } else {
+                (t * scale).round() / scale
+            });
+        }
+        let mut steps: Vec<f64> = time.windows(2).map(|w| w[1] - w[0]).collect();
+        let expected = median(&mut steps).unwrap_or(0.0);
+        assert_eq!(
+            median_step(&time).to_bits(),
+            expected.to_bits(),
+            "case {case}"
+        );
+        counted += usize::from(few_valued_median_step(&time).is_some());
+    }
+    // Both ways were taken.
+    assert!((100..400).contains(&counted), "{counted}");
+}
