@@ -37,7 +37,8 @@ pub const WATCH_INTERVAL: Duration = Duration::from_millis(100);
 /// that expires counts as live until then); a new day makes a new page at once.
 const PAGE_MAX_AGE: Duration = Duration::from_secs(10);
 
-/// Rendered pages kept at most (bytes of HTML); past it the oldest generation's pages go first.
+/// Rendered pages kept at most (bytes of HTML): pages of an earlier generation are dropped
+/// whenever one is kept, then the largest while over.
 const PAGE_BUDGET_BYTES: usize = 8 << 20;
 
 /// Sessions kept at most; past it the table is emptied (each is looked up again once).
