@@ -1,6 +1,6 @@
 //! What the busiest pages reuse while nothing in the database has changed: the sessions behind
 //! cookies and whole rendered pages (the counter, the customer list and search, a build's page,
-//! its tuning page).
+//! its tuning page, a pass's page with its analysed data log).
 //!
 //! Every entry carries the shop's *generation*, a number that moves on after every commit:
 //! at once after a write through [`AppState::write`](super::AppState::write) commits (so the
@@ -51,6 +51,7 @@ pub enum PageKey {
     Customers(String),
     Build(i64),
     Tune(i64, String),
+    Pass(i64, String),
 }
 
 struct Page {

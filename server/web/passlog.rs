@@ -8,11 +8,12 @@ use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
 use askama::Template;
-use axum::extract::{Multipart, Query, State};
+use axum::extract::{Multipart, Query, RawQuery, State};
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use super::AppState;
+use super::cache::PageKey;
 use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::Layout;
@@ -25,6 +26,7 @@ use crate::db;
 use crate::db::pass_logs::LogSummary;
 use crate::error::{AppError, AppResult};
 use crate::records::FieldErrors;
+use crate::records::date::ShopZone;
 
 /// Uploads waiting for their mapping, at most this many at once (the oldest goes first).
 const STAGED_MAX: usize = 6;
@@ -190,14 +192,22 @@ fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
 }
 
 /// GET /passes/{id}.
+/// GET /passes/{id}: through the page cache, so the stored log is analysed again only after
+/// a commit (or a new day), not on every view.
 pub async fn show(
     State(state): State<AppState>,
     user: CurrentUser,
     PathId(id): PathId,
     Query(q): Query<CompareQuery>,
+    RawQuery(raw): RawQuery,
 ) -> AppResult<Response> {
     let compare = q.compare.trim().parse::<i64>().ok().filter(|&c| c != id);
-    render_with(&state, &user, id, None, StatusCode::OK, compare).await
+    let key = PageKey::Pass(id, raw.unwrap_or_default());
+    let state_ref = &state;
+    let render = |stand_in: CurrentUser| async move {
+        render_with(state_ref, &stand_in, id, None, compare).await
+    };
+    Ok(Html(state.cache.page(key, &user, render).await?).into_response())
 }
 
 /// `?compare=<pass id>`: another logged pass of the same build drawn over this one.
@@ -214,7 +224,8 @@ async fn render(
     upload_error: Option<String>,
     status: StatusCode,
 ) -> AppResult<Response> {
-    render_with(state, user, id, upload_error, status, None).await
+    let (html, _) = render_with(state, user, id, upload_error, None).await?;
+    Ok((status, Html(html)).into_response())
 }
 
 /// Engine and input speed of two passes against time from each one's launch.
@@ -295,9 +306,8 @@ async fn render_with(
     user: &CurrentUser,
     id: i64,
     upload_error: Option<String>,
-    status: StatusCode,
     compare: Option<i64>,
-) -> AppResult<Response> {
+) -> AppResult<(String, ShopZone)> {
     let mut conn = state.pool.acquire().await?;
     let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(
@@ -316,7 +326,13 @@ async fn render_with(
         build.data.label.clone()
     };
     let log = db::pass_logs::summary(&mut conn, id).await?;
-    let passes = db::passes::for_build(&mut conn, pc.pass.build_id).await?;
+    let passes = db::passes::page_for_build(
+        &mut conn,
+        pc.pass.build_id,
+        0,
+        db::dossier::PASSES_LOADED as i64,
+    )
+    .await?;
     let logged = db::pass_logs::for_build(&mut conn, pc.pass.build_id).await?;
     let others: Vec<(i64, String)> = passes
         .iter()
@@ -451,7 +467,8 @@ async fn render_with(
         problem,
         upload_error,
     };
-    Ok((status, Html(page.render()?)).into_response())
+    let zone = page.page.zone.clone();
+    Ok((page.render()?, zone))
 }
 
 /// POST /passes/{id}/log: the file (multipart, with the CSRF token), its layout read at once;
