@@ -137,6 +137,10 @@ impl ShowPage {
         self.d.log_of(pass_id)
     }
 
+    pub fn heading(&self) -> String {
+        build_title(&self.d.build)
+    }
+
     /// Whether the build is retired: its page shows the record but no entry forms.
     pub fn retired(&self) -> bool {
         self.d.build.data.status == "retired"
@@ -325,7 +329,7 @@ pub async fn render_page(
     let d = db::dossier::load(conn, id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let title = format!("{} – {}", d.owner.customer_name, build_title(&d.build));
+    let title = page_title(&d.owner.customer_name, &d.build);
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
     let facts = BuildFacts::of(&d, &settings);
     let rate_used = match (
@@ -430,10 +434,15 @@ fn default_forms(forms: EntryForms, ctx: &Ctx, d: &Dossier) -> FilledForms {
 /// A build's name for headings: its label, or its number.
 pub fn build_title(build: &Build) -> String {
     if build.data.label.is_empty() {
-        format!("build #{}", build.id)
+        format!("Clutch build #{}", build.id)
     } else {
         build.data.label.clone()
     }
+}
+
+/// The browser title of a build's pages: "customer – build".
+pub fn page_title(customer_name: &str, build: &Build) -> String {
+    format!("{customer_name} – {}", build_title(build))
 }
 
 pub async fn show(

@@ -320,11 +320,7 @@ async fn render_with(
     let build = db::builds::by_id(&mut conn, pc.pass.build_id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let build_label = if build.data.label.is_empty() {
-        format!("Clutch build #{}", build.id)
-    } else {
-        build.data.label.clone()
-    };
+    let build_label = super::builds::build_title(&build);
     let log = db::pass_logs::summary(&mut conn, id).await?;
     let passes = db::passes::page_for_build(
         &mut conn,

@@ -7,7 +7,7 @@ use axum::response::Html;
 use serde::Deserialize;
 
 use super::AppState;
-use super::builds::build_title;
+use super::builds::page_title;
 use super::extract::{CurrentUser, PathId};
 use super::layout::Layout;
 use crate::db;
@@ -72,7 +72,7 @@ async fn title_of(conn: &mut sqlx::SqliteConnection, id: i64) -> AppResult<Strin
         .await?
         .ok_or(AppError::NotFound)?;
     let owner = db::builds::owner(conn, id).await?;
-    Ok(format!("{} – {}", owner.customer_name, build_title(&build)))
+    Ok(page_title(&owner.customer_name, &build))
 }
 
 /// GET /builds/{id}/passes: every pass, newest first.
