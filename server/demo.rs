@@ -4,7 +4,6 @@
 
 use sqlx::{SqliteConnection, SqlitePool};
 
-use crate::clutch::units::Units;
 use crate::records::bench::{BenchInput, SpringReading};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
@@ -16,6 +15,7 @@ use crate::records::setup::SetupInput;
 use crate::records::user::{NewUser, Role};
 use crate::records::{Ctx, FieldErrors, field};
 use crate::{auth, db};
+use clutch::units::Units;
 
 mod log;
 
@@ -555,7 +555,7 @@ async fn seed_log(
     car_id: i64,
     pass_id: i64,
 ) -> Result<(), DemoError> {
-    use crate::clutch::log_analysis::{CarFacts, LogColumns, LogSettings, TimeUnit};
+    use clutch::datalog::request::{CarFacts, LogColumns, LogSettings, TimeUnit};
     let Some(car) = db::cars::by_id(tx, car_id).await? else {
         return Ok(());
     };

@@ -8,8 +8,6 @@ pub mod auth;
 pub mod backup;
 /// What each command of the binary does.
 pub mod cli;
-/// Pure clutch engineering: springs, clamp, capacity, friction, wear (no IO).
-pub mod clutch;
 /// The command line and its environment variables.
 pub mod config;
 /// SQLite access, one module per table or aggregate.

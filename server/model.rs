@@ -7,24 +7,6 @@ use std::collections::HashMap;
 /// A stored build's launch preview request, with estimates for what the car's record lacks.
 pub mod launch;
 
-use crate::clutch::InputError;
-use crate::clutch::calibrate::{
-    CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_request,
-    drifting,
-};
-use crate::clutch::capacity::Theory;
-use crate::clutch::friction::FacingMaterial;
-use crate::clutch::quantity::limits;
-use crate::clutch::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
-use crate::clutch::report::{CapacityReport, report_for};
-use crate::clutch::request::{
-    CapacityRequest, DiscInput, DrivelineInput, EngineInput, FrictionInput, LeversInput,
-    SpringsInput,
-};
-use crate::clutch::spring_health::{self, TestReview};
-use crate::clutch::springs::BenchPoint;
-use crate::clutch::units::Units;
-use crate::clutch::wear::{Measurement, WearRequest};
 use crate::db::bench::BenchTest;
 use crate::db::builds::ActiveBuild;
 use crate::db::dossier::Dossier;
@@ -35,6 +17,24 @@ use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
+use clutch::InputError;
+use clutch::calibration::{
+    CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_request,
+    drifting,
+};
+use clutch::capacity::friction::FacingMaterial;
+use clutch::capacity::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
+use clutch::capacity::report::{CapacityReport, report_for};
+use clutch::capacity::request::{
+    CapacityRequest, DiscInput, DrivelineInput, EngineInput, FrictionInput, LeversInput,
+    SpringsInput,
+};
+use clutch::capacity::spring_health::{self, TestReview};
+use clutch::capacity::springs::BenchPoint;
+use clutch::capacity::torque::Theory;
+use clutch::quantity::limits;
+use clutch::units::Units;
+use clutch::wear::{Measurement, WearRequest};
 
 /// The settings a capacity figure is for: the recorded setup, or one being tried.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -231,7 +231,7 @@ impl BuildFacts<'_> {
         let setup = self
             .capacity_request(current)
             .map_err(|missing| InputError::new("build", missing))?;
-        let recommendation = crate::clutch::recommend(&RecommendRequest {
+        let recommendation = clutch::capacity::recommend::recommend(&RecommendRequest {
             setup: setup.in_units(units),
             targets: Targets {
                 lockup_rpm: targets.lockup_rpm,
@@ -463,7 +463,7 @@ impl BuildFacts<'_> {
             1.0,
         );
         let ratio =
-            crate::clutch::datalog::median_ratio(&log.window(), |rpm| law.capacity_nm(rpm))?;
+            clutch::datalog::analysis::median_ratio(&log.window(), |rpm| law.capacity_nm(rpm))?;
         let rpm = pass
             .data
             .observed_lockup_rpm
@@ -488,7 +488,7 @@ impl BuildFacts<'_> {
     pub fn clamp_loss<H: AsRef<HeightInput>>(&self, heights: &[H]) -> f64 {
         wear_request(self.build, self.settings, self.spring_rate(), heights)
             .ok()
-            .and_then(|req| crate::clutch::wear::analyze(&req).ok())
+            .and_then(|req| clutch::wear::analyze(&req).ok())
             .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))
             .unwrap_or(0.0)
     }
@@ -792,9 +792,9 @@ pub fn work_due(
         };
         let rate = tested.or(b.data.spring_rate_n_per_mm);
         if let Ok(req) = wear_request(&b.data, settings, rate, own)
-            && let Ok(report) = crate::clutch::wear::analyze(&req)
+            && let Ok(report) = clutch::wear::analyze(&req)
         {
-            use crate::clutch::wear::WearStatus;
+            use clutch::wear::WearStatus;
             let reason = match report.status {
                 WearStatus::DiscDue => Some(DueReason::DiscDue),
                 WearStatus::ShimDue => Some(DueReason::ShimDue(report.next_shim)),

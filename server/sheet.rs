@@ -4,9 +4,6 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::clutch::recommend::Recommendation;
-use crate::clutch::units::Units;
-use crate::clutch::wear::{WearReport, analyze};
 use crate::db::dossier::Dossier;
 use crate::model::{self, BuildFacts, Figures, Trial, TuningTargets};
 use crate::records::build::BuildInput;
@@ -14,6 +11,9 @@ use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
+use clutch::capacity::recommend::Recommendation;
+use clutch::units::Units;
+use clutch::wear::{WearReport, analyze};
 
 /// Everything a sheet was printed from, stored with it as JSON.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

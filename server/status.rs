@@ -9,7 +9,6 @@
 
 use sqlx::SqliteConnection;
 
-use crate::clutch::wear::{self, WearStatus};
 use crate::db;
 use crate::db::bench::BenchTest;
 use crate::db::heights::Height;
@@ -17,6 +16,7 @@ use crate::db::status::{BuildStatus, Listed};
 use crate::model::{self, Due, DueReason};
 use crate::records::build::BuildInput;
 use crate::records::settings::SettingsInput;
+use clutch::wear::{self, WearStatus};
 
 /// A build's status from its whole history: its cover heights (recorded order) and bench tests
 /// (oldest first), with the shop's limits. Independent of the "due within" window.

@@ -1,10 +1,10 @@
 //! Request-level tests of the calculation API: capacity and recommend, through JSON.
 
-use super::InputError;
-use super::recommend::{RecommendRequest, recommend};
-use super::report::{CapacityReport, capacity};
-use super::request::CapacityRequest;
-use super::units::{MM_PER_IN, N_PER_LBF, NM_PER_LBFFT, Units};
+use crate::InputError;
+use crate::capacity::recommend::{RecommendRequest, recommend};
+use crate::capacity::report::{CapacityReport, capacity};
+use crate::capacity::request::CapacityRequest;
+use crate::units::{MM_PER_IN, N_PER_LBF, NM_PER_LBFFT, Units};
 use proptest::prelude::*;
 
 const EXAMPLE: &str = r#"{"units": "imperial",
@@ -253,7 +253,7 @@ fn invalid_inputs_name_their_field() {
         "springs.adjuster_turns",
     );
     if let Some(l) = example().levers {
-        let lever = |edit: &dyn Fn(&mut super::request::LeversInput), field: &str| {
+        let lever = |edit: &dyn Fn(&mut crate::capacity::request::LeversInput), field: &str| {
             let mut l = l.clone();
             edit(&mut l);
             check(&|r| r.levers = Some(l.clone()), field);
@@ -269,7 +269,7 @@ fn invalid_inputs_name_their_field() {
 #[test]
 fn over_clamp_against_the_driveline_is_warned() {
     let mut r = example();
-    r.driveline = Some(super::request::DrivelineInput {
+    r.driveline = Some(crate::capacity::request::DrivelineInput {
         rated_torque: 300.0,
     });
     let rep = capacity(&r).expect("valid");

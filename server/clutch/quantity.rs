@@ -5,8 +5,8 @@
 //! s, %); [`Kind`] converts to and from the shop's display units at the edges, and [`Limit`]
 //! says what range is accepted and words a refusal in the units the person typed in.
 
-use super::InputError;
-use super::units::Units;
+use crate::InputError;
+use crate::units::Units;
 
 /// The physical kind of a number, which fixes its internal unit and how it is shown.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

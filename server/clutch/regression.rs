@@ -3,7 +3,7 @@
 //! Computed from centred sums (two passes: means first, then deviations), which keeps full
 //! precision on data with a large offset, unlike the one-pass Σx², Σxy textbook form.
 
-use super::InputError;
+use crate::InputError;
 
 /// A fitted straight line and how well it fits.
 #[derive(Debug, Clone, Copy, PartialEq)]

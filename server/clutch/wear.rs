@@ -9,10 +9,10 @@
 //! All lengths are in one unit (in or mm), the rate in that force per that length, so no
 //! conversion is needed: clamp loss comes out in lbf or N.
 
-use super::InputError;
-use super::quantity::{Limit, limits};
-use super::regression::fit_line;
-use super::units::Units;
+use crate::InputError;
+use crate::quantity::{Limit, limits};
+use crate::regression::fit_line;
+use crate::units::Units;
 use serde::{Deserialize, Serialize};
 
 /// Heights, shims and wear closer than this to a limit count as at the limit, in mm

@@ -36,7 +36,7 @@ impl Dossier {
 }
 
 /// The most passes loaded with a build: the most a calibration uses.
-pub const PASSES_LOADED: usize = crate::clutch::quantity::limits::CALIBRATION_PASSES_MAX;
+pub const PASSES_LOADED: usize = clutch::quantity::limits::CALIBRATION_PASSES_MAX;
 
 /// The build and all its records (its newest passes), or `None` when there is no such (live) build.
 pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Option<Dossier>> {

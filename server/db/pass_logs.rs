@@ -6,7 +6,7 @@ use std::io::{Read, Write};
 use serde::Serialize;
 use sqlx::{FromRow, SqliteConnection};
 
-use crate::clutch::log_analysis::LogSettings;
+use clutch::datalog::request::LogSettings;
 
 /// What the pages and the calibration read of a stored log (the file stays in the table).
 #[derive(Debug, Clone, Serialize, FromRow)]

@@ -3,7 +3,7 @@
 //! a quarter of the rate with blank cells between, a little sensor noise). Deterministic: the
 //! same text every time.
 
-use crate::clutch::units::{M_S_PER_MPH, RAD_S_PER_RPM};
+use clutch::units::{M_S_PER_MPH, RAD_S_PER_RPM};
 
 /// Engine inertia the demo's log settings use, kg·m² (invented).
 pub const ENGINE_INERTIA_KGM2: f64 = 0.20;

@@ -4,13 +4,13 @@
 //! request units, so nothing is converted here. No IO.
 
 use super::{BuildFacts, Missing, Trial};
-use crate::clutch::launch_request::{
+use crate::records::car::CarInput;
+use clutch::launch::request::{
     DEFAULT_AIR_DENSITY, LaunchDriveline, LaunchEngine, LaunchFriction, LaunchRequest,
     LaunchVehicle, ThermalInput,
 };
-use crate::clutch::quantity::Kind;
-use crate::clutch::units::Units;
-use crate::records::car::CarInput;
+use clutch::quantity::Kind;
+use clutch::units::Units;
 
 /// An estimate for one car value the record leaves empty.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -250,7 +250,7 @@ impl BuildFacts<'_> {
                 driveline,
                 vehicle,
                 thermal: Some(thermal),
-                step_ms: crate::clutch::launch_request::DEFAULT_STEP_MS,
+                step_ms: clutch::launch::request::DEFAULT_STEP_MS,
                 duration_s: PREVIEW_SECONDS,
             },
             estimated: used,

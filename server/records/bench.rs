@@ -4,8 +4,8 @@ use serde::Deserialize;
 
 use super::field::{self, Ctx, Field, Record, Value, parse_number};
 use super::{Checked, FieldErrors, FormData};
-use crate::clutch::quantity::{Bound, Kind, Limit, limits};
-use crate::clutch::units::Units;
+use clutch::quantity::{Bound, Kind, Limit, limits};
+use clutch::units::Units;
 
 #[derive(Debug, Clone, Default, Deserialize)]
 #[serde(default)]

@@ -4,8 +4,8 @@ use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
 use super::field::{Ctx, Field, Record, Value};
-use crate::clutch::friction::FacingMaterial;
-use crate::clutch::quantity::limits;
+use clutch::capacity::friction::FacingMaterial;
+use clutch::quantity::limits;
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]

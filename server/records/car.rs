@@ -3,7 +3,7 @@
 use serde::{Deserialize, Serialize};
 
 use super::field::{Field, Record, Value};
-use crate::clutch::quantity::limits;
+use clutch::quantity::limits;
 
 #[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]

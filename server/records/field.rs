@@ -7,8 +7,8 @@ use serde_json::Value as Json;
 
 use super::date::Date;
 use super::{FieldErrors, FormData};
-use crate::clutch::quantity::{Kind, Limit};
-use crate::clutch::units::Units;
+use clutch::quantity::{Kind, Limit};
+use clutch::units::Units;
 
 /// What a check needs to know beyond the record: the units the person reads (so messages quote
 /// limits in them) and the shop's today (so a date cannot lie in the future).
@@ -436,7 +436,7 @@ fn check_curve(
         return Ok(Vec::new());
     }
     let pairs: Vec<(f64, f64)> = points.iter().map(|p| (p[0], p[1])).collect();
-    match crate::clutch::torque_curve::TorqueCurve::new(&pairs, column, units) {
+    match clutch::capacity::torque_curve::TorqueCurve::new(&pairs, column, units) {
         Ok(curve) => Ok(curve.points().map(|(r, t)| [r, t]).collect()),
         Err(e) => Err((split_path(&e.field).1, e.message)),
     }

@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::field::{self, Ctx, Field, Record, Value};
 use super::{Checked, FieldErrors};
-use crate::clutch::quantity::{Bound, Kind, Limit, limits};
+use clutch::quantity::{Bound, Kind, Limit, limits};
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]

@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
 use super::field::{Ctx, Field, Record, Value};
-use crate::clutch::quantity::limits;
+use clutch::quantity::limits;
 
 #[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]

@@ -6,8 +6,8 @@ use super::FieldErrors;
 use super::customer::check_email;
 use super::date::ShopZone;
 use super::field::{Ctx, Field, Record, Value};
-use crate::clutch::quantity::limits;
-use crate::clutch::units::Units;
+use clutch::quantity::limits;
+use clutch::units::Units;
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 pub struct SettingsInput {

@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
 use super::field::{Ctx, Field, Record, Value};
-use crate::clutch::quantity::{Kind, limits};
+use clutch::quantity::{Kind, limits};
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
 #[serde(default)]
@@ -38,7 +38,7 @@ impl SetupInput {
     /// Whether the adjusters were recorded at different settings (they must all match).
     pub fn unequal_adjusters(&self) -> bool {
         !self.adjuster_turns_each.is_empty()
-            && crate::clutch::clamp::check_adjusters(
+            && clutch::capacity::clamp::check_adjusters(
                 &self.adjuster_turns_each,
                 "adjuster_turns_each",
             )
@@ -118,7 +118,7 @@ impl Record for SetupInput {
     fn check_more(&mut self, ctx: &Ctx, errors: &mut FieldErrors) {
         // The figures use `adjuster_turns`: it must be what the adjusters average.
         if !self.adjuster_turns_each.is_empty()
-            && let Ok(c) = crate::clutch::clamp::check_adjusters(
+            && let Ok(c) = clutch::capacity::clamp::check_adjusters(
                 &self.adjuster_turns_each,
                 "adjuster_turns_each",
             )

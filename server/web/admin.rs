@@ -9,7 +9,6 @@ use super::AppState;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::Layout;
 use crate::auth;
-use crate::clutch::units::Units;
 use crate::db;
 use crate::db::users::User;
 use crate::error::{AppError, AppResult};
@@ -18,6 +17,7 @@ use crate::records::field;
 use crate::records::settings::SettingsInput;
 use crate::records::user::{NewUser, Role, check_password};
 use crate::records::{Ctx, FieldErrors, FormData};
+use clutch::units::Units;
 
 #[derive(Template)]
 #[template(path = "admin/settings.html")]

@@ -15,8 +15,6 @@ use super::extract::{CurrentUser, PathId, SignedForm};
 use super::flash::{self, Flash};
 use super::layout::Layout;
 use super::wear::{self, WearFigures, WearView};
-use crate::clutch::friction::FacingMaterial;
-use crate::clutch::springs::SetSpread;
 use crate::db;
 use crate::db::bench::{BenchSpring, BenchTest};
 use crate::db::builds::Build;
@@ -34,6 +32,8 @@ use crate::records::height::HeightInput;
 use crate::records::pass::PassInput;
 use crate::records::settings::SettingsInput;
 use crate::records::{Ctx, FieldErrors, FormData, field};
+use clutch::capacity::friction::FacingMaterial;
+use clutch::capacity::springs::SetSpread;
 
 /// One quick-entry form on the build page: what was typed and what was wrong with it.
 #[derive(Debug, Clone, Default)]
@@ -120,7 +120,7 @@ impl ShowPage {
 
     /// Whether a shim is due now (the shim-pull form opens by itself).
     pub fn shim_due(&self) -> bool {
-        matches!(&self.wear, Ok(w) if w.report.status == crate::clutch::wear::WearStatus::ShimDue)
+        matches!(&self.wear, Ok(w) if w.report.status == clutch::wear::WearStatus::ShimDue)
     }
 
     /// The passes the page lists: the newest [`RECENT_ROWS`] (all of them on their own page).
@@ -191,7 +191,7 @@ impl ShowPage {
             return lines;
         }
         if let Ok(w) = &self.wear {
-            if w.report.status != crate::clutch::wear::WearStatus::Ok {
+            if w.report.status != clutch::wear::WearStatus::Ok {
                 lines.push(w.headline.clone());
             }
             lines.extend(
@@ -355,7 +355,7 @@ pub async fn render_page(
         .ok()
         .map(|f| capacity_chart(&page.u, &f.report, None));
     let wear = facts.wear(&d.heights).and_then(|req| {
-        crate::clutch::wear::analyze(&req)
+        clutch::wear::analyze(&req)
             .map(|report| wear::view(&page.u, report, &d.heights, req.shimming_limit))
             .map_err(|e| format!("{}: {}", e.field, e.message))
     });

@@ -7,16 +7,16 @@ use axum::extract::{Query, State};
 use super::AppState;
 use super::api::Id;
 use super::extract::{ApiJson, ApiUser};
-use crate::clutch::InputError;
-use crate::clutch::calibrate::{CalibrateRequest, CalibrationReport, Fit};
-use crate::clutch::launch_request::{LaunchReport, LaunchRequest};
-use crate::clutch::recommend::{RecommendRequest, Recommendation};
-use crate::clutch::report::CapacityReport;
-use crate::clutch::request::CapacityRequest;
-use crate::clutch::wear::{WearReport, WearRequest};
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::model::BuildFacts;
+use clutch::InputError;
+use clutch::calibration::{CalibrateRequest, CalibrationReport, Fit};
+use clutch::capacity::recommend::{RecommendRequest, Recommendation};
+use clutch::capacity::report::CapacityReport;
+use clutch::capacity::request::CapacityRequest;
+use clutch::launch::request::{LaunchReport, LaunchRequest};
+use clutch::wear::{WearReport, WearRequest};
 
 fn invalid(err: InputError) -> ApiError {
     ApiError(AppError::field(&err.field, err.message))
@@ -26,35 +26,37 @@ pub async fn capacity(
     _: ApiUser,
     ApiJson(req): ApiJson<CapacityRequest>,
 ) -> ApiResult<CapacityReport> {
-    crate::clutch::capacity(&req).map(Json).map_err(invalid)
+    clutch::capacity::report::capacity(&req)
+        .map(Json)
+        .map_err(invalid)
 }
 
 pub async fn recommend(
     _: ApiUser,
     ApiJson(req): ApiJson<RecommendRequest>,
 ) -> ApiResult<Recommendation> {
-    crate::clutch::recommend(&req).map(Json).map_err(invalid)
+    clutch::capacity::recommend::recommend(&req)
+        .map(Json)
+        .map_err(invalid)
 }
 
 pub async fn calibrate(
     _: ApiUser,
     ApiJson(req): ApiJson<CalibrateRequest>,
 ) -> ApiResult<CalibrationReport> {
-    crate::clutch::calibrate::calibrate_request(&req)
+    clutch::calibration::calibrate_request(&req)
         .map(Json)
         .map_err(invalid)
 }
 
 pub async fn launch(_: ApiUser, ApiJson(req): ApiJson<LaunchRequest>) -> ApiResult<LaunchReport> {
-    crate::clutch::launch_request::launch(&req)
+    clutch::launch::request::launch(&req)
         .map(Json)
         .map_err(invalid)
 }
 
 pub async fn wear(_: ApiUser, ApiJson(req): ApiJson<WearRequest>) -> ApiResult<WearReport> {
-    crate::clutch::wear::analyze(&req)
-        .map(Json)
-        .map_err(invalid)
+    clutch::wear::analyze(&req).map(Json).map_err(invalid)
 }
 
 /// The wear of a stored build, in storage units (mm, N).
@@ -71,9 +73,7 @@ pub async fn build_wear(
     let request = BuildFacts::of(&dossier, &settings)
         .wear(&dossier.heights)
         .map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
-    crate::clutch::wear::analyze(&request)
-        .map(Json)
-        .map_err(invalid)
+    clutch::wear::analyze(&request).map(Json).map_err(invalid)
 }
 
 /// `?fit=mu_and_gain` on a stored build's calibration (default `mu`).
@@ -99,8 +99,7 @@ pub async fn build_calibration(
     let input = BuildFacts::of(&dossier, &settings)
         .calibration(&dossier, query.fit)
         .map_err(|missing| ApiError(AppError::field("passes", missing)))?;
-    let mut report =
-        crate::clutch::calibrate::calibrate_request(&input.request).map_err(invalid)?;
+    let mut report = clutch::calibration::calibrate_request(&input.request).map_err(invalid)?;
     report.notes.extend(input.notes);
     Ok(Json(report))
 }

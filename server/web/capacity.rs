@@ -15,10 +15,6 @@ use super::extract::{CurrentUser, PathId};
 use super::launch::LaunchColumn;
 use super::layout::Layout;
 use super::show::Show;
-use crate::clutch::launch_target::LaunchTarget;
-use crate::clutch::quantity::{Kind, limits};
-use crate::clutch::recommend::Recommendation;
-use crate::clutch::report::CapacityReport;
 use crate::db;
 use crate::db::dossier::Dossier;
 use crate::error::{AppError, AppResult};
@@ -28,6 +24,10 @@ use crate::model::{
 use crate::records::date::ShopZone;
 use crate::records::setup::SetupInput;
 use crate::records::{Ctx, FieldErrors, FormData, field};
+use clutch::capacity::recommend::Recommendation;
+use clutch::capacity::report::CapacityReport;
+use clutch::launch::target::LaunchTarget;
+use clutch::quantity::{Kind, limits};
 
 /// The capacity chart: engine torque, clutch capacity, its static share, the slip region, and
 /// the launch and lockup speeds marked. `before` adds the current setting for comparison.
@@ -620,7 +620,7 @@ pub fn calibration_verdict(c: &BuildCalibration) -> Vec<String> {
             "Not enough data yet: {} pass{} with a lockup seen; at least {} are needed before this value should steer a setting.",
             r.n,
             if r.n == 1 { "" } else { "es" },
-            crate::clutch::calibrate::ENOUGH_PASSES
+            clutch::calibration::ENOUGH_PASSES
         ));
     }
     match c.drifting {

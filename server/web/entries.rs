@@ -11,7 +11,6 @@ use super::AppState;
 use super::builds::{EntryForm, EntryForms, render_page};
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::flash;
-use crate::clutch::units::Units;
 use crate::db;
 use crate::db::builds::Build;
 use crate::error::{AppError, AppResult};
@@ -23,6 +22,7 @@ use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::{Checked, Ctx, FieldErrors, FormData, field};
 use crate::status;
+use clutch::units::Units;
 
 /// Which of the build page's forms was sent.
 #[derive(Clone, Copy)]

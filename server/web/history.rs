@@ -9,12 +9,12 @@ use super::AppState;
 use super::extract::{CurrentUser, PathId};
 use super::layout::Layout;
 use super::show::Show;
-use crate::clutch::units::Units;
 use crate::db;
 use crate::db::audit::Entry;
 use crate::error::{AppError, AppResult};
 use crate::records::date::ShopZone;
 use crate::records::field;
+use clutch::units::Units;
 
 /// One line of history in words.
 pub struct Line {

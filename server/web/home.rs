@@ -11,7 +11,6 @@ use super::customers::ListQuery;
 use super::extract::CurrentUser;
 use super::layout::Layout;
 use super::wear;
-use crate::clutch::wear::WearStatus;
 use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
@@ -19,6 +18,7 @@ use crate::error::AppResult;
 use crate::model::{Due, DueReason};
 use crate::records::date::ShopZone;
 use crate::status;
+use clutch::wear::WearStatus;
 
 #[derive(Template)]
 #[template(path = "home.html")]

@@ -3,12 +3,12 @@
 
 use super::chart::Chart;
 use super::show::Show;
-use crate::clutch::launch::LaunchRun;
-use crate::clutch::launch_request::{LaunchReport, describe};
-use crate::clutch::launch_target::{Grid, LaunchTarget, find_counterweight};
-use crate::clutch::units::Units;
 use crate::model::launch::LaunchPlan;
 use crate::model::{BuildFacts, Trial};
+use clutch::launch::request::{LaunchReport, describe};
+use clutch::launch::simulation::LaunchRun;
+use clutch::launch::target::{Grid, LaunchTarget, find_counterweight};
+use clutch::units::Units;
 
 /// One setting's launch, ready to show.
 pub struct LaunchColumn {

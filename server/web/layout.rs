@@ -5,12 +5,12 @@ use sqlx::SqliteConnection;
 
 use super::extract::CurrentUser;
 use super::show::Show;
-use crate::clutch::units::Units;
 use crate::db;
 use crate::error::AppResult;
 use crate::records::Ctx;
 use crate::records::date::ShopZone;
 use crate::records::settings::SettingsInput;
+use clutch::units::Units;
 
 pub struct Layout {
     pub title: String,

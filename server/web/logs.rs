@@ -9,16 +9,16 @@ use sqlx::SqliteConnection;
 
 use super::AppState;
 use super::extract::{ApiJson, ApiUser, CurrentUser, PathId};
-use crate::clutch::InputError;
-use crate::clutch::log_analysis::{
-    CarFacts, LogAnalysisReport, LogAnalysisRequest, LogColumns, LogResult, LogSettings, TimeUnit,
-};
-use crate::clutch::quantity::limits;
-use crate::clutch::units::Units;
 use crate::db;
 use crate::db::cars::Car;
 use crate::db::passes::Pass;
 use crate::error::{ApiError, ApiResult, AppError};
+use clutch::InputError;
+use clutch::datalog::request::{
+    CarFacts, LogAnalysisReport, LogAnalysisRequest, LogColumns, LogResult, LogSettings, TimeUnit,
+};
+use clutch::quantity::limits;
+use clutch::units::Units;
 
 /// Largest body of a log upload: the largest file, with room for JSON escaping or the
 /// multipart envelope.
@@ -34,7 +34,7 @@ pub async fn calc(
     ApiJson(req): ApiJson<LogAnalysisRequest>,
 ) -> ApiResult<LogAnalysisReport> {
     // Parsing a large file is CPU work: off the async threads.
-    tokio::task::spawn_blocking(move || crate::clutch::log_analysis::analyze_request(&req))
+    tokio::task::spawn_blocking(move || clutch::datalog::request::analyze_request(&req))
         .await
         .map_err(|e| ApiError(AppError::Internal(e.to_string())))?
         .map(Json)

@@ -18,15 +18,15 @@ use super::chart::Chart;
 use super::extract::{CurrentUser, PathId, SignedForm};
 use super::layout::Layout;
 use super::logs::{PassCar, pass_car, save};
-use crate::clutch::InputError;
-use crate::clutch::log_analysis::{LogColumns, LogResult, LogSettings, TimeUnit};
-use crate::clutch::logfile;
-use crate::clutch::quantity::{Kind, limits};
 use crate::db;
 use crate::db::pass_logs::LogSummary;
 use crate::error::{AppError, AppResult};
 use crate::records::FieldErrors;
 use crate::records::date::ShopZone;
+use clutch::InputError;
+use clutch::datalog::file;
+use clutch::datalog::request::{LogColumns, LogResult, LogSettings, TimeUnit};
+use clutch::quantity::{Kind, limits};
 
 /// Uploads waiting for their mapping, at most this many at once (the oldest goes first).
 const STAGED_MAX: usize = 6;
@@ -539,7 +539,7 @@ pub async fn upload(
     } else if text.len() > limits::LOG_FILE_BYTES {
         Some(too_large())
     } else {
-        logfile::layout(&text).err().map(|e| {
+        file::layout(&text).err().map(|e| {
             format!(
                 "This file cannot be read as a data log: {}. Nothing was saved.",
                 e.message
@@ -642,7 +642,7 @@ impl MapPage {
         settings: &LogSettings,
         errors: FieldErrors,
     ) -> Result<Self, InputError> {
-        let layout = logfile::layout(text)?;
+        let layout = file::layout(text)?;
         let delimiter = match layout.delimiter {
             b'\t' => "tabs",
             b';' => "semicolons",
@@ -666,7 +666,7 @@ impl MapPage {
             .iter()
             .map(|&(key, label, required)| {
                 let remembered = column_of(&settings.columns, key).unwrap_or("");
-                let selected = logfile::find(&layout.names, remembered)
+                let selected = file::find(&layout.names, remembered)
                     .map(|i| layout.names[i].clone())
                     .unwrap_or_default();
                 Choice {

@@ -15,17 +15,17 @@ use super::flash::{self, Flash};
 use super::show::Show;
 use super::wear;
 use crate::auth;
-use crate::clutch::friction::{FacingMaterial, HeatTrend};
-use crate::clutch::quantity::limits;
-use crate::clutch::recommend::Recommendation;
-use crate::clutch::units::Units;
-use crate::clutch::wear::WearReport;
 use crate::db;
 use crate::db::sheets::{Link, LinkState, Sheet};
 use crate::error::{AppError, AppResult};
 use crate::model::{Trial, TuningTargets};
 use crate::records::{FieldErrors, field};
 use crate::sheet::{self, SheetFigures, SheetInputs};
+use clutch::capacity::friction::{FacingMaterial, HeatTrend};
+use clutch::capacity::recommend::Recommendation;
+use clutch::quantity::limits;
+use clutch::units::Units;
+use clutch::wear::WearReport;
 
 /// Days a customer's link lasts unless the shop says otherwise.
 pub const DEFAULT_LINK_DAYS: i64 = 30;

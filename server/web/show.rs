@@ -1,10 +1,10 @@
 //! Numbers as the shop reads them: converted to its units, rounded the shop's way, unit attached.
 //! Heights to 0.001 in or 0.01 mm; forces, torque and speed whole; counterweights to 0.1 g.
 
-use crate::clutch::lockup::lockup_text;
-use crate::clutch::quantity::Kind;
-use crate::clutch::units::Units;
 use crate::model::Trial;
+use clutch::capacity::lockup::lockup_text;
+use clutch::quantity::Kind;
+use clutch::units::Units;
 
 /// A number a template hands over, by value or by reference (askama passes arguments by
 /// reference, and loop variables add another level).
@@ -224,7 +224,7 @@ pub fn thread_text(b: &crate::records::build::BuildInput) -> String {
 
 /// A build's facing material in words.
 pub fn material_text(b: &crate::records::build::BuildInput) -> String {
-    crate::clutch::friction::FacingMaterial::from_key(&b.facing_material)
+    clutch::capacity::friction::FacingMaterial::from_key(&b.facing_material)
         .map_or_else(|| b.facing_material.clone(), |m| m.label().to_string())
 }
 

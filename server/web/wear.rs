@@ -3,9 +3,9 @@
 
 use super::chart::Chart;
 use super::show::Show;
-use crate::clutch::wear::{WearReport, WearStatus};
 use crate::db::heights::Height;
 use crate::model::current_disc;
+use clutch::wear::{WearReport, WearStatus};
 
 /// Growth, total disc wear and clamp lost at one measurement (storage units).
 pub type WearFigures = (f64, f64, f64);

@@ -5,10 +5,10 @@
 //! refused with the table, row and column it is in.
 
 use super::{Cell, ExportError};
-use crate::clutch::units::Units;
 use crate::records::FieldErrors;
 use crate::records::date::{Date, ShopZone};
 use crate::records::field::{self, Ctx, Field, Record, RecordVisitor, Value, for_table};
+use clutch::units::Units;
 
 /// Where a row is, for messages: `table "builds", row 3 (id 7)`. Rows count from 1 in the
 /// document's order; `n` counts from 0.

@@ -5,14 +5,14 @@
 
 use std::hint::black_box;
 
-use criterion::{Criterion, criterion_group, criterion_main};
-use lockpoint::clutch::launch_target::{Grid, LaunchTarget, find_counterweight};
-use lockpoint::clutch::lockup::curve_at;
-use lockpoint::clutch::recommend::{Limits, RecommendRequest, Steps, Targets};
-use lockpoint::clutch::request::{
+use clutch::capacity::lockup::curve_at;
+use clutch::capacity::recommend::{Limits, RecommendRequest, Steps, Targets};
+use clutch::capacity::request::{
     CapacityRequest, DiscInput, EngineInput, FrictionInput, LeversInput, SpringsInput,
 };
-use lockpoint::clutch::units::Units;
+use clutch::launch::target::{Grid, LaunchTarget, find_counterweight};
+use clutch::units::Units;
+use criterion::{Criterion, criterion_group, criterion_main};
 
 fn request() -> CapacityRequest {
     CapacityRequest {
@@ -68,7 +68,7 @@ fn request() -> CapacityRequest {
 
 /// The reference launch body with a torque curve long enough (to 10 000 rpm) that the run goes
 /// the full 3 s: 6000 steps of RK4 with lock, sixty feet and the trace.
-fn launch_request() -> lockpoint::clutch::launch_request::LaunchRequest {
+fn launch_request() -> clutch::launch::request::LaunchRequest {
     serde_json::from_value(serde_json::json!({
         "units": "metric",
         "disc": { "outer_diameter": 240, "inner_diameter": 160, "count": 2 },
@@ -122,7 +122,7 @@ fn benches(c: &mut Criterion) {
         limits: Limits::default(),
     };
     c.bench_function("recommendation, lockup and launch targets", |b| {
-        b.iter(|| lockpoint::clutch::recommend(black_box(&rec)).unwrap())
+        b.iter(|| clutch::capacity::recommend::recommend(black_box(&rec)).unwrap())
     });
 }
 

@@ -4,8 +4,8 @@
 
 use std::hint::black_box;
 
+use clutch::datalog::request::LogAnalysisRequest;
 use criterion::{Criterion, criterion_group, criterion_main};
-use lockpoint::clutch::log_analysis::LogAnalysisRequest;
 
 fn bench(c: &mut Criterion) {
     let text = lockpoint_e2e::logfile::text(215_000);

@@ -6,7 +6,7 @@
 
 use std::time::Instant;
 
-use lockpoint::clutch::log_analysis::LogAnalysisRequest;
+use clutch::datalog::request::LogAnalysisRequest;
 
 fn vm_hwm_kb() -> u64 {
     std::fs::read_to_string("/proc/self/status")

@@ -4,7 +4,7 @@ fn flat_curve(nm: f64) -> TorqueCurve {
     TorqueCurve::new(
         &[(3000.0, nm), (5500.0, nm), (8000.0, nm)],
         "engine.torque_curve",
-        crate::clutch::units::Units::Metric,
+        crate::units::Units::Metric,
     )
     .unwrap()
 }
@@ -141,8 +141,8 @@ impl Launch {
             let t = k as f64 * h;
             if k % per_sample == 0 {
                 s.time_s.push(t);
-                s.engine_rpm.push(we / super::super::units::RAD_S_PER_RPM);
-                s.input_rpm.push(wi / super::super::units::RAD_S_PER_RPM);
+                s.engine_rpm.push(we / crate::units::RAD_S_PER_RPM);
+                s.input_rpm.push(wi / crate::units::RAD_S_PER_RPM);
                 s.clutch_switch
                     .as_mut()
                     .unwrap()

@@ -6,56 +6,21 @@
 //! and from the shop's display units happens only in [`units`] and at the request edges.
 
 /// Friction (and lever gain) calibrated from passes with an observed lockup.
-pub mod calibrate;
-/// Torque capacity of a dry plate clutch and its effective friction radius.
+pub mod calibration;
+/// The clutch at rest and turning: springs, clamp, friction, capacity, lockup, recommendation.
 pub mod capacity;
-/// Clamp load: static spring load from compression, centrifugal load from the levers.
-pub mod clamp;
-/// A logged pass: launch, lockup, slip, clutch torque, slip power and energy, tyre spin.
+/// A logger's CSV file read and analysed: launch, lockup, slip, clutch torque, slip energy.
 pub mod datalog;
-/// Facing materials: friction coefficients, temperature limits, friction surfaces.
-pub mod friction;
 /// Launch preview: engine, slipping clutch, driveline and tyres simulated through a launch.
 pub mod launch;
-/// The launch preview request (as the API receives it), its validation and its answer.
-pub mod launch_request;
-/// The counterweight that meets a lockup-time target or a slip-energy limit in the launch preview.
-pub mod launch_target;
-/// Capacity against engine speed: the curve, the lockup speed, the launch ratio.
-pub mod lockup;
-/// The data-log analysis request (CSV text, column mapping) and its answer.
-pub mod log_analysis;
-/// Reading a logger's CSV export: delimiter, header, units line, decimal comma, blanks.
-pub mod logfile;
 /// Quantity kinds (internal and display units) and the one table of limits.
 pub mod quantity;
-/// Search for adjuster turns and counterweight that meet lockup and launch targets.
-pub mod recommend;
 /// Ordinary least-squares straight line, numerically careful.
 pub mod regression;
-/// The capacity calculation report, in the request's units, with warnings.
-pub mod report;
-/// The capacity calculation request (as received by the API) and its validation.
-pub mod request;
-/// Savitzky–Golay smoothing and derivatives.
-pub mod savgol;
-/// Slip energy during engagement and the temperature rise it causes.
-pub mod slip;
-/// A spring set across its bench tests: rates, spread, sag.
-pub mod spring_health;
-/// Coil springs: bench rate, set spread, sag between tests, rate from wire geometry.
-pub mod springs;
-/// Adjuster-screw threads: axial travel per turn from TPI or metric pitch.
-pub mod threads;
-/// Engine torque curve from dyno points, with linear interpolation.
-pub mod torque_curve;
 /// Unit systems (imperial / metric), exact conversion factors and labels.
 pub mod units;
 /// Disc wear from cover-height measurements and the shim stack.
 pub mod wear;
-
-pub use recommend::recommend;
-pub use report::capacity;
 
 /// A value the caller gave is missing, out of range or inconsistent.
 ///

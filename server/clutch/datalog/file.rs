@@ -4,7 +4,7 @@
 //! (NaN) for the caller to interpolate. Errors name the line (counted from 1, as an editor
 //! shows it) and the column.
 
-use super::InputError;
+use crate::InputError;
 
 /// Lines looked at to find the delimiter.
 const SNIFF_LINES: usize = 50;

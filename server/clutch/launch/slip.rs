@@ -3,7 +3,7 @@
 //! E = ∫ T·Δω dt. All energy is taken to go into the named mass with no cooling during the
 //! event (lumped, adiabatic), which over-estimates the rise for a long slip.
 
-use super::InputError;
+use crate::InputError;
 
 /// Energy, J, of a slip at constant clutch torque whose slip speed falls linearly from
 /// `slip_rad_s` to zero over `time_s`: E = T·Δω0·t/2. Torque N·m ≥ 0, speed rad/s ≥ 0,
@@ -14,9 +14,9 @@ pub fn linear_slip_energy_j(
     slip_rad_s: f64,
     time_s: f64,
 ) -> Result<f64, InputError> {
-    let t = super::require_range("torque", torque_nm, 0.0, f64::MAX)?;
-    let w = super::require_range("slip_speed", slip_rad_s, 0.0, f64::MAX)?;
-    let s = super::require_range("time", time_s, 0.0, f64::MAX)?;
+    let t = crate::require_range("torque", torque_nm, 0.0, f64::MAX)?;
+    let w = crate::require_range("slip_speed", slip_rad_s, 0.0, f64::MAX)?;
+    let s = crate::require_range("time", time_s, 0.0, f64::MAX)?;
     Ok(t * w * s / 2.0)
 }
 
@@ -39,11 +39,11 @@ pub fn two_inertia_slip(
     w2_rad_s: f64,
     torque_nm: f64,
 ) -> Result<TwoInertiaSlip, InputError> {
-    let i1 = super::require_positive("inertia_1", i1_kg_m2, f64::MAX)?;
-    let i2 = super::require_positive("inertia_2", i2_kg_m2, f64::MAX)?;
+    let i1 = crate::require_positive("inertia_1", i1_kg_m2, f64::MAX)?;
+    let i2 = crate::require_positive("inertia_2", i2_kg_m2, f64::MAX)?;
     let dw =
-        super::require_finite("speed_1", w1_rad_s)? - super::require_finite("speed_2", w2_rad_s)?;
-    let t = super::require_positive("torque", torque_nm, f64::MAX)?;
+        crate::require_finite("speed_1", w1_rad_s)? - crate::require_finite("speed_2", w2_rad_s)?;
+    let t = crate::require_positive("torque", torque_nm, f64::MAX)?;
     let i = i1 * i2 / (i1 + i2);
     Ok(TwoInertiaSlip {
         energy_j: i * dw * dw / 2.0,
@@ -59,16 +59,16 @@ pub fn temperature_rise_k(
     mass_kg: f64,
     specific_heat_j_per_kg_k: f64,
 ) -> Result<f64, InputError> {
-    let e = super::require_range("energy", energy_j, 0.0, f64::MAX)?;
-    let m = super::require_positive("mass", mass_kg, f64::MAX)?;
-    let c = super::require_positive("specific_heat", specific_heat_j_per_kg_k, f64::MAX)?;
+    let e = crate::require_range("energy", energy_j, 0.0, f64::MAX)?;
+    let m = crate::require_positive("mass", mass_kg, f64::MAX)?;
+    let c = crate::require_positive("specific_heat", specific_heat_j_per_kg_k, f64::MAX)?;
     Ok(e / (m * c))
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::clutch::units::rpm_to_rad_s;
+    use crate::units::rpm_to_rad_s;
 
     // Bhandari, Design of Machine Elements, Ex. 11.14 (via FOSSEE Scilab TBC 764): 10 kW at
     // 2000 rpm → T = 47.746 N·m; I1 = 20 kg × (75 mm)², I2 = 35 kg × (125 mm)², I2 at rest:

@@ -3,16 +3,16 @@
 //! lockup speed is the lowest engine speed from which capacity stays at or above engine torque
 //! up to the top of the curve.
 
-use super::InputError;
-use super::capacity::{effective_faces, torque_capacity_faces_nm};
-use super::clamp::{LeverSet, SpringPack};
-use super::torque_curve::TorqueCurve;
+use crate::InputError;
+use crate::capacity::clamp::{LeverSet, SpringPack};
+use crate::capacity::torque::{effective_faces, torque_capacity_faces_nm};
+use crate::capacity::torque_curve::TorqueCurve;
 
 /// Most points [`curve_at`] will produce.
 pub const MAX_CURVE_POINTS: usize = 1_000_000;
 
 /// A clutch in internal units, with its setting (adjuster turns, counterweight).
-/// Build it from validated values (see [`super::request`]).
+/// Build it from validated values (see [`crate::capacity::request`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct ClutchModel {
     /// Springs and adjusters.
@@ -28,7 +28,7 @@ pub struct ClutchModel {
     /// Friction surfaces (2 per disc).
     pub surfaces: u32,
     /// Share of its torque each face beyond the first two carries, 0–1 (1 = all; see
-    /// [`super::capacity::effective_faces`]).
+    /// [`crate::capacity::torque::effective_faces`]).
     pub extra_face_efficiency: f64,
     /// Friction coefficient.
     pub mu: f64,
@@ -52,7 +52,7 @@ impl ClutchModel {
 
     /// The capacity law at a setting with `clamp_loss_n` N taken off the static clamp (wear
     /// since the last shim; the static clamp never goes below zero) and friction `mu`.
-    /// With `mu` = 1 its capacity is the calibration's C (see [`super::calibrate`]).
+    /// With `mu` = 1 its capacity is the calibration's C (see [`crate::calibration`]).
     pub fn law_at(
         &self,
         adjuster_turns: f64,
@@ -238,7 +238,7 @@ pub fn curve_at(
     step_rpm: f64,
 ) -> Result<Vec<SpeedPoint>, InputError> {
     let (lo, hi) = engine.range();
-    super::require_positive("step_rpm", step_rpm, f64::MAX)?;
+    crate::require_positive("step_rpm", step_rpm, f64::MAX)?;
     let count = ((hi - lo) / step_rpm).floor() + 2.0;
     if count > MAX_CURVE_POINTS as f64 {
         return Err(InputError::new(
@@ -287,12 +287,8 @@ mod tests {
             (6000.0, 470.0),
             (7000.0, 430.0),
         ];
-        TorqueCurve::new(
-            &pts,
-            "engine.torque_curve",
-            crate::clutch::units::Units::Metric,
-        )
-        .expect("valid curve")
+        TorqueCurve::new(&pts, "engine.torque_curve", crate::units::Units::Metric)
+            .expect("valid curve")
     }
 
     fn law(static_nm: f64, nm_per_rpm2: f64) -> CapacityLaw {
@@ -392,7 +388,7 @@ mod tests {
         let odd = TorqueCurve::new(
             &[(3050.0, 1.0), (4000.0, 2.0), (6990.0, 3.0)],
             "c",
-            crate::clutch::units::Units::Metric,
+            crate::units::Units::Metric,
         )
         .expect("valid curve");
         let c = curve_at(&law(1.0, 0.0), &odd, 100.0).expect("valid step");
@@ -408,7 +404,7 @@ mod tests {
         let e = TorqueCurve::new(
             &[(1000.0, 300.0), (5000.0, 500.0), (9000.0, 420.0)],
             "c",
-            crate::clutch::units::Units::Metric,
+            crate::units::Units::Metric,
         )
         .expect("valid curve");
         let c = curve_at(&law(300.0, 5e-6), &e, 1.0).expect("valid step");

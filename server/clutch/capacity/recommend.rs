@@ -6,11 +6,11 @@
 //! counterweight: for each turns value the counterweight grid is searched by bisection
 //! (≈ log2(steps) lockup solves), then the two settings either side of the target are scored.
 
-use super::InputError;
-use super::lockup::{CapacityLaw, ClutchModel, lockup_text, torque_ratio};
-use super::quantity::{Bound, limits};
-use super::report::capacity;
-use super::request::CapacityRequest;
+use crate::InputError;
+use crate::capacity::lockup::{CapacityLaw, ClutchModel, lockup_text, torque_ratio};
+use crate::capacity::report::capacity;
+use crate::capacity::request::CapacityRequest;
+use crate::quantity::{Bound, limits};
 use serde::{Deserialize, Serialize};
 
 /// A lockup-only target counts as reached within this share of it (2 %: about 100 rpm at
@@ -285,7 +285,7 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         }
     }
     let (lo, hi) = valid.model.engine.range();
-    let target_rpm = super::require_range("targets.lockup_rpm", req.targets.lockup_rpm, lo, hi)?;
+    let target_rpm = crate::require_range("targets.lockup_rpm", req.targets.lockup_rpm, lo, hi)?;
     let target_ratio = match req.targets.launch_ratio {
         Some(r) => {
             limits::LAUNCH_RATIO.check("targets.launch_ratio", r, req.setup.units)?;
@@ -394,8 +394,8 @@ fn grid(
     limit: f64,
     max: f64,
 ) -> Result<(f64, usize), InputError> {
-    let step = super::require_positive(step_field, step, max)?;
-    let limit = super::require_range(limit_field, limit, 0.0, max)?;
+    let step = crate::require_positive(step_field, step, max)?;
+    let limit = crate::require_range(limit_field, limit, 0.0, max)?;
     let points = (limit / step * (1.0 + 1e-12)).floor() + 1.0;
     if points > MAX_GRID_POINTS {
         return Err(InputError::new(

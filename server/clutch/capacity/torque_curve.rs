@@ -1,8 +1,8 @@
 //! Engine torque against speed from dyno points, linear between points.
 
-use super::InputError;
-use super::quantity::limits::{CURVE_POINTS, CURVE_TORQUE, ENGINE_SPEED};
-use super::units::Units;
+use crate::InputError;
+use crate::quantity::limits::{CURVE_POINTS, CURVE_TORQUE, ENGINE_SPEED};
+use crate::units::Units;
 
 /// A validated torque curve: at least 3 points, strictly rising rpm within 500–15 000,
 /// positive finite torque in N·m.

@@ -7,11 +7,11 @@
 //! engagement]. The search relies on that order and bisects the counterweight grid, a handful of
 //! simulations instead of one per step; a test checks it against trying every step.
 
-use super::InputError;
-use super::launch::{Event, LaunchModel, LaunchRun};
-use super::launch_request::ValidLaunch;
-use super::quantity::limits;
-use super::units::Units;
+use crate::InputError;
+use crate::launch::request::ValidLaunch;
+use crate::launch::simulation::{Event, LaunchModel, LaunchRun};
+use crate::quantity::limits;
+use crate::units::Units;
 
 /// What the setting should give.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -97,7 +97,7 @@ pub fn find_counterweight(
         LaunchTarget::LockupTime(t) => ("target.lockup_time_s", t),
         LaunchTarget::MaxSlipEnergy(e) => ("target.max_slip_energy", e),
     };
-    super::require_positive(field, goal, f64::MAX)?;
+    crate::require_positive(field, goal, f64::MAX)?;
     if valid.clutch.levers.is_none() {
         return Err(InputError::new(
             "levers",
@@ -173,7 +173,7 @@ pub fn find_counterweight(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::clutch::launch_request::LaunchRequest;
+    use crate::launch::request::LaunchRequest;
 
     /// The reference launch (launch-and-logs §6 C10) with four levers of 20 g at 50 mm, so
     /// counterweight matters.

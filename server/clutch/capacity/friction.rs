@@ -7,7 +7,7 @@
 //! the book). Real μ varies with composition, speed, pressure and temperature: Juvinall advises
 //! designing with 50–75 % of test values.
 
-use super::InputError;
+use crate::InputError;
 use serde::{Deserialize, Serialize};
 
 /// A clutch facing material.

@@ -1,8 +1,8 @@
 //! Clutch coil springs: rate from a bench test, spread across a set, loss of rate (sag) between
 //! tests, and the textbook rate from wire geometry as a cross-check.
 
-use super::InputError;
-use super::regression::{fit_line, fit_through_origin};
+use crate::InputError;
+use crate::regression::{fit_line, fit_through_origin};
 
 /// One bench reading: the spring compressed `compression_mm` from free length carries `force_n`.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -42,8 +42,8 @@ pub fn rate_from_points(
     let rate = match (xy.as_slice(), fit) {
         ([], _) => return Err(InputError::new(field, "needs at least one bench point")),
         ([(x, f)], _) => {
-            let x = super::require_positive(&format!("{field}[0].compression"), *x, 1e4)?;
-            super::require_finite(&format!("{field}[0].force"), *f)? / x
+            let x = crate::require_positive(&format!("{field}[0].compression"), *x, 1e4)?;
+            crate::require_finite(&format!("{field}[0].force"), *f)? / x
         }
         (_, RateFit::WithIntercept) => fit_line(&xy, field)?.slope,
         (_, RateFit::ThroughOrigin) => fit_through_origin(&xy, field)?,
@@ -86,9 +86,9 @@ pub fn set_spread(rates: &[f64], tolerance_pct: f64, field: &str) -> Result<SetS
         return Err(InputError::new(field, "needs at least one spring"));
     }
     for (i, &r) in rates.iter().enumerate() {
-        super::require_positive(&format!("{field}[{i}]"), r, f64::MAX)?;
+        crate::require_positive(&format!("{field}[{i}]"), r, f64::MAX)?;
     }
-    super::require_range("tolerance_pct", tolerance_pct, 0.0, 100.0)?;
+    crate::require_range("tolerance_pct", tolerance_pct, 0.0, 100.0)?;
     let mean = rates.iter().sum::<f64>() / rates.len() as f64;
     let min = rates.iter().copied().fold(f64::INFINITY, f64::min);
     let max = rates.iter().copied().fold(f64::NEG_INFINITY, f64::max);
@@ -119,9 +119,9 @@ pub struct Sag {
 /// Spring Manufacturers Institute's term; the retirement threshold is a shop setting (common
 /// shop practice, no published source). Both readings must be > 0 and finite.
 pub fn sag(previous: f64, current: f64, threshold_pct: f64) -> Result<Sag, InputError> {
-    super::require_positive("previous", previous, f64::MAX)?;
-    super::require_positive("current", current, f64::MAX)?;
-    super::require_range("threshold_pct", threshold_pct, 0.0, 100.0)?;
+    crate::require_positive("previous", previous, f64::MAX)?;
+    crate::require_positive("current", current, f64::MAX)?;
+    crate::require_range("threshold_pct", threshold_pct, 0.0, 100.0)?;
     let loss_pct = (previous - current) / previous * 100.0;
     Ok(Sag {
         loss_pct,
@@ -141,10 +141,10 @@ pub fn rate_from_geometry(
     mean_coil_mm: f64,
     active_coils: f64,
 ) -> Result<f64, InputError> {
-    let g = super::require_positive("shear_modulus", shear_modulus_n_per_mm2, 1e6)?;
-    let d = super::require_positive("wire_diameter", wire_mm, 100.0)?;
-    let dm = super::require_positive("mean_coil_diameter", mean_coil_mm, 1000.0)?;
-    let na = super::require_positive("active_coils", active_coils, 1000.0)?;
+    let g = crate::require_positive("shear_modulus", shear_modulus_n_per_mm2, 1e6)?;
+    let d = crate::require_positive("wire_diameter", wire_mm, 100.0)?;
+    let dm = crate::require_positive("mean_coil_diameter", mean_coil_mm, 1000.0)?;
+    let na = crate::require_positive("active_coils", active_coils, 1000.0)?;
     Ok(g * d.powi(4) / (8.0 * dm.powi(3) * na))
 }
 

@@ -1,15 +1,15 @@
 //! The data-log analysis as the API receives it (a CSV text, the column mapping, the lockup
-//! rule and optionally the engine) and its answer. Reading is [`super::logfile`], the method
-//! [`super::datalog`]. Torques are in the request's `units`, as are the tyre diameter (in / mm),
+//! rule and optionally the engine) and its answer. Reading is [`crate::datalog::file`], the method
+//! [`crate::datalog::analysis`]. Torques are in the request's `units`, as are the tyre diameter (in / mm),
 //! the engine inertia (lb·ft² / kg·m²) and wheel speeds in the file (mph / km/h); engine and
 //! shaft speeds are rev/min, times seconds from the file's first sample.
 
-use super::InputError;
-use super::datalog::{self, Analysis, EngineModel, LockupRule, Series};
-use super::logfile::{self, Wanted};
-use super::quantity::{Kind, limits};
-use super::torque_curve::TorqueCurve;
-use super::units::Units;
+use crate::InputError;
+use crate::capacity::torque_curve::TorqueCurve;
+use crate::datalog::analysis::{self, Analysis, EngineModel, LockupRule, Series};
+use crate::datalog::file::{self, Wanted};
+use crate::quantity::{Kind, limits};
+use crate::units::Units;
 use serde::{Deserialize, Serialize};
 
 /// How the file's time column is written.
@@ -259,7 +259,7 @@ fn round(v: f64, decimals: i32) -> f64 {
 fn opt_check(
     field: &str,
     v: Option<f64>,
-    limit: super::quantity::Limit,
+    limit: crate::quantity::Limit,
     units: Units,
 ) -> Result<Option<f64>, InputError> {
     v.map(|v| limit.check_shown(field, v, units)).transpose()
@@ -394,18 +394,18 @@ impl ValidLog {
             .zip(&fields)
             .map(|((_, name), field)| Wanted { field, name })
             .collect();
-        let cols = logfile::read(text, &wanted)?;
+        let cols = file::read(text, &wanted)?;
         let mut values = cols.values;
         let key_of = |k: &str| mapped.iter().position(|(key, _)| *key == k);
         let mut time = std::mem::take(&mut values[0]);
-        if time.len() < datalog::MIN_SAMPLES {
+        if time.len() < analysis::MIN_SAMPLES {
             return Err(InputError::new(
                 "csv",
                 format!(
                     "the file has {} data rows (from line {}); at least {} are needed",
                     time.len(),
                     cols.layout.first_data_line,
-                    datalog::MIN_SAMPLES
+                    analysis::MIN_SAMPLES
                 ),
             ));
         }
@@ -429,7 +429,7 @@ impl ValidLog {
             }
         }
         let ms = match self.time_unit {
-            TimeUnit::Auto => datalog::looks_like_ms(&time),
+            TimeUnit::Auto => analysis::looks_like_ms(&time),
             TimeUnit::S => false,
             TimeUnit::Ms => true,
         };
@@ -443,7 +443,7 @@ impl ValidLog {
                 return Ok(None);
             };
             let mut v = std::mem::take(&mut values[i]);
-            datalog::fill_blanks(&time, &mut v).ok_or_else(|| {
+            analysis::fill_blanks(&time, &mut v).ok_or_else(|| {
                 InputError::new(
                     format!("columns.{key}"),
                     format!("the column \"{}\" has no values", mapped[i].1),
@@ -493,13 +493,13 @@ impl ValidLog {
             clutch_switch,
             throttle,
         };
-        let (dt, moved) = datalog::to_uniform_clock(&mut series).ok_or_else(|| {
+        let (dt, moved) = analysis::to_uniform_clock(&mut series).ok_or_else(|| {
             InputError::new(
                 "columns.time",
                 "the time steps are too uneven to put the samples on one clock",
             )
         })?;
-        let mut analysis = datalog::analyze(&series, dt, self.rule, self.engine.as_ref())?;
+        let mut analysis = analysis::analyze(&series, dt, self.rule, self.engine.as_ref())?;
         if moved {
             analysis.notes.push(format!(
                 "The samples were not evenly spaced: every channel was interpolated onto a {:.2} ms clock.",

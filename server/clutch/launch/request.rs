@@ -7,16 +7,16 @@
 //! N·m, m², kg/m³, J/(kg·K), °C (rises in K), km/h; imperial lb, in, lb·ft², lbf·ft, ft²,
 //! lb/ft³, BTU/(lb·°F), °F (rises in °F), mph. Counterweights are grams in both.
 
-use super::InputError;
-use super::friction::FacingMaterial;
-use super::launch::{
+use crate::InputError;
+use crate::capacity::friction::FacingMaterial;
+use crate::capacity::lockup::ClutchModel;
+use crate::capacity::request::{CapacityRequest, DiscInput, EngineInput, FrictionInput};
+use crate::capacity::request::{LeversInput, SpringsInput};
+use crate::launch::simulation::{
     Clutch, Driveline, Engine, Event, LaunchModel, LaunchRun, STANDARD_GRAVITY, Thermal, Vehicle,
 };
-use super::lockup::ClutchModel;
-use super::quantity::{Limit, limits};
-use super::request::{CapacityRequest, DiscInput, EngineInput, FrictionInput};
-use super::request::{LeversInput, SpringsInput};
-use super::units::{RAD_S_PER_RPM, Units};
+use crate::quantity::{Limit, limits};
+use crate::units::{RAD_S_PER_RPM, Units};
 use serde::{Deserialize, Serialize};
 
 /// Air density when none is given, kg/m³ (ISA sea level 1.225, rounded; from memory).

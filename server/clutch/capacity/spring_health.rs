@@ -1,8 +1,8 @@
 //! The health of a spring set across its bench tests: each spring's rate, the set's spread
 //! against the shop's tolerance, and springs whose rate fell since the previous test (sag).
 
-use super::InputError;
-use super::springs::{BenchPoint, RateFit, SetSpread, rate_from_points, sag, set_spread};
+use crate::InputError;
+use crate::capacity::springs::{BenchPoint, RateFit, SetSpread, rate_from_points, sag, set_spread};
 
 /// One bench test as the shop records it: a reading per spring tested, each with the spring's
 /// place in the set (1-based; a test may leave springs out).
@@ -114,7 +114,7 @@ pub fn review(
                 let s = if n > 0.0 {
                     sag(b, n, sag_pct)?
                 } else {
-                    super::springs::Sag {
+                    crate::capacity::springs::Sag {
                         loss_pct: 100.0,
                         flagged: true,
                     }

@@ -6,14 +6,14 @@
 //! JSON type errors belong to the web layer; [`CapacityRequest::validate`] reports range and
 //! consistency errors with the JSON path of the field.
 
-use super::InputError;
-use super::capacity::{Theory, effective_radius_mm};
-use super::clamp::{LeverSet, SpringPack};
-use super::friction::{FacingMaterial, friction_surfaces};
-use super::lockup::ClutchModel;
-use super::quantity::{Limit, limits};
-use super::torque_curve::TorqueCurve;
-use super::units::Units;
+use crate::InputError;
+use crate::capacity::clamp::{LeverSet, SpringPack};
+use crate::capacity::friction::{FacingMaterial, friction_surfaces};
+use crate::capacity::lockup::ClutchModel;
+use crate::capacity::torque::{Theory, effective_radius_mm};
+use crate::capacity::torque_curve::TorqueCurve;
+use crate::quantity::{Limit, limits};
+use crate::units::Units;
 use serde::{Deserialize, Serialize};
 
 /// Default multiple of the driveline's rated input torque above which capacity is flagged
@@ -261,7 +261,7 @@ impl CapacityRequest {
         let launch_rpm = match self.launch_rpm {
             Some(rpm) => {
                 let (lo, hi) = engine.range();
-                Some(super::require_range("launch_rpm", rpm, lo, hi)?)
+                Some(crate::require_range("launch_rpm", rpm, lo, hi)?)
             }
             None => None,
         };

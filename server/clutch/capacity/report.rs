@@ -2,10 +2,10 @@
 //! engine's torque curve, finds the lockup speed and the launch ratio, and words the warnings.
 //! Every output is in the request's unit system.
 
-use super::InputError;
-use super::lockup::{KNIFE_EDGE_MU_DROP, SpeedPoint, curve_at, knife_edge, lockup_text};
-use super::request::{CapacityRequest, ValidRequest};
-use super::units::Units;
+use crate::InputError;
+use crate::capacity::lockup::{KNIFE_EDGE_MU_DROP, SpeedPoint, curve_at, knife_edge, lockup_text};
+use crate::capacity::request::{CapacityRequest, ValidRequest};
+use crate::units::Units;
 use serde::Serialize;
 
 /// Spacing of the reported capacity curve, rev/min.
@@ -91,7 +91,7 @@ impl SpeedCheck {
 }
 
 /// Capacity report for a request: T(n) = n_f·μ·r_eff·(F_static + F_centrifugal(n)) over the
-/// engine curve (see [`super::lockup`]), lockup speed, launch ratio and warnings.
+/// engine curve (see [`crate::capacity::lockup`]), lockup speed, launch ratio and warnings.
 /// Errors name the offending field; never panics on any input.
 pub fn capacity(req: &CapacityRequest) -> Result<CapacityReport, InputError> {
     Ok(report_for(&req.validate()?))

@@ -1,9 +1,9 @@
 //! Clamp load on the pressure plate: static load from the compressed springs plus centrifugal
 //! load from the levers, F(n) = F_static + F_centrifugal(n).
 
-use super::InputError;
-use super::quantity::limits;
-use super::units::rpm_to_rad_s;
+use crate::InputError;
+use crate::quantity::limits;
+use crate::units::rpm_to_rad_s;
 
 /// Base spring compression from two cover-height readings, mm: free − installed
 /// (springs free with adjusters backed off, then as installed). Must not be negative.
@@ -11,8 +11,8 @@ pub fn base_compression_mm(
     free_height_mm: f64,
     installed_height_mm: f64,
 ) -> Result<f64, InputError> {
-    let free = super::require_finite("free_height", free_height_mm)?;
-    let installed = super::require_finite("installed_height", installed_height_mm)?;
+    let free = crate::require_finite("free_height", free_height_mm)?;
+    let installed = crate::require_finite("installed_height", installed_height_mm)?;
     if installed > free {
         return Err(InputError::new(
             "installed_height",
@@ -31,7 +31,7 @@ pub struct SpringPack {
     pub rate_n_per_mm: f64,
     /// Compression with adjusters at zero turns, mm.
     pub base_compression_mm: f64,
-    /// Adjuster travel per turn, mm (thread pitch; see [`super::threads`]).
+    /// Adjuster travel per turn, mm (thread pitch; see [`crate::capacity::threads`]).
     pub pitch_mm: f64,
     /// Compression at which the coils touch (free length − solid height), mm, when known.
     pub bind_compression_mm: Option<f64>,
@@ -84,7 +84,7 @@ pub fn check_adjusters(turns_each: &[f64], field: &str) -> Result<AdjusterCheck,
         return Err(InputError::new(field, "needs at least one adjuster"));
     }
     for (i, &t) in turns_each.iter().enumerate() {
-        limits::ADJUSTER_TURNS.check(&format!("{field}[{i}]"), t, super::units::Units::Metric)?;
+        limits::ADJUSTER_TURNS.check(&format!("{field}[{i}]"), t, crate::units::Units::Metric)?;
     }
     let min = turns_each.iter().copied().fold(f64::INFINITY, f64::min);
     let max = turns_each.iter().copied().fold(f64::NEG_INFINITY, f64::max);
@@ -176,7 +176,7 @@ impl LeverSet {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::clutch::units::N_PER_LBF;
+    use crate::units::N_PER_LBF;
 
     // Bhandari, Design of Machine Elements, Ex. 11.13 (via FOSSEE Scilab TBC 764):
     // shoe 1.5 kg, CG at 110 mm, 1440 rpm → Fc = 3752.029 N.

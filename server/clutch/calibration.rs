@@ -12,13 +12,15 @@
 //! reference's torque-balance method (launch-and-logs §4.1, thresholds there marked derived).
 //! Units inside: rev/min, N, N·m, g; μ and the gain scale are plain numbers.
 
-use super::InputError;
-use super::lockup::{CapacityLaw, ClutchModel};
-use super::quantity::limits;
-use super::regression::fit_line;
-use super::request::{CapacityRequest, DiscInput, EngineInput, FrictionInput, LeversInput};
-use super::request::{SpringsInput, ValidRequest};
-use super::units::Units;
+use crate::InputError;
+use crate::capacity::lockup::{CapacityLaw, ClutchModel};
+use crate::capacity::request::{
+    CapacityRequest, DiscInput, EngineInput, FrictionInput, LeversInput,
+};
+use crate::capacity::request::{SpringsInput, ValidRequest};
+use crate::quantity::limits;
+use crate::regression::fit_line;
+use crate::units::Units;
 use serde::{Deserialize, Serialize};
 use statrs::distribution::{ContinuousCDF, StudentsT};
 
@@ -491,7 +493,7 @@ impl CalibrateRequest {
             .enumerate()
             .map(|(i, p)| {
                 let at = |name: &str| format!("passes[{i}].{name}");
-                let rpm = super::require_range(&at("lockup_rpm"), p.lockup_rpm, lo, hi)?;
+                let rpm = crate::require_range(&at("lockup_rpm"), p.lockup_rpm, lo, hi)?;
                 let torque_nm = match p.clutch_torque {
                     Some(t) => limits::CARRIED_TORQUE.check_shown(&at("clutch_torque"), t, u)?,
                     None => model.engine.torque_at(rpm).unwrap_or(f64::NAN),
@@ -578,10 +580,10 @@ pub fn report(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::clutch::clamp::{LeverSet, SpringPack};
-    use crate::clutch::regression::tests::{NORRIS_X, NORRIS_Y};
-    use crate::clutch::torque_curve::TorqueCurve;
-    use crate::clutch::units::rpm_to_rad_s;
+    use crate::capacity::clamp::{LeverSet, SpringPack};
+    use crate::capacity::torque_curve::TorqueCurve;
+    use crate::regression::tests::{NORRIS_X, NORRIS_Y};
+    use crate::units::rpm_to_rad_s;
 
     fn close(a: f64, b: f64, tol: f64) -> bool {
         (a - b).abs() <= tol

@@ -1,9 +1,9 @@
 //! Adjuster-screw threads. Each full turn of a single-start screw moves it one pitch axially,
 //! which is the extra spring compression per turn.
 
-use super::InputError;
-use super::quantity::limits;
-use super::units::{MM_PER_IN, Units};
+use crate::InputError;
+use crate::quantity::limits;
+use crate::units::{MM_PER_IN, Units};
 use serde::{Deserialize, Serialize};
 
 /// An adjuster thread, as the shop names it.
@@ -34,7 +34,7 @@ impl Thread {
 
     /// Axial travel in mm for `turns` turns (fractions allowed): turns × pitch.
     pub fn travel_mm(self, turns: f64, field: &str) -> Result<f64, InputError> {
-        let turns = super::require_finite(field, turns)?;
+        let turns = crate::require_finite(field, turns)?;
         Ok(turns * self.travel_per_turn_mm(field)?)
     }
 }

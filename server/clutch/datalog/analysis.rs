@@ -1,0 +1,637 @@
+//! A logged pass analysed the same way every time: the channels put on one clock, the launch
+//! and the lockup found, the slip, the torque the clutch carried, the slip power and energy and
+//! the tyre spin.
+//!
+//! Methods (the project's launch-and-logs reference, §3):
+//! - slip % = 100·(N_e − N_in)/N_e;
+//! - launch: the clutch switch if there is one, else the first sample where the input speed is
+//!   above 100 rpm for 3 samples in a row, moved back to N_in = 0 along a least-squares line
+//!   through the samples of the 50 ms from it (never before the file's start);
+//! - lockup: the first time after launch that slip falls below `slip_on_pct` and stays below
+//!   for `hold_s`, reported as the linearly interpolated crossing;
+//! - clutch torque from the engine side, T_c = T_e(N_e) − I_e·dω_e/dt, the derivative by a
+//!   centred quadratic Savitzky–Golay filter over the smallest odd number of samples spanning
+//!   60 ms (at least 5) ([`crate::datalog::savgol`]);
+//! - slip power P = T_c·max(0, ω_e − ω_in); slip energy the trapezoid sum of P from the first
+//!   sample at or after launch to the end of the lockup's hold window;
+//! - tyre spin where the driven wheels run more than 15 % faster than the undriven ones for at
+//!   least 50 ms.
+//!
+//! The thresholds (100 rpm, 3 samples, 50 ms, 60 ms, 15 %) are the reference's, marked there as
+//! derived design choices, no published source. Units inside: s, rev/min, N·m, W, J, m/s.
+
+use crate::InputError;
+use crate::capacity::torque_curve::TorqueCurve;
+use crate::datalog::savgol;
+use crate::units::rpm_to_rad_s;
+
+/// Input speed a launch must pass, rev/min.
+pub const LAUNCH_RPM: f64 = 100.0;
+/// Samples in a row above [`LAUNCH_RPM`].
+pub const LAUNCH_SAMPLES: usize = 3;
+/// Span of the line moved back to zero input speed, s.
+pub const LAUNCH_FIT_S: f64 = 0.050;
+/// Time the derivative window spans at least, s.
+pub const DERIVATIVE_SPAN_S: f64 = 0.060;
+/// Fewest samples in the derivative window.
+pub const DERIVATIVE_MIN_SAMPLES: usize = 5;
+/// Driven-over-undriven speed excess counted as tyre spin.
+pub const SPIN_EXCESS: f64 = 0.15;
+/// Shortest tyre spin reported, s.
+pub const SPIN_MIN_S: f64 = 0.050;
+/// Undriven wheel speed below which the spin ratio is taken against this speed instead, m/s
+/// (reference §3.2: v_min ≈ 0.5 m/s).
+pub const SPIN_MIN_SPEED_MPS: f64 = 0.5;
+/// Time skipped at each end of the slip window for the calibration value, s.
+pub const CALIBRATION_EDGE_S: f64 = 0.050;
+/// Sample rate below which lockup timing is coarse, Hz.
+pub const COARSE_RATE_HZ: f64 = 50.0;
+/// Most samples in the derivative window: 60 ms up to 6.7 kHz; faster logs get a shorter
+/// window (a cap on the work per sample, not a method choice).
+pub const DERIVATIVE_MAX_SAMPLES: usize = 401;
+/// Fewest samples a log must have.
+pub const MIN_SAMPLES: usize = 10;
+/// Relative step spread within which a clock counts as uniform (no resampling).
+const UNIFORM_TOLERANCE: f64 = 0.01;
+
+/// The channels of a log on one uniform clock, time from the file's first sample.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Series {
+    /// s, uniform steps, starting at 0.
+    pub time_s: Vec<f64>,
+    /// Engine speed, rev/min.
+    pub engine_rpm: Vec<f64>,
+    /// Clutch output (gearbox input) speed, rev/min.
+    pub input_rpm: Vec<f64>,
+    /// Road speed of the driven wheels, m/s (when it can be known).
+    pub driven_mps: Option<Vec<f64>>,
+    /// Road speed of the undriven wheels, m/s.
+    pub undriven_mps: Option<Vec<f64>>,
+    /// Clutch switch, any two levels.
+    pub clutch_switch: Option<Vec<f64>>,
+    /// Throttle, as logged.
+    pub throttle: Option<Vec<f64>>,
+}
+
+/// Fills blank (NaN) samples of a channel by linear interpolation in `time` between the nearest
+/// logged samples, holding the first and last logged values at the ends. `None` when the
+/// channel has no value at all.
+pub fn fill_blanks(time: &[f64], values: &mut [f64]) -> Option<()> {
+    // Most channels have no blank: said by one pass the compiler can run several lanes wide.
+    if !values.is_empty() && values.iter().fold(true, |all, v| all & v.is_finite()) {
+        return Some(());
+    }
+    let first = values.iter().position(|v| v.is_finite())?;
+    let last = values.iter().rposition(|v| v.is_finite())?;
+    let head = values[first];
+    values[..first].fill(head);
+    let tail = values[last];
+    values[last + 1..].fill(tail);
+    // Each run of blanks between two logged samples a and b.
+    let mut a = first;
+    for b in first + 1..=last {
+        if !values[b].is_finite() {
+            continue;
+        }
+        if b > a + 1 {
+            let (ta, tb, va, vb) = (time[a], time[b], values[a], values[b]);
+            for i in a + 1..b {
+                values[i] = va + (vb - va) * (time[i] - ta) / (tb - ta);
+            }
+        }
+        a = b;
+    }
+    Some(())
+}
+
+/// Median of the steps of a strictly increasing clock (0 for fewer than 2 samples).
+pub fn median_step(time: &[f64]) -> f64 {
+    if let Some(m) = few_valued_median_step(time) {
+        return m;
+    }
+    let mut steps: Vec<f64> = time.windows(2).map(|w| w[1] - w[0]).collect();
+    median(&mut steps).unwrap_or(0.0)
+}
+
+/// Most distinct step values [`few_valued_median_step`] keeps count of.
+const FEW_STEPS: usize = 64;
+
+/// [`median_step`] for a clock whose steps take at most [`FEW_STEPS`] distinct values (a
+/// logger's fixed rate written with a few decimals: its steps differ only in their last bits),
+/// counted in a small table by value without storing them: the same median [`median`] finds,
+/// as the median of a list is a property of its values, not of their order. `None` for more
+/// values (or a NaN step).
+fn few_valued_median_step(time: &[f64]) -> Option<f64> {
+    // Open addressing on the step's bits; the table at most half full. NaN bits never occur
+    // as a step here, so all ones marks a free slot.
+    const SLOTS: usize = 2 * FEW_STEPS;
+    const FREE: u64 = u64::MAX;
+    let mut table = [(FREE, 0usize); SLOTS];
+    let mut kinds = 0;
+    for w in time.windows(2) {
+        let step = w[1] - w[0];
+        if step.is_nan() {
+            return None;
+        }
+        let bits = step.to_bits();
+        let mut slot = (bits.wrapping_mul(0x9E37_79B9_7F4A_7C15) >> 57) as usize;
+        loop {
+            let entry = &mut table[slot];
+            if entry.0 == bits {
+                entry.1 += 1;
+                break;
+            }
+            if entry.0 == FREE {
+                if kinds == FEW_STEPS {
+                    return None;
+                }
+                *entry = (bits, 1);
+                kinds += 1;
+                break;
+            }
+            slot = (slot + 1) % SLOTS;
+        }
+    }
+    let n = time.len().saturating_sub(1);
+    if n == 0 {
+        return None;
+    }
+    let mut seen: Vec<(f64, usize)> = table
+        .iter()
+        .filter(|e| e.0 != FREE)
+        .map(|&(bits, count)| (f64::from_bits(bits), count))
+        .collect();
+    seen.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
+    // The value at a place of the sorted steps.
+    let at = |place: usize| {
+        let mut before = 0;
+        seen.iter()
+            .find(|s| {
+                before += s.1;
+                place < before
+            })
+            .map(|s| s.0)
+    };
+    let mid = n / 2;
+    let m = at(mid)?;
+    Some(if n % 2 == 1 {
+        m
+    } else {
+        (at(mid - 1)? + m) / 2.0
+    })
+}
+
+/// The median of `values` (reordered); `None` when empty.
+pub fn median(values: &mut [f64]) -> Option<f64> {
+    if values.is_empty() {
+        return None;
+    }
+    let mid = values.len() / 2;
+    let (_, &mut m, _) = values.select_nth_unstable_by(mid, f64::total_cmp);
+    if values.len() % 2 == 1 {
+        Some(m)
+    } else {
+        let below = values[..mid]
+            .iter()
+            .copied()
+            .fold(f64::NEG_INFINITY, f64::max);
+        Some((below + m) / 2.0)
+    }
+}
+
+/// Whether a clock in a file given in unknown units is in milliseconds: its median step is
+/// 0.5 or more (a logger at 2 Hz or faster in seconds steps by less).
+pub fn looks_like_ms(time: &[f64]) -> bool {
+    median_step(time) >= 0.5
+}
+
+/// Puts every channel on a uniform clock: when the steps already agree within 1 % of their
+/// median the samples are kept as logged (time rebased to the first sample), otherwise every
+/// channel is interpolated linearly onto t_k = k·Δt with Δt the median step. `time_s` must be
+/// strictly increasing and every channel gap-free (see [`fill_blanks`]). Returns the step and
+/// whether the samples were moved; `None` when the steps are so uneven that the clock at the
+/// median step would hold more than four times the samples logged.
+pub fn to_uniform_clock(series: &mut Series) -> Option<(f64, bool)> {
+    let t0 = series.time_s.first().copied().unwrap_or(0.0);
+    for t in &mut series.time_s {
+        *t -= t0;
+    }
+    let dt = median_step(&series.time_s);
+    let uniform = series
+        .time_s
+        .windows(2)
+        .all(|w| ((w[1] - w[0]) - dt).abs() <= UNIFORM_TOLERANCE * dt);
+    if uniform || dt <= 0.0 {
+        return Some((dt, false));
+    }
+    let end = *series.time_s.last().unwrap_or(&0.0);
+    let steps = end / dt + 1e-9;
+    if !steps.is_finite() || steps > 4.0 * series.time_s.len() as f64 + 1000.0 {
+        return None;
+    }
+    let n = steps.floor() as usize + 1;
+    let grid: Vec<f64> = (0..n).map(|k| k as f64 * dt).collect();
+    let old = std::mem::take(&mut series.time_s);
+    let resample = |v: &Vec<f64>| interpolate_at(&old, v, &grid);
+    series.engine_rpm = resample(&series.engine_rpm);
+    series.input_rpm = resample(&series.input_rpm);
+    for ch in [
+        &mut series.driven_mps,
+        &mut series.undriven_mps,
+        &mut series.clutch_switch,
+        &mut series.throttle,
+    ] {
+        if let Some(v) = ch.as_mut() {
+            *v = resample(v);
+        }
+    }
+    series.time_s = grid;
+    Some((dt, true))
+}
+
+/// Values of (t, v) at the increasing times `at` (linear, ends held).
+fn interpolate_at(t: &[f64], v: &[f64], at: &[f64]) -> Vec<f64> {
+    let mut j = 0;
+    at.iter()
+        .map(|&x| {
+            while j + 2 < t.len() && t[j + 1] < x {
+                j += 1;
+            }
+            if x <= t[0] {
+                return v[0];
+            }
+            if j + 1 >= t.len() || x >= t[t.len() - 1] {
+                return v[v.len() - 1];
+            }
+            let f = (x - t[j]) / (t[j + 1] - t[j]);
+            v[j] + f * (v[j + 1] - v[j])
+        })
+        .collect()
+}
+
+/// Lockup rule.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LockupRule {
+    /// Slip below which the clutch counts as locked, %.
+    pub slip_on_pct: f64,
+    /// How long it must stay below, s.
+    pub hold_s: f64,
+}
+
+impl Default for LockupRule {
+    /// 3 % for 100 ms (reference §3.3, derived defaults).
+    fn default() -> Self {
+        Self {
+            slip_on_pct: 3.0,
+            hold_s: 0.100,
+        }
+    }
+}
+
+/// The engine for the clutch torque: its torque curve and its rotating inertia.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EngineModel {
+    pub curve: TorqueCurve,
+    /// kg·m².
+    pub inertia_kgm2: f64,
+}
+
+/// What a log says happened. Times are seconds from the file's first sample.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Analysis {
+    /// Samples on the clock.
+    pub samples: usize,
+    /// 1/Δt, Hz.
+    pub sample_rate_hz: f64,
+    pub launch_s: f64,
+    /// Interpolated crossing of the slip threshold.
+    pub lockup_s: f64,
+    pub launch_engine_rpm: f64,
+    /// Lowest engine speed from launch to lockup.
+    pub min_engine_rpm: f64,
+    pub lockup_engine_rpm: f64,
+    /// Slip % per sample.
+    pub slip_pct: Vec<f64>,
+    /// Clutch torque per sample, N·m (with an engine model).
+    pub clutch_torque_nm: Option<Vec<f64>>,
+    /// Slip power per sample, W (with an engine model).
+    pub slip_power_w: Option<Vec<f64>>,
+    /// Trapezoid sum of the slip power over the energy window, J.
+    pub slip_energy_j: Option<f64>,
+    /// Largest slip power over the energy window, W.
+    pub peak_slip_power_w: Option<f64>,
+    /// First and last sample of the energy window.
+    pub window: (usize, usize),
+    /// Tyre spin intervals, [start, end] s.
+    pub tire_spin: Vec<[f64; 2]>,
+    /// Plain-English notes.
+    pub notes: Vec<String>,
+}
+
+/// Slip % = 100·(N_e − N_in)/N_e; NaN where the engine is not turning (below 1 rpm).
+pub fn slip_pct(engine_rpm: f64, input_rpm: f64) -> f64 {
+    if engine_rpm < 1.0 {
+        f64::NAN
+    } else {
+        100.0 * (engine_rpm - input_rpm) / engine_rpm
+    }
+}
+
+/// Samples in the derivative window at step `dt`: the smallest odd number spanning at least
+/// [`DERIVATIVE_SPAN_S`], and at least [`DERIVATIVE_MIN_SAMPLES`].
+pub fn derivative_window(dt: f64) -> usize {
+    let steps = (DERIVATIVE_SPAN_S / dt - 1e-9).ceil().max(0.0) as usize;
+    let mut n = (steps + 1).max(DERIVATIVE_MIN_SAMPLES);
+    if n.is_multiple_of(2) {
+        n += 1;
+    }
+    n.min(DERIVATIVE_MAX_SAMPLES)
+}
+
+/// The launch: the clutch switch's first change of state (≥ 0.5 counts as on) if there is a
+/// switch, else the 3-sample rule moved back to zero input speed. Field `columns.clutch_switch`
+/// or `columns.input_rpm` when none is found.
+pub fn find_launch(series: &Series) -> Result<f64, InputError> {
+    let t = &series.time_s;
+    if let Some(sw) = &series.clutch_switch {
+        let on = |v: f64| v >= 0.5;
+        let first = on(sw[0]);
+        return sw
+            .iter()
+            .position(|&v| on(v) != first)
+            .map(|i| t[i])
+            .ok_or_else(|| {
+                InputError::new(
+                    "columns.clutch_switch",
+                    "no launch found: the clutch switch never changes state",
+                )
+            });
+    }
+    let n_in = &series.input_rpm;
+    let start = (0..t.len().saturating_sub(LAUNCH_SAMPLES - 1))
+        .find(|&i| n_in[i..i + LAUNCH_SAMPLES].iter().all(|&v| v > LAUNCH_RPM))
+        .ok_or_else(|| {
+            InputError::new(
+                "columns.input_rpm",
+                format!(
+                    "no launch found: the input speed never stays above {LAUNCH_RPM:.0} rpm for {LAUNCH_SAMPLES} samples in a row"
+                ),
+            )
+        })?;
+    let end = t[start] + LAUNCH_FIT_S * (1.0 + 1e-9);
+    let idx: Vec<usize> = (start..t.len()).take_while(|&i| t[i] <= end).collect();
+    let launch = match line_fit(idx.iter().map(|&i| (t[i], n_in[i]))) {
+        Some((a, b)) if b > 0.0 => (-a / b).min(t[start]),
+        _ => t[start],
+    };
+    Ok(launch.max(t[0]))
+}
+
+/// Least-squares line y = a + b·x; `None` for fewer than 2 distinct x.
+fn line_fit(points: impl Iterator<Item = (f64, f64)>) -> Option<(f64, f64)> {
+    let pts: Vec<(f64, f64)> = points.collect();
+    let n = pts.len() as f64;
+    if pts.len() < 2 {
+        return None;
+    }
+    let mx = pts.iter().map(|p| p.0).sum::<f64>() / n;
+    let my = pts.iter().map(|p| p.1).sum::<f64>() / n;
+    let sxx: f64 = pts.iter().map(|p| (p.0 - mx).powi(2)).sum();
+    if sxx <= 0.0 {
+        return None;
+    }
+    let sxy: f64 = pts.iter().map(|p| (p.0 - mx) * (p.1 - my)).sum();
+    let b = sxy / sxx;
+    Some((my - b * mx, b))
+}
+
+/// The lockup after `launch_s`: the first sample j at or after launch with slip below the
+/// threshold whose following samples up to t_j + hold all stay below it (the file must reach
+/// t_j + hold). Returns (interpolated crossing time, j, last sample of the hold window).
+pub fn find_lockup(
+    time: &[f64],
+    slip: &[f64],
+    launch_s: f64,
+    rule: LockupRule,
+) -> Option<(f64, usize, usize)> {
+    let eps = 1e-9 * time.last().copied().unwrap_or(1.0).abs().max(1.0);
+    let below = |i: usize| slip[i] < rule.slip_on_pct;
+    let first = time.partition_point(|&t| t < launch_s - eps);
+    let mut j = first;
+    while j < time.len() {
+        if !below(j) {
+            j += 1;
+            continue;
+        }
+        let until = time[j] + rule.hold_s;
+        if time[time.len() - 1] < until - eps {
+            return None;
+        }
+        let mut k = j;
+        while k + 1 < time.len() && time[k + 1] <= until + eps {
+            k += 1;
+        }
+        match (j..=k).find(|&i| !below(i)) {
+            Some(bad) => j = bad + 1,
+            None => {
+                let crossing = if j > 0 && slip[j - 1].is_finite() && slip[j - 1] > slip[j] {
+                    let f = (slip[j - 1] - rule.slip_on_pct) / (slip[j - 1] - slip[j]);
+                    time[j - 1] + f.clamp(0.0, 1.0) * (time[j] - time[j - 1])
+                } else {
+                    time[j]
+                };
+                return Some((crossing.max(launch_s.min(time[j])), j, k));
+            }
+        }
+    }
+    None
+}
+
+/// Linear interpolation of a sampled channel at time `at` (uniform or not).
+pub fn value_at(time: &[f64], v: &[f64], at: f64) -> f64 {
+    interpolate_at(time, v, &[at])[0]
+}
+
+/// Intervals where κ = (v_driven − v_undriven)/max(v_undriven, 0.5 m/s) exceeds
+/// [`SPIN_EXCESS`] for at least [`SPIN_MIN_S`], as [first, last] sample times.
+pub fn tire_spin(time: &[f64], driven: &[f64], undriven: &[f64]) -> Vec<[f64; 2]> {
+    let dt = median_step(time);
+    let mut out = Vec::new();
+    let mut start: Option<usize> = None;
+    let spinning =
+        |i: usize| (driven[i] - undriven[i]) / undriven[i].max(SPIN_MIN_SPEED_MPS) > SPIN_EXCESS;
+    for i in 0..=time.len() {
+        let on = i < time.len() && spinning(i);
+        match (on, start) {
+            (true, None) => start = Some(i),
+            (false, Some(s)) => {
+                // An interval of k samples covers k·Δt of time.
+                if time[i - 1] - time[s] + dt >= SPIN_MIN_S - 1e-9 {
+                    out.push([time[s], time[i - 1]]);
+                }
+                start = None;
+            }
+            _ => {}
+        }
+    }
+    out
+}
+
+/// Clutch torque per sample from the engine side, T_c = T_e(N_e) − I_e·dω_e/dt, N·m. Engine
+/// speeds outside the torque curve take its end values (counted in the second result).
+pub fn clutch_torque(series: &Series, dt: f64, engine: &EngineModel) -> (Vec<f64>, usize) {
+    let window = derivative_window(dt);
+    // The filter is linear: the derivative of the speed in rev/min, turned into rad/s² per
+    // sample, is dω/dt; it is turned into the torque where it lies.
+    let mut torque = savgol::filter(&series.engine_rpm, window, 2, 1, dt)
+        .unwrap_or_else(|| vec![0.0; series.engine_rpm.len()]);
+    let (lo, hi) = engine.curve.range();
+    let mut outside = 0;
+    for (&n, t) in series.engine_rpm.iter().zip(&mut torque) {
+        if !(lo..=hi).contains(&n) {
+            outside += 1;
+        }
+        let te = engine.curve.torque_at(n.clamp(lo, hi)).unwrap_or(0.0);
+        *t = te - engine.inertia_kgm2 * rpm_to_rad_s(*t);
+    }
+    (torque, outside)
+}
+
+/// Analyses a log on a uniform clock (see [`to_uniform_clock`]); `dt` is its step, s.
+/// Errors: too few samples (field `csv`), no launch, no lockup (field of the channel).
+pub fn analyze(
+    series: &Series,
+    dt: f64,
+    rule: LockupRule,
+    engine: Option<&EngineModel>,
+) -> Result<Analysis, InputError> {
+    let t = &series.time_s;
+    let n = t.len();
+    if n < MIN_SAMPLES {
+        return Err(InputError::new(
+            "csv",
+            format!("the file has {n} samples; at least {MIN_SAMPLES} are needed"),
+        ));
+    }
+    let mut notes = Vec::new();
+    let rate = 1.0 / dt;
+    if rate < COARSE_RATE_HZ {
+        notes.push(format!(
+            "The log runs at {rate:.0} Hz, below {COARSE_RATE_HZ:.0} Hz: lockup timing is coarse."
+        ));
+    }
+    let slip: Vec<f64> = series
+        .engine_rpm
+        .iter()
+        .zip(&series.input_rpm)
+        .map(|(&e, &i)| slip_pct(e, i))
+        .collect();
+    let launch_s = find_launch(series)?;
+    let (lockup_s, _, last) = find_lockup(t, &slip, launch_s, rule).ok_or_else(|| {
+        InputError::new(
+            "columns.input_rpm",
+            format!(
+                "no lockup found: after the launch at {launch_s:.3} s the slip never stays below {}% for {:.0} ms before the file ends",
+                rule.slip_on_pct,
+                rule.hold_s * 1000.0
+            ),
+        )
+    })?;
+    let eps = 1e-9 * t[n - 1].max(1.0);
+    let first = t.partition_point(|&x| x < launch_s - eps);
+    let launch_engine_rpm = value_at(t, &series.engine_rpm, launch_s);
+    let lockup_engine_rpm = value_at(t, &series.engine_rpm, lockup_s);
+    let min_engine_rpm = (first..=last)
+        .filter(|&i| t[i] <= lockup_s + eps)
+        .map(|i| series.engine_rpm[i])
+        .fold(launch_engine_rpm.min(lockup_engine_rpm), f64::min);
+    let (clutch_torque_nm, slip_power_w, slip_energy_j, peak_slip_power_w) = match engine {
+        Some(engine) => {
+            let (tc, outside) = clutch_torque(series, dt, engine);
+            if outside > 0 {
+                notes.push(format!(
+                    "The engine speed left the torque curve at {outside} sample(s); the curve's end values were used there."
+                ));
+            }
+            // The clutch carries nothing before the launch: no slip power there.
+            let p: Vec<f64> = (0..n)
+                .map(|i| {
+                    if i < first {
+                        return 0.0;
+                    }
+                    let slip_w = rpm_to_rad_s(series.engine_rpm[i] - series.input_rpm[i]);
+                    tc[i] * slip_w.max(0.0)
+                })
+                .collect();
+            let energy: f64 = (first..last)
+                .map(|i| 0.5 * (p[i] + p[i + 1]) * (t[i + 1] - t[i]))
+                .sum();
+            let peak = p[first..=last]
+                .iter()
+                .copied()
+                .fold(f64::NEG_INFINITY, f64::max);
+            (Some(tc), Some(p), Some(energy), Some(peak))
+        }
+        None => {
+            notes.push(
+                "No engine torque curve and inertia: clutch torque, slip power and energy are not worked out."
+                    .into(),
+            );
+            (None, None, None, None)
+        }
+    };
+    let tire_spin = match (&series.driven_mps, &series.undriven_mps) {
+        (Some(d), Some(u)) => tire_spin(t, d, u),
+        (None, Some(_)) => {
+            notes.push("Tyre spin needs the driven wheels' speed: map it, or give the gear ratios and tyre diameter.".into());
+            Vec::new()
+        }
+        _ => Vec::new(),
+    };
+    Ok(Analysis {
+        samples: n,
+        sample_rate_hz: rate,
+        launch_s,
+        lockup_s,
+        launch_engine_rpm,
+        min_engine_rpm,
+        lockup_engine_rpm,
+        slip_pct: slip,
+        clutch_torque_nm,
+        slip_power_w,
+        slip_energy_j,
+        peak_slip_power_w,
+        window: (first, last),
+        tire_spin,
+        notes,
+    })
+}
+
+impl Analysis {
+    /// Samples of the calibration window: launch + 50 ms to lockup − 50 ms (reference §4.1).
+    pub fn calibration_samples(&self, time: &[f64]) -> std::ops::Range<usize> {
+        let from = self.launch_s + CALIBRATION_EDGE_S;
+        let to = self.lockup_s - CALIBRATION_EDGE_S;
+        let a = time.partition_point(|&t| t < from - 1e-9);
+        let b = time.partition_point(|&t| t <= to + 1e-9);
+        a..b.max(a)
+    }
+}
+
+/// The per-pass friction value: the median of T_c/C over `pairs` of (engine rpm, clutch torque
+/// N·m), C = `capacity_at_mu1(rpm)` the clutch's capacity with μ = 1 (reference §4.1: one value
+/// per pass, the median, because samples within a pass are not independent). `None` when no
+/// pair has a positive capacity.
+pub fn median_ratio(pairs: &[[f64; 2]], capacity_at_mu1: impl Fn(f64) -> f64) -> Option<f64> {
+    let mut r: Vec<f64> = pairs
+        .iter()
+        .filter_map(|&[rpm, tc]| {
+            let c = capacity_at_mu1(rpm);
+            (c > 0.0 && c.is_finite()).then(|| tc / c)
+        })
+        .collect();
+    median(&mut r)
+}
+
+#[cfg(test)]
+mod tests;
