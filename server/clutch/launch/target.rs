@@ -54,14 +54,13 @@ impl Default for Grid {
     }
 }
 
+/// The launch with another counterweight: everything else as validated, the static clamp lost
+/// to wear included (the same law a launch request with that counterweight gets).
 fn with_counterweight(valid: &ValidLaunch, counterweight_g: f64) -> LaunchModel {
     let mut m = valid.model.clone();
-    m.clutch.law = valid.clutch.law_at(
-        valid.clutch.adjuster_turns,
-        counterweight_g,
-        0.0,
-        valid.clutch.mu,
-    );
+    m.clutch.law = valid
+        .clutch
+        .law_for(valid.clutch.adjuster_turns, counterweight_g);
     m
 }
 
@@ -246,6 +245,43 @@ mod tests {
         let pick = find_counterweight(&v, LaunchTarget::MaxSlipEnergy(limit), grid).expect("ok");
         assert_eq!(Some(pick.counterweight_g), least);
         assert!(pick.run.slip_energy_j <= limit);
+    }
+
+    // A worn clutch (static clamp lost since the last shim) is searched as it is: the pick's run
+    // is the run a launch request with that counterweight gives. Consistency check, no outside
+    // value: the search once built its clutch without the clamp loss.
+    #[test]
+    fn the_search_keeps_the_wear_clamp_loss() {
+        let mut req: LaunchRequest = serde_json::from_value(serde_json::json!({
+            "units": "metric",
+            "disc": { "outer_diameter": 240, "inner_diameter": 160, "count": 2 },
+            "friction": { "mu": 0.30 },
+            "springs": { "count": 4, "rate": 1000, "base_compression": 1, "clamp_loss": 600 },
+            "levers": { "count": 4, "counterweight_g": 20, "cg_radius": 50, "arm_ratio": 1 },
+            "launch_rpm": 6000,
+            "engine": { "torque_curve": [[2000, 700], [5000, 700], [9000, 700]],
+                        "inertia": 0.20 },
+            "driveline": { "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "efficiency": 0.95,
+                           "input_inertia": 0.02, "driveshaft_inertia": 0.05,
+                           "rear_axle_inertia": 3.0, "front_axle_inertia": 1.0 },
+            "vehicle": { "mass": 1500, "tire_diameter": 760, "wheelbase": 2700,
+                         "cg_to_front_axle": 1600, "cg_height": 500, "drag_height": 500,
+                         "rolling_resistance": 0.015, "drag_area": 0.6, "tire_grip": 2.0,
+                         "tire_grip_spinning": 1.6 },
+            "duration_s": 3
+        }))
+        .expect("request");
+        let v = req.validate().expect("valid");
+        let base = v.model.simulate().lockup.expect("locks").time_s;
+        let pick = find_counterweight(&v, LaunchTarget::LockupTime(base * 0.8), Grid::default())
+            .expect("ok");
+        req.levers.as_mut().expect("levers").counterweight_g = pick.counterweight_g;
+        let tried = req.validate().expect("valid").model.simulate();
+        assert_eq!(
+            pick.run.lockup.map(|l| l.time_s),
+            tried.lockup.map(|l| l.time_s)
+        );
+        assert_eq!(pick.run.slip_energy_j, tried.slip_energy_j);
     }
 
     #[test]
