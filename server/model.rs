@@ -7,16 +7,16 @@ use std::collections::HashMap;
 /// A stored build's launch preview request, with estimates for what the car's record lacks.
 pub mod launch;
 
-use crate::db::bench::BenchTest;
-use crate::db::builds::ActiveBuild;
-use crate::db::dossier::Dossier;
-use crate::db::heights::Height;
-use crate::db::passes::Pass;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
+use crate::records::stored::ActiveBuild;
+use crate::records::stored::BenchTest;
+use crate::records::stored::Dossier;
+use crate::records::stored::Height;
+use crate::records::stored::Pass;
 use clutch::InputError;
 use clutch::calibration::{
     CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_request,
@@ -171,7 +171,7 @@ impl<'a> BuildFacts<'a> {
     }
 
     /// The wear request of a loaded build (its current disc).
-    pub fn wear(&self, heights: &[crate::db::heights::Height]) -> Result<WearRequest, Missing> {
+    pub fn wear(&self, heights: &[crate::records::stored::Height]) -> Result<WearRequest, Missing> {
         wear_request(self.build, self.settings, self.spring_rate(), heights)
     }
 }
@@ -436,8 +436,8 @@ impl BuildFacts<'_> {
     pub fn log_value(
         &self,
         d: &Dossier,
-        pass: &crate::db::passes::Pass,
-        log: &crate::db::pass_logs::LogSummary,
+        pass: &crate::records::stored::Pass,
+        log: &crate::records::stored::LogSummary,
     ) -> Option<(f64, f64)> {
         let day = pass.data.run_on.as_str();
         let setup = d
@@ -474,7 +474,7 @@ impl BuildFacts<'_> {
 
     /// Static clamp lost to wear, N, by the latest cover-height measurement on or before `day`
     /// (the wear model's clamp loss; 0 without measurements or a spring rate).
-    fn clamp_loss_on(&self, heights: &[crate::db::heights::Height], day: &str) -> f64 {
+    fn clamp_loss_on(&self, heights: &[crate::records::stored::Height], day: &str) -> f64 {
         let upto: Vec<&HeightInput> = heights
             .iter()
             .map(|h| &h.data)
@@ -756,7 +756,7 @@ pub struct Due {
 /// urgent first. Inputs are grouped by build id (any order within the slices is kept).
 pub fn work_due(
     builds: &[ActiveBuild],
-    heights: &[crate::db::heights::Height],
+    heights: &[crate::records::stored::Height],
     bench: &[BenchTest],
     settings: &SettingsInput,
 ) -> Vec<Due> {

@@ -12,6 +12,8 @@ pub mod height;
 pub mod pass;
 pub mod settings;
 pub mod setup;
+/// Records as stored (ids and stamps beside each record) and the aggregate of one build.
+pub mod stored;
 pub mod user;
 
 pub mod field;

@@ -4,13 +4,13 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::db::dossier::Dossier;
 use crate::model::{self, BuildFacts, Figures, Trial, TuningTargets};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
+use crate::records::stored::Dossier;
 use clutch::capacity::recommend::Recommendation;
 use clutch::units::Units;
 use clutch::wear::{WearReport, analyze};
@@ -114,7 +114,7 @@ pub struct SheetFigures {
 /// Works out the sheet's figures (capacity in the shop's units; wear in storage units).
 pub fn figures(inputs: &SheetInputs) -> SheetFigures {
     let tested = inputs.bench.as_ref().and_then(|b| {
-        let test = crate::db::bench::BenchTest {
+        let test = crate::records::stored::BenchTest {
             id: 0,
             build_id: 0,
             tested_on: b.tested_on.clone(),
@@ -124,7 +124,7 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
                 .readings
                 .iter()
                 .enumerate()
-                .map(|(i, [x, f])| crate::db::bench::BenchSpring {
+                .map(|(i, [x, f])| crate::records::stored::BenchSpring {
                     bench_test_id: 0,
                     position: i as i64 + 1,
                     free_length_mm: None,

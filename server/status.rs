@@ -10,12 +10,12 @@
 use sqlx::SqliteConnection;
 
 use crate::db;
-use crate::db::bench::BenchTest;
-use crate::db::heights::Height;
 use crate::db::status::{BuildStatus, Listed};
 use crate::model::{self, Due, DueReason};
 use crate::records::build::BuildInput;
 use crate::records::settings::SettingsInput;
+use crate::records::stored::BenchTest;
+use crate::records::stored::Height;
 use clutch::wear::{self, WearStatus};
 
 /// A build's status from its whole history: its cover heights (recorded order) and bench tests

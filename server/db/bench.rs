@@ -1,31 +1,10 @@
 //! Spring bench tests and the per-spring readings.
 
-use serde::Serialize;
-use sqlx::{FromRow, SqliteConnection};
+use sqlx::SqliteConnection;
 
 use crate::records::Checked;
 use crate::records::bench::BenchInput;
-
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct BenchTest {
-    pub id: i64,
-    pub build_id: i64,
-    pub tested_on: String,
-    pub note: String,
-    pub created_at: String,
-    #[sqlx(skip)]
-    pub springs: Vec<BenchSpring>,
-}
-
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct BenchSpring {
-    #[serde(skip)]
-    pub bench_test_id: i64,
-    pub position: i64,
-    pub free_length_mm: Option<f64>,
-    pub compression_mm: f64,
-    pub force_n: f64,
-}
+use crate::records::stored::{BenchSpring, BenchTest};
 
 /// A build's bench tests, oldest first, each with its readings by spring position.
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<BenchTest>> {

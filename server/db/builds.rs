@@ -1,31 +1,10 @@
 //! Clutch builds.
 
-use serde::Serialize;
-use sqlx::{FromRow, SqliteConnection};
+use sqlx::SqliteConnection;
 
 use crate::records::Checked;
 use crate::records::build::BuildInput;
-
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct Build {
-    pub id: i64,
-    pub car_id: i64,
-    #[sqlx(flatten)]
-    #[serde(flatten)]
-    pub data: BuildInput,
-    pub created_at: String,
-    pub updated_at: String,
-}
-
-/// Who and what a build belongs to, for headings and links.
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct BuildOwner {
-    pub customer_id: i64,
-    pub customer_name: String,
-    pub customer_phone: String,
-    pub car_id: i64,
-    pub car_description: String,
-}
+use crate::records::stored::{ActiveBuild, Build, BuildOwner};
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Build>> {
     sqlx::query_as(
@@ -92,15 +71,6 @@ pub async fn update(
     b: &Checked<BuildInput>,
 ) -> sqlx::Result<bool> {
     super::record::update(conn, "builds", id, b).await
-}
-
-/// An active build of a live customer, with who it belongs to (for the work-due list).
-#[derive(Debug, Clone, FromRow)]
-pub struct ActiveBuild {
-    #[sqlx(flatten)]
-    pub build: Build,
-    #[sqlx(flatten)]
-    pub owner: BuildOwner,
 }
 
 pub async fn active(conn: &mut SqliteConnection) -> sqlx::Result<Vec<ActiveBuild>> {

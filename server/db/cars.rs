@@ -1,21 +1,10 @@
 //! Cars and their engine torque curves.
 
-use serde::Serialize;
-use sqlx::{FromRow, SqliteConnection};
+use sqlx::SqliteConnection;
 
 use crate::records::Checked;
 use crate::records::car::CarInput;
-
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct Car {
-    pub id: i64,
-    pub customer_id: i64,
-    #[sqlx(flatten)]
-    #[serde(flatten)]
-    pub data: CarInput,
-    pub created_at: String,
-    pub updated_at: String,
-}
+use crate::records::stored::Car;
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Car>> {
     sqlx::query_as(

@@ -2,38 +2,7 @@
 
 use sqlx::SqliteConnection;
 
-use super::bench::BenchTest;
-use super::builds::{Build, BuildOwner};
-use super::cars::Car;
-use super::heights::Height;
-use super::pass_logs::LogSummary;
-use super::passes::Pass;
-use super::setups::Setup;
-
-pub struct Dossier {
-    pub build: Build,
-    pub owner: BuildOwner,
-    pub car: Car,
-    /// Oldest first; the last one is in force.
-    pub setups: Vec<Setup>,
-    /// Oldest first.
-    pub bench: Vec<BenchTest>,
-    /// In pass order.
-    pub heights: Vec<Height>,
-    /// The newest passes, newest first: at most [`PASSES_LOADED`] (what a calibration uses).
-    pub passes: Vec<Pass>,
-    /// How many passes the build has in all.
-    pub passes_total: i64,
-    /// The data logs of those passes (figures only; the files stay in the table).
-    pub logs: Vec<LogSummary>,
-}
-
-impl Dossier {
-    /// The data log of pass `pass_id`, if it has one.
-    pub fn log_of(&self, pass_id: i64) -> Option<&LogSummary> {
-        self.logs.iter().find(|l| l.pass_id == pass_id)
-    }
-}
+use crate::records::stored::Dossier;
 
 /// The most passes loaded with a build: the most a calibration uses.
 pub const PASSES_LOADED: usize = clutch::quantity::limits::CALIBRATION_PASSES_MAX;

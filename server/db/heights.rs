@@ -1,28 +1,10 @@
 //! Cover-height measurements, in pass order.
 
-use serde::Serialize;
-use sqlx::{FromRow, SqliteConnection};
+use sqlx::SqliteConnection;
 
 use crate::records::Checked;
 use crate::records::height::HeightInput;
-
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct Height {
-    pub id: i64,
-    pub build_id: i64,
-    #[sqlx(flatten)]
-    #[serde(flatten)]
-    pub data: HeightInput,
-    pub user_id: Option<i64>,
-    pub created_at: String,
-    pub updated_at: String,
-}
-
-impl AsRef<HeightInput> for Height {
-    fn as_ref(&self) -> &HeightInput {
-        &self.data
-    }
-}
+use crate::records::stored::Height;
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Height>> {
     sqlx::query_as("SELECT * FROM cover_heights WHERE build_id = ? ORDER BY id")

@@ -3,39 +3,10 @@
 
 use std::io::{Read, Write};
 
-use serde::Serialize;
-use sqlx::{FromRow, SqliteConnection};
+use sqlx::SqliteConnection;
 
+use crate::records::stored::LogSummary;
 use clutch::datalog::request::LogSettings;
-
-/// What the pages and the calibration read of a stored log (the file stays in the table).
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct LogSummary {
-    pub pass_id: i64,
-    pub file_name: String,
-    pub file_bytes: i64,
-    pub sample_rate_hz: f64,
-    pub launch_s: f64,
-    pub lockup_s: f64,
-    pub lockup_engine_rpm: f64,
-    pub slip_energy_j: Option<f64>,
-    pub peak_slip_power_w: Option<f64>,
-    /// JSON [[rpm, N·m], ...].
-    pub slip_window: String,
-    pub created_at: String,
-}
-
-impl LogSummary {
-    /// Time from launch to lockup, s.
-    pub fn lockup_after_launch_s(&self) -> f64 {
-        self.lockup_s - self.launch_s
-    }
-
-    /// (engine rpm, clutch torque N·m) over the calibration window.
-    pub fn window(&self) -> Vec<[f64; 2]> {
-        serde_json::from_str(&self.slip_window).unwrap_or_default()
-    }
-}
 
 const SUMMARY: &str =
     "l.pass_id, l.file_name, l.file_bytes, l.sample_rate_hz, l.launch_s, l.lockup_s,

@@ -1,22 +1,10 @@
 //! Track passes, newest first.
 
-use serde::Serialize;
-use sqlx::{FromRow, SqliteConnection};
+use sqlx::SqliteConnection;
 
 use crate::records::Checked;
 use crate::records::pass::PassInput;
-
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct Pass {
-    pub id: i64,
-    pub build_id: i64,
-    #[sqlx(flatten)]
-    #[serde(flatten)]
-    pub data: PassInput,
-    pub user_id: Option<i64>,
-    pub created_at: String,
-    pub updated_at: String,
-}
+use crate::records::stored::Pass;
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Pass>> {
     sqlx::query_as("SELECT * FROM passes WHERE build_id = ? ORDER BY run_on DESC, id DESC")

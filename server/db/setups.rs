@@ -1,22 +1,10 @@
 //! Setup changes on a build (adjuster turns, counterweight, friction), oldest first.
 
-use serde::Serialize;
-use sqlx::{FromRow, SqliteConnection};
+use sqlx::SqliteConnection;
 
 use crate::records::Checked;
 use crate::records::setup::SetupInput;
-
-#[derive(Debug, Clone, Serialize, FromRow)]
-pub struct Setup {
-    pub id: i64,
-    pub build_id: i64,
-    #[sqlx(flatten)]
-    #[serde(flatten)]
-    pub data: SetupInput,
-    pub user_id: Option<i64>,
-    pub created_at: String,
-    pub updated_at: String,
-}
+use crate::records::stored::Setup;
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Setup>> {
     sqlx::query_as("SELECT * FROM setup_changes WHERE build_id = ? ORDER BY changed_on, id")

@@ -170,7 +170,10 @@ async fn write_tx(
     Ok(state.write(user).await.map_err(AppError::from)?)
 }
 
-async fn build_exists(conn: &mut SqliteConnection, id: i64) -> Result<db::builds::Build, ApiError> {
+async fn build_exists(
+    conn: &mut SqliteConnection,
+    id: i64,
+) -> Result<crate::records::stored::Build, ApiError> {
     found(db::builds::by_id(conn, id).await.map_err(AppError::from)?)
 }
 
@@ -246,7 +249,7 @@ async fn cars_list(
     State(s): State<AppState>,
     _: ApiUser,
     Query(q): Query<ListQuery>,
-) -> ApiResult<Vec<db::cars::Car>> {
+) -> ApiResult<Vec<crate::records::stored::Car>> {
     Ok(Json(db::cars::page(&mut *conn(&s).await?, q.page()).await?))
 }
 
@@ -254,13 +257,17 @@ async fn cars_of_customer(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<Vec<db::cars::Car>> {
+) -> ApiResult<Vec<crate::records::stored::Car>> {
     let mut c = conn(&s).await?;
     found(db::customers::by_id(&mut c, id).await?)?;
     Ok(Json(db::cars::for_customer(&mut c, id).await?))
 }
 
-async fn car_get(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<db::cars::Car> {
+async fn car_get(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<crate::records::stored::Car> {
     Ok(Json(found(
         db::cars::by_id(&mut *conn(&s).await?, id).await?,
     )?))
@@ -290,7 +297,7 @@ async fn car_update(
     ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<CarInput>,
-) -> ApiResult<db::cars::Car> {
+) -> ApiResult<crate::records::stored::Car> {
     let c = checked(field::check(
         input,
         &record_ctx(&s).await?,
@@ -310,7 +317,7 @@ async fn builds_list(
     State(s): State<AppState>,
     _: ApiUser,
     Query(q): Query<ListQuery>,
-) -> ApiResult<Vec<db::builds::Build>> {
+) -> ApiResult<Vec<crate::records::stored::Build>> {
     Ok(Json(
         db::builds::page(&mut *conn(&s).await?, q.page()).await?,
     ))
@@ -320,7 +327,7 @@ async fn builds_of_car(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<Vec<db::builds::Build>> {
+) -> ApiResult<Vec<crate::records::stored::Build>> {
     let mut c = conn(&s).await?;
     found(db::cars::by_id(&mut c, id).await?)?;
     Ok(Json(db::builds::for_car(&mut c, id).await?))
@@ -330,7 +337,7 @@ async fn build_get(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<db::builds::Build> {
+) -> ApiResult<crate::records::stored::Build> {
     Ok(Json(build_exists(&mut *conn(&s).await?, id).await?))
 }
 
@@ -359,7 +366,7 @@ async fn build_update(
     ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<BuildInput>,
-) -> ApiResult<db::builds::Build> {
+) -> ApiResult<crate::records::stored::Build> {
     let b = checked(field::check(
         input,
         &record_ctx(&s).await?,
@@ -380,7 +387,7 @@ async fn setups_of_build(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<Vec<db::setups::Setup>> {
+) -> ApiResult<Vec<crate::records::stored::Setup>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::setups::for_build(&mut c, id).await?))
@@ -390,7 +397,7 @@ async fn setup_get(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<db::setups::Setup> {
+) -> ApiResult<crate::records::stored::Setup> {
     Ok(Json(found(
         db::setups::by_id(&mut *conn(&s).await?, id).await?,
     )?))
@@ -420,7 +427,7 @@ async fn setup_update(
     ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<SetupInput>,
-) -> ApiResult<db::setups::Setup> {
+) -> ApiResult<crate::records::stored::Setup> {
     let v = checked(field::check(
         input,
         &record_ctx(&s).await?,
@@ -440,7 +447,7 @@ async fn bench_of_build(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<Vec<db::bench::BenchTest>> {
+) -> ApiResult<Vec<crate::records::stored::BenchTest>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::bench::for_build(&mut c, id).await?))
@@ -467,7 +474,7 @@ async fn bench_get(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<db::bench::BenchTest> {
+) -> ApiResult<crate::records::stored::BenchTest> {
     Ok(Json(found(
         db::bench::by_id(&mut *conn(&s).await?, id).await?,
     )?))
@@ -478,7 +485,7 @@ async fn bench_update(
     ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<BenchInput>,
-) -> ApiResult<db::bench::BenchTest> {
+) -> ApiResult<crate::records::stored::BenchTest> {
     let v = checked(input.check(&record_ctx(&s).await?, FieldErrors::default()))?;
     let mut tx = write_tx(&s, &user).await?;
     let existing = found(db::bench::by_id(&mut tx, id).await?)?;
@@ -504,7 +511,7 @@ async fn heights_of_build(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<Vec<db::heights::Height>> {
+) -> ApiResult<Vec<crate::records::stored::Height>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::heights::for_build(&mut c, id).await?))
@@ -514,7 +521,7 @@ async fn height_get(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<db::heights::Height> {
+) -> ApiResult<crate::records::stored::Height> {
     Ok(Json(found(
         db::heights::by_id(&mut *conn(&s).await?, id).await?,
     )?))
@@ -556,7 +563,7 @@ async fn height_update(
     ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<HeightInput>,
-) -> ApiResult<db::heights::Height> {
+) -> ApiResult<crate::records::stored::Height> {
     let mut tx = write_tx(&s, &user).await?;
     let existing = found(db::heights::by_id(&mut tx, id).await?)?;
     let hc = height_context(&mut tx, existing.build_id, Some(id)).await?;
@@ -575,7 +582,7 @@ async fn passes_of_build(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<Vec<db::passes::Pass>> {
+) -> ApiResult<Vec<crate::records::stored::Pass>> {
     let mut c = conn(&s).await?;
     build_exists(&mut c, id).await?;
     Ok(Json(db::passes::for_build(&mut c, id).await?))
@@ -585,7 +592,7 @@ async fn pass_get(
     State(s): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<db::passes::Pass> {
+) -> ApiResult<crate::records::stored::Pass> {
     Ok(Json(found(
         db::passes::by_id(&mut *conn(&s).await?, id).await?,
     )?))
@@ -615,7 +622,7 @@ async fn pass_update(
     ApiUser(user): ApiUser,
     Id(id): Id,
     ApiJson(input): ApiJson<PassInput>,
-) -> ApiResult<db::passes::Pass> {
+) -> ApiResult<crate::records::stored::Pass> {
     let v = checked(field::check(
         input,
         &record_ctx(&s).await?,

@@ -16,13 +16,6 @@ use super::flash::{self, Flash};
 use super::layout::Layout;
 use super::wear::{self, WearFigures, WearView};
 use crate::db;
-use crate::db::bench::{BenchSpring, BenchTest};
-use crate::db::builds::Build;
-use crate::db::cars::Car;
-use crate::db::dossier::Dossier;
-use crate::db::heights::Height;
-use crate::db::pass_logs::LogSummary;
-use crate::db::setups::Setup;
 use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
 use crate::model::{self, BuildFacts, DiscPasses, Figures};
@@ -31,6 +24,13 @@ use crate::records::date::ShopZone;
 use crate::records::height::HeightInput;
 use crate::records::pass::PassInput;
 use crate::records::settings::SettingsInput;
+use crate::records::stored::Build;
+use crate::records::stored::Car;
+use crate::records::stored::Dossier;
+use crate::records::stored::Height;
+use crate::records::stored::LogSummary;
+use crate::records::stored::Setup;
+use crate::records::stored::{BenchSpring, BenchTest};
 use crate::records::{Ctx, FieldErrors, FormData, field};
 use clutch::capacity::friction::FacingMaterial;
 use clutch::capacity::springs::SetSpread;
@@ -124,7 +124,7 @@ impl ShowPage {
     }
 
     /// The passes the page lists: the newest [`RECENT_ROWS`] (all of them on their own page).
-    pub fn recent_passes(&self) -> &[db::passes::Pass] {
+    pub fn recent_passes(&self) -> &[crate::records::stored::Pass] {
         &self.d.passes[..self.d.passes.len().min(RECENT_ROWS)]
     }
 

@@ -16,13 +16,13 @@ use super::launch::LaunchColumn;
 use super::layout::Layout;
 use super::show::Show;
 use crate::db;
-use crate::db::dossier::Dossier;
 use crate::error::{AppError, AppResult};
 use crate::model::{
     BuildCalibration, BuildFacts, Figures, Trial, TuningTargets, calibration_source, figures,
 };
 use crate::records::date::ShopZone;
 use crate::records::setup::SetupInput;
+use crate::records::stored::Dossier;
 use crate::records::{Ctx, FieldErrors, FormData, field};
 use clutch::capacity::recommend::Recommendation;
 use clutch::capacity::report::CapacityReport;

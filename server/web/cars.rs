@@ -10,11 +10,11 @@ use super::extract::{CurrentUser, PathId, SignedForm};
 use super::flash::{self, Flash, saved_note};
 use super::layout::Layout;
 use crate::db;
-use crate::db::builds::Build;
-use crate::db::cars::Car;
 use crate::db::customers::Customer;
 use crate::error::{AppError, AppResult};
 use crate::records::car::CarInput;
+use crate::records::stored::Build;
+use crate::records::stored::Car;
 use crate::records::{FieldErrors, FormData, field};
 
 #[derive(Template)]

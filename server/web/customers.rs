@@ -13,11 +13,11 @@ use super::extract::{CurrentUser, PathId, SignedForm};
 use super::flash::{self, Flash, saved_note};
 use super::layout::Layout;
 use crate::db;
-use crate::db::cars::Car;
 use crate::db::customers::{Customer, CustomerSummary, Order};
 use crate::error::{AppError, AppResult};
 use crate::records::customer::CustomerInput;
 use crate::records::date::ShopZone;
+use crate::records::stored::Car;
 use crate::records::{FieldErrors, FormData, field};
 
 #[derive(Debug, Default, Deserialize)]

@@ -10,9 +10,9 @@ use sqlx::SqliteConnection;
 use super::AppState;
 use super::extract::{ApiJson, ApiUser, CurrentUser, PathId};
 use crate::db;
-use crate::db::cars::Car;
-use crate::db::passes::Pass;
 use crate::error::{ApiError, ApiResult, AppError};
+use crate::records::stored::Car;
+use crate::records::stored::Pass;
 use clutch::InputError;
 use clutch::datalog::request::{
     CarFacts, LogAnalysisReport, LogAnalysisRequest, LogColumns, LogResult, LogSettings, TimeUnit,

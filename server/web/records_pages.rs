@@ -11,10 +11,10 @@ use super::builds::page_title;
 use super::extract::{CurrentUser, PathId};
 use super::layout::Layout;
 use crate::db;
-use crate::db::heights::Height;
-use crate::db::pass_logs::LogSummary;
-use crate::db::passes::Pass;
 use crate::error::{AppError, AppResult};
+use crate::records::stored::Height;
+use crate::records::stored::LogSummary;
+use crate::records::stored::Pass;
 
 /// Rows per page.
 const PER_PAGE: i64 = 100;

@@ -3,8 +3,8 @@
 
 use super::chart::Chart;
 use super::show::Show;
-use crate::db::heights::Height;
 use crate::model::current_disc;
+use crate::records::stored::Height;
 use clutch::wear::{WearReport, WearStatus};
 
 /// Growth, total disc wear and clamp lost at one measurement (storage units).
