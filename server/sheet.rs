@@ -4,13 +4,17 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::model::{self, BuildFacts, Figures, Trial, TuningTargets};
+use crate::model::as_of::{BuildAsOf, tested_rate};
+use crate::model::calibration::{calibrated, mu_source};
+use crate::model::wear::current_disc;
+use crate::model::{Figures, TuningTargets};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Dossier;
+use clutch::calibration::Fit;
 use clutch::capacity::recommend::Recommendation;
 use clutch::units::Units;
 use clutch::wear::{WearReport, analyze};
@@ -67,7 +71,8 @@ impl SheetInputs {
         prepared_on: &str,
         targets: Option<TuningTargets>,
     ) -> Self {
-        let facts = BuildFacts::of(d, settings);
+        let now = BuildAsOf::now(d, settings);
+        let calibration = calibrated(d, settings, Fit::Mu).ok();
         Self {
             prepared_on: prepared_on.into(),
             prepared_by: prepared_by.into(),
@@ -76,23 +81,23 @@ impl SheetInputs {
             customer_phone: d.owner.customer_phone.clone(),
             car: d.car.data.clone(),
             build: d.build.data.clone(),
-            setup: d.setups.last().map(|s| s.data.clone()),
-            bench: d.bench.last().map(|t| BenchOnSheet {
+            setup: now.setup.cloned(),
+            bench: now.bench_index.map(|i| &d.bench[i]).map(|t| BenchOnSheet {
                 tested_on: t.tested_on.clone(),
                 readings: t
                     .springs
                     .iter()
                     .map(|s| [s.compression_mm, s.force_n])
                     .collect(),
-                installed_load_n: facts.tested_load_n,
-                installed_length_mm: facts.installed_length_mm,
+                installed_load_n: now.tested_load_n,
+                installed_length_mm: now.installed_length_mm,
             }),
-            heights: model::current_disc(&d.heights)
+            heights: current_disc(&d.heights)
                 .iter()
                 .map(|h| h.data.clone())
                 .collect(),
             targets,
-            mu_source: model::mu_source(&facts, d),
+            mu_source: mu_source(&now, calibration.as_ref()),
             wear_in_clamp: true,
         }
     }
@@ -113,56 +118,33 @@ pub struct SheetFigures {
 
 /// Works out the sheet's figures (capacity in the shop's units; wear in storage units).
 pub fn figures(inputs: &SheetInputs) -> SheetFigures {
-    let tested = inputs.bench.as_ref().and_then(|b| {
-        let test = crate::records::stored::BenchTest {
-            id: 0,
-            build_id: 0,
-            tested_on: b.tested_on.clone(),
-            note: String::new(),
-            created_at: String::new(),
-            springs: b
-                .readings
-                .iter()
-                .enumerate()
-                .map(|(i, [x, f])| crate::records::stored::BenchSpring {
-                    bench_test_id: 0,
-                    position: i as i64 + 1,
-                    free_length_mm: None,
-                    compression_mm: *x,
-                    force_n: *f,
-                })
-                .collect(),
-        };
-        model::bench_review(&[test], &inputs.build, &inputs.settings)
-            .and_then(|r| r.last().map(|t| t.spread.mean))
-    });
-    let mut facts = BuildFacts {
-        build: &inputs.build,
-        car: &inputs.car,
-        settings: &inputs.settings,
-        tested_rate_n_per_mm: tested,
-        tested_load_n: inputs.bench.as_ref().and_then(|b| b.installed_load_n),
-        clamp_loss_n: 0.0,
-        installed_length_mm: inputs.bench.as_ref().and_then(|b| b.installed_length_mm),
-    };
-    if inputs.wear_in_clamp {
-        facts.clamp_loss_n = facts.clamp_loss(&inputs.heights);
+    let tested = inputs
+        .bench
+        .as_ref()
+        .and_then(|b| tested_rate(&b.readings, &inputs.settings));
+    let mut build = BuildAsOf::assemble(
+        &inputs.build,
+        &inputs.car,
+        &inputs.settings,
+        inputs.setup.as_ref(),
+        inputs.bench.as_ref().map(|_| 0),
+        tested,
+        inputs.bench.as_ref().and_then(|b| b.installed_load_n),
+        inputs.bench.as_ref().and_then(|b| b.installed_length_mm),
+        inputs.heights.iter().collect(),
+    );
+    if !inputs.wear_in_clamp {
+        // Printed before the figures took wear off the static clamp: they reprint as shown.
+        build.clamp_loss_n = 0.0;
     }
     let units = inputs.units();
-    let trial = Trial::from_setup(inputs.setup.as_ref());
-    let capacity = facts
-        .capacity_request(trial)
-        .and_then(|r| model::figures(&r, units).map_err(|e| e.to_string()));
-    let wear = model::wear_request(
-        &inputs.build,
-        &inputs.settings,
-        facts.spring_rate(),
-        &inputs.heights,
-    )
-    .and_then(|r| analyze(&r).map_err(|e| e.to_string()));
+    let capacity = build.figures(units);
+    let wear = build
+        .wear()
+        .and_then(|r| analyze(&r).map_err(|e| e.to_string()));
     let recommendation = inputs.targets.map(|t| {
-        facts
-            .recommend(trial, t, units)
+        build
+            .recommend(build.trial, t, units)
             .map(|(r, _)| r)
             .map_err(|e| e.to_string())
     });

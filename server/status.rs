@@ -2,16 +2,18 @@
 //! (`build_status`, migration 0009), so the counter reads a few rows whatever the history's size.
 //!
 //! The status of a build is worked out here from its full history ([`of_history`], the same wear
-//! analysis and spring review `model::work_due` uses); the triggers mark a build stale when a
+//! analysis and spring review `model::due::work_due` uses); the triggers mark a build stale when a
 //! record it depends on is written, and every write path calls [`refresh_stale`] before it
-//! commits. [`work_due`] reads the listed rows and gives exactly `model::work_due`'s answer (the
+//! commits. [`work_due`] reads the listed rows and gives exactly `model::due::work_due`'s answer (the
 //! property test in `tests/integration/status.rs` compares the two on random histories).
 
 use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::status::{BuildStatus, Listed};
-use crate::model::{self, Due, DueReason};
+use crate::model::as_of::bench_review;
+use crate::model::due::{Due, DueReason};
+use crate::model::wear::wear_request;
 use crate::records::build::BuildInput;
 use crate::records::settings::SettingsInput;
 use crate::records::stored::BenchTest;
@@ -26,13 +28,13 @@ pub fn of_history(
     bench: &[BenchTest],
     settings: &SettingsInput,
 ) -> BuildStatus {
-    let review = model::bench_review(bench, build, settings);
+    let review = bench_review(bench, build, settings);
     let tested = review
         .as_ref()
         .and_then(|r| r.last().map(|t| t.spread.mean));
     let rate = tested.or(build.spring_rate_n_per_mm);
     let mut s = BuildStatus::default();
-    if let Ok(req) = model::wear_request(build, settings, rate, heights)
+    if let Ok(req) = wear_request(build, settings, rate, heights)
         && let Ok(report) = wear::analyze(&req)
     {
         match report.status {
@@ -43,7 +45,7 @@ pub fn of_history(
             }
             WearStatus::Ok => {
                 s.wear = Some("ok".into());
-                // The nearer forecast, the shim's on a tie (as `model::work_due` picks it).
+                // The nearer forecast, the shim's on a tie (as `model::due::work_due` picks it).
                 let shim = report.passes_to_shim_due.map(|p| (p, false));
                 let disc = report.passes_to_disc_due.map(|p| (p, true));
                 if let Some((passes, disc)) = [shim, disc]
@@ -151,7 +153,7 @@ pub async fn rebuild_derived(conn: &mut SqliteConnection) -> sqlx::Result<usize>
     refresh_stale(conn).await
 }
 
-/// The work due across the shop, most urgent first: exactly `model::work_due` on the full
+/// The work due across the shop, most urgent first: exactly `model::due::work_due` on the full
 /// history, read from the kept status. A row still marked stale (a write path that did not
 /// refresh) is worked out here from its history, so the list is right either way.
 pub async fn work_due(

@@ -13,6 +13,7 @@
 //! Units inside: rev/min, N, N·m, g; μ and the gain scale are plain numbers.
 
 use crate::InputError;
+use crate::capacity::clamp::SpringPack;
 use crate::capacity::lockup::{CapacityLaw, ClutchModel};
 use crate::capacity::request::{
     CapacityRequest, DiscInput, EngineInput, FrictionInput, LeversInput,
@@ -265,13 +266,17 @@ pub struct Observation {
     pub counterweight_g: f64,
     /// Static clamp lost to wear, N.
     pub clamp_loss_n: f64,
+    /// The springs as they were at this pass (its bench test), when they differ from the
+    /// model's; `None` uses the model's (every API request).
+    pub springs: Option<SpringPack>,
 }
 
 impl Observation {
     /// This pass's capacity law with friction `mu` and the centrifugal clamp scaled by
     /// `gain_scale`.
     pub fn law(&self, model: &ClutchModel, mu: f64, gain_scale: f64) -> CapacityLaw {
-        let mut law = model.law_at(
+        let mut law = model.law_with(
+            self.springs.as_ref().unwrap_or(&model.springs),
             self.adjuster_turns,
             self.counterweight_g,
             self.clamp_loss_n,
@@ -514,6 +519,7 @@ impl CalibrateRequest {
                     adjuster_turns,
                     counterweight_g,
                     clamp_loss_n,
+                    springs: None,
                 })
             })
             .collect()
@@ -528,14 +534,25 @@ const PLACEHOLDER_MU: f64 = 0.3;
 pub fn calibrate_request(req: &CalibrateRequest) -> Result<CalibrationReport, InputError> {
     let valid = req.clutch()?;
     let observations = req.observations(&valid.model)?;
+    calibrate_observations(req, &valid, &observations)
+}
+
+/// Fits a validated request's passes, given as observations (as [`CalibrateRequest::observations`]
+/// reads them, or with the springs of each pass's own date), and answers in the request's
+/// units.
+pub fn calibrate_observations(
+    req: &CalibrateRequest,
+    valid: &ValidRequest,
+    observations: &[Observation],
+) -> Result<CalibrationReport, InputError> {
     if req.fit == Fit::MuAndGain && valid.model.levers.is_none_or(|l| l.count == 0) {
         return Err(InputError::new(
             "fit",
             "fitting the lever gain needs levers: give the levers, or fit mu alone",
         ));
     }
-    let cal = calibrate(&valid.model, &observations, req.fit)?;
-    Ok(report(req, &observations, cal))
+    let cal = calibrate(&valid.model, observations, req.fit)?;
+    Ok(report(req, observations, cal))
 }
 
 /// The answer in the request's units.
@@ -704,6 +721,7 @@ mod tests {
                 adjuster_turns: 0.0,
                 counterweight_g: 40.0,
                 clamp_loss_n: 0.0,
+                springs: None,
             })
             .collect()
     }
@@ -825,6 +843,7 @@ mod tests {
                 adjuster_turns: 0.0,
                 counterweight_g: cw,
                 clamp_loss_n: 0.0,
+                springs: None,
             };
             p.torque_nm = p.law(&m, 0.32, 1.2).capacity_nm(rpm);
             p

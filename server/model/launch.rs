@@ -3,7 +3,8 @@
 //! each value the record leaves empty (and the page told which). Storage units are the metric
 //! request units, so nothing is converted here. No IO.
 
-use super::{BuildFacts, Missing, Trial};
+use super::as_of::BuildAsOf;
+use super::{Missing, Trial};
 use crate::records::car::CarInput;
 use clutch::launch::request::{
     DEFAULT_AIR_DENSITY, LaunchDriveline, LaunchEngine, LaunchFriction, LaunchRequest,
@@ -172,7 +173,7 @@ fn or_estimate(car: &CarInput, column: &str, used: &mut Vec<Estimate>) -> f64 {
     })
 }
 
-impl BuildFacts<'_> {
+impl BuildAsOf<'_> {
     /// The launch preview request for `trial` from `launch_rpm` (the car's when `None`), in
     /// storage units, or what the records lack.
     pub fn launch_request(

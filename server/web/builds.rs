@@ -18,7 +18,9 @@ use super::wear::{self, WearFigures, WearView};
 use crate::db;
 use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
-use crate::model::{self, BuildFacts, DiscPasses, Figures};
+use crate::model::Figures;
+use crate::model::as_of::{BuildAsOf, bench_review};
+use crate::model::wear::{DiscPasses, current_disc, disc_passes};
 use crate::records::build::BuildInput;
 use crate::records::date::ShopZone;
 use crate::records::height::HeightInput;
@@ -101,7 +103,7 @@ impl ShowPage {
     /// The next shim to pull, if any remain: its thickness (mm) and the one-step shim-pull form
     /// (date and pass count to confirm, the shim count and a note already filled in).
     pub fn shim_pull(&self) -> Option<(f64, EntryForm)> {
-        let last = model::current_disc(&self.d.heights).last()?;
+        let last = current_disc(&self.d.heights).last()?;
         let pulled = last.data.shims_pulled.max(0);
         let next = *self.d.build.data.shim_stack_mm.get(pulled as usize)?;
         let mut form = FormData::default();
@@ -267,7 +269,7 @@ fn bench_views(
     build: &BuildInput,
     settings: &SettingsInput,
 ) -> Vec<BenchView> {
-    let reviews = model::bench_review(tests, build, settings);
+    let reviews = bench_review(tests, build, settings);
     let mut views: Vec<BenchView> = tests
         .iter()
         .enumerate()
@@ -331,11 +333,11 @@ pub async fn render_page(
         .ok_or(AppError::NotFound)?;
     let title = page_title(&d.owner.customer_name, &d.build);
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
-    let facts = BuildFacts::of(&d, &settings);
+    let now = BuildAsOf::now(&d, &settings);
     let rate_used = match (
-        facts.tested_rate_n_per_mm,
-        d.bench.last(),
-        facts.spring_rate(),
+        now.tested_rate_n_per_mm,
+        now.bench_index.map(|i| &d.bench[i]),
+        now.spring_rate(),
     ) {
         (Some(k), Some(test), _) => format!(
             "{} (mean of the {} bench test)",
@@ -345,16 +347,12 @@ pub async fn render_page(
         (None, _, Some(k)) => format!("{} (nominal, not bench tested)", page.u.rate(k)),
         _ => "none recorded".into(),
     };
-    let capacity = facts
-        .capacity_request(BuildFacts::current_trial(&d))
-        .and_then(|r| {
-            model::figures(&r, page.units()).map_err(|e| format!("{}: {}", e.field, e.message))
-        });
+    let capacity = now.figures(page.units());
     let capacity_chart = capacity
         .as_ref()
         .ok()
         .map(|f| capacity_chart(&page.u, &f.report, None));
-    let wear = facts.wear(&d.heights).and_then(|req| {
+    let wear = now.wear().and_then(|req| {
         clutch::wear::analyze(&req)
             .map(|report| wear::view(&page.u, report, &d.heights, req.shimming_limit))
             .map_err(|e| format!("{}: {}", e.field, e.message))
@@ -365,7 +363,7 @@ pub async fn render_page(
     let material = super::show::material_text(&d.build.data);
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
     let sheets = db::sheets::for_build(conn, id).await?;
-    let disc_passes = model::disc_passes(&d.heights, &d.passes);
+    let disc_passes = disc_passes(&d.heights, &d.passes);
     let zone = page.zone.clone();
     let html = ShowPage {
         page,
@@ -411,7 +409,7 @@ fn default_forms(forms: EntryForms, ctx: &Ctx, d: &Dossier) -> FilledForms {
             .unwrap_or_else(|| filled(FormData::default(), "tested_on")),
         height: forms.height.unwrap_or_else(|| {
             // The passes logged since the last measurement count on the disc already.
-            let passes = model::disc_passes(&d.heights, &d.passes).now();
+            let passes = disc_passes(&d.heights, &d.passes).now();
             let shims_pulled = d.heights.last().map_or(0, |h| h.data.shims_pulled);
             let next = HeightInput {
                 passes,

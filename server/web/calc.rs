@@ -9,7 +9,8 @@ use super::api::Id;
 use super::extract::{ApiJson, ApiUser};
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
-use crate::model::BuildFacts;
+use crate::model::as_of::BuildAsOf;
+use crate::model::calibration::calibrated;
 use clutch::InputError;
 use clutch::calibration::{CalibrateRequest, CalibrationReport, Fit};
 use clutch::capacity::recommend::{RecommendRequest, Recommendation};
@@ -70,8 +71,8 @@ pub async fn build_wear(
         .await?
         .ok_or(ApiError(AppError::NotFound))?;
     let settings = db::settings::get(&mut conn).await?;
-    let request = BuildFacts::of(&dossier, &settings)
-        .wear(&dossier.heights)
+    let request = BuildAsOf::now(&dossier, &settings)
+        .wear()
         .map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
     clutch::wear::analyze(&request).map(Json).map_err(invalid)
 }
@@ -96,10 +97,6 @@ pub async fn build_calibration(
         .await?
         .ok_or(ApiError(AppError::NotFound))?;
     let settings = db::settings::get(&mut conn).await?;
-    let input = BuildFacts::of(&dossier, &settings)
-        .calibration(&dossier, query.fit)
-        .map_err(|missing| ApiError(AppError::field("passes", missing)))?;
-    let mut report = clutch::calibration::calibrate_request(&input.request).map_err(invalid)?;
-    report.notes.extend(input.notes);
-    Ok(Json(report))
+    let calibration = calibrated(&dossier, &settings, query.fit).map_err(invalid)?;
+    Ok(Json(calibration.report))
 }

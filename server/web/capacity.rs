@@ -17,13 +17,14 @@ use super::layout::Layout;
 use super::show::Show;
 use crate::db;
 use crate::error::{AppError, AppResult};
-use crate::model::{
-    BuildCalibration, BuildFacts, Figures, Trial, TuningTargets, calibration_source, figures,
-};
+use crate::model::as_of::BuildAsOf;
+use crate::model::calibration::{BuildCalibration, calibrated, calibration_source};
+use crate::model::{Figures, Trial, TuningTargets, figures};
 use crate::records::date::ShopZone;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Dossier;
 use crate::records::{Ctx, FieldErrors, FormData, field};
+use clutch::calibration::Fit;
 use clutch::capacity::recommend::Recommendation;
 use clutch::capacity::report::CapacityReport;
 use clutch::launch::target::LaunchTarget;
@@ -174,18 +175,16 @@ async fn render_tune(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(conn, user, "customers", "Capacity and tuning").await?;
-    let facts = BuildFacts::of(&dossier, &settings);
-    let current_trial = BuildFacts::current_trial(&dossier);
-    let current = facts
-        .capacity_request(current_trial)
-        .and_then(|r| figures(&r, page.units()).map_err(|e| format!("{}: {}", e.field, e.message)));
+    let facts = BuildAsOf::now(&dossier, &settings);
+    let current_trial = facts.trial;
+    let current = facts.figures(page.units());
 
     let mut form = FormData::new(query.into_iter().collect());
     let mut errors = FieldErrors::default();
     let mut trial = None;
     let mut recommended = None;
     let mut recommended_from = current_trial;
-    let calibration = facts.calibrated(&dossier);
+    let calibration = calibrated(&dossier, &settings, Fit::Mu).map_err(|e| e.message);
     if form.get("try") == "1"
         && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
     {
@@ -287,7 +286,7 @@ async fn render_tune(
 /// recommended or tried setting from the launch speed tried (`launch_rpm`, with `try=1`).
 /// Prefills the launch speed with the car's.
 fn launch_columns(
-    facts: &BuildFacts,
+    facts: &BuildAsOf,
     form: &mut FormData,
     errors: &mut FieldErrors,
     ctx: &Ctx,

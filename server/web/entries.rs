@@ -13,7 +13,7 @@ use super::extract::{CurrentUser, PathId, SignedForm};
 use super::flash;
 use crate::db;
 use crate::error::{AppError, AppResult};
-use crate::model;
+use crate::model::wear::{current_disc, disc_passes};
 use crate::records::bench::BenchInput;
 use crate::records::field::Record;
 use crate::records::height::{HeightContext, HeightInput};
@@ -291,9 +291,9 @@ impl BuildEntry for PassInput {
     ) -> sqlx::Result<String> {
         let heights = db::heights::for_build(tx, b).await?;
         let passes = db::passes::for_build(tx, b).await?;
-        let count = model::disc_passes(&heights, &passes);
+        let count = disc_passes(&heights, &passes);
         // The new pass counts when it is not dated before the disc's latest measurement.
-        let counted = model::current_disc(&heights)
+        let counted = current_disc(&heights)
             .last()
             .is_none_or(|h| v.run_on >= h.data.measured_on);
         let now = count.now() + i64::from(counted);

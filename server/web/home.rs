@@ -15,7 +15,7 @@ use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
 use crate::error::AppResult;
-use crate::model::{Due, DueReason};
+use crate::model::due::{Due, DueReason};
 use crate::records::date::ShopZone;
 use crate::status;
 use clutch::wear::WearStatus;

@@ -3,8 +3,9 @@
 
 use super::chart::Chart;
 use super::show::Show;
+use crate::model::Trial;
+use crate::model::as_of::BuildAsOf;
 use crate::model::launch::LaunchPlan;
-use crate::model::{BuildFacts, Trial};
 use clutch::launch::request::{LaunchReport, describe};
 use clutch::launch::simulation::LaunchRun;
 use clutch::launch::target::{Grid, LaunchTarget, find_counterweight};
@@ -216,7 +217,7 @@ fn setting_text(u: Units, turns: f64, counterweight_g: f64, rpm: Option<f64>) ->
 
 /// The launch of `trial` from `launch_rpm` (the car's when `None`) in `u`, or why there is none.
 pub fn column(
-    facts: &BuildFacts,
+    facts: &BuildAsOf,
     title: &str,
     trial: Trial,
     launch_rpm: Option<f64>,
@@ -242,7 +243,7 @@ pub fn column(
 /// The current setup's turns with the counterweight (1 g steps, 0–120 g) that meets `target`
 /// from the car's launch speed, as a column.
 pub fn target_column(
-    facts: &BuildFacts,
+    facts: &BuildAsOf,
     current: Trial,
     target: LaunchTarget,
     u: Units,

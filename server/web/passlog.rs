@@ -365,8 +365,7 @@ async fn render_with(
         Some(l) => {
             let dossier = db::dossier::load(&mut conn, pc.pass.build_id).await?;
             dossier.and_then(|d| {
-                crate::model::BuildFacts::of(&d, &settings)
-                    .log_value(&d, &pc.pass, l)
+                crate::model::calibration::log_value(&d, &settings, &pc.pass, l)
                     .map(|(mu, tc)| {
                         format!(
                             "μ {mu:.3} (median of clutch torque over capacity at μ = 1 from launch + 50 ms to lockup − 50 ms), fed to the calibration as {} carried at {}",

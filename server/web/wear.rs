@@ -3,7 +3,7 @@
 
 use super::chart::Chart;
 use super::show::Show;
-use crate::model::current_disc;
+use crate::model::wear::current_disc;
 use crate::records::stored::Height;
 use clutch::wear::{WearReport, WearStatus};
 

@@ -377,6 +377,42 @@ async fn calibrated_build(app: &TestApp) -> i64 {
     id
 }
 
+// Each pass is scored with the springs of the bench test in force on its date. The build's
+// first bench test (4 springs, 800 N at 8 mm: 100 N/mm, the nominal rate) stands before the
+// passes made from μ = 0.30; a second one dated after every pass finds the springs at 80 N/mm.
+// The passes still say μ = 0.30 (they ran on the first springs); scored with the later springs
+// they would read 0.30 × 100/80 on the static part instead. Consistency check, derived.
+#[tokio::test]
+async fn a_bench_test_after_every_pass_does_not_move_the_calibration() {
+    let app = TestApp::new().await;
+    let id = calibrated_build(&app).await;
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let mu_now = || async {
+        let r = app
+            .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+            .await;
+        assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+        num(&r.json()["mu"])
+    };
+    for (day, force) in [("2026-09-01", 800.0), ("2026-10-20", 640.0)] {
+        let springs: Vec<Value> = (0..4)
+            .map(|_| json!({"compression_mm": 8.0, "force_n": force}))
+            .collect();
+        let r = app
+            .api(
+                "POST",
+                &format!("/api/v1/builds/{id}/bench-tests"),
+                t,
+                Some(json!({"tested_on": day, "springs": springs})),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        let mu = mu_now().await;
+        assert!((mu - 0.30).abs() < 1e-6, "after the test of {day}: μ {mu}");
+    }
+}
+
 #[tokio::test]
 async fn the_tuning_page_shows_the_calibration_and_uses_it_with_one_click() {
     let app = TestApp::new().await;

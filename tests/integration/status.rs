@@ -280,7 +280,7 @@ async fn both_in(pool: &SqlitePool) -> (String, String, i64) {
     let mut conn = pool.acquire().await.unwrap();
     let settings = db::settings::get(&mut conn).await.unwrap();
     let kept = status::work_due(&mut conn, &settings).await.unwrap();
-    let full = model::work_due(
+    let full = model::due::work_due(
         &db::builds::active(&mut conn).await.unwrap(),
         &db::heights::for_active_builds(&mut conn).await.unwrap(),
         &db::bench::for_active_builds(&mut conn).await.unwrap(),

@@ -229,7 +229,7 @@ async fn check_due(path: &Path) -> Result<(), Box<dyn std::error::Error>> {
     let mut conn = pool.acquire().await?;
     let settings = db::settings::get(&mut conn).await?;
     let kept = status::work_due(&mut conn, &settings).await?;
-    let full = model::work_due(
+    let full = model::due::work_due(
         &db::builds::active(&mut conn).await?,
         &db::heights::for_active_builds(&mut conn).await?,
         &db::bench::for_active_builds(&mut conn).await?,

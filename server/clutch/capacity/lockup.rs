@@ -60,8 +60,27 @@ impl ClutchModel {
         clamp_loss_n: f64,
         mu: f64,
     ) -> CapacityLaw {
+        self.law_with(
+            &self.springs,
+            adjuster_turns,
+            counterweight_g,
+            clamp_loss_n,
+            mu,
+        )
+    }
+
+    /// [`Self::law_at`] with another spring pack in the same clutch: the springs as a bench
+    /// test of another date found them (a pass is scored with the springs it ran on).
+    pub fn law_with(
+        &self,
+        springs: &SpringPack,
+        adjuster_turns: f64,
+        counterweight_g: f64,
+        clamp_loss_n: f64,
+        mu: f64,
+    ) -> CapacityLaw {
         CapacityLaw {
-            static_clamp_n: (self.springs.static_clamp_n(adjuster_turns) - clamp_loss_n).max(0.0),
+            static_clamp_n: (springs.static_clamp_n(adjuster_turns) - clamp_loss_n).max(0.0),
             centrifugal_n_per_rpm2: self
                 .levers
                 .map_or(0.0, |l| l.total_n_per_rpm2(counterweight_g)),

@@ -1,0 +1,367 @@
+//! A build as it stood on a date: the one way every page, sheet and API answer gets the clutch
+//! of a stored build. The setup, the bench test, the cover heights (so the wear clamp loss) are
+//! the ones in force on that date; the build's hardware and the car are as recorded. Storage
+//! units (mm, N, N/mm, N·m, g) are the metric request units, so nothing is converted here. No IO.
+
+use super::wear::wear_request;
+use super::{Figures, Missing, Trial, TuningTargets, curve_range, figures};
+use crate::records::build::BuildInput;
+use crate::records::car::CarInput;
+use crate::records::height::HeightInput;
+use crate::records::settings::SettingsInput;
+use crate::records::setup::SetupInput;
+use crate::records::stored::{BenchTest, Dossier};
+use clutch::InputError;
+use clutch::capacity::friction::FacingMaterial;
+use clutch::capacity::recommend::{Limits, RecommendRequest, Recommendation, Steps, Targets};
+use clutch::capacity::request::{
+    CapacityRequest, DiscInput, DrivelineInput, EngineInput, FrictionInput, LeversInput,
+    SpringsInput,
+};
+use clutch::capacity::spring_health::{self, TestReview};
+use clutch::capacity::springs::BenchPoint;
+use clutch::capacity::torque::Theory;
+use clutch::units::Units;
+use clutch::wear::WearRequest;
+
+/// A stored build as it stood on a date (see the module notes).
+#[derive(Debug, Clone)]
+pub struct BuildAsOf<'a> {
+    pub build: &'a BuildInput,
+    pub car: &'a CarInput,
+    pub settings: &'a SettingsInput,
+    /// The setup record in force: the latest changed on or before the date.
+    pub setup: Option<&'a SetupInput>,
+    /// The setting in force (zero turns and no counterweight without a setup).
+    pub trial: Trial,
+    /// Index (oldest first) of the bench test in force: the latest on or before the date, the
+    /// earliest when none is before it.
+    pub bench_index: Option<usize>,
+    /// Mean spring rate of the bench test in force, N/mm, when there is one.
+    pub tested_rate_n_per_mm: Option<f64>,
+    /// Mean spring load at the installed length in the bench test in force, N, when it
+    /// measured free lengths (see [`bench_review`]).
+    pub tested_load_n: Option<f64>,
+    /// The length the clutch holds its springs at with the adjusters at zero turns, mm (see
+    /// [`bench_review`]).
+    pub installed_length_mm: Option<f64>,
+    /// Cover heights measured on or before the date, in pass order (every disc).
+    pub heights: Vec<&'a HeightInput>,
+    /// Static clamp lost to disc wear since the last shim, N, by the latest of `heights`.
+    pub clamp_loss_n: f64,
+}
+
+impl<'a> BuildAsOf<'a> {
+    /// The build as recorded now: every record counted.
+    pub fn now(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
+        Self::of(d, settings, None)
+    }
+
+    /// The build as it stood on `day` (`YYYY-MM-DD`): records dated after it do not count.
+    pub fn on(d: &'a Dossier, settings: &'a SettingsInput, day: &str) -> Self {
+        Self::of(d, settings, Some(day))
+    }
+
+    fn of(d: &'a Dossier, settings: &'a SettingsInput, day: Option<&str>) -> Self {
+        let upto = |date: &str| day.is_none_or(|day| date <= day);
+        let setup = d
+            .setups
+            .iter()
+            .rev()
+            .find(|s| upto(&s.data.changed_on))
+            .map(|s| &s.data);
+        let bench_index = d
+            .bench
+            .iter()
+            .rposition(|t| upto(&t.tested_on))
+            .or((!d.bench.is_empty()).then_some(0));
+        let tests = health_tests(&d.bench[..bench_index.map_or(0, |i| i + 1)]);
+        let installed = installed_length_mm(&tests, &d.build.data);
+        let review = review(&tests, settings, installed);
+        let in_force = review.as_ref().and_then(|r| r.last());
+        Self::assemble(
+            &d.build.data,
+            &d.car.data,
+            settings,
+            setup,
+            bench_index,
+            in_force.map(|t| t.spread.mean),
+            in_force.and_then(|t| t.mean_load_n()),
+            installed,
+            d.heights
+                .iter()
+                .map(|h| &h.data)
+                .filter(|h| upto(&h.measured_on))
+                .collect(),
+        )
+    }
+
+    /// The build from parts already chosen for a date (a setup sheet's stored snapshot): the
+    /// clamp loss is worked out from `heights` with the spring rate in force.
+    #[expect(
+        clippy::too_many_arguments,
+        reason = "each part is one record of the build"
+    )]
+    pub fn assemble(
+        build: &'a BuildInput,
+        car: &'a CarInput,
+        settings: &'a SettingsInput,
+        setup: Option<&'a SetupInput>,
+        bench_index: Option<usize>,
+        tested_rate_n_per_mm: Option<f64>,
+        tested_load_n: Option<f64>,
+        installed_length_mm: Option<f64>,
+        heights: Vec<&'a HeightInput>,
+    ) -> Self {
+        let mut build = Self {
+            build,
+            car,
+            settings,
+            setup,
+            trial: Trial::from_setup(setup),
+            bench_index,
+            tested_rate_n_per_mm,
+            tested_load_n,
+            installed_length_mm,
+            heights,
+            clamp_loss_n: 0.0,
+        };
+        build.clamp_loss_n = build.clamp_loss();
+        build
+    }
+
+    /// The spring rate the figures use: the bench test's mean, else the nominal rate.
+    pub fn spring_rate(&self) -> Option<f64> {
+        self.tested_rate_n_per_mm
+            .or(self.build.spring_rate_n_per_mm)
+    }
+
+    /// Spring compression at zero turns the figures use, mm: the one the bench test's loads
+    /// at the installed length give at its mean rate (so sagged springs clamp less), else the
+    /// build's base compression.
+    pub fn base_compression_mm(&self) -> Option<f64> {
+        match (self.tested_load_n, self.tested_rate_n_per_mm) {
+            (Some(load), Some(rate)) if rate > 0.0 => Some(load / rate),
+            _ => base_compression_mm(self.build),
+        }
+    }
+
+    /// Adjuster travel per turn, mm (one thread pitch).
+    pub fn pitch_mm(&self) -> f64 {
+        match (self.build.adjuster_tpi, self.build.adjuster_pitch_mm) {
+            (Some(tpi), _) => Units::Imperial.length_to_mm(1.0 / tpi),
+            (None, Some(p)) => p,
+            _ => 0.0,
+        }
+    }
+
+    /// The wear request of the disc in the clutch on the date.
+    pub fn wear(&self) -> Result<WearRequest, Missing> {
+        wear_request(self.build, self.settings, self.spring_rate(), &self.heights)
+    }
+
+    /// Static clamp lost to wear, N, by the latest cover height: the wear model's clamp loss,
+    /// 0 without measurements or a spring rate.
+    fn clamp_loss(&self) -> f64 {
+        self.wear()
+            .ok()
+            .and_then(|req| clutch::wear::analyze(&req).ok())
+            .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))
+            .unwrap_or(0.0)
+    }
+
+    /// The capacity request of the setting in force, or what is missing to make one.
+    pub fn clutch(&self) -> Result<CapacityRequest, Missing> {
+        self.capacity_request(self.trial)
+    }
+
+    /// The capacity figures of the setting in force, in `units`.
+    pub fn figures(&self, units: Units) -> Result<Figures, String> {
+        self.clutch()
+            .and_then(|r| figures(&r, units).map_err(|e| format!("{}: {}", e.field, e.message)))
+    }
+
+    /// Searches adjuster turns and counterweight for the targets, starting from `current`, on
+    /// the clutch module's default grid and limits; returns the recommendation (in `units`) and
+    /// the figures of the recommended setting.
+    pub fn recommend(
+        &self,
+        current: Trial,
+        targets: TuningTargets,
+        units: Units,
+    ) -> Result<(Recommendation, Figures), InputError> {
+        let setup = self
+            .capacity_request(current)
+            .map_err(|missing| InputError::new("build", missing))?;
+        let recommendation = clutch::capacity::recommend::recommend(&RecommendRequest {
+            setup: setup.in_units(units),
+            targets: Targets {
+                lockup_rpm: targets.lockup_rpm,
+                launch_ratio: targets.launch_ratio,
+            },
+            steps: Steps::default(),
+            limits: Limits::default(),
+        })?;
+        let chosen = Trial {
+            adjuster_turns: recommendation.recommended.adjuster_turns,
+            counterweight_g: recommendation.recommended.counterweight_g,
+            mu: current.mu,
+        };
+        let request = self
+            .capacity_request(chosen)
+            .map_err(|missing| InputError::new("build", missing))?;
+        Ok((recommendation, figures(&request, units)?))
+    }
+
+    /// The capacity request for a setting of this build, or what is missing to make one.
+    pub fn capacity_request(&self, trial: Trial) -> Result<CapacityRequest, Missing> {
+        let (b, car) = (self.build, self.car);
+        if car.torque_curve_nm.len() < 3 {
+            return Err("Enter the car's engine torque curve (at least 3 dyno points).".into());
+        }
+        let rate = self
+            .spring_rate()
+            .ok_or("Record a spring bench test or a nominal spring rate.")?;
+        let base = self
+            .base_compression_mm()
+            .ok_or("Enter the base compression, or the cover heights free and installed.")?;
+        // A measured gain stands for the whole lever; the geometry is used only without one.
+        let geometry = b.lever_gain_n_per_g.is_none();
+        let levers = (b.lever_count > 0).then(|| LeversInput {
+            count: b.lever_count as u32,
+            counterweight_g: trial.counterweight_g,
+            lever_mass_g: b.lever_mass_g,
+            cg_radius: b.lever_cg_radius_mm.filter(|_| geometry),
+            arm_ratio: b.lever_arm_ratio.filter(|_| geometry),
+            gain: b.lever_gain_n_per_g,
+            body_cg_radius: b.lever_body_cg_radius_mm.filter(|_| geometry),
+        });
+        let (lo, hi) = curve_range(&car.torque_curve_nm);
+        let launch_rpm = car.launch_rpm.filter(|rpm| (lo..=hi).contains(rpm));
+        Ok(CapacityRequest {
+            units: Units::Metric,
+            disc: DiscInput {
+                outer_diameter: b.facing_od_mm,
+                inner_diameter: b.facing_id_mm,
+                count: b.disc_count as u32,
+                theory: Theory::UniformWear,
+                // Full share is the API's default; only a derated shop sends it.
+                extra_face_efficiency: (self.settings.extra_face_efficiency < 1.0)
+                    .then_some(self.settings.extra_face_efficiency),
+            },
+            friction: FrictionInput {
+                mu: trial.mu,
+                material: FacingMaterial::from_key(&b.facing_material),
+            },
+            springs: SpringsInput {
+                count: b.spring_count as u32,
+                rate,
+                base_compression: base,
+                adjuster_pitch: self.pitch_mm(),
+                adjuster_turns: trial.adjuster_turns,
+                clamp_loss: self.clamp_loss_n,
+                // The springs' free length now: installed length plus compression at zero turns.
+                free_length: self
+                    .installed_length_mm
+                    .filter(|_| b.spring_solid_height_mm.is_some())
+                    .map(|l| l + base),
+                solid_height: self.installed_length_mm.and(b.spring_solid_height_mm),
+            },
+            levers,
+            engine: EngineInput {
+                torque_curve: car.torque_curve_nm.clone(),
+            },
+            launch_rpm,
+            driveline: car
+                .rated_input_torque_nm
+                .map(|t| DrivelineInput { rated_torque: t }),
+            overclamp_factor: Some(self.settings.overclamp_factor),
+        })
+    }
+}
+
+/// Reviews a build's bench tests (oldest first) with the shop's tolerances, each spring's load
+/// taken at the installed length (see [`installed_length_mm`]).
+pub fn bench_review(
+    bench: &[BenchTest],
+    build: &BuildInput,
+    settings: &SettingsInput,
+) -> Option<Vec<TestReview>> {
+    let tests = health_tests(bench);
+    review(&tests, settings, installed_length_mm(&tests, build))
+}
+
+/// One bench test's readings (spring position, compression mm, force N) reviewed alone: the
+/// set's mean rate, N/mm (a setup sheet's stored test).
+pub fn tested_rate(readings: &[[f64; 2]], settings: &SettingsInput) -> Option<f64> {
+    let test = spring_health::BenchTest {
+        readings: readings
+            .iter()
+            .enumerate()
+            .map(|(i, [x, f])| {
+                let point = BenchPoint {
+                    compression_mm: *x,
+                    force_n: *f,
+                };
+                (i + 1, point)
+            })
+            .collect(),
+        free_lengths_mm: Vec::new(),
+    };
+    review(&[test], settings, None).and_then(|r| r.last().map(|t| t.spread.mean))
+}
+
+fn review(
+    tests: &[spring_health::BenchTest],
+    settings: &SettingsInput,
+    installed_length_mm: Option<f64>,
+) -> Option<Vec<TestReview>> {
+    spring_health::review(
+        tests,
+        settings.spring_spread_pct,
+        settings.spring_sag_pct,
+        installed_length_mm,
+    )
+    .ok()
+}
+
+/// Stored bench tests as the spring-health review reads them.
+fn health_tests(bench: &[BenchTest]) -> Vec<spring_health::BenchTest> {
+    bench
+        .iter()
+        .map(|t| spring_health::BenchTest {
+            readings: t
+                .springs
+                .iter()
+                .map(|s| {
+                    let point = BenchPoint {
+                        compression_mm: s.compression_mm,
+                        force_n: s.force_n,
+                    };
+                    (s.position.max(1) as usize, point)
+                })
+                .collect(),
+            free_lengths_mm: t.springs.iter().map(|s| s.free_length_mm).collect(),
+        })
+        .collect()
+}
+
+/// The length the clutch holds its springs at with the adjusters at zero turns, mm: their mean
+/// free length at the first bench test that measured every free length, minus the base
+/// compression (free length when first tested stands for the free length the base compression
+/// was measured against). `None` without such a test or a base compression.
+fn installed_length_mm(tests: &[spring_health::BenchTest], build: &BuildInput) -> Option<f64> {
+    let free = tests.iter().find_map(|t| t.mean_free_length_mm())?;
+    base_compression_mm(build).map(|base| free - base)
+}
+
+/// Base compression of a build's springs, mm: given directly, or free minus installed cover
+/// height.
+pub fn base_compression_mm(b: &BuildInput) -> Option<f64> {
+    b.base_compression_mm.or(
+        match (b.cover_height_free_mm, b.cover_height_installed_mm) {
+            (Some(free), Some(installed)) => Some(free - installed),
+            _ => None,
+        },
+    )
+}

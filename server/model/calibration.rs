@@ -1,0 +1,237 @@
+//! A stored build's friction calibration: every pass with a lockup seen, each scored with the
+//! build as it stood on the pass's date (its setup, its bench test's springs, its wear). No IO.
+
+use super::as_of::BuildAsOf;
+use super::{Missing, curve_range};
+use crate::records::settings::SettingsInput;
+use crate::records::stored::{Dossier, LogSummary, Pass};
+use clutch::InputError;
+use clutch::calibration::{
+    CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_observations,
+    drifting,
+};
+use clutch::capacity::clamp::SpringPack;
+use clutch::capacity::lockup::CapacityLaw;
+use clutch::capacity::request::SpringsInput;
+use clutch::quantity::limits;
+use clutch::units::Units;
+
+/// A stored build's calibration as the pages show it (storage units: N·m, rpm, g).
+#[derive(Debug, Clone)]
+pub struct BuildCalibration {
+    pub report: CalibrationReport,
+    /// Run date of each pass in `report.passes` (oldest first).
+    pub dates: Vec<String>,
+    /// (adjuster turns, counterweight g, clamp loss N) in force at each pass.
+    pub settings: Vec<(f64, f64, f64)>,
+    /// At least [`ENOUGH_PASSES`] passes.
+    pub enough: bool,
+    /// Whether per-pass μ trends with time (`None` below 3 passes).
+    pub drifting: Option<bool>,
+}
+
+/// The clutch of one date as a pass is scored with it.
+struct DayClutch {
+    /// The setting in force: turns, counterweight g, clamp loss N.
+    setting: (f64, f64, f64),
+    springs: SpringPack,
+    /// Capacity law at that setting with μ = 1.
+    law: CapacityLaw,
+}
+
+impl DayClutch {
+    /// The build on `day`, or `None` without a setup on or before it (or a usable clutch).
+    fn on(d: &Dossier, settings: &SettingsInput, day: &str) -> Option<Self> {
+        let at = BuildAsOf::on(d, settings, day);
+        at.setup?;
+        let valid = at.clutch().ok()?.validate().ok()?;
+        let m = &valid.model;
+        Some(Self {
+            setting: (m.adjuster_turns, m.counterweight_g, m.clamp_loss_n),
+            springs: m.springs,
+            law: m.law_at(m.adjuster_turns, m.counterweight_g, m.clamp_loss_n, 1.0),
+        })
+    }
+
+    /// What a pass's data log says of the friction: the median of clutch torque over capacity
+    /// at μ = 1 across its slip window (launch + 50 ms to lockup − 50 ms), and the torque that
+    /// ratio means at the lockup speed (typed, else the log's), N·m, which is what the
+    /// calibration is fed. `None` without clutch torque (no engine inertia) or a usable capacity.
+    fn log_value(&self, pass: &Pass, log: &LogSummary) -> Option<(f64, f64)> {
+        let law = &self.law;
+        let ratio =
+            clutch::datalog::analysis::median_ratio(&log.window(), |rpm| law.capacity_nm(rpm))?;
+        let rpm = pass
+            .data
+            .observed_lockup_rpm
+            .unwrap_or(log.lockup_engine_rpm);
+        let torque = ratio * law.capacity_nm(rpm);
+        (ratio > 0.0 && torque > 0.0).then_some((ratio, torque))
+    }
+}
+
+/// What a pass's data log says of the friction, with the build as it stood on the pass's date:
+/// (μ, torque carried at lockup N·m); see [`DayClutch::log_value`].
+pub fn log_value(
+    d: &Dossier,
+    settings: &SettingsInput,
+    pass: &Pass,
+    log: &LogSummary,
+) -> Option<(f64, f64)> {
+    DayClutch::on(d, settings, &pass.data.run_on)?.log_value(pass, log)
+}
+
+/// The calibration of a loaded build from its passes with a lockup seen (typed, else found in
+/// its data log), oldest first, each with the build as it stood on its date; or why there is
+/// none (what is missing, under `passes`, or the fit's refusal under its field).
+pub fn calibrated(
+    d: &Dossier,
+    settings: &SettingsInput,
+    fit: Fit,
+) -> Result<BuildCalibration, InputError> {
+    let missing = |m: Missing| InputError::new("passes", m);
+    let clutch = BuildAsOf::now(d, settings).clutch().map_err(missing)?;
+    let (lo, hi) = curve_range(&clutch.engine.torque_curve);
+    let mut notes = Vec::new();
+    let (mut no_setup, mut outside) = (0, 0);
+    let mut passes = Vec::new();
+    let mut days: Vec<(String, (f64, f64, f64), SpringPack)> = Vec::new();
+    let mut day_clutch: Option<(&str, Option<DayClutch>)> = None;
+    // Stored newest first; the calibration reads them oldest first.
+    for pass in d.passes.iter().rev() {
+        let log = d.log_of(pass.id);
+        let Some(rpm) = pass
+            .data
+            .observed_lockup_rpm
+            .or(log.map(|l| l.lockup_engine_rpm))
+        else {
+            continue;
+        };
+        let day = pass.data.run_on.as_str();
+        // Passes come in date order: the clutch of a day is worked out once.
+        if day_clutch.as_ref().is_none_or(|(d0, _)| *d0 != day) {
+            day_clutch = Some((day, DayClutch::on(d, settings, day)));
+        }
+        let Some(at) = day_clutch.as_ref().and_then(|(_, c)| c.as_ref()) else {
+            no_setup += 1;
+            continue;
+        };
+        if !(lo..=hi).contains(&rpm) {
+            outside += 1;
+            continue;
+        }
+        let (turns, counterweight_g, clamp_loss) = at.setting;
+        passes.push(PassObserved {
+            lockup_rpm: rpm,
+            clutch_torque: log.and_then(|l| at.log_value(pass, l)).map(|v| v.1),
+            adjuster_turns: Some(turns),
+            counterweight_g: Some(counterweight_g),
+            clamp_loss,
+        });
+        days.push((pass.data.run_on.clone(), at.setting, at.springs));
+    }
+    if no_setup > 0 {
+        notes.push(format!(
+            "{no_setup} pass(es) with a lockup seen were left out: no setup was recorded on or before their date."
+        ));
+    }
+    if outside > 0 {
+        notes.push(format!(
+            "{outside} pass(es) were left out: their lockup lies outside the car's torque curve ({lo:.0}–{hi:.0} rpm)."
+        ));
+    }
+    if passes.is_empty() {
+        return Err(missing(
+            "No pass with a lockup seen (and a setup recorded before it) yet.".into(),
+        ));
+    }
+    let most = limits::CALIBRATION_PASSES_MAX;
+    if d.passes_total > d.passes.len() as i64 {
+        // A build loads its newest passes only (`db::dossier::PASSES_LOADED`).
+        notes.push(format!(
+            "Only the latest {} of the build's {} passes were read.",
+            d.passes.len(),
+            d.passes_total
+        ));
+    } else if passes.len() > most {
+        let skip = passes.len() - most;
+        passes.drain(..skip);
+        days.drain(..skip);
+        notes.push(format!("Only the latest {most} passes were used."));
+    }
+    let request = CalibrateRequest {
+        units: Units::Metric,
+        disc: clutch.disc,
+        // Each pass carries the wear (and the springs) of its own date.
+        springs: SpringsInput {
+            clamp_loss: 0.0,
+            ..clutch.springs
+        },
+        levers: clutch.levers,
+        engine: clutch.engine,
+        fit,
+        passes,
+    };
+    let valid = request.clutch()?;
+    let mut observations = request.observations(&valid.model)?;
+    for (o, (_, _, springs)) in observations.iter_mut().zip(&days) {
+        o.springs = Some(*springs);
+    }
+    let mut report = calibrate_observations(&request, &valid, &observations)?;
+    report.notes.extend(notes);
+    let mus: Vec<f64> = report.passes.iter().map(|p| p.mu).collect();
+    Ok(BuildCalibration {
+        enough: report.n >= ENOUGH_PASSES,
+        drifting: drifting(&mus),
+        report,
+        settings: days.iter().map(|(_, s, _)| *s).collect(),
+        dates: days.into_iter().map(|(day, _, _)| day).collect(),
+    })
+}
+
+/// Where a calibrated μ comes from, in words: "0.300 from 3 passes on the track from
+/// 2026-10-05 to 2026-10-12, 95 % interval 0.289–0.312".
+pub fn calibration_source(c: &BuildCalibration) -> String {
+    let r = &c.report;
+    let span = match (c.dates.first(), c.dates.last()) {
+        (Some(a), Some(b)) if a != b => format!("from {a} to {b}"),
+        (Some(a), _) => format!("on {a}"),
+        _ => String::new(),
+    };
+    let interval = r.ci95.map_or("no interval yet".to_string(), |[lo, hi]| {
+        format!("95 % interval {lo:.3}–{hi:.3}")
+    });
+    let passes = if r.n == 1 { "pass" } else { "passes" };
+    format!(
+        "{:.3} from {} {passes} on the track {span}, {interval}",
+        r.mu, r.n
+    )
+}
+
+/// Where the μ of the setup in force comes from, in words, for the setup sheet: the track's
+/// calibration (when the setup's μ is the calibrated one to 3 decimals), a value entered with
+/// the setup, or the facing's nominal value; with what the passes say when that differs.
+/// `None` for the nominal value with no calibration (the sheet already says "nominal").
+pub fn mu_source(build: &BuildAsOf, cal: Option<&BuildCalibration>) -> Option<String> {
+    let same = |mu: f64, c: &BuildCalibration| format!("{mu:.3}") == format!("{:.3}", c.report.mu);
+    Some(
+        match (
+            build.setup.and_then(|s| s.mu.map(|mu| (mu, &s.changed_on))),
+            cal,
+        ) {
+            (Some((mu, _)), Some(c)) if same(mu, c) => {
+                format!("calibrated: μ {}", calibration_source(c))
+            }
+            (Some((_, day)), Some(c)) => format!(
+                "entered with the setup of {day}; the calibration now gives μ {}",
+                calibration_source(c)
+            ),
+            (Some((_, day)), None) => format!("entered with the setup of {day}"),
+            (None, Some(c)) => format!(
+                "the facing's nominal value; the calibration gives μ {}",
+                calibration_source(c)
+            ),
+            (None, None) => return None,
+        },
+    )
+}

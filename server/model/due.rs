@@ -1,0 +1,127 @@
+//! The counter's work-due list: every active build's disc, shims and springs, most urgent first.
+//! No IO.
+
+use std::collections::HashMap;
+
+use super::as_of::bench_review;
+use super::wear::wear_request;
+use crate::records::height::HeightInput;
+use crate::records::settings::SettingsInput;
+use crate::records::stored::{ActiveBuild, BenchTest, Height};
+
+/// Why a build is on the work-due list, most urgent first.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DueReason {
+    DiscDue,
+    /// A shim is due now; the thickness of the next one (mm).
+    ShimDue(Option<f64>),
+    /// A forecast falls within the shop's window: passes to go, and whether it is the disc.
+    Soon {
+        passes: f64,
+        disc: bool,
+    },
+    /// The latest bench test found the set out of tolerance or a spring sagged.
+    Springs {
+        spread_pct: f64,
+        out_of_tolerance: bool,
+        sagged: usize,
+    },
+}
+
+impl DueReason {
+    /// Sort key: smaller is more urgent.
+    pub fn urgency(&self) -> f64 {
+        match self {
+            Self::DiscDue => 0.0,
+            Self::ShimDue(_) => 1.0,
+            Self::Soon { passes, .. } => 2.0 + passes / 1e6,
+            Self::Springs { .. } => 3.0,
+        }
+    }
+}
+
+/// One line of the counter's work-due list.
+#[derive(Debug, Clone)]
+pub struct Due {
+    pub build_id: i64,
+    pub build_label: String,
+    pub customer_id: i64,
+    pub customer_name: String,
+    pub customer_phone: String,
+    pub car_description: String,
+    pub reason: DueReason,
+}
+
+/// The work due across the shop: builds with a disc or shim due, forecasts within
+/// `settings.due_within_passes`, and spring sets flagged by their latest bench test; most
+/// urgent first. Inputs are grouped by build id (any order within the slices is kept).
+pub fn work_due(
+    builds: &[ActiveBuild],
+    heights: &[Height],
+    bench: &[BenchTest],
+    settings: &SettingsInput,
+) -> Vec<Due> {
+    let window = settings.due_within_passes as f64;
+    let mut tests_of: HashMap<i64, Vec<BenchTest>> = HashMap::new();
+    for t in bench {
+        tests_of.entry(t.build_id).or_default().push(t.clone());
+    }
+    let mut heights_of: HashMap<i64, Vec<&HeightInput>> = HashMap::new();
+    for h in heights {
+        heights_of.entry(h.build_id).or_default().push(&h.data);
+    }
+    let mut out = Vec::new();
+    for ab in builds {
+        let b = &ab.build;
+        let review = bench_review(
+            tests_of.get(&b.id).map_or(&[], |t| t.as_slice()),
+            &b.data,
+            settings,
+        );
+        let tested = review
+            .as_ref()
+            .and_then(|r| r.last().map(|t| t.spread.mean));
+        let own = heights_of.get(&b.id).map_or(&[][..], |h| h.as_slice());
+        let line = |reason| Due {
+            build_id: b.id,
+            build_label: b.data.label.clone(),
+            customer_id: ab.owner.customer_id,
+            customer_name: ab.owner.customer_name.clone(),
+            customer_phone: ab.owner.customer_phone.clone(),
+            car_description: ab.owner.car_description.clone(),
+            reason,
+        };
+        let rate = tested.or(b.data.spring_rate_n_per_mm);
+        if let Ok(req) = wear_request(&b.data, settings, rate, own)
+            && let Ok(report) = clutch::wear::analyze(&req)
+        {
+            use clutch::wear::WearStatus;
+            let reason = match report.status {
+                WearStatus::DiscDue => Some(DueReason::DiscDue),
+                WearStatus::ShimDue => Some(DueReason::ShimDue(report.next_shim)),
+                WearStatus::Ok => {
+                    let shim = report.passes_to_shim_due.map(|p| (p, false));
+                    let disc = report.passes_to_disc_due.map(|p| (p, true));
+                    [shim, disc]
+                        .into_iter()
+                        .flatten()
+                        .filter(|(p, _)| *p <= window)
+                        .min_by(|a, b| a.0.total_cmp(&b.0))
+                        .map(|(passes, disc)| DueReason::Soon { passes, disc })
+                }
+            };
+            out.extend(reason.map(line));
+        }
+        if let Some(last) = review.as_ref().and_then(|r| r.last())
+            && (last.spread.out_of_tolerance || !last.sagged.is_empty())
+        {
+            out.push(line(DueReason::Springs {
+                spread_pct: last.spread.spread_pct,
+                out_of_tolerance: last.spread.out_of_tolerance,
+                sagged: last.sagged.len(),
+            }));
+        }
+    }
+    out.sort_by(|a, b| a.reason.urgency().total_cmp(&b.reason.urgency()));
+    out
+}
