@@ -8,8 +8,8 @@
 //!
 //! Source of the method: least squares through the origin and its t interval, NIST/SEMATECH
 //! e-Handbook of Statistical Methods, §4.1.4.1 (checked below against the NIST StRD
-//! "NoInt1"/"NoInt2" certified values); its use for friction from launches is the project
-//! reference's torque-balance method (launch-and-logs §4.1, thresholds there marked derived).
+//! "NoInt1"/"NoInt2" certified values); its use for friction from launches is the torque
+//! balance at lockup of docs/engineering.md §15 (thresholds there marked derived).
 //! Units inside: rev/min, N, N·m, g; μ and the gain scale are plain numbers.
 
 use crate::InputError;
@@ -26,18 +26,18 @@ use serde::{Deserialize, Serialize};
 use statrs::distribution::{ContinuousCDF, StudentsT};
 
 /// Largest 2-norm condition number of the column-normalised design [S K] the two-parameter fit
-/// accepts (launch-and-logs §4.1, threshold derived / proposed there, no published source).
+/// accepts (docs/engineering.md §15, threshold derived / proposed there, no published source).
 pub const MAX_CONDITION: f64 = 100.0;
 
 /// Smallest relative spread (max − min)/mean of K_i/S_i the two-parameter fit accepts
-/// (launch-and-logs §4.1, threshold derived / proposed there, no published source).
+/// (docs/engineering.md §15, threshold derived / proposed there, no published source).
 pub const MIN_RELATIVE_SPREAD: f64 = 0.30;
 
 /// Passes the two-parameter fit needs at the least (two parameters and one degree of freedom).
 pub const MIN_PASSES_FOR_GAIN: usize = 3;
 
-/// Passes below which the page says there is not enough data yet (launch-and-logs §4.1:
-/// "≥ 3 passes for μ alone").
+/// Passes below which the page says there is not enough data yet (docs/engineering.md §15:
+/// at least 3 passes for μ alone, a proposed minimum).
 pub const ENOUGH_PASSES: usize = 3;
 
 /// Student t quantile t(p, dof), from the `statrs` crate (0.19). `dof` > 0, 0 < p < 1.
@@ -679,7 +679,7 @@ mod tests {
         assert!(close(k, 1.0 + 2f64.sqrt(), 1e-12), "{k}");
     }
 
-    /// The worked example of launch-and-logs §4.3: 4 faces, r_eff 100 mm, static clamp
+    /// The worked example of docs/engineering.md §15: 4 faces, r_eff 100 mm, static clamp
     /// 4000 N, centrifugal gain 0.005 N/(rad/s)² (one lever carrying 40 g).
     fn example_model() -> ClutchModel {
         let per_rpm2 = 0.005 * rpm_to_rad_s(1.0).powi(2);
@@ -726,7 +726,7 @@ mod tests {
             .collect()
     }
 
-    // [D] launch-and-logs §4.3 (derived there, not published): C = 2332.73, 2416.11,
+    // [D] docs/engineering.md §15 (derived there, not published): C = 2332.73, 2416.11,
     // 2263.46 N·m; μ = 0.30028; residuals +1.5, +9.5, −11.7 N·m; 95 % interval 0.289–0.312.
     #[test]
     fn worked_example_mu_interval_and_residuals() {
@@ -784,7 +784,7 @@ mod tests {
         assert!(close(cal.mu, 702.0 / 2332.73, 1e-5));
     }
 
-    // [D] launch-and-logs §4.3: the two-parameter fit on the same three passes gives
+    // [D] docs/engineering.md §15: the two-parameter fit on the same three passes gives
     // μ·F_s = 948 N (μ = 0.237) and an implied K_c of 0.0092; the ratio spread is 0.21, so
     // the calibration refuses it.
     #[test]

@@ -41,8 +41,8 @@ impl Estimate {
 
 /// Estimates for a typical car of the class the shop serves: a front-engined, rear-drive drag
 /// car of about 1.5 t with a manual gearbox, on slicks on a prepared track. Every value is an
-/// estimate from memory (low confidence), chosen to match the worked launch of the project's
-/// reference; the shop's own figures replace them field by field on the car form.
+/// estimate from memory (low confidence), chosen to match the reference launch of
+/// docs/engineering.md §18; the shop's own figures replace them field by field on the car form.
 pub const ESTIMATES: [Estimate; 13] = [
     Estimate {
         column: "engine_inertia_kg_m2",

@@ -1,4 +1,4 @@
-//! The calibration API through the real router: the issue's contract, the reference's worked
+//! The calibration API through the real router: the issue's contract, the worked
 //! example, and every bad input answered 422 with its field path.
 
 use axum::http::StatusCode;
@@ -6,7 +6,7 @@ use serde_json::{Value, json};
 
 use crate::support::TestApp;
 
-/// Clutch of the worked example (launch-and-logs §4.3): 2 discs = 4 faces, r_eff =
+/// Clutch of the worked example (docs/engineering.md §15): 2 discs = 4 faces, r_eff =
 /// (125 + 75)/2 = 100 mm, static clamp 4 × 100 N/mm × (8 + 2 × 1) mm = 4000 N, one lever with
 /// 40 g and a gain giving K_c = 0.005 N/(rad/s)²: 0.005 × (1000·π/30)² / 40 g N/g.
 fn example() -> Value {
@@ -29,7 +29,7 @@ fn num(v: &Value) -> f64 {
     v.as_f64().unwrap_or(f64::NAN)
 }
 
-// [D] launch-and-logs §4.3 (derived there): μ = 0.30028, 95 % interval 0.289–0.312,
+// [D] docs/engineering.md §15 (derived there): μ = 0.30028, 95 % interval 0.289–0.312,
 // residuals +1.5, +9.5, −11.7 N·m; predicted lockup of the first pass on the flat 700 N·m
 // curve 5773.65 rpm (the issue rounds it to "about 5773.7").
 #[tokio::test]
@@ -285,7 +285,7 @@ async fn stored_build(app: &TestApp) -> (i64, String) {
 
 // Each pass is read with the setting in force and the wear measured on or before its date.
 // Lockups made from μ = 0.30 on the flat 700 N·m curve: with 40 g and no wear the crossover is
-// 5782.4 rpm (launch-and-logs §6 C6 [D]); with 60 g (K_c = 0.0075) and 0.10 mm growth
+// 5782.4 rpm (docs/engineering.md §10 [D]); with 60 g (K_c = 0.0075) and 0.10 mm growth
 // (4 × 100 N/mm × 0.10 mm = 40 N clamp loss) it is 4772.5 rpm [D]. Reading either pass with the
 // other setting, or ignoring the wear, moves μ well away from 0.30.
 #[tokio::test]
@@ -436,7 +436,7 @@ async fn the_tuning_page_shows_the_calibration_and_uses_it_with_one_click() {
         "/builds/{id}/tune?try=1&#38;adjuster_turns=2&#38;counterweight_g=40&#38;mu=0.300#try"
     );
     assert!(body.contains(&href), "no use-calibration link");
-    // One click: the current setting with the calibrated μ. [D] launch-and-logs §6 C6: μ 0.30
+    // One click: the current setting with the calibrated μ. [D] docs/engineering.md §10: μ 0.30
     // on this clutch and a flat 700 N·m curve locks up at 5782.4 rpm.
     let tried = client
         .get(&format!(

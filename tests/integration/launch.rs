@@ -7,7 +7,7 @@ use serde_json::{Value, json};
 
 use crate::support::TestApp;
 
-/// The worked launch of the project reference (launch-and-logs §6 C10) in the API's form.
+/// The reference launch (docs/engineering.md §18) in the API's form.
 fn worked() -> Value {
     json!({"units": "metric",
       "disc": {"outer_diameter": 240, "inner_diameter": 160, "count": 2},
@@ -32,7 +32,7 @@ fn num(v: &Value) -> f64 {
     v.as_f64().unwrap_or_else(|| panic!("not a number: {v}"))
 }
 
-// The reference figures (launch-and-logs §6 C10/C11) were computed with g = 9.81; the API uses
+// The reference figures (docs/engineering.md §18) were computed with g = 9.81; the API uses
 // standard gravity 9.80665 m/s², which moves them in the fifth digit, so the checks allow that
 // much: t_L 1.8131 s, 5782.7 rpm, 77.7 km/h, 389.42 kJ, 450.4 kW, 60 ft 1.749 s, plate rises
 // 47.6 K and 31.7 K [derived there].
@@ -170,7 +170,7 @@ async fn imperial_and_metric_give_the_same_launch() {
     assert!((num(&imperial["thermal"]["pressure_plate_rise"]) - 1.8 * k).abs() < 0.1);
 }
 
-// launch-and-logs §6 C11 [derived, g = 9.81]: with grips 1.0 / 0.8 the tyres spin from the
+// docs/engineering.md §18 [derived, g = 9.81]: with grips 1.0 / 0.8 the tyres spin from the
 // start and the clutch locks at 0.0862 s with 19.33 kJ, the tyres still spinning.
 #[tokio::test]
 async fn low_grip_spins_the_tyres_from_the_start() {

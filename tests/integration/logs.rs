@@ -1,4 +1,4 @@
-//! Data logs: the calculation API on the reference's worked file, its refusals, a pass's file
+//! Data logs: the calculation API on docs/engineering.md §24's file, its refusals, a pass's file
 //! stored through the API and through the upload pages, and nothing kept on a bad file.
 
 use axum::body::Body;
@@ -7,7 +7,7 @@ use serde_json::{Value, json};
 
 use crate::support::{Client, TestApp, id_from};
 
-/// The reference's check case C12 (launch-and-logs §6, [derived]): engine 6000 rpm, input
+/// The worked file of docs/engineering.md §24 ([derived]): engine 6000 rpm, input
 /// 6000·t/0.8 up to 0.8 s then 6000, 100 Hz from 0 to 1 s.
 fn worked_csv() -> String {
     let mut s = String::from("time,rpm,shaft\n");
@@ -40,7 +40,7 @@ async fn the_worked_file_answers_as_the_contract_documents() {
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
-    // Lockup 0.776 s and 600 × 628.3185 × 0.4 = 150 796 J [derived, reference C12].
+    // Lockup 0.776 s and 600 × 628.3185 × 0.4 = 150 796 J [derived, docs/engineering.md §24].
     assert_eq!(v["samples"], 101);
     assert_eq!(v["sample_rate_hz"], 100.0);
     assert_eq!(v["launch_s"], 0.0);

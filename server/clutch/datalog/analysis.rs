@@ -2,7 +2,7 @@
 //! and the lockup found, the slip, the torque the clutch carried, the slip power and energy and
 //! the tyre spin.
 //!
-//! Methods (the project's launch-and-logs reference, §3):
+//! Methods (docs/engineering.md §21):
 //! - slip % = 100·(N_e − N_in)/N_e;
 //! - launch: the clutch switch if there is one, else the first sample where the input speed is
 //!   above 100 rpm for 3 samples in a row, moved back to N_in = 0 along a least-squares line
@@ -17,8 +17,8 @@
 //! - tyre spin where the driven wheels run more than 15 % faster than the undriven ones for at
 //!   least 50 ms.
 //!
-//! The thresholds (100 rpm, 3 samples, 50 ms, 60 ms, 15 %) are the reference's, marked there as
-//! derived design choices, no published source. Units inside: s, rev/min, N·m, W, J, m/s.
+//! The thresholds (100 rpm, 3 samples, 50 ms, 60 ms, 15 %) are docs/engineering.md §21's, no
+//! published source: derived design choices, the 15 % from memory. Units: s, rpm, N·m, W, J, m/s.
 
 use crate::InputError;
 use crate::capacity::torque_curve::TorqueCurve;
@@ -40,7 +40,7 @@ pub const SPIN_EXCESS: f64 = 0.15;
 /// Shortest tyre spin reported, s.
 pub const SPIN_MIN_S: f64 = 0.050;
 /// Undriven wheel speed below which the spin ratio is taken against this speed instead, m/s
-/// (reference §3.2: v_min ≈ 0.5 m/s).
+/// (docs/engineering.md §21: v_min = 0.5 m/s).
 pub const SPIN_MIN_SPEED_MPS: f64 = 0.5;
 /// Time skipped at each end of the slip window for the calibration value, s.
 pub const CALIBRATION_EDGE_S: f64 = 0.050;
@@ -279,7 +279,7 @@ pub struct LockupRule {
 }
 
 impl Default for LockupRule {
-    /// 3 % for 100 ms (reference §3.3, derived defaults).
+    /// 3 % for 100 ms (docs/engineering.md §21, derived defaults).
     fn default() -> Self {
         Self {
             slip_on_pct: 3.0,
@@ -608,7 +608,7 @@ pub fn analyze(
 }
 
 impl Analysis {
-    /// Samples of the calibration window: launch + 50 ms to lockup − 50 ms (reference §4.1).
+    /// The calibration window: launch + 50 ms to lockup − 50 ms (docs/engineering.md §23).
     pub fn calibration_samples(&self, time: &[f64]) -> std::ops::Range<usize> {
         let from = self.launch_s + CALIBRATION_EDGE_S;
         let to = self.lockup_s - CALIBRATION_EDGE_S;
@@ -619,7 +619,7 @@ impl Analysis {
 }
 
 /// The per-pass friction value: the median of T_c/C over `pairs` of (engine rpm, clutch torque
-/// N·m), C = `capacity_at_mu1(rpm)` the clutch's capacity with μ = 1 (reference §4.1: one value
+/// N·m), C = `capacity_at_mu1(rpm)` the capacity with μ = 1 (docs/engineering.md §23: one value
 /// per pass, the median, because samples within a pass are not independent). `None` when no
 /// pair has a positive capacity.
 pub fn median_ratio(pairs: &[[f64; 2]], capacity_at_mu1: impl Fn(f64) -> f64) -> Option<f64> {

@@ -595,7 +595,7 @@ mod tests {
         .unwrap()
     }
 
-    // The reference's check case C12 through the CSV text: 0.776 s, 150.80 kJ, 377.0 kW [derived].
+    // docs/engineering.md §24's worked file as CSV text: 0.776 s, 150.80 kJ, 377.0 kW [derived].
     #[test]
     fn the_worked_file_as_csv_gives_the_documented_answer() {
         let r = analyze_request(&request(worked_csv())).unwrap();

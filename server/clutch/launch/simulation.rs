@@ -781,7 +781,7 @@ mod tests {
     use crate::launch::request::{LaunchReport, LaunchRequest};
     use crate::units::Units;
 
-    /// The reference launch (launch-and-logs §6 C10, in the API's metric form): twin disc
+    /// The reference launch (docs/engineering.md §18, in the API's metric form): twin disc
     /// 240 × 160 mm, μ 0.30, 4 springs × 1000 N/mm × 1 mm, one lever of 50 g at 100 mm.
     fn reference() -> LaunchRequest {
         serde_json::from_value(serde_json::json!({
@@ -830,7 +830,7 @@ mod tests {
     // (a) Shigley's Mechanical Engineering Design (Budynas & Nisbett), ch. 16 "Energy
     // considerations": t = I1·I2·Δω/((I1 + I2)·T), E = I1·I2·Δω²/(2·(I1 + I2)). With I1 0.20,
     // T 480 N·m, I2 = J_c = 1.968689 kg·m² from the reference driveline and 6000 rpm:
-    // t = 0.2376558 s, E = 35 837.66 J [derived] (launch-and-logs §6 C13).
+    // t = 0.2376558 s, E = 35 837.66 J [derived] (docs/engineering.md §18, closed-form checks).
     #[test]
     fn free_engagement_matches_the_closed_form_through_the_solver() {
         let m = closed_form(0.0);
@@ -858,7 +858,7 @@ mod tests {
 
     // (b) With engine torque T_e on I1: Δω̇ = −[T(1/I1 + 1/I2) − T_e/I1], so
     // t = I1·I2·Δω0/(T·(I1 + I2) − T_e·I2) and, Δω falling linearly, E = T·Δω0·t/2 [derived]
-    // (launch-and-logs §1.8; C2 there is the same form).
+    // (docs/engineering.md §18, closed-form checks).
     #[test]
     fn engagement_with_engine_torque_matches_the_two_inertia_form() {
         let m = closed_form(300.0);
@@ -874,14 +874,14 @@ mod tests {
         );
         let e_formula = t * dw * t_formula / 2.0;
         assert!((run.slip_energy_j - e_formula).abs() < 1e-6 * e_formula);
-        // Longer and hotter than the free engagement (the caution of launch-and-logs §1.8).
+        // Longer and hotter than the free engagement (the caution of docs/engineering.md §18).
         assert!(lock.time_s > 0.2376558 && run.slip_energy_j > 35_837.66);
     }
 
     // (c) Gillespie, Fundamentals of Vehicle Dynamics, ch. 2, traction-limited acceleration
     // (form from memory): m 1800 kg, L 2.6 m, h 0.7 m, b 1.3 m, μ 0.7, f_r 0 →
     // F_x,max = 7615.5 N with g = 9.81; with f_r 0.015, 7554.0 N [derived from Gillespie's form]
-    // (launch-and-logs §6 C4).
+    // (docs/engineering.md §16 and §18).
     #[test]
     fn traction_limit_with_load_transfer_matches_gillespies_form() {
         let mut v = model(&reference()).vehicle;
@@ -900,7 +900,7 @@ mod tests {
         assert_eq!(traction_limit_n(4.0, w, &v, 0.0, 0.0), 4.0 * w);
     }
 
-    // (d) launch-and-logs §1.7: halving the step changes the lock time by less than 1e-4 s.
+    // (d) docs/engineering.md §17: halving the step changes the lock time by less than 1e-4 s.
     #[test]
     fn halving_the_step_barely_moves_the_lock_time() {
         let m = model(&reference());
@@ -911,7 +911,7 @@ mod tests {
         assert!((a - b).abs() < 1e-4, "{a} vs {b}");
     }
 
-    // launch-and-logs §6 C10 and C11 [derived there with a reference implementation and
+    // docs/engineering.md §18 [derived there with a separate implementation of the model and
     // g = 9.81]: t_L 1.8131 s at 5782.7 rpm and 21.59 m/s, E 389.42 kJ, no spin; with grips
     // 1.0 / 0.8 the tyres spin from the start and the clutch locks at 0.0862 s with 19.33 kJ.
     #[test]
@@ -930,12 +930,12 @@ mod tests {
         );
         assert!(run.tire_spin.is_empty());
         let (pp, fw) = run.plate_rise_k.expect("thermal given");
-        // C7: 0.45 × 389 424 J / (8 kg × 460 J/(kg·K)) = 47.62 K [derived].
+        // docs/engineering.md §12: 0.45 × 389 424 J / (8 kg × 460 J/(kg·K)) = 47.62 K [derived].
         assert!(
             (pp - 47.62).abs() < 0.01 && (fw - 31.75).abs() < 0.01,
             "{pp} {fw}"
         );
-        // C6: the slipping engine converges on the crossover 5782.4 rpm from above.
+        // docs/engineering.md §10: the slipping engine nears the crossover 5782.4 rpm from above.
         assert!(run.min_engine_rad_s / RAD_S_PER_RPM > 5782.4);
 
         m.vehicle.grip_peak = 1.0;
@@ -952,7 +952,7 @@ mod tests {
         assert_eq!(run.tire_spin.last().map(|s| s.1), Some(None));
     }
 
-    // The clutch capacity is the capacity calculation's own law: C6 of launch-and-logs,
+    // The clutch capacity is the capacity calculation's own law (docs/engineering.md §18):
     // 4 × 0.30 × 0.1 m × (4000 N + 0.005 N·s² × ω²) = 716.9 N·m at 6000 rpm [derived].
     #[test]
     fn capacity_is_the_capacity_calculations() {
@@ -974,7 +974,7 @@ mod tests {
         );
     }
 
-    // C7 of launch-and-logs [derived]: an 8 kg iron plate (c 460) with hA = 20 W/(m²·K) ×
+    // docs/engineering.md §12 [derived]: an 8 kg iron plate (c 460) with hA = 20 W/(m²·K) ×
     // 0.12 m² has τ = 1533.3 s; from 150 °C with ambient 30 °C, 1200 s later it is at 84.87 °C.
     #[test]
     fn newton_cooling_between_passes() {

@@ -174,7 +174,7 @@ mod tests {
     use super::*;
     use crate::launch::request::LaunchRequest;
 
-    /// The reference launch (launch-and-logs §6 C10) with four levers of 20 g at 50 mm, so
+    /// The reference launch (docs/engineering.md §18) with four levers of 20 g at 50 mm, so
     /// counterweight matters.
     fn valid() -> ValidLaunch {
         let req: LaunchRequest = serde_json::from_value(serde_json::json!({

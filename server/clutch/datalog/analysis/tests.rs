@@ -9,7 +9,7 @@ fn flat_curve(nm: f64) -> TorqueCurve {
     .unwrap()
 }
 
-/// The reference's check case C12 (launch-and-logs §6, [derived]): engine 6000 rpm throughout,
+/// The worked file of docs/engineering.md §24 ([derived]): engine 6000 rpm throughout,
 /// input 6000·t/0.8 up to 0.8 s then 6000, 100 Hz from 0 to 1 s, flat 600 N·m.
 fn worked_file() -> Series {
     let time_s: Vec<f64> = (0..=100).map(|k| k as f64 / 100.0).collect();
@@ -32,7 +32,7 @@ fn the_worked_file_locks_up_at_0_776_s_with_150_796_joules() {
         inertia_kgm2: 0.25,
     };
     let a = analyze(&series, 0.01, LockupRule::default(), Some(&engine)).unwrap();
-    // slip(0.77) = 3.75 %, slip(0.78) = 2.50 %: crossing at 0.776 s [derived, reference C12].
+    // slip(0.77) = 3.75 %, slip(0.78) = 2.5 %: crossing 0.776 s [derived, docs/engineering.md §24].
     assert!((a.slip_pct[77] - 3.75).abs() < 1e-9);
     assert!((a.slip_pct[78] - 2.5).abs() < 1e-9);
     assert!((a.lockup_s - 0.776).abs() < 1e-9, "{}", a.lockup_s);
@@ -94,7 +94,7 @@ fn too_few_samples_are_refused() {
 
 /// A small launch generator (the project's own, for these tests only): two inertias joined by
 /// a clutch whose torque ramps linearly from 0 at launch to `clutch_nm` over `ramp_s`, the
-/// engine making a flat `engine_nm` (reference §1.5, slip mode, no road load), integrated at
+/// engine making a flat `engine_nm` (docs/engineering.md §16, slip mode, no road load), run at
 /// 10 µs with the midpoint rule and sampled every `dt`. Locked, both accelerate together.
 /// Returns the samples, the true crossing of 3 % slip and the true slip energy ∫T·Δω dt.
 struct Launch {
