@@ -103,15 +103,17 @@ impl AppState {
 }
 
 /// A write transaction from [`AppState::write`]: used as a connection, rolled back when dropped
-/// uncommitted, and its commit tells the page cache at once, so the page a save redirects to
-/// shows the save.
+/// uncommitted. Its commit first works out the work-due status of every build its writes marked
+/// stale (so no write path can forget it), then tells the page cache at once, so the page a
+/// save redirects to shows the save.
 pub struct Write {
     tx: sqlx::Transaction<'static, sqlx::Sqlite>,
     cache: Arc<cache::Cache>,
 }
 
 impl Write {
-    pub async fn commit(self) -> Result<(), sqlx::Error> {
+    pub async fn commit(mut self) -> Result<(), sqlx::Error> {
+        crate::status::refresh_stale(&mut self.tx).await?;
         self.tx.commit().await?;
         self.cache.changed();
         Ok(())

@@ -1,5 +1,5 @@
 //! The kept-current work-due status of each build (`build_status`, migration 0009): read by the
-//! counter, written by `status::refresh_stale` inside the writing transaction.
+//! counter, written by `status::refresh_stale` inside the writing transaction (`web::Write::commit` runs it).
 
 use sqlx::{FromRow, SqliteConnection};
 

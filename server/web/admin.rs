@@ -83,7 +83,6 @@ pub async fn save_settings(
         Ok(checked) => {
             db::settings::update(&mut tx, &checked).await?;
             // A changed shimming limit or spring tolerance marks every build stale.
-            crate::status::refresh_stale(&mut tx).await?;
             tx.commit().await?;
             Ok(Redirect::to("/settings?saved=1").into_response())
         }

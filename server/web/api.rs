@@ -356,7 +356,6 @@ async fn build_create(
     found(db::cars::by_id(&mut tx, car_id).await?)?;
     let id = db::builds::insert(&mut tx, car_id, &b).await?;
     let row = build_exists(&mut tx, id).await?;
-    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(created(row))
 }
@@ -376,7 +375,6 @@ async fn build_update(
     build_exists(&mut tx, id).await?;
     db::builds::update(&mut tx, id, &b).await?;
     let row = build_exists(&mut tx, id).await?;
-    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(Json(row))
 }
@@ -464,7 +462,6 @@ async fn bench_create(
     build_exists(&mut tx, build_id).await?;
     let id = db::bench::insert(&mut tx, build_id, user.id, &v).await?;
     let rows = db::bench::for_build(&mut tx, build_id).await?;
-    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     let row = rows.into_iter().find(|t| t.id == id);
     Ok(created(found(row)?))
@@ -500,7 +497,6 @@ async fn bench_update(
     }
     db::bench::update(&mut tx, id, &v).await?;
     let row = found(db::bench::by_id(&mut tx, id).await?)?;
-    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(Json(row))
 }
@@ -553,7 +549,6 @@ async fn height_create(
     let v = checked(input.check_on(hc, &ctx, FieldErrors::default()))?;
     let id = db::heights::insert(&mut tx, build_id, user.id, &v).await?;
     let row = found(db::heights::by_id(&mut tx, id).await?)?;
-    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(created(row))
 }
@@ -571,7 +566,6 @@ async fn height_update(
     let v = checked(input.check_on(hc, &ctx, FieldErrors::default()))?;
     db::heights::update(&mut tx, id, &v).await?;
     let row = found(db::heights::by_id(&mut tx, id).await?)?;
-    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(Json(row))
 }

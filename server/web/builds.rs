@@ -594,7 +594,6 @@ async fn save(
             (id, "Saved: a new build. Record its setup next.".to_string())
         }
     };
-    crate::status::refresh_stale(&mut tx).await?;
     tx.commit().await?;
     Ok(flash::redirect(&state, &format!("/builds/{id}"), &note))
 }

@@ -21,7 +21,6 @@ use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Build;
 use crate::records::{Checked, Ctx, FieldErrors, FormData, field};
-use crate::status;
 use clutch::units::Units;
 
 /// Which of the build page's forms was sent.
@@ -76,9 +75,7 @@ impl Entry {
         let id = self.build.id;
         let errors = match result {
             Ok(note) => {
-                let mut tx = self.tx;
-                status::refresh_stale(&mut tx).await?;
-                tx.commit().await?;
+                self.tx.commit().await?;
                 // Back to the top: the note and the summary, updated, are the first screen.
                 return Ok(flash::redirect(state, &format!("/builds/{id}"), &note));
             }

@@ -816,7 +816,6 @@ pub async fn map_save(
                     return Err(AppError::NotFound);
                 }
                 save(&mut tx, &pc, &user, &name, &text, &settings, &result).await?;
-                crate::status::refresh_stale(&mut tx).await?;
                 tx.commit().await?;
                 state.staged_logs.drop_token(&token);
                 return Ok(Redirect::to(&format!("/passes/{id}")).into_response());
