@@ -181,11 +181,11 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);
-    crate::web::serve::run(
+    crate::web::http::serve::run(
         listener,
         app(AppState::new(pool.clone()).with_public_url(args.public_url.clone())),
         shutdown,
-        crate::web::serve::Limits::for_this_process(),
+        crate::web::http::serve::Limits::for_this_process(),
     )
     .await;
     // A request cut off at the shutdown deadline may still hold a connection for a moment.

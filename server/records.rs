@@ -18,6 +18,8 @@ pub mod user;
 
 pub mod field;
 mod form;
+/// The one list of record tables, and what is worked out across every record.
+pub mod tables;
 
 pub use field::{Ctx, Record};
 pub use form::FormData;

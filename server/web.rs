@@ -1,32 +1,13 @@
 //! The web layer: every route with its access in one table, the middleware stack, and one module
 //! per page group.
 
-mod admin;
+/// The JSON API: the records, the calculations, the data-log analysis.
 mod api;
-mod backup;
-mod builds;
-mod cache;
-mod calc;
-mod capacity;
-mod cars;
-mod chart;
-mod customers;
-mod entries;
-mod extract;
-mod flash;
-mod history;
-mod home;
-mod launch;
-mod layout;
-mod login;
-mod logs;
-mod passlog;
-mod records_pages;
-pub mod routes;
-pub mod serve;
-mod sheets;
-mod show;
-mod wear;
+/// The HTTP plumbing: the serving loop, the route table, extractors, one-time notes, the page
+/// cache.
+pub mod http;
+/// The server-rendered pages, by area.
+mod pages;
 
 use std::sync::Arc;
 use std::time::Duration;
@@ -45,34 +26,34 @@ use tower_http::set_header::SetResponseHeaderLayer;
 use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
-pub use login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
-use routes::{Access, RouteInfo, Routes, get, post};
+use http::routes::{Access, RouteInfo, Routes, get, post};
+pub use pages::login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
 
 /// What every handler can reach.
 #[derive(Clone)]
 pub struct AppState {
     pub pool: SqlitePool,
-    /// Password checks allowed at once (see `login::SIGN_IN_SLOTS`); a sign-in that finds
+    /// Password checks allowed at once (see `pages::login::SIGN_IN_SLOTS`); a sign-in that finds
     /// none free answers 429 at once instead of queueing.
     pub sign_ins: Arc<Semaphore>,
     /// `--public-url`: the address customer links are built from (no trailing `/`).
     pub public_url: Option<Arc<str>>,
     /// Data-log files sent and waiting for their column mapping (memory only).
-    pub staged_logs: Arc<passlog::Staging>,
-    /// Sessions and rendered pages reused while nothing has been committed (`web::cache`).
-    pub cache: Arc<cache::Cache>,
+    pub staged_logs: Arc<pages::passes::Staging>,
+    /// Sessions and rendered pages reused while nothing has been committed (`web::http::cache`).
+    pub cache: Arc<http::cache::Cache>,
 }
 
 impl AppState {
     /// The state of a server on `pool`; starts the cache's watcher, so it needs a Tokio runtime.
     pub fn new(pool: SqlitePool) -> Self {
-        let cache = Arc::new(cache::Cache::default());
-        cache::watch(Arc::downgrade(&cache), &pool);
+        let cache = Arc::new(http::cache::Cache::default());
+        http::cache::watch(Arc::downgrade(&cache), &pool);
         Self {
             pool,
-            sign_ins: Arc::new(Semaphore::new(login::SIGN_IN_SLOTS)),
+            sign_ins: Arc::new(Semaphore::new(pages::login::SIGN_IN_SLOTS)),
             public_url: None,
-            staged_logs: passlog::staging(),
+            staged_logs: pages::passes::staging(),
             cache,
         }
     }
@@ -93,7 +74,7 @@ impl AppState {
 
     /// Opens the request's write transaction on behalf of a staff member (see
     /// `db::audit::begin_as`): every change in it is audited under their name.
-    pub async fn write(&self, user: &extract::CurrentUser) -> Result<Write, sqlx::Error> {
+    pub async fn write(&self, user: &http::extract::CurrentUser) -> Result<Write, sqlx::Error> {
         let tx = crate::db::audit::begin_as(&self.pool, Some(user.id), &user.username).await?;
         Ok(Write {
             tx,
@@ -108,7 +89,7 @@ impl AppState {
 /// save redirects to shows the save.
 pub struct Write {
     tx: sqlx::Transaction<'static, sqlx::Sqlite>,
-    cache: Arc<cache::Cache>,
+    cache: Arc<http::cache::Cache>,
 }
 
 impl Write {
@@ -144,87 +125,183 @@ pub const API_PREFIX: &str = "/api/v1";
 fn pages() -> Routes {
     use Access::{Admin, Public, SignedIn};
     Routes::new()
-        .route(SignedIn, "/", get(home::front))
-        .route(Public, "/login", get(login::form).post(login::submit))
-        .route(SignedIn, "/logout", post(login::logout))
+        .route(SignedIn, "/", get(pages::counter::front))
+        .route(
+            Public,
+            "/login",
+            get(pages::login::form).post(pages::login::submit),
+        )
+        .route(SignedIn, "/logout", post(pages::login::logout))
         .route(
             SignedIn,
             "/customers",
-            get(customers::list).post(customers::create),
+            get(pages::customers::customer::list).post(pages::customers::customer::create),
         )
-        .route(SignedIn, "/customers/new", get(customers::new))
-        .route(Admin, "/customers/deleted", get(customers::deleted))
-        .route(Admin, "/customers/{id}/delete", post(customers::delete))
-        .route(Admin, "/customers/{id}/restore", post(customers::restore))
+        .route(
+            SignedIn,
+            "/customers/new",
+            get(pages::customers::customer::new),
+        )
+        .route(
+            Admin,
+            "/customers/deleted",
+            get(pages::customers::customer::deleted),
+        )
+        .route(
+            Admin,
+            "/customers/{id}/delete",
+            post(pages::customers::customer::delete),
+        )
+        .route(
+            Admin,
+            "/customers/{id}/restore",
+            post(pages::customers::customer::restore),
+        )
         .route(
             SignedIn,
             "/customers/{id}",
-            get(customers::show).post(customers::update),
+            get(pages::customers::customer::show).post(pages::customers::customer::update),
         )
-        .route(SignedIn, "/customers/{id}/edit", get(customers::edit))
-        .route(SignedIn, "/customers/{id}/cars", post(cars::create))
-        .route(SignedIn, "/customers/{id}/cars/new", get(cars::new))
-        .route(SignedIn, "/cars/{id}", get(cars::show).post(cars::update))
-        .route(SignedIn, "/cars/{id}/edit", get(cars::edit))
-        .route(SignedIn, "/cars/{id}/builds", post(builds::create))
-        .route(SignedIn, "/cars/{id}/builds/new", get(builds::new))
+        .route(
+            SignedIn,
+            "/customers/{id}/edit",
+            get(pages::customers::customer::edit),
+        )
+        .route(
+            SignedIn,
+            "/customers/{id}/cars",
+            post(pages::customers::car::create),
+        )
+        .route(
+            SignedIn,
+            "/customers/{id}/cars/new",
+            get(pages::customers::car::new),
+        )
+        .route(
+            SignedIn,
+            "/cars/{id}",
+            get(pages::customers::car::show).post(pages::customers::car::update),
+        )
+        .route(
+            SignedIn,
+            "/cars/{id}/edit",
+            get(pages::customers::car::edit),
+        )
+        .route(
+            SignedIn,
+            "/cars/{id}/builds",
+            post(pages::builds::show::create),
+        )
+        .route(
+            SignedIn,
+            "/cars/{id}/builds/new",
+            get(pages::builds::show::new),
+        )
         .route(
             SignedIn,
             "/builds/{id}",
-            get(builds::show).post(builds::update),
+            get(pages::builds::show::show).post(pages::builds::show::update),
         )
-        .route(SignedIn, "/builds/{id}/edit", get(builds::edit))
-        .route(SignedIn, "/builds/{id}/tune", get(capacity::tune))
-        .route(SignedIn, "/builds/{id}/history", get(history::history))
-        .route(SignedIn, "/builds/{id}/sheets", post(sheets::create))
-        .route(SignedIn, "/sheets/{id}", get(sheets::show))
-        .route(SignedIn, "/sheets/{id}/links", post(sheets::create_link))
-        .route(SignedIn, "/links/{id}/revoke", post(sheets::revoke_link))
-        .route(Public, "/s/{secret}", get(sheets::public))
-        .route(SignedIn, "/builds/{id}/setups", post(entries::add_setup))
+        .route(
+            SignedIn,
+            "/builds/{id}/edit",
+            get(pages::builds::show::edit),
+        )
+        .route(
+            SignedIn,
+            "/builds/{id}/tune",
+            get(pages::builds::tune::tune),
+        )
+        .route(
+            SignedIn,
+            "/builds/{id}/history",
+            get(pages::history::history),
+        )
+        .route(SignedIn, "/builds/{id}/sheets", post(pages::sheets::create))
+        .route(SignedIn, "/sheets/{id}", get(pages::sheets::show))
+        .route(
+            SignedIn,
+            "/sheets/{id}/links",
+            post(pages::sheets::create_link),
+        )
+        .route(
+            SignedIn,
+            "/links/{id}/revoke",
+            post(pages::sheets::revoke_link),
+        )
+        .route(Public, "/s/{secret}", get(pages::sheets::public))
+        .route(
+            SignedIn,
+            "/builds/{id}/setups",
+            post(pages::builds::entries::add_setup),
+        )
         .route(
             SignedIn,
             "/builds/{id}/bench-tests",
-            post(entries::add_bench_test),
+            post(pages::builds::entries::add_bench_test),
         )
         .route(
             SignedIn,
             "/builds/{id}/heights",
-            get(records_pages::heights).post(entries::add_height),
+            get(pages::builds::lists::heights).post(pages::builds::entries::add_height),
         )
         .route(
             SignedIn,
             "/builds/{id}/passes",
-            get(records_pages::passes).post(entries::add_pass),
+            get(pages::builds::lists::passes).post(pages::builds::entries::add_pass),
         )
-        .route(SignedIn, "/passes/{id}", get(passlog::show))
+        .route(SignedIn, "/passes/{id}", get(pages::passes::show))
         .route(
             SignedIn,
             "/passes/{id}/log",
-            post(passlog::upload).body_limit(logs::LOG_BODY_LIMIT_BYTES),
+            post(pages::passes::upload).body_limit(api::datalogs::LOG_BODY_LIMIT_BYTES),
         )
         .route(
             SignedIn,
             "/passes/{id}/log/map",
-            get(passlog::map_form).post(passlog::map_save),
+            get(pages::passes::map_form).post(pages::passes::map_save),
         )
         .route(
             Admin,
             "/settings",
-            get(admin::settings).post(admin::save_settings),
+            get(pages::admin::settings::settings).post(pages::admin::settings::save_settings),
         )
-        .route(Admin, "/users", get(admin::users).post(admin::add_user))
-        .route(Admin, "/users/{id}/disable", post(admin::disable_user))
-        .route(Admin, "/users/{id}/enable", post(admin::enable_user))
-        .route(Admin, "/users/{id}/password", post(admin::reset_password))
+        .route(
+            Admin,
+            "/users",
+            get(pages::admin::settings::users).post(pages::admin::settings::add_user),
+        )
+        .route(
+            Admin,
+            "/users/{id}/disable",
+            post(pages::admin::settings::disable_user),
+        )
+        .route(
+            Admin,
+            "/users/{id}/enable",
+            post(pages::admin::settings::enable_user),
+        )
+        .route(
+            Admin,
+            "/users/{id}/password",
+            post(pages::admin::settings::reset_password),
+        )
         .route(
             Admin,
             "/users/{id}/display-name",
-            post(admin::set_display_name),
+            post(pages::admin::settings::set_display_name),
         )
-        .route(Admin, "/backup", get(backup::page))
-        .route(Admin, "/backup/download", get(backup::download))
-        .route(Admin, "/backup/export.json", get(backup::export_json))
+        .route(Admin, "/backup", get(pages::admin::backup::page))
+        .route(
+            Admin,
+            "/backup/download",
+            get(pages::admin::backup::download),
+        )
+        .route(
+            Admin,
+            "/backup/export.json",
+            get(pages::admin::backup::export_json),
+        )
         .route(Public, "/healthz", get(healthz))
         .route(Public, "/static/style.css", get(stylesheet))
         .route(Public, "/static/print.js", get(print_script))
@@ -283,7 +360,7 @@ pub fn app(state: AppState) -> Router {
         // (`Methods::body_limit`, the data-log uploads); a declared length past the largest
         // of them is refused before the body is read at all.
         .layer(DefaultBodyLimit::max(BODY_LIMIT_BYTES))
-        .layer(RequestBodyLimitLayer::new(logs::LOG_BODY_LIMIT_BYTES))
+        .layer(RequestBodyLimitLayer::new(api::datalogs::LOG_BODY_LIMIT_BYTES))
         .layer(TimeoutLayer::with_status_code(
             StatusCode::REQUEST_TIMEOUT,
             Duration::from_secs(30),

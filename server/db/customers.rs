@@ -28,7 +28,25 @@ pub struct CustomerSummary {
     /// Search results: the customer's cars, each with its active builds, for direct links.
     #[sqlx(skip)]
     #[serde(skip)]
-    pub found_cars: Vec<super::search::FoundCar>,
+    pub found_cars: Vec<FoundCar>,
+}
+
+/// A car of a found customer, with its active builds (id, label), for the result's links.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct FoundCar {
+    pub id: i64,
+    pub description: String,
+    pub builds: Vec<FoundBuild>,
+}
+
+/// An active build of a found customer's car, with its kept work-due status.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct FoundBuild {
+    pub id: i64,
+    pub label: String,
+    /// `disc_due`, `shim_due`, `ok`, or None when wear cannot be worked out yet.
+    pub wear: Option<String>,
+    pub springs_flagged: bool,
 }
 
 /// How a list of customers is sorted.
@@ -72,60 +90,6 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
         .await
 }
 
-/// One page of customers whose name, phone, email, or any car's description or engine
-/// matches `query`, and the total count of matches: through the trigram index, best match
-/// first (`db::search`), when any word has 3 or more characters; otherwise (a 1-2 character
-/// query, or none) by case-insensitive substring over name, phone and cars, by name.
-pub async fn search(
-    conn: &mut SqliteConnection,
-    query: &str,
-    page: i64,
-    order: Order,
-) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
-    if let Some(expr) = super::search::match_expr(query) {
-        return super::search::customers(conn, &expr, page, order).await;
-    }
-    let everyone = query.trim().is_empty();
-    let pattern = format!("%{}%", escape_like(query.trim()));
-    // No query lists everyone: no pattern to test on every row (?1 goes unused).
-    const EVERYONE: &str = "c.deleted_at IS NULL";
-    const MATCH: &str =
-        "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
-         OR EXISTS (SELECT 1 FROM cars k WHERE k.customer_id = c.id
-                    AND (k.description LIKE ?1 ESCAPE '\\' OR k.engine LIKE ?1 ESCAPE '\\')))";
-    let mut rows = sqlx::query_as(sqlx::AssertSqlSafe(format!(
-        "SELECT c.id, c.name, c.phone,
-                (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
-                COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
-                          WHERE k.customer_id = c.id), '') AS cars
-         FROM customers c WHERE {}
-         ORDER BY {} LIMIT ?2 OFFSET ?3",
-        if everyone { EVERYONE } else { MATCH },
-        order.terms()
-    )))
-    .bind(&pattern)
-    .bind(super::PAGE_SIZE)
-    .bind(page.max(0) * super::PAGE_SIZE)
-    .fetch_all(&mut *conn)
-    .await?;
-    let total: i64 = if everyone {
-        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
-            "SELECT COUNT(*) FROM customers c WHERE {EVERYONE}"
-        )))
-        .fetch_one(&mut *conn)
-        .await?
-    } else {
-        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
-            "SELECT COUNT(*) FROM customers c WHERE {MATCH}"
-        )))
-        .bind(&pattern)
-        .fetch_one(&mut *conn)
-        .await?
-    };
-    super::search::attach_links(conn, &mut rows).await?;
-    Ok((rows, total))
-}
-
 pub async fn insert(conn: &mut SqliteConnection, c: &Checked<CustomerInput>) -> sqlx::Result<i64> {
     super::record::insert(conn, "customers", &[], c).await
 }
@@ -137,18 +101,6 @@ pub async fn update(
     c: &Checked<CustomerInput>,
 ) -> sqlx::Result<bool> {
     super::record::update(conn, "customers", id, c).await
-}
-
-/// Escapes `%`, `_` and `\` so user text matches literally in `LIKE ... ESCAPE '\'`.
-pub(crate) fn escape_like(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        if matches!(c, '%' | '_' | '\\') {
-            out.push('\\');
-        }
-        out.push(c);
-    }
-    out
 }
 
 /// Soft-deletes (`deleted = true`) or restores a customer; false when nothing changed.

@@ -2,10 +2,9 @@
 //! query turned into an FTS5 expression, ranked hits, and the cars and active builds each hit
 //! links to.
 
-use serde::Serialize;
 use sqlx::{FromRow, SqliteConnection};
 
-use super::customers::{CustomerSummary, Order};
+use super::customers::{CustomerSummary, FoundBuild, FoundCar, Order};
 
 /// The shortest run of characters the trigram index can look up.
 const TRIGRAM: usize = 3;
@@ -117,24 +116,6 @@ pub async fn customers(
     Ok((rows, total))
 }
 
-/// A car of a found customer, with its active builds (id, label), for the result's links.
-#[derive(Debug, Clone, Default, Serialize)]
-pub struct FoundCar {
-    pub id: i64,
-    pub description: String,
-    pub builds: Vec<FoundBuild>,
-}
-
-/// An active build of a found customer's car, with its kept work-due status.
-#[derive(Debug, Clone, Default, Serialize)]
-pub struct FoundBuild {
-    pub id: i64,
-    pub label: String,
-    /// `disc_due`, `shim_due`, `ok`, or None when wear cannot be worked out yet.
-    pub wear: Option<String>,
-    pub springs_flagged: bool,
-}
-
 #[derive(FromRow)]
 struct CarBuild {
     customer_id: i64,
@@ -217,4 +198,70 @@ pub async fn in_step(conn: &mut SqliteConnection) -> sqlx::Result<bool> {
     )
     .fetch_one(conn)
     .await
+}
+
+/// One page of customers whose name, phone, email, or any car's description or engine
+/// matches `query`, and the total count of matches: through the trigram index, best match
+/// first (`db::search`), when any word has 3 or more characters; otherwise (a 1-2 character
+/// query, or none) by case-insensitive substring over name, phone and cars, by name.
+pub async fn list(
+    conn: &mut SqliteConnection,
+    query: &str,
+    page: i64,
+    order: Order,
+) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
+    if let Some(expr) = match_expr(query) {
+        return customers(conn, &expr, page, order).await;
+    }
+    let everyone = query.trim().is_empty();
+    let pattern = format!("%{}%", escape_like(query.trim()));
+    // No query lists everyone: no pattern to test on every row (?1 goes unused).
+    const EVERYONE: &str = "c.deleted_at IS NULL";
+    const MATCH: &str =
+        "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
+         OR EXISTS (SELECT 1 FROM cars k WHERE k.customer_id = c.id
+                    AND (k.description LIKE ?1 ESCAPE '\\' OR k.engine LIKE ?1 ESCAPE '\\')))";
+    let mut rows = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+        "SELECT c.id, c.name, c.phone,
+                (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
+                COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
+                          WHERE k.customer_id = c.id), '') AS cars
+         FROM customers c WHERE {}
+         ORDER BY {} LIMIT ?2 OFFSET ?3",
+        if everyone { EVERYONE } else { MATCH },
+        order.terms()
+    )))
+    .bind(&pattern)
+    .bind(super::PAGE_SIZE)
+    .bind(page.max(0) * super::PAGE_SIZE)
+    .fetch_all(&mut *conn)
+    .await?;
+    let total: i64 = if everyone {
+        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
+            "SELECT COUNT(*) FROM customers c WHERE {EVERYONE}"
+        )))
+        .fetch_one(&mut *conn)
+        .await?
+    } else {
+        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
+            "SELECT COUNT(*) FROM customers c WHERE {MATCH}"
+        )))
+        .bind(&pattern)
+        .fetch_one(&mut *conn)
+        .await?
+    };
+    attach_links(conn, &mut rows).await?;
+    Ok((rows, total))
+}
+
+/// Escapes `%`, `_` and `\` so user text matches literally in `LIKE ... ESCAPE '\'`.
+fn escape_like(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if matches!(c, '%' | '_' | '\\') {
+            out.push('\\');
+        }
+        out.push(c);
+    }
+    out
 }

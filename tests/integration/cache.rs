@@ -1,4 +1,4 @@
-//! The page cache (`web::cache`): a page rendered once serves every viewer with their own name
+//! The page cache (`web::http::cache`): a page rendered once serves every viewer with their own name
 //! and CSRF token, and no page or session outlives the commit that changed it.
 
 use std::time::{Duration, Instant};

@@ -16,8 +16,8 @@ use std::time::Instant;
 
 use axum::body::Body;
 use axum::http::{Method, Request, StatusCode, header};
+use lockpoint::web::http::routes::Access;
 use lockpoint::web::route_table;
-use lockpoint::web::routes::Access;
 use serde_json::{Value, json};
 use sqlx::sqlite::SqliteConnectOptions;
 use sqlx::{AssertSqlSafe, Connection, SqliteConnection};

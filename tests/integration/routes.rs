@@ -4,8 +4,8 @@
 
 use axum::body::Body;
 use axum::http::{Method, Request, StatusCode, header};
+use lockpoint::web::http::routes::{Access, RouteInfo};
 use lockpoint::web::route_table;
-use lockpoint::web::routes::{Access, RouteInfo};
 
 use crate::support::{Reply, TestApp};
 

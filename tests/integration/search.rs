@@ -198,7 +198,7 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
         .await;
     }
     let mut conn = app.pool.acquire().await.unwrap();
-    let (rows, total) = db::customers::search(&mut conn, "rask", 0, db::customers::Order::Best)
+    let (rows, total) = db::search::list(&mut conn, "rask", 0, db::customers::Order::Best)
         .await
         .unwrap();
     assert_eq!(total, 2);
@@ -212,7 +212,7 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
         .await
         .unwrap();
     assert_eq!(
-        db::customers::search(&mut conn, "rask", 0, db::customers::Order::Best)
+        db::search::list(&mut conn, "rask", 0, db::customers::Order::Best)
             .await
             .unwrap()
             .1,
@@ -220,7 +220,7 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
     );
     status::rebuild_derived(&mut conn).await.unwrap();
     assert_eq!(
-        db::customers::search(&mut conn, "rask", 0, db::customers::Order::Best)
+        db::search::list(&mut conn, "rask", 0, db::customers::Order::Best)
             .await
             .unwrap()
             .1,

@@ -7,7 +7,8 @@
 use super::{Cell, ExportError};
 use crate::records::FieldErrors;
 use crate::records::date::{Date, ShopZone};
-use crate::records::field::{self, Ctx, Field, Record, RecordVisitor, Value, for_table};
+use crate::records::field::{self, Ctx, Field, Record, Value};
+use crate::records::tables::{RecordVisitor, for_table};
 use clutch::units::Units;
 
 /// Where a row is, for messages: `table "builds", row 3 (id 7)`. Rows count from 1 in the

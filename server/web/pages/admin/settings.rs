@@ -5,9 +5,6 @@ use axum::extract::{Query, State};
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
-use super::AppState;
-use super::extract::{CurrentUser, PathId, SignedForm};
-use super::layout::Layout;
 use crate::auth;
 use crate::db;
 use crate::db::users::User;
@@ -17,6 +14,9 @@ use crate::records::field;
 use crate::records::settings::SettingsInput;
 use crate::records::user::{NewUser, Role, check_password};
 use crate::records::{Ctx, FieldErrors, FormData};
+use crate::web::AppState;
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::pages::layout::Layout;
 use clutch::units::Units;
 
 #[derive(Template)]

@@ -7,9 +7,9 @@ use axum::http::header;
 use axum::http::request::Parts;
 use axum::response::{IntoResponse, Redirect, Response};
 
-use super::AppState;
-use super::extract::cookie;
 use crate::error::AppError;
+use crate::web::AppState;
+use crate::web::http::extract::cookie;
 
 /// The cookie's name.
 pub const FLASH_COOKIE: &str = "lp_flash";

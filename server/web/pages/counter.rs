@@ -5,12 +5,6 @@ use axum::extract::{Query, RawQuery, State};
 use axum::response::Html;
 use sqlx::SqliteConnection;
 
-use super::AppState;
-use super::cache::PageKey;
-use super::customers::ListQuery;
-use super::extract::CurrentUser;
-use super::layout::Layout;
-use super::wear;
 use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
@@ -18,6 +12,12 @@ use crate::error::AppResult;
 use crate::model::due::{Due, DueReason};
 use crate::records::date::ShopZone;
 use crate::status;
+use crate::web::AppState;
+use crate::web::http::cache::PageKey;
+use crate::web::http::extract::CurrentUser;
+use crate::web::pages::builds::wear;
+use crate::web::pages::customers::customer::ListQuery;
+use crate::web::pages::layout::Layout;
 use clutch::wear::WearStatus;
 
 #[derive(Template)]
@@ -120,7 +120,7 @@ async fn render_front(
     let (found, found_total) = if q.q.trim().is_empty() {
         (Vec::new(), 0)
     } else {
-        db::customers::search(conn, &q.q, 0, Order::from_query(&q.sort)).await?
+        db::search::list(conn, &q.q, 0, Order::from_query(&q.sort)).await?
     };
     let recent = db::activity::recent(conn, 12).await?;
     let due = status::work_due(conn, &settings).await?;

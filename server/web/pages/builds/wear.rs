@@ -1,10 +1,10 @@
 //! The wear story of a build, as the page tells it: status in words, forecast, the cover-height
 //! chart and the measurement table.
 
-use super::chart::Chart;
-use super::show::Show;
 use crate::model::wear::current_disc;
 use crate::records::stored::Height;
+use crate::web::pages::chart::Chart;
+use crate::web::pages::show::Show;
 use clutch::wear::{WearReport, WearStatus};
 
 /// Growth, total disc wear and clamp lost at one measurement (storage units).
@@ -187,7 +187,7 @@ fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
 
 /// The pill of a found build's kept work-due status (`build_status`) in a search result: (CSS
 /// class, word with its shape). Springs are said when the wear is fine but they are flagged.
-pub fn found_status(b: &crate::db::search::FoundBuild) -> (&'static str, &'static str) {
+pub fn found_status(b: &crate::db::customers::FoundBuild) -> (&'static str, &'static str) {
     let of = |s: WearStatus| (status_class(s), status_word(s));
     let springs_flagged = b.springs_flagged;
     match b.wear.as_deref() {

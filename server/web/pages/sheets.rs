@@ -6,14 +6,6 @@ use axum::extract::State;
 use axum::http::{HeaderMap, StatusCode, header};
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
-use super::AppState;
-use super::builds::{EntryForm, EntryForms, render_page};
-use super::capacity::{capacity_chart, curve_start, figure_lines};
-use super::chart::Chart;
-use super::extract::{CurrentUser, PathId, SignedForm};
-use super::flash::{self, Flash};
-use super::show::Show;
-use super::wear;
 use crate::auth;
 use crate::db;
 use crate::db::sheets::{Link, LinkState, Sheet};
@@ -21,6 +13,14 @@ use crate::error::{AppError, AppResult};
 use crate::model::{Trial, TuningTargets};
 use crate::records::{FieldErrors, field};
 use crate::sheet::{self, SheetFigures, SheetInputs};
+use crate::web::AppState;
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::flash::{self, Flash};
+use crate::web::pages::builds::show::{EntryForm, EntryForms, render_page};
+use crate::web::pages::builds::tune::{capacity_chart, curve_start, figure_lines};
+use crate::web::pages::builds::wear;
+use crate::web::pages::chart::Chart;
+use crate::web::pages::show::Show;
 use clutch::capacity::friction::{FacingMaterial, HeatTrend};
 use clutch::capacity::recommend::Recommendation;
 use clutch::quantity::limits;
@@ -89,7 +89,7 @@ impl SheetPage {
     }
 
     pub fn material(&self) -> String {
-        super::show::material_text(&self.i.build)
+        crate::web::pages::show::material_text(&self.i.build)
     }
 
     /// The first speed of the car's torque curve (where "at or below" lockups sit).
@@ -191,7 +191,7 @@ impl SheetPage {
     }
 
     pub fn thread_line(&self) -> String {
-        super::show::thread_text(&self.i.build)
+        crate::web::pages::show::thread_text(&self.i.build)
     }
 
     pub fn lever_line(&self) -> String {

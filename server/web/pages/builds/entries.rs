@@ -7,10 +7,6 @@ use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Response};
 use sqlx::SqliteConnection;
 
-use super::AppState;
-use super::builds::{EntryForm, EntryForms, render_page};
-use super::extract::{CurrentUser, PathId, SignedForm};
-use super::flash;
 use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::model::wear::{current_disc, disc_passes};
@@ -21,6 +17,10 @@ use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Build;
 use crate::records::{Checked, Ctx, FieldErrors, FormData, field};
+use crate::web::AppState;
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::flash;
+use crate::web::pages::builds::show::{EntryForm, EntryForms, render_page};
 use clutch::units::Units;
 
 /// Which of the build page's forms was sent.
@@ -34,7 +34,7 @@ enum Which {
 
 /// One entry being saved: its transaction, the build, and the form as typed.
 struct Entry {
-    tx: super::Write,
+    tx: crate::web::Write,
     build: Build,
     ctx: Ctx,
     user: CurrentUser,

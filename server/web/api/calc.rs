@@ -4,13 +4,12 @@
 use axum::Json;
 use axum::extract::{Query, State};
 
-use super::AppState;
-use super::api::Id;
-use super::extract::{ApiJson, ApiUser};
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::model::as_of::BuildAsOf;
 use crate::model::calibration::calibrated;
+use crate::web::AppState;
+use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser};
 use clutch::InputError;
 use clutch::calibration::{CalibrateRequest, CalibrationReport, Fit};
 use clutch::capacity::recommend::{RecommendRequest, Recommendation};

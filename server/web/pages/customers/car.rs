@@ -5,10 +5,6 @@ use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Response};
 
-use super::AppState;
-use super::extract::{CurrentUser, PathId, SignedForm};
-use super::flash::{self, Flash, saved_note};
-use super::layout::Layout;
 use crate::db;
 use crate::db::customers::Customer;
 use crate::error::{AppError, AppResult};
@@ -16,6 +12,10 @@ use crate::records::car::CarInput;
 use crate::records::stored::Build;
 use crate::records::stored::Car;
 use crate::records::{FieldErrors, FormData, field};
+use crate::web::AppState;
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::flash::{self, Flash, saved_note};
+use crate::web::pages::layout::Layout;
 
 #[derive(Template)]
 #[template(path = "cars/show.html")]

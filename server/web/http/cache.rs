@@ -3,7 +3,7 @@
 //! its tuning page, a pass's page with its analysed data log).
 //!
 //! Every entry carries the shop's *generation*, a number that moves on after every commit:
-//! at once after a write through [`AppState::write`](super::AppState::write) commits (so the
+//! at once after a write through [`AppState::write`](crate::web::AppState::write) commits (so the
 //! page a save redirects to is never stale), and within [`WATCH_INTERVAL`] after any other
 //! commit, by this process or another one (a `lockpoint user` command while the server runs),
 //! seen through SQLite's `PRAGMA data_version` on a connection of its own. An entry is used
@@ -24,13 +24,13 @@ use std::time::{Duration, Instant};
 
 use sqlx::{ConnectOptions, SqlitePool};
 
-use super::extract::CurrentUser;
 use crate::auth;
 use crate::db::sessions::SessionUser;
 use crate::error::AppResult;
 use crate::records::date::{Date, ShopZone};
+use crate::web::http::extract::CurrentUser;
 
-/// How often commits from outside [`AppState::write`](super::AppState::write) are looked for.
+/// How often commits from outside [`AppState::write`](crate::web::AppState::write) are looked for.
 pub const WATCH_INTERVAL: Duration = Duration::from_millis(100);
 
 /// How long a page is reused at most, for what changes with the clock alone (a customer link
@@ -257,7 +257,7 @@ impl Cache {
 }
 
 /// Watches for commits this process did not announce (another process, or a write outside
-/// [`AppState::write`](super::AppState::write)) and moves the generation on. Stops when the
+/// [`AppState::write`](crate::web::AppState::write)) and moves the generation on. Stops when the
 /// cache is dropped.
 pub fn watch(cache: Weak<Cache>, pool: &SqlitePool) {
     let options = pool.connect_options().as_ref().clone();

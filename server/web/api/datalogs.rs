@@ -7,12 +7,12 @@ use axum::extract::State;
 use serde::Deserialize;
 use sqlx::SqliteConnection;
 
-use super::AppState;
-use super::extract::{ApiJson, ApiUser, CurrentUser, PathId};
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::records::stored::Car;
 use crate::records::stored::Pass;
+use crate::web::AppState;
+use crate::web::http::extract::{ApiJson, ApiUser, CurrentUser, PathId};
 use clutch::InputError;
 use clutch::datalog::request::{
     CarFacts, LogAnalysisReport, LogAnalysisRequest, LogColumns, LogResult, LogSettings, TimeUnit,

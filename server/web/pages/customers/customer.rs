@@ -7,11 +7,6 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 use serde::Deserialize;
 use sqlx::SqliteConnection;
 
-use super::AppState;
-use super::cache::PageKey;
-use super::extract::{CurrentUser, PathId, SignedForm};
-use super::flash::{self, Flash, saved_note};
-use super::layout::Layout;
 use crate::db;
 use crate::db::customers::{Customer, CustomerSummary, Order};
 use crate::error::{AppError, AppResult};
@@ -19,6 +14,11 @@ use crate::records::customer::CustomerInput;
 use crate::records::date::ShopZone;
 use crate::records::stored::Car;
 use crate::records::{FieldErrors, FormData, field};
+use crate::web::AppState;
+use crate::web::http::cache::PageKey;
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::flash::{self, Flash, saved_note};
+use crate::web::pages::layout::Layout;
 
 #[derive(Debug, Default, Deserialize)]
 #[serde(default)]
@@ -95,7 +95,7 @@ async fn render_list(
     let (page, _) = Layout::load(conn, user, "customers", "Customers").await?;
     let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
     let order = Order::from_query(&q.sort);
-    let (rows, total) = db::customers::search(conn, &q.q, page_no, order).await?;
+    let (rows, total) = db::search::list(conn, &q.q, page_no, order).await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     let zone = page.zone.clone();
     let html = ListPage {

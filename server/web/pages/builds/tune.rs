@@ -8,13 +8,6 @@ use axum::extract::{Query, RawQuery, State};
 use axum::response::Html;
 use sqlx::SqliteConnection;
 
-use super::AppState;
-use super::cache::PageKey;
-use super::chart::Chart;
-use super::extract::{CurrentUser, PathId};
-use super::launch::LaunchColumn;
-use super::layout::Layout;
-use super::show::Show;
 use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::model::as_of::BuildAsOf;
@@ -24,6 +17,13 @@ use crate::records::date::ShopZone;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Dossier;
 use crate::records::{Ctx, FieldErrors, FormData, field};
+use crate::web::AppState;
+use crate::web::http::cache::PageKey;
+use crate::web::http::extract::{CurrentUser, PathId};
+use crate::web::pages::builds::launch::LaunchColumn;
+use crate::web::pages::chart::Chart;
+use crate::web::pages::layout::Layout;
+use crate::web::pages::show::Show;
 use clutch::calibration::Fit;
 use clutch::capacity::recommend::Recommendation;
 use clutch::capacity::report::CapacityReport;
@@ -335,7 +335,7 @@ fn launch_columns(
     if !capacity_ok {
         return Vec::new();
     }
-    let mut columns = vec![super::launch::column(
+    let mut columns = vec![crate::web::pages::builds::launch::column(
         facts,
         "Current setup",
         current_trial,
@@ -343,7 +343,7 @@ fn launch_columns(
         units,
     )];
     if let Some(target) = target {
-        columns.push(super::launch::target_column(
+        columns.push(crate::web::pages::builds::launch::target_column(
             facts,
             current_trial,
             target,
@@ -364,7 +364,9 @@ fn launch_columns(
         (None, None) => tried_rpm.map(|_| ("Trying", current_trial)),
     };
     if let Some((title, t)) = other {
-        columns.push(super::launch::column(facts, title, t, tried_rpm, units));
+        columns.push(crate::web::pages::builds::launch::column(
+            facts, title, t, tried_rpm, units,
+        ));
     }
     columns
 }

@@ -1,11 +1,11 @@
 //! The launch preview on the tuning page: one column per setting (the current one and the one
 //! being tried), each with its speed and slip-power charts, its figures and its event log.
 
-use super::chart::Chart;
-use super::show::Show;
 use crate::model::Trial;
 use crate::model::as_of::BuildAsOf;
 use crate::model::launch::LaunchPlan;
+use crate::web::pages::chart::Chart;
+use crate::web::pages::show::Show;
 use clutch::launch::request::{LaunchReport, describe};
 use clutch::launch::simulation::LaunchRun;
 use clutch::launch::target::{Grid, LaunchTarget, find_counterweight};

@@ -9,13 +9,13 @@ use axum::response::{Html, IntoResponse, Response};
 use futures_util::StreamExt;
 use tokio_util::io::ReaderStream;
 
-use super::AppState;
-use super::extract::CurrentUser;
-use super::layout::Layout;
 use crate::backup::{self, BackupError, TempPath};
 use crate::error::{AppError, AppResult};
 use crate::progress::Progress;
 use crate::records::date::{Date, ShopZone};
+use crate::web::AppState;
+use crate::web::http::extract::CurrentUser;
+use crate::web::pages::layout::Layout;
 
 impl From<BackupError> for AppError {
     fn from(err: BackupError) -> Self {

@@ -11,9 +11,9 @@ use axum::middleware::{self, Next};
 use axum::response::Response;
 use axum::routing::{self, MethodRouter};
 
-use super::AppState;
-use super::extract::{ApiUser, CurrentUser};
 use crate::error::AppError;
+use crate::web::AppState;
+use crate::web::http::extract::{ApiUser, CurrentUser};
 
 /// Who may reach a route.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -68,7 +68,7 @@ impl Methods {
     }
 
     /// Accepts bodies up to `bytes` on this path (the application's limit is
-    /// [`super::BODY_LIMIT_BYTES`]; a data-log upload needs more).
+    /// [`crate::web::BODY_LIMIT_BYTES`]; a data-log upload needs more).
     pub fn body_limit(mut self, bytes: usize) -> Self {
         self.router = self
             .router

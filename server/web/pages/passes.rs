@@ -12,17 +12,17 @@ use axum::extract::{Multipart, Query, RawQuery, State};
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
-use super::AppState;
-use super::cache::PageKey;
-use super::chart::Chart;
-use super::extract::{CurrentUser, PathId, SignedForm};
-use super::layout::Layout;
-use super::logs::{PassCar, pass_car, save};
 use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::records::FieldErrors;
 use crate::records::date::ShopZone;
 use crate::records::stored::LogSummary;
+use crate::web::AppState;
+use crate::web::api::datalogs::{PassCar, pass_car, save};
+use crate::web::http::cache::PageKey;
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::pages::chart::Chart;
+use crate::web::pages::layout::Layout;
 use clutch::InputError;
 use clutch::datalog::file;
 use clutch::datalog::request::{LogColumns, LogResult, LogSettings, TimeUnit};
@@ -121,7 +121,7 @@ fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
     let step = thin(900, s.time_s.len());
     let idx: Vec<usize> = (0..s.time_s.len()).step_by(step).collect();
     let t_end = *s.time_s.last().unwrap_or(&1.0);
-    let mark = |c: &mut Chart, f: &super::chart::Frame| {
+    let mark = |c: &mut Chart, f: &crate::web::pages::chart::Frame| {
         c.mark_x(
             f,
             "launch",
@@ -320,7 +320,7 @@ async fn render_with(
     let build = db::builds::by_id(&mut conn, pc.pass.build_id)
         .await?
         .ok_or(AppError::NotFound)?;
-    let build_label = super::builds::build_title(&build);
+    let build_label = crate::web::pages::builds::show::build_title(&build);
     let log = db::pass_logs::summary(&mut conn, id).await?;
     let passes = db::passes::page_for_build(
         &mut conn,

@@ -3,13 +3,13 @@
 
 use sqlx::SqliteConnection;
 
-use super::extract::CurrentUser;
-use super::show::Show;
 use crate::db;
 use crate::error::AppResult;
 use crate::records::Ctx;
 use crate::records::date::ShopZone;
 use crate::records::settings::SettingsInput;
+use crate::web::http::extract::CurrentUser;
+use crate::web::pages::show::Show;
 use clutch::units::Units;
 
 pub struct Layout {

@@ -8,13 +8,13 @@ use axum::http::{HeaderMap, StatusCode, header};
 use axum::response::{Html, IntoResponse, Redirect, Response};
 use serde::Deserialize;
 
-use super::AppState;
-use super::extract::{
-    ClientAddr, CurrentUser, PlainForm, SESSION_COOKIE, SignedForm, cookie, session_cookie,
-};
 use crate::auth;
 use crate::db;
 use crate::error::AppResult;
+use crate::web::AppState;
+use crate::web::http::extract::{
+    ClientAddr, CurrentUser, PlainForm, SESSION_COOKIE, SignedForm, cookie, session_cookie,
+};
 
 #[derive(Template)]
 #[template(path = "login.html")]

@@ -5,15 +5,15 @@ use axum::extract::State;
 use axum::response::Html;
 use serde_json::{Map, Value};
 
-use super::AppState;
-use super::extract::{CurrentUser, PathId};
-use super::layout::Layout;
-use super::show::Show;
 use crate::db;
 use crate::db::audit::Entry;
 use crate::error::{AppError, AppResult};
 use crate::records::date::ShopZone;
-use crate::records::field;
+use crate::records::tables;
+use crate::web::AppState;
+use crate::web::http::extract::{CurrentUser, PathId};
+use crate::web::pages::layout::Layout;
+use crate::web::pages::show::Show;
 use clutch::units::Units;
 
 /// One line of history in words.
@@ -53,7 +53,7 @@ pub async fn history(
         "{} · {} · {}",
         owner.customer_name,
         owner.car_description,
-        super::builds::build_title(&build)
+        crate::web::pages::builds::show::build_title(&build)
     );
     Ok(Html(
         HistoryPage {
@@ -105,7 +105,7 @@ pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
         .chain(before.keys().filter(|k| !after.contains_key(*k)))
         .collect();
     keys.sort_by_key(|k| {
-        field::stored_view(&e.table_name, k, &Value::Null, u.units).map_or(usize::MAX, |v| v.0)
+        tables::stored_view(&e.table_name, k, &Value::Null, u.units).map_or(usize::MAX, |v| v.0)
     });
     for key in keys {
         if LINK_COLUMNS.contains(&key.as_str()) {
@@ -167,7 +167,7 @@ fn shown(units: Units, table: &str, column: &str, v: Option<&Value>) -> (String,
     let Some(v) = v else {
         return (column.replace('_', " "), "–".into());
     };
-    if let Some((_, label, text)) = field::stored_view(table, column, v, units) {
+    if let Some((_, label, text)) = tables::stored_view(table, column, v, units) {
         return (label.to_string(), text);
     }
     let text = match v {

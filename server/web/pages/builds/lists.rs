@@ -6,15 +6,15 @@ use axum::extract::{Query, State};
 use axum::response::Html;
 use serde::Deserialize;
 
-use super::AppState;
-use super::builds::page_title;
-use super::extract::{CurrentUser, PathId};
-use super::layout::Layout;
 use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::records::stored::Height;
 use crate::records::stored::LogSummary;
 use crate::records::stored::Pass;
+use crate::web::AppState;
+use crate::web::http::extract::{CurrentUser, PathId};
+use crate::web::pages::builds::show::page_title;
+use crate::web::pages::layout::Layout;
 
 /// Rows per page.
 const PER_PAGE: i64 = 100;

@@ -7,14 +7,6 @@ use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Response};
 use sqlx::SqliteConnection;
 
-use super::AppState;
-use super::cache::PageKey;
-use super::capacity::{capacity_chart, figure_lines};
-use super::chart::Chart;
-use super::extract::{CurrentUser, PathId, SignedForm};
-use super::flash::{self, Flash};
-use super::layout::Layout;
-use super::wear::{self, WearFigures, WearView};
 use crate::db;
 use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
@@ -34,6 +26,14 @@ use crate::records::stored::LogSummary;
 use crate::records::stored::Setup;
 use crate::records::stored::{BenchSpring, BenchTest};
 use crate::records::{Ctx, FieldErrors, FormData, field};
+use crate::web::AppState;
+use crate::web::http::cache::PageKey;
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::flash::{self, Flash};
+use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
+use crate::web::pages::builds::wear::{self, WearFigures, WearView};
+use crate::web::pages::chart::Chart;
+use crate::web::pages::layout::Layout;
 use clutch::capacity::friction::FacingMaterial;
 use clutch::capacity::springs::SetSpread;
 
@@ -239,7 +239,7 @@ impl ShowPage {
     }
 
     pub fn thread(&self) -> String {
-        super::show::thread_text(&self.d.build.data)
+        crate::web::pages::show::thread_text(&self.d.build.data)
     }
 }
 
@@ -360,7 +360,7 @@ pub async fn render_page(
     let bench = bench_views(&d.bench, &d.build.data, &settings);
     let flash = forms.flash.clone();
     let forms = default_forms(forms, &page.ctx, &d);
-    let material = super::show::material_text(&d.build.data);
+    let material = crate::web::pages::show::material_text(&d.build.data);
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
     let sheets = db::sheets::for_build(conn, id).await?;
     let disc_passes = disc_passes(&d.heights, &d.passes);

@@ -7,13 +7,13 @@ use axum::http::request::Parts;
 use axum::http::{HeaderMap, header};
 use serde::de::DeserializeOwned;
 
-use super::AppState;
 use crate::auth;
 use crate::db;
 use crate::db::sessions::SessionUser;
 use crate::error::{ApiError, AppError};
 use crate::records::FormData;
 use crate::records::user::Role;
+use crate::web::AppState;
 
 /// The session cookie's name.
 pub const SESSION_COOKIE: &str = "lockpoint_session";
@@ -83,7 +83,7 @@ impl FromRequestParts<AppState> for CurrentUser {
     type Rejection = AppError;
 
     async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, AppError> {
-        // Already looked up by the route's access layer (`web::routes`).
+        // Already looked up by the route's access layer (`web::http::routes`).
         if let Some(user) = parts.extensions.get::<Self>() {
             return Ok(user.clone());
         }
@@ -168,7 +168,7 @@ impl FromRequestParts<AppState> for ApiUser {
     type Rejection = ApiError;
 
     async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, ApiError> {
-        // Already looked up by the route's access layer (`web::routes`).
+        // Already looked up by the route's access layer (`web::http::routes`).
         if let Some(user) = parts.extensions.get::<Self>() {
             return Ok(user.clone());
         }
@@ -295,6 +295,19 @@ impl<S: Send + Sync> FromRequestParts<S> for ClientAddr {
                 .get::<axum::extract::ConnectInfo<std::net::SocketAddr>>()
                 .map(|info| info.0.ip().to_canonical()),
         ))
+    }
+}
+
+/// A path id for the API: anything but a positive integer is a JSON 404.
+pub struct ApiId(pub i64);
+
+impl<S: Send + Sync> FromRequestParts<S> for ApiId {
+    type Rejection = ApiError;
+    async fn from_request_parts(parts: &mut Parts, state: &S) -> Result<Self, ApiError> {
+        PathId::from_request_parts(parts, state)
+            .await
+            .map(|PathId(id)| Self(id))
+            .map_err(ApiError)
     }
 }
 

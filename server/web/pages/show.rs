@@ -229,10 +229,10 @@ pub fn material_text(b: &crate::records::build::BuildInput) -> String {
 }
 
 /// The `inputmode` of a form input, so a tablet opens its number keyboard: from the record
-/// field the input reads (`records::field::input_mode`), else "decimal" for an input shown
+/// field the input reads (`records::tables::input_mode`), else "decimal" for an input shown
 /// with a unit (tuning targets and the like); empty for text and dates.
 pub fn input_mode(name: &str, unit: &str) -> &'static str {
-    crate::records::field::input_mode(name).unwrap_or(if unit.is_empty() { "" } else { "decimal" })
+    crate::records::tables::input_mode(name).unwrap_or(if unit.is_empty() { "" } else { "decimal" })
 }
 
 #[cfg(test)]

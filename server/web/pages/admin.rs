@@ -1,0 +1,6 @@
+//! Admin pages.
+
+/// Backups and export downloads.
+pub mod backup;
+/// The shop's settings and the staff accounts.
+pub mod settings;
