@@ -45,6 +45,8 @@ use tower_http::set_header::SetResponseHeaderLayer;
 use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
+use crate::backup::plan::Fixed;
+use crate::backup::scheduler::Backups;
 pub use login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
 use routes::{Access, RouteInfo, Routes, get, post};
 
@@ -61,19 +63,38 @@ pub struct AppState {
     pub staged_logs: Arc<passlog::Staging>,
     /// Sessions and rendered pages reused while nothing has been committed (`web::cache`).
     pub cache: Arc<cache::Cache>,
+    /// The scheduled backups and what they did (`backup::scheduler`).
+    pub backups: Arc<Backups>,
 }
 
 impl AppState {
-    /// The state of a server on `pool`; starts the cache's watcher, so it needs a Tokio runtime.
+    /// The state of a server on `pool`; starts the cache's watcher and the backup schedule
+    /// (as stored under Settings), so it needs a Tokio runtime.
     pub fn new(pool: SqlitePool) -> Self {
+        Self::with_backups(pool, Fixed::default())
+    }
+
+    /// The same, with the backup values given at start (`serve --backup-*`), which win over
+    /// the stored schedule.
+    pub fn with_backups(pool: SqlitePool, fixed: Fixed) -> Self {
         let cache = Arc::new(cache::Cache::default());
         cache::watch(Arc::downgrade(&cache), &pool);
+        let backups = Backups::new(fixed, pool.connect_options().get_filename());
+        // What the counter says about the backups is part of its cached page.
+        let pages = Arc::downgrade(&cache);
+        backups.on_change(move || {
+            if let Some(pages) = pages.upgrade() {
+                pages.changed();
+            }
+        });
+        backups.start(pool.clone());
         Self {
             pool,
             sign_ins: Arc::new(Semaphore::new(login::SIGN_IN_SLOTS)),
             public_url: None,
             staged_logs: passlog::staging(),
             cache,
+            backups,
         }
     }
 
@@ -222,6 +243,8 @@ fn pages() -> Routes {
         )
         .route(Admin, "/backup", get(backup::page))
         .route(Admin, "/backup/download", get(backup::download))
+        .route(Admin, "/backup/schedule", post(backup::save_schedule))
+        .route(Admin, "/backup/now", post(backup::back_up_now))
         .route(Admin, "/backup/export.json", get(backup::export_json))
         .route(Public, "/healthz", get(healthz))
         .route(Public, "/static/style.css", get(stylesheet))
