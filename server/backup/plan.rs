@@ -94,7 +94,7 @@ impl Every {
 
     fn largest_unit(self) -> (u64, &'static str) {
         for (scale, unit) in [(86_400, "d"), (3_600, "h"), (60, "m")] {
-            if self.0 % scale == 0 {
+            if self.0.is_multiple_of(scale) {
                 return (self.0 / scale, unit);
             }
         }
