@@ -315,9 +315,8 @@ async fn make_one(
         Ok(_) => return Err(format!("{} is not a folder", dir.display())),
         Err(e) if e.kind() == io::ErrorKind::NotFound => {
             return Err(format!(
-                "the backup folder {} does not exist (is the drive plugged in, the share \
-                 mounted?); Lockpoint never creates it, so that a missing drive cannot fill this \
-                 computer's own disk",
+                "the backup folder {} does not exist: is the drive plugged in, the share \
+                 mounted? (It is never created for you.)",
                 dir.display()
             ));
         }

@@ -104,12 +104,16 @@ impl ScheduleView {
         }
     }
 
-    /// Whether `field` of the form was given at start (and so is not what is in force).
-    pub fn fixed_value(&self, field: &str) -> Option<&str> {
-        self.fixed
-            .iter()
-            .find(|(f, _)| *f == field)
-            .map(|(_, v)| v.as_str())
+}
+
+impl BackupPage {
+    /// A value given at start, in words.
+    pub fn fixed_label(field: &str) -> &'static str {
+        match field {
+            "dir" => "folder",
+            "every" => "every",
+            _ => "copies kept",
+        }
     }
 }
 
