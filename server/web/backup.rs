@@ -103,7 +103,6 @@ impl ScheduleView {
             notice: notice(&backups.alarm(), s.plan.as_ref().map(|p| p.every), zone),
         }
     }
-
 }
 
 impl BackupPage {

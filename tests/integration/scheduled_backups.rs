@@ -300,8 +300,15 @@ async fn a_server_backing_up_every_10s_keeps_two_private_checked_copies_with_eve
     let dir = scratch.path("backups");
     std::fs::create_dir(&dir).unwrap();
     let token = new_shop(&db);
+    // The environment names other values; the command line wins over each of them.
+    let elsewhere = scratch.path("from-the-environment");
+    std::fs::create_dir(&elsewhere).unwrap();
+    let mut cmd = lockpoint();
+    cmd.env("LOCKPOINT_BACKUP_DIR", &elsewhere)
+        .env("LOCKPOINT_BACKUP_EVERY", "1d")
+        .env("LOCKPOINT_BACKUP_KEEP", "5");
     let server = Server::start(
-        lockpoint(),
+        cmd,
         &db,
         &[
             "--backup-dir",
@@ -383,6 +390,7 @@ async fn a_server_backing_up_every_10s_keeps_two_private_checked_copies_with_eve
     );
     assert_eq!(copies(&dir).len(), 2);
     assert!(others(&dir).is_empty(), "{:?}", others(&dir));
+    assert!(others(&elsewhere).is_empty() && copies(&elsewhere).is_empty());
 
     let acked = acked.lock().unwrap().clone();
     let mut checked_writes = 0;
@@ -524,6 +532,23 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
     let dir = scratch.path("read-only");
     std::fs::create_dir(&dir).unwrap();
     new_shop(&db);
+    // An earlier copy, two days old: the first backup is due at start, and fails.
+    let earlier = dir.join("lockpoint-20200101-000000.db");
+    ok(
+        &[
+            "backup",
+            earlier.to_str().unwrap(),
+            "--db",
+            db.to_str().unwrap(),
+        ],
+        "",
+    );
+    std::fs::File::options()
+        .write(true)
+        .open(&earlier)
+        .unwrap()
+        .set_modified(SystemTime::now() - Duration::from_secs(2 * 86_400))
+        .unwrap();
     // Root writes into a 0555 folder anyway: the server then runs as an unprivileged account,
     // which owns the database but not the folder.
     let mut cmd = lockpoint();
@@ -568,7 +593,9 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
         !tech.contains("backup-notice"),
         "a tech sees the notice:\n{tech}"
     );
-    assert!(copies(&dir).is_empty() && others(&dir).is_empty());
+    // The earlier copy is kept, nothing half-written is left.
+    assert_eq!(copies(&dir), ["lockpoint-20200101-000000.db"]);
+    assert!(others(&dir).is_empty(), "{:?}", others(&dir));
 
     // The folder made writable: the next attempt (a period later) succeeds and the notice goes.
     std::fs::set_permissions(&dir, std::fs::Permissions::from_mode(0o777)).unwrap();
@@ -581,10 +608,12 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
         assert!(Instant::now() < deadline, "the notice stayed:\n{counter}");
         std::thread::sleep(Duration::from_millis(200));
     }
-    assert_eq!(copies(&dir).len(), 1);
+    let now = copies(&dir);
+    assert_eq!(now.len(), 2, "{now:?}");
+    assert_eq!(now[0], "lockpoint-20200101-000000.db");
     let page = server.page("/backup", &boss);
     assert!(!page.contains("▲ failing"), "{page}");
-    assert!(page.contains(&copies(&dir)[0]), "{page}");
+    assert!(page.contains(&now[1]), "{page}");
     server.kill();
 }
 
@@ -647,6 +676,9 @@ async fn a_folder_that_disappears_is_reported_and_the_counter_notice_shows_for_a
     let counter = boss.get("/").await.body;
     assert!(!counter.contains("backup-notice"), "{counter}");
     assert_eq!(app.count("backup_schedule").await, 1);
+    // The folder and the database are both under the system's temporary folder.
+    let page = boss.get("/backup").await.body;
+    assert!(page.contains("on the same disk as the database"), "{page}");
 
     // The drive is pulled.
     std::fs::remove_dir_all(&dir).unwrap();
