@@ -118,10 +118,11 @@ impl Backups {
         }
     }
 
-    /// What the counter tells admins now.
-    pub fn alarm(&self) -> Alarm {
+    /// What the counter tells admins now, and the period in force (`None`: no folder).
+    pub fn alarm(&self) -> (Alarm, Option<plan::Every>) {
         let state = lock(&self.state);
-        plan::alarm(state.plan.as_ref(), &state.record, Timestamp::now())
+        let alarm = plan::alarm(state.plan.as_ref(), &state.record, Timestamp::now());
+        (alarm, state.plan.as_ref().map(|p| p.every))
     }
 
     /// Starts a copy now (the admin's "Back up now"); refused while one runs or when no folder

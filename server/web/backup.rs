@@ -100,7 +100,10 @@ impl ScheduleView {
             running_since: s.record.running_since.map(|t| zone.show_time(t)),
             next_due: s.plan.as_ref().and(s.next_due).map(|t| zone.show_time(t)),
             same_disk: s.same_disk == Some(true),
-            notice: notice(&backups.alarm(), s.plan.as_ref().map(|p| p.every), zone),
+            notice: {
+                let (alarm, every) = backups.alarm();
+                notice(&alarm, every, zone)
+            },
         }
     }
 }
@@ -134,8 +137,8 @@ pub fn counter_notice(
     if !user.is_admin() {
         return None;
     }
-    let every = backups.snapshot().plan.map(|p| p.every);
-    notice(&backups.alarm(), every, zone)
+    let (alarm, every) = backups.alarm();
+    notice(&alarm, every, zone)
 }
 
 fn notice(alarm: &Alarm, every: Option<Every>, zone: &ShopZone) -> Option<CounterNotice> {
