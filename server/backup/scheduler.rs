@@ -150,35 +150,42 @@ impl Backups {
                 }
             };
             self.take_up(plan::resolve(&self.fixed, &stored));
-            let now = Timestamp::now();
-            let (plan, due) = {
-                let state = lock(&self.state);
-                (state.plan.clone(), state.next_due)
+            let Some(wait) = self.tick(&pool, Timestamp::now()) else {
+                continue;
             };
-            let mut wait = LOOK_AGAIN;
-            if let (Some(plan), Some(due)) = (plan, due) {
-                if due <= now {
-                    if self.begin(&pool, plan.clone()).is_ok() {
-                        continue;
-                    }
-                    // One is running: past a whole period that is a failure to report; before
-                    // that (the schedule was changed meanwhile) the next waits for it to end.
-                    let since = lock(&self.state).record.running_since;
-                    if since.is_none_or(|s| {
-                        s.checked_add(plan.every.span()).is_ok_and(|end| end <= now)
-                    }) {
-                        self.overran(&plan);
-                        continue;
-                    }
-                }
-                let left = Duration::try_from(due.duration_since(now)).unwrap_or(LOOK_AGAIN);
-                wait = left.clamp(Duration::from_millis(50), LOOK_AGAIN);
-            }
             tokio::select! {
                 () = tokio::time::sleep(wait) => {}
                 () = self.wake.notified() => {}
             }
         }
+    }
+
+    /// Starts the copy that is due at `now`, if one is; answers how long to sleep, or `None` to
+    /// look again at once (a copy was started, or an overrun reported).
+    fn tick(self: &Arc<Self>, pool: &SqlitePool, now: Timestamp) -> Option<Duration> {
+        let (plan, due) = {
+            let state = lock(&self.state);
+            (state.plan.clone(), state.next_due)
+        };
+        let (Some(plan), Some(due)) = (plan, due) else {
+            return Some(LOOK_AGAIN);
+        };
+        if due <= now {
+            if self.begin(pool, plan.clone()).is_ok() {
+                return None;
+            }
+            // One is running: past a whole period that is a failure to report; before that (the
+            // schedule was changed meanwhile) the next waits for it to end.
+            let since = lock(&self.state).record.running_since;
+            let overran =
+                since.is_none_or(|s| s.checked_add(plan.every.span()).is_ok_and(|end| end <= now));
+            if overran {
+                self.overran(&plan);
+                return None;
+            }
+        }
+        let left = Duration::try_from(due.duration_since(now)).unwrap_or(LOOK_AGAIN);
+        Some(left.clamp(Duration::from_millis(50), LOOK_AGAIN))
     }
 
     /// Puts `plan` in force. A new folder or period is taken up: leftovers of copies that never
@@ -437,4 +444,56 @@ fn device(path: &Path) -> Option<u64> {
 
 fn lock<T>(m: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
     m.lock().unwrap_or_else(std::sync::PoisonError::into_inner)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A copy still running when the next is due is a reported failure once a whole period has
+    /// passed since it began, and nothing (the next waits) before that; no second copy starts.
+    #[tokio::test]
+    async fn a_copy_running_past_its_period_is_reported_and_no_second_one_starts() {
+        let dir = std::env::temp_dir().join(format!("lockpoint-overrun-{}", std::process::id()));
+        fs::create_dir_all(&dir).unwrap();
+        let db = dir.join("shop.db");
+        let pool = crate::db::open(&db).await.unwrap();
+        let backups = Backups::new(Fixed::default(), &db);
+        let every = plan::Every::parse("10s").unwrap();
+        backups.take_up(Some(Plan {
+            dir: dir.clone(),
+            every,
+            keep: 2,
+        }));
+        let now = Timestamp::now();
+        // A copy holds the turn, begun 3 s ago; the schedule says the next is due.
+        let turn = Arc::clone(&backups.running).try_lock_owned().unwrap();
+        {
+            let mut state = lock(&backups.state);
+            state.record.running_since = Some(now - jiff::SignedDuration::from_secs(3));
+            state.next_due = Some(now - jiff::SignedDuration::from_secs(1));
+        }
+        let wait = backups.tick(&pool, now);
+        assert!(wait.is_some(), "waits for the running copy");
+        assert!(!lock(&backups.state).record.failing);
+        // Begun a whole period ago: reported, and the next is due a period from now.
+        lock(&backups.state).record.running_since = Some(now - every.span());
+        assert_eq!(backups.tick(&pool, now), None);
+        {
+            let state = lock(&backups.state);
+            assert!(state.record.failing);
+            let reason = &state.record.last_failure.as_ref().unwrap().reason;
+            assert!(
+                reason.contains("still running after a whole period (10s)"),
+                "{reason}"
+            );
+            assert!(state.next_due.unwrap() > now);
+        }
+        assert!(backups.alarm().0 != Alarm::Quiet);
+        // Nothing was written while the turn was held.
+        assert!(list(&dir).unwrap().is_empty());
+        drop(turn);
+        pool.close().await;
+        let _ = fs::remove_dir_all(&dir);
+    }
 }
