@@ -13,6 +13,10 @@
 //!   the current database as `<db>.before-restore-<unix time>`, and only then renames the staged
 //!   copy into place.
 
+pub mod plan;
+pub mod scheduler;
+pub mod verify;
+
 use std::ffi::OsString;
 use std::fs::{self, File, OpenOptions};
 use std::io;

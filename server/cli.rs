@@ -4,7 +4,7 @@ use std::io::{BufRead, IsTerminal, Write};
 
 use tokio::net::TcpListener;
 
-use crate::config::{Cli, Command, RoleArg, ServeArgs, TokenCommand, UserCommand};
+use crate::config::{BackupCommand, Cli, Command, RoleArg, ServeArgs, TokenCommand, UserCommand};
 use crate::db;
 use crate::progress::Progress;
 use crate::records::user::Role;
@@ -79,7 +79,33 @@ pub async fn run(cli: Cli) -> Result<(), CliError> {
             eprintln!("revoked {revoked} token(s)");
             Ok(())
         }
-        Command::Backup { file, db } => {
+        Command::Backup {
+            action: Some(BackupCommand::Verify { file }),
+            ..
+        } => {
+            let found = backup::verify::verify(&file).await?;
+            println!("{}: a sound Lockpoint backup", file.display());
+            println!("  shop: {}", found.shop_name);
+            println!(
+                "  customers: {}, builds: {}, cover heights: {}, passes: {}",
+                found.customers, found.builds, found.cover_heights, found.passes
+            );
+            println!(
+                "  newest record: {}",
+                found.newest_record.as_deref().unwrap_or("none")
+            );
+            println!(
+                "  {} bytes, {} tables, migration {}; integrity check ok",
+                found.checked.bytes, found.checked.tables, found.checked.version
+            );
+            Ok(())
+        }
+        Command::Backup {
+            action: None,
+            file,
+            db,
+        } => {
+            let file = file.ok_or("give the backup file to write")?;
             let done = backup::backup_file(&db, &file, &mut Progress::on_terminal()).await?;
             println!(
                 "backed up {} to {} ({} bytes, {} tables, migration {}); integrity check ok",
@@ -181,9 +207,11 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);
+    let state = AppState::with_backups(pool.clone(), args.backup_fixed())
+        .with_public_url(args.public_url.clone());
     crate::web::http::serve::run(
         listener,
-        app(AppState::new(pool.clone()).with_public_url(args.public_url.clone())),
+        app(state),
         shutdown,
         crate::web::http::serve::Limits::for_this_process(),
     )

@@ -5,6 +5,8 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 
+use crate::backup::plan::{self, Every};
+
 /// Lockpoint: clutch build records, engineering and setup sheets for a race shop.
 #[derive(Debug, Parser)]
 #[command(name = "lockpoint", version, about)]
@@ -23,11 +25,15 @@ pub enum Command {
     /// Manage API bearer tokens.
     #[command(subcommand)]
     Token(TokenCommand),
-    /// Copy the database to a new file, safely while the server runs, and check the copy.
+    /// Copy the database to a new file, safely while the server runs, and check the copy
+    /// (`lockpoint backup verify FILE` checks a backup).
+    #[command(args_conflicts_with_subcommands = true, subcommand_negates_reqs = true)]
     Backup {
+        #[command(subcommand)]
+        action: Option<BackupCommand>,
         /// The backup file to write (must not exist yet).
-        #[arg(value_name = "PATH")]
-        file: PathBuf,
+        #[arg(value_name = "PATH", required = true)]
+        file: Option<PathBuf>,
         /// The SQLite database file to copy (it must exist).
         #[arg(long = "db", env = "LOCKPOINT_DB", default_value = "lockpoint.db")]
         db: PathBuf,
@@ -70,6 +76,18 @@ pub enum Command {
     },
 }
 
+#[derive(Debug, Subcommand)]
+pub enum BackupCommand {
+    /// Check a backup file without changing it: SQLite's integrity check, a Lockpoint
+    /// database no newer than this program; prints the shop's name and what it holds. Exits
+    /// non-zero, with the reason, when the file is not a sound backup.
+    Verify {
+        /// The backup file to check.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+    },
+}
+
 /// Where the SQLite database file lives.
 #[derive(Debug, Clone, Args)]
 pub struct DbArg {
@@ -93,6 +111,33 @@ pub struct ServeArgs {
     /// when it starts with `https://` the session cookie is marked `Secure`.
     #[arg(long, env = "LOCKPOINT_PUBLIC_URL", value_name = "URL", value_parser = public_url)]
     pub public_url: Option<String>,
+    /// Copy the database into this folder by itself (full path; a second disk, a USB drive, a
+    /// mounted network share). Never created: a missing folder is reported. Wins over the
+    /// folder chosen under Settings → Backups.
+    #[arg(long, env = "LOCKPOINT_BACKUP_DIR", value_name = "DIR", value_parser = backup_dir)]
+    pub backup_dir: Option<PathBuf>,
+    /// How often: 30s, 15m, 6h, 1d (at least 10s; default 1d, or what Settings says).
+    #[arg(long, env = "LOCKPOINT_BACKUP_EVERY", value_name = "DURATION", value_parser = Every::parse)]
+    pub backup_every: Option<Every>,
+    /// How many scheduled copies to keep in the folder (default 14, or what Settings says).
+    #[arg(long, env = "LOCKPOINT_BACKUP_KEEP", value_name = "N", value_parser = plan::parse_keep)]
+    pub backup_keep: Option<u32>,
+}
+
+impl ServeArgs {
+    /// The backup values given at start (each wins over the stored schedule).
+    pub fn backup_fixed(&self) -> plan::Fixed {
+        plan::Fixed {
+            dir: self.backup_dir.clone(),
+            every: self.backup_every,
+            keep: self.backup_keep,
+        }
+    }
+}
+
+/// A backup folder given at start: its full path.
+fn backup_dir(text: &str) -> Result<PathBuf, String> {
+    plan::parse_dir(text)?.ok_or_else(|| "give the folder's full path".to_string())
 }
 
 /// An `http://` or `https://` address with a host and nothing after the host but an optional

@@ -4,6 +4,7 @@
 
 pub mod activity;
 pub mod audit;
+pub mod backup_schedule;
 pub mod bench;
 pub mod builds;
 pub mod cars;

@@ -26,6 +26,8 @@ use tower_http::set_header::SetResponseHeaderLayer;
 use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
+use crate::backup::plan::Fixed;
+use crate::backup::scheduler::Backups;
 use http::routes::{Access, RouteInfo, Routes, get, post};
 pub use pages::login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
 
@@ -40,21 +42,40 @@ pub struct AppState {
     pub public_url: Option<Arc<str>>,
     /// Data-log files sent and waiting for their column mapping (memory only).
     pub staged_logs: Arc<pages::passes::Staging>,
-    /// Sessions and rendered pages reused while nothing has been committed (`web::http::cache`).
+    /// Sessions and rendered pages reused while nothing has been committed (`web::cache`).
     pub cache: Arc<http::cache::Cache>,
+    /// The scheduled backups and what they did (`crate::backup::scheduler`).
+    pub backups: Arc<Backups>,
 }
 
 impl AppState {
-    /// The state of a server on `pool`; starts the cache's watcher, so it needs a Tokio runtime.
+    /// The state of a server on `pool`; starts the cache's watcher and the backup schedule
+    /// (as stored under Settings), so it needs a Tokio runtime.
     pub fn new(pool: SqlitePool) -> Self {
+        Self::with_backups(pool, Fixed::default())
+    }
+
+    /// The same, with the backup values given at start (`serve --backup-*`), which win over
+    /// the stored schedule.
+    pub fn with_backups(pool: SqlitePool, fixed: Fixed) -> Self {
         let cache = Arc::new(http::cache::Cache::default());
         http::cache::watch(Arc::downgrade(&cache), &pool);
+        let backups = Backups::new(fixed, pool.connect_options().get_filename());
+        // What the counter says about the backups is part of its cached page.
+        let pages = Arc::downgrade(&cache);
+        backups.on_change(move || {
+            if let Some(pages) = pages.upgrade() {
+                pages.changed();
+            }
+        });
+        backups.start(pool.clone());
         Self {
             pool,
             sign_ins: Arc::new(Semaphore::new(pages::login::SIGN_IN_SLOTS)),
             public_url: None,
             staged_logs: pages::passes::staging(),
             cache,
+            backups,
         }
     }
 
@@ -296,6 +317,16 @@ fn pages() -> Routes {
             Admin,
             "/backup/download",
             get(pages::admin::backup::download),
+        )
+        .route(
+            Admin,
+            "/backup/schedule",
+            post(pages::admin::backup::save_schedule),
+        )
+        .route(
+            Admin,
+            "/backup/now",
+            post(pages::admin::backup::back_up_now),
         )
         .route(
             Admin,

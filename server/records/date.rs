@@ -100,6 +100,16 @@ impl ShopZone {
         self.0.iana_name().unwrap_or("UTC")
     }
 
+    /// The shop's wall-clock time at the moment `t`.
+    pub fn civil(&self, t: jiff::Timestamp) -> jiff::civil::DateTime {
+        t.to_zoned(self.0.clone()).datetime()
+    }
+
+    /// The moment `t` as the shop reads it, to the second (`2026-11-02 04:00:09`).
+    pub fn show_time(&self, t: jiff::Timestamp) -> String {
+        self.civil(t).strftime("%Y-%m-%d %H:%M:%S").to_string()
+    }
+
     /// A stored UTC stamp (`2026-11-02T10:00:00Z`) as the shop's local date and time
     /// (`2026-11-02 04:00`); text that is not a stamp is returned as it is.
     pub fn local_stamp(&self, utc: &str) -> String {

@@ -450,6 +450,10 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
             ("password".into(), "long enough password".into()),
             ("role".into(), "tech".into()),
         ],
+        // No folder: a valid schedule that starts no copies during the test.
+        "/backup/schedule" => pairs(&[("dir", ""), ("every", "1d"), ("keep", "14")]),
+        // No folder chosen: answered with a note saying so.
+        "/backup/now" => Vec::new(),
         "/users/{id}/password" => pairs(&[("password", "another long password")]),
         "/users/{id}/display-name" => pairs(&[("display_name", "Counter staff")]),
         // The upload is multipart: a form body here is refused as not from the upload form.

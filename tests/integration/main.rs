@@ -16,6 +16,7 @@ mod migrations;
 mod plans;
 mod records;
 mod routes;
+mod scheduled_backups;
 mod search;
 mod serving;
 mod sheets;

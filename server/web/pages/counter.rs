@@ -5,6 +5,7 @@ use axum::extract::{Query, RawQuery, State};
 use axum::response::Html;
 use sqlx::SqliteConnection;
 
+use crate::backup::scheduler::Backups;
 use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
@@ -15,6 +16,7 @@ use crate::status;
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::CurrentUser;
+use crate::web::pages::admin::backup::{CounterNotice, counter_notice};
 use crate::web::pages::builds::wear;
 use crate::web::pages::customers::customer::ListQuery;
 use crate::web::pages::layout::Layout;
@@ -29,6 +31,8 @@ pub struct FrontPage {
     pub found_total: i64,
     pub recent: Vec<Activity>,
     pub due: Vec<Due>,
+    /// Admins only: backups not scheduled, failing or old (see `backup::counter_notice`).
+    pub backup_notice: Option<CounterNotice>,
 }
 
 impl FrontPage {
@@ -103,9 +107,12 @@ pub async fn front(
 ) -> AppResult<Html<String>> {
     let key = PageKey::Counter(raw.unwrap_or_default());
     let pool = &state.pool;
+    let backups = &state.backups;
+    // The backup notice is part of the page kept for the role: every change to what it says
+    // moves the cache's generation on (see `AppState::with_backups`).
     let render = |stand_in: CurrentUser| async move {
         let mut conn = pool.acquire().await?;
-        render_front(&mut conn, &stand_in, q).await
+        render_front(&mut conn, &stand_in, q, backups).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?))
 }
@@ -115,6 +122,7 @@ async fn render_front(
     conn: &mut SqliteConnection,
     user: &CurrentUser,
     q: ListQuery,
+    backups: &Backups,
 ) -> AppResult<(String, ShopZone)> {
     let (page, settings) = Layout::load(conn, user, "home", "Counter").await?;
     let (found, found_total) = if q.q.trim().is_empty() {
@@ -125,6 +133,7 @@ async fn render_front(
     let recent = db::activity::recent(conn, 12).await?;
     let due = status::work_due(conn, &settings).await?;
     let zone = page.zone.clone();
+    let backup_notice = counter_notice(backups, user, &zone);
     let page = FrontPage {
         page,
         q: q.q,
@@ -132,6 +141,7 @@ async fn render_front(
         found_total,
         recent,
         due,
+        backup_notice,
     };
     Ok((page.render()?, zone))
 }
