@@ -596,6 +596,35 @@ impl LaunchReport {
     }
 }
 
+impl LaunchReport {
+    /// The launch preview's slip in one sentence, for beside the capacity answer's launch
+    /// warning: how long the clutch slips and the heat it takes.
+    pub fn slip_text(&self) -> String {
+        match &self.lockup {
+            Some(l) => format!(
+                "The launch preview of this setting slips for {:.2} s before the clutch locks ({:.0} kJ into the clutch).",
+                l.time_s, self.slip_energy_kj
+            ),
+            None => {
+                let end = self.trace.last().map_or(0.0, |p| p.time_s);
+                let pulled_down = self
+                    .notes
+                    .iter()
+                    .any(|n| n.contains("leaves its torque curve"));
+                format!(
+                    "The launch preview of this setting is still slipping when its run ends at {end:.2} s{} ({:.0} kJ into the clutch by then).",
+                    if pulled_down {
+                        ", the engine pulled down below its torque curve"
+                    } else {
+                        ""
+                    },
+                    self.slip_energy_kj
+                )
+            }
+        }
+    }
+}
+
 /// POST /api/v1/calc/launch: checks the request, runs the launch, answers in its units.
 pub fn launch(req: &LaunchRequest) -> Result<LaunchReport, InputError> {
     let valid = req.validate()?;
