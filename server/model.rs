@@ -314,6 +314,9 @@ impl BuildFacts<'_> {
                     .filter(|_| b.spring_solid_height_mm.is_some())
                     .map(|l| l + base),
                 solid_height: self.installed_length_mm.and(b.spring_solid_height_mm),
+                release_travel: b.release_travel_mm,
+                bind_margin: Some(self.settings.bind_margin_mm),
+                adjuster_turns_each: None,
             },
             levers,
             engine: EngineInput {

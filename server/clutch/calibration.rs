@@ -673,6 +673,8 @@ mod tests {
                 base_compression_mm: 10.0,
                 pitch_mm: 0.0,
                 bind_compression_mm: None,
+                release_travel_mm: 0.0,
+                bind_margin_mm: 0.0,
             },
             adjuster_turns: 0.0,
             clamp_loss_n: 0.0,

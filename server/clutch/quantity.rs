@@ -342,6 +342,10 @@ pub mod limits {
     pub const SIXTY_FT: Limit = Limit::new(Seconds, Incl(0.5), Incl(10.0));
     pub const ET: Limit = Limit::new(Seconds, Incl(1.0), Incl(60.0));
     pub const PASSES: Limit = Limit::new(Count, Incl(0.0), Incl(100_000.0));
+    /// Further spring compression at full release (the pressure plate's lift at the springs).
+    pub const RELEASE_TRAVEL: Limit = Limit::new(Length, Incl(0.0), Incl(25.0));
+    /// Clearance to coil bind kept at full release.
+    pub const BIND_MARGIN: Limit = Limit::new(Length, Incl(0.0), Incl(5.0));
     pub const SPRING_FREE_LENGTH: Limit = Limit::new(Length, Excl(0.0), Incl(200.0));
     pub const SPRING_COMPRESSION: Limit = Limit::new(Length, Excl(0.0), Incl(100.0));
     pub const SPRING_FORCE: Limit = Limit::new(Force, Excl(0.0), Incl(50_000.0));
@@ -472,6 +476,8 @@ mod tests {
             ET,
             PASSES,
             SPRING_FREE_LENGTH,
+            RELEASE_TRAVEL,
+            BIND_MARGIN,
             SPRING_COMPRESSION,
             SPRING_FORCE,
             OVERCLAMP_FACTOR,

@@ -35,7 +35,16 @@ pub struct SpringPack {
     pub pitch_mm: f64,
     /// Compression at which the coils touch (free length − solid height), mm, when known.
     pub bind_compression_mm: Option<f64>,
+    /// Further compression when the clutch is fully released (the plate lifts), mm; 0 when
+    /// unknown.
+    pub release_travel_mm: f64,
+    /// Clearance to coil bind to keep at full release, mm.
+    pub bind_margin_mm: f64,
 }
+
+/// Clearance to coil bind kept at full release unless the request or the shop says otherwise,
+/// mm: 0.5 mm (0.0197 in) in both unit systems (common shop practice, no published source).
+pub const DEFAULT_BIND_MARGIN_MM: f64 = 0.5;
 
 impl SpringPack {
     /// Spring compression, mm: base + turns × pitch (each turn adds one pitch).
@@ -48,13 +57,33 @@ impl SpringPack {
         self.rate_n_per_mm * self.compression_mm(turns)
     }
 
-    /// Adjuster turns at which the springs reach solid height (coil bind): (x_bind − x_base) /
-    /// pitch. `None` when the solid height or the pitch is unknown; 0 when they are already
-    /// solid at zero turns. Past it the spring is no longer a spring: load rises without limit
-    /// and the coils or the adjusters are damaged.
+    /// Most adjuster turns that keep the bind margin with the clutch fully released:
+    /// (x_bind − x_base − release travel − margin) / pitch, floored at 0. `None` when the solid
+    /// height or the pitch is unknown. Releasing the clutch compresses the springs further, so
+    /// the clearance that matters is the one left at full release; past solid height the spring
+    /// is no longer a spring: load rises without limit and the coils, adjusters or cover can be
+    /// damaged.
     pub fn coil_bind_turns(&self) -> Option<f64> {
         let bind = self.bind_compression_mm?;
-        (self.pitch_mm > 0.0).then(|| ((bind - self.base_compression_mm) / self.pitch_mm).max(0.0))
+        (self.pitch_mm > 0.0).then(|| {
+            ((bind - self.base_compression_mm - self.release_travel_mm - self.bind_margin_mm)
+                / self.pitch_mm)
+                .max(0.0)
+        })
+    }
+
+    /// Clearance to coil bind at full release, mm: x_bind − (x_base + turns·pitch + release
+    /// travel); negative past bind. `None` without the solid height.
+    pub fn coil_bind_clearance_mm(&self, turns: f64) -> Option<f64> {
+        let bind = self.bind_compression_mm?;
+        Some(bind - (self.compression_mm(turns) + self.release_travel_mm))
+    }
+
+    /// Whether `turns` leaves less than the bind margin at full release (the rule the answer
+    /// warns by and every per-adjuster check uses). False without the solid height.
+    pub fn short_of_margin(&self, turns: f64) -> bool {
+        self.coil_bind_clearance_mm(turns)
+            .is_some_and(|c| c < self.bind_margin_mm - 1e-9)
     }
 
     /// Static clamp of all springs acting in parallel, N: count × k × x
@@ -239,11 +268,45 @@ mod tests {
             base_compression_mm: 5.0,
             pitch_mm: 1.5875,
             bind_compression_mm: Some(12.0),
+            release_travel_mm: 0.0,
+            bind_margin_mm: 0.0,
         };
         assert!((pack.compression_mm(2.0) - 8.175).abs() < 1e-12);
         assert!((pack.static_clamp_n(2.0) - 6.0 * 60.0 * 8.175).abs() < 1e-9);
         // [D] coils touch at 12 mm of compression: (12 − 5)/1.5875 = 4.409 turns.
         assert!((pack.coil_bind_turns().unwrap() - 7.0 / 1.5875).abs() < 1e-12);
+    }
+
+    // Worked check of issue 21 [derived from the stated rule]: free 2.100 in, solid 1.600 in,
+    // base 0.220 in, 16 TPI (0.0625 in per turn), release travel 0.050 in, margin 0.020 in:
+    // (0.500 − 0.220 − 0.050 − 0.020) × 16 = 3.36 turns; at 3.36 turns the released clearance
+    // is the margin, 0.020 in; at 3.5 turns it is 0.020 − 0.14·0.0625 = 0.01125 in, short.
+    #[test]
+    fn coil_bind_turns_keep_the_margin_at_full_release() {
+        let inch = crate::units::MM_PER_IN;
+        let pack = SpringPack {
+            count: 6,
+            rate_n_per_mm: 60.0,
+            base_compression_mm: 0.220 * inch,
+            pitch_mm: 0.0625 * inch,
+            bind_compression_mm: Some((2.100 - 1.600) * inch),
+            release_travel_mm: 0.050 * inch,
+            bind_margin_mm: 0.020 * inch,
+        };
+        let t = pack.coil_bind_turns().expect("known");
+        assert!((t - 3.36).abs() < 1e-9, "{t}");
+        let c = pack.coil_bind_clearance_mm(3.36).expect("known") / inch;
+        assert!((c - 0.020).abs() < 1e-9, "{c}");
+        assert!(!pack.short_of_margin(3.36));
+        let c = pack.coil_bind_clearance_mm(3.5).expect("known") / inch;
+        assert!((c - 0.01125).abs() < 1e-9, "{c}");
+        assert!(pack.short_of_margin(3.5));
+        // Floored at 0 when even zero turns leave less than the margin.
+        let tight = SpringPack {
+            release_travel_mm: 0.3 * inch,
+            ..pack
+        };
+        assert_eq!(tight.coil_bind_turns(), Some(0.0));
     }
 
     #[test]

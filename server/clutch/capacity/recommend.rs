@@ -306,10 +306,11 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         req.limits.max_adjuster_turns,
         upper(limits::ADJUSTER_TURNS.max),
     )?;
-    // Settings at or past coil bind are not settings: the grid stops short of it.
+    // Settings that leave less than the bind margin at full release are not settings: the
+    // grid stops at coil_bind_turns (0 turns always stays, with its warning if it is short).
     if let Some(bind) = valid.model.springs.coil_bind_turns() {
-        let below = ((bind / turn_step) * (1.0 - 1e-12)).ceil().max(1.0) as usize;
-        turns_n = turns_n.min(below);
+        let within = ((bind / turn_step) * (1.0 + 1e-12)).floor() as usize + 1;
+        turns_n = turns_n.min(within);
     }
     let (weight_step, weights) = grid(
         "steps.counterweight_g",

@@ -107,6 +107,18 @@ pub struct SpringsInput {
     /// Solid height of the springs, coils touching (in / mm), with `free_length`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub solid_height: Option<f64>,
+    /// Further spring compression at full release (in / mm): the pressure plate's lift at the
+    /// springs. Absent: counted as 0, and the answer's notes say so.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub release_travel: Option<f64>,
+    /// Clearance to coil bind to keep at full release (in / mm; default 0.5 mm = 0.0197 in,
+    /// common shop practice, no published source).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bind_margin: Option<f64>,
+    /// Turns of each adjuster when they were set one by one: each is checked against coil
+    /// bind by the same rule as `adjuster_turns`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub adjuster_turns_each: Option<Vec<f64>>,
 }
 
 fn is_zero(v: &f64) -> bool {
@@ -168,6 +180,10 @@ pub struct ValidRequest {
     pub overclamp_factor: f64,
     /// Facing material, if given.
     pub material: Option<FacingMaterial>,
+    /// Turns of each adjuster, when given.
+    pub adjuster_turns_each: Vec<f64>,
+    /// Plain-English notes on the inputs (assumed values).
+    pub notes: Vec<String>,
 }
 
 /// A bound that reads as a round number in each system: (imperial, metric).
@@ -194,6 +210,8 @@ impl CapacityRequest {
         r.springs.clamp_loss = force(r.springs.clamp_loss);
         r.springs.free_length = r.springs.free_length.map(len);
         r.springs.solid_height = r.springs.solid_height.map(len);
+        r.springs.release_travel = r.springs.release_travel.map(len);
+        r.springs.bind_margin = r.springs.bind_margin.map(len);
         if let Some(l) = r.levers.as_mut() {
             l.cg_radius = l.cg_radius.map(len);
             l.body_cg_radius = l.body_cg_radius.map(len);
@@ -273,6 +291,25 @@ impl CapacityRequest {
             )?),
             None => None,
         };
+        let adjuster_turns_each = match &self.springs.adjuster_turns_each {
+            Some(each) => {
+                crate::capacity::clamp::check_adjusters(each, "springs.adjuster_turns_each")
+                    .map(|_| each.clone())?
+            }
+            None => Vec::new(),
+        };
+        let mut notes = Vec::new();
+        if springs.bind_compression_mm.is_some() {
+            if self.springs.release_travel.is_none() {
+                notes.push("No release travel was given: it counts as 0, so the coil-bind figures hold for the engaged clutch only. Measure how far the springs compress further at full release and enter it.".to_string());
+            }
+            if self.springs.bind_margin.is_none() {
+                notes.push(format!(
+                    "The clearance kept to coil bind is the default {} (common shop practice).",
+                    crate::quantity::Kind::Length.show(u, springs.bind_margin_mm)
+                ));
+            }
+        }
         let overclamp_factor = match self.overclamp_factor {
             Some(f) => limits::OVERCLAMP_FACTOR.check("overclamp_factor", f, u)?,
             None => DEFAULT_OVERCLAMP_FACTOR,
@@ -295,6 +332,8 @@ impl CapacityRequest {
             rated_torque_nm,
             overclamp_factor,
             material: self.friction.material,
+            adjuster_turns_each,
+            notes,
         })
     }
 
@@ -315,6 +354,14 @@ impl CapacityRequest {
                 u,
             )?,
             bind_compression_mm: self.bind_compression_mm()?,
+            release_travel_mm: match s.release_travel {
+                Some(r) => limits::RELEASE_TRAVEL.check_shown("springs.release_travel", r, u)?,
+                None => 0.0,
+            },
+            bind_margin_mm: match s.bind_margin {
+                Some(m) => limits::BIND_MARGIN.check_shown("springs.bind_margin", m, u)?,
+                None => crate::capacity::clamp::DEFAULT_BIND_MARGIN_MM,
+            },
         })
     }
 
