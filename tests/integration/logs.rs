@@ -57,7 +57,13 @@ async fn the_worked_file_answers_as_the_contract_documents() {
                "clutch_torque": 600.0, "slip_power_kw": 377.0})
     );
     assert_eq!(v["trace"].as_array().unwrap().len(), 101);
-    assert_eq!(v["notes"], json!([]));
+    // Issue 21, item 5: with "auto" the notes say which rule decided the time unit.
+    assert_eq!(
+        v["notes"],
+        json!([
+            "The time column was read in seconds: nothing names ms, its median step (0.01) is below 0.5 and it spans 1, not more than 600."
+        ])
+    );
     // Without the engine: the events, but no torque or energy.
     let mut body = calc_body(worked_csv());
     body.as_object_mut().unwrap().remove("engine");

@@ -12,8 +12,9 @@
 //! - clutch torque from the engine side, T_c = T_e(N_e) − I_e·dω_e/dt, the derivative by a
 //!   centred quadratic Savitzky–Golay filter over the smallest odd number of samples spanning
 //!   60 ms (at least 5) ([`crate::datalog::savgol`]);
-//! - slip power P = T_c·max(0, ω_e − ω_in); slip energy the trapezoid sum of P from the first
-//!   sample at or after launch to the end of the lockup's hold window;
+//! - slip power P = T_c·max(0, ω_e − ω_in); slip energy the trapezoid sum of P from the launch
+//!   instant (P there interpolated between the samples around it; a sample within 1e-9 s of it
+//!   is the launch sample) to the end of the lockup's hold window;
 //! - tyre spin where the driven wheels run more than 15 % faster than the undriven ones for at
 //!   least 50 ms.
 //!
@@ -199,10 +200,64 @@ pub fn median(values: &mut [f64]) -> Option<f64> {
     }
 }
 
-/// Whether a clock in a file given in unknown units is in milliseconds: its median step is
-/// 0.5 or more (a logger at 2 Hz or faster in seconds steps by less).
+/// A time span no pass lasts, in the file's own units: a clock spanning more than this is in
+/// milliseconds (600 s is ten minutes).
+pub const MS_SPAN: f64 = 600.0;
+
+/// Which rule decided the unit of a clock given in unknown units.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ClockRule {
+    /// The header or units line names milliseconds.
+    Named,
+    /// The median step is 0.5 or more (a logger at 2 Hz or faster in seconds steps by less).
+    Step,
+    /// The clock spans more than [`MS_SPAN`] (no pass lasts ten minutes).
+    Span,
+    /// None of those: seconds.
+    Seconds,
+}
+
+impl ClockRule {
+    /// Whether the clock is in milliseconds.
+    pub fn is_ms(self) -> bool {
+        self != Self::Seconds
+    }
+}
+
+/// The unit of a clock given in unknown units: milliseconds when `named_ms` (the header or
+/// units line says so), when its median step is 0.5 or more, or when it spans more than
+/// [`MS_SPAN`]; otherwise seconds.
+pub fn clock_rule(time: &[f64], named_ms: bool) -> ClockRule {
+    let span = match (time.first(), time.last()) {
+        (Some(a), Some(b)) => b - a,
+        _ => 0.0,
+    };
+    if named_ms {
+        ClockRule::Named
+    } else if median_step(time) >= 0.5 {
+        ClockRule::Step
+    } else if span > MS_SPAN {
+        ClockRule::Span
+    } else {
+        ClockRule::Seconds
+    }
+}
+
+/// Whether a clock in a file given in unknown units is in milliseconds, by the step and span
+/// rules of [`clock_rule`] (no names to go by).
 pub fn looks_like_ms(time: &[f64]) -> bool {
-    median_step(time) >= 0.5
+    clock_rule(time, false).is_ms()
+}
+
+/// Whether a column name or a units cell names milliseconds ("time_ms", "Time (ms)", "msec",
+/// "millis", "milliseconds"): one of its words is such a name.
+pub fn names_ms(text: &str) -> bool {
+    text.split(|c: char| !c.is_ascii_alphanumeric()).any(|w| {
+        matches!(
+            w.to_ascii_lowercase().as_str(),
+            "ms" | "msec" | "msecs" | "millis" | "millisecond" | "milliseconds"
+        )
+    })
 }
 
 /// Puts every channel on a uniform clock: when the steps already agree within 1 % of their
@@ -497,6 +552,39 @@ pub fn clutch_torque(series: &Series, dt: f64, engine: &EngineModel) -> (Vec<f64
     (torque, outside)
 }
 
+/// A sample this close to the launch instant, s, is the launch sample (floating-point
+/// rounding of the launch must not decide whether it counts).
+pub const LAUNCH_SAMPLE_S: f64 = 1e-9;
+
+/// Slip energy, J, and peak slip power, W, from the launch instant to sample `last`: the
+/// trapezoid sum over the samples from `first` (the first sample at or after the launch, see
+/// [`LAUNCH_SAMPLE_S`]), plus, when the launch falls between samples, the trapezoid from the
+/// launch to `first` with the power at the launch interpolated linearly between the samples
+/// around it. `power` is the slip power at every sample (before the launch too).
+pub fn slip_energy(
+    t: &[f64],
+    power: &[f64],
+    launch_s: f64,
+    first: usize,
+    last: usize,
+) -> (f64, f64) {
+    let mut energy: f64 = (first..last)
+        .map(|i| 0.5 * (power[i] + power[i + 1]) * (t[i + 1] - t[i]))
+        .sum();
+    let mut peak = power[first..=last]
+        .iter()
+        .copied()
+        .fold(f64::NEG_INFINITY, f64::max);
+    if first > 0 && t[first] - launch_s > LAUNCH_SAMPLE_S {
+        let (t0, t1) = (t[first - 1], t[first]);
+        let f = ((launch_s - t0) / (t1 - t0)).clamp(0.0, 1.0);
+        let at_launch = power[first - 1] + f * (power[first] - power[first - 1]);
+        energy += 0.5 * (at_launch + power[first]) * (t1 - launch_s);
+        peak = peak.max(at_launch);
+    }
+    (energy, peak)
+}
+
 /// Analyses a log on a uniform clock (see [`to_uniform_clock`]); `dt` is its step, s.
 /// Errors: too few samples (field `csv`), no launch, no lockup (field of the channel).
 pub fn analyze(
@@ -538,7 +626,8 @@ pub fn analyze(
         )
     })?;
     let eps = 1e-9 * t[n - 1].max(1.0);
-    let first = t.partition_point(|&x| x < launch_s - eps);
+    // A sample within 1e-9 s of the launch is the launch sample.
+    let first = t.partition_point(|&x| x < launch_s - LAUNCH_SAMPLE_S);
     let launch_engine_rpm = value_at(t, &series.engine_rpm, launch_s);
     let lockup_engine_rpm = value_at(t, &series.engine_rpm, lockup_s);
     let min_engine_rpm = (first..=last)
@@ -553,23 +642,18 @@ pub fn analyze(
                     "The engine speed left the torque curve at {outside} sample(s); the curve's end values were used there."
                 ));
             }
-            // The clutch carries nothing before the launch: no slip power there.
-            let p: Vec<f64> = (0..n)
+            let raw: Vec<f64> = (0..n)
                 .map(|i| {
-                    if i < first {
-                        return 0.0;
-                    }
                     let slip_w = rpm_to_rad_s(series.engine_rpm[i] - series.input_rpm[i]);
                     tc[i] * slip_w.max(0.0)
                 })
                 .collect();
-            let energy: f64 = (first..last)
-                .map(|i| 0.5 * (p[i] + p[i + 1]) * (t[i + 1] - t[i]))
-                .sum();
-            let peak = p[first..=last]
-                .iter()
-                .copied()
-                .fold(f64::NEG_INFINITY, f64::max);
+            let (energy, peak) = slip_energy(t, &raw, launch_s, first, last);
+            // The clutch carries nothing before the launch: no slip power there.
+            let mut p = raw;
+            for v in &mut p[..first] {
+                *v = 0.0;
+            }
             (Some(tc), Some(p), Some(energy), Some(peak))
         }
         None => {

@@ -267,6 +267,26 @@ fn a_clock_too_uneven_to_resample_is_refused() {
     assert!(to_uniform_clock(&mut s).is_none());
 }
 
+// Issue 21, item 4: a launch on a sample to floating-point precision counts that sample whichever
+// way the last bit falls (within 1e-9 s); a launch between samples adds the trapezoid from the
+// launch, its power interpolated [derived: power 100 → 80 W over 0–1 s, launch at 0.25 s:
+// P = 95 W, piece 0.5 × (95 + 80) × 0.75 = 65.625 J, then 0.5 × (80 + 60) × 1 = 70 J].
+#[test]
+fn slip_energy_starts_at_the_launch_instant() {
+    let t = [0.0, 1.0, 2.0];
+    let p = [100.0, 80.0, 60.0];
+    let (e, peak) = slip_energy(&t, &p, 0.25, 1, 2);
+    assert!((e - 135.625).abs() < 1e-12, "{e}");
+    assert_eq!(peak, 95.0);
+    let on = slip_energy(&t, &p, 1.0, 1, 2);
+    for jitter in [1.0 - 1e-15, 1.0 + 1e-15, 1.0 - 5e-10] {
+        let first = t.partition_point(|&x| x < jitter - LAUNCH_SAMPLE_S);
+        assert_eq!(first, 1);
+        assert_eq!(slip_energy(&t, &p, jitter, first, 2), on, "{jitter}");
+    }
+    assert_eq!(on, (70.0, 80.0));
+}
+
 #[test]
 fn millisecond_clocks_are_told_from_seconds_by_the_median_step() {
     assert!(looks_like_ms(&[0.0, 1.0, 2.0, 3.0]));
