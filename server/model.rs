@@ -283,6 +283,8 @@ impl BuildFacts<'_> {
                 .is_none()
                 .then_some(b.lever_body_cg_radius_mm)
                 .flatten(),
+            body_arm_ratio: None,
+            body_force_at_1000: None,
         });
         let (lo, hi) = curve_range(&car.torque_curve_nm);
         let launch_rpm = car.launch_rpm.filter(|rpm| (lo..=hi).contains(rpm));

@@ -80,6 +80,62 @@ fn lever_body_radius_is_optional_and_needs_geometry() {
     );
 }
 
+// Issue 21, item 3: the body on its own arm. The example's 12 g lever body at 2.05 in on an arm
+// ratio of 1.3 (half the weight's 2.6) counts as 12 × (2.05/4.1) × (1.3/2.6) = 3 g at the weight
+// [derived], so the centrifugal clamp is (24 + 3)/36 of the plain one. Absent, or equal to the
+// weight's, the answer is unchanged bit for bit. In the gain form a measured body force at
+// 1000 rpm replaces gain × lever mass: the plain example's per-gram gain is G = c/(3·36) per
+// (rpm/1000)², and a body force of 12·G/4 gives (24 + 3)/36 again [derived].
+#[test]
+fn the_lever_body_has_its_own_arm_or_its_own_measured_force() {
+    let plain = capacity(&example()).expect("valid");
+    let mut req = example();
+    if let Some(l) = req.levers.as_mut() {
+        l.body_arm_ratio = Some(2.6);
+    }
+    assert_eq!(capacity(&req).expect("valid"), plain);
+    if let Some(l) = req.levers.as_mut() {
+        l.body_cg_radius = Some(2.05);
+        l.body_arm_ratio = Some(1.3);
+    }
+    let own = capacity(&req).expect("valid");
+    for (a, b) in own.curve.iter().zip(&plain.curve) {
+        assert!(rel(a.centrifugal_clamp, b.centrifugal_clamp * 27.0 / 36.0) < 1e-12);
+    }
+    // The gain that gives the plain example: clamp per gram per lever at 1000 rpm.
+    let top = plain.curve.last().expect("rows");
+    let per_g = top.centrifugal_clamp / (3.0 * 36.0) / (top.rpm / 1000.0).powi(2);
+    let mut gain = example();
+    if let Some(l) = gain.levers.as_mut() {
+        l.cg_radius = None;
+        l.arm_ratio = None;
+        l.gain = Some(per_g);
+    }
+    let g = capacity(&gain).expect("valid");
+    assert!(rel(g.top.capacity, plain.top.capacity) < 1e-12);
+    if let Some(l) = gain.levers.as_mut() {
+        l.body_force_at_1000 = Some(12.0 * per_g / 4.0);
+    }
+    let g = capacity(&gain).expect("valid");
+    let last = g.curve.last().expect("rows");
+    assert!(rel(last.centrifugal_clamp, top.centrifugal_clamp * 27.0 / 36.0) < 1e-12);
+    // Each form refuses the other's body input.
+    if let Some(l) = gain.levers.as_mut() {
+        l.body_arm_ratio = Some(1.0);
+    }
+    assert_eq!(
+        field_of(capacity(&gain)).as_deref(),
+        Some("levers.body_arm_ratio")
+    );
+    if let Some(l) = req.levers.as_mut() {
+        l.body_force_at_1000 = Some(1.0);
+    }
+    assert_eq!(
+        field_of(capacity(&req)).as_deref(),
+        Some("levers.body_force_at_1000")
+    );
+}
+
 // Coil bind: springs 2.10 in free, 1.20 in solid, base compression 0.22 in, 1/16 in per turn
 // bind at (0.90 − 0.22) × 16 = 10.88 turns [D]; keeping the default 0.5 mm margin (issue 21,
 // common shop practice) the last turns are (0.68 − 0.5/25.4) × 16 = 10.565 turns [D]. Past that

@@ -326,6 +326,8 @@ pub mod limits {
     pub const COUNTERWEIGHT: Limit = Limit::new(Grams, Incl(0.0), Incl(1000.0));
     pub const LEVER_CG_RADIUS: Limit = Limit::new(Length, Excl(0.0), Incl(300.0));
     pub const LEVER_ARM_RATIO: Limit = Limit::new(Ratio, Excl(0.0), Incl(20.0));
+    /// A lever body's own clamp at 1000 rpm, no counterweight (gain form).
+    pub const LEVER_BODY_FORCE: Limit = Limit::new(Force, Incl(0.0), Incl(10_000.0));
     pub const LEVER_GAIN: Limit = Limit::new(ForcePerGram, Excl(0.0), Incl(100.0));
     pub const SHIM: Limit = Limit::new(Length, Excl(0.0), Incl(5.0));
     pub const SHIM_COUNT: usize = 20;
@@ -463,6 +465,7 @@ mod tests {
             LEVER_CG_RADIUS,
             LEVER_ARM_RATIO,
             LEVER_GAIN,
+            LEVER_BODY_FORCE,
             SHIM,
             SHIMMING_LIMIT,
             MU,

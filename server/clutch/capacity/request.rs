@@ -7,7 +7,7 @@
 //! consistency errors with the JSON path of the field.
 
 use crate::InputError;
-use crate::capacity::clamp::{LeverSet, SpringPack};
+use crate::capacity::clamp::{LeverBody, LeverSet, SpringPack};
 use crate::capacity::friction::{FacingMaterial, friction_surfaces};
 use crate::capacity::lockup::ClutchModel;
 use crate::capacity::torque::{Theory, effective_radius_mm};
@@ -146,9 +146,18 @@ pub struct LeversInput {
     /// at `cg_radius`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub body_cg_radius: Option<f64>,
+    /// The lever body's own arm ratio (its centrifugal force's arm over the plate reaction's),
+    /// with `cg_radius` and `arm_ratio`; absent: the body acts on `arm_ratio`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub body_arm_ratio: Option<f64>,
     /// Clamp per gram per lever at 1000 rpm (lbf / N), instead of cg_radius and arm_ratio.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub gain: Option<f64>,
+    /// With `gain`: the clamp one lever gives at 1000 rpm with no counterweight (lbf / N), its
+    /// body's own share measured; then the gain counts for the counterweight only and
+    /// `lever_mass_g` is not used. Absent: the lever's mass counts with the gain.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub body_force_at_1000: Option<f64>,
 }
 
 /// Engine data.
@@ -216,6 +225,7 @@ impl CapacityRequest {
             l.cg_radius = l.cg_radius.map(len);
             l.body_cg_radius = l.body_cg_radius.map(len);
             l.gain = l.gain.map(force);
+            l.body_force_at_1000 = l.body_force_at_1000.map(force);
         }
         for p in &mut r.engine.torque_curve {
             p[1] = torque(p[1]);
@@ -410,6 +420,28 @@ impl LeversInput {
             Some(r) => Some(limits::LEVER_CG_RADIUS.check_shown("levers.body_cg_radius", r, u)?),
             None => None,
         };
+        let body_arm = match self.body_arm_ratio {
+            Some(_) if self.gain.is_some() => {
+                return Err(InputError::new(
+                    "levers.body_arm_ratio",
+                    "works with cg_radius and arm_ratio, not with gain (give body_force_at_1000)",
+                ));
+            }
+            Some(a) => Some(limits::LEVER_ARM_RATIO.check("levers.body_arm_ratio", a, u)?),
+            None => None,
+        };
+        let body_force = match self.body_force_at_1000 {
+            Some(_) if self.gain.is_none() => {
+                return Err(InputError::new(
+                    "levers.body_force_at_1000",
+                    "works with gain, not with cg_radius and arm_ratio (give body_cg_radius and body_arm_ratio)",
+                ));
+            }
+            Some(f) => {
+                Some(limits::LEVER_BODY_FORCE.check_shown("levers.body_force_at_1000", f, u)?)
+            }
+            None => None,
+        };
         match (self.gain, self.cg_radius, self.arm_ratio) {
             (Some(_), Some(_), _) | (Some(_), _, Some(_)) => Err(InputError::new(
                 "levers.gain",
@@ -417,7 +449,10 @@ impl LeversInput {
             )),
             (Some(gain), None, None) => {
                 let gain = limits::LEVER_GAIN.check_shown("levers.gain", gain, u)?;
-                Ok(LeverSet::from_gain(count, lever_mass, gain))
+                Ok(match body_force {
+                    Some(f) => LeverSet::from_gain_and_body(count, gain, f),
+                    None => LeverSet::from_gain(count, lever_mass, gain),
+                })
             }
             (None, Some(r), Some(ratio)) => {
                 let r = limits::LEVER_CG_RADIUS.check_shown("levers.cg_radius", r, u)?;
@@ -427,7 +462,10 @@ impl LeversInput {
                     lever_mass,
                     r,
                     ratio,
-                    body_radius,
+                    LeverBody {
+                        cg_radius_mm: body_radius,
+                        arm_ratio: body_arm,
+                    },
                 ))
             }
             (None, None, _) => Err(InputError::new(
