@@ -24,5 +24,6 @@ mod status;
 mod support;
 mod tune;
 mod units;
+mod untouched;
 mod wear;
 mod workflow;
