@@ -31,6 +31,7 @@ use clutch::capacity::request::{
 };
 use clutch::capacity::spring_health::{self, TestReview};
 use clutch::capacity::springs::BenchPoint;
+use clutch::capacity::threads::Thread;
 use clutch::capacity::torque::Theory;
 use clutch::quantity::limits;
 use clutch::units::Units;
@@ -212,11 +213,12 @@ impl BuildFacts<'_> {
 
     /// Adjuster travel per turn, mm (one thread pitch).
     pub fn pitch_mm(&self) -> f64 {
-        match (self.build.adjuster_tpi, self.build.adjuster_pitch_mm) {
-            (Some(tpi), _) => Units::Imperial.length_to_mm(1.0 / tpi),
-            (None, Some(p)) => p,
-            _ => 0.0,
-        }
+        let thread = match (self.build.adjuster_tpi, self.build.adjuster_pitch_mm) {
+            (Some(tpi), _) => Thread::Tpi(tpi),
+            (None, Some(p)) => Thread::MetricPitch(p),
+            _ => return 0.0,
+        };
+        thread.travel_per_turn_mm("adjuster_tpi").unwrap_or(0.0)
     }
 
     /// Searches adjuster turns and counterweight for the targets, starting from `current`, on

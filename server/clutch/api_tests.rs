@@ -136,6 +136,53 @@ fn the_lever_body_has_its_own_arm_or_its_own_measured_force() {
     );
 }
 
+// Issue 21: where the pages say "at or below", the answer says so too. A clutch holding at
+// the curve's first speed (3000 rpm) sets the flag; the example (lockup inside the curve)
+// leaves it out of the JSON.
+#[test]
+fn a_lockup_at_the_start_of_the_curve_is_flagged_at_or_below() {
+    let plain = capacity(&example()).expect("valid");
+    assert!(!plain.lockup_at_or_below);
+    let json = serde_json::to_value(&plain).expect("json");
+    assert!(json.get("lockup_at_or_below").is_none());
+    let mut strong = example();
+    strong.springs.adjuster_turns = 12.0;
+    let r = capacity(&strong).expect("valid");
+    assert_eq!(r.lockup_rpm, Some(3000.0));
+    assert!(r.lockup_at_or_below);
+    let json = serde_json::to_value(&r).expect("json");
+    assert_eq!(json["lockup_at_or_below"], serde_json::json!(true));
+}
+
+// Issue 21, knife edge both ways [derived]: a spring-only clutch, 2 faces, r_eff 75 mm (uniform
+// wear, 100–200 mm), 5320 N, μ 0.5: 2 × 0.5 × 5320 × 0.075 = 399 N·m against 400 N·m flat to
+// 6000 rpm falling to 300 at 7000: lockup 6010 rpm. 1 % more μ (402.99 N·m) holds everywhere,
+// so the answer warns that it would lock up at or below 3000 rpm; it used to say nothing.
+#[test]
+fn the_knife_edge_warning_tries_one_percent_more_friction_too() {
+    let req: CapacityRequest = serde_json::from_str(
+        r#"{"units": "metric",
+            "disc": {"outer_diameter": 200, "inner_diameter": 100},
+            "friction": {"mu": 0.5},
+            "springs": {"count": 1, "rate": 200, "base_compression": 26.6},
+            "engine": {"torque_curve": [[3000, 400], [6000, 400], [7000, 300]]}}"#,
+    )
+    .expect("parses");
+    let r = capacity(&req).expect("valid");
+    assert!(
+        (r.lockup_rpm.unwrap() - 6010.0).abs() < 1e-6,
+        "{:?}",
+        r.lockup_rpm
+    );
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.contains("1 % more friction") && w.contains("lock up at or below 3000 rpm")),
+        "{:?}",
+        r.warnings
+    );
+}
+
 // Coil bind: springs 2.10 in free, 1.20 in solid, base compression 0.22 in, 1/16 in per turn
 // bind at (0.90 − 0.22) × 16 = 10.88 turns [D]; keeping the default 0.5 mm margin (issue 21,
 // common shop practice) the last turns are (0.68 − 0.5/25.4) × 16 = 10.565 turns [D]. Past that

@@ -208,7 +208,7 @@ impl ShowPage {
             let sagged = latest.springs.iter().filter(|r| r.sag.is_some()).count();
             if sagged > 0 {
                 lines.push(format!(
-                    "Springs: {sagged} lost rate since the previous test."
+                    "Springs: {sagged} lost load (sagged) since the previous test."
                 ));
             }
         }

@@ -231,6 +231,11 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     }
     let page = client.get(&build).await;
     assert!(page.body.contains("▲ sagged 9.1 %"), "sag on load");
+    // Sag is load lost at the installed length, not rate (issue 21).
+    assert!(
+        page.body.contains("1 lost load (sagged)"),
+        "sag named as lost load"
+    );
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(
         tune.body.contains("708 lbf"),

@@ -134,6 +134,9 @@ pub struct Setting {
 pub struct SettingResult {
     /// Lockup speed, rev/min (null: slips at the top).
     pub lockup_rpm: Option<f64>,
+    /// True when the lockup is "at or below" the curve's first speed (left out when false).
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub lockup_at_or_below: bool,
     /// Capacity / engine torque at launch (null without launch_rpm).
     pub launch_ratio: Option<f64>,
     /// Static spring clamp (lbf / N).
@@ -353,6 +356,7 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
     let report = capacity(&chosen)?;
     let result = SettingResult {
         lockup_rpm: report.lockup_rpm,
+        lockup_at_or_below: report.lockup_at_or_below,
         launch_ratio: report.launch.as_ref().map(|l| l.ratio),
         static_clamp: report.static_clamp,
     };

@@ -36,6 +36,11 @@ pub struct CapacityReport {
     pub curve: Vec<CurvePoint>,
     /// Lowest speed from which capacity holds to the top of the curve; null if it slips there.
     pub lockup_rpm: Option<f64>,
+    /// True when the clutch already holds at the curve's first speed: the lockup is "at or
+    /// below" `lockup_rpm` (the curve says nothing about lower speeds), as the pages word it.
+    /// Left out when false.
+    #[serde(skip_serializing_if = "is_false")]
+    pub lockup_at_or_below: bool,
     /// Capacity and engine torque at the launch speed; null without `launch_rpm`.
     pub launch: Option<SpeedCheck>,
     /// Capacity and engine torque at the top of the curve (ratio − 1 is the margin).
@@ -132,15 +137,36 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
     {
         warnings.push(launch_grab_text(l.rpm, l.capacity_nm / l.engine_torque_nm));
     }
-    if let (Some(now), Some(moved)) = (lockup_rpm, knife_edge(&law, engine)) {
-        warnings.push(format!(
-            "The lockup is on a knife edge: above the lockup ({}) capacity only just covers engine torque somewhere. With {:.0} % less friction (a hot or glazed disc) the clutch would {}.",
-            lockup_text(Some(now), engine.range().0),
-            KNIFE_EDGE_MU_DROP * 100.0,
-            moved.map_or("slip at the top of the curve".to_string(), |l| format!(
-                "lock up only at {l:.0} rpm"
-            ))
-        ));
+    if let (Some(now), Some(edge)) = (lockup_rpm, knife_edge(&law, engine)) {
+        let start = engine.range().0;
+        let mut w = String::new();
+        if let Some(moved) = edge.less {
+            w = format!(
+                "The lockup is on a knife edge: above the lockup ({}) capacity only just covers engine torque somewhere. With {:.0} % less friction (a hot or glazed disc) the clutch would {}.",
+                lockup_text(Some(now), start),
+                KNIFE_EDGE_MU_DROP * 100.0,
+                moved.map_or("slip at the top of the curve".to_string(), |l| format!(
+                    "lock up only at {l:.0} rpm"
+                ))
+            );
+        }
+        if let Some(lower) = edge.more {
+            if w.is_empty() {
+                w = format!(
+                    "The lockup is on a knife edge: below the lockup ({}) capacity only just falls short of engine torque somewhere.",
+                    lockup_text(Some(now), start)
+                );
+            }
+            w.push_str(&format!(
+                " With {:.0} % more friction (a fresh or cooler disc) the clutch would lock up {}.",
+                KNIFE_EDGE_MU_DROP * 100.0,
+                match lockup_text(Some(lower), start) {
+                    t if lower <= start => t,
+                    t => format!("at {t}"),
+                }
+            ));
+        }
+        warnings.push(w);
     }
     let coil_bind_turns = m.springs.coil_bind_turns();
     let coil_bind_clearance_mm = m.springs.coil_bind_clearance_mm(m.adjuster_turns);
@@ -186,6 +212,7 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
         friction_surfaces: m.surfaces,
         curve: rows.iter().map(|p| CurvePoint::from_si(p, u)).collect(),
         lockup_rpm,
+        lockup_at_or_below: lockup_rpm.is_some_and(|l| l <= engine.range().0),
         launch: launch.as_ref().map(|p| SpeedCheck::from_si(p, u)),
         top: SpeedCheck::from_si(&top, u),
         warnings,
@@ -240,6 +267,10 @@ pub fn launch_grab_text(launch_rpm: f64, ratio: f64) -> String {
 /// preview's slip time beside it.
 pub fn is_launch_grab(warning: &str) -> bool {
     warning.starts_with("Capacity at the ") && warning.contains("so the clutch grabs hard")
+}
+
+fn is_false(v: &bool) -> bool {
+    !*v
 }
 
 fn is_zero(v: &f64) -> bool {

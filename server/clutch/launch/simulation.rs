@@ -158,13 +158,6 @@ pub fn traction_limit_n(mu: f64, weight_n: f64, v: &Vehicle, rolling_n: f64, dra
     (mu * moment / denominator).clamp(0.0, cap)
 }
 
-/// Mean plate temperature θ(t) = θ_amb + (θ_0 − θ_amb)·exp(−t/τ) after `seconds` of Newton
-/// cooling with time constant `tau_s` (= m·c/(h·A)), °C. Source: the lumped exponential decay
-/// Shigley ch. 16 "Temperature rise" uses for clutches and brakes (from memory).
-pub fn cooled_c(start_c: f64, ambient_c: f64, tau_s: f64, seconds: f64) -> f64 {
-    ambient_c + (start_c - ambient_c) * (-seconds / tau_s).exp()
-}
-
 /// Clutch state during a step.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum ClutchMode {
@@ -838,8 +831,8 @@ mod tests {
         assert!((i2 - 1.968689).abs() < 5e-7, "{i2}");
         assert!((m.capacity_nm(m.launch_rad_s) - 480.0).abs() < 1e-9);
         let (i1, dw, t) = (0.20, m.launch_rad_s, 480.0);
-        let t_formula = i1 * i2 * dw / ((i1 + i2) * t);
-        let e_formula = i1 * i2 * dw * dw / (2.0 * (i1 + i2));
+        let closed = crate::launch::slip::two_inertia_slip(i1, i2, dw, 0.0, t).expect("valid");
+        let (t_formula, e_formula) = (closed.time_s, closed.energy_j);
         let run = m.simulate();
         let lock = run.lockup.expect("it locks");
         assert!((lock.time_s - t_formula).abs() < 1e-9, "{}", lock.time_s);
@@ -872,7 +865,7 @@ mod tests {
             "{} vs {t_formula}",
             lock.time_s
         );
-        let e_formula = t * dw * t_formula / 2.0;
+        let e_formula = crate::launch::slip::linear_slip_energy_j(t, dw, t_formula).expect("valid");
         assert!((run.slip_energy_j - e_formula).abs() < 1e-6 * e_formula);
         // Longer and hotter than the free engagement (the caution of launch-and-logs §1.8).
         assert!(lock.time_s > 0.2376558 && run.slip_energy_j > 35_837.66);
@@ -935,6 +928,10 @@ mod tests {
             (pp - 47.62).abs() < 0.01 && (fw - 31.75).abs() < 0.01,
             "{pp} {fw}"
         );
+        // The same as the adiabatic bulk rise E/(m·c) of the closed forms (Shigley ch. 16).
+        let closed = crate::launch::slip::temperature_rise_k(0.45 * run.slip_energy_j, 8.0, 460.0)
+            .expect("valid");
+        assert!((pp - closed).abs() < 1e-9 * closed);
         // C6: the slipping engine converges on the crossover 5782.4 rpm from above.
         assert!(run.min_engine_rad_s / RAD_S_PER_RPM > 5782.4);
 
@@ -972,15 +969,6 @@ mod tests {
             (here - expected).abs() < 1e-6 && (here - 716.9).abs() < 0.05,
             "{here}"
         );
-    }
-
-    // C7 of launch-and-logs [derived]: an 8 kg iron plate (c 460) with hA = 20 W/(m²·K) ×
-    // 0.12 m² has τ = 1533.3 s; from 150 °C with ambient 30 °C, 1200 s later it is at 84.87 °C.
-    #[test]
-    fn newton_cooling_between_passes() {
-        let tau = 8.0 * 460.0 / (20.0 * 0.12);
-        let t = cooled_c(150.0, 30.0, tau, 1200.0);
-        assert!((t - 84.87).abs() < 0.005, "{t}");
     }
 
     #[test]
