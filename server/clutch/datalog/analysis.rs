@@ -4,9 +4,12 @@
 //!
 //! Methods (the project's launch-and-logs reference, §3):
 //! - slip % = 100·(N_e − N_in)/N_e;
-//! - launch: the clutch switch if there is one, else the first sample where the input speed is
-//!   above 100 rpm for 3 samples in a row, moved back to N_in = 0 along a least-squares line
-//!   through the samples of the 50 ms from it (never before the file's start);
+//! - launch: the clutch switch's first change of state that holds for 20 ms (at least 3
+//!   samples) if there is one, else the first sample where the input speed is above 100 rpm
+//!   for as long, moved back to N_in = 0 along a least-squares line through the samples of the
+//!   50 ms from it (never before the file's start);
+//! - lowest engine speed: the lowest level it stays at for that hold (one noisy sample does
+//!   not set it);
 //! - lockup: the first time after launch that slip falls below `slip_on_pct` and stays below
 //!   for `hold_s`, reported as the linearly interpolated crossing;
 //! - clutch torque from the engine side, T_c = T_e(N_e) − I_e·dω_e/dt, the derivative by a
@@ -30,6 +33,11 @@ use crate::units::rpm_to_rad_s;
 pub const LAUNCH_RPM: f64 = 100.0;
 /// Samples in a row above [`LAUNCH_RPM`].
 pub const LAUNCH_SAMPLES: usize = 3;
+/// A change of state (the clutch switch, the input speed past [`LAUNCH_RPM`]) or a dip of
+/// engine speed counts only when it lasts this long, s, and at least [`LAUNCH_SAMPLES`]
+/// samples: the same hold idea as the lockup's, so one noisy sample neither starts the launch
+/// nor sets the lowest engine speed (our own choice, no published source).
+pub const EVENT_HOLD_S: f64 = 0.020;
 /// Span of the line moved back to zero input speed, s.
 pub const LAUNCH_FIT_S: f64 = 0.050;
 /// Time the derivative window spans at least, s.
@@ -403,17 +411,33 @@ pub fn derivative_window(dt: f64) -> usize {
     n.min(DERIVATIVE_MAX_SAMPLES)
 }
 
-/// The launch: the clutch switch's first change of state (≥ 0.5 counts as on) if there is a
-/// switch, else the 3-sample rule moved back to zero input speed. Field `columns.clutch_switch`
-/// or `columns.input_rpm` when none is found.
+/// Samples a change must last at step `dt`: [`EVENT_HOLD_S`], and at least [`LAUNCH_SAMPLES`].
+pub fn hold_samples(dt: f64) -> usize {
+    let k = if dt > 0.0 {
+        (EVENT_HOLD_S / dt - 1e-9).ceil().max(0.0) as usize
+    } else {
+        0
+    };
+    k.max(LAUNCH_SAMPLES)
+}
+
+/// The launch: the clutch switch's first change of state (≥ 0.5 counts as on) that holds for
+/// [`hold_samples`], if there is a switch, else the first run of [`hold_samples`] samples of
+/// input speed above [`LAUNCH_RPM`], moved back to zero input speed. Field
+/// `columns.clutch_switch` or `columns.input_rpm` when none is found.
 pub fn find_launch(series: &Series) -> Result<f64, InputError> {
     let t = &series.time_s;
+    let hold = hold_samples(median_step(t));
     if let Some(sw) = &series.clutch_switch {
         let on = |v: f64| v >= 0.5;
         let first = on(sw[0]);
-        return sw
-            .iter()
-            .position(|&v| on(v) != first)
+        return (0..sw.len())
+            .find(|&i| {
+                on(sw[i]) != first
+                    && sw[i..(i + hold).min(sw.len())]
+                        .iter()
+                        .all(|&v| on(v) != first)
+            })
             .map(|i| t[i])
             .ok_or_else(|| {
                 InputError::new(
@@ -423,13 +447,13 @@ pub fn find_launch(series: &Series) -> Result<f64, InputError> {
             });
     }
     let n_in = &series.input_rpm;
-    let start = (0..t.len().saturating_sub(LAUNCH_SAMPLES - 1))
-        .find(|&i| n_in[i..i + LAUNCH_SAMPLES].iter().all(|&v| v > LAUNCH_RPM))
+    let start = (0..t.len().saturating_sub(hold - 1))
+        .find(|&i| n_in[i..i + hold].iter().all(|&v| v > LAUNCH_RPM))
         .ok_or_else(|| {
             InputError::new(
                 "columns.input_rpm",
                 format!(
-                    "no launch found: the input speed never stays above {LAUNCH_RPM:.0} rpm for {LAUNCH_SAMPLES} samples in a row"
+                    "no launch found: the input speed never stays above {LAUNCH_RPM:.0} rpm for {hold} samples in a row"
                 ),
             )
         })?;
@@ -500,6 +524,16 @@ pub fn find_lockup(
         }
     }
     None
+}
+
+/// The lowest level `v` stays at or below for `hold` samples in a row: min over windows of
+/// their max (a dip shorter than the hold is not a minimum). Windows shrink to the whole run
+/// when it is shorter than the hold; infinite for no samples.
+pub fn held_minimum(v: &[f64], hold: usize) -> f64 {
+    let w = hold.clamp(1, v.len().max(1));
+    v.windows(w)
+        .map(|win| win.iter().copied().fold(f64::NEG_INFINITY, f64::max))
+        .fold(f64::INFINITY, f64::min)
 }
 
 /// Linear interpolation of a sampled channel at time `at` (uniform or not).
@@ -630,10 +664,17 @@ pub fn analyze(
     let first = t.partition_point(|&x| x < launch_s - LAUNCH_SAMPLE_S);
     let launch_engine_rpm = value_at(t, &series.engine_rpm, launch_s);
     let lockup_engine_rpm = value_at(t, &series.engine_rpm, lockup_s);
-    let min_engine_rpm = (first..=last)
+    let slipping: Vec<f64> = (first..=last)
         .filter(|&i| t[i] <= lockup_s + eps)
         .map(|i| series.engine_rpm[i])
-        .fold(launch_engine_rpm.min(lockup_engine_rpm), f64::min);
+        .collect();
+    let min_engine_rpm =
+        held_minimum(&slipping, hold_samples(dt)).min(launch_engine_rpm.min(lockup_engine_rpm));
+    notes.push(format!(
+        "The launch and the lowest engine speed are read with a hold, as the lockup is: a change counts only when it lasts {} samples in a row ({:.0} ms and at least {LAUNCH_SAMPLES} samples), so one noisy sample neither starts the launch nor sets the minimum.",
+        hold_samples(dt),
+        EVENT_HOLD_S * 1000.0
+    ));
     let (clutch_torque_nm, slip_power_w, slip_energy_j, peak_slip_power_w) = match engine {
         Some(engine) => {
             let (tc, outside) = clutch_torque(series, dt, engine);
