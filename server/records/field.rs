@@ -457,11 +457,7 @@ pub fn read_edit<R: Record>(form: &FormData, units: Units, stored: &R) -> (R, Fi
     for f in R::FIELDS {
         let (typed, prefilled) = (form.get(f.form), shown.get(f.form));
         match &f.value {
-            Value::Number { get, set, .. } => {
-                if same(typed, prefilled) {
-                    set(&mut r, get(stored));
-                }
-            }
+            Value::Number { get, set, .. } if same(typed, prefilled) => set(&mut r, get(stored)),
             Value::List { get, set, .. } => {
                 let (typed, prefilled): (Vec<&str>, Vec<&str>) =
                     (list_items(typed).collect(), list_items(prefilled).collect());
