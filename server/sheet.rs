@@ -114,6 +114,9 @@ pub struct SheetFigures {
     pub capacity: Result<Figures, String>,
     pub wear: Result<WearReport, String>,
     pub recommendation: Option<Result<Recommendation, String>>,
+    /// The launch preview's slip of the setting in force, in one sentence, when the car's
+    /// record lets the preview run (shown beside the launch warning).
+    pub launch_slip: Option<String>,
 }
 
 /// Works out the sheet's figures (capacity in the shop's units; wear in storage units).
@@ -148,10 +151,12 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
             .map(|(r, _)| r)
             .map_err(|e| e.to_string())
     });
+    let launch_slip = build.launch_slip_text(build.trial);
     SheetFigures {
         tested_rate_n_per_mm: tested,
         capacity,
         wear,
         recommendation,
+        launch_slip,
     }
 }

@@ -80,9 +80,114 @@ fn lever_body_radius_is_optional_and_needs_geometry() {
     );
 }
 
+// Issue 21, item 3: the body on its own arm. The example's 12 g lever body at 2.05 in on an arm
+// ratio of 1.3 (half the weight's 2.6) counts as 12 × (2.05/4.1) × (1.3/2.6) = 3 g at the weight
+// [derived], so the centrifugal clamp is (24 + 3)/36 of the plain one. Absent, or equal to the
+// weight's, the answer is unchanged bit for bit. In the gain form a measured body force at
+// 1000 rpm replaces gain × lever mass: the plain example's per-gram gain is G = c/(3·36) per
+// (rpm/1000)², and a body force of 12·G/4 gives (24 + 3)/36 again [derived].
+#[test]
+fn the_lever_body_has_its_own_arm_or_its_own_measured_force() {
+    let plain = capacity(&example()).expect("valid");
+    let mut req = example();
+    if let Some(l) = req.levers.as_mut() {
+        l.body_arm_ratio = Some(2.6);
+    }
+    assert_eq!(capacity(&req).expect("valid"), plain);
+    if let Some(l) = req.levers.as_mut() {
+        l.body_cg_radius = Some(2.05);
+        l.body_arm_ratio = Some(1.3);
+    }
+    let own = capacity(&req).expect("valid");
+    for (a, b) in own.curve.iter().zip(&plain.curve) {
+        assert!(rel(a.centrifugal_clamp, b.centrifugal_clamp * 27.0 / 36.0) < 1e-12);
+    }
+    // The gain that gives the plain example: clamp per gram per lever at 1000 rpm.
+    let top = plain.curve.last().expect("rows");
+    let per_g = top.centrifugal_clamp / (3.0 * 36.0) / (top.rpm / 1000.0).powi(2);
+    let mut gain = example();
+    if let Some(l) = gain.levers.as_mut() {
+        l.cg_radius = None;
+        l.arm_ratio = None;
+        l.gain = Some(per_g);
+    }
+    let g = capacity(&gain).expect("valid");
+    assert!(rel(g.top.capacity, plain.top.capacity) < 1e-12);
+    if let Some(l) = gain.levers.as_mut() {
+        l.body_force_at_1000 = Some(12.0 * per_g / 4.0);
+    }
+    let g = capacity(&gain).expect("valid");
+    let last = g.curve.last().expect("rows");
+    assert!(rel(last.centrifugal_clamp, top.centrifugal_clamp * 27.0 / 36.0) < 1e-12);
+    // Each form refuses the other's body input.
+    if let Some(l) = gain.levers.as_mut() {
+        l.body_arm_ratio = Some(1.0);
+    }
+    assert_eq!(
+        field_of(capacity(&gain)).as_deref(),
+        Some("levers.body_arm_ratio")
+    );
+    if let Some(l) = req.levers.as_mut() {
+        l.body_force_at_1000 = Some(1.0);
+    }
+    assert_eq!(
+        field_of(capacity(&req)).as_deref(),
+        Some("levers.body_force_at_1000")
+    );
+}
+
+// Issue 21: where the pages say "at or below", the answer says so too. A clutch holding at
+// the curve's first speed (3000 rpm) sets the flag; the example (lockup inside the curve)
+// leaves it out of the JSON.
+#[test]
+fn a_lockup_at_the_start_of_the_curve_is_flagged_at_or_below() {
+    let plain = capacity(&example()).expect("valid");
+    assert!(!plain.lockup_at_or_below);
+    let json = serde_json::to_value(&plain).expect("json");
+    assert!(json.get("lockup_at_or_below").is_none());
+    let mut strong = example();
+    strong.springs.adjuster_turns = 12.0;
+    let r = capacity(&strong).expect("valid");
+    assert_eq!(r.lockup_rpm, Some(3000.0));
+    assert!(r.lockup_at_or_below);
+    let json = serde_json::to_value(&r).expect("json");
+    assert_eq!(json["lockup_at_or_below"], serde_json::json!(true));
+}
+
+// Issue 21, knife edge both ways [derived]: a spring-only clutch, 2 faces, r_eff 75 mm (uniform
+// wear, 100–200 mm), 5320 N, μ 0.5: 2 × 0.5 × 5320 × 0.075 = 399 N·m against 400 N·m flat to
+// 6000 rpm falling to 300 at 7000: lockup 6010 rpm. 1 % more μ (402.99 N·m) holds everywhere,
+// so the answer warns that it would lock up at or below 3000 rpm; it used to say nothing.
+#[test]
+fn the_knife_edge_warning_tries_one_percent_more_friction_too() {
+    let req: CapacityRequest = serde_json::from_str(
+        r#"{"units": "metric",
+            "disc": {"outer_diameter": 200, "inner_diameter": 100},
+            "friction": {"mu": 0.5},
+            "springs": {"count": 1, "rate": 200, "base_compression": 26.6},
+            "engine": {"torque_curve": [[3000, 400], [6000, 400], [7000, 300]]}}"#,
+    )
+    .expect("parses");
+    let r = capacity(&req).expect("valid");
+    assert!(
+        (r.lockup_rpm.unwrap() - 6010.0).abs() < 1e-6,
+        "{:?}",
+        r.lockup_rpm
+    );
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.contains("1 % more friction") && w.contains("lock up at or below 3000 rpm")),
+        "{:?}",
+        r.warnings
+    );
+}
+
 // Coil bind: springs 2.10 in free, 1.20 in solid, base compression 0.22 in, 1/16 in per turn
-// bind at (0.90 − 0.22) × 16 = 10.88 turns [D]. Past that the answer warns; the recommendation's
-// grid stops short of it; without both lengths nothing changes.
+// bind at (0.90 − 0.22) × 16 = 10.88 turns [D]; keeping the default 0.5 mm margin (issue 21,
+// common shop practice) the last turns are (0.68 − 0.5/25.4) × 16 = 10.565 turns [D]. Past that
+// the answer warns; the recommendation's grid stops at it; without both lengths nothing
+// changes. (Changed with issue 21: the margin default moved the figure from 10.88.)
 #[test]
 fn coil_bind_turns_warn_and_bound_the_recommendation() {
     let plain = capacity(&example()).expect("valid");
@@ -91,7 +196,11 @@ fn coil_bind_turns_warn_and_bound_the_recommendation() {
     req.springs.free_length = Some(2.10);
     req.springs.solid_height = Some(1.20);
     let r = capacity(&req).expect("valid");
+    assert!(rel(r.coil_bind_turns.unwrap(), (0.68 - 0.5 / 25.4) * 16.0) < 1e-12);
+    req.springs.bind_margin = Some(0.0);
+    let r = capacity(&req).expect("valid");
     assert!(rel(r.coil_bind_turns.unwrap(), 10.88) < 1e-12);
+    req.springs.bind_margin = None;
     assert!(!r.warnings.iter().any(|w| w.contains("coil bind")));
     req.springs.adjuster_turns = 11.0;
     let bound = capacity(&req).expect("valid");
@@ -118,6 +227,82 @@ fn coil_bind_turns_warn_and_bound_the_recommendation() {
         capacity(&req).err().map(|e| e.field).as_deref(),
         Some("springs.solid_height")
     );
+}
+
+// Issue 21's worked check [derived from its stated rule]: free 2.100 in, solid 1.600 in, base
+// 0.220 in, 16 TPI, release travel 0.050 in, margin 0.020 in: coil_bind_turns =
+// (0.500 − 0.220 − 0.050 − 0.020) × 16 = 3.36; at 1.5 turns the released clearance is
+// 0.500 − (0.220 + 1.5/16 + 0.050) = 0.13625 in; at 3.5 turns 0.01125 in, below the margin:
+// a warning. Release travel absent counts as 0 and a note says so.
+#[test]
+fn coil_bind_keeps_the_margin_with_the_clutch_released() {
+    let mut req = example();
+    req.springs.free_length = Some(2.100);
+    req.springs.solid_height = Some(1.600);
+    req.springs.release_travel = Some(0.050);
+    req.springs.bind_margin = Some(0.020);
+    let r = capacity(&req).expect("valid");
+    assert!((r.coil_bind_turns.unwrap() - 3.36).abs() < 1e-9);
+    assert!((r.coil_bind_clearance.unwrap() - 0.13625).abs() < 1e-9);
+    assert!(r.notes.is_empty(), "{:?}", r.notes);
+    assert!(!r.warnings.iter().any(|w| w.contains("coil bind")));
+    req.springs.adjuster_turns = 3.5;
+    let r = capacity(&req).expect("valid");
+    assert!((r.coil_bind_clearance.unwrap() - 0.01125).abs() < 1e-9);
+    assert!(
+        r.warnings
+            .iter()
+            .any(|w| w.contains("coil bind") && w.contains("margin")),
+        "{:?}",
+        r.warnings
+    );
+    // Metric request, same clutch: the same turns, clearance in mm.
+    req.springs.adjuster_turns = 1.5;
+    let m = capacity(&req.in_units(Units::Metric)).expect("valid");
+    assert!((m.coil_bind_turns.unwrap() - 3.36).abs() < 1e-9);
+    assert!((m.coil_bind_clearance.unwrap() - 0.13625 * MM_PER_IN).abs() < 1e-9);
+    // Each adjuster by the same rule: the third one at 3.5 turns is short of the margin.
+    req.springs.adjuster_turns_each = Some(vec![1.5, 1.5, 3.5]);
+    let each = capacity(&req).expect("valid");
+    assert!(
+        each.warnings
+            .iter()
+            .any(|w| w.starts_with("Adjuster 3 at 3.5 turns")),
+        "{:?}",
+        each.warnings
+    );
+    assert!(!each.warnings.iter().any(|w| w.starts_with("Adjuster 1")));
+    // Without release travel: counted as 0, and said.
+    req.springs.adjuster_turns_each = None;
+    req.springs.release_travel = None;
+    let r = capacity(&req).expect("valid");
+    assert!((r.coil_bind_turns.unwrap() - 4.16).abs() < 1e-9);
+    assert!(r.notes.iter().any(|n| n.contains("release travel")));
+    // No coil-bind data: no notes, nothing new in the JSON.
+    let plain = serde_json::to_value(capacity(&example()).expect("valid")).expect("json");
+    assert!(plain.get("notes").is_none() && plain.get("coil_bind_clearance").is_none());
+}
+
+// Issue 21: free 2.10, solid 1.60, base 0.22 in, 1/16 in per turn binds at 4.48 turns [D]; the
+// recommender used to propose 4.25 turns (0.37 mm short of bind engaged, none released). With
+// the default 0.5 mm margin the grid stops at (0.28 − 0.5/25.4) × 16 = 4.165 turns [D].
+#[test]
+fn the_recommendation_stops_at_the_margin() {
+    let mut rec = recommend_request();
+    rec.setup.springs.free_length = Some(2.10);
+    rec.setup.springs.solid_height = Some(1.60);
+    rec.targets.launch_ratio = Some(5.0);
+    rec.targets.lockup_rpm = 3000.0;
+    let got = recommend(&rec).expect("valid");
+    assert!(
+        got.recommended.adjuster_turns <= 4.0,
+        "{:?}",
+        got.recommended
+    );
+    let mut chosen = rec.setup.clone();
+    chosen.springs.adjuster_turns = got.recommended.adjuster_turns;
+    let r = capacity(&chosen).expect("valid");
+    assert!(r.coil_bind_clearance.unwrap() >= 0.5 / 25.4);
 }
 
 // A twin disc with each extra face at 0.9 works like 3.8 faces, so

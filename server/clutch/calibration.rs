@@ -105,6 +105,8 @@ pub struct PairFit {
     pub b: f64,
     /// Standard errors of a and b from s²·(XᵀX)⁻¹, s² = SSE/(n − 2); `None` below 3 points.
     pub se: Option<[f64; 2]>,
+    /// Covariance of a and b, the off-diagonal of s²·(XᵀX)⁻¹; `None` below 3 points.
+    pub cov_ab: Option<f64>,
     /// 2-norm condition number of the column-normalised design [x1 x2].
     pub condition: f64,
 }
@@ -152,17 +154,20 @@ pub fn fit_pair(x1: &[f64], x2: &[f64], y: &[f64]) -> Option<PairFit> {
     let p = (uy - r * wy) / det;
     let q = (wy - r * uy) / det;
     let (a, b) = (p / n1, q / n2);
-    let se = (n >= 3).then(|| {
+    let s2 = (n >= 3).then(|| {
         let sse: f64 = (0..n).map(|i| (y[i] - a * x1[i] - b * x2[i]).powi(2)).sum();
-        let s2 = sse / (n - 2) as f64;
-        // (XᵀX)⁻¹ diagonal in the original scale: 1/(det·n1²) and 1/(det·n2²).
-        [(s2 / det).sqrt() / n1, (s2 / det).sqrt() / n2]
+        sse / (n - 2) as f64
     });
+    // (XᵀX)⁻¹ in the original scale: diagonal 1/(det·n1²) and 1/(det·n2²), off-diagonal
+    // −r/(det·n1·n2).
+    let se = s2.map(|s2| [(s2 / det).sqrt() / n1, (s2 / det).sqrt() / n2]);
+    let cov_ab = s2.map(|s2| -r * s2 / (det * n1 * n2));
     Some(PairFit {
         n,
         a,
         b,
         se,
+        cov_ab,
         condition,
     })
 }
@@ -231,6 +236,10 @@ pub struct CalibrationReport {
     pub ci95: Option<[f64; 2]>,
     /// Fitted lever gain over the modelled one (θ/μ); null for `fit: "mu"`.
     pub gain_scale: Option<f64>,
+    /// 95 % interval of the gain scale (delta method, named in the notes); left out for
+    /// `fit: "mu"`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub gain_scale_ci95: Option<[f64; 2]>,
     /// Each pass, in request order.
     pub passes: Vec<PassResult>,
     /// Plain-English notes (why there is no interval, which torques were defaulted).
@@ -304,6 +313,8 @@ pub struct Calibration {
     pub ci95: Option<[f64; 2]>,
     /// Fitted over modelled lever gain (`None` for the μ-only fit).
     pub gain_scale: Option<f64>,
+    /// 95 % interval of the gain scale by the delta method (`None` for the μ-only fit).
+    pub gain_scale_ci95: Option<[f64; 2]>,
     /// Per pass: T_i/C_i, residual N·m, predicted lockup rpm.
     pub passes: Vec<(f64, f64, Option<f64>)>,
     /// Notes in words.
@@ -324,6 +335,7 @@ pub fn calibrate(
     let c: Vec<f64> = terms.iter().map(|(s, k)| s + k).collect();
     let per_pass_mu: Vec<f64> = t.iter().zip(&c).map(|(t, c)| t / c).collect();
     let mut notes = Vec::new();
+    let mut gain_scale_ci95 = None;
     let (mu, ci95, gain_scale) = match fit {
         Fit::Mu => {
             let f = fit_through_origin(&c, &t).ok_or_else(|| {
@@ -347,7 +359,18 @@ pub fn calibrate(
             (f.slope, f.ci95(), None)
         }
         Fit::MuAndGain => {
-            let (mu, ci, scale) = fit_mu_and_gain(&terms, &t)?;
+            let (mu, ci, scale, scale_ci) = fit_mu_and_gain(&terms, &t)?;
+            notes.push(
+                "The gain scale's 95 % interval is by the delta method: the fit's covariance carried to θ/μ to first order, with the Student t quantile at n − 2 degrees of freedom."
+                    .to_string(),
+            );
+            if (scale_ci[1] - scale_ci[0]) / 2.0 > scale / 2.0 {
+                notes.push(format!(
+                    "The gain scale is poorly determined: its 95 % interval ({:.2}–{:.2}) is wider than half the estimate ({scale:.2}) either side. Passes at clearly different counterweights or launch speeds would narrow it.",
+                    scale_ci[0], scale_ci[1]
+                ));
+            }
+            gain_scale_ci95 = Some(scale_ci);
             (mu, Some(ci), Some(scale))
         }
     };
@@ -366,13 +389,20 @@ pub fn calibrate(
         mu,
         ci95,
         gain_scale,
+        gain_scale_ci95,
         passes: results,
         notes,
     })
 }
 
-/// T_i = μ·S_i + θ·K_i with its refusals; returns (μ, its 95 % interval, θ/μ).
-fn fit_mu_and_gain(terms: &[(f64, f64)], t: &[f64]) -> Result<(f64, [f64; 2], f64), InputError> {
+/// T_i = μ·S_i + θ·K_i with its refusals; returns (μ, its 95 % interval, θ/μ, the 95 % interval
+/// of θ/μ). The ratio's interval is by the delta method: g = θ/μ, Var g ≈ g²·(Var θ/θ² +
+/// Var μ/μ² − 2·Cov(μ, θ)/(μ·θ)), g ± t(0.975, n − 2)·√Var g (first-order propagation of
+/// error; e.g. Casella & Berger, Statistical Inference, §5.5.4, from memory).
+fn fit_mu_and_gain(
+    terms: &[(f64, f64)],
+    t: &[f64],
+) -> Result<(f64, [f64; 2], f64, [f64; 2]), InputError> {
     let refuse = |why: String| {
         Err(InputError::new(
             "fit",
@@ -416,9 +446,18 @@ fn fit_mu_and_gain(terms: &[(f64, f64)], t: &[f64]) -> Result<(f64, [f64; 2], f6
                 .into(),
         );
     }
-    let se = f.se.map_or(f64::NAN, |se| se[0]);
+    let [se_a, se_b] = f.se.unwrap_or([f64::NAN, f64::NAN]);
+    let cov = f.cov_ab.unwrap_or(f64::NAN);
     let tq = student_t_quantile(0.975, (n - 2) as f64);
-    Ok((f.a, [f.a - tq * se, f.a + tq * se], f.b / f.a))
+    let g = f.b / f.a;
+    let var_g = g * g * ((se_b / f.b).powi(2) + (se_a / f.a).powi(2) - 2.0 * cov / (f.a * f.b));
+    let half = tq * var_g.max(0.0).sqrt();
+    Ok((
+        f.a,
+        [f.a - tq * se_a, f.a + tq * se_a],
+        g,
+        [g - half, g + half],
+    ))
 }
 
 /// (max − min)/mean of `values`; NaN for none, infinite for a zero mean.
@@ -579,6 +618,7 @@ pub fn report(
         mu: cal.mu,
         ci95: cal.ci95,
         gain_scale: cal.gain_scale,
+        gain_scale_ci95: cal.gain_scale_ci95,
         passes: observations
             .iter()
             .zip(cal.passes)
@@ -690,6 +730,8 @@ mod tests {
                 base_compression_mm: 10.0,
                 pitch_mm: 0.0,
                 bind_compression_mm: None,
+                release_travel_mm: 0.0,
+                bind_margin_mm: 0.0,
             },
             adjuster_turns: 0.0,
             clamp_loss_n: 0.0,
@@ -859,6 +901,80 @@ mod tests {
         let [lo, hi] = cal.ci95.expect("interval");
         assert!(hi - lo < 1e-9, "{lo}–{hi}");
         assert!(cal.passes.iter().all(|(_, r, _)| r.abs() < 1e-9));
+    }
+
+    // Issue 21: the gain scale's interval by the delta method [derived]: the same passes with
+    // the torques scattered ±3 %; the test works the covariance s²·(XᵀX)⁻¹ out afresh from the
+    // raw 2 × 2 normal equations and carries it to θ/μ by hand. Exact data give a vanishing
+    // interval; badly scattered data are flagged in the notes.
+    #[test]
+    fn the_gain_scale_has_a_delta_method_interval() {
+        let m = example_model();
+        let scatter = [1.03, 0.97, 1.02, 0.98, 1.01];
+        let passes: Vec<Observation> = [
+            (20.0, 6500.0),
+            (40.0, 5000.0),
+            (60.0, 6000.0),
+            (80.0, 5500.0),
+            (30.0, 5200.0),
+        ]
+        .iter()
+        .zip(scatter)
+        .map(|(&(cw, rpm), f)| {
+            let mut p = Observation {
+                lockup_rpm: rpm,
+                torque_nm: 0.0,
+                adjuster_turns: 0.0,
+                counterweight_g: cw,
+                clamp_loss_n: 0.0,
+                springs: None,
+            };
+            p.torque_nm = f * p.law(&m, 0.32, 1.2).capacity_nm(rpm);
+            p
+        })
+        .collect();
+        let cal = calibrate(&m, &passes, Fit::MuAndGain).expect("fits");
+        // By hand: normal equations [Σss Σsk; Σsk Σkk][a; b] = [Σst; Σkt].
+        let (s, k): (Vec<f64>, Vec<f64>) = passes.iter().map(|p| p.terms(&m)).unzip();
+        let t: Vec<f64> = passes.iter().map(|p| p.torque_nm).collect();
+        let dot = |x: &[f64], y: &[f64]| x.iter().zip(y).map(|(a, b)| a * b).sum::<f64>();
+        let (sss, ssk, skk) = (dot(&s, &s), dot(&s, &k), dot(&k, &k));
+        let det = sss * skk - ssk * ssk;
+        let a = (skk * dot(&s, &t) - ssk * dot(&k, &t)) / det;
+        let b = (sss * dot(&k, &t) - ssk * dot(&s, &t)) / det;
+        let sse: f64 = (0..5).map(|i| (t[i] - a * s[i] - b * k[i]).powi(2)).sum();
+        let s2 = sse / 3.0;
+        let (vaa, vbb, vab) = (s2 * skk / det, s2 * sss / det, -s2 * ssk / det);
+        let g = b / a;
+        let se_g = g * (vbb / (b * b) + vaa / (a * a) - 2.0 * vab / (a * b)).sqrt();
+        // Student t(0.975, 3) = 3.182446 (NIST/SEMATECH e-Handbook, Table 1.3.6.7.2).
+        let half = 3.182446 * se_g;
+        let [lo, hi] = cal.gain_scale_ci95.expect("interval");
+        assert!(
+            close(cal.gain_scale.unwrap(), g, 1e-9),
+            "{:?} {g}",
+            cal.gain_scale
+        );
+        assert!(close(hi - lo, 2.0 * half, 1e-5), "{lo}–{hi} vs ±{half}");
+        assert!(close((lo + hi) / 2.0, g, 1e-9));
+        assert!(cal.notes.iter().any(|n| n.contains("delta method")));
+        let poorly = cal.notes.iter().any(|n| n.contains("poorly determined"));
+        assert_eq!(poorly, half > g / 2.0, "{half} vs {g}");
+        assert!(!poorly);
+        // Scatter of ±30 % leaves the lever share unknown: flagged.
+        let wild: Vec<Observation> = passes
+            .iter()
+            .zip([1.3, 0.7, 1.25, 0.75, 1.2])
+            .map(|(p, f)| Observation {
+                torque_nm: p.torque_nm * f,
+                ..*p
+            })
+            .collect();
+        let cal = calibrate(&m, &wild, Fit::MuAndGain).expect("fits");
+        let [lo, hi] = cal.gain_scale_ci95.expect("interval");
+        let g = cal.gain_scale.expect("scale");
+        assert!((hi - lo) / 2.0 > g / 2.0, "{lo}–{hi} around {g}");
+        assert!(cal.notes.iter().any(|n| n.contains("poorly determined")));
     }
 
     // Clamp loss comes off the static clamp: 1000 N less static clamp on the 4-face, 100 mm

@@ -5,7 +5,8 @@
 pub mod request;
 /// The simulation itself: state, modes, the RK4 step, events.
 pub mod simulation;
-/// Slip energy during engagement and the temperature rise it causes.
-pub mod slip;
+/// Closed forms of slip energy and engagement time (textbook checks of the simulation).
+#[cfg(test)]
+mod slip;
 /// The counterweight that meets a lockup-time target or a slip-energy limit in the launch preview.
 pub mod target;

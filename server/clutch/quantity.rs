@@ -326,6 +326,8 @@ pub mod limits {
     pub const COUNTERWEIGHT: Limit = Limit::new(Grams, Incl(0.0), Incl(1000.0));
     pub const LEVER_CG_RADIUS: Limit = Limit::new(Length, Excl(0.0), Incl(300.0));
     pub const LEVER_ARM_RATIO: Limit = Limit::new(Ratio, Excl(0.0), Incl(20.0));
+    /// A lever body's own clamp at 1000 rpm, no counterweight (gain form).
+    pub const LEVER_BODY_FORCE: Limit = Limit::new(Force, Incl(0.0), Incl(10_000.0));
     pub const LEVER_GAIN: Limit = Limit::new(ForcePerGram, Excl(0.0), Incl(100.0));
     pub const SHIM: Limit = Limit::new(Length, Excl(0.0), Incl(5.0));
     pub const SHIM_COUNT: usize = 20;
@@ -342,6 +344,10 @@ pub mod limits {
     pub const SIXTY_FT: Limit = Limit::new(Seconds, Incl(0.5), Incl(10.0));
     pub const ET: Limit = Limit::new(Seconds, Incl(1.0), Incl(60.0));
     pub const PASSES: Limit = Limit::new(Count, Incl(0.0), Incl(100_000.0));
+    /// Further spring compression at full release (the pressure plate's lift at the springs).
+    pub const RELEASE_TRAVEL: Limit = Limit::new(Length, Incl(0.0), Incl(25.0));
+    /// Clearance to coil bind kept at full release.
+    pub const BIND_MARGIN: Limit = Limit::new(Length, Incl(0.0), Incl(5.0));
     pub const SPRING_FREE_LENGTH: Limit = Limit::new(Length, Excl(0.0), Incl(200.0));
     pub const SPRING_COMPRESSION: Limit = Limit::new(Length, Excl(0.0), Incl(100.0));
     pub const SPRING_FORCE: Limit = Limit::new(Force, Excl(0.0), Incl(50_000.0));
@@ -459,6 +465,7 @@ mod tests {
             LEVER_CG_RADIUS,
             LEVER_ARM_RATIO,
             LEVER_GAIN,
+            LEVER_BODY_FORCE,
             SHIM,
             SHIMMING_LIMIT,
             MU,
@@ -472,6 +479,8 @@ mod tests {
             ET,
             PASSES,
             SPRING_FREE_LENGTH,
+            RELEASE_TRAVEL,
+            BIND_MARGIN,
             SPRING_COMPRESSION,
             SPRING_FORCE,
             OVERCLAMP_FACTOR,

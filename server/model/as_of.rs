@@ -20,6 +20,7 @@ use clutch::capacity::request::{
 };
 use clutch::capacity::spring_health::{self, TestReview};
 use clutch::capacity::springs::BenchPoint;
+use clutch::capacity::threads::Thread;
 use clutch::capacity::torque::Theory;
 use clutch::units::Units;
 use clutch::wear::WearRequest;
@@ -148,11 +149,12 @@ impl<'a> BuildAsOf<'a> {
 
     /// Adjuster travel per turn, mm (one thread pitch).
     pub fn pitch_mm(&self) -> f64 {
-        match (self.build.adjuster_tpi, self.build.adjuster_pitch_mm) {
-            (Some(tpi), _) => Units::Imperial.length_to_mm(1.0 / tpi),
-            (None, Some(p)) => p,
-            _ => 0.0,
-        }
+        let thread = match (self.build.adjuster_tpi, self.build.adjuster_pitch_mm) {
+            (Some(tpi), _) => Thread::Tpi(tpi),
+            (None, Some(p)) => Thread::MetricPitch(p),
+            _ => return 0.0,
+        };
+        thread.travel_per_turn_mm("adjuster_tpi").unwrap_or(0.0)
     }
 
     /// The wear request of the disc in the clutch on the date.
@@ -235,6 +237,8 @@ impl<'a> BuildAsOf<'a> {
             arm_ratio: b.lever_arm_ratio.filter(|_| geometry),
             gain: b.lever_gain_n_per_g,
             body_cg_radius: b.lever_body_cg_radius_mm.filter(|_| geometry),
+            body_arm_ratio: None,
+            body_force_at_1000: None,
         });
         let (lo, hi) = curve_range(&car.torque_curve_nm);
         let launch_rpm = car.launch_rpm.filter(|rpm| (lo..=hi).contains(rpm));
@@ -266,6 +270,9 @@ impl<'a> BuildAsOf<'a> {
                     .filter(|_| b.spring_solid_height_mm.is_some())
                     .map(|l| l + base),
                 solid_height: self.installed_length_mm.and(b.spring_solid_height_mm),
+                release_travel: b.release_travel_mm,
+                bind_margin: Some(self.settings.bind_margin_mm),
+                adjuster_turns_each: None,
             },
             levers,
             engine: EngineInput {

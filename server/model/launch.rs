@@ -259,6 +259,34 @@ impl BuildAsOf<'_> {
     }
 }
 
+impl BuildAsOf<'_> {
+    /// The launch preview's slip for `trial` from the car's launch speed, in one sentence
+    /// (see [`clutch::launch::request::LaunchReport::slip_text`]), when the preview can run.
+    pub fn launch_slip_text(&self, trial: Trial) -> Option<String> {
+        let plan = self.launch_request(trial, None).ok()?;
+        let valid = plan.request.validate().ok()?;
+        let run = valid.model.simulate();
+        Some(
+            clutch::launch::request::LaunchReport::of(&run, valid.model.duration_s, valid.units)
+                .slip_text(),
+        )
+    }
+}
+
+/// `warnings` with `slip` (the launch preview's slip sentence) put beside the launch warning
+/// (capacity at the launch speed at least engine torque), when there is one.
+pub fn beside_launch_warning(mut warnings: Vec<String>, slip: Option<&str>) -> Vec<String> {
+    if let Some(slip) = slip
+        && let Some(w) = warnings
+            .iter_mut()
+            .find(|w| clutch::capacity::report::is_launch_grab(w))
+    {
+        w.push(' ');
+        w.push_str(slip);
+    }
+    warnings
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -23,6 +23,9 @@ pub struct BuildInput {
     pub spring_rate_n_per_mm: Option<f64>,
     /// Solid height of the springs (coils touching), mm.
     pub spring_solid_height_mm: Option<f64>,
+    /// Further spring compression at full release (the plate's lift at the springs), mm;
+    /// absent: counted as 0.
+    pub release_travel_mm: Option<f64>,
     /// Adjuster thread: threads per inch, or a metric pitch (exactly one).
     pub adjuster_tpi: Option<f64>,
     pub adjuster_pitch_mm: Option<f64>,
@@ -62,6 +65,7 @@ impl Default for BuildInput {
             spring_description: String::new(),
             spring_rate_n_per_mm: None,
             spring_solid_height_mm: None,
+            release_travel_mm: None,
             adjuster_tpi: None,
             adjuster_pitch_mm: None,
             base_compression_mm: None,
@@ -201,6 +205,17 @@ impl Record for BuildInput {
                 required: false,
                 get: |r| r.spring_solid_height_mm,
                 set: |r, v| r.spring_solid_height_mm = v,
+            },
+        },
+        Field {
+            column: "release_travel_mm",
+            form: "release_travel",
+            label: "Spring release travel",
+            value: Value::Number {
+                limit: limits::RELEASE_TRAVEL,
+                required: false,
+                get: |r| r.release_travel_mm,
+                set: |r, v| r.release_travel_mm = v,
             },
         },
         Field {

@@ -442,6 +442,60 @@ fn check_curve(
     }
 }
 
+/// Reads an edit of the `stored` record from a form typed in `units`, as [`read`] does, except
+/// that a number the person left as the form showed it keeps its stored value exactly: a value
+/// whose text reads as the same number [`to_form`] prefilled (list items and torque-curve rows
+/// one by one) was not edited, so the rounding of the display never reaches the database (a
+/// 0.381 mm limit shown as 0.38 mm stays 0.381 mm when the form is saved untouched).
+pub fn read_edit<R: Record>(form: &FormData, units: Units, stored: &R) -> (R, FieldErrors) {
+    let (mut r, errors) = read::<R>(form, units);
+    let shown = to_form(stored, units);
+    let same = |a: &str, b: &str| match (parse_number(a), parse_number(b)) {
+        (Some(x), Some(y)) => x == y,
+        _ => a.trim().is_empty() && b.trim().is_empty(),
+    };
+    for f in R::FIELDS {
+        let (typed, prefilled) = (form.get(f.form), shown.get(f.form));
+        match &f.value {
+            Value::Number { get, set, .. } if same(typed, prefilled) => set(&mut r, get(stored)),
+            Value::List { get, set, .. } => {
+                let (typed, prefilled): (Vec<&str>, Vec<&str>) =
+                    (list_items(typed).collect(), list_items(prefilled).collect());
+                let mut values = get(&r).to_vec();
+                let old = get(stored);
+                for (i, v) in values.iter_mut().enumerate() {
+                    if let (Some(t), Some(p), Some(o)) =
+                        (typed.get(i), prefilled.get(i), old.get(i))
+                        && same(t, p)
+                    {
+                        *v = *o;
+                    }
+                }
+                set(&mut r, values);
+            }
+            Value::Curve { get, set, .. } => {
+                let (typed, prefilled) = (dyno_rows(typed), dyno_rows(prefilled));
+                let mut points = get(&r).to_vec();
+                let old = get(stored);
+                // Rows line up with the points only when every typed row was read.
+                if typed.len() == points.len() {
+                    for (i, p) in points.iter_mut().enumerate() {
+                        if let (Some(Ok(t)), Some(Ok(s)), Some(o)) =
+                            (typed.get(i), prefilled.get(i), old.get(i))
+                            && t == s
+                        {
+                            *p = *o;
+                        }
+                    }
+                }
+                set(&mut r, points);
+            }
+            _ => {}
+        }
+    }
+    (r, errors)
+}
+
 /// `v` with `decimals`, trailing zeros dropped ("1.500" → "1.5").
 fn trimmed(v: f64, decimals: usize) -> String {
     let s = format!("{v:.decimals$}");

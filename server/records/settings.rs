@@ -30,10 +30,18 @@ pub struct SettingsInput {
     /// before the setting existed keep 1).
     #[serde(default = "full_share")]
     pub extra_face_efficiency: f64,
+    /// Clearance to coil bind kept at full release, mm (sheets printed before the setting
+    /// existed take the default 0.5 mm).
+    #[serde(default = "default_bind_margin")]
+    pub bind_margin_mm: f64,
 }
 
 fn full_share() -> f64 {
     1.0
+}
+
+fn default_bind_margin() -> f64 {
+    clutch::capacity::clamp::DEFAULT_BIND_MARGIN_MM
 }
 
 impl Default for SettingsInput {
@@ -51,6 +59,7 @@ impl Default for SettingsInput {
             due_within_passes: 0,
             time_zone: String::new(),
             extra_face_efficiency: full_share(),
+            bind_margin_mm: default_bind_margin(),
         }
     }
 }
@@ -205,6 +214,18 @@ impl Record for SettingsInput {
                 get: |r| Some(r.extra_face_efficiency),
                 // Blank: every face carries its full share.
                 set: |r, v| r.extra_face_efficiency = v.unwrap_or_else(full_share),
+            },
+        },
+        Field {
+            column: "bind_margin_mm",
+            form: "bind_margin",
+            label: "Coil-bind margin",
+            value: Value::Number {
+                limit: limits::BIND_MARGIN,
+                required: false,
+                get: |r| Some(r.bind_margin_mm),
+                // Blank: the default 0.5 mm.
+                set: |r, v| r.bind_margin_mm = v.unwrap_or_else(default_bind_margin),
             },
         },
         Field {

@@ -57,7 +57,15 @@ async fn the_worked_file_answers_as_the_contract_documents() {
                "clutch_torque": 600.0, "slip_power_kw": 377.0})
     );
     assert_eq!(v["trace"].as_array().unwrap().len(), 101);
-    assert_eq!(v["notes"], json!([]));
+    // Issue 21, items 7 and 5: the notes name the hold the launch and the lowest engine speed
+    // are read with, and (with "auto") which rule decided the time unit.
+    assert_eq!(
+        v["notes"],
+        json!([
+            "The launch and the lowest engine speed are read with a hold, as the lockup is: a change counts only when it lasts 3 samples in a row (20 ms and at least 3 samples), so one noisy sample neither starts the launch nor sets the minimum.",
+            "The time column was read in seconds: nothing names ms, its median step (0.01) is below 0.5 and it spans 1, not more than 600."
+        ])
+    );
     // Without the engine: the events, but no torque or energy.
     let mut body = calc_body(worked_csv());
     body.as_object_mut().unwrap().remove("engine");

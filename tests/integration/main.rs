@@ -25,5 +25,6 @@ mod status;
 mod support;
 mod tune;
 mod units;
+mod untouched;
 mod wear;
 mod workflow;

@@ -289,11 +289,13 @@ async fn switching_the_display_units_keeps_the_stored_values() {
         metric.body.contains("Settings saved."),
         "the save is confirmed"
     );
+    // Saved again as shown (0.38 mm, untouched): the stored 0.381 mm stays (issue 21, item 6;
+    // this used to store the rounded 0.38).
     assert_eq!(
         save("imperial", "metric", "0.38").await.status,
         StatusCode::SEE_OTHER
     );
-    assert!((stored().await - 0.38).abs() < 1e-12);
+    assert_eq!(stored().await, before);
 }
 
 #[tokio::test]

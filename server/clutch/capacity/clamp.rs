@@ -35,7 +35,16 @@ pub struct SpringPack {
     pub pitch_mm: f64,
     /// Compression at which the coils touch (free length − solid height), mm, when known.
     pub bind_compression_mm: Option<f64>,
+    /// Further compression when the clutch is fully released (the plate lifts), mm; 0 when
+    /// unknown.
+    pub release_travel_mm: f64,
+    /// Clearance to coil bind to keep at full release, mm.
+    pub bind_margin_mm: f64,
 }
+
+/// Clearance to coil bind kept at full release unless the request or the shop says otherwise,
+/// mm: 0.5 mm (0.0197 in) in both unit systems (common shop practice, no published source).
+pub const DEFAULT_BIND_MARGIN_MM: f64 = 0.5;
 
 impl SpringPack {
     /// Spring compression, mm: base + turns × pitch (each turn adds one pitch).
@@ -48,13 +57,33 @@ impl SpringPack {
         self.rate_n_per_mm * self.compression_mm(turns)
     }
 
-    /// Adjuster turns at which the springs reach solid height (coil bind): (x_bind − x_base) /
-    /// pitch. `None` when the solid height or the pitch is unknown; 0 when they are already
-    /// solid at zero turns. Past it the spring is no longer a spring: load rises without limit
-    /// and the coils or the adjusters are damaged.
+    /// Most adjuster turns that keep the bind margin with the clutch fully released:
+    /// (x_bind − x_base − release travel − margin) / pitch, floored at 0. `None` when the solid
+    /// height or the pitch is unknown. Releasing the clutch compresses the springs further, so
+    /// the clearance that matters is the one left at full release; past solid height the spring
+    /// is no longer a spring: load rises without limit and the coils, adjusters or cover can be
+    /// damaged.
     pub fn coil_bind_turns(&self) -> Option<f64> {
         let bind = self.bind_compression_mm?;
-        (self.pitch_mm > 0.0).then(|| ((bind - self.base_compression_mm) / self.pitch_mm).max(0.0))
+        (self.pitch_mm > 0.0).then(|| {
+            ((bind - self.base_compression_mm - self.release_travel_mm - self.bind_margin_mm)
+                / self.pitch_mm)
+                .max(0.0)
+        })
+    }
+
+    /// Clearance to coil bind at full release, mm: x_bind − (x_base + turns·pitch + release
+    /// travel); negative past bind. `None` without the solid height.
+    pub fn coil_bind_clearance_mm(&self, turns: f64) -> Option<f64> {
+        let bind = self.bind_compression_mm?;
+        Some(bind - (self.compression_mm(turns) + self.release_travel_mm))
+    }
+
+    /// Whether `turns` leaves less than the bind margin at full release (the rule the answer
+    /// warns by and every per-adjuster check uses). False without the solid height.
+    pub fn short_of_margin(&self, turns: f64) -> bool {
+        self.coil_bind_clearance_mm(turns)
+            .is_some_and(|c| c < self.bind_margin_mm - 1e-9)
     }
 
     /// Static clamp of all springs acting in parallel, N: count × k × x
@@ -111,15 +140,27 @@ pub fn speed_for_force_rpm(mass_g: f64, radius_mm: f64, force_n: f64) -> f64 {
     (force_n / (mass_g / 1000.0 * radius_mm / 1000.0)).sqrt() / rpm_to_rad_s(1.0)
 }
 
+/// Where a lever's own body sits, when it is not with the counterweight: the radius of its
+/// centre of gravity and its own arm ratio (each `None`: the counterweight's).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct LeverBody {
+    /// Radius of the body's centre of gravity, mm.
+    pub cg_radius_mm: Option<f64>,
+    /// The body's own arm ratio a_body/b.
+    pub arm_ratio: Option<f64>,
+}
+
 /// The levers, in internal units. Build it with [`LeverSet::from_geometry`] or
 /// [`LeverSet::from_gain`] from validated values.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct LeverSet {
     /// Number of levers (0 for a spring-only clutch).
     pub count: u32,
-    /// Mass of one lever itself as if it sat at the counterweight's radius, g: its mass times
-    /// the radius of its own centre of gravity over the counterweight's (F = m·r·ω² is linear
-    /// in m·r), so it counts with the counterweight.
+    /// Mass of one lever itself as if it sat on the counterweight (its radius and arm), g: its
+    /// mass times the radius of its own centre of gravity over the counterweight's, times its
+    /// own arm ratio over the counterweight's (the clamp is linear in m·r·(a/b)), so it counts
+    /// with the counterweight. In the gain form with a measured body force: that force over the
+    /// gain.
     pub lever_mass_g: f64,
     /// Axial clamp per gram on one lever per (rev/min)², N/(g·rpm²).
     pub n_per_g_rpm2: f64,
@@ -128,22 +169,34 @@ pub struct LeverSet {
 impl LeverSet {
     /// Levers from geometry. Moment balance about the pivot: F_clamp = m·r_cg·ω²·(a/b), with
     /// a the arm of the centrifugal force and b the arm of the plate reaction (the same balance
-    /// as the bell-crank spring governor). r_cg in mm, arm ratio a/b > 0. With the lever body's
-    /// own CG radius, the body adds m_body·r_body·ω²·(a/b) and the counterweight sits at
-    /// r_cg; without it the body counts at r_cg (both assume the body's centrifugal force acts
-    /// on the same arm a as the weight's).
+    /// as the bell-crank spring governor). r_cg in mm, arm ratio a/b > 0. Each part of the lever
+    /// adds its own moment: the body m_body·r_body·ω²·(a_body/b), at its own CG radius and on
+    /// its own arm; without them it counts at the counterweight's radius and arm.
     pub fn from_geometry(
         count: u32,
         lever_mass_g: f64,
         cg_radius_mm: f64,
         arm_ratio: f64,
-        body_cg_radius_mm: Option<f64>,
+        body: LeverBody,
     ) -> Self {
-        let body_share = body_cg_radius_mm.map_or(1.0, |r| r / cg_radius_mm);
+        let radius_share = body.cg_radius_mm.map_or(1.0, |r| r / cg_radius_mm);
+        let arm_share = body.arm_ratio.map_or(1.0, |a| a / arm_ratio);
         Self {
             count,
-            lever_mass_g: lever_mass_g * body_share,
+            lever_mass_g: lever_mass_g * radius_share * arm_share,
             n_per_g_rpm2: centrifugal_force_n(1.0, cg_radius_mm, 1.0) * arm_ratio,
+        }
+    }
+
+    /// Levers from a measured gain of the counterweight (clamp per gram per lever at
+    /// 1000 rev/min, N/g) and the lever body's own measured clamp at 1000 rev/min with no
+    /// counterweight, N: F_clamp = (gain × m + F_body) × (n/1000)². The gain belongs to the
+    /// counterweight's position only; the body adds its fixed term.
+    pub fn from_gain_and_body(count: u32, gain_n_per_g_at_1000: f64, body_n_at_1000: f64) -> Self {
+        Self {
+            count,
+            lever_mass_g: body_n_at_1000 / gain_n_per_g_at_1000,
+            n_per_g_rpm2: gain_n_per_g_at_1000 / 1.0e6,
         }
     }
 
@@ -203,7 +256,7 @@ mod tests {
         let f = centrifugal_force_n(100.0, 76.2, 6000.0);
         assert!((f - 3008.2554).abs() < 5e-4, "{f}");
         assert!((f / N_PER_LBF - 676.2827).abs() < 5e-4);
-        let levers = LeverSet::from_geometry(3, 0.0, 76.2, 2.0, None);
+        let levers = LeverSet::from_geometry(3, 0.0, 76.2, 2.0, LeverBody::default());
         assert!((levers.per_lever_n(100.0, 6000.0) - 6016.51).abs() < 5e-3);
         assert!((levers.total_n(100.0, 6000.0) - 3.0 * 6016.51).abs() < 2e-2);
     }
@@ -214,17 +267,46 @@ mod tests {
     // add 40 % instead of 20 %.
     #[test]
     fn a_lever_body_nearer_the_axis_pulls_in_proportion_to_its_radius() {
-        let split = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, Some(38.1));
+        let split = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, at(Some(38.1), None));
         assert!((split.per_lever_n(100.0, 6000.0) - 1.2 * 6016.51).abs() < 5e-3);
-        let lumped = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, None);
+        let lumped = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, LeverBody::default());
         assert!((lumped.per_lever_n(100.0, 6000.0) - 1.4 * 6016.51).abs() < 5e-3);
-        let same = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, Some(76.2));
+        let same = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, at(Some(76.2), None));
         assert_eq!(same, lumped);
+    }
+
+    fn at(cg_radius_mm: Option<f64>, arm_ratio: Option<f64>) -> LeverBody {
+        LeverBody {
+            cg_radius_mm,
+            arm_ratio,
+        }
+    }
+
+    // Issue 21, item 3 [derived by hand from F = m·r·ω²·(a/b) per part, ω = 628.3185 rad/s]:
+    // weight 100 g at 76.2 mm on a/b = 2.0: 0.1 × 0.0762 × 394 784.18 × 2.0 = 6016.51 N; body
+    // 40 g at 38.1 mm on its own a/b = 1.2: 0.04 × 0.0381 × 394 784.18 × 1.2 = 721.98 N; one
+    // lever clamps 6738.49 N at 6000 rpm. Measured instead at 1000 rpm (÷ 36): gain
+    // 6016.51/100/36 = 1.671253 N/g and body 721.98/36 = 20.0550 N give the same 6738.49 N.
+    // Counted on the weight's arm (before) the body gave 1203.30 N (7219.81 N in all).
+    #[test]
+    fn a_lever_body_pulls_on_its_own_arm() {
+        let own = LeverSet::from_geometry(1, 40.0, 76.2, 2.0, at(Some(38.1), Some(1.2)));
+        let f = own.per_lever_n(100.0, 6000.0);
+        assert!((f - 6738.49).abs() < 5e-3, "{f}");
+        assert!((own.per_lever_n(0.0, 6000.0) - 721.98).abs() < 5e-3);
+        let measured = LeverSet::from_gain_and_body(1, 1.671253, 20.0550);
+        let g = measured.per_lever_n(100.0, 6000.0);
+        assert!((g - 6738.49).abs() < 0.01, "{g}");
+        // Its own arm equal to the weight's: the answer of before, bit for bit.
+        assert_eq!(
+            LeverSet::from_geometry(1, 40.0, 76.2, 2.0, at(Some(38.1), Some(2.0))),
+            LeverSet::from_geometry(1, 40.0, 76.2, 2.0, at(Some(38.1), None))
+        );
     }
 
     #[test]
     fn gain_form_equals_geometry_form_when_gain_is_the_force_at_1000_rpm() {
-        let geo = LeverSet::from_geometry(3, 12.0, 104.14, 2.6, None);
+        let geo = LeverSet::from_geometry(3, 12.0, 104.14, 2.6, LeverBody::default());
         let gain = geo.per_lever_n(1.0, 1000.0) - geo.per_lever_n(0.0, 1000.0);
         let cal = LeverSet::from_gain(3, 12.0, gain);
         let (a, b) = (geo.total_n(24.0, 6500.0), cal.total_n(24.0, 6500.0));
@@ -239,11 +321,45 @@ mod tests {
             base_compression_mm: 5.0,
             pitch_mm: 1.5875,
             bind_compression_mm: Some(12.0),
+            release_travel_mm: 0.0,
+            bind_margin_mm: 0.0,
         };
         assert!((pack.compression_mm(2.0) - 8.175).abs() < 1e-12);
         assert!((pack.static_clamp_n(2.0) - 6.0 * 60.0 * 8.175).abs() < 1e-9);
         // [D] coils touch at 12 mm of compression: (12 − 5)/1.5875 = 4.409 turns.
         assert!((pack.coil_bind_turns().unwrap() - 7.0 / 1.5875).abs() < 1e-12);
+    }
+
+    // Worked check of issue 21 [derived from the stated rule]: free 2.100 in, solid 1.600 in,
+    // base 0.220 in, 16 TPI (0.0625 in per turn), release travel 0.050 in, margin 0.020 in:
+    // (0.500 − 0.220 − 0.050 − 0.020) × 16 = 3.36 turns; at 3.36 turns the released clearance
+    // is the margin, 0.020 in; at 3.5 turns it is 0.020 − 0.14·0.0625 = 0.01125 in, short.
+    #[test]
+    fn coil_bind_turns_keep_the_margin_at_full_release() {
+        let inch = crate::units::MM_PER_IN;
+        let pack = SpringPack {
+            count: 6,
+            rate_n_per_mm: 60.0,
+            base_compression_mm: 0.220 * inch,
+            pitch_mm: 0.0625 * inch,
+            bind_compression_mm: Some((2.100 - 1.600) * inch),
+            release_travel_mm: 0.050 * inch,
+            bind_margin_mm: 0.020 * inch,
+        };
+        let t = pack.coil_bind_turns().expect("known");
+        assert!((t - 3.36).abs() < 1e-9, "{t}");
+        let c = pack.coil_bind_clearance_mm(3.36).expect("known") / inch;
+        assert!((c - 0.020).abs() < 1e-9, "{c}");
+        assert!(!pack.short_of_margin(3.36));
+        let c = pack.coil_bind_clearance_mm(3.5).expect("known") / inch;
+        assert!((c - 0.01125).abs() < 1e-9, "{c}");
+        assert!(pack.short_of_margin(3.5));
+        // Floored at 0 when even zero turns leave less than the margin.
+        let tight = SpringPack {
+            release_travel_mm: 0.3 * inch,
+            ..pack
+        };
+        assert_eq!(tight.coil_bind_turns(), Some(0.0));
     }
 
     #[test]

@@ -229,21 +229,37 @@ pub const KNIFE_EDGE_MU_DROP: f64 = 0.01;
 /// notices in a data log).
 pub const KNIFE_EDGE_RPM: f64 = 250.0;
 
-/// Where the lockup would be with 1 % less friction, when that moves it by more than
-/// [`KNIFE_EDGE_RPM`] (`Some(None)`: it would then slip at the top). The answer is exact for
-/// the law as given; this flags the laws whose capacity only just touches the engine curve
-/// somewhere above the lockup, where a tiny change of μ flips the answer between speeds far
+/// Where the lockup would be with 1 % less and with 1 % more friction, each when that moves
+/// it by more than [`KNIFE_EDGE_RPM`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct KnifeEdge {
+    /// With 1 % less μ: `Some(None)` it would then slip at the top, `Some(Some(rpm))` lock up
+    /// there; `None` when it moves little.
+    pub less: Option<Option<f64>>,
+    /// With 1 % more μ: the lower lockup speed, when it moves by more than the threshold.
+    pub more: Option<f64>,
+}
+
+/// Whether the lockup is on a knife edge: 1 % less or 1 % more friction moves it by more than
+/// [`KNIFE_EDGE_RPM`] (`None`: neither does, or it slips at the top already). The answer is
+/// exact for the law as given; this flags the laws whose capacity only just touches the engine
+/// curve somewhere above the lockup (less μ moves it up) or only just misses it somewhere
+/// below (more μ moves it down), where a tiny change of μ flips the answer between speeds far
 /// apart.
-pub fn knife_edge(law: &CapacityLaw, engine: &TorqueCurve) -> Option<Option<f64>> {
+pub fn knife_edge(law: &CapacityLaw, engine: &TorqueCurve) -> Option<KnifeEdge> {
     let now = law.lockup_rpm(engine)?;
-    let lower = CapacityLaw {
-        nm_per_n: law.nm_per_n * (1.0 - KNIFE_EDGE_MU_DROP),
+    let scaled = |f: f64| CapacityLaw {
+        nm_per_n: law.nm_per_n * f,
         ..*law
     };
-    match lower.lockup_rpm(engine) {
+    let less = match scaled(1.0 - KNIFE_EDGE_MU_DROP).lockup_rpm(engine) {
         Some(l) if l - now <= KNIFE_EDGE_RPM => None,
         other => Some(other),
-    }
+    };
+    let more = scaled(1.0 + KNIFE_EDGE_MU_DROP)
+        .lockup_rpm(engine)
+        .filter(|l| now - l > KNIFE_EDGE_RPM);
+    (less.is_some() || more.is_some()).then_some(KnifeEdge { less, more })
 }
 
 /// The capacity curve over the whole engine curve: its first speed, every multiple of
@@ -388,12 +404,34 @@ mod tests {
         assert_eq!(touching.lockup_rpm(&e), Some(3000.0));
         let moved = knife_edge(&touching, &e)
             .expect("flagged")
+            .less
+            .expect("less μ moves it")
             .expect("still locks");
         assert!((moved - 5480.0).abs() < 1e-6, "{moved}");
         // Plenty of margin: no flag.
         assert_eq!(knife_edge(&law(600.0, 0.0), &e), None);
         // Slipping at the top already: nothing to flag.
         assert_eq!(knife_edge(&law(429.0, 0.0), &e), None);
+    }
+
+    // Issue 21 [derived, linear algebra]: torque 400 N·m flat to 6000 rpm, then falling to
+    // 300 N·m at 7000 rpm. A constant capacity of 399 N·m locks up where the torque falls below
+    // it, 6000 + 1000·1/100 = 6010 rpm; 1 % less (395.01) locks at 6049.9 rpm, a small move; 1 %
+    // more (402.99) holds everywhere: lockup at 3000 rpm, 3010 rpm lower. Flagged by the +1 % try
+    // alone.
+    #[test]
+    fn a_capacity_that_only_just_misses_below_the_lockup_is_flagged_too() {
+        let e = TorqueCurve::new(
+            &[(3000.0, 400.0), (6000.0, 400.0), (7000.0, 300.0)],
+            "c",
+            crate::units::Units::Metric,
+        )
+        .expect("valid curve");
+        let l = law(399.0, 0.0);
+        assert!(l.lockup_rpm(&e).is_some_and(|r| (r - 6010.0).abs() < 1e-9));
+        let k = knife_edge(&l, &e).expect("flagged");
+        assert_eq!(k.less, None);
+        assert_eq!(k.more, Some(3000.0));
     }
 
     #[test]

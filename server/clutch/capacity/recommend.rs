@@ -134,6 +134,9 @@ pub struct Setting {
 pub struct SettingResult {
     /// Lockup speed, rev/min (null: slips at the top).
     pub lockup_rpm: Option<f64>,
+    /// True when the lockup is "at or below" the curve's first speed (left out when false).
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub lockup_at_or_below: bool,
     /// Capacity / engine torque at launch (null without launch_rpm).
     pub launch_ratio: Option<f64>,
     /// Static spring clamp (lbf / N).
@@ -306,10 +309,11 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         req.limits.max_adjuster_turns,
         upper(limits::ADJUSTER_TURNS.max),
     )?;
-    // Settings at or past coil bind are not settings: the grid stops short of it.
+    // Settings that leave less than the bind margin at full release are not settings: the
+    // grid stops at coil_bind_turns (0 turns always stays, with its warning if it is short).
     if let Some(bind) = valid.model.springs.coil_bind_turns() {
-        let below = ((bind / turn_step) * (1.0 - 1e-12)).ceil().max(1.0) as usize;
-        turns_n = turns_n.min(below);
+        let within = ((bind / turn_step) * (1.0 + 1e-12)).floor() as usize + 1;
+        turns_n = turns_n.min(within);
     }
     let (weight_step, weights) = grid(
         "steps.counterweight_g",
@@ -352,6 +356,7 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
     let report = capacity(&chosen)?;
     let result = SettingResult {
         lockup_rpm: report.lockup_rpm,
+        lockup_at_or_below: report.lockup_at_or_below,
         launch_ratio: report.launch.as_ref().map(|l| l.ratio),
         static_clamp: report.static_clamp,
     };

@@ -7,7 +7,7 @@
 //! consistency errors with the JSON path of the field.
 
 use crate::InputError;
-use crate::capacity::clamp::{LeverSet, SpringPack};
+use crate::capacity::clamp::{LeverBody, LeverSet, SpringPack};
 use crate::capacity::friction::{FacingMaterial, friction_surfaces};
 use crate::capacity::lockup::ClutchModel;
 use crate::capacity::torque::{Theory, effective_radius_mm};
@@ -107,6 +107,18 @@ pub struct SpringsInput {
     /// Solid height of the springs, coils touching (in / mm), with `free_length`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub solid_height: Option<f64>,
+    /// Further spring compression at full release (in / mm): the pressure plate's lift at the
+    /// springs. Absent: counted as 0, and the answer's notes say so.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub release_travel: Option<f64>,
+    /// Clearance to coil bind to keep at full release (in / mm; default 0.5 mm = 0.0197 in,
+    /// common shop practice, no published source).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bind_margin: Option<f64>,
+    /// Turns of each adjuster when they were set one by one: each is checked against coil
+    /// bind by the same rule as `adjuster_turns`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub adjuster_turns_each: Option<Vec<f64>>,
 }
 
 fn is_zero(v: &f64) -> bool {
@@ -134,9 +146,18 @@ pub struct LeversInput {
     /// at `cg_radius`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub body_cg_radius: Option<f64>,
+    /// The lever body's own arm ratio (its centrifugal force's arm over the plate reaction's),
+    /// with `cg_radius` and `arm_ratio`; absent: the body acts on `arm_ratio`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub body_arm_ratio: Option<f64>,
     /// Clamp per gram per lever at 1000 rpm (lbf / N), instead of cg_radius and arm_ratio.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub gain: Option<f64>,
+    /// With `gain`: the clamp one lever gives at 1000 rpm with no counterweight (lbf / N), its
+    /// body's own share measured; then the gain counts for the counterweight only and
+    /// `lever_mass_g` is not used. Absent: the lever's mass counts with the gain.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub body_force_at_1000: Option<f64>,
 }
 
 /// Engine data.
@@ -168,6 +189,10 @@ pub struct ValidRequest {
     pub overclamp_factor: f64,
     /// Facing material, if given.
     pub material: Option<FacingMaterial>,
+    /// Turns of each adjuster, when given.
+    pub adjuster_turns_each: Vec<f64>,
+    /// Plain-English notes on the inputs (assumed values).
+    pub notes: Vec<String>,
 }
 
 /// A bound that reads as a round number in each system: (imperial, metric).
@@ -194,10 +219,13 @@ impl CapacityRequest {
         r.springs.clamp_loss = force(r.springs.clamp_loss);
         r.springs.free_length = r.springs.free_length.map(len);
         r.springs.solid_height = r.springs.solid_height.map(len);
+        r.springs.release_travel = r.springs.release_travel.map(len);
+        r.springs.bind_margin = r.springs.bind_margin.map(len);
         if let Some(l) = r.levers.as_mut() {
             l.cg_radius = l.cg_radius.map(len);
             l.body_cg_radius = l.body_cg_radius.map(len);
             l.gain = l.gain.map(force);
+            l.body_force_at_1000 = l.body_force_at_1000.map(force);
         }
         for p in &mut r.engine.torque_curve {
             p[1] = torque(p[1]);
@@ -273,6 +301,25 @@ impl CapacityRequest {
             )?),
             None => None,
         };
+        let adjuster_turns_each = match &self.springs.adjuster_turns_each {
+            Some(each) => {
+                crate::capacity::clamp::check_adjusters(each, "springs.adjuster_turns_each")
+                    .map(|_| each.clone())?
+            }
+            None => Vec::new(),
+        };
+        let mut notes = Vec::new();
+        if springs.bind_compression_mm.is_some() {
+            if self.springs.release_travel.is_none() {
+                notes.push("No release travel was given: it counts as 0, so the coil-bind figures hold for the engaged clutch only. Measure how far the springs compress further at full release and enter it.".to_string());
+            }
+            if self.springs.bind_margin.is_none() {
+                notes.push(format!(
+                    "The clearance kept to coil bind is the default {} (common shop practice).",
+                    crate::quantity::Kind::Length.show(u, springs.bind_margin_mm)
+                ));
+            }
+        }
         let overclamp_factor = match self.overclamp_factor {
             Some(f) => limits::OVERCLAMP_FACTOR.check("overclamp_factor", f, u)?,
             None => DEFAULT_OVERCLAMP_FACTOR,
@@ -295,6 +342,8 @@ impl CapacityRequest {
             rated_torque_nm,
             overclamp_factor,
             material: self.friction.material,
+            adjuster_turns_each,
+            notes,
         })
     }
 
@@ -315,6 +364,14 @@ impl CapacityRequest {
                 u,
             )?,
             bind_compression_mm: self.bind_compression_mm()?,
+            release_travel_mm: match s.release_travel {
+                Some(r) => limits::RELEASE_TRAVEL.check_shown("springs.release_travel", r, u)?,
+                None => 0.0,
+            },
+            bind_margin_mm: match s.bind_margin {
+                Some(m) => limits::BIND_MARGIN.check_shown("springs.bind_margin", m, u)?,
+                None => crate::capacity::clamp::DEFAULT_BIND_MARGIN_MM,
+            },
         })
     }
 
@@ -363,6 +420,28 @@ impl LeversInput {
             Some(r) => Some(limits::LEVER_CG_RADIUS.check_shown("levers.body_cg_radius", r, u)?),
             None => None,
         };
+        let body_arm = match self.body_arm_ratio {
+            Some(_) if self.gain.is_some() => {
+                return Err(InputError::new(
+                    "levers.body_arm_ratio",
+                    "works with cg_radius and arm_ratio, not with gain (give body_force_at_1000)",
+                ));
+            }
+            Some(a) => Some(limits::LEVER_ARM_RATIO.check("levers.body_arm_ratio", a, u)?),
+            None => None,
+        };
+        let body_force = match self.body_force_at_1000 {
+            Some(_) if self.gain.is_none() => {
+                return Err(InputError::new(
+                    "levers.body_force_at_1000",
+                    "works with gain, not with cg_radius and arm_ratio (give body_cg_radius and body_arm_ratio)",
+                ));
+            }
+            Some(f) => {
+                Some(limits::LEVER_BODY_FORCE.check_shown("levers.body_force_at_1000", f, u)?)
+            }
+            None => None,
+        };
         match (self.gain, self.cg_radius, self.arm_ratio) {
             (Some(_), Some(_), _) | (Some(_), _, Some(_)) => Err(InputError::new(
                 "levers.gain",
@@ -370,7 +449,10 @@ impl LeversInput {
             )),
             (Some(gain), None, None) => {
                 let gain = limits::LEVER_GAIN.check_shown("levers.gain", gain, u)?;
-                Ok(LeverSet::from_gain(count, lever_mass, gain))
+                Ok(match body_force {
+                    Some(f) => LeverSet::from_gain_and_body(count, gain, f),
+                    None => LeverSet::from_gain(count, lever_mass, gain),
+                })
             }
             (None, Some(r), Some(ratio)) => {
                 let r = limits::LEVER_CG_RADIUS.check_shown("levers.cg_radius", r, u)?;
@@ -380,7 +462,10 @@ impl LeversInput {
                     lever_mass,
                     r,
                     ratio,
-                    body_radius,
+                    LeverBody {
+                        cg_radius_mm: body_radius,
+                        arm_ratio: body_arm,
+                    },
                 ))
             }
             (None, None, _) => Err(InputError::new(

@@ -69,7 +69,9 @@ pub fn torque_capacity_faces_nm(
 /// Why: in a twin or triple disc the floater plates slide on drive lugs or pins, and the
 /// friction there takes part of the clamp before it reaches the faces further along the stack.
 /// From memory; no published value for η was found, so the default is 1.0 (every face counts
-/// fully, the textbook T = n·μ·F·r_eff) and the shop sets its own.
+/// fully, the textbook T = n·μ·F·r_eff) and the shop sets its own. η is per face beyond the
+/// first two, not per disc or per stack: a figure for a whole stack ("a twin holds 1.8 times a
+/// single") maps as η = ratio − 1 for a twin and η = (ratio − 1)/2 for a triple.
 pub fn effective_faces(surfaces: u32, extra_efficiency: f64) -> f64 {
     let n = f64::from(surfaces);
     if n <= 2.0 {
@@ -183,6 +185,14 @@ mod tests {
     fn pressure_to_wear_radius_ratio_for_d_over_d_two() {
         let ratio = r_eff(2.0, 1.0, Theory::UniformPressure) / r_eff(2.0, 1.0, Theory::UniformWear);
         assert!((ratio - 1.037037).abs() < 5e-7);
+    }
+
+    // [D] from the formula 2 + (n − 2)·η: a twin said to hold 1.8 times a single disc is
+    // 2 + 2η = 3.6 faces, η = 0.8; a triple said to hold 2.6 times is 2 + 4η = 5.2, η = 0.8.
+    #[test]
+    fn a_whole_stack_figure_maps_onto_the_per_face_share() {
+        assert!((effective_faces(4, 1.8 - 1.0) / 2.0 - 1.8).abs() < 1e-12);
+        assert!((effective_faces(6, (2.6 - 1.0) / 2.0) / 2.0 - 2.6).abs() < 1e-12);
     }
 
     // [D] from the formula 2 + (n − 2)·η (the η itself is from memory): a twin disc (4 faces)

@@ -4,16 +4,20 @@
 //!
 //! Methods (docs/engineering.md §21):
 //! - slip % = 100·(N_e − N_in)/N_e;
-//! - launch: the clutch switch if there is one, else the first sample where the input speed is
-//!   above 100 rpm for 3 samples in a row, moved back to N_in = 0 along a least-squares line
-//!   through the samples of the 50 ms from it (never before the file's start);
+//! - launch: the clutch switch's first change of state that holds for 20 ms (at least 3
+//!   samples) if there is one, else the first sample where the input speed is above 100 rpm
+//!   for as long, moved back to N_in = 0 along a least-squares line through the samples of the
+//!   50 ms from it (never before the file's start);
+//! - lowest engine speed: the lowest level it stays at for that hold (one noisy sample does
+//!   not set it);
 //! - lockup: the first time after launch that slip falls below `slip_on_pct` and stays below
 //!   for `hold_s`, reported as the linearly interpolated crossing;
 //! - clutch torque from the engine side, T_c = T_e(N_e) − I_e·dω_e/dt, the derivative by a
 //!   centred quadratic Savitzky–Golay filter over the smallest odd number of samples spanning
 //!   60 ms (at least 5) ([`crate::datalog::savgol`]);
-//! - slip power P = T_c·max(0, ω_e − ω_in); slip energy the trapezoid sum of P from the first
-//!   sample at or after launch to the end of the lockup's hold window;
+//! - slip power P = T_c·max(0, ω_e − ω_in); slip energy the trapezoid sum of P from the launch
+//!   instant (P there interpolated between the samples around it; a sample within 1e-9 s of it
+//!   is the launch sample) to the end of the lockup's hold window;
 //! - tyre spin where the driven wheels run more than 15 % faster than the undriven ones for at
 //!   least 50 ms.
 //!
@@ -29,6 +33,11 @@ use crate::units::rpm_to_rad_s;
 pub const LAUNCH_RPM: f64 = 100.0;
 /// Samples in a row above [`LAUNCH_RPM`].
 pub const LAUNCH_SAMPLES: usize = 3;
+/// A change of state (the clutch switch, the input speed past [`LAUNCH_RPM`]) or a dip of
+/// engine speed counts only when it lasts this long, s, and at least [`LAUNCH_SAMPLES`]
+/// samples: the same hold idea as the lockup's, so one noisy sample neither starts the launch
+/// nor sets the lowest engine speed (our own choice, no published source).
+pub const EVENT_HOLD_S: f64 = 0.020;
 /// Span of the line moved back to zero input speed, s.
 pub const LAUNCH_FIT_S: f64 = 0.050;
 /// Time the derivative window spans at least, s.
@@ -199,10 +208,64 @@ pub fn median(values: &mut [f64]) -> Option<f64> {
     }
 }
 
-/// Whether a clock in a file given in unknown units is in milliseconds: its median step is
-/// 0.5 or more (a logger at 2 Hz or faster in seconds steps by less).
+/// A time span no pass lasts, in the file's own units: a clock spanning more than this is in
+/// milliseconds (600 s is ten minutes).
+pub const MS_SPAN: f64 = 600.0;
+
+/// Which rule decided the unit of a clock given in unknown units.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ClockRule {
+    /// The header or units line names milliseconds.
+    Named,
+    /// The median step is 0.5 or more (a logger at 2 Hz or faster in seconds steps by less).
+    Step,
+    /// The clock spans more than [`MS_SPAN`] (no pass lasts ten minutes).
+    Span,
+    /// None of those: seconds.
+    Seconds,
+}
+
+impl ClockRule {
+    /// Whether the clock is in milliseconds.
+    pub fn is_ms(self) -> bool {
+        self != Self::Seconds
+    }
+}
+
+/// The unit of a clock given in unknown units: milliseconds when `named_ms` (the header or
+/// units line says so), when its median step is 0.5 or more, or when it spans more than
+/// [`MS_SPAN`]; otherwise seconds.
+pub fn clock_rule(time: &[f64], named_ms: bool) -> ClockRule {
+    let span = match (time.first(), time.last()) {
+        (Some(a), Some(b)) => b - a,
+        _ => 0.0,
+    };
+    if named_ms {
+        ClockRule::Named
+    } else if median_step(time) >= 0.5 {
+        ClockRule::Step
+    } else if span > MS_SPAN {
+        ClockRule::Span
+    } else {
+        ClockRule::Seconds
+    }
+}
+
+/// Whether a clock in a file given in unknown units is in milliseconds, by the step and span
+/// rules of [`clock_rule`] (no names to go by).
 pub fn looks_like_ms(time: &[f64]) -> bool {
-    median_step(time) >= 0.5
+    clock_rule(time, false).is_ms()
+}
+
+/// Whether a column name or a units cell names milliseconds ("time_ms", "Time (ms)", "msec",
+/// "millis", "milliseconds"): one of its words is such a name.
+pub fn names_ms(text: &str) -> bool {
+    text.split(|c: char| !c.is_ascii_alphanumeric()).any(|w| {
+        matches!(
+            w.to_ascii_lowercase().as_str(),
+            "ms" | "msec" | "msecs" | "millis" | "millisecond" | "milliseconds"
+        )
+    })
 }
 
 /// Puts every channel on a uniform clock: when the steps already agree within 1 % of their
@@ -348,17 +411,33 @@ pub fn derivative_window(dt: f64) -> usize {
     n.min(DERIVATIVE_MAX_SAMPLES)
 }
 
-/// The launch: the clutch switch's first change of state (≥ 0.5 counts as on) if there is a
-/// switch, else the 3-sample rule moved back to zero input speed. Field `columns.clutch_switch`
-/// or `columns.input_rpm` when none is found.
+/// Samples a change must last at step `dt`: [`EVENT_HOLD_S`], and at least [`LAUNCH_SAMPLES`].
+pub fn hold_samples(dt: f64) -> usize {
+    let k = if dt > 0.0 {
+        (EVENT_HOLD_S / dt - 1e-9).ceil().max(0.0) as usize
+    } else {
+        0
+    };
+    k.max(LAUNCH_SAMPLES)
+}
+
+/// The launch: the clutch switch's first change of state (≥ 0.5 counts as on) that holds for
+/// [`hold_samples`], if there is a switch, else the first run of [`hold_samples`] samples of
+/// input speed above [`LAUNCH_RPM`], moved back to zero input speed. Field
+/// `columns.clutch_switch` or `columns.input_rpm` when none is found.
 pub fn find_launch(series: &Series) -> Result<f64, InputError> {
     let t = &series.time_s;
+    let hold = hold_samples(median_step(t));
     if let Some(sw) = &series.clutch_switch {
         let on = |v: f64| v >= 0.5;
         let first = on(sw[0]);
-        return sw
-            .iter()
-            .position(|&v| on(v) != first)
+        return (0..sw.len())
+            .find(|&i| {
+                on(sw[i]) != first
+                    && sw[i..(i + hold).min(sw.len())]
+                        .iter()
+                        .all(|&v| on(v) != first)
+            })
             .map(|i| t[i])
             .ok_or_else(|| {
                 InputError::new(
@@ -368,13 +447,13 @@ pub fn find_launch(series: &Series) -> Result<f64, InputError> {
             });
     }
     let n_in = &series.input_rpm;
-    let start = (0..t.len().saturating_sub(LAUNCH_SAMPLES - 1))
-        .find(|&i| n_in[i..i + LAUNCH_SAMPLES].iter().all(|&v| v > LAUNCH_RPM))
+    let start = (0..t.len().saturating_sub(hold - 1))
+        .find(|&i| n_in[i..i + hold].iter().all(|&v| v > LAUNCH_RPM))
         .ok_or_else(|| {
             InputError::new(
                 "columns.input_rpm",
                 format!(
-                    "no launch found: the input speed never stays above {LAUNCH_RPM:.0} rpm for {LAUNCH_SAMPLES} samples in a row"
+                    "no launch found: the input speed never stays above {LAUNCH_RPM:.0} rpm for {hold} samples in a row"
                 ),
             )
         })?;
@@ -447,6 +526,16 @@ pub fn find_lockup(
     None
 }
 
+/// The lowest level `v` stays at or below for `hold` samples in a row: min over windows of
+/// their max (a dip shorter than the hold is not a minimum). Windows shrink to the whole run
+/// when it is shorter than the hold; infinite for no samples.
+pub fn held_minimum(v: &[f64], hold: usize) -> f64 {
+    let w = hold.clamp(1, v.len().max(1));
+    v.windows(w)
+        .map(|win| win.iter().copied().fold(f64::NEG_INFINITY, f64::max))
+        .fold(f64::INFINITY, f64::min)
+}
+
 /// Linear interpolation of a sampled channel at time `at` (uniform or not).
 pub fn value_at(time: &[f64], v: &[f64], at: f64) -> f64 {
     interpolate_at(time, v, &[at])[0]
@@ -497,6 +586,39 @@ pub fn clutch_torque(series: &Series, dt: f64, engine: &EngineModel) -> (Vec<f64
     (torque, outside)
 }
 
+/// A sample this close to the launch instant, s, is the launch sample (floating-point
+/// rounding of the launch must not decide whether it counts).
+pub const LAUNCH_SAMPLE_S: f64 = 1e-9;
+
+/// Slip energy, J, and peak slip power, W, from the launch instant to sample `last`: the
+/// trapezoid sum over the samples from `first` (the first sample at or after the launch, see
+/// [`LAUNCH_SAMPLE_S`]), plus, when the launch falls between samples, the trapezoid from the
+/// launch to `first` with the power at the launch interpolated linearly between the samples
+/// around it. `power` is the slip power at every sample (before the launch too).
+pub fn slip_energy(
+    t: &[f64],
+    power: &[f64],
+    launch_s: f64,
+    first: usize,
+    last: usize,
+) -> (f64, f64) {
+    let mut energy: f64 = (first..last)
+        .map(|i| 0.5 * (power[i] + power[i + 1]) * (t[i + 1] - t[i]))
+        .sum();
+    let mut peak = power[first..=last]
+        .iter()
+        .copied()
+        .fold(f64::NEG_INFINITY, f64::max);
+    if first > 0 && t[first] - launch_s > LAUNCH_SAMPLE_S {
+        let (t0, t1) = (t[first - 1], t[first]);
+        let f = ((launch_s - t0) / (t1 - t0)).clamp(0.0, 1.0);
+        let at_launch = power[first - 1] + f * (power[first] - power[first - 1]);
+        energy += 0.5 * (at_launch + power[first]) * (t1 - launch_s);
+        peak = peak.max(at_launch);
+    }
+    (energy, peak)
+}
+
 /// Analyses a log on a uniform clock (see [`to_uniform_clock`]); `dt` is its step, s.
 /// Errors: too few samples (field `csv`), no launch, no lockup (field of the channel).
 pub fn analyze(
@@ -538,13 +660,21 @@ pub fn analyze(
         )
     })?;
     let eps = 1e-9 * t[n - 1].max(1.0);
-    let first = t.partition_point(|&x| x < launch_s - eps);
+    // A sample within 1e-9 s of the launch is the launch sample.
+    let first = t.partition_point(|&x| x < launch_s - LAUNCH_SAMPLE_S);
     let launch_engine_rpm = value_at(t, &series.engine_rpm, launch_s);
     let lockup_engine_rpm = value_at(t, &series.engine_rpm, lockup_s);
-    let min_engine_rpm = (first..=last)
+    let slipping: Vec<f64> = (first..=last)
         .filter(|&i| t[i] <= lockup_s + eps)
         .map(|i| series.engine_rpm[i])
-        .fold(launch_engine_rpm.min(lockup_engine_rpm), f64::min);
+        .collect();
+    let min_engine_rpm =
+        held_minimum(&slipping, hold_samples(dt)).min(launch_engine_rpm.min(lockup_engine_rpm));
+    notes.push(format!(
+        "The launch and the lowest engine speed are read with a hold, as the lockup is: a change counts only when it lasts {} samples in a row ({:.0} ms and at least {LAUNCH_SAMPLES} samples), so one noisy sample neither starts the launch nor sets the minimum.",
+        hold_samples(dt),
+        EVENT_HOLD_S * 1000.0
+    ));
     let (clutch_torque_nm, slip_power_w, slip_energy_j, peak_slip_power_w) = match engine {
         Some(engine) => {
             let (tc, outside) = clutch_torque(series, dt, engine);
@@ -553,23 +683,18 @@ pub fn analyze(
                     "The engine speed left the torque curve at {outside} sample(s); the curve's end values were used there."
                 ));
             }
-            // The clutch carries nothing before the launch: no slip power there.
-            let p: Vec<f64> = (0..n)
+            let raw: Vec<f64> = (0..n)
                 .map(|i| {
-                    if i < first {
-                        return 0.0;
-                    }
                     let slip_w = rpm_to_rad_s(series.engine_rpm[i] - series.input_rpm[i]);
                     tc[i] * slip_w.max(0.0)
                 })
                 .collect();
-            let energy: f64 = (first..last)
-                .map(|i| 0.5 * (p[i] + p[i + 1]) * (t[i + 1] - t[i]))
-                .sum();
-            let peak = p[first..=last]
-                .iter()
-                .copied()
-                .fold(f64::NEG_INFINITY, f64::max);
+            let (energy, peak) = slip_energy(t, &raw, launch_s, first, last);
+            // The clutch carries nothing before the launch: no slip power there.
+            let mut p = raw;
+            for v in &mut p[..first] {
+                *v = 0.0;
+            }
             (Some(tc), Some(p), Some(energy), Some(peak))
         }
         None => {

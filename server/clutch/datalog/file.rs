@@ -21,6 +21,8 @@ pub struct Layout {
     pub header_line: u64,
     /// Line of the units line, if one was skipped.
     pub units_line: Option<u64>,
+    /// The units line's cells, trimmed, in file order (empty without one).
+    pub unit_names: Vec<String>,
     /// Line of the first data row.
     pub first_data_line: u64,
 }
@@ -231,19 +233,19 @@ fn layout_and_start(text: &[u8]) -> Result<(Layout, usize), InputError> {
                 .collect()
         };
         let has_blank = |r: &csv::ByteRecord| r.iter().any(|c| c.trim_ascii().is_empty());
-        let (header, units) = match block.len() {
+        let (header, units, unit_record) = match block.len() {
             0 => {
                 return Err(csv_error(format!(
                     "line {line}: the data starts with no header line above it"
                 )));
             }
-            1 => (&block[0], None),
+            1 => (&block[0], None, None),
             n => {
                 let (a, b) = (&block[n - 2], &block[n - 1]);
                 if has_blank(&a.1) && !has_blank(&b.1) {
-                    (b, None)
+                    (b, None, None)
                 } else {
-                    (a, Some(b.0))
+                    (a, Some(b.0), Some(&b.1))
                 }
             }
         };
@@ -253,6 +255,7 @@ fn layout_and_start(text: &[u8]) -> Result<(Layout, usize), InputError> {
             names: names_of(&header.1),
             header_line: header.0,
             units_line: units,
+            unit_names: unit_record.map(names_of).unwrap_or_default(),
             first_data_line: line,
         };
         return Ok((layout, from));

@@ -428,11 +428,35 @@ impl ValidLog {
                 ));
             }
         }
+        // The time column's own words: its header name and its cell of the units line.
+        let time_col = file::find(&cols.layout.names, mapped[0].1);
+        let named_ms = analysis::names_ms(mapped[0].1)
+            || time_col
+                .and_then(|i| cols.layout.unit_names.get(i))
+                .is_some_and(|u| analysis::names_ms(u));
+        let clock = match self.time_unit {
+            TimeUnit::Auto => Some(analysis::clock_rule(&time, named_ms)),
+            TimeUnit::S | TimeUnit::Ms => None,
+        };
         let ms = match self.time_unit {
-            TimeUnit::Auto => analysis::looks_like_ms(&time),
+            TimeUnit::Auto => clock.is_some_and(|c| c.is_ms()),
             TimeUnit::S => false,
             TimeUnit::Ms => true,
         };
+        let clock_note = clock.map(|c| {
+            let short = |v: f64| {
+                let s = format!("{v:.6}");
+                s.trim_end_matches('0').trim_end_matches('.').to_string()
+            };
+            let step = short(analysis::median_step(&time));
+            let span = short(time[time.len() - 1] - time[0]);
+            match c {
+                analysis::ClockRule::Named => "The time column was read in milliseconds: its header or units line names ms.".to_string(),
+                analysis::ClockRule::Step => format!("The time column was read in milliseconds: its median step, {step}, is 0.5 or more (a logger in seconds steps by less)."),
+                analysis::ClockRule::Span => format!("The time column was read in milliseconds: it spans {span}, more than {} (no pass lasts ten minutes).", analysis::MS_SPAN),
+                analysis::ClockRule::Seconds => format!("The time column was read in seconds: nothing names ms, its median step ({step}) is below 0.5 and it spans {span}, not more than {}.", analysis::MS_SPAN),
+            }
+        });
         if ms {
             for t in &mut time {
                 *t /= 1000.0;
@@ -500,6 +524,7 @@ impl ValidLog {
             )
         })?;
         let mut analysis = analysis::analyze(&series, dt, self.rule, self.engine.as_ref())?;
+        analysis.notes.extend(clock_note);
         if moved {
             analysis.notes.push(format!(
                 "The samples were not evenly spaced: every channel was interpolated onto a {:.2} ms clock.",
@@ -629,6 +654,85 @@ mod tests {
         assert_eq!(r.time_unit, "ms");
         assert_eq!((r.launch_s, r.lockup_s), (0.0, 0.776));
         assert_eq!(r.slip_energy_kj, Some(150.80));
+    }
+
+    // Issue 21, item 5: a 5 kHz log in ms steps by 0.2, under the 0.5 step rule, and used to be
+    // read as seconds (1000 times the energy). It spans 1000 > 600, so it is ms, and the notes
+    // say which rule decided. The ramp is the worked file's: 150.80 kJ [derived].
+    #[test]
+    fn a_millisecond_log_above_2_khz_is_read_as_milliseconds_by_its_span() {
+        let mut s = String::from("time,rpm,shaft\n");
+        for k in 0..=5000 {
+            let t = k as f64 / 5000.0;
+            let n = if t <= 0.8 { 6000.0 * t / 0.8 } else { 6000.0 };
+            s.push_str(&format!("{},6000,{n}\n", k as f64 * 0.2));
+        }
+        let r = analyze_request(&request(s.clone())).unwrap();
+        assert_eq!(r.time_unit, "ms");
+        assert_eq!(r.slip_energy_kj, Some(150.80));
+        assert!(
+            r.notes
+                .iter()
+                .any(|n| n.contains("spans 1000, more than 600")),
+            "{:?}",
+            r.notes
+        );
+        // Named in the header: that rule decides, whatever the span.
+        let named = s.replacen("time,", "time_ms,", 1);
+        let mut req = request(named);
+        req.columns.time = "time_ms".into();
+        let r = analyze_request(&req).unwrap();
+        assert!(
+            r.notes.iter().any(|n| n.contains("names ms")),
+            "{:?}",
+            r.notes
+        );
+        // The worked file in seconds: every rule says seconds, and the note says why.
+        let r = analyze_request(&request(worked_csv())).unwrap();
+        assert!(
+            r.notes.iter().any(|n| n.contains("read in seconds")),
+            "{:?}",
+            r.notes
+        );
+        // Given explicitly, no rule is needed and none is noted.
+        let mut req = request(worked_csv());
+        req.time_unit = TimeUnit::S;
+        let r = analyze_request(&req).unwrap();
+        assert!(!r.notes.iter().any(|n| n.contains("time column")));
+    }
+
+    #[test]
+    fn the_units_line_can_name_milliseconds() {
+        let s =
+            "t,rpm,shaft\nmsec,rpm,rpm\n0,6000,0\n0.1,6000,1\n0.2,6000,2\n0.3,6000,3\n".to_string();
+        assert!(analysis::names_ms("Time (ms)") && analysis::names_ms("msec"));
+        assert!(!analysis::names_ms("items") && !analysis::names_ms("time_s"));
+        let layout = file::read(s.as_bytes(), &[]).unwrap().layout;
+        assert_eq!(layout.unit_names, vec!["msec", "rpm", "rpm"]);
+    }
+
+    // Issue 21, item 4: the worked ramp shifted to start 0.1 ms after a sample (100 Hz) keeps its
+    // 150.796 kJ [derived: 600 N·m × 628.3185 rad/s × 0.4 s]; from the first sample after the
+    // launch it was 147.09 kJ.
+    #[test]
+    fn a_launch_between_samples_keeps_the_piece_before_the_first_sample() {
+        let mut s = String::from("time,rpm,shaft\n");
+        for k in 0..=100 {
+            let t = k as f64 / 100.0;
+            let n = (6000.0 * (t - 0.0001) / 0.8).clamp(0.0, 6000.0);
+            s.push_str(&format!("{t:.2},6000,{n}\n"));
+        }
+        let r = analyze_request(&request(s.clone())).unwrap();
+        assert_eq!(r.launch_s, 0.0001);
+        assert_eq!(r.slip_energy_kj, Some(150.80));
+        let valid = request(String::new()).validate().unwrap();
+        let e = valid
+            .run(s.as_bytes())
+            .unwrap()
+            .analysis
+            .slip_energy_j
+            .unwrap();
+        assert!((e / 1000.0 - 150.796).abs() < 0.0005, "{e}");
     }
 
     #[test]

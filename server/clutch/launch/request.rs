@@ -30,10 +30,10 @@ pub const DEFAULT_DURATION_S: f64 = 3.0;
 ///
 /// At each rubbing face the heat divides between facing and metal in proportion to thermal
 /// effusivity e = √(k·ρ·c) (Charron's partition, as used in brake thermal analysis; from
-/// memory). With the facing properties of Neale (ed.), *The Tribology Handbook*, §B7 Table 7.5
-/// (resin facing k 0.8 W/m·K, c 1250 J/kg·K, SG 2; sintered k 16, c 420, SG 6) and grey iron
-/// k 50, ρ 7200, c 460 (from memory), the metal takes 0.901 (organic) and 0.670 (sintered)
-/// [derived]; split evenly between the two plates: 0.45 and 0.335.
+/// memory). Facing properties, all from memory and not from a table we can cite: resin-bonded
+/// facing k 0.8 W/m·K, ρ 2000 kg/m³, c 1250 J/kg·K; sintered facing k 16, ρ 6000, c 420;
+/// grey iron k 50, ρ 7200, c 460. With them the metal takes 0.901 (organic) and 0.670
+/// (sintered) [derived]; split evenly between the two plates: 0.45 and 0.335.
 pub fn default_plate_share(material: Option<FacingMaterial>) -> f64 {
     match material {
         Some(FacingMaterial::Cermet | FacingMaterial::SinteredIron) => 0.335,
@@ -592,6 +592,35 @@ impl LaunchReport {
                 })
                 .collect(),
             notes,
+        }
+    }
+}
+
+impl LaunchReport {
+    /// The launch preview's slip in one sentence, for beside the capacity answer's launch
+    /// warning: how long the clutch slips and the heat it takes.
+    pub fn slip_text(&self) -> String {
+        match &self.lockup {
+            Some(l) => format!(
+                "The launch preview of this setting slips for {:.2} s before the clutch locks ({:.0} kJ into the clutch).",
+                l.time_s, self.slip_energy_kj
+            ),
+            None => {
+                let end = self.trace.last().map_or(0.0, |p| p.time_s);
+                let pulled_down = self
+                    .notes
+                    .iter()
+                    .any(|n| n.contains("leaves its torque curve"));
+                format!(
+                    "The launch preview of this setting is still slipping when its run ends at {end:.2} s{} ({:.0} kJ into the clutch by then).",
+                    if pulled_down {
+                        ", the engine pulled down below its torque curve"
+                    } else {
+                        ""
+                    },
+                    self.slip_energy_kj
+                )
+            }
         }
     }
 }

@@ -77,7 +77,9 @@ impl FrontPage {
                     ));
                 }
                 if *sagged > 0 {
-                    parts.push(format!("{sagged} spring(s) lost rate since the last test"));
+                    parts.push(format!(
+                        "{sagged} spring(s) lost load (sagged) since the last test"
+                    ));
                 }
                 (
                     "warn",

@@ -81,11 +81,13 @@ impl SheetPage {
     }
 
     pub fn warnings(&self) -> Vec<String> {
-        self.f
+        let w = self
+            .f
             .capacity
             .as_ref()
             .map(|c| c.report.warnings.clone())
-            .unwrap_or_default()
+            .unwrap_or_default();
+        crate::model::launch::beside_launch_warning(w, self.f.launch_slip.as_deref())
     }
 
     pub fn material(&self) -> String {

@@ -37,6 +37,9 @@ fn request() -> CapacityRequest {
             clamp_loss: 0.0,
             free_length: None,
             solid_height: None,
+            release_travel: None,
+            bind_margin: None,
+            adjuster_turns_each: None,
         },
         levers: Some(LeversInput {
             count: 3,
@@ -46,6 +49,8 @@ fn request() -> CapacityRequest {
             arm_ratio: Some(2.6),
             gain: None,
             body_cg_radius: None,
+            body_arm_ratio: None,
+            body_force_at_1000: None,
         }),
         engine: EngineInput {
             torque_curve: vec![

@@ -62,7 +62,9 @@ fn without_an_engine_there_is_no_torque_or_energy_but_the_events_stand() {
     let a = analyze(&worked_file(), 0.01, LockupRule::default(), None).unwrap();
     assert!(a.slip_energy_j.is_none() && a.clutch_torque_nm.is_none());
     assert!((a.lockup_s - 0.776).abs() < 1e-9);
-    assert_eq!(a.notes.len(), 1);
+    // The missing engine, and (issue 21) the hold the launch and minimum are read with.
+    assert_eq!(a.notes.len(), 2);
+    assert!(a.notes[0].starts_with("The launch and the lowest engine speed"));
 }
 
 #[test]
@@ -265,6 +267,58 @@ fn a_clock_too_uneven_to_resample_is_refused() {
         ..Series::default()
     };
     assert!(to_uniform_clock(&mut s).is_none());
+}
+
+// Issue 21, item 4: a launch on a sample to floating-point precision counts that sample whichever
+// way the last bit falls (within 1e-9 s); a launch between samples adds the trapezoid from the
+// launch, its power interpolated [derived: power 100 → 80 W over 0–1 s, launch at 0.25 s:
+// P = 95 W, piece 0.5 × (95 + 80) × 0.75 = 65.625 J, then 0.5 × (80 + 60) × 1 = 70 J].
+#[test]
+fn slip_energy_starts_at_the_launch_instant() {
+    let t = [0.0, 1.0, 2.0];
+    let p = [100.0, 80.0, 60.0];
+    let (e, peak) = slip_energy(&t, &p, 0.25, 1, 2);
+    assert!((e - 135.625).abs() < 1e-12, "{e}");
+    assert_eq!(peak, 95.0);
+    let on = slip_energy(&t, &p, 1.0, 1, 2);
+    for jitter in [1.0 - 1e-15, 1.0 + 1e-15, 1.0 - 5e-10] {
+        let first = t.partition_point(|&x| x < jitter - LAUNCH_SAMPLE_S);
+        assert_eq!(first, 1);
+        assert_eq!(slip_energy(&t, &p, jitter, first, 2), on, "{jitter}");
+    }
+    assert_eq!(on, (70.0, 80.0));
+}
+
+// Issue 21, item 7 [derived]: the worked file with a clutch switch off until 0.10 s but for a
+// one-sample flicker at 0.05 s, and an engine dip of one sample to 5000 rpm at 0.40 s. The hold (20 ms, 3
+// samples at 100 Hz) keeps the launch at 0.10 s and the lowest engine speed at 6000 rpm; a dip
+// held for 3 samples counts.
+#[test]
+fn one_noisy_sample_neither_starts_the_launch_nor_sets_the_minimum() {
+    let mut s = worked_file();
+    let mut switch: Vec<f64> = s
+        .time_s
+        .iter()
+        .map(|&t| if t >= 0.1 - 1e-9 { 1.0 } else { 0.0 })
+        .collect();
+    switch[5] = 1.0;
+    s.clutch_switch = Some(switch);
+    s.engine_rpm[40] = 5000.0;
+    let a = analyze(&s, 0.01, LockupRule::default(), None).unwrap();
+    assert!((a.launch_s - 0.1).abs() < 1e-9, "{}", a.launch_s);
+    assert_eq!(a.min_engine_rpm, 6000.0);
+    assert!(
+        a.notes.iter().any(|n| n.contains("with a hold")),
+        "{:?}",
+        a.notes
+    );
+    s.engine_rpm[41] = 5000.0;
+    s.engine_rpm[42] = 5000.0;
+    let a = analyze(&s, 0.01, LockupRule::default(), None).unwrap();
+    assert_eq!(a.min_engine_rpm, 5000.0);
+    assert_eq!(held_minimum(&[6.0, 5.0, 6.0, 4.0, 4.0, 4.0, 6.0], 3), 4.0);
+    assert_eq!(hold_samples(0.01), 3);
+    assert_eq!(hold_samples(0.001), 20);
 }
 
 #[test]

@@ -74,7 +74,8 @@ pub async fn save_settings(
     // Numbers are read in the units the form showed them in, so switching the units alone
     // changes how values are shown, never the stored values.
     let shown = Units::from_key(form.get("shown_units")).unwrap_or(settings.units());
-    let (input, errors) = field::read::<SettingsInput>(&form, shown);
+    // A value left as shown keeps its stored value exactly (the display rounds).
+    let (input, errors) = field::read_edit(&form, shown, &settings);
     let ctx = Ctx {
         units: shown,
         ..settings.ctx()

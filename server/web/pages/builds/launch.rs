@@ -32,6 +32,8 @@ pub struct LaunchShown {
     pub estimated: Vec<String>,
     /// Bulk pressure plate rise, K, for the heat caution.
     pub plate_rise_k: f64,
+    /// The slip in one sentence, for beside the capacity figures' launch warning.
+    pub slip: String,
 }
 
 /// Pressure-plate bulk rise in one pass, K, above which the page adds a stronger heat warning.
@@ -201,6 +203,7 @@ fn shown(
         notes: report.notes.clone(),
         estimated: plan.estimated.iter().map(|e| e.text(u)).collect(),
         plate_rise_k: run.plate_rise_k.map_or(0.0, |r| r.0),
+        slip: report.slip_text(),
     }
 }
 

@@ -210,7 +210,7 @@ impl ShowPage {
             let sagged = latest.springs.iter().filter(|r| r.sag.is_some()).count();
             if sagged > 0 {
                 lines.push(format!(
-                    "Springs: {sagged} lost rate since the previous test."
+                    "Springs: {sagged} lost load (sagged) since the previous test."
                 ));
             }
         }
@@ -572,7 +572,19 @@ async fn save(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut tx, &user, "customers", "Clutch build").await?;
-    let (input, errors) = field::read::<BuildInput>(&form, page.units());
+    let before = match id {
+        Some(id) => Some(
+            db::builds::by_id(&mut tx, id)
+                .await?
+                .ok_or(AppError::NotFound)?,
+        ),
+        None => None,
+    };
+    // An edit keeps the stored value of every number left as shown (the display rounds).
+    let (input, errors) = match &before {
+        Some(b) => field::read_edit(&form, page.units(), &b.data),
+        None => field::read::<BuildInput>(&form, page.units()),
+    };
     let checked = match field::check(input, &page.ctx, errors) {
         Ok(c) => c,
         Err(errors) => {
@@ -580,16 +592,13 @@ async fn save(
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
         }
     };
-    let (id, note) = match id {
-        Some(id) => {
-            let before = db::builds::by_id(&mut tx, id)
-                .await?
-                .ok_or(AppError::NotFound)?;
+    let (id, note) = match (id, before) {
+        (Some(id), Some(before)) => {
             db::builds::update(&mut tx, id, &checked).await?;
             let changes = field::changes(&before.data, &checked, page.units(), &[]);
             (id, flash::saved_note("the build", &changes))
         }
-        None => {
+        _ => {
             let id = db::builds::insert(&mut tx, car_id, &checked).await?;
             (id, "Saved: a new build. Record its setup next.".to_string())
         }

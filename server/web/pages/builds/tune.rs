@@ -382,7 +382,16 @@ pub fn figure_lines(u: &Show, f: &Figures) -> Vec<(&'static str, String)> {
         lines.push(("Wear since last shim", format!("−{}", clamp(r.clamp_loss))));
     }
     if let Some(t) = r.coil_bind_turns {
-        lines.push(("Springs solid (coil bind) at", format!("{t:.2} turns")));
+        lines.push((
+            "Most turns with the coil-bind margin",
+            format!("{t:.2} turns"),
+        ));
+    }
+    if let Some(c) = r.coil_bind_clearance {
+        lines.push((
+            "Clearance to coil bind, released",
+            format!("{c:.3} {}", u.length_unit()),
+        ));
     }
     lines.extend([
         (
@@ -448,13 +457,23 @@ impl TunePage {
     }
 
     /// Warnings of the setting shown last (recommended, tried, or current).
+    /// The launch warning carries the slip time of the same setting's launch preview.
     pub fn warnings(&self) -> Vec<String> {
-        self.recommended
-            .as_ref()
-            .or(self.trial.as_ref().map(|(_, f)| f))
-            .or(self.current.as_ref().ok())
+        let (title, figures) = match (&self.recommended, &self.trial) {
+            (Some(f), _) => ("Recommended", Some(f)),
+            (None, Some((_, f))) => ("Trying", Some(f)),
+            (None, None) => ("Current setup", self.current.as_ref().ok()),
+        };
+        let w = figures
             .map(|f| f.report.warnings.clone())
-            .unwrap_or_default()
+            .unwrap_or_default();
+        let slip = self
+            .launch
+            .iter()
+            .find(|c| c.title == title)
+            .and_then(|c| c.result.as_ref().ok())
+            .map(|s| s.slip.as_str());
+        crate::model::launch::beside_launch_warning(w, slip)
     }
 
     /// The first speed of the car's torque curve (where "at or below" lockups sit).

@@ -152,7 +152,19 @@ async fn save(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, _) = Layout::load(&mut tx, &user, "customers", "Car").await?;
-    let (input, errors) = field::read::<CarInput>(&form, page.units());
+    let before = match id {
+        Some(id) => Some(
+            db::cars::by_id(&mut tx, id)
+                .await?
+                .ok_or(AppError::NotFound)?,
+        ),
+        None => None,
+    };
+    // An edit keeps the stored value of every number left as shown (the display rounds).
+    let (input, errors) = match &before {
+        Some(c) => field::read_edit(&form, page.units(), &c.data),
+        None => field::read::<CarInput>(&form, page.units()),
+    };
     let checked = match field::check(input, &page.ctx, errors) {
         Ok(c) => c,
         Err(errors) => {
@@ -166,16 +178,13 @@ async fn save(
             return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
         }
     };
-    let (id, note) = match id {
-        Some(id) => {
-            let before = db::cars::by_id(&mut tx, id)
-                .await?
-                .ok_or(AppError::NotFound)?;
+    let (id, note) = match (id, before) {
+        (Some(id), Some(before)) => {
             db::cars::update(&mut tx, id, &checked).await?;
             let changes = field::changes(&before.data, &checked, page.units(), &[]);
             (id, saved_note("the car", &changes))
         }
-        None => {
+        _ => {
             let id = db::cars::insert(&mut tx, customer_id, &checked).await?;
             (
                 id,
