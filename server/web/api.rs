@@ -7,7 +7,9 @@ pub mod datalogs;
 /// List, get, create and update of the shop's records.
 pub mod records;
 
+use crate::db::customers::Customer;
 use crate::error::{ApiError, AppError};
+use crate::records::stored::{BenchTest, Build, Car, Height, Pass, Setup};
 use crate::web::http::routes::{Access, Routes, get, post};
 
 /// Every API route (paths under `web::API_PREFIX`); all need a bearer token.
@@ -22,69 +24,69 @@ pub fn routes() -> Routes {
         .route(
             Token,
             "/customers/{id}",
-            get(records::customer_get).put(records::customer_update),
+            get(records::get::<Customer>).put(records::update::<Customer>),
         )
         .route(
             Token,
             "/customers/{id}/cars",
-            get(records::cars_of_customer).post(records::car_create),
+            get(records::of_parent::<Car>).post(records::create::<Car>),
         )
         .route(Token, "/cars", get(records::cars_list))
         .route(
             Token,
             "/cars/{id}",
-            get(records::car_get).put(records::car_update),
+            get(records::get::<Car>).put(records::update::<Car>),
         )
         .route(
             Token,
             "/cars/{id}/builds",
-            get(records::builds_of_car).post(records::build_create),
+            get(records::of_parent::<Build>).post(records::create::<Build>),
         )
         .route(Token, "/builds", get(records::builds_list))
         .route(
             Token,
             "/builds/{id}",
-            get(records::build_get).put(records::build_update),
+            get(records::get::<Build>).put(records::update::<Build>),
         )
         .route(
             Token,
             "/builds/{id}/setups",
-            get(records::setups_of_build).post(records::setup_create),
+            get(records::of_parent::<Setup>).post(records::create::<Setup>),
         )
         .route(
             Token,
             "/setups/{id}",
-            get(records::setup_get).put(records::setup_update),
+            get(records::get::<Setup>).put(records::update::<Setup>),
         )
         .route(
             Token,
             "/builds/{id}/bench-tests",
-            get(records::bench_of_build).post(records::bench_create),
+            get(records::of_parent::<BenchTest>).post(records::create::<BenchTest>),
         )
         .route(
             Token,
             "/bench-tests/{id}",
-            get(records::bench_get).put(records::bench_update),
+            get(records::get::<BenchTest>).put(records::update::<BenchTest>),
         )
         .route(
             Token,
             "/builds/{id}/measurements",
-            get(records::heights_of_build).post(records::height_create),
+            get(records::of_parent::<Height>).post(records::create::<Height>),
         )
         .route(
             Token,
             "/measurements/{id}",
-            get(records::height_get).put(records::height_update),
+            get(records::get::<Height>).put(records::update::<Height>),
         )
         .route(
             Token,
             "/builds/{id}/passes",
-            get(records::passes_of_build).post(records::pass_create),
+            get(records::of_parent::<Pass>).post(records::create::<Pass>),
         )
         .route(
             Token,
             "/passes/{id}",
-            get(records::pass_get).put(records::pass_update),
+            get(records::get::<Pass>).put(records::update::<Pass>),
         )
         .route(Token, "/builds/{id}/wear", get(calc::build_wear))
         .route(

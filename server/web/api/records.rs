@@ -2,15 +2,22 @@
 //! checks as the forms. Values are in storage units named in each field (`facing_od_mm`).
 //! Errors are `{"error": "...", "field": "..."}`: 422 for bad input, 404 for unknown ids,
 //! 401 without a valid bearer token.
+//!
+//! One implementation serves every record: [`ApiRecord`] says where a record hangs (its parent),
+//! how it is read, checked and written, and the generic handlers below do the rest.
+
+use std::future::Future;
 
 use axum::Json;
 use axum::extract::{Query, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Response};
-use serde::Deserialize;
+use serde::de::DeserializeOwned;
+use serde::{Deserialize, Serialize};
 use sqlx::SqliteConnection;
 
 use crate::db;
+use crate::db::customers::Customer;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::records::bench::BenchInput;
 use crate::records::build::BuildInput;
@@ -19,9 +26,105 @@ use crate::records::customer::CustomerInput;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
+use crate::records::stored::{BenchTest, Build, Car, Height, Pass, Setup};
 use crate::records::{Checked, Ctx, FieldErrors, field};
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser};
+
+/// A stored record the API serves: read by id, listed under its parent, checked as its form
+/// checks it, inserted under its parent and updated in place.
+pub trait ApiRecord: Serialize + Send + Sized + 'static {
+    /// What a request body holds (storage units).
+    type Input: DeserializeOwned + Send + 'static;
+
+    /// The live record `id`, if there is one.
+    fn by_id(
+        conn: &mut SqliteConnection,
+        id: i64,
+    ) -> impl Future<Output = sqlx::Result<Option<Self>>> + Send;
+
+    /// The records of a live parent; `None` when there is no such parent.
+    fn of_parent(
+        conn: &mut SqliteConnection,
+        parent: i64,
+    ) -> impl Future<Output = sqlx::Result<Option<Vec<Self>>>> + Send;
+
+    /// The id of the record this one hangs on.
+    fn parent_of(&self) -> i64;
+
+    /// `input` checked as the form checks it, for a new record under `parent` or an edit of
+    /// `existing`; an `Err` is the answer (404 for a missing parent, 422 for bad input).
+    fn check(
+        conn: &mut SqliteConnection,
+        input: Self::Input,
+        parent: i64,
+        existing: Option<&Self>,
+    ) -> impl Future<Output = Result<Checked<Self::Input>, ApiError>> + Send;
+
+    /// Stores a checked new record under `parent` by `user_id`; its id.
+    fn insert(
+        conn: &mut SqliteConnection,
+        parent: i64,
+        user_id: i64,
+        input: &Checked<Self::Input>,
+    ) -> impl Future<Output = sqlx::Result<i64>> + Send;
+
+    /// Stores a checked edit of record `id`.
+    fn update(
+        conn: &mut SqliteConnection,
+        id: i64,
+        input: &Checked<Self::Input>,
+    ) -> impl Future<Output = sqlx::Result<bool>> + Send;
+}
+
+/// GET `/<parents>/{id}/<records>`: the records of one parent.
+pub async fn of_parent<R: ApiRecord>(
+    State(s): State<AppState>,
+    _: ApiUser,
+    Id(parent): Id,
+) -> ApiResult<Vec<R>> {
+    Ok(Json(found(
+        R::of_parent(&mut *conn(&s).await?, parent).await?,
+    )?))
+}
+
+/// GET `/<records>/{id}`.
+pub async fn get<R: ApiRecord>(State(s): State<AppState>, _: ApiUser, Id(id): Id) -> ApiResult<R> {
+    Ok(Json(found(R::by_id(&mut *conn(&s).await?, id).await?)?))
+}
+
+/// POST `/<parents>/{id}/<records>`: 201 with the stored record.
+pub async fn create<R: ApiRecord>(
+    State(s): State<AppState>,
+    ApiUser(user): ApiUser,
+    Id(parent): Id,
+    ApiJson(input): ApiJson<R::Input>,
+) -> Result<Response, ApiError> {
+    let mut tx = write_tx(&s, &user).await?;
+    let checked = R::check(&mut tx, input, parent, None).await?;
+    let id = R::insert(&mut tx, parent, user.id, &checked).await?;
+    let row = found(R::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok((StatusCode::CREATED, Json(row)).into_response())
+}
+
+/// PUT `/<records>/{id}`: the stored record after the edit.
+pub async fn update<R: ApiRecord>(
+    State(s): State<AppState>,
+    ApiUser(user): ApiUser,
+    Id(id): Id,
+    ApiJson(input): ApiJson<R::Input>,
+) -> ApiResult<R> {
+    let mut tx = write_tx(&s, &user).await?;
+    let existing = found(R::by_id(&mut tx, id).await?)?;
+    let checked = R::check(&mut tx, input, existing.parent_of(), Some(&existing)).await?;
+    if !R::update(&mut tx, id, &checked).await? {
+        return Err(ApiError(AppError::NotFound));
+    }
+    let row = found(R::by_id(&mut tx, id).await?)?;
+    tx.commit().await?;
+    Ok(Json(row))
+}
 
 #[derive(Debug, Default, Deserialize)]
 #[serde(default)]
@@ -37,44 +140,7 @@ impl ListQuery {
     }
 }
 
-fn checked<T>(result: Result<Checked<T>, FieldErrors>) -> Result<Checked<T>, ApiError> {
-    result.map_err(|e| ApiError(AppError::Invalid(e)))
-}
-
-fn created<T: serde::Serialize>(value: T) -> Response {
-    (StatusCode::CREATED, Json(value)).into_response()
-}
-
-fn found<T>(value: Option<T>) -> Result<T, ApiError> {
-    value.ok_or(ApiError(AppError::NotFound))
-}
-
-/// What the record API checks with: storage units (the JSON's own) and the shop's today.
-async fn record_ctx(state: &AppState) -> Result<Ctx, ApiError> {
-    let settings = db::settings::get(&mut *conn(state).await?).await?;
-    Ok(settings.record_ctx())
-}
-
-async fn conn(state: &AppState) -> Result<sqlx::pool::PoolConnection<sqlx::Sqlite>, ApiError> {
-    Ok(state.pool.acquire().await.map_err(AppError::from)?)
-}
-
-async fn write_tx(
-    state: &AppState,
-    user: &crate::web::http::extract::CurrentUser,
-) -> Result<crate::web::Write, ApiError> {
-    Ok(state.write(user).await.map_err(AppError::from)?)
-}
-
-async fn build_exists(
-    conn: &mut SqliteConnection,
-    id: i64,
-) -> Result<crate::records::stored::Build, ApiError> {
-    found(db::builds::by_id(conn, id).await.map_err(AppError::from)?)
-}
-
-// Customers
-
+/// GET `/customers`: a page of the customer list (`?q=` searches it).
 pub async fn customers_list(
     State(s): State<AppState>,
     _: ApiUser,
@@ -92,297 +158,169 @@ pub async fn customers_list(
     ))
 }
 
-pub async fn customer_get(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<db::customers::Customer> {
-    Ok(Json(found(
-        db::customers::by_id(&mut *conn(&s).await?, id).await?,
-    )?))
-}
-
+/// POST `/customers`: a customer hangs on nothing, so it is made here rather than by [`create`].
 pub async fn customer_create(
     State(s): State<AppState>,
     ApiUser(user): ApiUser,
     ApiJson(input): ApiJson<CustomerInput>,
 ) -> Result<Response, ApiError> {
-    let c = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
     let mut tx = write_tx(&s, &user).await?;
-    let id = db::customers::insert(&mut tx, &c).await?;
+    let checked = checked(&mut tx, input).await?;
+    let id = db::customers::insert(&mut tx, &checked).await?;
     let row = found(db::customers::by_id(&mut tx, id).await?)?;
     tx.commit().await?;
-    Ok(created(row))
+    Ok((StatusCode::CREATED, Json(row)).into_response())
 }
 
-pub async fn customer_update(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(id): Id,
-    ApiJson(input): ApiJson<CustomerInput>,
-) -> ApiResult<db::customers::Customer> {
-    let c = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    if !db::customers::update(&mut tx, id, &c).await? {
-        return Err(ApiError(AppError::NotFound));
-    }
-    let row = found(db::customers::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(Json(row))
-}
-
-// Cars
-
+/// GET `/cars`: a page of every car.
 pub async fn cars_list(
     State(s): State<AppState>,
     _: ApiUser,
     Query(q): Query<ListQuery>,
-) -> ApiResult<Vec<crate::records::stored::Car>> {
+) -> ApiResult<Vec<Car>> {
     Ok(Json(db::cars::page(&mut *conn(&s).await?, q.page()).await?))
 }
 
-pub async fn cars_of_customer(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<Vec<crate::records::stored::Car>> {
-    let mut c = conn(&s).await?;
-    found(db::customers::by_id(&mut c, id).await?)?;
-    Ok(Json(db::cars::for_customer(&mut c, id).await?))
-}
-
-pub async fn car_get(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<crate::records::stored::Car> {
-    Ok(Json(found(
-        db::cars::by_id(&mut *conn(&s).await?, id).await?,
-    )?))
-}
-
-pub async fn car_create(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(customer_id): Id,
-    ApiJson(input): ApiJson<CarInput>,
-) -> Result<Response, ApiError> {
-    let c = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    found(db::customers::by_id(&mut tx, customer_id).await?)?;
-    let id = db::cars::insert(&mut tx, customer_id, &c).await?;
-    let row = found(db::cars::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(created(row))
-}
-
-pub async fn car_update(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(id): Id,
-    ApiJson(input): ApiJson<CarInput>,
-) -> ApiResult<crate::records::stored::Car> {
-    let c = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    found(db::cars::by_id(&mut tx, id).await?)?;
-    db::cars::update(&mut tx, id, &c).await?;
-    let row = found(db::cars::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(Json(row))
-}
-
-// Builds
-
+/// GET `/builds`: a page of every build.
 pub async fn builds_list(
     State(s): State<AppState>,
     _: ApiUser,
     Query(q): Query<ListQuery>,
-) -> ApiResult<Vec<crate::records::stored::Build>> {
+) -> ApiResult<Vec<Build>> {
     Ok(Json(
         db::builds::page(&mut *conn(&s).await?, q.page()).await?,
     ))
 }
 
-pub async fn builds_of_car(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<Vec<crate::records::stored::Build>> {
-    let mut c = conn(&s).await?;
-    found(db::cars::by_id(&mut c, id).await?)?;
-    Ok(Json(db::builds::for_car(&mut c, id).await?))
+impl ApiRecord for Customer {
+    type Input = CustomerInput;
+    async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
+        db::customers::by_id(conn, id).await
+    }
+    async fn of_parent(_: &mut SqliteConnection, _: i64) -> sqlx::Result<Option<Vec<Self>>> {
+        Ok(None)
+    }
+    fn parent_of(&self) -> i64 {
+        0
+    }
+    async fn check(
+        conn: &mut SqliteConnection,
+        input: CustomerInput,
+        _: i64,
+        _: Option<&Self>,
+    ) -> Result<Checked<CustomerInput>, ApiError> {
+        checked(conn, input).await
+    }
+    async fn insert(
+        conn: &mut SqliteConnection,
+        _: i64,
+        _: i64,
+        input: &Checked<CustomerInput>,
+    ) -> sqlx::Result<i64> {
+        db::customers::insert(conn, input).await
+    }
+    async fn update(
+        conn: &mut SqliteConnection,
+        id: i64,
+        input: &Checked<CustomerInput>,
+    ) -> sqlx::Result<bool> {
+        db::customers::update(conn, id, input).await
+    }
 }
 
-pub async fn build_get(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<crate::records::stored::Build> {
-    Ok(Json(build_exists(&mut *conn(&s).await?, id).await?))
+/// The `ApiRecord` of a record that hangs on a parent of type `$parent_row` (field
+/// `$parent`): read by its db module's `by_id`, listed by `$list`, written by `insert` (with
+/// who made it, `by_user`) and `update`, checked by `$check`.
+macro_rules! child_record {
+    ($row:ty, $input:ty, $db:ident::$list:ident, $parent:ident of $parent_row:ty,
+     check $check:expr $(, $by_user:ident)?) => {
+        impl ApiRecord for $row {
+            type Input = $input;
+            async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
+                db::$db::by_id(conn, id).await
+            }
+            async fn of_parent(
+                conn: &mut SqliteConnection,
+                parent: i64,
+            ) -> sqlx::Result<Option<Vec<Self>>> {
+                if <$parent_row as ApiRecord>::by_id(conn, parent).await?.is_none() {
+                    return Ok(None);
+                }
+                db::$db::$list(conn, parent).await.map(Some)
+            }
+            fn parent_of(&self) -> i64 {
+                self.$parent
+            }
+            async fn check(
+                conn: &mut SqliteConnection,
+                input: $input,
+                parent: i64,
+                existing: Option<&Self>,
+            ) -> Result<Checked<$input>, ApiError> {
+                ($check)(conn, input, parent, existing).await
+            }
+            async fn insert(
+                conn: &mut SqliteConnection,
+                parent: i64,
+                user_id: i64,
+                input: &Checked<$input>,
+            ) -> sqlx::Result<i64> {
+                let _ = user_id;
+                db::$db::insert(conn, parent, $(child_record!(@$by_user user_id),)? input).await
+            }
+            async fn update(
+                conn: &mut SqliteConnection,
+                id: i64,
+                input: &Checked<$input>,
+            ) -> sqlx::Result<bool> {
+                db::$db::update(conn, id, input).await
+            }
+        }
+    };
+    (@by_user $user_id:ident) => { $user_id };
 }
 
-pub async fn build_create(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(car_id): Id,
-    ApiJson(input): ApiJson<BuildInput>,
-) -> Result<Response, ApiError> {
-    let b = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    found(db::cars::by_id(&mut tx, car_id).await?)?;
-    let id = db::builds::insert(&mut tx, car_id, &b).await?;
-    let row = build_exists(&mut tx, id).await?;
-    tx.commit().await?;
-    Ok(created(row))
+child_record!(Car, CarInput, cars::for_customer, customer_id of Customer,
+    check check_under::<Customer, _, _>);
+child_record!(Build, BuildInput, builds::for_car, car_id of Car,
+    check check_under::<Car, _, _>);
+child_record!(Setup, SetupInput, setups::for_build, build_id of Build,
+    check check_under::<Build, _, _>, by_user);
+child_record!(Pass, PassInput, passes::for_build, build_id of Build,
+    check check_under::<Build, _, _>, by_user);
+child_record!(BenchTest, BenchInput, bench::for_build, build_id of Build,
+    check check_bench, by_user);
+child_record!(Height, HeightInput, heights::for_build, build_id of Build,
+    check check_height, by_user);
+
+/// A record checked as its form checks it, under a parent that must exist (404 otherwise).
+async fn check_under<P: ApiRecord, T: field::Record, R>(
+    conn: &mut SqliteConnection,
+    input: T,
+    parent: i64,
+    _existing: Option<&R>,
+) -> Result<Checked<T>, ApiError> {
+    let checked = checked(conn, input).await?;
+    found(P::by_id(conn, parent).await?)?;
+    Ok(checked)
 }
 
-pub async fn build_update(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(id): Id,
-    ApiJson(input): ApiJson<BuildInput>,
-) -> ApiResult<crate::records::stored::Build> {
-    let b = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    build_exists(&mut tx, id).await?;
-    db::builds::update(&mut tx, id, &b).await?;
-    let row = build_exists(&mut tx, id).await?;
-    tx.commit().await?;
-    Ok(Json(row))
-}
-
-// Setup changes
-
-pub async fn setups_of_build(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<Vec<crate::records::stored::Setup>> {
-    let mut c = conn(&s).await?;
-    build_exists(&mut c, id).await?;
-    Ok(Json(db::setups::for_build(&mut c, id).await?))
-}
-
-pub async fn setup_get(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<crate::records::stored::Setup> {
-    Ok(Json(found(
-        db::setups::by_id(&mut *conn(&s).await?, id).await?,
-    )?))
-}
-
-pub async fn setup_create(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(build_id): Id,
-    ApiJson(input): ApiJson<SetupInput>,
-) -> Result<Response, ApiError> {
-    let v = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    build_exists(&mut tx, build_id).await?;
-    let id = db::setups::insert(&mut tx, build_id, user.id, &v).await?;
-    let row = found(db::setups::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(created(row))
-}
-
-pub async fn setup_update(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(id): Id,
-    ApiJson(input): ApiJson<SetupInput>,
-) -> ApiResult<crate::records::stored::Setup> {
-    let v = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    found(db::setups::by_id(&mut tx, id).await?)?;
-    db::setups::update(&mut tx, id, &v).await?;
-    let row = found(db::setups::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(Json(row))
-}
-
-// Bench tests
-
-pub async fn bench_of_build(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<Vec<crate::records::stored::BenchTest>> {
-    let mut c = conn(&s).await?;
-    build_exists(&mut c, id).await?;
-    Ok(Json(db::bench::for_build(&mut c, id).await?))
-}
-
-pub async fn bench_create(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(build_id): Id,
-    ApiJson(input): ApiJson<BenchInput>,
-) -> Result<Response, ApiError> {
-    let v = checked(input.check(&record_ctx(&s).await?, FieldErrors::default()))?;
-    let mut tx = write_tx(&s, &user).await?;
-    build_exists(&mut tx, build_id).await?;
-    let id = db::bench::insert(&mut tx, build_id, user.id, &v).await?;
-    let rows = db::bench::for_build(&mut tx, build_id).await?;
-    tx.commit().await?;
-    let row = rows.into_iter().find(|t| t.id == id);
-    Ok(created(found(row)?))
-}
-
-pub async fn bench_get(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<crate::records::stored::BenchTest> {
-    Ok(Json(found(
-        db::bench::by_id(&mut *conn(&s).await?, id).await?,
-    )?))
-}
-
-pub async fn bench_update(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(id): Id,
-    ApiJson(input): ApiJson<BenchInput>,
-) -> ApiResult<crate::records::stored::BenchTest> {
-    let v = checked(input.check(&record_ctx(&s).await?, FieldErrors::default()))?;
-    let mut tx = write_tx(&s, &user).await?;
-    let existing = found(db::bench::by_id(&mut tx, id).await?)?;
-    if existing.springs.len() != v.springs.len() {
+/// A bench test checked as its form checks it; an edit keeps the number of springs (a
+/// different set is a new bench test).
+async fn check_bench(
+    conn: &mut SqliteConnection,
+    input: BenchInput,
+    parent: i64,
+    existing: Option<&BenchTest>,
+) -> Result<Checked<BenchInput>, ApiError> {
+    let ctx = record_ctx(conn).await?;
+    let checked = input
+        .check(&ctx, FieldErrors::default())
+        .map_err(|e| ApiError(AppError::Invalid(e)))?;
+    found(db::builds::by_id(conn, parent).await?)?;
+    if let Some(existing) = existing
+        && existing.springs.len() != checked.springs.len()
+    {
         return Err(ApiError(AppError::field(
             "springs",
             format!(
@@ -391,137 +329,54 @@ pub async fn bench_update(
             ),
         )));
     }
-    db::bench::update(&mut tx, id, &v).await?;
-    let row = found(db::bench::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(Json(row))
+    Ok(checked)
 }
 
-// Cover-height measurements
-
-pub async fn heights_of_build(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<Vec<crate::records::stored::Height>> {
-    let mut c = conn(&s).await?;
-    build_exists(&mut c, id).await?;
-    Ok(Json(db::heights::for_build(&mut c, id).await?))
-}
-
-pub async fn height_get(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<crate::records::stored::Height> {
-    Ok(Json(found(
-        db::heights::by_id(&mut *conn(&s).await?, id).await?,
-    )?))
-}
-
-async fn height_context(
+/// A cover height checked against the measurements around it and the build's shim stack.
+async fn check_height(
     conn: &mut SqliteConnection,
-    build_id: i64,
-    id: Option<i64>,
-) -> Result<HeightContext, ApiError> {
-    let build = build_exists(conn, build_id).await?;
-    let (previous, next) = db::heights::around(conn, build_id, id).await?;
-    Ok(HeightContext {
+    input: HeightInput,
+    parent: i64,
+    existing: Option<&Height>,
+) -> Result<Checked<HeightInput>, ApiError> {
+    let build = found(db::builds::by_id(conn, parent).await?)?;
+    let (previous, next) = db::heights::around(conn, parent, existing.map(|h| h.id)).await?;
+    let context = HeightContext {
         shims_in_stack: build.data.shim_stack_mm.len(),
         previous,
         next,
-    })
+    };
+    let ctx = record_ctx(conn).await?;
+    input
+        .check_on(context, &ctx, FieldErrors::default())
+        .map_err(|e| ApiError(AppError::Invalid(e)))
 }
 
-pub async fn height_create(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(build_id): Id,
-    ApiJson(input): ApiJson<HeightInput>,
-) -> Result<Response, ApiError> {
-    let mut tx = write_tx(&s, &user).await?;
-    let hc = height_context(&mut tx, build_id, None).await?;
-    let ctx = db::settings::get(&mut tx).await?.record_ctx();
-    let v = checked(input.check_on(hc, &ctx, FieldErrors::default()))?;
-    let id = db::heights::insert(&mut tx, build_id, user.id, &v).await?;
-    let row = found(db::heights::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(created(row))
+/// A declared record checked as its form checks it (storage units, the shop's today).
+async fn checked<T: field::Record>(
+    conn: &mut SqliteConnection,
+    input: T,
+) -> Result<Checked<T>, ApiError> {
+    let ctx = record_ctx(conn).await?;
+    field::check(input, &ctx, FieldErrors::default()).map_err(|e| ApiError(AppError::Invalid(e)))
 }
 
-pub async fn height_update(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(id): Id,
-    ApiJson(input): ApiJson<HeightInput>,
-) -> ApiResult<crate::records::stored::Height> {
-    let mut tx = write_tx(&s, &user).await?;
-    let existing = found(db::heights::by_id(&mut tx, id).await?)?;
-    let hc = height_context(&mut tx, existing.build_id, Some(id)).await?;
-    let ctx = db::settings::get(&mut tx).await?.record_ctx();
-    let v = checked(input.check_on(hc, &ctx, FieldErrors::default()))?;
-    db::heights::update(&mut tx, id, &v).await?;
-    let row = found(db::heights::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(Json(row))
+fn found<T>(value: Option<T>) -> Result<T, ApiError> {
+    value.ok_or(ApiError(AppError::NotFound))
 }
 
-// Track passes
-
-pub async fn passes_of_build(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<Vec<crate::records::stored::Pass>> {
-    let mut c = conn(&s).await?;
-    build_exists(&mut c, id).await?;
-    Ok(Json(db::passes::for_build(&mut c, id).await?))
+/// What the record API checks with: storage units (the JSON's own) and the shop's today.
+async fn record_ctx(conn: &mut SqliteConnection) -> Result<Ctx, ApiError> {
+    Ok(db::settings::get(conn).await?.record_ctx())
 }
 
-pub async fn pass_get(
-    State(s): State<AppState>,
-    _: ApiUser,
-    Id(id): Id,
-) -> ApiResult<crate::records::stored::Pass> {
-    Ok(Json(found(
-        db::passes::by_id(&mut *conn(&s).await?, id).await?,
-    )?))
+async fn conn(state: &AppState) -> Result<sqlx::pool::PoolConnection<sqlx::Sqlite>, ApiError> {
+    Ok(state.pool.acquire().await.map_err(AppError::from)?)
 }
 
-pub async fn pass_create(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(build_id): Id,
-    ApiJson(input): ApiJson<PassInput>,
-) -> Result<Response, ApiError> {
-    let v = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    build_exists(&mut tx, build_id).await?;
-    let id = db::passes::insert(&mut tx, build_id, user.id, &v).await?;
-    let row = found(db::passes::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(created(row))
-}
-
-pub async fn pass_update(
-    State(s): State<AppState>,
-    ApiUser(user): ApiUser,
-    Id(id): Id,
-    ApiJson(input): ApiJson<PassInput>,
-) -> ApiResult<crate::records::stored::Pass> {
-    let v = checked(field::check(
-        input,
-        &record_ctx(&s).await?,
-        FieldErrors::default(),
-    ))?;
-    let mut tx = write_tx(&s, &user).await?;
-    found(db::passes::by_id(&mut tx, id).await?)?;
-    db::passes::update(&mut tx, id, &v).await?;
-    let row = found(db::passes::by_id(&mut tx, id).await?)?;
-    tx.commit().await?;
-    Ok(Json(row))
+async fn write_tx(
+    state: &AppState,
+    user: &crate::web::http::extract::CurrentUser,
+) -> Result<crate::web::Write, ApiError> {
+    Ok(state.write(user).await.map_err(AppError::from)?)
 }
