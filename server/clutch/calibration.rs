@@ -12,6 +12,9 @@
 //! balance at lockup of docs/engineering.md §15 (thresholds there marked derived).
 //! Units inside: rev/min, N, N·m, g; μ and the gain scale are plain numbers.
 
+/// Friction from the whole launch: μ per pass by the launch simulation.
+pub mod launch;
+
 use crate::InputError;
 use crate::capacity::clamp::SpringPack;
 use crate::capacity::lockup::{CapacityLaw, ClutchModel};

@@ -497,3 +497,112 @@ async fn the_setup_sheet_says_where_its_mu_came_from() {
         "calibrated sheet"
     );
 }
+
+/// The reference launch (docs/engineering.md §18) as a launch-method calibration body, with
+/// the spring rate given.
+fn launch_body(rate: f64, passes: Value) -> Value {
+    json!({"units": "metric", "method": "launch",
+      "disc": {"outer_diameter": 240, "inner_diameter": 160, "count": 2},
+      "springs": {"count": 4, "rate": rate, "base_compression": 1},
+      "levers": {"count": 1, "counterweight_g": 50, "cg_radius": 100, "arm_ratio": 1},
+      "launch_rpm": 6000,
+      "engine": {"torque_curve": [[3000, 700], [5000, 700], [7000, 700]], "inertia": 0.20},
+      "driveline": {"first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "efficiency": 0.95,
+                    "input_inertia": 0.02, "driveshaft_inertia": 0.05,
+                    "rear_axle_inertia": 3.0, "front_axle_inertia": 1.0},
+      "vehicle": {"mass": 1500, "tire_diameter": 760, "wheelbase": 2700, "cg_to_front_axle": 1600,
+                  "cg_height": 500, "drag_height": 500, "rolling_resistance": 0.015,
+                  "drag_area": 0.6, "air_density": 1.2, "tire_grip": 2.0, "tire_grip_spinning": 1.6},
+      "passes": passes})
+}
+
+// Check values [derived with the reference launch model, launch issue case C10]: a lock 1.70 s
+// after the launch gives μ = 0.3107. With the spring rate × 1.35 (static clamp 5400 N) the
+// clutch locks at 3233.3 rpm while the engine is still falling: the launch method gives back
+// μ 0.3000 where the torque balance gives 0.2930 (700 N·m over 4 faces × 0.1 m × (5400 N +
+// 0.005 N·s² × (3233.3·π/30)²) = 0.29297, derived).
+#[tokio::test]
+async fn the_launch_method_reads_friction_from_the_whole_launch() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/calibrate",
+            t,
+            Some(launch_body(1000.0, json!([{"lockup_time_s": 1.70}]))),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let v = r.json();
+    assert_eq!(v["method"], "launch");
+    assert_eq!(v["n"], 1);
+    assert!(v["ci95"].is_null(), "{v}");
+    assert!((num(&v["mu"]) - 0.3107).abs() < 2e-4, "{v}");
+    let p = &v["passes"][0];
+    assert!(
+        (num(&p["simulated_lockup_time_s"]) - 1.70).abs() < 0.017,
+        "{p}"
+    );
+    assert!(num(&p["simulated_lockup_rpm"]) > 3000.0, "{p}");
+
+    let stiff = app
+        .api(
+            "POST",
+            "/api/v1/calc/calibrate",
+            t,
+            Some(launch_body(1350.0, json!([{"lockup_rpm": 3233.3}]))),
+        )
+        .await
+        .json();
+    assert!((num(&stiff["mu"]) - 0.3000).abs() < 5e-4, "{stiff}");
+    let balance = app
+        .api(
+            "POST",
+            "/api/v1/calc/calibrate",
+            t,
+            Some(json!({"units": "metric",
+              "disc": {"outer_diameter": 240, "inner_diameter": 160, "count": 2},
+              "springs": {"count": 4, "rate": 1350, "base_compression": 1},
+              "levers": {"count": 1, "counterweight_g": 50, "cg_radius": 100, "arm_ratio": 1},
+              "engine": {"torque_curve": [[3000, 700], [5000, 700], [7000, 700]]},
+              "passes": [{"lockup_rpm": 3233.3}]})),
+        )
+        .await
+        .json();
+    assert!((num(&balance["mu"]) - 0.2930).abs() < 1e-4, "{balance}");
+    assert!(
+        balance.get("method").is_none(),
+        "torque balance answers unchanged"
+    );
+}
+
+#[tokio::test]
+async fn a_bad_launch_calibration_names_its_field() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let mut with_mu = launch_body(1000.0, json!([{"lockup_time_s": 1.8}]));
+    with_mu["friction"] = json!({"mu": 0.3});
+    let mut unknown = launch_body(1000.0, json!([{"lockup_time_s": 1.8}]));
+    unknown["method"] = json!("guess");
+    for (body, field) in [
+        (with_mu, "friction.mu"),
+        (unknown, "method"),
+        (
+            launch_body(1000.0, json!([{"lockup_time_s": 0.5}])),
+            "passes[0]",
+        ),
+        (
+            launch_body(1000.0, json!([{"lockup_time_s": "soon"}])),
+            "passes[0].lockup_time_s",
+        ),
+    ] {
+        let r = app
+            .api("POST", "/api/v1/calc/calibrate", t, Some(body))
+            .await;
+        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
+        assert_eq!(r.json()["field"], field, "{}", r.body);
+    }
+}

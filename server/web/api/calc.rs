@@ -9,8 +9,9 @@ use crate::error::{ApiError, ApiResult, AppError};
 use crate::model::as_of::BuildAsOf;
 use crate::model::calibration::calibrated;
 use crate::web::AppState;
-use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser};
+use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser, from_json_value};
 use clutch::InputError;
+use clutch::calibration::launch::{LaunchCalibrateRequest, calibrate_launch};
 use clutch::calibration::{CalibrateRequest, CalibrationReport, Fit};
 use clutch::capacity::recommend::{RecommendRequest, Recommendation};
 use clutch::capacity::report::CapacityReport;
@@ -40,13 +41,39 @@ pub async fn recommend(
         .map_err(invalid)
 }
 
+/// POST /calc/calibrate: by `method`, the torque balance at lockup (`"torque_balance"`, the
+/// default) or the whole launch (`"launch"`, the body of `/calc/launch` without `friction.mu`).
 pub async fn calibrate(
     _: ApiUser,
-    ApiJson(req): ApiJson<CalibrateRequest>,
-) -> ApiResult<CalibrationReport> {
-    clutch::calibration::calibrate_request(&req)
-        .map(Json)
-        .map_err(invalid)
+    ApiJson(body): ApiJson<serde_json::Value>,
+) -> ApiResult<serde_json::Value> {
+    let answer = match body.get("method") {
+        None => torque_balance(body)?,
+        Some(m) if m == "torque_balance" => torque_balance(body)?,
+        Some(m) if m == "launch" => {
+            let req: LaunchCalibrateRequest = from_json_value(body)?;
+            // About twenty launch simulations a pass: off the async workers.
+            let answer = tokio::task::spawn_blocking(move || calibrate_launch(&req))
+                .await
+                .map_err(|e| ApiError(AppError::Internal(e.to_string())))?
+                .map_err(invalid)?;
+            serde_json::to_value(answer).map_err(|e| ApiError(AppError::Internal(e.to_string())))?
+        }
+        Some(_) => {
+            return Err(ApiError(AppError::field(
+                "method",
+                "must be \"torque_balance\" (the default) or \"launch\"",
+            )));
+        }
+    };
+    Ok(Json(answer))
+}
+
+fn torque_balance(body: serde_json::Value) -> Result<serde_json::Value, ApiError> {
+    let req: CalibrateRequest = from_json_value(body)?;
+    let report: CalibrationReport =
+        clutch::calibration::calibrate_request(&req).map_err(invalid)?;
+    serde_json::to_value(report).map_err(|e| ApiError(AppError::Internal(e.to_string())))
 }
 
 pub async fn launch(_: ApiUser, ApiJson(req): ApiJson<LaunchRequest>) -> ApiResult<LaunchReport> {

@@ -220,7 +220,18 @@ impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
 /// Deserializes JSON, turning an error into a 422 that names the offending field.
 pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
     let mut de = serde_json::Deserializer::from_slice(bytes);
-    serde_path_to_error::deserialize(&mut de).map_err(|err| {
+    serde_path_to_error::deserialize(&mut de).map_err(field_error)
+}
+
+/// [`parse_json`] for a body already read as a JSON value (one that chooses its own shape, such
+/// as `/calc/calibrate` by its `method`).
+pub fn from_json_value<T: DeserializeOwned>(value: serde_json::Value) -> Result<T, ApiError> {
+    serde_path_to_error::deserialize(value).map_err(field_error)
+}
+
+/// A deserialization error as a 422 naming the field by its path.
+fn field_error(err: serde_path_to_error::Error<serde_json::Error>) -> ApiError {
+    {
         let path = err.path().to_string();
         let inner = err.into_inner();
         // serde names a missing field only in its message ("missing field `rate`"): add it
@@ -243,7 +254,7 @@ pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {
             text.split(" at line ").next().unwrap_or(&text).to_string()
         };
         ApiError(AppError::field(&field, message))
-    })
+    }
 }
 
 /// A numeric id from the path; anything else is simply "not found".
