@@ -195,17 +195,9 @@ pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
     } else {
         None
     };
-    let (to_shim, to_disc) = match wear_per_pass {
-        Some(slope) if slope > 0.0 => {
-            let to_limit = limit - last.growth;
-            let shims_left: f64 = remaining.iter().sum();
-            let to_shim = (!remaining.is_empty()).then(|| (to_limit / slope).max(0.0));
-            let to_disc =
-                ((allowance - last.total_wear).min(to_limit + shims_left) / slope).max(0.0);
-            (to_shim, Some(to_disc))
-        }
-        _ => (None, None),
-    };
+    let (to_shim, to_disc) = wear_per_pass.map_or((None, None), |slope| {
+        passes_to_due(req, last, last_m.shims_pulled, slope)
+    });
 
     Ok(WearReport {
         next_shim: remaining.first().copied(),
@@ -214,6 +206,56 @@ pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
         passes_to_shim_due: to_shim,
         passes_to_disc_due: to_disc,
         measurements: points,
+    })
+}
+
+/// Passes until a shim and until the disc are due, from the latest measurement `last` (with
+/// `pulled` shims out), at `slope` of total wear per pass (request length unit); `None` for a
+/// rate that is not positive, and for the shim when none remain.
+pub fn passes_to_due(
+    req: &WearRequest,
+    last: &WearPoint,
+    pulled: u32,
+    slope: f64,
+) -> (Option<f64>, Option<f64>) {
+    if slope.is_nan() || slope <= 0.0 {
+        return (None, None);
+    }
+    let remaining = &req.shims[(pulled as usize).min(req.shims.len())..];
+    let to_limit = req.shimming_limit - last.growth;
+    let shims_left: f64 = remaining.iter().sum();
+    let to_shim = (!remaining.is_empty()).then(|| (to_limit / slope).max(0.0));
+    let to_disc =
+        ((req.disc_wear_allowance - last.total_wear).min(to_limit + shims_left) / slope).max(0.0);
+    (to_shim, Some(to_disc))
+}
+
+/// Disc wear per unit of slip energy, fitted over the intervals between cover heights.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct EnergyWear {
+    /// Total wear per MJ of slip energy (request length unit per MJ).
+    pub per_mj: f64,
+    /// 95 % interval of `per_mj`; null with one interval.
+    pub ci95: Option<[f64; 2]>,
+    /// Intervals used.
+    pub n: usize,
+}
+
+/// Wear per unit of slip energy: the least-squares line through the origin of each interval's
+/// growth in total wear (shims pulled added back, as [`analyze`] counts it) against the slip
+/// energy of the passes in it, `(growth, energy J)` per interval, with its Student t interval
+/// (docs/engineering.md §13). Intervals without energy are left out; `None` when none is left.
+pub fn wear_per_mj(intervals: &[(f64, f64)]) -> Option<EnergyWear> {
+    let (x, y): (Vec<f64>, Vec<f64>) = intervals
+        .iter()
+        .filter(|(g, e)| g.is_finite() && e.is_finite() && *e > 0.0)
+        .map(|(g, e)| (e / 1e6, *g))
+        .unzip();
+    let fit = crate::calibration::fit_through_origin(&x, &y)?;
+    Some(EnergyWear {
+        per_mj: fit.slope,
+        ci95: fit.ci95(),
+        n: fit.n,
     })
 }
 
@@ -333,5 +375,36 @@ mod tests {
     fn status_serializes_in_snake_case() {
         let s = serde_json::to_string(&WearStatus::ShimDue).ok();
         assert_eq!(s.as_deref(), Some("\"shim_due\""));
+    }
+
+    // Worked check [derived, season issue]: three intervals of 10 passes at 150, 300 and
+    // 450 kJ per pass with growth 0.0150, 0.0300 and 0.0450 mm give 0.0100 mm/MJ exactly, with
+    // an interval of zero width.
+    #[test]
+    fn wear_per_unit_of_slip_energy_fits_through_the_origin() {
+        let fit = wear_per_mj(&[(0.0150, 1.5e6), (0.0300, 3.0e6), (0.0450, 4.5e6)]).expect("fits");
+        assert!((fit.per_mj - 0.0100).abs() < 1e-15, "{fit:?}");
+        assert_eq!(fit.n, 3);
+        let [lo, hi] = fit.ci95.expect("interval");
+        assert!((hi - lo).abs() < 1e-15, "{fit:?}");
+        // One interval: a slope, no interval; no energy: nothing.
+        let one = wear_per_mj(&[(0.02, 2.0e6)]).expect("fits");
+        assert!((one.per_mj - 0.01).abs() < 1e-15 && one.ci95.is_none());
+        assert!(wear_per_mj(&[(0.02, 0.0)]).is_none());
+    }
+
+    // A setting that takes twice the energy per pass wears twice as fast per pass: the
+    // forecast is half as long [derived from the definition].
+    #[test]
+    fn twice_the_energy_per_pass_halves_the_forecast() {
+        let r = req(&[(0, 1.905, 0), (50, 1.912, 0)]);
+        let report = analyze(&r).expect("analyses");
+        let last = report.measurements.last().expect("one");
+        let (shim_a, disc_a) = passes_to_due(&r, last, 0, 0.0001);
+        let (shim_b, disc_b) = passes_to_due(&r, last, 0, 0.0002);
+        let (a, b) = (shim_a.expect("shim"), shim_b.expect("shim"));
+        assert!((a - 2.0 * b).abs() < 1e-9, "{a} {b}");
+        assert!((disc_a.expect("disc") - 2.0 * disc_b.expect("disc")).abs() < 1e-9);
+        assert_eq!(passes_to_due(&r, last, 0, 0.0), (None, None));
     }
 }

@@ -262,3 +262,147 @@ async fn a_twin_disc_pack_has_twice_the_single_disc_allowance() {
         "two discs: 0.029 in is inside 0.040 in"
     );
 }
+
+// Wear per unit of slip energy on a stored build: each interval between cover heights counts
+// the passes dated after the earlier measurement and on or before the later one; a pass with no
+// known energy (no data log, and a car without the launch preview's data) leaves its interval
+// out. With the car's launch data the preview gives every pass its energy; the fit is checked
+// against the growth and the count of passes per interval [consistency check, derived].
+#[tokio::test]
+async fn the_stored_builds_wear_is_also_read_per_unit_of_slip_energy() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let t = Some(token.as_str());
+    let c = app
+        .api(
+            "POST",
+            "/api/v1/customers",
+            t,
+            Some(json!({"name": "Oren Vasquez-Lind"})),
+        )
+        .await
+        .json();
+    let car = app
+        .api(
+            "POST",
+            &format!("/api/v1/customers/{}/cars", c["id"]),
+            t,
+            Some(json!({"description": "two-door, 7.0 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]})),
+        )
+        .await
+        .json();
+    let car_id = car["id"].as_i64().unwrap_or(0);
+    let b = app
+        .api(
+            "POST",
+            &format!("/api/v1/cars/{car_id}/builds"),
+            t,
+            Some(
+                json!({"disc_count": 2, "facing_material": "organic", "facing_od_mm": 240.0,
+                        "facing_id_mm": 160.0, "spring_count": 4, "spring_rate_n_per_mm": 1000.0,
+                        "base_compression_mm": 1.0, "adjuster_pitch_mm": 1.0, "lever_count": 1,
+                        "lever_mass_g": 0.0, "lever_cg_radius_mm": 100.0, "lever_arm_ratio": 1.0,
+                        "shim_stack_mm": [0.25, 0.25], "shimming_limit_mm": 0.40}),
+            ),
+        )
+        .await;
+    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
+    let id = b.json()["id"].as_i64().unwrap_or(0);
+    let post = |path: String, body: serde_json::Value| {
+        let app = &app;
+        async move {
+            let r = app.api("POST", &path, t, Some(body)).await;
+            assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        }
+    };
+    post(
+        format!("/api/v1/builds/{id}/setups"),
+        json!({"changed_on": "2026-09-01", "adjuster_turns": 0.0, "counterweight_g": 50.0,
+               "mu": 0.30}),
+    )
+    .await;
+    for (day, h, passes) in [
+        ("2026-09-01", 40.0, 0),
+        ("2026-09-10", 40.02, 4),
+        ("2026-09-20", 40.06, 8),
+    ] {
+        post(
+            format!("/api/v1/builds/{id}/measurements"),
+            json!({"measured_on": day, "height_mm": h, "passes": passes, "shims_pulled": 0}),
+        )
+        .await;
+    }
+    // Four passes in the first interval (one on the first measurement's own day: not counted),
+    // four in the second.
+    for day in [
+        "2026-09-01",
+        "2026-09-03",
+        "2026-09-05",
+        "2026-09-07",
+        "2026-09-10",
+        "2026-09-12",
+        "2026-09-14",
+        "2026-09-16",
+        "2026-09-18",
+    ] {
+        post(
+            format!("/api/v1/builds/{id}/passes"),
+            json!({"run_on": day}),
+        )
+        .await;
+    }
+    let wear = || {
+        let (app, path) = (&app, format!("/api/v1/builds/{id}/wear"));
+        async move {
+            let r = app.api("GET", &path, t, None).await;
+            assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+            r.json()
+        }
+    };
+    let unknown = wear().await;
+    assert!(unknown["wear_per_mj"].is_null(), "{unknown}");
+    assert_eq!(unknown["wear_per_mj_n"], 0);
+    assert!(unknown["passes_to_shim_due_by_energy"].is_null());
+    assert!(
+        unknown["wear_per_pass"].is_number(),
+        "the per-pass forecast stays: {unknown}"
+    );
+
+    let r = app
+        .api(
+            "PUT",
+            &format!("/api/v1/cars/{car_id}"),
+            t,
+            Some(json!({"description": "two-door, 7.0 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]],
+                        "weight_kg": 1500.0, "first_gear_ratio": 2.6, "final_drive_ratio": 4.1,
+                        "tire_diameter_mm": 760.0, "launch_rpm": 6000.0})),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let known = wear().await;
+    assert_eq!(known["wear_per_mj_n"], 2, "{known}");
+    let per_mj = known["wear_per_mj"].as_f64().unwrap_or(f64::NAN);
+    let [lo, hi] = [0, 1].map(|i| known["wear_per_mj_ci95"][i].as_f64().unwrap_or(f64::NAN));
+    assert!(lo <= per_mj && per_mj <= hi, "{known}");
+    // Both intervals grew 0.02 mm per 4 passes... the second 0.04 mm: the fit lies between
+    // the two intervals' own ratios, so the energy per pass E satisfies
+    // 0.02/(4E) <= per_mj <= 0.04/(4E) with E in MJ, and the shim forecast at E is the
+    // remaining 0.34 mm over per_mj·E.
+    let to_shim = known["passes_to_shim_due_by_energy"]
+        .as_f64()
+        .unwrap_or(f64::NAN);
+    let e_mj = 0.34 / (per_mj * to_shim);
+    assert!(e_mj > 0.0, "{known}");
+    assert!(
+        0.02 / (4.0 * e_mj) <= per_mj * 1.2 && per_mj <= 0.04 / (4.0 * e_mj) * 1.2,
+        "{known}"
+    );
+    assert!(
+        known["passes_to_disc_due_by_energy"]
+            .as_f64()
+            .unwrap_or(0.0)
+            >= to_shim
+    );
+}

@@ -8,6 +8,7 @@ use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::model::as_of::BuildAsOf;
 use crate::model::calibration::calibrated;
+use crate::model::wear::energy_forecast;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser, from_json_value};
 use clutch::InputError;
@@ -86,21 +87,53 @@ pub async fn wear(_: ApiUser, ApiJson(req): ApiJson<WearRequest>) -> ApiResult<W
     clutch::wear::analyze(&req).map(Json).map_err(invalid)
 }
 
+/// A stored build's wear (storage units: mm, N), with the forecast by slip energy beside the
+/// one per pass.
+#[derive(Debug, serde::Serialize)]
+pub struct BuildWear {
+    #[serde(flatten)]
+    pub report: WearReport,
+    /// Total wear per MJ of slip energy, mm/MJ (null without an interval whose passes all have
+    /// a known energy).
+    pub wear_per_mj: Option<f64>,
+    /// Its 95 % interval, mm/MJ (null below two intervals).
+    pub wear_per_mj_ci95: Option<[f64; 2]>,
+    /// Intervals between cover heights used.
+    pub wear_per_mj_n: usize,
+    /// Passes until a shim is due at the current setting's modelled slip energy per pass.
+    pub passes_to_shim_due_by_energy: Option<f64>,
+    /// Passes until the disc is due at that energy per pass.
+    pub passes_to_disc_due_by_energy: Option<f64>,
+}
+
 /// The wear of a stored build, in storage units (mm, N).
 pub async fn build_wear(
     State(state): State<AppState>,
     _: ApiUser,
     Id(id): Id,
-) -> ApiResult<WearReport> {
+) -> ApiResult<BuildWear> {
     let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
     let dossier = db::dossier::load(&mut conn, id)
         .await?
         .ok_or(ApiError(AppError::NotFound))?;
     let settings = db::settings::get(&mut conn).await?;
+    drop(conn);
     let request = BuildAsOf::now(&dossier, &settings)
         .wear()
         .map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
-    clutch::wear::analyze(&request).map(Json).map_err(invalid)
+    let report = clutch::wear::analyze(&request).map_err(invalid)?;
+    // The forecast by energy runs launch previews: off the async workers.
+    let energy = tokio::task::spawn_blocking(move || energy_forecast(&dossier, &settings))
+        .await
+        .map_err(|e| ApiError(AppError::Internal(e.to_string())))?;
+    Ok(Json(BuildWear {
+        report,
+        wear_per_mj: energy.as_ref().map(|e| e.fit.per_mj),
+        wear_per_mj_ci95: energy.as_ref().and_then(|e| e.fit.ci95),
+        wear_per_mj_n: energy.as_ref().map_or(0, |e| e.fit.n),
+        passes_to_shim_due_by_energy: energy.as_ref().and_then(|e| e.passes_to_shim_due),
+        passes_to_disc_due_by_energy: energy.as_ref().and_then(|e| e.passes_to_disc_due),
+    }))
 }
 
 /// `?fit=mu_and_gain` on a stored build's calibration (default `mu`).
