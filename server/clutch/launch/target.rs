@@ -176,8 +176,8 @@ mod tests {
 
     /// The reference launch (docs/engineering.md §18) with four levers of 20 g at 50 mm, so
     /// counterweight matters.
-    fn valid() -> ValidLaunch {
-        let req: LaunchRequest = serde_json::from_value(serde_json::json!({
+    fn request() -> LaunchRequest {
+        serde_json::from_value(serde_json::json!({
             "units": "metric",
             "disc": { "outer_diameter": 240, "inner_diameter": 160, "count": 2 },
             "friction": { "mu": 0.30 },
@@ -195,8 +195,11 @@ mod tests {
                          "tire_grip_spinning": 1.6 },
             "duration_s": 3
         }))
-        .expect("request");
-        req.validate().expect("valid")
+        .expect("request")
+    }
+
+    fn valid() -> ValidLaunch {
+        request().validate().expect("valid")
     }
 
     fn scan(v: &ValidLaunch, grid: Grid) -> Vec<(f64, LaunchRun)> {
@@ -252,25 +255,8 @@ mod tests {
     // value: the search once built its clutch without the clamp loss.
     #[test]
     fn the_search_keeps_the_wear_clamp_loss() {
-        let mut req: LaunchRequest = serde_json::from_value(serde_json::json!({
-            "units": "metric",
-            "disc": { "outer_diameter": 240, "inner_diameter": 160, "count": 2 },
-            "friction": { "mu": 0.30 },
-            "springs": { "count": 4, "rate": 1000, "base_compression": 1, "clamp_loss": 600 },
-            "levers": { "count": 4, "counterweight_g": 20, "cg_radius": 50, "arm_ratio": 1 },
-            "launch_rpm": 6000,
-            "engine": { "torque_curve": [[2000, 700], [5000, 700], [9000, 700]],
-                        "inertia": 0.20 },
-            "driveline": { "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "efficiency": 0.95,
-                           "input_inertia": 0.02, "driveshaft_inertia": 0.05,
-                           "rear_axle_inertia": 3.0, "front_axle_inertia": 1.0 },
-            "vehicle": { "mass": 1500, "tire_diameter": 760, "wheelbase": 2700,
-                         "cg_to_front_axle": 1600, "cg_height": 500, "drag_height": 500,
-                         "rolling_resistance": 0.015, "drag_area": 0.6, "tire_grip": 2.0,
-                         "tire_grip_spinning": 1.6 },
-            "duration_s": 3
-        }))
-        .expect("request");
+        let mut req = request();
+        req.springs.clamp_loss = 600.0;
         let v = req.validate().expect("valid");
         let base = v.model.simulate().lockup.expect("locks").time_s;
         let pick = find_counterweight(&v, LaunchTarget::LockupTime(base * 0.8), Grid::default())
