@@ -2,9 +2,16 @@
 
 use sqlx::SqliteConnection;
 
+use super::record::BuildTable;
 use crate::records::Checked;
 use crate::records::height::HeightInput;
 use crate::records::stored::Height;
+
+/// The table and its order, newest first.
+const HEIGHTS: BuildTable = BuildTable {
+    table: "cover_heights",
+    newest_first: "id DESC",
+};
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Height>> {
     sqlx::query_as("SELECT * FROM cover_heights WHERE build_id = ? ORDER BY id")
@@ -20,32 +27,15 @@ pub async fn page_for_build(
     offset: i64,
     limit: i64,
 ) -> sqlx::Result<Vec<Height>> {
-    sqlx::query_as(
-        "SELECT * FROM cover_heights WHERE build_id = ? ORDER BY id DESC LIMIT ? OFFSET ?",
-    )
-    .bind(build_id)
-    .bind(limit)
-    .bind(offset)
-    .fetch_all(conn)
-    .await
+    HEIGHTS.page(conn, build_id, offset, limit).await
 }
 
 pub async fn count_for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<i64> {
-    sqlx::query_scalar("SELECT COUNT(*) FROM cover_heights WHERE build_id = ?")
-        .bind(build_id)
-        .fetch_one(conn)
-        .await
+    HEIGHTS.count(conn, build_id).await
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Height>> {
-    sqlx::query_as(
-        "SELECT x.* FROM cover_heights x JOIN builds b ON b.id = x.build_id
-         JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
-         WHERE x.id = ? AND c.deleted_at IS NULL",
-    )
-    .bind(id)
-    .fetch_optional(conn)
-    .await
+    HEIGHTS.by_id(conn, id).await
 }
 
 /// The (passes, shims pulled) recorded just before and just after a measurement, in recorded
@@ -93,13 +83,7 @@ pub async fn insert(
     user_id: i64,
     h: &Checked<HeightInput>,
 ) -> sqlx::Result<i64> {
-    super::record::insert(
-        conn,
-        "cover_heights",
-        &[("build_id", build_id), ("user_id", user_id)],
-        h,
-    )
-    .await
+    HEIGHTS.insert(conn, build_id, user_id, h).await
 }
 
 pub async fn update(

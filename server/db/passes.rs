@@ -2,9 +2,16 @@
 
 use sqlx::SqliteConnection;
 
+use super::record::BuildTable;
 use crate::records::Checked;
 use crate::records::pass::PassInput;
 use crate::records::stored::Pass;
+
+/// The table and its order, newest first.
+const PASSES: BuildTable = BuildTable {
+    table: "passes",
+    newest_first: "run_on DESC, id DESC",
+};
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Pass>> {
     sqlx::query_as("SELECT * FROM passes WHERE build_id = ? ORDER BY run_on DESC, id DESC")
@@ -20,32 +27,15 @@ pub async fn page_for_build(
     offset: i64,
     limit: i64,
 ) -> sqlx::Result<Vec<Pass>> {
-    sqlx::query_as(
-        "SELECT * FROM passes WHERE build_id = ? ORDER BY run_on DESC, id DESC LIMIT ? OFFSET ?",
-    )
-    .bind(build_id)
-    .bind(limit)
-    .bind(offset)
-    .fetch_all(conn)
-    .await
+    PASSES.page(conn, build_id, offset, limit).await
 }
 
 pub async fn count_for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<i64> {
-    sqlx::query_scalar("SELECT COUNT(*) FROM passes WHERE build_id = ?")
-        .bind(build_id)
-        .fetch_one(conn)
-        .await
+    PASSES.count(conn, build_id).await
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Pass>> {
-    sqlx::query_as(
-        "SELECT x.* FROM passes x JOIN builds b ON b.id = x.build_id
-         JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
-         WHERE x.id = ? AND c.deleted_at IS NULL",
-    )
-    .bind(id)
-    .fetch_optional(conn)
-    .await
+    PASSES.by_id(conn, id).await
 }
 
 pub async fn insert(
@@ -54,13 +44,7 @@ pub async fn insert(
     user_id: i64,
     p: &Checked<PassInput>,
 ) -> sqlx::Result<i64> {
-    super::record::insert(
-        conn,
-        "passes",
-        &[("build_id", build_id), ("user_id", user_id)],
-        p,
-    )
-    .await
+    PASSES.insert(conn, build_id, user_id, p).await
 }
 
 pub async fn update(

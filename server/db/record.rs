@@ -68,3 +68,79 @@ pub async fn update<R: Record>(
         .await?;
     Ok(done.rows_affected() == 1)
 }
+
+/// The records of a build kept in `table` (which has `build_id`, `user_id` and the build's
+/// live-customer join): the one way their rows are read, paged, counted and inserted.
+pub struct BuildTable {
+    pub table: &'static str,
+    /// ORDER BY terms for the newest first.
+    pub newest_first: &'static str,
+}
+
+impl BuildTable {
+    /// Record `id`, when its build's customer is live.
+    pub async fn by_id<T>(&self, conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<T>>
+    where
+        T: for<'r> sqlx::FromRow<'r, sqlx::sqlite::SqliteRow> + Send + Unpin,
+    {
+        let sql = format!(
+            "SELECT x.* FROM {} x JOIN builds b ON b.id = x.build_id
+             JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
+             WHERE x.id = ? AND c.deleted_at IS NULL",
+            self.table
+        );
+        sqlx::query_as(sqlx::AssertSqlSafe(sql))
+            .bind(id)
+            .fetch_optional(conn)
+            .await
+    }
+
+    /// `limit` of the build's records, newest first, skipping the `offset` newest.
+    pub async fn page<T>(
+        &self,
+        conn: &mut SqliteConnection,
+        build_id: i64,
+        offset: i64,
+        limit: i64,
+    ) -> sqlx::Result<Vec<T>>
+    where
+        T: for<'r> sqlx::FromRow<'r, sqlx::sqlite::SqliteRow> + Send + Unpin,
+    {
+        let sql = format!(
+            "SELECT * FROM {} WHERE build_id = ? ORDER BY {} LIMIT ? OFFSET ?",
+            self.table, self.newest_first
+        );
+        sqlx::query_as(sqlx::AssertSqlSafe(sql))
+            .bind(build_id)
+            .bind(limit)
+            .bind(offset)
+            .fetch_all(conn)
+            .await
+    }
+
+    /// How many records the build has.
+    pub async fn count(&self, conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<i64> {
+        let sql = format!("SELECT COUNT(*) FROM {} WHERE build_id = ?", self.table);
+        sqlx::query_scalar(sqlx::AssertSqlSafe(sql))
+            .bind(build_id)
+            .fetch_one(conn)
+            .await
+    }
+
+    /// Stores a checked record of the build, made by `user_id`; its id.
+    pub async fn insert<R: Record>(
+        &self,
+        conn: &mut SqliteConnection,
+        build_id: i64,
+        user_id: i64,
+        r: &Checked<R>,
+    ) -> sqlx::Result<i64> {
+        insert(
+            conn,
+            self.table,
+            &[("build_id", build_id), ("user_id", user_id)],
+            r,
+        )
+        .await
+    }
+}

@@ -2,9 +2,16 @@
 
 use sqlx::SqliteConnection;
 
+use super::record::BuildTable;
 use crate::records::Checked;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Setup;
+
+/// The table and its order, newest first.
+const SETUPS: BuildTable = BuildTable {
+    table: "setup_changes",
+    newest_first: "changed_on DESC, id DESC",
+};
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Setup>> {
     sqlx::query_as("SELECT * FROM setup_changes WHERE build_id = ? ORDER BY changed_on, id")
@@ -14,14 +21,7 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Setup>> {
-    sqlx::query_as(
-        "SELECT x.* FROM setup_changes x JOIN builds b ON b.id = x.build_id
-         JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
-         WHERE x.id = ? AND c.deleted_at IS NULL",
-    )
-    .bind(id)
-    .fetch_optional(conn)
-    .await
+    SETUPS.by_id(conn, id).await
 }
 
 pub async fn insert(
@@ -30,13 +30,7 @@ pub async fn insert(
     user_id: i64,
     s: &Checked<SetupInput>,
 ) -> sqlx::Result<i64> {
-    super::record::insert(
-        conn,
-        "setup_changes",
-        &[("build_id", build_id), ("user_id", user_id)],
-        s,
-    )
-    .await
+    SETUPS.insert(conn, build_id, user_id, s).await
 }
 
 pub async fn update(
