@@ -90,7 +90,7 @@ pub fn calibrated(
     fit: Fit,
 ) -> Result<BuildCalibration, InputError> {
     let missing = |m: Missing| InputError::new("passes", m);
-    let clutch = BuildAsOf::now(d, settings).clutch().map_err(missing)?;
+    let clutch = BuildAsOf::recorded(d, settings).clutch().map_err(missing)?;
     let (lo, hi) = curve_range(&clutch.engine.torque_curve);
     let mut notes = Vec::new();
     let (mut no_setup, mut outside) = (0, 0);
