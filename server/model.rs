@@ -44,7 +44,7 @@ impl Trial {
             |s| Self {
                 adjuster_turns: s.adjuster_turns,
                 counterweight_g: s.counterweight_g,
-                mu: s.mu,
+                mu: s.mu.filter(|_| !s.nominal_mu),
             },
         )
     }

@@ -173,22 +173,28 @@ impl Friction {
         }
     }
 
-    /// The μ in force with the nominal beside it and, when the calibration is not used, why:
-    /// "μ 0.281 from 5 passes (the facing's nominal μ 0.350)".
-    pub fn words(&self) -> String {
-        let mut text = match self.source {
-            FrictionSource::Nominal => format!("the facing's nominal μ {:.3}", self.nominal),
-            _ => format!(
-                "{} (the facing's nominal μ {:.3})",
-                self.short(),
-                self.nominal
-            ),
-        };
-        if let Some(why) = &self.why_not_calibrated {
-            text.push_str("; not the calibrated μ: ");
-            text.push_str(why);
+    /// What goes beside [`Friction::short`]: the nominal μ when another is used, and why the
+    /// calibration is not used when it was looked at and is not; `None` when nothing.
+    pub fn beside(&self) -> Option<String> {
+        let nominal = (self.source != FrictionSource::Nominal)
+            .then(|| format!("the facing's nominal μ {:.3}", self.nominal));
+        let why = self
+            .why_not_calibrated
+            .as_ref()
+            .map(|why| format!("not the calibrated μ: {why}"));
+        match (nominal, why) {
+            (Some(a), Some(b)) => Some(format!("{a}; {b}")),
+            (a, b) => a.or(b),
         }
-        text
+    }
+
+    /// The μ in force with what goes beside it: "μ 0.281 from 5 passes (the facing's nominal
+    /// μ 0.350)".
+    pub fn words(&self) -> String {
+        match self.beside() {
+            Some(b) => format!("{} ({b})", self.short()),
+            None => self.short(),
+        }
     }
 }
 
@@ -256,8 +262,8 @@ impl<'a> BuildAsOf<'a> {
         installed_length_mm: Option<f64>,
         heights: Vec<&'a HeightInput>,
     ) -> Self {
-        let nominal = FacingMaterial::from_key(&build.facing_material)
-            .map_or(0.0, |m| m.data().mu_nominal);
+        let nominal =
+            FacingMaterial::from_key(&build.facing_material).map_or(0.0, |m| m.data().mu_nominal);
         let mut build = Self {
             build,
             car,

@@ -2,9 +2,9 @@
 //! under the one rule of [`Friction::choose`]. Kept apart from `as_of` because the calibration
 //! scores each pass with `BuildAsOf` (no file imports one that imports it back). No IO.
 
-use super::as_of::{BuildAsOf, CalibrationSummary};
 #[cfg(doc)]
 use super::as_of::Friction;
+use super::as_of::{BuildAsOf, CalibrationSummary};
 use super::calibration::{BuildCalibration, calibrated};
 use crate::records::settings::SettingsInput;
 use crate::records::stored::Dossier;

@@ -87,6 +87,7 @@ pub fn routes() -> Routes {
             get(records::pass_get).put(records::pass_update),
         )
         .route(Token, "/builds/{id}/wear", get(calc::build_wear))
+        .route(Token, "/builds/{id}/capacity", get(calc::build_capacity))
         .route(
             Token,
             "/builds/{id}/calibration",

@@ -6,7 +6,7 @@ use axum::extract::{Query, State};
 
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
-use crate::model::as_of::BuildAsOf;
+use crate::model::as_of::{BuildAsOf, FrictionSource};
 use crate::model::calibration::calibrated;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser};
@@ -74,6 +74,68 @@ pub async fn build_wear(
         .wear()
         .map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
     clutch::wear::analyze(&request).map(Json).map_err(invalid)
+}
+
+/// The friction in force on a stored build, as the API answers it.
+#[derive(Debug, serde::Serialize)]
+pub struct FrictionAnswer {
+    /// The μ the figures use.
+    pub mu: f64,
+    /// The facing's nominal μ.
+    pub nominal_mu: f64,
+    /// "calibrated", "entered" or "nominal".
+    pub source: &'static str,
+    /// Passes the calibrated μ comes from (only when `source` is "calibrated").
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub passes: Option<usize>,
+    /// Why the calibration is not used, when it was looked at and is not.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub why_not_calibrated: Option<String>,
+    /// In words, as the pages say it.
+    pub words: String,
+}
+
+/// The capacity of a stored build's setting in force (storage units, metric), with the
+/// friction it used (`model::as_of::Friction`: the calibrated μ when steady).
+#[derive(Debug, serde::Serialize)]
+pub struct BuildCapacity {
+    pub friction: FrictionAnswer,
+    pub report: CapacityReport,
+}
+
+/// GET /builds/{id}/capacity: the capacity of the setting in force, with the friction in force.
+pub async fn build_capacity(
+    State(state): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<BuildCapacity> {
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let dossier = db::dossier::load(&mut conn, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let settings = db::settings::get(&mut conn).await?;
+    let now = BuildAsOf::now(&dossier, &settings);
+    let request = now
+        .clutch()
+        .map_err(|missing| ApiError(AppError::field("build", missing)))?;
+    let report = clutch::capacity::report::capacity(&request).map_err(invalid)?;
+    let f = &now.friction;
+    let (source, passes) = match f.source {
+        FrictionSource::Calibrated { passes } => ("calibrated", Some(passes)),
+        FrictionSource::Entered { .. } => ("entered", None),
+        FrictionSource::Nominal => ("nominal", None),
+    };
+    Ok(Json(BuildCapacity {
+        friction: FrictionAnswer {
+            mu: f.value(),
+            nominal_mu: f.nominal,
+            source,
+            passes,
+            why_not_calibrated: f.why_not_calibrated.clone(),
+            words: f.words(),
+        },
+        report,
+    }))
 }
 
 /// `?fit=mu_and_gain` on a stored build's calibration (default `mu`).

@@ -11,7 +11,7 @@ use crate::db;
 use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
 use crate::model::Figures;
-use crate::model::as_of::{BuildAsOf, bench_review};
+use crate::model::as_of::{BuildAsOf, Friction, bench_review};
 use crate::model::wear::{DiscPasses, current_disc, disc_passes};
 use crate::records::build::BuildInput;
 use crate::records::date::ShopZone;
@@ -81,6 +81,8 @@ pub struct ShowPage {
     pub flash: Option<String>,
     /// The disc's pass count now (the cover-height form starts from it).
     pub disc_passes: DiscPasses,
+    /// The friction coefficient the figures use, and why.
+    pub friction: Friction,
 }
 
 impl ShowPage {
@@ -348,6 +350,7 @@ pub async fn render_page(
         _ => "none recorded".into(),
     };
     let capacity = now.figures(page.units());
+    let friction = now.friction.clone();
     let capacity_chart = capacity
         .as_ref()
         .ok()
@@ -379,6 +382,7 @@ pub async fn render_page(
         rate_used,
         flash,
         disc_passes,
+        friction,
     }
     .render()?;
     Ok((html, zone))
