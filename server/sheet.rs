@@ -50,6 +50,10 @@ pub struct SheetInputs {
     /// the rule: those use the setup's own μ, as they did).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub friction: Option<FrictionOnSheet>,
+    /// Whether the wear status says "soon" as the shop's one work-due status does (absent, so
+    /// false, on sheets printed before: those keep the words they showed).
+    #[serde(default)]
+    pub soon_status: bool,
 }
 
 /// The friction in force when a sheet was printed.
@@ -114,6 +118,7 @@ impl SheetInputs {
                 mu: now.friction.mu,
                 short: now.friction.short(),
             }),
+            soon_status: true,
         }
     }
 

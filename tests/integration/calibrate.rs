@@ -525,7 +525,7 @@ async fn in_force(app: &TestApp, token: &str, id: i64) -> (String, f64, f64, Str
 // once 3 passes agree and do not drift, the nominal μ before that (saying why), and the nominal
 // μ again when the setup says a new disc went in. Lockups from μ = 0.30 on this clutch at 40 g
 // and 2 turns: 5782.4 rpm (docs/engineering.md §10 [D]); the organic facing's nominal μ is 0.35
-// (docs/engineering.md §2, the clutch module's facing table).
+// (docs/engineering.md §11, the facing table).
 #[tokio::test]
 async fn the_figures_use_the_calibrated_mu_once_the_passes_agree() {
     let app = TestApp::new().await;

@@ -6,8 +6,9 @@ use axum::extract::{Query, State};
 
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
-use crate::model::as_of::{BuildAsOf, FrictionSource};
+use crate::model::as_of::{BuildAsOf, FrictionSource, bench_review};
 use crate::model::calibration::calibrated;
+use crate::model::due::WorkStatus;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser};
 use clutch::InputError;
@@ -135,6 +136,49 @@ pub async fn build_capacity(
             words: f.words(),
         },
         report,
+    }))
+}
+
+/// A stored build's work-due status, as the counter, the search, the build page and the sheet
+/// say it (`model::due::WorkStatus`).
+#[derive(Debug, serde::Serialize)]
+pub struct StatusAnswer {
+    /// "disc_due", "shim_due", "springs", "shim_soon", "disc_soon", "ok" or "no_data".
+    pub status: &'static str,
+    /// The word the pages show.
+    pub word: &'static str,
+    /// Passes to go, for "shim_soon" and "disc_soon".
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub passes: Option<f64>,
+}
+
+/// GET /builds/{id}/status: the build's work-due status.
+pub async fn build_status(
+    State(state): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<StatusAnswer> {
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let dossier = db::dossier::load(&mut conn, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let settings = db::settings::get(&mut conn).await?;
+    let report = BuildAsOf::recorded(&dossier, &settings)
+        .wear()
+        .ok()
+        .and_then(|r| clutch::wear::analyze(&r).ok());
+    let springs_flagged = bench_review(&dossier.bench, &dossier.build.data, &settings)
+        .as_ref()
+        .and_then(|r| r.last())
+        .is_some_and(|t| t.spread.out_of_tolerance || !t.sagged.is_empty());
+    let s = WorkStatus::of_report(report.as_ref(), springs_flagged, settings.due_within_passes);
+    Ok(Json(StatusAnswer {
+        status: s.key(),
+        word: s.word(),
+        passes: match s {
+            WorkStatus::Soon { passes, .. } => Some(passes),
+            _ => None,
+        },
     }))
 }
 
