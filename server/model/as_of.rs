@@ -130,7 +130,14 @@ impl Friction {
         let enough = clutch::calibration::ENOUGH_PASSES;
         match calibration {
             None => entered(None),
-            Some(Err(why)) => entered(Some(format!("no calibration yet ({why})"))),
+            Some(Err(why)) => {
+                let why = why.trim_end_matches('.');
+                let mut chars = why.chars();
+                let why = chars.next().map_or(String::new(), |c| {
+                    c.to_lowercase().chain(chars).collect::<String>()
+                });
+                entered(Some(format!("no calibration yet: {why}")))
+            }
             Some(Ok(c)) if c.passes < enough => entered(Some(format!(
                 "the calibration has {} {} with a lockup seen, {enough} needed",
                 c.passes,
