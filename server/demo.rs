@@ -450,10 +450,11 @@ async fn seed_build(
             adjuster_turns_each: Vec::new(),
             counterweight_g: *cw,
             mu: None,
+            nominal_mu: false,
             note: if i == 0 {
                 "as built".into()
             } else {
-                "more counterweight for a later lockup".into()
+                "more counterweight for an earlier lockup".into()
             },
         };
         db::setups::insert(

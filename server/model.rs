@@ -9,6 +9,8 @@ pub mod as_of;
 pub mod calibration;
 /// The counter's work-due list across the shop.
 pub mod due;
+/// The build now with the friction in force (its calibration under the one rule).
+pub mod friction;
 /// A stored build's launch preview request, with estimates for what the car's record lacks.
 pub mod launch;
 /// A build's disc: its cover heights as a wear request, its pass count, its shimming limit.
@@ -42,7 +44,7 @@ impl Trial {
             |s| Self {
                 adjuster_turns: s.adjuster_turns,
                 counterweight_g: s.counterweight_g,
-                mu: s.mu,
+                mu: s.mu.filter(|_| !s.nominal_mu),
             },
         )
     }

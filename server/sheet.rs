@@ -5,7 +5,6 @@
 use serde::{Deserialize, Serialize};
 
 use crate::model::as_of::{BuildAsOf, tested_rate};
-use crate::model::calibration::{calibrated, mu_source};
 use crate::model::wear::current_disc;
 use crate::model::{Figures, TuningTargets};
 use crate::records::build::BuildInput;
@@ -14,7 +13,6 @@ use crate::records::height::HeightInput;
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Dossier;
-use clutch::calibration::Fit;
 use clutch::capacity::recommend::Recommendation;
 use clutch::units::Units;
 use clutch::wear::{WearReport, analyze};
@@ -47,6 +45,24 @@ pub struct SheetInputs {
     /// figures they showed).
     #[serde(default)]
     pub wear_in_clamp: bool,
+    /// The friction coefficient the figures used when it was printed (the rule of
+    /// `model::as_of::Friction`, the calibration then included; absent on sheets printed before
+    /// the rule: those use the setup's own μ, as they did).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub friction: Option<FrictionOnSheet>,
+    /// Whether the wear status says "soon" as the shop's one work-due status does (absent, so
+    /// false, on sheets printed before: those keep the words they showed).
+    #[serde(default)]
+    pub soon_status: bool,
+}
+
+/// The friction in force when a sheet was printed.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FrictionOnSheet {
+    /// The μ the figures used; `None`: the facing's nominal.
+    pub mu: Option<f64>,
+    /// In a few words ("μ 0.281 from 5 passes").
+    pub short: String,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -72,7 +88,6 @@ impl SheetInputs {
         targets: Option<TuningTargets>,
     ) -> Self {
         let now = BuildAsOf::now(d, settings);
-        let calibration = calibrated(d, settings, Fit::Mu).ok();
         Self {
             prepared_on: prepared_on.into(),
             prepared_by: prepared_by.into(),
@@ -97,8 +112,13 @@ impl SheetInputs {
                 .map(|h| h.data.clone())
                 .collect(),
             targets,
-            mu_source: mu_source(&now, calibration.as_ref()),
+            mu_source: now.friction.beside(),
             wear_in_clamp: true,
+            friction: Some(FrictionOnSheet {
+                mu: now.friction.mu,
+                short: now.friction.short(),
+            }),
+            soon_status: true,
         }
     }
 
@@ -136,6 +156,10 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
         inputs.bench.as_ref().and_then(|b| b.installed_length_mm),
         inputs.heights.iter().collect(),
     );
+    if let Some(f) = &inputs.friction {
+        // The friction in force when it was printed (the calibration of that day included).
+        build.trial.mu = f.mu;
+    }
     if !inputs.wear_in_clamp {
         // Printed before the figures took wear off the static clamp: they reprint as shown.
         build.clamp_loss_n = 0.0;

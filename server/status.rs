@@ -12,7 +12,7 @@ use sqlx::SqliteConnection;
 use crate::db;
 use crate::db::status::{BuildStatus, Listed};
 use crate::model::as_of::bench_review;
-use crate::model::due::{Due, DueReason};
+use crate::model::due::{Due, DueReason, soonest};
 use crate::model::wear::wear_request;
 use crate::records::build::BuildInput;
 use crate::records::settings::SettingsInput;
@@ -46,13 +46,7 @@ pub fn of_history(
             WearStatus::Ok => {
                 s.wear = Some("ok".into());
                 // The nearer forecast, the shim's on a tie (as `model::due::work_due` picks it).
-                let shim = report.passes_to_shim_due.map(|p| (p, false));
-                let disc = report.passes_to_disc_due.map(|p| (p, true));
-                if let Some((passes, disc)) = [shim, disc]
-                    .into_iter()
-                    .flatten()
-                    .min_by(|a, b| a.0.total_cmp(&b.0))
-                {
+                if let Some((passes, disc)) = soonest(&report) {
                     s.soon_passes = Some(passes);
                     s.soon_disc = disc;
                 }

@@ -47,6 +47,11 @@ pub struct FoundBuild {
     /// `disc_due`, `shim_due`, `ok`, or None when wear cannot be worked out yet.
     pub wear: Option<String>,
     pub springs_flagged: bool,
+    /// Passes to the nearer shim or disc forecast, and whether it is the disc (kept status).
+    pub soon_passes: Option<f64>,
+    pub soon_disc: bool,
+    /// The shop's "due within" window of passes.
+    pub due_within_passes: i64,
 }
 
 /// How a list of customers is sorted.

@@ -125,12 +125,16 @@ struct CarBuild {
     label: Option<String>,
     wear: Option<String>,
     springs_flagged: Option<bool>,
+    soon_passes: Option<f64>,
+    soon_disc: Option<bool>,
+    due_within_passes: Option<i64>,
 }
 
 /// The cars of every customer listed, each with its active builds and their kept status: one
 /// query for the page.
 pub const LINKS_SQL: &str = "SELECT k.customer_id, k.id AS car_id, k.description,
-        b.id AS build_id, b.label, s.wear, s.springs_flagged
+        b.id AS build_id, b.label, s.wear, s.springs_flagged, s.soon_passes, s.soon_disc,
+        (SELECT due_within_passes FROM shop_settings ORDER BY id LIMIT 1) AS due_within_passes
      FROM cars k LEFT JOIN builds b ON b.car_id = k.id AND b.status = 'active'
      LEFT JOIN build_status s ON s.build_id = b.id
      WHERE k.customer_id IN (SELECT value FROM json_each(?))
@@ -163,6 +167,9 @@ pub async fn attach_links(
                     label: label.clone(),
                     wear: f.wear.clone(),
                     springs_flagged: f.springs_flagged.unwrap_or(false),
+                    soon_passes: f.soon_passes,
+                    soon_disc: f.soon_disc.unwrap_or(false),
+                    due_within_passes: f.due_within_passes.unwrap_or(0),
                 });
             }
         }

@@ -50,11 +50,166 @@ pub struct BuildAsOf<'a> {
     pub heights: Vec<&'a HeightInput>,
     /// Static clamp lost to disc wear since the last shim, N, by the latest of `heights`.
     pub clamp_loss_n: f64,
+    /// The friction coefficient in force and why (`trial.mu` is its `mu`).
+    pub friction: Friction,
+}
+
+/// What a build's calibration says, as the friction rule reads it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CalibrationSummary {
+    /// The calibrated μ.
+    pub mu: f64,
+    /// Passes it was fitted to.
+    pub passes: usize,
+    /// Whether the passes' μ trends with time (`None` below 3 passes).
+    pub drifting: Option<bool>,
+}
+
+/// Where the friction coefficient the figures use comes from.
+#[derive(Debug, Clone, PartialEq)]
+pub enum FrictionSource {
+    /// The build's calibration: enough passes, and steady.
+    Calibrated { passes: usize },
+    /// The μ entered with the setup in force, on its date.
+    Entered { on: String },
+    /// The facing's nominal μ.
+    Nominal,
+}
+
+/// The friction coefficient in force on a build, and why: THE ONE RULE every page, sheet and
+/// API answer about a stored build follows (see [`Friction::choose`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Friction {
+    /// The μ the figures use; `None` is the facing's nominal value.
+    pub mu: Option<f64>,
+    /// The facing's nominal μ (0 for a facing the clutch module does not know).
+    pub nominal: f64,
+    pub source: FrictionSource,
+    /// Why the calibration is not in force, in words, when it was looked at and is not.
+    pub why_not_calibrated: Option<String>,
+}
+
+impl Friction {
+    /// The rule: the setup's "nominal μ" choice (a new disc) keeps the facing's nominal value;
+    /// else the calibration when it has at least `ENOUGH_PASSES` passes and does not drift;
+    /// else the μ entered with the setup; else the nominal one. `calibration` is `None` when it
+    /// was not worked out (a past date, a sheet's snapshot): the setup's own μ then.
+    pub fn choose(
+        setup: Option<&SetupInput>,
+        nominal: f64,
+        calibration: Option<Result<CalibrationSummary, String>>,
+    ) -> Self {
+        let entered = |why: Option<String>| match setup.and_then(|s| s.mu.map(|mu| (mu, s))) {
+            Some((mu, s)) => Self {
+                mu: Some(mu),
+                nominal,
+                source: FrictionSource::Entered {
+                    on: s.changed_on.clone(),
+                },
+                why_not_calibrated: why,
+            },
+            None => Self {
+                mu: None,
+                nominal,
+                source: FrictionSource::Nominal,
+                why_not_calibrated: why,
+            },
+        };
+        if let Some(s) = setup.filter(|s| s.nominal_mu) {
+            let why = format!(
+                "the setup of {} keeps the facing's nominal μ (a new disc)",
+                s.changed_on
+            );
+            return Self {
+                mu: None,
+                nominal,
+                source: FrictionSource::Nominal,
+                why_not_calibrated: calibration.map(|_| why),
+            };
+        }
+        let enough = clutch::calibration::ENOUGH_PASSES;
+        match calibration {
+            None => entered(None),
+            Some(Err(why)) => {
+                let why = why.trim_end_matches('.');
+                let mut chars = why.chars();
+                let why = chars.next().map_or(String::new(), |c| {
+                    c.to_lowercase().chain(chars).collect::<String>()
+                });
+                entered(Some(format!("no calibration yet: {why}")))
+            }
+            Some(Ok(c)) if c.passes < enough => entered(Some(format!(
+                "the calibration has {} {} with a lockup seen, {enough} needed",
+                c.passes,
+                if c.passes == 1 { "pass" } else { "passes" }
+            ))),
+            Some(Ok(c)) if c.drifting == Some(true) => entered(Some(format!(
+                "the calibration (μ {:.3} from {} passes) drifts from pass to pass: the facing is still changing",
+                c.mu, c.passes
+            ))),
+            Some(Ok(c)) => Self {
+                mu: Some(c.mu),
+                nominal,
+                source: FrictionSource::Calibrated { passes: c.passes },
+                why_not_calibrated: None,
+            },
+        }
+    }
+
+    /// The μ the figures use.
+    pub fn value(&self) -> f64 {
+        self.mu.unwrap_or(self.nominal)
+    }
+
+    /// Whether the figures use the calibrated μ.
+    pub fn calibrated(&self) -> bool {
+        matches!(self.source, FrictionSource::Calibrated { .. })
+    }
+
+    /// The μ in force in a few words: "μ 0.281 from 5 passes", "μ 0.300 entered 2026-10-02",
+    /// "nominal μ 0.350".
+    pub fn short(&self) -> String {
+        match &self.source {
+            FrictionSource::Calibrated { passes } => format!(
+                "μ {:.3} from {passes} {}",
+                self.value(),
+                if *passes == 1 { "pass" } else { "passes" }
+            ),
+            FrictionSource::Entered { on } => format!("μ {:.3} entered {on}", self.value()),
+            FrictionSource::Nominal => format!("nominal μ {:.3}", self.value()),
+        }
+    }
+
+    /// What goes beside [`Friction::short`]: the nominal μ when another is used, and why the
+    /// calibration is not used when it was looked at and is not; `None` when nothing.
+    pub fn beside(&self) -> Option<String> {
+        let nominal = (self.source != FrictionSource::Nominal)
+            .then(|| format!("the facing's nominal μ {:.3}", self.nominal));
+        let why = self
+            .why_not_calibrated
+            .as_ref()
+            .map(|why| format!("not the calibrated μ: {why}"));
+        match (nominal, why) {
+            (Some(a), Some(b)) => Some(format!("{a}; {b}")),
+            (a, b) => a.or(b),
+        }
+    }
+
+    /// The μ in force with what goes beside it: "μ 0.281 from 5 passes (the facing's nominal
+    /// μ 0.350)".
+    pub fn words(&self) -> String {
+        match self.beside() {
+            Some(b) => format!("{} ({b})", self.short()),
+            None => self.short(),
+        }
+    }
 }
 
 impl<'a> BuildAsOf<'a> {
-    /// The build as recorded now: every record counted.
-    pub fn now(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
+    /// The build as recorded now with the friction the setup gives, the calibration not
+    /// looked at (the calibration itself starts from it; every page uses `BuildAsOf::now`, in
+    /// `model::friction`, which puts the calibration under the rule).
+    pub fn recorded(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
         Self::of(d, settings, None)
     }
 
@@ -114,12 +269,15 @@ impl<'a> BuildAsOf<'a> {
         installed_length_mm: Option<f64>,
         heights: Vec<&'a HeightInput>,
     ) -> Self {
+        let nominal =
+            FacingMaterial::from_key(&build.facing_material).map_or(0.0, |m| m.data().mu_nominal);
         let mut build = Self {
             build,
             car,
             settings,
             setup,
             trial: Trial::from_setup(setup),
+            friction: Friction::choose(setup, nominal, None),
             bench_index,
             tested_rate_n_per_mm,
             tested_load_n,
@@ -127,8 +285,18 @@ impl<'a> BuildAsOf<'a> {
             heights,
             clamp_loss_n: 0.0,
         };
+        build.trial.mu = build.friction.mu;
         build.clamp_loss_n = build.clamp_loss();
         build
+    }
+
+    /// Puts the friction `calibration` gives under the rule in force (see [`Friction::choose`]):
+    /// the figures of the setting in force then use its μ.
+    pub fn with_calibration(mut self, calibration: Result<CalibrationSummary, String>) -> Self {
+        let nominal = self.friction.nominal;
+        self.friction = Friction::choose(self.setup, nominal, Some(calibration));
+        self.trial.mu = self.friction.mu;
+        self
     }
 
     /// The spring rate the figures use: the bench test's mean, else the nominal rate.

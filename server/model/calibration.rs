@@ -90,7 +90,7 @@ pub fn calibrated(
     fit: Fit,
 ) -> Result<BuildCalibration, InputError> {
     let missing = |m: Missing| InputError::new("passes", m);
-    let clutch = BuildAsOf::now(d, settings).clutch().map_err(missing)?;
+    let clutch = BuildAsOf::recorded(d, settings).clutch().map_err(missing)?;
     let (lo, hi) = curve_range(&clutch.engine.torque_curve);
     let mut notes = Vec::new();
     let (mut no_setup, mut outside) = (0, 0);
@@ -205,33 +205,5 @@ pub fn calibration_source(c: &BuildCalibration) -> String {
     format!(
         "{:.3} from {} {passes} on the track {span}, {interval}",
         r.mu, r.n
-    )
-}
-
-/// Where the μ of the setup in force comes from, in words, for the setup sheet: the track's
-/// calibration (when the setup's μ is the calibrated one to 3 decimals), a value entered with
-/// the setup, or the facing's nominal value; with what the passes say when that differs.
-/// `None` for the nominal value with no calibration (the sheet already says "nominal").
-pub fn mu_source(build: &BuildAsOf, cal: Option<&BuildCalibration>) -> Option<String> {
-    let same = |mu: f64, c: &BuildCalibration| format!("{mu:.3}") == format!("{:.3}", c.report.mu);
-    Some(
-        match (
-            build.setup.and_then(|s| s.mu.map(|mu| (mu, &s.changed_on))),
-            cal,
-        ) {
-            (Some((mu, _)), Some(c)) if same(mu, c) => {
-                format!("calibrated: μ {}", calibration_source(c))
-            }
-            (Some((_, day)), Some(c)) => format!(
-                "entered with the setup of {day}; the calibration now gives μ {}",
-                calibration_source(c)
-            ),
-            (Some((_, day)), None) => format!("entered with the setup of {day}"),
-            (None, Some(c)) => format!(
-                "the facing's nominal value; the calibration gives μ {}",
-                calibration_source(c)
-            ),
-            (None, None) => return None,
-        },
     )
 }

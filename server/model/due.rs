@@ -40,6 +40,115 @@ impl DueReason {
     }
 }
 
+/// A build's work-due status in one word: THE ONE STATUS the counter, the search results, the
+/// build page, the setup sheet and the API show (see [`WorkStatus::of`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum WorkStatus {
+    DiscDue,
+    ShimDue,
+    /// The latest bench test flagged the springs.
+    Springs,
+    /// A shim (or, with `disc`, the disc) falls due within the shop's window of passes.
+    Soon {
+        passes: f64,
+        disc: bool,
+    },
+    Ok,
+    /// No wear figures yet (no cover height, or the build lacks what the wear needs).
+    NoData,
+}
+
+impl WorkStatus {
+    /// The rule: a disc or shim due now first, then flagged springs, then a shim or disc due
+    /// within `window` passes (the shop's "due within" setting), then ok. `wear` is the wear
+    /// analysis's status, `soon` the nearer forecast (passes, whether it is the disc; see
+    /// [`soonest`]).
+    pub fn of(
+        wear: Option<clutch::wear::WearStatus>,
+        soon: Option<(f64, bool)>,
+        springs_flagged: bool,
+        window: i64,
+    ) -> Self {
+        use clutch::wear::WearStatus as W;
+        match wear {
+            Some(W::DiscDue) => Self::DiscDue,
+            Some(W::ShimDue) => Self::ShimDue,
+            _ if springs_flagged => Self::Springs,
+            Some(W::Ok) => match soon.filter(|(p, _)| *p <= window as f64) {
+                Some((passes, disc)) => Self::Soon { passes, disc },
+                None => Self::Ok,
+            },
+            None => Self::NoData,
+        }
+    }
+
+    /// The status of a wear report (`None`: no wear figures) with the springs' flag.
+    pub fn of_report(
+        report: Option<&clutch::wear::WearReport>,
+        springs_flagged: bool,
+        window: i64,
+    ) -> Self {
+        Self::of(
+            report.map(|r| r.status),
+            report.and_then(soonest),
+            springs_flagged,
+            window,
+        )
+    }
+
+    /// The word with its shape (a word first, a shape second, colour last).
+    pub fn word(&self) -> &'static str {
+        match self {
+            Self::DiscDue => "■ disc due",
+            Self::ShimDue => "▲ shim due",
+            Self::Springs => "▲ springs",
+            Self::Soon { disc: false, .. } => "◆ shim soon",
+            Self::Soon { disc: true, .. } => "◆ disc soon",
+            Self::Ok => "● ok",
+            Self::NoData => "– no wear data",
+        }
+    }
+
+    /// The CSS class of the word's pill.
+    pub fn class(&self) -> &'static str {
+        match self {
+            Self::DiscDue => "bad",
+            Self::ShimDue | Self::Springs => "warn",
+            Self::Soon { .. } => "soon",
+            Self::Ok => "ok",
+            Self::NoData => "",
+        }
+    }
+
+    /// The name the API answers with ("disc_due", "shim_due", "springs", "shim_soon",
+    /// "disc_soon", "ok", "no_data").
+    pub fn key(&self) -> &'static str {
+        match self {
+            Self::DiscDue => "disc_due",
+            Self::ShimDue => "shim_due",
+            Self::Springs => "springs",
+            Self::Soon { disc: false, .. } => "shim_soon",
+            Self::Soon { disc: true, .. } => "disc_soon",
+            Self::Ok => "ok",
+            Self::NoData => "no_data",
+        }
+    }
+}
+
+/// The nearer wear forecast of a report within limits: (passes to go, whether it is the disc),
+/// the shim's on a tie; `None` when nothing is due now or there is no forecast.
+pub fn soonest(report: &clutch::wear::WearReport) -> Option<(f64, bool)> {
+    if report.status != clutch::wear::WearStatus::Ok {
+        return None;
+    }
+    let shim = report.passes_to_shim_due.map(|p| (p, false));
+    let disc = report.passes_to_disc_due.map(|p| (p, true));
+    [shim, disc]
+        .into_iter()
+        .flatten()
+        .min_by(|a, b| a.0.total_cmp(&b.0))
+}
+
 /// One line of the counter's work-due list.
 #[derive(Debug, Clone)]
 pub struct Due {
@@ -99,16 +208,9 @@ pub fn work_due(
             let reason = match report.status {
                 WearStatus::DiscDue => Some(DueReason::DiscDue),
                 WearStatus::ShimDue => Some(DueReason::ShimDue(report.next_shim)),
-                WearStatus::Ok => {
-                    let shim = report.passes_to_shim_due.map(|p| (p, false));
-                    let disc = report.passes_to_disc_due.map(|p| (p, true));
-                    [shim, disc]
-                        .into_iter()
-                        .flatten()
-                        .filter(|(p, _)| *p <= window)
-                        .min_by(|a, b| a.0.total_cmp(&b.0))
-                        .map(|(passes, disc)| DueReason::Soon { passes, disc })
-                }
+                WearStatus::Ok => soonest(&report)
+                    .filter(|(p, _)| *p <= window)
+                    .map(|(passes, disc)| DueReason::Soon { passes, disc }),
             };
             out.extend(reason.map(line));
         }

@@ -18,6 +18,9 @@ pub struct SetupInput {
     pub counterweight_g: f64,
     /// Friction coefficient assumed for this setup; empty uses the facing's nominal value.
     pub mu: Option<f64>,
+    /// Keep the facing's nominal μ (e.g. a new disc) even when the build's calibration has
+    /// enough steady passes (see `model::as_of::Friction`).
+    pub nominal_mu: bool,
     pub note: String,
 }
 
@@ -29,6 +32,7 @@ impl Default for SetupInput {
             adjuster_turns_each: Vec::new(),
             counterweight_g: 0.0,
             mu: None,
+            nominal_mu: false,
             note: String::new(),
         }
     }
@@ -103,6 +107,15 @@ impl Record for SetupInput {
             },
         },
         Field {
+            column: "nominal_mu",
+            form: "nominal_mu",
+            label: "Nominal μ (new disc)",
+            value: Value::Flag {
+                get: |r| r.nominal_mu,
+                set: |r, v| r.nominal_mu = v,
+            },
+        },
+        Field {
             column: "note",
             form: "note",
             label: "Note",
@@ -131,6 +144,13 @@ impl Record for SetupInput {
                     "these average {}: enter that as the adjuster turns",
                     Kind::Turns.show(ctx.units, c.mean)
                 ),
+            );
+        }
+        if self.nominal_mu && self.mu.is_some() {
+            Self::fault(
+                errors,
+                "mu",
+                "leave μ empty to keep the facing's nominal value, or untick “Nominal μ”",
             );
         }
     }

@@ -89,6 +89,8 @@ pub fn routes() -> Routes {
             get(records::get::<Pass>).put(records::update::<Pass>),
         )
         .route(Token, "/builds/{id}/wear", get(calc::build_wear))
+        .route(Token, "/builds/{id}/capacity", get(calc::build_capacity))
+        .route(Token, "/builds/{id}/status", get(calc::build_status))
         .route(
             Token,
             "/builds/{id}/calibration",

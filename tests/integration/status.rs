@@ -415,3 +415,64 @@ async fn random_histories_do_reach_the_due_list() {
     assert_eq!(kept, "[]");
     assert_eq!(kept, full);
 }
+
+// One status everywhere: a shim falling due within the shop's window (10 passes by default)
+// says "◆ shim soon" on the counter, in the search result, on the build page, on a new sheet
+// and in the API, never "● ok" in one place and "soon" in another. Cover height 1.905 in new,
+// 1.918 in after 40 passes: 0.013 in grown at 0.000325 in a pass, so the 0.015 in shimming
+// limit is 0.002 in (about 6 passes) away (derived: linear wear rate, docs/engineering.md §13).
+#[tokio::test]
+async fn a_shim_due_soon_says_soon_everywhere() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let path = client.record_build().await;
+    let id: i64 = crate::support::id_from(&path).parse().unwrap();
+    for (day, height, passes) in [("2026-11-02", "1.905", "0"), ("2026-11-20", "1.918", "40")] {
+        let r = client
+            .post(
+                &format!("/builds/{id}/heights"),
+                &[
+                    ("measured_on", day),
+                    ("height", height),
+                    ("passes", passes),
+                    ("shims_pulled", "0"),
+                ],
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    }
+    let word = "◆ shim soon";
+    let front = client.get("/").await.body;
+    assert!(front.contains(word), "counter");
+    let found = client.get("/?q=Lindqvist").await.body;
+    let result = &found[found.find("found-build").expect("a search result")..];
+    assert!(result.contains(word), "search result");
+    let build = client.get(&format!("/builds/{id}")).await.body;
+    let pill = &build[build.find("id=\"work-status\"").expect("status pill")..];
+    assert!(
+        pill.starts_with(&format!("id=\"work-status\">{word}")),
+        "build page"
+    );
+    assert!(
+        !build.contains("● ok"),
+        "no 'ok' beside 'soon' on the build page"
+    );
+    let made = client.post(&format!("/builds/{id}/sheets"), &[]).await;
+    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
+    let sheet = client.get(made.location()).await.body;
+    assert!(sheet.contains(word), "sheet");
+    assert!(!sheet.contains("● ok"), "sheet says ok");
+    let token = app.token("sam").await;
+    let api = app
+        .api(
+            "GET",
+            &format!("/api/v1/builds/{id}/status"),
+            Some(&token),
+            None,
+        )
+        .await;
+    assert_eq!(api.status, StatusCode::OK, "{}", api.body);
+    let v = api.json();
+    assert_eq!(v["status"], "shim_soon", "{v}");
+    assert_eq!(v["word"], word, "{v}");
+}

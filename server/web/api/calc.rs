@@ -6,8 +6,9 @@ use axum::extract::{Query, State};
 
 use crate::db;
 use crate::error::{ApiError, ApiResult, AppError};
-use crate::model::as_of::BuildAsOf;
+use crate::model::as_of::{BuildAsOf, FrictionSource, bench_review};
 use crate::model::calibration::calibrated;
+use crate::model::due::WorkStatus;
 use crate::model::wear::energy_forecast;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser, from_json_value};
@@ -133,6 +134,111 @@ pub async fn build_wear(
         wear_per_mj_n: energy.as_ref().map_or(0, |e| e.fit.n),
         passes_to_shim_due_by_energy: energy.as_ref().and_then(|e| e.passes_to_shim_due),
         passes_to_disc_due_by_energy: energy.as_ref().and_then(|e| e.passes_to_disc_due),
+    }))
+}
+
+/// The friction in force on a stored build, as the API answers it.
+#[derive(Debug, serde::Serialize)]
+pub struct FrictionAnswer {
+    /// The μ the figures use.
+    pub mu: f64,
+    /// The facing's nominal μ.
+    pub nominal_mu: f64,
+    /// "calibrated", "entered" or "nominal".
+    pub source: &'static str,
+    /// Passes the calibrated μ comes from (only when `source` is "calibrated").
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub passes: Option<usize>,
+    /// Why the calibration is not used, when it was looked at and is not.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub why_not_calibrated: Option<String>,
+    /// In words, as the pages say it.
+    pub words: String,
+}
+
+/// The capacity of a stored build's setting in force (storage units, metric), with the
+/// friction it used (`model::as_of::Friction`: the calibrated μ when steady).
+#[derive(Debug, serde::Serialize)]
+pub struct BuildCapacity {
+    pub friction: FrictionAnswer,
+    pub report: CapacityReport,
+}
+
+/// GET /builds/{id}/capacity: the capacity of the setting in force, with the friction in force.
+pub async fn build_capacity(
+    State(state): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<BuildCapacity> {
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let dossier = db::dossier::load(&mut conn, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let settings = db::settings::get(&mut conn).await?;
+    let now = BuildAsOf::now(&dossier, &settings);
+    let request = now
+        .clutch()
+        .map_err(|missing| ApiError(AppError::field("build", missing)))?;
+    let report = clutch::capacity::report::capacity(&request).map_err(invalid)?;
+    let f = &now.friction;
+    let (source, passes) = match f.source {
+        FrictionSource::Calibrated { passes } => ("calibrated", Some(passes)),
+        FrictionSource::Entered { .. } => ("entered", None),
+        FrictionSource::Nominal => ("nominal", None),
+    };
+    Ok(Json(BuildCapacity {
+        friction: FrictionAnswer {
+            mu: f.value(),
+            nominal_mu: f.nominal,
+            source,
+            passes,
+            why_not_calibrated: f.why_not_calibrated.clone(),
+            words: f.words(),
+        },
+        report,
+    }))
+}
+
+/// A stored build's work-due status, as the counter, the search, the build page and the sheet
+/// say it (`model::due::WorkStatus`).
+#[derive(Debug, serde::Serialize)]
+pub struct StatusAnswer {
+    /// "disc_due", "shim_due", "springs", "shim_soon", "disc_soon", "ok" or "no_data".
+    pub status: &'static str,
+    /// The word the pages show.
+    pub word: &'static str,
+    /// Passes to go, for "shim_soon" and "disc_soon".
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub passes: Option<f64>,
+}
+
+/// GET /builds/{id}/status: the build's work-due status.
+pub async fn build_status(
+    State(state): State<AppState>,
+    _: ApiUser,
+    Id(id): Id,
+) -> ApiResult<StatusAnswer> {
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let dossier = db::dossier::load(&mut conn, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let settings = db::settings::get(&mut conn).await?;
+    let report = BuildAsOf::recorded(&dossier, &settings)
+        .wear()
+        .ok()
+        .and_then(|r| clutch::wear::analyze(&r).ok());
+    let springs_flagged = bench_review(&dossier.bench, &dossier.build.data, &settings)
+        .as_ref()
+        .and_then(|r| r.last())
+        .is_some_and(|t| t.spread.out_of_tolerance || !t.sagged.is_empty());
+    let s = WorkStatus::of_report(report.as_ref(), springs_flagged, settings.due_within_passes);
+    Ok(Json(StatusAnswer {
+        status: s.key(),
+        word: s.word(),
+        passes: match s {
+            WorkStatus::Soon { passes, .. } => Some(passes),
+            _ => None,
+        },
     }))
 }
 

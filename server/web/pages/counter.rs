@@ -10,17 +10,15 @@ use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
 use crate::error::AppResult;
-use crate::model::due::{Due, DueReason};
+use crate::model::due::{Due, DueReason, WorkStatus};
 use crate::records::date::ShopZone;
 use crate::status;
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::CurrentUser;
 use crate::web::pages::admin::backup::{CounterNotice, counter_notice};
-use crate::web::pages::builds::wear;
 use crate::web::pages::customers::customer::ListQuery;
 use crate::web::pages::layout::Layout;
-use clutch::wear::WearStatus;
 
 #[derive(Template)]
 #[template(path = "home.html")]
@@ -41,13 +39,13 @@ impl FrontPage {
         let u = &self.page.u;
         match &d.reason {
             DueReason::DiscDue => (
-                wear::status_class(WearStatus::DiscDue),
-                wear::status_word(WearStatus::DiscDue),
+                WorkStatus::DiscDue.class(),
+                WorkStatus::DiscDue.word(),
                 "Disc at its wear limit: replace the disc.".into(),
             ),
             DueReason::ShimDue(shim) => (
-                wear::status_class(WearStatus::ShimDue),
-                wear::status_word(WearStatus::ShimDue),
+                WorkStatus::ShimDue.class(),
+                WorkStatus::ShimDue.word(),
                 shim.map_or("Shimming limit reached.".into(), |s| {
                     format!("Pull the {} shim.", u.len(s))
                 }),
@@ -55,16 +53,28 @@ impl FrontPage {
             DueReason::Soon {
                 passes,
                 disc: false,
-            } => (
-                "soon",
-                "◆ shim soon",
-                format!("About {passes:.0} passes to the next shim."),
-            ),
-            DueReason::Soon { passes, disc: true } => (
-                "soon",
-                "◆ disc soon",
-                format!("About {passes:.0} passes until the disc is due."),
-            ),
+            } => {
+                let s = WorkStatus::Soon {
+                    passes: *passes,
+                    disc: false,
+                };
+                (
+                    s.class(),
+                    s.word(),
+                    format!("About {passes:.0} passes to the next shim."),
+                )
+            }
+            DueReason::Soon { passes, disc: true } => {
+                let s = WorkStatus::Soon {
+                    passes: *passes,
+                    disc: true,
+                };
+                (
+                    s.class(),
+                    s.word(),
+                    format!("About {passes:.0} passes until the disc is due."),
+                )
+            }
             DueReason::Springs {
                 spread_pct,
                 out_of_tolerance,
@@ -82,8 +92,8 @@ impl FrontPage {
                     ));
                 }
                 (
-                    "warn",
-                    "▲ springs",
+                    WorkStatus::Springs.class(),
+                    WorkStatus::Springs.word(),
                     format!("Latest bench test: {}.", parts.join("; ")),
                 )
             }

@@ -10,6 +10,7 @@ use crate::auth;
 use crate::db;
 use crate::db::sheets::{Link, LinkState, Sheet};
 use crate::error::{AppError, AppResult};
+use crate::model::due::WorkStatus;
 use crate::model::{Trial, TuningTargets};
 use crate::records::{FieldErrors, field};
 use crate::sheet::{self, SheetFigures, SheetInputs};
@@ -101,7 +102,22 @@ impl SheetPage {
 
     /// The setting in force when the sheet was printed.
     pub fn current(&self) -> Trial {
-        Trial::from_setup(self.i.setup.as_ref())
+        let mut t = Trial::from_setup(self.i.setup.as_ref());
+        if let Some(f) = &self.i.friction {
+            t.mu = f.mu;
+        }
+        t
+    }
+
+    /// The disc's work-due status as printed: the shop's one status (wear alone, "soon"
+    /// included) on sheets that carry it; without "soon" on sheets printed before.
+    pub fn work_status(&self) -> Option<WorkStatus> {
+        let r = self.wear()?;
+        Some(if self.i.soon_status {
+            WorkStatus::of_report(Some(r), false, self.i.settings.due_within_passes)
+        } else {
+            WorkStatus::of(Some(r.status), None, false, 0)
+        })
     }
 
     /// The recommended setting, friction as in the current setting.
@@ -141,7 +157,7 @@ impl SheetPage {
     pub fn wear_headline(&self) -> String {
         self.wear().map_or_else(
             || "No cover-height measurement yet.".into(),
-            |r| wear::headline(&self.u, r),
+            |r| wear::headline(&self.u, r, self.work_status().unwrap_or(WorkStatus::NoData)),
         )
     }
 
@@ -152,12 +168,13 @@ impl SheetPage {
     }
 
     pub fn wear_word(&self) -> &'static str {
-        self.wear()
-            .map_or("– no data", |r| wear::status_word(r.status))
+        self.wear().map_or("– no data", |_| {
+            self.work_status().unwrap_or(WorkStatus::NoData).word()
+        })
     }
 
     pub fn wear_class(&self) -> &'static str {
-        self.wear().map_or("", |r| wear::status_class(r.status))
+        self.work_status().map_or("", |s| s.class())
     }
 
     /// The shims still in the clutch, in the order they come out.

@@ -11,7 +11,8 @@ use crate::db;
 use crate::db::sheets::SheetSummary;
 use crate::error::{AppError, AppResult};
 use crate::model::Figures;
-use crate::model::as_of::{BuildAsOf, bench_review};
+use crate::model::as_of::{BuildAsOf, Friction, bench_review};
+use crate::model::due::WorkStatus;
 use crate::model::wear::{DiscPasses, current_disc, disc_passes};
 use crate::records::build::BuildInput;
 use crate::records::date::ShopZone;
@@ -81,6 +82,10 @@ pub struct ShowPage {
     pub flash: Option<String>,
     /// The disc's pass count now (the cover-height form starts from it).
     pub disc_passes: DiscPasses,
+    /// The friction coefficient the figures use, and why.
+    pub friction: Friction,
+    /// The build's work-due status (`model::due::WorkStatus`, as the counter says it).
+    pub work_status: WorkStatus,
 }
 
 impl ShowPage {
@@ -348,16 +353,35 @@ pub async fn render_page(
         _ => "none recorded".into(),
     };
     let capacity = now.figures(page.units());
+    let friction = now.friction.clone();
     let capacity_chart = capacity
         .as_ref()
         .ok()
         .map(|f| capacity_chart(&page.u, &f.report, None));
     let wear = now.wear().and_then(|req| {
         clutch::wear::analyze(&req)
-            .map(|report| wear::view(&page.u, report, &d.heights, req.shimming_limit))
+            .map(|report| {
+                wear::view(
+                    &page.u,
+                    report,
+                    &d.heights,
+                    req.shimming_limit,
+                    settings.due_within_passes,
+                )
+            })
             .map_err(|e| format!("{}: {}", e.field, e.message))
     });
     let bench = bench_views(&d.bench, &d.build.data, &settings);
+    // The shop's one work-due status (the counter's and the search's word).
+    let springs_flagged = bench_review(&d.bench, &d.build.data, &settings)
+        .as_ref()
+        .and_then(|r| r.last())
+        .is_some_and(|t| t.spread.out_of_tolerance || !t.sagged.is_empty());
+    let work_status = WorkStatus::of_report(
+        wear.as_ref().ok().map(|w| &w.report),
+        springs_flagged,
+        settings.due_within_passes,
+    );
     let flash = forms.flash.clone();
     let forms = default_forms(forms, &page.ctx, &d);
     let material = crate::web::pages::show::material_text(&d.build.data);
@@ -379,6 +403,8 @@ pub async fn render_page(
         rate_used,
         flash,
         disc_passes,
+        friction,
+        work_status,
     }
     .render()?;
     Ok((html, zone))

@@ -10,8 +10,8 @@ use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::error::{AppError, AppResult};
-use crate::model::as_of::BuildAsOf;
-use crate::model::calibration::{BuildCalibration, calibrated, calibration_source};
+use crate::model::as_of::{BuildAsOf, Friction};
+use crate::model::calibration::{BuildCalibration, calibration_source};
 use crate::model::{Figures, Trial, TuningTargets, figures};
 use crate::records::date::ShopZone;
 use crate::records::setup::SetupInput;
@@ -24,7 +24,6 @@ use crate::web::pages::builds::launch::LaunchColumn;
 use crate::web::pages::chart::Chart;
 use crate::web::pages::layout::Layout;
 use crate::web::pages::show::Show;
-use clutch::calibration::Fit;
 use clutch::capacity::recommend::Recommendation;
 use clutch::capacity::report::CapacityReport;
 use clutch::launch::target::LaunchTarget;
@@ -128,6 +127,8 @@ pub struct TunePage {
     pub recommended_from: Trial,
     /// Launch previews: the current setup, and the setting tried or recommended beside it.
     pub launch: Vec<LaunchColumn>,
+    /// The friction coefficient in force (the current column's), and why.
+    pub friction: Friction,
 }
 
 /// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
@@ -175,7 +176,9 @@ async fn render_tune(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(conn, user, "customers", "Capacity and tuning").await?;
-    let facts = BuildAsOf::now(&dossier, &settings);
+    let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
+    let calibration = calibration.map_err(|e| e.message);
+    let friction = facts.friction.clone();
     let current_trial = facts.trial;
     let current = facts.figures(page.units());
 
@@ -184,7 +187,6 @@ async fn render_tune(
     let mut trial = None;
     let mut recommended = None;
     let mut recommended_from = current_trial;
-    let calibration = calibrated(&dossier, &settings, Fit::Mu).map_err(|e| e.message);
     if form.get("try") == "1"
         && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
     {
@@ -278,6 +280,7 @@ async fn render_tune(
         calibration,
         recommended_from,
         launch,
+        friction,
     };
     Ok((page.render()?, zone))
 }
@@ -514,8 +517,10 @@ impl TunePage {
         };
         let tried = if self.recommendation.is_some() {
             self.recommended_from.mu
+        } else if let Some((t, _)) = &self.trial {
+            t.mu
         } else {
-            self.trial.as_ref().and_then(|(t, _)| t.mu)
+            self.current_trial.mu
         };
         tried.is_some_and(|mu| format!("{mu:.3}") == text)
     }
@@ -528,6 +533,18 @@ impl TunePage {
             "/builds/{}/tune?try=1&adjuster_turns={}&counterweight_g={}&mu={mu}#try",
             self.dossier.build.id, t.adjuster_turns, t.counterweight_g
         ))
+    }
+
+    /// The link that shows the current setting with the facing's nominal μ (a new disc), when
+    /// the figures use another.
+    pub fn use_nominal_href(&self) -> Option<String> {
+        let t = self.current_trial;
+        t.mu.map(|_| {
+            format!(
+                "/builds/{}/tune?try=1&adjuster_turns={}&counterweight_g={}&mu=#try",
+                self.dossier.build.id, t.adjuster_turns, t.counterweight_g
+            )
+        })
     }
 
     /// The note a setup saved from this page carries.

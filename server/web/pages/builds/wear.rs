@@ -1,6 +1,7 @@
 //! The wear story of a build, as the page tells it: status in words, forecast, the cover-height
 //! chart and the measurement table.
 
+use crate::model::due::WorkStatus;
 use crate::model::wear::current_disc;
 use crate::records::stored::Height;
 use crate::web::pages::chart::Chart;
@@ -13,6 +14,8 @@ pub type WearFigures = (f64, f64, f64);
 /// A build's wear, ready for its page and the front page.
 pub struct WearView {
     pub report: WearReport,
+    /// The disc's work-due status (wear alone: `model::due::WorkStatus`).
+    pub status: WorkStatus,
     /// The status said in words, first.
     pub headline: String,
     /// The forecast in words ("about 35 passes to the next shim").
@@ -26,36 +29,34 @@ pub struct WearView {
 impl WearView {
     /// CSS class and shape for the status: a word first, a shape second, colour last.
     pub fn status_class(&self) -> &'static str {
-        status_class(self.report.status)
+        self.status.class()
     }
     pub fn status_word(&self) -> &'static str {
-        status_word(self.report.status)
+        self.status.word()
     }
 }
 
-pub fn status_class(s: WearStatus) -> &'static str {
-    match s {
-        WearStatus::Ok => "ok",
-        WearStatus::ShimDue => "warn",
-        WearStatus::DiscDue => "bad",
-    }
-}
-
-pub fn status_word(s: WearStatus) -> &'static str {
-    match s {
-        WearStatus::Ok => "● ok",
-        WearStatus::ShimDue => "▲ shim due",
-        WearStatus::DiscDue => "■ disc due",
-    }
-}
-
-/// The sentence a technician reads first.
-pub fn headline(u: &Show, r: &WearReport) -> String {
-    match (r.status, r.next_shim) {
-        (WearStatus::DiscDue, _) => "Disc at its wear limit: replace the disc.".into(),
-        (WearStatus::ShimDue, Some(shim)) => format!("Pull the {} shim now.", u.len(shim)),
-        (WearStatus::ShimDue, None) => "Shimming limit reached.".into(),
-        (WearStatus::Ok, _) => "Within limits.".into(),
+/// The sentence a technician reads first, for the disc's work-due `status` (wear alone).
+pub fn headline(u: &Show, r: &WearReport, status: WorkStatus) -> String {
+    match (r.status, r.next_shim, status) {
+        (WearStatus::DiscDue, _, _) => "Disc at its wear limit: replace the disc.".into(),
+        (WearStatus::ShimDue, Some(shim), _) => format!("Pull the {} shim now.", u.len(shim)),
+        (WearStatus::ShimDue, None, _) => "Shimming limit reached.".into(),
+        (
+            WearStatus::Ok,
+            Some(shim),
+            WorkStatus::Soon {
+                passes,
+                disc: false,
+            },
+        ) => format!(
+            "Within limits; the {} shim falls due in about {passes:.0} passes.",
+            u.len(shim)
+        ),
+        (WearStatus::Ok, _, WorkStatus::Soon { passes, .. }) => {
+            format!("Within limits; the disc falls due in about {passes:.0} passes.")
+        }
+        (WearStatus::Ok, _, _) => "Within limits.".into(),
     }
 }
 
@@ -92,7 +93,15 @@ pub fn forecast(u: &Show, r: &WearReport) -> Vec<String> {
 
 /// Builds the view from the analysed report of the current disc (storage units) and all the
 /// build's measurements (earlier discs are kept as history).
-pub fn view(u: &Show, report: WearReport, heights: &[Height], limit_mm: f64) -> WearView {
+/// The wear panel of a build; `window` is the shop's "due within" passes (for "soon").
+pub fn view(
+    u: &Show,
+    report: WearReport,
+    heights: &[Height],
+    limit_mm: f64,
+    window: i64,
+) -> WearView {
+    let status = WorkStatus::of_report(Some(&report), false, window);
     let current = current_disc(heights);
     let earlier = heights.len() - current.len();
     let rows = heights
@@ -107,7 +116,8 @@ pub fn view(u: &Show, report: WearReport, heights: &[Height], limit_mm: f64) -> 
         })
         .collect();
     WearView {
-        headline: headline(u, &report),
+        headline: headline(u, &report, status),
+        status,
         forecast: forecast(u, &report),
         chart: chart(u, &report, current, limit_mm),
         rows,
@@ -188,13 +198,13 @@ fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
 /// The pill of a found build's kept work-due status (`build_status`) in a search result: (CSS
 /// class, word with its shape). Springs are said when the wear is fine but they are flagged.
 pub fn found_status(b: &crate::db::customers::FoundBuild) -> (&'static str, &'static str) {
-    let of = |s: WearStatus| (status_class(s), status_word(s));
-    let springs_flagged = b.springs_flagged;
-    match b.wear.as_deref() {
-        Some("disc_due") => of(WearStatus::DiscDue),
-        Some("shim_due") => of(WearStatus::ShimDue),
-        _ if springs_flagged => ("warn", "▲ springs"),
-        Some("ok") => of(WearStatus::Ok),
-        _ => ("", "– no wear data"),
-    }
+    let wear = match b.wear.as_deref() {
+        Some("disc_due") => Some(WearStatus::DiscDue),
+        Some("shim_due") => Some(WearStatus::ShimDue),
+        Some("ok") => Some(WearStatus::Ok),
+        _ => None,
+    };
+    let soon = b.soon_passes.map(|p| (p, b.soon_disc));
+    let s = WorkStatus::of(wear, soon, b.springs_flagged, b.due_within_passes);
+    (s.class(), s.word())
 }
