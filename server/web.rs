@@ -42,6 +42,10 @@ pub struct AppState {
     pub staged_logs: Arc<pages::passes::Staging>,
     /// Sessions and rendered pages reused while nothing has been committed (`web::http::cache`).
     pub cache: Arc<http::cache::Cache>,
+    /// Heavy work on bounded blocking threads, turns per caller (`web::http::heavy`).
+    pub heavy: Arc<http::heavy::Heavy>,
+    /// The last analysis of each stored log, thinned for its page (`pages::passes::Views`).
+    pub log_views: Arc<pages::passes::Views>,
 }
 
 impl AppState {
@@ -55,6 +59,8 @@ impl AppState {
             public_url: None,
             staged_logs: pages::passes::staging(),
             cache,
+            heavy: Arc::default(),
+            log_views: Arc::default(),
         }
     }
 
