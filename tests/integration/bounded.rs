@@ -246,3 +246,62 @@ async fn a_user_stages_two_uploads_and_never_evicts_anothers() {
     let map = boss.get(theirs.location()).await;
     assert_eq!(map.status, StatusCode::OK, "{}", map.body);
 }
+
+#[tokio::test]
+async fn a_token_flooding_the_launch_preview_is_turned_away_past_two_at_once() {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    let body = crate::launch::worked();
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/launch",
+            Some(&token),
+            Some(body.clone()),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let caller = Caller(Some(format!(
+        "token {}",
+        lockpoint::auth::hash_secret(&token)
+    )));
+    let _held = [
+        app.state.heavy.turn(&caller).unwrap(),
+        app.state.heavy.turn(&caller).unwrap(),
+    ];
+    let r = app
+        .api(
+            "POST",
+            "/api/v1/calc/launch",
+            Some(&token),
+            Some(body.clone()),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::TOO_MANY_REQUESTS, "{}", r.body);
+    assert_eq!(r.headers[header::RETRY_AFTER], "2");
+    let other = app.token("boss").await;
+    let r = app
+        .api("POST", "/api/v1/calc/launch", Some(&other), Some(body))
+        .await;
+    assert_eq!(r.status, StatusCode::OK);
+}
+
+#[tokio::test]
+async fn a_session_past_its_two_calculations_gets_429_on_the_tuning_page() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    let page = client.get(&format!("{build}/tune")).await;
+    assert_eq!(page.status, StatusCode::OK);
+    let session = client.cookie.split('=').nth(1).unwrap();
+    let caller = Caller(Some(format!(
+        "session {}",
+        lockpoint::auth::hash_secret(session)
+    )));
+    let _held = [
+        app.state.heavy.turn(&caller).unwrap(),
+        app.state.heavy.turn(&caller).unwrap(),
+    ];
+    let page = client.get(&format!("{build}/tune?try=1")).await;
+    assert_eq!(page.status, StatusCode::TOO_MANY_REQUESTS, "{}", page.body);
+}

@@ -10,6 +10,7 @@ use crate::model::as_of::BuildAsOf;
 use crate::model::calibration::calibrated;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser};
+use crate::web::http::heavy::Caller;
 use clutch::InputError;
 use clutch::calibration::{CalibrateRequest, CalibrationReport, Fit};
 use clutch::capacity::recommend::{RecommendRequest, Recommendation};
@@ -31,26 +32,52 @@ pub async fn capacity(
         .map_err(invalid)
 }
 
+/// The search: heavy work, on the bounded pool in the caller's turn (`web::http::heavy`).
 pub async fn recommend(
+    State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     ApiJson(req): ApiJson<RecommendRequest>,
 ) -> ApiResult<Recommendation> {
-    clutch::capacity::recommend::recommend(&req)
+    state
+        .heavy
+        .run_for(&caller, move || {
+            clutch::capacity::recommend::recommend(&req)
+        })
+        .await?
         .map(Json)
         .map_err(invalid)
 }
 
+/// The fit: heavy work, on the bounded pool in the caller's turn.
 pub async fn calibrate(
+    State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     ApiJson(req): ApiJson<CalibrateRequest>,
 ) -> ApiResult<CalibrationReport> {
-    clutch::calibration::calibrate_request(&req)
+    state
+        .heavy
+        .run_for(&caller, move || {
+            clutch::calibration::calibrate_request(&req)
+        })
+        .await?
         .map(Json)
         .map_err(invalid)
 }
 
-pub async fn launch(_: ApiUser, ApiJson(req): ApiJson<LaunchRequest>) -> ApiResult<LaunchReport> {
-    clutch::launch::request::launch(&req)
+/// The simulation (up to tens of ms at the costliest request): on the bounded pool in the
+/// caller's turn.
+pub async fn launch(
+    State(state): State<AppState>,
+    _: ApiUser,
+    caller: Caller,
+    ApiJson(req): ApiJson<LaunchRequest>,
+) -> ApiResult<LaunchReport> {
+    state
+        .heavy
+        .run_for(&caller, move || clutch::launch::request::launch(&req))
+        .await?
         .map(Json)
         .map_err(invalid)
 }
@@ -88,6 +115,7 @@ pub struct FitQuery {
 pub async fn build_calibration(
     State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     Id(id): Id,
     Query(query): Query<FitQuery>,
 ) -> ApiResult<CalibrationReport> {
@@ -96,6 +124,13 @@ pub async fn build_calibration(
         .await?
         .ok_or(ApiError(AppError::NotFound))?;
     let settings = db::settings::get(&mut conn).await?;
-    let calibration = calibrated(&dossier, &settings, query.fit).map_err(invalid)?;
-    Ok(Json(calibration.report))
+    drop(conn);
+    let calibration = state
+        .heavy
+        .run_for(&caller, move || {
+            calibrated(&dossier, &settings, query.fit).map(|c| c.report)
+        })
+        .await?
+        .map_err(invalid)?;
+    Ok(Json(calibration))
 }

@@ -132,6 +132,27 @@ impl Heavy {
             .map_err(|e| AppError::Internal(format!("heavy work stopped: {e}")))
     }
 
+    /// A caller's turn and a place, then `work` run on this thread, the runtime told that it
+    /// blocks (its other tasks move to another worker): for work that borrows the request's
+    /// data, such as a page's calculations. On a single-threaded runtime (the tests) it simply
+    /// runs.
+    pub async fn here<T>(
+        self: &Arc<Self>,
+        caller: &Caller,
+        work: impl FnOnce() -> T,
+    ) -> Result<T, AppError> {
+        let _turn = self.turn(caller)?;
+        let _place = self
+            .running
+            .acquire()
+            .await
+            .map_err(|e| AppError::Internal(e.to_string()))?;
+        Ok(match tokio::runtime::Handle::current().runtime_flavor() {
+            tokio::runtime::RuntimeFlavor::MultiThread => tokio::task::block_in_place(work),
+            _ => work(),
+        })
+    }
+
     /// A caller's turn, then `work` run as in [`Heavy::run`].
     pub async fn run_for<T, F>(self: &Arc<Self>, caller: &Caller, work: F) -> Result<T, AppError>
     where
