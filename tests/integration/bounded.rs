@@ -305,3 +305,96 @@ async fn a_session_past_its_two_calculations_gets_429_on_the_tuning_page() {
     let page = client.get(&format!("{build}/tune?try=1")).await;
     assert_eq!(page.status, StatusCode::TOO_MANY_REQUESTS, "{}", page.body);
 }
+
+#[tokio::test]
+async fn an_import_refuses_a_stored_log_that_does_not_inflate_or_read() {
+    use crate::backup::{Scratch, demo_document, import_refused};
+    let scratch = Scratch::new();
+    let document = demo_document(&scratch).await;
+    let logs = document["tables"]["pass_logs"].as_array().unwrap();
+    assert!(!logs.is_empty(), "the demo shop has a stored log");
+    let spoil = |column: &str, value: serde_json::Value| {
+        let mut d = document.clone();
+        d["tables"]["pass_logs"][0][column] = value;
+        d
+    };
+    let msg = import_refused(
+        &scratch,
+        "garbled",
+        &spoil("file_deflated", json!({"$blob": "0001"})),
+    )
+    .await;
+    assert!(
+        msg.contains("\"pass_logs\"") && msg.contains("file_deflated"),
+        "{msg}"
+    );
+    let msg = import_refused(&scratch, "size", &spoil("file_bytes", json!(7))).await;
+    assert!(
+        msg.contains("file_bytes") && msg.contains("7 bytes"),
+        "{msg}"
+    );
+    let msg = import_refused(&scratch, "settings", &spoil("settings", json!("{oops"))).await;
+    assert!(msg.contains("settings cannot be read"), "{msg}");
+}
+
+#[tokio::test]
+async fn the_database_and_its_wal_files_are_created_for_their_owner_only() {
+    use std::os::unix::fs::PermissionsExt;
+    let scratch = crate::backup::Scratch::new();
+    let path = scratch.path("private.db");
+    let pool = lockpoint::db::open(&path).await.unwrap();
+    sqlx::query("SELECT COUNT(*) FROM users")
+        .execute(&pool)
+        .await
+        .unwrap();
+    for suffix in ["", "-wal", "-shm"] {
+        let file = format!("{}{suffix}", path.display());
+        let mode = std::fs::metadata(&file).unwrap().permissions().mode() & 0o777;
+        assert_eq!(mode, 0o600, "{file}");
+    }
+    pool.close().await;
+}
+
+#[tokio::test]
+async fn an_export_is_written_aside_and_named_only_when_complete() {
+    use crate::backup::{Scratch, lockpoint, stderr, text};
+    let scratch = Scratch::new();
+    let shop = scratch.path("shop.db");
+    let pool = lockpoint::db::open(&shop).await.unwrap();
+    assert!(lockpoint::demo::seed_if_empty(&pool).await.unwrap());
+    pool.close().await;
+    // An empty folder made beforehand is taken; nothing is left beside it.
+    let dir = scratch.path("out");
+    std::fs::create_dir(&dir).unwrap();
+    let out = lockpoint(&["export", text(&dir), "--db", text(&shop)]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    assert!(dir.join("lockpoint-export.json").is_file());
+    let beside: Vec<String> = std::fs::read_dir(scratch.path(""))
+        .unwrap()
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|n| n.contains("exporting"))
+        .collect();
+    assert!(beside.is_empty(), "{beside:?}");
+    // A folder with an earlier export is never written into.
+    let out = lockpoint(&["export", text(&dir), "--db", text(&shop)]);
+    assert!(!out.status.success());
+    assert!(
+        stderr(&out).contains("already exists and is not empty"),
+        "{}",
+        stderr(&out)
+    );
+}
+
+#[tokio::test]
+async fn staged_download_copies_left_by_a_stopped_server_are_swept_at_start() {
+    let scratch = crate::backup::Scratch::new();
+    let shop = scratch.path("shop.db");
+    lockpoint::db::open(&shop).await.unwrap().close().await;
+    let left = scratch.path(".shop.db.download-123-456-0.db");
+    std::fs::write(&left, "a backup copy").unwrap();
+    let keep = scratch.path("notes.txt");
+    std::fs::write(&keep, "mine").unwrap();
+    assert_eq!(lockpoint::backup::sweep_staged_downloads(&shop), 1);
+    assert!(!left.exists() && keep.exists());
+}
