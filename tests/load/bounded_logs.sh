@@ -18,6 +18,7 @@ trap '[ -n "$SERVER" ] && kill -9 $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
 start_server() {
   [ -n "$SERVER" ] && { kill $SERVER; wait $SERVER 2>/dev/null || true; }
   rm -f "$WORK"/logs.db*
+  : > "$WORK/serve.out"
   ./target/release/lockpoint serve --demo --db "$WORK/logs.db" --addr 127.0.0.1:0 \
     > "$WORK/serve.out" 2>> "$WORK/serve.err" &
   SERVER=$!
