@@ -1,7 +1,7 @@
 //! Integration tests: HTTP through the real router and a real SQLite file.
 
 mod access;
-pub mod backup;
+mod backup;
 mod bounded;
 mod cache;
 mod calc;

@@ -113,17 +113,20 @@ const VIEW_POINTS: usize = 900;
 /// picks the analysis (the stored file's stamp, its settings and the car's data): a pass's
 /// page is analysed again only when its file or its car changed, not after every commit.
 #[derive(Default)]
-pub struct Views(Mutex<HashMap<i64, (String, Arc<Result<LogResult, InputError>>)>>);
+pub struct Views(Mutex<HashMap<i64, (String, LogView)>>);
+
+/// A stored log's analysis thinned for its page, or why its file does not read.
+type LogView = Arc<Result<LogResult, InputError>>;
 
 impl Views {
-    fn get(&self, pass_id: i64, key: &str) -> Option<Arc<Result<LogResult, InputError>>> {
+    fn get(&self, pass_id: i64, key: &str) -> Option<LogView> {
         let all = self.0.lock().unwrap_or_else(|e| e.into_inner());
         all.get(&pass_id)
             .filter(|(k, _)| k == key)
             .map(|(_, v)| Arc::clone(v))
     }
 
-    fn keep(&self, pass_id: i64, key: String, view: Arc<Result<LogResult, InputError>>) {
+    fn keep(&self, pass_id: i64, key: String, view: LogView) {
         let mut all = self.0.lock().unwrap_or_else(|e| e.into_inner());
         if all.len() >= VIEWS_MAX && !all.contains_key(&pass_id) {
             let any = all.keys().next().copied();
@@ -142,7 +145,7 @@ async fn stored_view(
     caller: &Caller,
     pc: &PassCar,
     pass_id: i64,
-) -> AppResult<Option<Arc<Result<LogResult, InputError>>>> {
+) -> AppResult<Option<LogView>> {
     let mut conn = state.pool.acquire().await?;
     let Some(stamp) = db::pass_logs::stamp(&mut conn, pass_id).await? else {
         return Ok(None);
@@ -564,11 +567,7 @@ async fn render_with(
 }
 
 /// The analysis of another pass's stored log (its car's data), for the comparison chart.
-async fn compare_view(
-    state: &AppState,
-    caller: &Caller,
-    id: i64,
-) -> AppResult<Option<Arc<Result<LogResult, InputError>>>> {
+async fn compare_view(state: &AppState, caller: &Caller, id: i64) -> AppResult<Option<LogView>> {
     let mut conn = state.pool.acquire().await?;
     let Some(pc) = pass_car(&mut conn, id).await? else {
         return Ok(None);
