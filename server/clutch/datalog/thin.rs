@@ -1,10 +1,11 @@
 //! A long trace thinned to a bounded number of points for an answer or a chart, keeping its
 //! shape and every sample an event sits on.
 //!
-//! Method: largest-triangle-three-buckets (LTTB, Steinarsson 2013, "Downsampling Time Series
-//! for Visual Representation", University of Iceland MSc thesis, §4.2), extended to several
-//! channels: the triangle areas of each channel, its values scaled to its own range, are
-//! summed, so one choice of samples serves every channel of the trace. The event samples the
+//! Method: largest-triangle-three-buckets (LTTB, the published downsampling method for time
+//! series drawn on screen: the samples between the ends are split into equal buckets, and from
+//! each the sample forming the largest triangle with the one kept before it and the mean of the
+//! next bucket is kept), extended to several channels: the triangle areas of each channel, its
+//! values scaled to its own range, are summed, so one choice of samples serves every channel. The event samples the
 //! caller names (launch, lockup, lowest engine speed, the peaks, the tyre-spin edges) are then
 //! added back, so no event falls between two kept points. Pure: indices in, indices out.
 
