@@ -636,14 +636,36 @@ fn finish_file(out: io::BufWriter<File>) -> io::Result<()> {
     out.into_inner().map_err(|e| e.into_error())?.sync_all()
 }
 
-/// `lockpoint export`: writes `lockpoint-export.json` and one CSV file per table into `dir`
-/// (created when missing), streaming the rows from one snapshot of the database. Refuses to
-/// overwrite any file.
+/// `lockpoint export`: writes `lockpoint-export.json` and one CSV file per table into `dir`,
+/// streaming the rows from one snapshot of the database. The files are written into a hidden
+/// folder beside `dir` (`.<dir>.exporting-…`, 0700), flushed, and that folder is renamed to
+/// `dir` only when every file is complete: an export stopped half-way leaves no file under an
+/// export's name, and `dir` never holds part of one. Refuses a `dir` that exists and is not
+/// empty (an export never overwrites a file); an empty one is replaced.
 pub async fn export_dir(
     db: &Path,
     dir: &Path,
     progress: &mut Progress,
 ) -> Result<Exported, BackupError> {
+    let taken = fs::read_dir(dir).is_ok_and(|mut entries| entries.next().is_some());
+    if taken {
+        return Err(BackupError::Refused(format!(
+            "{} already exists and is not empty: an export never overwrites a file, choose a new directory",
+            dir.display()
+        )));
+    }
+    let name = dir
+        .file_name()
+        .map_or_else(|| "export".into(), |n| n.to_string_lossy().into_owned());
+    let parent = folder_of(dir);
+    private_dir(&parent).map_err(io_err(format!("cannot create {}", parent.display())))?;
+    let temp = TempDir(TempPath::unique_in(
+        &parent,
+        &format!(".{name}.exporting"),
+        "",
+    ));
+    let work = temp.0.path().to_path_buf();
+    private_dir(&work).map_err(io_err(format!("cannot create {}", work.display())))?;
     let pool = open_existing(db).await?;
     let done = async {
         let mut tx = pool.begin().await?;
@@ -654,17 +676,13 @@ pub async fn export_dir(
                 .iter()
                 .map(|t| dir.join(export::csv_file_name(&t.name))),
         );
-        if let Some(taken) = files.iter().find(|p| p.exists()) {
-            return Err(BackupError::Refused(format!(
-                "{} already exists: an export never overwrites a file, choose a new directory",
-                taken.display()
-            )));
-        }
-        private_dir(dir).map_err(io_err(format!("cannot create {}", dir.display())))?;
         let written = async {
-            let mut json = JsonWriter::begin(create_private(&files[0])?, plan.version)?;
-            let mut open_csv =
-                |table: &str| create_private(&dir.join(export::csv_file_name(table)));
+            let mut json =
+                JsonWriter::begin(create_private(&work.join(export::JSON_FILE))?, plan.version)?;
+            let mut open_csv = |table: &str| {
+                let path = work.join(export::csv_file_name(table));
+                create_private(&path)
+            };
             let rows =
                 export::write(&mut tx, &plan, &mut json, Some(&mut open_csv), progress).await?;
             finish_file(json.finish()?)?;
@@ -676,12 +694,22 @@ pub async fn export_dir(
             Err(ExportError::Io(e)) => {
                 return Err(io_err(format!(
                     "cannot write the export into {}",
-                    dir.display()
+                    work.display()
                 ))(e));
             }
             Err(other) => return Err(other.into()),
         };
         tx.rollback().await?;
+        // Complete: the folder takes its name (an empty `dir` made beforehand gives way).
+        if dir.is_dir() {
+            fs::remove_dir(dir).map_err(io_err(format!("cannot replace {}", dir.display())))?;
+        }
+        fs::rename(&work, dir).map_err(io_err(format!(
+            "cannot rename {} to {}",
+            work.display(),
+            dir.display()
+        )))?;
+        sync_to_disk(&dir.join(export::JSON_FILE))?;
         Ok(Exported {
             version: plan.version,
             tables: plan.tables.len(),
@@ -692,6 +720,33 @@ pub async fn export_dir(
     .await;
     pool.close().await;
     done
+}
+
+/// A folder removed with what it holds when this guard is dropped (gone already once renamed).
+struct TempDir(TempPath);
+
+impl Drop for TempDir {
+    fn drop(&mut self) {
+        let _ = fs::remove_dir_all(self.0.path());
+    }
+}
+
+/// Removes the copies a download staged beside the database (`.<db>.download-…`) that a
+/// stopped server left behind: run at the server's start, before any download can be staged.
+/// Returns how many were removed.
+pub fn sweep_staged_downloads(db: &Path) -> usize {
+    let Some(name) = db.file_name().map(|n| n.to_string_lossy().into_owned()) else {
+        return 0;
+    };
+    let prefix = format!(".{name}.download-");
+    let Ok(entries) = fs::read_dir(folder_of(db)) else {
+        return 0;
+    };
+    entries
+        .flatten()
+        .filter(|e| e.file_name().to_string_lossy().starts_with(&prefix))
+        .filter(|e| fs::remove_file(e.path()).is_ok())
+        .count()
 }
 
 /// Writes the JSON export of the database behind `pool` to `dest` (a new file, readable by its

@@ -170,6 +170,15 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
         )
         .into());
     };
+    // Downloads staged by a server that was stopped while sending them (this one holds the
+    // lock now, so none is in flight).
+    let swept = backup::sweep_staged_downloads(&args.db.path);
+    if swept > 0 {
+        tracing::info!(
+            swept,
+            "removed staged download copies left by an earlier run"
+        );
+    }
     let pool = db::open(&args.db.path).await?;
     if args.demo {
         match demo::seed_if_empty(&pool).await? {

@@ -39,6 +39,7 @@ use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, S
 /// commit durable across power loss, not only process crashes: the shop's measurements cannot be
 /// re-taken, and the write rate of a counter is small enough to pay an fsync per commit.
 pub async fn open(path: &Path) -> Result<SqlitePool, sqlx::Error> {
+    create_private(path)?;
     let options = SqliteConnectOptions::from_str("sqlite:")?
         .filename(path)
         .create_if_missing(true)
@@ -58,6 +59,24 @@ pub async fn open(path: &Path) -> Result<SqlitePool, sqlx::Error> {
         .await?;
     MIGRATOR.run(&pool).await?;
     Ok(pool)
+}
+
+/// Creates a missing database file empty (an empty file is an empty SQLite database) and
+/// readable by its owner only (0600 on Unix): it holds password and token hashes, and SQLite
+/// gives its `-wal` and `-shm` files the database file's permissions. An existing file is left
+/// as it is.
+fn create_private(path: &Path) -> std::io::Result<()> {
+    let mut options = std::fs::OpenOptions::new();
+    options.write(true).create_new(true);
+    #[cfg(unix)]
+    std::os::unix::fs::OpenOptionsExt::mode(&mut options, 0o600);
+    match options.open(path) {
+        Ok(_) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => Ok(()),
+        // A path SQLite may still open its own way (such as ":memory:"): let it say.
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ok(()),
+        Err(e) => Err(e),
+    }
 }
 
 /// Pooled connections: enough for writers queued on the write lock (each holds one while it

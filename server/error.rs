@@ -34,6 +34,9 @@ pub enum AppError {
     /// The body went past the size limit while it was read (a chunked upload has no length).
     #[error("the request body is too large")]
     TooLarge,
+    /// Too much heavy work asked for at once; answered 429 with `Retry-After`.
+    #[error("{0}")]
+    Busy(&'static str),
     #[error("internal error: {0}")]
     Internal(String),
 }
@@ -55,6 +58,7 @@ impl AppError {
             Self::Invalid(_) => StatusCode::UNPROCESSABLE_ENTITY,
             Self::BadRequest => StatusCode::BAD_REQUEST,
             Self::TooLarge => StatusCode::PAYLOAD_TOO_LARGE,
+            Self::Busy(_) => StatusCode::TOO_MANY_REQUESTS,
             Self::Internal(_) => StatusCode::INTERNAL_SERVER_ERROR,
         }
     }
@@ -114,10 +118,12 @@ impl IntoResponse for AppError {
             title: status.canonical_reason().unwrap_or("Error"),
             message: self.public_message(),
         };
-        match page.render() {
+        let mut response = match page.render() {
             Ok(html) => (status, Html(html)).into_response(),
             Err(_) => (status, page.message).into_response(),
-        }
+        };
+        retry_after(&mut response);
+        response
     }
 }
 
@@ -153,6 +159,18 @@ impl IntoResponse for ApiError {
             other => other.public_message(),
         };
         let body = serde_json::json!({ "error": message, "field": field });
-        (status, Json(body)).into_response()
+        let mut response = (status, Json(body)).into_response();
+        retry_after(&mut response);
+        response
+    }
+}
+
+/// A 429 says when to come back.
+fn retry_after(response: &mut Response) {
+    if response.status() == StatusCode::TOO_MANY_REQUESTS {
+        response.headers_mut().insert(
+            axum::http::header::RETRY_AFTER,
+            axum::http::HeaderValue::from(crate::web::http::heavy::RETRY_AFTER_S),
+        );
     }
 }

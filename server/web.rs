@@ -23,13 +23,14 @@ use tower_http::compression::{CompressionLayer, CompressionLevel};
 use tower_http::csrf::CsrfLayer;
 use tower_http::limit::RequestBodyLimitLayer;
 use tower_http::set_header::SetResponseHeaderLayer;
-use tower_http::timeout::TimeoutLayer;
 use tower_http::trace::TraceLayer;
 
 use crate::backup::plan::Fixed;
 use crate::backup::scheduler::Backups;
 use http::routes::{Access, RouteInfo, Routes, get, post};
-pub use pages::login::{PURGE_BATCH, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures};
+pub use pages::login::{
+    PURGE_BATCH, RESERVED_SIGN_IN_SLOTS, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures,
+};
 
 /// What every handler can reach.
 #[derive(Clone)]
@@ -38,6 +39,9 @@ pub struct AppState {
     /// Password checks allowed at once (see `pages::login::SIGN_IN_SLOTS`); a sign-in that finds
     /// none free answers 429 at once instead of queueing.
     pub sign_ins: Arc<Semaphore>,
+    /// Password checks kept for clients with no recent failure (see
+    /// `pages::login::RESERVED_SIGN_IN_SLOTS`), waited for in turn.
+    pub reserved_sign_ins: Arc<Semaphore>,
     /// `--public-url`: the address customer links are built from (no trailing `/`).
     pub public_url: Option<Arc<str>>,
     /// Data-log files sent and waiting for their column mapping (memory only).
@@ -46,6 +50,10 @@ pub struct AppState {
     pub cache: Arc<http::cache::Cache>,
     /// The scheduled backups and what they did (`crate::backup::scheduler`).
     pub backups: Arc<Backups>,
+    /// Heavy work on bounded blocking threads, turns per caller (`web::http::heavy`).
+    pub heavy: Arc<http::heavy::Heavy>,
+    /// The last analysis of each stored log, thinned for its page (`pages::passes::Views`).
+    pub log_views: Arc<pages::passes::Views>,
 }
 
 impl AppState {
@@ -72,10 +80,13 @@ impl AppState {
         Self {
             pool,
             sign_ins: Arc::new(Semaphore::new(pages::login::SIGN_IN_SLOTS)),
+            reserved_sign_ins: Arc::new(Semaphore::new(pages::login::RESERVED_SIGN_IN_SLOTS)),
             public_url: None,
             staged_logs: pages::passes::staging(),
             cache,
             backups,
+            heavy: Arc::default(),
+            log_views: Arc::default(),
         }
     }
 
@@ -150,7 +161,9 @@ fn pages() -> Routes {
         .route(
             Public,
             "/login",
-            get(pages::login::form).post(pages::login::submit),
+            get(pages::login::form)
+                .post(pages::login::submit)
+                .body_limit(pages::login::LOGIN_BODY_LIMIT_BYTES),
         )
         .route(SignedIn, "/logout", post(pages::login::logout))
         .route(
@@ -392,11 +405,46 @@ pub fn app(state: AppState) -> Router {
         // of them is refused before the body is read at all.
         .layer(DefaultBodyLimit::max(BODY_LIMIT_BYTES))
         .layer(RequestBodyLimitLayer::new(api::datalogs::LOG_BODY_LIMIT_BYTES))
-        .layer(TimeoutLayer::with_status_code(
-            StatusCode::REQUEST_TIMEOUT,
-            Duration::from_secs(30),
-        ))
+        .layer(axum::middleware::from_fn(deadline))
         .layer(TraceLayer::new_for_http())
+}
+
+/// Time a request may take besides receiving its body.
+pub const REQUEST_TIME: Duration = Duration::from_secs(30);
+
+/// The slowest average rate a large body is allowed to arrive at, bytes a second (the same as
+/// the connection's `serve::BodyPace`, which cuts a slower one).
+pub const BODY_MIN_RATE: f64 = 32.0 * 1024.0;
+
+/// Time allowed for a request whose body is `bytes` long: [`REQUEST_TIME`] and the body at
+/// [`BODY_MIN_RATE`] (a 50 MB log at 1 MB/s completes; a flat 30 s cut it below 1.7 MB/s).
+pub fn time_allowed(bytes: u64) -> Duration {
+    REQUEST_TIME + Duration::from_secs_f64(bytes as f64 / BODY_MIN_RATE)
+}
+
+/// 408 past [`time_allowed`] for the body declared (a body with no length: the largest
+/// accepted).
+async fn deadline(
+    req: axum::extract::Request,
+    next: axum::middleware::Next,
+) -> axum::response::Response {
+    let declared = req
+        .headers()
+        .get(header::CONTENT_LENGTH)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| v.parse::<u64>().ok());
+    let chunked = req.headers().contains_key(header::TRANSFER_ENCODING);
+    let bytes = declared
+        .unwrap_or(if chunked {
+            api::datalogs::LOG_BODY_LIMIT_BYTES as u64
+        } else {
+            0
+        })
+        .min(api::datalogs::LOG_BODY_LIMIT_BYTES as u64);
+    match tokio::time::timeout(time_allowed(bytes), next.run(req)).await {
+        Ok(response) => response,
+        Err(_) => StatusCode::REQUEST_TIMEOUT.into_response(),
+    }
 }
 
 async fn healthz() -> &'static str {

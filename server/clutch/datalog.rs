@@ -9,3 +9,5 @@ pub mod file;
 pub mod request;
 /// Savitzky–Golay smoothing and derivatives.
 pub mod savgol;
+/// A long trace thinned to a bounded number of points, every event kept.
+pub mod thin;

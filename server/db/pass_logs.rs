@@ -45,28 +45,57 @@ pub struct StoredFile {
     pub settings: LogSettings,
 }
 
-/// The file of a pass's log, inflated (at most `max_bytes`), with its settings.
-pub async fn file(
-    conn: &mut SqliteConnection,
-    pass_id: i64,
-    max_bytes: usize,
-) -> sqlx::Result<Option<StoredFile>> {
-    let row: Option<(String, Vec<u8>, String)> = sqlx::query_as(
-        "SELECT file_name, file_deflated, settings FROM pass_logs WHERE pass_id = ?",
+/// A stored file as the database holds it: deflated, its settings as JSON, and what changes
+/// whenever it is replaced (`stamp`).
+pub struct StoredRaw {
+    pub name: String,
+    pub deflated: Vec<u8>,
+    pub settings: String,
+    pub stamp: String,
+}
+
+impl StoredRaw {
+    /// The file inflated (at most `max_bytes`) with its settings, or why it cannot be read
+    /// (CPU work: run it off the async threads).
+    pub fn open(self, max_bytes: usize) -> Result<StoredFile, String> {
+        let text = inflate(&self.deflated, max_bytes)?;
+        let settings = serde_json::from_str(&self.settings)
+            .map_err(|e| format!("the stored log's settings cannot be read: {e}"))?;
+        Ok(StoredFile {
+            name: self.name,
+            text,
+            settings,
+        })
+    }
+}
+
+/// The stored file of a pass's log, deflated.
+pub async fn file(conn: &mut SqliteConnection, pass_id: i64) -> sqlx::Result<Option<StoredRaw>> {
+    let row: Option<(String, Vec<u8>, String, String)> = sqlx::query_as(
+        "SELECT file_name, file_deflated, settings, updated_at || ' ' || file_bytes || ' ' || length(file_deflated)
+         FROM pass_logs WHERE pass_id = ?",
     )
     .bind(pass_id)
     .fetch_optional(conn)
     .await?;
-    let Some((name, deflated, settings)) = row else {
-        return Ok(None);
-    };
-    let text = inflate(&deflated, max_bytes).map_err(|e| sqlx::Error::Decode(e.into()))?;
-    let settings = serde_json::from_str(&settings).map_err(|e| sqlx::Error::Decode(Box::new(e)))?;
-    Ok(Some(StoredFile {
+    Ok(row.map(|(name, deflated, settings, stamp)| StoredRaw {
         name,
-        text,
+        deflated,
         settings,
+        stamp,
     }))
+}
+
+/// What changes whenever a pass's stored log is replaced (its time and size), `None` without
+/// one: read without the file, to find a kept analysis of it.
+pub async fn stamp(conn: &mut SqliteConnection, pass_id: i64) -> sqlx::Result<Option<String>> {
+    let row: Option<(String,)> = sqlx::query_as(
+        "SELECT updated_at || ' ' || file_bytes || ' ' || length(file_deflated) FROM pass_logs WHERE pass_id = ?",
+    )
+    .bind(pass_id)
+    .fetch_optional(conn)
+    .await?;
+    Ok(row.map(|r| r.0))
 }
 
 /// A log to store with its pass (storage units).
@@ -74,7 +103,10 @@ pub struct NewLog<'a> {
     pub pass_id: i64,
     pub user_id: i64,
     pub file_name: &'a str,
-    pub text: &'a [u8],
+    /// The file's size before deflating, bytes.
+    pub file_bytes: usize,
+    /// The file deflated by [`deflate`] (CPU work: done off the async threads).
+    pub deflated: &'a [u8],
     pub settings: &'a LogSettings,
     pub sample_rate_hz: f64,
     pub launch_s: f64,
@@ -87,7 +119,6 @@ pub struct NewLog<'a> {
 
 /// Stores (or replaces) a pass's log.
 pub async fn put(conn: &mut SqliteConnection, log: &NewLog<'_>) -> sqlx::Result<()> {
-    let deflated = deflate(log.text);
     let settings = serde_json::to_string(log.settings).unwrap_or_default();
     let window = serde_json::to_string(log.slip_window).unwrap_or_else(|_| "[]".into());
     sqlx::query(
@@ -107,8 +138,8 @@ pub async fn put(conn: &mut SqliteConnection, log: &NewLog<'_>) -> sqlx::Result<
     )
     .bind(log.pass_id)
     .bind(log.file_name)
-    .bind(log.text.len() as i64)
-    .bind(deflated)
+    .bind(log.file_bytes as i64)
+    .bind(log.deflated)
     .bind(settings)
     .bind(log.sample_rate_hz)
     .bind(log.launch_s)

@@ -7,6 +7,8 @@ pub mod cache;
 pub mod extract;
 /// One-time notes carried across a redirect.
 pub mod flash;
+/// Heavy work on bounded blocking threads, turns per caller, analyses at once.
+pub mod heavy;
 /// Access levels and the route table the router is built from.
 pub mod routes;
 /// The connection loop: header timeout, connection cap, shutdown deadline.

@@ -24,12 +24,12 @@ use tower::ServiceExt;
 use crate::support::{Server, TestApp};
 
 /// A temporary directory for one test's database, backups and exports; removed when dropped.
-struct Scratch {
+pub(crate) struct Scratch {
     dir: PathBuf,
 }
 
 impl Scratch {
-    fn new() -> Self {
+    pub(crate) fn new() -> Self {
         static N: AtomicU32 = AtomicU32::new(0);
         let dir = std::env::temp_dir().join(format!(
             "lockpoint-backup-test-{}-{}",
@@ -40,7 +40,7 @@ impl Scratch {
         Self { dir }
     }
 
-    fn path(&self, name: &str) -> PathBuf {
+    pub(crate) fn path(&self, name: &str) -> PathBuf {
         self.dir.join(name)
     }
 
@@ -61,7 +61,7 @@ impl Drop for Scratch {
     }
 }
 
-fn lockpoint(args: &[&str]) -> Output {
+pub(crate) fn lockpoint(args: &[&str]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_lockpoint"))
         .args(args)
         .stdin(Stdio::null())
@@ -69,11 +69,11 @@ fn lockpoint(args: &[&str]) -> Output {
         .expect("the binary runs")
 }
 
-fn text(path: &Path) -> &str {
+pub(crate) fn text(path: &Path) -> &str {
     path.to_str().unwrap()
 }
 
-fn stderr(out: &Output) -> String {
+pub(crate) fn stderr(out: &Output) -> String {
     String::from_utf8_lossy(&out.stderr).into_owned()
 }
 
@@ -749,7 +749,7 @@ async fn import_is_refused_into_a_database_with_records_and_for_a_wrong_document
 }
 
 /// The demo shop's export as a JSON value, for a test to alter.
-async fn demo_document(scratch: &Scratch) -> serde_json::Value {
+pub(crate) async fn demo_document(scratch: &Scratch) -> serde_json::Value {
     let pool = demo_shop(&scratch.path("demo.db")).await;
     let document = export_text(&pool).await;
     pool.close().await;
@@ -759,7 +759,11 @@ async fn demo_document(scratch: &Scratch) -> serde_json::Value {
 /// Runs `lockpoint import` of `document` into a new, empty database, insists that it is
 /// refused and that the database holds no records afterwards (nothing partial), and returns the
 /// message. Into a path with no database yet, the same refusal leaves no file behind.
-async fn import_refused(scratch: &Scratch, case: &str, document: &serde_json::Value) -> String {
+pub(crate) async fn import_refused(
+    scratch: &Scratch,
+    case: &str,
+    document: &serde_json::Value,
+) -> String {
     let json = scratch.path(&format!("{case}.json"));
     std::fs::write(&json, serde_json::to_string_pretty(document).unwrap()).unwrap();
     let fresh = scratch.path(&format!("{case}-fresh.db"));

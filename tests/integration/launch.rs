@@ -8,7 +8,7 @@ use serde_json::{Value, json};
 use crate::support::TestApp;
 
 /// The reference launch (docs/engineering.md §18) in the API's form.
-fn worked() -> Value {
+pub fn worked() -> Value {
     json!({"units": "metric",
       "disc": {"outer_diameter": 240, "inner_diameter": 160, "count": 2},
       "friction": {"mu": 0.30},

@@ -2,6 +2,7 @@
 
 mod access;
 mod backup;
+mod bounded;
 mod cache;
 mod calc;
 mod calibrate;

@@ -84,3 +84,41 @@ fn a_client_that_never_finishes_its_headers_or_sits_idle_is_disconnected() {
         waited.elapsed()
     );
 }
+
+#[test]
+fn a_request_body_that_trickles_in_is_cut_off_long_before_it_ends() {
+    let db = TempDb::new();
+    let server = Server::start(&db.path);
+    let mut slow = TcpStream::connect(&server.addr).unwrap();
+    // A sign-in form of 100 bytes, sent a byte a second (it would take 100 s).
+    slow.write_all(
+        b"POST /login HTTP/1.1\r\nHost: x\r\nContent-Type: application/x-www-form-urlencoded\r\nContent-Length: 100\r\n\r\n",
+    )
+    .unwrap();
+    slow.set_read_timeout(Some(Duration::from_secs(1))).unwrap();
+    let mut sent = 0;
+    let cut = loop {
+        // Well before the 30 s a whole request may take besides its body.
+        if sent == 20 {
+            break false;
+        }
+        if slow.write_all(b"a").is_err() {
+            break true;
+        }
+        sent += 1;
+        let mut buf = [0u8; 512];
+        match slow.read(&mut buf) {
+            // Closed, or answered: either way the server is done with this body.
+            Ok(_) => break true,
+            Err(e) if e.kind() == std::io::ErrorKind::ConnectionReset => break true,
+            Err(_) => {}
+        }
+    };
+    assert!(
+        cut,
+        "the server still waited for the body after {sent} bytes"
+    );
+    // The server goes on answering.
+    let health = server.get("/healthz");
+    assert!(health.starts_with("HTTP/1.1 200"), "{health}");
+}

@@ -83,9 +83,23 @@ async fn sign_ins_for_a_guessed_name_do_not_hold_up_the_shops_pages() {
     }
 }
 
+/// A sign-in from the client address `ip`.
+async fn sign_in_from(app: &TestApp, name: &str, password: &str, ip: IpAddr) -> Reply {
+    let body = form_encode(&[("username", name), ("password", password), ("next", "/")]);
+    let mut req = Request::post("/login")
+        .header(header::CONTENT_TYPE, "application/x-www-form-urlencoded")
+        .body(Body::from(body))
+        .unwrap();
+    req.extensions_mut()
+        .insert(ConnectInfo(SocketAddr::new(ip, 40_000)));
+    app.send(req).await
+}
+
 #[tokio::test]
-async fn when_every_password_check_slot_is_busy_a_sign_in_answers_429_at_once() {
+async fn when_every_password_check_slot_is_busy_a_failing_client_gets_429_at_once() {
     let app = TestApp::new().await;
+    let failed = sign_in(&app, "boss", "wrong", 1).await;
+    assert_eq!(failed.status, StatusCode::UNAUTHORIZED);
     let busy = app
         .state
         .sign_ins
@@ -107,6 +121,62 @@ async fn when_every_password_check_slot_is_busy_a_sign_in_answers_429_at_once() 
         "{}",
         signed_in.body
     );
+}
+
+#[tokio::test]
+async fn a_client_with_no_recent_failure_gets_a_reserved_slot_while_a_flood_holds_the_rest() {
+    let app = TestApp::new().await;
+    // A flood from many addresses at the owner's name holds every ordinary slot.
+    for client in 0..8 {
+        let r = sign_in(&app, "boss", "guess", 200 + client).await;
+        assert_eq!(r.status, StatusCode::UNAUTHORIZED);
+    }
+    let _flood = app
+        .state
+        .sign_ins
+        .clone()
+        .try_acquire_many_owned(lockpoint::web::SIGN_IN_SLOTS as u32)
+        .unwrap();
+    let guesser = sign_in(&app, "boss", "guess", 200).await;
+    assert_eq!(guesser.status, StatusCode::TOO_MANY_REQUESTS);
+    // The owner, from an address that has not been failing, gets the reserved check.
+    let owner = sign_in(&app, "boss", PASSWORD, 1).await;
+    assert_eq!(owner.status, StatusCode::SEE_OTHER, "{}", owner.body);
+    // With the reserved slot busy too, a clean client waits its short turn, then 429.
+    let _reserved = app
+        .state
+        .reserved_sign_ins
+        .clone()
+        .try_acquire_many_owned(lockpoint::web::RESERVED_SIGN_IN_SLOTS as u32)
+        .unwrap();
+    let waited = sign_in(&app, "sam", PASSWORD, 2).await;
+    assert_eq!(waited.status, StatusCode::TOO_MANY_REQUESTS);
+}
+
+#[tokio::test]
+async fn addresses_of_one_ipv6_64_are_counted_as_one_client() {
+    let app = TestApp::new().await;
+    for n in 0..10u16 {
+        let ip = IpAddr::V6(std::net::Ipv6Addr::new(0x2001, 0xdb8, 7, 7, n, 1, 2, 3));
+        let r = sign_in_from(&app, &format!("name-{n}"), "guess", ip).await;
+        assert_eq!(r.status, StatusCode::UNAUTHORIZED, "failure {n}");
+    }
+    let same_64 = IpAddr::V6(std::net::Ipv6Addr::new(0x2001, 0xdb8, 7, 7, 99, 9, 9, 9));
+    let refused = sign_in_from(&app, "boss", PASSWORD, same_64).await;
+    assert_eq!(refused.status, StatusCode::TOO_MANY_REQUESTS);
+    let next_64 = IpAddr::V6(std::net::Ipv6Addr::new(0x2001, 0xdb8, 7, 8, 0, 0, 0, 1));
+    let other = sign_in_from(&app, "boss", PASSWORD, next_64).await;
+    assert_eq!(other.status, StatusCode::SEE_OTHER);
+}
+
+#[tokio::test]
+async fn a_sign_in_form_past_4_kib_is_refused_unread() {
+    let app = TestApp::new().await;
+    let long = "x".repeat(5_000);
+    let r = sign_in(&app, "boss", &long, 3).await;
+    assert_eq!(r.status, StatusCode::PAYLOAD_TOO_LARGE, "{}", r.body);
+    let ok = sign_in(&app, "boss", PASSWORD, 3).await;
+    assert_eq!(ok.status, StatusCode::SEE_OTHER);
 }
 
 #[tokio::test]

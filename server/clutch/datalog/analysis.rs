@@ -60,6 +60,37 @@ pub const COARSE_RATE_HZ: f64 = 50.0;
 pub const DERIVATIVE_MAX_SAMPLES: usize = 401;
 /// Fewest samples a log must have.
 pub const MIN_SAMPLES: usize = 10;
+/// Most samples analysed, as logged and on the one clock: a 50 MB file at 1 kHz (50 minutes)
+/// has about 3 M, and 5 M keeps one analysis's channels within a few hundred MB (a cap on
+/// the work and memory per request, not a method choice).
+pub const MAX_SAMPLES: usize = 5_000_000;
+/// Most tyre-spin intervals listed (more only on a file of noise; the count is noted).
+pub const SPIN_MAX_INTERVALS: usize = 1_000;
+
+/// The refusal of a log past [`MAX_SAMPLES`]; `what` says how the count came about.
+pub fn too_many_samples(n: usize, what: &str) -> InputError {
+    InputError::new(
+        "csv",
+        format!(
+            "the log has {} samples {what}; at most {} are analysed",
+            grouped(n),
+            grouped(MAX_SAMPLES)
+        ),
+    )
+}
+
+/// A count with thousands separated by commas.
+fn grouped(n: usize) -> String {
+    let digits = n.to_string();
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
 /// Relative step spread within which a clock counts as uniform (no resampling).
 const UNIFORM_TOLERANCE: f64 = 0.01;
 
@@ -273,8 +304,9 @@ pub fn names_ms(text: &str) -> bool {
 /// channel is interpolated linearly onto t_k = k·Δt with Δt the median step. `time_s` must be
 /// strictly increasing and every channel gap-free (see [`fill_blanks`]). Returns the step and
 /// whether the samples were moved; `None` when the steps are so uneven that the clock at the
-/// median step would hold more than four times the samples logged.
-pub fn to_uniform_clock(series: &mut Series) -> Option<(f64, bool)> {
+/// median step would hold more than four times the samples logged; `Some(Err(n))` when it
+/// would hold `n` samples, more than [`MAX_SAMPLES`] (nothing is resampled then).
+pub fn to_uniform_clock(series: &mut Series) -> Option<Result<(f64, bool), usize>> {
     let t0 = series.time_s.first().copied().unwrap_or(0.0);
     for t in &mut series.time_s {
         *t -= t0;
@@ -285,7 +317,7 @@ pub fn to_uniform_clock(series: &mut Series) -> Option<(f64, bool)> {
         .windows(2)
         .all(|w| ((w[1] - w[0]) - dt).abs() <= UNIFORM_TOLERANCE * dt);
     if uniform || dt <= 0.0 {
-        return Some((dt, false));
+        return Some(Ok((dt, false)));
     }
     let end = *series.time_s.last().unwrap_or(&0.0);
     let steps = end / dt + 1e-9;
@@ -293,6 +325,9 @@ pub fn to_uniform_clock(series: &mut Series) -> Option<(f64, bool)> {
         return None;
     }
     let n = steps.floor() as usize + 1;
+    if n > MAX_SAMPLES {
+        return Some(Err(n));
+    }
     let grid: Vec<f64> = (0..n).map(|k| k as f64 * dt).collect();
     let old = std::mem::take(&mut series.time_s);
     let resample = |v: &Vec<f64>| interpolate_at(&old, v, &grid);
@@ -309,7 +344,7 @@ pub fn to_uniform_clock(series: &mut Series) -> Option<(f64, bool)> {
         }
     }
     series.time_s = grid;
-    Some((dt, true))
+    Some(Ok((dt, true)))
 }
 
 /// Values of (t, v) at the increasing times `at` (linear, ends held).
@@ -706,7 +741,17 @@ pub fn analyze(
         }
     };
     let tire_spin = match (&series.driven_mps, &series.undriven_mps) {
-        (Some(d), Some(u)) => tire_spin(t, d, u),
+        (Some(d), Some(u)) => {
+            let mut spin = tire_spin(t, d, u);
+            if spin.len() > SPIN_MAX_INTERVALS {
+                notes.push(format!(
+                    "The tyres spun {} times; the first {SPIN_MAX_INTERVALS} are listed.",
+                    spin.len()
+                ));
+                spin.truncate(SPIN_MAX_INTERVALS);
+            }
+            spin
+        }
         (None, Some(_)) => {
             notes.push("Tyre spin needs the driven wheels' speed: map it, or give the gear ratios and tyre diameter.".into());
             Vec::new()

@@ -8,6 +8,61 @@ use crate::InputError;
 
 /// Lines looked at to find the delimiter.
 const SNIFF_LINES: usize = 50;
+/// Most characters of a header name or a cell quoted in a message (a longer one is cut, with
+/// "…"): a message stays readable and small whatever the file holds.
+pub const ECHO_CHARS: usize = 80;
+/// Most header names listed in a message.
+pub const ECHO_NAMES: usize = 20;
+/// Most columns a file offered for mapping may have (the mapping page lists them).
+pub const MAPPING_MAX_COLUMNS: usize = 1_000;
+/// Most characters of a header name offered for mapping.
+pub const MAPPING_MAX_NAME_CHARS: usize = 100;
+
+/// `text` as quoted in a message: at most [`ECHO_CHARS`] characters.
+pub fn echo(text: &str) -> String {
+    match text.char_indices().nth(ECHO_CHARS) {
+        Some((cut, _)) => format!("{}…", &text[..cut]),
+        None => text.to_string(),
+    }
+}
+
+/// The header names as listed in a message: the first [`ECHO_NAMES`], each through [`echo`].
+pub fn echo_names(names: &[String]) -> String {
+    let mut out: Vec<String> = names.iter().take(ECHO_NAMES).map(|n| echo(n)).collect();
+    if names.len() > ECHO_NAMES {
+        out.push(format!("and {} more", names.len() - ECHO_NAMES));
+    }
+    out.join(", ")
+}
+
+/// The layout of a file to be mapped by hand: refused past [`MAPPING_MAX_COLUMNS`] columns or
+/// a header name past [`MAPPING_MAX_NAME_CHARS`] characters (no logger writes either; the
+/// mapping page lists every name).
+pub fn layout_for_mapping(text: &[u8]) -> Result<Layout, InputError> {
+    let layout = layout(text)?;
+    if layout.names.len() > MAPPING_MAX_COLUMNS {
+        return Err(csv_error(format!(
+            "the header (line {}) has {} columns; at most {MAPPING_MAX_COLUMNS} are accepted",
+            layout.header_line,
+            layout.names.len()
+        )));
+    }
+    if let Some((i, n)) = layout
+        .names
+        .iter()
+        .enumerate()
+        .find(|(_, n)| n.chars().count() > MAPPING_MAX_NAME_CHARS)
+    {
+        return Err(csv_error(format!(
+            "the name of column {} in the header (line {}), \"{}\", is {} characters long; at most {MAPPING_MAX_NAME_CHARS} are accepted",
+            i + 1,
+            layout.header_line,
+            echo(n),
+            n.chars().count()
+        )));
+    }
+    Ok(layout)
+}
 
 /// What the top of a file says: how it is written and its column names.
 #[derive(Debug, Clone, PartialEq)]
@@ -289,9 +344,9 @@ fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, Inpu
                 w.field,
                 format!(
                     "no column named \"{}\" in the header (line {}); the file has: {}",
-                    w.name,
+                    echo(w.name),
                     layout.header_line,
-                    layout.names.join(", ")
+                    echo_names(&layout.names)
                 ),
             )
         })?;
@@ -379,8 +434,8 @@ fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, Inpu
                     w.field,
                     format!(
                         "line {here}, column \"{}\": \"{}\" is not a number",
-                        layout.names[i],
-                        String::from_utf8_lossy(cell).trim()
+                        echo(&layout.names[i]),
+                        echo(String::from_utf8_lossy(cell).trim())
                     ),
                 )
             })?;
@@ -697,6 +752,58 @@ mod tests {
     // The fast path for plain decimals gives exactly what the standard library's correctly
     // rounded parser gives (both IEEE 754 round-to-nearest), over many random cells.
     #[test]
+    fn echoed_names_and_cells_are_cut_to_80_characters() {
+        let long = "x".repeat(5_000);
+        let names: Vec<String> = (0..30).map(|i| format!("c{i}")).collect();
+        let mut text = format!("time,rpm,{}\n", names.join(","));
+        text.push_str(&format!("0,1,{}\n", vec!["1"; 30].join(",")));
+        text.push_str(&format!("1,{long},{}\n", vec!["1"; 30].join(",")));
+        let wanted = [
+            Wanted {
+                field: "columns.time",
+                name: "time",
+            },
+            Wanted {
+                field: "columns.engine_rpm",
+                name: "rpm",
+            },
+        ];
+        let err = read(text.as_bytes(), &wanted).unwrap_err();
+        assert!(err.message.len() < 200, "{}", err.message);
+        assert!(err.message.contains(&format!("{}…", "x".repeat(80))));
+        let name = "y".repeat(300);
+        let wanted = [Wanted {
+            field: "columns.time",
+            name: &name,
+        }];
+        let err = read(text.as_bytes(), &wanted).unwrap_err();
+        assert!(err.message.len() < 600, "{}", err.message);
+        assert!(err.message.ends_with("c17, and 12 more"), "{}", err.message);
+    }
+
+    #[test]
+    fn a_file_past_the_mapping_limits_is_refused_naming_them() {
+        let header = |n: usize, len: usize| {
+            let names: Vec<String> = (0..n).map(|i| format!("c{i:0w$}", w = len - 1)).collect();
+            format!("{}\n{}\n", names.join(","), vec!["1"; n].join(","))
+        };
+        assert!(layout_for_mapping(header(1_000, 100).as_bytes()).is_ok());
+        let err = layout_for_mapping(header(1_001, 4).as_bytes()).unwrap_err();
+        assert!(
+            err.message.contains("1001 columns; at most 1000"),
+            "{}",
+            err.message
+        );
+        let err = layout_for_mapping(header(3, 101).as_bytes()).unwrap_err();
+        assert!(
+            err.message.contains("101 characters long; at most 100"),
+            "{}",
+            err.message
+        );
+        assert!(err.message.len() < 300, "{}", err.message);
+    }
+
+    #[test]
     fn plain_decimals_read_exactly_as_the_standard_parser_reads_them() {
         let mut x = 0x9E37_79B9_7F4A_7C15u64;
         for _ in 0..200_000 {
@@ -854,9 +961,9 @@ mod tests {
                     w.field,
                     format!(
                         "no column named \"{}\" in the header (line {}); the file has: {}",
-                        w.name,
+                        echo(w.name),
                         layout.header_line,
-                        layout.names.join(", ")
+                        echo_names(&layout.names)
                     ),
                 )
             })?);
@@ -882,8 +989,8 @@ mod tests {
                         w.field,
                         format!(
                             "line {line}, column \"{}\": \"{}\" is not a number",
-                            layout.names[i],
-                            String::from_utf8_lossy(cell).trim()
+                            echo(&layout.names[i]),
+                            echo(String::from_utf8_lossy(cell).trim())
                         ),
                     )
                 })?;

@@ -8,6 +8,7 @@ use crate::InputError;
 use crate::capacity::torque_curve::TorqueCurve;
 use crate::datalog::analysis::{self, Analysis, EngineModel, LockupRule, Series};
 use crate::datalog::file::{self, Wanted};
+use crate::datalog::thin::{TRACE_MAX_POINTS, thin};
 use crate::quantity::{Kind, limits};
 use crate::units::Units;
 use serde::{Deserialize, Serialize};
@@ -208,10 +209,15 @@ pub struct TracePoint {
     pub slip_power_kw: Option<f64>,
 }
 
-/// Answer to POST /api/v1/calc/log-analysis.
+/// Answer to POST /api/v1/calc/log-analysis. Its size is bounded whatever the file: the trace
+/// holds at most [`TRACE_MAX_POINTS`] of the samples (see [`crate::datalog::thin`]).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LogAnalysisReport {
+    /// Samples analysed (on the one clock).
     pub samples: usize,
+    /// Points in `trace`: every sample up to [`TRACE_MAX_POINTS`], else that many chosen by
+    /// largest-triangle-three-buckets over the trace's channels plus every event's sample.
+    pub trace_points: usize,
     pub sample_rate_hz: f64,
     /// How the time column was read: "s" or "ms".
     pub time_unit: &'static str,
@@ -409,6 +415,9 @@ impl ValidLog {
                 ),
             ));
         }
+        if time.len() > analysis::MAX_SAMPLES {
+            return Err(analysis::too_many_samples(time.len(), "as logged"));
+        }
         for i in 0..time.len() {
             if time[i].is_nan() {
                 return Err(InputError::new(
@@ -517,12 +526,14 @@ impl ValidLog {
             clutch_switch,
             throttle,
         };
-        let (dt, moved) = analysis::to_uniform_clock(&mut series).ok_or_else(|| {
-            InputError::new(
-                "columns.time",
-                "the time steps are too uneven to put the samples on one clock",
-            )
-        })?;
+        let (dt, moved) = analysis::to_uniform_clock(&mut series)
+            .ok_or_else(|| {
+                InputError::new(
+                    "columns.time",
+                    "the time steps are too uneven to put the samples on one clock",
+                )
+            })?
+            .map_err(|n| analysis::too_many_samples(n, "on one clock at the median step"))?;
         let mut analysis = analysis::analyze(&series, dt, self.rule, self.engine.as_ref())?;
         analysis.notes.extend(clock_note);
         if moved {
@@ -544,7 +555,9 @@ impl LogResult {
     pub fn report(&self, units: Units) -> LogAnalysisReport {
         let a = &self.analysis;
         let s = &self.series;
-        let trace = (0..a.samples)
+        let trace: Vec<TracePoint> = self
+            .trace_indices(TRACE_MAX_POINTS)
+            .into_iter()
             .map(|i| TracePoint {
                 time_s: round(s.time_s[i], 4),
                 engine_rpm: round(s.engine_rpm[i], 1),
@@ -559,6 +572,7 @@ impl LogResult {
             .collect();
         LogAnalysisReport {
             samples: a.samples,
+            trace_points: trace.len(),
             sample_rate_hz: round(a.sample_rate_hz, 3),
             time_unit: if self.ms { "ms" } else { "s" },
             launch_s: round(a.launch_s, 4),
@@ -576,6 +590,104 @@ impl LogResult {
             trace,
             notes: a.notes.clone(),
         }
+    }
+
+    /// The samples of every event, most important first: launch, lockup (the samples either
+    /// side of each crossing), the lowest engine speed, the peaks (engine and input speed,
+    /// clutch torque, slip power), then each tyre spin's first and last sample.
+    pub fn event_indices(&self) -> Vec<usize> {
+        let a = &self.analysis;
+        let t = &self.series.time_s;
+        let at = |x: f64| {
+            t.partition_point(|&v| v < x - 1e-9)
+                .min(t.len().saturating_sub(1))
+        };
+        let arg = |v: &[f64], better: fn(f64, f64) -> bool, range: std::ops::Range<usize>| {
+            range.fold(None, |best: Option<usize>, i| match best {
+                Some(b) if !better(v[i], v[b]) => Some(b),
+                _ if v[i].is_finite() => Some(i),
+                _ => best,
+            })
+        };
+        let bigger = |x: f64, y: f64| x > y;
+        let smaller = |x: f64, y: f64| x < y;
+        let (launch, lockup) = (at(a.launch_s), at(a.lockup_s));
+        let mut out = vec![
+            launch,
+            launch.saturating_sub(1),
+            lockup,
+            lockup.saturating_sub(1),
+        ];
+        let n = t.len();
+        let window = a.window.0.min(n)..(a.window.1 + 1).min(n).max(a.window.0.min(n));
+        let to_lockup = window.start..(lockup + 1).clamp(window.start, n);
+        out.extend(arg(&self.series.engine_rpm, smaller, to_lockup));
+        out.extend(arg(&self.series.engine_rpm, bigger, 0..n));
+        out.extend(arg(&self.series.input_rpm, bigger, 0..n));
+        if let Some(tc) = &a.clutch_torque_nm {
+            out.extend(arg(tc, bigger, window.clone()));
+        }
+        if let Some(p) = &a.slip_power_w {
+            out.extend(arg(p, bigger, window));
+        }
+        for [x, y] in &a.tire_spin {
+            out.push(at(*x));
+            out.push(at(*y));
+        }
+        out
+    }
+
+    /// The same result with its per-sample channels cut to at most `max` samples (chosen as
+    /// for the answer's trace, events kept): small enough to keep and to draw. The figures and
+    /// `analysis.samples` are the full analysis's.
+    pub fn thinned(&self, max: usize) -> LogResult {
+        let idx = self.trace_indices(max);
+        let pick = |v: &Vec<f64>| -> Vec<f64> { idx.iter().map(|&i| v[i]).collect() };
+        let s = &self.series;
+        let a = &self.analysis;
+        let place = |i: usize| {
+            idx.partition_point(|&k| k < i)
+                .min(idx.len().saturating_sub(1))
+        };
+        LogResult {
+            series: Series {
+                time_s: pick(&s.time_s),
+                engine_rpm: pick(&s.engine_rpm),
+                input_rpm: pick(&s.input_rpm),
+                driven_mps: s.driven_mps.as_ref().map(pick),
+                undriven_mps: s.undriven_mps.as_ref().map(pick),
+                clutch_switch: s.clutch_switch.as_ref().map(pick),
+                throttle: s.throttle.as_ref().map(pick),
+            },
+            analysis: Analysis {
+                slip_pct: pick(&a.slip_pct),
+                clutch_torque_nm: a.clutch_torque_nm.as_ref().map(pick),
+                slip_power_w: a.slip_power_w.as_ref().map(pick),
+                window: (place(a.window.0), place(a.window.1)),
+                samples: a.samples,
+                sample_rate_hz: a.sample_rate_hz,
+                launch_s: a.launch_s,
+                lockup_s: a.lockup_s,
+                launch_engine_rpm: a.launch_engine_rpm,
+                min_engine_rpm: a.min_engine_rpm,
+                lockup_engine_rpm: a.lockup_engine_rpm,
+                slip_energy_j: a.slip_energy_j,
+                peak_slip_power_w: a.peak_slip_power_w,
+                tire_spin: a.tire_spin.clone(),
+                notes: a.notes.clone(),
+            },
+            ms: self.ms,
+        }
+    }
+
+    /// At most `max` samples of the trace (every one when there are no more), events kept.
+    pub fn trace_indices(&self, max: usize) -> Vec<usize> {
+        let a = &self.analysis;
+        let s = &self.series;
+        let mut channels: Vec<&[f64]> = vec![&s.engine_rpm, &s.input_rpm, &a.slip_pct];
+        channels.extend(a.clutch_torque_nm.as_deref());
+        channels.extend(a.slip_power_w.as_deref());
+        thin(&s.time_s, &channels, &self.event_indices(), max)
     }
 
     /// (engine rpm, clutch torque N·m) over the calibration window (launch + 50 ms to lockup −
@@ -768,6 +880,41 @@ mod tests {
         assert_eq!(err.field, "columns.time");
         // Header on line 1, t = 0.00 on line 2, so t = 0.50 is on line 52.
         assert!(err.message.starts_with("line 52:"), "{}", err.message);
+    }
+
+    /// 60 s at 1 kHz: launch at 1 s, the input speed reaching the engine's at 1.8 s, one dip
+    /// of the engine speed at 1.3 s.
+    fn long_csv() -> String {
+        let mut s = String::from("time,rpm,shaft\n");
+        for k in 0..=60_000 {
+            let t = k as f64 / 1000.0;
+            let n = (6000.0 * (t - 1.0) / 0.8).clamp(0.0, 6000.0);
+            let e = if k == 1300 { 5000.0 } else { 6000.0 };
+            s.push_str(&format!("{t:.3},{e},{n}\n"));
+        }
+        s
+    }
+
+    #[test]
+    fn a_long_log_answers_a_thinned_trace_with_every_event_and_both_counts() {
+        let r = analyze_request(&request(long_csv())).unwrap();
+        assert_eq!(r.samples, 60_001);
+        assert_eq!(r.trace_points, r.trace.len());
+        assert!(r.trace.len() <= TRACE_MAX_POINTS, "{}", r.trace.len());
+        let has = |t: f64| r.trace.iter().any(|p| (p.time_s - t).abs() < 0.0011);
+        for t in [0.0, r.launch_s, r.lockup_s, 1.3, 60.0] {
+            assert!(has(t), "no point at {t}");
+        }
+        assert!(r.trace.iter().any(|p| p.engine_rpm == r.min_engine_rpm));
+        assert!(r.trace.windows(2).all(|w| w[0].time_s < w[1].time_s));
+        let bytes = serde_json::to_vec(&r).unwrap().len();
+        assert!(bytes < 1 << 20, "{bytes} bytes");
+    }
+
+    #[test]
+    fn a_short_log_answers_every_sample() {
+        let r = analyze_request(&request(worked_csv())).unwrap();
+        assert_eq!((r.samples, r.trace_points, r.trace.len()), (101, 101, 101));
     }
 
     #[test]

@@ -148,8 +148,53 @@ impl RowChecks {
         {
             return Err(refused(&column, why));
         }
+        if table == "pass_logs"
+            && let Some((column, why)) = pass_log(columns, row)
+        {
+            return Err(refused(column, why));
+        }
         Ok(())
     }
+}
+
+/// A stored data log as the pages will read it: the file inflates (at most the largest file
+/// accepted), to the size its row says, and its settings read. A row that fails would make its
+/// pass's log unreadable, so it is refused like any other bad row.
+fn pass_log(columns: &[String], row: &[Cell]) -> Option<(&'static str, String)> {
+    let cell = |name: &str| {
+        columns
+            .iter()
+            .position(|c| c == name)
+            .and_then(|i| row.get(i))
+    };
+    if let Some(Cell::Blob(deflated)) = cell("file_deflated") {
+        let text =
+            match crate::db::pass_logs::inflate(deflated, clutch::quantity::limits::LOG_FILE_BYTES)
+            {
+                Ok(text) => text,
+                Err(why) => return Some(("file_deflated", why)),
+            };
+        if let Some(Cell::Integer(bytes)) = cell("file_bytes")
+            && *bytes != text.len() as i64
+        {
+            return Some((
+                "file_bytes",
+                format!(
+                    "the row says {bytes} bytes; the stored file has {}",
+                    text.len()
+                ),
+            ));
+        }
+    }
+    if let Some(Cell::Text(settings)) = cell("settings")
+        && let Err(e) = serde_json::from_str::<clutch::datalog::request::LogSettings>(settings)
+    {
+        return Some((
+            "settings",
+            format!("the stored log's settings cannot be read: {e}"),
+        ));
+    }
+    None
 }
 
 /// What the record checks of imported rows run with: storage units (the stored values are

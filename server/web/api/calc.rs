@@ -12,6 +12,7 @@ use crate::model::due::WorkStatus;
 use crate::model::wear::energy_forecast;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser, from_json_value};
+use crate::web::http::heavy::Caller;
 use clutch::InputError;
 use clutch::calibration::launch::{LaunchCalibrateRequest, calibrate_launch};
 use clutch::calibration::{CalibrateRequest, CalibrationReport, Fit};
@@ -34,33 +35,40 @@ pub async fn capacity(
         .map_err(invalid)
 }
 
+/// The search: heavy work, on the bounded pool in the caller's turn (`web::http::heavy`).
 pub async fn recommend(
+    State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     ApiJson(req): ApiJson<RecommendRequest>,
 ) -> ApiResult<Recommendation> {
-    clutch::capacity::recommend::recommend(&req)
+    state
+        .heavy
+        .run_for(&caller, move || {
+            clutch::capacity::recommend::recommend(&req)
+        })
+        .await?
         .map(Json)
         .map_err(invalid)
 }
 
 /// POST /calc/calibrate: by `method`, the torque balance at lockup (`"torque_balance"`, the
 /// default) or the whole launch (`"launch"`, the body of `/calc/launch` without `friction.mu`).
+/// Heavy work: on the bounded pool in the caller's turn.
 pub async fn calibrate(
+    State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     ApiJson(body): ApiJson<serde_json::Value>,
 ) -> ApiResult<serde_json::Value> {
-    let answer = match body.get("method") {
-        None => torque_balance(body)?,
-        Some(m) if m == "torque_balance" => torque_balance(body)?,
-        Some(m) if m == "launch" => {
-            let req: LaunchCalibrateRequest = from_json_value(body)?;
-            // About twenty launch simulations a pass: off the async workers.
-            let answer = tokio::task::spawn_blocking(move || calibrate_launch(&req))
-                .await
-                .map_err(|e| ApiError(AppError::Internal(e.to_string())))?
-                .map_err(invalid)?;
-            serde_json::to_value(answer).map_err(|e| ApiError(AppError::Internal(e.to_string())))?
-        }
+    enum Method {
+        TorqueBalance(Box<CalibrateRequest>),
+        Launch(Box<LaunchCalibrateRequest>),
+    }
+    let method = match body.get("method") {
+        None => Method::TorqueBalance(from_json_value(body)?),
+        Some(m) if m == "torque_balance" => Method::TorqueBalance(from_json_value(body)?),
+        Some(m) if m == "launch" => Method::Launch(from_json_value(body)?),
         Some(_) => {
             return Err(ApiError(AppError::field(
                 "method",
@@ -68,18 +76,32 @@ pub async fn calibrate(
             )));
         }
     };
+    let answer = state
+        .heavy
+        .run_for(&caller, move || match method {
+            Method::TorqueBalance(req) => clutch::calibration::calibrate_request(&req)
+                .map(|r| serde_json::to_value(r).unwrap_or_default()),
+            Method::Launch(req) => {
+                calibrate_launch(&req).map(|r| serde_json::to_value(r).unwrap_or_default())
+            }
+        })
+        .await?
+        .map_err(invalid)?;
     Ok(Json(answer))
 }
 
-fn torque_balance(body: serde_json::Value) -> Result<serde_json::Value, ApiError> {
-    let req: CalibrateRequest = from_json_value(body)?;
-    let report: CalibrationReport =
-        clutch::calibration::calibrate_request(&req).map_err(invalid)?;
-    serde_json::to_value(report).map_err(|e| ApiError(AppError::Internal(e.to_string())))
-}
-
-pub async fn launch(_: ApiUser, ApiJson(req): ApiJson<LaunchRequest>) -> ApiResult<LaunchReport> {
-    clutch::launch::request::launch(&req)
+/// The simulation (up to tens of ms at the costliest request): on the bounded pool in the
+/// caller's turn.
+pub async fn launch(
+    State(state): State<AppState>,
+    _: ApiUser,
+    caller: Caller,
+    ApiJson(req): ApiJson<LaunchRequest>,
+) -> ApiResult<LaunchReport> {
+    state
+        .heavy
+        .run_for(&caller, move || clutch::launch::request::launch(&req))
+        .await?
         .map(Json)
         .map_err(invalid)
 }
@@ -124,9 +146,10 @@ pub async fn build_wear(
         .map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
     let report = clutch::wear::analyze(&request).map_err(invalid)?;
     // The forecast by energy runs launch previews: off the async workers.
-    let energy = tokio::task::spawn_blocking(move || energy_forecast(&dossier, &settings))
-        .await
-        .map_err(|e| ApiError(AppError::Internal(e.to_string())))?;
+    let energy = state
+        .heavy
+        .run(move || energy_forecast(&dossier, &settings))
+        .await?;
     Ok(Json(BuildWear {
         report,
         wear_per_mj: energy.as_ref().map(|e| e.fit.per_mj),
@@ -254,6 +277,7 @@ pub struct FitQuery {
 pub async fn build_calibration(
     State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     Id(id): Id,
     Query(query): Query<FitQuery>,
 ) -> ApiResult<CalibrationReport> {
@@ -262,6 +286,13 @@ pub async fn build_calibration(
         .await?
         .ok_or(ApiError(AppError::NotFound))?;
     let settings = db::settings::get(&mut conn).await?;
-    let calibration = calibrated(&dossier, &settings, query.fit).map_err(invalid)?;
-    Ok(Json(calibration.report))
+    drop(conn);
+    let calibration = state
+        .heavy
+        .run_for(&caller, move || {
+            calibrated(&dossier, &settings, query.fit).map(|c| c.report)
+        })
+        .await?
+        .map_err(invalid)?;
+    Ok(Json(calibration))
 }

@@ -13,6 +13,7 @@ use crate::records::stored::Car;
 use crate::records::stored::Pass;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiJson, ApiUser, CurrentUser, PathId};
+use crate::web::http::heavy::Caller;
 use clutch::InputError;
 use clutch::datalog::request::{
     CarFacts, LogAnalysisReport, LogAnalysisRequest, LogColumns, LogResult, LogSettings, TimeUnit,
@@ -28,15 +29,21 @@ fn invalid(err: InputError) -> ApiError {
     ApiError(AppError::field(&err.field, err.message))
 }
 
-/// POST /api/v1/calc/log-analysis.
+/// POST /api/v1/calc/log-analysis: one of the shop's analyses at once, on the bounded
+/// blocking pool, in the caller's turn.
 pub async fn calc(
+    State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     ApiJson(req): ApiJson<LogAnalysisRequest>,
 ) -> ApiResult<LogAnalysisReport> {
-    // Parsing a large file is CPU work: off the async threads.
-    tokio::task::spawn_blocking(move || clutch::datalog::request::analyze_request(&req))
-        .await
-        .map_err(|e| ApiError(AppError::Internal(e.to_string())))?
+    let _analysis = state.heavy.analysis()?;
+    state
+        .heavy
+        .run_for(&caller, move || {
+            clutch::datalog::request::analyze_request(&req)
+        })
+        .await?
         .map(Json)
         .map_err(invalid)
 }
@@ -84,27 +91,61 @@ impl PassCar {
         }
     }
 
-    /// Reads and analyses `text` with `settings` for this pass's car (CPU work, off the async
-    /// threads).
+    /// What picks the analysis of a file with `settings` for this car (its ratios, tyre and
+    /// torque curve, the shop's units): kept analyses are found by it.
+    pub fn analysis_key(&self, settings: &LogSettings) -> String {
+        let c = &self.car.data;
+        format!(
+            "{settings:?} {:?} {:?} {:?} {:?} {:?}",
+            c.first_gear_ratio,
+            c.final_drive_ratio,
+            c.tire_diameter_mm,
+            c.torque_curve_nm,
+            self.units
+        )
+    }
+
+    /// Reads and analyses `text` with `settings` for this pass's car: one of the shop's
+    /// analyses at once, on the bounded blocking pool, in `caller`'s turn (429 past either).
+    /// The outer error is the refusal, the inner one the file's.
     pub async fn analyse(
         &self,
+        state: &AppState,
+        caller: &Caller,
         settings: &LogSettings,
         text: std::sync::Arc<Vec<u8>>,
-    ) -> Result<LogResult, InputError> {
-        let valid = settings.valid(self.facts(), self.units)?;
-        tokio::task::spawn_blocking(move || valid.run(&text))
-            .await
-            .map_err(|e| InputError::new("csv", format!("the analysis stopped: {e}")))?
+    ) -> Result<Result<LogResult, InputError>, AppError> {
+        let valid = match settings.valid(self.facts(), self.units) {
+            Ok(v) => v,
+            Err(e) => return Ok(Err(e)),
+        };
+        let _analysis = state.heavy.analysis()?;
+        state.heavy.run_for(caller, move || valid.run(&text)).await
     }
 }
 
-/// Stores a pass's log and remembers its settings for the car, in the caller's transaction.
+/// Most characters of a log's file name kept (the page's upload and the API alike).
+pub const FILE_NAME_CHARS: usize = 200;
+
+/// A file name as kept: at most [`FILE_NAME_CHARS`] characters.
+pub fn file_name(name: &str) -> String {
+    name.chars().take(FILE_NAME_CHARS).collect()
+}
+
+/// Stores a pass's log (deflated beforehand, off the async threads: see
+/// [`crate::db::pass_logs::deflate`]) and remembers its settings for the car, in the caller's
+/// transaction.
+#[expect(
+    clippy::too_many_arguments,
+    reason = "one call per store, every part named"
+)]
 pub async fn save(
     conn: &mut SqliteConnection,
     pc: &PassCar,
     user: &CurrentUser,
     file_name: &str,
-    text: &[u8],
+    file_bytes: usize,
+    deflated: &[u8],
     settings: &LogSettings,
     result: &LogResult,
 ) -> Result<(), AppError> {
@@ -116,7 +157,8 @@ pub async fn save(
             pass_id: pc.pass.id,
             user_id: user.id,
             file_name,
-            text,
+            file_bytes,
+            deflated,
             settings,
             sample_rate_hz: a.sample_rate_hz,
             launch_s: a.launch_s,
@@ -152,6 +194,7 @@ pub struct PassLogBody {
 pub async fn api_store(
     State(state): State<AppState>,
     ApiUser(user): ApiUser,
+    caller: Caller,
     PathId(id): PathId,
     ApiJson(body): ApiJson<PassLogBody>,
 ) -> ApiResult<LogAnalysisReport> {
@@ -173,8 +216,17 @@ pub async fn api_store(
             .check("engine_inertia_kgm2", i, Units::Metric)
             .map_err(invalid)?;
     }
+    let name = file_name(&body.file_name);
     let text = std::sync::Arc::new(body.csv.into_bytes());
-    let result = pc.analyse(&settings, text.clone()).await.map_err(invalid)?;
+    let result = pc
+        .analyse(&state, &caller, &settings, text.clone())
+        .await?
+        .map_err(invalid)?;
+    let file_bytes = text.len();
+    let deflated = state
+        .heavy
+        .run(move || db::pass_logs::deflate(&text))
+        .await?;
     let mut tx = state.write(&user).await.map_err(AppError::from)?;
     // The pass may have gone (its customer deleted) while the file was read.
     if db::passes::by_id(&mut tx, id)
@@ -185,13 +237,7 @@ pub async fn api_store(
         return Err(ApiError(AppError::NotFound));
     }
     save(
-        &mut tx,
-        &pc,
-        &user,
-        &body.file_name,
-        &text,
-        &settings,
-        &result,
+        &mut tx, &pc, &user, &name, file_bytes, &deflated, &settings, &result,
     )
     .await?;
     tx.commit().await.map_err(AppError::from)?;
@@ -202,27 +248,40 @@ pub async fn api_store(
 pub async fn api_analysis(
     State(state): State<AppState>,
     _: ApiUser,
+    caller: Caller,
     PathId(id): PathId,
 ) -> ApiResult<LogAnalysisReport> {
-    let (pc, stored) = stored(&state, id)
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let pc = pass_car(&mut conn, id)
         .await?
         .ok_or(ApiError(AppError::NotFound))?;
-    let result = pc
-        .analyse(&stored.settings, std::sync::Arc::new(stored.text))
+    let raw = db::pass_logs::file(&mut conn, id)
         .await
+        .map_err(AppError::from)?
+        .ok_or(ApiError(AppError::NotFound))?;
+    drop(conn);
+    let stored = open(&state, raw)
+        .await?
+        .map_err(|e| ApiError(AppError::field("csv", e)))?;
+    let result = pc
+        .analyse(
+            &state,
+            &caller,
+            &stored.settings,
+            std::sync::Arc::new(stored.text),
+        )
+        .await?
         .map_err(invalid)?;
     Ok(Json(result.report(Units::Metric)))
 }
 
-/// A pass with its stored file, or `None` when either is missing.
-pub async fn stored(
+/// A stored file inflated and its settings read (off the async threads), or why it cannot be.
+pub async fn open(
     state: &AppState,
-    id: i64,
-) -> Result<Option<(PassCar, db::pass_logs::StoredFile)>, AppError> {
-    let mut conn = state.pool.acquire().await?;
-    let Some(pc) = pass_car(&mut conn, id).await? else {
-        return Ok(None);
-    };
-    let file = db::pass_logs::file(&mut conn, id, limits::LOG_FILE_BYTES).await?;
-    Ok(file.map(|f| (pc, f)))
+    raw: db::pass_logs::StoredRaw,
+) -> Result<Result<db::pass_logs::StoredFile, String>, AppError> {
+    state
+        .heavy
+        .run(move || raw.open(limits::LOG_FILE_BYTES))
+        .await
 }

@@ -51,7 +51,8 @@ pub enum PageKey {
     Customers(String),
     Build(i64),
     Tune(i64, String),
-    Pass(i64, String),
+    /// A pass's page and the pass drawn beside it (the parsed `compare`, never the raw query).
+    Pass(i64, Option<i64>),
 }
 
 struct Page {

@@ -194,7 +194,7 @@ impl FromRequestParts<AppState> for ApiUser {
 /// A JSON body; a type error names the field by its path (`springs.rate`).
 pub struct ApiJson<T>(pub T);
 
-impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
+impl<T: DeserializeOwned + Send + 'static> FromRequest<AppState> for ApiJson<T> {
     type Rejection = ApiError;
 
     async fn from_request(req: Request, state: &AppState) -> Result<Self, ApiError> {
@@ -213,9 +213,16 @@ impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
         let bytes = Bytes::from_request(req, state)
             .await
             .map_err(|e| ApiError(body_error(e)))?;
-        parse_json(&bytes).map(Self)
+        if bytes.len() <= JSON_ON_THE_SPOT_BYTES {
+            return parse_json(&bytes).map(Self);
+        }
+        // A large body (a data log) is parsed off the async threads.
+        state.heavy.run(move || parse_json(&bytes)).await?.map(Self)
     }
 }
+
+/// Largest JSON body parsed on the async thread that read it (every form-sized request).
+const JSON_ON_THE_SPOT_BYTES: usize = 64 * 1024;
 
 /// Deserializes JSON, turning an error into a 422 that names the offending field.
 pub fn parse_json<T: DeserializeOwned>(bytes: &[u8]) -> Result<T, ApiError> {

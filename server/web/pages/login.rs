@@ -46,13 +46,27 @@ pub async fn form(user: Option<CurrentUser>, Query(q): Query<NextQuery>) -> AppR
 /// core); more would only queue on the two cores the counter's pages need too.
 pub const SIGN_IN_SLOTS: usize = 4;
 
+/// Password-check slots kept for clients with no recent failure, waited for (in turn) at most
+/// [`RESERVED_WAIT`] when every other slot is busy: however many addresses flood the sign-in,
+/// even at the owner's name, someone who has not been failing gets a check.
+pub const RESERVED_SIGN_IN_SLOTS: usize = 1;
+
+/// How long a client with no recent failure waits for a reserved slot before a 429.
+pub const RESERVED_WAIT: Duration = Duration::from_secs(3);
+
+/// Largest sign-in form accepted: a name, a password and where to go next fit many times over.
+pub const LOGIN_BODY_LIMIT_BYTES: usize = 4 * 1024;
+
 /// Failures are counted over this long since the last one; after it the count starts again.
 const WINDOW_MS: i64 = 15 * 60 * 1000;
 
 /// Failures a client address may have before each further try must wait.
 const CLIENT_FREE_FAILURES: i64 = 10;
 
-/// Failures a name may have before clients that have failed themselves must wait to try it.
+/// Failures a name may have before clients that have failed themselves must wait to try it
+/// (1 s, doubling to 5 minutes). The figure: from addresses that have failed, at most about
+/// 15 guesses at one name in its first 15 minutes, then one every 5 minutes (12 an hour);
+/// besides those, one guess for each address (an IPv6 /64) that had not failed yet.
 const NAME_FREE_FAILURES: i64 = 5;
 
 /// At most this many client addresses and names are tracked (the oldest go first).
@@ -88,9 +102,14 @@ fn now_ms() -> i64 {
         .map_or(0, |d| d.as_millis() as i64)
 }
 
-/// The throttle's key for a client address.
+/// The throttle's key for a client address: an IPv4 address, or an IPv6 address's /64 (one
+/// subscriber's network: a host picks any address in it at no cost).
 fn client_key(addr: Option<std::net::IpAddr>) -> String {
-    match addr {
+    match addr.map(|ip| ip.to_canonical()) {
+        Some(std::net::IpAddr::V6(v6)) => {
+            let net = u128::from(v6) & !((1u128 << 64) - 1);
+            format!("client:{}/64", std::net::Ipv6Addr::from(net))
+        }
         Some(ip) => format!("client:{ip}"),
         None => "client:unknown".into(),
     }
@@ -127,6 +146,8 @@ fn too_many(username: String, next: String, wait: Duration) -> AppResult<Respons
 /// 3. a name past its free failures may only be tried by clients that have not failed
 ///    themselves, so whoever is guessing waits but the account's owner, elsewhere, gets in;
 /// 4. a free password-check slot, or 429 at once (a bounded number of hashes run together);
+///    a client with no recent failure may then wait its turn for a reserved slot, at most
+///    [`RESERVED_WAIT`], so a flood from many addresses cannot keep it out;
 /// 5. one argon2id check, against a stand-in hash when there is no usable account (the time
 ///    taken does not tell which names exist);
 /// 6. a failure is one upsert of the two counters; a success makes the session.
@@ -154,8 +175,16 @@ pub async fn submit(
     if client_has_failed && let Some(wait) = still_waiting(name_failures, NAME_FREE_FAILURES, now) {
         return too_many(username, next, wait);
     }
-    let Ok(slot) = state.sign_ins.clone().try_acquire_owned() else {
-        return too_many(username, next, Duration::from_secs(1));
+    let slot = match state.sign_ins.clone().try_acquire_owned() {
+        Ok(slot) => slot,
+        Err(_) if !client_has_failed => {
+            let reserved = state.reserved_sign_ins.clone().acquire_owned();
+            match tokio::time::timeout(RESERVED_WAIT, reserved).await {
+                Ok(Ok(slot)) => slot,
+                _ => return too_many(username, next, Duration::from_secs(1)),
+            }
+        }
+        Err(_) => return too_many(username, next, Duration::from_secs(1)),
     };
     let usable = user.as_ref().filter(|u| !u.disabled);
     let ok =
@@ -285,6 +314,16 @@ mod tests {
         );
         assert_eq!(still_waiting(c(5, 1000), 5, now), None);
         assert_eq!(still_waiting(c(100, WINDOW_MS + 1), 5, now), None);
+    }
+
+    #[test]
+    fn an_ipv6_client_is_counted_by_its_64_and_a_mapped_ipv4_as_itself() {
+        let key = |s: &str| client_key(Some(s.parse().unwrap()));
+        assert_eq!(key("2001:db8:1:2:aaaa::1"), "client:2001:db8:1:2::/64");
+        assert_eq!(key("2001:db8:1:2:ffff:1:2:3"), key("2001:db8:1:2::9"));
+        assert_ne!(key("2001:db8:1:3::1"), key("2001:db8:1:2::1"));
+        assert_eq!(key("::ffff:192.0.2.7"), "client:192.0.2.7");
+        assert_eq!(key("192.0.2.7"), "client:192.0.2.7");
     }
 
     #[test]

@@ -4,11 +4,12 @@
 //! names and stored with the pass. Nothing is written to the database before the analysis has
 //! succeeded.
 
+use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
 use askama::Template;
-use axum::extract::{Multipart, Query, RawQuery, State};
+use axum::extract::{Multipart, Query, State};
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 
@@ -18,9 +19,10 @@ use crate::records::FieldErrors;
 use crate::records::date::ShopZone;
 use crate::records::stored::LogSummary;
 use crate::web::AppState;
-use crate::web::api::datalogs::{PassCar, pass_car, save};
+use crate::web::api::datalogs::{PassCar, file_name, pass_car, save};
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::heavy::Caller;
 use crate::web::pages::chart::Chart;
 use crate::web::pages::layout::Layout;
 use clutch::InputError;
@@ -28,8 +30,12 @@ use clutch::datalog::file;
 use clutch::datalog::request::{LogColumns, LogResult, LogSettings, TimeUnit};
 use clutch::quantity::{Kind, limits};
 
-/// Uploads waiting for their mapping, at most this many at once (the oldest goes first).
+/// Uploads waiting for their mapping, at most this many at once shop-wide.
 const STAGED_MAX: usize = 6;
+/// Uploads one user may have waiting at once (their own upload for the same pass is replaced);
+/// past it, or past the shop's [`STAGED_MAX`], a new upload is refused (429) and no one's
+/// waiting upload is dropped for it.
+const STAGED_PER_USER: usize = 2;
 /// How long an upload waits for its mapping.
 const STAGED_FOR: Duration = Duration::from_secs(3600);
 
@@ -39,7 +45,8 @@ struct Staged {
     pass_id: i64,
     user_id: i64,
     name: String,
-    deflated: Vec<u8>,
+    bytes: usize,
+    deflated: Arc<Vec<u8>>,
     at: Instant,
 }
 
@@ -47,18 +54,36 @@ struct Staged {
 #[derive(Default)]
 pub struct Staging(Mutex<Vec<Staged>>);
 
+/// A waiting upload handed out: its name, size and deflated file.
+struct StagedFile {
+    name: String,
+    bytes: usize,
+    deflated: Arc<Vec<u8>>,
+}
+
 impl Staging {
-    fn put(&self, s: Staged) {
+    /// Keeps `s`, or refuses it (429) when its user or the shop has no room.
+    fn put(&self, s: Staged) -> Result<(), AppError> {
         let mut all = self.0.lock().unwrap_or_else(|e| e.into_inner());
-        all.retain(|x| x.at.elapsed() < STAGED_FOR && x.pass_id != s.pass_id);
+        all.retain(|x| {
+            x.at.elapsed() < STAGED_FOR && !(x.pass_id == s.pass_id && x.user_id == s.user_id)
+        });
+        if all.iter().filter(|x| x.user_id == s.user_id).count() >= STAGED_PER_USER {
+            return Err(AppError::Busy(
+                "you have 2 uploads waiting for their columns already: finish or send one again first",
+            ));
+        }
         if all.len() >= STAGED_MAX {
-            all.remove(0);
+            return Err(AppError::Busy(
+                "the shop has 6 uploads waiting for their columns; try again when one is done",
+            ));
         }
         all.push(s);
+        Ok(())
     }
 
-    /// (file name, text) of an upload for this pass and user.
-    fn get(&self, token: &str, pass_id: i64, user_id: i64) -> Option<(String, Vec<u8>)> {
+    /// An upload for this pass and user.
+    fn get(&self, token: &str, pass_id: i64, user_id: i64) -> Option<StagedFile> {
         let all = self.0.lock().unwrap_or_else(|e| e.into_inner());
         let s = all.iter().find(|s| {
             s.token == token
@@ -66,14 +91,88 @@ impl Staging {
                 && s.user_id == user_id
                 && s.at.elapsed() < STAGED_FOR
         })?;
-        let text = db::pass_logs::inflate(&s.deflated, limits::LOG_FILE_BYTES).ok()?;
-        Some((s.name.clone(), text))
+        Some(StagedFile {
+            name: s.name.clone(),
+            bytes: s.bytes,
+            deflated: Arc::clone(&s.deflated),
+        })
     }
 
     fn drop_token(&self, token: &str) {
         let mut all = self.0.lock().unwrap_or_else(|e| e.into_inner());
         all.retain(|s| s.token != token);
     }
+}
+
+/// Stored logs' analyses kept at most (each thinned to [`VIEW_POINTS`]: a few tens of KB).
+const VIEWS_MAX: usize = 512;
+/// Samples a kept analysis holds for its charts (the charts draw no more than that).
+const VIEW_POINTS: usize = 900;
+
+/// The last analysis of each stored log, thinned for its page, found by the pass and what
+/// picks the analysis (the stored file's stamp, its settings and the car's data): a pass's
+/// page is analysed again only when its file or its car changed, not after every commit.
+#[derive(Default)]
+pub struct Views(Mutex<HashMap<i64, (String, LogView)>>);
+
+/// A stored log's analysis thinned for its page, or why its file does not read.
+type LogView = Arc<Result<LogResult, InputError>>;
+
+impl Views {
+    fn get(&self, pass_id: i64, key: &str) -> Option<LogView> {
+        let all = self.0.lock().unwrap_or_else(|e| e.into_inner());
+        all.get(&pass_id)
+            .filter(|(k, _)| k == key)
+            .map(|(_, v)| Arc::clone(v))
+    }
+
+    fn keep(&self, pass_id: i64, key: String, view: LogView) {
+        let mut all = self.0.lock().unwrap_or_else(|e| e.into_inner());
+        if all.len() >= VIEWS_MAX && !all.contains_key(&pass_id) {
+            let any = all.keys().next().copied();
+            if let Some(k) = any {
+                all.remove(&k);
+            }
+        }
+        all.insert(pass_id, (key, view));
+    }
+}
+
+/// A stored log's analysis, thinned: the kept one, else the file read, analysed and kept.
+/// `Ok(None)` without a stored log; the inner error says why the file does not read.
+async fn stored_view(
+    state: &AppState,
+    caller: &Caller,
+    pc: &PassCar,
+    pass_id: i64,
+) -> AppResult<Option<LogView>> {
+    let mut conn = state.pool.acquire().await?;
+    let Some(stamp) = db::pass_logs::stamp(&mut conn, pass_id).await? else {
+        return Ok(None);
+    };
+    let Some(raw) = db::pass_logs::file(&mut conn, pass_id).await? else {
+        return Ok(None);
+    };
+    drop(conn);
+    // The settings travel with the file: read them without inflating it.
+    let settings: Result<LogSettings, _> = serde_json::from_str(&raw.settings);
+    let key = match &settings {
+        Ok(s) => format!("{stamp} {}", pc.analysis_key(s)),
+        Err(_) => stamp,
+    };
+    if let Some(v) = state.log_views.get(pass_id, &key) {
+        return Ok(Some(v));
+    }
+    let view = match crate::web::api::datalogs::open(state, raw).await? {
+        Err(why) => Err(InputError::new("csv", why)),
+        Ok(file) => pc
+            .analyse(state, caller, &file.settings, Arc::new(file.text))
+            .await?
+            .map(|r| r.thinned(VIEW_POINTS)),
+    };
+    let view = Arc::new(view);
+    state.log_views.keep(pass_id, key, Arc::clone(&view));
+    Ok(Some(view))
 }
 
 /// One trace chart and what it shows.
@@ -197,15 +296,15 @@ fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
 pub async fn show(
     State(state): State<AppState>,
     user: CurrentUser,
+    caller: Caller,
     PathId(id): PathId,
     Query(q): Query<CompareQuery>,
-    RawQuery(raw): RawQuery,
 ) -> AppResult<Response> {
     let compare = q.compare.trim().parse::<i64>().ok().filter(|&c| c != id);
-    let key = PageKey::Pass(id, raw.unwrap_or_default());
-    let state_ref = &state;
+    let key = PageKey::Pass(id, compare);
+    let (state_ref, caller) = (&state, &caller);
     let render = |stand_in: CurrentUser| async move {
-        render_with(state_ref, &stand_in, id, None, compare).await
+        render_with(state_ref, caller, &stand_in, id, None, compare).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?).into_response())
 }
@@ -219,12 +318,13 @@ pub struct CompareQuery {
 
 async fn render(
     state: &AppState,
+    caller: &Caller,
     user: &CurrentUser,
     id: i64,
     upload_error: Option<String>,
     status: StatusCode,
 ) -> AppResult<Response> {
-    let (html, _) = render_with(state, user, id, upload_error, None).await?;
+    let (html, _) = render_with(state, caller, user, id, upload_error, None).await?;
     Ok((status, Html(html)).into_response())
 }
 
@@ -232,7 +332,7 @@ async fn render(
 fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult)) -> Chart {
     let shifted = |r: &LogResult, v: &[f64]| -> Vec<(f64, f64)> {
         let s = &r.series;
-        let step = thin(700, s.time_s.len());
+        let step = thin(VIEW_POINTS, s.time_s.len());
         (0..s.time_s.len())
             .step_by(step)
             .map(|i| (s.time_s[i] - r.analysis.launch_s, v[i]))
@@ -303,6 +403,7 @@ fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult)) -> Chart {
 
 async fn render_with(
     state: &AppState,
+    caller: &Caller,
     user: &CurrentUser,
     id: i64,
     upload_error: Option<String>,
@@ -345,22 +446,13 @@ async fn render_with(
             ))
         })
         .collect();
-    let compare_file = match compare.filter(|c| others.iter().any(|o| o.0 == *c)) {
-        Some(c) => db::pass_logs::file(&mut conn, c, limits::LOG_FILE_BYTES)
-            .await?
-            .map(|f| (c, f)),
-        None => None,
-    };
-    let compare_day = compare_file.as_ref().and_then(|(c, _)| {
+    let compare = compare.filter(|c| others.iter().any(|o| o.0 == *c));
+    let compare_day = compare.and_then(|c| {
         passes
             .iter()
-            .find(|p| p.id == *c)
+            .find(|p| p.id == c)
             .map(|p| p.data.run_on.clone())
     });
-    let stored = match log {
-        Some(_) => db::pass_logs::file(&mut conn, id, limits::LOG_FILE_BYTES).await?,
-        None => None,
-    };
     let calibration = match &log {
         Some(l) => {
             let dossier = db::dossier::load(&mut conn, pc.pass.build_id).await?;
@@ -380,8 +472,12 @@ async fn render_with(
     drop(conn);
     let (mut charts_v, mut figures, mut notes, mut problem) =
         (Vec::new(), Vec::new(), Vec::new(), None);
-    if let Some(file) = stored {
-        match pc.analyse(&file.settings, Arc::new(file.text)).await {
+    let stored = match log {
+        Some(_) => stored_view(state, caller, &pc, id).await?,
+        None => None,
+    };
+    if let Some(view) = stored {
+        match view.as_ref() {
             Ok(r) => {
                 let a = &r.analysis;
                 let u = &page.u;
@@ -432,15 +528,19 @@ async fn render_with(
                     },
                 ));
                 notes = a.notes.clone();
-                charts_v = charts(&r, true);
-                if let (Some((_, file)), Some(day)) = (compare_file, &compare_day)
-                    && let Ok(other) = pc.analyse(&file.settings, Arc::new(file.text)).await
+                charts_v = charts(r, true);
+                let other = match compare {
+                    Some(c) => compare_view(state, caller, c).await?,
+                    None => None,
+                };
+                if let (Some(other), Some(day)) = (&other, &compare_day)
+                    && let Ok(other) = other.as_ref()
                 {
                     let this_day = pc.pass.data.run_on.clone();
                     charts_v.insert(
                         0,
                         TraceChart {
-                            chart: compare_chart((&this_day, &r), (day, &other)),
+                            chart: compare_chart((&this_day, r), (day, other)),
                         },
                     );
                 }
@@ -466,11 +566,22 @@ async fn render_with(
     Ok((page.render()?, zone))
 }
 
+/// The analysis of another pass's stored log (its car's data), for the comparison chart.
+async fn compare_view(state: &AppState, caller: &Caller, id: i64) -> AppResult<Option<LogView>> {
+    let mut conn = state.pool.acquire().await?;
+    let Some(pc) = pass_car(&mut conn, id).await? else {
+        return Ok(None);
+    };
+    drop(conn);
+    stored_view(state, caller, &pc, id).await
+}
+
 /// POST /passes/{id}/log: the file (multipart, with the CSRF token), its layout read at once;
 /// on to the mapping.
 pub async fn upload(
     State(state): State<AppState>,
     user: CurrentUser,
+    caller: Caller,
     PathId(id): PathId,
     multipart: Result<Multipart, axum::extract::multipart::MultipartRejection>,
 ) -> AppResult<Response> {
@@ -494,6 +605,7 @@ pub async fn upload(
             Err(e) if e.status() == StatusCode::PAYLOAD_TOO_LARGE => {
                 return render(
                     &state,
+                    &caller,
                     &user,
                     id,
                     Some(too_large()),
@@ -506,12 +618,13 @@ pub async fn upload(
         match field.name() {
             Some("_csrf") => csrf = field.text().await.map_err(|_| AppError::BadCsrf)?,
             Some("file") => {
-                name = field.file_name().unwrap_or("").chars().take(200).collect();
+                name = file_name(field.file_name().unwrap_or(""));
                 match field.bytes().await {
                     Ok(b) => text = Some(b.to_vec()),
                     Err(e) if e.status() == StatusCode::PAYLOAD_TOO_LARGE => {
                         return render(
                             &state,
+                            &caller,
                             &user,
                             id,
                             Some(too_large()),
@@ -533,30 +646,43 @@ pub async fn upload(
         pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
     }
     let text = text.unwrap_or_default();
-    let refusal = if text.is_empty() {
-        Some("Choose a CSV file to upload.".to_string())
+    let bytes = text.len();
+    let read = if text.is_empty() {
+        Err("Choose a CSV file to upload.".to_string())
     } else if text.len() > limits::LOG_FILE_BYTES {
-        Some(too_large())
+        Err(too_large())
     } else {
-        file::layout(&text).err().map(|e| {
-            format!(
-                "This file cannot be read as a data log: {}. Nothing was saved.",
-                e.message
-            )
-        })
+        // The layout read and the file deflated off the async threads, in the caller's turn.
+        state
+            .heavy
+            .run_for(&caller, move || {
+                file::layout_for_mapping(&text).map(|_| db::pass_logs::deflate(&text))
+            })
+            .await?
+            .map_err(|e| {
+                format!(
+                    "This file cannot be read as a data log: {}. Nothing was saved.",
+                    e.message
+                )
+            })
     };
-    if let Some(m) = refusal {
-        return render(&state, &user, id, Some(m), StatusCode::UNPROCESSABLE_ENTITY).await;
-    }
+    let deflated = match read {
+        Ok(d) => d,
+        Err(m) => {
+            let status = StatusCode::UNPROCESSABLE_ENTITY;
+            return render(&state, &caller, &user, id, Some(m), status).await;
+        }
+    };
     let token = crate::auth::new_secret("up");
     state.staged_logs.put(Staged {
         token: token.clone(),
         pass_id: id,
         user_id: user.id,
         name,
-        deflated: db::pass_logs::deflate(&text),
+        bytes,
+        deflated: Arc::new(deflated),
         at: Instant::now(),
-    });
+    })?;
     Ok(Redirect::to(&format!("/passes/{id}/log/map?upload={token}")).into_response())
 }
 
@@ -636,12 +762,11 @@ impl MapPage {
         page: Layout,
         pc: &PassCar,
         token: String,
-        name: String,
-        text: &[u8],
+        staged: &StagedFile,
+        layout: file::Layout,
         settings: &LogSettings,
         errors: FieldErrors,
-    ) -> Result<Self, InputError> {
-        let layout = file::layout(text)?;
+    ) -> Self {
         let delimiter = match layout.delimiter {
             b'\t' => "tabs",
             b';' => "semicolons",
@@ -677,12 +802,12 @@ impl MapPage {
             })
             .collect();
         let u = page.units();
-        Ok(Self {
+        Self {
             pass_id: pc.pass.id,
             pass_day: pc.pass.data.run_on.clone(),
             token,
-            file_name: name,
-            file_kb: format!("{:.0} KB", text.len() as f64 / 1024.0),
+            file_name: staged.name.clone(),
+            file_kb: format!("{:.0} KB", staged.bytes as f64 / 1024.0),
             layout_words,
             names: layout.names,
             choices,
@@ -696,20 +821,40 @@ impl MapPage {
             wheel_unit: Kind::RoadSpeed.symbol(u),
             errors,
             page,
-        })
+        }
     }
+}
+
+/// A waiting upload inflated and its layout read (off the async threads, in the caller's turn).
+async fn open_staged(
+    state: &AppState,
+    caller: &Caller,
+    staged: &StagedFile,
+) -> AppResult<(Vec<u8>, file::Layout)> {
+    let deflated = Arc::clone(&staged.deflated);
+    state
+        .heavy
+        .run_for(caller, move || {
+            let text = db::pass_logs::inflate(&deflated, limits::LOG_FILE_BYTES)?;
+            let layout = file::layout_for_mapping(&text).map_err(|e| e.message)?;
+            Ok::<_, String>((text, layout))
+        })
+        .await?
+        .map_err(AppError::Internal)
 }
 
 /// GET /passes/{id}/log/map?upload=...: the mapping form for a file just sent.
 pub async fn map_form(
     State(state): State<AppState>,
     user: CurrentUser,
+    caller: Caller,
     PathId(id): PathId,
     Query(q): Query<UploadQuery>,
 ) -> AppResult<Response> {
-    let Some((name, text)) = state.staged_logs.get(&q.upload, id, user.id) else {
+    let Some(staged) = state.staged_logs.get(&q.upload, id, user.id) else {
         return render(
             &state,
+            &caller,
             &user,
             id,
             Some("That upload has expired: send the file again.".into()),
@@ -722,16 +867,16 @@ pub async fn map_form(
     let settings = pc.remembered(&mut conn).await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "Map the log's columns").await?;
     drop(conn);
+    let (_, layout) = open_staged(&state, &caller, &staged).await?;
     let map = MapPage::new(
         page,
         &pc,
         q.upload,
-        name,
-        &text,
+        &staged,
+        layout,
         &settings,
         FieldErrors::default(),
-    )
-    .map_err(|e| AppError::field(&e.field, e.message))?;
+    );
     Ok(Html(map.render()?).into_response())
 }
 
@@ -747,14 +892,16 @@ fn form_name(field: &str) -> &str {
 /// or show the form again with the message beside the choice it is about.
 pub async fn map_save(
     State(state): State<AppState>,
+    caller: Caller,
     PathId(id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
     let SignedForm { user, form } = signed;
     let token = form.get("upload").to_string();
-    let Some((name, text)) = state.staged_logs.get(&token, id, user.id) else {
+    let Some(staged) = state.staged_logs.get(&token, id, user.id) else {
         return render(
             &state,
+            &caller,
             &user,
             id,
             Some("That upload has expired: send the file again.".into()),
@@ -807,15 +954,27 @@ pub async fn map_save(
         hold_ms: hold.unwrap_or(defaults.hold_ms),
         engine_inertia_kgm2: inertia,
     };
+    let (text, layout) = open_staged(&state, &caller, &staged).await?;
     let text = Arc::new(text);
     if errors.is_empty() {
-        match pc.analyse(&settings, text.clone()).await {
+        match pc.analyse(&state, &caller, &settings, text).await? {
             Ok(result) => {
                 let mut tx = state.write(&user).await?;
                 if db::passes::by_id(&mut tx, id).await?.is_none() {
                     return Err(AppError::NotFound);
                 }
-                save(&mut tx, &pc, &user, &name, &text, &settings, &result).await?;
+                let (name, deflated) = (&staged.name, &staged.deflated);
+                save(
+                    &mut tx,
+                    &pc,
+                    &user,
+                    name,
+                    staged.bytes,
+                    deflated,
+                    &settings,
+                    &result,
+                )
+                .await?;
                 tx.commit().await?;
                 state.staged_logs.drop_token(&token);
                 return Ok(Redirect::to(&format!("/passes/{id}")).into_response());
@@ -836,8 +995,7 @@ pub async fn map_save(
             }
         }
     }
-    let map = MapPage::new(page, &pc, token, name, &text, &settings, errors)
-        .map_err(|e| AppError::field(&e.field, e.message))?;
+    let map = MapPage::new(page, &pc, token, &staged, layout, &settings, errors);
     Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(map.render()?)).into_response())
 }
 

@@ -248,7 +248,7 @@ fn an_uneven_clock_is_resampled_at_its_median_step() {
         input_rpm: vec![0.0; 6],
         ..Series::default()
     };
-    let (dt, moved) = to_uniform_clock(&mut s).unwrap();
+    let (dt, moved) = to_uniform_clock(&mut s).unwrap().unwrap();
     assert!(moved);
     assert!((dt - 0.01).abs() < 1e-12);
     assert_eq!(s.time_s.len(), 6);
@@ -406,4 +406,27 @@ fn the_median_step_counted_by_value_is_the_median_of_the_steps() {
     }
     // Both ways were taken.
     assert!((100..400).contains(&counted), "{counted}");
+}
+
+#[test]
+fn a_clock_past_the_sample_cap_is_refused_before_it_is_resampled() {
+    // 1 M steps of 1 ms, then 0.5 M of 10 ms: the median step is 1 ms, so one clock over the
+    // 6,000 s would take 6 M samples (within the four-fold rule, past the 5 M cap).
+    let mut time: Vec<f64> = (0..1_000_000).map(|i| i as f64 * 0.001).collect();
+    time.extend((1..=500_000).map(|i| 1000.0 + i as f64 * 0.01));
+    let n = time.len();
+    let mut s = Series {
+        time_s: time,
+        engine_rpm: vec![0.0; n],
+        input_rpm: vec![0.0; n],
+        ..Series::default()
+    };
+    let refused = to_uniform_clock(&mut s).unwrap().unwrap_err();
+    assert!((6_000_000..=6_000_001).contains(&refused), "{refused}");
+    assert_eq!(s.engine_rpm.len(), n);
+    let msg = too_many_samples(6_000_001, "on one clock").message;
+    assert!(
+        msg.contains("6,000,001 samples on one clock; at most 5,000,000"),
+        "{msg}"
+    );
 }

@@ -20,6 +20,7 @@ use crate::records::{Ctx, FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId};
+use crate::web::http::heavy::Caller;
 use crate::web::pages::builds::launch::LaunchColumn;
 use crate::web::pages::chart::Chart;
 use crate::web::pages::layout::Layout;
@@ -153,20 +154,23 @@ pub async fn tune(
     State(state): State<AppState>,
     user: CurrentUser,
     PathId(id): PathId,
+    caller: Caller,
     Query(query): Query<HashMap<String, String>>,
     RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
     let key = PageKey::Tune(id, raw.unwrap_or_default());
-    let pool = &state.pool;
+    let (state_ref, caller) = (&state, &caller);
     let render = |stand_in: CurrentUser| async move {
-        let mut conn = pool.acquire().await?;
-        render_tune(&mut conn, &stand_in, id, query).await
+        let mut conn = state_ref.pool.acquire().await?;
+        render_tune(state_ref, caller, &mut conn, &stand_in, id, query).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?))
 }
 
 /// The tuning page for `query` (see [`tune`]), and the shop's zone it was rendered in.
 async fn render_tune(
+    state: &AppState,
+    caller: &Caller,
     conn: &mut SqliteConnection,
     user: &CurrentUser,
     id: i64,
@@ -176,113 +180,123 @@ async fn render_tune(
         .await?
         .ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(conn, user, "customers", "Capacity and tuning").await?;
-    let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
-    let calibration = calibration.map_err(|e| e.message);
-    let friction = facts.friction.clone();
-    let current_trial = facts.trial;
-    let current = facts.figures(page.units());
+    // The calibration, the recommendation's search and the launch simulations: heavy work,
+    // in the caller's turn, off the other requests' way.
+    state
+        .heavy
+        .here(caller, move || -> AppResult<(String, ShopZone)> {
+            let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
+            let calibration = calibration.map_err(|e| e.message);
+            let friction = facts.friction.clone();
+            let current_trial = facts.trial;
+            let current = facts.figures(page.units());
 
-    let mut form = FormData::new(query.into_iter().collect());
-    let mut errors = FieldErrors::default();
-    let mut trial = None;
-    let mut recommended = None;
-    let mut recommended_from = current_trial;
-    if form.get("try") == "1"
-        && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
-    {
-        match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
-            Ok(Ok(f)) => trial = Some((t, f)),
-            Ok(Err(e)) => errors.add("adjuster_turns", e.message),
-            Err(missing) => errors.add("adjuster_turns", missing),
-        }
-    }
-    if form.get("recommend") == "1" {
-        let units = page.units();
-        let lockup = field::number(
-            &form,
-            "target_lockup",
-            limits::ENGINE_SPEED,
-            units,
-            &mut errors,
-        );
-        let ratio = field::number(
-            &form,
-            "target_ratio",
-            limits::LAUNCH_RATIO,
-            units,
-            &mut errors,
-        );
-        if lockup.is_none() && !errors.has("target_lockup") {
-            errors.add("target_lockup", "required");
-        }
-        // The μ being tried (e.g. the calibrated one) carries into the recommendation.
-        if !form.get("mu").is_empty() {
-            let mu = field::number(&form, "mu", limits::MU, units, &mut errors);
-            recommended_from.mu = mu.or(current_trial.mu);
-        }
-        if let (Some(lockup_rpm), true, true) = (lockup, errors.is_empty(), current.is_ok()) {
-            let targets = TuningTargets {
-                lockup_rpm,
-                launch_ratio: ratio,
-            };
-            match facts.recommend(recommended_from, targets, page.units()) {
-                Ok(found) => recommended = Some(found),
-                Err(e) if e.field == "targets.launch_ratio" => {
-                    errors.add("target_ratio", e.message)
+            let mut form = FormData::new(query.into_iter().collect());
+            let mut errors = FieldErrors::default();
+            let mut trial = None;
+            let mut recommended = None;
+            let mut recommended_from = current_trial;
+            if form.get("try") == "1"
+                && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
+            {
+                match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
+                    Ok(Ok(f)) => trial = Some((t, f)),
+                    Ok(Err(e)) => errors.add("adjuster_turns", e.message),
+                    Err(missing) => errors.add("adjuster_turns", missing),
                 }
-                Err(e) => errors.add("target_lockup", e.message),
             }
-        }
-    }
-    if form.get("adjuster_turns").is_empty() {
-        let now = current_trial.as_setup();
-        let prefill = field::to_form(&now, page.units());
-        for name in ["adjuster_turns", "counterweight_g", "mu"] {
-            // A μ given for the recommendation (e.g. the calibrated one) stays.
-            if name != "mu" || form.get("mu").is_empty() {
-                form.set(name, prefill.get(name));
+            if form.get("recommend") == "1" {
+                let units = page.units();
+                let lockup = field::number(
+                    &form,
+                    "target_lockup",
+                    limits::ENGINE_SPEED,
+                    units,
+                    &mut errors,
+                );
+                let ratio = field::number(
+                    &form,
+                    "target_ratio",
+                    limits::LAUNCH_RATIO,
+                    units,
+                    &mut errors,
+                );
+                if lockup.is_none() && !errors.has("target_lockup") {
+                    errors.add("target_lockup", "required");
+                }
+                // The μ being tried (e.g. the calibrated one) carries into the recommendation.
+                if !form.get("mu").is_empty() {
+                    let mu = field::number(&form, "mu", limits::MU, units, &mut errors);
+                    recommended_from.mu = mu.or(current_trial.mu);
+                }
+                if let (Some(lockup_rpm), true, true) = (lockup, errors.is_empty(), current.is_ok())
+                {
+                    let targets = TuningTargets {
+                        lockup_rpm,
+                        launch_ratio: ratio,
+                    };
+                    match facts.recommend(recommended_from, targets, page.units()) {
+                        Ok(found) => recommended = Some(found),
+                        Err(e) if e.field == "targets.launch_ratio" => {
+                            errors.add("target_ratio", e.message)
+                        }
+                        Err(e) => errors.add("target_lockup", e.message),
+                    }
+                }
             }
-        }
-    }
-    let (recommendation, recommended) = match recommended {
-        Some((r, f)) => (Some(r), Some(f)),
-        None => (None, None),
-    };
-    let launch = launch_columns(
-        &facts,
-        &mut form,
-        &mut errors,
-        &page.ctx,
-        current.is_ok(),
-        current_trial,
-        (&trial, &recommendation, recommended_from),
-    );
-    let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
-    let chart = match (&current, shown) {
-        (Ok(cur), Some(new)) => Some(capacity_chart(&page.u, &new.report, Some(&cur.report))),
-        (Ok(cur), None) => Some(capacity_chart(&page.u, &cur.report, None)),
-        _ => None,
-    };
-    let today = page.today();
-    let zone = page.zone.clone();
-    let page = TunePage {
-        page,
-        dossier,
-        current_trial,
-        current,
-        trial,
-        recommendation,
-        recommended,
-        chart,
-        form,
-        errors,
-        today,
-        calibration,
-        recommended_from,
-        launch,
-        friction,
-    };
-    Ok((page.render()?, zone))
+            if form.get("adjuster_turns").is_empty() {
+                let now = current_trial.as_setup();
+                let prefill = field::to_form(&now, page.units());
+                for name in ["adjuster_turns", "counterweight_g", "mu"] {
+                    // A μ given for the recommendation (e.g. the calibrated one) stays.
+                    if name != "mu" || form.get("mu").is_empty() {
+                        form.set(name, prefill.get(name));
+                    }
+                }
+            }
+            let (recommendation, recommended) = match recommended {
+                Some((r, f)) => (Some(r), Some(f)),
+                None => (None, None),
+            };
+            let launch = launch_columns(
+                &facts,
+                &mut form,
+                &mut errors,
+                &page.ctx,
+                current.is_ok(),
+                current_trial,
+                (&trial, &recommendation, recommended_from),
+            );
+            let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
+            let chart = match (&current, shown) {
+                (Ok(cur), Some(new)) => {
+                    Some(capacity_chart(&page.u, &new.report, Some(&cur.report)))
+                }
+                (Ok(cur), None) => Some(capacity_chart(&page.u, &cur.report, None)),
+                _ => None,
+            };
+            let today = page.today();
+            let zone = page.zone.clone();
+            let page = TunePage {
+                page,
+                dossier,
+                current_trial,
+                current,
+                trial,
+                recommendation,
+                recommended,
+                chart,
+                form,
+                errors,
+                today,
+                calibration,
+                recommended_from,
+                launch,
+                friction,
+            };
+            Ok((page.render()?, zone))
+        })
+        .await?
 }
 
 /// The launch preview columns: the current setup from the car's launch speed, and beside it the

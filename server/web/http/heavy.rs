@@ -1,0 +1,193 @@
+//! Heavy work kept off the async workers and bounded: the launch simulation, calibration, a
+//! log's layout, deflate and inflate, analysis and large serialisation run on Tokio's blocking
+//! threads, at most [`HEAVY_AT_ONCE`] at a time shop-wide (the rest wait their turn, on no
+//! thread); one caller (an API token or a browser session) has at most [`PER_CALLER`] running
+//! or waiting, and the shop at most [`ANALYSES_AT_ONCE`] log analyses (429 with `Retry-After`
+//! past either, at once, instead of a queue that grows with the flood).
+
+use std::collections::HashMap;
+use std::convert::Infallible;
+use std::sync::{Arc, Mutex};
+
+use axum::extract::FromRequestParts;
+use axum::http::header;
+use axum::http::request::Parts;
+use tokio::sync::{Semaphore, SemaphorePermit};
+
+use crate::auth;
+use crate::error::AppError;
+use crate::web::http::extract::{SESSION_COOKIE, cookie};
+
+/// Heavy calculations running at once shop-wide: the machine's two cores' worth. The async
+/// workers that answer every page share the cores with them but never wait behind them.
+pub const HEAVY_AT_ONCE: usize = 2;
+/// Heavy calculations one token or session may have running or waiting at once.
+pub const PER_CALLER: usize = 2;
+/// Log analyses at once shop-wide: one of a 50 MB file takes a few hundred MB at its peak.
+pub const ANALYSES_AT_ONCE: usize = 2;
+/// Seconds a refused caller is asked to wait.
+pub const RETRY_AFTER_S: u64 = 2;
+
+/// Who asks for heavy work: the API token or the session cookie (a hash of it), or `None`
+/// for a request with neither (refused by the route's access layer before any heavy work).
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub struct Caller(pub Option<String>);
+
+impl<S: Send + Sync> FromRequestParts<S> for Caller {
+    type Rejection = Infallible;
+
+    async fn from_request_parts(parts: &mut Parts, _: &S) -> Result<Self, Infallible> {
+        let bearer = parts
+            .headers
+            .get(header::AUTHORIZATION)
+            .and_then(|v| v.to_str().ok())
+            .and_then(|v| v.strip_prefix("Bearer "))
+            .map(str::trim)
+            .filter(|t| !t.is_empty())
+            .map(|t| format!("token {}", auth::hash_secret(t)));
+        let session = || {
+            cookie(&parts.headers, SESSION_COOKIE)
+                .map(|c| format!("session {}", auth::hash_secret(c)))
+        };
+        Ok(Self(bearer.or_else(session)))
+    }
+}
+
+/// The bounds on heavy work, shared by every request.
+pub struct Heavy {
+    running: Semaphore,
+    analyses: Semaphore,
+    callers: Mutex<HashMap<String, usize>>,
+}
+
+impl Default for Heavy {
+    fn default() -> Self {
+        Self {
+            running: Semaphore::new(HEAVY_AT_ONCE),
+            analyses: Semaphore::new(ANALYSES_AT_ONCE),
+            callers: Mutex::new(HashMap::new()),
+        }
+    }
+}
+
+/// One of a caller's [`PER_CALLER`] turns, given back when dropped.
+pub struct Turn {
+    heavy: Arc<Heavy>,
+    caller: Option<String>,
+}
+
+impl Drop for Turn {
+    fn drop(&mut self) {
+        if let Some(c) = &self.caller {
+            let mut all = self.heavy.callers.lock().unwrap_or_else(|e| e.into_inner());
+            if let Some(n) = all.get_mut(c) {
+                *n -= 1;
+                if *n == 0 {
+                    all.remove(c);
+                }
+            }
+        }
+    }
+}
+
+impl Heavy {
+    /// A turn for `caller`, or 429 when they already have [`PER_CALLER`].
+    pub fn turn(self: &Arc<Self>, caller: &Caller) -> Result<Turn, AppError> {
+        if let Some(c) = &caller.0 {
+            let mut all = self.callers.lock().unwrap_or_else(|e| e.into_inner());
+            let n = all.entry(c.clone()).or_insert(0);
+            if *n >= PER_CALLER {
+                return Err(AppError::Busy(
+                    "at most 2 calculations run at once for one token or session; try again in a moment",
+                ));
+            }
+            *n += 1;
+        }
+        Ok(Turn {
+            heavy: Arc::clone(self),
+            caller: caller.0.clone(),
+        })
+    }
+
+    /// One of the shop's [`ANALYSES_AT_ONCE`] analyses, or 429.
+    pub fn analysis(&self) -> Result<SemaphorePermit<'_>, AppError> {
+        self.analyses.try_acquire().map_err(|_| {
+            AppError::Busy("two log analyses are running already; try again in a moment")
+        })
+    }
+
+    /// Runs `work` on a blocking thread once one of the [`HEAVY_AT_ONCE`] places is free.
+    pub async fn run<T, F>(&self, work: F) -> Result<T, AppError>
+    where
+        F: FnOnce() -> T + Send + 'static,
+        T: Send + 'static,
+    {
+        let _place = self
+            .running
+            .acquire()
+            .await
+            .map_err(|e| AppError::Internal(e.to_string()))?;
+        tokio::task::spawn_blocking(work)
+            .await
+            .map_err(|e| AppError::Internal(format!("heavy work stopped: {e}")))
+    }
+
+    /// A caller's turn and a place, then `work` run on this thread, the runtime told that it
+    /// blocks (its other tasks move to another worker): for work that borrows the request's
+    /// data, such as a page's calculations. On a single-threaded runtime (the tests) it simply
+    /// runs.
+    pub async fn here<T>(
+        self: &Arc<Self>,
+        caller: &Caller,
+        work: impl FnOnce() -> T,
+    ) -> Result<T, AppError> {
+        let _turn = self.turn(caller)?;
+        let _place = self
+            .running
+            .acquire()
+            .await
+            .map_err(|e| AppError::Internal(e.to_string()))?;
+        Ok(match tokio::runtime::Handle::current().runtime_flavor() {
+            tokio::runtime::RuntimeFlavor::MultiThread => tokio::task::block_in_place(work),
+            _ => work(),
+        })
+    }
+
+    /// A caller's turn, then `work` run as in [`Heavy::run`].
+    pub async fn run_for<T, F>(self: &Arc<Self>, caller: &Caller, work: F) -> Result<T, AppError>
+    where
+        F: FnOnce() -> T + Send + 'static,
+        T: Send + 'static,
+    {
+        let _turn = self.turn(caller)?;
+        self.run(work).await
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_caller_gets_two_turns_and_a_third_after_one_ends() {
+        let heavy = Arc::new(Heavy::default());
+        let me = Caller(Some("token a".into()));
+        let other = Caller(Some("token b".into()));
+        let first = heavy.turn(&me).unwrap();
+        let _second = heavy.turn(&me).unwrap();
+        assert!(matches!(heavy.turn(&me), Err(AppError::Busy(_))));
+        let _theirs = heavy.turn(&other).unwrap();
+        drop(first);
+        assert!(heavy.turn(&me).is_ok());
+    }
+
+    #[test]
+    fn the_shop_runs_two_analyses_at_once() {
+        let heavy = Heavy::default();
+        let a = heavy.analysis().unwrap();
+        let _b = heavy.analysis().unwrap();
+        assert!(heavy.analysis().is_err());
+        drop(a);
+        assert!(heavy.analysis().is_ok());
+    }
+}
