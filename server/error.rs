@@ -9,6 +9,9 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 
 use crate::records::FieldErrors;
 
+/// Seconds a caller refused for being busy (429) is asked to wait.
+pub const RETRY_AFTER_S: u64 = 2;
+
 pub type AppResult<T> = Result<T, AppError>;
 
 #[derive(Debug, thiserror::Error)]
@@ -170,7 +173,7 @@ fn retry_after(response: &mut Response) {
     if response.status() == StatusCode::TOO_MANY_REQUESTS {
         response.headers_mut().insert(
             axum::http::header::RETRY_AFTER,
-            axum::http::HeaderValue::from(crate::web::http::heavy::RETRY_AFTER_S),
+            axum::http::HeaderValue::from(RETRY_AFTER_S),
         );
     }
 }

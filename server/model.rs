@@ -9,6 +9,8 @@ pub mod as_of;
 pub mod calibration;
 /// The counter's work-due list across the shop.
 pub mod due;
+/// Disc wear per unit of slip energy and the forecast by energy.
+pub mod energy;
 /// The build now with the friction in force (its calibration under the one rule).
 pub mod friction;
 /// A stored build's launch preview request, with estimates for what the car's record lacks.

@@ -9,7 +9,7 @@ use crate::error::{ApiError, ApiResult, AppError};
 use crate::model::as_of::{BuildAsOf, FrictionSource, bench_review};
 use crate::model::calibration::calibrated;
 use crate::model::due::WorkStatus;
-use crate::model::wear::energy_forecast;
+use crate::model::energy::energy_forecast;
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser, from_json_value};
 use crate::web::http::heavy::Caller;

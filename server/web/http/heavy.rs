@@ -25,8 +25,6 @@ pub const HEAVY_AT_ONCE: usize = 2;
 pub const PER_CALLER: usize = 2;
 /// Log analyses at once shop-wide: one of a 50 MB file takes a few hundred MB at its peak.
 pub const ANALYSES_AT_ONCE: usize = 2;
-/// Seconds a refused caller is asked to wait.
-pub const RETRY_AFTER_S: u64 = 2;
 
 /// Who asks for heavy work: the API token or the session cookie (a hash of it), or `None`
 /// for a request with neither (refused by the route's access layer before any heavy work).
