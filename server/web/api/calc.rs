@@ -135,12 +135,7 @@ pub async fn build_wear(
     _: ApiUser,
     Id(id): Id,
 ) -> ApiResult<BuildWear> {
-    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
-    let dossier = db::dossier::load(&mut conn, id)
-        .await?
-        .ok_or(ApiError(AppError::NotFound))?;
-    let settings = db::settings::get(&mut conn).await?;
-    drop(conn);
+    let (dossier, settings) = stored_build(&state, id).await?;
     let request = BuildAsOf::now(&dossier, &settings)
         .wear()
         .map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
@@ -193,11 +188,7 @@ pub async fn build_capacity(
     _: ApiUser,
     Id(id): Id,
 ) -> ApiResult<BuildCapacity> {
-    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
-    let dossier = db::dossier::load(&mut conn, id)
-        .await?
-        .ok_or(ApiError(AppError::NotFound))?;
-    let settings = db::settings::get(&mut conn).await?;
+    let (dossier, settings) = stored_build(&state, id).await?;
     let now = BuildAsOf::now(&dossier, &settings);
     let request = now
         .clutch()
@@ -241,11 +232,7 @@ pub async fn build_status(
     _: ApiUser,
     Id(id): Id,
 ) -> ApiResult<StatusAnswer> {
-    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
-    let dossier = db::dossier::load(&mut conn, id)
-        .await?
-        .ok_or(ApiError(AppError::NotFound))?;
-    let settings = db::settings::get(&mut conn).await?;
+    let (dossier, settings) = stored_build(&state, id).await?;
     let report = BuildAsOf::recorded(&dossier, &settings)
         .wear()
         .ok()
@@ -281,12 +268,7 @@ pub async fn build_calibration(
     Id(id): Id,
     Query(query): Query<FitQuery>,
 ) -> ApiResult<CalibrationReport> {
-    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
-    let dossier = db::dossier::load(&mut conn, id)
-        .await?
-        .ok_or(ApiError(AppError::NotFound))?;
-    let settings = db::settings::get(&mut conn).await?;
-    drop(conn);
+    let (dossier, settings) = stored_build(&state, id).await?;
     let calibration = state
         .heavy
         .run_for(&caller, move || {
@@ -295,4 +277,24 @@ pub async fn build_calibration(
         .await?
         .map_err(invalid)?;
     Ok(Json(calibration))
+}
+
+/// A stored build with everything recorded on it, and the shop's settings (404 for no such
+/// live build); the connection goes back to the pool before any work on them.
+async fn stored_build(
+    state: &AppState,
+    id: i64,
+) -> Result<
+    (
+        crate::records::stored::Dossier,
+        crate::records::settings::SettingsInput,
+    ),
+    ApiError,
+> {
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
+    let dossier = db::dossier::load(&mut conn, id)
+        .await?
+        .ok_or(ApiError(AppError::NotFound))?;
+    let settings = db::settings::get(&mut conn).await?;
+    Ok((dossier, settings))
 }
