@@ -146,7 +146,18 @@ pub fn read(text: &str) -> Result<Sheet, Problem> {
                 ));
             }
         }
-        let line = record.position().map_or(0, csv::Position::line);
+        // The reader's position is where it began, before any blank lines it skipped: count
+        // them, so the line is the one an editor shows.
+        let (mut line, mut at) = record
+            .position()
+            .map_or((0, 0), |p| (p.line(), p.byte() as usize));
+        let bytes = text.as_bytes();
+        while at < bytes.len() && matches!(bytes[at], b'\n' | b'\r') {
+            if bytes[at] == b'\n' {
+                line += 1;
+            }
+            at += 1;
+        }
         let cells: Vec<String> = record.iter().map(|c| c.trim().to_string()).collect();
         if cells.iter().all(String::is_empty) {
             continue;
@@ -280,11 +291,18 @@ fn kind_of<R>(f: &Field<R>) -> Option<Kind> {
     }
 }
 
-/// Whether a row that fills the record must give this field.
-fn required<R>(f: &Field<R>) -> bool {
+/// Whether a row that fills the record must give this field (a whole number takes the form's
+/// default, a measurement's pass count 0).
+fn required<R: Record>(f: &Field<R>) -> bool {
     match &f.value {
         Value::Text { required, .. } | Value::Number { required, .. } => *required,
-        Value::Whole { default, .. } => default.is_none() && f.column != "passes",
+        // A whole number the form would start at a value it refuses (no springs).
+        Value::Whole {
+            default: None,
+            limit,
+            get,
+            ..
+        } => f.column != "passes" && !limit.admits(get(&R::default()) as f64),
         Value::Date { .. } => true,
         _ => false,
     }
@@ -1166,10 +1184,10 @@ mod tests {
     #[test]
     fn rows_are_checked_as_the_forms_check_them() {
         let sheet = read(
-            "Name,Phone,Car,Rate,OD,ID,Checked on,Height\n\
-             Ada Example,555 0101,Blue coupe,300,7.25 in,5 in,3/4/2019,2.1\n\
-             Ada Example,(555) 0101,Blue coupe,310,7.25 in,5 in,2019-03-04,2.0\n\
-             ,555,Red,x,7.25 in,5 in,,\n",
+            "Name,Phone,Car,Rate,OD,ID,Checked on,Height,Springs\n\
+             Ada Example,555 0101,Blue coupe,300,7.25 in,5 in,3/4/2019,2.1,6\n\
+             Ada Example,(555) 0101,Blue coupe,310,7.25 in,5 in,2019-03-04,2.0,6\n\
+             ,555,Red,x,7.25 in,5 in,,,6\n",
         )
         .unwrap();
         let mut m = Mapping::default();
@@ -1182,6 +1200,7 @@ mod tests {
             ("build_facing_id_mm", "ID"),
             ("measurement_measured_on", "Checked on"),
             ("measurement_height_mm", "Height"),
+            ("build_spring_count", "Springs"),
         ] {
             m.columns.insert(k.into(), h.into());
         }

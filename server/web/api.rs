@@ -4,6 +4,8 @@
 pub mod calc;
 /// The data-log analysis of a posted file or a pass's stored log.
 pub mod datalogs;
+/// The spreadsheet import.
+pub mod import;
 /// List, get, create and update of the shop's records.
 pub mod records;
 
@@ -108,6 +110,11 @@ pub fn routes() -> Routes {
         )
         .route(Token, "/passes/{id}/analysis", get(datalogs::api_analysis))
         .route(Token, "/calc/launch", post(calc::launch))
+        .route(
+            Token,
+            "/import/spreadsheet",
+            post(import::spreadsheet).body_limit(import::IMPORT_BODY_LIMIT_BYTES),
+        )
 }
 
 /// Any other path under the API: a JSON 404.

@@ -10,6 +10,7 @@ mod counter;
 mod crash;
 mod history;
 mod hostile;
+mod import;
 mod launch;
 mod logs;
 mod migrations;
