@@ -468,7 +468,7 @@ async fn map_page(
         if v.is_null() {
             return Vec::new();
         }
-        match which {
+        let mut list = match which {
             "customer" => serde_json::from_value::<CustomerInput>(v.clone())
                 .map(|r| field::shown(&r, units))
                 .unwrap_or_default(),
@@ -481,7 +481,10 @@ async fn map_page(
             _ => serde_json::from_value::<HeightInput>(v.clone())
                 .map(|r| field::shown(&r, units))
                 .unwrap_or_default(),
-        }
+        };
+        // A torque curve is never imported: "0 points" says nothing.
+        list.retain(|(_, words)| words != "0 points");
+        list
     };
     let preview = answer
         .preview
