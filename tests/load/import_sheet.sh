@@ -61,7 +61,7 @@ done
 hwm() { awk '/VmHWM/ { printf "%.1f", $2 / 1024 }' "/proc/$PID/status"; }
 BEFORE=$(hwm)
 post() {
-  curl -s -o "$WORK/answer.json" -w '%{http_code} %{time_total}' \
+  curl -s -o "$WORK/answer.json" -w '%{http_code} %{time_total}\n' \
     -H "Authorization: Bearer $TOKEN" -H 'Content-Type: application/json' \
     --data-binary "@$WORK/$1.json" "http://$ADDR/api/v1/import/spreadsheet"
 }
