@@ -4,12 +4,15 @@
 # two or three cars each) sent to a running server as `POST /api/v1/import/spreadsheet`, first
 # as a dry run, then committed. Reports each request's elapsed time (curl) and the server
 # process's peak resident memory (VmHWM) before and after. Goals: the import under 10 s and
-# 100 MB. Usage: tests/load/import_sheet.sh [rows] [debug|release]   (defaults: 10000 release)
+# 100 MB. Usage: tests/load/import_sheet.sh [rows] [debug|release]   (defaults: 10000 release);
+# NO_BUILD=1 uses the binary as it is.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 ROWS=${1:-10000}
 PROFILE=${2:-release}
-if [ "$PROFILE" = release ]; then
+if [ -n "${NO_BUILD:-}" ]; then
+  :
+elif [ "$PROFILE" = release ]; then
   cargo build --release --quiet --bin lockpoint
 else
   cargo build --quiet --bin lockpoint
