@@ -44,7 +44,7 @@ pub const DATE_ORDERS: &[(&str, &str)] = &[
 /// One thing wrong: the line as an editor shows it (the header is line 1, blank lines
 /// counted), the file's header text of the column (empty when the line as a whole is wrong)
 /// and the form's message.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, utoipa::ToSchema)]
 pub struct Problem {
     pub line: u64,
     pub column: String,
@@ -64,7 +64,7 @@ impl Problem {
 /// What the person chose: which header column holds which field (`customer_name` → "Name"),
 /// the unit of numeric columns (by header text) and the order dates are written in. Kept per
 /// header for the next file (`db::imports`).
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize)]
+#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, utoipa::ToSchema)]
 #[serde(default)]
 pub struct Mapping {
     pub columns: BTreeMap<String, String>,
@@ -932,7 +932,7 @@ pub struct KnownCar {
 }
 
 /// A row whose phone digits or email match a customer already in the shop.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, utoipa::ToSchema)]
 pub struct Duplicate {
     pub line: u64,
     pub customer_id: i64,
@@ -942,7 +942,7 @@ pub struct Duplicate {
 }
 
 /// Attach a duplicate row to the customer already in the shop, or leave it out.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize, utoipa::ToSchema)]
 #[serde(rename_all = "lowercase")]
 pub enum DupChoice {
     Attach,

@@ -363,6 +363,12 @@ pub fn route_table() -> Vec<RouteInfo> {
     table
 }
 
+/// Every operation the API's OpenAPI description (`GET /api/v1/openapi.json`) describes, as
+/// (method, path under [`API_PREFIX`]): for checking it against [`route_table`].
+pub fn api_described() -> Vec<(String, String)> {
+    api::openapi::described()
+}
+
 /// The whole application: routes, then middleware (outermost last).
 pub fn app(state: AppState) -> Router {
     Router::new()

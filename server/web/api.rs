@@ -6,6 +6,8 @@ pub mod calc;
 pub mod datalogs;
 /// The spreadsheet import.
 pub mod import;
+/// The API described (OpenAPI 3.1), from the types that serve it.
+pub mod openapi;
 /// List, get, create and update of the shop's records.
 pub mod records;
 
@@ -110,6 +112,8 @@ pub fn routes() -> Routes {
         )
         .route(Token, "/passes/{id}/analysis", get(datalogs::api_analysis))
         .route(Token, "/calc/launch", post(calc::launch))
+        // The description of every other route here (it does not describe itself).
+        .route(Token, "/openapi.json", get(openapi::document))
         .route(
             Token,
             "/import/spreadsheet",

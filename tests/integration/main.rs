@@ -14,6 +14,7 @@ mod import;
 mod launch;
 mod logs;
 mod migrations;
+mod openapi;
 mod plans;
 mod records;
 mod routes;

@@ -21,7 +21,7 @@ use crate::web::http::extract::{ApiJson, ApiUser, CurrentUser};
 pub const IMPORT_BODY_LIMIT_BYTES: usize = 2 * import::MAX_BYTES + 1024 * 1024;
 
 /// What an import is asked to do.
-#[derive(Debug, Clone, Default, Deserialize)]
+#[derive(Debug, Clone, Default, Deserialize, utoipa::ToSchema)]
 #[serde(default, deny_unknown_fields)]
 pub struct ImportRequest {
     /// The file's name, for the audit history ("customers-2019.csv").
@@ -45,7 +45,7 @@ pub struct ImportRequest {
 }
 
 /// What an import made (or, in a dry run, would make).
-#[derive(Debug, Clone, Default, Serialize)]
+#[derive(Debug, Clone, Default, Serialize, utoipa::ToSchema)]
 pub struct ImportAnswer {
     pub dry_run: bool,
     /// Data rows read (blank rows left out).
