@@ -160,6 +160,13 @@ impl IntoResponse for ApiError {
                 .unwrap_or_default(),
             other => other.public_message(),
         };
-        (status, Json(ErrorBody { error: message, field })).into_response()
+        (
+            status,
+            Json(ErrorBody {
+                error: message,
+                field,
+            }),
+        )
+            .into_response()
     }
 }

@@ -794,11 +794,7 @@ fn problems_of(
 }
 
 /// Every row read and checked: the rows that passed and the problems of all (in line order).
-pub fn check_rows(
-    sheet: &Sheet,
-    mapping: &Mapping,
-    ctx: &Ctx,
-) -> (Vec<Row>, Vec<Problem>) {
+pub fn check_rows(sheet: &Sheet, mapping: &Mapping, ctx: &Ctx) -> (Vec<Row>, Vec<Problem>) {
     let (r, mut problems) = resolve(sheet, mapping);
     if !problems.is_empty() {
         return (Vec::new(), problems);
@@ -820,13 +816,8 @@ pub fn check_rows(
         let mut row_problems = Vec::new();
         macro_rules! part {
             ($t:ty, $part:expr, $base:expr, $check:expr) => {{
-                let (rec, errors) = read_part::<$t>(
-                    cells,
-                    r.of($part),
-                    &r,
-                    decimal_comma,
-                    $base.clone(),
-                );
+                let (rec, errors) =
+                    read_part::<$t>(cells, r.of($part), &r, decimal_comma, $base.clone());
                 match $check(rec, errors) {
                     Ok(c) => Some(c),
                     Err(errors) => {
@@ -1089,8 +1080,8 @@ pub fn plan(
                 "customer_id": match owner { Owner::Existing(id) => Some(id), Owner::New(_) => None },
                 "customer": &*row.customer,
                 "car": &*row.car,
-                "build": row.build.as_ref().map(|b| &**b),
-                "measurement": row.measurement.as_ref().map(|m| &**m),
+                "build": row.build.as_deref(),
+                "measurement": row.measurement.as_deref(),
             }));
         }
         if let Some(b) = row.build {

@@ -48,7 +48,12 @@ fn at(problems: &Value) -> Vec<(u64, String)> {
         .as_array()
         .unwrap()
         .iter()
-        .map(|p| (p["line"].as_u64().unwrap(), p["column"].as_str().unwrap().to_string()))
+        .map(|p| {
+            (
+                p["line"].as_u64().unwrap(),
+                p["column"].as_str().unwrap().to_string(),
+            )
+        })
         .collect()
 }
 
@@ -174,14 +179,19 @@ async fn a_messy_sheet_is_checked_refused_fixed_and_imported_exactly() {
         .json();
     assert_eq!(customer["name"], "Dana Testwell");
     assert_eq!(customer["phone"], "555-0142");
-    assert_eq!(customer["notes"], "=SUM(A1:A3)", "a formula-looking cell is text");
+    assert_eq!(
+        customer["notes"], "=SUM(A1:A3)",
+        "a formula-looking cell is text"
+    );
     let cars = api("GET", format!("/api/v1/customers/{dana}/cars"), None)
         .await
         .json();
     assert_eq!(cars.as_array().unwrap().len(), 1, "one car for both rows");
     assert_eq!(cars[0]["description"], "Orange fastback");
     let car_id = cars[0]["id"].as_i64().unwrap();
-    let car = api("GET", format!("/api/v1/cars/{car_id}"), None).await.body;
+    let car = api("GET", format!("/api/v1/cars/{car_id}"), None)
+        .await
+        .body;
     // NIST SP 811 B.8: 1 lb = 0.45359237 kg.
     assert_eq!(raw(&car, "weight_kg"), 3150.0 * 0.45359237);
     let builds = api("GET", format!("/api/v1/cars/{car_id}/builds"), None)
@@ -195,8 +205,12 @@ async fn a_messy_sheet_is_checked_refused_fixed_and_imported_exactly() {
             .unwrap()
     };
     let (spring_id, autumn_id) = (id_of("Spring 2019"), id_of("Autumn 2019"));
-    let spring = api("GET", format!("/api/v1/builds/{spring_id}"), None).await.body;
-    let autumn = api("GET", format!("/api/v1/builds/{autumn_id}"), None).await.body;
+    let spring = api("GET", format!("/api/v1/builds/{spring_id}"), None)
+        .await
+        .body;
+    let autumn = api("GET", format!("/api/v1/builds/{autumn_id}"), None)
+        .await
+        .body;
     // NIST SP 811 B.8: 1 in = 25.4 mm.
     assert_eq!(raw(&spring, "facing_od_mm"), 7.25 * 25.4);
     assert_eq!(raw(&spring, "facing_id_mm"), 4.75 * 25.4);
@@ -218,16 +232,30 @@ async fn a_messy_sheet_is_checked_refused_fixed_and_imported_exactly() {
         vec![0.010 * 25.4, 0.010 * 25.4, 0.020 * 25.4]
     );
     assert_eq!(raw(&spring, "spring_count"), 6.0);
-    let heights = api("GET", format!("/api/v1/builds/{spring_id}/measurements"), None)
-        .await
-        .body;
-    assert!(heights.contains("\"measured_on\":\"2019-03-14\""), "{heights}");
+    let heights = api(
+        "GET",
+        format!("/api/v1/builds/{spring_id}/measurements"),
+        None,
+    )
+    .await
+    .body;
+    assert!(
+        heights.contains("\"measured_on\":\"2019-03-14\""),
+        "{heights}"
+    );
     assert_eq!(raw(&heights, "height_mm"), 2.1 * 25.4);
     assert_eq!(raw(&heights, "passes"), 12.0);
-    let heights = api("GET", format!("/api/v1/builds/{autumn_id}/measurements"), None)
-        .await
-        .body;
-    assert!(heights.contains("\"measured_on\":\"2019-10-02\""), "{heights}");
+    let heights = api(
+        "GET",
+        format!("/api/v1/builds/{autumn_id}/measurements"),
+        None,
+    )
+    .await
+    .body;
+    assert!(
+        heights.contains("\"measured_on\":\"2019-10-02\""),
+        "{heights}"
+    );
     assert_eq!(raw(&heights, "height_mm"), 53.0);
 
     // The customer already here got the car; no second Fay.
@@ -282,11 +310,21 @@ async fn limits_and_access_of_the_import() {
     let small = json!({"csv": "Name,Car\nAda Example,red\n",
         "columns": {"customer_name": "Name", "car_description": "Car"}});
     let tech = app
-        .api("POST", "/api/v1/import/spreadsheet", Some(&sam), Some(small.clone()))
+        .api(
+            "POST",
+            "/api/v1/import/spreadsheet",
+            Some(&sam),
+            Some(small.clone()),
+        )
         .await;
     assert_eq!(tech.status, StatusCode::FORBIDDEN);
     let ok = app
-        .api("POST", "/api/v1/import/spreadsheet", Some(&boss), Some(small))
+        .api(
+            "POST",
+            "/api/v1/import/spreadsheet",
+            Some(&boss),
+            Some(small),
+        )
         .await;
     assert_eq!(ok.status, StatusCode::OK, "{}", ok.body);
     assert_eq!(ok.json()["customers_created"], 1);

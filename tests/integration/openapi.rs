@@ -18,12 +18,16 @@ fn validate_with_python(path: &std::path::Path) -> (bool, String) {
     );
     let run = || Command::new("python3").args(["-c", &check]).output();
     let mut out = run().expect("python3 runs");
-    if !out.status.success() && String::from_utf8_lossy(&out.stderr).contains("ModuleNotFoundError") {
+    if !out.status.success() && String::from_utf8_lossy(&out.stderr).contains("ModuleNotFoundError")
+    {
         let pip = Command::new("python3")
             .args(["-m", "pip", "install", "--quiet", "openapi-spec-validator"])
             .status()
             .expect("pip runs");
-        assert!(pip.success(), "pip could not install openapi-spec-validator");
+        assert!(
+            pip.success(),
+            "pip could not install openapi-spec-validator"
+        );
         out = run().expect("python3 runs");
     }
     (
@@ -59,7 +63,10 @@ async fn the_description_is_valid_openapi_and_in_step_with_the_routes() {
         build["spring_rate_n_per_mm"]["description"],
         "Nominal spring rate, N/mm"
     );
-    assert_eq!(build["facing_od_mm"]["description"], "Facing outer diameter, mm");
+    assert_eq!(
+        build["facing_od_mm"]["description"],
+        "Facing outer diameter, mm"
+    );
 
     // Checked by a validator the project does not write.
     let dir = std::env::temp_dir().join(format!("lockpoint-openapi-{}", std::process::id()));

@@ -9,6 +9,7 @@ use std::borrow::Cow;
 
 use axum::Json;
 use serde_json::Value as JsonValue;
+use utoipa::ToSchema;
 use utoipa::openapi::path::{
     HttpMethod, OperationBuilder, ParameterBuilder, ParameterIn, PathItem, PathsBuilder,
 };
@@ -18,7 +19,6 @@ use utoipa::openapi::security::{HttpAuthScheme, HttpBuilder, SecurityRequirement
 use utoipa::openapi::{
     ContentBuilder, InfoBuilder, OpenApiBuilder, Ref, RefOr, Required, ResponseBuilder, Schema,
 };
-use utoipa::ToSchema;
 
 use crate::error::{ApiError, ErrorBody};
 use crate::records::build::BuildInput;
@@ -31,7 +31,7 @@ use crate::records::setup::SetupInput;
 use crate::records::stored;
 use crate::web::http::extract::ApiUser;
 use clutch::calibration::CalibrationReport;
-use clutch::capacity::recommend::{Recommendation, RecommendRequest};
+use clutch::capacity::recommend::{RecommendRequest, Recommendation};
 use clutch::capacity::report::CapacityReport;
 use clutch::capacity::request::CapacityRequest;
 use clutch::datalog::request::{LogAnalysisReport, LogAnalysisRequest};
@@ -183,60 +183,348 @@ pub fn document_json() -> JsonValue {
     let customer = d.one::<CustomerInput>();
     let stored_customer = d.one::<crate::db::customers::Customer>();
     let customer_list = d.one::<super::records::CustomerList>();
-    d.op(Get, "/customers", "listCustomers", "Customers, searched with `q`, paged with `page`", Body::None, "200", customer_list);
-    d.op(Post, "/customers", "createCustomer", "Add a customer", customer.clone(), "201", stored_customer.clone());
-    d.op(Get, "/customers/{id}", "getCustomer", "One customer", Body::None, "200", stored_customer.clone());
-    d.op(Put, "/customers/{id}", "updateCustomer", "Change a customer", customer, "200", stored_customer);
+    d.op(
+        Get,
+        "/customers",
+        "listCustomers",
+        "Customers, searched with `q`, paged with `page`",
+        Body::None,
+        "200",
+        customer_list,
+    );
+    d.op(
+        Post,
+        "/customers",
+        "createCustomer",
+        "Add a customer",
+        customer.clone(),
+        "201",
+        stored_customer.clone(),
+    );
+    d.op(
+        Get,
+        "/customers/{id}",
+        "getCustomer",
+        "One customer",
+        Body::None,
+        "200",
+        stored_customer.clone(),
+    );
+    d.op(
+        Put,
+        "/customers/{id}",
+        "updateCustomer",
+        "Change a customer",
+        customer,
+        "200",
+        stored_customer,
+    );
     macro_rules! record {
         ($input:ty, $stored:ty, $owner:literal, $list:literal, $own:literal, $what:literal, $name:literal) => {{
             let input = d.one::<$input>();
             let one = d.one::<$stored>();
             let list = d.list::<$stored>();
-            d.op(Get, concat!($owner, "/{id}/", $list), concat!("list", $name, "Of", $own), concat!("The ", $what, "s of one ", $own), Body::None, "200", list.clone());
-            d.op(Post, concat!($owner, "/{id}/", $list), concat!("create", $name), concat!("Add a ", $what), input.clone(), "201", one.clone());
+            d.op(
+                Get,
+                concat!($owner, "/{id}/", $list),
+                concat!("list", $name, "Of", $own),
+                concat!("The ", $what, "s of one ", $own),
+                Body::None,
+                "200",
+                list.clone(),
+            );
+            d.op(
+                Post,
+                concat!($owner, "/{id}/", $list),
+                concat!("create", $name),
+                concat!("Add a ", $what),
+                input.clone(),
+                "201",
+                one.clone(),
+            );
             (input, one, list)
         }};
     }
-    let (car_in, car, cars) = record!(CarInput, stored::Car, "/customers", "cars", "Customer", "car", "Car");
-    d.op(Get, "/cars", "listCars", "Every car, paged with `page`", Body::None, "200", cars);
-    d.op(Get, "/cars/{id}", "getCar", "One car", Body::None, "200", car.clone());
-    d.op(Put, "/cars/{id}", "updateCar", "Change a car", car_in, "200", car);
-    let (build_in, build, builds) = record!(BuildInput, stored::Build, "/cars", "builds", "Car", "build", "Build");
-    d.op(Get, "/builds", "listBuilds", "Every build, paged with `page`", Body::None, "200", builds);
-    d.op(Get, "/builds/{id}", "getBuild", "One build", Body::None, "200", build.clone());
-    d.op(Put, "/builds/{id}", "updateBuild", "Change a build", build_in, "200", build);
-    let (setup_in, setup, _) = record!(SetupInput, stored::Setup, "/builds", "setups", "Build", "setup change", "Setup");
-    d.op(Get, "/setups/{id}", "getSetup", "One setup change", Body::None, "200", setup.clone());
-    d.op(Put, "/setups/{id}", "updateSetup", "Correct a setup change", setup_in, "200", setup);
-    let (bench_in, bench, _) = record!(crate::records::bench::BenchInput, stored::BenchTest, "/builds", "bench-tests", "Build", "bench test", "BenchTest");
-    d.op(Get, "/bench-tests/{id}", "getBenchTest", "One bench test with its springs", Body::None, "200", bench.clone());
-    d.op(Put, "/bench-tests/{id}", "updateBenchTest", "Correct a bench test", bench_in, "200", bench);
-    let (height_in, height, _) = record!(HeightInput, stored::Height, "/builds", "measurements", "Build", "cover height measurement", "Measurement");
-    d.op(Get, "/measurements/{id}", "getMeasurement", "One cover height measurement", Body::None, "200", height.clone());
-    d.op(Put, "/measurements/{id}", "updateMeasurement", "Correct a cover height measurement", height_in, "200", height);
-    let (pass_in, pass, _) = record!(PassInput, stored::Pass, "/builds", "passes", "Build", "track pass", "Pass");
-    d.op(Get, "/passes/{id}", "getPass", "One track pass", Body::None, "200", pass.clone());
-    d.op(Put, "/passes/{id}", "updatePass", "Correct a track pass", pass_in, "200", pass);
+    let (car_in, car, cars) = record!(
+        CarInput,
+        stored::Car,
+        "/customers",
+        "cars",
+        "Customer",
+        "car",
+        "Car"
+    );
+    d.op(
+        Get,
+        "/cars",
+        "listCars",
+        "Every car, paged with `page`",
+        Body::None,
+        "200",
+        cars,
+    );
+    d.op(
+        Get,
+        "/cars/{id}",
+        "getCar",
+        "One car",
+        Body::None,
+        "200",
+        car.clone(),
+    );
+    d.op(
+        Put,
+        "/cars/{id}",
+        "updateCar",
+        "Change a car",
+        car_in,
+        "200",
+        car,
+    );
+    let (build_in, build, builds) = record!(
+        BuildInput,
+        stored::Build,
+        "/cars",
+        "builds",
+        "Car",
+        "build",
+        "Build"
+    );
+    d.op(
+        Get,
+        "/builds",
+        "listBuilds",
+        "Every build, paged with `page`",
+        Body::None,
+        "200",
+        builds,
+    );
+    d.op(
+        Get,
+        "/builds/{id}",
+        "getBuild",
+        "One build",
+        Body::None,
+        "200",
+        build.clone(),
+    );
+    d.op(
+        Put,
+        "/builds/{id}",
+        "updateBuild",
+        "Change a build",
+        build_in,
+        "200",
+        build,
+    );
+    let (setup_in, setup, _) = record!(
+        SetupInput,
+        stored::Setup,
+        "/builds",
+        "setups",
+        "Build",
+        "setup change",
+        "Setup"
+    );
+    d.op(
+        Get,
+        "/setups/{id}",
+        "getSetup",
+        "One setup change",
+        Body::None,
+        "200",
+        setup.clone(),
+    );
+    d.op(
+        Put,
+        "/setups/{id}",
+        "updateSetup",
+        "Correct a setup change",
+        setup_in,
+        "200",
+        setup,
+    );
+    let (bench_in, bench, _) = record!(
+        crate::records::bench::BenchInput,
+        stored::BenchTest,
+        "/builds",
+        "bench-tests",
+        "Build",
+        "bench test",
+        "BenchTest"
+    );
+    d.op(
+        Get,
+        "/bench-tests/{id}",
+        "getBenchTest",
+        "One bench test with its springs",
+        Body::None,
+        "200",
+        bench.clone(),
+    );
+    d.op(
+        Put,
+        "/bench-tests/{id}",
+        "updateBenchTest",
+        "Correct a bench test",
+        bench_in,
+        "200",
+        bench,
+    );
+    let (height_in, height, _) = record!(
+        HeightInput,
+        stored::Height,
+        "/builds",
+        "measurements",
+        "Build",
+        "cover height measurement",
+        "Measurement"
+    );
+    d.op(
+        Get,
+        "/measurements/{id}",
+        "getMeasurement",
+        "One cover height measurement",
+        Body::None,
+        "200",
+        height.clone(),
+    );
+    d.op(
+        Put,
+        "/measurements/{id}",
+        "updateMeasurement",
+        "Correct a cover height measurement",
+        height_in,
+        "200",
+        height,
+    );
+    let (pass_in, pass, _) = record!(
+        PassInput,
+        stored::Pass,
+        "/builds",
+        "passes",
+        "Build",
+        "track pass",
+        "Pass"
+    );
+    d.op(
+        Get,
+        "/passes/{id}",
+        "getPass",
+        "One track pass",
+        Body::None,
+        "200",
+        pass.clone(),
+    );
+    d.op(
+        Put,
+        "/passes/{id}",
+        "updatePass",
+        "Correct a track pass",
+        pass_in,
+        "200",
+        pass,
+    );
     // Figures of stored builds and the calculations (units as the request's `units` says).
     let wear = d.one::<WearReport>();
     let calibration = d.one::<CalibrationReport>();
-    d.op(Get, "/builds/{id}/wear", "buildWear", "The disc wear of a stored build (metric)", Body::None, "200", wear.clone());
-    d.op(Get, "/builds/{id}/calibration", "buildCalibration", "The friction coefficient fitted to a stored build's passes", Body::None, "200", calibration.clone());
+    d.op(
+        Get,
+        "/builds/{id}/wear",
+        "buildWear",
+        "The disc wear of a stored build (metric)",
+        Body::None,
+        "200",
+        wear.clone(),
+    );
+    d.op(
+        Get,
+        "/builds/{id}/calibration",
+        "buildCalibration",
+        "The friction coefficient fitted to a stored build's passes",
+        Body::None,
+        "200",
+        calibration.clone(),
+    );
     let (req, rep) = (d.one::<CapacityRequest>(), d.one::<CapacityReport>());
-    d.op(Post, "/calc/capacity", "capacity", "Clamp and torque capacity of a setting, and its lockup", req, "200", rep);
+    d.op(
+        Post,
+        "/calc/capacity",
+        "capacity",
+        "Clamp and torque capacity of a setting, and its lockup",
+        req,
+        "200",
+        rep,
+    );
     let (req, rep) = (d.one::<RecommendRequest>(), d.one::<Recommendation>());
-    d.op(Post, "/calc/recommend", "recommend", "The adjuster turns and counterweight for target figures", req, "200", rep);
+    d.op(
+        Post,
+        "/calc/recommend",
+        "recommend",
+        "The adjuster turns and counterweight for target figures",
+        req,
+        "200",
+        rep,
+    );
     let req = d.one::<clutch::calibration::CalibrateRequest>();
-    d.op(Post, "/calc/calibrate", "calibrate", "Fit the friction coefficient to passes with a seen lockup", req, "200", calibration);
+    d.op(
+        Post,
+        "/calc/calibrate",
+        "calibrate",
+        "Fit the friction coefficient to passes with a seen lockup",
+        req,
+        "200",
+        calibration,
+    );
     let req = d.one::<WearRequest>();
-    d.op(Post, "/calc/wear", "wear", "Disc wear from cover heights and the shim stack", req, "200", wear);
+    d.op(
+        Post,
+        "/calc/wear",
+        "wear",
+        "Disc wear from cover heights and the shim stack",
+        req,
+        "200",
+        wear,
+    );
     let (req, rep) = (d.one::<LogAnalysisRequest>(), d.one::<LogAnalysisReport>());
-    d.op(Post, "/calc/log-analysis", "logAnalysis", "Analyse a data log (CSV text) of a pass", req, "200", rep.clone());
+    d.op(
+        Post,
+        "/calc/log-analysis",
+        "logAnalysis",
+        "Analyse a data log (CSV text) of a pass",
+        req,
+        "200",
+        rep.clone(),
+    );
     let body = d.one::<super::datalogs::PassLogBody>();
-    d.op(Post, "/passes/{id}/log", "storePassLog", "Keep a data log with a pass and analyse it with the car's data", body, "200", rep.clone());
-    d.op(Get, "/passes/{id}/analysis", "passAnalysis", "The analysis of a pass's stored data log", Body::None, "200", rep);
+    d.op(
+        Post,
+        "/passes/{id}/log",
+        "storePassLog",
+        "Keep a data log with a pass and analyse it with the car's data",
+        body,
+        "200",
+        rep.clone(),
+    );
+    d.op(
+        Get,
+        "/passes/{id}/analysis",
+        "passAnalysis",
+        "The analysis of a pass's stored data log",
+        Body::None,
+        "200",
+        rep,
+    );
     let (req, rep) = (d.one::<LaunchRequest>(), d.one::<LaunchReport>());
-    d.op(Post, "/calc/launch", "launch", "Simulate a launch: slip, lockup, heat", req, "200", rep);
+    d.op(
+        Post,
+        "/calc/launch",
+        "launch",
+        "Simulate a launch: slip, lockup, heat",
+        req,
+        "200",
+        rep,
+    );
     let (req, rep) = (
         d.one::<super::import::ImportRequest>(),
         d.one::<super::import::ImportAnswer>(),
@@ -273,7 +561,10 @@ pub fn document_json() -> JsonValue {
         .servers(Some([utoipa::openapi::server::Server::new("/api/v1")]))
         .paths(d.paths.build())
         .components(Some(components.build()))
-        .security(Some([SecurityRequirement::new(BEARER, Vec::<String>::new())]))
+        .security(Some([SecurityRequirement::new(
+            BEARER,
+            Vec::<String>::new(),
+        )]))
         .build();
     let mut json = serde_json::to_value(&doc).unwrap_or_default();
     describe_records(&mut json);

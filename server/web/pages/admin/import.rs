@@ -15,12 +15,12 @@ use axum::response::{Html, IntoResponse, Redirect, Response};
 use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::import::{self, DATE_ORDERS, DupChoice, Target};
+use crate::records::FieldErrors;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::customer::CustomerInput;
 use crate::records::field;
 use crate::records::height::HeightInput;
-use crate::records::FieldErrors;
 use crate::web::AppState;
 use crate::web::api::import::{ImportAnswer, ImportRequest, run, too_large};
 use crate::web::http::extract::{CurrentUser, SignedForm};
@@ -58,9 +58,9 @@ impl Staging {
 
     fn get(&self, token: &str, user_id: i64) -> Option<(String, String)> {
         let all = self.0.lock().unwrap_or_else(|e| e.into_inner());
-        let s = all.iter().find(|s| {
-            s.token == token && s.user_id == user_id && s.at.elapsed() < STAGED_FOR
-        })?;
+        let s = all
+            .iter()
+            .find(|s| s.token == token && s.user_id == user_id && s.at.elapsed() < STAGED_FOR)?;
         let bytes = db::pass_logs::inflate(&s.deflated, import::MAX_BYTES).ok()?;
         Some((s.name.clone(), String::from_utf8(bytes).ok()?))
     }
@@ -165,7 +165,11 @@ async fn upload_page(
     .render()?)
 }
 
-async fn refuse_upload(state: &AppState, user: &CurrentUser, message: String) -> AppResult<Response> {
+async fn refuse_upload(
+    state: &AppState,
+    user: &CurrentUser,
+    message: String,
+) -> AppResult<Response> {
     let mut errors = FieldErrors::default();
     errors.add("file", message);
     let html = upload_page(state, user, None, errors).await?;
@@ -306,10 +310,7 @@ pub async fn map_save(State(state): State<AppState>, signed: SignedForm) -> AppR
         let key = form.get(&format!("map_{i}")).to_string();
         if !key.is_empty() {
             if let Some(other) = by_key.get(&key) {
-                errors.add(
-                    &format!("map_{i}"),
-                    format!("already chosen for “{other}”"),
-                );
+                errors.add(&format!("map_{i}"), format!("already chosen for “{other}”"));
             } else {
                 by_key.insert(key.clone(), header.clone());
                 columns.insert(key, header.clone());
@@ -361,7 +362,11 @@ pub async fn map_save(State(state): State<AppState>, signed: SignedForm) -> AppR
             answer.measurements_created,
             plural(answer.measurements_created),
             if answer.attached > 0 {
-                format!("; {} row{} added to customers already in the shop", answer.attached, plural(answer.attached))
+                format!(
+                    "; {} row{} added to customers already in the shop",
+                    answer.attached,
+                    plural(answer.attached)
+                )
             } else {
                 String::new()
             },
