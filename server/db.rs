@@ -12,6 +12,7 @@ pub mod customers;
 pub mod dossier;
 pub mod export;
 pub mod heights;
+pub mod imports;
 pub mod pass_logs;
 pub mod passes;
 pub mod record;

@@ -134,6 +134,14 @@ impl IntoResponse for AppError {
 #[derive(Debug)]
 pub struct ApiError(pub AppError);
 
+/// Every API error: what went wrong, and the field it is about (its JSON path, such as
+/// `springs.rate` or `shim_stack_mm[1]`), when one field is.
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
+pub struct ErrorBody {
+    pub error: String,
+    pub field: Option<String>,
+}
+
 pub type ApiResult<T> = Result<Json<T>, ApiError>;
 
 impl<E: Into<AppError>> From<E> for ApiError {
@@ -161,8 +169,14 @@ impl IntoResponse for ApiError {
                 .unwrap_or_default(),
             other => other.public_message(),
         };
-        let body = serde_json::json!({ "error": message, "field": field });
-        let mut response = (status, Json(body)).into_response();
+        let mut response = (
+            status,
+            Json(ErrorBody {
+                error: message,
+                field,
+            }),
+        )
+            .into_response();
         retry_after(&mut response);
         response
     }

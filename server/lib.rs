@@ -16,6 +16,8 @@ pub mod db;
 pub mod demo;
 /// The web layer's error type (HTML pages and JSON).
 pub mod error;
+/// The spreadsheet import: reading a CSV file, its mapping, units and dates, each row checked as the forms check it (no IO).
+pub mod import;
 /// A stored build as engineering inputs (records -> clutch requests).
 pub mod model;
 /// Progress of long command-line work on a terminal (stderr, only when it is a terminal).

@@ -93,6 +93,11 @@ impl FieldErrors {
             .map(|p| p.message.as_str())
     }
 
+    /// Every problem as (JSON path, message), in the order found.
+    pub fn iter(&self) -> impl Iterator<Item = (String, &str)> {
+        self.0.iter().map(|p| (p.path(), p.message.as_str()))
+    }
+
     /// The first problem as (JSON path, message), for the API's answer.
     pub fn first(&self) -> Option<(String, &str)> {
         self.0.first().map(|p| (p.path(), p.message.as_str()))

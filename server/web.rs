@@ -46,6 +46,8 @@ pub struct AppState {
     pub public_url: Option<Arc<str>>,
     /// Data-log files sent and waiting for their column mapping (memory only).
     pub staged_logs: Arc<pages::passes::Staging>,
+    /// Spreadsheets sent and waiting for their mapping and import (memory only).
+    pub staged_imports: Arc<pages::admin::import::Staging>,
     /// Sessions and rendered pages reused while nothing has been committed (`web::cache`).
     pub cache: Arc<http::cache::Cache>,
     /// The scheduled backups and what they did (`crate::backup::scheduler`).
@@ -83,6 +85,7 @@ impl AppState {
             reserved_sign_ins: Arc::new(Semaphore::new(pages::login::RESERVED_SIGN_IN_SLOTS)),
             public_url: None,
             staged_logs: pages::passes::staging(),
+            staged_imports: pages::admin::import::staging(),
             cache,
             backups,
             heavy: Arc::default(),
@@ -325,6 +328,18 @@ fn pages() -> Routes {
             "/users/{id}/display-name",
             post(pages::admin::settings::set_display_name),
         )
+        .route(
+            Admin,
+            "/import",
+            get(pages::admin::import::page)
+                .post(pages::admin::import::upload)
+                .body_limit(api::import::IMPORT_BODY_LIMIT_BYTES),
+        )
+        .route(
+            Admin,
+            "/import/map",
+            get(pages::admin::import::map_form).post(pages::admin::import::map_save),
+        )
         .route(Admin, "/backup", get(pages::admin::backup::page))
         .route(
             Admin,
@@ -359,6 +374,12 @@ pub fn route_table() -> Vec<RouteInfo> {
     let mut table = pages().table("");
     table.extend(api::routes().table(API_PREFIX));
     table
+}
+
+/// Every operation the API's OpenAPI description (`GET /api/v1/openapi.json`) describes, as
+/// (method, path under [`API_PREFIX`]): for checking it against [`route_table`].
+pub fn api_described() -> Vec<(String, String)> {
+    api::openapi::described()
 }
 
 /// The whole application: routes, then middleware (outermost last).

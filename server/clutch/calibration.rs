@@ -177,6 +177,7 @@ pub fn fit_pair(x1: &[f64], x2: &[f64], y: &[f64]) -> Option<PairFit> {
 
 /// Which parameters to fit.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum Fit {
     /// μ only, the levers' gain taken as modelled. Default.
@@ -189,6 +190,7 @@ pub enum Fit {
 /// POST /api/v1/calc/calibrate body: the clutch as for `/calc/capacity` (no friction: that is
 /// what is fitted), and the passes.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct CalibrateRequest {
     /// Unit system of every length, force, rate and torque in the request and the answer.
     pub units: Units,
@@ -211,6 +213,7 @@ pub struct CalibrateRequest {
 
 /// One pass with the lockup seen (request units).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct PassObserved {
     /// Engine speed at which the clutch stopped slipping, rev/min, inside the torque curve.
     pub lockup_rpm: f64,
@@ -230,6 +233,7 @@ pub struct PassObserved {
 
 /// Answer to POST /api/v1/calc/calibrate.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct CalibrationReport {
     /// Passes used.
     pub n: usize,
@@ -251,6 +255,7 @@ pub struct CalibrationReport {
 
 /// One pass in the answer (request units).
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct PassResult {
     /// Observed lockup, rev/min.
     pub lockup_rpm: f64,

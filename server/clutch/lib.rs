@@ -28,6 +28,7 @@ pub mod wear;
 /// `"engine.torque_curve[2]"`, `"measurements[1].cover_height"`), so the web layer can show the
 /// message beside the right input.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error, serde::Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[error("{field}: {message}")]
 pub struct InputError {
     /// JSON path of the offending value.

@@ -17,6 +17,7 @@ pub const RAD_S_PER_RPM: f64 = std::f64::consts::PI / 30.0;
 
 /// The unit system the shop works in. Counterweights are grams in both.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "lowercase")]
 pub enum Units {
     /// in, lbf, lbf/in, lbf·ft, °F.

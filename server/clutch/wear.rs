@@ -21,6 +21,7 @@ pub const AT_LIMIT_TOLERANCE_MM: f64 = 1e-6;
 
 /// POST /api/v1/calc/wear body.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct WearRequest {
     /// Unit system of lengths (in / mm) and the spring rate (lbf/in / N/mm).
     pub units: Units,
@@ -43,6 +44,7 @@ pub struct WearRequest {
 
 /// One cover-height measurement.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct Measurement {
     /// Passes since the baseline.
     pub passes: u32,
@@ -55,6 +57,7 @@ pub struct Measurement {
 
 /// Service status at the latest measurement.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum WearStatus {
     /// Nothing due.
@@ -67,6 +70,7 @@ pub enum WearStatus {
 
 /// Answer to POST /api/v1/calc/wear.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct WearReport {
     /// Each measurement, analysed.
     pub measurements: Vec<WearPoint>,
@@ -84,6 +88,7 @@ pub struct WearReport {
 
 /// One analysed measurement.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct WearPoint {
     /// Passes since the baseline.
     pub passes: u32,

@@ -6,7 +6,7 @@ use sqlx::{FromRow, SqliteConnection};
 use crate::records::Checked;
 use crate::records::customer::CustomerInput;
 
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct Customer {
     pub id: i64,
     #[sqlx(flatten)]
@@ -18,7 +18,7 @@ pub struct Customer {
 }
 
 /// A customer row in a list, with how many cars they have.
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct CustomerSummary {
     pub id: i64,
     pub name: String,

@@ -7,7 +7,7 @@ use super::{Checked, FieldErrors, FormData};
 use clutch::quantity::{Bound, Kind, Limit, limits};
 use clutch::units::Units;
 
-#[derive(Debug, Clone, Default, Deserialize)]
+#[derive(Debug, Clone, Default, Deserialize, serde::Serialize, utoipa::ToSchema)]
 #[serde(default)]
 pub struct BenchInput {
     pub tested_on: String,
@@ -15,7 +15,7 @@ pub struct BenchInput {
     pub springs: Vec<SpringReading>,
 }
 
-#[derive(Debug, Clone, Default, Deserialize)]
+#[derive(Debug, Clone, Default, Deserialize, serde::Serialize, utoipa::ToSchema)]
 pub struct SpringReading {
     /// The spring's place in the set (1-based); the list order when not given.
     #[serde(skip)]

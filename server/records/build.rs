@@ -7,7 +7,7 @@ use super::field::{Ctx, Field, Record, Value};
 use clutch::capacity::friction::FacingMaterial;
 use clutch::quantity::limits;
 
-#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema)]
 #[serde(default)]
 pub struct BuildInput {
     pub label: String,

@@ -5,7 +5,9 @@ use serde::{Deserialize, Serialize};
 use super::field::{Field, Record, Value};
 use clutch::quantity::limits;
 
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(
+    Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema,
+)]
 #[serde(default)]
 pub struct CarInput {
     pub description: String,

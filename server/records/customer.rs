@@ -5,7 +5,9 @@ use serde::{Deserialize, Serialize};
 use super::FieldErrors;
 use super::field::{Ctx, Field, Record, Value};
 
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(
+    Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema,
+)]
 #[serde(default)]
 pub struct CustomerInput {
     pub name: String,

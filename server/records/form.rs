@@ -30,6 +30,11 @@ impl FormData {
         }
     }
 
+    /// Every pair, in the order sent (for inputs whose names carry a key, `dup_7`).
+    pub fn pairs(&self) -> &[(String, String)] {
+        &self.pairs
+    }
+
     pub fn is_checked(&self, name: &str) -> bool {
         matches!(self.get(name), "on" | "true" | "1" | "yes")
     }

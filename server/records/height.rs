@@ -6,7 +6,7 @@ use super::field::{self, Ctx, Field, Record, Value};
 use super::{Checked, FieldErrors};
 use clutch::quantity::{Bound, Kind, Limit, limits};
 
-#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema)]
 #[serde(default)]
 pub struct HeightInput {
     pub measured_on: String,

@@ -6,7 +6,9 @@ use super::FieldErrors;
 use super::field::{Ctx, Field, Record, Value};
 use clutch::quantity::limits;
 
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(
+    Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema,
+)]
 #[serde(default)]
 pub struct PassInput {
     pub run_on: String,

@@ -6,7 +6,7 @@ use super::FieldErrors;
 use super::field::{Ctx, Field, Record, Value};
 use clutch::quantity::{Kind, limits};
 
-#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow)]
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema)]
 #[serde(default)]
 pub struct SetupInput {
     pub changed_on: String,

@@ -12,7 +12,7 @@ use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 
 /// A clutch build as stored: its record with its id, its car and its stamps.
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct Build {
     pub id: i64,
     pub car_id: i64,
@@ -43,7 +43,7 @@ pub struct ActiveBuild {
 }
 
 /// A car as stored: its record with its id and its customer.
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct Car {
     pub id: i64,
     pub customer_id: i64,
@@ -55,7 +55,7 @@ pub struct Car {
 }
 
 /// A setup change as stored (turns, counterweight, friction from a date on).
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct Setup {
     pub id: i64,
     pub build_id: i64,
@@ -68,7 +68,7 @@ pub struct Setup {
 }
 
 /// A spring bench test as stored, with its readings by spring position.
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct BenchTest {
     pub id: i64,
     pub build_id: i64,
@@ -80,7 +80,7 @@ pub struct BenchTest {
 }
 
 /// One spring's reading in a bench test (storage units: mm, N).
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct BenchSpring {
     #[serde(skip)]
     pub bench_test_id: i64,
@@ -91,7 +91,7 @@ pub struct BenchSpring {
 }
 
 /// A cover-height measurement as stored.
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct Height {
     pub id: i64,
     pub build_id: i64,
@@ -110,7 +110,7 @@ impl AsRef<HeightInput> for Height {
 }
 
 /// A track pass as stored.
-#[derive(Debug, Clone, Serialize, FromRow)]
+#[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
 pub struct Pass {
     pub id: i64,
     pub build_id: i64,

@@ -4,6 +4,10 @@
 pub mod calc;
 /// The data-log analysis of a posted file or a pass's stored log.
 pub mod datalogs;
+/// The spreadsheet import.
+pub mod import;
+/// The API described (OpenAPI 3.1), from the types that serve it.
+pub mod openapi;
 /// List, get, create and update of the shop's records.
 pub mod records;
 
@@ -112,6 +116,13 @@ pub fn routes() -> Routes {
         )
         .route(Token, "/passes/{id}/analysis", get(datalogs::api_analysis))
         .route(Token, "/calc/launch", post(calc::launch))
+        // The description of every other route here (it does not describe itself).
+        .route(Token, "/openapi.json", get(openapi::document))
+        .route(
+            Token,
+            "/import/spreadsheet",
+            post(import::spreadsheet).body_limit(import::IMPORT_BODY_LIMIT_BYTES),
+        )
 }
 
 /// Any other path under the API: a JSON 404.

@@ -469,6 +469,16 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
             ("hold_ms", "100"),
             ("inertia", "4.7"),
         ]),
+        // The spreadsheet upload is multipart: a form body is refused as not from the form.
+        "/import" => Vec::new(),
+        // No file waits under this token: the upload page says so.
+        "/import/map" => pairs(&[
+            ("upload", "im-none"),
+            ("map_0", "customer_name"),
+            ("map_1", "car_description"),
+            ("date_order", "ymd"),
+            ("action", "check"),
+        ]),
         other => panic!("no base form for {other}"),
     }
 }
@@ -592,6 +602,10 @@ fn base_json(template: &str, n: u64, rng: &mut Rng) -> Value {
         "/passes/{id}/log" => json!({"csv": log_csv(), "file_name": "run.csv",
             "columns": {"time": "t", "engine_rpm": "engine", "input_rpm": "input"},
             "engine_inertia_kgm2": 0.2}),
+        "/import/spreadsheet" => json!({"file_name": "fuzz.csv",
+            "csv": format!("Name,Car,Built\nTest Customer {n},two-door,2026-11-02\n"),
+            "columns": {"customer_name": "Name", "car_description": "Car"},
+            "units": {}, "date_order": "ymd", "duplicates": "skip", "dry_run": rng.chance(50)}),
         other => panic!("no base JSON for {other}"),
     }
 }

@@ -12,6 +12,7 @@ use serde::{Deserialize, Serialize};
 
 /// A clutch facing material.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum FacingMaterial {
     /// Woven organic facing.
@@ -26,6 +27,7 @@ pub enum FacingMaterial {
 
 /// How μ behaves as the facing heats.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum HeatTrend {
     /// Roughly steady, then falls badly past the material's temperature limit
@@ -38,6 +40,7 @@ pub enum HeatTrend {
 
 /// Friction and temperature data of one facing material.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct FacingData {
     /// Default μ for capacity estimates (low, conservative end of the cited values).
     pub mu_nominal: f64,

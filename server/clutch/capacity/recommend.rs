@@ -24,6 +24,7 @@ pub const MAX_SEARCH_SETTINGS: usize = 250_000;
 
 /// POST /api/v1/calc/recommend body: a capacity request plus targets, steps and limits.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct RecommendRequest {
     /// The clutch as in a capacity request (its counterweight, and with a launch-ratio target
     /// its adjuster turns, are what the search replaces).
@@ -41,6 +42,7 @@ pub struct RecommendRequest {
 
 /// Targets of the search.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct Targets {
     /// Wanted lockup speed, rev/min, inside the torque curve.
     pub lockup_rpm: f64,
@@ -51,6 +53,7 @@ pub struct Targets {
 
 /// Grid steps.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct Steps {
     /// Adjuster step, turns (default 0.25).
     #[serde(default = "default_turn_step")]
@@ -62,6 +65,7 @@ pub struct Steps {
 
 /// Upper limits of the search.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct Limits {
     /// Most adjuster turns (default 6).
     #[serde(default = "default_max_turns")]
@@ -104,6 +108,7 @@ impl Default for Limits {
 
 /// Answer to POST /api/v1/calc/recommend.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct Recommendation {
     /// The chosen setting.
     pub recommended: Setting,
@@ -122,6 +127,7 @@ pub struct Recommendation {
 
 /// Adjuster turns and counterweight.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct Setting {
     /// Adjuster turns.
     pub adjuster_turns: f64,
@@ -131,6 +137,7 @@ pub struct Setting {
 
 /// Outcome of the chosen setting, as [`capacity`] reports it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct SettingResult {
     /// Lockup speed, rev/min (null: slips at the top).
     pub lockup_rpm: Option<f64>,
@@ -145,6 +152,7 @@ pub struct SettingResult {
 
 /// Another setting and its outcome.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct Alternative {
     /// Adjuster turns.
     pub adjuster_turns: f64,

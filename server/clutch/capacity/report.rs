@@ -13,6 +13,7 @@ pub const REPORT_STEP_RPM: f64 = 100.0;
 
 /// Answer to POST /api/v1/calc/capacity.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct CapacityReport {
     /// Static spring clamp (lbf / N), after the clamp lost to wear.
     pub static_clamp: f64,
@@ -54,6 +55,7 @@ pub struct CapacityReport {
 
 /// One row of the capacity curve, in display units.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct CurvePoint {
     /// Engine speed, rev/min.
     pub rpm: f64,
@@ -69,6 +71,7 @@ pub struct CurvePoint {
 
 /// Capacity against engine torque at one speed, in display units.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct SpeedCheck {
     /// Engine speed, rev/min.
     pub rpm: f64,

@@ -22,6 +22,7 @@ pub const DEFAULT_OVERCLAMP_FACTOR: f64 = 1.5;
 
 /// POST /api/v1/calc/capacity body.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct CapacityRequest {
     /// Unit system of every length, force, rate and torque in the request and the answer.
     pub units: Units,
@@ -49,6 +50,7 @@ pub struct CapacityRequest {
 
 /// Disc geometry.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct DiscInput {
     /// Facing outer diameter (in / mm).
     pub outer_diameter: f64,
@@ -72,6 +74,7 @@ fn one() -> u32 {
 
 /// Friction: give `mu`, or a facing `material` to use its nominal μ.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct FrictionInput {
     /// Friction coefficient, 0.05–0.8.
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -83,6 +86,7 @@ pub struct FrictionInput {
 
 /// Springs and adjusters.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct SpringsInput {
     /// Number of springs, 1–24.
     pub count: u32,
@@ -127,6 +131,7 @@ fn is_zero(v: &f64) -> bool {
 
 /// Levers: geometry (`cg_radius` + `arm_ratio`) or a calibrated `gain`.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LeversInput {
     /// Number of levers, 0–24.
     pub count: u32,
@@ -162,6 +167,7 @@ pub struct LeversInput {
 
 /// Engine data.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct EngineInput {
     /// Dyno points `[rpm, torque]` (torque in lbf·ft / N·m), at least 3.
     pub torque_curve: Vec<[f64; 2]>,
@@ -169,6 +175,7 @@ pub struct EngineInput {
 
 /// Driveline data for the over-clamp check.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct DrivelineInput {
     /// Rated input torque of the transmission / driveline (lbf·ft / N·m).
     pub rated_torque: f64,

@@ -8,6 +8,7 @@ use serde::{Deserialize, Serialize};
 
 /// An adjuster thread, as the shop names it.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum Thread {
     /// Inch thread given as threads per inch (ASME B1.1 unified threads), e.g. 16 for 3/8-16.

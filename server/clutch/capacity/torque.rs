@@ -9,6 +9,7 @@ use serde::{Deserialize, Serialize};
 
 /// Pressure-distribution assumption for the effective friction radius.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum Theory {
     /// p·r constant (worn-in facing): r_eff = (ro + ri)/2. Default.

@@ -15,6 +15,7 @@ use serde::{Deserialize, Serialize};
 
 /// How the file's time column is written.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(rename_all = "lowercase")]
 pub enum TimeUnit {
     /// Milliseconds when the median step is 0.5 or more, else seconds.
@@ -47,6 +48,7 @@ impl TimeUnit {
 /// always; exactly one of `input_rpm`, `driveshaft_rpm` (with the first gear ratio) or
 /// `driven_wheel_speed` (with both ratios and the tyre diameter).
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(default)]
 pub struct LogColumns {
     pub time: String,
@@ -87,6 +89,7 @@ impl LogColumns {
 
 /// The engine, for the clutch torque.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LogEngine {
     /// Dyno points `[rpm, torque]` (lbf·ft / N·m), at least 2.
     pub torque_curve: Vec<[f64; 2]>,
@@ -105,6 +108,7 @@ fn default_hold_ms() -> f64 {
 /// How a shop reads its logger's files: remembered per car and stored with each pass's file
 /// (storage units).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LogSettings {
     #[serde(default)]
     pub columns: LogColumns,
@@ -172,6 +176,7 @@ impl LogSettings {
 
 /// POST /api/v1/calc/log-analysis body.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LogAnalysisRequest {
     pub units: Units,
     /// The file's text.
@@ -199,6 +204,7 @@ pub struct LogAnalysisRequest {
 
 /// One sample of the answer's trace.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct TracePoint {
     pub time_s: f64,
     pub engine_rpm: f64,
@@ -212,6 +218,7 @@ pub struct TracePoint {
 /// Answer to POST /api/v1/calc/log-analysis. Its size is bounded whatever the file: the trace
 /// holds at most [`TRACE_MAX_POINTS`] of the samples (see [`crate::datalog::thin`]).
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LogAnalysisReport {
     /// Samples analysed (on the one clock).
     pub samples: usize,

@@ -43,6 +43,7 @@ pub fn default_plate_share(material: Option<FacingMaterial>) -> f64 {
 
 /// The request.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LaunchRequest {
     pub units: Units,
     pub disc: DiscInput,
@@ -75,6 +76,7 @@ fn default_duration_s() -> f64 {
 
 /// Friction as for the capacity calculation, plus the static multiple and μ(θ).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LaunchFriction {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub mu: Option<f64>,
@@ -90,6 +92,7 @@ pub struct LaunchFriction {
 
 /// Engine as for the capacity calculation, plus its inertia and friction.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LaunchEngine {
     /// Dyno points `[rpm, torque]`.
     pub torque_curve: Vec<[f64; 2]>,
@@ -102,6 +105,7 @@ pub struct LaunchEngine {
 
 /// Driveline from clutch to road.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LaunchDriveline {
     pub first_gear_ratio: f64,
     pub final_drive_ratio: f64,
@@ -116,6 +120,7 @@ pub struct LaunchDriveline {
 
 /// The car (rear drive).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LaunchVehicle {
     /// lb / kg.
     pub mass: f64,
@@ -138,6 +143,7 @@ pub struct LaunchVehicle {
 
 /// Plate masses and heat.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct ThermalInput {
     /// lb / kg.
     pub pressure_plate_mass: f64,
@@ -410,6 +416,7 @@ impl ThermalInput {
 
 /// The answer.
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LaunchReport {
     /// The first lock; null when it does not lock within the run.
     pub lockup: Option<LockupReport>,
@@ -428,6 +435,7 @@ pub struct LaunchReport {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct LockupReport {
     pub time_s: f64,
     pub engine_rpm: f64,
@@ -436,6 +444,7 @@ pub struct LockupReport {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct SpinInterval {
     pub start_s: f64,
     pub end_s: Option<f64>,
@@ -443,18 +452,21 @@ pub struct SpinInterval {
 
 /// Bulk rises (°F / K).
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct ThermalReport {
     pub pressure_plate_rise: f64,
     pub flywheel_rise: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct EventReport {
     pub time_s: f64,
     pub what: String,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct TraceRow {
     pub time_s: f64,
     pub engine_rpm: f64,

@@ -112,7 +112,7 @@ pub async fn wear(_: ApiUser, ApiJson(req): ApiJson<WearRequest>) -> ApiResult<W
 
 /// A stored build's wear (storage units: mm, N), with the forecast by slip energy beside the
 /// one per pass.
-#[derive(Debug, serde::Serialize)]
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
 pub struct BuildWear {
     #[serde(flatten)]
     pub report: WearReport,
@@ -156,7 +156,7 @@ pub async fn build_wear(
 }
 
 /// The friction in force on a stored build, as the API answers it.
-#[derive(Debug, serde::Serialize)]
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
 pub struct FrictionAnswer {
     /// The μ the figures use.
     pub mu: f64,
@@ -176,7 +176,7 @@ pub struct FrictionAnswer {
 
 /// The capacity of a stored build's setting in force (storage units, metric), with the
 /// friction it used (`model::as_of::Friction`: the calibrated μ when steady).
-#[derive(Debug, serde::Serialize)]
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
 pub struct BuildCapacity {
     pub friction: FrictionAnswer,
     pub report: CapacityReport,
@@ -215,7 +215,7 @@ pub async fn build_capacity(
 
 /// A stored build's work-due status, as the counter, the search, the build page and the sheet
 /// say it (`model::due::WorkStatus`).
-#[derive(Debug, serde::Serialize)]
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
 pub struct StatusAnswer {
     /// "disc_due", "shim_due", "springs", "shim_soon", "disc_soon", "ok" or "no_data".
     pub status: &'static str,

@@ -176,7 +176,7 @@ pub async fn save(
 
 /// POST /api/v1/passes/{id}/log body: the file and how to read it (storage units). Without
 /// `columns`, the mapping remembered for the car is used.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, utoipa::ToSchema)]
 pub struct PassLogBody {
     pub csv: String,
     #[serde(default)]

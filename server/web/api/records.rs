@@ -140,12 +140,22 @@ impl ListQuery {
     }
 }
 
+/// A page of the customer list (`GET /customers?q=...&page=...`).
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
+pub struct CustomerList {
+    pub customers: Vec<db::customers::CustomerSummary>,
+    /// Customers matching, over all pages.
+    pub total: i64,
+    /// This page (0 is the first).
+    pub page: i64,
+}
+
 /// GET `/customers`: a page of the customer list (`?q=` searches it).
 pub async fn customers_list(
     State(s): State<AppState>,
     _: ApiUser,
     Query(q): Query<ListQuery>,
-) -> ApiResult<serde_json::Value> {
+) -> ApiResult<CustomerList> {
     let (rows, total) = db::search::list(
         &mut *conn(&s).await?,
         &q.q,
@@ -153,9 +163,11 @@ pub async fn customers_list(
         db::customers::Order::Best,
     )
     .await?;
-    Ok(Json(
-        serde_json::json!({ "customers": rows, "total": total, "page": q.page() }),
-    ))
+    Ok(Json(CustomerList {
+        customers: rows,
+        total,
+        page: q.page(),
+    }))
 }
 
 /// POST `/customers`: a customer hangs on nothing, so it is made here rather than by [`create`].
