@@ -36,6 +36,7 @@ pub const MAX_PASSES: usize = 100;
 
 /// POST /api/v1/calc/calibrate with `"method": "launch"`: the body of `/calc/launch` without
 /// `friction.mu`, and the passes.
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LaunchCalibrateRequest {
     pub units: crate::units::Units,
@@ -82,6 +83,7 @@ fn default_duration_s() -> f64 {
 
 /// One pass: what was seen (at least one of the lock time and the lockup speed) and the
 /// setting it ran with.
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct LaunchPass {
     /// Seconds from the launch to the lock; wins over `lockup_rpm`.
@@ -105,6 +107,7 @@ pub struct LaunchPass {
 }
 
 /// The answer.
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LaunchCalibration {
     /// Always `"launch"`.
@@ -122,6 +125,7 @@ pub struct LaunchCalibration {
 }
 
 /// One pass in the answer.
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LaunchPassResult {
     /// The friction coefficient that reproduces this pass.

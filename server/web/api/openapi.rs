@@ -14,7 +14,7 @@ use utoipa::openapi::path::{
     HttpMethod, OperationBuilder, ParameterBuilder, ParameterIn, PathItem, PathsBuilder,
 };
 use utoipa::openapi::request_body::RequestBodyBuilder;
-use utoipa::openapi::schema::{ArrayBuilder, ComponentsBuilder, ObjectBuilder, Type};
+use utoipa::openapi::schema::{ArrayBuilder, ComponentsBuilder, ObjectBuilder, OneOfBuilder, Type};
 use utoipa::openapi::security::{HttpAuthScheme, HttpBuilder, SecurityRequirement, SecurityScheme};
 use utoipa::openapi::{
     ContentBuilder, InfoBuilder, OpenApiBuilder, Ref, RefOr, Required, ResponseBuilder, Schema,
@@ -48,6 +48,8 @@ enum Body {
     None,
     One(Cow<'static, str>),
     List(Cow<'static, str>),
+    /// One of several named types (a body that chooses its shape, as by `method`).
+    OneOf(Vec<Cow<'static, str>>),
 }
 
 /// The document being built: its paths and every schema the operations reach.
@@ -81,7 +83,27 @@ impl Doc {
                     .build()
                     .into(),
             ),
+            Body::OneOf(names) => {
+                let mut one_of = OneOfBuilder::new();
+                for n in names {
+                    one_of = one_of.item(Ref::from_schema_name(n.as_ref()));
+                }
+                Some(RefOr::T(Schema::OneOf(one_of.build())))
+            }
         }
+    }
+
+    /// Registers each of `bodies`' types and describes them as one of them.
+    fn one_of(bodies: &[Body]) -> Body {
+        Body::OneOf(
+            bodies
+                .iter()
+                .filter_map(|b| match b {
+                    Body::One(n) => Some(n.clone()),
+                    _ => None,
+                })
+                .collect(),
+        )
     }
 
     /// One operation: `path` as the route table writes it, with its request and answer.
@@ -487,7 +509,14 @@ pub fn document_json() -> JsonValue {
         "200",
         rep,
     );
-    let req = d.one::<clutch::calibration::CalibrateRequest>();
+    let req = Doc::one_of(&[
+        d.one::<clutch::calibration::CalibrateRequest>(),
+        d.one::<clutch::calibration::launch::LaunchCalibrateRequest>(),
+    ]);
+    let calibration = Doc::one_of(&[
+        calibration,
+        d.one::<clutch::calibration::launch::LaunchCalibration>(),
+    ]);
     d.op(
         Post,
         "/calc/calibrate",
