@@ -56,6 +56,9 @@ pub struct AppState {
     pub heavy: Arc<http::heavy::Heavy>,
     /// The last analysis of each stored log, thinned for its page (`pages::passes::Views`).
     pub log_views: Arc<pages::passes::Views>,
+    /// The writers' queue: one write transaction at a time, in the order they asked (see
+    /// [`AppState::write`]).
+    writers: Arc<tokio::sync::Mutex<()>>,
 }
 
 impl AppState {
@@ -90,6 +93,7 @@ impl AppState {
             backups,
             heavy: Arc::default(),
             log_views: Arc::default(),
+            writers: Arc::default(),
         }
     }
 
@@ -109,11 +113,19 @@ impl AppState {
 
     /// Opens the request's write transaction on behalf of a staff member (see
     /// `db::audit::begin_as`): every change in it is audited under their name.
+    ///
+    /// SQLite lets one transaction write at a time. Writers wait here in a queue served first
+    /// come, first served (Tokio's mutex is fair), before they take a pooled connection, so the
+    /// lock is handed on in order instead of by SQLite's busy handler (which sleeps and retries,
+    /// so an unlucky writer could wait up to its 10 s timeout while later ones went first), and
+    /// waiting writers leave the pool's connections to the readers.
     pub async fn write(&self, user: &http::extract::CurrentUser) -> Result<Write, sqlx::Error> {
+        let turn = Arc::clone(&self.writers).lock_owned().await;
         let tx = crate::db::audit::begin_as(&self.pool, Some(user.id), &user.username).await?;
         Ok(Write {
             tx,
             cache: Arc::clone(&self.cache),
+            _turn: turn,
         })
     }
 }
@@ -125,6 +137,9 @@ impl AppState {
 pub struct Write {
     tx: sqlx::Transaction<'static, sqlx::Sqlite>,
     cache: Arc<http::cache::Cache>,
+    /// This writer's turn in the queue, handed on when the transaction ends (committed or
+    /// dropped: the field is dropped after `tx`, whose drop rolls back).
+    _turn: tokio::sync::OwnedMutexGuard<()>,
 }
 
 impl Write {

@@ -31,3 +31,4 @@ mod units;
 mod untouched;
 mod wear;
 mod workflow;
+mod writes;
