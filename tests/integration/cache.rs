@@ -110,3 +110,48 @@ async fn signing_out_or_being_disabled_ends_a_session_at_once() {
     assert_eq!(off.status, StatusCode::SEE_OTHER, "{}", off.body);
     assert_eq!(sam.get("/").await.status, StatusCode::SEE_OTHER, "disabled");
 }
+
+/// The watcher that sees commits from outside the server outlives a failed connection: started
+/// on a file that is not there yet (as after a restore moved it away), it keeps trying, and once
+/// the file is back it sees an outside commit. Before, it stopped at its first error and pages
+/// could be reused after such commits for as long as nothing was saved through the server.
+#[tokio::test]
+async fn the_watcher_connects_again_after_an_error() {
+    use std::str::FromStr;
+    use std::sync::Arc;
+
+    use lockpoint::web::http::cache::{Cache, watch_file};
+    use sqlx::sqlite::SqliteConnectOptions;
+
+    let tmp = crate::support::TempDb::new();
+    let cache = Arc::new(Cache::default());
+    let options = SqliteConnectOptions::from_str("sqlite:")
+        .unwrap()
+        .filename(&tmp.path);
+    watch_file(Arc::downgrade(&cache), options);
+    tokio::time::sleep(Duration::from_millis(300)).await;
+    assert!(!tmp.path.exists(), "the watcher never creates the file");
+
+    let pool = lockpoint::db::open(&tmp.path).await.unwrap();
+    // Let the watcher connect and take its first reading.
+    tokio::time::sleep(Duration::from_millis(500)).await;
+    let before = cache.generation();
+    tokio::time::sleep(Duration::from_millis(300)).await;
+    assert_eq!(
+        cache.generation(),
+        before,
+        "connected, nothing changes by itself"
+    );
+    sqlx::query("INSERT INTO customers (name) VALUES ('Outside Commit')")
+        .execute(&pool)
+        .await
+        .unwrap();
+    let deadline = Instant::now() + Duration::from_secs(10);
+    while cache.generation() == before {
+        assert!(
+            Instant::now() < deadline,
+            "the outside commit was never seen"
+        );
+        tokio::time::sleep(Duration::from_millis(20)).await;
+    }
+}

@@ -22,6 +22,7 @@ use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::{Arc, Mutex, Weak};
 use std::time::{Duration, Instant};
 
+use sqlx::sqlite::{SqliteConnectOptions, SqliteConnection};
 use sqlx::{ConnectOptions, SqlitePool};
 
 use crate::auth;
@@ -261,33 +262,65 @@ impl Cache {
 /// [`AppState::write`](crate::web::AppState::write)) and moves the generation on. Stops when the
 /// cache is dropped.
 pub fn watch(cache: Weak<Cache>, pool: &SqlitePool) {
-    let options = pool.connect_options().as_ref().clone();
+    watch_file(cache, pool.connect_options().as_ref().clone());
+}
+
+/// The watch of [`watch`] on the database `options` name. It never creates the file. When its
+/// connection fails (the file moved away by a restore, a full disk, a locked file), it says so
+/// once in the log, counts every interval as a change while it cannot look (so no page is
+/// reused longer than it would be while watching), and connects again; it ends only with the
+/// cache.
+pub fn watch_file(cache: Weak<Cache>, options: SqliteConnectOptions) {
+    let options = options.create_if_missing(false);
     tokio::spawn(async move {
-        let Ok(mut conn) = options.connect().await else {
-            return;
-        };
+        let mut conn = None;
         // The first reading counts as a change too: whatever was cached before the watch
         // began is not trusted.
         let mut seen: Option<i64> = None;
+        let mut failing = false;
         loop {
             let Some(cache) = cache.upgrade() else {
                 return;
             };
-            let Ok(version) = sqlx::query_scalar::<_, i64>("PRAGMA data_version")
-                .fetch_one(&mut conn)
-                .await
-            else {
-                // The database went away (a test ending); nothing left to watch.
-                return;
-            };
-            if seen != Some(version) {
-                cache.changed();
-                seen = Some(version);
+            match data_version(&options, &mut conn).await {
+                Ok(version) => {
+                    if failing {
+                        tracing::info!("the page cache's watcher is connected again");
+                        failing = false;
+                    }
+                    if seen != Some(version) {
+                        cache.changed();
+                        seen = Some(version);
+                    }
+                }
+                Err(e) => {
+                    if !failing {
+                        tracing::warn!(error = %e, "the page cache's watcher cannot read the database; each page is reused for one interval at most until it can");
+                        failing = true;
+                    }
+                    conn = None;
+                    seen = None;
+                    cache.changed();
+                }
             }
             drop(cache);
             tokio::time::sleep(WATCH_INTERVAL).await;
         }
     });
+}
+
+/// `PRAGMA data_version` on the watcher's own connection, connecting first when it has none.
+async fn data_version(
+    options: &SqliteConnectOptions,
+    conn: &mut Option<SqliteConnection>,
+) -> sqlx::Result<i64> {
+    let conn = match conn {
+        Some(conn) => conn,
+        None => conn.insert(options.connect().await?),
+    };
+    sqlx::query_scalar::<_, i64>("PRAGMA data_version")
+        .fetch_one(conn)
+        .await
 }
 
 fn lock<T>(m: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
