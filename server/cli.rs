@@ -216,8 +216,11 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);
-    let state = AppState::with_backups(pool.clone(), args.backup_fixed())
+    let mut state = AppState::with_backups(pool.clone(), args.backup_fixed())
         .with_public_url(args.public_url.clone());
+    if args.no_page_cache {
+        state = state.without_page_cache();
+    }
     crate::web::http::serve::run(
         listener,
         app(state),

@@ -122,6 +122,10 @@ pub struct ServeArgs {
     /// How many scheduled copies to keep in the folder (default 14, or what Settings says).
     #[arg(long, env = "LOCKPOINT_BACKUP_KEEP", value_name = "N", value_parser = plan::parse_keep)]
     pub backup_keep: Option<u32>,
+    /// Render every page afresh instead of reusing one rendered since the last commit (for
+    /// measuring the uncached pages; sessions are still remembered).
+    #[arg(long)]
+    pub no_page_cache: bool,
 }
 
 impl ServeArgs {

@@ -104,6 +104,14 @@ impl AppState {
         self
     }
 
+    /// The same, rendering every page afresh (`serve --no-page-cache`, and the tests that
+    /// compare a cached page with a fresh one); sessions are still remembered.
+    #[must_use]
+    pub fn without_page_cache(self) -> Self {
+        self.cache.keep_no_pages();
+        self
+    }
+
     /// Whether the session cookie is `Secure`: the server is reached over https.
     pub fn secure_cookies(&self) -> bool {
         self.public_url

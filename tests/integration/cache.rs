@@ -155,3 +155,89 @@ async fn the_watcher_connects_again_after_an_error() {
         tokio::time::sleep(Duration::from_millis(20)).await;
     }
 }
+
+/// Every page the cache keeps, seen by two people of the same role: the page the second one
+/// gets from the cache is byte for byte the page rendered afresh for them (a server with the
+/// page cache off, on the same database), and the same as the first one's once each one's name
+/// and token are set aside.
+#[tokio::test]
+async fn every_cached_page_is_the_fresh_page_of_each_viewer() {
+    use lockpoint::records::user::{NewUser, Role};
+
+    let app = TestApp::new().await;
+    let hash = lockpoint::auth::hash_password(crate::support::PASSWORD.into())
+        .await
+        .unwrap();
+    let mut conn = app.pool.acquire().await.unwrap();
+    for (name, role) in [("chief", Role::Admin), ("kit", Role::Tech)] {
+        let user = NewUser::parse(name, crate::support::PASSWORD, role).unwrap();
+        lockpoint::db::users::insert(&mut conn, &user, &hash)
+            .await
+            .unwrap();
+    }
+    drop(conn);
+    let fresh = lockpoint::app(lockpoint::AppState::new(app.pool.clone()).without_page_cache());
+    let (boss, chief) = (app.login("boss").await, app.login("chief").await);
+    let (sam, kit) = (app.login("sam").await, app.login("kit").await);
+    let build = boss.record_build().await;
+    let logged = boss
+        .post(
+            &format!("{build}/passes"),
+            &[
+                ("run_on", "2026-11-20"),
+                ("launch_rpm", "4500"),
+                ("lockup_rpm", "5200"),
+            ],
+        )
+        .await;
+    assert_eq!(logged.status, StatusCode::SEE_OTHER, "{}", logged.body);
+    let pass: i64 = sqlx::query_scalar("SELECT max(id) FROM passes")
+        .fetch_one(&app.pool)
+        .await
+        .unwrap();
+    let pages = [
+        "/".to_string(),
+        "/?q=Lindqvist".into(),
+        "/customers".into(),
+        "/customers?q=555".into(),
+        build.clone(),
+        format!("{build}/tune"),
+        format!("{build}/tune?try=1&turns=3&counterweight_g=10"),
+        format!("/passes/{pass}"),
+    ];
+    for path in &pages {
+        for (first, a, second, b) in [(&boss, "boss", &chief, "chief"), (&sam, "sam", &kit, "kit")]
+        {
+            let seen_first = first.get(path).await;
+            let cached = second.get(path).await;
+            assert_eq!(cached.status, StatusCode::OK, "{path}: {}", cached.body);
+            let afresh = {
+                let req = axum::http::Request::get(path.as_str())
+                    .header(axum::http::header::COOKIE, &second.cookie)
+                    .body(axum::body::Body::empty())
+                    .unwrap();
+                let res = tower::ServiceExt::oneshot(fresh.clone(), req)
+                    .await
+                    .unwrap();
+                let bytes = http_body_util::BodyExt::collect(res.into_body())
+                    .await
+                    .unwrap()
+                    .to_bytes();
+                String::from_utf8(bytes.to_vec()).unwrap()
+            };
+            assert_eq!(
+                cached.body, afresh,
+                "{path}: the cached page is the fresh one"
+            );
+            let as_anyone = |html: &str, who: &crate::support::Client<'_>, name: &str| {
+                html.replace(&who.csrf, "CSRF")
+                    .replace(&format!("<span class=\"who\">{name}</span>"), "WHO")
+            };
+            assert_eq!(
+                as_anyone(&seen_first.body, first, a),
+                as_anyone(&cached.body, second, b),
+                "{path}: nothing of one viewer shows to another"
+            );
+        }
+    }
+}

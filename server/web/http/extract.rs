@@ -38,7 +38,40 @@ impl From<SessionUser> for CurrentUser {
     }
 }
 
+/// Who a page is shown to, as the page may know them: a name to greet, a role, and the token its
+/// forms carry, nothing else. The pages the cache keeps (`web::http::cache`) are rendered for a
+/// stand-in viewer whose name and token are holes, so what they may show is this type's
+/// fields: a render that reached for the user's id or anything else of theirs would not
+/// compile.
+#[derive(Debug, Clone)]
+pub struct Viewer {
+    pub username: String,
+    pub is_admin: bool,
+    pub csrf: String,
+}
+
+impl From<&CurrentUser> for Viewer {
+    fn from(user: &CurrentUser) -> Self {
+        Self {
+            username: user.username.clone(),
+            is_admin: user.is_admin(),
+            csrf: user.csrf.clone(),
+        }
+    }
+}
+
+impl From<&Viewer> for Viewer {
+    fn from(viewer: &Viewer) -> Self {
+        viewer.clone()
+    }
+}
+
 impl CurrentUser {
+    /// This user as a page may show them (see [`Viewer`]).
+    pub fn viewer(&self) -> Viewer {
+        Viewer::from(self)
+    }
+
     pub fn is_admin(&self) -> bool {
         self.role == Role::Admin
     }

@@ -15,7 +15,7 @@ use crate::records::date::ShopZone;
 use crate::status;
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
-use crate::web::http::extract::CurrentUser;
+use crate::web::http::extract::{CurrentUser, Viewer};
 use crate::web::pages::admin::backup::{CounterNotice, counter_notice};
 use crate::web::pages::customers::customer::ListQuery;
 use crate::web::pages::layout::Layout;
@@ -122,7 +122,7 @@ pub async fn front(
     let backups = &state.backups;
     // The backup notice is part of the page kept for the role: every change to what it says
     // moves the cache's generation on (see `AppState::with_backups`).
-    let render = |stand_in: CurrentUser| async move {
+    let render = |stand_in: Viewer| async move {
         let mut conn = pool.acquire().await?;
         render_front(&mut conn, &stand_in, q, backups).await
     };
@@ -132,7 +132,7 @@ pub async fn front(
 /// The counter for the search `q`, and the shop's zone it was rendered in.
 async fn render_front(
     conn: &mut SqliteConnection,
-    user: &CurrentUser,
+    user: &Viewer,
     q: ListQuery,
     backups: &Backups,
 ) -> AppResult<(String, ShopZone)> {

@@ -8,7 +8,7 @@ use crate::error::AppResult;
 use crate::records::Ctx;
 use crate::records::date::ShopZone;
 use crate::records::settings::SettingsInput;
-use crate::web::http::extract::CurrentUser;
+use crate::web::http::extract::Viewer;
 use crate::web::pages::show::Show;
 use clutch::units::Units;
 
@@ -31,16 +31,21 @@ impl Layout {
     /// Loads the shop settings and builds the frame for a signed-in page.
     pub async fn load(
         conn: &mut SqliteConnection,
-        user: &CurrentUser,
+        viewer: impl Into<Viewer>,
         section: &'static str,
         title: impl Into<String>,
     ) -> AppResult<(Self, SettingsInput)> {
         let settings = db::settings::get(conn).await?;
+        let Viewer {
+            username,
+            is_admin,
+            csrf,
+        } = viewer.into();
         let layout = Self {
             title: title.into(),
-            username: user.username.clone(),
-            is_admin: user.is_admin(),
-            csrf: user.csrf.clone(),
+            username,
+            is_admin,
+            csrf,
             shop_name: settings.name.clone(),
             section,
             u: Show::new(settings.units()),

@@ -21,7 +21,7 @@ use crate::records::stored::LogSummary;
 use crate::web::AppState;
 use crate::web::api::datalogs::{PassCar, file_name, pass_car, save};
 use crate::web::http::cache::PageKey;
-use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
 use crate::web::http::heavy::Caller;
 use crate::web::pages::chart::Chart;
 use crate::web::pages::layout::Layout;
@@ -303,7 +303,7 @@ pub async fn show(
     let compare = q.compare.trim().parse::<i64>().ok().filter(|&c| c != id);
     let key = PageKey::Pass(id, compare);
     let (state_ref, caller) = (&state, &caller);
-    let render = |stand_in: CurrentUser| async move {
+    let render = |stand_in: Viewer| async move {
         render_with(state_ref, caller, &stand_in, id, None, compare).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?).into_response())
@@ -324,7 +324,7 @@ async fn render(
     upload_error: Option<String>,
     status: StatusCode,
 ) -> AppResult<Response> {
-    let (html, _) = render_with(state, caller, user, id, upload_error, None).await?;
+    let (html, _) = render_with(state, caller, &user.viewer(), id, upload_error, None).await?;
     Ok((status, Html(html)).into_response())
 }
 
@@ -404,7 +404,7 @@ fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult)) -> Chart {
 async fn render_with(
     state: &AppState,
     caller: &Caller,
-    user: &CurrentUser,
+    user: &Viewer,
     id: i64,
     upload_error: Option<String>,
     compare: Option<i64>,

@@ -298,7 +298,9 @@ pub async fn create(
             ..Default::default()
         };
         let mut conn = state.pool.acquire().await?;
-        let html = render_page(&mut conn, &user, build_id, forms).await?.0;
+        let html = render_page(&mut conn, &user.viewer(), build_id, forms)
+            .await?
+            .0;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
     let targets = lockup.map(|l| TuningTargets {

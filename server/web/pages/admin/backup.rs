@@ -19,7 +19,7 @@ use crate::progress::Progress;
 use crate::records::date::{Date, ShopZone};
 use crate::records::{FieldErrors, FormData};
 use crate::web::AppState;
-use crate::web::http::extract::{CurrentUser, SignedForm};
+use crate::web::http::extract::{CurrentUser, SignedForm, Viewer};
 use crate::web::http::flash::{self, Flash};
 use crate::web::pages::layout::Layout;
 
@@ -131,10 +131,10 @@ pub struct CounterNotice {
 /// not scheduled (a suggestion) or not working (a warning).
 pub fn counter_notice(
     backups: &Backups,
-    user: &CurrentUser,
+    viewer: &Viewer,
     zone: &ShopZone,
 ) -> Option<CounterNotice> {
-    if !user.is_admin() {
+    if !viewer.is_admin {
         return None;
     }
     let (alarm, every) = backups.alarm();

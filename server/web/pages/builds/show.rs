@@ -29,7 +29,7 @@ use crate::records::stored::{BenchSpring, BenchTest};
 use crate::records::{Ctx, FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
-use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
 use crate::web::http::flash::{self, Flash};
 use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
 use crate::web::pages::builds::wear::{self, WearFigures, WearView};
@@ -329,7 +329,7 @@ pub const RECENT_ROWS: usize = 20;
 /// Answers the page and the shop's zone it was rendered in.
 pub async fn render_page(
     conn: &mut SqliteConnection,
-    user: &CurrentUser,
+    user: &Viewer,
     id: i64,
     forms: EntryForms,
 ) -> AppResult<(String, ShopZone)> {
@@ -481,10 +481,10 @@ pub async fn show(
             flash: flash.note.clone(),
             ..EntryForms::default()
         };
-        render_page(&mut conn, &user, id, forms).await?.0
+        render_page(&mut conn, &user.viewer(), id, forms).await?.0
     } else {
         let pool = &state.pool;
-        let render = |stand_in: CurrentUser| async move {
+        let render = |stand_in: Viewer| async move {
             let mut conn = pool.acquire().await?;
             render_page(&mut conn, &stand_in, id, EntryForms::default()).await
         };

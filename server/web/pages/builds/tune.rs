@@ -19,7 +19,7 @@ use crate::records::stored::Dossier;
 use crate::records::{Ctx, FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
-use crate::web::http::extract::{CurrentUser, PathId};
+use crate::web::http::extract::{CurrentUser, PathId, Viewer};
 use crate::web::http::heavy::Caller;
 use crate::web::pages::builds::launch::LaunchColumn;
 use crate::web::pages::chart::Chart;
@@ -160,7 +160,7 @@ pub async fn tune(
 ) -> AppResult<Html<String>> {
     let key = PageKey::Tune(id, raw.unwrap_or_default());
     let (state_ref, caller) = (&state, &caller);
-    let render = |stand_in: CurrentUser| async move {
+    let render = |stand_in: Viewer| async move {
         let mut conn = state_ref.pool.acquire().await?;
         render_tune(state_ref, caller, &mut conn, &stand_in, id, query).await
     };
@@ -172,7 +172,7 @@ async fn render_tune(
     state: &AppState,
     caller: &Caller,
     conn: &mut SqliteConnection,
-    user: &CurrentUser,
+    user: &Viewer,
     id: i64,
     query: HashMap<String, String>,
 ) -> AppResult<(String, ShopZone)> {

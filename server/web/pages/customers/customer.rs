@@ -16,7 +16,7 @@ use crate::records::stored::Car;
 use crate::records::{FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
-use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
+use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
 use crate::web::http::flash::{self, Flash, saved_note};
 use crate::web::pages::layout::Layout;
 
@@ -79,7 +79,7 @@ pub async fn list(
 ) -> AppResult<Html<String>> {
     let key = PageKey::Customers(raw.unwrap_or_default());
     let pool = &state.pool;
-    let render = |stand_in: CurrentUser| async move {
+    let render = |stand_in: Viewer| async move {
         let mut conn = pool.acquire().await?;
         render_list(&mut conn, &stand_in, q).await
     };
@@ -89,7 +89,7 @@ pub async fn list(
 /// One page of the customer list or of a search, and the shop's zone it was rendered in.
 async fn render_list(
     conn: &mut SqliteConnection,
-    user: &CurrentUser,
+    user: &Viewer,
     q: ListQuery,
 ) -> AppResult<(String, ShopZone)> {
     let (page, _) = Layout::load(conn, user, "customers", "Customers").await?;
