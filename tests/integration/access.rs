@@ -121,14 +121,10 @@ async fn the_api_needs_a_valid_token() {
     let none = app.api("GET", "/api/v1/customers", None, None).await;
     assert_eq!(none.status, StatusCode::UNAUTHORIZED);
     assert!(none.json()["error"].as_str().unwrap().contains("token"));
-    let wrong = app
-        .api("GET", "/api/v1/customers", Some("lp_wrong"), None)
-        .await;
+    let wrong = app.get_json("/api/v1/customers", "lp_wrong").await;
     assert_eq!(wrong.status, StatusCode::UNAUTHORIZED);
     let token = app.token("sam").await;
-    let ok = app
-        .api("GET", "/api/v1/customers", Some(&token), None)
-        .await;
+    let ok = app.get_json("/api/v1/customers", &token).await;
     assert_eq!(ok.status, StatusCode::OK);
 }
 
@@ -141,9 +137,7 @@ async fn a_revoked_token_no_longer_works() {
         .await
         .unwrap();
     assert_eq!(n, 1);
-    let reply = app
-        .api("GET", "/api/v1/customers", Some(&token), None)
-        .await;
+    let reply = app.get_json("/api/v1/customers", &token).await;
     assert_eq!(reply.status, StatusCode::UNAUTHORIZED);
 }
 
@@ -234,9 +228,7 @@ async fn unknown_pages_and_ids_answer_not_found() {
         StatusCode::NOT_FOUND
     );
     let token = app.token("sam").await;
-    let api = app
-        .api("GET", "/api/v1/builds/999", Some(&token), None)
-        .await;
+    let api = app.get_json("/api/v1/builds/999", &token).await;
     assert_eq!(api.status, StatusCode::NOT_FOUND);
     assert_eq!(api.json()["error"], "not found");
 }

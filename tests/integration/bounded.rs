@@ -25,12 +25,7 @@ async fn a_long_log_answers_at_most_5000_trace_points_and_says_how_many_samples(
     let app = TestApp::new().await;
     let token = app.token("sam").await;
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/log-analysis",
-            Some(&token),
-            Some(calc_body(long_csv())),
-        )
+        .post_json("/api/v1/calc/log-analysis", &token, calc_body(long_csv()))
         .await;
     assert_eq!(
         r.status,
@@ -70,24 +65,14 @@ async fn a_token_past_its_two_calculations_gets_429_with_retry_after() {
     let _one = app.state.heavy.turn(&caller).unwrap();
     let _two = app.state.heavy.turn(&caller).unwrap();
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/log-analysis",
-            Some(&token),
-            Some(calc_body(long_csv())),
-        )
+        .post_json("/api/v1/calc/log-analysis", &token, calc_body(long_csv()))
         .await;
     assert_eq!(r.status, StatusCode::TOO_MANY_REQUESTS, "{}", r.body);
     assert_eq!(r.headers[header::RETRY_AFTER], "2");
     // Another token is not held up by this one.
     let other = app.token("boss").await;
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/log-analysis",
-            Some(&other),
-            Some(calc_body(long_csv())),
-        )
+        .post_json("/api/v1/calc/log-analysis", &other, calc_body(long_csv()))
         .await;
     assert_eq!(r.status, StatusCode::OK);
 }
@@ -99,12 +84,7 @@ async fn a_third_log_analysis_at_once_is_refused_shop_wide() {
     let _a = app.state.heavy.analysis().unwrap();
     let _b = app.state.heavy.analysis().unwrap();
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/log-analysis",
-            Some(&token),
-            Some(calc_body(long_csv())),
-        )
+        .post_json("/api/v1/calc/log-analysis", &token, calc_body(long_csv()))
         .await;
     assert_eq!(r.status, StatusCode::TOO_MANY_REQUESTS, "{}", r.body);
     assert!(r.headers.contains_key(header::RETRY_AFTER));
@@ -118,12 +98,7 @@ async fn stored_log(app: &TestApp, client: &crate::support::Client<'_>) -> (Stri
         "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
         "engine_inertia_kgm2": 0.2 });
     let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/passes/{pass}/log"),
-            Some(&token),
-            Some(body),
-        )
+        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     (pass, token)
@@ -186,12 +161,7 @@ async fn a_stored_log_that_cannot_be_read_is_said_so_not_500() {
         page.body
     );
     let r = app
-        .api(
-            "GET",
-            &format!("/api/v1/passes/{pass}/analysis"),
-            Some(&token),
-            None,
-        )
+        .get_json(&format!("/api/v1/passes/{pass}/analysis"), &token)
         .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
     assert!(r.body.contains("cannot be inflated"), "{}", r.body);
@@ -253,12 +223,7 @@ async fn a_token_flooding_the_launch_preview_is_turned_away_past_two_at_once() {
     let token = app.token("sam").await;
     let body = crate::launch::worked();
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/launch",
-            Some(&token),
-            Some(body.clone()),
-        )
+        .post_json("/api/v1/calc/launch", &token, body.clone())
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let caller = Caller(Some(format!(
@@ -270,19 +235,12 @@ async fn a_token_flooding_the_launch_preview_is_turned_away_past_two_at_once() {
         app.state.heavy.turn(&caller).unwrap(),
     ];
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/launch",
-            Some(&token),
-            Some(body.clone()),
-        )
+        .post_json("/api/v1/calc/launch", &token, body.clone())
         .await;
     assert_eq!(r.status, StatusCode::TOO_MANY_REQUESTS, "{}", r.body);
     assert_eq!(r.headers[header::RETRY_AFTER], "2");
     let other = app.token("boss").await;
-    let r = app
-        .api("POST", "/api/v1/calc/launch", Some(&other), Some(body))
-        .await;
+    let r = app.post_json("/api/v1/calc/launch", &other, body).await;
     assert_eq!(r.status, StatusCode::OK);
 }
 

@@ -21,12 +21,7 @@ async fn capacity_answers_with_the_contract_fields() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/capacity",
-            Some(&token),
-            Some(example()),
-        )
+        .post_json("/api/v1/calc/capacity", &token, example())
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
@@ -56,7 +51,7 @@ async fn capacity_answers_with_the_contract_fields() {
 }
 
 async fn field_of(app: &TestApp, token: &str, path: &str, body: Value) -> String {
-    let r = app.api("POST", path, Some(token), Some(body)).await;
+    let r = app.post_json(path, token, body).await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
     let v = r.json();
     assert!(!v["error"].as_str().unwrap().is_empty());
@@ -118,12 +113,7 @@ async fn a_recommendation_comes_back_on_the_grid_and_reproduces_its_result() {
     let mut body = example();
     body["targets"] = json!({"lockup_rpm": 5600});
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/recommend",
-            Some(&t),
-            Some(body.clone()),
-        )
+        .post_json("/api/v1/calc/recommend", &t, body.clone())
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
@@ -138,7 +128,7 @@ async fn a_recommendation_comes_back_on_the_grid_and_reproduces_its_result() {
     let mut check = example();
     check["levers"]["counterweight_g"] = json!(cw);
     let c = app
-        .api("POST", "/api/v1/calc/capacity", Some(&t), Some(check))
+        .post_json("/api/v1/calc/capacity", &t, check)
         .await
         .json();
     assert!(
@@ -173,9 +163,7 @@ fn wear_example() -> Value {
 async fn wear_follows_the_shim_rules_and_names_bad_fields() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
-    let r = app
-        .api("POST", "/api/v1/calc/wear", Some(&t), Some(wear_example()))
-        .await;
+    let r = app.post_json("/api/v1/calc/wear", &t, wear_example()).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert_eq!(v["status"], "ok");

@@ -37,12 +37,7 @@ async fn calibrate_answers_the_worked_example_with_the_contract_fields() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/calibrate",
-            Some(&token),
-            Some(example()),
-        )
+        .post_json("/api/v1/calc/calibrate", &token, example())
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
@@ -89,9 +84,7 @@ async fn imperial_and_metric_give_the_same_mu() {
     for (i, t) in [702.0, 735.0, 668.0].iter().enumerate() {
         body["passes"][i]["clutch_torque"] = json!(t * lbf_ft);
     }
-    let r = app
-        .api("POST", "/api/v1/calc/calibrate", Some(&token), Some(body))
-        .await;
+    let r = app.post_json("/api/v1/calc/calibrate", &token, body).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
@@ -107,9 +100,7 @@ async fn defaults_fill_missing_torque_and_one_pass_has_no_interval() {
     let token = app.token("sam").await;
     let mut body = example();
     body["passes"] = json!([{"lockup_rpm": 5780}]);
-    let r = app
-        .api("POST", "/api/v1/calc/calibrate", Some(&token), Some(body))
-        .await;
+    let r = app.post_json("/api/v1/calc/calibrate", &token, body).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert!(v["ci95"].is_null());
@@ -123,9 +114,7 @@ async fn defaults_fill_missing_torque_and_one_pass_has_no_interval() {
 }
 
 async fn field_of(app: &TestApp, token: &str, body: Value) -> String {
-    let r = app
-        .api("POST", "/api/v1/calc/calibrate", Some(token), Some(body))
-        .await;
+    let r = app.post_json("/api/v1/calc/calibrate", token, body).await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
     let v = r.json();
     assert!(!v["error"].as_str().unwrap_or("").is_empty());
@@ -198,7 +187,7 @@ async fn bad_calibration_input_names_the_field_path() {
     let refused = {
         let mut body = example();
         body["fit"] = json!("mu_and_gain");
-        app.api("POST", "/api/v1/calc/calibrate", Some(&t), Some(body))
+        app.post_json("/api/v1/calc/calibrate", &t, body)
             .await
             .json()
     };
@@ -232,9 +221,7 @@ async fn mu_and_gain_fits_when_the_passes_spread() {
     let mut body = example();
     body["fit"] = json!("mu_and_gain");
     body["passes"] = json!(passes);
-    let r = app
-        .api("POST", "/api/v1/calc/calibrate", Some(&t), Some(body))
-        .await;
+    let r = app.post_json("/api/v1/calc/calibrate", &t, body).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert!((num(&v["mu"]) - 0.34).abs() < 1e-9, "{v}");
@@ -503,12 +490,7 @@ async fn the_setup_sheet_says_where_its_mu_came_from() {
 /// The capacity API's answer for a stored build: (friction source, μ, lockup rpm, words).
 async fn in_force(app: &TestApp, token: &str, id: i64) -> (String, f64, f64, String) {
     let r = app
-        .api(
-            "GET",
-            &format!("/api/v1/builds/{id}/capacity"),
-            Some(token),
-            None,
-        )
+        .get_json(&format!("/api/v1/builds/{id}/capacity"), token)
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();

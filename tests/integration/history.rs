@@ -96,11 +96,10 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
     // API writes are attributed to the token's user.
     let token = app.token("sam").await;
     let r = app
-        .api(
-            "POST",
+        .post_json(
             &format!("/api/v1/builds/{build}/passes"),
-            Some(&token),
-            Some(json!({"run_on": "2026-11-09", "track": "North strip"})),
+            &token,
+            json!({"run_on": "2026-11-09", "track": "North strip"}),
         )
         .await;
     assert_eq!(r.status, StatusCode::CREATED);

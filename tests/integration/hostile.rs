@@ -1434,7 +1434,7 @@ fn raw_markup(body: &str) -> Option<&'static str> {
 }
 
 async fn created_id(app: &TestApp, token: &str, path: &str, body: Value) -> i64 {
-    let r = app.api("POST", path, Some(token), Some(body)).await;
+    let r = app.post_json(path, token, body).await;
     assert_eq!(r.status, StatusCode::CREATED, "{path}: {}", r.body);
     r.json()["id"].as_i64().unwrap()
 }

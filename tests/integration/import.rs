@@ -310,21 +310,11 @@ async fn limits_and_access_of_the_import() {
     let small = json!({"csv": "Name,Car\nAda Example,red\n",
         "columns": {"customer_name": "Name", "car_description": "Car"}});
     let tech = app
-        .api(
-            "POST",
-            "/api/v1/import/spreadsheet",
-            Some(&sam),
-            Some(small.clone()),
-        )
+        .post_json("/api/v1/import/spreadsheet", &sam, small.clone())
         .await;
     assert_eq!(tech.status, StatusCode::FORBIDDEN);
     let ok = app
-        .api(
-            "POST",
-            "/api/v1/import/spreadsheet",
-            Some(&boss),
-            Some(small),
-        )
+        .post_json("/api/v1/import/spreadsheet", &boss, small)
         .await;
     assert_eq!(ok.status, StatusCode::OK, "{}", ok.body);
     assert_eq!(ok.json()["customers_created"], 1);
@@ -334,12 +324,7 @@ async fn limits_and_access_of_the_import() {
         big.push_str("Ada Example,a long enough car description to fill the file quickly\n");
     }
     let reply = app
-        .api(
-            "POST",
-            "/api/v1/import/spreadsheet",
-            Some(&boss),
-            Some(json!({"csv": big})),
-        )
+        .post_json("/api/v1/import/spreadsheet", &boss, json!({"csv": big}))
         .await;
     assert_eq!(reply.status, StatusCode::PAYLOAD_TOO_LARGE);
     assert_eq!(reply.json()["field"], "csv");

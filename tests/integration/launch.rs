@@ -40,9 +40,7 @@ fn num(v: &Value) -> f64 {
 async fn the_worked_launch_answers_with_the_contract_fields_and_figures() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(worked()))
-        .await;
+    let r = app.post_json("/api/v1/calc/launch", &token, worked()).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     let lock = &v["lockup"];
@@ -89,9 +87,7 @@ async fn the_launch_uses_the_capacity_calculations_capacity() {
         cap.as_object_mut().unwrap().remove(key);
     }
     cap["engine"] = json!({"torque_curve": worked()["engine"]["torque_curve"]});
-    let c = app
-        .api("POST", "/api/v1/calc/capacity", Some(&token), Some(cap))
-        .await;
+    let c = app.post_json("/api/v1/calc/capacity", &token, cap).await;
     assert_eq!(c.status, StatusCode::OK, "{}", c.body);
     let at_6000 = c.json()["curve"]
         .as_array()
@@ -100,9 +96,7 @@ async fn the_launch_uses_the_capacity_calculations_capacity() {
         .find(|p| p["rpm"] == 6000.0)
         .map(|p| num(&p["capacity"]))
         .unwrap();
-    let r = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(worked()))
-        .await;
+    let r = app.post_json("/api/v1/calc/launch", &token, worked()).await;
     let p0 = num(&r.json()["trace"][0]["slip_power_kw"]);
     let expected = at_6000 * 6000.0 * std::f64::consts::PI / 30.0 / 1000.0;
     assert!((p0 - expected).abs() <= 0.05, "{p0} vs {expected}");
@@ -153,12 +147,10 @@ async fn imperial_and_metric_give_the_same_launch() {
     v["thermal"] = json!({"pressure_plate_mass": lb(8.0), "flywheel_mass": lb(12.0),
         "specific_heat": 460.0 / 4186.8, "start_temperature": 86.0, "plate_share": 0.45});
     let metric = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(worked()))
+        .post_json("/api/v1/calc/launch", &token, worked())
         .await
         .json();
-    let r = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(v))
-        .await;
+    let r = app.post_json("/api/v1/calc/launch", &token, v).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let imperial = r.json();
     assert_eq!(imperial["lockup"]["time_s"], metric["lockup"]["time_s"]);
@@ -179,9 +171,7 @@ async fn low_grip_spins_the_tyres_from_the_start() {
     let mut v = worked();
     v["vehicle"]["tire_grip"] = json!(1.0);
     v["vehicle"]["tire_grip_spinning"] = json!(0.8);
-    let r = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(v))
-        .await;
+    let r = app.post_json("/api/v1/calc/launch", &token, v).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert!(
@@ -232,9 +222,7 @@ async fn bad_launch_input_names_the_field() {
     let mut body = worked();
     body.as_object_mut().unwrap().remove("thermal");
     body["friction"]["mu_vs_temperature"] = json!([[20, 0.38], [300, 0.30]]);
-    let r = app
-        .api("POST", "/api/v1/calc/launch", Some(&t), Some(body))
-        .await;
+    let r = app.post_json("/api/v1/calc/launch", &t, body).await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
     assert_eq!(r.json()["field"], "friction.mu_vs_temperature");
     for (field, pointer, value) in cases {
@@ -244,9 +232,7 @@ async fn bad_launch_input_names_the_field() {
             at = &mut at[key];
         }
         *at = value;
-        let r = app
-            .api("POST", "/api/v1/calc/launch", Some(&t), Some(body))
-            .await;
+        let r = app.post_json("/api/v1/calc/launch", &t, body).await;
         assert_eq!(
             r.status,
             StatusCode::UNPROCESSABLE_ENTITY,
@@ -264,20 +250,18 @@ async fn a_mu_table_is_read_at_the_plate_temperature() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
     let plain = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(worked()))
+        .post_json("/api/v1/calc/launch", &token, worked())
         .await
         .json();
     let mut flat = worked();
     flat["friction"]["mu_vs_temperature"] = json!([[20, 0.30], [300, 0.30]]);
-    let r = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(flat))
-        .await;
+    let r = app.post_json("/api/v1/calc/launch", &token, flat).await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     assert_eq!(r.json()["lockup"], plain["lockup"]);
     let mut fading = worked();
     fading["friction"]["mu_vs_temperature"] = json!([[30, 0.30], [80, 0.26]]);
     let faded = app
-        .api("POST", "/api/v1/calc/launch", Some(&token), Some(fading))
+        .post_json("/api/v1/calc/launch", &token, fading)
         .await
         .json();
     assert!(num(&faded["slip_energy_kj"]) > num(&plain["slip_energy_kj"]));

@@ -31,12 +31,7 @@ async fn the_worked_file_answers_as_the_contract_documents() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/log-analysis",
-            Some(&token),
-            Some(calc_body(worked_csv())),
-        )
+        .post_json("/api/v1/calc/log-analysis", &token, calc_body(worked_csv()))
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
@@ -70,12 +65,7 @@ async fn the_worked_file_answers_as_the_contract_documents() {
     let mut body = calc_body(worked_csv());
     body.as_object_mut().unwrap().remove("engine");
     let v = app
-        .api(
-            "POST",
-            "/api/v1/calc/log-analysis",
-            Some(&token),
-            Some(body),
-        )
+        .post_json("/api/v1/calc/log-analysis", &token, body)
         .await
         .json();
     assert_eq!(v["lockup_s"], 0.776);
@@ -124,12 +114,7 @@ async fn bad_files_answer_422_naming_the_column_or_csv_and_the_line() {
             body["columns"] = columns;
         }
         let r = app
-            .api(
-                "POST",
-                "/api/v1/calc/log-analysis",
-                Some(&token),
-                Some(body),
-            )
+            .post_json("/api/v1/calc/log-analysis", &token, body)
             .await;
         assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
         let v = r.json();
@@ -152,12 +137,7 @@ async fn a_log_larger_than_a_form_is_accepted_on_the_log_routes_only() {
     }
     assert!(csv.len() > 1_000_000);
     let r = app
-        .api(
-            "POST",
-            "/api/v1/calc/log-analysis",
-            Some(&token),
-            Some(calc_body(csv.clone())),
-        )
+        .post_json("/api/v1/calc/log-analysis", &token, calc_body(csv.clone()))
         .await;
     assert_eq!(
         r.status,
@@ -166,11 +146,10 @@ async fn a_log_larger_than_a_form_is_accepted_on_the_log_routes_only() {
         &r.body[..r.body.len().min(300)]
     );
     let r = app
-        .api(
-            "POST",
+        .post_json(
             "/api/v1/calc/wear",
-            Some(&token),
-            Some(json!({ "units": "metric", "pad": csv })),
+            &token,
+            json!({ "units": "metric", "pad": csv }),
         )
         .await;
     assert_eq!(r.status, StatusCode::PAYLOAD_TOO_LARGE);
@@ -237,24 +216,14 @@ async fn a_pass_log_is_stored_read_back_and_feeds_the_calibration() {
     let mut bad = body.clone();
     bad["columns"]["input_rpm"] = json!("shaft");
     let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/passes/{pass}/log"),
-            Some(&token),
-            Some(bad),
-        )
+        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, bad)
         .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
     assert_eq!(app.count("pass_logs").await, 0);
     assert_eq!(app.count("car_log_mappings").await, 0);
 
     let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/passes/{pass}/log"),
-            Some(&token),
-            Some(body),
-        )
+        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let stored = r.json();
@@ -268,23 +237,17 @@ async fn a_pass_log_is_stored_read_back_and_feeds_the_calibration() {
         "{stored}"
     );
     let again = app
-        .api(
-            "GET",
-            &format!("/api/v1/passes/{pass}/analysis"),
-            Some(&token),
-            None,
-        )
+        .get_json(&format!("/api/v1/passes/{pass}/analysis"), &token)
         .await;
     assert_eq!(again.status, StatusCode::OK);
     assert_eq!(again.json(), stored);
     assert_eq!(app.count("pass_logs").await, 1);
     // The mapping is remembered for the car: a second file needs no columns.
     let r = app
-        .api(
-            "POST",
+        .post_json(
             &format!("/api/v1/passes/{pass}/log"),
-            Some(&token),
-            Some(json!({ "csv": launch_csv() })),
+            &token,
+            json!({ "csv": launch_csv() }),
         )
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
@@ -299,12 +262,7 @@ async fn a_pass_log_is_stored_read_back_and_feeds_the_calibration() {
             .unwrap()
     };
     let cal = app
-        .api(
-            "GET",
-            &format!("/api/v1/builds/{build}/calibration"),
-            Some(&token),
-            None,
-        )
+        .get_json(&format!("/api/v1/builds/{build}/calibration"), &token)
         .await;
     assert_eq!(cal.status, StatusCode::OK, "{}", cal.body);
     let cal = cal.json();
@@ -484,12 +442,7 @@ async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
             "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
             "engine_inertia_kgm2": 0.2 });
         let r = app
-            .api(
-                "POST",
-                &format!("/api/v1/passes/{pass}/log"),
-                Some(&token),
-                Some(body),
-            )
+            .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
             .await;
         assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     }
@@ -530,13 +483,8 @@ async fn a_stored_log_takes_the_engine_inertia_from_the_car_record() {
     let store = |body: serde_json::Value| {
         let (app, token, pass) = (&app, &token, &pass);
         async move {
-            app.api(
-                "POST",
-                &format!("/api/v1/passes/{pass}/log"),
-                Some(token),
-                Some(body),
-            )
-            .await
+            app.post_json(&format!("/api/v1/passes/{pass}/log"), token, body)
+                .await
         }
     };
     let without = store(body.clone()).await;
@@ -548,17 +496,12 @@ async fn a_stored_log_takes_the_engine_inertia_from_the_car_record() {
         .await
         .unwrap();
     let mut record = app
-        .api("GET", &format!("/api/v1/cars/{car}"), Some(&token), None)
+        .get_json(&format!("/api/v1/cars/{car}"), &token)
         .await
         .json();
     record["engine_inertia_kg_m2"] = json!(0.2);
     let put = app
-        .api(
-            "PUT",
-            &format!("/api/v1/cars/{car}"),
-            Some(&token),
-            Some(record),
-        )
+        .put_json(&format!("/api/v1/cars/{car}"), &token, record)
         .await;
     assert_eq!(put.status, StatusCode::OK, "{}", put.body);
     let with = store(body).await;

@@ -46,9 +46,7 @@ async fn the_description_is_valid_openapi_and_in_step_with_the_routes() {
     let anonymous = app.api("GET", "/api/v1/openapi.json", None, None).await;
     assert_eq!(anonymous.status, StatusCode::UNAUTHORIZED);
     let token = app.token("sam").await;
-    let reply = app
-        .api("GET", "/api/v1/openapi.json", Some(&token), None)
-        .await;
+    let reply = app.get_json("/api/v1/openapi.json", &token).await;
     assert_eq!(reply.status, StatusCode::OK);
     let doc = reply.json();
     assert_eq!(doc["openapi"], "3.1.0");

@@ -189,11 +189,10 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
         ),
         ("Odile Rask", ""),
     ] {
-        app.api(
-            "POST",
+        app.post_json(
             "/api/v1/customers",
-            Some(&token),
-            Some(json!({"name": name, "email": email})),
+            &token,
+            json!({"name": name, "email": email}),
         )
         .await;
     }

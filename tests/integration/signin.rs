@@ -309,11 +309,10 @@ async fn failed_sign_ins_keep_one_row_per_client_and_name_and_the_purge_is_bound
     // A shop write goes through beside the flood.
     let token = app.token("sam").await;
     let made = app
-        .api(
-            "POST",
+        .post_json(
             "/api/v1/customers",
-            Some(&token),
-            Some(serde_json::json!({"name": "Harlan Voss"})),
+            &token,
+            serde_json::json!({"name": "Harlan Voss"}),
         )
         .await;
     assert_eq!(made.status, StatusCode::CREATED, "{}", made.body);

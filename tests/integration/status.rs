@@ -464,12 +464,7 @@ async fn a_shim_due_soon_says_soon_everywhere() {
     assert!(!sheet.contains("● ok"), "sheet says ok");
     let token = app.token("sam").await;
     let api = app
-        .api(
-            "GET",
-            &format!("/api/v1/builds/{id}/status"),
-            Some(&token),
-            None,
-        )
+        .get_json(&format!("/api/v1/builds/{id}/status"), &token)
         .await;
     assert_eq!(api.status, StatusCode::OK, "{}", api.body);
     let v = api.json();

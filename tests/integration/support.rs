@@ -202,6 +202,21 @@ impl TestApp {
         self.send(req.body(body).unwrap()).await
     }
 
+    /// `POST` of a JSON body with an API token.
+    pub async fn post_json(&self, path: &str, token: &str, body: serde_json::Value) -> Reply {
+        self.api("POST", path, Some(token), Some(body)).await
+    }
+
+    /// `PUT` of a JSON body with an API token.
+    pub async fn put_json(&self, path: &str, token: &str, body: serde_json::Value) -> Reply {
+        self.api("PUT", path, Some(token), Some(body)).await
+    }
+
+    /// `GET` with an API token.
+    pub async fn get_json(&self, path: &str, token: &str) -> Reply {
+        self.api("GET", path, Some(token), None).await
+    }
+
     pub async fn count(&self, table: &str) -> i64 {
         sqlx::query_scalar(sqlx::AssertSqlSafe(format!("SELECT COUNT(*) FROM {table}")))
             .fetch_one(&self.pool)

@@ -416,11 +416,10 @@ async fn forms_the_record_api_and_the_calculation_api_share_one_limit() {
 
     let token = app.token("sam").await;
     let api = app
-        .api(
-            "POST",
+        .post_json(
             &format!("/api/v1/builds/{id}/setups"),
-            Some(&token),
-            Some(json!({"changed_on": "2026-11-01", "adjuster_turns": 21.0})),
+            &token,
+            json!({"changed_on": "2026-11-01", "adjuster_turns": 21.0}),
         )
         .await;
     assert_eq!(api.status, StatusCode::UNPROCESSABLE_ENTITY);
@@ -428,18 +427,17 @@ async fn forms_the_record_api_and_the_calculation_api_share_one_limit() {
     assert_eq!(api.json()["error"], "must be between 0 and 20 turns");
 
     let calc = app
-        .api(
-            "POST",
+        .post_json(
             "/api/v1/calc/capacity",
-            Some(&token),
-            Some(json!({
+            &token,
+            json!({
                 "units": "imperial",
                 "disc": {"outer_diameter": 10.4, "inner_diameter": 6.6},
                 "friction": {"mu": 0.3},
                 "springs": {"count": 6, "rate": 380.0, "base_compression": 0.22,
                             "adjuster_pitch": 0.0625, "adjuster_turns": 21.0},
                 "engine": {"torque_curve": [[3000, 410], [5000, 480], [7000, 430]]}
-            })),
+            }),
         )
         .await;
     assert_eq!(calc.status, StatusCode::UNPROCESSABLE_ENTITY);

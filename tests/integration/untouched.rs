@@ -90,11 +90,11 @@ async fn save_untouched(client: &Client<'_>, page: &str, action: &str) {
 }
 
 async fn put(app: &TestApp, token: &str, path: &str, change: &dyn Fn(&mut Value)) -> Value {
-    let mut body = app.api("GET", path, Some(token), None).await.json();
+    let mut body = app.get_json(path, token).await.json();
     change(&mut body);
-    let r = app.api("PUT", path, Some(token), Some(body)).await;
+    let r = app.put_json(path, token, body).await;
     assert_eq!(r.status, StatusCode::OK, "{path}: {}", r.body);
-    app.api("GET", path, Some(token), None).await.json()
+    app.get_json(path, token).await.json()
 }
 
 async fn settings_row(app: &TestApp) -> Vec<f64> {
@@ -117,7 +117,7 @@ async fn saving_any_form_untouched_keeps_every_stored_number() {
     let build = client.record_build().await;
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
     let b = app
-        .api("GET", &format!("/api/v1/builds/{id}"), Some(&token), None)
+        .get_json(&format!("/api/v1/builds/{id}"), &token)
         .await
         .json();
     let car_id = b["car_id"].as_i64().unwrap();
@@ -215,13 +215,13 @@ async fn saving_any_form_untouched_keeps_every_stored_number() {
         )
         .await;
         let now = app
-            .api("GET", &format!("/api/v1/cars/{car_id}"), Some(&token), None)
+            .get_json(&format!("/api/v1/cars/{car_id}"), &token)
             .await
             .json();
         assert_eq!(now, car, "car in {units}");
         save_untouched(&client, &format!("{build}/edit"), &build).await;
         let now = app
-            .api("GET", &format!("/api/v1/builds/{id}"), Some(&token), None)
+            .get_json(&format!("/api/v1/builds/{id}"), &token)
             .await
             .json();
         assert_eq!(now, build_a, "build A in {units}");
@@ -245,7 +245,7 @@ async fn saving_any_form_untouched_keeps_every_stored_number() {
             .unwrap();
         save_untouched(&client, &format!("{build}/edit"), &build).await;
         let now = app
-            .api("GET", &format!("/api/v1/builds/{id}"), Some(&token), None)
+            .get_json(&format!("/api/v1/builds/{id}"), &token)
             .await
             .json();
         assert_eq!(now, build_b, "build B in {units}");

@@ -682,11 +682,10 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
     for n in 0..125 {
         let day = format!("2026-{:02}-{:02}", 1 + n / 28, 1 + n % 28);
         let r = app
-            .api(
-                "POST",
+            .post_json(
                 &format!("/api/v1/builds/{id}/passes"),
-                Some(&token),
-                Some(serde_json::json!({"run_on": day, "track": format!("Strip {n}")})),
+                &token,
+                serde_json::json!({"run_on": day, "track": format!("Strip {n}")}),
             )
             .await;
         assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);

@@ -10,6 +10,7 @@
 # asked once (uncached). Prints requests/s, p50, p99, errors, the ratio to /healthz and the
 # server's peak resident memory, and checks that every acknowledged write is in the file.
 # Needs wrk, curl and sqlite3. Usage: tests/load/random_pages.sh [seconds] [connections]
+# (SERVE_FLAGS=--no-page-cache measures with the page cache off.)
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 SECS=${1:-10}
@@ -19,23 +20,7 @@ for tool in wrk curl sqlite3; do
   command -v $tool >/dev/null || { echo "$tool is not installed (apt-get install $tool)" >&2; exit 1; }
 done
 
-cargo build --release --quiet --example scale --bin lockpoint
-mkdir -p target/load
-CACHED="target/load/scale-$SEED.db"
-if [ ! -f "$CACHED" ]; then
-  rm -f "$CACHED.tmp"
-  ./target/release/examples/scale --db "$CACHED.tmp" --seed "$SEED"
-  mv "$CACHED.tmp" "$CACHED"
-fi
-WORK=$(mktemp -d)
-DB="$WORK/scale.db"
-cp "$CACHED" "$DB"
-./target/release/lockpoint serve --db "$DB" --addr 127.0.0.1:0 > "$WORK/serve.out" 2> "$WORK/serve.err" &
-SERVER=$!
-trap 'kill $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
-for _ in $(seq 300); do grep -q '^listening on' "$WORK/serve.out" 2>/dev/null && break; sleep 0.2; done
-BASE=$(sed -n 's/^listening on //p' "$WORK/serve.out")
-[ -n "$BASE" ] || { cat "$WORK/serve.err" >&2; exit 1; }
+source tests/load/scale_server.sh
 
 # 32 signed-in sessions, one picked at random per request: eight people at a counter, not one
 # person in eight tabs (one session may run 2 heavy calculations at once, see web/http/heavy.rs).

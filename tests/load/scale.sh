@@ -20,23 +20,7 @@ BUILD=4321
 QUERY=Halvorsen
 command -v wrk >/dev/null || { echo "wrk is not installed (apt-get install wrk)" >&2; exit 1; }
 
-cargo build --release --quiet --example scale --bin lockpoint
-mkdir -p target/load
-CACHED="target/load/scale-$SEED.db"
-if [ ! -f "$CACHED" ]; then
-  rm -f "$CACHED.tmp"
-  ./target/release/examples/scale --db "$CACHED.tmp" --seed "$SEED"
-  mv "$CACHED.tmp" "$CACHED"
-fi
-WORK=$(mktemp -d)
-DB="$WORK/scale.db"
-cp "$CACHED" "$DB"
-./target/release/lockpoint serve --db "$DB" --addr 127.0.0.1:0 > "$WORK/serve.out" 2> "$WORK/serve.err" &
-SERVER=$!
-trap 'kill $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
-for _ in $(seq 300); do grep -q '^listening on' "$WORK/serve.out" 2>/dev/null && break; sleep 0.2; done
-BASE=$(sed -n 's/^listening on //p' "$WORK/serve.out")
-[ -n "$BASE" ] || { cat "$WORK/serve.err" >&2; exit 1; }
+source tests/load/scale_server.sh
 
 curl -s -c "$WORK/jar" -o /dev/null -d 'username=loadtest&password=load-test-password' "$BASE/login"
 COOKIE="lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
