@@ -22,8 +22,10 @@ pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Op
         setups: super::setups::for_build(conn, build_id).await?,
         bench: super::bench::for_build(conn, build_id).await?,
         heights: super::heights::for_build(conn, build_id).await?,
-        passes: super::passes::page_for_build(conn, build_id, 0, PASSES_LOADED as i64).await?,
-        passes_total: super::passes::count_for_build(conn, build_id).await?,
+        passes: super::passes::TABLE
+            .page(conn, build_id, 0, PASSES_LOADED as i64)
+            .await?,
+        passes_total: super::passes::TABLE.count(conn, build_id).await?,
         logs: super::pass_logs::for_build(conn, build_id).await?,
         build,
     }))

@@ -7,11 +7,9 @@ use crate::records::Checked;
 use crate::records::height::HeightInput;
 use crate::records::stored::Height;
 
-/// The table and its order, newest first.
-const HEIGHTS: BuildTable = BuildTable {
-    table: "cover_heights",
-    newest_first: "id DESC",
-};
+/// The table and its order, newest first: its records are paged, counted and inserted
+/// through it.
+pub const TABLE: BuildTable<Height> = BuildTable::new("cover_heights", "id DESC");
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Height>> {
     sqlx::query_as("SELECT * FROM cover_heights WHERE build_id = ? ORDER BY id")
@@ -20,22 +18,8 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
         .await
 }
 
-/// `limit` of the build's cover heights, newest first, skipping the `offset` newest.
-pub async fn page_for_build(
-    conn: &mut SqliteConnection,
-    build_id: i64,
-    offset: i64,
-    limit: i64,
-) -> sqlx::Result<Vec<Height>> {
-    HEIGHTS.page(conn, build_id, offset, limit).await
-}
-
-pub async fn count_for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<i64> {
-    HEIGHTS.count(conn, build_id).await
-}
-
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Height>> {
-    HEIGHTS.by_id(conn, id).await
+    TABLE.by_id(conn, id).await
 }
 
 /// The (passes, shims pulled) recorded just before and just after a measurement, in recorded
@@ -83,7 +67,7 @@ pub async fn insert(
     user_id: i64,
     h: &Checked<HeightInput>,
 ) -> sqlx::Result<i64> {
-    HEIGHTS.insert(conn, build_id, user_id, h).await
+    TABLE.insert(conn, build_id, user_id, h).await
 }
 
 pub async fn update(

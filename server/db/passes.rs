@@ -7,11 +7,9 @@ use crate::records::Checked;
 use crate::records::pass::PassInput;
 use crate::records::stored::Pass;
 
-/// The table and its order, newest first.
-const PASSES: BuildTable = BuildTable {
-    table: "passes",
-    newest_first: "run_on DESC, id DESC",
-};
+/// The table and its order, newest first: its records are paged, counted and inserted
+/// through it.
+pub const TABLE: BuildTable<Pass> = BuildTable::new("passes", "run_on DESC, id DESC");
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Pass>> {
     sqlx::query_as("SELECT * FROM passes WHERE build_id = ? ORDER BY run_on DESC, id DESC")
@@ -20,22 +18,8 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
         .await
 }
 
-/// `limit` of the build's passes, newest first, skipping the `offset` newest.
-pub async fn page_for_build(
-    conn: &mut SqliteConnection,
-    build_id: i64,
-    offset: i64,
-    limit: i64,
-) -> sqlx::Result<Vec<Pass>> {
-    PASSES.page(conn, build_id, offset, limit).await
-}
-
-pub async fn count_for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<i64> {
-    PASSES.count(conn, build_id).await
-}
-
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Pass>> {
-    PASSES.by_id(conn, id).await
+    TABLE.by_id(conn, id).await
 }
 
 pub async fn insert(
@@ -44,7 +28,7 @@ pub async fn insert(
     user_id: i64,
     p: &Checked<PassInput>,
 ) -> sqlx::Result<i64> {
-    PASSES.insert(conn, build_id, user_id, p).await
+    TABLE.insert(conn, build_id, user_id, p).await
 }
 
 pub async fn update(

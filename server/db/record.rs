@@ -71,18 +71,29 @@ pub async fn update<R: Record>(
 
 /// The records of a build kept in `table` (which has `build_id`, `user_id` and the build's
 /// live-customer join): the one way their rows are read, paged, counted and inserted.
-pub struct BuildTable {
+pub struct BuildTable<T> {
     pub table: &'static str,
     /// ORDER BY terms for the newest first.
     pub newest_first: &'static str,
+    /// What a row reads as.
+    row: std::marker::PhantomData<fn() -> T>,
 }
 
-impl BuildTable {
+impl<T> BuildTable<T>
+where
+    T: for<'r> sqlx::FromRow<'r, sqlx::sqlite::SqliteRow> + Send + Unpin,
+{
+    /// The records kept in `table`, newest first by `newest_first` (ORDER BY terms).
+    pub const fn new(table: &'static str, newest_first: &'static str) -> Self {
+        Self {
+            table,
+            newest_first,
+            row: std::marker::PhantomData,
+        }
+    }
+
     /// Record `id`, when its build's customer is live.
-    pub async fn by_id<T>(&self, conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<T>>
-    where
-        T: for<'r> sqlx::FromRow<'r, sqlx::sqlite::SqliteRow> + Send + Unpin,
-    {
+    pub async fn by_id(&self, conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<T>> {
         let sql = format!(
             "SELECT x.* FROM {} x JOIN builds b ON b.id = x.build_id
              JOIN cars k ON k.id = b.car_id JOIN customers c ON c.id = k.customer_id
@@ -96,16 +107,13 @@ impl BuildTable {
     }
 
     /// `limit` of the build's records, newest first, skipping the `offset` newest.
-    pub async fn page<T>(
+    pub async fn page(
         &self,
         conn: &mut SqliteConnection,
         build_id: i64,
         offset: i64,
         limit: i64,
-    ) -> sqlx::Result<Vec<T>>
-    where
-        T: for<'r> sqlx::FromRow<'r, sqlx::sqlite::SqliteRow> + Send + Unpin,
-    {
+    ) -> sqlx::Result<Vec<T>> {
         let sql = format!(
             "SELECT * FROM {} WHERE build_id = ? ORDER BY {} LIMIT ? OFFSET ?",
             self.table, self.newest_first

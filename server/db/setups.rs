@@ -7,11 +7,9 @@ use crate::records::Checked;
 use crate::records::setup::SetupInput;
 use crate::records::stored::Setup;
 
-/// The table and its order, newest first.
-const SETUPS: BuildTable = BuildTable {
-    table: "setup_changes",
-    newest_first: "changed_on DESC, id DESC",
-};
+/// The table and its order, newest first: its records are paged, counted and inserted
+/// through it.
+pub const TABLE: BuildTable<Setup> = BuildTable::new("setup_changes", "changed_on DESC, id DESC");
 
 pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Vec<Setup>> {
     sqlx::query_as("SELECT * FROM setup_changes WHERE build_id = ? ORDER BY changed_on, id")
@@ -21,7 +19,7 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Setup>> {
-    SETUPS.by_id(conn, id).await
+    TABLE.by_id(conn, id).await
 }
 
 pub async fn insert(
@@ -30,7 +28,7 @@ pub async fn insert(
     user_id: i64,
     s: &Checked<SetupInput>,
 ) -> sqlx::Result<i64> {
-    SETUPS.insert(conn, build_id, user_id, s).await
+    TABLE.insert(conn, build_id, user_id, s).await
 }
 
 pub async fn update(

@@ -423,13 +423,14 @@ async fn render_with(
         .ok_or(AppError::NotFound)?;
     let build_label = crate::web::pages::builds::show::build_title(&build);
     let log = db::pass_logs::summary(&mut conn, id).await?;
-    let passes = db::passes::page_for_build(
-        &mut conn,
-        pc.pass.build_id,
-        0,
-        db::dossier::PASSES_LOADED as i64,
-    )
-    .await?;
+    let passes = db::passes::TABLE
+        .page(
+            &mut conn,
+            pc.pass.build_id,
+            0,
+            db::dossier::PASSES_LOADED as i64,
+        )
+        .await?;
     let logged = db::pass_logs::for_build(&mut conn, pc.pass.build_id).await?;
     let others: Vec<(i64, String)> = passes
         .iter()

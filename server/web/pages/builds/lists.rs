@@ -85,9 +85,11 @@ pub async fn passes(
     let mut conn = state.pool.acquire().await?;
     let title = title_of(&mut conn, id).await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "All passes").await?;
-    let total = db::passes::count_for_build(&mut conn, id).await?;
+    let total = db::passes::TABLE.count(&mut conn, id).await?;
     let paging = Paging::new(&q, total, format!("/builds/{id}/passes"));
-    let passes = db::passes::page_for_build(&mut conn, id, paging.offset(), PER_PAGE).await?;
+    let passes = db::passes::TABLE
+        .page(&mut conn, id, paging.offset(), PER_PAGE)
+        .await?;
     let logs = db::pass_logs::for_build(&mut conn, id).await?;
     Ok(Html(
         PassesPage {
@@ -122,9 +124,11 @@ pub async fn heights(
     let mut conn = state.pool.acquire().await?;
     let title = title_of(&mut conn, id).await?;
     let (page, _) = Layout::load(&mut conn, &user, "customers", "All cover heights").await?;
-    let total = db::heights::count_for_build(&mut conn, id).await?;
+    let total = db::heights::TABLE.count(&mut conn, id).await?;
     let paging = Paging::new(&q, total, format!("/builds/{id}/heights"));
-    let heights = db::heights::page_for_build(&mut conn, id, paging.offset(), PER_PAGE).await?;
+    let heights = db::heights::TABLE
+        .page(&mut conn, id, paging.offset(), PER_PAGE)
+        .await?;
     Ok(Html(
         HeightsPage {
             page,
