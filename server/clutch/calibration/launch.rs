@@ -23,6 +23,7 @@ use crate::launch::request::{
     ValidLaunch,
 };
 use crate::launch::simulation::{Event, LaunchRun, Lockup};
+use crate::quantity::limits;
 use crate::units::RAD_S_PER_RPM;
 
 /// Lowest and highest friction coefficient searched.
@@ -238,10 +239,10 @@ impl LaunchCalibrateRequest {
         let p = &self.passes[i];
         let at = |name: &str| format!("passes[{i}].{name}");
         match (p.lockup_time_s, p.lockup_rpm) {
-            (Some(t), _) => Ok(Seen::LockTime(crate::require_positive(
+            (Some(t), _) => Ok(Seen::LockTime(limits::LOCKUP_TIME.check(
                 &at("lockup_time_s"),
                 t,
-                10.0,
+                self.units,
             )?)),
             (None, Some(rpm)) => {
                 let (lo, hi) = valid.clutch.engine.range();
