@@ -54,12 +54,13 @@ pub fn of_history(
         }
     }
     if let Some(last) = review.as_ref().and_then(|r| r.last())
-        && (last.spread.out_of_tolerance || !last.sagged.is_empty())
+        && last.flagged()
     {
         s.springs_flagged = true;
         s.spread_pct = Some(last.spread.spread_pct);
         s.out_of_tolerance = last.spread.out_of_tolerance;
         s.sagged = last.sagged.len() as i64;
+        s.low_springs = last.low.len() as i64;
     }
     s
 }
@@ -93,6 +94,7 @@ pub fn lines(row: &Listed, status: &BuildStatus, window: i64) -> Vec<Due> {
             spread_pct: status.spread_pct.unwrap_or(0.0),
             out_of_tolerance: status.out_of_tolerance,
             sagged: status.sagged.max(0) as usize,
+            low: status.low_springs.max(0) as usize,
         }));
     }
     out

@@ -16,6 +16,8 @@ pub struct BuildStatus {
     pub spread_pct: Option<f64>,
     pub out_of_tolerance: bool,
     pub sagged: i64,
+    /// Springs a first bench test found low on load against their set.
+    pub low_springs: i64,
 }
 
 impl BuildStatus {
@@ -47,7 +49,7 @@ pub struct Listed {
 pub const LISTED_SQL: &str = "SELECT s.build_id, b.label AS build_label, c.id AS customer_id,
         c.name AS customer_name, c.phone AS customer_phone, k.description AS car_description,
         s.stale, s.wear, s.next_shim_mm, s.soon_passes, s.soon_disc, s.springs_flagged,
-        s.spread_pct, s.out_of_tolerance, s.sagged
+        s.spread_pct, s.out_of_tolerance, s.sagged, s.low_springs
      FROM build_status s CROSS JOIN builds b ON b.id = s.build_id
      CROSS JOIN cars k ON k.id = b.car_id CROSS JOIN customers c ON c.id = k.customer_id
      WHERE (s.urgent = 1 OR s.soon_passes <= ?) AND b.status = 'active' AND c.deleted_at IS NULL";
@@ -96,11 +98,11 @@ pub async fn store(
 ) -> sqlx::Result<()> {
     sqlx::query(
         "INSERT INTO build_status (build_id, stale, wear, next_shim_mm, soon_passes, soon_disc,
-             springs_flagged, spread_pct, out_of_tolerance, sagged, urgent)
-         VALUES (?1, 0, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)
+             springs_flagged, spread_pct, out_of_tolerance, sagged, urgent, low_springs)
+         VALUES (?1, 0, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)
          ON CONFLICT (build_id) DO UPDATE SET stale = 0, wear = ?2, next_shim_mm = ?3,
              soon_passes = ?4, soon_disc = ?5, springs_flagged = ?6, spread_pct = ?7,
-             out_of_tolerance = ?8, sagged = ?9, urgent = ?10",
+             out_of_tolerance = ?8, sagged = ?9, urgent = ?10, low_springs = ?11",
     )
     .bind(build_id)
     .bind(&s.wear)
@@ -112,6 +114,7 @@ pub async fn store(
     .bind(s.out_of_tolerance)
     .bind(s.sagged)
     .bind(s.urgent())
+    .bind(s.low_springs)
     .execute(conn)
     .await?;
     Ok(())

@@ -20,11 +20,13 @@ pub enum DueReason {
         passes: f64,
         disc: bool,
     },
-    /// The latest bench test found the set out of tolerance or a spring sagged.
+    /// The latest bench test found the set out of tolerance, a spring sagged, or (a spring's
+    /// first test) a spring low on load against its set.
     Springs {
         spread_pct: f64,
         out_of_tolerance: bool,
         sagged: usize,
+        low: usize,
     },
 }
 
@@ -215,12 +217,13 @@ pub fn work_due(
             out.extend(reason.map(line));
         }
         if let Some(last) = review.as_ref().and_then(|r| r.last())
-            && (last.spread.out_of_tolerance || !last.sagged.is_empty())
+            && last.flagged()
         {
             out.push(line(DueReason::Springs {
                 spread_pct: last.spread.spread_pct,
                 out_of_tolerance: last.spread.out_of_tolerance,
                 sagged: last.sagged.len(),
+                low: last.low.len(),
             }));
         }
     }

@@ -240,7 +240,7 @@ pub async fn build_status(
     let springs_flagged = bench_review(&dossier.bench, &dossier.build.data, &settings)
         .as_ref()
         .and_then(|r| r.last())
-        .is_some_and(|t| t.spread.out_of_tolerance || !t.sagged.is_empty());
+        .is_some_and(|t| t.flagged());
     let s = WorkStatus::of_report(report.as_ref(), springs_flagged, settings.due_within_passes);
     Ok(Json(StatusAnswer {
         status: s.key(),

@@ -79,6 +79,7 @@ impl FrontPage {
                 spread_pct,
                 out_of_tolerance,
                 sagged,
+                low,
             } => {
                 let mut parts = Vec::new();
                 if *out_of_tolerance {
@@ -89,6 +90,11 @@ impl FrontPage {
                 if *sagged > 0 {
                     parts.push(format!(
                         "{sagged} spring(s) lost load (sagged) since the last test"
+                    ));
+                }
+                if *low > 0 {
+                    parts.push(format!(
+                        "{low} spring(s) low on load against the set at the installed height"
                     ));
                 }
                 (

@@ -218,6 +218,12 @@ impl ShowPage {
                     "Springs: {sagged} lost load (sagged) since the previous test."
                 ));
             }
+            let low = latest.low_springs();
+            if low > 0 {
+                lines.push(format!(
+                    "Springs: {low} low on load against the set at the installed height."
+                ));
+            }
         }
         lines
     }
@@ -255,6 +261,13 @@ pub struct BenchView {
     pub spread: Option<SetSpread>,
 }
 
+impl BenchView {
+    /// Springs this test found low on load against their set (their first test).
+    pub fn low_springs(&self) -> usize {
+        self.springs.iter().filter(|r| r.low.is_some()).count()
+    }
+}
+
 /// One spring's line in a bench test's table.
 pub struct SpringRow {
     pub reading: BenchSpring,
@@ -264,6 +277,9 @@ pub struct SpringRow {
     pub change: Option<f64>,
     /// The percent lost, when that loss is past the shop's sag threshold.
     pub sag: Option<f64>,
+    /// A spring's first test: the percent its load is below the set's mean, when past the
+    /// shop's sag threshold.
+    pub low: Option<f64>,
     /// Its load at the installed length, N.
     pub load: Option<f64>,
 }
@@ -292,12 +308,19 @@ fn bench_views(
                             .find(|(pos, _)| *pos as i64 == s.position)
                             .map(|(_, pct)| *pct)
                     });
+                    let low = review.and_then(|r| {
+                        r.low
+                            .iter()
+                            .find(|(pos, _)| *pos as i64 == s.position)
+                            .map(|(_, pct)| *pct)
+                    });
                     let change = review.and_then(|r| r.change_pct.get(j).copied().flatten());
                     SpringRow {
                         reading: s.clone(),
                         rate,
                         change,
                         sag,
+                        low,
                         load: review.and_then(|r| r.loads_n.get(j).copied().flatten()),
                     }
                 })
@@ -376,7 +399,7 @@ pub async fn render_page(
     let springs_flagged = bench_review(&d.bench, &d.build.data, &settings)
         .as_ref()
         .and_then(|r| r.last())
-        .is_some_and(|t| t.spread.out_of_tolerance || !t.sagged.is_empty());
+        .is_some_and(|t| t.flagged());
     let work_status = WorkStatus::of_report(
         wear.as_ref().ok().map(|w| &w.report),
         springs_flagged,
