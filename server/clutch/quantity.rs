@@ -402,6 +402,8 @@ pub mod limits {
     pub const LAUNCH_DURATION: Limit = Limit::new(Seconds, Incl(0.1), Incl(10.0));
     /// Target lockup time after the launch (launch preview search).
     pub const LOCKUP_TIME: Limit = Limit::new(Seconds, Incl(0.05), Incl(10.0));
+    /// How far the engine may fall below the launch speed in a clean lock, percent.
+    pub const LAUNCH_BOG: Limit = Limit::new(Percent, Excl(0.0), Incl(90.0));
     /// Most slip energy one launch may put into the clutch (launch preview search).
     pub const SLIP_ENERGY: Limit = Limit::new(Kilojoules, Incl(1.0), Incl(10_000.0));
     /// Points of a μ-against-temperature table.
@@ -507,6 +509,7 @@ mod tests {
             LAUNCH_STEP,
             LAUNCH_DURATION,
             LOCKUP_TIME,
+            LAUNCH_BOG,
             SLIP_ENERGY,
         ];
         for limit in all {

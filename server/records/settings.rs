@@ -34,6 +34,10 @@ pub struct SettingsInput {
     /// existed take the default 0.5 mm).
     #[serde(default = "default_bind_margin")]
     pub bind_margin_mm: f64,
+    /// How far the engine may fall below the launch speed in a clean lock, percent (sheets
+    /// printed before the setting existed take the default 15 %).
+    #[serde(default = "default_launch_bog")]
+    pub launch_bog_pct: f64,
 }
 
 fn full_share() -> f64 {
@@ -42,6 +46,10 @@ fn full_share() -> f64 {
 
 fn default_bind_margin() -> f64 {
     clutch::capacity::clamp::DEFAULT_BIND_MARGIN_MM
+}
+
+fn default_launch_bog() -> f64 {
+    clutch::launch::target::Clean::default().max_bog_share * 100.0
 }
 
 impl Default for SettingsInput {
@@ -60,11 +68,19 @@ impl Default for SettingsInput {
             time_zone: String::new(),
             extra_face_efficiency: full_share(),
             bind_margin_mm: default_bind_margin(),
+            launch_bog_pct: default_launch_bog(),
         }
     }
 }
 
 impl SettingsInput {
+    /// What the launch preview's searches count as a clean lock.
+    pub fn clean_lock(&self) -> clutch::launch::target::Clean {
+        clutch::launch::target::Clean {
+            max_bog_share: self.launch_bog_pct / 100.0,
+        }
+    }
+
     /// The shop's display units.
     pub fn units(&self) -> Units {
         Units::from_key(&self.units).unwrap_or_default()
@@ -226,6 +242,18 @@ impl Record for SettingsInput {
                 get: |r| Some(r.bind_margin_mm),
                 // Blank: the default 0.5 mm.
                 set: |r, v| r.bind_margin_mm = v.unwrap_or_else(default_bind_margin),
+            },
+        },
+        Field {
+            column: "launch_bog_pct",
+            form: "launch_bog_pct",
+            label: "Clean lock: engine may fall below the launch speed by at most",
+            value: Value::Number {
+                limit: limits::LAUNCH_BOG,
+                required: false,
+                get: |r| Some(r.launch_bog_pct),
+                // Blank: the default 15 %.
+                set: |r, v| r.launch_bog_pct = v.unwrap_or_else(default_launch_bog),
             },
         },
         Field {

@@ -99,6 +99,21 @@ impl TestApp {
         }
     }
 
+    /// The demo shop (`serve --demo`) on a fresh database; sign in with [`TestApp::login_demo`].
+    pub async fn demo() -> Self {
+        let tmp = TempDb::new();
+        let pool = db::open(&tmp.path).await.expect("database opens");
+        assert!(lockpoint::demo::seed_if_empty(&pool).await.unwrap());
+        let state = AppState::new(pool.clone());
+        let router = app(state.clone());
+        Self {
+            pool,
+            router,
+            state,
+            _db: tmp,
+        }
+    }
+
     pub async fn send(&self, req: Request<Body>) -> Reply {
         let res = self
             .router
@@ -141,10 +156,23 @@ impl TestApp {
 
     /// Signs in through the login form and returns a client carrying the session.
     pub async fn login(&self, name: &str) -> Client<'_> {
+        self.login_with(name, PASSWORD).await
+    }
+
+    /// Signs in as the demo shop's technician.
+    pub async fn login_demo(&self) -> Client<'_> {
+        self.login_with(
+            lockpoint::demo::DEMO_TECH_USERNAME,
+            lockpoint::demo::DEMO_PASSWORD,
+        )
+        .await
+    }
+
+    async fn login_with(&self, name: &str, password: &str) -> Client<'_> {
         let reply = self
             .post_form(
                 "/login",
-                &[("username", name), ("password", PASSWORD), ("next", "/")],
+                &[("username", name), ("password", password), ("next", "/")],
                 None,
             )
             .await;

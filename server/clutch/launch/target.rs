@@ -30,11 +30,41 @@ pub struct LaunchPick {
     pub run: LaunchRun,
     /// Simulations run to find it.
     pub runs: usize,
-    /// False when no counterweight on the grid meets the target (the nearest end is given).
+    /// False when no counterweight on the grid meets the target cleanly (the nearest end is
+    /// given, or for slip energy the least that meets it, which then is not clean).
     pub met: bool,
-    /// For a lockup time: the next counterweight up spins the tires or pulls the engine below
-    /// its torque curve (a lock that early comes only that way, so the pick stops short).
-    pub too_much_beyond: bool,
+    /// What stopped the search short of the target: the next counterweight up (lockup time), or
+    /// the pick itself (slip energy), spins the tires, bogs the engine or pulls it below its
+    /// torque curve.
+    pub beyond: Option<NotClean>,
+}
+
+/// Why a launch is not a clean lock.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum NotClean {
+    /// The tires broke loose.
+    TireSpin,
+    /// The engine fell to `min_rpm`, more than the allowed share below the launch speed.
+    Bog { min_rpm: f64, launch_rpm: f64 },
+    /// The engine was pulled below the bottom of its torque curve (the run stops there).
+    BelowCurve,
+}
+
+/// What a clean lock allows.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Clean {
+    /// The most the engine speed may fall below the launch speed, as a share of it (0.15: a
+    /// 4500 rpm launch may dip to 3825 rpm). A shop setting; 15 % is common shop practice, no
+    /// published source.
+    pub max_bog_share: f64,
+}
+
+impl Default for Clean {
+    fn default() -> Self {
+        Self {
+            max_bog_share: 0.15,
+        }
+    }
 }
 
 /// How the launch preview searches counterweight.
@@ -64,32 +94,52 @@ fn with_counterweight(valid: &ValidLaunch, counterweight_g: f64) -> LaunchModel 
     m
 }
 
-/// The clamp is too much for the car: the tires spin, or the engine is pulled below its curve.
-fn too_much(run: &LaunchRun) -> bool {
-    !run.tire_spin.is_empty()
-        || run
-            .events
-            .iter()
-            .any(|e| matches!(e.event, Event::LeftCurve { above: false, .. }))
+/// Whether the clamp is too much for the car in `run` from `launch_rad_s`: the tires spin, the
+/// engine is pulled below its curve, or it falls more than `clean` allows below the launch speed.
+pub fn not_clean(run: &LaunchRun, launch_rad_s: f64, clean: Clean) -> Option<NotClean> {
+    let rpm = |w: f64| w / crate::units::RAD_S_PER_RPM;
+    if !run.tire_spin.is_empty() {
+        Some(NotClean::TireSpin)
+    } else if run
+        .events
+        .iter()
+        .any(|e| matches!(e.event, Event::LeftCurve { above: false, .. }))
+    {
+        Some(NotClean::BelowCurve)
+    } else if run.min_engine_rad_s < launch_rad_s * (1.0 - clean.max_bog_share) {
+        Some(NotClean::Bog {
+            min_rpm: rpm(run.min_engine_rad_s),
+            launch_rpm: rpm(launch_rad_s),
+        })
+    } else {
+        None
+    }
 }
 
-/// A measure that falls as counterweight rises. For a lockup time a launch that spins the tires
-/// or bogs the engine out of its curve counts as past every target: that is not the lock wanted.
-fn measure(run: &LaunchRun, target: LaunchTarget) -> f64 {
+/// A measure that falls as counterweight rises. For a lockup time a launch that is not a clean
+/// lock counts as past every target: that is not the lock wanted. For slip energy a run that
+/// ends still slipping has taken an unknown total, more than any limit: its energy so far is
+/// never compared with a complete run's.
+fn measure(run: &LaunchRun, target: LaunchTarget, launch_rad_s: f64, clean: Clean) -> f64 {
     match target {
-        LaunchTarget::LockupTime(_) if too_much(run) => f64::NEG_INFINITY,
+        LaunchTarget::LockupTime(_) if not_clean(run, launch_rad_s, clean).is_some() => {
+            f64::NEG_INFINITY
+        }
         LaunchTarget::LockupTime(_) => run.lockup.map_or(f64::INFINITY, |l| l.time_s),
+        LaunchTarget::MaxSlipEnergy(_) if run.lockup.is_none() => f64::INFINITY,
         LaunchTarget::MaxSlipEnergy(_) => run.slip_energy_j,
     }
 }
 
 /// Searches counterweight on `grid` at the clutch's adjuster turns for `target` (see the module
-/// notes). Lockup time: the step whose lock time is nearest the target. Slip energy: the least
-/// counterweight within the limit. The target must be positive (s or J); the clutch needs levers.
+/// notes). Lockup time: the step whose lock time is nearest the target among clean locks
+/// (`clean`). Slip energy: the least counterweight within the limit, said not to be met when
+/// that launch is not clean. The target must be positive (s or J); the clutch needs levers.
 pub fn find_counterweight(
     valid: &ValidLaunch,
     target: LaunchTarget,
     grid: Grid,
+    clean: Clean,
 ) -> Result<LaunchPick, InputError> {
     let u = Units::Metric;
     let (field, goal) = match target {
@@ -103,6 +153,9 @@ pub fn find_counterweight(
             "a clutch without levers has no counterweight to set",
         ));
     }
+    crate::require_range("clean.max_bog_share", clean.max_bog_share, 0.0, 1.0)?;
+    let launch_rad_s = valid.model.launch_rad_s;
+    let measure = |run: &LaunchRun| measure(run, target, launch_rad_s, clean);
     let step = limits::COUNTERWEIGHT.check("grid.step_g", grid.step_g, u)?;
     let max = limits::COUNTERWEIGHT.check("grid.max_g", grid.max_g, u)?;
     if step <= 0.0 {
@@ -117,25 +170,25 @@ pub fn find_counterweight(
     // Smallest k whose measure is at or below the goal (measure falls with k).
     let (mut lo, mut hi) = (0usize, n);
     let mut hi_run = run_at(n);
-    if measure(&hi_run, target) > goal {
+    if measure(&hi_run) > goal {
         return Ok(LaunchPick {
             adjuster_turns: valid.clutch.adjuster_turns,
             counterweight_g: n as f64 * step,
+            beyond: not_clean(&hi_run, launch_rad_s, clean),
             run: hi_run,
             runs,
             met: false,
-            too_much_beyond: false,
         });
     }
     let lo_run = run_at(0);
-    if measure(&lo_run, target) <= goal {
+    if measure(&lo_run) <= goal {
         hi = 0;
         hi_run = lo_run.clone();
     } else {
         while hi - lo > 1 {
             let mid = (lo + hi) / 2;
             let r = run_at(mid);
-            if measure(&r, target) <= goal {
+            if measure(&r) <= goal {
                 hi = mid;
                 hi_run = r;
             } else {
@@ -143,14 +196,15 @@ pub fn find_counterweight(
             }
         }
     }
-    let spins = too_much(&hi_run);
+    let rough = not_clean(&hi_run, launch_rad_s, clean);
+    let spins = rough.is_some();
     let (k, run, met) = match target {
-        LaunchTarget::MaxSlipEnergy(_) => (hi, hi_run, true),
+        LaunchTarget::MaxSlipEnergy(_) => (hi, hi_run, !spins),
         LaunchTarget::LockupTime(t) if hi > 0 => {
             // The step just below may lock nearer the target from the slow side, and is the
             // pick when the step found only gets there by spinning the tires.
             let below = run_at(hi - 1);
-            let nearer = (measure(&below, target) - t).abs() < (measure(&hi_run, target) - t).abs();
+            let nearer = (measure(&below) - t).abs() < (measure(&hi_run) - t).abs();
             if spins || nearer {
                 (hi - 1, below, !spins)
             } else {
@@ -165,7 +219,7 @@ pub fn find_counterweight(
         run,
         runs,
         met,
-        too_much_beyond: spins && matches!(target, LaunchTarget::LockupTime(_)),
+        beyond: rough,
     })
 }
 
@@ -235,19 +289,35 @@ mod tests {
                 da.total_cmp(&db)
             })
             .map(|(g, _)| *g);
-        let pick = find_counterweight(&v, LaunchTarget::LockupTime(target), grid).expect("ok");
+        let pick = find_counterweight(&v, LaunchTarget::LockupTime(target), grid, Clean::default())
+            .expect("ok");
         assert!(pick.met);
         assert_eq!(Some(pick.counterweight_g), best);
         assert!(pick.runs < all.len() / 2, "{} runs", pick.runs);
 
         let limit = all[6].1.slip_energy_j + 1.0;
+        // A run still slipping at its end has taken an unknown total: never within a limit.
         let least = all
             .iter()
-            .find(|(_, r)| r.slip_energy_j <= limit)
+            .find(|(_, r)| r.lockup.is_some() && r.slip_energy_j <= limit)
             .map(|(g, _)| *g);
-        let pick = find_counterweight(&v, LaunchTarget::MaxSlipEnergy(limit), grid).expect("ok");
+        let pick = find_counterweight(
+            &v,
+            LaunchTarget::MaxSlipEnergy(limit),
+            grid,
+            Clean::default(),
+        )
+        .expect("ok");
         assert_eq!(Some(pick.counterweight_g), least);
         assert!(pick.run.slip_energy_j <= limit);
+        // Lighter settings still slipping at the end of the run show less energy so far; the
+        // search once took one of those as the pick.
+        assert!(
+            all.iter().any(|(g, r)| r.lockup.is_none()
+                && r.slip_energy_j <= limit
+                && *g < pick.counterweight_g),
+            "the case has a partial run below the limit"
+        );
     }
 
     // A worn clutch (static clamp lost since the last shim) is searched as it is: the pick's run
@@ -259,8 +329,13 @@ mod tests {
         req.springs.clamp_loss = 600.0;
         let v = req.validate().expect("valid");
         let base = v.model.simulate().lockup.expect("locks").time_s;
-        let pick = find_counterweight(&v, LaunchTarget::LockupTime(base * 0.8), Grid::default())
-            .expect("ok");
+        let pick = find_counterweight(
+            &v,
+            LaunchTarget::LockupTime(base * 0.8),
+            Grid::default(),
+            Clean::default(),
+        )
+        .expect("ok");
         req.levers.as_mut().expect("levers").counterweight_g = pick.counterweight_g;
         let tried = req.validate().expect("valid").model.simulate();
         assert_eq!(
@@ -273,15 +348,64 @@ mod tests {
     #[test]
     fn an_unreachable_target_says_so() {
         let v = valid();
-        let pick =
-            find_counterweight(&v, LaunchTarget::LockupTime(0.001), Grid::default()).expect("ok");
+        let pick = find_counterweight(
+            &v,
+            LaunchTarget::LockupTime(0.001),
+            Grid::default(),
+            Clean::default(),
+        )
+        .expect("ok");
         // No lock in a millisecond: the search stops where more counterweight is too much.
-        assert!(!pick.met && pick.too_much_beyond);
-        assert!(!too_much(&pick.run) && pick.run.lockup.is_some());
+        assert!(!pick.met && pick.beyond.is_some());
+        let rough = |r: &LaunchRun| not_clean(r, v.model.launch_rad_s, Clean::default());
+        assert!(rough(&pick.run).is_none() && pick.run.lockup.is_some());
         let one_more = with_counterweight(&v, pick.counterweight_g + 1.0).simulate();
-        assert!(too_much(&one_more));
+        assert!(rough(&one_more).is_some());
         assert!(
-            find_counterweight(&v, LaunchTarget::MaxSlipEnergy(-1.0), Grid::default()).is_err()
+            find_counterweight(
+                &v,
+                LaunchTarget::MaxSlipEnergy(-1.0),
+                Grid::default(),
+                Clean::default()
+            )
+            .is_err()
         );
+    }
+
+    // Issue 26, item 3: a lock that comes only by dragging the engine far below the launch
+    // speed is not clean. The reference launch on grippier tires (so the tires do not break
+    // loose first), aiming at a lock no counterweight reaches: without the bog rule the search
+    // climbs until the engine leaves its curve; with the shop's 15 % (common shop practice, no
+    // published source) it stops at the last counterweight whose engine stays at or above
+    // 85 % of the launch speed, and says the next one bogs.
+    #[test]
+    fn the_search_refuses_a_lock_that_bogs_the_engine() {
+        let mut req = request();
+        req.vehicle.tire_grip = 4.0;
+        req.vehicle.tire_grip_spinning = 3.5;
+        let v = req.validate().expect("valid");
+        let launch = v.model.launch_rad_s;
+        let target = LaunchTarget::LockupTime(0.001);
+        let loose = Clean { max_bog_share: 1.0 };
+        let anything = find_counterweight(&v, target, Grid::default(), loose).expect("ok");
+        assert!(
+            anything.run.min_engine_rad_s < 0.85 * launch,
+            "without the rule the pick bogs: {} of {launch} rad/s",
+            anything.run.min_engine_rad_s
+        );
+        let pick = find_counterweight(&v, target, Grid::default(), Clean::default()).expect("ok");
+        assert!(!pick.met);
+        assert!(pick.run.min_engine_rad_s >= 0.85 * launch);
+        assert!(pick.counterweight_g < anything.counterweight_g);
+        let Some(NotClean::Bog {
+            min_rpm,
+            launch_rpm,
+        }) = pick.beyond
+        else {
+            panic!("{:?}", pick.beyond);
+        };
+        assert!(min_rpm < 0.85 * launch_rpm && (launch_rpm - 6000.0).abs() < 1e-6);
+        let one_more = with_counterweight(&v, pick.counterweight_g + 1.0).simulate();
+        assert!(one_more.min_engine_rad_s < 0.85 * launch);
     }
 }

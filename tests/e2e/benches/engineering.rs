@@ -10,7 +10,7 @@ use clutch::capacity::recommend::{Limits, RecommendRequest, Steps, Targets};
 use clutch::capacity::request::{
     CapacityRequest, DiscInput, EngineInput, FrictionInput, LeversInput, SpringsInput,
 };
-use clutch::launch::target::{Grid, LaunchTarget, find_counterweight};
+use clutch::launch::target::{Clean, Grid, LaunchTarget, find_counterweight};
 use clutch::units::Units;
 use criterion::{Criterion, criterion_group, criterion_main};
 
@@ -110,7 +110,10 @@ fn benches(c: &mut Criterion) {
     let valid = launch_request().validate().expect("valid launch");
     let target = LaunchTarget::LockupTime(1.5);
     c.bench_function("counterweight for a 1.5 s lockup, launch preview", |b| {
-        b.iter(|| find_counterweight(black_box(&valid), target, Grid::default()).unwrap())
+        b.iter(|| {
+            find_counterweight(black_box(&valid), target, Grid::default(), Clean::default())
+                .unwrap()
+        })
     });
     let valid = request().validate().expect("valid request");
     let law = valid.model.law();

@@ -8,7 +8,7 @@ use crate::web::pages::chart::Chart;
 use crate::web::pages::show::Show;
 use clutch::launch::request::{LaunchReport, describe};
 use clutch::launch::simulation::LaunchRun;
-use clutch::launch::target::{Grid, LaunchTarget, find_counterweight};
+use clutch::launch::target::{Grid, LaunchTarget, NotClean, find_counterweight};
 use clutch::units::Units;
 
 /// One setting's launch, ready to show.
@@ -124,6 +124,11 @@ fn power_chart(report: &LaunchReport, title: &str) -> Chart {
 
 fn figures(report: &LaunchReport, u: Units) -> Vec<(&'static str, String)> {
     let speed = u.road_speed_label();
+    let end_s = report.trace.last().map_or(0.0, |p| p.time_s);
+    let so_far = |figure: String| match report.lockup {
+        Some(_) => figure,
+        None => format!("so far {figure}, not locked by {end_s:.2} s"),
+    };
     let rise = match u {
         Units::Imperial => "°F",
         Units::Metric => "K",
@@ -158,7 +163,11 @@ fn figures(report: &LaunchReport, u: Units) -> Vec<(&'static str, String)> {
             "Lowest engine speed",
             format!("{:.0} rpm", report.min_engine_rpm),
         ),
-        ("Slip energy", format!("{:.0} kJ", report.slip_energy_kj)),
+        // A run that ends still slipping gives figures so far, never read as a whole launch's.
+        (
+            "Slip energy",
+            so_far(format!("{:.0} kJ", report.slip_energy_kj)),
+        ),
         (
             "Peak slip power",
             format!("{:.0} kW", report.peak_slip_power_kw),
@@ -166,10 +175,10 @@ fn figures(report: &LaunchReport, u: Units) -> Vec<(&'static str, String)> {
         (
             "Pressure plate / flywheel rise",
             report.thermal.as_ref().map_or("–".into(), |t| {
-                format!(
+                so_far(format!(
                     "{:.0} / {:.0} {rise}",
                     t.pressure_plate_rise, t.flywheel_rise
-                )
+                ))
             }),
         ),
         ("Tire spin", spin),
@@ -259,7 +268,8 @@ pub fn target_column(
             .request
             .validate()
             .map_err(|e| format!("{}: {}", e.field, e.message))?;
-        let pick = find_counterweight(&valid, target, Grid::default()).map_err(|e| e.message)?;
+        let pick = find_counterweight(&valid, target, Grid::default(), facts.settings.clean_lock())
+            .map_err(|e| e.message)?;
         setting = setting_text(u, pick.adjuster_turns, pick.counterweight_g, rpm);
         let mut s = shown(&pick.run, &plan, valid.model.duration_s, title, u);
         let goal = match target {
@@ -268,26 +278,41 @@ pub fn target_column(
                 format!("at most {:.0} kJ of slip energy", e / 1000.0)
             }
         };
+        let why = |beyond: &NotClean| match beyond {
+            NotClean::TireSpin => "spins the tires".to_string(),
+            NotClean::BelowCurve => "pulls the engine below its torque curve".to_string(),
+            NotClean::Bog {
+                min_rpm,
+                launch_rpm,
+            } => format!(
+                "drags the engine down to {min_rpm:.0} rpm from the {launch_rpm:.0} rpm launch, \
+                 more than the shop's {:.0} % (Settings)",
+                facts.settings.launch_bog_pct
+            ),
+        };
         s.notes.insert(
             0,
-            if pick.too_much_beyond {
-                format!(
-                    "Aiming to {goal}: one gram more spins the tires or pulls the engine below \
-                     its torque curve, so this is as early as the clutch locks cleanly ({} \
-                     launches simulated).",
+            match (&pick.beyond, target) {
+                (Some(b), LaunchTarget::LockupTime(_)) => format!(
+                    "Aiming to {goal}: one gram more {}, so this is as early as the clutch locks \
+                     cleanly ({} launches simulated).",
+                    why(b),
                     pick.runs
-                )
-            } else if pick.met {
-                format!(
+                ),
+                (Some(b), LaunchTarget::MaxSlipEnergy(_)) => format!(
+                    "The least counterweight that keeps {goal} {}: no clean setting at the \
+                     current turns meets the target.",
+                    why(b)
+                ),
+                _ if pick.met => format!(
                     "Counterweight searched in 1 g steps (0–120 g) at the current turns to {goal}; \
                      {} launches simulated.",
                     pick.runs
-                )
-            } else {
-                format!(
+                ),
+                _ => format!(
                     "No counterweight up to 120 g at the current turns meets the target ({goal}); \
                      this is the nearest. More static clamp (turns) or a lower launch speed may."
-                )
+                ),
             },
         );
         Ok(s)
