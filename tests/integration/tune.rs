@@ -599,3 +599,28 @@ async fn a_run_that_ends_still_slipping_says_its_figures_are_so_far() {
         rows[1]
     );
 }
+
+/// Issue 26, item 9: the launch preview read against the car's own records. The demo's first
+/// build has passes with recorded 60-ft times (invented demo data); the preview shows them
+/// beside its own and, being far slower than 5 % (common shop practice, no published source),
+/// says so and names the estimated inputs most likely at fault.
+#[tokio::test]
+async fn the_preview_shows_the_recorded_sixty_feet_and_says_when_it_is_far_off() {
+    let app = TestApp::demo().await;
+    let client = app.login_demo().await;
+    let page = client.get("/builds/1/tune").await;
+    assert_eq!(page.status, StatusCode::OK);
+    let row = page
+        .body
+        .split("<td>60 ft</td><td class=\"num\">")
+        .nth(1)
+        .and_then(|rest| rest.split("</td>").next())
+        .expect("the 60 ft row");
+    assert_eq!(row, "1.84 s (this car: 1.38–1.42 s recorded in 5 passes)");
+    // 1.84 against a mean of about 1.40 s: about 31 % slower.
+    assert!(
+        page.body.contains("The preview&#39;s 60 ft (1.84 s) is 31 % slower than this car&#39;s"),
+        "the difference is said"
+    );
+    assert!(page.body.contains("Most likely at fault: the estimated tire grip (hooked)"));
+}

@@ -3,7 +3,7 @@
 
 use crate::model::Trial;
 use crate::model::as_of::BuildAsOf;
-use crate::model::launch::LaunchPlan;
+use crate::model::launch::{LaunchPlan, SixtyFtCheck};
 use crate::web::pages::chart::Chart;
 use crate::web::pages::show::Show;
 use clutch::launch::request::{LaunchReport, describe};
@@ -196,23 +196,75 @@ fn shown(
     plan: &LaunchPlan,
     duration_s: f64,
     title: &str,
+    recorded_sixty_ft: &[f64],
     u: Units,
 ) -> LaunchShown {
     let report = LaunchReport::of(run, duration_s, u);
     let short = title.to_lowercase();
+    let mut figures = figures(&report, u);
+    let mut notes = report.notes.clone();
+    if let Some(predicted) = report.sixty_ft_s
+        && let Some(check) = SixtyFtCheck::of(predicted, recorded_sixty_ft, &plan.estimated)
+    {
+        sixty_ft_against_the_record(&mut figures, &mut notes, predicted, &check);
+    }
     LaunchShown {
         speed_chart: speed_chart(&report, &short),
         power_chart: power_chart(&report, &short),
-        figures: figures(&report, u),
+        figures,
         events: run
             .events
             .iter()
             .map(|e| (format!("{:.3} s", e.time_s), describe(&e.event, u)))
             .collect(),
-        notes: report.notes.clone(),
+        notes,
         estimated: plan.estimated.iter().map(|e| e.text(u)).collect(),
         plate_rise_k: run.plate_rise_k.map_or(0.0, |r| r.0),
         slip: report.slip_text(),
+    }
+}
+
+/// The 60-ft figure with the car's recorded times beside it, and a note when the preview is
+/// further from them than the shop's tolerance, naming the estimated inputs most likely at fault.
+fn sixty_ft_against_the_record(
+    figures: &mut [(&'static str, String)],
+    notes: &mut Vec<String>,
+    predicted: f64,
+    check: &SixtyFtCheck,
+) {
+    let (lo, hi) = check.recorded;
+    let recorded = if check.passes == 1 {
+        format!("{lo:.2} s recorded")
+    } else {
+        format!("{lo:.2}–{hi:.2} s recorded in {} passes", check.passes)
+    };
+    if let Some(f) = figures.iter_mut().find(|f| f.0 == "60 ft") {
+        f.1 = format!("{predicted:.2} s (this car: {recorded})");
+    }
+    if check.differs() {
+        let way = if check.off_pct > 0.0 {
+            "slower"
+        } else {
+            "quicker"
+        };
+        let suspects = match check.suspects.as_slice() {
+            [] => "the car's recorded inputs (weight, gearing, tire size) and the torque curve"
+                .to_string(),
+            list => format!(
+                "the estimated {} (not yet in the car's record)",
+                list.iter().take(3).copied().collect::<Vec<_>>().join(", ")
+            ),
+        };
+        notes.insert(
+            0,
+            format!(
+                "The preview's 60 ft ({predicted:.2} s) is {:.0} % {way} than this car's \
+                 ({recorded}): more than {:.0} %, so read its times with care. Most likely at \
+                 fault: {suspects}.",
+                check.off_pct.abs(),
+                crate::model::launch::SIXTY_FT_TOLERANCE_PCT
+            ),
+        );
     }
 }
 
@@ -233,6 +285,7 @@ pub fn column(
     title: &str,
     trial: Trial,
     launch_rpm: Option<f64>,
+    recorded_sixty_ft: &[f64],
     u: Units,
 ) -> LaunchColumn {
     let plan = facts.launch_request(trial, launch_rpm);
@@ -243,7 +296,14 @@ pub fn column(
             .validate()
             .map_err(|e| format!("{}: {}", e.field, e.message))?;
         let run = valid.model.simulate();
-        Ok(shown(&run, &plan, valid.model.duration_s, title, u))
+        Ok(shown(
+            &run,
+            &plan,
+            valid.model.duration_s,
+            title,
+            recorded_sixty_ft,
+            u,
+        ))
     });
     LaunchColumn {
         title: title.to_string(),
@@ -258,6 +318,7 @@ pub fn target_column(
     facts: &BuildAsOf,
     current: Trial,
     target: LaunchTarget,
+    recorded_sixty_ft: &[f64],
     u: Units,
 ) -> LaunchColumn {
     let title = "For the launch target";
@@ -271,7 +332,14 @@ pub fn target_column(
         let pick = find_counterweight(&valid, target, Grid::default(), facts.settings.clean_lock())
             .map_err(|e| e.message)?;
         setting = setting_text(u, pick.adjuster_turns, pick.counterweight_g, rpm);
-        let mut s = shown(&pick.run, &plan, valid.model.duration_s, title, u);
+        let mut s = shown(
+            &pick.run,
+            &plan,
+            valid.model.duration_s,
+            title,
+            recorded_sixty_ft,
+            u,
+        );
         let goal = match target {
             LaunchTarget::LockupTime(t) => format!("lock {t:.2} s after the launch"),
             LaunchTarget::MaxSlipEnergy(e) => {

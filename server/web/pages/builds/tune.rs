@@ -189,6 +189,12 @@ async fn render_tune(
             let calibration = calibration.map_err(|e| e.message);
             let friction = facts.friction.clone();
             let current_trial = facts.trial;
+            // The 60-ft times the car's passes recorded, for the launch preview to be read against.
+            let recorded_sixty_ft: Vec<f64> = dossier
+                .passes
+                .iter()
+                .filter_map(|p| p.data.sixty_ft_s)
+                .collect();
             let current = facts.figures(page.units());
 
             let mut form = FormData::new(query.into_iter().collect());
@@ -266,6 +272,7 @@ async fn render_tune(
                 current.is_ok(),
                 current_trial,
                 (&trial, &recommendation, recommended_from),
+                &recorded_sixty_ft,
             );
             let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
             let chart = match (&current, shown) {
@@ -314,6 +321,7 @@ fn launch_columns(
         &Option<Recommendation>,
         Trial,
     ),
+    recorded_sixty_ft: &[f64],
 ) -> Vec<LaunchColumn> {
     let units = ctx.units;
     let tried_rpm = if form.get("try") == "1" && !form.get("launch_rpm").is_empty() {
@@ -357,6 +365,7 @@ fn launch_columns(
         "Current setup",
         current_trial,
         None,
+        recorded_sixty_ft,
         units,
     )];
     if let Some(target) = target {
@@ -364,6 +373,7 @@ fn launch_columns(
             facts,
             current_trial,
             target,
+            recorded_sixty_ft,
             units,
         ));
         return columns;
@@ -382,7 +392,12 @@ fn launch_columns(
     };
     if let Some((title, t)) = other {
         columns.push(crate::web::pages::builds::launch::column(
-            facts, title, t, tried_rpm, units,
+            facts,
+            title,
+            t,
+            tried_rpm,
+            recorded_sixty_ft,
+            units,
         ));
     }
     columns
