@@ -619,8 +619,12 @@ async fn the_preview_shows_the_recorded_sixty_feet_and_says_when_it_is_far_off()
     assert_eq!(row, "1.84 s (this car: 1.38–1.42 s recorded in 5 passes)");
     // 1.84 against a mean of about 1.40 s: about 31 % slower.
     assert!(
-        page.body.contains("The preview&#39;s 60 ft (1.84 s) is 31 % slower than this car&#39;s"),
+        page.body
+            .contains("The preview&#39;s 60 ft (1.84 s) is 31 % slower than this car&#39;s"),
         "the difference is said"
     );
-    assert!(page.body.contains("Most likely at fault: the estimated tire grip (hooked)"));
+    assert!(
+        page.body
+            .contains("Most likely at fault: the estimated tire grip (hooked)")
+    );
 }

@@ -271,8 +271,12 @@ async fn render_tune(
                 &page.ctx,
                 current.is_ok(),
                 current_trial,
-                (&trial, &recommendation, recommended_from),
-                &recorded_sixty_ft,
+                (
+                    &trial,
+                    &recommendation,
+                    recommended_from,
+                    &recorded_sixty_ft,
+                ),
             );
             let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
             let chart = match (&current, shown) {
@@ -316,12 +320,12 @@ fn launch_columns(
     ctx: &Ctx,
     capacity_ok: bool,
     current_trial: Trial,
-    (trial, recommendation, recommended_from): (
+    (trial, recommendation, recommended_from, recorded_sixty_ft): (
         &Option<(Trial, Figures)>,
         &Option<Recommendation>,
         Trial,
+        &[f64],
     ),
-    recorded_sixty_ft: &[f64],
 ) -> Vec<LaunchColumn> {
     let units = ctx.units;
     let tried_rpm = if form.get("try") == "1" && !form.get("launch_rpm").is_empty() {
