@@ -271,12 +271,12 @@ async fn render_tune(
                 &page.ctx,
                 current.is_ok(),
                 current_trial,
-                (
-                    &trial,
-                    &recommendation,
+                Asked {
+                    trial: &trial,
+                    recommendation: &recommendation,
                     recommended_from,
-                    &recorded_sixty_ft,
-                ),
+                    recorded_sixty_ft: &recorded_sixty_ft,
+                },
             );
             let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
             let chart = match (&current, shown) {
@@ -310,6 +310,16 @@ async fn render_tune(
         .await?
 }
 
+/// What the tuning page was asked to show beside the current setup, for the launch preview: a
+/// setting tried, a recommendation and the setting it started from, and the 60-ft times the
+/// car's passes recorded.
+struct Asked<'a> {
+    trial: &'a Option<(Trial, Figures)>,
+    recommendation: &'a Option<Recommendation>,
+    recommended_from: Trial,
+    recorded_sixty_ft: &'a [f64],
+}
+
 /// The launch preview columns: the current setup from the car's launch speed, and beside it the
 /// recommended or tried setting from the launch speed tried (`launch_rpm`, with `try=1`).
 /// Prefills the launch speed with the car's.
@@ -320,13 +330,14 @@ fn launch_columns(
     ctx: &Ctx,
     capacity_ok: bool,
     current_trial: Trial,
-    (trial, recommendation, recommended_from, recorded_sixty_ft): (
-        &Option<(Trial, Figures)>,
-        &Option<Recommendation>,
-        Trial,
-        &[f64],
-    ),
+    asked: Asked,
 ) -> Vec<LaunchColumn> {
+    let Asked {
+        trial,
+        recommendation,
+        recommended_from,
+        recorded_sixty_ft,
+    } = asked;
     let units = ctx.units;
     let tried_rpm = if form.get("try") == "1" && !form.get("launch_rpm").is_empty() {
         field::number(form, "launch_rpm", limits::ENGINE_SPEED, units, errors)
