@@ -127,6 +127,15 @@ async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
     assert!(h.body.contains("enter a number"));
     assert!(h.body.contains("must be between 0 and 3"));
     assert_eq!(app.count("cover_heights").await, 0);
+    // Issue 26, item 6: the top of the page says the save failed and links to the form, and
+    // each refused input asks for the cursor: the browser gives it to the first in the page
+    // (HTML's autofocus), so the page opens at the form.
+    assert!(h.body.contains(
+        "<strong>Not saved.</strong> The cover height has 4 fields to fix: <a href=\"#height-form\">"
+    ));
+    assert_eq!(h.body.matches(" autofocus").count(), 4);
+    let first = h.body.split(" autofocus").next().unwrap_or("");
+    assert!(first[first.rfind("<input").unwrap_or(0)..].contains("name=\"measured_on\""));
 
     let script = client
         .post(

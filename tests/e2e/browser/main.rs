@@ -5,6 +5,7 @@
 //! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/<test>/`.
 
 mod counter;
+mod entries;
 mod harness;
 mod tuning;
 

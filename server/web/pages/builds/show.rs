@@ -89,6 +89,21 @@ pub struct ShowPage {
 }
 
 impl ShowPage {
+    /// The entry form the page was re-shown for because its save was refused: what it records,
+    /// the id of the form (to link to), and how many of its inputs need fixing.
+    pub fn refused(&self) -> Option<(&'static str, &'static str, usize)> {
+        [
+            ("setup change", "setup-form", self.setup_form()),
+            ("setup sheet", "sheet-form", self.sheet_form()),
+            ("bench test", "bench-form", self.bench_form()),
+            ("cover height", "height-form", self.height_form()),
+            ("track pass", "pass-form", self.pass_form()),
+        ]
+        .into_iter()
+        .find(|(_, _, f)| !f.errors.is_empty())
+        .map(|(what, id, f)| (what, id, f.errors.len()))
+    }
+
     pub fn setup_form(&self) -> &EntryForm {
         &self.forms.setup
     }
