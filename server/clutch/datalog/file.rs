@@ -630,6 +630,9 @@ fn cell_end(rest: &[u8], mut p: usize, delim: u8) -> Option<usize> {
     Some(p)
 }
 
+/// 10^0 to 10^7 as integers.
+const POW10_INT: [u64; 8] = [1, 10, 100, 1_000, 10_000, 100_000, 1_000_000, 10_000_000];
+
 /// 2^52: the doubles from it to 2^53 are the integers, one apart.
 const TWO_52: f64 = 4_503_599_627_370_496.0;
 
@@ -685,7 +688,7 @@ fn plain_cell(rest: &[u8], mut p: usize, delim: u8, point: u8) -> Option<(f64, u
         if negative { -v } else { v }
     };
     // A cell of up to 7 characters after its sign, and the byte that ends it, in one 8-byte
-    // word (first byte lowest): the same integer of all the digits and count of decimals as
+    // word (first byte lowest; a longer one with its point in that word, in two): the same integer of all the digits and count of decimals as
     // the byte-wise loop below.
     if p + 8 <= rest.len() {
         const ONES: u64 = 0x0101_0101_0101_0101;
@@ -695,7 +698,8 @@ fn plain_cell(rest: &[u8], mut p: usize, delim: u8, point: u8) -> Option<(f64, u
         let t = w ^ (0x30 * ONES);
         // The high bit of a byte set when it is not 0..9: above 127, or its low 7 bits plus
         // 118 reach bit 7 (≥ 10); the sum stays within the byte (127 + 118 < 256).
-        let not_digit = (t | ((t & (0x7F * ONES)) + 0x76 * ONES)) & (0x80 * ONES);
+        let not_digits = |t: u64| (t | ((t & (0x7F * ONES)) + 0x76 * ONES)) & (0x80 * ONES);
+        let not_digit = not_digits(t);
         let whole = (not_digit.trailing_zeros() / 8) as usize;
         if whole < 8 {
             let (digits, count, frac, end) = if (w >> (8 * whole)) as u8 == point {
@@ -715,6 +719,22 @@ fn plain_cell(rest: &[u8], mut p: usize, delim: u8, point: u8) -> Option<(f64, u
             };
             if end < 8 && count > 0 && ends_at(p + end) {
                 return Some((signed(digits_value(digits, count), frac), p + end));
+            }
+            // Seven characters with the point among them and all digits after it ("100.0000",
+            // "132514.2"): the rest of the digits, up to seven, and the byte that ends the
+            // cell in the next word.
+            if end == 8 && p + 16 <= rest.len() {
+                let t = word(rest, p + 8) ^ (0x30 * ONES);
+                let more = (not_digits(t).trailing_zeros() / 8) as usize;
+                if more < 8 && ends_at(p + 8 + more) {
+                    let head = digits_value(digits, 7);
+                    let m = if more == 0 {
+                        head
+                    } else {
+                        head * POW10_INT[more] + digits_value(t, more)
+                    };
+                    return Some((signed(m, frac + more), p + 8 + more));
+                }
             }
         }
     }
