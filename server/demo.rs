@@ -531,6 +531,7 @@ async fn seed_build(
             et_s: Some(*et),
             observed_lockup_rpm: *lockup,
             notes: String::new(),
+            ..PassInput::default()
         };
         let pass_id = db::passes::insert(
             tx,

@@ -37,6 +37,17 @@ pub fn cooled_c(start_c: f64, ambient_c: f64, elapsed_s: f64, tau_s: f64) -> f64
     ambient_c + (start_c - ambient_c) * (-elapsed_s.max(0.0) / tau_s).exp()
 }
 
+/// A time of day written `HH:MM` (24-hour clock, 00:00–23:59), in seconds after midnight.
+pub fn time_of_day_s(text: &str) -> Option<f64> {
+    let (h, m) = text.trim().split_once(':')?;
+    let ok = |s: &str| s.len() == 2 && s.bytes().all(|b| b.is_ascii_digit());
+    if !ok(h) || !ok(m) {
+        return None;
+    }
+    let (h, m): (u32, u32) = (h.parse().ok()?, m.parse().ok()?);
+    (h < 24 && m < 60).then(|| f64::from(h * 3600 + m * 60))
+}
+
 /// One pass, as far as its launch temperature goes.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct HeatPass {
@@ -168,6 +179,16 @@ mod tests {
         close(cooled_c(120.0, 20.0, 900.0, 900.0), 20.0 + 36.787_944, 1e-5);
         close(cooled_c(120.0, 20.0, 0.0, 900.0), 120.0, 1e-12);
         close(cooled_c(120.0, 20.0, 1e6, 900.0), 20.0, 1e-9);
+    }
+
+    #[test]
+    fn time_of_day_reads_the_24_hour_clock() {
+        assert_eq!(time_of_day_s("00:00"), Some(0.0));
+        assert_eq!(time_of_day_s("10:15"), Some(36_900.0));
+        assert_eq!(time_of_day_s("23:59"), Some(86_340.0));
+        for bad in ["24:00", "12:60", "9:15", "12:5", "", "ab:cd", "12-15"] {
+            assert_eq!(time_of_day_s(bad), None, "{bad}");
+        }
     }
 
     #[test]
