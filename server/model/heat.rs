@@ -33,6 +33,13 @@ pub struct MuVsTemperature {
     pub tau_s: f64,
 }
 
+impl MuVsTemperature {
+    /// The line's μ at `theta_c` (°C).
+    pub fn mu_at(&self, theta_c: f64) -> f64 {
+        self.mu0 + self.k_per_k * (theta_c - self.theta_ref_c)
+    }
+}
+
 /// Each calibrated pass's launch temperature and μ, and the line through them or why not.
 #[derive(Debug, Clone, PartialEq)]
 pub struct HeatStudy {

@@ -814,6 +814,20 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
         "{m}"
     );
     assert!(v["mu_vs_temperature_reason"].is_null());
+    // The tuning page says it in words, per 100 degrees of the shop's scale, with the chart.
+    let page = app
+        .login("sam")
+        .await
+        .get(&format!("/builds/{id}/tune"))
+        .await;
+    let falls_c = "μ falls 0.020 per 100 °C"; // −0.0002 /K × 100 K [derived]
+    let falls_f = "μ falls 0.011 per 100 °F"; // −0.0002 /K × 100 × 5/9 K [derived]
+    assert!(
+        page.body.contains(falls_c) || page.body.contains(falls_f),
+        "{}",
+        page.body
+    );
+    assert!(page.body.contains("launch temperature, °"), "no heat chart");
 
     // A badly written time of day is refused with the field named.
     let bad = json!({"run_on": "2026-10-09", "run_at": "25:00"});
