@@ -13,6 +13,8 @@ pub mod due;
 pub mod energy;
 /// The build now with the friction in force (its calibration under the one rule).
 pub mod friction;
+/// Friction against the facing's temperature at launch, from the passes of a season.
+pub mod heat;
 /// A stored build's launch preview request, with estimates for what the car's record lacks.
 pub mod launch;
 /// A build's disc: its cover heights as a wear request, its pass count, its shimming limit.

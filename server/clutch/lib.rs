@@ -11,6 +11,8 @@ pub mod calibration;
 pub mod capacity;
 /// A logger's CSV file read and analysed: launch, lockup, slip, clutch torque, slip energy.
 pub mod datalog;
+/// Friction against heat: launch temperatures through a day and μ against temperature.
+pub mod heat;
 /// Launch preview: engine, slipping clutch, driveline and tyres simulated through a launch.
 pub mod launch;
 /// Quantity kinds (internal and display units) and the one table of limits.

@@ -394,6 +394,8 @@ pub mod limits {
     pub const SPECIFIC_HEAT: Limit = Limit::new(SpecificHeat, Excl(0.0), Incl(5_000.0));
     /// Plate temperature (start, or a point of μ against temperature).
     pub const PLATE_TEMPERATURE: Limit = Limit::new(Temperature, Incl(-50.0), Incl(1_000.0));
+    /// Ambient (air) temperature at a pass.
+    pub const AMBIENT_TEMPERATURE: Limit = Limit::new(Temperature, Incl(-40.0), Incl(60.0));
     /// Share of the slip energy each of the two plates takes.
     pub const PLATE_SHARE: Limit = Limit::new(Ratio, Excl(0.0), Incl(0.5));
     /// Integration step of the launch preview.

@@ -22,6 +22,8 @@ pub struct BuildCalibration {
     pub report: CalibrationReport,
     /// Run date of each pass in `report.passes` (oldest first).
     pub dates: Vec<String>,
+    /// Id of each pass in `report.passes`.
+    pub pass_ids: Vec<i64>,
     /// (adjuster turns, counterweight g, clamp loss N) in force at each pass.
     pub settings: Vec<(f64, f64, f64)>,
     /// At least [`ENOUGH_PASSES`] passes.
@@ -96,6 +98,7 @@ pub fn calibrated(
     let (mut no_setup, mut outside) = (0, 0);
     let mut passes = Vec::new();
     let mut days: Vec<(String, (f64, f64, f64), SpringPack)> = Vec::new();
+    let mut pass_ids = Vec::new();
     let mut day_clutch: Option<(&str, Option<DayClutch>)> = None;
     // Stored newest first; the calibration reads them oldest first.
     for pass in d.passes.iter().rev() {
@@ -129,6 +132,7 @@ pub fn calibrated(
             clamp_loss,
         });
         days.push((pass.data.run_on.clone(), at.setting, at.springs));
+        pass_ids.push(pass.id);
     }
     if no_setup > 0 {
         notes.push(format!(
@@ -157,6 +161,7 @@ pub fn calibrated(
         let skip = passes.len() - most;
         passes.drain(..skip);
         days.drain(..skip);
+        pass_ids.drain(..skip);
         notes.push(format!("Only the latest {most} passes were used."));
     }
     let request = CalibrateRequest {
@@ -184,6 +189,7 @@ pub fn calibrated(
         enough: report.n >= ENOUGH_PASSES,
         drifting: drifting(&mus),
         report,
+        pass_ids,
         settings: days.iter().map(|(_, s, _)| *s).collect(),
         dates: days.into_iter().map(|(day, _, _)| day).collect(),
     })

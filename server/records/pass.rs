@@ -12,11 +12,15 @@ use clutch::quantity::limits;
 #[serde(default)]
 pub struct PassInput {
     pub run_on: String,
+    /// Time of day, `HH:MM`, or empty.
+    pub run_at: String,
     pub track: String,
     pub launch_rpm: Option<f64>,
     pub sixty_ft_s: Option<f64>,
     pub et_s: Option<f64>,
     pub observed_lockup_rpm: Option<f64>,
+    /// Ambient temperature, °C.
+    pub ambient_c: Option<f64>,
     pub notes: String,
 }
 
@@ -29,6 +33,17 @@ impl Record for PassInput {
             value: Value::Date {
                 get: |r| &r.run_on,
                 set: |r, v| r.run_on = v,
+            },
+        },
+        Field {
+            column: "run_at",
+            form: "run_at",
+            label: "Time of day (HH:MM)",
+            value: Value::Text {
+                max_chars: 5,
+                required: false,
+                get: |r| &r.run_at,
+                set: |r, v| r.run_at = v,
             },
         },
         Field {
@@ -87,6 +102,17 @@ impl Record for PassInput {
             },
         },
         Field {
+            column: "ambient_c",
+            form: "ambient",
+            label: "Air temperature",
+            value: Value::Number {
+                limit: limits::AMBIENT_TEMPERATURE,
+                required: false,
+                get: |r| r.ambient_c,
+                set: |r, v| r.ambient_c = v,
+            },
+        },
+        Field {
             column: "notes",
             form: "notes",
             label: "Notes",
@@ -100,6 +126,13 @@ impl Record for PassInput {
     ];
 
     fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {
+        if !self.run_at.is_empty() && clutch::heat::time_of_day_s(&self.run_at).is_none() {
+            Self::fault(
+                errors,
+                "run_at",
+                "write the time of day as HH:MM, 00:00 to 23:59",
+            );
+        }
         if let (Some(sixty), Some(et)) = (self.sixty_ft_s, self.et_s)
             && et <= sixty
         {

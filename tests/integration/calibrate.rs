@@ -727,3 +727,128 @@ async fn a_bad_launch_calibration_names_its_field() {
         assert_eq!(r.json()["field"], field, "{}", r.body);
     }
 }
+
+/// The lockup of the stored build above (40 g, 2 turns, no wear) for a given μ: the flat
+/// 700 N·m curve meets μ·(4000 N + 54.831 N·(rpm/1000)² per 40 g)·0.1 m·4 faces [derived from
+/// the build: 4 × 100 N/mm × 10 mm; the lever gain × 40 g; uniform-wear radius (125 + 75)/2 mm].
+fn lockup_for(mu: f64) -> f64 {
+    let gain = 0.005 * (1000.0 * std::f64::consts::PI / 30.0).powi(2) / 40.0;
+    let centrifugal = 700.0 / (0.4 * mu) - 4000.0;
+    1000.0 * (centrifugal / (gain * 40.0)).sqrt()
+}
+
+// Friction against heat (docs/engineering.md §27): one pass a day, each the day's first, so
+// each launches at its air temperature. μ = 0.32 − 0.0002·(θ − 25) exactly at −5 to 55 °C gives
+// k = −0.0002 /K, μ0 = 0.32 at θref = 25 °C and an interval of zero width [derived]. Four passes
+// are too few, and five spanning 30 K say 20 K more spread is needed (the rule).
+#[tokio::test]
+async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
+    let app = TestApp::new().await;
+    let (id, token) = stored_build(&app).await;
+    let t = Some(token.as_str());
+    let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/builds/{id}/setups"),
+            t,
+            Some(setup),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    let path = format!("/api/v1/builds/{id}/calibration");
+    let temps = [-5.0, 10.0, 25.0, 40.0, 55.0];
+    for (i, theta) in temps.iter().enumerate() {
+        let mu = 0.32 - 0.0002 * (theta - 25.0);
+        let body = json!({"run_on": format!("2026-10-{:02}", i + 2), "run_at": "10:30",
+                          "ambient_c": theta, "observed_lockup_rpm": lockup_for(mu)});
+        let r = app
+            .api(
+                "POST",
+                &format!("/api/v1/builds/{id}/passes"),
+                t,
+                Some(body),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        if i == 3 {
+            let v = app.api("GET", &path, t, None).await.json();
+            assert!(v["mu_vs_temperature"].is_null(), "{v}");
+            let why = v["mu_vs_temperature_reason"].as_str().unwrap_or_default();
+            assert!(why.contains("4 calibrated pass(es)"), "{why}");
+        }
+    }
+    let v = app.api("GET", &path, t, None).await.json();
+    for (p, theta) in v["passes"].as_array().into_iter().flatten().zip(temps) {
+        assert!(
+            (num(&p["mu"]) - (0.32 - 0.0002 * (theta - 25.0))).abs() < 1e-6,
+            "{p}"
+        );
+    }
+    let m = &v["mu_vs_temperature"];
+    assert_eq!(m["n"], 5, "{v}");
+    assert!((num(&m["k_per_k"]) + 0.0002).abs() < 1e-7, "{m}");
+    assert!((num(&m["mu0"]) - 0.32).abs() < 1e-7, "{m}");
+    assert!((num(&m["theta_ref_c"]) - 25.0).abs() < 1e-9, "{m}");
+    assert!((num(&m["spread_k"]) - 60.0).abs() < 1e-9, "{m}");
+    assert!(
+        (num(&m["k_ci95"][1]) - num(&m["k_ci95"][0])).abs() < 1e-6,
+        "{m}"
+    );
+    assert!(v["mu_vs_temperature_reason"].is_null());
+    // The tuning page says it in words, per 100 degrees of the shop's scale, with the chart.
+    let page = app
+        .login("sam")
+        .await
+        .get(&format!("/builds/{id}/tune"))
+        .await;
+    let falls_c = "μ falls 0.020 per 100 °C"; // −0.0002 /K × 100 K [derived]
+    let falls_f = "μ falls 0.011 per 100 °F"; // −0.0002 /K × 100 × 5/9 K [derived]
+    assert!(
+        page.body.contains(falls_c) || page.body.contains(falls_f),
+        "{}",
+        page.body
+    );
+    assert!(page.body.contains("launch temperature, °"), "no heat chart");
+
+    // A badly written time of day is refused with the field named.
+    let bad = json!({"run_on": "2026-10-09", "run_at": "25:00"});
+    let r = app
+        .api("POST", &format!("/api/v1/builds/{id}/passes"), t, Some(bad))
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
+    assert!(r.body.contains("run_at"), "{}", r.body);
+}
+
+#[tokio::test]
+async fn too_little_spread_of_launch_temperature_says_how_much_more() {
+    let app = TestApp::new().await;
+    let (id, token) = stored_build(&app).await;
+    let t = Some(token.as_str());
+    let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
+    app.api(
+        "POST",
+        &format!("/api/v1/builds/{id}/setups"),
+        t,
+        Some(setup),
+    )
+    .await;
+    for (i, theta) in [10.0, 15.0, 20.0, 30.0, 40.0].iter().enumerate() {
+        let body = json!({"run_on": format!("2026-10-{:02}", i + 2), "run_at": "09:00",
+                          "ambient_c": theta, "observed_lockup_rpm": lockup_for(0.30)});
+        app.api(
+            "POST",
+            &format!("/api/v1/builds/{id}/passes"),
+            t,
+            Some(body),
+        )
+        .await;
+    }
+    let v = app
+        .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+        .await
+        .json();
+    assert!(v["mu_vs_temperature"].is_null(), "{v}");
+    let why = v["mu_vs_temperature_reason"].as_str().unwrap_or_default();
+    assert!(why.contains("span 30 K; 20 K more"), "{why}");
+}

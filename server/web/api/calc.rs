@@ -252,6 +252,18 @@ pub async fn build_status(
     }))
 }
 
+/// A stored build's calibration (storage units: N·m), with friction against launch temperature.
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
+pub struct BuildCalibrationAnswer {
+    #[serde(flatten)]
+    pub report: CalibrationReport,
+    /// μ = μ0 + k·(θ − θref) over the passes' launch temperatures (°C); null with
+    /// `mu_vs_temperature_reason` until 5 passes span 50 K.
+    pub mu_vs_temperature: Option<crate::model::heat::MuVsTemperature>,
+    /// Why there is no line yet (null when there is one).
+    pub mu_vs_temperature_reason: Option<String>,
+}
+
 /// `?fit=mu_and_gain` on a stored build's calibration (default `mu`).
 #[derive(Debug, Default, serde::Deserialize)]
 #[serde(default)]
@@ -267,12 +279,19 @@ pub async fn build_calibration(
     caller: Caller,
     Id(id): Id,
     Query(query): Query<FitQuery>,
-) -> ApiResult<CalibrationReport> {
+) -> ApiResult<BuildCalibrationAnswer> {
     let (dossier, settings) = stored_build(&state, id).await?;
     let calibration = state
         .heavy
         .run_for(&caller, move || {
-            calibrated(&dossier, &settings, query.fit).map(|c| c.report)
+            calibrated(&dossier, &settings, query.fit).map(|c| {
+                let heat = crate::model::heat::study(&dossier, &c);
+                BuildCalibrationAnswer {
+                    report: c.report,
+                    mu_vs_temperature_reason: heat.fit.as_ref().err().cloned(),
+                    mu_vs_temperature: heat.fit.ok(),
+                }
+            })
         })
         .await?
         .map_err(invalid)?;

@@ -480,14 +480,16 @@ pub fn document_json() -> JsonValue {
         "200",
         status,
     );
+    let build_calibration = d.one::<super::calc::BuildCalibrationAnswer>();
     d.op(
         Get,
         "/builds/{id}/calibration",
         "buildCalibration",
-        "The friction coefficient fitted to a stored build's passes",
+        "The friction coefficient fitted to a stored build's passes, and against the facing's \
+         temperature at launch (mu_vs_temperature)",
         Body::None,
         "200",
-        calibration.clone(),
+        build_calibration,
     );
     let (req, rep) = (d.one::<CapacityRequest>(), d.one::<CapacityReport>());
     d.op(

@@ -12,6 +12,7 @@ use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::model::as_of::{BuildAsOf, Friction};
 use crate::model::calibration::{BuildCalibration, calibration_source};
+use crate::model::heat::{self, HeatStudy};
 use crate::model::{Figures, Trial, TuningTargets, figures};
 use crate::records::date::ShopZone;
 use crate::records::setup::SetupInput;
@@ -130,6 +131,8 @@ pub struct TunePage {
     pub launch: Vec<LaunchColumn>,
     /// The friction coefficient in force (the current column's), and why.
     pub friction: Friction,
+    /// μ against the facing's temperature at launch, from the calibration's passes.
+    pub heat: Option<HeatStudy>,
 }
 
 /// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
@@ -187,6 +190,7 @@ async fn render_tune(
         .here(caller, move || -> AppResult<(String, ShopZone)> {
             let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
             let calibration = calibration.map_err(|e| e.message);
+            let heat = calibration.as_ref().ok().map(|c| heat::study(&dossier, c));
             let friction = facts.friction.clone();
             let current_trial = facts.trial;
             // The 60-ft times the car's passes recorded, for the launch preview to be read against.
@@ -304,6 +308,7 @@ async fn render_tune(
                 recommended_from,
                 launch,
                 friction,
+                heat,
             };
             Ok((page.render()?, zone))
         })
@@ -683,6 +688,82 @@ impl TunePage {
     }
 }
 
+impl TunePage {
+    /// The slope of μ against launch temperature in words, in the shop's units: "μ falls 0.012
+    /// per 100 °C (95 %: 0.004 to 0.020) from 6 passes spanning 62 °C", or why there is none.
+    pub fn heat_words(&self) -> Option<String> {
+        let study = self.heat.as_ref()?;
+        let units = self.page.units();
+        let label = units.temperature_label();
+        // A temperature difference of 100 shop degrees, in kelvin.
+        let per = units.temperature_to_c(100.0) - units.temperature_to_c(0.0);
+        Some(match &study.fit {
+            Err(why) => why.clone(),
+            Ok(f) => {
+                let (a, b) = (f.k_ci95[0] * per, f.k_ci95[1] * per);
+                let k = f.k_per_k * per;
+                // The change in the direction named: a fall is told as positive numbers.
+                let (way, lo, hi) = if k < 0.0 {
+                    ("falls", -b, -a)
+                } else {
+                    ("rises", a, b)
+                };
+                let sure = if a * b > 0.0 {
+                    "the whole interval is on that side"
+                } else {
+                    "the interval takes in no change at all, so the passes do not show a trend yet"
+                };
+                format!(
+                    "μ {way} {:.3} per 100 {label} of launch temperature (95 %: {lo:.3} to \
+                     {hi:.3}; {sure}). μ {:.3} at {:.0} {label}, from {} passes spanning \
+                     {:.0} {label}.",
+                    k.abs(),
+                    f.mu0,
+                    units.c_to_temperature(f.theta_ref_c),
+                    f.n,
+                    f.spread_k / per * 100.0,
+                )
+            }
+        })
+    }
+
+    /// μ of each calibrated pass against its launch temperature, with the fitted line.
+    pub fn heat_chart(&self) -> Option<Chart> {
+        let study = self.heat.as_ref()?;
+        let units = self.page.units();
+        let shown: Vec<(f64, f64)> = study
+            .points
+            .iter()
+            .map(|&(t, mu)| (units.c_to_temperature(t), mu))
+            .collect();
+        let fit = study.fit.as_ref().ok()?;
+        let x = |i: fn(f64, f64) -> f64| shown.iter().map(|p| p.0).fold(shown[0].0, i);
+        let (lo_x, hi_x) = (x(f64::min), x(f64::max));
+        let y = |i: fn(f64, f64) -> f64| shown.iter().map(|p| p.1).fold(fit.mu0, i);
+        let (lo_y, hi_y) = (y(f64::min), y(f64::max));
+        let pad = ((hi_y - lo_y) * 0.2).max(0.01);
+        let label = units.temperature_label();
+        let (mut chart, f) = Chart::new(
+            "Friction of each pass against the facing's temperature at launch",
+            &format!("launch temperature, {label}"),
+            "μ",
+            (lo_x, hi_x),
+            (lo_y - pad, hi_y + pad),
+        );
+        let line: Vec<(f64, f64)> = [lo_x, hi_x]
+            .iter()
+            .map(|&t| (t, fit.mu_at(units.temperature_to_c(t))))
+            .collect();
+        chart.line(&f, "calibrated", "fitted", &line);
+        let tips: Vec<String> = shown
+            .iter()
+            .map(|(t, mu)| format!("{t:.0} {label}: μ {mu:.3}"))
+            .collect();
+        chart.line_with_dots(&f, "mu", "per pass", &shown, &tips);
+        Some(chart)
+    }
+}
+
 /// Days since 1970-01-01 of an ISO date ("2026-10-05").
 fn day_number(iso: &str) -> Option<f64> {
     let date: jiff::civil::Date = iso.parse().ok()?;
@@ -717,4 +798,9 @@ pub fn calibration_verdict(c: &BuildCalibration) -> Vec<String> {
         ));
     }
     out
+}
+
+/// The cooling time constant the launch temperatures use, minutes.
+pub fn heat_tau_min() -> f64 {
+    clutch::heat::DEFAULT_TAU_S / 60.0
 }

@@ -1,0 +1,122 @@
+//! Friction against the facing's temperature at launch, over a season (docs/engineering.md §27).
+//! No IO: it works on a loaded build and its calibration, which it does not run again.
+
+use super::calibration::BuildCalibration;
+use crate::records::stored::Dossier;
+use clutch::capacity::friction::FacingMaterial;
+use clutch::heat::{
+    DEFAULT_TAU_S, HeatFit, HeatPass, NotFitted, bulk_rise_k, fit_mu_vs_temperature,
+    launch_temperatures, time_of_day_s,
+};
+use clutch::launch::request::default_plate_share;
+
+use super::launch::PLATE_SPECIFIC_HEAT;
+
+/// The fitted line μ = μ₀ + k·(θ − θ_ref), as the API answers it (°C, μ per K).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, utoipa::ToSchema)]
+pub struct MuVsTemperature {
+    /// Passes used.
+    pub n: usize,
+    /// μ at `theta_ref_c`.
+    pub mu0: f64,
+    /// 95 % interval on μ₀.
+    pub mu0_ci95: [f64; 2],
+    /// Change of μ per kelvin of launch temperature.
+    pub k_per_k: f64,
+    /// 95 % interval on k.
+    pub k_ci95: [f64; 2],
+    /// Reference temperature (the mean launch temperature), °C.
+    pub theta_ref_c: f64,
+    /// Highest minus lowest launch temperature, K.
+    pub spread_k: f64,
+    /// Cooling time constant used between passes, s.
+    pub tau_s: f64,
+}
+
+impl MuVsTemperature {
+    /// The line's μ at `theta_c` (°C).
+    pub fn mu_at(&self, theta_c: f64) -> f64 {
+        self.mu0 + self.k_per_k * (theta_c - self.theta_ref_c)
+    }
+}
+
+/// Each calibrated pass's launch temperature and μ, and the line through them or why not.
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeatStudy {
+    /// (launch temperature °C, μ) of the calibrated passes with a known launch temperature.
+    pub points: Vec<(f64, f64)>,
+    /// The line, or why there is none, in words.
+    pub fit: Result<MuVsTemperature, String>,
+}
+
+/// The launch temperatures of a build's passes and μ against them, from its calibration.
+///
+/// Only days on which every pass has its time of day and air temperature are used (a pass
+/// without them would hide heat); a pass's bulk rise is its logged slip energy × the plate's
+/// share / (pressure plate mass × specific heat); τ is the shop default ([`DEFAULT_TAU_S`],
+/// from memory), as the car's record has no cooling figure.
+pub fn study(d: &Dossier, cal: &BuildCalibration) -> HeatStudy {
+    let share = default_plate_share(FacingMaterial::from_key(&d.build.data.facing_material));
+    let plate_kg = d.car.data.pressure_plate_mass_kg;
+    let mut passes: Vec<(i64, &str, HeatPass)> = Vec::new();
+    let mut broken_days: Vec<&str> = Vec::new();
+    for pass in d.passes.iter().rev() {
+        let p = &pass.data;
+        let day = p.run_on.replace('-', "").parse::<i64>().unwrap_or_default();
+        let (Some(at_s), Some(ambient_c)) = (time_of_day_s(&p.run_at), p.ambient_c) else {
+            broken_days.push(&p.run_on);
+            continue;
+        };
+        let energy = d.log_of(pass.id).and_then(|l| l.slip_energy_j);
+        let rise_k = energy
+            .zip(plate_kg)
+            .map(|(e, m)| bulk_rise_k(e, share, m, PLATE_SPECIFIC_HEAT));
+        let heat = HeatPass {
+            day,
+            at_s,
+            ambient_c,
+            rise_k,
+        };
+        passes.push((pass.id, &p.run_on, heat));
+    }
+    passes.retain(|(_, run_on, _)| !broken_days.contains(run_on));
+    passes.sort_by(|a, b| {
+        (a.2.day, a.2.at_s)
+            .partial_cmp(&(b.2.day, b.2.at_s))
+            .expect("finite")
+    });
+    let heat: Vec<HeatPass> = passes.iter().map(|p| p.2).collect();
+    let temps = launch_temperatures(&heat, DEFAULT_TAU_S);
+    let points: Vec<(f64, f64)> = cal
+        .pass_ids
+        .iter()
+        .zip(&cal.report.passes)
+        .filter_map(|(id, r)| {
+            let i = passes.iter().position(|p| p.0 == *id)?;
+            temps[i].map(|t| (t, r.mu))
+        })
+        .collect();
+    let fit = fit_mu_vs_temperature(&points)
+        .map(|f: HeatFit| MuVsTemperature {
+            n: f.n,
+            mu0: f.mu0,
+            mu0_ci95: f.mu0_ci95,
+            k_per_k: f.k_per_k,
+            k_ci95: f.k_ci95,
+            theta_ref_c: f.theta_ref_c,
+            spread_k: f.spread_k,
+            tau_s: DEFAULT_TAU_S,
+        })
+        .map_err(|why| match why {
+            NotFitted::TooFewPasses { n } => format!(
+                "{n} calibrated pass(es) have a launch temperature (time of day and air \
+                 temperature recorded for every pass of their day); {} are needed.",
+                clutch::heat::MIN_PASSES
+            ),
+            NotFitted::TooLittleSpread { spread_k, more_k } => format!(
+                "The launch temperatures span {spread_k:.0} K; {more_k:.0} K more spread is \
+                 needed (passes closer together, or a cold first pass and hot later ones)."
+            ),
+        });
+    HeatStudy { points, fit }
+}
