@@ -81,8 +81,9 @@ pub fn launch_temperatures(passes: &[HeatPass], tau_s: f64) -> Vec<Option<f64>> 
     out
 }
 
-/// μ against launch temperature: μ = μ₀ + k·(θ − θ_ref).
-#[derive(Debug, Clone, Copy, PartialEq)]
+/// μ against launch temperature: μ = μ₀ + k·(θ − θ_ref) (°C, μ per K).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 pub struct HeatFit {
     /// Passes used.
     pub n: usize,

@@ -12,41 +12,13 @@ use clutch::launch::request::default_plate_share;
 
 use super::launch::PLATE_SPECIFIC_HEAT;
 
-/// The fitted line μ = μ₀ + k·(θ − θ_ref), as the API answers it (°C, μ per K).
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, utoipa::ToSchema)]
-pub struct MuVsTemperature {
-    /// Passes used.
-    pub n: usize,
-    /// μ at `theta_ref_c`.
-    pub mu0: f64,
-    /// 95 % interval on μ₀.
-    pub mu0_ci95: [f64; 2],
-    /// Change of μ per kelvin of launch temperature.
-    pub k_per_k: f64,
-    /// 95 % interval on k.
-    pub k_ci95: [f64; 2],
-    /// Reference temperature (the mean launch temperature), °C.
-    pub theta_ref_c: f64,
-    /// Highest minus lowest launch temperature, K.
-    pub spread_k: f64,
-    /// Cooling time constant used between passes, s.
-    pub tau_s: f64,
-}
-
-impl MuVsTemperature {
-    /// The line's μ at `theta_c` (°C).
-    pub fn mu_at(&self, theta_c: f64) -> f64 {
-        self.mu0 + self.k_per_k * (theta_c - self.theta_ref_c)
-    }
-}
-
 /// Each calibrated pass's launch temperature and μ, and the line through them or why not.
 #[derive(Debug, Clone, PartialEq)]
 pub struct HeatStudy {
     /// (launch temperature °C, μ) of the calibrated passes with a known launch temperature.
     pub points: Vec<(f64, f64)>,
     /// The line, or why there is none, in words.
-    pub fit: Result<MuVsTemperature, String>,
+    pub fit: Result<HeatFit, String>,
 }
 
 /// The launch temperatures of a build's passes and μ against them, from its calibration.
@@ -96,27 +68,16 @@ pub fn study(d: &Dossier, cal: &BuildCalibration) -> HeatStudy {
             temps[i].map(|t| (t, r.mu))
         })
         .collect();
-    let fit = fit_mu_vs_temperature(&points)
-        .map(|f: HeatFit| MuVsTemperature {
-            n: f.n,
-            mu0: f.mu0,
-            mu0_ci95: f.mu0_ci95,
-            k_per_k: f.k_per_k,
-            k_ci95: f.k_ci95,
-            theta_ref_c: f.theta_ref_c,
-            spread_k: f.spread_k,
-            tau_s: DEFAULT_TAU_S,
-        })
-        .map_err(|why| match why {
-            NotFitted::TooFewPasses { n } => format!(
-                "{n} calibrated pass(es) have a launch temperature (time of day and air \
+    let fit = fit_mu_vs_temperature(&points).map_err(|why| match why {
+        NotFitted::TooFewPasses { n } => format!(
+            "{n} calibrated pass(es) have a launch temperature (time of day and air \
                  temperature recorded for every pass of their day); {} are needed.",
-                clutch::heat::MIN_PASSES
-            ),
-            NotFitted::TooLittleSpread { spread_k, more_k } => format!(
-                "The launch temperatures span {spread_k:.0} K; {more_k:.0} K more spread is \
+            clutch::heat::MIN_PASSES
+        ),
+        NotFitted::TooLittleSpread { spread_k, more_k } => format!(
+            "The launch temperatures span {spread_k:.0} K; {more_k:.0} K more spread is \
                  needed (passes closer together, or a cold first pass and hot later ones)."
-            ),
-        });
+        ),
+    });
     HeatStudy { points, fit }
 }

@@ -259,7 +259,7 @@ pub struct BuildCalibrationAnswer {
     pub report: CalibrationReport,
     /// μ = μ0 + k·(θ − θref) over the passes' launch temperatures (°C); null with
     /// `mu_vs_temperature_reason` until 5 passes span 50 K.
-    pub mu_vs_temperature: Option<crate::model::heat::MuVsTemperature>,
+    pub mu_vs_temperature: Option<clutch::heat::HeatFit>,
     /// Why there is no line yet (null when there is one).
     pub mu_vs_temperature_reason: Option<String>,
 }
