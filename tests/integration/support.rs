@@ -90,13 +90,7 @@ impl TestApp {
         }
         drop(conn);
         let state = AppState::new(pool.clone()).with_public_url(public_url.map(String::from));
-        let router = app(state.clone());
-        Self {
-            pool,
-            router,
-            state,
-            _db: tmp,
-        }
+        Self::serving(state, tmp)
     }
 
     /// The demo shop (`serve --demo`) on a fresh database; sign in with [`TestApp::login_demo`].
@@ -104,11 +98,14 @@ impl TestApp {
         let tmp = TempDb::new();
         let pool = db::open(&tmp.path).await.expect("database opens");
         assert!(lockpoint::demo::seed_if_empty(&pool).await.unwrap());
-        let state = AppState::new(pool.clone());
-        let router = app(state.clone());
+        Self::serving(AppState::new(pool), tmp)
+    }
+
+    /// The real router on `state`, keeping the database file `tmp` for the test's life.
+    fn serving(state: AppState, tmp: TempDb) -> Self {
         Self {
-            pool,
-            router,
+            pool: state.pool.clone(),
+            router: app(state.clone()),
             state,
             _db: tmp,
         }

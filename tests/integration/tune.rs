@@ -20,6 +20,27 @@ async fn set_up(client: &Client<'_>, build: &str) {
     assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
 }
 
+/// Records a bench test of the six springs at 1.600 in: spring 1 with `first_free` (in) and
+/// `first_force` (lbf), the others 2.100 in free and 190 lbf.
+async fn bench_test(
+    client: &Client<'_>,
+    build: &str,
+    day: &str,
+    first_free: &str,
+    first_force: &str,
+) {
+    let mut form = vec![("tested_on", day), ("test_height", "1.600")];
+    let names: Vec<(String, String)> = (1..=6)
+        .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
+        .collect();
+    for (i, (free, force)) in names.iter().enumerate() {
+        form.push((free, if i == 0 { first_free } else { "2.100" }));
+        form.push((force, if i == 0 { first_force } else { "190" }));
+    }
+    let r = client.post(&format!("{build}/bench-tests"), &form).await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+}
+
 /// Changes one field of a stored build through the record API (GET, change, PUT).
 async fn edit_build(app: &TestApp, id: i64, field: &str, value: serde_json::Value) -> Reply {
     let token = app.token("sam").await;
@@ -218,16 +239,7 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
         ("2026-11-03", "2.100", "190"),
         ("2026-11-25", "2.080", "182.4"),
     ] {
-        let mut form = vec![("tested_on", day), ("test_height", "1.600")];
-        let names: Vec<(String, String)> = (1..=6)
-            .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
-            .collect();
-        for (i, (free, force)) in names.iter().enumerate() {
-            form.push((free, if i == 0 { first_free } else { "2.100" }));
-            form.push((force, if i == 0 { first_force } else { "190" }));
-        }
-        let r = client.post(&format!("{build}/bench-tests"), &form).await;
-        assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+        bench_test(&client, &build, day, first_free, first_force).await;
     }
     let page = client.get(&build).await;
     assert!(page.body.contains("▲ sagged 9.1 %"), "sag on load");
@@ -278,17 +290,8 @@ async fn a_first_bench_test_with_a_spring_low_on_load_flags_the_set() {
     let client = app.login("sam").await;
     let build = client.record_build().await;
     set_up(&client, &build).await;
-    let mut form = vec![("tested_on", "2026-11-03"), ("test_height", "1.600")];
-    let names: Vec<(String, String)> = (1..=6)
-        .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
-        .collect();
-    for (i, (free, force)) in names.iter().enumerate() {
-        // Force at 1.600 in: 380 × (free − 1.600).
-        form.push((free, if i == 0 { "2.0912" } else { "2.100" }));
-        form.push((force, if i == 0 { "186.656" } else { "190" }));
-    }
-    let r = client.post(&format!("{build}/bench-tests"), &form).await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    // Force at 1.600 in: 380 × (free − 1.600).
+    bench_test(&client, &build, "2026-11-03", "2.0912", "186.656").await;
     let page = client.get(&build).await;
     assert!(
         !page.body.contains("set within tolerance"),

@@ -188,6 +188,25 @@ mod tests {
         }
     }
 
+    /// 60 N/mm springs of these free lengths (mm), each tested at 35 mm: compression free − 35,
+    /// force 60 N/mm × that.
+    fn sixty_n_per_mm(free: &[f64]) -> BenchTest {
+        BenchTest {
+            readings: free
+                .iter()
+                .enumerate()
+                .map(|(i, f)| {
+                    let p = BenchPoint {
+                        compression_mm: f - 35.0,
+                        force_n: 60.0 * (f - 35.0),
+                    };
+                    (i + 1, p)
+                })
+                .collect(),
+            free_lengths_mm: free.iter().map(|f| Some(*f)).collect(),
+        }
+    }
+
     // Arithmetic of the definitions above (spread = (max − min)/mean; sag = relative loss);
     // the 5 % and 3 % thresholds are common shop practice, no published source.
     #[test]
@@ -210,22 +229,7 @@ mod tests {
     // threshold. Spring 1 is unchanged.
     #[test]
     fn lost_free_length_at_the_same_rate_is_sag() {
-        let test = |free: [f64; 2]| BenchTest {
-            readings: free
-                .iter()
-                .enumerate()
-                .map(|(i, f)| {
-                    // Tested at 35 mm: compression free − 35, force 60 N/mm × that.
-                    let p = BenchPoint {
-                        compression_mm: f - 35.0,
-                        force_n: 60.0 * (f - 35.0),
-                    };
-                    (i + 1, p)
-                })
-                .collect(),
-            free_lengths_mm: free.iter().map(|f| Some(*f)).collect(),
-        };
-        let tests = [test([50.0, 50.0]), test([50.0, 48.5])];
+        let tests = [sixty_n_per_mm(&[50.0, 50.0]), sixty_n_per_mm(&[50.0, 48.5])];
         let by_rate = review(&tests, 5.0, 3.0, None).unwrap();
         assert!(by_rate[1].sagged.is_empty(), "the rate alone misses it");
         let r = review(&tests, 5.0, 3.0, Some(40.0)).unwrap();
@@ -272,21 +276,7 @@ mod tests {
     // no published source.
     #[test]
     fn a_first_test_is_judged_on_load_against_its_set() {
-        let free = [50.0, 50.0, 50.0, 49.6, 50.0, 50.0];
-        let first = BenchTest {
-            readings: free
-                .iter()
-                .enumerate()
-                .map(|(i, f)| {
-                    let p = BenchPoint {
-                        compression_mm: f - 35.0,
-                        force_n: 60.0 * (f - 35.0),
-                    };
-                    (i + 1, p)
-                })
-                .collect(),
-            free_lengths_mm: free.iter().map(|f| Some(*f)).collect(),
-        };
+        let first = sixty_n_per_mm(&[50.0, 50.0, 50.0, 49.6, 50.0, 50.0]);
         let r = review(std::slice::from_ref(&first), 5.0, 3.0, Some(40.0)).unwrap();
         assert!(!r[0].spread.out_of_tolerance, "the rates agree");
         assert!(r[0].sagged.is_empty(), "nothing to compare with yet");
