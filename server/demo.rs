@@ -434,6 +434,7 @@ async fn seed_build(
         status: b.status.into(),
         ..Default::default()
     };
+    let solid_height_mm = input.spring_solid_height_mm;
     let build_id = db::builds::insert(
         tx,
         car_id,
@@ -484,11 +485,14 @@ async fn seed_build(
             tx,
             build_id,
             user_id,
-            &ok(bench.check(&demo_ctx(), FieldErrors::default()))?,
+            &ok(bench.check(solid_height_mm, &demo_ctx(), FieldErrors::default()))?,
         )
         .await?;
     }
-    let mut previous = None;
+    let mut hc = HeightContext {
+        shims_mm: b.shims_in.iter().map(|t| inch(*t)).collect(),
+        ..HeightContext::default()
+    };
     for (i, (passes, height, pulled, new_disc)) in b.heights.iter().enumerate() {
         let h = HeightInput {
             measured_on: format!("{}-2{}", months[i.min(5)], i % 8),
@@ -501,20 +505,14 @@ async fn seed_build(
                 (false, true) => "pulled a shim".into(),
                 _ => String::new(),
             },
+            confirm: false,
         };
-        let hc = HeightContext {
-            shims_in_stack: b.shims_in.len(),
-            previous,
-            next: None,
-        };
-        db::heights::insert(
-            tx,
-            build_id,
-            user_id,
-            &ok(h.check_on(hc, &demo_ctx(), FieldErrors::default()))?,
-        )
-        .await?;
-        previous = Some((*passes, *pulled));
+        let checked = ok(h.check_on(&hc, &demo_ctx(), FieldErrors::default()))?;
+        db::heights::insert(tx, build_id, user_id, &checked).await?;
+        if checked.new_disc {
+            hc.before.clear();
+        }
+        hc.before.push(HeightInput::clone(&checked));
     }
     for (i, (track, launch, sixty, et, lockup)) in b.passes.iter().enumerate() {
         // Weekly from 2026-10-04.

@@ -851,16 +851,16 @@ pub fn check_rows(sheet: &Sheet, mapping: &Mapping, ctx: &Ctx) -> (Vec<Row>, Vec
         let measurement = if filled(cells, Part::Measurement) {
             match &build {
                 Some(Some(b)) => {
+                    // A row is checked alone (shims in the stack), as it was written down.
                     let hc = HeightContext {
-                        shims_in_stack: b.shim_stack_mm.len(),
-                        previous: None,
-                        next: None,
+                        shims_mm: b.shim_stack_mm.clone(),
+                        ..HeightContext::default()
                     };
                     part!(
                         HeightInput,
                         Part::Measurement,
                         base_height,
-                        |rec: HeightInput, e| rec.check_on(hc, ctx, e)
+                        |rec: HeightInput, e| rec.check_on(&hc, ctx, e)
                     )
                     .map(Some)
                 }

@@ -264,9 +264,59 @@ pub fn wear_per_mj(intervals: &[(f64, f64)]) -> Option<EnergyWear> {
     })
 }
 
+/// The cover height the trend of `readings` expects at `passes` with the first `pulled` shims
+/// of `shims` out: the least-squares line (NIST/SEMATECH e-Handbook §4.1.4.1) of total wear
+/// (height plus the shims pulled) against passes through the readings, `(passes, height,
+/// shims pulled)` in one length unit, read at `passes`, less the shims then out. A disc does
+/// not grow back, so a line that falls (scatter of the readings) counts as flat. `None` with
+/// fewer than three readings or all of them at one pass count: there is no trend to hold a
+/// reading against.
+pub fn expected_height(
+    shims: &[f64],
+    readings: &[(f64, f64, u32)],
+    passes: f64,
+    pulled: u32,
+) -> Option<f64> {
+    let out = |k: u32| -> f64 { shims.iter().take(k as usize).sum() };
+    let points: Vec<(f64, f64)> = readings.iter().map(|&(p, h, k)| (p, h + out(k))).collect();
+    if points.len() < 3 {
+        return None;
+    }
+    let line = fit_line(&points, "readings").ok()?;
+    // The line passes through the readings' mean point; hold that and flatten a fall.
+    let x_mean = points.iter().map(|p| p.0).sum::<f64>() / points.len() as f64;
+    let slope = line.slope.max(0.0);
+    Some(line.predict(x_mean) + slope * (passes - x_mean) - out(pulled))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // [D] By hand: readings 48.00 / 48.20 / 48.40 mm at 0 / 20 / 40 passes lie on a line of
+    // 0.01 mm per pass, so 60 passes expect 48.60 mm, and 48.35 mm with a 0.25 mm shim out.
+    #[test]
+    fn the_trend_of_three_readings_expects_the_next() {
+        let r = [(0.0, 48.00, 0), (20.0, 48.20, 0), (40.0, 48.40, 0)];
+        let at = |p, k| expected_height(&[0.25, 0.25], &r, p, k).unwrap();
+        assert!((at(60.0, 0) - 48.60).abs() < 1e-9);
+        assert!((at(60.0, 1) - 48.35).abs() < 1e-9);
+        // A pulled shim in the readings is wear, not a step down: same line.
+        let pulled = [(20.0, 48.20, 0), (40.0, 48.40, 0), (60.0, 48.35, 1)];
+        let e = expected_height(&[0.25, 0.25], &pulled, 80.0, 1).unwrap();
+        assert!((e - 48.55).abs() < 1e-9, "{e}");
+    }
+
+    // [D] A falling line is read as flat: the mean of 48.40 / 48.30 / 48.20 is 48.30 mm.
+    #[test]
+    fn the_trend_never_expects_a_disc_to_grow_back() {
+        let r = [(0.0, 48.40, 0), (10.0, 48.30, 0), (20.0, 48.20, 0)];
+        let e = expected_height(&[], &r, 100.0, 0).unwrap();
+        assert!((e - 48.30).abs() < 1e-9, "{e}");
+        assert_eq!(expected_height(&[], &r[..2], 30.0, 0), None);
+        let same = [(5.0, 48.0, 0), (5.0, 48.1, 0), (5.0, 48.2, 0)];
+        assert_eq!(expected_height(&[], &same, 30.0, 0), None);
+    }
 
     fn req(measurements: &[(u32, f64, u32)]) -> WearRequest {
         WearRequest {

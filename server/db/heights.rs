@@ -4,8 +4,8 @@ use sqlx::SqliteConnection;
 
 use super::record::BuildTable;
 use crate::records::Checked;
-use crate::records::height::HeightInput;
-use crate::records::stored::Height;
+use crate::records::height::{HeightContext, HeightInput};
+use crate::records::stored::{Build, Height};
 
 /// The table and its order, newest first: its records are paged, counted and inserted
 /// through it.
@@ -22,32 +22,40 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
     TABLE.by_id(conn, id).await
 }
 
-/// The (passes, shims pulled) recorded just before and just after a measurement, in recorded
-/// order: for a new measurement (`id` None) the latest one and nothing after. A following
+/// What a measurement of `build` is checked against: its shim stack, the latest three
+/// measurements recorded before it on its disc and the one just after it, in recorded order
+/// (for a new measurement, `id` None: the latest ones and nothing after). A following
 /// new-disc baseline is not a neighbour (it starts its own counts).
-pub async fn around(
+pub async fn context(
     conn: &mut SqliteConnection,
-    build_id: i64,
+    build: &Build,
     id: Option<i64>,
-) -> sqlx::Result<(Option<(i64, i64)>, Option<(i64, i64)>)> {
+) -> sqlx::Result<HeightContext> {
     let at = id.unwrap_or(i64::MAX);
-    let before = sqlx::query_as(
-        "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id < ?
-         ORDER BY id DESC LIMIT 1",
+    let mut before: Vec<HeightInput> = sqlx::query_as(
+        "SELECT * FROM cover_heights WHERE build_id = ? AND id < ? ORDER BY id DESC LIMIT 3",
     )
-    .bind(build_id)
+    .bind(build.id)
     .bind(at)
-    .fetch_optional(&mut *conn)
+    .fetch_all(&mut *conn)
     .await?;
-    let after = sqlx::query_as(
-        "SELECT passes, shims_pulled FROM cover_heights WHERE build_id = ? AND id > ?
-             AND new_disc = 0 ORDER BY id LIMIT 1",
+    if let Some(baseline) = before.iter().position(|h| h.new_disc) {
+        before.truncate(baseline + 1);
+    }
+    before.reverse();
+    let next = sqlx::query_as(
+        "SELECT * FROM cover_heights WHERE build_id = ? AND id > ? AND new_disc = 0
+         ORDER BY id LIMIT 1",
     )
-    .bind(build_id)
+    .bind(build.id)
     .bind(at)
     .fetch_optional(conn)
     .await?;
-    Ok((before, after))
+    Ok(HeightContext {
+        shims_mm: build.data.shim_stack_mm.clone(),
+        before,
+        next,
+    })
 }
 
 /// Cover heights of every active build of a live customer, by build then in recorded order.

@@ -130,9 +130,41 @@ impl BenchInput {
         }
     }
 
-    /// Checks the date, the note and every reading; messages land beside the form inputs
-    /// (and under the JSON paths for the API).
-    pub fn check(self, ctx: &Ctx, errors: FieldErrors) -> Result<Checked<Self>, FieldErrors> {
+    /// Checks the date, the note and every reading, and each reading against the springs'
+    /// solid height recorded on the build (a free length at or below it, or a test height
+    /// below it, is a misread: a coil-bound spring gives no rate); messages land beside the
+    /// form inputs (and under the JSON paths for the API).
+    pub fn check(
+        self,
+        solid_height_mm: Option<f64>,
+        ctx: &Ctx,
+        errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors> {
+        let mut errors = errors;
+        if let Some(solid) = solid_height_mm.filter(|s| s.is_finite()) {
+            let message = |what: &str| {
+                format!(
+                    "{what} the springs' solid height ({}, from the build): a coil-bound spring gives no rate",
+                    Kind::Length.show(ctx.units, solid)
+                )
+            };
+            for (i, s) in self.springs.iter().enumerate() {
+                let Some(free) = s.free_length_mm.filter(|f| f.is_finite()) else {
+                    continue;
+                };
+                let (field, what) = if free <= solid {
+                    ("free_length_mm", "is not above")
+                } else if free - s.compression_mm < solid {
+                    ("compression_mm", "is below")
+                } else {
+                    continue;
+                };
+                let p = self.place(i, field, true);
+                if !errors.has(&p.input) {
+                    errors.add_at(&p.path, &p.input, None, message(what));
+                }
+            }
+        }
         field::check(self, ctx, errors)
     }
 }

@@ -2,8 +2,8 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::FieldErrors;
-use super::field::{Ctx, Field, Record, Value};
+use super::field::{self, Ctx, Field, Record, Value};
+use super::{Checked, FieldErrors};
 use clutch::capacity::friction::FacingMaterial;
 use clutch::quantity::limits;
 
@@ -82,6 +82,36 @@ impl Default for BuildInput {
             status: "active".into(),
             notes: String::new(),
         }
+    }
+}
+
+impl BuildInput {
+    /// Checks a new build (`before` None) or an edit of `before`: every field, the rules
+    /// between them, and that an edit keeps the adjuster thread the build had (adjuster turns
+    /// become spring compression through it; blanking it would leave every setup unreadable).
+    pub fn check_edit(
+        self,
+        before: Option<&BuildInput>,
+        ctx: &Ctx,
+        errors: FieldErrors,
+    ) -> Result<Checked<Self>, FieldErrors> {
+        let mut errors = errors;
+        let threadless = |b: &BuildInput| b.adjuster_tpi.is_none() && b.adjuster_pitch_mm.is_none();
+        if let Some(before) = before.filter(|b| !threadless(b))
+            && threadless(&self)
+        {
+            let column = if before.adjuster_pitch_mm.is_some() {
+                "adjuster_pitch_mm"
+            } else {
+                "adjuster_tpi"
+            };
+            Self::fault(
+                &mut errors,
+                column,
+                "keep the adjuster thread (threads per inch or a metric pitch): the setups' adjuster turns are read through it",
+            );
+        }
+        field::check(self, ctx, errors)
     }
 }
 

@@ -2,7 +2,8 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::field::{Field, Record, Value};
+use super::FieldErrors;
+use super::field::{Ctx, Field, Record, Value};
 use clutch::quantity::limits;
 
 #[derive(
@@ -305,4 +306,29 @@ impl Record for CarInput {
             },
         },
     ];
+
+    fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {
+        // Rules between two fields only speak when both fields passed their own checks.
+        let ok = |errors: &FieldErrors, columns: &[&str]| columns.iter().all(|c| !errors.has(c));
+        if let (Some(wheelbase), Some(cg)) = (self.wheelbase_mm, self.cg_to_front_axle_mm)
+            && ok(errors, &["wheelbase_mm", "cg_to_front_axle_mm"])
+            && cg > wheelbase
+        {
+            Self::fault(
+                errors,
+                "cg_to_front_axle_mm",
+                "must not be longer than the wheelbase (the centre of gravity would sit behind the rear axle)",
+            );
+        }
+        if let (Some(hooked), Some(spinning)) = (self.tire_grip, self.tire_grip_spinning)
+            && ok(errors, &["tire_grip", "tire_grip_spinning"])
+            && spinning > hooked
+        {
+            Self::fault(
+                errors,
+                "tire_grip_spinning",
+                "must not be above the hooked grip (a spinning tire grips less)",
+            );
+        }
+    }
 }

@@ -73,6 +73,7 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
                 ("facing_od", "10.5"),
                 ("facing_id", "6.6"),
                 ("spring_count", "6"),
+                ("adjuster_tpi", "16"),
                 ("shim_stack", "0.010"),
             ],
         )

@@ -17,6 +17,7 @@ mod logs;
 mod migrations;
 mod openapi;
 mod plans;
+mod plausible;
 mod records;
 mod routes;
 mod scheduled_backups;

@@ -65,6 +65,10 @@ async fn the_description_is_valid_openapi_and_in_step_with_the_routes() {
         build["facing_od_mm"]["description"],
         "Facing outer diameter, mm"
     );
+    // The second look on an unusual cover height is part of the request, never of the record.
+    let height = &doc["components"]["schemas"]["HeightInput"]["properties"];
+    assert_eq!(height["confirm"]["type"], "boolean", "{height}");
+    assert_eq!(height["confirm"]["writeOnly"], true, "{height}");
 
     // Checked by a validator the project does not write.
     let dir = std::env::temp_dir().join(format!("lockpoint-openapi-{}", std::process::id()));

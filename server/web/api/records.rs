@@ -23,7 +23,7 @@ use crate::records::bench::BenchInput;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::customer::CustomerInput;
-use crate::records::height::{HeightContext, HeightInput};
+use crate::records::height::HeightInput;
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 use crate::records::stored::{BenchTest, Build, Car, Height, Pass, Setup};
@@ -295,7 +295,7 @@ macro_rules! child_record {
 child_record!(Car, CarInput, cars::for_customer, customer_id of Customer,
     check check_under::<Customer, _, _>);
 child_record!(Build, BuildInput, builds::for_car, car_id of Car,
-    check check_under::<Car, _, _>);
+    check check_build);
 child_record!(Setup, SetupInput, setups::for_build, build_id of Build,
     check check_under::<Build, _, _>, by_user);
 child_record!(Pass, PassInput, passes::for_build, build_id of Build,
@@ -317,6 +317,22 @@ async fn check_under<P: ApiRecord, T: field::Record, R>(
     Ok(checked)
 }
 
+/// A build checked as its form checks it, under a car that must exist; an edit keeps the
+/// adjuster thread.
+async fn check_build(
+    conn: &mut SqliteConnection,
+    input: BuildInput,
+    parent: i64,
+    existing: Option<&Build>,
+) -> Result<Checked<BuildInput>, ApiError> {
+    let ctx = record_ctx(conn).await?;
+    let checked = input
+        .check_edit(existing.map(|b| &b.data), &ctx, FieldErrors::default())
+        .map_err(|e| ApiError(AppError::Invalid(e)))?;
+    found(db::cars::by_id(conn, parent).await?)?;
+    Ok(checked)
+}
+
 /// A bench test checked as its form checks it; an edit keeps the number of springs (a
 /// different set is a new bench test).
 async fn check_bench(
@@ -325,11 +341,15 @@ async fn check_bench(
     parent: i64,
     existing: Option<&BenchTest>,
 ) -> Result<Checked<BenchInput>, ApiError> {
+    let build = found(db::builds::by_id(conn, parent).await?)?;
     let ctx = record_ctx(conn).await?;
     let checked = input
-        .check(&ctx, FieldErrors::default())
+        .check(
+            build.data.spring_solid_height_mm,
+            &ctx,
+            FieldErrors::default(),
+        )
         .map_err(|e| ApiError(AppError::Invalid(e)))?;
-    found(db::builds::by_id(conn, parent).await?)?;
     if let Some(existing) = existing
         && existing.springs.len() != checked.springs.len()
     {
@@ -352,15 +372,10 @@ async fn check_height(
     existing: Option<&Height>,
 ) -> Result<Checked<HeightInput>, ApiError> {
     let build = found(db::builds::by_id(conn, parent).await?)?;
-    let (previous, next) = db::heights::around(conn, parent, existing.map(|h| h.id)).await?;
-    let context = HeightContext {
-        shims_in_stack: build.data.shim_stack_mm.len(),
-        previous,
-        next,
-    };
+    let context = db::heights::context(conn, &build, existing.map(|h| h.id)).await?;
     let ctx = record_ctx(conn).await?;
     input
-        .check_on(context, &ctx, FieldErrors::default())
+        .check_on(&context, &ctx, FieldErrors::default())
         .map_err(|e| ApiError(AppError::Invalid(e)))
 }
 

@@ -108,7 +108,8 @@ trait BuildEntry: Sized + Send + Sync {
     fn read(form: &FormData, units: Units, build: &Build) -> (Self, FieldErrors);
     fn check_on(
         self,
-        hc: HeightContext,
+        build: &Build,
+        hc: &HeightContext,
         ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors>;
@@ -146,7 +147,8 @@ impl BuildEntry for SetupInput {
     }
     fn check_on(
         self,
-        _: HeightContext,
+        _: &Build,
+        _: &HeightContext,
         ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
@@ -192,11 +194,12 @@ impl BuildEntry for BenchInput {
     }
     fn check_on(
         self,
-        _: HeightContext,
+        build: &Build,
+        _: &HeightContext,
         ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
-        self.check(ctx, errors)
+        self.check(build.data.spring_solid_height_mm, ctx, errors)
     }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
@@ -224,11 +227,14 @@ impl BuildEntry for BenchInput {
 impl BuildEntry for HeightInput {
     const WHICH: Which = Which::Height;
     fn read(form: &FormData, units: Units, _: &Build) -> (Self, FieldErrors) {
-        field::read(form, units)
+        let (mut height, errors) = field::read::<Self>(form, units);
+        height.confirm = form.is_checked("confirm");
+        (height, errors)
     }
     fn check_on(
         self,
-        hc: HeightContext,
+        _: &Build,
+        hc: &HeightContext,
         ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
@@ -268,7 +274,8 @@ impl BuildEntry for PassInput {
     }
     fn check_on(
         self,
-        _: HeightContext,
+        _: &Build,
+        _: &HeightContext,
         ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
@@ -312,14 +319,9 @@ async fn add<E: BuildEntry>(
     signed: SignedForm,
 ) -> AppResult<Response> {
     let mut e = Entry::begin(&state, build_id, signed).await?;
-    let (previous, next) = db::heights::around(&mut e.tx, e.build.id, None).await?;
-    let hc = HeightContext {
-        shims_in_stack: e.build.data.shim_stack_mm.len(),
-        previous,
-        next,
-    };
+    let hc = db::heights::context(&mut e.tx, &e.build, None).await?;
     let (input, errors) = E::read(&e.form, e.ctx.units, &e.build);
-    let result = match BuildEntry::check_on(input, hc, &e.ctx, errors) {
+    let result = match BuildEntry::check_on(input, &e.build, &hc, &e.ctx, errors) {
         Ok(checked) => {
             let note = E::saved_note(&mut e.tx, e.build.id, &checked, e.ctx.units).await?;
             E::store(&mut e.tx, e.build.id, e.user.id, &checked).await?;

@@ -649,7 +649,7 @@ async fn save(
         Some(b) => field::read_edit(&form, page.units(), &b.data),
         None => field::read::<BuildInput>(&form, page.units()),
     };
-    let checked = match field::check(input, &page.ctx, errors) {
+    let checked = match input.check_edit(before.as_ref().map(|b| &b.data), &page.ctx, errors) {
         Ok(c) => c,
         Err(errors) => {
             let page = FormPage::new(page, car, id, form, errors);
