@@ -7,6 +7,8 @@ pub mod analysis;
 pub mod file;
 /// The data-log analysis request (CSV text, column mapping) and its answer.
 pub mod request;
+/// Which column is which: a first guess from the header names, and choices that cannot be right.
+pub mod roles;
 /// Savitzky–Golay smoothing and derivatives.
 pub mod savgol;
 /// A long trace thinned to a bounded number of points, every event kept.

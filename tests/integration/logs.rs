@@ -334,12 +334,33 @@ async fn upload_then_mapping_then_the_pass_page() {
     );
     // Each name is written once, in the one list every choice offers.
     assert_eq!(
-        page.body.matches("value=\"engine\"").count(),
+        page.body.matches("<option value=\"engine\">").count(),
         1,
         "{}",
         page.body
     );
     assert!(page.body.contains("units line 3 skipped"), "{}", page.body);
+    // Names that plainly say what they are come chosen; the first rows are shown beside.
+    for (role, name) in [
+        ("time", "t"),
+        ("engine_rpm", "engine"),
+        ("input_rpm", "input"),
+    ] {
+        assert!(
+            page.body.contains(&format!(
+                "name=\"{role}\" list=\"log-columns\" value=\"{name}\""
+            )),
+            "{role}: {}",
+            page.body
+        );
+    }
+    assert!(page.body.contains("The first 5 rows of the file"));
+    assert!(
+        page.body
+            .contains("<td class=\"num\">0,005</td><td class=\"num\">4800</td>"),
+        "{}",
+        page.body
+    );
     let upload_token = map.split("upload=").nth(1).unwrap();
 
     // A mapping that finds no launch: the form again, the message beside the choice.
@@ -356,6 +377,30 @@ async fn upload_then_mapping_then_the_pass_page() {
         .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert!(r.body.contains("id=\"input_rpm-msg\""), "{}", r.body);
+    assert!(
+        r.body.contains("is the column already chosen for time"),
+        "one column, two roles: {}",
+        r.body
+    );
+    assert_eq!(app.count("pass_logs").await, 0);
+    // The time column as a speed, with no time chosen at all, is refused too.
+    let r = client
+        .post(
+            &format!("/passes/{pass}/log/map"),
+            &[
+                ("upload", upload_token),
+                ("time", "input"),
+                ("engine_rpm", "t"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        r.body.contains("is the file&#39;s time column")
+            || r.body.contains("is the file's time column"),
+        "{}",
+        r.body
+    );
     assert_eq!(app.count("pass_logs").await, 0);
 
     let r = client

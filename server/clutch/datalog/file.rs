@@ -317,6 +317,26 @@ fn layout_and_start(text: &[u8]) -> Result<(Layout, usize), InputError> {
     }
 }
 
+/// The first `rows` data rows of a file as text, each cell cut to 24 characters (the mapping
+/// page shows them beside the choice); fewer when the file has fewer.
+pub fn preview(text: &[u8], rows: usize) -> Result<Vec<Vec<String>>, InputError> {
+    let (layout, start) = layout_and_start(text)?;
+    let mut out = Vec::with_capacity(rows);
+    for record in reader(&text[start..], layout.delimiter)
+        .byte_records()
+        .take(rows)
+    {
+        let Ok(record) = record else { break };
+        out.push(
+            record
+                .iter()
+                .map(|c| String::from_utf8_lossy(c).trim().chars().take(24).collect())
+                .collect(),
+        );
+    }
+    Ok(out)
+}
+
 /// Index of the column called `name` (exact after trimming, else ignoring case).
 pub fn find(names: &[String], name: &str) -> Option<usize> {
     let name = name.trim();
@@ -768,6 +788,19 @@ fn plain_cell(rest: &[u8], mut p: usize, delim: u8, point: u8) -> Option<(f64, u
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // RFC 4180 §2: a quoted cell may hold the delimiter (here a decimal comma under semicolons);
+    // the preview starts under the units line.
+    #[test]
+    fn the_preview_is_the_first_data_rows_under_the_header() {
+        let text = b"logger export\nTime;Engine RPM;Throttle\ns;rpm;%\n0,00;1200;\"3,5\"\n0,01;1210;4\n0,02;1225;6\n";
+        let rows = preview(text, 2).unwrap();
+        assert_eq!(
+            rows,
+            vec![vec!["0,00", "1200", "3,5"], vec!["0,01", "1210", "4"]]
+        );
+        assert_eq!(preview(text, 10).unwrap().len(), 3);
+    }
 
     // The fast path for plain decimals gives exactly what the standard library's correctly
     // rounded parser gives (both IEEE 754 round-to-nearest), over many random cells.

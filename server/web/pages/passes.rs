@@ -28,6 +28,7 @@ use crate::web::pages::layout::Layout;
 use clutch::InputError;
 use clutch::datalog::file;
 use clutch::datalog::request::{LogColumns, LogResult, LogSettings, TimeUnit};
+use clutch::datalog::roles::{self, Clash};
 use clutch::quantity::{Kind, limits};
 
 /// Uploads waiting for their mapping, at most this many at once shop-wide.
@@ -700,6 +701,9 @@ pub struct UploadQuery {
     upload: String,
 }
 
+/// Data rows of the file shown beside the mapping choice.
+const PREVIEW_ROWS: usize = 5;
+
 /// One mapping choice on the form.
 pub struct Choice {
     pub name: &'static str,
@@ -719,6 +723,8 @@ pub struct MapPage {
     pub file_kb: String,
     pub layout_words: String,
     pub names: Vec<String>,
+    /// The first data rows of the file, cell by cell, shown beside the choice.
+    pub preview: Vec<Vec<String>>,
     pub choices: Vec<Choice>,
     pub time_unit: String,
     pub slip_on: String,
@@ -764,7 +770,7 @@ impl MapPage {
         pc: &PassCar,
         token: String,
         staged: &StagedFile,
-        layout: file::Layout,
+        (layout, preview): (file::Layout, Vec<Vec<String>>),
         settings: &LogSettings,
         errors: FieldErrors,
     ) -> Self {
@@ -787,11 +793,16 @@ impl MapPage {
                 .map_or(String::new(), |l| format!(", units line {l} skipped")),
             layout.first_data_line
         );
+        // The choice made for this car before, where the file has that column; else a header
+        // name that plainly says what it is.
+        let guessed = roles::guess(&layout.names);
         let choices = ROLES
             .iter()
             .map(|&(key, label, required)| {
-                let remembered = column_of(&settings.columns, key).unwrap_or("");
-                let selected = file::find(&layout.names, remembered)
+                let in_file = |name: &str| file::find(&layout.names, name);
+                let selected = column_of(&settings.columns, key)
+                    .and_then(in_file)
+                    .or_else(|| column_of(&guessed, key).and_then(in_file))
                     .map(|i| layout.names[i].clone())
                     .unwrap_or_default();
                 Choice {
@@ -811,6 +822,7 @@ impl MapPage {
             file_kb: format!("{:.0} KB", staged.bytes as f64 / 1024.0),
             layout_words,
             names: layout.names,
+            preview,
             choices,
             time_unit: settings.time_unit.key().into(),
             slip_on: format!("{}", settings.slip_on_pct),
@@ -831,14 +843,15 @@ async fn open_staged(
     state: &AppState,
     caller: &Caller,
     staged: &StagedFile,
-) -> AppResult<(Vec<u8>, file::Layout)> {
+) -> AppResult<(Vec<u8>, (file::Layout, Vec<Vec<String>>))> {
     let deflated = Arc::clone(&staged.deflated);
     state
         .heavy
         .run_for(caller, move || {
             let text = db::pass_logs::inflate(&deflated, limits::LOG_FILE_BYTES)?;
             let layout = file::layout_for_mapping(&text).map_err(|e| e.message)?;
-            Ok::<_, String>((text, layout))
+            let preview = file::preview(&text, PREVIEW_ROWS).map_err(|e| e.message)?;
+            Ok::<_, String>((text, (layout, preview)))
         })
         .await?
         .map_err(AppError::Internal)
@@ -956,6 +969,22 @@ pub async fn map_save(
         engine_inertia_kgm2: inertia,
     };
     let (text, layout) = open_staged(&state, &caller, &staged).await?;
+    let label = |key: &'static str| ROLES.iter().find(|r| r.0 == key).map_or(key, |r| r.1);
+    for clash in roles::clashes(&settings.columns, &layout.0.names) {
+        match clash {
+            Clash::SameColumn { role, other } => errors.add(
+                role,
+                format!(
+                    "is the column already chosen for {}: pick another, or leave it blank",
+                    label(other).to_lowercase()
+                ),
+            ),
+            Clash::TimeColumn { role } => errors.add(
+                role,
+                "is the file's time column: pick the column this channel was logged in",
+            ),
+        }
+    }
     let text = Arc::new(text);
     if errors.is_empty() {
         match pc.analyse(&state, &caller, &settings, text).await? {
