@@ -1,7 +1,7 @@
 //! A pass's data log: the logger's CSV file read into columns, the analysis of a logged pass,
 //! its smoothing, and the analysis API (request and answer).
 
-/// A logged pass analysed: launch, lockup, slip, clutch torque, slip power and energy, tyre spin.
+/// A logged pass analysed: launch, lockup, slip, clutch torque, slip power and energy, tire spin.
 pub mod analysis;
 /// Reading a logger's CSV export: delimiter, header, units line, decimal comma, blanks.
 pub mod file;

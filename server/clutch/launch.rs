@@ -1,4 +1,4 @@
-//! The launch preview: the engine, the slipping clutch, the driveline and the tyres simulated
+//! The launch preview: the engine, the slipping clutch, the driveline and the tires simulated
 //! from the launch to lockup, its API, and the counterweight search for a launch target.
 
 /// The launch preview request (as the API receives it), its validation and its answer.

@@ -13,7 +13,7 @@ pub mod capacity;
 pub mod datalog;
 /// Friction against heat: launch temperatures through a day and μ against temperature.
 pub mod heat;
-/// Launch preview: engine, slipping clutch, driveline and tyres simulated through a launch.
+/// Launch preview: engine, slipping clutch, driveline and tires simulated through a launch.
 pub mod launch;
 /// Quantity kinds (internal and display units) and the one table of limits.
 pub mod quantity;

@@ -57,8 +57,12 @@ pub enum Kind {
     Temperature,
     /// Time, ms in both systems (integration steps).
     Milliseconds,
-    /// Energy, kJ in both systems (slip energy).
+    /// Energy, kJ in both systems (slip energy): the unit clutch heat is rated in; a US shop
+    /// reads it as it is (ft·lbf would put six digits on every launch).
     Kilojoules,
+    /// Power, kW in both systems (slip power): read beside the slip energy it builds, in the
+    /// same system.
+    Kilowatts,
 }
 
 impl Kind {
@@ -134,6 +138,7 @@ impl Kind {
             Kind::Temperature => units.temperature_label(),
             Kind::Milliseconds => "ms",
             Kind::Kilojoules => "kJ",
+            Kind::Kilowatts => "kW",
             Kind::Ratio | Kind::Mu | Kind::Count => "",
         }
     }
@@ -151,7 +156,7 @@ impl Kind {
             Kind::Ratio | Kind::ThreadsPerInch => 2,
             Kind::Pitch | Kind::Turns | Kind::Mu | Kind::Seconds | Kind::Inertia => 3,
             Kind::ForcePerGram => 4,
-            Kind::Temperature | Kind::Kilojoules => 0,
+            Kind::Temperature | Kind::Kilojoules | Kind::Kilowatts => 0,
             Kind::Area | Kind::Density | Kind::Milliseconds => 2,
             Kind::SpecificHeat => match units {
                 Units::Imperial => 3,
@@ -182,6 +187,12 @@ impl Kind {
             unit => format!("{number} {unit}"),
         }
     }
+}
+
+/// A count with its noun agreeing, rounded whole: "1 pass", "0 passes", "12 shims".
+pub fn counted(n: f64, one: &str, many: &str) -> String {
+    let whole = n.round();
+    format!("{whole:.0} {}", if whole == 1.0 { one } else { many })
 }
 
 /// `12345.6` → `12,345.6`: thousands grouped with commas, the way the shop writes them.
@@ -370,7 +381,7 @@ pub mod limits {
     pub const ENGINE_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(10.0));
     /// Gearbox input (disc, input shaft, gear cluster) or driveshaft moment of inertia.
     pub const SHAFT_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(10.0));
-    /// Rear or front axle (wheels, tyres, hubs, axles) moment of inertia.
+    /// Rear or front axle (wheels, tires, hubs, axles) moment of inertia.
     pub const AXLE_INERTIA: Limit = Limit::new(Inertia, Excl(0.0), Incl(100.0));
     /// Engine friction torque taken off the torque curve in the launch preview.
     pub const FRICTION_TORQUE: Limit = Limit::new(Torque, Incl(0.0), Incl(5_000.0));
@@ -384,7 +395,7 @@ pub mod limits {
     pub const DRAG_AREA: Limit = Limit::new(Area, Incl(0.0), Incl(20.0));
     /// Air density.
     pub const AIR_DENSITY: Limit = Limit::new(Density, Excl(0.0), Incl(5.0));
-    /// Tyre-road friction coefficient, gripping or spinning.
+    /// Tire-road friction coefficient, gripping or spinning.
     pub const TIRE_GRIP: Limit = Limit::new(Ratio, Incl(0.1), Incl(4.0));
     /// Static over kinetic friction of the clutch (for the lock test).
     pub const STATIC_RATIO: Limit = Limit::new(Ratio, Incl(1.0), Incl(3.0));

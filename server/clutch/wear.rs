@@ -143,7 +143,10 @@ pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
         if m.shims_pulled as usize > req.shims.len() {
             return Err(InputError::new(
                 format!("measurements[{i}].shims_pulled"),
-                format!("is more than the {} shims in the stack", req.shims.len()),
+                format!(
+                    "is more than the {} in the stack",
+                    crate::quantity::counted(req.shims.len() as f64, "shim", "shims")
+                ),
             ));
         }
         if let Some(p) = prev {

@@ -9,7 +9,7 @@ use clutch::units::{M_S_PER_MPH, RAD_S_PER_RPM};
 pub const ENGINE_INERTIA_KGM2: f64 = 0.20;
 
 /// The log of one invented pass for a car with `curve_nm` (rpm, N·m), `first`·`final_drive`
-/// and a tyre of `tire_mm`.
+/// and a tire of `tire_mm`.
 pub fn pass_log(curve_nm: &[[f64; 2]], first: f64, final_drive: f64, tire_mm: f64) -> String {
     let torque = |rpm: f64| -> f64 {
         let i = curve_nm

@@ -110,6 +110,15 @@ impl ShopZone {
         self.civil(t).strftime("%Y-%m-%d %H:%M:%S").to_string()
     }
 
+    /// The shop's local date of a stored UTC stamp (`2026-07-02T03:30:00Z` → `2026-07-01` six
+    /// hours behind UTC); text that is not a stamp is returned as it is.
+    pub fn local_date(&self, utc: &str) -> String {
+        match utc.parse::<jiff::Timestamp>() {
+            Ok(t) => t.to_zoned(self.0.clone()).strftime("%Y-%m-%d").to_string(),
+            Err(_) => utc.to_string(),
+        }
+    }
+
     /// A stored UTC stamp (`2026-11-02T10:00:00Z`) as the shop's local date and time
     /// (`2026-11-02 04:00`); text that is not a stamp is returned as it is.
     pub fn local_stamp(&self, utc: &str) -> String {
@@ -174,6 +183,7 @@ mod tests {
         let zone = ShopZone::parse("America/Chicago").unwrap();
         assert_eq!(zone.local_stamp("2026-11-02T10:00:00Z"), "2026-11-02 04:00");
         assert_eq!(zone.local_stamp("2026-07-02T03:30:00Z"), "2026-07-01 22:30");
+        assert_eq!(zone.local_date("2026-07-02T03:30:00Z"), "2026-07-01");
         assert!(ShopZone::parse("Mars/Olympus").is_err());
     }
 }

@@ -4,7 +4,7 @@ use serde::{Deserialize, Serialize};
 
 use super::field::{self, Ctx, Field, Record, Value};
 use super::{Checked, FieldErrors};
-use clutch::quantity::{Bound, Kind, Limit, limits};
+use clutch::quantity::{Bound, Kind, Limit, counted, limits};
 use clutch::units::Units;
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema)]
@@ -170,8 +170,10 @@ impl HeightInput {
             return Some((
                 "measured_on",
                 format!(
-                    "is before the last reading ({}, at {} passes) with more passes ({}): check the date",
-                    last.measured_on, last.passes, self.passes
+                    "is before the last reading ({}, at {}) with more passes ({}): check the date",
+                    last.measured_on,
+                    counted(last.passes as f64, "pass", "passes"),
+                    self.passes
                 ),
             ));
         }
@@ -192,12 +194,12 @@ impl HeightInput {
             (
                 "height_mm",
                 format!(
-                    "is {} {} the trend of the last {} readings, which expects about {} at {} passes: measure again",
+                    "is {} {} the trend of the last {} readings, which expects about {} at {}: measure again",
                     len(off.abs()),
                     if off > 0.0 { "above" } else { "below" },
                     readings.len().min(3),
                     len(expected),
-                    self.passes
+                    counted(self.passes as f64, "pass", "passes")
                 ),
             )
         })
@@ -233,14 +235,20 @@ impl HeightInput {
                 Self::fault(
                     errors,
                     "passes",
-                    format!("the next measurement is at {passes} passes"),
+                    format!(
+                        "the next measurement is at {}",
+                        counted(passes as f64, "pass", "passes")
+                    ),
                 );
             }
             if this.shims_pulled > pulled {
                 Self::fault(
                     errors,
                     "shims_pulled",
-                    format!("the next measurement has {pulled} shims pulled"),
+                    format!(
+                        "the next measurement has {} pulled",
+                        counted(pulled as f64, "shim", "shims")
+                    ),
                 );
             }
         }
@@ -261,7 +269,14 @@ impl HeightInput {
                 Self::fault(
                     errors,
                     "shims_pulled",
-                    format!("{pulled} shims were already pulled; a pulled shim does not go back"),
+                    format!(
+                        "{} already pulled; a pulled shim does not go back",
+                        if pulled == 1 {
+                            "1 shim was".to_string()
+                        } else {
+                            format!("{pulled} shims were")
+                        }
+                    ),
                 );
             }
         }

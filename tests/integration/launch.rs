@@ -162,10 +162,10 @@ async fn imperial_and_metric_give_the_same_launch() {
     assert!((num(&imperial["thermal"]["pressure_plate_rise"]) - 1.8 * k).abs() < 0.1);
 }
 
-// docs/engineering.md §18 [derived, g = 9.81]: with grips 1.0 / 0.8 the tyres spin from the
-// start and the clutch locks at 0.0862 s with 19.33 kJ, the tyres still spinning.
+// docs/engineering.md §18 [derived, g = 9.81]: with grips 1.0 / 0.8 the tires spin from the
+// start and the clutch locks at 0.0862 s with 19.33 kJ, the tires still spinning.
 #[tokio::test]
-async fn low_grip_spins_the_tyres_from_the_start() {
+async fn low_grip_spins_the_tires_from_the_start() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
     let mut v = worked();

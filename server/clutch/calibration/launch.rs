@@ -7,9 +7,9 @@
 //! Method (docs/engineering.md §15): bisection on μ over [0.05, 1.0] to 1e-5. The lock time and
 //! the lockup speed both fall as μ rises. A run that does not lock counts as μ too low when the
 //! clutch is still slipping with the engine on (or above) its curve, and as μ too high when the
-//! engine is pulled below the bottom of its curve; a run whose tyres spin before the lock counts
+//! engine is pulled below the bottom of its curve; a run whose tires spin before the lock counts
 //! as μ too high too (as the counterweight search for a launch target counts it): past that
-//! point the clutch locks at once with the tyres spinning, so neither the lock time nor the
+//! point the clutch locks at once with the tires spinning, so neither the lock time nor the
 //! lockup speed keeps falling with μ. When the converged μ's run differs from the
 //! observation by more than 1 %, no friction value reproduces the pass (an error naming it).
 
@@ -148,7 +148,7 @@ impl Seen {
     /// The run's value of what was seen: +∞ for a run that says μ is too low, −∞ for one that
     /// says it is too high (see the module notes).
     fn measure(self, run: &LaunchRun) -> f64 {
-        // Tyres spinning before the lock: the clamp is more than the car can use (the lock
+        // Tires spinning before the lock: the clamp is more than the car can use (the lock
         // that follows comes at once, off the line's pace).
         let spun = |lock: Option<f64>| {
             run.tire_spin
@@ -300,7 +300,7 @@ fn fit_pass(valid: &ValidLaunch, seen: Seen, i: usize) -> Result<(f64, Lockup), 
             format!("passes[{i}]"),
             format!(
                 "no friction coefficient from {} to {} reproduces {what} with this car and \
-                 setting (below it the clutch locks late or not at all, above it the tyres \
+                 setting (below it the clutch locks late or not at all, above it the tires \
                  spin or the engine bogs); check the pass's figures and the car's data",
                 MU_RANGE[0], MU_RANGE[1]
             ),
@@ -351,7 +351,7 @@ pub fn calibrate_launch(req: &LaunchCalibrateRequest) -> Result<LaunchCalibratio
     let mut notes = vec![
         "Each pass's μ is the one for which the launch simulation reproduces it (bisection on \
          0.05–1.0 to 1e-5); the lock time wins over the lockup speed where both are given. A \
-         simulated launch that spins the tyres or pulls the engine below its curve counts as \
+         simulated launch that spins the tires or pulls the engine below its curve counts as \
          too much friction."
             .to_string(),
     ];

@@ -3,8 +3,10 @@
 //! Every output is in the request's unit system.
 
 use crate::InputError;
+use crate::capacity::friction::FacingMaterial;
 use crate::capacity::lockup::{KNIFE_EDGE_MU_DROP, SpeedPoint, curve_at, knife_edge, lockup_text};
 use crate::capacity::request::{CapacityRequest, ValidRequest};
+use crate::quantity::Kind;
 use crate::units::Units;
 use serde::Serialize;
 
@@ -193,17 +195,8 @@ pub fn report_for(v: &ValidRequest) -> CapacityReport {
             ));
         }
     }
-    if let Some(mat) = v.material {
-        let d = mat.data();
-        if m.mu < d.mu_min || m.mu > d.mu_max {
-            warnings.push(format!(
-                "Friction coefficient {} is outside the published range {}–{} for {} facings.",
-                m.mu,
-                d.mu_min,
-                d.mu_max,
-                mat.label().to_lowercase()
-            ));
-        }
+    if let Some(w) = v.material.and_then(|mat| mu_range_warning(m.mu, mat, u)) {
+        warnings.push(w);
     }
 
     CapacityReport {
@@ -262,7 +255,7 @@ fn bind_warning(
 /// be brought up to engine speed), so nothing here says it will not slip: it grabs hard.
 pub fn launch_grab_text(launch_rpm: f64, ratio: f64) -> String {
     format!(
-        "Capacity at the {launch_rpm:.0} rpm launch is {ratio:.2} times engine torque, so the clutch grabs hard: the engine is pulled down, or the driveline and tyres take the shock. It still slips until the input shaft comes up to engine speed."
+        "Capacity at the {launch_rpm:.0} rpm launch is {ratio:.2} times engine torque, so the clutch grabs hard: the engine is pulled down, or the driveline and tires take the shock. It still slips until the input shaft comes up to engine speed."
     )
 }
 
@@ -274,6 +267,22 @@ pub fn is_launch_grab(warning: &str) -> bool {
 
 fn is_false(v: &bool) -> bool {
     !*v
+}
+
+/// The warning for a μ outside the published range of its facing material, judged as shown
+/// (three decimals, [`Kind::Mu`]): a μ that reads inside the range is not called outside it.
+fn mu_range_warning(mu: f64, mat: FacingMaterial, u: Units) -> Option<String> {
+    let d = mat.data();
+    let shown = Kind::Mu.number(u, mu);
+    let read = shown.parse::<f64>().unwrap_or(mu);
+    (read < d.mu_min || read > d.mu_max).then(|| {
+        format!(
+            "Friction coefficient {shown} is outside the published range {:.2}–{:.2} for {} facings.",
+            d.mu_min,
+            d.mu_max,
+            mat.label().to_lowercase()
+        )
+    })
 }
 
 fn is_zero(v: &f64) -> bool {
@@ -295,13 +304,31 @@ mod tests {
         let w = launch_grab_text(5000.0, 1.8712);
         assert_eq!(
             w,
-            "Capacity at the 5000 rpm launch is 1.87 times engine torque, so the clutch grabs hard: the engine is pulled down, or the driveline and tyres take the shock. It still slips until the input shaft comes up to engine speed."
+            "Capacity at the 5000 rpm launch is 1.87 times engine torque, so the clutch grabs hard: the engine is pulled down, or the driveline and tires take the shock. It still slips until the input shaft comes up to engine speed."
         );
         assert!(!w.contains("not slip"));
         assert!(is_launch_grab(&w));
         assert!(!is_launch_grab(
             "Capacity at 7000 rpm (1571 lbf·ft) is more than 1.5 times"
         ));
+    }
+
+    // The ranges are the facing table's (capacity::friction); a μ is read to 0.001 everywhere.
+    #[test]
+    fn a_mu_that_reads_inside_the_range_is_not_called_outside_it() {
+        let m = FacingMaterial::Organic;
+        let d = m.data();
+        let u = Units::Imperial;
+        assert_eq!(mu_range_warning(d.mu_min - 0.0004, m, u), None);
+        let w = mu_range_warning(d.mu_min - 0.0006, m, u).expect("reads below");
+        assert!(
+            w.starts_with(&format!(
+                "Friction coefficient {:.3} is outside",
+                d.mu_min - 0.001
+            )),
+            "{w}"
+        );
+        assert_eq!(mu_range_warning(d.mu_max + 0.0004, m, u), None);
     }
 
     #[test]

@@ -1,6 +1,6 @@
 //! A logged pass analysed the same way every time: the channels put on one clock, the launch
 //! and the lockup found, the slip, the torque the clutch carried, the slip power and energy and
-//! the tyre spin.
+//! the tire spin.
 //!
 //! Methods (docs/engineering.md §21):
 //! - slip % = 100·(N_e − N_in)/N_e;
@@ -18,7 +18,7 @@
 //! - slip power P = T_c·max(0, ω_e − ω_in); slip energy the trapezoid sum of P from the launch
 //!   instant (P there interpolated between the samples around it; a sample within 1e-9 s of it
 //!   is the launch sample) to the end of the lockup's hold window;
-//! - tyre spin where the driven wheels run more than 15 % faster than the undriven ones for at
+//! - tire spin where the driven wheels run more than 15 % faster than the undriven ones for at
 //!   least 50 ms.
 //!
 //! The thresholds (100 rpm, 3 samples, 50 ms, 60 ms, 15 %) are docs/engineering.md §21's, no
@@ -44,9 +44,9 @@ pub const LAUNCH_FIT_S: f64 = 0.050;
 pub const DERIVATIVE_SPAN_S: f64 = 0.060;
 /// Fewest samples in the derivative window.
 pub const DERIVATIVE_MIN_SAMPLES: usize = 5;
-/// Driven-over-undriven speed excess counted as tyre spin.
+/// Driven-over-undriven speed excess counted as tire spin.
 pub const SPIN_EXCESS: f64 = 0.15;
-/// Shortest tyre spin reported, s.
+/// Shortest tire spin reported, s.
 pub const SPIN_MIN_S: f64 = 0.050;
 /// Undriven wheel speed below which the spin ratio is taken against this speed instead, m/s
 /// (docs/engineering.md §21: v_min = 0.5 m/s).
@@ -64,7 +64,7 @@ pub const MIN_SAMPLES: usize = 10;
 /// has about 3 M, and 5 M keeps one analysis's channels within a few hundred MB (a cap on
 /// the work and memory per request, not a method choice).
 pub const MAX_SAMPLES: usize = 5_000_000;
-/// Most tyre-spin intervals listed (more only on a file of noise; the count is noted).
+/// Most tire-spin intervals listed (more only on a file of noise; the count is noted).
 pub const SPIN_MAX_INTERVALS: usize = 1_000;
 
 /// The refusal of a log past [`MAX_SAMPLES`]; `what` says how the count came about.
@@ -420,7 +420,7 @@ pub struct Analysis {
     pub peak_slip_power_w: Option<f64>,
     /// First and last sample of the energy window.
     pub window: (usize, usize),
-    /// Tyre spin intervals, [start, end] s.
+    /// Tire spin intervals, [start, end] s.
     pub tire_spin: Vec<[f64; 2]>,
     /// Plain-English notes.
     pub notes: Vec<String>,
@@ -745,7 +745,7 @@ pub fn analyze(
             let mut spin = tire_spin(t, d, u);
             if spin.len() > SPIN_MAX_INTERVALS {
                 notes.push(format!(
-                    "The tyres spun {} times; the first {SPIN_MAX_INTERVALS} are listed.",
+                    "The tires spun {} times; the first {SPIN_MAX_INTERVALS} are listed.",
                     spin.len()
                 ));
                 spin.truncate(SPIN_MAX_INTERVALS);
@@ -753,7 +753,7 @@ pub fn analyze(
             spin
         }
         (None, Some(_)) => {
-            notes.push("Tyre spin needs the driven wheels' speed: map it, or give the gear ratios and tyre diameter.".into());
+            notes.push("Tire spin needs the driven wheels' speed: map it, or give the gear ratios and tire diameter.".into());
             Vec::new()
         }
         _ => Vec::new(),

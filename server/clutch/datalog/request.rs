@@ -1,6 +1,6 @@
 //! The data-log analysis as the API receives it (a CSV text, the column mapping, the lockup
 //! rule and optionally the engine) and its answer. Reading is [`crate::datalog::file`], the method
-//! [`crate::datalog::analysis`]. Torques are in the request's `units`, as are the tyre diameter (in / mm),
+//! [`crate::datalog::analysis`]. Torques are in the request's `units`, as are the tire diameter (in / mm),
 //! the engine inertia (lb·ft² / kg·m²) and wheel speeds in the file (mph / km/h); engine and
 //! shaft speeds are rev/min, times seconds from the file's first sample.
 
@@ -46,7 +46,7 @@ impl TimeUnit {
 
 /// Which of the file's columns (by header name) hold which channel. `time` and `engine_rpm`
 /// always; exactly one of `input_rpm`, `driveshaft_rpm` (with the first gear ratio) or
-/// `driven_wheel_speed` (with both ratios and the tyre diameter).
+/// `driven_wheel_speed` (with both ratios and the tire diameter).
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 #[cfg_attr(feature = "openapi", derive(utoipa::ToSchema))]
 #[serde(default)]
@@ -145,7 +145,7 @@ pub struct CarFacts<'a> {
 }
 
 impl LogSettings {
-    /// The validated analysis for a stored pass: ratios, tyre and torque curve from its car,
+    /// The validated analysis for a stored pass: ratios, tire and torque curve from its car,
     /// the inertia from these settings (without it, or without a curve, no torque or energy),
     /// wheel speeds in the file read in `wheel_units` (the shop's).
     pub fn valid(&self, car: CarFacts, wheel_units: Units) -> Result<ValidLog, InputError> {
@@ -194,7 +194,7 @@ pub struct LogAnalysisRequest {
     pub first_gear_ratio: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub final_drive_ratio: Option<f64>,
-    /// Driven tyre diameter (in / mm).
+    /// Driven tire diameter (in / mm).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub tire_diameter: Option<f64>,
     /// Without it, torque, power and energy are null.
@@ -359,7 +359,7 @@ impl LogAnalysisRequest {
                 if v.is_none() {
                     return Err(InputError::new(
                         field,
-                        "a driven wheel speed needs both ratios and the tyre diameter",
+                        "a driven wheel speed needs both ratios and the tire diameter",
                     ));
                 }
             }
@@ -601,7 +601,7 @@ impl LogResult {
 
     /// The samples of every event, most important first: launch, lockup (the samples either
     /// side of each crossing), the lowest engine speed, the peaks (engine and input speed,
-    /// clutch torque, slip power), then each tyre spin's first and last sample.
+    /// clutch torque, slip power), then each tire spin's first and last sample.
     pub fn event_indices(&self) -> Vec<usize> {
         let a = &self.analysis;
         let t = &self.series.time_s;

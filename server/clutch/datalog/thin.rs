@@ -6,7 +6,7 @@
 //! each the sample forming the largest triangle with the one kept before it and the mean of the
 //! next bucket is kept), extended to several channels: the triangle areas of each channel, its
 //! values scaled to its own range, are summed, so one choice of samples serves every channel. The event samples the
-//! caller names (launch, lockup, lowest engine speed, the peaks, the tyre-spin edges) are then
+//! caller names (launch, lockup, lowest engine speed, the peaks, the tire-spin edges) are then
 //! added back, so no event falls between two kept points. Pure: indices in, indices out.
 
 /// Most points of an analysis answer's trace.

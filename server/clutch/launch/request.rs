@@ -350,7 +350,7 @@ impl LaunchVehicle {
         if grip_spinning > grip_peak {
             return Err(InputError::new(
                 "vehicle.tire_grip_spinning",
-                "must not be above tire_grip (a spinning tyre grips less)",
+                "must not be above tire_grip (a spinning tire grips less)",
             ));
         }
         Ok(Vehicle {

@@ -1,8 +1,8 @@
 //! Launch preview: a deterministic simulation of the first seconds of a drag launch, from the
-//! engine at its launch speed through the slipping clutch, the driveline and the tyres.
+//! engine at its launch speed through the slipping clutch, the driveline and the tires.
 //!
 //! The model is the usual hybrid one for a friction clutch: two inertias joined by Coulomb
-//! friction, switching between slipping (two degrees of freedom) and locked (one), with a tyre
+//! friction, switching between slipping (two degrees of freedom) and locked (one), with a tire
 //! that grips or spins. Sources: the two-inertia engagement and its energy, Shigley's
 //! *Mechanical Engineering Design* (Budynas & Nisbett), ch. 16 "Energy considerations"; the
 //! stuck/sliding switching logic as in the Modelica Standard Library's rotational `Clutch`
@@ -17,8 +17,8 @@
 //! clutch torque at the crossing and the clutch never locks). No `mul_add`: one input gives
 //! bit-identical results on one build.
 //!
-//! Deliberate simplifications (said on the page too): a rigid driveline, one lumped tyre, no
-//! squat, no tyre growth, driveline efficiency on torque only (not on the reflected inertias),
+//! Deliberate simplifications (said on the page too): a rigid driveline, one lumped tire, no
+//! squat, no tire growth, driveline efficiency on torque only (not on the reflected inertias),
 //! bulk (not rubbing-surface) plate temperatures.
 
 use crate::capacity::lockup::CapacityLaw;
@@ -72,9 +72,9 @@ pub struct Driveline {
     pub input_inertia_kg_m2: f64,
     /// Driveshaft and pinion, kg·m².
     pub driveshaft_inertia_kg_m2: f64,
-    /// Rear axle: axles, wheels, tyres, kg·m².
+    /// Rear axle: axles, wheels, tires, kg·m².
     pub rear_axle_inertia_kg_m2: f64,
-    /// Front wheels and tyres, kg·m².
+    /// Front wheels and tires, kg·m².
     pub front_axle_inertia_kg_m2: f64,
 }
 
@@ -83,7 +83,7 @@ pub struct Driveline {
 pub struct Vehicle {
     /// Mass, kg.
     pub mass_kg: f64,
-    /// Rolling radius of the rear tyre, m.
+    /// Rolling radius of the rear tire, m.
     pub tire_radius_m: f64,
     /// Wheelbase L, m.
     pub wheelbase_m: f64,
@@ -99,9 +99,9 @@ pub struct Vehicle {
     pub drag_area_m2: f64,
     /// Air density, kg/m³.
     pub air_density_kg_m3: f64,
-    /// Tyre-road friction while gripping (peak).
+    /// Tire-road friction while gripping (peak).
     pub grip_peak: f64,
-    /// Tyre-road friction while spinning.
+    /// Tire-road friction while spinning.
     pub grip_spinning: f64,
     /// Gravity, m/s² ([`STANDARD_GRAVITY`] unless a check needs another value).
     pub gravity_m_s2: f64,
@@ -166,9 +166,9 @@ enum ClutchMode {
     Locked,
 }
 
-/// Tyre state during a step.
+/// Tire state during a step.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum TyreMode {
+enum TireMode {
     Grip,
     Spin,
 }
@@ -176,7 +176,7 @@ enum TyreMode {
 #[derive(Debug, Clone, Copy, PartialEq)]
 struct Mode {
     clutch: ClutchMode,
-    tyre: TyreMode,
+    tire: TireMode,
     /// μ(θ)/μ for this step (1 with constant μ).
     mu_scale: f64,
 }
@@ -203,9 +203,9 @@ pub enum Event {
     /// The speeds met but holding would need more than the static capacity: it slips the
     /// other way.
     Reversed { needed_nm: f64, static_nm: f64 },
-    /// The tyres broke loose: force needed and the traction limit, N.
+    /// The tires broke loose: force needed and the traction limit, N.
     Spin { needed_n: f64, limit_n: f64 },
-    /// The tyres hooked up again.
+    /// The tires hooked up again.
     Grip,
     /// Sixty feet reached: speed m/s.
     SixtyFeet { speed_m_s: f64 },
@@ -343,23 +343,23 @@ impl<'a> Plant<'a> {
         let g = self.g;
         let te = self.engine_nm(we);
         let road = self.road_n(v);
-        let (mut d, tc) = match (mode.clutch, mode.tyre) {
-            (ClutchMode::Slip(s), TyreMode::Grip) => {
+        let (mut d, tc) = match (mode.clutch, mode.tire) {
+            (ClutchMode::Slip(s), TireMode::Grip) => {
                 let tc = s * self.capacity_nm(we, mode.mu_scale);
                 let a = (eta * g * tc / r - road) / self.m_eq;
                 ([(te - tc) / ie, a / r, a, v], tc)
             }
-            (ClutchMode::Locked, TyreMode::Grip) => {
+            (ClutchMode::Locked, TireMode::Grip) => {
                 let a = (eta * g * te / r - road) / (self.m_eq + eta * ie * g * g / (r * r));
                 ([g * a / r, a / r, a, v], te - ie * g * a / r)
             }
-            (ClutchMode::Slip(s), TyreMode::Spin) => {
+            (ClutchMode::Slip(s), TireMode::Spin) => {
                 let tc = s * self.capacity_nm(we, mode.mu_scale);
                 let fx = self.traction_n(self.m.vehicle.grip_spinning, v);
                 let aw = (eta * g * tc - fx * r) / self.j_w;
                 ([(te - tc) / ie, aw, (fx - road) / self.m_t, v], tc)
             }
-            (ClutchMode::Locked, TyreMode::Spin) => {
+            (ClutchMode::Locked, TireMode::Spin) => {
                 let fx = self.traction_n(self.m.vehicle.grip_spinning, v);
                 let aw = (eta * g * te - fx * r) / (self.j_w + eta * ie * g * g);
                 ([g * aw, aw, (fx - road) / self.m_t, v], te - ie * g * aw)
@@ -368,7 +368,7 @@ impl<'a> Plant<'a> {
         // A car at rest does not roll backwards under its rolling resistance.
         if v <= 0.0 && d[2] < 0.0 {
             d[2] = 0.0;
-            if mode.tyre == TyreMode::Grip {
+            if mode.tire == TireMode::Grip {
                 d[1] = 0.0;
                 if mode.clutch == ClutchMode::Locked {
                     d[0] = 0.0;
@@ -410,22 +410,22 @@ impl<'a> Plant<'a> {
         }
     }
 
-    /// Tyre force the car needs to keep gripping in `mode`, N: m_t·v' + F_rr + F_a.
+    /// Tire force the car needs to keep gripping in `mode`, N: m_t·v' + F_rr + F_a.
     fn grip_force_needed_n(&self, clutch: ClutchMode, mu_scale: f64, y: &State) -> f64 {
         let mode = Mode {
             clutch,
-            tyre: TyreMode::Grip,
+            tire: TireMode::Grip,
             mu_scale,
         };
         let d = self.rates(mode, y).0;
         self.m_t * d[2] + self.road_n(y[2])
     }
 
-    /// Clutch torque needed to stay locked with the tyre in `tyre`, N·m.
-    fn lock_torque_needed_nm(&self, tyre: TyreMode, mu_scale: f64, y: &State) -> f64 {
+    /// Clutch torque needed to stay locked with the tire in `tire`, N·m.
+    fn lock_torque_needed_nm(&self, tire: TireMode, mu_scale: f64, y: &State) -> f64 {
         let mode = Mode {
             clutch: ClutchMode::Locked,
-            tyre,
+            tire,
             mu_scale,
         };
         self.rates(mode, y).1
@@ -489,11 +489,11 @@ impl Run<'_> {
         self.out.events.push(Timed { time_s, event });
     }
 
-    /// Mode changes decided at the start of a step: the tyre first (with the clutch as it is),
-    /// then the clutch (with the tyre as it now is).
+    /// Mode changes decided at the start of a step: the tire first (with the clutch as it is),
+    /// then the clutch (with the tire as it now is).
     fn switch_at_start(&mut self) {
         let y = self.y;
-        if self.mode.tyre == TyreMode::Grip {
+        if self.mode.tire == TireMode::Grip {
             let needed = self
                 .p
                 .grip_force_needed_n(self.mode.clutch, self.mode.mu_scale, &y);
@@ -505,7 +505,7 @@ impl Run<'_> {
         if self.mode.clutch == ClutchMode::Locked {
             let needed = self
                 .p
-                .lock_torque_needed_nm(self.mode.tyre, self.mode.mu_scale, &y);
+                .lock_torque_needed_nm(self.mode.tire, self.mode.mu_scale, &y);
             let holds = self.p.static_nm(y[0], self.mode.mu_scale);
             if needed.abs() > holds {
                 self.mode.clutch = ClutchMode::Slip(needed.signum());
@@ -521,15 +521,15 @@ impl Run<'_> {
         }
     }
 
-    /// The tyres start to spin now: the mode, the interval and the event.
+    /// The tires start to spin now: the mode, the interval and the event.
     fn start_spin(&mut self, needed_n: f64, limit_n: f64) {
-        self.mode.tyre = TyreMode::Spin;
+        self.mode.tire = TireMode::Spin;
         self.out.tire_spin.push((self.t, None));
         self.event(self.t, Event::Spin { needed_n, limit_n });
     }
 
     /// Grip margin, N: traction limit minus the force needed to keep gripping (negative: the
-    /// tyres cannot hold).
+    /// tires cannot hold).
     fn grip_margin_n(&self, y: &State) -> (f64, f64, f64) {
         let needed = self
             .p
@@ -538,7 +538,7 @@ impl Run<'_> {
         (limit - needed, needed, limit)
     }
 
-    /// Advances one step of `h`, locating a lock, a hook-up or the onset of tyre spin inside it
+    /// Advances one step of `h`, locating a lock, a hook-up or the onset of tire spin inside it
     /// and finishing the step in the new mode.
     fn step(&mut self, h: f64) {
         let mut left = h;
@@ -556,23 +556,23 @@ impl Run<'_> {
                 ClutchMode::Locked => None,
             };
             let r = self.p.m.vehicle.tire_radius_m;
-            let grip_at = match self.mode.tyre {
-                TyreMode::Spin => {
+            let grip_at = match self.mode.tire {
+                TireMode::Spin => {
                     let s0 = start[1] * r - start[2];
                     let s1 = end[1] * r - end[2];
                     (s0 > 0.0 && s1 <= 0.0).then(|| s0 / (s0 - s1))
                 }
-                TyreMode::Grip => None,
+                TireMode::Grip => None,
             };
-            // Gripping at the start, the tyres reach their limit inside the step: located on
+            // Gripping at the start, the tires reach their limit inside the step: located on
             // the grip margin as the lock is on the slip speed.
-            let spin_at = match self.mode.tyre {
-                TyreMode::Grip => {
+            let spin_at = match self.mode.tire {
+                TireMode::Grip => {
                     let m0 = self.grip_margin_n(&start).0;
                     let m1 = self.grip_margin_n(&end).0;
                     (m0 >= 0.0 && m1 < 0.0).then(|| m0 / (m0 - m1))
                 }
-                TyreMode::Spin => None,
+                TireMode::Spin => None,
             };
             let first = [lock_at, grip_at, spin_at]
                 .into_iter()
@@ -613,7 +613,7 @@ impl Run<'_> {
                     at[0] = self.p.g * at[1];
                 }
                 self.y = at;
-                self.mode.tyre = TyreMode::Grip;
+                self.mode.tire = TireMode::Grip;
                 if let Some(last) = self.out.tire_spin.last_mut() {
                     last.1 = Some(self.t);
                 }
@@ -641,7 +641,7 @@ impl Run<'_> {
         let y = self.y;
         let needed = self
             .p
-            .lock_torque_needed_nm(self.mode.tyre, self.mode.mu_scale, &y);
+            .lock_torque_needed_nm(self.mode.tire, self.mode.mu_scale, &y);
         let holds = self.p.static_nm(y[0], self.mode.mu_scale);
         if needed.abs() <= holds {
             self.mode.clutch = ClutchMode::Locked;
@@ -727,7 +727,7 @@ impl LaunchModel {
     }
 
     /// Runs the launch: fixed-step RK4 of `step_s` for `duration_s`, the clutch slipping and
-    /// the tyres gripping at the start (both may switch at once). Stops early, with an event,
+    /// the tires gripping at the start (both may switch at once). Stops early, with an event,
     /// when the engine leaves its torque curve. The values must already be checked
     /// (see [`crate::launch::request`]).
     pub fn simulate(&self) -> LaunchRun {
@@ -737,7 +737,7 @@ impl LaunchModel {
             t: 0.0,
             mode: Mode {
                 clutch: ClutchMode::Slip(1.0),
-                tyre: TyreMode::Grip,
+                tire: TireMode::Grip,
                 mu_scale: 1.0,
             },
             out: LaunchRun {
@@ -831,7 +831,7 @@ mod tests {
     }
 
     /// The closed-form body: no engine torque (flat 700 N·m curve less 700 N·m friction), no
-    /// levers, no road load, η = 1, tyres that cannot spin; clutch 4 × 0.3 × 0.1 m × 4000 N.
+    /// levers, no road load, η = 1, tires that cannot spin; clutch 4 × 0.3 × 0.1 m × 4000 N.
     fn closed_form(net_engine_nm: f64) -> LaunchModel {
         let mut req = reference();
         let curve = 700.0 + net_engine_nm;
@@ -919,12 +919,12 @@ mod tests {
         assert_eq!(traction_limit_n(4.0, w, &v, 0.0, 0.0), 4.0 * w);
     }
 
-    // Issue 21: tyre spin that starts mid-run (grips 1.4 / 1.12, 30 g) is located inside the
+    // Issue 21: tire spin that starts mid-run (grips 1.4 / 1.12, 30 g) is located inside the
     // step, as the lock is: its onset falls between grid points and moves by well under 1e-4 s
     // when the step is halved, and so does the lock. Found at a step start it moved by up to a
     // step (0.5 ms).
     #[test]
-    fn tyre_spin_onset_is_located_inside_the_step() {
+    fn tire_spin_onset_is_located_inside_the_step() {
         let mut req = reference();
         req.vehicle.tire_grip = 1.4;
         req.vehicle.tire_grip_spinning = 1.12;
@@ -960,7 +960,7 @@ mod tests {
 
     // docs/engineering.md §18 [derived there with a separate implementation of the model and
     // g = 9.81]: t_L 1.8131 s at 5782.7 rpm and 21.59 m/s, E 389.42 kJ, no spin; with grips
-    // 1.0 / 0.8 the tyres spin from the start and the clutch locks at 0.0862 s with 19.33 kJ.
+    // 1.0 / 0.8 the tires spin from the start and the clutch locks at 0.0862 s with 19.33 kJ.
     #[test]
     fn the_reference_launch_with_g_981_gives_the_reference_figures() {
         let mut m = model(&reference());

@@ -91,7 +91,7 @@ impl PassCar {
         }
     }
 
-    /// What picks the analysis of a file with `settings` for this car (its ratios, tyre and
+    /// What picks the analysis of a file with `settings` for this car (its ratios, tire and
     /// torque curve, the shop's units): kept analyses are found by it.
     pub fn analysis_key(&self, settings: &LogSettings) -> String {
         let c = &self.car.data;

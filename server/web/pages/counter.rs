@@ -19,6 +19,7 @@ use crate::web::http::extract::{CurrentUser, Viewer};
 use crate::web::pages::admin::backup::{CounterNotice, counter_notice};
 use crate::web::pages::customers::customer::ListQuery;
 use crate::web::pages::layout::Layout;
+use clutch::quantity::counted;
 
 #[derive(Template)]
 #[template(path = "home.html")]
@@ -61,7 +62,10 @@ impl FrontPage {
                 (
                     s.class(),
                     s.word(),
-                    format!("About {passes:.0} passes to the next shim."),
+                    format!(
+                        "About {} to the next shim.",
+                        counted(*passes, "pass", "passes")
+                    ),
                 )
             }
             DueReason::Soon { passes, disc: true } => {
@@ -72,7 +76,10 @@ impl FrontPage {
                 (
                     s.class(),
                     s.word(),
-                    format!("About {passes:.0} passes until the disc is due."),
+                    format!(
+                        "About {} until the disc is due.",
+                        counted(*passes, "pass", "passes")
+                    ),
                 )
             }
             DueReason::Springs {

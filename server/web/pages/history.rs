@@ -13,7 +13,10 @@ use crate::records::tables;
 use crate::web::AppState;
 use crate::web::http::extract::{CurrentUser, PathId};
 use crate::web::pages::layout::Layout;
+use crate::web::pages::passes::role_label;
 use crate::web::pages::show::Show;
+use clutch::datalog::request::{LogSettings, TimeUnit};
+use clutch::quantity::Kind;
 use clutch::units::Units;
 
 /// One line of history in words.
@@ -105,7 +108,10 @@ pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
         .chain(before.keys().filter(|k| !after.contains_key(*k)))
         .collect();
     keys.sort_by_key(|k| {
-        tables::stored_view(&e.table_name, k, &Value::Null, u.units).map_or(usize::MAX, |v| v.0)
+        tables::stored_view(&e.table_name, k, &Value::Null, u.units)
+            .map(|v| v.0)
+            .or_else(|| LOG_COLUMNS.iter().position(|c| c == k))
+            .unwrap_or(usize::MAX)
     });
     for key in keys {
         if LINK_COLUMNS.contains(&key.as_str()) {
@@ -148,8 +154,9 @@ pub fn describe(u: &Show, zone: &ShopZone, e: &Entry) -> Line {
 }
 
 /// Columns that only link rows together; the line names its record already.
-const LINK_COLUMNS: [&str; 7] = [
+const LINK_COLUMNS: [&str; 8] = [
     "id",
+    "pass_id",
     "build_id",
     "car_id",
     "customer_id",
@@ -170,6 +177,9 @@ fn shown(units: Units, table: &str, column: &str, v: Option<&Value>) -> (String,
     if let Some((_, label, text)) = tables::stored_view(table, column, v, units) {
         return (label.to_string(), text);
     }
+    if let Some(words) = log_value(units, column, v) {
+        return words;
+    }
     let text = match v {
         Value::Null => "–".into(),
         Value::Number(n) if ACCOUNT_FLAGS.contains(&column) => {
@@ -181,6 +191,56 @@ fn shown(units: Units, table: &str, column: &str, v: Option<&Value>) -> (String,
         other => other.to_string(),
     };
     (column.replace('_', " "), text)
+}
+
+/// A data log's audited columns, in the order they are told.
+const LOG_COLUMNS: [&str; 6] = [
+    "file_name",
+    "file_bytes",
+    "settings",
+    "lockup_s",
+    "lockup_engine_rpm",
+    "slip_energy_j",
+];
+
+/// A data log's stored values (a pass's log, a car's remembered mapping) in words and the
+/// shop's units: the reading settings as the mapping form puts them, not their JSON.
+fn log_value(units: Units, column: &str, v: &Value) -> Option<(String, String)> {
+    let u = Show::new(units);
+    let number = v.as_f64();
+    let (label, text) = match column {
+        "file_name" => ("file", v.as_str()?.to_string()),
+        "file_bytes" => ("file size", format!("{:.0} KB", number? / 1024.0)),
+        "lockup_s" => ("lockup", format!("{:.3} s", number?)),
+        "lockup_engine_rpm" => ("lockup engine speed", u.rpm(number?)),
+        "slip_energy_j" => ("slip energy", u.energy_j(number?)),
+        "settings" => {
+            let s: LogSettings = serde_json::from_str(v.as_str()?).ok()?;
+            let columns: Vec<String> = s
+                .columns
+                .mapped()
+                .into_iter()
+                .map(|(key, name)| format!("{} “{name}”", role_label(key).to_lowercase()))
+                .collect();
+            let time = match s.time_unit {
+                TimeUnit::Auto => "time unit found from the steps",
+                TimeUnit::S => "time in seconds",
+                TimeUnit::Ms => "time in milliseconds",
+            };
+            let inertia = s.engine_inertia_kgm2.map_or(String::new(), |i| {
+                format!("; engine inertia {}", Kind::Inertia.show(units, i))
+            });
+            let text = format!(
+                "{}; {time}; locked below {} % slip for {} ms{inertia}",
+                columns.join(", "),
+                s.slip_on_pct,
+                s.hold_ms
+            );
+            ("reading", text)
+        }
+        _ => return None,
+    };
+    Some((label.to_string(), text))
 }
 
 #[cfg(test)]
@@ -222,6 +282,29 @@ mod tests {
             ]
         );
         assert_eq!(line.at, "2026-11-02 10:00");
+    }
+
+    // 0.200 kg·m² = 4.746 lb·ft² (1 lb·ft² = 0.0421401 kg·m², NIST SP 811 B.9).
+    #[test]
+    fn a_data_log_reads_in_words_and_shop_units_not_json() {
+        let settings = r#"{\"columns\":{\"time\":\"t\",\"engine_rpm\":\"engine\",\"input_rpm\":\"input\"},\"time_unit\":\"auto\",\"slip_on_pct\":3.0,\"hold_ms\":100.0,\"engine_inertia_kgm2\":0.2}"#;
+        let after = format!(
+            r#"{{"pass_id":9,"file_name":"run3.csv","file_bytes":20480,"settings":"{settings}","lockup_s":1.07000000000001,"lockup_engine_rpm":4800.000000000001,"slip_energy_j":30512.12345678901}}"#
+        );
+        let e = entry("pass_logs", "create", None, Some(&after));
+        let line = describe(&Show::new(Units::Imperial), &utc(), &e);
+        assert_eq!(line.what, "recorded a pass's data log (#7)");
+        assert_eq!(
+            line.details,
+            vec![
+                "file: run3.csv",
+                "file size: 20 KB",
+                "reading: time “t”, engine speed (rpm) “engine”, input shaft speed (rpm) “input”; time unit found from the steps; locked below 3 % slip for 100 ms; engine inertia 4.746 lb·ft²",
+                "lockup: 1.070 s",
+                "lockup engine speed: 4800 rpm",
+                "slip energy: 31 kJ",
+            ]
+        );
     }
 
     #[test]

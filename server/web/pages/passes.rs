@@ -235,7 +235,7 @@ fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
             a.lockup_s,
         );
         for [x, y] in &a.tire_spin {
-            c.mark_x(f, "spin", format!("tyre spin {x:.2}–{y:.2} s"), *x);
+            c.mark_x(f, "spin", format!("tire spin {x:.2}–{y:.2} s"), *x);
         }
     };
     let mut out = Vec::new();
@@ -508,17 +508,15 @@ async fn render_with(
                 figures.push(("Lowest engine speed", u.rpm(a.min_engine_rpm)));
                 figures.push((
                     "Slip energy",
-                    a.slip_energy_j.map_or("– (no engine inertia)".into(), |e| {
-                        format!("{:.1} kJ", e / 1000.0)
-                    }),
+                    a.slip_energy_j
+                        .map_or("– (no engine inertia)".into(), |e| u.energy_j(e)),
                 ));
                 figures.push((
                     "Peak slip power",
-                    a.peak_slip_power_w
-                        .map_or("–".into(), |p| format!("{:.1} kW", p / 1000.0)),
+                    a.peak_slip_power_w.map_or("–".into(), |p| u.power_w(p)),
                 ));
                 figures.push((
-                    "Tyre spin",
+                    "Tire spin",
                     if a.tire_spin.is_empty() {
                         "none found".into()
                     } else {
@@ -750,6 +748,11 @@ const ROLES: &[(&str, &str, bool)] = &[
     ("clutch_switch", "Clutch switch", false),
 ];
 
+/// The mapping form's words for a role (`LogColumns` key); the key itself when unknown.
+pub fn role_label(key: &str) -> &str {
+    ROLES.iter().find(|r| r.0 == key).map_or(key, |r| r.1)
+}
+
 fn column_of<'a>(c: &'a LogColumns, key: &str) -> Option<&'a str> {
     match key {
         "time" => Some(&c.time),
@@ -969,14 +972,13 @@ pub async fn map_save(
         engine_inertia_kgm2: inertia,
     };
     let (text, layout) = open_staged(&state, &caller, &staged).await?;
-    let label = |key: &'static str| ROLES.iter().find(|r| r.0 == key).map_or(key, |r| r.1);
     for clash in roles::clashes(&settings.columns, &layout.0.names) {
         match clash {
             Clash::SameColumn { role, other } => errors.add(
                 role,
                 format!(
                     "is the column already chosen for {}: pick another, or leave it blank",
-                    label(other).to_lowercase()
+                    role_label(other).to_lowercase()
                 ),
             ),
             Clash::TimeColumn { role } => errors.add(

@@ -82,6 +82,16 @@ impl Show {
         Kind::Area.symbol(self.units)
     }
 
+    /// Slip energy from joules, kJ in both systems ([`Kind::Kilojoules`]).
+    pub fn energy_j(&self, j: impl Num) -> String {
+        Kind::Kilojoules.show(self.units, j.value() / 1000.0)
+    }
+
+    /// Slip power from watts, kW in both systems ([`Kind::Kilowatts`]).
+    pub fn power_w(&self, w: impl Num) -> String {
+        Kind::Kilowatts.show(self.units, w.value() / 1000.0)
+    }
+
     /// A length with its unit ("1.905 in").
     pub fn len(&self, mm: impl Num) -> String {
         Kind::Length.show(self.units, mm.value())
@@ -172,11 +182,16 @@ impl Show {
         lockup_text(*rpm, curve_start_rpm)
     }
 
-    /// Every value a setting sets: "1 turn, 26.0 g per lever, μ 0.35".
+    /// A friction coefficient to the decimals every page, figure and warning uses ("μ 0.281").
+    pub fn mu(&self, mu: f64) -> String {
+        format!("μ {}", Kind::Mu.number(self.units, mu))
+    }
+
+    /// Every value a setting sets: "1 turn, 26.0 g per lever, μ 0.350".
     pub fn setting(&self, t: impl Setting) -> String {
         let t = t.trial();
         let mu =
-            t.mu.map_or("the facing's nominal μ".into(), |mu| format!("μ {mu:.2}"));
+            t.mu.map_or("the facing's nominal μ".into(), |mu| self.mu(mu));
         format!(
             "{}, {} per lever, {mu}",
             self.turns(t.adjuster_turns),
@@ -201,7 +216,7 @@ impl Show {
         }
         if to.mu != from.mu {
             parts.push(match to.mu {
-                Some(mu) => format!("μ {mu:.2}"),
+                Some(mu) => self.mu(mu),
                 None => "the facing's nominal μ".into(),
             });
         }

@@ -1,6 +1,6 @@
 //! Data-log benchmark: `cargo bench -p lockpoint-e2e --bench logs`. Reading and analysing a
 //! 10 MB, 215 000-row, 6-column logger file (CSV parsing, blanks, clock, launch, lockup,
-//! Savitzky–Golay derivative, torque, slip power and energy, tyre spin).
+//! Savitzky–Golay derivative, torque, slip power and energy, tire spin).
 
 use std::hint::black_box;
 

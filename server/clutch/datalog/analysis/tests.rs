@@ -340,7 +340,7 @@ fn the_derivative_window_spans_60_ms_and_at_least_5_samples() {
 }
 
 #[test]
-fn tyre_spin_needs_fifteen_percent_for_fifty_milliseconds() {
+fn tire_spin_needs_fifteen_percent_for_fifty_milliseconds() {
     let t: Vec<f64> = (0..100).map(|k| k as f64 * 0.01).collect();
     let undriven = vec![10.0; 100];
     let mut driven = vec![10.0; 100];

@@ -9,6 +9,7 @@ use crate::web::pages::show::Show;
 use clutch::launch::request::{LaunchReport, describe};
 use clutch::launch::simulation::LaunchRun;
 use clutch::launch::target::{Grid, LaunchTarget, NotClean, find_counterweight};
+use clutch::quantity::Kind;
 use clutch::units::Units;
 
 /// One setting's launch, ready to show.
@@ -166,11 +167,11 @@ fn figures(report: &LaunchReport, u: Units) -> Vec<(&'static str, String)> {
         // A run that ends still slipping gives figures so far, never read as a whole launch's.
         (
             "Slip energy",
-            so_far(format!("{:.0} kJ", report.slip_energy_kj)),
+            so_far(Kind::Kilojoules.show(u, report.slip_energy_kj)),
         ),
         (
             "Peak slip power",
-            format!("{:.0} kW", report.peak_slip_power_kw),
+            Kind::Kilowatts.show(u, report.peak_slip_power_kw),
         ),
         (
             "Pressure plate / flywheel rise",
@@ -343,7 +344,7 @@ pub fn target_column(
         let goal = match target {
             LaunchTarget::LockupTime(t) => format!("lock {t:.2} s after the launch"),
             LaunchTarget::MaxSlipEnergy(e) => {
-                format!("at most {:.0} kJ of slip energy", e / 1000.0)
+                format!("at most {} of slip energy", Show::new(u).energy_j(e))
             }
         };
         let why = |beyond: &NotClean| match beyond {

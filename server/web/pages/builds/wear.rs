@@ -6,6 +6,7 @@ use crate::model::wear::current_disc;
 use crate::records::stored::Height;
 use crate::web::pages::chart::Chart;
 use crate::web::pages::show::Show;
+use clutch::quantity::counted;
 use clutch::wear::{WearReport, WearStatus};
 
 /// Growth, total disc wear and clamp lost at one measurement (storage units).
@@ -50,11 +51,15 @@ pub fn headline(u: &Show, r: &WearReport, status: WorkStatus) -> String {
                 disc: false,
             },
         ) => format!(
-            "Within limits; the {} shim falls due in about {passes:.0} passes.",
-            u.len(shim)
+            "Within limits; the {} shim falls due in about {}.",
+            u.len(shim),
+            counted(passes, "pass", "passes")
         ),
         (WearStatus::Ok, _, WorkStatus::Soon { passes, .. }) => {
-            format!("Within limits; the disc falls due in about {passes:.0} passes.")
+            format!(
+                "Within limits; the disc falls due in about {}.",
+                counted(passes, "pass", "passes")
+            )
         }
         (WearStatus::Ok, _, _) => "Within limits.".into(),
     }
@@ -77,14 +82,18 @@ pub fn forecast(u: &Show, r: &WearReport) -> Vec<String> {
                 && r.status == WearStatus::Ok
             {
                 out.push(format!(
-                    "About {n:.0} passes to the next shim ({}).",
+                    "About {} to the next shim ({}).",
+                    counted(n, "pass", "passes"),
                     u.len(shim)
                 ));
             }
             if let Some(n) = r.passes_to_disc_due
                 && r.status != WearStatus::DiscDue
             {
-                out.push(format!("About {n:.0} passes until the disc is due."));
+                out.push(format!(
+                    "About {} until the disc is due.",
+                    counted(n, "pass", "passes")
+                ));
             }
         }
     }
