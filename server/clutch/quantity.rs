@@ -366,7 +366,11 @@ pub mod limits {
     pub const SPRING_SAG: Limit = Limit::new(Percent, Excl(0.0), Incl(50.0));
     pub const OVERCLAMP_FACTOR: Limit = Limit::new(Ratio, Incl(1.0), Incl(5.0));
     pub const DUE_WITHIN_PASSES: Limit = Limit::new(Count, Incl(0.0), Incl(1000.0));
-    pub const LAUNCH_RATIO: Limit = Limit::new(Ratio, Excl(0.0), Incl(5.0));
+    /// Capacity at the launch speed over engine torque there, as a target. Below 0.5 the
+    /// clutch carries under half the engine's torque at launch, so the engine flares away from
+    /// the launch speed instead of holding it: not a setting a search should aim for (common
+    /// shop practice, no published source).
+    pub const LAUNCH_RATIO: Limit = Limit::new(Ratio, Incl(0.5), Incl(5.0));
     /// Passes one calibration request may carry.
     pub const CALIBRATION_PASSES: Limit = Limit::new(Count, Incl(1.0), Incl(1000.0));
     /// The most passes a calibration uses (a stored build's latest ones).

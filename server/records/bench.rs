@@ -205,7 +205,11 @@ impl Record for BenchInput {
                 format!("at most {} springs", limits::ADJUSTER_COUNT),
             );
         }
+        // No compression at all is already said once, on the test height the form asks for;
+        // the blank test compression beside it is not marked as well.
+        let no_compression = errors.has("test_height");
         for (i, s) in self.springs.iter().enumerate() {
+            let unsaid = !(s.compression_mm.is_nan() && no_compression);
             let by_height = s.free_length_mm.is_some();
             let mut fault = |column: &str, message: String| {
                 let p = self.place(i, column, by_height);
@@ -218,7 +222,7 @@ impl Record for BenchInput {
             {
                 fault("free_length_mm", limits::SPRING_FREE_LENGTH.message(units));
             }
-            if !limits::SPRING_COMPRESSION.admits(s.compression_mm) {
+            if unsaid && !limits::SPRING_COMPRESSION.admits(s.compression_mm) {
                 let message = match s.free_length_mm {
                     Some(free) if free.is_finite() && s.compression_mm <= 0.0 => format!(
                         "must be below the free length of spring {} ({})",
@@ -289,4 +293,47 @@ impl Record for SpringReading {
             },
         },
     ];
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn form(pairs: &[(&str, &str)]) -> FormData {
+        FormData::new(
+            pairs
+                .iter()
+                .map(|(k, v)| (k.to_string(), v.to_string()))
+                .collect(),
+        )
+    }
+
+    fn ctx() -> Ctx {
+        Ctx {
+            units: Units::Metric,
+            today: crate::records::date::Date::parse("2026-12-04").unwrap(),
+        }
+    }
+
+    fn checked_errors(pairs: &[(&str, &str)]) -> FieldErrors {
+        let (input, errors) = BenchInput::from_form(&form(pairs), Units::Metric, 6);
+        input.check(None, &ctx(), errors).err().unwrap_or_default()
+    }
+
+    // The form's optional inputs (the other of test height / compression, untested springs'
+    // rows, the note) are never marked when left blank.
+    #[test]
+    fn a_blank_optional_input_is_not_marked() {
+        let by_height = checked_errors(&[
+            ("tested_on", "2026-11-02"),
+            ("test_height", "40.6"),
+            ("free_length_1", "53.3"),
+            ("force_1", "845"),
+        ]);
+        assert!(by_height.is_empty(), "{}", by_height.summary());
+        let neither = checked_errors(&[("tested_on", "2026-11-02"), ("force_1", "845")]);
+        assert!(neither.has("test_height"), "{}", neither.summary());
+        assert!(!neither.has("test_compression"), "{}", neither.summary());
+        assert_eq!(neither.len(), 1, "{}", neither.summary());
+    }
 }

@@ -402,6 +402,36 @@ async fn upload_then_mapping_then_the_pass_page() {
         r.body
     );
     assert_eq!(app.count("pass_logs").await, 0);
+    // Every choice that names nothing in the file is marked at once.
+    let r = client
+        .post(
+            &format!("/passes/{pass}/log/map"),
+            &[
+                ("upload", upload_token),
+                ("time", "clock"),
+                ("engine_rpm", ""),
+                ("input_rpm", "shaft"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        r.body.contains("the file has no column “clock”"),
+        "{}",
+        r.body
+    );
+    assert!(
+        r.body.contains("the file has no column “shaft”"),
+        "{}",
+        r.body
+    );
+    assert!(
+        r.body.contains("choose the file&#39;s column for this")
+            || r.body.contains("choose the file's column for this"),
+        "{}",
+        r.body
+    );
+    assert!(r.body.contains("fix the 3 marked fields"), "{}", r.body);
 
     let r = client
         .post(

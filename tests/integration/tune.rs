@@ -6,6 +6,16 @@ use axum::http::StatusCode;
 use crate::support::{Client, Reply, TestApp};
 
 /// Records the setup the checks below start from: 1.5 turns, 24 g, nominal μ.
+/// The message shown beside the input `name` of a page.
+fn message_of(body: &str, name: &str) -> String {
+    let start = body
+        .find(&format!("id=\"{name}-msg\">"))
+        .unwrap_or_else(|| panic!("no message for {name}"));
+    let rest = &body[start..];
+    let text = &rest[rest.find('>').unwrap() + 1..rest.find("</span>").unwrap()];
+    text.to_string()
+}
+
 async fn set_up(client: &Client<'_>, build: &str) {
     let r = client
         .post(
@@ -100,10 +110,22 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     let far = client
         .get(&format!("{build}/tune?recommend=1&target_lockup=20000"))
         .await;
+    // One range, with its unit: the car's torque curve, not the general engine-speed limit.
+    let msg = message_of(&far.body, "target_lockup");
     assert!(
-        far.body.contains("class=\"msg\""),
-        "out-of-range target is named"
+        msg.starts_with("must be between ") && msg.ends_with(" rpm"),
+        "{msg}"
     );
+    assert!(!msg.contains("15000") && !msg.contains("15,000"), "{msg}");
+    // A launch ratio under 0.5 aims the search at a clutch that lets the engine flare.
+    let low = client
+        .get(&format!(
+            "{build}/tune?recommend=1&target_lockup=5600&target_ratio=0.3"
+        ))
+        .await;
+    let msg = message_of(&low.body, "target_ratio");
+    assert_eq!(msg, "must be between 0.5 and 5");
+    assert!(!low.body.contains("Recommended:"));
 
     let rec = client
         .get(&format!("{build}/tune?recommend=1&target_lockup=5600"))

@@ -296,7 +296,13 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
         }
     }
     let (lo, hi) = valid.model.engine.range();
-    let target_rpm = crate::require_range("targets.lockup_rpm", req.targets.lockup_rpm, lo, hi)?;
+    let target_rpm = crate::require_finite("targets.lockup_rpm", req.targets.lockup_rpm)?;
+    if !(lo..=hi).contains(&target_rpm) {
+        return Err(InputError::new(
+            "targets.lockup_rpm",
+            format!("must be between {lo:.0} and {hi:.0} rpm, the torque curve's range"),
+        ));
+    }
     let target_ratio = match req.targets.launch_ratio {
         Some(r) => {
             limits::LAUNCH_RATIO.check("targets.launch_ratio", r, req.setup.units)?;

@@ -987,6 +987,20 @@ pub async fn map_save(
             ),
         }
     }
+    // Every choice that names nothing in the file, all at once, in the form's words.
+    for &(key, _, required) in ROLES {
+        match column_of(&settings.columns, key).filter(|n| !n.is_empty()) {
+            None if required => errors.add(key, "choose the file's column for this"),
+            Some(name) if file::find(&layout.0.names, name).is_none() => errors.add(
+                key,
+                format!(
+                    "the file has no column “{}”: pick one from the list",
+                    file::echo(name)
+                ),
+            ),
+            _ => {}
+        }
+    }
     let text = Arc::new(text);
     if errors.is_empty() {
         match pc.analyse(&state, &caller, &settings, text).await? {

@@ -29,7 +29,7 @@ use crate::web::pages::show::Show;
 use clutch::capacity::recommend::Recommendation;
 use clutch::capacity::report::CapacityReport;
 use clutch::launch::target::LaunchTarget;
-use clutch::quantity::{Kind, limits};
+use clutch::quantity::{Bound, Kind, Limit, limits};
 
 /// The capacity chart: engine torque, clutch capacity, its static share, the slip region, and
 /// the launch and lockup speeds marked. `before` adds the current setting for comparison.
@@ -217,13 +217,16 @@ async fn render_tune(
             }
             if form.get("recommend") == "1" {
                 let units = page.units();
-                let lockup = field::number(
-                    &form,
-                    "target_lockup",
-                    limits::ENGINE_SPEED,
-                    units,
-                    &mut errors,
-                );
+                // One range, the one the search can use: the car's torque curve.
+                let curve = current
+                    .as_ref()
+                    .ok()
+                    .and_then(|f| Some((f.report.curve.first()?.rpm, f.report.curve.last()?.rpm)));
+                let lockup_limit = curve.map_or(limits::ENGINE_SPEED, |(lo, hi)| {
+                    Limit::new(Kind::Speed, Bound::Incl(lo), Bound::Incl(hi))
+                });
+                let lockup =
+                    field::number(&form, "target_lockup", lockup_limit, units, &mut errors);
                 let ratio = field::number(
                     &form,
                     "target_ratio",
