@@ -715,7 +715,7 @@ proptest! {
     // The reported result is exactly capacity() at the recommended setting.
     #[test]
     fn recommended_setting_reproduces_its_result(
-        lockup in 3000.0f64..7000.0, ratio in proptest::option::of(0.3f64..1.2),
+        lockup in 3000.0f64..7000.0, ratio in proptest::option::of(0.5f64..1.2),
         rate in 150.0f64..600.0,
     ) {
         let mut req = recommend_request();
@@ -750,7 +750,7 @@ proptest! {
     // On a small grid, the search's answer scores as well as the best of every setting.
     #[test]
     fn search_finds_the_best_setting_of_the_whole_grid(
-        lockup in 3000.0f64..7000.0, ratio in 0.3f64..1.2, rate in 150.0f64..600.0,
+        lockup in 3000.0f64..7000.0, ratio in 0.5f64..1.2, rate in 150.0f64..600.0,
     ) {
         let mut req = recommend_request();
         (req.targets.lockup_rpm, req.targets.launch_ratio) = (lockup, Some(ratio));

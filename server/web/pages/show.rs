@@ -278,12 +278,12 @@ mod tests {
             counterweight_g: 18.0,
             mu: Some(0.35),
         };
-        assert_eq!(u.setting(to), "1 turn, 18.0 g per lever, μ 0.35");
+        assert_eq!(u.setting(to), "1 turn, 18.0 g per lever, μ 0.350");
         assert_eq!(
             u.setting(from),
             "1.75 turns, 26.0 g per lever, the facing's nominal μ"
         );
-        assert_eq!(u.step(from, to), "−0.75 turns, −8.0 g per lever, μ 0.35");
+        assert_eq!(u.step(from, to), "−0.75 turns, −8.0 g per lever, μ 0.350");
         assert_eq!(u.step(to, from).split(", ").next(), Some("+0.75 turns"));
         assert_eq!(u.step(from, from), "no change");
         assert!(from.moves_both(&to));
