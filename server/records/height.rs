@@ -262,7 +262,10 @@ impl HeightInput {
                 Self::fault(
                     errors,
                     "passes",
-                    format!("passes cannot go backwards: the last measurement was at {passes}"),
+                    format!(
+                        "passes cannot go backwards: the last measurement was at {}",
+                        counted(passes as f64, "pass", "passes")
+                    ),
                 );
             }
             if this.shims_pulled < pulled {
