@@ -9,5 +9,7 @@ pub mod file;
 pub mod request;
 /// Savitzky–Golay smoothing and derivatives.
 pub mod savgol;
+/// The stretch of a log a chart opens on: the launch to the lockup, a second either side.
+pub mod span;
 /// A long trace thinned to a bounded number of points, every event kept.
 pub mod thin;
