@@ -1,7 +1,6 @@
 //! The stretch of a logged pass a chart opens on: the launch and the lockup with a second of
 //! log either side, cut out of the whole file so the traces fill the chart's width.
 
-use crate::datalog::analysis::{Analysis, Series};
 use crate::datalog::request::LogResult;
 
 /// Seconds of log shown before the launch and after the lockup. Our own choice, no published
@@ -30,11 +29,6 @@ impl TimeSpan {
             _ => whole,
         }
     }
-
-    /// Whether this span is all of `whole` (to a microsecond).
-    pub fn covers(&self, whole: TimeSpan) -> bool {
-        self.from_s <= whole.from_s + 1e-6 && self.to_s >= whole.to_s - 1e-6
-    }
 }
 
 impl LogResult {
@@ -55,7 +49,8 @@ impl LogResult {
     }
 
     /// The same result with its per-sample channels cut to the samples within `span`, and the
-    /// one just outside each end (so a line drawn from them reaches the span's edges). Figures
+    /// one just outside each end where the file has one (so a line drawn from them reaches the
+    /// span's edges, and a cut that reaches an end of the file ends on its sample). Figures
     /// and event times are the whole analysis's, times stay seconds from the file's start.
     pub fn cut(&self, span: TimeSpan) -> LogResult {
         let t = &self.series.time_s;
@@ -64,31 +59,18 @@ impl LogResult {
         let last = t
             .partition_point(|&x| x <= span.to_s)
             .min(n.saturating_sub(1));
-        let range = first.min(last)..(last + 1).min(n);
-        let pick = |v: &Vec<f64>| -> Vec<f64> { v[range.clone()].to_vec() };
-        let s = &self.series;
-        let a = &self.analysis;
-        let len = range.len();
-        let place = |i: usize| i.saturating_sub(range.start).min(len.saturating_sub(1));
-        LogResult {
-            series: Series {
-                time_s: pick(&s.time_s),
-                engine_rpm: pick(&s.engine_rpm),
-                input_rpm: pick(&s.input_rpm),
-                driven_mps: s.driven_mps.as_ref().map(pick),
-                undriven_mps: s.undriven_mps.as_ref().map(pick),
-                clutch_switch: s.clutch_switch.as_ref().map(pick),
-                throttle: s.throttle.as_ref().map(pick),
-            },
-            analysis: Analysis {
-                slip_pct: pick(&a.slip_pct),
-                clutch_torque_nm: a.clutch_torque_nm.as_ref().map(pick),
-                slip_power_w: a.slip_power_w.as_ref().map(pick),
-                window: (place(a.window.0), place(a.window.1)),
-                ..a.clone()
-            },
-            ms: self.ms,
-        }
+        let idx: Vec<usize> = (first.min(last)..(last + 1).min(n)).collect();
+        self.picked(&idx)
+    }
+
+    /// Whether this result (whole, or cut to `span` by [`LogResult::cut`]) holds the file's
+    /// first and its last sample: whether `span` reaches each end of the file.
+    pub fn reaches_ends(&self, span: TimeSpan) -> (bool, bool) {
+        let t = &self.series.time_s;
+        (
+            t.first().is_none_or(|&x| x >= span.from_s - 1e-9),
+            t.last().is_none_or(|&x| x <= span.to_s + 1e-9),
+        )
     }
 }
 
@@ -105,14 +87,12 @@ mod tests {
     fn the_span_runs_from_a_second_before_the_launch_to_a_second_after_the_lockup() {
         let s = TimeSpan::around(FILE, Some(2.0), Some(2.97));
         assert_eq!((s.from_s, s.to_s), (1.0, 2.97 + EDGE_S));
-        assert!(!s.covers(FILE));
     }
 
     #[test]
     fn the_span_stops_at_the_ends_of_the_file() {
         let s = TimeSpan::around(FILE, Some(0.3), Some(5.5));
         assert_eq!((s.from_s, s.to_s), (0.0, 6.0));
-        assert!(s.covers(FILE));
     }
 
     #[test]
@@ -188,6 +168,21 @@ mod tests {
             c.series.time_s[c.analysis.window.1],
             r.series.time_s[r.analysis.window.1]
         );
+    }
+
+    #[test]
+    fn a_cut_says_which_ends_of_the_file_its_span_reaches() {
+        let r = long_log();
+        let span = r.launch_span();
+        assert_eq!(r.cut(span).reaches_ends(span), (false, false));
+        let late = TimeSpan {
+            from_s: 4.5,
+            to_s: 6.0,
+        };
+        assert_eq!(r.cut(late).reaches_ends(late), (false, true));
+        let whole = r.whole_span();
+        assert_eq!(r.cut(whole).reaches_ends(whole), (true, true));
+        assert_eq!(r.thinned(100).reaches_ends(whole), (true, true));
     }
 
     #[test]

@@ -258,34 +258,20 @@ fn thin(n: usize, len: usize) -> usize {
     len.div_ceil(n).max(1)
 }
 
-/// The file's last instant, s (its clock is uniform from 0).
-fn file_end_s(r: &LogResult) -> f64 {
-    let a = &r.analysis;
-    (a.samples.saturating_sub(1)) as f64 / a.sample_rate_hz
-}
-
-/// The stretch `span` of a view in words, for the page and the captions: "1.32–4.65 s: from
-/// 1 s before the launch to 1 s after the lockup", "...: from 1 s before the launch to the
-/// file's end", "0.00–3.90 s: the whole file".
-fn span_words(span: TimeSpan, r: &LogResult) -> String {
+/// The stretch `span` of a view (cut to it) in words, for the page and the captions: "1.32–4.65
+/// s: from 1 s before the launch to 1 s after the lockup", "...: from 1 s before the launch to
+/// the file's end", "0.00–3.90 s: the whole file".
+fn span_words(span: TimeSpan, view: &LogResult) -> String {
     use clutch::datalog::span::EDGE_S;
-    let whole = TimeSpan {
-        from_s: 0.0,
-        to_s: file_end_s(r),
-    };
     let range = format!("{:.2}–{:.2} s", span.from_s, span.to_s);
-    if span.covers(whole) {
-        return format!("{range}: the whole file");
-    }
-    let from = if span.from_s > whole.from_s + 1e-6 {
-        format!("{EDGE_S:.0} s before the launch")
-    } else {
-        "the file's start".into()
+    let from = match view.reaches_ends(span) {
+        (true, true) => return format!("{range}: the whole file"),
+        (false, _) => format!("{EDGE_S:.0} s before the launch"),
+        (true, _) => "the file's start".into(),
     };
-    let to = if span.to_s < whole.to_s - 1e-6 {
-        format!("{EDGE_S:.0} s after the lockup")
-    } else {
-        "the file's end".into()
+    let to = match view.reaches_ends(span).1 {
+        false => format!("{EDGE_S:.0} s after the lockup"),
+        true => "the file's end".into(),
     };
     format!("{range}: from {from} to {to}")
 }
@@ -652,11 +638,7 @@ async fn render_with(
                 let span = stretch.span(r);
                 shown = span_words(span, r);
                 // A launch stretch that is the whole file anyway needs no second link.
-                let whole = TimeSpan {
-                    from_s: 0.0,
-                    to_s: file_end_s(r),
-                };
-                if stretch == Stretch::Whole || !span.covers(whole) {
+                if stretch == Stretch::Whole || r.reaches_ends(span) != (true, true) {
                     other_stretch = Some(asked.other_stretch(id));
                 }
                 charts_v = charts(r, span, true);
