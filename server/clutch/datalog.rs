@@ -11,5 +11,7 @@ pub mod request;
 pub mod roles;
 /// Savitzky–Golay smoothing and derivatives.
 pub mod savgol;
+/// The stretch of a log a chart opens on: the launch to the lockup, a second either side.
+pub mod span;
 /// A long trace thinned to a bounded number of points, every event kept.
 pub mod thin;

@@ -8,6 +8,9 @@ use clutch::units::{M_S_PER_MPH, RAD_S_PER_RPM};
 /// Engine inertia the demo's log settings use, kg·m² (invented).
 pub const ENGINE_INERTIA_KGM2: f64 = 0.20;
 
+/// Rows (5 ms each) logged while the car stages, before the launch's own rows.
+const STAGED_ROWS: usize = 400;
+
 /// The log of one invented pass for a car with `curve_nm` (rpm, N·m), `first`·`final_drive`
 /// and a tire of `tire_mm`.
 pub fn pass_log(curve_nm: &[[f64; 2]], first: f64, final_drive: f64, tire_mm: f64) -> String {
@@ -39,11 +42,26 @@ pub fn pass_log(curve_nm: &[[f64; 2]], first: f64, final_drive: f64, tire_mm: f6
     let mut out = String::from(
         "Session export,invented demo pass\nTime,Engine,Input shaft,Front wheel,Rear wheel,Throttle\nms,rpm,rpm,mph,mph,%\n",
     );
+    // The logger runs while the car stages: two seconds held at the launch speed first, with
+    // noise of its own so the launch that follows is the same as without them.
+    let mut staging = 0x2545_F491_4F6C_DD1Du64;
+    for row in 0..STAGED_ROWS {
+        staging ^= staging << 13;
+        staging ^= staging >> 7;
+        staging ^= staging << 17;
+        let engine = 4500.0 + ((staging % 2001) as f64 / 1000.0 - 1.0) * 6.0;
+        let wheels = if row.is_multiple_of(4) {
+            "0.00,0.00"
+        } else {
+            ","
+        };
+        out.push_str(&format!("{},{engine:.0},0,{wheels},35\n", row * 5));
+    }
     let steps = (end / h).round() as usize;
     for k in 0..=steps {
         let t = k as f64 * h;
         if k % every == 0 {
-            let row = k / every;
+            let row = k / every + STAGED_ROWS;
             let (ne, ni) = (we / RAD_S_PER_RPM, wi / RAD_S_PER_RPM);
             let rear = wheel_mph(wi);
             let since = t - launch;
@@ -54,7 +72,7 @@ pub fn pass_log(curve_nm: &[[f64; 2]], first: f64, final_drive: f64, tire_mm: f6
                 rear / 1.05
             };
             let throttle = if t < launch { 35.0 } else { 100.0 };
-            let wheels = if row % 4 == 0 {
+            let wheels = if row.is_multiple_of(4) {
                 format!("{front:.2},{rear:.2}")
             } else {
                 ",".to_string()

@@ -587,3 +587,187 @@ async fn a_stored_log_takes_the_engine_inertia_from_the_car_record() {
         with.body
     );
 }
+
+/// A 6 s file at 200 Hz: engine 4800 rpm throughout, input 4800·(t − 2) from 2 s up to
+/// 4800; launch 2 s, 3 % slip at 2.97 s [derived, as `launch_csv`].
+fn staged_csv() -> String {
+    let mut s = String::from("t,engine,input\n");
+    for k in 0..=1200 {
+        let t = k as f64 * 0.005;
+        let n = (4800.0 * (t - 2.0)).clamp(0.0, 4800.0);
+        s.push_str(&format!("{t:.3},4800,{n}\n"));
+    }
+    s
+}
+
+/// Stores `csv` as the log of `pass` through the API.
+async fn store(app: &TestApp, pass: &str, csv: String) {
+    let token = app.token("sam").await;
+    let body = json!({ "csv": csv,
+        "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
+        "engine_inertia_kgm2": 0.2 });
+    let r = app
+        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+}
+
+#[tokio::test]
+async fn a_pass_page_opens_on_the_launch_with_the_whole_file_a_link_away() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let pass = pass_on_a_build(&client).await;
+    store(&app, &pass, staged_csv()).await;
+    // The whole file asked for first, so a cached page of one stretch never answers for the
+    // other.
+    let all = client.get(&format!("/passes/{pass}?window=all")).await;
+    assert_eq!(all.status, StatusCode::OK);
+    assert!(
+        all.body
+            .contains("The charts show 0.00–6.00 s: the whole file."),
+        "{}",
+        all.body
+    );
+    assert!(
+        all.body.contains(&format!(
+            "<a href=\"/passes/{pass}#charts\">Back to the launch</a>"
+        )),
+        "{}",
+        all.body
+    );
+    assert!(
+        all.body
+            .contains("Engine and input shaft speed over 0.00–6.00 s")
+    );
+
+    // From 1 s before the launch (2 s) to 1 s after the lockup (2.97 s), a plain link to the
+    // whole file.
+    let page = client.get(&format!("/passes/{pass}")).await;
+    let shown = "1.00–3.97 s: from 1 s before the launch to 1 s after the lockup";
+    assert!(
+        page.body.contains(&format!("The charts show {shown}.")),
+        "{}",
+        page.body
+    );
+    for title in ["Engine and input shaft speed", "Clutch slip", "Slip power"] {
+        assert!(
+            page.body.contains(&format!("{title} over {shown}")),
+            "{title}"
+        );
+    }
+    assert!(page.body.contains(&format!(
+        "<a href=\"/passes/{pass}?window=all#charts\">Show the whole file</a>"
+    )));
+    // The x axis is the stretch's: no tick before 1 s or after 4 s (the whole file's axis
+    // has them).
+    let speed = |body: &str| -> String {
+        body.split("<figure class=\"chart compact\">")
+            .nth(1)
+            .unwrap()
+            .split("</figure>")
+            .next()
+            .unwrap()
+            .to_string()
+    };
+    let ticks = |svg: &str| -> Vec<f64> {
+        svg.split("text-anchor=\"middle\">")
+            .skip(1)
+            .filter_map(|t| t.split('<').next()?.parse().ok())
+            .collect()
+    };
+    let near = ticks(&speed(&page.body));
+    assert!(
+        near.first() >= Some(&1.0) && near.last() <= Some(&3.97),
+        "{near:?}"
+    );
+    let whole = ticks(&speed(&all.body));
+    assert_eq!(
+        (whole.first(), whole.last()),
+        (Some(&0.0), Some(&6.0)),
+        "{whole:?}"
+    );
+    // Anything else in `window` is the launch.
+    let odd = client
+        .get(&format!("/passes/{pass}?window=everything"))
+        .await;
+    assert!(odd.body.contains(&format!("The charts show {shown}.")));
+}
+
+#[tokio::test]
+async fn a_file_that_is_all_launch_needs_no_second_link() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let pass = pass_on_a_build(&client).await;
+    // Launch 0.1 s and lockup 1.07 s in a 1.5 s file: a second either side covers it all.
+    store(&app, &pass, launch_csv()).await;
+    let page = client.get(&format!("/passes/{pass}")).await;
+    assert!(
+        page.body
+            .contains("The charts show 0.00–1.50 s: the whole file."),
+        "{}",
+        page.body
+    );
+    assert!(!page.body.contains("Show the whole file"));
+}
+
+#[tokio::test]
+async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let first = pass_on_a_build(&client).await;
+    let build = {
+        let mut conn = app.pool.acquire().await.unwrap();
+        sqlx::query_scalar::<_, i64>("SELECT build_id FROM passes WHERE id = ?")
+            .bind(first.parse::<i64>().unwrap())
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap()
+    };
+    let r = client
+        .post(
+            &format!("/builds/{build}/passes"),
+            &[("run_on", "2026-10-11"), ("track", "Test strip")],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let second = (first.parse::<i64>().unwrap() + 1).to_string();
+    store(&app, &first, staged_csv()).await;
+    store(&app, &second, launch_csv()).await;
+    let both = client
+        .get(&format!("/passes/{first}?compare={second}"))
+        .await;
+    // Time from each launch: 1 s before it; 1 s after the later lockup (0.97 s after each
+    // launch), within what the files hold after their launches (4 s and 1.4 s).
+    assert!(
+        both.body.contains(
+            "Two passes, time from each launch: each launch to its lockup with up to 1 s either side, -1.00 to 1.97 s"
+        ),
+        "{}",
+        both.body
+    );
+    assert!(
+        both.body.contains(&format!(
+            "href=\"/passes/{first}?compare={second}&#38;window=all#charts\""
+        )),
+        "{}",
+        both.body
+    );
+    let all = client
+        .get(&format!("/passes/{first}?compare={second}&window=all"))
+        .await;
+    // The whole files: 2 s before the first's launch to 4 s after it.
+    assert!(
+        all.body
+            .contains("Two passes, time from each launch: the whole files, -2.00 to 4.00 s"),
+        "{}",
+        all.body
+    );
+    // The comparison form keeps the whole-file choice.
+    assert!(
+        all.body
+            .contains("<input type=\"hidden\" name=\"window\" value=\"all\">")
+    );
+    assert!(all.body.contains(&format!(
+        "href=\"/passes/{first}?compare={second}#charts\">Back to the launch"
+    )));
+}

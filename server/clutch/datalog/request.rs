@@ -648,7 +648,12 @@ impl LogResult {
     /// for the answer's trace, events kept): small enough to keep and to draw. The figures and
     /// `analysis.samples` are the full analysis's.
     pub fn thinned(&self, max: usize) -> LogResult {
-        let idx = self.trace_indices(max);
+        self.picked(&self.trace_indices(max))
+    }
+
+    /// The same result with its per-sample channels cut to the samples `idx` (increasing), the
+    /// energy window moved onto the nearest kept samples; figures and event times unchanged.
+    pub(crate) fn picked(&self, idx: &[usize]) -> LogResult {
         let pick = |v: &Vec<f64>| -> Vec<f64> { idx.iter().map(|&i| v[i]).collect() };
         let s = &self.series;
         let a = &self.analysis;

@@ -52,8 +52,9 @@ pub enum PageKey {
     Customers(String),
     Build(i64),
     Tune(i64, String),
-    /// A pass's page and the pass drawn beside it (the parsed `compare`, never the raw query).
-    Pass(i64, Option<i64>),
+    /// A pass's page, the pass drawn beside it (the parsed `compare`, never the raw query) and
+    /// whether the whole file is drawn (`window=all`) rather than the launch.
+    Pass(i64, Option<i64>, bool),
 }
 
 struct Page {

@@ -23,12 +23,13 @@ use crate::web::api::datalogs::{PassCar, file_name, pass_car, save};
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
 use crate::web::http::heavy::Caller;
-use crate::web::pages::chart::Chart;
+use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::layout::Layout;
 use clutch::InputError;
 use clutch::datalog::file;
 use clutch::datalog::request::{LogColumns, LogResult, LogSettings, TimeUnit};
 use clutch::datalog::roles::{self, Clash};
+use clutch::datalog::span::TimeSpan;
 use clutch::quantity::{Kind, limits};
 
 /// Uploads waiting for their mapping, at most this many at once shop-wide.
@@ -110,42 +111,72 @@ const VIEWS_MAX: usize = 512;
 /// Samples a kept analysis holds for its charts (the charts draw no more than that).
 const VIEW_POINTS: usize = 900;
 
-/// The last analysis of each stored log, thinned for its page, found by the pass and what
-/// picks the analysis (the stored file's stamp, its settings and the car's data): a pass's
-/// page is analysed again only when its file or its car changed, not after every commit.
+/// The last analysis of each stored log, cut to the stretch its charts show and thinned for its
+/// page, found by the pass and the stretch, and what picks the analysis (the stored file's
+/// stamp, its settings and the car's data): a pass's page is analysed again only when its file
+/// or its car changed, not after every commit.
 #[derive(Default)]
-pub struct Views(Mutex<HashMap<i64, (String, LogView)>>);
+pub struct Views(Mutex<HashMap<(i64, Stretch), (String, LogView)>>);
+
+/// Which stretch of a log a pass's charts show: from a second before the launch to a second
+/// after the lockup (what the page opens on), or the whole file (`?window=all`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Stretch {
+    Launch,
+    Whole,
+}
+
+impl Stretch {
+    /// `all` is the whole file; anything else (nothing, a typo) the launch.
+    fn from_query(q: &str) -> Self {
+        if q.trim() == "all" {
+            Self::Whole
+        } else {
+            Self::Launch
+        }
+    }
+
+    /// The stretch of `r` (the full analysis) this names.
+    fn span(self, r: &LogResult) -> TimeSpan {
+        match self {
+            Self::Launch => r.launch_span(),
+            Self::Whole => r.whole_span(),
+        }
+    }
+}
 
 /// A stored log's analysis thinned for its page, or why its file does not read.
 type LogView = Arc<Result<LogResult, InputError>>;
 
 impl Views {
-    fn get(&self, pass_id: i64, key: &str) -> Option<LogView> {
+    fn get(&self, at: (i64, Stretch), key: &str) -> Option<LogView> {
         let all = self.0.lock().unwrap_or_else(|e| e.into_inner());
-        all.get(&pass_id)
+        all.get(&at)
             .filter(|(k, _)| k == key)
             .map(|(_, v)| Arc::clone(v))
     }
 
-    fn keep(&self, pass_id: i64, key: String, view: LogView) {
+    fn keep(&self, at: (i64, Stretch), key: String, view: LogView) {
         let mut all = self.0.lock().unwrap_or_else(|e| e.into_inner());
-        if all.len() >= VIEWS_MAX && !all.contains_key(&pass_id) {
+        if all.len() >= VIEWS_MAX && !all.contains_key(&at) {
             let any = all.keys().next().copied();
             if let Some(k) = any {
                 all.remove(&k);
             }
         }
-        all.insert(pass_id, (key, view));
+        all.insert(at, (key, view));
     }
 }
 
-/// A stored log's analysis, thinned: the kept one, else the file read, analysed and kept.
-/// `Ok(None)` without a stored log; the inner error says why the file does not read.
+/// A stored log's analysis cut to `stretch` and thinned: the kept one, else the file read,
+/// analysed and kept. `Ok(None)` without a stored log; the inner error says why the file does
+/// not read.
 async fn stored_view(
     state: &AppState,
     caller: &Caller,
     pc: &PassCar,
     pass_id: i64,
+    stretch: Stretch,
 ) -> AppResult<Option<LogView>> {
     let mut conn = state.pool.acquire().await?;
     let Some(stamp) = db::pass_logs::stamp(&mut conn, pass_id).await? else {
@@ -161,7 +192,7 @@ async fn stored_view(
         Ok(s) => format!("{stamp} {}", pc.analysis_key(s)),
         Err(_) => stamp,
     };
-    if let Some(v) = state.log_views.get(pass_id, &key) {
+    if let Some(v) = state.log_views.get((pass_id, stretch), &key) {
         return Ok(Some(v));
     }
     let view = match crate::web::api::datalogs::open(state, raw).await? {
@@ -169,16 +200,23 @@ async fn stored_view(
         Ok(file) => pc
             .analyse(state, caller, &file.settings, Arc::new(file.text))
             .await?
-            .map(|r| r.thinned(VIEW_POINTS)),
+            .map(|r| match stretch {
+                Stretch::Whole => r.thinned(VIEW_POINTS),
+                Stretch::Launch => r.cut(r.launch_span()).thinned(VIEW_POINTS),
+            }),
     };
     let view = Arc::new(view);
-    state.log_views.keep(pass_id, key, Arc::clone(&view));
+    state
+        .log_views
+        .keep((pass_id, stretch), key, Arc::clone(&view));
     Ok(Some(view))
 }
 
 /// One trace chart and what it shows.
 pub struct TraceChart {
     pub chart: Chart,
+    /// Drawn across the whole row (the two passes compared), not one of two side by side.
+    pub full_row: bool,
 }
 
 #[derive(Template)]
@@ -193,6 +231,12 @@ pub struct PassPage {
     pub log: Option<LogSummary>,
     /// Charts of the stored log (speeds, slip, slip power).
     pub charts: Vec<TraceChart>,
+    /// What stretch of the file the charts show, in words ("1.32–3.90 s: ...").
+    pub shown: String,
+    /// The link to the other stretch: (address, words), when it shows something else.
+    pub other_stretch: Option<(String, &'static str)>,
+    /// The whole file was asked for (`?window=all`; the comparison form keeps it).
+    pub whole_file: bool,
     /// The analysis of the stored file, when it reads.
     pub figures: Vec<(&'static str, String)>,
     pub notes: Vec<String>,
@@ -215,12 +259,33 @@ fn thin(n: usize, len: usize) -> usize {
     len.div_ceil(n).max(1)
 }
 
-fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
+/// The stretch `span` of a view (cut to it) in words, for the page and the captions: "1.32–4.65
+/// s: from 1 s before the launch to 1 s after the lockup", "...: from 1 s before the launch to
+/// the file's end", "0.00–3.90 s: the whole file".
+fn span_words(span: TimeSpan, view: &LogResult) -> String {
+    use clutch::datalog::span::EDGE_S;
+    let range = format!("{:.2}–{:.2} s", span.from_s, span.to_s);
+    let from = match view.reaches_ends(span) {
+        (true, true) => return format!("{range}: the whole file"),
+        (false, _) => format!("{EDGE_S:.0} s before the launch"),
+        (true, _) => "the file's start".into(),
+    };
+    let to = match view.reaches_ends(span).1 {
+        false => format!("{EDGE_S:.0} s after the lockup"),
+        true => "the file's end".into(),
+    };
+    format!("{range}: from {from} to {to}")
+}
+
+/// The speed, slip and slip-power charts of one pass over `span` of its file.
+fn charts(r: &LogResult, span: TimeSpan, shown_torque: bool) -> Vec<TraceChart> {
     let s = &r.series;
     let a = &r.analysis;
-    let step = thin(900, s.time_s.len());
+    let step = thin(VIEW_POINTS, s.time_s.len());
     let idx: Vec<usize> = (0..s.time_s.len()).step_by(step).collect();
-    let t_end = *s.time_s.last().unwrap_or(&1.0);
+    let x = (span.from_s, span.to_s);
+    let x_title = "time from the file's start, s";
+    let words = span_words(span, r);
     let mark = |c: &mut Chart, f: &crate::web::pages::chart::Frame| {
         c.mark_x(
             f,
@@ -238,6 +303,16 @@ fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
             c.mark_x(f, "spin", format!("tire spin {x:.2}–{y:.2} s"), *x);
         }
     };
+    let chart = |title: &str, y_title: &str, y: (f64, f64)| {
+        Chart::over(
+            Size::Compact,
+            &format!("{title} over {words}"),
+            x_title,
+            y_title,
+            x,
+            y,
+        )
+    };
     let mut out = Vec::new();
     let top = s
         .engine_rpm
@@ -245,53 +320,39 @@ fn charts(r: &LogResult, shown_torque: bool) -> Vec<TraceChart> {
         .chain(&s.input_rpm)
         .copied()
         .fold(0.0, f64::max);
-    let (mut c, f) = Chart::new(
-        "Engine and input shaft speed",
-        "time from the file's start, s",
-        "rpm",
-        (0.0, t_end),
-        (0.0, top * 1.05),
-    );
+    let (mut c, f) = chart("Engine and input shaft speed", "rpm", (0.0, top * 1.05));
     let pts = |v: &[f64]| -> Vec<(f64, f64)> { idx.iter().map(|&i| (s.time_s[i], v[i])).collect() };
     c.line(&f, "engine", "engine", &pts(&s.engine_rpm));
     c.line(&f, "input", "input", &pts(&s.input_rpm));
     // Locked, both lines end together: keep their labels apart.
-    if let [.., e, i] = c.series.as_mut_slice()
-        && (e.label_y - i.label_y).abs() < 13.0
-    {
-        i.label_y = e.label_y + 13.0;
-    }
+    c.spread_labels();
     mark(&mut c, &f);
-    out.push(TraceChart { chart: c });
+    out.push(TraceChart {
+        chart: c,
+        full_row: false,
+    });
     let slip: Vec<f64> = a.slip_pct.iter().map(|v| v.clamp(-5.0, 100.0)).collect();
-    let (mut c, f) = Chart::new(
-        "Clutch slip",
-        "time from the file's start, s",
-        "slip, %",
-        (0.0, t_end),
-        (-5.0, 100.0),
-    );
+    let (mut c, f) = chart("Clutch slip", "slip, %", (-5.0, 100.0));
     c.line(&f, "slip", "slip", &pts(&slip));
     mark(&mut c, &f);
-    out.push(TraceChart { chart: c });
+    out.push(TraceChart {
+        chart: c,
+        full_row: false,
+    });
     if let (Some(p), true) = (&a.slip_power_w, shown_torque) {
         let kw: Vec<f64> = p.iter().map(|w| w / 1000.0).collect();
         let peak = kw.iter().copied().fold(1.0, f64::max);
-        let (mut c, f) = Chart::new(
-            "Slip power",
-            "time from the file's start, s",
-            "kW",
-            (0.0, t_end),
-            (0.0, peak * 1.05),
-        );
+        let (mut c, f) = chart("Slip power", "kW", (0.0, peak * 1.05));
         c.line(&f, "power", "slip power", &pts(&kw));
         mark(&mut c, &f);
-        out.push(TraceChart { chart: c });
+        out.push(TraceChart {
+            chart: c,
+            full_row: false,
+        });
     }
     out
 }
 
-/// GET /passes/{id}.
 /// GET /passes/{id}: through the page cache, so the stored log is analysed again only after
 /// a commit (or a new day), not on every view.
 pub async fn show(
@@ -299,22 +360,51 @@ pub async fn show(
     user: CurrentUser,
     caller: Caller,
     PathId(id): PathId,
-    Query(q): Query<CompareQuery>,
+    Query(q): Query<PassQuery>,
 ) -> AppResult<Response> {
     let compare = q.compare.trim().parse::<i64>().ok().filter(|&c| c != id);
-    let key = PageKey::Pass(id, compare);
+    let stretch = Stretch::from_query(&q.window);
+    let key = PageKey::Pass(id, compare, stretch == Stretch::Whole);
     let (state_ref, caller) = (&state, &caller);
     let render = |stand_in: Viewer| async move {
-        render_with(state_ref, caller, &stand_in, id, None, compare).await
+        let asked = Asked { compare, stretch };
+        render_with(state_ref, caller, &stand_in, id, None, asked).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?).into_response())
 }
 
-/// `?compare=<pass id>`: another logged pass of the same build drawn over this one.
+/// `?compare=<pass id>`: another logged pass of the same build drawn over this one;
+/// `?window=all`: the whole file instead of the launch.
 #[derive(Debug, Default, serde::Deserialize)]
 #[serde(default)]
-pub struct CompareQuery {
+pub struct PassQuery {
     compare: String,
+    window: String,
+}
+
+/// What a pass's page was asked to draw: the other pass, and the stretch of the files.
+#[derive(Debug, Clone, Copy)]
+struct Asked {
+    compare: Option<i64>,
+    stretch: Stretch,
+}
+
+impl Asked {
+    /// The page's address with the other stretch (the comparison kept), and its link's words.
+    fn other_stretch(&self, id: i64) -> (String, &'static str) {
+        let compare = self.compare.map(|c| format!("compare={c}"));
+        let (window, words) = match self.stretch {
+            Stretch::Launch => (Some("window=all".to_string()), "Show the whole file"),
+            Stretch::Whole => (None, "Back to the launch"),
+        };
+        let query: Vec<String> = compare.into_iter().chain(window).collect();
+        let address = if query.is_empty() {
+            format!("/passes/{id}")
+        } else {
+            format!("/passes/{id}?{}", query.join("&"))
+        };
+        (address, words)
+    }
 }
 
 async fn render(
@@ -325,32 +415,54 @@ async fn render(
     upload_error: Option<String>,
     status: StatusCode,
 ) -> AppResult<Response> {
-    let (html, _) = render_with(state, caller, &user.viewer(), id, upload_error, None).await?;
+    let asked = Asked {
+        compare: None,
+        stretch: Stretch::Launch,
+    };
+    let (html, _) = render_with(state, caller, &user.viewer(), id, upload_error, asked).await?;
     Ok((status, Html(html)).into_response())
 }
 
-/// Engine and input speed of two passes against time from each one's launch.
-fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult)) -> Chart {
+/// Engine and input speed of two passes against time from each one's launch, over the stretch
+/// each view was cut to, the labels in a legend below the plot (so none lies across the other
+/// pass's trace).
+fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult), stretch: Stretch) -> Chart {
     let shifted = |r: &LogResult, v: &[f64]| -> Vec<(f64, f64)> {
         let s = &r.series;
         let step = thin(VIEW_POINTS, s.time_s.len());
         (0..s.time_s.len())
             .step_by(step)
             .map(|i| (s.time_s[i] - r.analysis.launch_s, v[i]))
-            .filter(|(t, _)| *t >= -0.2)
             .collect()
     };
-    let span = |r: &LogResult| *r.series.time_s.last().unwrap_or(&1.0) - r.analysis.launch_s;
+    let from_launch = |r: &LogResult| {
+        let span = stretch.span(r);
+        (
+            span.from_s - r.analysis.launch_s,
+            span.to_s - r.analysis.launch_s,
+        )
+    };
+    let (a0, a1) = from_launch(this.1);
+    let (b0, b1) = from_launch(other.1);
+    let x = (a0.min(b0), a1.max(b1));
     let top = [this.1, other.1]
         .iter()
         .flat_map(|r| r.series.engine_rpm.iter().chain(&r.series.input_rpm))
         .copied()
         .fold(0.0, f64::max);
-    let (mut c, f) = Chart::new(
-        "Two passes, time from each launch",
+    let words = match stretch {
+        Stretch::Launch => "each launch to its lockup with up to 1 s either side",
+        Stretch::Whole => "the whole files",
+    };
+    let (mut c, f) = Chart::over(
+        Size::Wide,
+        &format!(
+            "Two passes, time from each launch: {words}, {:.2} to {:.2} s",
+            x.0, x.1
+        ),
         "time from launch, s",
         "rpm",
-        (-0.2, span(this.1).max(span(other.1))),
+        x,
         (0.0, top * 1.05),
     );
     let (a, b) = (this.1, other.1);
@@ -386,19 +498,11 @@ fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult)) -> Chart {
     );
     c.mark_x(
         &f,
-        "launch",
+        "other",
         format!("lockup {}", other.0),
         b.analysis.lockup_s - b.analysis.launch_s,
     );
-    // Labels of lines ending together are spread out.
-    let mut ys: Vec<usize> = (0..c.series.len()).collect();
-    ys.sort_by(|&i, &j| c.series[i].label_y.total_cmp(&c.series[j].label_y));
-    for k in 1..ys.len() {
-        let (prev, cur) = (ys[k - 1], ys[k]);
-        if c.series[cur].label_y - c.series[prev].label_y < 12.0 {
-            c.series[cur].label_y = c.series[prev].label_y + 12.0;
-        }
-    }
+    c.legend_below();
     c
 }
 
@@ -408,8 +512,9 @@ async fn render_with(
     user: &Viewer,
     id: i64,
     upload_error: Option<String>,
-    compare: Option<i64>,
+    asked: Asked,
 ) -> AppResult<(String, ShopZone)> {
+    let Asked { compare, stretch } = asked;
     let mut conn = state.pool.acquire().await?;
     let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(
@@ -474,8 +579,9 @@ async fn render_with(
     drop(conn);
     let (mut charts_v, mut figures, mut notes, mut problem) =
         (Vec::new(), Vec::new(), Vec::new(), None);
+    let (mut shown, mut other_stretch) = (String::new(), None);
     let stored = match log {
-        Some(_) => stored_view(state, caller, &pc, id).await?,
+        Some(_) => stored_view(state, caller, &pc, id, stretch).await?,
         None => None,
     };
     if let Some(view) = stored {
@@ -528,9 +634,15 @@ async fn render_with(
                     },
                 ));
                 notes = a.notes.clone();
-                charts_v = charts(r, true);
+                let span = stretch.span(r);
+                shown = span_words(span, r);
+                // A launch stretch that is the whole file anyway needs no second link.
+                if stretch == Stretch::Whole || r.reaches_ends(span) != (true, true) {
+                    other_stretch = Some(asked.other_stretch(id));
+                }
+                charts_v = charts(r, span, true);
                 let other = match compare {
-                    Some(c) => compare_view(state, caller, c).await?,
+                    Some(c) => compare_view(state, caller, c, stretch).await?,
                     None => None,
                 };
                 if let (Some(other), Some(day)) = (&other, &compare_day)
@@ -540,7 +652,8 @@ async fn render_with(
                     charts_v.insert(
                         0,
                         TraceChart {
-                            chart: compare_chart((&this_day, r), (day, other)),
+                            chart: compare_chart((&this_day, r), (day, other), stretch),
+                            full_row: true,
                         },
                     );
                 }
@@ -556,6 +669,9 @@ async fn render_with(
         build_label,
         log,
         charts: charts_v,
+        shown,
+        other_stretch,
+        whole_file: stretch == Stretch::Whole,
         figures,
         notes,
         calibration,
@@ -566,14 +682,20 @@ async fn render_with(
     Ok((page.render()?, zone))
 }
 
-/// The analysis of another pass's stored log (its car's data), for the comparison chart.
-async fn compare_view(state: &AppState, caller: &Caller, id: i64) -> AppResult<Option<LogView>> {
+/// The analysis of another pass's stored log (its car's data) over the same kind of stretch,
+/// for the comparison chart.
+async fn compare_view(
+    state: &AppState,
+    caller: &Caller,
+    id: i64,
+    stretch: Stretch,
+) -> AppResult<Option<LogView>> {
     let mut conn = state.pool.acquire().await?;
     let Some(pc) = pass_car(&mut conn, id).await? else {
         return Ok(None);
     };
     drop(conn);
-    stored_view(state, caller, &pc, id).await
+    stored_view(state, caller, &pc, id, stretch).await
 }
 
 /// POST /passes/{id}/log: the file (multipart, with the CSRF token), its layout read at once;

@@ -20,7 +20,7 @@ use crate::web::http::flash::{self, Flash};
 use crate::web::pages::builds::show::{EntryForm, EntryForms, render_page};
 use crate::web::pages::builds::tune::{capacity_chart, curve_start, figure_lines};
 use crate::web::pages::builds::wear;
-use crate::web::pages::chart::Chart;
+use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::show::Show;
 use clutch::capacity::friction::{FacingMaterial, HeatTrend};
 use clutch::capacity::recommend::Recommendation;
@@ -63,7 +63,7 @@ impl SheetPage {
             .capacity
             .as_ref()
             .ok()
-            .map(|c| capacity_chart(&u, &c.report, None));
+            .map(|c| capacity_chart(Size::Paper, &u, &c.report, None));
         Self {
             i: inputs,
             f,

@@ -4,6 +4,7 @@
 //! poppler-utils).
 //! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/<test>/`.
 
+mod charts;
 mod counter;
 mod entries;
 mod harness;

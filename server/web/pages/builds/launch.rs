@@ -1,10 +1,11 @@
 //! The launch preview on the tuning page: one column per setting (the current one and the one
-//! being tried), each with its speed and slip-power charts, its figures and its event log.
+//! being tried), each with its speed and slip-power charts, its figures and its event log. The
+//! columns' charts of one quantity share one scale ([`draw`]), so two runs compare by eye.
 
 use crate::model::Trial;
 use crate::model::as_of::BuildAsOf;
 use crate::model::launch::{LaunchPlan, SixtyFtCheck};
-use crate::web::pages::chart::Chart;
+use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::show::Show;
 use clutch::launch::request::{LaunchReport, describe};
 use clutch::launch::simulation::LaunchRun;
@@ -22,8 +23,12 @@ pub struct LaunchColumn {
 
 /// A launch worked out, in the shop's units.
 pub struct LaunchShown {
-    pub speed_chart: Chart,
-    pub power_chart: Chart,
+    /// The run as the API reports it (its trace is what the charts draw).
+    report: LaunchReport,
+    /// The column's title in lower case, for the charts' captions.
+    name: String,
+    /// Engine and clutch speed, then slip power: drawn by [`draw`] once every column is known.
+    pub charts: Vec<Chart>,
     /// (label, value) rows.
     pub figures: Vec<(&'static str, String)>,
     /// (time, what) rows.
@@ -44,19 +49,59 @@ pub struct LaunchShown {
 pub const HOT_RISE_K: f64 = 60.0;
 
 impl LaunchShown {
-    /// Both charts, speed first.
-    pub fn charts(&self) -> [&Chart; 2] {
-        [&self.speed_chart, &self.power_chart]
-    }
-
     /// The bulk pressure-plate rise is past [`HOT_RISE_K`].
     pub fn hot(&self) -> bool {
         self.plate_rise_k > HOT_RISE_K
     }
 }
 
+/// The scales every column's charts share: the longest run and the highest speed and slip
+/// power any column reaches.
+struct Scales {
+    t_end: f64,
+    rpm_top: f64,
+    kw_top: f64,
+}
+
+impl Scales {
+    fn of<'a>(runs: impl Iterator<Item = &'a LaunchReport>) -> Self {
+        runs.fold(
+            Scales {
+                t_end: 0.1,
+                rpm_top: 1000.0,
+                kw_top: 1.0,
+            },
+            |s, r| Scales {
+                t_end: r.trace.last().map_or(s.t_end, |p| s.t_end.max(p.time_s)),
+                rpm_top: r
+                    .trace
+                    .iter()
+                    .fold(s.rpm_top, |m, p| m.max(p.engine_rpm).max(p.clutch_rpm)),
+                kw_top: s.kw_top.max(r.peak_slip_power_kw),
+            },
+        )
+    }
+}
+
+/// Draws every column's charts: all speed charts on one scale and all slip-power charts on
+/// another, each the largest any column needs, so the settings compare by eye.
+pub fn draw(columns: &mut [LaunchColumn]) {
+    let scales = Scales::of(
+        columns
+            .iter()
+            .filter_map(|c| c.result.as_ref().ok())
+            .map(|s| &s.report),
+    );
+    for shown in columns.iter_mut().filter_map(|c| c.result.as_mut().ok()) {
+        shown.charts = vec![
+            speed_chart(&shown.report, &shown.name, &scales),
+            power_chart(&shown.report, &shown.name, &scales),
+        ];
+    }
+}
+
 /// Engine and clutch speed against time, with the lockup marked.
-fn speed_chart(report: &LaunchReport, title: &str) -> Chart {
+fn speed_chart(report: &LaunchReport, title: &str, scales: &Scales) -> Chart {
     let engine: Vec<(f64, f64)> = report
         .trace
         .iter()
@@ -78,18 +123,13 @@ fn speed_chart(report: &LaunchReport, title: &str) -> Chart {
     if let (true, Some(l)) = (locked_at_end, &report.lockup) {
         clutch.push((l.time_s, l.engine_rpm));
     }
-    let t_end = engine.last().map_or(1.0, |p| p.0).max(0.1);
-    let top = engine
-        .iter()
-        .chain(&clutch)
-        .map(|p| p.1)
-        .fold(1000.0, f64::max);
-    let (mut chart, f) = Chart::new(
+    let (mut chart, f) = Chart::sized(
+        Size::Compact,
         &format!("Engine and clutch speed, {title}"),
         "time (s)",
         "speed (rpm)",
-        (0.0, t_end),
-        (0.0, top),
+        (0.0, scales.t_end),
+        (0.0, scales.rpm_top),
     );
     if locked_at_end {
         chart.line(&f, "clutch", "", &clutch);
@@ -105,19 +145,19 @@ fn speed_chart(report: &LaunchReport, title: &str) -> Chart {
 }
 
 /// Slip power against time.
-fn power_chart(report: &LaunchReport, title: &str) -> Chart {
+fn power_chart(report: &LaunchReport, title: &str, scales: &Scales) -> Chart {
     let power: Vec<(f64, f64)> = report
         .trace
         .iter()
         .map(|p| (p.time_s, p.slip_power_kw))
         .collect();
-    let t_end = power.last().map_or(1.0, |p| p.0).max(0.1);
-    let (mut chart, f) = Chart::new(
+    let (mut chart, f) = Chart::sized(
+        Size::Compact,
         &format!("Heat going into the clutch, {title}"),
         "time (s)",
         "slip power (kW)",
-        (0.0, t_end),
-        (0.0, report.peak_slip_power_kw.max(1.0)),
+        (0.0, scales.t_end),
+        (0.0, scales.kw_top),
     );
     chart.line(&f, "power", "slip power", &power);
     chart
@@ -201,7 +241,6 @@ fn shown(
     u: Units,
 ) -> LaunchShown {
     let report = LaunchReport::of(run, duration_s, u);
-    let short = title.to_lowercase();
     let mut figures = figures(&report, u);
     let mut notes = report.notes.clone();
     if let Some(predicted) = report.sixty_ft_s
@@ -210,8 +249,8 @@ fn shown(
         sixty_ft_against_the_record(&mut figures, &mut notes, predicted, &check);
     }
     LaunchShown {
-        speed_chart: speed_chart(&report, &short),
-        power_chart: power_chart(&report, &short),
+        name: title.to_lowercase(),
+        charts: Vec::new(),
         figures,
         events: run
             .events
@@ -222,6 +261,7 @@ fn shown(
         estimated: plan.estimated.iter().map(|e| e.text(u)).collect(),
         plate_rise_k: run.plate_rise_k.map_or(0.0, |r| r.0),
         slip: report.slip_text(),
+        report,
     }
 }
 

@@ -33,7 +33,7 @@ use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
 use crate::web::http::flash::{self, Flash};
 use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
 use crate::web::pages::builds::wear::{self, WearFigures, WearView};
-use crate::web::pages::chart::Chart;
+use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::layout::Layout;
 use clutch::capacity::friction::FacingMaterial;
 use clutch::capacity::springs::SetSpread;
@@ -395,7 +395,7 @@ pub async fn render_page(
     let capacity_chart = capacity
         .as_ref()
         .ok()
-        .map(|f| capacity_chart(&page.u, &f.report, None));
+        .map(|f| capacity_chart(Size::Wide, &page.u, &f.report, None));
     let wear = now.wear().and_then(|req| {
         clutch::wear::analyze(&req)
             .map(|report| {

@@ -23,7 +23,7 @@ use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, Viewer};
 use crate::web::http::heavy::Caller;
 use crate::web::pages::builds::launch::LaunchColumn;
-use crate::web::pages::chart::Chart;
+use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::layout::Layout;
 use crate::web::pages::show::Show;
 use clutch::capacity::recommend::Recommendation;
@@ -33,7 +33,12 @@ use clutch::quantity::{Bound, Kind, Limit, limits};
 
 /// The capacity chart: engine torque, clutch capacity, its static share, the slip region, and
 /// the launch and lockup speeds marked. `before` adds the current setting for comparison.
-pub fn capacity_chart(u: &Show, report: &CapacityReport, before: Option<&CapacityReport>) -> Chart {
+pub fn capacity_chart(
+    size: Size,
+    u: &Show,
+    report: &CapacityReport,
+    before: Option<&CapacityReport>,
+) -> Chart {
     // Report values are already in the shop's units (see `model::figures`).
     let engine: Vec<(f64, f64)> = report
         .curve
@@ -71,7 +76,8 @@ pub fn capacity_chart(u: &Show, report: &CapacityReport, before: Option<&Capacit
     // Cap the scale so a huge capacity at the top does not flatten the engine curve.
     let engine_max = engine.iter().map(|p| p.1).fold(0.0, f64::max);
     let y_top = y_max.min(engine_max * 2.5);
-    let (mut chart, f) = Chart::new(
+    let (mut chart, f) = Chart::sized(
+        size,
         "Clutch capacity against engine torque",
         "engine speed (rpm)",
         &format!("torque ({})", u.torque_unit()),
@@ -271,7 +277,7 @@ async fn render_tune(
                 Some((r, f)) => (Some(r), Some(f)),
                 None => (None, None),
             };
-            let launch = launch_columns(
+            let mut launch = launch_columns(
                 &facts,
                 &mut form,
                 &mut errors,
@@ -285,12 +291,16 @@ async fn render_tune(
                     recorded_sixty_ft: &recorded_sixty_ft,
                 },
             );
+            crate::web::pages::builds::launch::draw(&mut launch);
             let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
             let chart = match (&current, shown) {
-                (Ok(cur), Some(new)) => {
-                    Some(capacity_chart(&page.u, &new.report, Some(&cur.report)))
-                }
-                (Ok(cur), None) => Some(capacity_chart(&page.u, &cur.report, None)),
+                (Ok(cur), Some(new)) => Some(capacity_chart(
+                    Size::Wide,
+                    &page.u,
+                    &new.report,
+                    Some(&cur.report),
+                )),
+                (Ok(cur), None) => Some(capacity_chart(Size::Wide, &page.u, &cur.report, None)),
                 _ => None,
             };
             let today = page.today();
