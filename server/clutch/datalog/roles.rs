@@ -57,17 +57,26 @@ fn role_of(name: &str) -> Option<&'static str> {
 /// "Front wheel speed", "Throttle %", "Clutch switch"); roles no name matches stay blank.
 pub fn guess(names: &[String]) -> LogColumns {
     let first = |role: &str| names.iter().find(|n| role_of(n) == Some(role)).cloned();
+    // The analysis reads the clutch's driven side from exactly one source: the first of input
+    // shaft, driveshaft and driven wheels the file has.
+    let input_rpm = first("input_rpm");
+    let driveshaft_rpm = first("driveshaft_rpm").filter(|_| input_rpm.is_none());
+    let driven_wheel_speed =
+        first("driven_wheel_speed").filter(|_| input_rpm.is_none() && driveshaft_rpm.is_none());
     LogColumns {
         time: first("time").unwrap_or_default(),
         engine_rpm: first("engine_rpm").unwrap_or_default(),
-        input_rpm: first("input_rpm"),
-        driveshaft_rpm: first("driveshaft_rpm"),
-        driven_wheel_speed: first("driven_wheel_speed"),
+        input_rpm,
+        driveshaft_rpm,
+        driven_wheel_speed,
         undriven_wheel_speed: first("undriven_wheel_speed"),
         throttle: first("throttle"),
         clutch_switch: first("clutch_switch"),
     }
 }
+
+/// The roles that give the clutch's driven side, of which a mapping names exactly one.
+pub const DRIVEN_SIDE: [&str; 3] = ["input_rpm", "driveshaft_rpm", "driven_wheel_speed"];
 
 /// A choice of columns that cannot be right.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -127,8 +136,17 @@ mod tests {
         assert_eq!(g.time, "Time (s)");
         assert_eq!(g.engine_rpm, "Engine RPM");
         assert_eq!(g.input_rpm.as_deref(), Some("Input Shaft Speed"));
-        assert_eq!(g.driveshaft_rpm.as_deref(), Some("Driveshaft_RPM"));
-        assert_eq!(g.driven_wheel_speed.as_deref(), Some("Rear Wheel Speed"));
+        // One source of the driven side: the input shaft wins.
+        assert_eq!(g.driveshaft_rpm, None);
+        assert_eq!(g.driven_wheel_speed, None);
+        let no_input = guess(&n[..1].iter().chain(&n[3..]).cloned().collect::<Vec<_>>());
+        assert_eq!(no_input.driveshaft_rpm.as_deref(), Some("Driveshaft_RPM"));
+        assert_eq!(no_input.driven_wheel_speed, None);
+        let wheels_only = guess(&n[4..]);
+        assert_eq!(
+            wheels_only.driven_wheel_speed.as_deref(),
+            Some("Rear Wheel Speed")
+        );
         assert_eq!(g.undriven_wheel_speed.as_deref(), Some("Front Wheel Speed"));
         assert_eq!(g.throttle.as_deref(), Some("Throttle %"));
         assert_eq!(g.clutch_switch.as_deref(), Some("Clutch Switch"));

@@ -920,11 +920,22 @@ impl MapPage {
         );
         // The choice made for this car before, where the file has that column; else a header
         // name that plainly says what it is.
-        let guessed = roles::guess(&layout.names);
+        let mut guessed = roles::guess(&layout.names);
+        let in_file = |name: &str| file::find(&layout.names, name);
+        if roles::DRIVEN_SIDE
+            .iter()
+            .any(|&k| column_of(&settings.columns, k).and_then(in_file).is_some())
+        {
+            // The car's remembered source of the driven side stands; no second one is guessed.
+            (
+                guessed.input_rpm,
+                guessed.driveshaft_rpm,
+                guessed.driven_wheel_speed,
+            ) = (None, None, None);
+        }
         let choices = ROLES
             .iter()
             .map(|&(key, label, required)| {
-                let in_file = |name: &str| file::find(&layout.names, name);
                 let selected = column_of(&settings.columns, key)
                     .and_then(in_file)
                     .or_else(|| column_of(&guessed, key).and_then(in_file))

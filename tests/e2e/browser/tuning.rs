@@ -44,7 +44,7 @@ async fn tuning_figures_and_the_sheet_say_what_the_tool_knows() {
     let button = text_of(&c, "form[action$='/setups'] button.primary").await;
     assert_eq!(
         button,
-        "Save 1 turn, 20.0 g per lever, μ 0.30 as the new setup"
+        "Save 1 turn, 20.0 g per lever, μ 0.300 as the new setup"
     );
     let caution = text_of(&c, "#save-caution").await;
     assert!(
