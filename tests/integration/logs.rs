@@ -432,6 +432,26 @@ async fn upload_then_mapping_then_the_pass_page() {
         r.body
     );
     assert!(r.body.contains("fix the 3 marked fields"), "{}", r.body);
+    // The driven side from no source at all, in the form's words (not the API's keys).
+    let r = client
+        .post(
+            &format!("/passes/{pass}/log/map"),
+            &[
+                ("upload", upload_token),
+                ("time", "t"),
+                ("engine_rpm", "engine"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    assert!(
+        r.body.contains(
+            "give exactly one of input shaft speed, driveshaft speed or driven wheel speed"
+        ),
+        "{}",
+        r.body
+    );
+    assert!(!r.body.contains("input_rpm, driveshaft_rpm"), "{}", r.body);
 
     let r = client
         .post(

@@ -1134,6 +1134,16 @@ pub async fn map_save(
             _ => {}
         }
     }
+    let sources = roles::DRIVEN_SIDE
+        .iter()
+        .filter(|&&k| column_of(&settings.columns, k).is_some_and(|n| !n.is_empty()))
+        .count();
+    if sources != 1 {
+        errors.add(
+            "input_rpm",
+            "give exactly one of input shaft speed, driveshaft speed or driven wheel speed",
+        );
+    }
     let text = Arc::new(text);
     if errors.is_empty() {
         match pc.analyse(&state, &caller, &settings, text).await? {
