@@ -182,6 +182,11 @@ impl Show {
         lockup_text(*rpm, curve_start_rpm)
     }
 
+    /// A count with its noun agreeing ("1 pass", "12 passes").
+    pub fn counted(&self, n: impl Num, one: &str, many: &str) -> String {
+        clutch::quantity::counted(n.value(), one, many)
+    }
+
     /// A friction coefficient to the decimals every page, figure and warning uses ("μ 0.281").
     pub fn mu(&self, mu: f64) -> String {
         format!("μ {}", Kind::Mu.number(self.units, mu))
