@@ -54,10 +54,6 @@ pub struct SheetInputs {
     /// false, on sheets printed before: those keep the words they showed).
     #[serde(default)]
     pub soon_status: bool,
-    /// Whether the sheet's words spell "tire" as every page now does (absent, so false, on
-    /// sheets printed before: their warnings keep the "tyre" they were printed with).
-    #[serde(default)]
-    pub tire_spelling: bool,
 }
 
 /// The friction in force when a sheet was printed.
@@ -123,7 +119,6 @@ impl SheetInputs {
                 short: now.friction.short(),
             }),
             soon_status: true,
-            tire_spelling: true,
         }
     }
 
@@ -170,16 +165,8 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
         build.clamp_loss_n = 0.0;
     }
     let units = inputs.units();
-    let mut capacity = build.figures(units);
+    let capacity = build.figures(units);
     let launch_slip = build.launch_slip_text(build.trial);
-    if !inputs.tire_spelling
-        && let Ok(f) = &mut capacity
-    {
-        // Printed before the one spelling: the warnings read as they were printed.
-        for w in &mut f.report.warnings {
-            *w = w.replace("tire", "tyre");
-        }
-    }
     let wear = build
         .wear()
         .and_then(|r| analyze(&r).map_err(|e| e.to_string()));
