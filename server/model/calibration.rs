@@ -6,6 +6,9 @@ use super::{Missing, curve_range};
 use crate::records::settings::SettingsInput;
 use crate::records::stored::{Dossier, LogSummary, Pass};
 use clutch::InputError;
+use clutch::calibration::launch::{
+    LaunchCalibrateRequest, LaunchPass, calibrate_launch, mean_ci95,
+};
 use clutch::calibration::{
     CalibrateRequest, CalibrationReport, ENOUGH_PASSES, Fit, PassObserved, calibrate_observations,
     drifting,
@@ -13,6 +16,7 @@ use clutch::calibration::{
 use clutch::capacity::clamp::SpringPack;
 use clutch::capacity::lockup::CapacityLaw;
 use clutch::capacity::request::SpringsInput;
+use clutch::launch::request::LaunchFriction;
 use clutch::quantity::limits;
 use clutch::units::Units;
 
@@ -212,4 +216,98 @@ pub fn calibration_source(c: &BuildCalibration) -> String {
         "{:.3} from {} {passes} on the track {span}, {interval}",
         r.mu, r.n
     )
+}
+
+/// How far the two methods' μ of one pass may differ before the page says so: 5 % (common shop
+/// practice, no published source; the torque balance's own scatter is a few percent).
+pub const METHODS_APART_PCT: f64 = 5.0;
+
+/// How far below its launch speed a pass may lock before a torque-balance reading of it is
+/// suspect: 15 % (common shop practice, no published source). Below it the engine is still being
+/// pulled down at the lock, so the engine curve's torque there overstates what the clutch
+/// carried and the pass reads low.
+pub const FALLING_LOCK_PCT: f64 = 15.0;
+
+/// A stored build's friction read from the whole launch (`clutch::calibration::launch`): each
+/// pass with its launch speed typed and a data log's lock time, fitted with the build as it stood
+/// on the pass's date (setting, springs, wear) and the car's launch record.
+#[derive(Debug, Clone)]
+pub struct LaunchMethod {
+    /// (pass id, the μ whose simulated launch locks when the log saw it lock), oldest first.
+    pub passes: Vec<(i64, f64)>,
+    /// Passes that could not be read this way, and why, in words.
+    pub notes: Vec<String>,
+}
+
+impl LaunchMethod {
+    /// Mean μ of the passes read and its 95 % interval (none for one pass); `None` when no
+    /// pass could be read.
+    pub fn mean(&self) -> Option<(f64, Option<[f64; 2]>)> {
+        let mus: Vec<f64> = self.passes.iter().map(|p| p.1).collect();
+        (!mus.is_empty()).then(|| mean_ci95(&mus))
+    }
+
+    /// The μ this method read from pass `id`, if it read that pass.
+    pub fn of(&self, id: i64) -> Option<f64> {
+        self.passes.iter().find(|p| p.0 == id).map(|p| p.1)
+    }
+}
+
+/// The launch method over a loaded build's passes; `None` when no pass can be read by it (no pass
+/// with both a launch speed and a data log, or a car without the launch fields). About twenty
+/// launch simulations per pass: heavy work, run where the tuning page runs its calibration.
+pub fn by_launch(d: &Dossier, settings: &SettingsInput) -> Option<LaunchMethod> {
+    let mut passes = Vec::new();
+    let mut notes = Vec::new();
+    for pass in d.passes.iter().rev() {
+        let (Some(launch_rpm), Some(log)) = (pass.data.launch_rpm, d.log_of(pass.id)) else {
+            continue;
+        };
+        let day = pass.data.run_on.as_str();
+        let at = BuildAsOf::on(d, settings, day);
+        let plan = match at.launch_request(at.trial, Some(launch_rpm)) {
+            Ok(plan) => plan,
+            Err(missing) => {
+                notes.push(format!("Pass of {day}: {missing}"));
+                continue;
+            }
+        };
+        let r = plan.request;
+        let request = LaunchCalibrateRequest {
+            units: r.units,
+            disc: r.disc,
+            friction: LaunchFriction {
+                mu: None,
+                ..r.friction
+            },
+            passes: vec![LaunchPass {
+                lockup_time_s: Some(log.lockup_after_launch_s()),
+                lockup_rpm: None,
+                launch_rpm: None,
+                adjuster_turns: None,
+                counterweight_g: None,
+                clamp_loss: r.springs.clamp_loss,
+            }],
+            springs: r.springs,
+            levers: r.levers,
+            engine: r.engine,
+            launch_rpm: Some(r.launch_rpm),
+            driveline: r.driveline,
+            vehicle: r.vehicle,
+            thermal: r.thermal,
+            step_ms: r.step_ms,
+            duration_s: r.duration_s,
+        };
+        match calibrate_launch(&request) {
+            Ok(fit) => passes.push((pass.id, fit.mu)),
+            Err(e) => notes.push(format!(
+                "Pass of {day}: {}",
+                e.message.replace(
+                    "this car and setting",
+                    "this car and the setting of that day"
+                )
+            )),
+        }
+    }
+    (!passes.is_empty() || !notes.is_empty()).then_some(LaunchMethod { passes, notes })
 }

@@ -653,3 +653,50 @@ async fn the_preview_shows_the_recorded_sixty_feet_and_says_when_it_is_far_off()
             .contains("Most likely at fault: the estimated tire grip (hooked)")
     );
 }
+
+/// Issue 25, part 1, stored builds: the demo build's logged pass (launch typed, lock time in its
+/// log) is read by the whole launch beside the torque balance; a pass that locked more than 15 %
+/// below its launch speed with only the torque balance to read it is flagged as reading low
+/// (15 %: common shop practice, no published source).
+#[tokio::test]
+async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock() {
+    let app = TestApp::demo().await;
+    let client = app.login_demo().await;
+    let page = client.get("/builds/1/tune").await;
+    assert_eq!(page.status, StatusCode::OK);
+    let start = page
+        .body
+        .find("By the whole launch")
+        .expect("launch method shown");
+    let line = &page.body[start..start + page.body[start..].find("</p>").unwrap()];
+    assert!(line.contains("from 1 logged pass"), "{line}");
+    let mu: f64 = line
+        .split("μ ")
+        .nth(1)
+        .and_then(|t| t.split_whitespace().next())
+        .and_then(|t| t.parse().ok())
+        .expect("a μ");
+    assert!((0.05..=1.0).contains(&mu), "{line}");
+
+    // 3700 rpm from a 4500 rpm launch: 17.8 % below [derived], typed without a log.
+    let r = client
+        .post(
+            "/builds/1/passes",
+            &[
+                ("run_on", "2026-11-08"),
+                ("track", "County dragstrip"),
+                ("launch_rpm", "4500"),
+                ("observed_lockup_rpm", "3700"),
+            ],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let page = client.get("/builds/1/tune").await;
+    assert!(
+        page.body
+            .contains("locked at 3700 rpm, 18 % below its 4500 rpm launch"),
+        "{}",
+        page.body
+    );
+    assert!(page.body.contains("this pass reads low"));
+}

@@ -309,6 +309,19 @@ fn fit_pass(valid: &ValidLaunch, seen: Seen, i: usize) -> Result<(f64, Lockup), 
     Ok((mu, lock))
 }
 
+/// The mean of the passes' μ and its 95 % interval, mean ± t(0.975, n − 1)·sd/√n (Student t,
+/// as the torque balance computes it); no interval for one pass. `values` is not empty.
+pub fn mean_ci95(values: &[f64]) -> (f64, Option<[f64; 2]>) {
+    let n = values.len();
+    let mean = values.iter().sum::<f64>() / n as f64;
+    let ci95 = (n > 1).then(|| {
+        let var = values.iter().map(|m| (m - mean).powi(2)).sum::<f64>() / (n - 1) as f64;
+        let half = student_t_quantile(0.975, (n - 1) as f64) * (var / n as f64).sqrt();
+        [mean - half, mean + half]
+    });
+    (mean, ci95)
+}
+
 /// Answers a launch-method calibration (see the module notes). Errors name the offending
 /// field; never panics on any input.
 pub fn calibrate_launch(req: &LaunchCalibrateRequest) -> Result<LaunchCalibration, InputError> {
@@ -342,12 +355,8 @@ pub fn calibrate_launch(req: &LaunchCalibrateRequest) -> Result<LaunchCalibratio
         });
     }
     let n = passes.len();
-    let mean = passes.iter().map(|p| p.mu).sum::<f64>() / n as f64;
-    let ci95 = (n > 1).then(|| {
-        let var = passes.iter().map(|p| (p.mu - mean).powi(2)).sum::<f64>() / (n - 1) as f64;
-        let half = student_t_quantile(0.975, (n - 1) as f64) * (var / n as f64).sqrt();
-        [mean - half, mean + half]
-    });
+    let mus: Vec<f64> = passes.iter().map(|p| p.mu).collect();
+    let (mean, ci95) = mean_ci95(&mus);
     let mut notes = vec![
         "Each pass's μ is the one for which the launch simulation reproduces it (bisection on \
          0.05–1.0 to 1e-5); the lock time wins over the lockup speed where both are given. A \

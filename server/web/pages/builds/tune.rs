@@ -11,7 +11,10 @@ use sqlx::SqliteConnection;
 use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::model::as_of::{BuildAsOf, Friction};
-use crate::model::calibration::{BuildCalibration, calibration_source};
+use crate::model::calibration::{
+    BuildCalibration, FALLING_LOCK_PCT, LaunchMethod, METHODS_APART_PCT, by_launch,
+    calibration_source,
+};
 use crate::model::heat::{self, HeatStudy};
 use crate::model::{Figures, Trial, TuningTargets, figures};
 use crate::records::date::ShopZone;
@@ -139,6 +142,8 @@ pub struct TunePage {
     pub friction: Friction,
     /// μ against the facing's temperature at launch, from the calibration's passes.
     pub heat: Option<HeatStudy>,
+    /// μ read from the whole launch of the passes that allow it, beside the torque balance.
+    pub by_launch: Option<LaunchMethod>,
 }
 
 /// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
@@ -197,6 +202,7 @@ async fn render_tune(
             let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
             let calibration = calibration.map_err(|e| e.message);
             let heat = calibration.as_ref().ok().map(|c| heat::study(&dossier, c));
+            let by_launch = by_launch(&dossier, &settings);
             let friction = facts.friction.clone();
             let current_trial = facts.trial;
             // The 60-ft times the car's passes recorded, for the launch preview to be read against.
@@ -322,6 +328,7 @@ async fn render_tune(
                 launch,
                 friction,
                 heat,
+                by_launch,
             };
             Ok((page.render()?, zone))
         })
@@ -620,6 +627,67 @@ impl TunePage {
             (Ok(c), true) => format!("{how}; μ {}", calibration_source(c)),
             _ => how.to_string(),
         }
+    }
+
+    /// The friction read from the whole launch, in one line, when any pass allows it.
+    pub fn launch_method_words(&self) -> Option<String> {
+        let m = self.by_launch.as_ref()?;
+        let u = &self.page.u;
+        Some(match m.mean() {
+            Some((mu, ci)) => format!(
+                "By the whole launch (the launch model run until it locks when the data log saw the lock): {} from {}{}.",
+                u.mu(mu),
+                u.counted(m.passes.len() as i64, "logged pass", "logged passes"),
+                ci.map_or(String::new(), |[lo, hi]| format!(
+                    ", 95 % interval {lo:.3}–{hi:.3}"
+                ))
+            ),
+            None => "By the whole launch: no logged pass could be read.".into(),
+        })
+    }
+
+    /// Passes the two methods read differently, and passes that locked well below their launch
+    /// speed with only the torque balance to read them, in words.
+    pub fn method_flags(&self) -> Vec<String> {
+        let Ok(c) = &self.calibration else {
+            return Vec::new();
+        };
+        let u = &self.page.u;
+        let mut out = Vec::new();
+        for ((id, date), p) in c.pass_ids.iter().zip(&c.dates).zip(&c.report.passes) {
+            let launch = self.by_launch.as_ref().and_then(|m| m.of(*id));
+            if let Some(lm) = launch {
+                let apart = (lm - p.mu).abs() / p.mu * 100.0;
+                if apart > METHODS_APART_PCT {
+                    out.push(format!(
+                        "Pass of {date}: {} by the torque balance, {} by the whole launch ({apart:.0} % apart): the engine was not steady at lock, so the whole launch's value is the one to trust.",
+                        u.mu(p.mu),
+                        u.mu(lm)
+                    ));
+                }
+                continue;
+            }
+            let launch_rpm = self
+                .dossier
+                .passes
+                .iter()
+                .find(|x| x.id == *id)
+                .and_then(|x| x.data.launch_rpm);
+            if let Some(launch_rpm) = launch_rpm {
+                let below = (launch_rpm - p.lockup_rpm) / launch_rpm * 100.0;
+                if below > FALLING_LOCK_PCT {
+                    out.push(format!(
+                        "Pass of {date} locked at {}, {below:.0} % below its {} launch, and only the torque balance can read it: the engine was still falling at lock, so this pass reads low.",
+                        u.rpm(p.lockup_rpm),
+                        u.rpm(launch_rpm)
+                    ));
+                }
+            }
+        }
+        if let Some(m) = &self.by_launch {
+            out.extend(m.notes.iter().cloned());
+        }
+        out
     }
 
     /// The verdict on the calibration in plain words.
