@@ -660,7 +660,7 @@ impl TunePage {
                 let apart = (lm - p.mu).abs() / p.mu * 100.0;
                 if apart > METHODS_APART_PCT {
                     out.push(format!(
-                        "Pass of {date}: {} by the torque balance, {} by the whole launch ({apart:.0} % apart): the engine was not steady at lock, so the whole launch's value is the one to trust.",
+                        "Pass of {date}: {} by the torque balance, {} by the whole launch ({apart:.0} % apart). The torque balance takes the engine as steady at the lock, the whole launch does not: look at the log's engine speed at the lock, and at the car's launch record (its estimated inputs are listed under the launch preview).",
                         u.mu(p.mu),
                         u.mu(lm)
                     ));
