@@ -677,6 +677,14 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
         .and_then(|t| t.parse().ok())
         .expect("a μ");
     assert!((0.05..=1.0).contains(&mu), "{line}");
+    // The API reads the same pass the same way.
+    let token = app.token("demo").await;
+    let api = app.get_json("/api/v1/builds/1/calibration", &token).await;
+    assert_eq!(api.status, StatusCode::OK, "{}", api.body);
+    let by_launch = &api.json()["by_launch"];
+    assert_eq!(by_launch["n"], 1, "{by_launch}");
+    let api_mu = by_launch["mu"].as_f64().expect("μ");
+    assert!((api_mu - mu).abs() <= 0.0005, "{api_mu} against {mu} shown");
 
     // 3700 rpm from a 4500 rpm launch: 17.8 % below [derived], typed without a log.
     let r = client

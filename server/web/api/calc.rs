@@ -262,6 +262,49 @@ pub struct BuildCalibrationAnswer {
     pub mu_vs_temperature: Option<clutch::heat::HeatFit>,
     /// Why there is no line yet (null when there is one).
     pub mu_vs_temperature_reason: Option<String>,
+    /// μ read from the whole launch of each pass with its launch speed typed and a data log's
+    /// lock time (`"method": "launch"` of `/calc/calibrate`, the build of each pass's date); null
+    /// when no pass allows it. The torque balance above stays the friction in force.
+    pub by_launch: Option<ByLaunchAnswer>,
+}
+
+/// The launch method over a stored build's passes.
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
+pub struct ByLaunchAnswer {
+    /// Passes read.
+    pub n: usize,
+    /// Mean μ of the passes read; null when none could be.
+    pub mu: Option<f64>,
+    /// mean ± t(0.975, n − 1)·sd/√n; null below two passes.
+    pub ci95: Option<[f64; 2]>,
+    /// Each pass read: its id and μ.
+    pub passes: Vec<ByLaunchPass>,
+    /// Passes that could not be read, and why.
+    pub notes: Vec<String>,
+}
+
+/// One pass read by the launch method.
+#[derive(Debug, serde::Serialize, utoipa::ToSchema)]
+pub struct ByLaunchPass {
+    pub pass_id: i64,
+    pub mu: f64,
+}
+
+impl From<crate::model::calibration::LaunchMethod> for ByLaunchAnswer {
+    fn from(m: crate::model::calibration::LaunchMethod) -> Self {
+        let mean = m.mean();
+        Self {
+            n: m.passes.len(),
+            mu: mean.map(|(mu, _)| mu),
+            ci95: mean.and_then(|(_, ci)| ci),
+            passes: m
+                .passes
+                .iter()
+                .map(|&(pass_id, mu)| ByLaunchPass { pass_id, mu })
+                .collect(),
+            notes: m.notes,
+        }
+    }
 }
 
 /// `?fit=mu_and_gain` on a stored build's calibration (default `mu`).
@@ -290,6 +333,8 @@ pub async fn build_calibration(
                     report: c.report,
                     mu_vs_temperature_reason: heat.fit.as_ref().err().cloned(),
                     mu_vs_temperature: heat.fit.ok(),
+                    by_launch: crate::model::calibration::by_launch(&dossier, &settings)
+                        .map(ByLaunchAnswer::from),
                 }
             })
         })
