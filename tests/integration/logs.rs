@@ -364,18 +364,13 @@ async fn upload_then_mapping_then_the_pass_page() {
     let upload_token = map.split("upload=").nth(1).unwrap();
 
     // A mapping that finds no launch: the form again, the message beside the choice.
-    let r = client
-        .post(
-            &format!("/passes/{pass}/log/map"),
-            &[
-                ("upload", upload_token),
-                ("time", "t"),
-                ("engine_rpm", "engine"),
-                ("input_rpm", "t"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let r = map_refused(
+        &client,
+        &pass,
+        upload_token,
+        &[("time", "t"), ("engine_rpm", "engine"), ("input_rpm", "t")],
+    )
+    .await;
     assert!(r.body.contains("id=\"input_rpm-msg\""), "{}", r.body);
     assert!(
         r.body.contains("is the column already chosen for time"),
@@ -384,17 +379,13 @@ async fn upload_then_mapping_then_the_pass_page() {
     );
     assert_eq!(app.count("pass_logs").await, 0);
     // The time column as a speed, with no time chosen at all, is refused too.
-    let r = client
-        .post(
-            &format!("/passes/{pass}/log/map"),
-            &[
-                ("upload", upload_token),
-                ("time", "input"),
-                ("engine_rpm", "t"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let r = map_refused(
+        &client,
+        &pass,
+        upload_token,
+        &[("time", "input"), ("engine_rpm", "t")],
+    )
+    .await;
     assert!(
         r.body.contains("is the file&#39;s time column")
             || r.body.contains("is the file's time column"),
@@ -403,18 +394,17 @@ async fn upload_then_mapping_then_the_pass_page() {
     );
     assert_eq!(app.count("pass_logs").await, 0);
     // Every choice that names nothing in the file is marked at once.
-    let r = client
-        .post(
-            &format!("/passes/{pass}/log/map"),
-            &[
-                ("upload", upload_token),
-                ("time", "clock"),
-                ("engine_rpm", ""),
-                ("input_rpm", "shaft"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let r = map_refused(
+        &client,
+        &pass,
+        upload_token,
+        &[
+            ("time", "clock"),
+            ("engine_rpm", ""),
+            ("input_rpm", "shaft"),
+        ],
+    )
+    .await;
     assert!(
         r.body.contains("the file has no column “clock”"),
         "{}",
@@ -433,17 +423,13 @@ async fn upload_then_mapping_then_the_pass_page() {
     );
     assert!(r.body.contains("fix the 3 marked fields"), "{}", r.body);
     // The driven side from no source at all, in the form's words (not the API's keys).
-    let r = client
-        .post(
-            &format!("/passes/{pass}/log/map"),
-            &[
-                ("upload", upload_token),
-                ("time", "t"),
-                ("engine_rpm", "engine"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let r = map_refused(
+        &client,
+        &pass,
+        upload_token,
+        &[("time", "t"), ("engine_rpm", "engine")],
+    )
+    .await;
     assert!(
         r.body.contains(
             "give exactly one of input shaft speed, driveshaft speed or driven wheel speed"
@@ -514,23 +500,7 @@ async fn upload_then_mapping_then_the_pass_page() {
 async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
-    let first = pass_on_a_build(&client).await;
-    let build: i64 = {
-        let mut conn = app.pool.acquire().await.unwrap();
-        sqlx::query_scalar("SELECT build_id FROM passes WHERE id = ?")
-            .bind(first.parse::<i64>().unwrap())
-            .fetch_one(&mut *conn)
-            .await
-            .unwrap()
-    };
-    let r = client
-        .post(
-            &format!("/builds/{build}/passes"),
-            &[("run_on", "2026-10-11"), ("track", "Test strip")],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-    let second = (first.parse::<i64>().unwrap() + 1).to_string();
+    let (_, first, second) = two_passes(&app, &client).await;
     let token = app.token("sam").await;
     for pass in [&first, &second] {
         let body = json!({ "csv": launch_csv(),
@@ -734,23 +704,7 @@ async fn a_file_that_is_all_launch_needs_no_second_link() {
 async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
-    let first = pass_on_a_build(&client).await;
-    let build = {
-        let mut conn = app.pool.acquire().await.unwrap();
-        sqlx::query_scalar::<_, i64>("SELECT build_id FROM passes WHERE id = ?")
-            .bind(first.parse::<i64>().unwrap())
-            .fetch_one(&mut *conn)
-            .await
-            .unwrap()
-    };
-    let r = client
-        .post(
-            &format!("/builds/{build}/passes"),
-            &[("run_on", "2026-10-11"), ("track", "Test strip")],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-    let second = (first.parse::<i64>().unwrap() + 1).to_string();
+    let (_, first, second) = two_passes(&app, &client).await;
     store(&app, &first, staged_csv()).await;
     store(&app, &second, launch_csv()).await;
     let both = client
@@ -790,4 +744,40 @@ async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
     assert!(all.body.contains(&format!(
         "href=\"/passes/{first}?compare={second}#charts\">Back to the launch"
     )));
+}
+
+/// A build with two passes (the second on 2026-10-11): (build id, first pass, second pass).
+async fn two_passes(app: &TestApp, client: &Client<'_>) -> (i64, String, String) {
+    let first = pass_on_a_build(&client).await;
+    let build: i64 = {
+        let mut conn = app.pool.acquire().await.unwrap();
+        sqlx::query_scalar("SELECT build_id FROM passes WHERE id = ?")
+            .bind(first.parse::<i64>().unwrap())
+            .fetch_one(&mut *conn)
+            .await
+            .unwrap()
+    };
+    let r = client
+        .post(
+            &format!("/builds/{build}/passes"),
+            &[("run_on", "2026-10-11"), ("track", "Test strip")],
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    let second = (first.parse::<i64>().unwrap() + 1).to_string();
+    (build, first, second)
+}
+
+/// Posts a mapping of the upload `token` that the form refuses (422, nothing kept): the page.
+async fn map_refused(
+    client: &Client<'_>,
+    pass: &str,
+    token: &str,
+    fields: &[(&str, &str)],
+) -> crate::support::Reply {
+    let mut all = vec![("upload", token)];
+    all.extend_from_slice(fields);
+    let r = client.post(&format!("/passes/{pass}/log/map"), &all).await;
+    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
+    r
 }

@@ -187,36 +187,32 @@ async fn the_form_offers_the_second_look_and_keeps_what_was_typed() {
     assert_eq!(app.count("cover_heights").await, 4);
 }
 
-#[tokio::test]
-async fn a_car_with_its_centre_of_gravity_behind_the_rear_axle_is_refused() {
+/// The shop's car edited through the API with `more` fields: the refusal's field.
+async fn car_refused_on(more: Value) -> String {
     let app = TestApp::new().await;
     let (token, car, _) = shop(&app).await;
+    let mut body = json!({"description": "coupe, 6.2 L V8, 4-speed"});
+    body.as_object_mut()
+        .unwrap()
+        .extend(more.as_object().unwrap().clone());
     let r = app
-        .put_json(
-            &format!("/api/v1/cars/{car}"),
-            &token,
-            json!({"description": "coupe, 6.2 L V8, 4-speed", "wheelbase_mm": 2700.0,
-                   "cg_to_front_axle_mm": 2800.0}),
-        )
+        .put_json(&format!("/api/v1/cars/{car}"), &token, body)
         .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
-    assert_eq!(r.json()["field"], "cg_to_front_axle_mm");
+    r.json()["field"].as_str().unwrap().to_string()
+}
+
+#[tokio::test]
+async fn a_car_with_its_centre_of_gravity_behind_the_rear_axle_is_refused() {
+    let field =
+        car_refused_on(json!({"wheelbase_mm": 2700.0, "cg_to_front_axle_mm": 2800.0})).await;
+    assert_eq!(field, "cg_to_front_axle_mm");
 }
 
 #[tokio::test]
 async fn spinning_grip_above_hooked_grip_is_refused() {
-    let app = TestApp::new().await;
-    let (token, car, _) = shop(&app).await;
-    let r = app
-        .put_json(
-            &format!("/api/v1/cars/{car}"),
-            &token,
-            json!({"description": "coupe, 6.2 L V8, 4-speed", "tire_grip": 0.9,
-                   "tire_grip_spinning": 1.1}),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
-    assert_eq!(r.json()["field"], "tire_grip_spinning");
+    let field = car_refused_on(json!({"tire_grip": 0.9, "tire_grip_spinning": 1.1})).await;
+    assert_eq!(field, "tire_grip_spinning");
 }
 
 #[tokio::test]
