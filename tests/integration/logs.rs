@@ -748,7 +748,7 @@ async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
 
 /// A build with two passes (the second on 2026-10-11): (build id, first pass, second pass).
 async fn two_passes(app: &TestApp, client: &Client<'_>) -> (i64, String, String) {
-    let first = pass_on_a_build(&client).await;
+    let first = pass_on_a_build(client).await;
     let build: i64 = {
         let mut conn = app.pool.acquire().await.unwrap();
         sqlx::query_scalar("SELECT build_id FROM passes WHERE id = ?")
