@@ -370,6 +370,8 @@ pub mod limits {
     /// clutch carries under half the engine's torque at launch, so the engine flares away from
     /// the launch speed instead of holding it: not a setting a search should aim for (common
     /// shop practice, no published source).
+    /// Minutes from one pass to the next, for the launch preview's next pass (a day's rounds).
+    pub const NEXT_PASS_MINUTES: Limit = Limit::new(Count, Incl(1.0), Incl(600.0));
     pub const LAUNCH_RATIO: Limit = Limit::new(Ratio, Incl(0.5), Incl(5.0));
     /// Passes one calibration request may carry.
     pub const CALIBRATION_PASSES: Limit = Limit::new(Count, Incl(1.0), Incl(1000.0));

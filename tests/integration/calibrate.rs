@@ -811,6 +811,59 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
     );
     assert!(page.body.contains("launch temperature, °"), "no heat chart");
 
+    // The launch preview's next pass, 20 min later: the plate this launch heated, cooled by
+    // Newton's law, and the line's μ at that temperature [derived: μ = 0.32 − 0.0002·(θ − 25)].
+    let client = app.login("sam").await;
+    let next = "/tune?next_pass=1&next_after_min=20";
+    let without_car = client.get(&format!("/builds/{id}{next}")).await;
+    assert!(!without_car.body.contains("Next pass, 20 min later"));
+    let car = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json()["car_id"]
+        .clone();
+    let launch_car = json!({"description": "two-door, 7.2 L V8, 4-speed",
+        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]], "weight_kg": 1500.0,
+        "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "tire_diameter_mm": 760.0,
+        "launch_rpm": 5000.0});
+    let r = app
+        .api("PUT", &format!("/api/v1/cars/{car}"), t, Some(launch_car))
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let page = client.get(&format!("/builds/{id}{next}")).await;
+    assert!(
+        page.body.contains("Next pass, 20 min later"),
+        "{}",
+        page.body
+    );
+    let words = page.body[page
+        .body
+        .find("plate at about ")
+        .expect("plate temperature")..]
+        .to_string();
+    let theta_shown: f64 = words["plate at about ".len()..]
+        .split_whitespace()
+        .next()
+        .and_then(|n| n.parse().ok())
+        .expect("a temperature");
+    let theta_c = if words.contains("°F") {
+        (theta_shown - 32.0) * 5.0 / 9.0
+    } else {
+        theta_shown
+    };
+    assert!(theta_c > 30.0, "warmer than the start: {words}");
+    let mu_shown: f64 = words[words.find("μ ").unwrap() + "μ ".len()..]
+        .split_whitespace()
+        .next()
+        .and_then(|n| n.parse().ok())
+        .expect("a μ");
+    // The shown temperature is rounded to a whole degree: μ within 0.0002 × 1 K of the line.
+    let expected = 0.32 - 0.0002 * (theta_c - 25.0);
+    assert!(
+        (mu_shown - expected).abs() <= 0.0005 + 0.0002,
+        "{mu_shown} against {expected}"
+    );
+
     // A badly written time of day is refused with the field named.
     let bad = json!({"run_on": "2026-10-09", "run_at": "25:00"});
     let r = app

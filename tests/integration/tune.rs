@@ -708,3 +708,25 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
     );
     assert!(page.body.contains("this pass reads low"));
 }
+
+/// The next pass's preview needs the friction-against-heat line; without it the form says why
+/// beside the minutes, and no column is added.
+#[tokio::test]
+async fn the_next_pass_needs_the_friction_against_heat_line() {
+    let app = TestApp::demo().await;
+    let client = app.login_demo().await;
+    let page = client
+        .get("/builds/1/tune?next_pass=1&next_after_min=20")
+        .await;
+    assert_eq!(page.status, StatusCode::OK);
+    let msg = message_of(&page.body, "next_after_min");
+    assert!(
+        msg.starts_with("needs the friction-against-heat line first"),
+        "{msg}"
+    );
+    assert!(!page.body.contains("Next pass, 20 min later"));
+    let bad = client
+        .get("/builds/1/tune?next_pass=1&next_after_min=soon")
+        .await;
+    assert_eq!(message_of(&bad.body, "next_after_min"), "enter a number");
+}

@@ -4,9 +4,10 @@
 
 use crate::model::Trial;
 use crate::model::as_of::BuildAsOf;
-use crate::model::launch::{LaunchPlan, SixtyFtCheck};
+use crate::model::launch::{LaunchPlan, PLATE_START_C, SixtyFtCheck};
 use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::show::Show;
+use clutch::heat::{DEFAULT_TAU_S, HeatFit, cooled_c};
 use clutch::launch::request::{LaunchReport, describe};
 use clutch::launch::simulation::LaunchRun;
 use clutch::launch::target::{Grid, LaunchTarget, NotClean, find_counterweight};
@@ -351,6 +352,45 @@ pub fn column(
         setting: setting_text(u, trial.adjuster_turns, trial.counterweight_g, rpm),
         result,
     }
+}
+
+/// The current setup's next pass `minutes` after the one of `current` (its column): the plate
+/// heated by that launch's bulk rise and cooled toward the start temperature by Newton's law
+/// (time constant [`DEFAULT_TAU_S`], a shop default from memory), and the friction the fitted
+/// μ-against-temperature line gives there (docs/engineering.md §27). `None` when the current
+/// launch could not run.
+pub fn next_pass_column(
+    facts: &BuildAsOf,
+    current: &LaunchColumn,
+    trial: Trial,
+    fit: &HeatFit,
+    minutes: f64,
+    recorded_sixty_ft: &[f64],
+    u: Units,
+) -> Option<LaunchColumn> {
+    let rise = current.result.as_ref().ok()?.plate_rise_k;
+    let start = PLATE_START_C;
+    let theta = cooled_c(start + rise, start, minutes * 60.0, DEFAULT_TAU_S);
+    let mu = fit.mu_at(theta);
+    let title = format!("Next pass, {minutes:.0} min later");
+    let mut column = column(
+        facts,
+        &title,
+        Trial {
+            mu: Some(mu),
+            ..trial
+        },
+        None,
+        recorded_sixty_ft,
+        u,
+    );
+    column.setting = format!(
+        "{}; plate at about {} after {rise:.0} K of this launch cooled {minutes:.0} min, so {} by the friction-against-heat line",
+        column.setting,
+        Kind::Temperature.show(u, theta),
+        Show::new(u).mu(mu)
+    );
+    Some(column)
 }
 
 /// The current setup's turns with the counterweight (1 g steps, 0–120 g) that meets `target`

@@ -295,6 +295,7 @@ async fn render_tune(
                     recommendation: &recommendation,
                     recommended_from,
                     recorded_sixty_ft: &recorded_sixty_ft,
+                    heat: heat.as_ref().map(|h| &h.fit),
                 },
             );
             crate::web::pages::builds::launch::draw(&mut launch);
@@ -343,6 +344,8 @@ struct Asked<'a> {
     recommendation: &'a Option<Recommendation>,
     recommended_from: Trial,
     recorded_sixty_ft: &'a [f64],
+    /// The μ-against-temperature line, or why there is none (for the next pass's column).
+    heat: Option<&'a Result<clutch::heat::HeatFit, String>>,
 }
 
 /// The launch preview columns: the current setup from the car's launch speed, and beside it the
@@ -362,6 +365,7 @@ fn launch_columns(
         recommendation,
         recommended_from,
         recorded_sixty_ft,
+        heat,
     } = asked;
     let units = ctx.units;
     let tried_rpm = if form.get("try") == "1" && !form.get("launch_rpm").is_empty() {
@@ -408,6 +412,41 @@ fn launch_columns(
         recorded_sixty_ft,
         units,
     )];
+    if form.get("next_pass") == "1" {
+        let minutes = field::number(
+            form,
+            "next_after_min",
+            limits::NEXT_PASS_MINUTES,
+            units,
+            errors,
+        );
+        if let Some(minutes) = minutes {
+            match heat {
+                Some(Ok(fit)) => {
+                    if let Some(next) = crate::web::pages::builds::launch::next_pass_column(
+                        facts,
+                        &columns[0],
+                        current_trial,
+                        fit,
+                        minutes,
+                        recorded_sixty_ft,
+                        units,
+                    ) {
+                        columns.push(next);
+                    }
+                }
+                Some(Err(why)) => errors.add(
+                    "next_after_min",
+                    format!("needs the friction-against-heat line first: {why}"),
+                ),
+                None => errors.add(
+                    "next_after_min",
+                    "needs the friction-against-heat line first, from a calibration",
+                ),
+            }
+        }
+        return columns;
+    }
     if let Some(target) = target {
         columns.push(crate::web::pages::builds::launch::target_column(
             facts,
