@@ -537,6 +537,62 @@ async fn the_build_page_shows_the_forecast_by_slip_energy_the_api_gives_on_the_d
         full >= 1,
         "a demo build shows a full forecast by slip energy"
     );
+    // The counter's due lines that give a figure by slip energy give the API's.
+    let front = client.get("/").await.body;
+    let mut on_counter = 0;
+    for row in due_section(&front).split("<tr>").skip(2) {
+        let n = number_before(row, " by slip energy)");
+        if n.is_none() {
+            continue;
+        }
+        let at = row
+            .find("href=\"/builds/")
+            .expect("the line links its build")
+            + 15;
+        let id: i64 = row[at..at + row[at..].find('"').unwrap_or(0)]
+            .parse()
+            .expect("a build id");
+        let api = app
+            .api(
+                "GET",
+                &format!("/api/v1/builds/{id}/wear"),
+                Some(&token),
+                None,
+            )
+            .await
+            .json();
+        assert_counter_matches_api(row, n, &api);
+        on_counter += 1;
+    }
+    eprintln!("demo counter lines by slip energy: {on_counter}");
+}
+
+/// The counter's due line for `customer`, and the passes it gives by slip energy (None when
+/// it gives none).
+async fn counter_line(
+    client: &crate::support::Client<'_>,
+    customer: &str,
+) -> (String, Option<f64>) {
+    let front = client.get("/").await.body;
+    let due = due_section(&front);
+    let at = due.find(customer).expect("the build is on the due list");
+    let end = at + due[at..].find("</tr>").unwrap_or(due.len() - at);
+    let start = due[..at].rfind("<tr").unwrap_or(0);
+    let line = due[start..end].to_string();
+    let n = number_before(&line, " by slip energy)");
+    (line, n)
+}
+
+/// The counter's figure by energy against the API's for the line's own forecast (shim or disc).
+#[track_caller]
+fn assert_counter_matches_api(line: &str, n: Option<f64>, api: &serde_json::Value) {
+    let key = if line.contains("to the next shim") {
+        "passes_to_shim_due_by_energy"
+    } else {
+        "passes_to_disc_due_by_energy"
+    };
+    let want = api[key].as_f64().expect("the API gives the figure").round();
+    assert_eq!(n, Some(want), "{line}");
 }
 
 // The forecast by energy is the remaining wear R over (wear per MJ w × energy per pass E), so
@@ -584,6 +640,14 @@ async fn a_setting_taking_more_energy_per_pass_shows_a_proportionally_shorter_fo
         }
     };
     let (first, first_api) = read().await;
+    // The counter lists the build once its forecast falls within the shop's window (widened
+    // here, before the counter is first drawn: the window is read when the list is).
+    sqlx::query("UPDATE shop_settings SET due_within_passes = 200")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let (line, n) = counter_line(&client, "Oren Vasquez-Lind").await;
+    assert_counter_matches_api(&line, n, &first_api);
     // More counterweight: more clamp at speed, a shorter slip, less energy per pass.
     let r = app
         .api(
@@ -596,6 +660,12 @@ async fn a_setting_taking_more_energy_per_pass_shows_a_proportionally_shorter_fo
         .await;
     assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
     let (second, second_api) = read().await;
+    let (line, n2_counter) = counter_line(&client, "Oren Vasquez-Lind").await;
+    assert_counter_matches_api(&line, n2_counter, &second_api);
+    assert!(
+        n2_counter.unwrap_or(0.0) > n.unwrap_or(f64::MAX),
+        "less energy a pass, a longer forecast on the counter: {line}"
+    );
     assert_eq!(
         first_api["wear_per_mj"], second_api["wear_per_mj"],
         "the fit does not move"
