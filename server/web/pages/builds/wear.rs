@@ -141,6 +141,15 @@ pub fn by_energy(u: &Show, r: &WearReport, e: &Result<EnergyForecast, EnergyGap>
         u.len(e.fit.per_mj * 100.0),
         counted(e.fit.n as f64, "interval", "intervals")
     );
+    // Passes the cover heights count but nobody recorded took energy the fit never saw.
+    let rate = if (e.passes_recorded as i64) < e.passes_counted {
+        format!(
+            "{rate} ({} recorded of the {} the cover heights count: it reads high)",
+            e.passes_recorded, e.passes_counted
+        )
+    } else {
+        rate
+    };
     let energy = match &e.energy_per_pass_j {
         Ok(j) => *j,
         Err(why) => return format!("{rate}; no figure per pass at the current setting: {why}"),
