@@ -130,14 +130,12 @@ pub fn by_energy(u: &Show, r: &WearReport, e: &Result<EnergyForecast, EnergyGap>
     if e.fit.per_mj <= 0.0 {
         return "By slip energy: no measurable wear yet: no forecast.".into();
     }
-    let range = e
-        .fit
-        .ci95
-        .map_or("one interval, so no range".into(), |[lo, hi]| {
-            format!("95 %: {} to {}", u.len(lo * 100.0), u.len(hi * 100.0))
-        });
+    // One interval has no spread to give a range from: its count says so.
+    let range = e.fit.ci95.map_or(String::new(), |[lo, hi]| {
+        format!(" (95 %: {} to {})", u.len(lo * 100.0), u.len(hi * 100.0))
+    });
     let rate = format!(
-        "By slip energy: {} per 100 MJ ({range}), from {}",
+        "By slip energy: {} per 100 MJ{range}, from {}",
         u.len(e.fit.per_mj * 100.0),
         counted(e.fit.n as f64, "interval", "intervals")
     );
