@@ -13,6 +13,7 @@ use crate::db;
 use crate::db::status::{BuildStatus, Listed};
 use crate::model::as_of::bench_review;
 use crate::model::due::{Due, DueReason, soonest};
+use crate::model::energy::energy_forecast;
 use crate::model::wear::wear_request;
 use crate::records::build::BuildInput;
 use crate::records::settings::SettingsInput;
@@ -100,7 +101,9 @@ pub fn lines(row: &Listed, status: &BuildStatus, window: i64) -> Vec<Due> {
     out
 }
 
-/// Works out one build's status from its stored history (None when there is no such build).
+/// Works out one build's status from its stored history (None when there is no such build),
+/// with its forecast by slip energy (`model::energy::energy_forecast`, launch previews: the
+/// reason it is kept rather than worked out per counter view).
 pub async fn work_out(
     conn: &mut SqliteConnection,
     build_id: i64,
@@ -111,7 +114,14 @@ pub async fn work_out(
     };
     let heights = db::heights::for_build(conn, build_id).await?;
     let bench = db::bench::for_build(conn, build_id).await?;
-    Ok(Some(of_history(&build.data, &heights, &bench, settings)))
+    let mut status = of_history(&build.data, &heights, &bench, settings);
+    if let Some(d) = db::dossier::load(conn, build_id).await?
+        && let Ok(e) = energy_forecast(&d, settings)
+    {
+        status.energy_shim_passes = e.passes_to_shim_due;
+        status.energy_disc_passes = e.passes_to_disc_due;
+    }
+    Ok(Some(status))
 }
 
 /// Works out and stores every build marked stale by this transaction's writes; returns how many.

@@ -18,6 +18,10 @@ pub struct BuildStatus {
     pub sagged: i64,
     /// Springs a first bench test found low on load against their set.
     pub low_springs: i64,
+    /// The forecast by slip energy (`model::energy::energy_forecast`): passes to the next shim
+    /// and to the disc at the current setting's modelled energy per pass.
+    pub energy_shim_passes: Option<f64>,
+    pub energy_disc_passes: Option<f64>,
 }
 
 impl BuildStatus {
@@ -49,7 +53,8 @@ pub struct Listed {
 pub const LISTED_SQL: &str = "SELECT s.build_id, b.label AS build_label, c.id AS customer_id,
         c.name AS customer_name, c.phone AS customer_phone, k.description AS car_description,
         s.stale, s.wear, s.next_shim_mm, s.soon_passes, s.soon_disc, s.springs_flagged,
-        s.spread_pct, s.out_of_tolerance, s.sagged, s.low_springs
+        s.spread_pct, s.out_of_tolerance, s.sagged, s.low_springs, s.energy_shim_passes,
+        s.energy_disc_passes
      FROM build_status s CROSS JOIN builds b ON b.id = s.build_id
      CROSS JOIN cars k ON k.id = b.car_id CROSS JOIN customers c ON c.id = k.customer_id
      WHERE (s.urgent = 1 OR s.soon_passes <= ?) AND b.status = 'active' AND c.deleted_at IS NULL";
@@ -98,11 +103,13 @@ pub async fn store(
 ) -> sqlx::Result<()> {
     sqlx::query(
         "INSERT INTO build_status (build_id, stale, wear, next_shim_mm, soon_passes, soon_disc,
-             springs_flagged, spread_pct, out_of_tolerance, sagged, urgent, low_springs)
-         VALUES (?1, 0, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)
+             springs_flagged, spread_pct, out_of_tolerance, sagged, urgent, low_springs,
+             energy_shim_passes, energy_disc_passes)
+         VALUES (?1, 0, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13)
          ON CONFLICT (build_id) DO UPDATE SET stale = 0, wear = ?2, next_shim_mm = ?3,
              soon_passes = ?4, soon_disc = ?5, springs_flagged = ?6, spread_pct = ?7,
-             out_of_tolerance = ?8, sagged = ?9, urgent = ?10, low_springs = ?11",
+             out_of_tolerance = ?8, sagged = ?9, urgent = ?10, low_springs = ?11,
+             energy_shim_passes = ?12, energy_disc_passes = ?13",
     )
     .bind(build_id)
     .bind(&s.wear)
@@ -115,7 +122,32 @@ pub async fn store(
     .bind(s.sagged)
     .bind(s.urgent())
     .bind(s.low_springs)
+    .bind(s.energy_shim_passes)
+    .bind(s.energy_disc_passes)
     .execute(conn)
     .await?;
     Ok(())
+}
+
+/// The kept forecast by slip energy of `build_ids`: (build, passes to the next shim, passes to
+/// the disc), for the builds that have a status row.
+pub async fn energy_forecasts(
+    conn: &mut SqliteConnection,
+    build_ids: &[i64],
+) -> sqlx::Result<Vec<(i64, Option<f64>, Option<f64>)>> {
+    let ids = format!(
+        "[{}]",
+        build_ids
+            .iter()
+            .map(i64::to_string)
+            .collect::<Vec<_>>()
+            .join(",")
+    );
+    sqlx::query_as(
+        "SELECT build_id, energy_shim_passes, energy_disc_passes FROM build_status
+         WHERE build_id IN (SELECT value FROM json_each(?))",
+    )
+    .bind(ids)
+    .fetch_all(conn)
+    .await
 }

@@ -3,9 +3,9 @@
 
 use std::collections::HashMap;
 
-use super::Trial;
 use super::as_of::BuildAsOf;
 use super::wear::current_disc;
+use super::{Missing, Trial};
 use crate::records::settings::SettingsInput;
 use crate::records::stored::{Dossier, Pass};
 use clutch::wear::{EnergyWear, passes_to_due};
@@ -18,49 +18,80 @@ pub struct EnergyForecast {
     /// energy.
     pub fit: EnergyWear,
     /// The current setting's modelled slip energy per pass, J (the launch preview's, when it
-    /// locks).
-    pub energy_per_pass_j: Option<f64>,
+    /// locks), or why there is none.
+    pub energy_per_pass_j: Result<f64, Missing>,
     /// Passes until a shim is due at that energy per pass.
     pub passes_to_shim_due: Option<f64>,
     /// Passes until the disc is due at that energy per pass.
     pub passes_to_disc_due: Option<f64>,
+    /// Over the intervals fitted: the passes recorded in them, and the passes their cover
+    /// heights count. Fewer recorded than counted leaves energy out, so the fit reads high.
+    pub passes_recorded: usize,
+    pub passes_counted: i64,
+}
+
+/// Why a build has no forecast by slip energy.
+#[derive(Debug, Clone, PartialEq)]
+pub enum EnergyGap {
+    /// The disc's wear cannot be analysed (the wear panel says why).
+    NoWear(Missing),
+    /// No pass is dated between two cover heights of the disc in the clutch.
+    NoInterval,
+    /// Every interval has a pass of unknown energy: no data log, and the launch preview of its
+    /// setting could not run (the first reason it gave) or did not lock.
+    UnknownEnergy(Option<Missing>),
 }
 
 /// The slip energy of a launch of `build` at `trial` from `launch_rpm` (the car's when `None`),
-/// J, by the launch preview; `None` when the preview cannot run or does not lock.
-fn modelled_energy_j(build: &BuildAsOf, trial: Trial, launch_rpm: Option<f64>) -> Option<f64> {
-    let plan = build.launch_request(trial, launch_rpm).ok()?;
-    let run = plan.request.validate().ok()?.model.simulate();
-    run.lockup.map(|_| run.slip_energy_j)
+/// J, by the launch preview; why not when the preview cannot run or does not lock.
+fn modelled_energy_j(
+    build: &BuildAsOf,
+    trial: Trial,
+    launch_rpm: Option<f64>,
+) -> Result<f64, Missing> {
+    let plan = build.launch_request(trial, launch_rpm)?;
+    let model = plan.request.validate().map_err(|e| e.message)?.model;
+    let run = model.simulate();
+    run.lockup
+        .map(|_| run.slip_energy_j)
+        .ok_or_else(|| "The launch preview at this setting does not lock up.".into())
 }
 
 /// Wear per unit of slip energy on the disc in the clutch (docs/engineering.md §13): between
 /// consecutive cover heights, the growth in total wear against the slip energy of the passes
 /// dated after the earlier measurement and on or before the later one, each from its data log,
 /// else from the launch preview at the setting of its date; intervals with a pass of unknown
-/// energy, or with no pass, are left out. `None` without an interval to fit.
-pub fn energy_forecast(d: &Dossier, settings: &SettingsInput) -> Option<EnergyForecast> {
+/// energy, or with no pass, are left out. Without an interval to fit, why.
+pub fn energy_forecast(d: &Dossier, settings: &SettingsInput) -> Result<EnergyForecast, EnergyGap> {
     let now = BuildAsOf::now(d, settings);
-    let req = now.wear().ok()?;
-    let report = clutch::wear::analyze(&req).ok()?;
+    let req = now.wear().map_err(EnergyGap::NoWear)?;
+    let report = clutch::wear::analyze(&req)
+        .map_err(|e| EnergyGap::NoWear(format!("{}: {}", e.field, e.message)))?;
     let heights = current_disc(&d.heights);
     // The launch preview of a date's setting from a launch speed, worked out once.
-    let mut modelled: HashMap<(String, Option<u64>), Option<f64>> = HashMap::new();
-    let mut energy_of = |pass: &Pass| -> Option<f64> {
+    let mut modelled: HashMap<(String, Option<u64>), Result<f64, Missing>> = HashMap::new();
+    let mut energy_of = |pass: &Pass| -> Result<f64, Missing> {
         if let Some(e) = d.log_of(pass.id).and_then(|l| l.slip_energy_j) {
-            return Some(e);
+            return Ok(e);
         }
         let key = (
             pass.data.run_on.clone(),
             pass.data.launch_rpm.map(f64::to_bits),
         );
-        *modelled.entry(key).or_insert_with(|| {
-            let at = BuildAsOf::on(d, settings, &pass.data.run_on);
-            at.setup?;
-            modelled_energy_j(&at, at.trial, pass.data.launch_rpm)
-        })
+        modelled
+            .entry(key)
+            .or_insert_with(|| {
+                let at = BuildAsOf::on(d, settings, &pass.data.run_on);
+                at.setup
+                    .ok_or("No setup was in force on the pass's date.")?;
+                modelled_energy_j(&at, at.trial, pass.data.launch_rpm)
+            })
+            .clone()
     };
     let mut intervals = Vec::new();
+    let mut with_passes = 0;
+    let (mut passes_recorded, mut passes_counted) = (0, 0);
+    let mut why_unknown = None;
     for (k, pair) in heights.windows(2).enumerate() {
         let (from, to) = (&pair[0].data.measured_on, &pair[1].data.measured_on);
         let passes: Vec<&Pass> = d
@@ -71,25 +102,41 @@ pub fn energy_forecast(d: &Dossier, settings: &SettingsInput) -> Option<EnergyFo
         if passes.is_empty() {
             continue;
         }
-        let energy: Option<f64> = passes.iter().map(|p| energy_of(p)).sum();
+        with_passes += 1;
+        let energy: Result<f64, Missing> = passes.iter().map(|p| energy_of(p)).sum();
         let growth = report.measurements[k + 1].total_wear - report.measurements[k].total_wear;
-        if let Some(e) = energy {
-            intervals.push((growth, e));
+        match energy {
+            Ok(e) => {
+                intervals.push((growth, e));
+                passes_recorded += passes.len();
+                passes_counted += pair[1].data.passes - pair[0].data.passes;
+            }
+            Err(why) => {
+                why_unknown.get_or_insert(why);
+            }
         }
     }
-    let fit = clutch::wear::wear_per_mj(&intervals)?;
+    let gap = if with_passes == 0 {
+        EnergyGap::NoInterval
+    } else {
+        EnergyGap::UnknownEnergy(why_unknown)
+    };
+    let fit = clutch::wear::wear_per_mj(&intervals).ok_or_else(|| gap.clone())?;
     let energy_per_pass_j = modelled_energy_j(&now, now.trial, None);
-    let last = report.measurements.last()?;
+    let last = report.measurements.last().ok_or(gap)?;
     let pulled = heights
         .last()
         .map_or(0, |h| h.data.shims_pulled.max(0) as u32);
-    let (passes_to_shim_due, passes_to_disc_due) = energy_per_pass_j.map_or((None, None), |e| {
-        passes_to_due(&req, last, pulled, fit.per_mj * e / 1e6)
-    });
-    Some(EnergyForecast {
+    let (passes_to_shim_due, passes_to_disc_due) =
+        energy_per_pass_j.as_ref().map_or((None, None), |e| {
+            passes_to_due(&req, last, pulled, fit.per_mj * e / 1e6)
+        });
+    Ok(EnergyForecast {
         fit,
         energy_per_pass_j,
         passes_to_shim_due,
         passes_to_disc_due,
+        passes_recorded,
+        passes_counted,
     })
 }

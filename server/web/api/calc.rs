@@ -143,7 +143,7 @@ pub async fn build_wear(
     // The forecast by energy runs launch previews: off the async workers.
     let energy = state
         .heavy
-        .run(move || energy_forecast(&dossier, &settings))
+        .run(move || energy_forecast(&dossier, &settings).ok())
         .await?;
     Ok(Json(BuildWear {
         report,

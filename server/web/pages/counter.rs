@@ -1,5 +1,7 @@
 //! The counter's front page: find a customer fast, see what happened lately, and the work due.
 
+use std::collections::HashMap;
+
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
 use axum::response::Html;
@@ -30,11 +32,30 @@ pub struct FrontPage {
     pub found_total: i64,
     pub recent: Vec<Activity>,
     pub due: Vec<Due>,
+    /// The kept forecast by slip energy of the listed builds: passes to the next shim and to
+    /// the disc (`build_status`, worked out with the status: no launch preview runs here).
+    pub by_energy: HashMap<i64, (Option<f64>, Option<f64>)>,
     /// Admins only: backups not scheduled, failing or old (see `backup::counter_notice`).
     pub backup_notice: Option<CounterNotice>,
 }
 
 impl FrontPage {
+    /// The forecast by slip energy beside the per-pass one, when kept for the build: " (about
+    /// 40 by slip energy)".
+    fn energy_note(&self, build_id: i64, disc: bool) -> String {
+        self.by_energy
+            .get(&build_id)
+            .and_then(|(shim, to_disc)| if disc { *to_disc } else { *shim })
+            .map_or_else(String::new, |n| {
+                format!(" (about {} by slip energy)", Self::whole(n))
+            })
+    }
+
+    /// A pass count as `counted` rounds it.
+    fn whole(n: f64) -> String {
+        format!("{:.0}", n.round())
+    }
+
     /// (CSS class, status word with its shape, what to do) for a line of the due list.
     pub fn due_text(&self, d: &Due) -> (&'static str, &'static str, String) {
         let u = &self.page.u;
@@ -63,8 +84,9 @@ impl FrontPage {
                     s.class(),
                     s.word(),
                     format!(
-                        "About {} to the next shim.",
-                        counted(*passes, "pass", "passes")
+                        "About {} to the next shim{}.",
+                        counted(*passes, "pass", "passes"),
+                        self.energy_note(d.build_id, false)
                     ),
                 )
             }
@@ -77,8 +99,9 @@ impl FrontPage {
                     s.class(),
                     s.word(),
                     format!(
-                        "About {} until the disc is due.",
-                        counted(*passes, "pass", "passes")
+                        "About {} until the disc is due{}.",
+                        counted(*passes, "pass", "passes"),
+                        self.energy_note(d.build_id, true)
                     ),
                 )
             }
@@ -157,6 +180,12 @@ async fn render_front(
     };
     let recent = db::activity::recent(conn, 12).await?;
     let due = status::work_due(conn, &settings).await?;
+    let ids: Vec<i64> = due.iter().map(|d| d.build_id).collect();
+    let by_energy = db::status::energy_forecasts(conn, &ids)
+        .await?
+        .into_iter()
+        .map(|(id, shim, disc)| (id, (shim, disc)))
+        .collect();
     let zone = page.zone.clone();
     let backup_notice = counter_notice(backups, user, &zone);
     let page = FrontPage {
@@ -166,6 +195,7 @@ async fn render_front(
         found_total,
         recent,
         due,
+        by_energy,
         backup_notice,
     };
     Ok((page.render()?, zone))

@@ -21,6 +21,7 @@ const SECOND: u32 = 4;
 fn pages() -> Vec<String> {
     vec![
         "/builds/1".into(),
+        "/builds/4".into(),
         "/builds/1/tune".into(),
         "/builds/4/tune?recommend=1&target_lockup=3300".into(),
         format!("/passes/{LOGGED}"),
@@ -212,6 +213,14 @@ async fn charts_and_tables_fit_their_cards_and_stay_readable_at_820_and_1366_px(
                 assert!(px >= 10.99, "{path} at {w} px: {caption:?} text {px:.2} px");
             }
         }
+        // The counter (its due list carries the forecasts by slip energy) keeps to its cards.
+        harness::set_viewport(&c, w, h).await;
+        c.goto(&format!("{base}/")).await.unwrap();
+        harness::expect_text(&c, "Lockpoint").await;
+        whole_page(&c, &shots, "counter", w).await;
+        harness::set_viewport(&c, w, h).await;
+        let past = overflowing(&c).await;
+        assert!(past.is_empty(), "the counter at {w} px: {past:#?}");
         // The tuning page's recommendation lists other settings, and the pass page compares.
         c.goto(&format!(
             "{base}/builds/4/tune?recommend=1&target_lockup=3300"

@@ -1,6 +1,8 @@
 //! Build pages: the build's page (hardware, current setup, bench tests, cover heights, passes,
 //! each with a quick entry form), and the new / edit form for its hardware.
 
+use std::sync::Arc;
+
 use askama::Template;
 use axum::extract::State;
 use axum::http::StatusCode;
@@ -13,6 +15,7 @@ use crate::error::{AppError, AppResult};
 use crate::model::Figures;
 use crate::model::as_of::{BuildAsOf, Friction, bench_review};
 use crate::model::due::WorkStatus;
+use crate::model::energy::energy_forecast;
 use crate::model::wear::{DiscPasses, current_disc, disc_passes};
 use crate::records::build::BuildInput;
 use crate::records::date::ShopZone;
@@ -31,6 +34,7 @@ use crate::web::AppState;
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
 use crate::web::http::flash::{self, Flash};
+use crate::web::http::heavy::{Caller, Heavy};
 use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
 use crate::web::pages::builds::wear::{self, WearFigures, WearView};
 use crate::web::pages::chart::{Chart, Size};
@@ -366,6 +370,7 @@ pub const RECENT_ROWS: usize = 20;
 /// Renders a build's page; `forms` carries any entry form that failed its checks (422).
 /// Answers the page and the shop's zone it was rendered in.
 pub async fn render_page(
+    heavy: &Arc<Heavy>,
     conn: &mut SqliteConnection,
     user: &Viewer,
     id: i64,
@@ -396,6 +401,11 @@ pub async fn render_page(
         .as_ref()
         .ok()
         .map(|f| capacity_chart(Size::Wide, &page.u, &f.report, None));
+    // The forecast by slip energy runs launch previews: heavy work (the page is kept in the
+    // page cache until the next write).
+    let energy = heavy
+        .here(&Caller(None), || energy_forecast(&d, &settings))
+        .await?;
     let wear = now.wear().and_then(|req| {
         clutch::wear::analyze(&req)
             .map(|report| {
@@ -405,6 +415,7 @@ pub async fn render_page(
                     &d.heights,
                     req.shimming_limit,
                     settings.due_within_passes,
+                    &energy,
                 )
             })
             .map_err(|e| format!("{}: {}", e.field, e.message))
@@ -519,12 +530,14 @@ pub async fn show(
             flash: flash.note.clone(),
             ..EntryForms::default()
         };
-        render_page(&mut conn, &user.viewer(), id, forms).await?.0
+        render_page(&state.heavy, &mut conn, &user.viewer(), id, forms)
+            .await?
+            .0
     } else {
-        let pool = &state.pool;
+        let (pool, heavy) = (&state.pool, &state.heavy);
         let render = |stand_in: Viewer| async move {
             let mut conn = pool.acquire().await?;
-            render_page(&mut conn, &stand_in, id, EntryForms::default()).await
+            render_page(heavy, &mut conn, &stand_in, id, EntryForms::default()).await
         };
         state.cache.page(PageKey::Build(id), &user, render).await?
     };

@@ -2,6 +2,7 @@
 //! chart and the measurement table.
 
 use crate::model::due::WorkStatus;
+use crate::model::energy::{EnergyForecast, EnergyGap};
 use crate::model::wear::current_disc;
 use crate::records::stored::Height;
 use crate::web::pages::chart::Chart;
@@ -21,6 +22,8 @@ pub struct WearView {
     pub headline: String,
     /// The forecast in words ("about 35 passes to the next shim").
     pub forecast: Vec<String>,
+    /// The forecast by slip energy in one line, or why there is none.
+    pub by_energy: String,
     pub chart: Chart,
     /// Per measurement, newest disc last: the record and, on the disc in the clutch now, its
     /// (growth, total wear, clamp lost) figures.
@@ -100,6 +103,80 @@ pub fn forecast(u: &Show, r: &WearReport) -> Vec<String> {
     out
 }
 
+/// The forecast by slip energy in one line (`model::energy::energy_forecast`, the figures
+/// `GET /api/v1/builds/{id}/wear` answers), or why there is none. Wear per 100 MJ, as the
+/// per-pass rate is read per 100 passes: per MJ it rounds away at the shop's decimals.
+pub fn by_energy(u: &Show, r: &WearReport, e: &Result<EnergyForecast, EnergyGap>) -> String {
+    let e = match e {
+        Ok(e) => e,
+        Err(EnergyGap::NoWear(why)) => return format!("By slip energy: no forecast ({why})."),
+        Err(EnergyGap::NoInterval) => {
+            return "By slip energy: no forecast until passes are recorded between two cover \
+                    heights of this disc."
+                .into();
+        }
+        Err(EnergyGap::UnknownEnergy(Some(why))) => {
+            return format!(
+                "By slip energy: no forecast; passes without a data log need the launch \
+                 preview: {why}"
+            );
+        }
+        Err(EnergyGap::UnknownEnergy(None)) => {
+            return "By slip energy: no forecast; no interval between cover heights has a \
+                    known slip energy for every pass."
+                .into();
+        }
+    };
+    if e.fit.per_mj <= 0.0 {
+        return "By slip energy: no measurable wear yet: no forecast.".into();
+    }
+    // One interval has no spread to give a range from: its count says so.
+    let range = e.fit.ci95.map_or(String::new(), |[lo, hi]| {
+        format!(" (95 %: {} to {})", u.len(lo * 100.0), u.len(hi * 100.0))
+    });
+    let rate = format!(
+        "By slip energy: {} per 100 MJ{range}, from {}",
+        u.len(e.fit.per_mj * 100.0),
+        counted(e.fit.n as f64, "interval", "intervals")
+    );
+    // Passes the cover heights count but nobody recorded took energy the fit never saw.
+    let rate = if (e.passes_recorded as i64) < e.passes_counted {
+        format!(
+            "{rate} ({} recorded of the {} the cover heights count: it reads high)",
+            e.passes_recorded, e.passes_counted
+        )
+    } else {
+        rate
+    };
+    let energy = match &e.energy_per_pass_j {
+        Ok(j) => *j,
+        Err(why) => return format!("{rate}; no figure per pass at the current setting: {why}"),
+    };
+    let shim = e
+        .passes_to_shim_due
+        .filter(|_| r.status == WearStatus::Ok && r.next_shim.is_some());
+    let disc = e
+        .passes_to_disc_due
+        .filter(|_| r.status != WearStatus::DiscDue);
+    let ahead = match (shim, disc) {
+        (Some(s), Some(d)) => format!(
+            "about {} to the next shim and {} until the disc is due",
+            counted(s, "pass", "passes"),
+            counted(d, "pass", "passes")
+        ),
+        (Some(s), None) => format!("about {} to the next shim", counted(s, "pass", "passes")),
+        (None, Some(d)) => format!(
+            "about {} until the disc is due",
+            counted(d, "pass", "passes")
+        ),
+        (None, None) => "no forecast past the limit already reached".into(),
+    };
+    format!(
+        "{rate}; at the current setting's {} a pass, {ahead}.",
+        u.energy_j(energy)
+    )
+}
+
 /// Builds the view from the analysed report of the current disc (storage units) and all the
 /// build's measurements (earlier discs are kept as history).
 /// The wear panel of a build; `window` is the shop's "due within" passes (for "soon").
@@ -109,6 +186,7 @@ pub fn view(
     heights: &[Height],
     limit_mm: f64,
     window: i64,
+    energy: &Result<EnergyForecast, EnergyGap>,
 ) -> WearView {
     let status = WorkStatus::of_report(Some(&report), false, window);
     let current = current_disc(heights);
@@ -128,6 +206,7 @@ pub fn view(
         headline: headline(u, &report, status),
         status,
         forecast: forecast(u, &report),
+        by_energy: by_energy(u, &report, energy),
         chart: chart(u, &report, current, limit_mm),
         rows,
         report,
