@@ -57,6 +57,46 @@ fn modelled_energy_j(
         .ok_or_else(|| "The launch preview at this setting does not lock up.".into())
 }
 
+/// Each pass's slip energy, J: from its data log, else from the launch preview at the setting
+/// of its date from its launch speed (the car's when it has none); the preview of one date and
+/// launch speed is worked out once.
+pub struct PassEnergies<'a> {
+    d: &'a Dossier,
+    settings: &'a SettingsInput,
+    modelled: HashMap<(String, Option<u64>), Result<f64, Missing>>,
+}
+
+impl<'a> PassEnergies<'a> {
+    pub fn new(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
+        Self {
+            d,
+            settings,
+            modelled: HashMap::new(),
+        }
+    }
+
+    /// The slip energy of `pass`, J, or why it is unknown.
+    pub fn of(&mut self, pass: &Pass) -> Result<f64, Missing> {
+        if let Some(e) = self.d.log_of(pass.id).and_then(|l| l.slip_energy_j) {
+            return Ok(e);
+        }
+        let key = (
+            pass.data.run_on.clone(),
+            pass.data.launch_rpm.map(f64::to_bits),
+        );
+        let (d, settings) = (self.d, self.settings);
+        self.modelled
+            .entry(key)
+            .or_insert_with(|| {
+                let at = BuildAsOf::on(d, settings, &pass.data.run_on);
+                at.setup
+                    .ok_or("No setup was in force on the pass's date.")?;
+                modelled_energy_j(&at, at.trial, pass.data.launch_rpm)
+            })
+            .clone()
+    }
+}
+
 /// Wear per unit of slip energy on the disc in the clutch (docs/engineering.md §13): between
 /// consecutive cover heights, the growth in total wear against the slip energy of the passes
 /// dated after the earlier measurement and on or before the later one, each from its data log,
@@ -68,26 +108,8 @@ pub fn energy_forecast(d: &Dossier, settings: &SettingsInput) -> Result<EnergyFo
     let report = clutch::wear::analyze(&req)
         .map_err(|e| EnergyGap::NoWear(format!("{}: {}", e.field, e.message)))?;
     let heights = current_disc(&d.heights);
-    // The launch preview of a date's setting from a launch speed, worked out once.
-    let mut modelled: HashMap<(String, Option<u64>), Result<f64, Missing>> = HashMap::new();
-    let mut energy_of = |pass: &Pass| -> Result<f64, Missing> {
-        if let Some(e) = d.log_of(pass.id).and_then(|l| l.slip_energy_j) {
-            return Ok(e);
-        }
-        let key = (
-            pass.data.run_on.clone(),
-            pass.data.launch_rpm.map(f64::to_bits),
-        );
-        modelled
-            .entry(key)
-            .or_insert_with(|| {
-                let at = BuildAsOf::on(d, settings, &pass.data.run_on);
-                at.setup
-                    .ok_or("No setup was in force on the pass's date.")?;
-                modelled_energy_j(&at, at.trial, pass.data.launch_rpm)
-            })
-            .clone()
-    };
+    let mut energies = PassEnergies::new(d, settings);
+    let mut energy_of = |pass: &Pass| energies.of(pass);
     let mut intervals = Vec::new();
     let mut with_passes = 0;
     let (mut passes_recorded, mut passes_counted) = (0, 0);

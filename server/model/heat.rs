@@ -10,7 +10,9 @@ use clutch::heat::{
 };
 use clutch::launch::request::default_plate_share;
 
-use super::launch::PLATE_SPECIFIC_HEAT;
+use super::energy::PassEnergies;
+use super::launch::{ESTIMATES, PLATE_SPECIFIC_HEAT};
+use crate::records::settings::SettingsInput;
 
 /// Each calibrated pass's launch temperature and μ, and the line through them or why not.
 #[derive(Debug, Clone, PartialEq)]
@@ -24,12 +26,20 @@ pub struct HeatStudy {
 /// The launch temperatures of a build's passes and μ against them, from its calibration.
 ///
 /// Only days on which every pass has its time of day and air temperature are used (a pass
-/// without them would hide heat); a pass's bulk rise is its logged slip energy × the plate's
-/// share / (pressure plate mass × specific heat); τ is the shop default ([`DEFAULT_TAU_S`],
-/// from memory), as the car's record has no cooling figure.
-pub fn study(d: &Dossier, cal: &BuildCalibration) -> HeatStudy {
+/// without them would hide heat); a pass's bulk rise is its slip energy (its data log's, else
+/// the launch preview's at the setting of its date, [`PassEnergies`]) × the plate's share /
+/// (pressure plate mass × specific heat), the mass the car's or the launch preview's estimate;
+/// τ is the shop default ([`DEFAULT_TAU_S`], from memory), as the car's record has no cooling
+/// figure.
+pub fn study(d: &Dossier, settings: &SettingsInput, cal: &BuildCalibration) -> HeatStudy {
     let share = default_plate_share(FacingMaterial::from_key(&d.build.data.facing_material));
-    let plate_kg = d.car.data.pressure_plate_mass_kg;
+    let plate_kg = d.car.data.pressure_plate_mass_kg.or_else(|| {
+        ESTIMATES
+            .iter()
+            .find(|e| e.column == "pressure_plate_mass_kg")
+            .map(|e| e.value)
+    });
+    let mut energies = PassEnergies::new(d, settings);
     let mut passes: Vec<(i64, &str, HeatPass)> = Vec::new();
     let mut broken_days: Vec<&str> = Vec::new();
     for pass in d.passes.iter().rev() {
@@ -39,7 +49,7 @@ pub fn study(d: &Dossier, cal: &BuildCalibration) -> HeatStudy {
             broken_days.push(&p.run_on);
             continue;
         };
-        let energy = d.log_of(pass.id).and_then(|l| l.slip_energy_j);
+        let energy = energies.of(pass).ok();
         let rise_k = energy
             .zip(plate_kg)
             .map(|(e, m)| bulk_rise_k(e, share, m, PLATE_SPECIFIC_HEAT));

@@ -905,3 +905,70 @@ async fn too_little_spread_of_launch_temperature_says_how_much_more() {
     let why = v["mu_vs_temperature_reason"].as_str().unwrap_or_default();
     assert!(why.contains("span 30 K; 20 K more"), "{why}");
 }
+
+// A pass without a data log heats the plate by the launch preview's slip energy at its setting
+// (docs/engineering.md §27): of five passes ten minutes apart on one day at 20 °C air, only the
+// first has a launch temperature while the car lacks the preview's launch fields, and every one
+// once it has them.
+#[tokio::test]
+async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
+    let app = TestApp::new().await;
+    let (id, token) = stored_build(&app).await;
+    let t = Some(token.as_str());
+    let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/builds/{id}/setups"),
+            t,
+            Some(setup),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    for (i, mu) in [0.30, 0.31, 0.32, 0.33, 0.34].into_iter().enumerate() {
+        let body = json!({"run_on": "2026-10-02", "run_at": format!("10:{}0", i),
+                          "ambient_c": 20.0, "observed_lockup_rpm": lockup_for(mu)});
+        let r = app
+            .api(
+                "POST",
+                &format!("/api/v1/builds/{id}/passes"),
+                t,
+                Some(body),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    }
+    let path = format!("/api/v1/builds/{id}/calibration");
+    // Without a rise the day's later passes have no launch temperature: only the first counts.
+    let cold = app.api("GET", &path, t, None).await.json();
+    let why = cold["mu_vs_temperature_reason"]
+        .as_str()
+        .unwrap_or_default();
+    assert!(why.starts_with("1 calibrated pass(es)"), "{cold}");
+    let car = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json()["car_id"]
+        .clone();
+    let launch_car = json!({"description": "two-door, 7.2 L V8, 4-speed",
+        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]], "weight_kg": 1500.0,
+        "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "tire_diameter_mm": 760.0,
+        "launch_rpm": 5000.0});
+    let r = app
+        .api("PUT", &format!("/api/v1/cars/{car}"), t, Some(launch_car))
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    // With the preview's rise every pass has one, each warmer than the one before.
+    let warm = app.api("GET", &path, t, None).await.json();
+    let why = warm["mu_vs_temperature_reason"]
+        .as_str()
+        .unwrap_or_default();
+    let fitted = warm["mu_vs_temperature"]["n"] == 5;
+    let spread: f64 = why
+        .split("span ")
+        .nth(1)
+        .and_then(|t| t.split(' ').next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or(0.0);
+    assert!(fitted || spread > 0.0, "{warm}");
+}

@@ -328,7 +328,7 @@ pub async fn build_calibration(
         .heavy
         .run_for(&caller, move || {
             calibrated(&dossier, &settings, query.fit).map(|c| {
-                let heat = crate::model::heat::study(&dossier, &c);
+                let heat = crate::model::heat::study(&dossier, &settings, &c);
                 BuildCalibrationAnswer {
                     report: c.report,
                     mu_vs_temperature_reason: heat.fit.as_ref().err().cloned(),

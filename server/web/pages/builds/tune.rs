@@ -201,7 +201,10 @@ async fn render_tune(
         .here(caller, move || -> AppResult<(String, ShopZone)> {
             let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
             let calibration = calibration.map_err(|e| e.message);
-            let heat = calibration.as_ref().ok().map(|c| heat::study(&dossier, c));
+            let heat = calibration
+                .as_ref()
+                .ok()
+                .map(|c| heat::study(&dossier, &settings, c));
             let by_launch = by_launch(&dossier, &settings);
             let friction = facts.friction.clone();
             let current_trial = facts.trial;
