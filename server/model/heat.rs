@@ -13,6 +13,7 @@ use clutch::launch::request::default_plate_share;
 use super::energy::PassEnergies;
 use super::launch::{ESTIMATES, PLATE_SPECIFIC_HEAT};
 use crate::records::settings::SettingsInput;
+use clutch::units::Units;
 
 /// Each calibrated pass's launch temperature and μ, and the line through them or why not.
 #[derive(Debug, Clone, PartialEq)]
@@ -84,10 +85,19 @@ pub fn study(d: &Dossier, settings: &SettingsInput, cal: &BuildCalibration) -> H
                  temperature recorded for every pass of their day); {} are needed.",
             clutch::heat::MIN_PASSES
         ),
-        NotFitted::TooLittleSpread { spread_k, more_k } => format!(
-            "The launch temperatures span {spread_k:.0} K; {more_k:.0} K more spread is \
-                 needed (passes closer together, or a cold first pass and hot later ones)."
-        ),
+        NotFitted::TooLittleSpread { spread_k, more_k } => {
+            // A temperature difference in the shop's scale: kelvin, or °F (1 K = 1.8 °F).
+            let apart = |k: f64| match Units::from_key(&settings.units).unwrap_or_default() {
+                Units::Imperial => format!("{:.0} °F", k * 1.8),
+                Units::Metric => format!("{k:.0} K"),
+            };
+            format!(
+                "The launch temperatures span {}; {} more spread is needed (passes closer \
+                 together, or a cold first pass and hot later ones).",
+                apart(spread_k),
+                apart(more_k)
+            )
+        }
     });
     HeatStudy { points, fit }
 }

@@ -903,7 +903,8 @@ async fn too_little_spread_of_launch_temperature_says_how_much_more() {
         .json();
     assert!(v["mu_vs_temperature"].is_null(), "{v}");
     let why = v["mu_vs_temperature_reason"].as_str().unwrap_or_default();
-    assert!(why.contains("span 30 K; 20 K more"), "{why}");
+    // In the test shop's °F: 30 K = 54 °F, 20 K = 36 °F (1 K = 1.8 °F) [derived].
+    assert!(why.contains("span 54 °F; 36 °F more"), "{why}");
 }
 
 // A pass without a data log heats the plate by the launch preview's slip energy at its setting
