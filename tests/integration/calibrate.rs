@@ -746,16 +746,7 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
     let app = TestApp::new().await;
     let (id, token) = stored_build(&app).await;
     let t = Some(token.as_str());
-    let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
-    let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/builds/{id}/setups"),
-            t,
-            Some(setup),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    set_up_2_turns_40_g(&app, id, t).await;
     let path = format!("/api/v1/builds/{id}/calibration");
     let temps = [-5.0, 10.0, 25.0, 40.0, 55.0];
     for (i, theta) in temps.iter().enumerate() {
@@ -817,19 +808,7 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
     let next = "/tune?next_pass=1&next_after_min=20";
     let without_car = client.get(&format!("/builds/{id}{next}")).await;
     assert!(!without_car.body.contains("Next pass, 20 min later"));
-    let car = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
-        .await
-        .json()["car_id"]
-        .clone();
-    let launch_car = json!({"description": "two-door, 7.2 L V8, 4-speed",
-        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]], "weight_kg": 1500.0,
-        "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "tire_diameter_mm": 760.0,
-        "launch_rpm": 5000.0});
-    let r = app
-        .api("PUT", &format!("/api/v1/cars/{car}"), t, Some(launch_car))
-        .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    give_the_car_launch_fields(&app, id, t).await;
     let page = client.get(&format!("/builds/{id}{next}")).await;
     assert!(
         page.body.contains("Next pass, 20 min later"),
@@ -878,14 +857,7 @@ async fn too_little_spread_of_launch_temperature_says_how_much_more() {
     let app = TestApp::new().await;
     let (id, token) = stored_build(&app).await;
     let t = Some(token.as_str());
-    let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
-    app.api(
-        "POST",
-        &format!("/api/v1/builds/{id}/setups"),
-        t,
-        Some(setup),
-    )
-    .await;
+    set_up_2_turns_40_g(&app, id, t).await;
     for (i, theta) in [10.0, 15.0, 20.0, 30.0, 40.0].iter().enumerate() {
         let body = json!({"run_on": format!("2026-10-{:02}", i + 2), "run_at": "09:00",
                           "ambient_c": theta, "observed_lockup_rpm": lockup_for(0.30)});
@@ -916,16 +888,7 @@ async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
     let app = TestApp::new().await;
     let (id, token) = stored_build(&app).await;
     let t = Some(token.as_str());
-    let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
-    let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/builds/{id}/setups"),
-            t,
-            Some(setup),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    set_up_2_turns_40_g(&app, id, t).await;
     for (i, mu) in [0.30, 0.31, 0.32, 0.33, 0.34].into_iter().enumerate() {
         let body = json!({"run_on": "2026-10-02", "run_at": format!("10:{}0", i),
                           "ambient_c": 20.0, "observed_lockup_rpm": lockup_for(mu)});
@@ -946,19 +909,7 @@ async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
         .as_str()
         .unwrap_or_default();
     assert!(why.starts_with("1 calibrated pass(es)"), "{cold}");
-    let car = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
-        .await
-        .json()["car_id"]
-        .clone();
-    let launch_car = json!({"description": "two-door, 7.2 L V8, 4-speed",
-        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]], "weight_kg": 1500.0,
-        "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "tire_diameter_mm": 760.0,
-        "launch_rpm": 5000.0});
-    let r = app
-        .api("PUT", &format!("/api/v1/cars/{car}"), t, Some(launch_car))
-        .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    give_the_car_launch_fields(&app, id, t).await;
     // With the preview's rise every pass has one, each warmer than the one before.
     let warm = app.api("GET", &path, t, None).await.json();
     let why = warm["mu_vs_temperature_reason"]
@@ -972,4 +923,35 @@ async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
         .and_then(|n| n.parse().ok())
         .unwrap_or(0.0);
     assert!(fitted || spread > 0.0, "{warm}");
+}
+
+/// The stored build's setup of 2026-10-01: 2 turns, 40 g.
+async fn set_up_2_turns_40_g(app: &TestApp, id: i64, t: Option<&str>) {
+    let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
+    let r = app
+        .api(
+            "POST",
+            &format!("/api/v1/builds/{id}/setups"),
+            t,
+            Some(setup),
+        )
+        .await;
+    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+}
+
+/// The stored build's car with what the launch preview needs (the rest estimated).
+async fn give_the_car_launch_fields(app: &TestApp, id: i64, t: Option<&str>) {
+    let car = app
+        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .await
+        .json()["car_id"]
+        .clone();
+    let launch_car = json!({"description": "two-door, 7.2 L V8, 4-speed",
+        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]], "weight_kg": 1500.0,
+        "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "tire_diameter_mm": 760.0,
+        "launch_rpm": 5000.0});
+    let r = app
+        .api("PUT", &format!("/api/v1/cars/{car}"), t, Some(launch_car))
+        .await;
+    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
 }
