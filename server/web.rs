@@ -293,22 +293,24 @@ fn pages() -> Routes {
         .route(
             SignedIn,
             "/builds/{id}/setups",
-            post(pages::builds::entries::add_setup),
+            post(pages::builds::entries::add::<crate::records::setup::SetupInput>),
         )
         .route(
             SignedIn,
             "/builds/{id}/bench-tests",
-            post(pages::builds::entries::add_bench_test),
+            post(pages::builds::entries::add::<crate::records::bench::BenchInput>),
         )
         .route(
             SignedIn,
             "/builds/{id}/heights",
-            get(pages::builds::lists::heights).post(pages::builds::entries::add_height),
+            get(pages::builds::lists::heights)
+                .post(pages::builds::entries::add::<crate::records::height::HeightInput>),
         )
         .route(
             SignedIn,
             "/builds/{id}/passes",
-            get(pages::builds::lists::passes).post(pages::builds::entries::add_pass),
+            get(pages::builds::lists::passes)
+                .post(pages::builds::entries::add::<crate::records::pass::PassInput>),
         )
         .route(SignedIn, "/passes/{id}", get(pages::passes::show))
         .route(

@@ -25,7 +25,7 @@ use clutch::units::Units;
 
 /// Which of the build page's forms was sent.
 #[derive(Clone, Copy)]
-enum Which {
+pub enum Which {
     Setup,
     Bench,
     Height,
@@ -102,17 +102,22 @@ impl Entry {
 }
 
 /// One kind of entry on a build page: how it is read from its form, checked against the build
-/// and what is already recorded on it, and stored.
-trait BuildEntry: Sized + Send + Sync {
+/// and what is already recorded on it, and stored. Reading and checking are the record's own
+/// unless the entry needs the build (a bench test's rows, a cover height's neighbours).
+pub trait BuildEntry: Record + Sized + Send + Sync {
     const WHICH: Which;
-    fn read(form: &FormData, units: Units, build: &Build) -> (Self, FieldErrors);
+    fn read(form: &FormData, units: Units, _build: &Build) -> (Self, FieldErrors) {
+        field::read(form, units)
+    }
     fn check_on(
         self,
-        build: &Build,
-        hc: &HeightContext,
+        _build: &Build,
+        _hc: &HeightContext,
         ctx: &Ctx,
         errors: FieldErrors,
-    ) -> Result<Checked<Self>, FieldErrors>;
+    ) -> Result<Checked<Self>, FieldErrors> {
+        field::check(self, ctx, errors)
+    }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
         build_id: i64,
@@ -142,18 +147,6 @@ fn listed<R: Record>(r: &R, units: Units, skip: &[&str]) -> String {
 
 impl BuildEntry for SetupInput {
     const WHICH: Which = Which::Setup;
-    fn read(form: &FormData, units: Units, _: &Build) -> (Self, FieldErrors) {
-        field::read(form, units)
-    }
-    fn check_on(
-        self,
-        _: &Build,
-        _: &HeightContext,
-        ctx: &Ctx,
-        errors: FieldErrors,
-    ) -> Result<Checked<Self>, FieldErrors> {
-        field::check(self, ctx, errors)
-    }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
         b: i64,
@@ -269,18 +262,6 @@ impl BuildEntry for HeightInput {
 
 impl BuildEntry for PassInput {
     const WHICH: Which = Which::Pass;
-    fn read(form: &FormData, units: Units, _: &Build) -> (Self, FieldErrors) {
-        field::read(form, units)
-    }
-    fn check_on(
-        self,
-        _: &Build,
-        _: &HeightContext,
-        ctx: &Ctx,
-        errors: FieldErrors,
-    ) -> Result<Checked<Self>, FieldErrors> {
-        field::check(self, ctx, errors)
-    }
     fn store<'a>(
         tx: &'a mut SqliteConnection,
         b: i64,
@@ -312,10 +293,11 @@ impl BuildEntry for PassInput {
     }
 }
 
-/// Reads, checks and stores one entry in one transaction.
-async fn add<E: BuildEntry>(
-    state: AppState,
-    build_id: i64,
+/// POST `/builds/{id}/<entries>`: reads, checks and stores one entry of kind `E` (a setup
+/// change, a bench test, a cover height, a pass) in one transaction.
+pub async fn add<E: BuildEntry>(
+    State(state): State<AppState>,
+    PathId(build_id): PathId,
     signed: SignedForm,
 ) -> AppResult<Response> {
     let mut e = Entry::begin(&state, build_id, signed).await?;
@@ -330,36 +312,4 @@ async fn add<E: BuildEntry>(
         Err(errors) => Err(errors),
     };
     e.finish(&state, E::WHICH, result).await
-}
-
-pub async fn add_setup(
-    State(state): State<AppState>,
-    PathId(id): PathId,
-    signed: SignedForm,
-) -> AppResult<Response> {
-    add::<SetupInput>(state, id, signed).await
-}
-
-pub async fn add_bench_test(
-    State(state): State<AppState>,
-    PathId(id): PathId,
-    signed: SignedForm,
-) -> AppResult<Response> {
-    add::<BenchInput>(state, id, signed).await
-}
-
-pub async fn add_height(
-    State(state): State<AppState>,
-    PathId(id): PathId,
-    signed: SignedForm,
-) -> AppResult<Response> {
-    add::<HeightInput>(state, id, signed).await
-}
-
-pub async fn add_pass(
-    State(state): State<AppState>,
-    PathId(id): PathId,
-    signed: SignedForm,
-) -> AppResult<Response> {
-    add::<PassInput>(state, id, signed).await
 }
