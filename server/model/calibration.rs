@@ -222,12 +222,6 @@ pub fn calibration_source(c: &BuildCalibration) -> String {
 /// practice, no published source; the torque balance's own scatter is a few percent).
 pub const METHODS_APART_PCT: f64 = 5.0;
 
-/// How far below its launch speed a pass may lock before a torque-balance reading of it is
-/// suspect: 15 % (common shop practice, no published source). Below it the engine is still being
-/// pulled down at the lock, so the engine curve's torque there overstates what the clutch
-/// carried and the pass reads low.
-pub const FALLING_LOCK_PCT: f64 = 15.0;
-
 /// A stored build's friction read from the whole launch (`clutch::calibration::launch`): each
 /// pass with its launch speed typed and a data log's lock time, fitted with the build as it stood
 /// on the pass's date (setting, springs, wear) and the car's launch record.
@@ -310,4 +304,68 @@ pub fn by_launch(d: &Dossier, settings: &SettingsInput) -> Option<LaunchMethod> 
         }
     }
     (!passes.is_empty() || !notes.is_empty()).then_some(LaunchMethod { passes, notes })
+}
+
+/// What the tuning page says of a pass the two methods see differently.
+#[derive(Debug, Clone, PartialEq)]
+pub enum MethodFlag {
+    /// Both methods read the pass, more than [`METHODS_APART_PCT`] apart.
+    Apart {
+        date: String,
+        torque_mu: f64,
+        launch_mu: f64,
+        apart_pct: f64,
+    },
+    /// Only the torque balance reads the pass, and it locked further below its launch speed
+    /// than the shop's clean-lock share (`SettingsInput::launch_bog_pct`, default 15 %, common
+    /// shop practice): the engine was still being pulled down at the lock, so the engine
+    /// curve's torque there overstates what the clutch carried and the pass reads low.
+    FallingLock {
+        date: String,
+        lockup_rpm: f64,
+        launch_rpm: f64,
+        below_pct: f64,
+    },
+}
+
+/// The passes of a calibration that the two methods read apart, or that only the torque
+/// balance reads although the engine was still falling at the lock, oldest first.
+pub fn method_flags(
+    d: &Dossier,
+    settings: &SettingsInput,
+    cal: &BuildCalibration,
+    by_launch: Option<&LaunchMethod>,
+) -> Vec<MethodFlag> {
+    let mut out = Vec::new();
+    for ((id, date), p) in cal.pass_ids.iter().zip(&cal.dates).zip(&cal.report.passes) {
+        if let Some(launch_mu) = by_launch.and_then(|m| m.of(*id)) {
+            let apart_pct = (launch_mu - p.mu).abs() / p.mu * 100.0;
+            if apart_pct > METHODS_APART_PCT {
+                out.push(MethodFlag::Apart {
+                    date: date.clone(),
+                    torque_mu: p.mu,
+                    launch_mu,
+                    apart_pct,
+                });
+            }
+            continue;
+        }
+        let launch_rpm = d
+            .passes
+            .iter()
+            .find(|x| x.id == *id)
+            .and_then(|x| x.data.launch_rpm);
+        if let Some(launch_rpm) = launch_rpm {
+            let below_pct = (launch_rpm - p.lockup_rpm) / launch_rpm * 100.0;
+            if below_pct > settings.launch_bog_pct {
+                out.push(MethodFlag::FallingLock {
+                    date: date.clone(),
+                    lockup_rpm: p.lockup_rpm,
+                    launch_rpm,
+                    below_pct,
+                });
+            }
+        }
+    }
+    out
 }

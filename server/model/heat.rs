@@ -87,7 +87,7 @@ pub fn study(d: &Dossier, settings: &SettingsInput, cal: &BuildCalibration) -> H
         ),
         NotFitted::TooLittleSpread { spread_k, more_k } => {
             // A temperature difference in the shop's scale: kelvin, or °F (1 K = 1.8 °F).
-            let apart = |k: f64| match Units::from_key(&settings.units).unwrap_or_default() {
+            let apart = |k: f64| match settings.units() {
                 Units::Imperial => format!("{:.0} °F", k * 1.8),
                 Units::Metric => format!("{k:.0} K"),
             };

@@ -12,8 +12,7 @@ use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::model::as_of::{BuildAsOf, Friction};
 use crate::model::calibration::{
-    BuildCalibration, FALLING_LOCK_PCT, LaunchMethod, METHODS_APART_PCT, by_launch,
-    calibration_source,
+    BuildCalibration, LaunchMethod, MethodFlag, by_launch, calibration_source, method_flags,
 };
 use crate::model::heat::{self, HeatStudy};
 use crate::model::{Figures, Trial, TuningTargets, figures};
@@ -144,6 +143,8 @@ pub struct TunePage {
     pub heat: Option<HeatStudy>,
     /// μ read from the whole launch of the passes that allow it, beside the torque balance.
     pub by_launch: Option<LaunchMethod>,
+    /// Passes the two methods see differently.
+    pub method_flags: Vec<MethodFlag>,
 }
 
 /// Reads a setting to try (turns, counterweight, optional μ) with the same checks as a setup
@@ -206,6 +207,10 @@ async fn render_tune(
                 .ok()
                 .map(|c| heat::study(&dossier, &settings, c));
             let by_launch = by_launch(&dossier, &settings);
+            let method_flags = calibration.as_ref().map_or_else(
+                |_| Vec::new(),
+                |c| method_flags(&dossier, &settings, c, by_launch.as_ref()),
+            );
             let friction = facts.friction.clone();
             let current_trial = facts.trial;
             // The 60-ft times the car's passes recorded, for the launch preview to be read against.
@@ -333,6 +338,7 @@ async fn render_tune(
                 friction,
                 heat,
                 by_launch,
+                method_flags,
             };
             Ok((page.render()?, zone))
         })
@@ -691,41 +697,33 @@ impl TunePage {
     /// Passes the two methods read differently, and passes that locked well below their launch
     /// speed with only the torque balance to read them, in words.
     pub fn method_flags(&self) -> Vec<String> {
-        let Ok(c) = &self.calibration else {
-            return Vec::new();
-        };
         let u = &self.page.u;
-        let mut out = Vec::new();
-        for ((id, date), p) in c.pass_ids.iter().zip(&c.dates).zip(&c.report.passes) {
-            let launch = self.by_launch.as_ref().and_then(|m| m.of(*id));
-            if let Some(lm) = launch {
-                let apart = (lm - p.mu).abs() / p.mu * 100.0;
-                if apart > METHODS_APART_PCT {
-                    out.push(format!(
-                        "Pass of {date}: {} by the torque balance, {} by the whole launch ({apart:.0} % apart). The torque balance takes the engine as steady at the lock, the whole launch does not: look at the log's engine speed at the lock, and at the car's launch record (its estimated inputs are listed under the launch preview).",
-                        u.mu(p.mu),
-                        u.mu(lm)
-                    ));
-                }
-                continue;
-            }
-            let launch_rpm = self
-                .dossier
-                .passes
-                .iter()
-                .find(|x| x.id == *id)
-                .and_then(|x| x.data.launch_rpm);
-            if let Some(launch_rpm) = launch_rpm {
-                let below = (launch_rpm - p.lockup_rpm) / launch_rpm * 100.0;
-                if below > FALLING_LOCK_PCT {
-                    out.push(format!(
-                        "Pass of {date} locked at {}, {below:.0} % below its {} launch, and only the torque balance can read it: the engine was still falling at lock, so this pass reads low.",
-                        u.rpm(p.lockup_rpm),
-                        u.rpm(launch_rpm)
-                    ));
-                }
-            }
-        }
+        let mut out: Vec<String> = self
+            .method_flags
+            .iter()
+            .map(|f| match f {
+                MethodFlag::Apart {
+                    date,
+                    torque_mu,
+                    launch_mu,
+                    apart_pct,
+                } => format!(
+                    "Pass of {date}: {} by the torque balance, {} by the whole launch ({apart_pct:.0} % apart). The torque balance takes the engine as steady at the lock, the whole launch does not: look at the log's engine speed at the lock, and at the car's launch record (its estimated inputs are listed under the launch preview).",
+                    u.mu(*torque_mu),
+                    u.mu(*launch_mu)
+                ),
+                MethodFlag::FallingLock {
+                    date,
+                    lockup_rpm,
+                    launch_rpm,
+                    below_pct,
+                } => format!(
+                    "Pass of {date} locked at {}, {below_pct:.0} % below its {} launch, and only the torque balance can read it: the engine was still falling at lock, so this pass reads low.",
+                    u.rpm(*lockup_rpm),
+                    u.rpm(*launch_rpm)
+                ),
+            })
+            .collect();
         if let Some(m) = &self.by_launch {
             out.extend(m.notes.iter().cloned());
         }
