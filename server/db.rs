@@ -13,6 +13,7 @@ pub mod dossier;
 pub mod export;
 pub mod heights;
 pub mod imports;
+pub mod launch_fits;
 pub mod pass_logs;
 pub mod passes;
 pub mod record;

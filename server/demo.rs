@@ -528,6 +528,7 @@ async fn seed_build(
             sixty_ft_s: Some(*sixty),
             et_s: Some(*et),
             observed_lockup_rpm: *lockup,
+            lockup_time_s: None,
             notes: String::new(),
             // Invented times and air temperatures (one pass a day, so each launches at the
             // air temperature): too little spread for the heat fit, which the tuning page says.

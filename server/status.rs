@@ -12,13 +12,14 @@ use sqlx::SqliteConnection;
 use crate::db;
 use crate::db::status::{BuildStatus, Listed};
 use crate::model::as_of::bench_review;
+use crate::model::calibration::launch_fits;
 use crate::model::due::{Due, DueReason, soonest};
 use crate::model::energy::energy_forecast;
 use crate::model::wear::wear_request;
 use crate::records::build::BuildInput;
 use crate::records::settings::SettingsInput;
-use crate::records::stored::BenchTest;
 use crate::records::stored::Height;
+use crate::records::stored::{BenchTest, KeptLaunchFit};
 use clutch::wear::{self, WearStatus};
 
 /// A build's status from its whole history: its cover heights (recorded order) and bench tests
@@ -103,25 +104,30 @@ pub fn lines(row: &Listed, status: &BuildStatus, window: i64) -> Vec<Due> {
 
 /// Works out one build's status from its stored history (None when there is no such build),
 /// with its forecast by slip energy (`model::energy::energy_forecast`, launch previews: the
-/// reason it is kept rather than worked out per counter view).
+/// reason it is kept rather than worked out per counter view), and the whole-launch friction of
+/// its passes (`model::calibration::launch_fits`, kept for the same reason).
 pub async fn work_out(
     conn: &mut SqliteConnection,
     build_id: i64,
     settings: &SettingsInput,
-) -> sqlx::Result<Option<BuildStatus>> {
+) -> sqlx::Result<Option<(BuildStatus, Vec<KeptLaunchFit>)>> {
     let Some(build) = db::builds::any_by_id(conn, build_id).await? else {
         return Ok(None);
     };
     let heights = db::heights::for_build(conn, build_id).await?;
     let bench = db::bench::for_build(conn, build_id).await?;
     let mut status = of_history(&build.data, &heights, &bench, settings);
-    if let Some(d) = db::dossier::load(conn, build_id).await?
-        && let Ok(e) = energy_forecast(&d, settings)
-    {
-        status.energy_shim_passes = e.passes_to_shim_due;
-        status.energy_disc_passes = e.passes_to_disc_due;
+    let mut fits = Vec::new();
+    if let Some(mut d) = db::dossier::load(conn, build_id).await? {
+        fits = launch_fits(&d, settings);
+        // The forecast's friction in force reads the fits just worked out.
+        d.launch_fits.clone_from(&fits);
+        if let Ok(e) = energy_forecast(&d, settings) {
+            status.energy_shim_passes = e.passes_to_shim_due;
+            status.energy_disc_passes = e.passes_to_disc_due;
+        }
     }
-    Ok(Some(status))
+    Ok(Some((status, fits)))
 }
 
 /// Works out and stores every build marked stale by this transaction's writes; returns how many.
@@ -133,8 +139,9 @@ pub async fn refresh_stale(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
     }
     let settings = db::settings::get(conn).await?;
     for &id in &ids {
-        if let Some(status) = work_out(conn, id, &settings).await? {
+        if let Some((status, fits)) = work_out(conn, id, &settings).await? {
             db::status::store(conn, id, &status).await?;
+            db::launch_fits::replace(conn, id, &fits).await?;
         }
     }
     Ok(ids.len())
@@ -171,7 +178,7 @@ pub async fn work_due(
     let mut out = Vec::new();
     for row in &rows {
         if row.stale {
-            if let Some(status) = work_out(conn, row.build_id, settings).await? {
+            if let Some((status, _)) = work_out(conn, row.build_id, settings).await? {
                 out.extend(lines(row, &status, window));
             }
         } else {

@@ -27,6 +27,7 @@ pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Op
             .await?,
         passes_total: super::passes::TABLE.count(conn, build_id).await?,
         logs: super::pass_logs::for_build(conn, build_id).await?,
+        launch_fits: super::launch_fits::for_build(conn, build_id).await?,
         build,
     }))
 }

@@ -4,7 +4,7 @@
 use super::as_of::BuildAsOf;
 use super::{Missing, curve_range};
 use crate::records::settings::SettingsInput;
-use crate::records::stored::{Dossier, LogSummary, Pass};
+use crate::records::stored::{Dossier, KeptLaunchFit, LogSummary, Pass};
 use clutch::InputError;
 use clutch::calibration::launch::{
     LaunchCalibrateRequest, LaunchPass, calibrate_launch, mean_ci95,
@@ -34,6 +34,13 @@ pub struct BuildCalibration {
     pub enough: bool,
     /// Whether per-pass μ trends with time (`None` below 3 passes).
     pub drifting: Option<bool>,
+    /// How many of `report.passes` carry the whole launch's μ rather than the torque balance's.
+    pub by_launch: usize,
+    /// The torque balance's own μ of each pass in `report.passes` when some are read by the
+    /// whole launch (`None` for a pass it cannot read: no lockup seen); empty when none are.
+    pub torque_mu: Vec<Option<f64>>,
+    /// The whole launch over the build's passes, every pass it read or could not.
+    pub launch: Option<LaunchMethod>,
 }
 
 /// The clutch of one date as a pass is scored with it.
@@ -88,8 +95,10 @@ pub fn log_value(
 }
 
 /// The calibration of a loaded build from its passes with a lockup seen (typed, else found in
-/// its data log), oldest first, each with the build as it stood on its date; or why there is
-/// none (what is missing, under `passes`, or the fit's refusal under its field).
+/// its data log, else the whole launch's), oldest first, each with the build as it stood on its
+/// date. A pass the whole launch reads ([`by_launch`]) carries the torque that method's μ gives
+/// at its lockup; the rest are read by the torque balance. Or why there is none (what is
+/// missing, under `passes`, or the fit's refusal under its field).
 pub fn calibrated(
     d: &Dossier,
     settings: &SettingsInput,
@@ -97,21 +106,24 @@ pub fn calibrated(
 ) -> Result<BuildCalibration, InputError> {
     let missing = |m: Missing| InputError::new("passes", m);
     let clutch = BuildAsOf::recorded(d, settings).clutch().map_err(missing)?;
+    let launch = by_launch(d, settings);
     let (lo, hi) = curve_range(&clutch.engine.torque_curve);
     let mut notes = Vec::new();
     let (mut no_setup, mut outside) = (0, 0);
-    let mut passes = Vec::new();
+    // (the pass as the torque balance reads it, the torque the whole launch gives, if it reads it)
+    let mut passes: Vec<(PassObserved, Option<f64>)> = Vec::new();
     let mut days: Vec<(String, (f64, f64, f64), SpringPack)> = Vec::new();
     let mut pass_ids = Vec::new();
     let mut day_clutch: Option<(&str, Option<DayClutch>)> = None;
     // Stored newest first; the calibration reads them oldest first.
     for pass in d.passes.iter().rev() {
         let log = d.log_of(pass.id);
-        let Some(rpm) = pass
+        let read = launch.as_ref().and_then(|m| m.of(pass.id));
+        let seen = pass
             .data
             .observed_lockup_rpm
-            .or(log.map(|l| l.lockup_engine_rpm))
-        else {
+            .or(log.map(|l| l.lockup_engine_rpm));
+        let Some(rpm) = seen.or(read.map(|r| r.lockup_rpm)) else {
             continue;
         };
         let day = pass.data.run_on.as_str();
@@ -128,13 +140,14 @@ pub fn calibrated(
             continue;
         }
         let (turns, counterweight_g, clamp_loss) = at.setting;
-        passes.push(PassObserved {
+        let observed = PassObserved {
             lockup_rpm: rpm,
             clutch_torque: log.and_then(|l| at.log_value(pass, l)).map(|v| v.1),
             adjuster_turns: Some(turns),
             counterweight_g: Some(counterweight_g),
             clamp_loss,
-        });
+        };
+        passes.push((observed, read.map(|r| r.mu * at.law.capacity_nm(rpm))));
         days.push((pass.data.run_on.clone(), at.setting, at.springs));
         pass_ids.push(pass.id);
     }
@@ -168,25 +181,65 @@ pub fn calibrated(
         pass_ids.drain(..skip);
         notes.push(format!("Only the latest {most} passes were used."));
     }
-    let request = CalibrateRequest {
-        units: Units::Metric,
-        disc: clutch.disc,
-        // Each pass carries the wear (and the springs) of its own date.
-        springs: SpringsInput {
-            clamp_loss: 0.0,
-            ..clutch.springs
-        },
-        levers: clutch.levers,
-        engine: clutch.engine,
-        fit,
-        passes,
+    let springs: Vec<SpringPack> = days.iter().map(|(_, _, s)| *s).collect();
+    let run = |fit: Fit, passes: Vec<PassObserved>| {
+        let request = CalibrateRequest {
+            units: Units::Metric,
+            disc: clutch.disc.clone(),
+            // Each pass carries the wear (and the springs) of its own date.
+            springs: SpringsInput {
+                clamp_loss: 0.0,
+                ..clutch.springs.clone()
+            },
+            levers: clutch.levers.clone(),
+            engine: clutch.engine.clone(),
+            fit,
+            passes,
+        };
+        let valid = request.clutch()?;
+        let mut observations = request.observations(&valid.model)?;
+        for (o, springs) in observations.iter_mut().zip(&springs) {
+            o.springs = Some(*springs);
+        }
+        calibrate_observations(&request, &valid, &observations)
     };
-    let valid = request.clutch()?;
-    let mut observations = request.observations(&valid.model)?;
-    for (o, (_, _, springs)) in observations.iter_mut().zip(&days) {
-        o.springs = Some(*springs);
+    let by_launch = passes.iter().filter(|(_, t)| t.is_some()).count();
+    // The torque balance's own reading of each pass, for the pages that show both methods.
+    let torque_mu: Vec<Option<f64>> = if by_launch == 0 {
+        Vec::new()
+    } else {
+        let balance: Vec<PassObserved> = passes.iter().map(|(p, _)| p.clone()).collect();
+        let report = run(Fit::Mu, balance)?;
+        report
+            .passes
+            .iter()
+            .zip(&pass_ids)
+            .map(|(r, id)| {
+                let seen = d.passes.iter().find(|p| p.id == *id).is_some_and(|p| {
+                    p.data.observed_lockup_rpm.is_some() || d.log_of(p.id).is_some()
+                });
+                seen.then_some(r.mu)
+            })
+            .collect()
+    };
+    let used: Vec<PassObserved> = passes
+        .iter()
+        .map(|(p, launch_torque)| PassObserved {
+            clutch_torque: launch_torque.or(p.clutch_torque),
+            ..p.clone()
+        })
+        .collect();
+    let mut report = run(fit, used)?;
+    if by_launch > 0 {
+        notes.push(format!(
+            "{by_launch} of the {} passes read from the whole launch (the friction whose simulated launch locks when the pass did); {}.",
+            passes.len(),
+            match passes.len() - by_launch {
+                0 => "none by the torque at lockup".to_string(),
+                n => format!("{n} by the torque at lockup"),
+            }
+        ));
     }
-    let mut report = calibrate_observations(&request, &valid, &observations)?;
     report.notes.extend(notes);
     let mus: Vec<f64> = report.passes.iter().map(|p| p.mu).collect();
     Ok(BuildCalibration {
@@ -196,6 +249,9 @@ pub fn calibrated(
         pass_ids,
         settings: days.iter().map(|(_, s, _)| *s).collect(),
         dates: days.into_iter().map(|(day, _, _)| day).collect(),
+        torque_mu,
+        by_launch,
+        launch,
     })
 }
 
@@ -223,87 +279,179 @@ pub fn calibration_source(c: &BuildCalibration) -> String {
 pub const METHODS_APART_PCT: f64 = 5.0;
 
 /// A stored build's friction read from the whole launch (`clutch::calibration::launch`): each
-/// pass with its launch speed typed and a data log's lock time, fitted with the build as it stood
-/// on the pass's date (setting, springs, wear) and the car's launch record.
-#[derive(Debug, Clone)]
+/// pass with its launch speed typed and a lock time (typed, else its data log's), fitted with the
+/// build as it stood on the pass's date (setting, springs, wear) and the car's launch record.
+#[derive(Debug, Clone, Default)]
 pub struct LaunchMethod {
-    /// (pass id, the μ whose simulated launch locks when the log saw it lock), oldest first.
-    pub passes: Vec<(i64, f64)>,
+    /// Each pass read, oldest first.
+    pub passes: Vec<LaunchRead>,
     /// Passes that could not be read this way, and why, in words.
     pub notes: Vec<String>,
+}
+
+/// One pass read by the whole launch.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LaunchRead {
+    pub pass_id: i64,
+    /// The μ whose simulated launch locks when the pass did.
+    pub mu: f64,
+    /// The simulated lockup engine speed at that μ, rpm.
+    pub lockup_rpm: f64,
 }
 
 impl LaunchMethod {
     /// Mean μ of the passes read and its 95 % interval (none for one pass); `None` when no
     /// pass could be read.
     pub fn mean(&self) -> Option<(f64, Option<[f64; 2]>)> {
-        let mus: Vec<f64> = self.passes.iter().map(|p| p.1).collect();
+        let mus: Vec<f64> = self.passes.iter().map(|p| p.mu).collect();
         (!mus.is_empty()).then(|| mean_ci95(&mus))
     }
 
-    /// The μ this method read from pass `id`, if it read that pass.
-    pub fn of(&self, id: i64) -> Option<f64> {
-        self.passes.iter().find(|p| p.0 == id).map(|p| p.1)
+    /// What this method read from pass `id`, if it read that pass.
+    pub fn of(&self, id: i64) -> Option<&LaunchRead> {
+        self.passes.iter().find(|p| p.pass_id == id)
     }
 }
 
-/// The launch method over a loaded build's passes; `None` when no pass can be read by it (no pass
-/// with both a launch speed and a data log, or a car without the launch fields). About twenty
-/// launch simulations per pass: heavy work, run where the tuning page runs its calibration.
-pub fn by_launch(d: &Dossier, settings: &SettingsInput) -> Option<LaunchMethod> {
-    let mut passes = Vec::new();
-    let mut notes = Vec::new();
+/// The fingerprint of a whole-launch fit's request: FNV-1a (64-bit) over its JSON, so a kept
+/// fit is used only while everything it read is unchanged.
+pub fn fingerprint(request: &LaunchCalibrateRequest) -> i64 {
+    let bytes = serde_json::to_vec(request).unwrap_or_default();
+    let hash = bytes.iter().fold(0xcbf2_9ce4_8422_2325_u64, |h, b| {
+        (h ^ u64::from(*b)).wrapping_mul(0x0000_0100_0000_01b3)
+    });
+    hash as i64
+}
+
+/// The whole-launch fit of one pass: its request, or why the pass cannot be read this way (the
+/// car lacks what the launch model needs); `None` for a pass without a launch speed and a lock
+/// time, which this method does not read.
+fn launch_request_of(
+    d: &Dossier,
+    settings: &SettingsInput,
+    pass: &Pass,
+) -> Option<Result<LaunchCalibrateRequest, String>> {
+    let launch_rpm = pass.data.launch_rpm?;
+    let lock_time = pass
+        .data
+        .lockup_time_s
+        .or(d.log_of(pass.id).map(LogSummary::lockup_after_launch_s))?;
+    let day = pass.data.run_on.as_str();
+    let at = BuildAsOf::on(d, settings, day);
+    let plan = match at.launch_request(at.trial, Some(launch_rpm)) {
+        Ok(plan) => plan,
+        Err(missing) => return Some(Err(format!("Pass of {day}: {missing}"))),
+    };
+    let r = plan.request;
+    Some(Ok(LaunchCalibrateRequest {
+        units: r.units,
+        disc: r.disc,
+        friction: LaunchFriction {
+            mu: None,
+            ..r.friction
+        },
+        passes: vec![LaunchPass {
+            lockup_time_s: Some(lock_time),
+            lockup_rpm: None,
+            launch_rpm: None,
+            adjuster_turns: None,
+            counterweight_g: None,
+            clamp_loss: r.springs.clamp_loss,
+        }],
+        springs: r.springs,
+        levers: r.levers,
+        engine: r.engine,
+        launch_rpm: Some(r.launch_rpm),
+        driveline: r.driveline,
+        vehicle: r.vehicle,
+        thermal: r.thermal,
+        step_ms: r.step_ms,
+        duration_s: r.duration_s,
+    }))
+}
+
+/// The whole-launch fit of every pass of a loaded build this method reads, oldest first: the kept
+/// fit where its fingerprint still matches, else worked out here (about twenty launch
+/// simulations a pass). `status::work_out` keeps what this returns, so pages find it kept.
+pub fn launch_fits(d: &Dossier, settings: &SettingsInput) -> Vec<KeptLaunchFit> {
+    let mut out = Vec::new();
     for pass in d.passes.iter().rev() {
-        let (Some(launch_rpm), Some(log)) = (pass.data.launch_rpm, d.log_of(pass.id)) else {
+        let Some(request) = launch_request_of(d, settings, pass) else {
             continue;
         };
-        let day = pass.data.run_on.as_str();
-        let at = BuildAsOf::on(d, settings, day);
-        let plan = match at.launch_request(at.trial, Some(launch_rpm)) {
-            Ok(plan) => plan,
-            Err(missing) => {
-                notes.push(format!("Pass of {day}: {missing}"));
-                continue;
+        let fit = match request {
+            Err(note) => KeptLaunchFit {
+                pass_id: pass.id,
+                inputs: 0,
+                mu: None,
+                lockup_rpm: None,
+                note: Some(note),
+            },
+            Ok(request) => {
+                let inputs = fingerprint(&request);
+                let kept = d
+                    .launch_fits
+                    .iter()
+                    .find(|k| k.pass_id == pass.id && k.inputs == inputs);
+                match kept {
+                    Some(k) => k.clone(),
+                    None => fit_one(pass, inputs, &request),
+                }
             }
         };
-        let r = plan.request;
-        let request = LaunchCalibrateRequest {
-            units: r.units,
-            disc: r.disc,
-            friction: LaunchFriction {
-                mu: None,
-                ..r.friction
-            },
-            passes: vec![LaunchPass {
-                lockup_time_s: Some(log.lockup_after_launch_s()),
-                lockup_rpm: None,
-                launch_rpm: None,
-                adjuster_turns: None,
-                counterweight_g: None,
-                clamp_loss: r.springs.clamp_loss,
-            }],
-            springs: r.springs,
-            levers: r.levers,
-            engine: r.engine,
-            launch_rpm: Some(r.launch_rpm),
-            driveline: r.driveline,
-            vehicle: r.vehicle,
-            thermal: r.thermal,
-            step_ms: r.step_ms,
-            duration_s: r.duration_s,
-        };
-        match calibrate_launch(&request) {
-            Ok(fit) => passes.push((pass.id, fit.mu)),
-            Err(e) => notes.push(format!(
+        out.push(fit);
+    }
+    out
+}
+
+/// One pass fitted by the whole launch, as kept.
+fn fit_one(pass: &Pass, inputs: i64, request: &LaunchCalibrateRequest) -> KeptLaunchFit {
+    let day = &pass.data.run_on;
+    let (mu, lockup_rpm, note) = match calibrate_launch(request) {
+        Ok(fit) => (
+            Some(fit.mu),
+            fit.passes.first().map(|p| p.simulated_lockup_rpm),
+            None,
+        ),
+        Err(e) => (
+            None,
+            None,
+            Some(format!(
                 "Pass of {day}: {}",
                 e.message.replace(
                     "this car and setting",
                     "this car and the setting of that day"
                 )
             )),
-        }
+        ),
+    };
+    KeptLaunchFit {
+        pass_id: pass.id,
+        inputs,
+        mu,
+        lockup_rpm,
+        note,
     }
-    (!passes.is_empty() || !notes.is_empty()).then_some(LaunchMethod { passes, notes })
+}
+
+/// The launch method over a loaded build's passes (from [`launch_fits`]); `None` when no pass
+/// can be read by it (no pass with both a launch speed and a lock time).
+pub fn by_launch(d: &Dossier, settings: &SettingsInput) -> Option<LaunchMethod> {
+    let fits = launch_fits(d, settings);
+    (!fits.is_empty()).then(|| {
+        let mut m = LaunchMethod::default();
+        for f in fits {
+            match (f.mu, f.lockup_rpm) {
+                (Some(mu), Some(lockup_rpm)) => m.passes.push(LaunchRead {
+                    pass_id: f.pass_id,
+                    mu,
+                    lockup_rpm,
+                }),
+                _ => m.notes.extend(f.note),
+            }
+        }
+        m
+    })
 }
 
 /// What the tuning page says of a pass the two methods see differently.
@@ -334,19 +482,26 @@ pub fn method_flags(
     d: &Dossier,
     settings: &SettingsInput,
     cal: &BuildCalibration,
-    by_launch: Option<&LaunchMethod>,
 ) -> Vec<MethodFlag> {
     let mut out = Vec::new();
-    for ((id, date), p) in cal.pass_ids.iter().zip(&cal.dates).zip(&cal.report.passes) {
-        if let Some(launch_mu) = by_launch.and_then(|m| m.of(*id)) {
-            let apart_pct = (launch_mu - p.mu).abs() / p.mu * 100.0;
-            if apart_pct > METHODS_APART_PCT {
-                out.push(MethodFlag::Apart {
-                    date: date.clone(),
-                    torque_mu: p.mu,
-                    launch_mu,
-                    apart_pct,
-                });
+    for (i, ((id, date), p)) in cal
+        .pass_ids
+        .iter()
+        .zip(&cal.dates)
+        .zip(&cal.report.passes)
+        .enumerate()
+    {
+        if let Some(read) = cal.launch.as_ref().and_then(|m| m.of(*id)) {
+            if let Some(torque_mu) = cal.torque_mu.get(i).copied().flatten() {
+                let apart_pct = (read.mu - torque_mu).abs() / torque_mu * 100.0;
+                if apart_pct > METHODS_APART_PCT {
+                    out.push(MethodFlag::Apart {
+                        date: date.clone(),
+                        torque_mu,
+                        launch_mu: read.mu,
+                        apart_pct,
+                    });
+                }
             }
             continue;
         }

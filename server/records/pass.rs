@@ -19,6 +19,9 @@ pub struct PassInput {
     pub sixty_ft_s: Option<f64>,
     pub et_s: Option<f64>,
     pub observed_lockup_rpm: Option<f64>,
+    /// Seconds from the launch to lockup, typed (a logger's or timing screen's); a data log's
+    /// own lock time is used when this is empty.
+    pub lockup_time_s: Option<f64>,
     /// Ambient temperature, °C.
     pub ambient_c: Option<f64>,
     pub notes: String,
@@ -99,6 +102,17 @@ impl Record for PassInput {
                 required: false,
                 get: |r| r.observed_lockup_rpm,
                 set: |r, v| r.observed_lockup_rpm = v,
+            },
+        },
+        Field {
+            column: "lockup_time_s",
+            form: "lockup_time",
+            label: "Lock time after launch",
+            value: Value::Number {
+                limit: limits::LOCKUP_TIME,
+                required: false,
+                get: |r| r.lockup_time_s,
+                set: |r, v| r.lockup_time_s = v,
             },
         },
         Field {

@@ -169,6 +169,23 @@ pub struct Dossier {
     pub passes_total: i64,
     /// The data logs of those passes (figures only; the files stay in the table).
     pub logs: Vec<LogSummary>,
+    /// The kept whole-launch friction of those passes (`pass_launch_fits`, derived).
+    pub launch_fits: Vec<KeptLaunchFit>,
+}
+
+/// What the whole launch said of one pass, as kept (`pass_launch_fits`, migration 0025): valid
+/// only while `inputs` matches the fingerprint of what the fit would read today.
+#[derive(Debug, Clone, PartialEq, sqlx::FromRow)]
+pub struct KeptLaunchFit {
+    pub pass_id: i64,
+    /// Fingerprint of the fit's request (`model::calibration::fingerprint`).
+    pub inputs: i64,
+    /// The friction whose simulated launch locks when the pass did; `None` with `note`.
+    pub mu: Option<f64>,
+    /// The simulated lockup engine speed at `mu`, rpm.
+    pub lockup_rpm: Option<f64>,
+    /// Why no friction reproduces the pass.
+    pub note: Option<String>,
 }
 
 impl Dossier {

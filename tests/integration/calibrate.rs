@@ -955,3 +955,102 @@ async fn give_the_car_launch_fields(app: &TestApp, id: i64, t: Option<&str>) {
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
 }
+
+/// The stored build's launch preview with μ tried at `mu` on its 2-turn, 40 g setting: the
+/// lockup row's (seconds, rpm) as the tuning page prints them.
+async fn preview_lockup(app: &TestApp, id: i64, mu: f64) -> (f64, f64) {
+    let client = app.login("sam").await;
+    let page = client
+        .get(&format!(
+            "/builds/{id}/tune?try=1&adjuster_turns=2&counterweight_g=40&mu={mu}"
+        ))
+        .await;
+    assert_eq!(page.status, StatusCode::OK);
+    // The current setting's column, then the tried one's: "1.23 s at 4567 rpm, …".
+    let row = page
+        .body
+        .split("<td>Lockup</td><td class=\"num\">")
+        .nth(2)
+        .and_then(|r| r.split("</td>").next())
+        .expect("the tried setting's lockup row");
+    let mut words = row.split_whitespace();
+    let s: f64 = words.next().and_then(|w| w.parse().ok()).expect("seconds");
+    let rpm: f64 = words.nth(2).and_then(|w| w.parse().ok()).expect("rpm");
+    (s, rpm)
+}
+
+/// Issue 25, part 1, stored builds: a pass with its launch speed and a typed lock time (no data
+/// log) is read by the whole launch, and the build's calibration takes that μ and says so. The
+/// check is a round trip through the page's own launch preview: the lock time the preview
+/// gives at μ 0.30 (printed to 0.01 s), typed on a pass, reads back as μ 0.30 within what the
+/// rounding allows [derived]; a later lock reads lower (the issue: a lock time falls as μ rises).
+/// The fit is kept (`pass_launch_fits`) and used only while what it read is unchanged.
+#[tokio::test]
+async fn a_typed_lock_time_is_read_by_the_whole_launch_and_kept() {
+    let app = TestApp::new().await;
+    let (id, token) = stored_build(&app).await;
+    let t = Some(token.as_str());
+    set_up_2_turns_40_g(&app, id, t).await;
+    give_the_car_launch_fields(&app, id, t).await;
+    let (lock_s, lock_rpm) = preview_lockup(&app, id, 0.30).await;
+    for (day, lock) in [("2026-10-02", lock_s), ("2026-10-03", lock_s + 0.2)] {
+        let body = json!({"run_on": day, "launch_rpm": 5000.0, "lockup_time_s": lock});
+        let r = app
+            .api(
+                "POST",
+                &format!("/api/v1/builds/{id}/passes"),
+                t,
+                Some(body),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    }
+    let path = format!("/api/v1/builds/{id}/calibration");
+    let v = app.api("GET", &path, t, None).await.json();
+    assert_eq!(v["method"], "launch", "{v}");
+    assert_eq!(v["n"], 2, "{v}");
+    let first = num(&v["passes"][0]["mu"]);
+    let later = num(&v["passes"][1]["mu"]);
+    assert!((first - 0.30).abs() < 0.002, "{first}: {v}");
+    assert!(later < first - 0.005, "{later} against {first}");
+    // The lockup the pass is scored at is the simulated one, the preview's within its print.
+    assert!(
+        (num(&v["passes"][0]["lockup_rpm"]) - lock_rpm).abs() < 30.0,
+        "{v}"
+    );
+    // The calibration's μ of each pass is the launch method's.
+    assert_eq!(
+        v["passes"][0]["mu"], v["by_launch"]["passes"][0]["mu"],
+        "{v}"
+    );
+    assert!(
+        v["notes"].as_array().is_some_and(|n| n.iter().any(|n| n
+            .as_str()
+            .unwrap_or("")
+            .starts_with("2 of the 2 passes read from the whole launch"))),
+        "{v}"
+    );
+
+    // Kept, and read while its fingerprint matches: a kept μ altered by hand shows.
+    let kept: Vec<(i64, f64)> =
+        sqlx::query_as("SELECT inputs, mu FROM pass_launch_fits ORDER BY pass_id")
+            .fetch_all(&app.pool)
+            .await
+            .unwrap();
+    assert_eq!(kept.len(), 2);
+    assert!((kept[0].1 - first).abs() < 1e-12);
+    sqlx::query("UPDATE pass_launch_fits SET mu = 0.5 WHERE mu = ?")
+        .bind(kept[0].1)
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let v = app.api("GET", &path, t, None).await.json();
+    assert_eq!(num(&v["passes"][0]["mu"]), 0.5, "{v}");
+    // With what it read changed (its fingerprint no longer matches), the pass is fitted again.
+    sqlx::query("UPDATE pass_launch_fits SET inputs = inputs + 1 WHERE mu = 0.5")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let v = app.api("GET", &path, t, None).await.json();
+    assert!((num(&v["passes"][0]["mu"]) - first).abs() < 1e-9, "{v}");
+}

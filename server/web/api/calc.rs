@@ -262,9 +262,13 @@ pub struct BuildCalibrationAnswer {
     pub mu_vs_temperature: Option<clutch::heat::HeatFit>,
     /// Why there is no line yet (null when there is one).
     pub mu_vs_temperature_reason: Option<String>,
-    /// μ read from the whole launch of each pass with its launch speed typed and a data log's
-    /// lock time (`"method": "launch"` of `/calc/calibrate`, the build of each pass's date); null
-    /// when no pass allows it. The torque balance above stays the friction in force.
+    /// `"launch"` when some passes above are read from the whole launch (their μ is the
+    /// launch method's, their torque that μ times the capacity at lockup), else
+    /// `"torque_balance"`.
+    pub method: &'static str,
+    /// μ read from the whole launch of each pass with its launch speed and a lock time (typed,
+    /// else its data log's) (`"method": "launch"` of `/calc/calibrate`, the build of each
+    /// pass's date); null when no pass allows it. The calibration above uses these μ.
     pub by_launch: Option<ByLaunchAnswer>,
 }
 
@@ -300,7 +304,10 @@ impl From<crate::model::calibration::LaunchMethod> for ByLaunchAnswer {
             passes: m
                 .passes
                 .iter()
-                .map(|&(pass_id, mu)| ByLaunchPass { pass_id, mu })
+                .map(|p| ByLaunchPass {
+                    pass_id: p.pass_id,
+                    mu: p.mu,
+                })
                 .collect(),
             notes: m.notes,
         }
@@ -330,11 +337,15 @@ pub async fn build_calibration(
             calibrated(&dossier, &settings, query.fit).map(|c| {
                 let heat = crate::model::heat::study(&dossier, &settings, &c);
                 BuildCalibrationAnswer {
+                    method: if c.by_launch > 0 {
+                        "launch"
+                    } else {
+                        "torque_balance"
+                    },
                     report: c.report,
                     mu_vs_temperature_reason: heat.fit.as_ref().err().cloned(),
                     mu_vs_temperature: heat.fit.ok(),
-                    by_launch: crate::model::calibration::by_launch(&dossier, &settings)
-                        .map(ByLaunchAnswer::from),
+                    by_launch: c.launch.map(ByLaunchAnswer::from),
                 }
             })
         })

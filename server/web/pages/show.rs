@@ -81,6 +81,9 @@ impl Show {
     pub fn area_unit(&self) -> &'static str {
         Kind::Area.symbol(self.units)
     }
+    pub fn temperature_unit(&self) -> &'static str {
+        Kind::Temperature.symbol(self.units)
+    }
 
     /// Slip energy from joules, kJ in both systems ([`Kind::Kilojoules`]).
     pub fn energy_j(&self, j: impl Num) -> String {

@@ -12,7 +12,7 @@ use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::model::as_of::{BuildAsOf, Friction};
 use crate::model::calibration::{
-    BuildCalibration, LaunchMethod, MethodFlag, by_launch, calibration_source, method_flags,
+    BuildCalibration, LaunchMethod, MethodFlag, calibration_source, method_flags,
 };
 use crate::model::heat::{self, HeatStudy};
 use crate::model::{Figures, Trial, TuningTargets, figures};
@@ -206,11 +206,10 @@ async fn render_tune(
                 .as_ref()
                 .ok()
                 .map(|c| heat::study(&dossier, &settings, c));
-            let by_launch = by_launch(&dossier, &settings);
-            let method_flags = calibration.as_ref().map_or_else(
-                |_| Vec::new(),
-                |c| method_flags(&dossier, &settings, c, by_launch.as_ref()),
-            );
+            let by_launch = calibration.as_ref().ok().and_then(|c| c.launch.clone());
+            let method_flags = calibration
+                .as_ref()
+                .map_or_else(|_| Vec::new(), |c| method_flags(&dossier, &settings, c));
             let friction = facts.friction.clone();
             let current_trial = facts.trial;
             // The 60-ft times the car's passes recorded, for the launch preview to be read against.
@@ -683,14 +682,14 @@ impl TunePage {
         let u = &self.page.u;
         Some(match m.mean() {
             Some((mu, ci)) => format!(
-                "By the whole launch (the launch model run until it locks when the data log saw the lock): {} from {}{}.",
+                "By the whole launch (the launch model run until it locks when the pass did): {} from {}{}. The calibration above takes each of these passes at this method's μ.",
                 u.mu(mu),
-                u.counted(m.passes.len() as i64, "logged pass", "logged passes"),
+                u.counted(m.passes.len() as i64, "pass", "passes"),
                 ci.map_or(String::new(), |[lo, hi]| format!(
                     ", 95 % interval {lo:.3}–{hi:.3}"
                 ))
             ),
-            None => "By the whole launch: no logged pass could be read.".into(),
+            None => "By the whole launch: no pass could be read.".into(),
         })
     }
 
@@ -749,13 +748,19 @@ impl TunePage {
             .iter()
             .zip(&c.dates)
             .zip(&c.settings)
-            .map(|((p, date), (turns, cw, _))| {
+            .zip(&c.pass_ids)
+            .map(|(((p, date), (turns, cw, _)), id)| {
+                let by_launch = c.launch.as_ref().is_some_and(|m| m.of(*id).is_some());
                 [
                     date.clone(),
                     format!("{turns} turns, {}", u.grams(*cw)),
                     u.rpm(p.lockup_rpm),
                     u.torque(p.clutch_torque),
-                    format!("{:.3}", p.mu),
+                    if by_launch {
+                        format!("{:.3} (whole launch)", p.mu)
+                    } else {
+                        format!("{:.3}", p.mu)
+                    },
                     format!(
                         "{:+.1} {}",
                         Kind::Torque.to_shown(self.page.units(), p.residual),
