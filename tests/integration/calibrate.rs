@@ -1005,6 +1005,14 @@ async fn a_typed_lock_time_is_read_by_the_whole_launch_and_kept() {
             .await;
         assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
     }
+    // The build page's pass list shows the typed lock time as typed.
+    let page = app.login("sam").await.get(&format!("/builds/{id}")).await;
+    assert!(
+        page.body.contains(&format!(
+            "{lock_s:.3} s</a> <span class=\"muted\">(typed)</span>"
+        )),
+        "the typed lock time is listed"
+    );
     let path = format!("/api/v1/builds/{id}/calibration");
     let v = app.api("GET", &path, t, None).await.json();
     assert_eq!(v["method"], "launch", "{v}");

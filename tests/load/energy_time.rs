@@ -1,9 +1,13 @@
 //! How long `model::energy::energy_forecast` (the wear forecast by slip energy) takes: for each
 //! demo build, and for one with 20 passes on 20 dates between its cover heights, none logged (so
-//! 21 launch previews). `cargo run --release --example energy_time`; best of 9 runs each.
+//! 21 launch previews). Then how long the whole-launch friction of a build's passes
+//! (`model::calibration::launch_fits`) takes worked out (cold) and read back kept (warm), for
+//! the demo's logged build and for 20 passes with a typed lock time.
+//! `cargo run --release --example energy_time`; best of 9 runs each.
 
 use std::time::{Duration, Instant};
 
+use lockpoint::model::calibration::launch_fits;
 use lockpoint::model::energy::energy_forecast;
 use lockpoint::model::wear::current_disc;
 use lockpoint::records::settings::SettingsInput;
@@ -11,14 +15,30 @@ use lockpoint::records::stored::Dossier;
 use lockpoint::{db, demo};
 
 fn best_of(d: &Dossier, settings: &SettingsInput) -> Duration {
+    time(|| energy_forecast(d, settings).is_ok())
+}
+
+fn time<T>(f: impl Fn() -> T) -> Duration {
     (0..9)
         .map(|_| {
             let t = Instant::now();
-            std::hint::black_box(energy_forecast(d, settings).is_ok());
+            std::hint::black_box(f());
             t.elapsed()
         })
         .min()
         .unwrap_or_default()
+}
+
+/// The whole-launch fits of `d`'s passes worked out (cold) and kept (warm).
+fn fits_time(label: &str, d: &mut Dossier, settings: &SettingsInput) {
+    d.launch_fits.clear();
+    let cold = time(|| launch_fits(d, settings).len());
+    d.launch_fits = launch_fits(d, settings);
+    let warm = time(|| launch_fits(d, settings).len());
+    println!(
+        "{label}: {} passes fitted: cold {cold:?}, kept {warm:?}",
+        d.launch_fits.len()
+    );
 }
 
 #[tokio::main(flavor = "current_thread")]
@@ -33,7 +53,7 @@ async fn main() -> Result<(), Box<dyn std::error::Error>> {
     let settings = db::settings::get(&mut conn).await?;
     let mut twenty = None;
     for id in 1.. {
-        let Some(d) = db::dossier::load(&mut conn, id).await? else {
+        let Some(mut d) = db::dossier::load(&mut conn, id).await? else {
             break;
         };
         let f = energy_forecast(&d, &settings);
@@ -46,6 +66,9 @@ async fn main() -> Result<(), Box<dyn std::error::Error>> {
             f.as_ref()
                 .map_or_else(|e| format!("{e:?}"), |_| "forecast".into())
         );
+        if !d.logs.is_empty() {
+            fits_time(&format!("build {id}, whole launch"), &mut d, &settings);
+        }
         if f.is_ok() && twenty.is_none() && d.heights.len() >= 2 {
             twenty = Some(d);
         }
@@ -73,6 +96,12 @@ async fn main() -> Result<(), Box<dyn std::error::Error>> {
             energy_forecast(&d, &settings)
                 .map_or_else(|e| format!("{e:?}"), |f| format!("{} intervals", f.fit.n))
         );
+        // The same 20 passes, each with its launch speed and a typed lock time.
+        for p in &mut d.passes {
+            p.data.launch_rpm = p.data.launch_rpm.or(Some(4500.0));
+            p.data.lockup_time_s = Some(1.3);
+        }
+        fits_time("20 passes, typed lock times", &mut d, &settings);
     }
     drop(conn);
     pool.close().await;
