@@ -94,7 +94,7 @@ pub struct Figures {
 
 /// Works out the capacity report and clamp figures for a stored-units request, in `units`.
 pub fn figures(req: &CapacityRequest, units: Units) -> Result<Figures, InputError> {
-    let valid = req.in_units(units).validate()?;
+    let valid = req.validate_shown(units)?;
     let law = valid.model.law();
     let (_, top) = valid.model.engine.range();
     Ok(Figures {

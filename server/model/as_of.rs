@@ -363,15 +363,18 @@ impl<'a> BuildAsOf<'a> {
         let setup = self
             .capacity_request(current)
             .map_err(|missing| InputError::new("build", missing))?;
-        let recommendation = clutch::capacity::recommend::recommend(&RecommendRequest {
-            setup: setup.in_units(units),
-            targets: Targets {
-                lockup_rpm: targets.lockup_rpm,
-                launch_ratio: targets.launch_ratio,
+        let recommendation = clutch::capacity::recommend::recommend_shown(
+            &RecommendRequest {
+                setup,
+                targets: Targets {
+                    lockup_rpm: targets.lockup_rpm,
+                    launch_ratio: targets.launch_ratio,
+                },
+                steps: Steps::default(),
+                limits: Limits::default(),
             },
-            steps: Steps::default(),
-            limits: Limits::default(),
-        })?;
+            units,
+        )?;
         let chosen = Trial {
             adjuster_turns: recommendation.recommended.adjuster_turns,
             counterweight_g: recommendation.recommended.counterweight_g,

@@ -8,9 +8,10 @@
 
 use crate::InputError;
 use crate::capacity::lockup::{CapacityLaw, ClutchModel, lockup_text, torque_ratio};
-use crate::capacity::report::capacity;
+use crate::capacity::report::report_for;
 use crate::capacity::request::CapacityRequest;
 use crate::quantity::{Bound, limits};
+use crate::units::Units;
 use serde::{Deserialize, Serialize};
 
 /// A lockup-only target counts as reached within this share of it (2 %: about 100 rpm at
@@ -285,6 +286,12 @@ impl Search<'_> {
 /// [`capacity`] at the chosen setting. Needs levers (error field "levers"); other errors name
 /// the field. Cost: a few thousand lockup solves at the default steps (well under 10 ms).
 pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
+    recommend_shown(req, req.setup.units)
+}
+
+/// [`recommend`], the answer's figures in `shown` (a stored build's clutch is read in its
+/// storage units and answered in the shop's).
+pub fn recommend_shown(req: &RecommendRequest, shown: Units) -> Result<Recommendation, InputError> {
     let valid = req.setup.validate()?;
     match &req.setup.levers {
         Some(l) if l.count > 0 => {}
@@ -367,7 +374,7 @@ pub fn recommend(req: &RecommendRequest) -> Result<Recommendation, InputError> {
     if let Some(l) = chosen.levers.as_mut() {
         l.counterweight_g = best.weight_g;
     }
-    let report = capacity(&chosen)?;
+    let report = report_for(&chosen.validate_shown(shown)?);
     let result = SettingResult {
         lockup_rpm: report.lockup_rpm,
         lockup_at_or_below: report.lockup_at_or_below,

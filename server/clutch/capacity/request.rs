@@ -202,7 +202,6 @@ pub struct ValidRequest {
     pub notes: Vec<String>,
 }
 
-/// A bound that reads as a round number in each system: (imperial, metric).
 /// A whole count checked against its limit.
 fn count_in(field: &str, v: u32, limit: Limit) -> Result<u32, InputError> {
     limit.check(field, f64::from(v), Units::Metric).map(|_| v)
@@ -211,6 +210,9 @@ fn count_in(field: &str, v: u32, limit: Limit) -> Result<u32, InputError> {
 impl CapacityRequest {
     /// The same clutch described in another unit system (lengths, forces, rates, torques
     /// converted; grams, counts, ratios and speeds unchanged). Non-finite values stay so.
+    /// Only the tests use it, to check both systems give one answer: the program reads a
+    /// request in its own units and shows the answer in another (`validate_shown`).
+    #[cfg(test)]
     pub fn in_units(&self, target: Units) -> CapacityRequest {
         let from = self.units;
         let len = |v: f64| target.mm_to_length(from.length_to_mm(v));
@@ -246,6 +248,13 @@ impl CapacityRequest {
     /// Checks every value and builds the model in internal units (mm, N, N/mm, N·m, g).
     /// Errors name the first offending field by its JSON path.
     pub fn validate(&self) -> Result<ValidRequest, InputError> {
+        self.validate_shown(self.units)
+    }
+
+    /// [`Self::validate`], with the answer (report, notes) to be shown in `shown`: a stored
+    /// build's clutch is read in its storage units and shown in the shop's, with no trip
+    /// through the shop's units on the way.
+    pub fn validate_shown(&self, shown: Units) -> Result<ValidRequest, InputError> {
         let u = self.units;
         let od = limits::FACING_DIAMETER.check_shown(
             "disc.outer_diameter",
@@ -323,7 +332,7 @@ impl CapacityRequest {
             if self.springs.bind_margin.is_none() {
                 notes.push(format!(
                     "The clearance kept to coil bind is the default {} (common shop practice).",
-                    crate::quantity::Kind::Length.show(u, springs.bind_margin_mm)
+                    crate::quantity::Kind::Length.show(shown, springs.bind_margin_mm)
                 ));
             }
         }
@@ -332,7 +341,7 @@ impl CapacityRequest {
             None => DEFAULT_OVERCLAMP_FACTOR,
         };
         Ok(ValidRequest {
-            units: u,
+            units: shown,
             model: ClutchModel {
                 springs,
                 adjuster_turns: turns,
