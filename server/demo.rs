@@ -2,6 +2,9 @@
 //! clutch builds with bench tests, cover-height histories and passes. Every name is made up.
 //! Values are typed here in the shop's trade units (in, lbf, lbf*ft) and stored in storage units.
 
+use crate::records::measure::{
+    EngineSpeed, Force, Grams, Length, Mass, Seconds, SpringRate, Temperature, Torque,
+};
 use sqlx::{SqliteConnection, SqlitePool};
 
 use crate::records::bench::{BenchInput, SpringReading};
@@ -29,14 +32,14 @@ pub type DemoError = Box<dyn std::error::Error + Send + Sync>;
 
 const IN: Units = Units::Imperial;
 
-fn inch(v: f64) -> f64 {
-    IN.length_to_mm(v)
+fn inch(v: f64) -> Length {
+    Length::from_mm(IN.length_to_mm(v))
 }
-fn lbf(v: f64) -> f64 {
-    IN.force_to_n(v)
+fn lbf(v: f64) -> Force {
+    Force::from_n(IN.force_to_n(v))
 }
-fn lbf_per_in(v: f64) -> f64 {
-    IN.rate_to_n_per_mm(v)
+fn lbf_per_in(v: f64) -> SpringRate {
+    SpringRate::from_n_per_mm(IN.rate_to_n_per_mm(v))
 }
 
 /// Loads the demo shop into an empty database; returns false (and changes nothing) otherwise.
@@ -379,12 +382,12 @@ async fn seed_customer(
             description: car.description.into(),
             engine: car.engine.into(),
             transmission: car.transmission.into(),
-            weight_kg: Some(IN.weight_to_kg(3300.0)),
-            rated_input_torque_nm: Some(IN.torque_to_nm(car.rated_lbf_ft)),
+            weight_kg: Some(Mass::from_kg(IN.weight_to_kg(3300.0))),
+            rated_input_torque_nm: Some(Torque::from_nm(IN.torque_to_nm(car.rated_lbf_ft))),
             first_gear_ratio: Some(2.43),
             final_drive_ratio: Some(4.11),
             tire_diameter_mm: Some(inch(28.0)),
-            launch_rpm: Some(car.launch_rpm),
+            launch_rpm: Some(EngineSpeed::from_rpm(car.launch_rpm)),
             torque_curve_nm: car
                 .curve_lbf_ft
                 .iter()
@@ -427,7 +430,7 @@ async fn seed_build(
         base_compression_mm: Some(inch(0.220)),
         cover_height_installed_mm: None,
         lever_count: b.levers,
-        lever_mass_g: 12.0,
+        lever_mass_g: Grams::from_g(12.0),
         lever_cg_radius_mm: Some(inch(if b.discs > 1 { 3.2 } else { 4.1 })),
         lever_arm_ratio: Some(2.6),
         shim_stack_mm: b.shims_in.iter().map(|s| inch(*s)).collect(),
@@ -449,7 +452,7 @@ async fn seed_build(
             changed_on: format!("{}-0{}", months[i], 2 + i),
             adjuster_turns: *turns,
             adjuster_turns_each: Vec::new(),
-            counterweight_g: *cw,
+            counterweight_g: Grams::from_g(*cw),
             mu: None,
             nominal_mu: false,
             note: if i == 0 {
@@ -524,16 +527,16 @@ async fn seed_build(
                 format!("2026-11-{:02}", day - 31)
             },
             track: (*track).into(),
-            launch_rpm: Some(*launch),
-            sixty_ft_s: Some(*sixty),
-            et_s: Some(*et),
-            observed_lockup_rpm: *lockup,
+            launch_rpm: Some(EngineSpeed::from_rpm(*launch)),
+            sixty_ft_s: Some(Seconds::from_s(*sixty)),
+            et_s: Some(Seconds::from_s(*et)),
+            observed_lockup_rpm: lockup.map(EngineSpeed::from_rpm),
             lockup_time_s: None,
             notes: String::new(),
             // Invented times and air temperatures (one pass a day, so each launches at the
             // air temperature): too little spread for the heat fit, which the tuning page says.
             run_at: format!("{:02}:{:02}", 10 + i % 5, (i * 17) % 60),
-            ambient_c: Some(8.0 + ((i * 7) % 23) as f64),
+            ambient_c: Some(Temperature::from_c(8.0 + ((i * 7) % 23) as f64)),
         };
         let pass_id = db::passes::insert(
             tx,
@@ -569,7 +572,7 @@ async fn seed_log(
     else {
         return Ok(());
     };
-    let text = log::pass_log(&c.torque_curve_nm, first, fin, tire);
+    let text = log::pass_log(&c.torque_curve_nm, first, fin, tire.mm());
     let settings = LogSettings {
         columns: LogColumns {
             time: "Time".into(),
@@ -586,7 +589,7 @@ async fn seed_log(
     let facts = CarFacts {
         first_gear_ratio: c.first_gear_ratio,
         final_drive_ratio: c.final_drive_ratio,
-        tire_diameter_mm: c.tire_diameter_mm,
+        tire_diameter_mm: c.tire_diameter_mm.map(Length::mm),
         torque_curve_nm: &c.torque_curve_nm,
     };
     let result = settings

@@ -1214,10 +1214,13 @@ mod tests {
         assert_eq!(problems[2].message, "enter a number");
         assert_eq!(rows.len(), 1);
         let b = rows[0].build.as_ref().unwrap();
-        assert_eq!(b.spring_rate_n_per_mm, Some(300.0 * 0.175126835246476));
-        assert_eq!(b.facing_od_mm, 7.25 * 25.4);
+        assert_eq!(
+            b.spring_rate_n_per_mm.map(|r| r.n_per_mm()),
+            Some(300.0 * 0.175126835246476)
+        );
+        assert_eq!(b.facing_od_mm.mm(), 7.25 * 25.4);
         let h = rows[0].measurement.as_ref().unwrap();
-        assert_eq!(h.height_mm, 2.1 * 25.4);
+        assert_eq!(h.height_mm.mm(), 2.1 * 25.4);
         assert_eq!(h.passes, 0);
         assert_eq!(h.measured_on, "2019-03-04");
     }

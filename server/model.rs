@@ -20,6 +20,7 @@ pub mod launch;
 /// A build's disc: its cover heights as a wear request, its pass count, its shimming limit.
 pub mod wear;
 
+use crate::records::measure::Grams;
 use clutch::InputError;
 use clutch::capacity::report::{CapacityReport, report_for};
 use clutch::capacity::request::CapacityRequest;
@@ -47,7 +48,7 @@ impl Trial {
             },
             |s| Self {
                 adjuster_turns: s.adjuster_turns,
-                counterweight_g: s.counterweight_g,
+                counterweight_g: s.counterweight_g.g(),
                 mu: s.mu.filter(|_| !s.nominal_mu),
             },
         )
@@ -63,7 +64,7 @@ impl Trial {
     pub fn as_setup(&self) -> SetupInput {
         SetupInput {
             adjuster_turns: self.adjuster_turns,
-            counterweight_g: self.counterweight_g,
+            counterweight_g: Grams::from_g(self.counterweight_g),
             mu: self.mu,
             ..SetupInput::default()
         }

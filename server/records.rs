@@ -9,6 +9,7 @@ pub mod car;
 pub mod customer;
 pub mod date;
 pub mod height;
+pub mod measure;
 pub mod pass;
 pub mod settings;
 pub mod setup;

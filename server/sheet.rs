@@ -2,6 +2,7 @@
 //! figures it shows, worked out again from that snapshot (so a reprint matches the original).
 //! No IO.
 
+use crate::records::measure::{Force, Length, SpringRate};
 use serde::{Deserialize, Serialize};
 
 use crate::model::as_of::{BuildAsOf, tested_rate};
@@ -72,10 +73,10 @@ pub struct BenchOnSheet {
     /// Mean spring load at the installed length, N, when the test measured free lengths
     /// (absent on sheets printed before loads were tracked: those keep their figures).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub installed_load_n: Option<f64>,
+    pub installed_load_n: Option<Force>,
     /// The springs' installed length, mm, when known (for the coil-bind check).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub installed_length_mm: Option<f64>,
+    pub installed_length_mm: Option<Length>,
 }
 
 impl SheetInputs {
@@ -102,10 +103,10 @@ impl SheetInputs {
                 readings: t
                     .springs
                     .iter()
-                    .map(|s| [s.compression_mm, s.force_n])
+                    .map(|s| [s.compression_mm.mm(), s.force_n.n()])
                     .collect(),
-                installed_load_n: now.tested_load_n,
-                installed_length_mm: now.installed_length_mm,
+                installed_load_n: now.tested_load,
+                installed_length_mm: now.installed_length,
             }),
             heights: current_disc(&d.heights)
                 .iter()
@@ -151,7 +152,7 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
         &inputs.settings,
         inputs.setup.as_ref(),
         inputs.bench.as_ref().map(|_| 0),
-        tested,
+        tested.map(SpringRate::from_n_per_mm),
         inputs.bench.as_ref().and_then(|b| b.installed_load_n),
         inputs.bench.as_ref().and_then(|b| b.installed_length_mm),
         inputs.heights.iter().collect(),
@@ -162,7 +163,7 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
     }
     if !inputs.wear_in_clamp {
         // Printed before the figures took wear off the static clamp: they reprint as shown.
-        build.clamp_loss_n = 0.0;
+        build.clamp_loss = Force::from_n(0.0);
     }
     let units = inputs.units();
     let capacity = build.figures(units);

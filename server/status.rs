@@ -7,6 +7,7 @@
 //! commits. [`work_due`] reads the listed rows and gives exactly `model::due::work_due`'s answer (the
 //! property test in `tests/integration/status.rs` compares the two on random histories).
 
+use crate::records::measure::SpringRate;
 use sqlx::SqliteConnection;
 
 use crate::db;
@@ -34,7 +35,9 @@ pub fn of_history(
     let tested = review
         .as_ref()
         .and_then(|r| r.last().map(|t| t.spread.mean));
-    let rate = tested.or(build.spring_rate_n_per_mm);
+    let rate = tested
+        .map(SpringRate::from_n_per_mm)
+        .or(build.spring_rate_n_per_mm);
     let mut s = BuildStatus::default();
     if let Ok(req) = wear_request(build, settings, rate, heights)
         && let Ok(report) = wear::analyze(&req)

@@ -8,6 +8,7 @@ use super::{Figures, Missing, Trial, TuningTargets, curve_range, figures};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
+use crate::records::measure::{EngineSpeed, Force, Length, LeverGain, SpringRate};
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
 use crate::records::stored::{BenchTest, Dossier};
@@ -38,18 +39,18 @@ pub struct BuildAsOf<'a> {
     /// Index (oldest first) of the bench test in force: the latest on or before the date, the
     /// earliest when none is before it.
     pub bench_index: Option<usize>,
-    /// Mean spring rate of the bench test in force, N/mm, when there is one.
-    pub tested_rate_n_per_mm: Option<f64>,
-    /// Mean spring load at the installed length in the bench test in force, N, when it
-    /// measured free lengths (see [`bench_review`]).
-    pub tested_load_n: Option<f64>,
-    /// The length the clutch holds its springs at with the adjusters at zero turns, mm (see
+    /// Mean spring rate of the bench test in force, when there is one.
+    pub tested_rate: Option<SpringRate>,
+    /// Mean spring load at the installed length in the bench test in force, when it measured
+    /// free lengths (see [`bench_review`]).
+    pub tested_load: Option<Force>,
+    /// The length the clutch holds its springs at with the adjusters at zero turns (see
     /// [`bench_review`]).
-    pub installed_length_mm: Option<f64>,
+    pub installed_length: Option<Length>,
     /// Cover heights measured on or before the date, in pass order (every disc).
     pub heights: Vec<&'a HeightInput>,
-    /// Static clamp lost to disc wear since the last shim, N, by the latest of `heights`.
-    pub clamp_loss_n: f64,
+    /// Static clamp lost to disc wear since the last shim, by the latest of `heights`.
+    pub clamp_loss: Force,
     /// The friction coefficient in force and why (`trial.mu` is its `mu`).
     pub friction: Friction,
 }
@@ -232,7 +233,7 @@ impl<'a> BuildAsOf<'a> {
             .rposition(|t| upto(&t.tested_on))
             .or((!d.bench.is_empty()).then_some(0));
         let tests = health_tests(&d.bench[..bench_index.map_or(0, |i| i + 1)]);
-        let installed = installed_length_mm(&tests, &d.build.data);
+        let installed = installed_length(&tests, &d.build.data);
         let review = review(&tests, settings, installed);
         let in_force = review.as_ref().and_then(|r| r.last());
         Self::assemble(
@@ -241,8 +242,8 @@ impl<'a> BuildAsOf<'a> {
             settings,
             setup,
             bench_index,
-            in_force.map(|t| t.spread.mean),
-            in_force.and_then(|t| t.mean_load_n()),
+            in_force.map(|t| SpringRate::from_n_per_mm(t.spread.mean)),
+            in_force.and_then(|t| t.mean_load_n()).map(Force::from_n),
             installed,
             d.heights
                 .iter()
@@ -264,9 +265,9 @@ impl<'a> BuildAsOf<'a> {
         settings: &'a SettingsInput,
         setup: Option<&'a SetupInput>,
         bench_index: Option<usize>,
-        tested_rate_n_per_mm: Option<f64>,
-        tested_load_n: Option<f64>,
-        installed_length_mm: Option<f64>,
+        tested_rate: Option<SpringRate>,
+        tested_load: Option<Force>,
+        installed_length: Option<Length>,
         heights: Vec<&'a HeightInput>,
     ) -> Self {
         let nominal =
@@ -279,14 +280,14 @@ impl<'a> BuildAsOf<'a> {
             trial: Trial::from_setup(setup),
             friction: Friction::choose(setup, nominal, None),
             bench_index,
-            tested_rate_n_per_mm,
-            tested_load_n,
-            installed_length_mm,
+            tested_rate,
+            tested_load,
+            installed_length,
             heights,
-            clamp_loss_n: 0.0,
+            clamp_loss: Force::from_n(0.0),
         };
         build.trial.mu = build.friction.mu;
-        build.clamp_loss_n = build.clamp_loss();
+        build.clamp_loss = build.wear_clamp_loss();
         build
     }
 
@@ -300,29 +301,30 @@ impl<'a> BuildAsOf<'a> {
     }
 
     /// The spring rate the figures use: the bench test's mean, else the nominal rate.
-    pub fn spring_rate(&self) -> Option<f64> {
-        self.tested_rate_n_per_mm
-            .or(self.build.spring_rate_n_per_mm)
+    pub fn spring_rate(&self) -> Option<SpringRate> {
+        self.tested_rate.or(self.build.spring_rate_n_per_mm)
     }
 
-    /// Spring compression at zero turns the figures use, mm: the one the bench test's loads
-    /// at the installed length give at its mean rate (so sagged springs clamp less), else the
+    /// Spring compression at zero turns the figures use: the one the bench test's loads at
+    /// the installed length give at its mean rate (so sagged springs clamp less), else the
     /// build's base compression.
-    pub fn base_compression_mm(&self) -> Option<f64> {
-        match (self.tested_load_n, self.tested_rate_n_per_mm) {
-            (Some(load), Some(rate)) if rate > 0.0 => Some(load / rate),
-            _ => base_compression_mm(self.build),
+    pub fn base_compression(&self) -> Option<Length> {
+        match (self.tested_load, self.tested_rate) {
+            (Some(load), Some(rate)) if rate.n_per_mm() > 0.0 => {
+                Some(Length::from_mm(load.n() / rate.n_per_mm()))
+            }
+            _ => base_compression(self.build),
         }
     }
 
-    /// Adjuster travel per turn, mm (one thread pitch).
-    pub fn pitch_mm(&self) -> f64 {
+    /// Adjuster travel per turn (one thread pitch).
+    pub fn pitch(&self) -> Length {
         let thread = match (self.build.adjuster_tpi, self.build.adjuster_pitch_mm) {
             (Some(tpi), _) => Thread::Tpi(tpi),
-            (None, Some(p)) => Thread::MetricPitch(p),
-            _ => return 0.0,
+            (None, Some(p)) => Thread::MetricPitch(p.mm()),
+            _ => return Length::from_mm(0.0),
         };
-        thread.travel_per_turn_mm("adjuster_tpi").unwrap_or(0.0)
+        Length::from_mm(thread.travel_per_turn_mm("adjuster_tpi").unwrap_or(0.0))
     }
 
     /// The wear request of the disc in the clutch on the date.
@@ -330,14 +332,16 @@ impl<'a> BuildAsOf<'a> {
         wear_request(self.build, self.settings, self.spring_rate(), &self.heights)
     }
 
-    /// Static clamp lost to wear, N, by the latest cover height: the wear model's clamp loss,
-    /// 0 without measurements or a spring rate.
-    fn clamp_loss(&self) -> f64 {
-        self.wear()
-            .ok()
-            .and_then(|req| clutch::wear::analyze(&req).ok())
-            .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))
-            .unwrap_or(0.0)
+    /// Static clamp lost to wear by the latest cover height: the wear model's clamp loss, 0
+    /// without measurements or a spring rate.
+    fn wear_clamp_loss(&self) -> Force {
+        Force::from_n(
+            self.wear()
+                .ok()
+                .and_then(|req| clutch::wear::analyze(&req).ok())
+                .and_then(|r| r.measurements.last().map(|m| m.clamp_loss.max(0.0)))
+                .unwrap_or(0.0),
+        )
     }
 
     /// The capacity request of the setting in force, or what is missing to make one.
@@ -396,28 +400,34 @@ impl<'a> BuildAsOf<'a> {
             .spring_rate()
             .ok_or("Record a spring bench test or a nominal spring rate.")?;
         let base = self
-            .base_compression_mm()
+            .base_compression()
             .ok_or("Enter the base compression, or the cover heights free and installed.")?;
         // A measured gain stands for the whole lever; the geometry is used only without one.
         let geometry = b.lever_gain_n_per_g.is_none();
         let levers = (b.lever_count > 0).then(|| LeversInput {
             count: b.lever_count as u32,
             counterweight_g: trial.counterweight_g,
-            lever_mass_g: b.lever_mass_g,
-            cg_radius: b.lever_cg_radius_mm.filter(|_| geometry),
+            lever_mass_g: b.lever_mass_g.g(),
+            cg_radius: b.lever_cg_radius_mm.map(Length::mm).filter(|_| geometry),
             arm_ratio: b.lever_arm_ratio.filter(|_| geometry),
-            gain: b.lever_gain_n_per_g,
-            body_cg_radius: b.lever_body_cg_radius_mm.filter(|_| geometry),
+            gain: b.lever_gain_n_per_g.map(LeverGain::n_per_g),
+            body_cg_radius: b
+                .lever_body_cg_radius_mm
+                .map(Length::mm)
+                .filter(|_| geometry),
             body_arm_ratio: None,
             body_force_at_1000: None,
         });
         let (lo, hi) = curve_range(&car.torque_curve_nm);
-        let launch_rpm = car.launch_rpm.filter(|rpm| (lo..=hi).contains(rpm));
+        let launch_rpm = car
+            .launch_rpm
+            .map(EngineSpeed::rpm)
+            .filter(|rpm| (lo..=hi).contains(rpm));
         Ok(CapacityRequest {
             units: Units::Metric,
             disc: DiscInput {
-                outer_diameter: b.facing_od_mm,
-                inner_diameter: b.facing_id_mm,
+                outer_diameter: b.facing_od_mm.mm(),
+                inner_diameter: b.facing_id_mm.mm(),
                 count: b.disc_count as u32,
                 theory: Theory::UniformWear,
                 // Full share is the API's default; only a derated shop sends it.
@@ -430,19 +440,22 @@ impl<'a> BuildAsOf<'a> {
             },
             springs: SpringsInput {
                 count: b.spring_count as u32,
-                rate,
-                base_compression: base,
-                adjuster_pitch: self.pitch_mm(),
+                rate: rate.n_per_mm(),
+                base_compression: base.mm(),
+                adjuster_pitch: self.pitch().mm(),
                 adjuster_turns: trial.adjuster_turns,
-                clamp_loss: self.clamp_loss_n,
+                clamp_loss: self.clamp_loss.n(),
                 // The springs' free length now: installed length plus compression at zero turns.
                 free_length: self
-                    .installed_length_mm
+                    .installed_length
                     .filter(|_| b.spring_solid_height_mm.is_some())
-                    .map(|l| l + base),
-                solid_height: self.installed_length_mm.and(b.spring_solid_height_mm),
-                release_travel: b.release_travel_mm,
-                bind_margin: Some(self.settings.bind_margin_mm),
+                    .map(|l| (l + base).mm()),
+                solid_height: self
+                    .installed_length
+                    .and(b.spring_solid_height_mm)
+                    .map(Length::mm),
+                release_travel: b.release_travel_mm.map(Length::mm),
+                bind_margin: Some(self.settings.bind_margin_mm.mm()),
                 adjuster_turns_each: None,
             },
             levers,
@@ -450,23 +463,23 @@ impl<'a> BuildAsOf<'a> {
                 torque_curve: car.torque_curve_nm.clone(),
             },
             launch_rpm,
-            driveline: car
-                .rated_input_torque_nm
-                .map(|t| DrivelineInput { rated_torque: t }),
+            driveline: car.rated_input_torque_nm.map(|t| DrivelineInput {
+                rated_torque: t.nm(),
+            }),
             overclamp_factor: Some(self.settings.overclamp_factor),
         })
     }
 }
 
 /// Reviews a build's bench tests (oldest first) with the shop's tolerances, each spring's load
-/// taken at the installed length (see [`installed_length_mm`]).
+/// taken at the installed length (see [`installed_length`]).
 pub fn bench_review(
     bench: &[BenchTest],
     build: &BuildInput,
     settings: &SettingsInput,
 ) -> Option<Vec<TestReview>> {
     let tests = health_tests(bench);
-    review(&tests, settings, installed_length_mm(&tests, build))
+    review(&tests, settings, installed_length(&tests, build))
 }
 
 /// One bench test's readings (spring position, compression mm, force N) reviewed alone: the
@@ -492,13 +505,13 @@ pub fn tested_rate(readings: &[[f64; 2]], settings: &SettingsInput) -> Option<f6
 fn review(
     tests: &[spring_health::BenchTest],
     settings: &SettingsInput,
-    installed_length_mm: Option<f64>,
+    installed_length: Option<Length>,
 ) -> Option<Vec<TestReview>> {
     spring_health::review(
         tests,
         settings.spring_spread_pct,
         settings.spring_sag_pct,
-        installed_length_mm,
+        installed_length.map(Length::mm),
     )
     .ok()
 }
@@ -513,13 +526,17 @@ fn health_tests(bench: &[BenchTest]) -> Vec<spring_health::BenchTest> {
                 .iter()
                 .map(|s| {
                     let point = BenchPoint {
-                        compression_mm: s.compression_mm,
-                        force_n: s.force_n,
+                        compression_mm: s.compression_mm.mm(),
+                        force_n: s.force_n.n(),
                     };
                     (s.position.max(1) as usize, point)
                 })
                 .collect(),
-            free_lengths_mm: t.springs.iter().map(|s| s.free_length_mm).collect(),
+            free_lengths_mm: t
+                .springs
+                .iter()
+                .map(|s| s.free_length_mm.map(Length::mm))
+                .collect(),
         })
         .collect()
 }
@@ -528,14 +545,13 @@ fn health_tests(bench: &[BenchTest]) -> Vec<spring_health::BenchTest> {
 /// free length at the first bench test that measured every free length, minus the base
 /// compression (free length when first tested stands for the free length the base compression
 /// was measured against). `None` without such a test or a base compression.
-fn installed_length_mm(tests: &[spring_health::BenchTest], build: &BuildInput) -> Option<f64> {
-    let free = tests.iter().find_map(|t| t.mean_free_length_mm())?;
-    base_compression_mm(build).map(|base| free - base)
+fn installed_length(tests: &[spring_health::BenchTest], build: &BuildInput) -> Option<Length> {
+    let free = Length::from_mm(tests.iter().find_map(|t| t.mean_free_length_mm())?);
+    base_compression(build).map(|base| free - base)
 }
 
-/// Base compression of a build's springs, mm: given directly, or free minus installed cover
-/// height.
-pub fn base_compression_mm(b: &BuildInput) -> Option<f64> {
+/// Base compression of a build's springs: given directly, or free minus installed cover height.
+pub fn base_compression(b: &BuildInput) -> Option<Length> {
     b.base_compression_mm.or(
         match (b.cover_height_free_mm, b.cover_height_installed_mm) {
             (Some(free), Some(installed)) => Some(free - installed),

@@ -3,6 +3,7 @@
 
 use super::as_of::BuildAsOf;
 use super::{Missing, curve_range};
+use crate::records::measure::{EngineSpeed, Seconds};
 use crate::records::settings::SettingsInput;
 use crate::records::stored::{Dossier, KeptLaunchFit, LogSummary, Pass};
 use clutch::InputError;
@@ -77,7 +78,8 @@ impl DayClutch {
         let rpm = pass
             .data
             .observed_lockup_rpm
-            .unwrap_or(log.lockup_engine_rpm);
+            .unwrap_or(log.lockup_engine_rpm)
+            .rpm();
         let torque = ratio * law.capacity_nm(rpm);
         (ratio > 0.0 && torque > 0.0).then_some((ratio, torque))
     }
@@ -123,7 +125,7 @@ pub fn calibrated(
             .data
             .observed_lockup_rpm
             .or(log.map(|l| l.lockup_engine_rpm));
-        let Some(rpm) = seen.or(read.map(|r| r.lockup_rpm)) else {
+        let Some(rpm) = seen.map(EngineSpeed::rpm).or(read.map(|r| r.lockup_rpm)) else {
             continue;
         };
         let day = pass.data.run_on.as_str();
@@ -331,10 +333,11 @@ fn launch_request_of(
     settings: &SettingsInput,
     pass: &Pass,
 ) -> Option<Result<LaunchCalibrateRequest, String>> {
-    let launch_rpm = pass.data.launch_rpm?;
+    let launch_rpm = pass.data.launch_rpm?.rpm();
     let lock_time = pass
         .data
         .lockup_time_s
+        .map(Seconds::s)
         .or(d.log_of(pass.id).map(LogSummary::lockup_after_launch_s))?;
     let day = pass.data.run_on.as_str();
     let at = BuildAsOf::on(d, settings, day);
@@ -410,7 +413,9 @@ fn fit_one(pass: &Pass, inputs: i64, request: &LaunchCalibrateRequest) -> KeptLa
     let (mu, lockup_rpm, note) = match calibrate_launch(request) {
         Ok(fit) => (
             Some(fit.mu),
-            fit.passes.first().map(|p| p.simulated_lockup_rpm),
+            fit.passes
+                .first()
+                .map(|p| EngineSpeed::from_rpm(p.simulated_lockup_rpm)),
             None,
         ),
         Err(e) => (
@@ -445,7 +450,7 @@ pub fn by_launch(d: &Dossier, settings: &SettingsInput) -> Option<LaunchMethod> 
                 (Some(mu), Some(lockup_rpm)) => m.passes.push(LaunchRead {
                     pass_id: f.pass_id,
                     mu,
-                    lockup_rpm,
+                    lockup_rpm: lockup_rpm.rpm(),
                 }),
                 _ => m.notes.extend(f.note),
             }
@@ -509,7 +514,8 @@ pub fn method_flags(
             .passes
             .iter()
             .find(|x| x.id == *id)
-            .and_then(|x| x.data.launch_rpm);
+            .and_then(|x| x.data.launch_rpm)
+            .map(EngineSpeed::rpm);
         if let Some(launch_rpm) = launch_rpm {
             let below_pct = (launch_rpm - p.lockup_rpm) / launch_rpm * 100.0;
             if below_pct > settings.launch_bog_pct {

@@ -1,6 +1,7 @@
 //! The counter's work-due list: every active build's disc, shims and springs, most urgent first.
 //! No IO.
 
+use crate::records::measure::SpringRate;
 use std::collections::HashMap;
 
 use super::as_of::bench_review;
@@ -202,7 +203,9 @@ pub fn work_due(
             car_description: ab.owner.car_description.clone(),
             reason,
         };
-        let rate = tested.or(b.data.spring_rate_n_per_mm);
+        let rate = tested
+            .map(SpringRate::from_n_per_mm)
+            .or(b.data.spring_rate_n_per_mm);
         if let Ok(req) = wear_request(&b.data, settings, rate, own)
             && let Ok(report) = clutch::wear::analyze(&req)
         {

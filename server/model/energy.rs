@@ -1,6 +1,7 @@
 //! A build's disc wear per unit of slip energy, and the forecast that follows at the current
 //! setting's slip energy per pass. No IO.
 
+use crate::records::measure::EngineSpeed;
 use std::collections::HashMap;
 
 use super::as_of::BuildAsOf;
@@ -82,7 +83,7 @@ impl<'a> PassEnergies<'a> {
         }
         let key = (
             pass.data.run_on.clone(),
-            pass.data.launch_rpm.map(f64::to_bits),
+            pass.data.launch_rpm.map(|r| r.rpm().to_bits()),
         );
         let (d, settings) = (self.d, self.settings);
         self.modelled
@@ -91,7 +92,7 @@ impl<'a> PassEnergies<'a> {
                 let at = BuildAsOf::on(d, settings, &pass.data.run_on);
                 at.setup
                     .ok_or("No setup was in force on the pass's date.")?;
-                modelled_energy_j(&at, at.trial, pass.data.launch_rpm)
+                modelled_energy_j(&at, at.trial, pass.data.launch_rpm.map(EngineSpeed::rpm))
             })
             .clone()
     }

@@ -2,6 +2,7 @@
 //! No IO: it works on a loaded build and its calibration, which it does not run again.
 
 use super::calibration::BuildCalibration;
+use crate::records::measure::{Mass, Temperature};
 use crate::records::stored::Dossier;
 use clutch::capacity::friction::FacingMaterial;
 use clutch::heat::{
@@ -34,7 +35,7 @@ pub struct HeatStudy {
 /// figure.
 pub fn study(d: &Dossier, settings: &SettingsInput, cal: &BuildCalibration) -> HeatStudy {
     let share = default_plate_share(FacingMaterial::from_key(&d.build.data.facing_material));
-    let plate_kg = d.car.data.pressure_plate_mass_kg.or_else(|| {
+    let plate_kg = d.car.data.pressure_plate_mass_kg.map(Mass::kg).or_else(|| {
         ESTIMATES
             .iter()
             .find(|e| e.column == "pressure_plate_mass_kg")
@@ -46,7 +47,9 @@ pub fn study(d: &Dossier, settings: &SettingsInput, cal: &BuildCalibration) -> H
     for pass in d.passes.iter().rev() {
         let p = &pass.data;
         let day = p.run_on.replace('-', "").parse::<i64>().unwrap_or_default();
-        let (Some(at_s), Some(ambient_c)) = (time_of_day_s(&p.run_at), p.ambient_c) else {
+        let (Some(at_s), Some(ambient_c)) =
+            (time_of_day_s(&p.run_at), p.ambient_c.map(Temperature::c))
+        else {
             broken_days.push(&p.run_on);
             continue;
         };

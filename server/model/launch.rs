@@ -6,6 +6,7 @@
 use super::as_of::BuildAsOf;
 use super::{Missing, Trial};
 use crate::records::car::CarInput;
+use crate::records::measure::{EngineSpeed, Length, Mass};
 use clutch::launch::request::{
     DEFAULT_AIR_DENSITY, LaunchDriveline, LaunchEngine, LaunchFriction, LaunchRequest,
     LaunchVehicle, ThermalInput,
@@ -153,14 +154,14 @@ fn or_estimate(car: &CarInput, column: &str, used: &mut Vec<Estimate>) -> f64 {
         "driveshaft_inertia_kg_m2" => car.driveshaft_inertia_kg_m2,
         "rear_axle_inertia_kg_m2" => car.rear_axle_inertia_kg_m2,
         "front_axle_inertia_kg_m2" => car.front_axle_inertia_kg_m2,
-        "wheelbase_mm" => car.wheelbase_mm,
-        "cg_to_front_axle_mm" => car.cg_to_front_axle_mm,
-        "cg_height_mm" => car.cg_height_mm,
+        "wheelbase_mm" => car.wheelbase_mm.map(Length::mm),
+        "cg_to_front_axle_mm" => car.cg_to_front_axle_mm.map(Length::mm),
+        "cg_height_mm" => car.cg_height_mm.map(Length::mm),
         "drag_area_m2" => car.drag_area_m2,
         "tire_grip" => car.tire_grip,
         "tire_grip_spinning" => car.tire_grip_spinning,
-        "flywheel_mass_kg" => car.flywheel_mass_kg,
-        "pressure_plate_mass_kg" => car.pressure_plate_mass_kg,
+        "flywheel_mass_kg" => car.flywheel_mass_kg.map(Mass::kg),
+        "pressure_plate_mass_kg" => car.pressure_plate_mass_kg.map(Mass::kg),
         _ => None,
     };
     stored.unwrap_or_else(|| {
@@ -184,9 +185,9 @@ impl BuildAsOf<'_> {
         let clutch = self.capacity_request(trial)?;
         let car = self.car;
         let launch_rpm = launch_rpm
-            .or(car.launch_rpm)
+            .or(car.launch_rpm.map(EngineSpeed::rpm))
             .ok_or("Enter the car's typical launch speed.")?;
-        let mass = car.weight_kg.ok_or("Enter the car's race weight.")?;
+        let mass = car.weight_kg.ok_or("Enter the car's race weight.")?.kg();
         let first_gear_ratio = car
             .first_gear_ratio
             .ok_or("Enter the car's first gear ratio.")?;
@@ -195,7 +196,8 @@ impl BuildAsOf<'_> {
             .ok_or("Enter the car's final drive ratio.")?;
         let tire_diameter = car
             .tire_diameter_mm
-            .ok_or("Enter the car's tire diameter.")?;
+            .ok_or("Enter the car's tire diameter.")?
+            .mm();
         let mut used = Vec::new();
         let mut v = |column: &str| or_estimate(car, column, &mut used);
         let engine_inertia = v("engine_inertia_kg_m2");

@@ -3,6 +3,7 @@
 
 use crate::records::build::BuildInput;
 use crate::records::height::HeightInput;
+use crate::records::measure::{Length, SpringRate};
 use crate::records::settings::SettingsInput;
 use crate::records::stored::{Height, Pass};
 use clutch::units::Units;
@@ -17,7 +18,7 @@ use super::Missing;
 pub fn wear_request<T: AsRef<HeightInput>>(
     build: &BuildInput,
     settings: &SettingsInput,
-    spring_rate_n_per_mm: Option<f64>,
+    spring_rate: Option<SpringRate>,
     heights: &[T],
 ) -> Result<WearRequest, Missing> {
     let heights = current_disc(heights);
@@ -25,29 +26,28 @@ pub fn wear_request<T: AsRef<HeightInput>>(
         .first()
         .ok_or("No cover-height measurement yet.")?
         .as_ref();
-    let rate =
-        spring_rate_n_per_mm.ok_or("Record a spring bench test or a nominal spring rate.")?;
-    let limit = shimming_limit_mm(build, settings);
+    let rate = spring_rate.ok_or("Record a spring bench test or a nominal spring rate.")?;
+    let limit = shimming_limit(build, settings);
     // Cover height grows with the wear of the whole pack, so the allowance is per disc times
     // the number of discs.
     let allowance = match (build.disc_thickness_new_mm, build.disc_thickness_min_mm) {
         (Some(new), Some(min)) => (new - min) * build.disc_count.max(1) as f64,
-        _ => limit + build.shim_stack_mm.iter().sum::<f64>(),
+        _ => limit + build.shim_stack_mm.iter().sum::<Length>(),
     };
     Ok(WearRequest {
         units: Units::Metric,
-        baseline_cover_height: first.height_mm,
-        shimming_limit: limit,
-        shims: build.shim_stack_mm.clone(),
+        baseline_cover_height: first.height_mm.mm(),
+        shimming_limit: limit.mm(),
+        shims: build.shim_stack_mm.iter().map(|s| s.mm()).collect(),
         spring_count: build.spring_count as u32,
-        spring_rate: rate,
-        disc_wear_allowance: allowance,
+        spring_rate: rate.n_per_mm(),
+        disc_wear_allowance: allowance.mm(),
         measurements: heights
             .iter()
             .map(|h| h.as_ref())
             .map(|h| Measurement {
                 passes: h.passes.max(0) as u32,
-                cover_height: h.height_mm,
+                cover_height: h.height_mm.mm(),
                 shims_pulled: h.shims_pulled.max(0) as u32,
             })
             .collect(),
@@ -97,7 +97,7 @@ pub fn disc_passes(heights: &[Height], passes: &[Pass]) -> DiscPasses {
 }
 
 /// The build's own shimming limit, or the shop's default.
-pub fn shimming_limit_mm(build: &BuildInput, settings: &SettingsInput) -> f64 {
+pub fn shimming_limit(build: &BuildInput, settings: &SettingsInput) -> Length {
     build
         .shimming_limit_mm
         .unwrap_or(settings.shimming_limit_mm)

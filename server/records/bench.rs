@@ -1,5 +1,6 @@
 //! A bench test of a build's spring set: each spring's force at a test compression.
 
+use super::measure::{Force, Length};
 use serde::Deserialize;
 
 use super::field::{self, Ctx, Field, Record, Value, parse_number};
@@ -21,9 +22,9 @@ pub struct SpringReading {
     #[serde(skip)]
     pub position: Option<i64>,
     #[serde(default)]
-    pub free_length_mm: Option<f64>,
-    pub compression_mm: f64,
-    pub force_n: f64,
+    pub free_length_mm: Option<Length>,
+    pub compression_mm: Length,
+    pub force_n: Force,
 }
 
 /// Where a spring reading's problem is shown: its JSON path, and the form input beside which
@@ -98,9 +99,9 @@ impl BenchInput {
             };
             springs.push(SpringReading {
                 position: Some(i as i64),
-                free_length_mm: free,
-                compression_mm: compression,
-                force_n: force,
+                free_length_mm: free.map(Length::from_mm),
+                compression_mm: Length::from_mm(compression),
+                force_n: Force::from_n(force),
             });
         }
         if springs.is_empty() {
@@ -136,12 +137,13 @@ impl BenchInput {
     /// form inputs (and under the JSON paths for the API).
     pub fn check(
         self,
-        solid_height_mm: Option<f64>,
+        solid_height_mm: Option<Length>,
         ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
         let mut errors = errors;
         if let Some(solid) = solid_height_mm.filter(|s| s.is_finite()) {
+            let solid = solid.mm();
             let message = |what: &str| {
                 format!(
                     "{what} the springs' solid height ({}, from the build): a coil-bound spring gives no rate",
@@ -152,9 +154,10 @@ impl BenchInput {
                 let Some(free) = s.free_length_mm.filter(|f| f.is_finite()) else {
                     continue;
                 };
+                let free = free.mm();
                 let (field, what) = if free <= solid {
                     ("free_length_mm", "is not above")
-                } else if free - s.compression_mm < solid {
+                } else if free - s.compression_mm.mm() < solid {
                     ("compression_mm", "is below")
                 } else {
                     continue;
@@ -209,7 +212,7 @@ impl Record for BenchInput {
         // the blank test compression beside it is not marked as well.
         let no_compression = errors.has("test_height");
         for (i, s) in self.springs.iter().enumerate() {
-            let unsaid = !(s.compression_mm.is_nan() && no_compression);
+            let unsaid = !(s.compression_mm.mm().is_nan() && no_compression);
             let by_height = s.free_length_mm.is_some();
             let mut fault = |column: &str, message: String| {
                 let p = self.place(i, column, by_height);
@@ -217,14 +220,14 @@ impl Record for BenchInput {
                     errors.add_at(&p.path, &p.input, None, message);
                 }
             };
-            if let Some(free) = s.free_length_mm
+            if let Some(free) = s.free_length_mm.map(Length::mm)
                 && !limits::SPRING_FREE_LENGTH.admits(free)
             {
                 fault("free_length_mm", limits::SPRING_FREE_LENGTH.message(units));
             }
-            if unsaid && !limits::SPRING_COMPRESSION.admits(s.compression_mm) {
-                let message = match s.free_length_mm {
-                    Some(free) if free.is_finite() && s.compression_mm <= 0.0 => format!(
+            if unsaid && !limits::SPRING_COMPRESSION.admits(s.compression_mm.mm()) {
+                let message = match s.free_length_mm.map(Length::mm) {
+                    Some(free) if free.is_finite() && s.compression_mm.mm() <= 0.0 => format!(
                         "must be below the free length of spring {} ({})",
                         s.position.unwrap_or(i as i64 + 1),
                         Kind::Length.show(units, free)
@@ -233,7 +236,7 @@ impl Record for BenchInput {
                 };
                 fault("compression_mm", message);
             }
-            if !limits::SPRING_FORCE.admits(s.force_n) {
+            if !limits::SPRING_FORCE.admits(s.force_n.n()) {
                 fault("force_n", limits::SPRING_FORCE.message(units));
             }
         }
@@ -266,8 +269,8 @@ impl Record for SpringReading {
             value: Value::Number {
                 limit: limits::SPRING_FREE_LENGTH,
                 required: false,
-                get: |r| r.free_length_mm,
-                set: |r, v| r.free_length_mm = v,
+                get: |r| r.free_length_mm.map(Length::mm),
+                set: |r, v| r.free_length_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -277,8 +280,8 @@ impl Record for SpringReading {
             value: Value::Number {
                 limit: limits::SPRING_COMPRESSION,
                 required: true,
-                get: |r| Some(r.compression_mm),
-                set: |r, v| r.compression_mm = v.unwrap_or(f64::NAN),
+                get: |r| Some(r.compression_mm.mm()),
+                set: |r, v| r.compression_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
             },
         },
         Field {
@@ -288,8 +291,8 @@ impl Record for SpringReading {
             value: Value::Number {
                 limit: limits::SPRING_FORCE,
                 required: true,
-                get: |r| Some(r.force_n),
-                set: |r, v| r.force_n = v.unwrap_or(f64::NAN),
+                get: |r| Some(r.force_n.n()),
+                set: |r, v| r.force_n = Force::from_n(v.unwrap_or(f64::NAN)),
             },
         },
     ];

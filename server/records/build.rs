@@ -1,5 +1,6 @@
 //! A clutch build: the hardware as assembled on a car.
 
+use super::measure::{Grams, Length, LeverGain, SpringRate};
 use serde::{Deserialize, Serialize};
 
 use super::field::{self, Ctx, Field, Record, Value};
@@ -14,38 +15,38 @@ pub struct BuildInput {
     pub disc_count: i64,
     /// `organic`, `molded`, `cermet` or `sintered_iron`.
     pub facing_material: String,
-    pub facing_od_mm: f64,
-    pub facing_id_mm: f64,
-    pub disc_thickness_new_mm: Option<f64>,
-    pub disc_thickness_min_mm: Option<f64>,
+    pub facing_od_mm: Length,
+    pub facing_id_mm: Length,
+    pub disc_thickness_new_mm: Option<Length>,
+    pub disc_thickness_min_mm: Option<Length>,
     pub spring_count: i64,
     pub spring_description: String,
-    pub spring_rate_n_per_mm: Option<f64>,
+    pub spring_rate_n_per_mm: Option<SpringRate>,
     /// Solid height of the springs (coils touching), mm.
-    pub spring_solid_height_mm: Option<f64>,
+    pub spring_solid_height_mm: Option<Length>,
     /// Further spring compression at full release (the plate's lift at the springs), mm;
     /// absent: counted as 0.
-    pub release_travel_mm: Option<f64>,
+    pub release_travel_mm: Option<Length>,
     /// Adjuster thread: threads per inch, or a metric pitch (exactly one).
     pub adjuster_tpi: Option<f64>,
-    pub adjuster_pitch_mm: Option<f64>,
+    pub adjuster_pitch_mm: Option<Length>,
     /// Base compression directly, or the cover heights free and installed.
-    pub base_compression_mm: Option<f64>,
-    pub cover_height_free_mm: Option<f64>,
-    pub cover_height_installed_mm: Option<f64>,
+    pub base_compression_mm: Option<Length>,
+    pub cover_height_free_mm: Option<Length>,
+    pub cover_height_installed_mm: Option<Length>,
     pub lever_count: i64,
-    pub lever_mass_g: f64,
-    pub lever_cg_radius_mm: Option<f64>,
+    pub lever_mass_g: Grams,
+    pub lever_cg_radius_mm: Option<Length>,
     pub lever_arm_ratio: Option<f64>,
     /// Radius of the lever body's own centre of gravity, mm (absent: its mass counts at
     /// `lever_cg_radius_mm`).
-    pub lever_body_cg_radius_mm: Option<f64>,
+    pub lever_body_cg_radius_mm: Option<Length>,
     /// Measured gain: clamp N per gram of counterweight at 1000 rpm, per lever.
-    pub lever_gain_n_per_g: Option<f64>,
+    pub lever_gain_n_per_g: Option<LeverGain>,
     /// Shim thicknesses in mm, in the order they come out.
     #[sqlx(json)]
-    pub shim_stack_mm: Vec<f64>,
-    pub shimming_limit_mm: Option<f64>,
+    pub shim_stack_mm: Vec<Length>,
+    pub shimming_limit_mm: Option<Length>,
     /// `active` or `retired`.
     pub status: String,
     pub notes: String,
@@ -57,8 +58,8 @@ impl Default for BuildInput {
             label: String::new(),
             disc_count: 1,
             facing_material: "organic".into(),
-            facing_od_mm: f64::NAN,
-            facing_id_mm: f64::NAN,
+            facing_od_mm: Length::from_mm(f64::NAN),
+            facing_id_mm: Length::from_mm(f64::NAN),
             disc_thickness_new_mm: None,
             disc_thickness_min_mm: None,
             spring_count: 0,
@@ -72,7 +73,7 @@ impl Default for BuildInput {
             cover_height_free_mm: None,
             cover_height_installed_mm: None,
             lever_count: 0,
-            lever_mass_g: 0.0,
+            lever_mass_g: Grams::from_g(0.0),
             lever_cg_radius_mm: None,
             lever_arm_ratio: None,
             lever_body_cg_radius_mm: None,
@@ -156,8 +157,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::FACING_DIAMETER,
                 required: true,
-                get: |r| Some(r.facing_od_mm),
-                set: |r, v| r.facing_od_mm = v.unwrap_or(f64::NAN),
+                get: |r| Some(r.facing_od_mm.mm()),
+                set: |r, v| r.facing_od_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
             },
         },
         Field {
@@ -167,8 +168,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::FACING_DIAMETER,
                 required: true,
-                get: |r| Some(r.facing_id_mm),
-                set: |r, v| r.facing_id_mm = v.unwrap_or(f64::NAN),
+                get: |r| Some(r.facing_id_mm.mm()),
+                set: |r, v| r.facing_id_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
             },
         },
         Field {
@@ -178,8 +179,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::DISC_THICKNESS,
                 required: false,
-                get: |r| r.disc_thickness_new_mm,
-                set: |r, v| r.disc_thickness_new_mm = v,
+                get: |r| r.disc_thickness_new_mm.map(Length::mm),
+                set: |r, v| r.disc_thickness_new_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -189,8 +190,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::DISC_THICKNESS,
                 required: false,
-                get: |r| r.disc_thickness_min_mm,
-                set: |r, v| r.disc_thickness_min_mm = v,
+                get: |r| r.disc_thickness_min_mm.map(Length::mm),
+                set: |r, v| r.disc_thickness_min_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -222,8 +223,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::SPRING_RATE,
                 required: false,
-                get: |r| r.spring_rate_n_per_mm,
-                set: |r, v| r.spring_rate_n_per_mm = v,
+                get: |r| r.spring_rate_n_per_mm.map(SpringRate::n_per_mm),
+                set: |r, v| r.spring_rate_n_per_mm = v.map(SpringRate::from_n_per_mm),
             },
         },
         Field {
@@ -233,8 +234,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::SPRING_FREE_LENGTH,
                 required: false,
-                get: |r| r.spring_solid_height_mm,
-                set: |r, v| r.spring_solid_height_mm = v,
+                get: |r| r.spring_solid_height_mm.map(Length::mm),
+                set: |r, v| r.spring_solid_height_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -244,8 +245,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::RELEASE_TRAVEL,
                 required: false,
-                get: |r| r.release_travel_mm,
-                set: |r, v| r.release_travel_mm = v,
+                get: |r| r.release_travel_mm.map(Length::mm),
+                set: |r, v| r.release_travel_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -266,8 +267,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::ADJUSTER_PITCH,
                 required: false,
-                get: |r| r.adjuster_pitch_mm,
-                set: |r, v| r.adjuster_pitch_mm = v,
+                get: |r| r.adjuster_pitch_mm.map(Length::mm),
+                set: |r, v| r.adjuster_pitch_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -277,8 +278,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::BASE_COMPRESSION,
                 required: false,
-                get: |r| r.base_compression_mm,
-                set: |r, v| r.base_compression_mm = v,
+                get: |r| r.base_compression_mm.map(Length::mm),
+                set: |r, v| r.base_compression_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -288,8 +289,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::COVER_HEIGHT,
                 required: false,
-                get: |r| r.cover_height_free_mm,
-                set: |r, v| r.cover_height_free_mm = v,
+                get: |r| r.cover_height_free_mm.map(Length::mm),
+                set: |r, v| r.cover_height_free_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -299,8 +300,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::COVER_HEIGHT,
                 required: false,
-                get: |r| r.cover_height_installed_mm,
-                set: |r, v| r.cover_height_installed_mm = v,
+                get: |r| r.cover_height_installed_mm.map(Length::mm),
+                set: |r, v| r.cover_height_installed_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -321,8 +322,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::LEVER_MASS,
                 required: false,
-                get: |r| Some(r.lever_mass_g),
-                set: |r, v| r.lever_mass_g = v.unwrap_or(0.0),
+                get: |r| Some(r.lever_mass_g.g()),
+                set: |r, v| r.lever_mass_g = Grams::from_g(v.unwrap_or(0.0)),
             },
         },
         Field {
@@ -332,8 +333,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::LEVER_CG_RADIUS,
                 required: false,
-                get: |r| r.lever_cg_radius_mm,
-                set: |r, v| r.lever_cg_radius_mm = v,
+                get: |r| r.lever_cg_radius_mm.map(Length::mm),
+                set: |r, v| r.lever_cg_radius_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -354,8 +355,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::LEVER_CG_RADIUS,
                 required: false,
-                get: |r| r.lever_body_cg_radius_mm,
-                set: |r, v| r.lever_body_cg_radius_mm = v,
+                get: |r| r.lever_body_cg_radius_mm.map(Length::mm),
+                set: |r, v| r.lever_body_cg_radius_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -365,8 +366,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::LEVER_GAIN,
                 required: false,
-                get: |r| r.lever_gain_n_per_g,
-                set: |r, v| r.lever_gain_n_per_g = v,
+                get: |r| r.lever_gain_n_per_g.map(LeverGain::n_per_g),
+                set: |r, v| r.lever_gain_n_per_g = v.map(LeverGain::from_n_per_g),
             },
         },
         Field {
@@ -377,8 +378,8 @@ impl Record for BuildInput {
                 limit: limits::SHIM,
                 max_items: limits::SHIM_COUNT,
                 item: "shim",
-                get: |r| &r.shim_stack_mm,
-                set: |r, v| r.shim_stack_mm = v,
+                get: |r| r.shim_stack_mm.iter().map(|x| x.mm()).collect(),
+                set: |r, v| r.shim_stack_mm = v.into_iter().map(Length::from_mm).collect(),
             },
         },
         Field {
@@ -388,8 +389,8 @@ impl Record for BuildInput {
             value: Value::Number {
                 limit: limits::SHIMMING_LIMIT,
                 required: false,
-                get: |r| r.shimming_limit_mm,
-                set: |r, v| r.shimming_limit_mm = v,
+                get: |r| r.shimming_limit_mm.map(Length::mm),
+                set: |r, v| r.shimming_limit_mm = v.map(Length::from_mm),
             },
         },
         Field {

@@ -1,5 +1,6 @@
 //! A customer's car: what the clutch calculations need to know about the drivetrain.
 
+use super::measure::{EngineSpeed, Length, Mass, Torque};
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
@@ -13,13 +14,13 @@ use clutch::quantity::limits;
 pub struct CarInput {
     pub description: String,
     pub engine: String,
-    pub weight_kg: Option<f64>,
+    pub weight_kg: Option<Mass>,
     pub transmission: String,
-    pub rated_input_torque_nm: Option<f64>,
+    pub rated_input_torque_nm: Option<Torque>,
     pub first_gear_ratio: Option<f64>,
     pub final_drive_ratio: Option<f64>,
-    pub tire_diameter_mm: Option<f64>,
-    pub launch_rpm: Option<f64>,
+    pub tire_diameter_mm: Option<Length>,
+    pub launch_rpm: Option<EngineSpeed>,
     /// Engine torque curve as `[rpm, N*m]` pairs (dyno points); may be empty.
     #[sqlx(json)]
     pub torque_curve_nm: Vec<[f64; 2]>,
@@ -31,14 +32,14 @@ pub struct CarInput {
     pub driveshaft_inertia_kg_m2: Option<f64>,
     pub rear_axle_inertia_kg_m2: Option<f64>,
     pub front_axle_inertia_kg_m2: Option<f64>,
-    pub wheelbase_mm: Option<f64>,
-    pub cg_to_front_axle_mm: Option<f64>,
-    pub cg_height_mm: Option<f64>,
+    pub wheelbase_mm: Option<Length>,
+    pub cg_to_front_axle_mm: Option<Length>,
+    pub cg_height_mm: Option<Length>,
     pub drag_area_m2: Option<f64>,
     pub tire_grip: Option<f64>,
     pub tire_grip_spinning: Option<f64>,
-    pub flywheel_mass_kg: Option<f64>,
-    pub pressure_plate_mass_kg: Option<f64>,
+    pub flywheel_mass_kg: Option<Mass>,
+    pub pressure_plate_mass_kg: Option<Mass>,
 }
 
 impl Record for CarInput {
@@ -72,8 +73,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::VEHICLE_MASS,
                 required: false,
-                get: |r| r.weight_kg,
-                set: |r, v| r.weight_kg = v,
+                get: |r| r.weight_kg.map(Mass::kg),
+                set: |r, v| r.weight_kg = v.map(Mass::from_kg),
             },
         },
         Field {
@@ -94,8 +95,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::RATED_TORQUE,
                 required: false,
-                get: |r| r.rated_input_torque_nm,
-                set: |r, v| r.rated_input_torque_nm = v,
+                get: |r| r.rated_input_torque_nm.map(Torque::nm),
+                set: |r, v| r.rated_input_torque_nm = v.map(Torque::from_nm),
             },
         },
         Field {
@@ -127,8 +128,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::TIRE_DIAMETER,
                 required: false,
-                get: |r| r.tire_diameter_mm,
-                set: |r, v| r.tire_diameter_mm = v,
+                get: |r| r.tire_diameter_mm.map(Length::mm),
+                set: |r, v| r.tire_diameter_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -138,8 +139,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::ENGINE_SPEED,
                 required: false,
-                get: |r| r.launch_rpm,
-                set: |r, v| r.launch_rpm = v,
+                get: |r| r.launch_rpm.map(EngineSpeed::rpm),
+                set: |r, v| r.launch_rpm = v.map(EngineSpeed::from_rpm),
             },
         },
         Field {
@@ -224,8 +225,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::CAR_LENGTH,
                 required: false,
-                get: |r| r.wheelbase_mm,
-                set: |r, v| r.wheelbase_mm = v,
+                get: |r| r.wheelbase_mm.map(Length::mm),
+                set: |r, v| r.wheelbase_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -235,8 +236,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::CAR_LENGTH,
                 required: false,
-                get: |r| r.cg_to_front_axle_mm,
-                set: |r, v| r.cg_to_front_axle_mm = v,
+                get: |r| r.cg_to_front_axle_mm.map(Length::mm),
+                set: |r, v| r.cg_to_front_axle_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -246,8 +247,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::CAR_LENGTH,
                 required: false,
-                get: |r| r.cg_height_mm,
-                set: |r, v| r.cg_height_mm = v,
+                get: |r| r.cg_height_mm.map(Length::mm),
+                set: |r, v| r.cg_height_mm = v.map(Length::from_mm),
             },
         },
         Field {
@@ -290,8 +291,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::PLATE_MASS,
                 required: false,
-                get: |r| r.flywheel_mass_kg,
-                set: |r, v| r.flywheel_mass_kg = v,
+                get: |r| r.flywheel_mass_kg.map(Mass::kg),
+                set: |r, v| r.flywheel_mass_kg = v.map(Mass::from_kg),
             },
         },
         Field {
@@ -301,8 +302,8 @@ impl Record for CarInput {
             value: Value::Number {
                 limit: limits::PLATE_MASS,
                 required: false,
-                get: |r| r.pressure_plate_mass_kg,
-                set: |r, v| r.pressure_plate_mass_kg = v,
+                get: |r| r.pressure_plate_mass_kg.map(Mass::kg),
+                set: |r, v| r.pressure_plate_mass_kg = v.map(Mass::from_kg),
             },
         },
     ];

@@ -57,7 +57,7 @@ pub enum Value<R: 'static> {
         limit: Limit,
         max_items: usize,
         item: &'static str,
-        get: fn(&R) -> &[f64],
+        get: fn(&R) -> Vec<f64>,
         set: fn(&mut R, Vec<f64>),
     },
     /// `rpm, torque` lines (a pasted dyno table).

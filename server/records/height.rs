@@ -1,5 +1,6 @@
 //! A cover-height measurement: how far the disc has worn, read through the checking hole.
 
+use super::measure::Length;
 use serde::{Deserialize, Serialize};
 
 use super::field::{self, Ctx, Field, Record, Value};
@@ -11,7 +12,7 @@ use clutch::units::Units;
 #[serde(default)]
 pub struct HeightInput {
     pub measured_on: String,
-    pub height_mm: f64,
+    pub height_mm: Length,
     /// Cumulative passes on this disc when measured.
     pub passes: i64,
     /// How many shims of the stack had been pulled by then.
@@ -32,7 +33,7 @@ impl Default for HeightInput {
     fn default() -> Self {
         Self {
             measured_on: String::new(),
-            height_mm: f64::NAN,
+            height_mm: Length::from_mm(f64::NAN),
             passes: -1,
             shims_pulled: 0,
             new_disc: false,
@@ -46,7 +47,7 @@ impl Default for HeightInput {
 #[derive(Debug, Clone, Default)]
 pub struct HeightContext {
     /// The build's shim stack (mm), in the order the shims are pulled.
-    pub shims_mm: Vec<f64>,
+    pub shims_mm: Vec<Length>,
     /// The measurements recorded just before this one on its disc, oldest first: at most the
     /// latest three, from the disc's new-disc baseline on.
     pub before: Vec<HeightInput>,
@@ -82,8 +83,8 @@ impl Record for HeightInput {
             value: Value::Number {
                 limit: limits::COVER_HEIGHT,
                 required: true,
-                get: |r| Some(r.height_mm),
-                set: |r, v| r.height_mm = v.unwrap_or(f64::NAN),
+                get: |r| Some(r.height_mm.mm()),
+                set: |r, v| r.height_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
             },
         },
         Field {
@@ -180,15 +181,21 @@ impl HeightInput {
         let readings: Vec<(f64, f64, u32)> = hc
             .before
             .iter()
-            .map(|h| (h.passes as f64, h.height_mm, h.shims_pulled.max(0) as u32))
+            .map(|h| {
+                (
+                    h.passes as f64,
+                    h.height_mm.mm(),
+                    h.shims_pulled.max(0) as u32,
+                )
+            })
             .collect();
         let expected = clutch::wear::expected_height(
-            &hc.shims_mm,
+            &hc.shims_mm.iter().map(|s| s.mm()).collect::<Vec<_>>(),
             &readings[readings.len().saturating_sub(3)..],
             self.passes as f64,
             self.shims_pulled.max(0) as u32,
         )?;
-        let off = self.height_mm - expected;
+        let off = self.height_mm.mm() - expected;
         (off.abs() > TREND_ALLOWANCE_MM + clutch::wear::AT_LIMIT_TOLERANCE_MM).then(|| {
             let len = |mm| Kind::Length.show(units, mm);
             (

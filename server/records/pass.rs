@@ -1,5 +1,6 @@
 //! A track pass: what really happened with a setup.
 
+use super::measure::{EngineSpeed, Seconds, Temperature};
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
@@ -15,15 +16,15 @@ pub struct PassInput {
     /// Time of day, `HH:MM`, or empty.
     pub run_at: String,
     pub track: String,
-    pub launch_rpm: Option<f64>,
-    pub sixty_ft_s: Option<f64>,
-    pub et_s: Option<f64>,
-    pub observed_lockup_rpm: Option<f64>,
+    pub launch_rpm: Option<EngineSpeed>,
+    pub sixty_ft_s: Option<Seconds>,
+    pub et_s: Option<Seconds>,
+    pub observed_lockup_rpm: Option<EngineSpeed>,
     /// Seconds from the launch to lockup, typed (a logger's or timing screen's); a data log's
     /// own lock time is used when this is empty.
-    pub lockup_time_s: Option<f64>,
+    pub lockup_time_s: Option<Seconds>,
     /// Ambient temperature, °C.
-    pub ambient_c: Option<f64>,
+    pub ambient_c: Option<Temperature>,
     pub notes: String,
 }
 
@@ -67,8 +68,8 @@ impl Record for PassInput {
             value: Value::Number {
                 limit: limits::ENGINE_SPEED,
                 required: false,
-                get: |r| r.launch_rpm,
-                set: |r, v| r.launch_rpm = v,
+                get: |r| r.launch_rpm.map(EngineSpeed::rpm),
+                set: |r, v| r.launch_rpm = v.map(EngineSpeed::from_rpm),
             },
         },
         Field {
@@ -78,8 +79,8 @@ impl Record for PassInput {
             value: Value::Number {
                 limit: limits::SIXTY_FT,
                 required: false,
-                get: |r| r.sixty_ft_s,
-                set: |r, v| r.sixty_ft_s = v,
+                get: |r| r.sixty_ft_s.map(Seconds::s),
+                set: |r, v| r.sixty_ft_s = v.map(Seconds::from_s),
             },
         },
         Field {
@@ -89,8 +90,8 @@ impl Record for PassInput {
             value: Value::Number {
                 limit: limits::ET,
                 required: false,
-                get: |r| r.et_s,
-                set: |r, v| r.et_s = v,
+                get: |r| r.et_s.map(Seconds::s),
+                set: |r, v| r.et_s = v.map(Seconds::from_s),
             },
         },
         Field {
@@ -100,8 +101,8 @@ impl Record for PassInput {
             value: Value::Number {
                 limit: limits::ENGINE_SPEED,
                 required: false,
-                get: |r| r.observed_lockup_rpm,
-                set: |r, v| r.observed_lockup_rpm = v,
+                get: |r| r.observed_lockup_rpm.map(EngineSpeed::rpm),
+                set: |r, v| r.observed_lockup_rpm = v.map(EngineSpeed::from_rpm),
             },
         },
         Field {
@@ -111,8 +112,8 @@ impl Record for PassInput {
             value: Value::Number {
                 limit: limits::LOCKUP_TIME,
                 required: false,
-                get: |r| r.lockup_time_s,
-                set: |r, v| r.lockup_time_s = v,
+                get: |r| r.lockup_time_s.map(Seconds::s),
+                set: |r, v| r.lockup_time_s = v.map(Seconds::from_s),
             },
         },
         Field {
@@ -122,8 +123,8 @@ impl Record for PassInput {
             value: Value::Number {
                 limit: limits::AMBIENT_TEMPERATURE,
                 required: false,
-                get: |r| r.ambient_c,
-                set: |r, v| r.ambient_c = v,
+                get: |r| r.ambient_c.map(Temperature::c),
+                set: |r, v| r.ambient_c = v.map(Temperature::from_c),
             },
         },
         Field {

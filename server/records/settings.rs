@@ -1,5 +1,6 @@
 //! The shop's own settings: name and contact for the sheets, display units, time zone, limits.
 
+use super::measure::Length;
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
@@ -19,7 +20,7 @@ pub struct SettingsInput {
     pub units: String,
     pub spring_spread_pct: f64,
     pub spring_sag_pct: f64,
-    pub shimming_limit_mm: f64,
+    pub shimming_limit_mm: Length,
     pub overclamp_factor: f64,
     pub due_within_passes: i64,
     /// IANA time zone name; empty for the server's own zone. (Sheets printed before the
@@ -33,7 +34,7 @@ pub struct SettingsInput {
     /// Clearance to coil bind kept at full release, mm (sheets printed before the setting
     /// existed take the default 0.5 mm).
     #[serde(default = "default_bind_margin")]
-    pub bind_margin_mm: f64,
+    pub bind_margin_mm: Length,
     /// How far the engine may fall below the launch speed in a clean lock, percent (sheets
     /// printed before the setting existed take the default 15 %).
     #[serde(default = "default_launch_bog")]
@@ -44,8 +45,8 @@ fn full_share() -> f64 {
     1.0
 }
 
-fn default_bind_margin() -> f64 {
-    clutch::capacity::clamp::DEFAULT_BIND_MARGIN_MM
+fn default_bind_margin() -> Length {
+    Length::from_mm(clutch::capacity::clamp::DEFAULT_BIND_MARGIN_MM)
 }
 
 fn default_launch_bog() -> f64 {
@@ -62,7 +63,7 @@ impl Default for SettingsInput {
             units: Units::default().key().into(),
             spring_spread_pct: f64::NAN,
             spring_sag_pct: f64::NAN,
-            shimming_limit_mm: f64::NAN,
+            shimming_limit_mm: Length::from_mm(f64::NAN),
             overclamp_factor: f64::NAN,
             due_within_passes: 0,
             time_zone: String::new(),
@@ -194,8 +195,8 @@ impl Record for SettingsInput {
             value: Value::Number {
                 limit: limits::SHIMMING_LIMIT,
                 required: true,
-                get: |r| Some(r.shimming_limit_mm),
-                set: |r, v| r.shimming_limit_mm = v.unwrap_or(f64::NAN),
+                get: |r| Some(r.shimming_limit_mm.mm()),
+                set: |r, v| r.shimming_limit_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
             },
         },
         Field {
@@ -239,9 +240,9 @@ impl Record for SettingsInput {
             value: Value::Number {
                 limit: limits::BIND_MARGIN,
                 required: false,
-                get: |r| Some(r.bind_margin_mm),
+                get: |r| Some(r.bind_margin_mm.mm()),
                 // Blank: the default 0.5 mm.
-                set: |r, v| r.bind_margin_mm = v.unwrap_or_else(default_bind_margin),
+                set: |r, v| r.bind_margin_mm = v.map_or_else(default_bind_margin, Length::from_mm),
             },
         },
         Field {

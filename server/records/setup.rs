@@ -1,5 +1,6 @@
 //! A change of the tunable settings on a build: adjuster turns, counterweight, friction.
 
+use super::measure::Grams;
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
@@ -15,7 +16,7 @@ pub struct SetupInput {
     #[sqlx(json)]
     pub adjuster_turns_each: Vec<f64>,
     /// Counterweight per lever, grams.
-    pub counterweight_g: f64,
+    pub counterweight_g: Grams,
     /// Friction coefficient assumed for this setup; empty uses the facing's nominal value.
     pub mu: Option<f64>,
     /// Keep the facing's nominal μ (e.g. a new disc) even when the build's calibration has
@@ -30,7 +31,7 @@ impl Default for SetupInput {
             changed_on: String::new(),
             adjuster_turns: f64::NAN,
             adjuster_turns_each: Vec::new(),
-            counterweight_g: 0.0,
+            counterweight_g: Grams::from_g(0.0),
             mu: None,
             nominal_mu: false,
             note: String::new(),
@@ -80,7 +81,7 @@ impl Record for SetupInput {
                 limit: limits::ADJUSTER_TURNS,
                 max_items: limits::ADJUSTER_COUNT,
                 item: "adjuster",
-                get: |r| &r.adjuster_turns_each,
+                get: |r| r.adjuster_turns_each.clone(),
                 set: |r, v| r.adjuster_turns_each = v,
             },
         },
@@ -91,8 +92,8 @@ impl Record for SetupInput {
             value: Value::Number {
                 limit: limits::COUNTERWEIGHT,
                 required: false,
-                get: |r| Some(r.counterweight_g),
-                set: |r, v| r.counterweight_g = v.unwrap_or(0.0),
+                get: |r| Some(r.counterweight_g.g()),
+                set: |r, v| r.counterweight_g = Grams::from_g(v.unwrap_or(0.0)),
             },
         },
         Field {

@@ -8,6 +8,7 @@ use sqlx::FromRow;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
+use crate::records::measure::{EngineSpeed, Force, Length};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 
@@ -85,9 +86,9 @@ pub struct BenchSpring {
     #[serde(skip)]
     pub bench_test_id: i64,
     pub position: i64,
-    pub free_length_mm: Option<f64>,
-    pub compression_mm: f64,
-    pub force_n: f64,
+    pub free_length_mm: Option<Length>,
+    pub compression_mm: Length,
+    pub force_n: Force,
 }
 
 /// A cover-height measurement as stored.
@@ -131,7 +132,7 @@ pub struct LogSummary {
     pub sample_rate_hz: f64,
     pub launch_s: f64,
     pub lockup_s: f64,
-    pub lockup_engine_rpm: f64,
+    pub lockup_engine_rpm: EngineSpeed,
     pub slip_energy_j: Option<f64>,
     pub peak_slip_power_w: Option<f64>,
     /// JSON [[rpm, N·m], ...].
@@ -183,7 +184,7 @@ pub struct KeptLaunchFit {
     /// The friction whose simulated launch locks when the pass did; `None` with `note`.
     pub mu: Option<f64>,
     /// The simulated lockup engine speed at `mu`, rpm.
-    pub lockup_rpm: Option<f64>,
+    pub lockup_rpm: Option<EngineSpeed>,
     /// Why no friction reproduces the pass.
     pub note: Option<String>,
 }

@@ -10,6 +10,7 @@ use std::time::{Duration, Instant};
 use lockpoint::model::calibration::launch_fits;
 use lockpoint::model::energy::energy_forecast;
 use lockpoint::model::wear::current_disc;
+use lockpoint::records::measure::{EngineSpeed, Seconds};
 use lockpoint::records::settings::SettingsInput;
 use lockpoint::records::stored::Dossier;
 use lockpoint::{db, demo};
@@ -98,8 +99,8 @@ async fn main() -> Result<(), Box<dyn std::error::Error>> {
         );
         // The same 20 passes, each with its launch speed and a typed lock time.
         for p in &mut d.passes {
-            p.data.launch_rpm = p.data.launch_rpm.or(Some(4500.0));
-            p.data.lockup_time_s = Some(1.3);
+            p.data.launch_rpm = p.data.launch_rpm.or(Some(EngineSpeed::from_rpm(4500.0)));
+            p.data.lockup_time_s = Some(Seconds::from_s(1.3));
         }
         fits_time("20 passes, typed lock times", &mut d, &settings);
     }

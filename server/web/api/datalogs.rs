@@ -86,7 +86,7 @@ impl PassCar {
         CarFacts {
             first_gear_ratio: c.first_gear_ratio,
             final_drive_ratio: c.final_drive_ratio,
-            tire_diameter_mm: c.tire_diameter_mm,
+            tire_diameter_mm: c.tire_diameter_mm.map(|d| d.mm()),
             torque_curve_nm: &c.torque_curve_nm,
         }
     }

@@ -225,7 +225,7 @@ impl SheetPage {
         ) {
             (Some(g), _, _) => format!(
                 "gain {:.3} {}/g at 1000 rpm",
-                self.u.units.n_to_force(g),
+                self.u.units.n_to_force(g.n_per_g()),
                 self.u.force_unit()
             ),
             (None, Some(r), Some(a)) => format!("CG radius {}, arm ratio {a}", self.u.len(r)),

@@ -2,6 +2,9 @@
 //! Heights to 0.001 in or 0.01 mm; forces, torque and speed whole; counterweights to 0.1 g.
 
 use crate::model::Trial;
+use crate::records::measure::{
+    Amount, EngineSpeed, Force, Grams, Length, Mass, Seconds, SpringRate, Torque,
+};
 use clutch::capacity::lockup::lockup_text;
 use clutch::quantity::Kind;
 use clutch::units::Units;
@@ -96,57 +99,60 @@ impl Show {
     }
 
     /// A length with its unit ("1.905 in").
-    pub fn len(&self, mm: impl Num) -> String {
-        Kind::Length.show(self.units, mm.value())
+    pub fn len(&self, mm: impl Amount<Length>) -> String {
+        Kind::Length.show(self.units, mm.internal())
     }
 
     /// A length without its unit, for table cells under a titled column.
-    pub fn len_num(&self, mm: impl Num) -> String {
-        Kind::Length.number(self.units, mm.value())
+    pub fn len_num(&self, mm: impl Amount<Length>) -> String {
+        Kind::Length.number(self.units, mm.internal())
     }
 
-    pub fn opt_len(&self, mm: &Option<f64>) -> String {
+    pub fn opt_len<T: Amount<Length>>(&self, mm: &Option<T>) -> String {
         mm.map_or_else(|| DASH.into(), |v| self.len(v))
     }
 
-    pub fn force_num(&self, n: impl Num) -> String {
-        Kind::Force.number(self.units, n.value())
+    pub fn force_num(&self, n: impl Amount<Force>) -> String {
+        Kind::Force.number(self.units, n.internal())
     }
 
-    pub fn rate(&self, n_per_mm: impl Num) -> String {
-        Kind::Rate.show(self.units, n_per_mm.value())
+    pub fn rate(&self, n_per_mm: impl Amount<SpringRate>) -> String {
+        Kind::Rate.show(self.units, n_per_mm.internal())
     }
 
-    pub fn rate_num(&self, n_per_mm: impl Num) -> String {
-        Kind::Rate.number(self.units, n_per_mm.value())
+    pub fn rate_num(&self, n_per_mm: impl Amount<SpringRate>) -> String {
+        Kind::Rate.number(self.units, n_per_mm.internal())
     }
 
-    pub fn opt_rate(&self, n_per_mm: &Option<f64>) -> String {
+    pub fn opt_rate<T: Amount<SpringRate>>(&self, n_per_mm: &Option<T>) -> String {
         n_per_mm.map_or_else(|| DASH.into(), |v| self.rate(v))
     }
 
-    pub fn torque(&self, nm: impl Num) -> String {
-        Kind::Torque.show(self.units, nm.value())
+    pub fn torque(&self, nm: impl Amount<Torque>) -> String {
+        Kind::Torque.show(self.units, nm.internal())
     }
 
-    pub fn opt_torque(&self, nm: &Option<f64>) -> String {
+    pub fn opt_torque<T: Amount<Torque>>(&self, nm: &Option<T>) -> String {
         nm.map_or_else(|| DASH.into(), |v| self.torque(v))
     }
 
-    pub fn opt_weight(&self, kg: &Option<f64>) -> String {
-        kg.map_or_else(|| DASH.into(), |v| Kind::VehicleMass.show(self.units, v))
+    pub fn opt_weight<T: Amount<Mass>>(&self, kg: &Option<T>) -> String {
+        kg.map_or_else(
+            || DASH.into(),
+            |v| Kind::VehicleMass.show(self.units, v.internal()),
+        )
     }
 
     /// Grams to 0.1 g.
-    pub fn grams(&self, g: impl Num) -> String {
-        Kind::Grams.show(self.units, g.value())
+    pub fn grams(&self, g: impl Amount<Grams>) -> String {
+        Kind::Grams.show(self.units, g.internal())
     }
 
-    pub fn rpm(&self, rpm: impl Num) -> String {
-        Kind::Speed.show(self.units, rpm.value())
+    pub fn rpm(&self, rpm: impl Amount<EngineSpeed>) -> String {
+        Kind::Speed.show(self.units, rpm.internal())
     }
 
-    pub fn opt_rpm(&self, rpm: &Option<f64>) -> String {
+    pub fn opt_rpm<T: Amount<EngineSpeed>>(&self, rpm: &Option<T>) -> String {
         rpm.map_or_else(|| DASH.into(), |v| self.rpm(v))
     }
 
@@ -154,8 +160,11 @@ impl Show {
         ratio.map_or_else(|| DASH.into(), |v| format!("{v:.2}"))
     }
 
-    pub fn opt_seconds(&self, s: &Option<f64>) -> String {
-        s.map_or_else(|| DASH.into(), |v| Kind::Seconds.show(self.units, v))
+    pub fn opt_seconds<T: Amount<Seconds>>(&self, s: &Option<T>) -> String {
+        s.map_or_else(
+            || DASH.into(),
+            |v| Kind::Seconds.show(self.units, v.internal()),
+        )
     }
 
     /// A change in percent with its sign ("+0.4 %", "−1.2 %").
@@ -240,7 +249,7 @@ impl Show {
 pub fn thread_text(b: &crate::records::build::BuildInput) -> String {
     match (b.adjuster_tpi, b.adjuster_pitch_mm) {
         (Some(tpi), _) => format!("{tpi} threads per inch"),
-        (_, Some(p)) => format!("{p} mm pitch"),
+        (_, Some(p)) => format!("{} mm pitch", p.mm()),
         _ => "not recorded".into(),
     }
 }

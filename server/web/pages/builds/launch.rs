@@ -5,6 +5,7 @@
 use crate::model::Trial;
 use crate::model::as_of::BuildAsOf;
 use crate::model::launch::{LaunchPlan, PLATE_START_C, SixtyFtCheck};
+use crate::records::measure::EngineSpeed;
 use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::show::Show;
 use clutch::heat::{DEFAULT_TAU_S, HeatFit, cooled_c};
@@ -331,7 +332,7 @@ pub fn column(
     u: Units,
 ) -> LaunchColumn {
     let plan = facts.launch_request(trial, launch_rpm);
-    let rpm = launch_rpm.or(facts.car.launch_rpm);
+    let rpm = launch_rpm.or(facts.car.launch_rpm.map(EngineSpeed::rpm));
     let result = plan.and_then(|plan| {
         let valid = plan
             .request
@@ -403,7 +404,7 @@ pub fn target_column(
     u: Units,
 ) -> LaunchColumn {
     let title = "For the launch target";
-    let rpm = facts.car.launch_rpm;
+    let rpm = facts.car.launch_rpm.map(EngineSpeed::rpm);
     let mut setting = setting_text(u, current.adjuster_turns, current.counterweight_g, rpm);
     let result = facts.launch_request(current, None).and_then(|plan| {
         let valid = plan

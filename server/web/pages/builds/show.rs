@@ -1,6 +1,7 @@
 //! Build pages: the build's page (hardware, current setup, bench tests, cover heights, passes,
 //! each with a quick entry form), and the new / edit form for its hardware.
 
+use crate::records::measure::Length;
 use std::sync::Arc;
 
 use askama::Template;
@@ -124,9 +125,9 @@ impl ShowPage {
         &self.forms.sheet
     }
 
-    /// The next shim to pull, if any remain: its thickness (mm) and the one-step shim-pull form
+    /// The next shim to pull, if any remain: its thickness and the one-step shim-pull form
     /// (date and pass count to confirm, the shim count and a note already filled in).
-    pub fn shim_pull(&self) -> Option<(f64, EntryForm)> {
+    pub fn shim_pull(&self) -> Option<(Length, EntryForm)> {
         let last = current_disc(&self.d.heights).last()?;
         let pulled = last.data.shims_pulled.max(0);
         let next = *self.d.build.data.shim_stack_mm.get(pulled as usize)?;
@@ -383,7 +384,7 @@ pub async fn render_page(
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
     let now = BuildAsOf::now(&d, &settings);
     let rate_used = match (
-        now.tested_rate_n_per_mm,
+        now.tested_rate,
         now.bench_index.map(|i| &d.bench[i]),
         now.spring_rate(),
     ) {

@@ -216,7 +216,7 @@ async fn render_tune(
             let recorded_sixty_ft: Vec<f64> = dossier
                 .passes
                 .iter()
-                .filter_map(|p| p.data.sixty_ft_s)
+                .filter_map(|p| p.data.sixty_ft_s.map(|s| s.s()))
                 .collect();
             let current = facts.figures(page.units());
 
@@ -384,7 +384,7 @@ fn launch_columns(
     if form.get("launch_rpm").is_empty()
         && let Some(rpm) = facts.car.launch_rpm
     {
-        form.set("launch_rpm", format!("{rpm:.0}"));
+        form.set("launch_rpm", format!("{:.0}", rpm.rpm()));
     }
     let target = if form.get("launch_target") == "1" {
         let time = field::number(form, "target_lock_time", limits::LOCKUP_TIME, units, errors);

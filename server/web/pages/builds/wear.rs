@@ -217,15 +217,15 @@ pub fn view(
 /// shim pull, and the forecast to the next limit.
 fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
     let len = |mm: f64| u.units.mm_to_length(mm);
-    let h0 = heights.first().map_or(0.0, |h| h.data.height_mm);
+    let h0 = heights.first().map_or(0.0, |h| h.data.height_mm.mm());
     let due_height = h0 + limit_mm;
     let points: Vec<(f64, f64)> = heights
         .iter()
-        .map(|h| (h.data.passes as f64, len(h.data.height_mm)))
+        .map(|h| (h.data.passes as f64, len(h.data.height_mm.mm())))
         .collect();
     let last = heights
         .last()
-        .map_or((0.0, h0), |h| (h.data.passes as f64, h.data.height_mm));
+        .map_or((0.0, h0), |h| (h.data.passes as f64, h.data.height_mm.mm()));
     // The forecast runs to whichever comes first, the next shim or the disc, as the report says;
     // between pulls the cover height grows as fast as the disc wears.
     let next_due = [r.passes_to_shim_due, r.passes_to_disc_due]
@@ -240,7 +240,11 @@ fn chart(u: &Show, r: &WearReport, heights: &[Height], limit_mm: f64) -> Chart {
         .map_or(last.0, |(x, _)| x)
         .max(last.0)
         .max(10.0);
-    let y_lo = heights.iter().map(|h| h.data.height_mm).fold(h0, f64::min) - limit_mm * 0.5;
+    let y_lo = heights
+        .iter()
+        .map(|h| h.data.height_mm.mm())
+        .fold(h0, f64::min)
+        - limit_mm * 0.5;
     let y_hi = forecast_end.map_or(due_height, |(_, y)| y.max(due_height)) + limit_mm * 0.4;
     let (mut c, f) = Chart::new(
         "Cover height against passes",
