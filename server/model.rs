@@ -20,7 +20,7 @@ pub mod launch;
 /// A build's disc: its cover heights as a wear request, its pass count, its shimming limit.
 pub mod wear;
 
-use crate::records::measure::Grams;
+use crate::records::measure::{EngineSpeed, Grams};
 use clutch::InputError;
 use clutch::capacity::report::{CapacityReport, report_for};
 use clutch::capacity::request::CapacityRequest;
@@ -32,7 +32,7 @@ use crate::records::setup::SetupInput;
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Trial {
     pub adjuster_turns: f64,
-    pub counterweight_g: f64,
+    pub counterweight_g: Grams,
     /// `None` uses the facing material's nominal friction coefficient.
     pub mu: Option<f64>,
 }
@@ -43,12 +43,12 @@ impl Trial {
         setup.map_or(
             Self {
                 adjuster_turns: 0.0,
-                counterweight_g: 0.0,
+                counterweight_g: Grams::from_g(0.0),
                 mu: None,
             },
             |s| Self {
                 adjuster_turns: s.adjuster_turns,
-                counterweight_g: s.counterweight_g.g(),
+                counterweight_g: s.counterweight_g,
                 mu: s.mu.filter(|_| !s.nominal_mu),
             },
         )
@@ -57,14 +57,14 @@ impl Trial {
     /// Whether going from this setting to `to` moves both the adjusters and the counterweight.
     pub fn moves_both(&self, to: &Trial) -> bool {
         (to.adjuster_turns - self.adjuster_turns).abs() > 1e-9
-            && (to.counterweight_g - self.counterweight_g).abs() > 1e-9
+            && (to.counterweight_g - self.counterweight_g).abs().g() > 1e-9
     }
 
     /// This setting as a setup record (no date or note), e.g. to prefill a form.
     pub fn as_setup(&self) -> SetupInput {
         SetupInput {
             adjuster_turns: self.adjuster_turns,
-            counterweight_g: Grams::from_g(self.counterweight_g),
+            counterweight_g: self.counterweight_g,
             mu: self.mu,
             ..SetupInput::default()
         }
@@ -77,7 +77,7 @@ pub type Missing = String;
 /// What a tuner aims for: a lockup speed, and optionally a launch ratio.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct TuningTargets {
-    pub lockup_rpm: f64,
+    pub lockup_rpm: EngineSpeed,
     pub launch_ratio: Option<f64>,
 }
 

@@ -131,7 +131,7 @@ impl SheetInputs {
 /// What the sheet shows, worked out from its inputs.
 pub struct SheetFigures {
     /// Mean tested spring rate (N/mm) when there was a bench test.
-    pub tested_rate_n_per_mm: Option<f64>,
+    pub tested_rate_n_per_mm: Option<SpringRate>,
     pub capacity: Result<Figures, String>,
     pub wear: Result<WearReport, String>,
     pub recommendation: Option<Result<Recommendation, String>>,
@@ -178,7 +178,7 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
             .map_err(|e| e.to_string())
     });
     SheetFigures {
-        tested_rate_n_per_mm: tested,
+        tested_rate_n_per_mm: tested.map(SpringRate::from_n_per_mm),
         capacity,
         wear,
         recommendation,

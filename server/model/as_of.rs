@@ -8,7 +8,7 @@ use super::{Figures, Missing, Trial, TuningTargets, curve_range, figures};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
-use crate::records::measure::{EngineSpeed, Force, Length, LeverGain, SpringRate};
+use crate::records::measure::{EngineSpeed, Force, Grams, Length, LeverGain, SpringRate};
 use crate::records::settings::SettingsInput;
 use crate::records::setup::SetupInput;
 use crate::records::stored::{BenchTest, Dossier};
@@ -371,7 +371,7 @@ impl<'a> BuildAsOf<'a> {
             &RecommendRequest {
                 setup,
                 targets: Targets {
-                    lockup_rpm: targets.lockup_rpm,
+                    lockup_rpm: targets.lockup_rpm.rpm(),
                     launch_ratio: targets.launch_ratio,
                 },
                 steps: Steps::default(),
@@ -381,7 +381,7 @@ impl<'a> BuildAsOf<'a> {
         )?;
         let chosen = Trial {
             adjuster_turns: recommendation.recommended.adjuster_turns,
-            counterweight_g: recommendation.recommended.counterweight_g,
+            counterweight_g: Grams::from_g(recommendation.recommended.counterweight_g),
             mu: current.mu,
         };
         let request = self
@@ -406,7 +406,7 @@ impl<'a> BuildAsOf<'a> {
         let geometry = b.lever_gain_n_per_g.is_none();
         let levers = (b.lever_count > 0).then(|| LeversInput {
             count: b.lever_count as u32,
-            counterweight_g: trial.counterweight_g,
+            counterweight_g: trial.counterweight_g.g(),
             lever_mass_g: b.lever_mass_g.g(),
             cg_radius: b.lever_cg_radius_mm.map(Length::mm).filter(|_| geometry),
             arm_ratio: b.lever_arm_ratio.filter(|_| geometry),

@@ -125,7 +125,7 @@ pub fn calibrated(
             .data
             .observed_lockup_rpm
             .or(log.map(|l| l.lockup_engine_rpm));
-        let Some(rpm) = seen.map(EngineSpeed::rpm).or(read.map(|r| r.lockup_rpm)) else {
+        let Some(rpm) = seen.or(read.map(|r| r.lockup_rpm)).map(EngineSpeed::rpm) else {
             continue;
         };
         let day = pass.data.run_on.as_str();
@@ -297,8 +297,8 @@ pub struct LaunchRead {
     pub pass_id: i64,
     /// The μ whose simulated launch locks when the pass did.
     pub mu: f64,
-    /// The simulated lockup engine speed at that μ, rpm.
-    pub lockup_rpm: f64,
+    /// The simulated lockup engine speed at that μ.
+    pub lockup_rpm: EngineSpeed,
 }
 
 impl LaunchMethod {
@@ -450,7 +450,7 @@ pub fn by_launch(d: &Dossier, settings: &SettingsInput) -> Option<LaunchMethod> 
                 (Some(mu), Some(lockup_rpm)) => m.passes.push(LaunchRead {
                     pass_id: f.pass_id,
                     mu,
-                    lockup_rpm: lockup_rpm.rpm(),
+                    lockup_rpm,
                 }),
                 _ => m.notes.extend(f.note),
             }

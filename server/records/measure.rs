@@ -1,6 +1,6 @@
 //! Typed quantities of the records and the model: a length is a [`Length`], never an `f64`
 //! that a name says is in millimetres. Each type holds its value in the one internal unit of its
-//! [`Kind`] (mm, N, N/mm, N·m, kg, g, rpm, °C, s), which is also how it is stored and how the
+//! kind (`clutch::quantity::Kind`: mm, N, N/mm, N·m, kg, g, rpm, °C, s), which is also how it is stored and how the
 //! record API writes it (`facing_od_mm` stays a number of millimetres in JSON and in its
 //! column: serde and sqlx see the plain number). The shop's display units exist only at the
 //! edges: a form reads them through the field's `Kind`, a page shows them through `Show`.
@@ -12,20 +12,30 @@
 //! engineering crate keeps plain numbers in its calculation requests: those are its JSON API,
 //! in whichever units the request names. No IO here.
 
-use clutch::quantity::Kind;
 use serde::{Deserialize, Serialize};
-
-/// A typed quantity: its kind, and its value in the kind's internal unit.
-pub trait Quantity: Copy {
-    /// What kind of quantity it is (fixes its internal unit and how it is shown).
-    const KIND: Kind;
-    /// The value in the internal unit.
-    fn internal(self) -> f64;
-}
 
 /// A value of kind `Q` as a caller hands it over: the typed quantity itself, or a plain number
 /// already in `Q`'s internal unit (what the engineering crate answers), by value or by
-/// reference. A page asking for a length accepts a [`Length`] or a number, never a [`Force`].
+/// reference. A page asking for a length accepts a [`Length`] or a number, never a [`Force`]:
+///
+/// ```
+/// use lockpoint::records::measure::{Amount, Length};
+/// // How `Show::len` takes its argument.
+/// fn length_mm(l: impl Amount<Length>) -> f64 {
+///     l.internal()
+/// }
+/// assert_eq!(length_mm(Length::from_mm(48.387)), 48.387);
+/// assert_eq!(length_mm(48.387), 48.387);
+/// ```
+///
+/// ```compile_fail
+/// use lockpoint::records::measure::{Amount, Force, Length};
+/// fn length_mm(l: impl Amount<Length>) -> f64 {
+///     l.internal()
+/// }
+/// // A force handed over as a length: refused by the compiler.
+/// length_mm(Force::from_n(4448.2));
+/// ```
 pub trait Amount<Q>: Copy {
     /// The value in `Q`'s internal unit.
     fn internal(self) -> f64;
@@ -44,7 +54,7 @@ impl<Q, T: Amount<Q>> Amount<Q> for &T {
 }
 
 macro_rules! quantity {
-    ($(#[$doc:meta])* $name:ident, $kind:ident, $unit:ident, $from:ident) => {
+    ($(#[$doc:meta])* $name:ident, $unit:ident, $from:ident) => {
         $(#[$doc])*
         #[derive(
             Debug, Clone, Copy, Default, PartialEq, PartialOrd, Serialize, Deserialize,
@@ -138,13 +148,6 @@ macro_rules! quantity {
             }
         }
 
-        impl Quantity for $name {
-            const KIND: Kind = Kind::$kind;
-            fn internal(self) -> f64 {
-                self.0
-            }
-        }
-
         impl Amount<$name> for $name {
             fn internal(self) -> f64 {
                 self.0
@@ -155,43 +158,43 @@ macro_rules! quantity {
 
 quantity!(
     /// A length, mm.
-    Length, Length, mm, from_mm
+    Length, mm, from_mm
 );
 quantity!(
     /// A force, N.
-    Force, Force, n, from_n
+    Force, n, from_n
 );
 quantity!(
     /// A spring rate, N/mm.
-    SpringRate, Rate, n_per_mm, from_n_per_mm
+    SpringRate, n_per_mm, from_n_per_mm
 );
 quantity!(
     /// A torque, N·m.
-    Torque, Torque, nm, from_nm
+    Torque, nm, from_nm
 );
 quantity!(
     /// A vehicle's or a part's mass, kg.
-    Mass, VehicleMass, kg, from_kg
+    Mass, kg, from_kg
 );
 quantity!(
     /// A small mass (counterweights, levers), g: grams in both unit systems.
-    Grams, Grams, g, from_g
+    Grams, g, from_g
 );
 quantity!(
     /// A lever's measured gain: clamp force per gram of counterweight at 1000 rpm, N/g.
-    LeverGain, ForcePerGram, n_per_g, from_n_per_g
+    LeverGain, n_per_g, from_n_per_g
 );
 quantity!(
     /// An engine speed, rev/min.
-    EngineSpeed, Speed, rpm, from_rpm
+    EngineSpeed, rpm, from_rpm
 );
 quantity!(
     /// A temperature, °C.
-    Temperature, Temperature, c, from_c
+    Temperature, c, from_c
 );
 quantity!(
     /// A time, s.
-    Seconds, Seconds, s, from_s
+    Seconds, s, from_s
 );
 
 #[cfg(test)]

@@ -8,7 +8,7 @@ use sqlx::FromRow;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::height::HeightInput;
-use crate::records::measure::{EngineSpeed, Force, Length};
+use crate::records::measure::{EngineSpeed, Force, Length, Seconds};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
 
@@ -130,8 +130,8 @@ pub struct LogSummary {
     pub file_name: String,
     pub file_bytes: i64,
     pub sample_rate_hz: f64,
-    pub launch_s: f64,
-    pub lockup_s: f64,
+    pub launch_s: Seconds,
+    pub lockup_s: Seconds,
     pub lockup_engine_rpm: EngineSpeed,
     pub slip_energy_j: Option<f64>,
     pub peak_slip_power_w: Option<f64>,
@@ -143,7 +143,7 @@ pub struct LogSummary {
 impl LogSummary {
     /// Time from launch to lockup, s.
     pub fn lockup_after_launch_s(&self) -> f64 {
-        self.lockup_s - self.launch_s
+        (self.lockup_s - self.launch_s).s()
     }
 
     /// (engine rpm, clutch torque N·m) over the calibration window.

@@ -1,6 +1,7 @@
 //! Setup sheets: printing one (a stored snapshot), viewing and reprinting it, and the
 //! customer's read-only link to it.
 
+use crate::records::measure::{EngineSpeed, Grams};
 use askama::Template;
 use axum::extract::State;
 use axum::http::{HeaderMap, StatusCode, header};
@@ -124,7 +125,7 @@ impl SheetPage {
     pub fn suggested(&self, r: &Recommendation) -> Trial {
         Trial {
             adjuster_turns: r.recommended.adjuster_turns,
-            counterweight_g: r.recommended.counterweight_g,
+            counterweight_g: Grams::from_g(r.recommended.counterweight_g),
             mu: self.current().mu,
         }
     }
@@ -304,7 +305,7 @@ pub async fn create(
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());
     }
     let targets = lockup.map(|l| TuningTargets {
-        lockup_rpm: l,
+        lockup_rpm: EngineSpeed::from_rpm(l),
         launch_ratio: ratio,
     });
     // Customers see a display name (or the shop's name), never a login name.

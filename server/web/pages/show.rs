@@ -226,7 +226,7 @@ impl Show {
             let sign = if turns < 0.0 { "−" } else { "+" };
             parts.push(format!("{sign}{}", self.turns(turns.abs())));
         }
-        let grams = to.counterweight_g - from.counterweight_g;
+        let grams = (to.counterweight_g - from.counterweight_g).g();
         if grams.abs() > 1e-9 {
             let sign = if grams < 0.0 { "−" } else { "+" };
             parts.push(format!("{sign}{} per lever", self.grams(grams.abs())));
@@ -287,12 +287,12 @@ mod tests {
         let u = Show::new(Units::Metric);
         let from = Trial {
             adjuster_turns: 1.75,
-            counterweight_g: 26.0,
+            counterweight_g: Grams::from_g(26.0),
             mu: None,
         };
         let to = Trial {
             adjuster_turns: 1.0,
-            counterweight_g: 18.0,
+            counterweight_g: Grams::from_g(18.0),
             mu: Some(0.35),
         };
         assert_eq!(u.setting(to), "1 turn, 18.0 g per lever, μ 0.350");

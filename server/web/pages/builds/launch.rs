@@ -350,7 +350,7 @@ pub fn column(
     });
     LaunchColumn {
         title: title.to_string(),
-        setting: setting_text(u, trial.adjuster_turns, trial.counterweight_g, rpm),
+        setting: setting_text(u, trial.adjuster_turns, trial.counterweight_g.g(), rpm),
         result,
     }
 }
@@ -405,7 +405,7 @@ pub fn target_column(
 ) -> LaunchColumn {
     let title = "For the launch target";
     let rpm = facts.car.launch_rpm.map(EngineSpeed::rpm);
-    let mut setting = setting_text(u, current.adjuster_turns, current.counterweight_g, rpm);
+    let mut setting = setting_text(u, current.adjuster_turns, current.counterweight_g.g(), rpm);
     let result = facts.launch_request(current, None).and_then(|plan| {
         let valid = plan
             .request

@@ -1,6 +1,7 @@
 //! Capacity against engine speed for a build: the chart, the figures, trying other settings
 //! without saving, and the setting recommendation.
 
+use crate::records::measure::{EngineSpeed, Grams};
 use std::collections::HashMap;
 
 use askama::Template;
@@ -264,7 +265,7 @@ async fn render_tune(
                 if let (Some(lockup_rpm), true, true) = (lockup, errors.is_empty(), current.is_ok())
                 {
                     let targets = TuningTargets {
-                        lockup_rpm,
+                        lockup_rpm: EngineSpeed::from_rpm(lockup_rpm),
                         launch_ratio: ratio,
                     };
                     match facts.recommend(recommended_from, targets, page.units()) {
@@ -470,7 +471,7 @@ fn launch_columns(
             "Recommended",
             Trial {
                 adjuster_turns: r.recommended.adjuster_turns,
-                counterweight_g: r.recommended.counterweight_g,
+                counterweight_g: Grams::from_g(r.recommended.counterweight_g),
                 mu: recommended_from.mu,
             },
         )),
@@ -604,7 +605,7 @@ impl TunePage {
     pub fn recommended_setting(&self) -> Option<Trial> {
         self.recommendation.as_ref().map(|r| Trial {
             adjuster_turns: r.recommended.adjuster_turns,
-            counterweight_g: r.recommended.counterweight_g,
+            counterweight_g: Grams::from_g(r.recommended.counterweight_g),
             mu: self.recommended_from.mu,
         })
     }
@@ -647,7 +648,9 @@ impl TunePage {
         let t = self.current_trial;
         Some(format!(
             "/builds/{}/tune?try=1&adjuster_turns={}&counterweight_g={}&mu={mu}#try",
-            self.dossier.build.id, t.adjuster_turns, t.counterweight_g
+            self.dossier.build.id,
+            t.adjuster_turns,
+            t.counterweight_g.g()
         ))
     }
 
@@ -658,7 +661,9 @@ impl TunePage {
         t.mu.map(|_| {
             format!(
                 "/builds/{}/tune?try=1&adjuster_turns={}&counterweight_g={}&mu=#try",
-                self.dossier.build.id, t.adjuster_turns, t.counterweight_g
+                self.dossier.build.id,
+                t.adjuster_turns,
+                t.counterweight_g.g()
             )
         })
     }
