@@ -27,6 +27,8 @@ use tower_http::trace::TraceLayer;
 
 use crate::backup::plan::Fixed;
 use crate::backup::scheduler::Backups;
+use crate::db::customers::Customer;
+use crate::records::stored::{Build, Car};
 use http::routes::{Access, RouteInfo, Routes, get, post};
 pub use pages::login::{
     PURGE_BATCH, RESERVED_SIGN_IN_SLOTS, SIGN_IN_SLOTS, TRACKED_CAP, forget_old_failures,
@@ -220,52 +222,52 @@ fn pages() -> Routes {
         .route(
             SignedIn,
             "/customers/{id}",
-            get(pages::customers::customer::show).post(pages::customers::customer::update),
+            get(pages::customers::customer::show).post(pages::record_form::update::<Customer>),
         )
         .route(
             SignedIn,
             "/customers/{id}/edit",
-            get(pages::customers::customer::edit),
+            get(pages::record_form::edit::<Customer>),
         )
         .route(
             SignedIn,
             "/customers/{id}/cars",
-            post(pages::customers::car::create),
+            post(pages::record_form::create_under::<Car>),
         )
         .route(
             SignedIn,
             "/customers/{id}/cars/new",
-            get(pages::customers::car::new),
+            get(pages::record_form::new_under::<Car>),
         )
         .route(
             SignedIn,
             "/cars/{id}",
-            get(pages::customers::car::show).post(pages::customers::car::update),
+            get(pages::customers::car::show).post(pages::record_form::update::<Car>),
         )
         .route(
             SignedIn,
             "/cars/{id}/edit",
-            get(pages::customers::car::edit),
+            get(pages::record_form::edit::<Car>),
         )
         .route(
             SignedIn,
             "/cars/{id}/builds",
-            post(pages::builds::show::create),
+            post(pages::record_form::create_under::<Build>),
         )
         .route(
             SignedIn,
             "/cars/{id}/builds/new",
-            get(pages::builds::show::new),
+            get(pages::record_form::new_under::<Build>),
         )
         .route(
             SignedIn,
             "/builds/{id}",
-            get(pages::builds::show::show).post(pages::builds::show::update),
+            get(pages::builds::show::show).post(pages::record_form::update::<Build>),
         )
         .route(
             SignedIn,
             "/builds/{id}/edit",
-            get(pages::builds::show::edit),
+            get(pages::record_form::edit::<Build>),
         )
         .route(
             SignedIn,

@@ -19,7 +19,8 @@ pub mod layout;
 pub mod login;
 /// A pass's page, its data-log upload and column mapping.
 pub mod passes;
+/// Numbers, units and words as the pages show them.
+pub mod record_form;
 /// The setup sheet and the customer link.
 pub mod sheets;
-/// Numbers, units and words as the pages show them.
 pub mod show;

@@ -6,8 +6,7 @@ use std::sync::Arc;
 
 use askama::Template;
 use axum::extract::State;
-use axum::http::StatusCode;
-use axum::response::{Html, IntoResponse, Response};
+use axum::response::{Html, Response};
 use sqlx::SqliteConnection;
 
 use crate::db;
@@ -33,8 +32,8 @@ use crate::records::stored::{BenchSpring, BenchTest};
 use crate::records::{Ctx, FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
-use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
-use crate::web::http::flash::{self, Flash};
+use crate::web::http::extract::{CurrentUser, PathId, Viewer};
+use crate::web::http::flash::Flash;
 use crate::web::http::heavy::{Caller, Heavy};
 use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
 use crate::web::pages::builds::wear::{self, WearFigures, WearView};
@@ -558,7 +557,13 @@ pub struct FormPage {
 }
 
 impl FormPage {
-    fn new(page: Layout, car: Car, id: Option<i64>, form: FormData, errors: FieldErrors) -> Self {
+    pub fn new(
+        page: Layout,
+        car: Car,
+        id: Option<i64>,
+        form: FormData,
+        errors: FieldErrors,
+    ) -> Self {
         let materials = FacingMaterial::CHOICES.to_vec();
         Self {
             page,
@@ -576,111 +581,4 @@ impl FormPage {
             None => format!("/cars/{}/builds", self.car.id),
         }
     }
-}
-
-pub async fn new(
-    State(state): State<AppState>,
-    user: CurrentUser,
-    PathId(car_id): PathId,
-) -> AppResult<Html<String>> {
-    let mut conn = state.pool.acquire().await?;
-    let car = db::cars::by_id(&mut conn, car_id)
-        .await?
-        .ok_or(AppError::NotFound)?;
-    let (page, settings) = Layout::load(&mut conn, &user, "customers", "New clutch build").await?;
-    let fresh = BuildInput {
-        shimming_limit_mm: Some(settings.shimming_limit_mm),
-        ..BuildInput::default()
-    };
-    let mut form = field::to_form(&fresh, page.units());
-    form.set("spring_count", "");
-    Ok(Html(
-        FormPage::new(page, car, None, form, FieldErrors::default()).render()?,
-    ))
-}
-
-pub async fn edit(
-    State(state): State<AppState>,
-    user: CurrentUser,
-    PathId(id): PathId,
-) -> AppResult<Html<String>> {
-    let mut conn = state.pool.acquire().await?;
-    let build = db::builds::by_id(&mut conn, id)
-        .await?
-        .ok_or(AppError::NotFound)?;
-    let car = db::cars::by_id(&mut conn, build.car_id)
-        .await?
-        .ok_or(AppError::NotFound)?;
-    let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit clutch build").await?;
-    let form = field::to_form(&build.data, page.units());
-    Ok(Html(
-        FormPage::new(page, car, Some(id), form, FieldErrors::default()).render()?,
-    ))
-}
-
-pub async fn create(
-    State(state): State<AppState>,
-    PathId(car_id): PathId,
-    signed: SignedForm,
-) -> AppResult<Response> {
-    save(state, signed, car_id, None).await
-}
-
-pub async fn update(
-    State(state): State<AppState>,
-    PathId(id): PathId,
-    signed: SignedForm,
-) -> AppResult<Response> {
-    let mut conn = state.pool.acquire().await?;
-    let build = db::builds::by_id(&mut conn, id)
-        .await?
-        .ok_or(AppError::NotFound)?;
-    drop(conn);
-    save(state, signed, build.car_id, Some(id)).await
-}
-
-async fn save(
-    state: AppState,
-    SignedForm { user, form }: SignedForm,
-    car_id: i64,
-    id: Option<i64>,
-) -> AppResult<Response> {
-    let mut tx = state.write(&user).await?;
-    let car = db::cars::by_id(&mut tx, car_id)
-        .await?
-        .ok_or(AppError::NotFound)?;
-    let (page, _) = Layout::load(&mut tx, &user, "customers", "Clutch build").await?;
-    let before = match id {
-        Some(id) => Some(
-            db::builds::by_id(&mut tx, id)
-                .await?
-                .ok_or(AppError::NotFound)?,
-        ),
-        None => None,
-    };
-    // An edit keeps the stored value of every number left as shown (the display rounds).
-    let (input, errors) = match &before {
-        Some(b) => field::read_edit(&form, page.units(), &b.data),
-        None => field::read::<BuildInput>(&form, page.units()),
-    };
-    let checked = match input.check_edit(before.as_ref().map(|b| &b.data), &page.ctx, errors) {
-        Ok(c) => c,
-        Err(errors) => {
-            let page = FormPage::new(page, car, id, form, errors);
-            return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
-        }
-    };
-    let (id, note) = match (id, before) {
-        (Some(id), Some(before)) => {
-            db::builds::update(&mut tx, id, &checked).await?;
-            let changes = field::changes(&before.data, &checked, page.units(), &[]);
-            (id, flash::saved_note("the build", &changes))
-        }
-        _ => {
-            let id = db::builds::insert(&mut tx, car_id, &checked).await?;
-            (id, "Saved: a new build. Record its setup next.".to_string())
-        }
-    };
-    tx.commit().await?;
-    Ok(flash::redirect(&state, &format!("/builds/{id}"), &note))
 }

@@ -2,7 +2,6 @@
 
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
-use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Redirect, Response};
 use serde::Deserialize;
 use sqlx::SqliteConnection;
@@ -10,15 +9,15 @@ use sqlx::SqliteConnection;
 use crate::db;
 use crate::db::customers::{Customer, CustomerSummary, Order};
 use crate::error::{AppError, AppResult};
-use crate::records::customer::CustomerInput;
 use crate::records::date::ShopZone;
 use crate::records::stored::Car;
-use crate::records::{FieldErrors, FormData, field};
+use crate::records::{FieldErrors, FormData};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
-use crate::web::http::flash::{self, Flash, saved_note};
+use crate::web::http::flash::Flash;
 use crate::web::pages::layout::Layout;
+use crate::web::pages::record_form;
 
 #[derive(Debug, Default, Deserialize)]
 #[serde(default)]
@@ -159,89 +158,14 @@ impl FormPage {
     }
 }
 
+/// GET /customers/new: a customer hangs on nothing (see `record_form` for the rest).
 pub async fn new(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
-    let mut conn = state.pool.acquire().await?;
-    let (page, _) = Layout::load(&mut conn, &user, "customers", "New customer").await?;
-    let page = FormPage {
-        page,
-        id: None,
-        form: FormData::default(),
-        errors: FieldErrors::default(),
-    };
-    Ok(Html(page.render()?))
+    record_form::new_page::<Customer>(&state, &user, 0).await
 }
 
-pub async fn edit(
-    State(state): State<AppState>,
-    user: CurrentUser,
-    PathId(id): PathId,
-) -> AppResult<Html<String>> {
-    let mut conn = state.pool.acquire().await?;
-    let customer = db::customers::by_id(&mut conn, id)
-        .await?
-        .ok_or(AppError::NotFound)?;
-    let (page, _) = Layout::load(&mut conn, &user, "customers", "Edit customer").await?;
-    let form = field::to_form(&customer.data, page.units());
-    Ok(Html(
-        FormPage {
-            page,
-            id: Some(id),
-            form,
-            errors: FieldErrors::default(),
-        }
-        .render()?,
-    ))
-}
-
+/// POST /customers: a new customer.
 pub async fn create(State(state): State<AppState>, signed: SignedForm) -> AppResult<Response> {
-    save(state, signed, None).await
-}
-
-pub async fn update(
-    State(state): State<AppState>,
-    PathId(id): PathId,
-    signed: SignedForm,
-) -> AppResult<Response> {
-    save(state, signed, Some(id)).await
-}
-
-/// Checks the form and saves it in one transaction, or re-renders it with the messages.
-async fn save(
-    state: AppState,
-    SignedForm { user, form }: SignedForm,
-    id: Option<i64>,
-) -> AppResult<Response> {
-    let mut tx = state.write(&user).await?;
-    let (page, _) = Layout::load(&mut tx, &user, "customers", "Customer").await?;
-    let (input, errors) = field::read::<CustomerInput>(&form, page.units());
-    let checked = match field::check(input, &page.ctx, errors) {
-        Ok(c) => c,
-        Err(errors) => {
-            let page = FormPage {
-                page,
-                id,
-                form,
-                errors,
-            };
-            return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(page.render()?)).into_response());
-        }
-    };
-    let (id, note) = match id {
-        Some(id) => {
-            let before = db::customers::by_id(&mut tx, id)
-                .await?
-                .ok_or(AppError::NotFound)?;
-            db::customers::update(&mut tx, id, &checked).await?;
-            let changes = field::changes(&before.data, &checked, page.units(), &[]);
-            (id, saved_note("the customer", &changes))
-        }
-        None => {
-            let id = db::customers::insert(&mut tx, &checked).await?;
-            (id, "Saved: a new customer. Add their car next.".to_string())
-        }
-    };
-    tx.commit().await?;
-    Ok(flash::redirect(&state, &format!("/customers/{id}"), &note))
+    record_form::save::<Customer>(&state, signed, 0, None).await
 }
 
 /// POST /customers/{id}/delete (admin): hides the customer and everything under them; nothing
