@@ -197,12 +197,12 @@ fn pages() -> Routes {
         .route(
             SignedIn,
             "/customers",
-            get(pages::customers::customer::list).post(pages::customers::customer::create),
+            get(pages::customers::customer::list).post(pages::record_form::create_customer),
         )
         .route(
             SignedIn,
             "/customers/new",
-            get(pages::customers::customer::new),
+            get(pages::record_form::new_customer),
         )
         .route(
             Admin,

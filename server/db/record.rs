@@ -1,10 +1,43 @@
 //! Writing a declared record: the column list and the binds come from its field declarations
 //! (`records::field`), so a new field is stored by declaring it.
 
+use std::future::Future;
+
 use sqlx::SqliteConnection;
 
 use crate::records::Checked;
 use crate::records::field::{Record, Value};
+
+/// A stored record as the API and the form pages reach it: read by id, hung on its parent
+/// (0 for a customer, which hangs on nothing), inserted under it and updated in place.
+pub trait Stored: Send + Sized + 'static {
+    /// The record as it is checked and written (storage units).
+    type Input: Record + Send + Sync;
+
+    /// The live record `id`, if there is one.
+    fn by_id(
+        conn: &mut SqliteConnection,
+        id: i64,
+    ) -> impl Future<Output = sqlx::Result<Option<Self>>> + Send;
+
+    /// The id of the record this one hangs on.
+    fn parent_of(&self) -> i64;
+
+    /// Stores a checked new record under `parent` by `user_id`; its id.
+    fn insert(
+        conn: &mut SqliteConnection,
+        parent: i64,
+        user_id: i64,
+        input: &Checked<Self::Input>,
+    ) -> impl Future<Output = sqlx::Result<i64>> + Send;
+
+    /// Stores a checked edit of record `id`.
+    fn update(
+        conn: &mut SqliteConnection,
+        id: i64,
+        input: &Checked<Self::Input>,
+    ) -> impl Future<Output = sqlx::Result<bool>> + Send;
+}
 
 type Query<'q> = sqlx::query::Query<'q, sqlx::Sqlite, sqlx::sqlite::SqliteArguments>;
 

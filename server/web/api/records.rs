@@ -18,6 +18,7 @@ use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::customers::Customer;
+use crate::db::record::Stored;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::records::bench::BenchInput;
 use crate::records::build::BuildInput;
@@ -31,26 +32,14 @@ use crate::records::{Checked, Ctx, FieldErrors, field};
 use crate::web::AppState;
 use crate::web::http::extract::{ApiId as Id, ApiJson, ApiUser};
 
-/// A stored record the API serves: read by id, listed under its parent, checked as its form
-/// checks it, inserted under its parent and updated in place.
-pub trait ApiRecord: Serialize + Send + Sized + 'static {
-    /// What a request body holds (storage units).
-    type Input: DeserializeOwned + Send + 'static;
-
-    /// The live record `id`, if there is one.
-    fn by_id(
-        conn: &mut SqliteConnection,
-        id: i64,
-    ) -> impl Future<Output = sqlx::Result<Option<Self>>> + Send;
-
+/// A stored record the API serves ([`Stored`]: read by id, inserted under its parent, updated in
+/// place), listed under its parent and checked as its form checks it.
+pub trait ApiRecord: Stored<Input: DeserializeOwned> + Serialize {
     /// The records of a live parent; `None` when there is no such parent.
     fn of_parent(
         conn: &mut SqliteConnection,
         parent: i64,
     ) -> impl Future<Output = sqlx::Result<Option<Vec<Self>>>> + Send;
-
-    /// The id of the record this one hangs on.
-    fn parent_of(&self) -> i64;
 
     /// `input` checked as the form checks it, for a new record under `parent` or an edit of
     /// `existing`; an `Err` is the answer (404 for a missing parent, 422 for bad input).
@@ -60,21 +49,6 @@ pub trait ApiRecord: Serialize + Send + Sized + 'static {
         parent: i64,
         existing: Option<&Self>,
     ) -> impl Future<Output = Result<Checked<Self::Input>, ApiError>> + Send;
-
-    /// Stores a checked new record under `parent` by `user_id`; its id.
-    fn insert(
-        conn: &mut SqliteConnection,
-        parent: i64,
-        user_id: i64,
-        input: &Checked<Self::Input>,
-    ) -> impl Future<Output = sqlx::Result<i64>> + Send;
-
-    /// Stores a checked edit of record `id`.
-    fn update(
-        conn: &mut SqliteConnection,
-        id: i64,
-        input: &Checked<Self::Input>,
-    ) -> impl Future<Output = sqlx::Result<bool>> + Send;
 }
 
 /// GET `/<parents>/{id}/<records>`: the records of one parent.
@@ -204,24 +178,13 @@ pub async fn builds_list(
     ))
 }
 
-impl ApiRecord for Customer {
+impl Stored for Customer {
     type Input = CustomerInput;
     async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
         db::customers::by_id(conn, id).await
     }
-    async fn of_parent(_: &mut SqliteConnection, _: i64) -> sqlx::Result<Option<Vec<Self>>> {
-        Ok(None)
-    }
     fn parent_of(&self) -> i64 {
         0
-    }
-    async fn check(
-        conn: &mut SqliteConnection,
-        input: CustomerInput,
-        _: i64,
-        _: Option<&Self>,
-    ) -> Result<Checked<CustomerInput>, ApiError> {
-        checked(conn, input).await
     }
     async fn insert(
         conn: &mut SqliteConnection,
@@ -240,36 +203,33 @@ impl ApiRecord for Customer {
     }
 }
 
-/// The `ApiRecord` of a record that hangs on a parent of type `$parent_row` (field
-/// `$parent`): read by its db module's `by_id`, listed by `$list`, written by `insert` (with
-/// who made it, `by_user`) and `update`, checked by `$check`.
+impl ApiRecord for Customer {
+    async fn of_parent(_: &mut SqliteConnection, _: i64) -> sqlx::Result<Option<Vec<Self>>> {
+        Ok(None)
+    }
+    async fn check(
+        conn: &mut SqliteConnection,
+        input: CustomerInput,
+        _: i64,
+        _: Option<&Self>,
+    ) -> Result<Checked<CustomerInput>, ApiError> {
+        checked(conn, input).await
+    }
+}
+
+/// The [`Stored`] and [`ApiRecord`] of a record that hangs on a parent of type `$parent_row`
+/// (field `$parent`): read by its db module's `by_id`, listed by `$list`, written by `insert`
+/// (with who made it, `by_user`) and `update`, checked by `$check`.
 macro_rules! child_record {
     ($row:ty, $input:ty, $db:ident::$list:ident, $parent:ident of $parent_row:ty,
      check $check:expr $(, $by_user:ident)?) => {
-        impl ApiRecord for $row {
+        impl Stored for $row {
             type Input = $input;
             async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
                 db::$db::by_id(conn, id).await
             }
-            async fn of_parent(
-                conn: &mut SqliteConnection,
-                parent: i64,
-            ) -> sqlx::Result<Option<Vec<Self>>> {
-                if <$parent_row as ApiRecord>::by_id(conn, parent).await?.is_none() {
-                    return Ok(None);
-                }
-                db::$db::$list(conn, parent).await.map(Some)
-            }
             fn parent_of(&self) -> i64 {
                 self.$parent
-            }
-            async fn check(
-                conn: &mut SqliteConnection,
-                input: $input,
-                parent: i64,
-                existing: Option<&Self>,
-            ) -> Result<Checked<$input>, ApiError> {
-                ($check)(conn, input, parent, existing).await
             }
             async fn insert(
                 conn: &mut SqliteConnection,
@@ -286,6 +246,26 @@ macro_rules! child_record {
                 input: &Checked<$input>,
             ) -> sqlx::Result<bool> {
                 db::$db::update(conn, id, input).await
+            }
+        }
+
+        impl ApiRecord for $row {
+            async fn of_parent(
+                conn: &mut SqliteConnection,
+                parent: i64,
+            ) -> sqlx::Result<Option<Vec<Self>>> {
+                if <$parent_row as Stored>::by_id(conn, parent).await?.is_none() {
+                    return Ok(None);
+                }
+                db::$db::$list(conn, parent).await.map(Some)
+            }
+            async fn check(
+                conn: &mut SqliteConnection,
+                input: $input,
+                parent: i64,
+                existing: Option<&Self>,
+            ) -> Result<Checked<$input>, ApiError> {
+                ($check)(conn, input, parent, existing).await
             }
         }
     };
@@ -306,7 +286,7 @@ child_record!(Height, HeightInput, heights::for_build, build_id of Build,
     check check_height, by_user);
 
 /// A record checked as its form checks it, under a parent that must exist (404 otherwise).
-async fn check_under<P: ApiRecord, T: field::Record, R>(
+async fn check_under<P: Stored, T: field::Record, R>(
     conn: &mut SqliteConnection,
     input: T,
     parent: i64,

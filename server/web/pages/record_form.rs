@@ -15,13 +15,14 @@ use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::customers::Customer;
+use crate::db::record::Stored;
 use crate::error::{AppError, AppResult};
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::customer::CustomerInput;
 use crate::records::settings::SettingsInput;
 use crate::records::stored::{Build, Car};
-use crate::records::{Checked, Ctx, FieldErrors, FormData, Record, field};
+use crate::records::{Checked, Ctx, FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
 use crate::web::http::flash;
@@ -30,10 +31,8 @@ use crate::web::pages::customers::car::FormPage as CarForm;
 use crate::web::pages::customers::customer::FormPage as CustomerForm;
 use crate::web::pages::layout::Layout;
 
-/// A stored record with a form page of its own.
-pub trait PageRecord: Send + Sized + 'static {
-    /// The record as the form reads and checks it.
-    type Input: Record + Clone + Send + Sync;
+/// A stored record ([`Stored`]) with a form page of its own.
+pub trait PageRecord: Stored<Input: Clone> {
     /// What it hangs on, as its form page shows it (`()` for a customer).
     type Parent: Send;
     /// Its form page.
@@ -49,7 +48,6 @@ pub trait PageRecord: Send + Sized + 'static {
     /// Its own page.
     fn path(id: i64) -> String;
     fn data(&self) -> &Self::Input;
-    fn parent_id(&self) -> i64;
     fn page(
         layout: Layout,
         parent: Self::Parent,
@@ -58,26 +56,11 @@ pub trait PageRecord: Send + Sized + 'static {
         errors: FieldErrors,
     ) -> Self::Page;
 
-    /// The live record `id`.
-    fn by_id(
-        conn: &mut SqliteConnection,
-        id: i64,
-    ) -> impl Future<Output = sqlx::Result<Option<Self>>> + Send;
     /// The live parent `id`.
     fn parent(
         conn: &mut SqliteConnection,
         id: i64,
     ) -> impl Future<Output = sqlx::Result<Option<Self::Parent>>> + Send;
-    fn insert(
-        conn: &mut SqliteConnection,
-        parent: i64,
-        input: &Checked<Self::Input>,
-    ) -> impl Future<Output = sqlx::Result<i64>> + Send;
-    fn update(
-        conn: &mut SqliteConnection,
-        id: i64,
-        input: &Checked<Self::Input>,
-    ) -> impl Future<Output = sqlx::Result<bool>> + Send;
 
     /// The form of a new record, prefilled from the shop's settings where it takes a default.
     fn blank_form(_settings: &SettingsInput, units: clutch::units::Units) -> FormData {
@@ -105,8 +88,8 @@ pub async fn new_under<R: PageRecord>(
     new_page::<R>(&state, &user, parent).await
 }
 
-/// GET the form of a new record under `parent` (0 for a record that hangs on nothing).
-pub async fn new_page<R: PageRecord>(
+/// The form of a new record under `parent` (0 for a record that hangs on nothing).
+async fn new_page<R: PageRecord>(
     state: &AppState,
     user: &CurrentUser,
     parent: i64,
@@ -129,13 +112,29 @@ pub async fn edit<R: PageRecord>(
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
     let record = R::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
-    let parent = R::parent(&mut conn, record.parent_id())
+    let parent = R::parent(&mut conn, record.parent_of())
         .await?
         .ok_or(AppError::NotFound)?;
     let (layout, _) = Layout::load(&mut conn, &user, "customers", R::EDIT_TITLE).await?;
     let form = field::to_form(record.data(), layout.units());
     let page = R::page(layout, parent, Some(id), form, FieldErrors::default());
     Ok(Html(page.render()?))
+}
+
+/// GET /customers/new: a customer hangs on nothing.
+pub async fn new_customer(
+    State(state): State<AppState>,
+    user: CurrentUser,
+) -> AppResult<Html<String>> {
+    new_page::<Customer>(&state, &user, 0).await
+}
+
+/// POST /customers: a new customer.
+pub async fn create_customer(
+    State(state): State<AppState>,
+    signed: SignedForm,
+) -> AppResult<Response> {
+    save::<Customer>(&state, signed, 0, None).await
 }
 
 /// POST a new record under `parent`.
@@ -156,11 +155,11 @@ pub async fn update<R: PageRecord>(
     let mut conn = state.pool.acquire().await?;
     let record = R::by_id(&mut conn, id).await?.ok_or(AppError::NotFound)?;
     drop(conn);
-    save::<R>(&state, signed, record.parent_id(), Some(id)).await
+    save::<R>(&state, signed, record.parent_of(), Some(id)).await
 }
 
 /// Checks the form and saves it in one transaction, or re-shows it with the messages.
-pub async fn save<R: PageRecord>(
+async fn save<R: PageRecord>(
     state: &AppState,
     SignedForm { user, form }: SignedForm,
     parent_id: i64,
@@ -199,7 +198,7 @@ pub async fn save<R: PageRecord>(
             (id, flash::saved_note(R::NOUN, &changes))
         }
         _ => (
-            R::insert(&mut tx, parent_id, &checked).await?,
+            R::insert(&mut tx, parent_id, user.id, &checked).await?,
             R::NEW_NOTE.to_string(),
         ),
     };
@@ -208,7 +207,6 @@ pub async fn save<R: PageRecord>(
 }
 
 impl PageRecord for Customer {
-    type Input = CustomerInput;
     type Parent = ();
     type Page = CustomerForm;
     const NEW_TITLE: &'static str = "New customer";
@@ -221,9 +219,6 @@ impl PageRecord for Customer {
     }
     fn data(&self) -> &CustomerInput {
         &self.data
-    }
-    fn parent_id(&self) -> i64 {
-        0
     }
     fn page(
         layout: Layout,
@@ -239,30 +234,12 @@ impl PageRecord for Customer {
             errors,
         }
     }
-    async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
-        db::customers::by_id(conn, id).await
-    }
     async fn parent(_: &mut SqliteConnection, _: i64) -> sqlx::Result<Option<()>> {
         Ok(Some(()))
-    }
-    async fn insert(
-        conn: &mut SqliteConnection,
-        _: i64,
-        input: &Checked<CustomerInput>,
-    ) -> sqlx::Result<i64> {
-        db::customers::insert(conn, input).await
-    }
-    async fn update(
-        conn: &mut SqliteConnection,
-        id: i64,
-        input: &Checked<CustomerInput>,
-    ) -> sqlx::Result<bool> {
-        db::customers::update(conn, id, input).await
     }
 }
 
 impl PageRecord for Car {
-    type Input = CarInput;
     type Parent = Customer;
     type Page = CarForm;
     const NEW_TITLE: &'static str = "New car";
@@ -275,9 +252,6 @@ impl PageRecord for Car {
     }
     fn data(&self) -> &CarInput {
         &self.data
-    }
-    fn parent_id(&self) -> i64 {
-        self.customer_id
     }
     fn page(
         layout: Layout,
@@ -294,30 +268,12 @@ impl PageRecord for Car {
             errors,
         }
     }
-    async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
-        db::cars::by_id(conn, id).await
-    }
     async fn parent(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Customer>> {
         db::customers::by_id(conn, id).await
-    }
-    async fn insert(
-        conn: &mut SqliteConnection,
-        customer_id: i64,
-        input: &Checked<CarInput>,
-    ) -> sqlx::Result<i64> {
-        db::cars::insert(conn, customer_id, input).await
-    }
-    async fn update(
-        conn: &mut SqliteConnection,
-        id: i64,
-        input: &Checked<CarInput>,
-    ) -> sqlx::Result<bool> {
-        db::cars::update(conn, id, input).await
     }
 }
 
 impl PageRecord for Build {
-    type Input = BuildInput;
     type Parent = Car;
     type Page = BuildForm;
     const NEW_TITLE: &'static str = "New clutch build";
@@ -331,9 +287,6 @@ impl PageRecord for Build {
     fn data(&self) -> &BuildInput {
         &self.data
     }
-    fn parent_id(&self) -> i64 {
-        self.car_id
-    }
     fn page(
         layout: Layout,
         car: Car,
@@ -343,25 +296,8 @@ impl PageRecord for Build {
     ) -> Self::Page {
         BuildForm::new(layout, car, id, form, errors)
     }
-    async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
-        db::builds::by_id(conn, id).await
-    }
     async fn parent(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Car>> {
         db::cars::by_id(conn, id).await
-    }
-    async fn insert(
-        conn: &mut SqliteConnection,
-        car_id: i64,
-        input: &Checked<BuildInput>,
-    ) -> sqlx::Result<i64> {
-        db::builds::insert(conn, car_id, input).await
-    }
-    async fn update(
-        conn: &mut SqliteConnection,
-        id: i64,
-        input: &Checked<BuildInput>,
-    ) -> sqlx::Result<bool> {
-        db::builds::update(conn, id, input).await
     }
 
     /// A new build takes the shop's shimming limit; the spring count starts blank.

@@ -17,7 +17,6 @@ use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
 use crate::web::http::flash::Flash;
 use crate::web::pages::layout::Layout;
-use crate::web::pages::record_form;
 
 #[derive(Debug, Default, Deserialize)]
 #[serde(default)]
@@ -156,16 +155,6 @@ impl FormPage {
         self.id
             .map_or("/customers".into(), |id| format!("/customers/{id}"))
     }
-}
-
-/// GET /customers/new: a customer hangs on nothing (see `record_form` for the rest).
-pub async fn new(State(state): State<AppState>, user: CurrentUser) -> AppResult<Html<String>> {
-    record_form::new_page::<Customer>(&state, &user, 0).await
-}
-
-/// POST /customers: a new customer.
-pub async fn create(State(state): State<AppState>, signed: SignedForm) -> AppResult<Response> {
-    record_form::save::<Customer>(&state, signed, 0, None).await
 }
 
 /// POST /customers/{id}/delete (admin): hides the customer and everything under them; nothing
