@@ -100,10 +100,14 @@ async fn bad_capacity_input_names_the_field() {
         let field = field_of(&app, &t, "/api/v1/calc/capacity", body).await;
         assert!(field.starts_with(want), "expected {want}, got {field}");
     }
-    let no_token = app
-        .api("POST", "/api/v1/calc/capacity", None, Some(example()))
-        .await;
-    assert_eq!(no_token.status, StatusCode::UNAUTHORIZED);
+    app.api_answers(
+        StatusCode::UNAUTHORIZED,
+        "POST",
+        "/api/v1/calc/capacity",
+        None,
+        Some(example()),
+    )
+    .await;
 }
 
 #[tokio::test]
@@ -237,21 +241,28 @@ async fn a_stored_build_answers_its_wear() {
         .json();
     let id = b["id"].as_i64().unwrap();
     let none = app
-        .api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None)
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "GET",
+            &format!("/api/v1/builds/{id}/wear"),
+            ts,
+            None,
+        )
         .await;
-    assert_eq!(none.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(none.json()["field"], "measurements");
     for (passes, h) in [(0, 48.387), (30, 48.590)] {
-        let m = app
-            .api("POST", &format!("/api/v1/builds/{id}/measurements"), ts,
-                Some(json!({"measured_on": "2026-11-01", "height_mm": h, "passes": passes, "shims_pulled": 0})))
-            .await;
-        assert_eq!(m.status, StatusCode::CREATED);
+        app.api_answers(StatusCode::CREATED, "POST", &format!("/api/v1/builds/{id}/measurements"), ts,
+                Some(json!({"measured_on": "2026-11-01", "height_mm": h, "passes": passes, "shims_pulled": 0}))).await;
     }
     let w = app
-        .api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None)
+        .api_answers(
+            StatusCode::OK,
+            "GET",
+            &format!("/api/v1/builds/{id}/wear"),
+            ts,
+            None,
+        )
         .await;
-    assert_eq!(w.status, StatusCode::OK, "{}", w.body);
     // growth 0.203 mm < 0.381 mm limit: ok, next shim 0.254 mm
     assert_eq!(w.json()["status"], "ok");
     assert_eq!(w.json()["next_shim"], 0.254);

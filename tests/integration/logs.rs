@@ -158,19 +158,9 @@ async fn a_log_larger_than_a_form_is_accepted_on_the_log_routes_only() {
 /// A pass on a recorded build with a setup before it; returns its id.
 pub async fn pass_on_a_build(client: &Client<'_>) -> String {
     let build = client.record_build().await;
-    let r = client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-10-01"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-    let r = client
-        .post(
+    client.record_setup(&build, "2026-10-01", "1.5", "24").await;
+    client
+        .post_saved(
             &format!("{build}/passes"),
             &[
                 ("run_on", "2026-10-04"),
@@ -179,7 +169,6 @@ pub async fn pass_on_a_build(client: &Client<'_>) -> String {
             ],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let mut conn = client.app.pool.acquire().await.unwrap();
     let id: i64 = sqlx::query_scalar("SELECT MAX(id) FROM passes")
         .fetch_one(&mut *conn)
@@ -440,7 +429,7 @@ async fn upload_then_mapping_then_the_pass_page() {
     assert!(!r.body.contains("input_rpm, driveshaft_rpm"), "{}", r.body);
 
     let r = client
-        .post(
+        .post_saved(
             &format!("/passes/{pass}/log/map"),
             &[
                 ("upload", upload_token),
@@ -454,7 +443,6 @@ async fn upload_then_mapping_then_the_pass_page() {
             ],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     assert_eq!(r.location(), format!("/passes/{pass}"));
     assert_eq!(app.count("pass_logs").await, 1);
     let page = client.get(&format!("/passes/{pass}")).await;
@@ -757,13 +745,12 @@ async fn two_passes(app: &TestApp, client: &Client<'_>) -> (i64, String, String)
             .await
             .unwrap()
     };
-    let r = client
-        .post(
+    client
+        .post_saved(
             &format!("/builds/{build}/passes"),
             &[("run_on", "2026-10-11"), ("track", "Test strip")],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let second = (first.parse::<i64>().unwrap() + 1).to_string();
     (build, first, second)
 }

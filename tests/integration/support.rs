@@ -227,6 +227,38 @@ impl TestApp {
         self.send(req.body(body).unwrap()).await
     }
 
+    /// [`TestApp::api`], where the answer must have `status` (its body is shown when not).
+    pub async fn api_answers(
+        &self,
+        status: StatusCode,
+        method: &str,
+        path: &str,
+        token: Option<&str>,
+        body: Option<serde_json::Value>,
+    ) -> Reply {
+        let reply = self.api(method, path, token, body).await;
+        assert_eq!(reply.status, status, "{method} {path}: {}", reply.body);
+        reply
+    }
+
+    /// Changes one field of the stored record at `path` (`/api/v1/builds/3`) through the
+    /// record API as `user`: GET it, set `field` to `value`, PUT it back, which must be saved
+    /// (200); the answer to the PUT.
+    pub async fn edit_record(
+        &self,
+        user: &str,
+        path: &str,
+        field: &str,
+        value: serde_json::Value,
+    ) -> Reply {
+        let token = self.token(user).await;
+        let t = Some(token.as_str());
+        let mut body = self.api("GET", path, t, None).await.json();
+        body[field] = value;
+        self.api_answers(StatusCode::OK, "PUT", path, t, Some(body))
+            .await
+    }
+
     /// `POST` of a JSON body with an API token.
     pub async fn post_json(&self, path: &str, token: &str, body: serde_json::Value) -> Reply {
         self.api("POST", path, Some(token), Some(body)).await
@@ -334,6 +366,64 @@ impl Client<'_> {
         let mut all = vec![("_csrf", self.csrf.as_str())];
         all.extend_from_slice(pairs);
         self.app.post_form(path, &all, Some(&self.cookie)).await
+    }
+
+    /// Posts a form that must be saved: the answer is the redirect (303) a saved form gives,
+    /// and the page that came back instead is shown when it is not.
+    pub async fn post_saved(&self, path: &str, pairs: &[(&str, &str)]) -> Reply {
+        let reply = self.post(path, pairs).await;
+        assert_eq!(
+            reply.status,
+            StatusCode::SEE_OTHER,
+            "{path}: {}",
+            reply.body
+        );
+        reply
+    }
+
+    /// Saves a setup on the build at `build` (its page path) from `day`: `turns` of the
+    /// adjuster, `counterweight_g` per lever and the facing's nominal μ.
+    pub async fn record_setup(
+        &self,
+        build: &str,
+        day: &str,
+        turns: &str,
+        counterweight_g: &str,
+    ) -> Reply {
+        let setup = [
+            ("changed_on", day),
+            ("adjuster_turns", turns),
+            ("counterweight_g", counterweight_g),
+        ];
+        self.post_saved(&format!("{build}/setups"), &setup).await
+    }
+
+    /// Saves a cover height on the build at `build` measured on `day`: `height` (in) after
+    /// `passes` passes since the last one.
+    pub async fn record_height(&self, build: &str, day: &str, height: &str, passes: &str) -> Reply {
+        let fields = [("measured_on", day), ("height", height), ("passes", passes)];
+        self.post_saved(&format!("{build}/heights"), &fields).await
+    }
+
+    /// Saves a bench test on `day` of the six springs at a 1.600 in test height: spring 1
+    /// with `first_free` (in) and `first_force` (lbf), the other five 2.100 in free and 190 lbf.
+    pub async fn record_bench_test(
+        &self,
+        build: &str,
+        day: &str,
+        first_free: &str,
+        first_force: &str,
+    ) -> Reply {
+        let mut form = vec![("tested_on", day), ("test_height", "1.600")];
+        let names: Vec<(String, String)> = (1..=6)
+            .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
+            .collect();
+        for (i, (free, force)) in names.iter().enumerate() {
+            form.push((free, if i == 0 { first_free } else { "2.100" }));
+            form.push((force, if i == 0 { first_force } else { "190" }));
+        }
+        self.post_saved(&format!("{build}/bench-tests"), &form)
+            .await
     }
 }
 

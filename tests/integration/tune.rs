@@ -3,9 +3,8 @@
 
 use axum::http::StatusCode;
 
-use crate::support::{Client, Reply, TestApp};
+use crate::support::TestApp;
 
-/// Records the setup the checks below start from: 1.5 turns, 24 g, nominal μ.
 /// The message shown beside the input `name` of a page.
 fn message_of(body: &str, name: &str) -> String {
     let start = body
@@ -16,63 +15,12 @@ fn message_of(body: &str, name: &str) -> String {
     text.to_string()
 }
 
-async fn set_up(client: &Client<'_>, build: &str) {
-    let r = client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-11-02"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-}
-
-/// Records a bench test of the six springs at 1.600 in: spring 1 with `first_free` (in) and
-/// `first_force` (lbf), the others 2.100 in free and 190 lbf.
-async fn bench_test(
-    client: &Client<'_>,
-    build: &str,
-    day: &str,
-    first_free: &str,
-    first_force: &str,
-) {
-    let mut form = vec![("tested_on", day), ("test_height", "1.600")];
-    let names: Vec<(String, String)> = (1..=6)
-        .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
-        .collect();
-    for (i, (free, force)) in names.iter().enumerate() {
-        form.push((free, if i == 0 { first_free } else { "2.100" }));
-        form.push((force, if i == 0 { first_force } else { "190" }));
-    }
-    let r = client.post(&format!("{build}/bench-tests"), &form).await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-}
-
-/// Changes one field of a stored build through the record API (GET, change, PUT).
-async fn edit_build(app: &TestApp, id: i64, field: &str, value: serde_json::Value) -> Reply {
-    let token = app.token("sam").await;
-    let t = Some(token.as_str());
-    let mut body = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
-        .await
-        .json();
-    body[field] = value;
-    let put = app
-        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
-        .await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
-    put
-}
-
 #[tokio::test]
 async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    set_up(&client, &build).await;
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     let audit_before = app.count("audit_log").await;
 
     let page = client.get(&format!("{build}/tune")).await;
@@ -147,18 +95,12 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    set_up(&client, &build).await;
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     let fresh = client.get(&format!("{build}/tune")).await;
     assert!(fresh.body.contains("715 lbf"));
     assert!(!fresh.body.contains("Wear since last shim"));
     for (day, height, passes) in [("2026-11-03", "1.905", "0"), ("2026-11-20", "1.908", "40")] {
-        let r = client
-            .post(
-                &format!("{build}/heights"),
-                &[("measured_on", day), ("height", height), ("passes", passes)],
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+        client.record_height(&build, day, height, passes).await;
     }
     let worn = client.get(&format!("{build}/tune")).await;
     assert!(worn.body.contains("709 lbf"), "static clamp after wear");
@@ -168,8 +110,7 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     );
     // A sheet printed now shows the same; sheets printed before keep their figures (see
     // sheets.rs, the reprint of an earlier sheet).
-    let made = client.post(&format!("{build}/sheets"), &[]).await;
-    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
+    let made = client.post_saved(&format!("{build}/sheets"), &[]).await;
     let sheet = client.get(made.location()).await;
     assert!(sheet.body.contains("<dt>Static clamp</dt><dd>709 lbf</dd>"));
 }
@@ -182,13 +123,14 @@ async fn the_lever_body_radius_is_stored_used_and_checked() {
     let client = app.login("sam").await;
     let build = client.record_build().await;
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    let put = edit_build(
-        &app,
-        id,
-        "lever_body_cg_radius_mm",
-        serde_json::json!(2.05 * 25.4),
-    )
-    .await;
+    let put = app
+        .edit_record(
+            "sam",
+            &format!("/api/v1/builds/{id}"),
+            "lever_body_cg_radius_mm",
+            serde_json::json!(2.05 * 25.4),
+        )
+        .await;
     let mut body = put.json();
     assert_eq!(body["lever_body_cg_radius_mm"], 2.05 * 25.4);
 
@@ -196,9 +138,14 @@ async fn the_lever_body_radius_is_stored_used_and_checked() {
     let t = Some(token.as_str());
     body["lever_gain_n_per_g"] = serde_json::json!(2.0);
     let refused = app
-        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "PUT",
+            &format!("/api/v1/builds/{id}"),
+            t,
+            Some(body),
+        )
         .await;
-    assert_eq!(refused.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(refused.json()["field"], "lever_body_cg_radius_mm");
 }
 
@@ -211,7 +158,13 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
     let client = app.login("sam").await;
     let build = client.record_build().await;
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    edit_build(&app, id, "disc_count", serde_json::json!(2)).await;
+    app.edit_record(
+        "sam",
+        &format!("/api/v1/builds/{id}"),
+        "disc_count",
+        serde_json::json!(2),
+    )
+    .await;
     let margin = |page: &str| -> f64 {
         let at = page.find("Margin at the top").expect("figure shown");
         let cell = &page[at..];
@@ -220,8 +173,8 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
     };
     let full = margin(&client.get(&format!("{build}/tune")).await.body);
     let admin = app.login("boss").await;
-    let saved = admin
-        .post(
+    admin
+        .post_saved(
             "/settings",
             &[
                 ("name", "Test shop"),
@@ -236,7 +189,6 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
             ],
         )
         .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
     let derated = margin(&client.get(&format!("{build}/tune")).await.body);
     assert!(
         (derated - full * 0.95).abs() <= 0.006,
@@ -256,12 +208,14 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    set_up(&client, &build).await;
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     for (day, first_free, first_force) in [
         ("2026-11-03", "2.100", "190"),
         ("2026-11-25", "2.080", "182.4"),
     ] {
-        bench_test(&client, &build, day, first_free, first_force).await;
+        client
+            .record_bench_test(&build, day, first_free, first_force)
+            .await;
     }
     let page = client.get(&build).await;
     assert!(page.body.contains("▲ sagged 9.1 %"), "sag on load");
@@ -281,9 +235,9 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     // (1.880 − 1.200) × 16 = 10.88 turns [D]; keeping the shop's 0.5 mm margin (issue 21, its
     // starting setting) the last turns are (0.680 − 0.5/25.4) × 16 = 10.565 turns [D].
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    edit_build(
-        &app,
-        id,
+    app.edit_record(
+        "sam",
+        &format!("/api/v1/builds/{id}"),
         "spring_solid_height_mm",
         serde_json::json!(1.2 * 25.4),
     )
@@ -311,9 +265,11 @@ async fn a_first_bench_test_with_a_spring_low_on_load_flags_the_set() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    set_up(&client, &build).await;
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     // Force at 1.600 in: 380 × (free − 1.600).
-    bench_test(&client, &build, "2026-11-03", "2.0912", "186.656").await;
+    client
+        .record_bench_test(&build, "2026-11-03", "2.0912", "186.656")
+        .await;
     let page = client.get(&build).await;
     assert!(
         !page.body.contains("set within tolerance"),
@@ -351,7 +307,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    set_up(&client, &build).await;
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     let page = client.get(&format!("{build}/tune")).await;
     assert!(page.body.contains("Launch preview"));
     assert!(
@@ -366,8 +322,8 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
         .and_then(|s| s.split(['/', '"']).next())
         .expect("a link to the car")
         .to_string();
-    let saved = client
-        .post(
+    client
+        .post_saved(
             &format!("/cars/{car}"),
             &[
                 ("description", "two-door, 7.2 L V8, 4-speed"),
@@ -385,7 +341,6 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
             ],
         )
         .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
     let audit: String = sqlx::query_scalar(
         "SELECT after FROM audit_log WHERE table_name = 'cars' ORDER BY id DESC LIMIT 1",
     )
@@ -483,7 +438,7 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    set_up(&client, &build).await;
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(
         tune.body.contains("so the clutch grabs hard"),
@@ -506,8 +461,8 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
     body["first_gear_ratio"] = serde_json::json!(2.43);
     body["final_drive_ratio"] = serde_json::json!(4.11);
     body["tire_diameter_mm"] = serde_json::json!(711.2);
-    let put = app.api("PUT", &car, t, Some(body)).await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    app.api_answers(StatusCode::OK, "PUT", &car, t, Some(body))
+        .await;
     let tune = client.get(&format!("{build}/tune")).await;
     let start = tune.body.find("so the clutch grabs hard").expect("warning");
     let item = &tune.body[start..start + tune.body[start..].find("</li>").expect("item")];
@@ -527,28 +482,21 @@ async fn release_travel_counts_in_the_coil_bind_figures() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    set_up(&client, &build).await;
-    let mut form = vec![("tested_on", "2026-11-03"), ("test_height", "1.600")];
-    let names: Vec<(String, String)> = (1..=6)
-        .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
-        .collect();
-    for (free, force) in &names {
-        form.push((free, "2.100"));
-        form.push((force, "190"));
-    }
-    let r = client.post(&format!("{build}/bench-tests"), &form).await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    client
+        .record_bench_test(&build, "2026-11-03", "2.100", "190")
+        .await;
     let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    edit_build(
-        &app,
-        id,
+    app.edit_record(
+        "sam",
+        &format!("/api/v1/builds/{id}"),
         "spring_solid_height_mm",
         serde_json::json!(1.2 * 25.4),
     )
     .await;
-    edit_build(
-        &app,
-        id,
+    app.edit_record(
+        "sam",
+        &format!("/api/v1/builds/{id}"),
         "release_travel_mm",
         serde_json::json!(0.05 * 25.4),
     )
@@ -687,8 +635,8 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
     assert!((api_mu - mu).abs() <= 0.0005, "{api_mu} against {mu} shown");
 
     // 3700 rpm from a 4500 rpm launch: 17.8 % below [derived], typed without a log.
-    let r = client
-        .post(
+    client
+        .post_saved(
             "/builds/1/passes",
             &[
                 ("run_on", "2026-11-08"),
@@ -698,7 +646,6 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
             ],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let page = client.get("/builds/1/tune").await;
     assert!(
         page.body
