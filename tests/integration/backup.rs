@@ -1261,8 +1261,7 @@ async fn an_admin_downloads_a_checked_backup_and_the_export_and_a_tech_is_refuse
     let boss = app.login("boss").await;
     let sam = app.login("sam").await;
 
-    let page = boss.get("/backup").await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = boss.get_ok("/backup").await;
     assert!(page.body.contains("Backups and export"));
     assert!(page.body.contains("href=\"/backup/download\""));
 

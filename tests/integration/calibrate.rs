@@ -422,8 +422,7 @@ async fn the_tuning_page_shows_the_calibration_and_uses_it_with_one_click() {
     let app = TestApp::new().await;
     let id = calibrated_build(&app).await;
     let client = app.login("sam").await;
-    let page = client.get(&format!("/builds/{id}/tune")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&format!("/builds/{id}/tune")).await;
     let body = page.body;
     for text in [
         "What the track says about friction",

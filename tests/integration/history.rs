@@ -77,8 +77,7 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
             ],
         )
         .await;
-    let page = client.get(&format!("/builds/{build}/history")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&format!("/builds/{build}/history")).await;
     assert!(
         page.body.contains("changed the build&#39;s hardware")
             || page.body.contains("changed the build's hardware"),

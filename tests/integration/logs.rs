@@ -313,8 +313,7 @@ async fn upload_then_mapping_then_the_pass_page() {
     assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let map = r.location().to_string();
     assert!(map.starts_with(&format!("/passes/{pass}/log/map?upload=")));
-    let page = client.get(&map).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&map).await;
     // The choices are the file's own header names; the units line was skipped.
     assert!(
         page.body.contains("<option value=\"engine\">"),
@@ -445,8 +444,7 @@ async fn upload_then_mapping_then_the_pass_page() {
         .await;
     assert_eq!(r.location(), format!("/passes/{pass}"));
     assert_eq!(app.count("pass_logs").await, 1);
-    let page = client.get(&format!("/passes/{pass}")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&format!("/passes/{pass}")).await;
     assert!(page.body.contains("1.070 s"), "{}", page.body);
     assert_eq!(page.body.matches("<svg").count(), 3);
     // The build's pass table shows the lockup time and links the pass.
@@ -509,9 +507,8 @@ async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
     );
     assert_eq!(alone.body.matches("<svg").count(), 3);
     let both = client
-        .get(&format!("/passes/{first}?compare={second}"))
+        .get_ok(&format!("/passes/{first}?compare={second}"))
         .await;
-    assert_eq!(both.status, StatusCode::OK);
     assert_eq!(both.body.matches("<svg").count(), 4);
     assert!(both.body.contains("Two passes, time from each launch"));
     // Anything else in the query is no comparison, not an error.
@@ -598,8 +595,7 @@ async fn a_pass_page_opens_on_the_launch_with_the_whole_file_a_link_away() {
     store(&app, &pass, staged_csv()).await;
     // The whole file asked for first, so a cached page of one stretch never answers for the
     // other.
-    let all = client.get(&format!("/passes/{pass}?window=all")).await;
-    assert_eq!(all.status, StatusCode::OK);
+    let all = client.get_ok(&format!("/passes/{pass}?window=all")).await;
     assert!(
         all.body
             .contains("The charts show 0.00–6.00 s: the whole file."),

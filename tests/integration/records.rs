@@ -59,8 +59,7 @@ async fn a_tech_records_a_whole_build_through_the_forms() {
         )
         .await;
 
-    let page = client.get(&build).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&build).await;
     assert!(page.body.contains("Avery Lindqvist"));
     // bench: 190 lbf at 0.500 in is 380.0 lbf/in
     assert!(page.body.contains("380.0"), "spring rate shown");

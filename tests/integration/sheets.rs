@@ -45,8 +45,7 @@ async fn a_printed_sheet_keeps_its_figures_after_the_build_changes() {
         )
         .await;
     let sheet_path = made.location().to_string();
-    let first = client.get(&sheet_path).await;
-    assert_eq!(first.status, StatusCode::OK);
+    let first = client.get_ok(&sheet_path).await;
     for text in [
         "Clutch setup sheet",
         "Avery Lindqvist",
@@ -117,8 +116,7 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
         .collect();
     assert_eq!(link.len(), 3 + 64);
 
-    let public = app.get(&link, None).await;
-    assert_eq!(public.status, StatusCode::OK);
+    let public = app.get_ok(&link, None).await;
     assert!(public.body.contains("Avery Lindqvist") && public.body.contains("Clutch setup sheet"));
     for staff_only in [
         "/customers",
@@ -222,8 +220,7 @@ async fn a_sheet_printed_by_an_earlier_release_reprints_byte_for_byte() {
         .chars()
         .take_while(|c| c.is_ascii_alphanumeric() || matches!(c, '/' | '_' | '-'))
         .collect();
-    let page = app.get(&link, None).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = app.get_ok(&link, None).await;
     if page.body != printed {
         std::fs::write(std::env::temp_dir().join("reprint.html"), &page.body).ok();
     }
@@ -263,8 +260,7 @@ async fn the_customer_link_page_sends_no_referrer_and_is_not_cached() {
     let app = TestApp::new().await;
     let link = customer_link(&app).await;
     let path = &link[link.find("/s/").unwrap()..];
-    let public = app.get(path, None).await;
-    assert_eq!(public.status, StatusCode::OK);
+    let public = app.get_ok(path, None).await;
     assert_eq!(public.headers[header::REFERRER_POLICY], "no-referrer");
     assert_eq!(public.headers[header::CACHE_CONTROL], "no-store");
     // Other pages keep the site-wide policy.

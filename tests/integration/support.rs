@@ -136,6 +136,13 @@ impl TestApp {
         self.send(req.body(Body::empty()).unwrap()).await
     }
 
+    /// [`TestApp::get`] of a page that must be shown (200); its body is shown when it is not.
+    pub async fn get_ok(&self, path: &str, cookie: Option<&str>) -> Reply {
+        let reply = self.get(path, cookie).await;
+        assert_eq!(reply.status, StatusCode::OK, "{path}: {}", reply.body);
+        reply
+    }
+
     pub async fn post_form(
         &self,
         path: &str,
@@ -195,6 +202,16 @@ impl TestApp {
         }
     }
 
+    /// Signs in as the tech `sam`, records the build of [`Client::record_build`] and its first
+    /// setup (2026-11-02: 1.5 turns, 24 g per lever, nominal μ); the client and the build's
+    /// page path.
+    pub async fn set_up_build(&self) -> (Client<'_>, String) {
+        let client = self.login("sam").await;
+        let build = client.record_build().await;
+        client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+        (client, build)
+    }
+
     /// A new API token for a user.
     pub async fn token(&self, name: &str) -> String {
         let mut conn = self.pool.acquire().await.unwrap();
@@ -241,21 +258,16 @@ impl TestApp {
         reply
     }
 
-    /// Changes one field of the stored record at `path` (`/api/v1/builds/3`) through the
-    /// record API as `user`: GET it, set `field` to `value`, PUT it back, which must be saved
-    /// (200); the answer to the PUT.
-    pub async fn edit_record(
-        &self,
-        user: &str,
-        path: &str,
-        field: &str,
-        value: serde_json::Value,
-    ) -> Reply {
-        let token = self.token(user).await;
+    /// Changes one field of the stored build at `build` (its page path, `/builds/3`) through
+    /// the record API as the tech `sam`: GET it, set `field` to `value`, PUT it back, which
+    /// must be saved (200); the answer to the PUT.
+    pub async fn edit_build(&self, build: &str, field: &str, value: serde_json::Value) -> Reply {
+        let token = self.token("sam").await;
         let t = Some(token.as_str());
-        let mut body = self.api("GET", path, t, None).await.json();
+        let path = format!("/api/v1{build}");
+        let mut body = self.api("GET", &path, t, None).await.json();
         body[field] = value;
-        self.api_answers(StatusCode::OK, "PUT", path, t, Some(body))
+        self.api_answers(StatusCode::OK, "PUT", &path, t, Some(body))
             .await
     }
 
@@ -345,6 +357,13 @@ impl Client<'_> {
             .await;
         assert_eq!(build.status, StatusCode::SEE_OTHER, "{}", build.body);
         build.location().to_string()
+    }
+
+    /// A page that must be shown (200); the answer's body is shown when it is not.
+    pub async fn get_ok(&self, path: &str) -> Reply {
+        let reply = self.get(path).await;
+        assert_eq!(reply.status, StatusCode::OK, "{path}: {}", reply.body);
+        reply
     }
 
     /// Follows a redirect as a browser would: a GET of its Location with the session and any

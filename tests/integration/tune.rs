@@ -2,6 +2,7 @@
 //! recommendation, with bad input answered beside its field.
 
 use axum::http::StatusCode;
+use serde_json::json;
 
 use crate::support::TestApp;
 
@@ -18,13 +19,10 @@ fn message_of(body: &str, name: &str) -> String {
 #[tokio::test]
 async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    let (client, build) = app.set_up_build().await;
     let audit_before = app.count("audit_log").await;
 
-    let page = client.get(&format!("{build}/tune")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&format!("{build}/tune")).await;
     for text in [
         "Capacity and tuning",
         "Lockup speed",
@@ -37,11 +35,10 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     assert!(page.body.contains("715 lbf"));
 
     let tried = client
-        .get(&format!(
+        .get_ok(&format!(
             "{build}/tune?try=1&adjuster_turns=2&counterweight_g=30&mu="
         ))
         .await;
-    assert_eq!(tried.status, StatusCode::OK);
     assert!(tried.body.contains("Trying"));
     assert!(
         tried.body.contains(
@@ -93,9 +90,7 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
 #[tokio::test]
 async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    let (client, build) = app.set_up_build().await;
     let fresh = client.get(&format!("{build}/tune")).await;
     assert!(fresh.body.contains("715 lbf"));
     assert!(!fresh.body.contains("Wear since last shim"));
@@ -122,26 +117,20 @@ async fn the_lever_body_radius_is_stored_used_and_checked() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
     let put = app
-        .edit_record(
-            "sam",
-            &format!("/api/v1/builds/{id}"),
-            "lever_body_cg_radius_mm",
-            serde_json::json!(2.05 * 25.4),
-        )
+        .edit_build(&build, "lever_body_cg_radius_mm", json!(2.05 * 25.4))
         .await;
     let mut body = put.json();
     assert_eq!(body["lever_body_cg_radius_mm"], 2.05 * 25.4);
 
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    body["lever_gain_n_per_g"] = serde_json::json!(2.0);
+    body["lever_gain_n_per_g"] = json!(2.0);
     let refused = app
         .api_answers(
             StatusCode::UNPROCESSABLE_ENTITY,
             "PUT",
-            &format!("/api/v1/builds/{id}"),
+            &format!("/api/v1{build}"),
             t,
             Some(body),
         )
@@ -157,14 +146,7 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    app.edit_record(
-        "sam",
-        &format!("/api/v1/builds/{id}"),
-        "disc_count",
-        serde_json::json!(2),
-    )
-    .await;
+    app.edit_build(&build, "disc_count", json!(2)).await;
     let margin = |page: &str| -> f64 {
         let at = page.find("Margin at the top").expect("figure shown");
         let cell = &page[at..];
@@ -206,9 +188,7 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
 #[tokio::test]
 async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    let (client, build) = app.set_up_build().await;
     for (day, first_free, first_force) in [
         ("2026-11-03", "2.100", "190"),
         ("2026-11-25", "2.080", "182.4"),
@@ -234,14 +214,8 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     // With a solid height of 1.200 in the springs, installed at 1.880 in, bind after
     // (1.880 − 1.200) × 16 = 10.88 turns [D]; keeping the shop's 0.5 mm margin (issue 21, its
     // starting setting) the last turns are (0.680 − 0.5/25.4) × 16 = 10.565 turns [D].
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    app.edit_record(
-        "sam",
-        &format!("/api/v1/builds/{id}"),
-        "spring_solid_height_mm",
-        serde_json::json!(1.2 * 25.4),
-    )
-    .await;
+    app.edit_build(&build, "spring_solid_height_mm", json!(1.2 * 25.4))
+        .await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(tune.body.contains("10.57 turns"), "coil bind shown");
     let past = client
@@ -263,9 +237,7 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
 #[tokio::test]
 async fn a_first_bench_test_with_a_spring_low_on_load_flags_the_set() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    let (client, build) = app.set_up_build().await;
     // Force at 1.600 in: 380 × (free − 1.600).
     client
         .record_bench_test(&build, "2026-11-03", "2.0912", "186.656")
@@ -305,9 +277,7 @@ fn lockup_times(html: &str) -> Vec<f64> {
 #[tokio::test]
 async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    let (client, build) = app.set_up_build().await;
     let page = client.get(&format!("{build}/tune")).await;
     assert!(page.body.contains("Launch preview"));
     assert!(
@@ -436,9 +406,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
 #[tokio::test]
 async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_time() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    let (client, build) = app.set_up_build().await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(
         tune.body.contains("so the clutch grabs hard"),
@@ -448,19 +416,18 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
     assert!(!tune.body.contains("not slip"));
     assert!(!tune.body.contains("The launch preview of this setting"));
 
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
     let token = app.token("sam").await;
     let t = Some(token.as_str());
     let b = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .api("GET", &format!("/api/v1{build}"), t, None)
         .await
         .json();
     let car = format!("/api/v1/cars/{}", b["car_id"]);
     let mut body = app.api("GET", &car, t, None).await.json();
-    body["weight_kg"] = serde_json::json!(1500.0);
-    body["first_gear_ratio"] = serde_json::json!(2.43);
-    body["final_drive_ratio"] = serde_json::json!(4.11);
-    body["tire_diameter_mm"] = serde_json::json!(711.2);
+    body["weight_kg"] = json!(1500.0);
+    body["first_gear_ratio"] = json!(2.43);
+    body["final_drive_ratio"] = json!(4.11);
+    body["tire_diameter_mm"] = json!(711.2);
     app.api_answers(StatusCode::OK, "PUT", &car, t, Some(body))
         .await;
     let tune = client.get(&format!("{build}/tune")).await;
@@ -480,27 +447,14 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
 #[tokio::test]
 async fn release_travel_counts_in_the_coil_bind_figures() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+    let (client, build) = app.set_up_build().await;
     client
         .record_bench_test(&build, "2026-11-03", "2.100", "190")
         .await;
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    app.edit_record(
-        "sam",
-        &format!("/api/v1/builds/{id}"),
-        "spring_solid_height_mm",
-        serde_json::json!(1.2 * 25.4),
-    )
-    .await;
-    app.edit_record(
-        "sam",
-        &format!("/api/v1/builds/{id}"),
-        "release_travel_mm",
-        serde_json::json!(0.05 * 25.4),
-    )
-    .await;
+    app.edit_build(&build, "spring_solid_height_mm", json!(1.2 * 25.4))
+        .await;
+    app.edit_build(&build, "release_travel_mm", json!(0.05 * 25.4))
+        .await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(tune.body.contains("9.77 turns"), "margin kept at release");
     assert!(tune.body.contains("0.536 in"), "released clearance");
@@ -516,9 +470,8 @@ async fn the_launch_target_refuses_a_setting_that_bogs_the_engine() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
     let page = client
-        .get("/builds/1/tune?launch_target=1&target_lock_time=1.0&max_slip_energy=")
+        .get_ok("/builds/1/tune?launch_target=1&target_lock_time=1.0&max_slip_energy=")
         .await;
-    assert_eq!(page.status, StatusCode::OK);
     let target = page
         .body
         .split("For the launch target")
@@ -549,9 +502,8 @@ async fn a_run_that_ends_still_slipping_says_its_figures_are_so_far() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
     let page = client
-        .get("/builds/1/tune?try=1&adjuster_turns=0&counterweight_g=0&mu=")
+        .get_ok("/builds/1/tune?try=1&adjuster_turns=0&counterweight_g=0&mu=")
         .await;
-    assert_eq!(page.status, StatusCode::OK);
     let rows: Vec<&str> = page
         .body
         .split("<td>Slip energy</td><td class=\"num\">")
@@ -581,8 +533,7 @@ async fn a_run_that_ends_still_slipping_says_its_figures_are_so_far() {
 async fn the_preview_shows_the_recorded_sixty_feet_and_says_when_it_is_far_off() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
-    let page = client.get("/builds/1/tune").await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok("/builds/1/tune").await;
     let row = page
         .body
         .split("<td>60 ft</td><td class=\"num\">")
@@ -610,8 +561,7 @@ async fn the_preview_shows_the_recorded_sixty_feet_and_says_when_it_is_far_off()
 async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
-    let page = client.get("/builds/1/tune").await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok("/builds/1/tune").await;
     let start = page
         .body
         .find("By the whole launch")
@@ -663,9 +613,8 @@ async fn the_next_pass_needs_the_friction_against_heat_line() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
     let page = client
-        .get("/builds/1/tune?next_pass=1&next_after_min=20")
+        .get_ok("/builds/1/tune?next_pass=1&next_after_min=20")
         .await;
-    assert_eq!(page.status, StatusCode::OK);
     let msg = message_of(&page.body, "next_after_min");
     assert!(
         msg.starts_with("needs the friction-against-heat line first"),

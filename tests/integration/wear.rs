@@ -508,8 +508,7 @@ async fn the_build_page_shows_the_forecast_by_slip_energy_the_api_gives_on_the_d
             continue;
         }
         let api = api.json();
-        let page = client.get(&format!("/builds/{id}")).await;
-        assert_eq!(page.status, StatusCode::OK);
+        let page = client.get_ok(&format!("/builds/{id}")).await;
         let line = energy_line(&page.body);
         if api["wear_per_mj"].is_number() {
             assert_page_matches_api(&line, &api);

@@ -679,8 +679,7 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
     assert!(page.contains("The latest 20 of 125 passes."));
     assert!(page.contains(&format!("href=\"/builds/{id}/passes\"")));
 
-    let all = client.get(&format!("/builds/{id}/passes")).await;
-    assert_eq!(all.status, StatusCode::OK);
+    let all = client.get_ok(&format!("/builds/{id}/passes")).await;
     assert_eq!(all.body.matches("<td>Strip ").count(), 100, "a page of 100");
     assert!(all.body.contains("Page 1 of 2"));
     let older = client
@@ -692,8 +691,7 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
         older.contains("<td>Strip 0</td>"),
         "the oldest on the last page"
     );
-    let heights = client.get(&format!("/builds/{id}/heights")).await;
-    assert_eq!(heights.status, StatusCode::OK);
+    let heights = client.get_ok(&format!("/builds/{id}/heights")).await;
     assert!(heights.body.contains("No cover heights recorded yet."));
     assert_eq!(
         client.get("/builds/999999/passes").await.status,
