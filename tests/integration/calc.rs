@@ -6,7 +6,9 @@ use serde_json::{Value, json};
 
 use crate::support::TestApp;
 
-fn example() -> Value {
+/// The capacity request of the worked example (the build of `support::Client::record_build`
+/// at 1.5 turns and 24 g per lever).
+pub fn example() -> Value {
     json!({"units": "imperial",
       "disc": {"outer_diameter": 10.4, "inner_diameter": 6.6, "count": 1, "theory": "uniform_wear"},
       "friction": {"mu": 0.32},

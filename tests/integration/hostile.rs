@@ -483,15 +483,10 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
 }
 
 fn capacity_example() -> Value {
-    json!({"units": "imperial",
-      "disc": {"outer_diameter": 10.4, "inner_diameter": 6.6, "count": 1, "theory": "uniform_wear"},
-      "friction": {"mu": 0.32},
-      "springs": {"count": 6, "rate": 380.0, "base_compression": 0.22, "adjuster_pitch": 0.0625, "adjuster_turns": 1.5},
-      "levers": {"count": 3, "counterweight_g": 24.0, "lever_mass_g": 12.0, "cg_radius": 4.1, "arm_ratio": 2.6},
-      "engine": {"torque_curve": [[3000, 410], [4000, 455], [5000, 480], [6000, 470], [7000, 430]]},
-      "launch_rpm": 4500,
-      "driveline": {"rated_torque": 600},
-      "overclamp_factor": 1.5})
+    let mut example = crate::calc::example();
+    example["driveline"] = json!({"rated_torque": 600});
+    example["overclamp_factor"] = json!(1.5);
+    example
 }
 
 fn build_json() -> Value {

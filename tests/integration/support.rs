@@ -446,6 +446,27 @@ impl Client<'_> {
     }
 }
 
+/// The settings form as a shop admin fills it in: display units, the units the numbers on the
+/// form were shown in, the shimming limit (in those) and the time zone; the rest as shipped.
+pub fn shop_settings<'a>(
+    units: &'a str,
+    shown: &'a str,
+    shimming_limit: &'a str,
+    zone: &'a str,
+) -> [(&'static str, &'a str); 9] {
+    [
+        ("name", "Test shop"),
+        ("units", units),
+        ("shown_units", shown),
+        ("spring_spread_pct", "5"),
+        ("spring_sag_pct", "3"),
+        ("shimming_limit", shimming_limit),
+        ("overclamp_factor", "1.5"),
+        ("due_within_passes", "10"),
+        ("time_zone", zone),
+    ]
+}
+
 pub fn csrf_of(html: &str) -> String {
     let marker = "name=\"_csrf\" value=\"";
     let start = html.find(marker).expect("page has a CSRF field") + marker.len();

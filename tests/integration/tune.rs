@@ -4,7 +4,7 @@
 use axum::http::StatusCode;
 use serde_json::json;
 
-use crate::support::TestApp;
+use crate::support::{TestApp, shop_settings};
 
 /// The message shown beside the input `name` of a page.
 fn message_of(body: &str, name: &str) -> String {
@@ -155,22 +155,9 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
     };
     let full = margin(&client.get(&format!("{build}/tune")).await.body);
     let admin = app.login("boss").await;
-    admin
-        .post_saved(
-            "/settings",
-            &[
-                ("name", "Test shop"),
-                ("units", "imperial"),
-                ("shown_units", "imperial"),
-                ("spring_spread_pct", "5"),
-                ("spring_sag_pct", "3"),
-                ("shimming_limit", "0.015"),
-                ("overclamp_factor", "1.5"),
-                ("due_within_passes", "10"),
-                ("extra_face_efficiency", "0.9"),
-            ],
-        )
-        .await;
+    let mut settings = shop_settings("imperial", "imperial", "0.015", "").to_vec();
+    settings.push(("extra_face_efficiency", "0.9"));
+    admin.post_saved("/settings", &settings).await;
     let derated = margin(&client.get(&format!("{build}/tune")).await.body);
     assert!(
         (derated - full * 0.95).abs() <= 0.006,

@@ -7,7 +7,7 @@ use std::process::{Command, Stdio};
 
 use axum::http::{StatusCode, header};
 
-use crate::support::{Client, Reply, TempDb, TestApp, id_from};
+use crate::support::{Client, Reply, TempDb, TestApp, id_from, shop_settings};
 
 /// The flash cookie a redirect set, as `name=value` (None when it set none).
 fn flash_cookie(reply: &Reply) -> Option<String> {
@@ -571,17 +571,9 @@ async fn the_shop_email_is_checked_like_a_customer_email() {
     let app = TestApp::new().await;
     let boss = app.login("boss").await;
     let settings = |email: &'static str| {
-        vec![
-            ("name", "Millbrook Clutch Works"),
-            ("phone", "555-0199"),
-            ("email", email),
-            ("units", "imperial"),
-            ("spring_spread_pct", "5"),
-            ("spring_sag_pct", "3"),
-            ("shimming_limit", "0.015"),
-            ("overclamp_factor", "1.5"),
-            ("due_within_passes", "10"),
-        ]
+        let mut form = shop_settings("imperial", "imperial", "0.015", "").to_vec();
+        form.push(("email", email));
+        form
     };
     let customer = boss
         .post(
