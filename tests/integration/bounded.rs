@@ -133,7 +133,7 @@ async fn the_pass_page_keeps_its_analysis_whatever_else_the_query_string_says() 
     let page = client
         .get_ok(&format!("/passes/{pass}?compare=x&n=1"))
         .await;
-    assert!(page.body.contains("1.070 s"), "{}", page.body);
+    page.assert_shows("1.070 s");
     // The stored bytes spoilt behind the server's back, the same length and stamp: a page
     // asked for with another raw query is the kept one, not a new analysis.
     sql(
@@ -164,7 +164,7 @@ async fn a_stored_log_that_cannot_be_read_is_said_so_not_500() {
         .get_json(&format!("/api/v1/passes/{pass}/analysis"), &token)
         .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
-    assert!(r.body.contains("cannot be inflated"), "{}", r.body);
+    r.assert_shows("cannot be inflated");
 }
 
 #[tokio::test]

@@ -52,7 +52,7 @@ async fn a_save_shows_on_the_next_view_of_a_page_seen_before_it() {
     )
     .await;
     let after = boss.get(SEARCH).await;
-    assert!(after.body.contains("Nell Quorrendal"), "{}", after.body);
+    after.assert_shows("Nell Quorrendal");
 }
 
 #[tokio::test]

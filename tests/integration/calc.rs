@@ -216,24 +216,13 @@ async fn a_stored_build_answers_its_wear() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
     let ts = Some(t.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            ts,
-            Some(json!({"name": "Noor Abernethy"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             ts,
-            Some(json!({"description": "two-door, 5.7 L V8, 4-speed"})),
+            json!({"name": "Noor Abernethy"}),
+            json!({"description": "two-door, 5.7 L V8, 4-speed"}),
         )
-        .await
-        .json();
+        .await;
     let b = app
         .api("POST", &format!("/api/v1/cars/{}/builds", car["id"]), ts,
             Some(json!({"disc_count": 1, "facing_material": "organic", "facing_od_mm": 264.16, "facing_id_mm": 167.64,

@@ -237,25 +237,14 @@ async fn mu_and_gain_fits_when_the_passes_spread() {
 async fn stored_build(app: &TestApp) -> (i64, String) {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            t,
-            Some(json!({"name": "Test Racer"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             t,
-            Some(json!({"description": "two-door, 7.2 L V8, 4-speed",
-                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]})),
+            json!({"name": "Test Racer"}),
+            json!({"description": "two-door, 7.2 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]}),
         )
-        .await
-        .json();
+        .await;
     let gain = 0.005 * (1000.0 * std::f64::consts::PI / 30.0).powi(2) / 40.0;
     let b = app
         .api_answers(
@@ -872,7 +861,7 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
             Some(bad),
         )
         .await;
-    assert!(r.body.contains("run_at"), "{}", r.body);
+    r.assert_shows("run_at");
 }
 
 #[tokio::test]

@@ -302,11 +302,7 @@ async fn upload_then_mapping_then_the_pass_page() {
     // An unreadable file: a message on the pass page, nothing kept.
     let r = upload(&client, &pass, b"just words\nno table\n").await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(
-        r.body.contains("cannot be read as a data log"),
-        "{}",
-        r.body
-    );
+    r.assert_shows("cannot be read as a data log");
     assert!(r.body.contains("Nothing was saved"));
 
     let r = upload(&client, &pass, launch_csv().as_bytes()).await;
@@ -393,23 +389,15 @@ async fn upload_then_mapping_then_the_pass_page() {
         ],
     )
     .await;
-    assert!(
-        r.body.contains("the file has no column “clock”"),
-        "{}",
-        r.body
-    );
-    assert!(
-        r.body.contains("the file has no column “shaft”"),
-        "{}",
-        r.body
-    );
+    r.assert_shows("the file has no column “clock”");
+    r.assert_shows("the file has no column “shaft”");
     assert!(
         r.body.contains("choose the file&#39;s column for this")
             || r.body.contains("choose the file's column for this"),
         "{}",
         r.body
     );
-    assert!(r.body.contains("fix the 3 marked fields"), "{}", r.body);
+    r.assert_shows("fix the 3 marked fields");
     // The driven side from no source at all, in the form's words (not the API's keys).
     let r = map_refused(
         &client,
@@ -418,13 +406,7 @@ async fn upload_then_mapping_then_the_pass_page() {
         &[("time", "t"), ("engine_rpm", "engine")],
     )
     .await;
-    assert!(
-        r.body.contains(
-            "give exactly one of input shaft speed, driveshaft speed or driven wheel speed"
-        ),
-        "{}",
-        r.body
-    );
+    r.assert_shows("give exactly one of input shaft speed, driveshaft speed or driven wheel speed");
     assert!(!r.body.contains("input_rpm, driveshaft_rpm"), "{}", r.body);
 
     let r = client
@@ -445,7 +427,7 @@ async fn upload_then_mapping_then_the_pass_page() {
     assert_eq!(r.location(), format!("/passes/{pass}"));
     assert_eq!(app.count("pass_logs").await, 1);
     let page = client.get_ok(&format!("/passes/{pass}")).await;
-    assert!(page.body.contains("1.070 s"), "{}", page.body);
+    page.assert_shows("1.070 s");
     assert_eq!(page.body.matches("<svg").count(), 3);
     // The build's pass table shows the lockup time and links the pass.
     let build = id_from(&format!("/builds/{}", {
@@ -457,29 +439,14 @@ async fn upload_then_mapping_then_the_pass_page() {
             .unwrap()
     }));
     let b = client.get(&format!("/builds/{build}")).await;
-    assert!(
-        b.body
-            .contains(&format!("<a href=\"/passes/{pass}\">0.970 s</a>")),
-        "{}",
-        b.body
-    );
+    b.assert_shows(&format!("<a href=\"/passes/{pass}\">0.970 s</a>"));
     // No lockup was typed on this pass: the log's fills the column, marked as such.
-    assert!(
-        b.body
-            .contains("4800 rpm <span class=\"muted\">(log)</span>"),
-        "{}",
-        b.body
-    );
+    b.assert_shows("4800 rpm <span class=\"muted\">(log)</span>");
     // The mapping (and the inertia, 4.746 lb·ft² = 0.200 kg·m²) is offered for the next file.
     let r = upload(&client, &pass, launch_csv().as_bytes()).await;
     let page = client.get(r.location()).await;
-    assert!(
-        page.body
-            .contains("name=\"input_rpm\" list=\"log-columns\" value=\"input\""),
-        "{}",
-        page.body
-    );
-    assert!(page.body.contains("value=\"4.746\""), "{}", page.body);
+    page.assert_shows("name=\"input_rpm\" list=\"log-columns\" value=\"input\"");
+    page.assert_shows("value=\"4.746\"");
 }
 
 #[tokio::test]
@@ -498,13 +465,7 @@ async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
         assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     }
     let alone = client.get(&format!("/passes/{first}")).await;
-    assert!(
-        alone
-            .body
-            .contains(&format!("<option value=\"{second}\">2026-10-11")),
-        "{}",
-        alone.body
-    );
+    alone.assert_shows(&format!("<option value=\"{second}\">2026-10-11"));
     assert_eq!(alone.body.matches("<svg").count(), 3);
     let both = client
         .get_ok(&format!("/passes/{first}?compare={second}"))
@@ -714,12 +675,7 @@ async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
         .get(&format!("/passes/{first}?compare={second}&window=all"))
         .await;
     // The whole files: 2 s before the first's launch to 4 s after it.
-    assert!(
-        all.body
-            .contains("Two passes, time from each launch: the whole files, -2.00 to 4.00 s"),
-        "{}",
-        all.body
-    );
+    all.assert_shows("Two passes, time from each launch: the whole files, -2.00 to 4.00 s");
     // The comparison form keeps the whole-file choice.
     assert!(
         all.body

@@ -101,19 +101,9 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
         .location()
         .to_string();
     let sheet_id = id_from(&sheet);
-    let made = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
+    let made = client.new_link(&sheet, "14").await;
     assert_eq!(made.status, StatusCode::OK);
-    let start = made.body.find("/s/").expect("link shown");
-    let link: String = made.body[start..]
-        .chars()
-        .take_while(|c| *c != '<')
-        .collect();
+    let link = crate::support::link_in(&made.body);
     assert_eq!(link.len(), 3 + 64);
 
     let public = app.get_ok(&link, None).await;
@@ -163,18 +153,8 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
     assert!(!gone.body.contains("Avery Lindqvist"));
 
     // An expired link is gone too.
-    let again = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "1")])
-                .await,
-        )
-        .await;
-    let start = again.body.find("/s/").unwrap();
-    let link2: String = again.body[start..]
-        .chars()
-        .take_while(|c| *c != '<')
-        .collect();
+    let again = client.new_link(&sheet, "1").await;
+    let link2 = crate::support::link_in(&again.body);
     sqlx::query(
         "UPDATE sheet_links SET expires_at = '2000-01-01T00:00:00Z' WHERE revoked_at IS NULL",
     )
@@ -208,13 +188,7 @@ async fn a_sheet_printed_by_an_earlier_release_reprints_byte_for_byte() {
     .await
     .unwrap();
     let client = app.login("sam").await;
-    let made = client
-        .follow(
-            &client
-                .post(&format!("/sheets/{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
+    let made = client.new_link(&format!("/sheets/{sheet}"), "14").await;
     let start = made.body.find("/s/").expect("link shown");
     let link: String = made.body[start..]
         .chars()
@@ -239,13 +213,7 @@ async fn customer_link(app: &TestApp) -> String {
         .await
         .location()
         .to_string();
-    let made = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
+    let made = client.new_link(&sheet, "14").await;
     assert_eq!(made.status, StatusCode::OK, "{}", made.body);
     let start = made.body.find("/s/").expect("link shown");
     let begin = made.body[..start].rfind('>').map_or(start, |i| i + 1);
@@ -354,7 +322,7 @@ async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name()
         .unwrap();
     let old = app.get(&path, None).await;
     assert!(!old.body.contains("prepared by sam"), "{}", old.body);
-    assert!(old.body.contains("prepared by Counter"), "{}", old.body);
+    old.assert_shows("prepared by Counter");
     // A tech may not change it.
     let sam = app.login("sam").await;
     let refused = sam

@@ -67,6 +67,12 @@ impl Reply {
             .unwrap_or("")
     }
 
+    /// Asserts that the body holds `text`, showing the whole body when it does not.
+    #[track_caller]
+    pub fn assert_shows(&self, text: &str) {
+        assert!(self.body.contains(text), "{text:?} not in:\n{}", self.body);
+    }
+
     pub fn json(&self) -> serde_json::Value {
         serde_json::from_str(&self.body).unwrap_or_else(|e| panic!("not JSON ({e}): {}", self.body))
     }
@@ -258,6 +264,25 @@ impl TestApp {
         reply
     }
 
+    /// Creates a customer (the JSON `customer`) and a car of theirs (`car`) through the record
+    /// API with `token`, each of which must be created (201); the car as the API answers it.
+    pub async fn api_car(
+        &self,
+        token: Option<&str>,
+        customer: serde_json::Value,
+        car: serde_json::Value,
+    ) -> serde_json::Value {
+        let created = StatusCode::CREATED;
+        let c = self
+            .api_answers(created, "POST", "/api/v1/customers", token, Some(customer))
+            .await
+            .json();
+        let cars = format!("/api/v1/customers/{}/cars", c["id"]);
+        self.api_answers(created, "POST", &cars, token, Some(car))
+            .await
+            .json()
+    }
+
     /// Changes one field of the stored build at `build` (its page path, `/builds/3`) through
     /// the record API as the tech `sam`: GET it, set `field` to `value`, PUT it back, which
     /// must be saved (200); the answer to the PUT.
@@ -380,6 +405,15 @@ impl Client<'_> {
             .await
     }
 
+    /// Makes a customer link to the setup sheet at `sheet` valid for `valid_days` days through
+    /// the sheet's form, and follows the redirect to the page that shows it.
+    pub async fn new_link(&self, sheet: &str, valid_days: &str) -> Reply {
+        let made = self
+            .post(&format!("{sheet}/links"), &[("valid_days", valid_days)])
+            .await;
+        self.follow(&made).await
+    }
+
     /// Posts a form with the CSRF token, as the page's own form would.
     pub async fn post(&self, path: &str, pairs: &[(&str, &str)]) -> Reply {
         let mut all = vec![("_csrf", self.csrf.as_str())];
@@ -471,6 +505,12 @@ pub fn csrf_of(html: &str) -> String {
     let marker = "name=\"_csrf\" value=\"";
     let start = html.find(marker).expect("page has a CSRF field") + marker.len();
     html[start..].split('"').next().unwrap().to_string()
+}
+
+/// The customer link's address as a page shows it (from its `/s/` to the next tag).
+pub fn link_in(html: &str) -> String {
+    let start = html.find("/s/").expect("a customer link on the page");
+    html[start..].chars().take_while(|c| *c != '<').collect()
 }
 
 pub fn form_encode(pairs: &[(&str, &str)]) -> String {

@@ -20,24 +20,13 @@ fn due_section(front: &str) -> &str {
 async fn build_with_stack(app: &TestApp) -> (i64, String) {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            t,
-            Some(json!({"name": "Ines Halvorsen", "phone": "555-0177"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             t,
-            Some(json!({"description": "two-door, 6.4 L V8, 4-speed"})),
+            json!({"name": "Ines Halvorsen", "phone": "555-0177"}),
+            json!({"description": "two-door, 6.4 L V8, 4-speed"}),
         )
-        .await
-        .json();
+        .await;
     let inch = |v: f64| v * 25.4;
     let b = app.api_answers(StatusCode::CREATED, "POST", &format!("/api/v1/cars/{}/builds", car["id"]), t,
             Some(json!({"disc_count": 1, "facing_material": "organic", "facing_od_mm": inch(10.4), "facing_id_mm": inch(6.6),
@@ -260,25 +249,14 @@ async fn a_twin_disc_pack_has_twice_the_single_disc_allowance() {
 async fn energy_build(app: &TestApp) -> (i64, i64, String) {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            t,
-            Some(json!({"name": "Oren Vasquez-Lind"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             t,
-            Some(json!({"description": "two-door, 7.0 L V8, 4-speed",
-                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]})),
+            json!({"name": "Oren Vasquez-Lind"}),
+            json!({"description": "two-door, 7.0 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]}),
         )
-        .await
-        .json();
+        .await;
     let car_id = car["id"].as_i64().unwrap_or(0);
     let b = app
         .api_answers(

@@ -82,13 +82,7 @@ async fn a_save_on_the_build_page_redirects_and_says_once_what_changed() {
     assert_eq!(first.status, StatusCode::SEE_OTHER);
     assert!(first.location().starts_with(&build), "{}", first.location());
     let shown = client.follow(&first).await;
-    assert!(
-        shown
-            .body
-            .contains("Saved: the first setup, 2024-05-01: Adjuster turns 1.5 turns"),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: the first setup, 2024-05-01: Adjuster turns 1.5 turns");
     // Shown once: the page clears the note's cookie, and a page without it says nothing.
     let cleared = shown
         .headers
@@ -104,13 +98,7 @@ async fn a_save_on_the_build_page_redirects_and_says_once_what_changed() {
     // A change names what changed, and only that.
     let second = setup(&client, &build, "1.75", "24").await;
     let shown = client.follow(&second).await;
-    assert!(
-        shown
-            .body
-            .contains("Adjuster turns: 1.5 turns → 1.75 turns"),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Adjuster turns: 1.5 turns → 1.75 turns");
     let note = shown.body.split("class=\"saved\"").nth(1).unwrap();
     let note = note.split("</p>").next().unwrap();
     assert!(!note.contains("Counterweight"), "{note}");
@@ -128,13 +116,7 @@ async fn a_save_on_the_build_page_redirects_and_says_once_what_changed() {
         )
         .await;
     let shown = client.follow(&cover).await;
-    assert!(
-        shown
-            .body
-            .contains("Saved: cover height of 2024-05-02: Cover height 1.905 in"),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: cover height of 2024-05-02: Cover height 1.905 in");
 }
 
 #[tokio::test]
@@ -230,7 +212,7 @@ async fn a_retired_build_shows_no_entry_forms_and_says_retired_once() {
         )
         .await;
     assert_eq!(late.status, StatusCode::FORBIDDEN, "{}", late.body);
-    assert!(late.body.contains("retired"), "{}", late.body);
+    late.assert_shows("retired");
     assert_eq!(app.count("passes").await, passes);
 
     // The demo shop's retired build does not put the word in its label.
@@ -378,18 +360,8 @@ async fn an_expired_or_withdrawn_link_names_the_shop_and_its_phone() {
         .unwrap();
     let client = app.login("sam").await;
     let sheet = sheet(&client).await;
-    let made = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
-    let start = made.body.find("/s/").unwrap();
-    let link: String = made.body[start..]
-        .chars()
-        .take_while(|c| *c != '<')
-        .collect();
+    let made = client.new_link(&sheet, "14").await;
+    let link = crate::support::link_in(&made.body);
     sqlx::query("UPDATE sheet_links SET revoked_at = '2024-01-01T00:00:00Z'")
         .execute(&app.pool)
         .await
@@ -715,13 +687,7 @@ async fn customer_and_car_saves_say_once_what_changed() {
         )
         .await;
     let shown = client.follow(&edited).await;
-    assert!(
-        shown
-            .body
-            .contains("Saved: the customer: Phone: 555-0177 → 555-0178."),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: the customer: Phone: 555-0177 → 555-0178.");
     assert!(!client.get(edited.location()).await.body.contains("Saved:"));
 
     let car = client
@@ -738,9 +704,5 @@ async fn customer_and_car_saves_say_once_what_changed() {
         )
         .await;
     let shown = client.follow(&again).await;
-    assert!(
-        shown.body.contains("Saved: the car, nothing changed."),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: the car, nothing changed.");
 }
