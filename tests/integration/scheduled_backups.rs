@@ -8,7 +8,7 @@ use std::net::TcpStream;
 use std::os::unix::fs::{MetadataExt, PermissionsExt};
 use std::os::unix::process::CommandExt;
 use std::path::{Path, PathBuf};
-use std::process::{Child, ChildStdout, Command, Output, Stdio};
+use std::process::{Child, ChildStdout, Command, Stdio};
 use std::str::FromStr;
 use std::sync::atomic::{AtomicBool, AtomicU32, Ordering};
 use std::sync::{Arc, Mutex};
@@ -21,7 +21,7 @@ use sqlx::sqlite::SqliteConnectOptions;
 use sqlx::{Connection, SqliteConnection};
 
 use crate::hostile::Rng;
-use crate::support::TestApp;
+use crate::support::{TestApp, cli_ok as ok, lockpoint, run_cli as run, serving};
 
 const PASSWORD: &str = "scheduled backup password";
 /// The unprivileged account a test drops to when it runs as root (where a read-only folder is
@@ -60,37 +60,6 @@ impl Drop for Scratch {
     }
 }
 
-fn lockpoint() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-}
-
-fn run(args: &[&str], stdin: &str) -> Output {
-    let mut child = lockpoint()
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(stdin.as_bytes())
-        .unwrap();
-    child.wait_with_output().unwrap()
-}
-
-fn ok(args: &[&str], stdin: &str) -> String {
-    let out = run(args, stdin);
-    assert!(
-        out.status.success(),
-        "lockpoint {args:?}: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).unwrap()
-}
-
 /// A database with an admin `boss` and a tech `sam`; answers an API token of the admin.
 fn new_shop(db: &Path) -> String {
     let db = db.to_str().unwrap();
@@ -116,14 +85,7 @@ struct Server {
 
 impl Server {
     fn start(mut cmd: Command, db: &Path, backup: &[&str]) -> Self {
-        let mut child = cmd
-            .args([
-                "serve",
-                "--db",
-                db.to_str().unwrap(),
-                "--addr",
-                "127.0.0.1:0",
-            ])
+        let mut child = serving(&mut cmd, db)
             .args(backup)
             // The names carry the shop's time; with no zone set that is the server's.
             .env("TZ", "UTC")

@@ -4,7 +4,7 @@
 use std::io::{BufRead, BufReader, Read, Write};
 use std::net::TcpStream;
 use std::path::{Path, PathBuf};
-use std::process::{Child, Command, Stdio};
+use std::process::{Child, Command, Output, Stdio};
 use std::sync::atomic::{AtomicU32, Ordering};
 use std::time::{Duration, Instant};
 
@@ -531,6 +531,51 @@ pub fn id_from(location: &str) -> String {
         .to_string()
 }
 
+/// The real `lockpoint` binary, as a command to give arguments to.
+pub fn lockpoint() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+}
+
+/// The binary run to completion with `args`, `stdin` written to it.
+pub fn run_cli(args: &[&str], stdin: &str) -> Output {
+    let mut child = lockpoint()
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the binary starts");
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(stdin.as_bytes())
+        .unwrap();
+    child.wait_with_output().unwrap()
+}
+
+/// [`run_cli`], which must succeed (its stderr is shown when it does not); its stdout.
+pub fn cli_ok(args: &[&str], stdin: &str) -> String {
+    let out = run_cli(args, stdin);
+    assert!(
+        out.status.success(),
+        "lockpoint {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).unwrap()
+}
+
+/// Adds the arguments that serve `db` at a free loopback port (it prints the address).
+pub fn serving<'a>(cmd: &'a mut Command, db: &Path) -> &'a mut Command {
+    cmd.args([
+        "serve",
+        "--db",
+        db.to_str().unwrap(),
+        "--addr",
+        "127.0.0.1:0",
+    ])
+}
+
 /// A running `lockpoint serve` (the real binary) on a database file, killed if a test fails
 /// before stopping it.
 pub struct Server {
@@ -546,15 +591,8 @@ impl Server {
 
     /// The same, with environment variables set for the server process.
     pub fn start_with_env(db: &Path, env: &[(&str, &Path)]) -> Self {
-        let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        let mut child = serving(&mut lockpoint(), db)
             .envs(env.iter().copied())
-            .args([
-                "serve",
-                "--db",
-                db.to_str().unwrap(),
-                "--addr",
-                "127.0.0.1:0",
-            ])
             .stdout(Stdio::piped())
             .stderr(Stdio::null())
             .spawn()
