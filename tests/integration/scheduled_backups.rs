@@ -21,7 +21,9 @@ use sqlx::sqlite::SqliteConnectOptions;
 use sqlx::{Connection, SqliteConnection};
 
 use crate::hostile::Rng;
-use crate::support::{TestApp, cli_ok as ok, lockpoint, run_cli as run, serving};
+use crate::support::{
+    TestApp, cli_ok as ok, execute_on_file, lockpoint, newer_copy, run_cli as run, serving,
+};
 
 const PASSWORD: &str = "scheduled backup password";
 /// The unprivileged account a test drops to when it runs as root (where a read-only folder is
@@ -737,33 +739,16 @@ async fn verify_refuses_damaged_text_empty_foreign_and_newer_files_with_the_reas
 
     // A sound SQLite file that is not a shop, and a shop from a newer Lockpoint.
     let foreign = scratch.path("other.db");
-    let options = SqliteConnectOptions::from_str("sqlite:")
-        .unwrap()
-        .filename(&foreign)
-        .create_if_missing(true);
-    let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
-    sqlx::query("CREATE TABLE parts (id INTEGER PRIMARY KEY, name TEXT)")
-        .execute(&mut conn)
-        .await
-        .unwrap();
-    conn.close().await.unwrap();
+    execute_on_file(
+        &foreign,
+        "CREATE TABLE parts (id INTEGER PRIMARY KEY, name TEXT)",
+    )
+    .await;
     let (sound, _, err) = verify_cli(&foreign);
     assert!(!sound && err.contains("not a Lockpoint database"), "{err}");
 
     let newer = scratch.path("newer.db");
-    std::fs::copy(&good, &newer).unwrap();
-    let options = SqliteConnectOptions::from_str("sqlite:")
-        .unwrap()
-        .filename(&newer);
-    let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
-    sqlx::query(
-        "INSERT INTO _sqlx_migrations (version, description, success, checksum, execution_time)
-         VALUES (9999, 'from the future', 1, x'00', 0)",
-    )
-    .execute(&mut conn)
-    .await
-    .unwrap();
-    conn.close().await.unwrap();
+    newer_copy(&good, &newer).await;
     let (sound, _, err) = verify_cli(&newer);
     assert!(!sound && err.contains("newer Lockpoint"), "{err}");
 }

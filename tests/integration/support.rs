@@ -14,7 +14,8 @@ use axum::http::{Request, StatusCode, header};
 use http_body_util::BodyExt;
 use lockpoint::records::user::{NewUser, Role};
 use lockpoint::{AppState, app, auth, db};
-use sqlx::SqlitePool;
+use sqlx::sqlite::SqliteConnectOptions;
+use sqlx::{Connection, SqliteConnection, SqlitePool};
 use tower::ServiceExt;
 
 pub const PASSWORD: &str = "correct-horse-battery";
@@ -529,6 +530,28 @@ pub fn id_from(location: &str) -> String {
         .next()
         .unwrap()
         .to_string()
+}
+
+/// Runs `sql` on the SQLite file at `path` (made when missing) on a connection of its own.
+pub async fn execute_on_file(path: &Path, sql: &'static str) {
+    let options = SqliteConnectOptions::new()
+        .filename(path)
+        .create_if_missing(true);
+    let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
+    sqlx::query(sql).execute(&mut conn).await.unwrap();
+    conn.close().await.unwrap();
+}
+
+/// A copy of the shop database `shop` at `path` that a newer Lockpoint would have made: it
+/// records a migration this one does not know.
+pub async fn newer_copy(shop: &Path, path: &Path) {
+    std::fs::copy(shop, path).unwrap();
+    execute_on_file(
+        path,
+        "INSERT INTO _sqlx_migrations (version, description, success, checksum, execution_time)
+         VALUES (9999, 'from the future', 1, x'00', 0)",
+    )
+    .await;
 }
 
 /// The real `lockpoint` binary, as a command to give arguments to.
