@@ -22,11 +22,9 @@ pub fn example() -> Value {
 async fn capacity_answers_with_the_contract_fields() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .post_json("/api/v1/calc/capacity", &token, example())
+    let v = app
+        .post_json_ok("/api/v1/calc/capacity", &token, example())
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     // [D] arithmetic of F = n·k·(x0 + turns·pitch) = 6 × 380 × (0.22 + 1.5 × 0.0625) = 715.35 lbf
     assert!((v["static_clamp"].as_f64().unwrap() - 715.35).abs() < 1e-9);
     // uniform wear r_eff = (ro + ri)/2 = (5.2 + 3.3)/2 = 4.25 in (Shigley ch. 16; Bhandari Ex. 11.1)
@@ -118,11 +116,9 @@ async fn a_recommendation_comes_back_on_the_grid_and_reproduces_its_result() {
     let t = app.token("sam").await;
     let mut body = example();
     body["targets"] = json!({"lockup_rpm": 5600});
-    let r = app
-        .post_json("/api/v1/calc/recommend", &t, body.clone())
+    let v = app
+        .post_json_ok("/api/v1/calc/recommend", &t, body.clone())
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     let cw = v["recommended"]["counterweight_g"].as_f64().unwrap();
     assert_eq!(
         v["recommended"]["adjuster_turns"], 1.5,
@@ -169,9 +165,9 @@ fn wear_example() -> Value {
 async fn wear_follows_the_shim_rules_and_names_bad_fields() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
-    let r = app.post_json("/api/v1/calc/wear", &t, wear_example()).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app
+        .post_json_ok("/api/v1/calc/wear", &t, wear_example())
+        .await;
     assert_eq!(v["status"], "ok");
     assert_eq!(v["next_shim"], 0.010);
     // [D] slope of (0, 0), (40, 0.008) = 0.0002 in/pass; (0.015 − 0.008)/0.0002 = 35 passes;

@@ -36,11 +36,9 @@ fn num(v: &Value) -> f64 {
 async fn calibrate_answers_the_worked_example_with_the_contract_fields() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .post_json("/api/v1/calc/calibrate", &token, example())
+    let v = app
+        .post_json_ok("/api/v1/calc/calibrate", &token, example())
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     assert_eq!(v["n"], 3);
     assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
     assert!((num(&v["ci95"][0]) - 0.2889).abs() < 1e-4, "{v}");
@@ -84,9 +82,9 @@ async fn imperial_and_metric_give_the_same_mu() {
     for (i, t) in [702.0, 735.0, 668.0].iter().enumerate() {
         body["passes"][i]["clutch_torque"] = json!(t * lbf_ft);
     }
-    let r = app.post_json("/api/v1/calc/calibrate", &token, body).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app
+        .post_json_ok("/api/v1/calc/calibrate", &token, body)
+        .await;
     assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
     assert!(
         (num(&v["passes"][0]["residual"]) - 1.5 * lbf_ft).abs() < 0.05,
@@ -100,9 +98,9 @@ async fn defaults_fill_missing_torque_and_one_pass_has_no_interval() {
     let token = app.token("sam").await;
     let mut body = example();
     body["passes"] = json!([{"lockup_rpm": 5780}]);
-    let r = app.post_json("/api/v1/calc/calibrate", &token, body).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app
+        .post_json_ok("/api/v1/calc/calibrate", &token, body)
+        .await;
     assert!(v["ci95"].is_null());
     assert_eq!(num(&v["passes"][0]["clutch_torque"]), 700.0);
     let notes = v["notes"].as_array().map_or(0, |n| n.len());
@@ -225,9 +223,7 @@ async fn mu_and_gain_fits_when_the_passes_spread() {
     let mut body = example();
     body["fit"] = json!("mu_and_gain");
     body["passes"] = json!(passes);
-    let r = app.post_json("/api/v1/calc/calibrate", &t, body).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app.post_json_ok("/api/v1/calc/calibrate", &t, body).await;
     assert!((num(&v["mu"]) - 0.34).abs() < 1e-9, "{v}");
     assert!((num(&v["gain_scale"]) - 1.15).abs() < 1e-9, "{v}");
     assert!(num(&v["passes"][1]["residual"]).abs() < 1e-6, "{v}");

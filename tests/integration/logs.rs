@@ -30,11 +30,9 @@ pub fn calc_body(csv: String) -> Value {
 async fn the_worked_file_answers_as_the_contract_documents() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .post_json("/api/v1/calc/log-analysis", &token, calc_body(worked_csv()))
+    let v = app
+        .post_json_ok("/api/v1/calc/log-analysis", &token, calc_body(worked_csv()))
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     // Lockup 0.776 s and 600 × 628.3185 × 0.4 = 150 796 J [derived, docs/engineering.md §24].
     assert_eq!(v["samples"], 101);
     assert_eq!(v["sample_rate_hz"], 100.0);
@@ -211,11 +209,9 @@ async fn a_pass_log_is_stored_read_back_and_feeds_the_calibration() {
     assert_eq!(app.count("pass_logs").await, 0);
     assert_eq!(app.count("car_log_mappings").await, 0);
 
-    let r = app
-        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
+    let stored = app
+        .post_json_ok(&format!("/api/v1/passes/{pass}/log"), &token, body)
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let stored = r.json();
     // Input = 4800·(t − 0.1): launch 0.1 s; 3 % slip at 0.1 + 0.97 s [derived].
     assert!(
         (stored["launch_s"].as_f64().unwrap() - 0.1).abs() < 1e-6,

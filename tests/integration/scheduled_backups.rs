@@ -62,6 +62,19 @@ impl Drop for Scratch {
     }
 }
 
+/// `lockpoint backup FILE --db DB`, which must succeed.
+fn backup_to(db: &Path, file: &Path) {
+    ok(
+        &[
+            "backup",
+            file.to_str().unwrap(),
+            "--db",
+            db.to_str().unwrap(),
+        ],
+        "",
+    );
+}
+
 /// A database with an admin `boss` and a tech `sam`; answers an API token of the admin.
 fn new_shop(db: &Path) -> String {
     let db = db.to_str().unwrap();
@@ -498,15 +511,7 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
     new_shop(&db);
     // An earlier copy, two days old: the first backup is due at start, and fails.
     let earlier = dir.join("lockpoint-20200101-000000.db");
-    ok(
-        &[
-            "backup",
-            earlier.to_str().unwrap(),
-            "--db",
-            db.to_str().unwrap(),
-        ],
-        "",
-    );
+    backup_to(&db, &earlier);
     std::fs::File::options()
         .write(true)
         .open(&earlier)
@@ -693,15 +698,7 @@ async fn verify_refuses_damaged_text_empty_foreign_and_newer_files_with_the_reas
             .unwrap();
     pool.close().await;
     let good = scratch.path("good.db");
-    ok(
-        &[
-            "backup",
-            good.to_str().unwrap(),
-            "--db",
-            db.to_str().unwrap(),
-        ],
-        "",
-    );
+    backup_to(&db, &good);
     let before = std::fs::read(&good).unwrap();
     let (sound, out, err) = verify_cli(&good);
     assert!(sound, "{err}");

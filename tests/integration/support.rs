@@ -302,6 +302,20 @@ impl TestApp {
         self.api("POST", path, Some(token), Some(body)).await
     }
 
+    /// `POST` of a JSON body with an API token that must be answered 200 (the start of the
+    /// answer is shown when it is not); the answer's JSON.
+    pub async fn post_json_ok(
+        &self,
+        path: &str,
+        token: &str,
+        body: serde_json::Value,
+    ) -> serde_json::Value {
+        let reply = self.post_json(path, token, body).await;
+        let start = &reply.body[..reply.body.len().min(2000)];
+        assert_eq!(reply.status, StatusCode::OK, "{path}: {start}");
+        reply.json()
+    }
+
     /// `PUT` of a JSON body with an API token.
     pub async fn put_json(&self, path: &str, token: &str, body: serde_json::Value) -> Reply {
         self.api("PUT", path, Some(token), Some(body)).await
