@@ -18,17 +18,7 @@ async fn a_page_without_login_redirects_to_the_login_page() {
 #[tokio::test]
 async fn signing_in_sets_a_safe_cookie_and_signing_out_ends_the_session() {
     let app = TestApp::new().await;
-    let reply = app
-        .post_form(
-            "/login",
-            &[
-                ("username", "sam"),
-                ("password", PASSWORD),
-                ("next", "/customers"),
-            ],
-            None,
-        )
-        .await;
+    let reply = app.post_login("sam", PASSWORD, Some("/customers")).await;
     assert_eq!(reply.status, StatusCode::SEE_OTHER);
     assert_eq!(reply.location(), "/customers");
     let cookie = reply
@@ -53,13 +43,7 @@ async fn signing_in_sets_a_safe_cookie_and_signing_out_ends_the_session() {
 #[tokio::test]
 async fn a_wrong_password_is_refused_and_counted() {
     let app = TestApp::new().await;
-    let reply = app
-        .post_form(
-            "/login",
-            &[("username", "sam"), ("password", "not-the-password")],
-            None,
-        )
-        .await;
+    let reply = app.post_login("sam", "not-the-password", None).await;
     assert_eq!(reply.status, StatusCode::UNAUTHORIZED);
     assert!(reply.body.contains("do not match"));
     assert!(reply.headers.get(header::SET_COOKIE).is_none());
@@ -205,13 +189,7 @@ async fn an_admin_adds_a_tech_who_can_then_sign_in_and_a_disabled_one_cannot() {
         StatusCode::SEE_OTHER,
         "disabled user's session ends"
     );
-    let retry = app
-        .post_form(
-            "/login",
-            &[("username", "kit"), ("password", PASSWORD)],
-            None,
-        )
-        .await;
+    let retry = app.post_login("kit", PASSWORD, None).await;
     assert_eq!(retry.status, StatusCode::UNAUTHORIZED);
 }
 

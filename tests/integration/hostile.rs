@@ -1974,15 +1974,7 @@ async fn sign_ins_with_hostile_next_values_stay_on_the_site_and_never_fail() {
     for next in HOSTILE_NEXT {
         // Signing in with the right password: the session is made and the browser stays here.
         let reply = app
-            .post_form(
-                "/login",
-                &[
-                    ("username", "boss"),
-                    ("password", crate::support::PASSWORD),
-                    ("next", next),
-                ],
-                None,
-            )
+            .post_login("boss", crate::support::PASSWORD, Some(next))
             .await;
         assert_eq!(
             reply.status,
@@ -2023,14 +2015,10 @@ async fn sign_ins_with_hostile_next_values_stay_on_the_site_and_never_fail() {
 
     // A plain local path is still followed, query and fragment included.
     let reply = app
-        .post_form(
-            "/login",
-            &[
-                ("username", "sam"),
-                ("password", crate::support::PASSWORD),
-                ("next", "/customers?q=a%20b&page=2"),
-            ],
-            None,
+        .post_login(
+            "sam",
+            crate::support::PASSWORD,
+            Some("/customers?q=a%20b&page=2"),
         )
         .await;
     assert_eq!(reply.status, StatusCode::SEE_OTHER);

@@ -245,13 +245,7 @@ async fn with_a_public_url_links_use_it_and_the_session_cookie_is_secure() {
             && link.len() == "https://clutch.shop.example/s/".len() + 64,
         "{link}"
     );
-    let reply = app
-        .post_form(
-            "/login",
-            &[("username", "sam"), ("password", PASSWORD)],
-            None,
-        )
-        .await;
+    let reply = app.post_login("sam", PASSWORD, None).await;
     let cookie = reply.headers[header::SET_COOKIE].to_str().unwrap();
     assert!(cookie.contains("; Secure"), "{cookie}");
 
@@ -261,13 +255,7 @@ async fn with_a_public_url_links_use_it_and_the_session_cookie_is_secure() {
         TestApp::new().await,
         TestApp::reached_at(Some("http://10.0.0.5:3000")).await,
     ] {
-        let reply = app
-            .post_form(
-                "/login",
-                &[("username", "sam"), ("password", PASSWORD)],
-                None,
-            )
-            .await;
+        let reply = app.post_login("sam", PASSWORD, None).await;
         let cookie = reply.headers[header::SET_COOKIE].to_str().unwrap();
         assert!(!cookie.contains("Secure"), "{cookie}");
     }

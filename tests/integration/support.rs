@@ -165,6 +165,14 @@ impl TestApp {
         self.send(req.body(Body::from(body)).unwrap()).await
     }
 
+    /// The sign-in form posted without a session: `username`, `password` and, when given, the
+    /// page to go on to.
+    pub async fn post_login(&self, username: &str, password: &str, next: Option<&str>) -> Reply {
+        let mut form = vec![("username", username), ("password", password)];
+        form.extend(next.map(|n| ("next", n)));
+        self.post_form("/login", &form, None).await
+    }
+
     /// Signs in through the login form and returns a client carrying the session.
     pub async fn login(&self, name: &str) -> Client<'_> {
         self.login_with(name, PASSWORD).await
@@ -180,13 +188,7 @@ impl TestApp {
     }
 
     async fn login_with(&self, name: &str, password: &str) -> Client<'_> {
-        let reply = self
-            .post_form(
-                "/login",
-                &[("username", name), ("password", password), ("next", "/")],
-                None,
-            )
-            .await;
+        let reply = self.post_login(name, password, Some("/")).await;
         assert_eq!(
             reply.status,
             StatusCode::SEE_OTHER,
