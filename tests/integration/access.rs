@@ -45,7 +45,7 @@ async fn a_wrong_password_is_refused_and_counted() {
     let app = TestApp::new().await;
     let reply = app.post_login("sam", "not-the-password", None).await;
     assert_eq!(reply.status, StatusCode::UNAUTHORIZED);
-    assert!(reply.body.contains("do not match"));
+    reply.assert_shows("do not match");
     assert!(reply.headers.get(header::SET_COOKIE).is_none());
     // Counted once against the client and once against the name.
     assert_eq!(app.count("login_throttle").await, 2);
@@ -165,7 +165,7 @@ async fn an_admin_adds_a_tech_who_can_then_sign_in_and_a_disabled_one_cannot() {
         )
         .await;
     assert_eq!(short.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(short.body.contains("at least 10 characters"));
+    short.assert_shows("at least 10 characters");
     admin
         .post_saved(
             "/users",

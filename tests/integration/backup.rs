@@ -1244,8 +1244,8 @@ async fn an_admin_downloads_a_checked_backup_and_the_export_and_a_tech_is_refuse
     let sam = app.login("sam").await;
 
     let page = boss.get_ok("/backup").await;
-    assert!(page.body.contains("Backups and export"));
-    assert!(page.body.contains("href=\"/backup/download\""));
+    page.assert_shows("Backups and export");
+    page.assert_shows("href=\"/backup/download\"");
 
     let (status, headers, bytes) = get_bytes(&app, "/backup/download", &boss.cookie).await;
     assert_eq!(status, StatusCode::OK);

@@ -23,7 +23,7 @@ async fn one_rendered_page_serves_each_viewer_with_their_own_name_and_token() {
     assert_eq!(csrf_of(&seen_by_boss.body), boss.csrf);
     assert_eq!(csrf_of(&seen_by_sam.body), sam.csrf);
     assert_ne!(boss.csrf, sam.csrf);
-    assert!(seen_by_sam.body.contains("<span class=\"who\">sam</span>"));
+    seen_by_sam.assert_shows("<span class=\"who\">sam</span>");
     assert!(
         !seen_by_sam.body.contains(&boss.csrf),
         "no other viewer's token"

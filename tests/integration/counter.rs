@@ -9,7 +9,7 @@ async fn a_build_without_a_setup_says_its_figures_assume_zero_turns_and_grams() 
     let build = client.record_build().await;
     let note = "No setup recorded: these figures assume 0 turns and 0 g per lever.";
     let before = client.get(&build).await;
-    assert!(before.body.contains(note));
+    before.assert_shows(note);
     client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     assert!(!client.get(&build).await.body.contains(note));
 }

@@ -88,8 +88,8 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
         page.body
             .contains("Facing outer diameter: 10.400 in → 10.500 in")
     );
-    assert!(page.body.contains("boss"));
-    assert!(page.body.contains("recorded a cover-height measurement"));
+    page.assert_shows("boss");
+    page.assert_shows("recorded a cover-height measurement");
 
     // API writes are attributed to the token's user.
     let token = app.token("sam").await;

@@ -299,7 +299,7 @@ async fn upload_then_mapping_then_the_pass_page() {
     let r = upload(&client, &pass, b"just words\nno table\n").await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     r.assert_shows("cannot be read as a data log");
-    assert!(r.body.contains("Nothing was saved"));
+    r.assert_shows("Nothing was saved");
 
     let r = upload(&client, &pass, launch_csv().as_bytes()).await;
     assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
@@ -467,7 +467,7 @@ async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
         .get_ok(&format!("/passes/{first}?compare={second}"))
         .await;
     assert_eq!(both.body.matches("<svg").count(), 4);
-    assert!(both.body.contains("Two passes, time from each launch"));
+    both.assert_shows("Two passes, time from each launch");
     // Anything else in the query is no comparison, not an error.
     let odd = client.get(&format!("/passes/{first}?compare=abc")).await;
     assert_eq!(
@@ -621,7 +621,7 @@ async fn a_pass_page_opens_on_the_launch_with_the_whole_file_a_link_away() {
     let odd = client
         .get(&format!("/passes/{pass}?window=everything"))
         .await;
-    assert!(odd.body.contains(&format!("The charts show {shown}.")));
+    odd.assert_shows(&format!("The charts show {shown}."));
 }
 
 #[tokio::test]
@@ -677,9 +677,9 @@ async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
         all.body
             .contains("<input type=\"hidden\" name=\"window\" value=\"all\">")
     );
-    assert!(all.body.contains(&format!(
+    all.assert_shows(&format!(
         "href=\"/passes/{first}?compare={second}#charts\">Back to the launch"
-    )));
+    ));
 }
 
 /// A build with two passes (the second on 2026-10-11): (build id, first pass, second pass).

@@ -60,7 +60,7 @@ async fn a_tech_records_a_whole_build_through_the_forms() {
         .await;
 
     let page = client.get_ok(&build).await;
-    assert!(page.body.contains("Avery Lindqvist"));
+    page.assert_shows("Avery Lindqvist");
     // bench: 190 lbf at 0.500 in is 380.0 lbf/in
     assert!(page.body.contains("380.0"), "spring rate shown");
     assert!(
@@ -94,8 +94,8 @@ async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
         )
         .await;
     assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(bad.body.contains("must be smaller than the outer diameter"));
-    assert!(bad.body.contains("must be between 1 and 24"));
+    bad.assert_shows("must be smaller than the outer diameter");
+    bad.assert_shows("must be between 1 and 24");
     assert!(bad.body.contains("value=\"7.0\""), "typed values are kept");
     assert_eq!(app.count("builds").await, 1);
 
@@ -112,15 +112,13 @@ async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
         .await;
     assert_eq!(h.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert!(h.body.contains("no such date"));
-    assert!(h.body.contains("enter a number"));
-    assert!(h.body.contains("must be between 0 and 3"));
+    h.assert_shows("enter a number");
+    h.assert_shows("must be between 0 and 3");
     assert_eq!(app.count("cover_heights").await, 0);
     // Issue 26, item 6: the top of the page says the save failed and links to the form, and
     // each refused input asks for the cursor: the browser gives it to the first in the page
     // (HTML's autofocus), so the page opens at the form.
-    assert!(h.body.contains(
-        "<strong>Not saved.</strong> The cover height has 4 fields to fix: <a href=\"#height-form\">"
-    ));
+    h.assert_shows("<strong>Not saved.</strong> The cover height has 4 fields to fix: <a href=\"#height-form\">");
     assert_eq!(h.body.matches(" autofocus").count(), 4);
     let first = h.body.split(" autofocus").next().unwrap_or("");
     assert!(first[first.rfind("<input").unwrap_or(0)..].contains("name=\"measured_on\""));
@@ -168,7 +166,7 @@ async fn a_measurement_cannot_go_back_in_passes() {
         )
         .await;
     assert_eq!(back.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(back.body.contains("passes cannot go backwards"));
+    back.assert_shows("passes cannot go backwards");
     assert_eq!(app.count("cover_heights").await, 1);
 }
 
@@ -414,7 +412,7 @@ async fn adjusters_at_different_settings_are_flagged() {
         )
         .await;
     assert_eq!(off.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(off.body.contains("these average 1.750 turns"));
+    off.assert_shows("these average 1.750 turns");
     assert_eq!(app.count("setup_changes").await, 2);
 }
 
@@ -457,6 +455,6 @@ async fn an_unknown_role_is_refused_not_stored_as_tech() {
         )
         .await;
     assert_eq!(reply.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(reply.body.contains("choose admin or tech"));
+    reply.assert_shows("choose admin or tech");
     assert_eq!(app.count("users").await, before);
 }

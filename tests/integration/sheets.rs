@@ -149,7 +149,7 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
         .await;
     let gone = app.get(&link, None).await;
     assert_eq!(gone.status, StatusCode::GONE);
-    assert!(gone.body.contains("withdrawn"));
+    gone.assert_shows("withdrawn");
     assert!(!gone.body.contains("Avery Lindqvist"));
 
     // An expired link is gone too.

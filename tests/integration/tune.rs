@@ -39,7 +39,7 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
             "{build}/tune?try=1&adjuster_turns=2&counterweight_g=30&mu="
         ))
         .await;
-    assert!(tried.body.contains("Trying"));
+    tried.assert_shows("Trying");
     assert!(
         tried.body.contains(
             "Save 2 turns, 30.0 g per lever, the facing&#39;s nominal μ as the new setup"
@@ -51,7 +51,7 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
             "{build}/tune?try=1&adjuster_turns=lots&counterweight_g=30"
         ))
         .await;
-    assert!(bad.body.contains("enter a number"));
+    bad.assert_shows("enter a number");
     let far = client
         .get(&format!("{build}/tune?recommend=1&target_lockup=20000"))
         .await;
@@ -75,7 +75,7 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     let rec = client
         .get(&format!("{build}/tune?recommend=1&target_lockup=5600"))
         .await;
-    assert!(rec.body.contains("Recommended:"));
+    rec.assert_shows("Recommended:");
     assert_eq!(
         app.count("setup_changes").await,
         1,
@@ -92,7 +92,7 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     let app = TestApp::new().await;
     let (client, build) = app.set_up_build().await;
     let fresh = client.get(&format!("{build}/tune")).await;
-    assert!(fresh.body.contains("715 lbf"));
+    fresh.assert_shows("715 lbf");
     assert!(!fresh.body.contains("Wear since last shim"));
     for (day, height, passes) in [("2026-11-03", "1.905", "0"), ("2026-11-20", "1.908", "40")] {
         client.record_height(&build, day, height, passes).await;
@@ -107,7 +107,7 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     // sheets.rs, the reprint of an earlier sheet).
     let made = client.post_saved(&format!("{build}/sheets"), &[]).await;
     let sheet = client.get(made.location()).await;
-    assert!(sheet.body.contains("<dt>Static clamp</dt><dd>709 lbf</dd>"));
+    sheet.assert_shows("<dt>Static clamp</dt><dd>709 lbf</dd>");
 }
 
 /// The lever body's own CG radius is stored with the build and refused beside a measured gain
@@ -211,7 +211,7 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
         ))
         .await;
     assert!(past.body.contains("reach solid height (coil bind)"));
-    assert!(past.body.contains("adjusters off to 10.57 turns or fewer"));
+    past.assert_shows("adjusters off to 10.57 turns or fewer");
 }
 
 /// Issue 26, item 8: a first bench test is judged on load at the installed length, against the
@@ -234,8 +234,8 @@ async fn a_first_bench_test_with_a_spring_low_on_load_flags_the_set() {
         !page.body.contains("set within tolerance"),
         "the rate spread alone no longer passes the set"
     );
-    assert!(page.body.contains("▲ 1 low on load against the set"));
-    assert!(page.body.contains("▲ 3.3 % below the set's load"));
+    page.assert_shows("▲ 1 low on load against the set");
+    page.assert_shows("▲ 3.3 % below the set's load");
     let counter = client.get("/").await;
     assert!(
         counter
@@ -333,7 +333,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
     let both = lockup_times(&tried.body);
     assert_eq!(both.len(), 2, "current and trial side by side");
     assert!(both[1] < both[0], "{both:?}");
-    assert!(tried.body.contains("40.0 g per lever, launch 4500 rpm"));
+    tried.assert_shows("40.0 g per lever, launch 4500 rpm");
 
     // A launch speed alone is a what-if too, and an impossible one is named beside its input.
     let rpm_only = client
@@ -341,7 +341,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
             "{build}/tune?try=1&adjuster_turns=1.5&counterweight_g=24&mu=&launch_rpm=5000"
         ))
         .await;
-    assert!(rpm_only.body.contains("24.0 g per lever, launch 5000 rpm"));
+    rpm_only.assert_shows("24.0 g per lever, launch 5000 rpm");
     let bad = client
         .get(&format!(
             "{build}/tune?try=1&adjuster_turns=1.5&counterweight_g=24&mu=&launch_rpm=99999"
@@ -361,7 +361,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
         ))
         .await;
     assert!(found.body.contains("For the launch target"));
-    assert!(found.body.contains("launches simulated"));
+    found.assert_shows("launches simulated");
     let t = lockup_times(&found.body);
     assert_eq!(t.len(), 2);
     if found.body.contains("one gram more spins the tires") {
@@ -384,7 +384,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
     let e = slip_energies(&kept.body);
     assert!(e.len() == 2 && e[1] <= limit, "{e:?} within {limit}");
     let neither = client.get(&format!("{build}/tune?launch_target=1")).await;
-    assert!(neither.body.contains("id=\"target_lock_time-msg\""));
+    neither.assert_shows("id=\"target_lock_time-msg\"");
 }
 
 /// Issue 21, item 1 (safety wording): capacity at the 4500 rpm launch is above engine torque,

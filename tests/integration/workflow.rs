@@ -307,11 +307,7 @@ async fn a_customer_link_is_made_by_a_post_that_redirects_so_a_refresh_makes_no_
         "the secret is not in the POST's answer"
     );
     let shown = client.follow(&made).await;
-    assert!(
-        shown
-            .body
-            .contains("class=\"link-address\" id=\"new-link\"")
-    );
+    shown.assert_shows("class=\"link-address\" id=\"new-link\"");
     assert!(
         shown.body.contains("data-copy=\"new-link\""),
         "a copy button"
@@ -645,7 +641,7 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
 
     let all = client.get_ok(&format!("/builds/{id}/passes")).await;
     assert_eq!(all.body.matches("<td>Strip ").count(), 100, "a page of 100");
-    assert!(all.body.contains("Page 1 of 2"));
+    all.assert_shows("Page 1 of 2");
     let older = client
         .get(&format!("/builds/{id}/passes?page=1"))
         .await
@@ -656,7 +652,7 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
         "the oldest on the last page"
     );
     let heights = client.get_ok(&format!("/builds/{id}/heights")).await;
-    assert!(heights.body.contains("No cover heights recorded yet."));
+    heights.assert_shows("No cover heights recorded yet.");
     assert_eq!(
         client.get("/builds/999999/passes").await.status,
         StatusCode::NOT_FOUND
