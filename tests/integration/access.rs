@@ -18,17 +18,7 @@ async fn a_page_without_login_redirects_to_the_login_page() {
 #[tokio::test]
 async fn signing_in_sets_a_safe_cookie_and_signing_out_ends_the_session() {
     let app = TestApp::new().await;
-    let reply = app
-        .post_form(
-            "/login",
-            &[
-                ("username", "sam"),
-                ("password", PASSWORD),
-                ("next", "/customers"),
-            ],
-            None,
-        )
-        .await;
+    let reply = app.post_login("sam", PASSWORD, Some("/customers")).await;
     assert_eq!(reply.status, StatusCode::SEE_OTHER);
     assert_eq!(reply.location(), "/customers");
     let cookie = reply
@@ -42,8 +32,7 @@ async fn signing_in_sets_a_safe_cookie_and_signing_out_ends_the_session() {
 
     let client = app.login("sam").await;
     assert_eq!(client.get("/customers").await.status, StatusCode::OK);
-    let out = client.post("/logout", &[]).await;
-    assert_eq!(out.status, StatusCode::SEE_OTHER);
+    client.post_saved("/logout", &[]).await;
     assert_eq!(
         client.get("/customers").await.status,
         StatusCode::SEE_OTHER,
@@ -54,15 +43,9 @@ async fn signing_in_sets_a_safe_cookie_and_signing_out_ends_the_session() {
 #[tokio::test]
 async fn a_wrong_password_is_refused_and_counted() {
     let app = TestApp::new().await;
-    let reply = app
-        .post_form(
-            "/login",
-            &[("username", "sam"), ("password", "not-the-password")],
-            None,
-        )
-        .await;
+    let reply = app.post_login("sam", "not-the-password", None).await;
     assert_eq!(reply.status, StatusCode::UNAUTHORIZED);
-    assert!(reply.body.contains("do not match"));
+    reply.assert_shows("do not match");
     assert!(reply.headers.get(header::SET_COOKIE).is_none());
     // Counted once against the client and once against the name.
     assert_eq!(app.count("login_throttle").await, 2);
@@ -118,8 +101,15 @@ async fn a_cross_site_form_post_is_refused_even_with_the_token() {
 #[tokio::test]
 async fn the_api_needs_a_valid_token() {
     let app = TestApp::new().await;
-    let none = app.api("GET", "/api/v1/customers", None, None).await;
-    assert_eq!(none.status, StatusCode::UNAUTHORIZED);
+    let none = app
+        .api_answers(
+            StatusCode::UNAUTHORIZED,
+            "GET",
+            "/api/v1/customers",
+            None,
+            None,
+        )
+        .await;
     assert!(none.json()["error"].as_str().unwrap().contains("token"));
     let wrong = app.get_json("/api/v1/customers", "lp_wrong").await;
     assert_eq!(wrong.status, StatusCode::UNAUTHORIZED);
@@ -175,9 +165,9 @@ async fn an_admin_adds_a_tech_who_can_then_sign_in_and_a_disabled_one_cannot() {
         )
         .await;
     assert_eq!(short.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(short.body.contains("at least 10 characters"));
-    let added = admin
-        .post(
+    short.assert_shows("at least 10 characters");
+    admin
+        .post_saved(
             "/users",
             &[
                 ("username", "kit"),
@@ -186,7 +176,6 @@ async fn an_admin_adds_a_tech_who_can_then_sign_in_and_a_disabled_one_cannot() {
             ],
         )
         .await;
-    assert_eq!(added.status, StatusCode::SEE_OTHER);
     let kit = app.login("kit").await;
     assert_eq!(kit.get("/").await.status, StatusCode::OK);
 
@@ -194,20 +183,13 @@ async fn an_admin_adds_a_tech_who_can_then_sign_in_and_a_disabled_one_cannot() {
         .fetch_one(&app.pool)
         .await
         .unwrap();
-    let off = admin.post(&format!("/users/{id}/disable"), &[]).await;
-    assert_eq!(off.status, StatusCode::SEE_OTHER);
+    admin.post_saved(&format!("/users/{id}/disable"), &[]).await;
     assert_eq!(
         kit.get("/").await.status,
         StatusCode::SEE_OTHER,
         "disabled user's session ends"
     );
-    let retry = app
-        .post_form(
-            "/login",
-            &[("username", "kit"), ("password", PASSWORD)],
-            None,
-        )
-        .await;
+    let retry = app.post_login("kit", PASSWORD, None).await;
     assert_eq!(retry.status, StatusCode::UNAUTHORIZED);
 }
 

@@ -21,7 +21,7 @@ use sqlx::sqlite::SqliteConnectOptions;
 use sqlx::{Connection, SqliteConnection, SqlitePool};
 use tower::ServiceExt;
 
-use crate::support::{Server, TestApp};
+use crate::support::{Server, TestApp, execute_on_file, newer_copy};
 
 /// A temporary directory for one test's database, backups and exports; removed when dropped.
 pub(crate) struct Scratch {
@@ -411,32 +411,14 @@ async fn restore_refuses_damaged_and_foreign_files_and_leaves_the_database_alone
     .unwrap();
 
     let foreign = scratch.path("foreign.db");
-    {
-        let options = SqliteConnectOptions::from_str("sqlite:")
-            .unwrap()
-            .filename(&foreign)
-            .create_if_missing(true);
-        let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
-        sqlx::query("CREATE TABLE notes (id INTEGER PRIMARY KEY, body TEXT)")
-            .execute(&mut conn)
-            .await
-            .unwrap();
-        conn.close().await.unwrap();
-    }
+    execute_on_file(
+        &foreign,
+        "CREATE TABLE notes (id INTEGER PRIMARY KEY, body TEXT)",
+    )
+    .await;
 
     let newer = scratch.path("newer.db");
-    std::fs::copy(&good, &newer).unwrap();
-    {
-        let mut conn = connect(&newer).await;
-        sqlx::query(
-            "INSERT INTO _sqlx_migrations (version, description, success, checksum, execution_time)
-             VALUES (9999, 'from the future', 1, x'00', 0)",
-        )
-        .execute(&mut conn)
-        .await
-        .unwrap();
-        conn.close().await.unwrap();
-    }
+    newer_copy(&good, &newer).await;
 
     // Every page after the first two overwritten: the schema reads, the records do not.
     let corrupt = scratch.path("corrupt.db");
@@ -1261,10 +1243,9 @@ async fn an_admin_downloads_a_checked_backup_and_the_export_and_a_tech_is_refuse
     let boss = app.login("boss").await;
     let sam = app.login("sam").await;
 
-    let page = boss.get("/backup").await;
-    assert_eq!(page.status, StatusCode::OK);
-    assert!(page.body.contains("Backups and export"));
-    assert!(page.body.contains("href=\"/backup/download\""));
+    let page = boss.get_ok("/backup").await;
+    page.assert_shows("Backups and export");
+    page.assert_shows("href=\"/backup/download\"");
 
     let (status, headers, bytes) = get_bytes(&app, "/backup/download", &boss.cookie).await;
     assert_eq!(status, StatusCode::OK);

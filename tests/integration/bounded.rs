@@ -130,9 +130,10 @@ async fn the_pass_page_keeps_its_analysis_whatever_else_the_query_string_says() 
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let (pass, _) = stored_log(&app, &client).await;
-    let page = client.get(&format!("/passes/{pass}?compare=x&n=1")).await;
-    assert_eq!(page.status, StatusCode::OK);
-    assert!(page.body.contains("1.070 s"), "{}", page.body);
+    let page = client
+        .get_ok(&format!("/passes/{pass}?compare=x&n=1"))
+        .await;
+    page.assert_shows("1.070 s");
     // The stored bytes spoilt behind the server's back, the same length and stamp: a page
     // asked for with another raw query is the kept one, not a new analysis.
     sql(
@@ -153,8 +154,7 @@ async fn a_stored_log_that_cannot_be_read_is_said_so_not_500() {
     let client = app.login("sam").await;
     let (pass, token) = stored_log(&app, &client).await;
     sql(&app, "UPDATE pass_logs SET file_deflated = x'0001'").await;
-    let page = client.get(&format!("/passes/{pass}")).await;
-    assert_eq!(page.status, StatusCode::OK, "{}", page.body);
+    let page = client.get_ok(&format!("/passes/{pass}")).await;
     assert!(
         page.body.contains("the stored log cannot be inflated"),
         "{}",
@@ -164,7 +164,7 @@ async fn a_stored_log_that_cannot_be_read_is_said_so_not_500() {
         .get_json(&format!("/api/v1/passes/{pass}/analysis"), &token)
         .await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
-    assert!(r.body.contains("cannot be inflated"), "{}", r.body);
+    r.assert_shows("cannot be inflated");
 }
 
 #[tokio::test]
@@ -213,8 +213,7 @@ async fn a_user_stages_two_uploads_and_never_evicts_anothers() {
     let r = upload(&sam, &passes[2], launch_csv().as_bytes()).await;
     assert_eq!(r.status, StatusCode::TOO_MANY_REQUESTS, "{}", r.body);
     assert!(r.headers.contains_key(header::RETRY_AFTER));
-    let map = boss.get(theirs.location()).await;
-    assert_eq!(map.status, StatusCode::OK, "{}", map.body);
+    boss.get_ok(theirs.location()).await;
 }
 
 #[tokio::test]
@@ -249,8 +248,7 @@ async fn a_session_past_its_two_calculations_gets_429_on_the_tuning_page() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    let page = client.get(&format!("{build}/tune")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    client.get_ok(&format!("{build}/tune")).await;
     let session = client.cookie.split('=').nth(1).unwrap();
     let caller = Caller(Some(format!(
         "session {}",

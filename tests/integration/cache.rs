@@ -23,7 +23,7 @@ async fn one_rendered_page_serves_each_viewer_with_their_own_name_and_token() {
     assert_eq!(csrf_of(&seen_by_boss.body), boss.csrf);
     assert_eq!(csrf_of(&seen_by_sam.body), sam.csrf);
     assert_ne!(boss.csrf, sam.csrf);
-    assert!(seen_by_sam.body.contains("<span class=\"who\">sam</span>"));
+    seen_by_sam.assert_shows("<span class=\"who\">sam</span>");
     assert!(
         !seen_by_sam.body.contains(&boss.csrf),
         "no other viewer's token"
@@ -33,13 +33,11 @@ async fn one_rendered_page_serves_each_viewer_with_their_own_name_and_token() {
     let tokens = seen_by_sam.body.matches("name=\"_csrf\"").count();
     assert!(tokens > 2, "{tokens} forms");
     assert_eq!(seen_by_sam.body.matches(&sam.csrf).count(), tokens);
-    let logged = sam
-        .post(
-            &format!("{build}/passes"),
-            &[("run_on", "2026-11-20"), ("launch_rpm", "4500")],
-        )
-        .await;
-    assert_eq!(logged.status, StatusCode::SEE_OTHER, "{}", logged.body);
+    sam.post_saved(
+        &format!("{build}/passes"),
+        &[("run_on", "2026-11-20"), ("launch_rpm", "4500")],
+    )
+    .await;
 }
 
 #[tokio::test]
@@ -48,15 +46,13 @@ async fn a_save_shows_on_the_next_view_of_a_page_seen_before_it() {
     let boss = app.login("boss").await;
     let before = boss.get(SEARCH).await;
     assert!(!before.body.contains("Nell Quorrendal"));
-    let saved = boss
-        .post(
-            "/customers",
-            &[("name", "Nell Quorrendal"), ("phone", "555-0142")],
-        )
-        .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    boss.post_saved(
+        "/customers",
+        &[("name", "Nell Quorrendal"), ("phone", "555-0142")],
+    )
+    .await;
     let after = boss.get(SEARCH).await;
-    assert!(after.body.contains("Nell Quorrendal"), "{}", after.body);
+    after.assert_shows("Nell Quorrendal");
 }
 
 #[tokio::test]
@@ -92,8 +88,7 @@ async fn signing_out_or_being_disabled_ends_a_session_at_once() {
     let boss = app.login("boss").await;
     let sam = app.login("sam").await;
     assert_eq!(sam.get("/").await.status, StatusCode::OK);
-    let out = sam.post("/logout", &[]).await;
-    assert_eq!(out.status, StatusCode::SEE_OTHER);
+    sam.post_saved("/logout", &[]).await;
     assert_eq!(
         sam.get("/").await.status,
         StatusCode::SEE_OTHER,
@@ -106,8 +101,7 @@ async fn signing_out_or_being_disabled_ends_a_session_at_once() {
         .fetch_one(&app.pool)
         .await
         .unwrap();
-    let off = boss.post(&format!("/users/{id}/disable"), &[]).await;
-    assert_eq!(off.status, StatusCode::SEE_OTHER, "{}", off.body);
+    boss.post_saved(&format!("/users/{id}/disable"), &[]).await;
     assert_eq!(sam.get("/").await.status, StatusCode::SEE_OTHER, "disabled");
 }
 
@@ -180,17 +174,15 @@ async fn every_cached_page_is_the_fresh_page_of_each_viewer() {
     let (boss, chief) = (app.login("boss").await, app.login("chief").await);
     let (sam, kit) = (app.login("sam").await, app.login("kit").await);
     let build = boss.record_build().await;
-    let logged = boss
-        .post(
-            &format!("{build}/passes"),
-            &[
-                ("run_on", "2026-11-20"),
-                ("launch_rpm", "4500"),
-                ("lockup_rpm", "5200"),
-            ],
-        )
-        .await;
-    assert_eq!(logged.status, StatusCode::SEE_OTHER, "{}", logged.body);
+    boss.post_saved(
+        &format!("{build}/passes"),
+        &[
+            ("run_on", "2026-11-20"),
+            ("launch_rpm", "4500"),
+            ("lockup_rpm", "5200"),
+        ],
+    )
+    .await;
     let pass: i64 = sqlx::query_scalar("SELECT max(id) FROM passes")
         .fetch_one(&app.pool)
         .await

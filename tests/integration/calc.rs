@@ -6,7 +6,9 @@ use serde_json::{Value, json};
 
 use crate::support::TestApp;
 
-fn example() -> Value {
+/// The capacity request of the worked example (the build of `support::Client::record_build`
+/// at 1.5 turns and 24 g per lever).
+pub fn example() -> Value {
     json!({"units": "imperial",
       "disc": {"outer_diameter": 10.4, "inner_diameter": 6.6, "count": 1, "theory": "uniform_wear"},
       "friction": {"mu": 0.32},
@@ -20,11 +22,9 @@ fn example() -> Value {
 async fn capacity_answers_with_the_contract_fields() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .post_json("/api/v1/calc/capacity", &token, example())
+    let v = app
+        .post_json_ok("/api/v1/calc/capacity", &token, example())
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     // [D] arithmetic of F = n·k·(x0 + turns·pitch) = 6 × 380 × (0.22 + 1.5 × 0.0625) = 715.35 lbf
     assert!((v["static_clamp"].as_f64().unwrap() - 715.35).abs() < 1e-9);
     // uniform wear r_eff = (ro + ri)/2 = (5.2 + 3.3)/2 = 4.25 in (Shigley ch. 16; Bhandari Ex. 11.1)
@@ -100,10 +100,14 @@ async fn bad_capacity_input_names_the_field() {
         let field = field_of(&app, &t, "/api/v1/calc/capacity", body).await;
         assert!(field.starts_with(want), "expected {want}, got {field}");
     }
-    let no_token = app
-        .api("POST", "/api/v1/calc/capacity", None, Some(example()))
-        .await;
-    assert_eq!(no_token.status, StatusCode::UNAUTHORIZED);
+    app.api_answers(
+        StatusCode::UNAUTHORIZED,
+        "POST",
+        "/api/v1/calc/capacity",
+        None,
+        Some(example()),
+    )
+    .await;
 }
 
 #[tokio::test]
@@ -112,11 +116,9 @@ async fn a_recommendation_comes_back_on_the_grid_and_reproduces_its_result() {
     let t = app.token("sam").await;
     let mut body = example();
     body["targets"] = json!({"lockup_rpm": 5600});
-    let r = app
-        .post_json("/api/v1/calc/recommend", &t, body.clone())
+    let v = app
+        .post_json_ok("/api/v1/calc/recommend", &t, body.clone())
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     let cw = v["recommended"]["counterweight_g"].as_f64().unwrap();
     assert_eq!(
         v["recommended"]["adjuster_turns"], 1.5,
@@ -163,9 +165,9 @@ fn wear_example() -> Value {
 async fn wear_follows_the_shim_rules_and_names_bad_fields() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
-    let r = app.post_json("/api/v1/calc/wear", &t, wear_example()).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app
+        .post_json_ok("/api/v1/calc/wear", &t, wear_example())
+        .await;
     assert_eq!(v["status"], "ok");
     assert_eq!(v["next_shim"], 0.010);
     // [D] slope of (0, 0), (40, 0.008) = 0.0002 in/pass; (0.015 − 0.008)/0.0002 = 35 passes;
@@ -210,24 +212,13 @@ async fn a_stored_build_answers_its_wear() {
     let app = TestApp::new().await;
     let t = app.token("sam").await;
     let ts = Some(t.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            ts,
-            Some(json!({"name": "Noor Abernethy"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             ts,
-            Some(json!({"description": "two-door, 5.7 L V8, 4-speed"})),
+            json!({"name": "Noor Abernethy"}),
+            json!({"description": "two-door, 5.7 L V8, 4-speed"}),
         )
-        .await
-        .json();
+        .await;
     let b = app
         .api("POST", &format!("/api/v1/cars/{}/builds", car["id"]), ts,
             Some(json!({"disc_count": 1, "facing_material": "organic", "facing_od_mm": 264.16, "facing_id_mm": 167.64,
@@ -237,21 +228,28 @@ async fn a_stored_build_answers_its_wear() {
         .json();
     let id = b["id"].as_i64().unwrap();
     let none = app
-        .api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None)
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "GET",
+            &format!("/api/v1/builds/{id}/wear"),
+            ts,
+            None,
+        )
         .await;
-    assert_eq!(none.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(none.json()["field"], "measurements");
     for (passes, h) in [(0, 48.387), (30, 48.590)] {
-        let m = app
-            .api("POST", &format!("/api/v1/builds/{id}/measurements"), ts,
-                Some(json!({"measured_on": "2026-11-01", "height_mm": h, "passes": passes, "shims_pulled": 0})))
-            .await;
-        assert_eq!(m.status, StatusCode::CREATED);
+        app.api_answers(StatusCode::CREATED, "POST", &format!("/api/v1/builds/{id}/measurements"), ts,
+                Some(json!({"measured_on": "2026-11-01", "height_mm": h, "passes": passes, "shims_pulled": 0}))).await;
     }
     let w = app
-        .api("GET", &format!("/api/v1/builds/{id}/wear"), ts, None)
+        .api_answers(
+            StatusCode::OK,
+            "GET",
+            &format!("/api/v1/builds/{id}/wear"),
+            ts,
+            None,
+        )
         .await;
-    assert_eq!(w.status, StatusCode::OK, "{}", w.body);
     // growth 0.203 mm < 0.381 mm limit: ok, next shim 0.254 mm
     assert_eq!(w.json()["status"], "ok");
     assert_eq!(w.json()["next_shim"], 0.254);

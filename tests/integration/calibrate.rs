@@ -36,11 +36,9 @@ fn num(v: &Value) -> f64 {
 async fn calibrate_answers_the_worked_example_with_the_contract_fields() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .post_json("/api/v1/calc/calibrate", &token, example())
+    let v = app
+        .post_json_ok("/api/v1/calc/calibrate", &token, example())
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     assert_eq!(v["n"], 3);
     assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
     assert!((num(&v["ci95"][0]) - 0.2889).abs() < 1e-4, "{v}");
@@ -84,9 +82,9 @@ async fn imperial_and_metric_give_the_same_mu() {
     for (i, t) in [702.0, 735.0, 668.0].iter().enumerate() {
         body["passes"][i]["clutch_torque"] = json!(t * lbf_ft);
     }
-    let r = app.post_json("/api/v1/calc/calibrate", &token, body).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app
+        .post_json_ok("/api/v1/calc/calibrate", &token, body)
+        .await;
     assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
     assert!(
         (num(&v["passes"][0]["residual"]) - 1.5 * lbf_ft).abs() < 0.05,
@@ -100,9 +98,9 @@ async fn defaults_fill_missing_torque_and_one_pass_has_no_interval() {
     let token = app.token("sam").await;
     let mut body = example();
     body["passes"] = json!([{"lockup_rpm": 5780}]);
-    let r = app.post_json("/api/v1/calc/calibrate", &token, body).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app
+        .post_json_ok("/api/v1/calc/calibrate", &token, body)
+        .await;
     assert!(v["ci95"].is_null());
     assert_eq!(num(&v["passes"][0]["clutch_torque"]), 700.0);
     let notes = v["notes"].as_array().map_or(0, |n| n.len());
@@ -193,10 +191,14 @@ async fn bad_calibration_input_names_the_field_path() {
     };
     let msg = refused["error"].as_str().unwrap_or("");
     assert!(msg.contains("counterweights or launch speeds"), "{msg}");
-    let no_token = app
-        .api("POST", "/api/v1/calc/calibrate", None, Some(example()))
-        .await;
-    assert_eq!(no_token.status, StatusCode::UNAUTHORIZED);
+    app.api_answers(
+        StatusCode::UNAUTHORIZED,
+        "POST",
+        "/api/v1/calc/calibrate",
+        None,
+        Some(example()),
+    )
+    .await;
 }
 
 // Passes at 20–80 g and different speeds, their torques made from μ = 0.34 and a lever gain
@@ -221,9 +223,7 @@ async fn mu_and_gain_fits_when_the_passes_spread() {
     let mut body = example();
     body["fit"] = json!("mu_and_gain");
     body["passes"] = json!(passes);
-    let r = app.post_json("/api/v1/calc/calibrate", &t, body).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app.post_json_ok("/api/v1/calc/calibrate", &t, body).await;
     assert!((num(&v["mu"]) - 0.34).abs() < 1e-9, "{v}");
     assert!((num(&v["gain_scale"]) - 1.15).abs() < 1e-9, "{v}");
     assert!(num(&v["passes"][1]["residual"]).abs() < 1e-6, "{v}");
@@ -233,28 +233,18 @@ async fn mu_and_gain_fits_when_the_passes_spread() {
 async fn stored_build(app: &TestApp) -> (i64, String) {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            t,
-            Some(json!({"name": "Test Racer"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             t,
-            Some(json!({"description": "two-door, 7.2 L V8, 4-speed",
-                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]})),
+            json!({"name": "Test Racer"}),
+            json!({"description": "two-door, 7.2 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]}),
         )
-        .await
-        .json();
+        .await;
     let gain = 0.005 * (1000.0 * std::f64::consts::PI / 30.0).powi(2) / 40.0;
     let b = app
-        .api(
+        .api_answers(
+            StatusCode::CREATED,
             "POST",
             &format!("/api/v1/cars/{}/builds", car["id"]),
             t,
@@ -266,7 +256,6 @@ async fn stored_build(app: &TestApp) -> (i64, String) {
             ),
         )
         .await;
-    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
     (b.json()["id"].as_i64().unwrap_or(0), token)
 }
 
@@ -283,19 +272,19 @@ async fn a_stored_builds_calibration_uses_the_setting_and_wear_of_each_pass_date
     let post = |path: String, body: Value| {
         let app = &app;
         async move {
-            let r = app.api("POST", &path, t, Some(body)).await;
-            assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+            app.api_answers(StatusCode::CREATED, "POST", &path, t, Some(body))
+                .await;
         }
     };
     let before = app
-        .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "GET",
+            &format!("/api/v1/builds/{id}/calibration"),
+            t,
+            None,
+        )
         .await;
-    assert_eq!(
-        before.status,
-        StatusCode::UNPROCESSABLE_ENTITY,
-        "{}",
-        before.body
-    );
     assert_eq!(before.json()["field"], "passes");
     for (day, cw) in [("2026-10-01", 40.0), ("2026-10-10", 60.0)] {
         post(
@@ -324,9 +313,14 @@ async fn a_stored_builds_calibration_uses_the_setting_and_wear_of_each_pass_date
         .await;
     }
     let r = app
-        .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+        .api_answers(
+            StatusCode::OK,
+            "GET",
+            &format!("/api/v1/builds/{id}/calibration"),
+            t,
+            None,
+        )
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert_eq!(v["n"], 2, "{v}");
     assert!((num(&v["mu"]) - 0.30).abs() < 1e-6, "{v}");
@@ -337,10 +331,14 @@ async fn a_stored_builds_calibration_uses_the_setting_and_wear_of_each_pass_date
     }
     let notes = v["notes"].to_string();
     assert!(notes.contains("no setup was recorded"), "{notes}");
-    let missing = app
-        .api("GET", "/api/v1/builds/999999/calibration", t, None)
-        .await;
-    assert_eq!(missing.status, StatusCode::NOT_FOUND);
+    app.api_answers(
+        StatusCode::NOT_FOUND,
+        "GET",
+        "/api/v1/builds/999999/calibration",
+        t,
+        None,
+    )
+    .await;
 }
 
 /// The stored build with two setups, wear and passes from μ = 0.30 (see the API test above).
@@ -358,8 +356,8 @@ async fn calibrated_build(app: &TestApp) -> i64 {
         ));
     }
     for (path, body) in posts {
-        let r = app.api("POST", &path, t, Some(body)).await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        app.api_answers(StatusCode::CREATED, "POST", &path, t, Some(body))
+            .await;
     }
     id
 }
@@ -377,24 +375,28 @@ async fn a_bench_test_after_every_pass_does_not_move_the_calibration() {
     let t = Some(token.as_str());
     let mu_now = || async {
         let r = app
-            .api("GET", &format!("/api/v1/builds/{id}/calibration"), t, None)
+            .api_answers(
+                StatusCode::OK,
+                "GET",
+                &format!("/api/v1/builds/{id}/calibration"),
+                t,
+                None,
+            )
             .await;
-        assert_eq!(r.status, StatusCode::OK, "{}", r.body);
         num(&r.json()["mu"])
     };
     for (day, force) in [("2026-09-01", 800.0), ("2026-10-20", 640.0)] {
         let springs: Vec<Value> = (0..4)
             .map(|_| json!({"compression_mm": 8.0, "force_n": force}))
             .collect();
-        let r = app
-            .api(
-                "POST",
-                &format!("/api/v1/builds/{id}/bench-tests"),
-                t,
-                Some(json!({"tested_on": day, "springs": springs})),
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        app.api_answers(
+            StatusCode::CREATED,
+            "POST",
+            &format!("/api/v1/builds/{id}/bench-tests"),
+            t,
+            Some(json!({"tested_on": day, "springs": springs})),
+        )
+        .await;
         let mu = mu_now().await;
         assert!((mu - 0.30).abs() < 1e-6, "after the test of {day}: μ {mu}");
     }
@@ -405,8 +407,7 @@ async fn the_tuning_page_shows_the_calibration_and_uses_it_with_one_click() {
     let app = TestApp::new().await;
     let id = calibrated_build(&app).await;
     let client = app.login("sam").await;
-    let page = client.get(&format!("/builds/{id}/tune")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&format!("/builds/{id}/tune")).await;
     let body = page.body;
     for text in [
         "What the track says about friction",
@@ -449,8 +450,9 @@ async fn the_tuning_page_shows_the_calibration_and_uses_it_with_one_click() {
 }
 
 async fn print_sheet(client: &crate::support::Client<'_>, id: i64) -> String {
-    let made = client.post(&format!("/builds/{id}/sheets"), &[]).await;
-    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
+    let made = client
+        .post_saved(&format!("/builds/{id}/sheets"), &[])
+        .await;
     client.get(made.location()).await.body
 }
 
@@ -468,8 +470,8 @@ async fn the_setup_sheet_says_where_its_mu_came_from() {
             ),
         "nominal sheet"
     );
-    let saved = client
-        .post(
+    client
+        .post_saved(
             &format!("/builds/{id}/setups"),
             &[
                 ("changed_on", "2026-10-07"),
@@ -479,7 +481,6 @@ async fn the_setup_sheet_says_where_its_mu_came_from() {
             ],
         )
         .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
     let entered = print_sheet(&client, id).await;
     assert!(
         entered.contains("μ 0.300 entered 2026-10-07"),
@@ -521,15 +522,14 @@ async fn the_figures_use_the_calibrated_mu_once_the_passes_agree() {
         words.contains("2 passes with a lockup seen, 3 needed"),
         "{words}"
     );
-    let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/builds/{id}/passes"),
-            t,
-            Some(json!({"run_on": "2026-10-07", "observed_lockup_rpm": 5782.386})),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    app.api_answers(
+        StatusCode::CREATED,
+        "POST",
+        &format!("/api/v1/builds/{id}/passes"),
+        t,
+        Some(json!({"run_on": "2026-10-07", "observed_lockup_rpm": 5782.386})),
+    )
+    .await;
     let (source, mu, lockup, words) = in_force(&app, &token, id).await;
     assert_eq!(source, "calibrated", "{words}");
     assert!((mu - 0.30).abs() < 1e-6, "{mu}");
@@ -556,8 +556,8 @@ async fn the_figures_use_the_calibrated_mu_once_the_passes_agree() {
     assert!(sheet.contains("μ 0.300 from 3 passes"), "sheet friction");
     assert!(sheet.contains("5782 rpm"), "sheet lockup");
     // A new disc: the setup keeps the nominal μ; the sheet printed before keeps its figures.
-    let saved = client
-        .post(
+    client
+        .post_saved(
             &format!("/builds/{id}/setups"),
             &[
                 ("changed_on", "2026-10-08"),
@@ -567,7 +567,6 @@ async fn the_figures_use_the_calibrated_mu_once_the_passes_agree() {
             ],
         )
         .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
     let (source, _, lockup, words) = in_force(&app, &token, id).await;
     assert_eq!(source, "nominal", "{words}");
     assert!((lockup - nominal_lockup).abs() < 1e-6, "{lockup}");
@@ -610,8 +609,8 @@ async fn a_drifting_calibration_leaves_the_nominal_mu_and_says_why() {
         ));
     }
     for (path, body) in posts {
-        let r = app.api("POST", &path, t, Some(body)).await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        app.api_answers(StatusCode::CREATED, "POST", &path, t, Some(body))
+            .await;
     }
     let (source, mu, _, words) = in_force(&app, &token, id).await;
     assert_eq!(source, "nominal", "{words}");
@@ -648,14 +647,14 @@ async fn the_launch_method_reads_friction_from_the_whole_launch() {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
     let r = app
-        .api(
+        .api_answers(
+            StatusCode::OK,
             "POST",
             "/api/v1/calc/calibrate",
             t,
             Some(launch_body(1000.0, json!([{"lockup_time_s": 1.70}]))),
         )
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     let v = r.json();
     assert_eq!(v["method"], "launch");
     assert_eq!(v["n"], 1);
@@ -721,9 +720,14 @@ async fn a_bad_launch_calibration_names_its_field() {
         ),
     ] {
         let r = app
-            .api("POST", "/api/v1/calc/calibrate", t, Some(body))
+            .api_answers(
+                StatusCode::UNPROCESSABLE_ENTITY,
+                "POST",
+                "/api/v1/calc/calibrate",
+                t,
+                Some(body),
+            )
             .await;
-        assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
         assert_eq!(r.json()["field"], field, "{}", r.body);
     }
 }
@@ -753,15 +757,14 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
         let mu = 0.32 - 0.0002 * (theta - 25.0);
         let body = json!({"run_on": format!("2026-10-{:02}", i + 2), "run_at": "10:30",
                           "ambient_c": theta, "observed_lockup_rpm": lockup_for(mu)});
-        let r = app
-            .api(
-                "POST",
-                &format!("/api/v1/builds/{id}/passes"),
-                t,
-                Some(body),
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        app.api_answers(
+            StatusCode::CREATED,
+            "POST",
+            &format!("/api/v1/builds/{id}/passes"),
+            t,
+            Some(body),
+        )
+        .await;
         if i == 3 {
             let v = app.api("GET", &path, t, None).await.json();
             assert!(v["mu_vs_temperature"].is_null(), "{v}");
@@ -846,10 +849,15 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
     // A badly written time of day is refused with the field named.
     let bad = json!({"run_on": "2026-10-09", "run_at": "25:00"});
     let r = app
-        .api("POST", &format!("/api/v1/builds/{id}/passes"), t, Some(bad))
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "POST",
+            &format!("/api/v1/builds/{id}/passes"),
+            t,
+            Some(bad),
+        )
         .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY, "{}", r.body);
-    assert!(r.body.contains("run_at"), "{}", r.body);
+    r.assert_shows("run_at");
 }
 
 #[tokio::test]
@@ -892,15 +900,14 @@ async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
     for (i, mu) in [0.30, 0.31, 0.32, 0.33, 0.34].into_iter().enumerate() {
         let body = json!({"run_on": "2026-10-02", "run_at": format!("10:{}0", i),
                           "ambient_c": 20.0, "observed_lockup_rpm": lockup_for(mu)});
-        let r = app
-            .api(
-                "POST",
-                &format!("/api/v1/builds/{id}/passes"),
-                t,
-                Some(body),
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        app.api_answers(
+            StatusCode::CREATED,
+            "POST",
+            &format!("/api/v1/builds/{id}/passes"),
+            t,
+            Some(body),
+        )
+        .await;
     }
     let path = format!("/api/v1/builds/{id}/calibration");
     // Without a rise the day's later passes have no launch temperature: only the first counts.
@@ -928,15 +935,14 @@ async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
 /// The stored build's setup of 2026-10-01: 2 turns, 40 g.
 async fn set_up_2_turns_40_g(app: &TestApp, id: i64, t: Option<&str>) {
     let setup = json!({"changed_on": "2026-10-01", "adjuster_turns": 2.0, "counterweight_g": 40.0});
-    let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/builds/{id}/setups"),
-            t,
-            Some(setup),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    app.api_answers(
+        StatusCode::CREATED,
+        "POST",
+        &format!("/api/v1/builds/{id}/setups"),
+        t,
+        Some(setup),
+    )
+    .await;
 }
 
 /// The stored build's car with what the launch preview needs (the rest estimated).
@@ -950,10 +956,14 @@ async fn give_the_car_launch_fields(app: &TestApp, id: i64, t: Option<&str>) {
         "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]], "weight_kg": 1500.0,
         "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "tire_diameter_mm": 760.0,
         "launch_rpm": 5000.0});
-    let r = app
-        .api("PUT", &format!("/api/v1/cars/{car}"), t, Some(launch_car))
-        .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    app.api_answers(
+        StatusCode::OK,
+        "PUT",
+        &format!("/api/v1/cars/{car}"),
+        t,
+        Some(launch_car),
+    )
+    .await;
 }
 
 /// The stored build's launch preview with μ tried at `mu` on its 2-turn, 40 g setting: the

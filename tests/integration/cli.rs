@@ -1,42 +1,21 @@
 //! The binary's commands, run as a user would.
 
-use std::io::{BufRead, BufReader, Write};
-use std::process::{Command, Stdio};
+use std::io::{BufRead, BufReader};
+use std::process::Stdio;
 
-use crate::support::{Server, TempDb};
-
-fn lockpoint() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-}
-
-fn run_with_stdin(args: &[&str], stdin: &str) -> std::process::Output {
-    let mut child = lockpoint()
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(stdin.as_bytes())
-        .unwrap();
-    child.wait_with_output().unwrap()
-}
+use crate::support::{Server, TempDb, lockpoint, run_cli};
 
 #[test]
 fn user_add_refuses_a_short_password_and_accepts_a_long_one() {
     let db = TempDb::new();
     let path = db.path.to_str().unwrap();
-    let short = run_with_stdin(
+    let short = run_cli(
         &["user", "add", "kim", "--role", "tech", "--db", path],
         "short\n",
     );
     assert!(!short.status.success());
     assert!(String::from_utf8_lossy(&short.stderr).contains("at least 10 characters"));
-    let ok = run_with_stdin(
+    let ok = run_cli(
         &["user", "add", "kim", "--role", "admin", "--db", path],
         "long enough pass\n",
     );
@@ -45,19 +24,19 @@ fn user_add_refuses_a_short_password_and_accepts_a_long_one() {
         "{}",
         String::from_utf8_lossy(&ok.stderr)
     );
-    let again = run_with_stdin(
+    let again = run_cli(
         &["user", "add", "kim", "--role", "admin", "--db", path],
         "long enough pass\n",
     );
     assert!(!again.status.success(), "duplicate names are refused");
 
-    let token = run_with_stdin(&["token", "create", "kim", "--db", path], "");
+    let token = run_cli(&["token", "create", "kim", "--db", path], "");
     assert!(token.status.success());
     let token = String::from_utf8(token.stdout).unwrap();
     assert!(token.trim().starts_with("lp_") && token.trim().len() == 67);
-    let revoke = run_with_stdin(&["token", "revoke", token.trim(), "--db", path], "");
+    let revoke = run_cli(&["token", "revoke", token.trim(), "--db", path], "");
     assert!(revoke.status.success());
-    let twice = run_with_stdin(&["token", "revoke", token.trim(), "--db", path], "");
+    let twice = run_cli(&["token", "revoke", token.trim(), "--db", path], "");
     assert!(
         !twice.status.success(),
         "a revoked token cannot be revoked again"

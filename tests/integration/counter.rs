@@ -1,7 +1,5 @@
 //! At the counter: the build page says what its figures assume.
 
-use axum::http::StatusCode;
-
 use crate::support::TestApp;
 
 #[tokio::test]
@@ -11,18 +9,8 @@ async fn a_build_without_a_setup_says_its_figures_assume_zero_turns_and_grams() 
     let build = client.record_build().await;
     let note = "No setup recorded: these figures assume 0 turns and 0 g per lever.";
     let before = client.get(&build).await;
-    assert!(before.body.contains(note));
-    let saved = client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-11-02"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER);
+    before.assert_shows(note);
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     assert!(!client.get(&build).await.body.contains(note));
 }
 
@@ -33,8 +21,8 @@ async fn a_pasted_dyno_export_with_a_header_and_three_columns_is_taken_as_it_is(
     let c = client.post("/customers", &[("name", "Jo Tarrant")]).await;
     let customer = crate::support::id_from(c.location());
     let export = "Power (hp)\tRPM\tTorque (lbf·ft)\n234\t3000\t410\n346\t4000\t455\n457\t5000\t480";
-    let car = client
-        .post(
+    client
+        .post_saved(
             &format!("/customers/{customer}/cars"),
             &[
                 ("description", "two-door, 6.4 L V8"),
@@ -42,7 +30,6 @@ async fn a_pasted_dyno_export_with_a_header_and_three_columns_is_taken_as_it_is(
             ],
         )
         .await;
-    assert_eq!(car.status, StatusCode::SEE_OTHER, "{}", car.body);
     let stored: String = sqlx::query_scalar("SELECT torque_curve_nm FROM cars")
         .fetch_one(&app.pool)
         .await

@@ -9,46 +9,18 @@ use std::collections::HashMap;
 use std::io::{BufRead, BufReader, Read, Write};
 use std::net::{SocketAddr, TcpStream};
 use std::path::{Path, PathBuf};
-use std::process::{Child, ChildStdout, Command, Stdio};
+use std::process::{Child, ChildStdout, Stdio};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
 use crate::hostile::Rng;
-use crate::support::TempDb;
+use crate::support::{TempDb, cli_ok as cli, lockpoint, serving};
 
 const DEFAULT_SEED: u64 = 0x4C50_4B49_4C4C_0009;
 const KILLS: usize = 30;
 const CLIENTS: usize = 4;
 const PASSWORD: &str = "crash test password";
-
-fn lockpoint() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-}
-
-/// Runs a CLI command to completion with `stdin`; panics with its stderr when it fails.
-fn cli(args: &[&str], stdin: &str) -> String {
-    let mut child = lockpoint()
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("the binary starts");
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(stdin.as_bytes())
-        .unwrap();
-    let out = child.wait_with_output().unwrap();
-    assert!(
-        out.status.success(),
-        "lockpoint {args:?} failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).unwrap()
-}
 
 /// A running server; killed (SIGKILL) when dropped, so a failing test leaves nothing behind.
 struct Server {
@@ -65,14 +37,7 @@ impl Server {
             .append(true)
             .open(log)
             .unwrap();
-        let mut child = lockpoint()
-            .args([
-                "serve",
-                "--db",
-                db.to_str().unwrap(),
-                "--addr",
-                "127.0.0.1:0",
-            ])
+        let mut child = serving(&mut lockpoint(), db)
             .stdin(Stdio::null())
             .stdout(Stdio::piped())
             .stderr(log)

@@ -22,8 +22,8 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
     let (_, build) = customer_with_build(&app).await;
     let client = app.login("sam").await;
     let before: i64 = app.count("audit_log").await;
-    let h = client
-        .post(
+    client
+        .post_saved(
             &format!("/builds/{build}/heights"),
             &[
                 ("measured_on", "2026-11-02"),
@@ -33,7 +33,6 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
             ],
         )
         .await;
-    assert_eq!(h.status, StatusCode::SEE_OTHER);
     let (who, action, table, after): (String, String, String, String) = sqlx::query_as(
         "SELECT username, action, table_name, after FROM audit_log ORDER BY id DESC LIMIT 1",
     )
@@ -64,8 +63,8 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
 
     // An edit by the admin reads back in words on the History view.
     let admin = app.login("boss").await;
-    let edit = admin
-        .post(
+    admin
+        .post_saved(
             &format!("/builds/{build}"),
             &[
                 ("disc_count", "1"),
@@ -78,9 +77,7 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
             ],
         )
         .await;
-    assert_eq!(edit.status, StatusCode::SEE_OTHER, "{}", edit.body);
-    let page = client.get(&format!("/builds/{build}/history")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&format!("/builds/{build}/history")).await;
     assert!(
         page.body.contains("changed the build&#39;s hardware")
             || page.body.contains("changed the build's hardware"),
@@ -91,8 +88,8 @@ async fn every_change_is_audited_with_who_and_before_and_after() {
         page.body
             .contains("Facing outer diameter: 10.400 in → 10.500 in")
     );
-    assert!(page.body.contains("boss"));
-    assert!(page.body.contains("recorded a cover-height measurement"));
+    page.assert_shows("boss");
+    page.assert_shows("recorded a cover-height measurement");
 
     // API writes are attributed to the token's user.
     let token = app.token("sam").await;
@@ -129,10 +126,9 @@ async fn only_an_admin_deletes_and_restores_a_customer_and_nothing_is_erased() {
     );
 
     let admin = app.login("boss").await;
-    let del = admin
-        .post(&format!("/customers/{customer}/delete"), &[])
+    admin
+        .post_saved(&format!("/customers/{customer}/delete"), &[])
         .await;
-    assert_eq!(del.status, StatusCode::SEE_OTHER);
     assert_eq!(
         tech.get(&format!("/customers/{customer}")).await.status,
         StatusCode::NOT_FOUND
@@ -163,10 +159,9 @@ async fn only_an_admin_deletes_and_restores_a_customer_and_nothing_is_erased() {
         StatusCode::FORBIDDEN
     );
 
-    let back = admin
-        .post(&format!("/customers/{customer}/restore"), &[])
+    admin
+        .post_saved(&format!("/customers/{customer}/restore"), &[])
         .await;
-    assert_eq!(back.status, StatusCode::SEE_OTHER);
     assert_eq!(
         tech.get(&format!("/builds/{build}")).await.status,
         StatusCode::OK

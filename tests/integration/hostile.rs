@@ -294,33 +294,32 @@ struct Fixture {
 impl Fixture {
     fn id_for(&self, template: &str) -> i64 {
         let t = template.trim_start_matches("/api/v1");
-        if t == "/customers/{id}/delete" || t == "/customers/{id}/restore" {
-            self.spare_customer
-        } else if t.starts_with("/customers/") {
-            self.customer
-        } else if t.starts_with("/cars/") {
-            self.car
-        } else if t == "/builds/{id}" || t == "/builds/{id}/sheets" {
-            self.build_edit
-        } else if t.starts_with("/builds/") {
-            self.build_entries
-        } else if t.starts_with("/setups/") {
-            self.setup
-        } else if t.starts_with("/measurements/") {
-            self.height
-        } else if t.starts_with("/bench-tests/") {
-            self.bench
-        } else if t.starts_with("/passes/") {
-            self.pass
-        } else if t.starts_with("/sheets/") {
-            self.sheet
-        } else if t.starts_with("/links/") {
-            self.link
-        } else if t.starts_with("/users/") {
-            self.spare_user
-        } else {
-            panic!("no id for {template}")
+        match t {
+            "/customers/{id}/delete" | "/customers/{id}/restore" => return self.spare_customer,
+            "/builds/{id}" | "/builds/{id}/sheets" => return self.build_edit,
+            _ => {}
         }
+        match t.split('/').nth(1).unwrap_or("") {
+            "customers" => self.customer,
+            "cars" => self.car,
+            "builds" => self.build_entries,
+            "setups" => self.setup,
+            "measurements" => self.height,
+            "bench-tests" => self.bench,
+            "passes" => self.pass,
+            "sheets" => self.sheet,
+            "links" => self.link,
+            "users" => self.spare_user,
+            _ => panic!("no id for {template}"),
+        }
+    }
+
+    /// The id a route's `{id}` is filled with, if it has one.
+    fn id_text(&self, route: &Route) -> Option<String> {
+        route
+            .template
+            .contains("{id}")
+            .then(|| self.id_for(route.template).to_string())
     }
 }
 
@@ -484,15 +483,10 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
 }
 
 fn capacity_example() -> Value {
-    json!({"units": "imperial",
-      "disc": {"outer_diameter": 10.4, "inner_diameter": 6.6, "count": 1, "theory": "uniform_wear"},
-      "friction": {"mu": 0.32},
-      "springs": {"count": 6, "rate": 380.0, "base_compression": 0.22, "adjuster_pitch": 0.0625, "adjuster_turns": 1.5},
-      "levers": {"count": 3, "counterweight_g": 24.0, "lever_mass_g": 12.0, "cg_radius": 4.1, "arm_ratio": 2.6},
-      "engine": {"torque_curve": [[3000, 410], [4000, 455], [5000, 480], [6000, 470], [7000, 430]]},
-      "launch_rpm": 4500,
-      "driveline": {"rated_torque": 600},
-      "overclamp_factor": 1.5})
+    let mut example = crate::calc::example();
+    example["driveline"] = json!({"rated_torque": 600});
+    example["overclamp_factor"] = json!(1.5);
+    example
 }
 
 fn build_json() -> Value {
@@ -718,10 +712,13 @@ fn form_case(
     rng: &mut Rng,
 ) -> Case {
     let mut fields = base_form(route.template, n, rng);
-    let mut mutations = Vec::new();
-    let mut expect = None;
     let is_login = route.template == "/login";
     let is_admin = route.admin;
+    let mut d = Draft::new(
+        fx.id_text(route),
+        Some("application/x-www-form-urlencoded".to_string()),
+        !is_login,
+    );
 
     let (mut cookie, mut csrf) = match session {
         Some(s) => (Some(s.0), Some(s.1)),
@@ -731,13 +728,6 @@ fn form_case(
         ),
         None => (None, None),
     };
-    let mut authenticated = !is_login;
-    let mut content_type = Some("application/x-www-form-urlencoded".to_string());
-    let mut extra_headers: Vec<(String, String)> = Vec::new();
-    let mut id_text = route
-        .template
-        .contains("{id}")
-        .then(|| fx.id_for(route.template).to_string());
     let mut raw_body: Option<Vec<u8>> = None;
     let mut token_first = true;
 
@@ -749,7 +739,7 @@ fn form_case(
             0..=39 if !fields.is_empty() => {
                 let i = rng.below(fields.len());
                 let value = hostile_text(rng);
-                mutations.push(format!(
+                d.mutations.push(format!(
                     "{} = {:?}",
                     fields[i].0,
                     value.chars().take(60).collect::<String>()
@@ -759,7 +749,7 @@ fn form_case(
             // a field missing
             40..=49 if !fields.is_empty() => {
                 let i = rng.below(fields.len());
-                mutations.push(format!("without {}", fields[i].0));
+                d.mutations.push(format!("without {}", fields[i].0));
                 fields.remove(i);
             }
             // an extra or a repeated field, placed first so it is the one read
@@ -775,7 +765,7 @@ fn form_case(
                         _ => "is_admin".to_string(),
                     }
                 };
-                mutations.push(format!(
+                d.mutations.push(format!(
                     "extra {:?} = {:?}",
                     key.chars().take(40).collect::<String>(),
                     value.chars().take(40).collect::<String>()
@@ -791,8 +781,8 @@ fn form_case(
                     2 => csrf = csrf.map(|t| t.to_uppercase() + "0"),
                     _ => csrf = Some("'; DROP TABLE sessions; --".into()),
                 }
-                mutations.push(format!("csrf token {csrf:?}"));
-                expect = Some(Expect::Status(403));
+                d.mutations.push(format!("csrf token {csrf:?}"));
+                d.expect = Some(Expect::Status(403));
             }
             // the session cookie
             64..=66 if !is_login => {
@@ -801,30 +791,24 @@ fn form_case(
                     1 => Some("lockpoint_session=forged".into()),
                     _ => Some(format!("lockpoint_session={}", "A".repeat(4000))),
                 };
-                authenticated = false;
-                mutations.push("no valid session".into());
-                expect = Some(Expect::LoginRedirect);
+                d.authenticated = false;
+                d.mutations.push("no valid session".into());
+                d.expect = Some(Expect::LoginRedirect);
             }
             // a tech on an admin page
             67..=69 if is_admin => {
                 cookie = Some(creds.sam_cookie.clone());
                 csrf = Some(creds.sam_csrf.clone());
-                mutations.push("as a tech".into());
-                expect = Some(Expect::Status(403));
+                d.mutations.push("as a tech".into());
+                d.expect = Some(Expect::Status(403));
             }
             // a bad path id
-            70..=74 if id_text.is_some() => {
-                let bad = rng.pick(BAD_IDS).to_string();
-                mutations.push(format!("path id {bad}"));
-                id_text = Some(bad);
-                expect = Some(Expect::Status(404));
+            70..=74 if d.id_text.is_some() => {
+                d.bad_path_id(rng);
             }
             // cross-site
             75..=76 => {
-                let (k, v) = *rng.pick(CROSS_SITE);
-                extra_headers.push((k.into(), v.into()));
-                mutations.push(format!("cross-site {k}: {v}"));
-                expect = Some(Expect::Status(403));
+                d.cross_site(rng);
             }
             // a hostile Host header
             77 => {
@@ -834,21 +818,21 @@ fn form_case(
                     2 => String::new(),
                     _ => "x".repeat(300),
                 };
-                mutations.push(format!("host {host:?}"));
-                extra_headers.push(("host".into(), host));
+                d.mutations.push(format!("host {host:?}"));
+                d.extra_headers.push(("host".into(), host));
             }
             // the content type
             78..=83 => {
-                content_type = rng
-                    .pick(&[
+                d.other_content_type(
+                    rng,
+                    &[
                         None,
                         Some("application/json"),
                         Some("text/plain"),
                         Some("multipart/form-data; boundary=xyz"),
                         Some("application/x-www-form-urlencoded-junk"),
-                    ])
-                    .map(str::to_string);
-                mutations.push(format!("content type {content_type:?}"));
+                    ],
+                );
             }
             // the whole body
             84..=99 => {
@@ -872,11 +856,12 @@ fn form_case(
                         b
                     }
                 };
-                mutations.push(format!("whole body #{kind} ({} bytes)", body.len()));
+                d.mutations
+                    .push(format!("whole body #{kind} ({} bytes)", body.len()));
                 raw_body = Some(body);
             }
             _ => {
-                mutations.push("unchanged".into());
+                d.mutations.push("unchanged".into());
             }
         }
     }
@@ -909,18 +894,88 @@ fn form_case(
         body = b;
     }
     let credential = cookie.map(|c| ("cookie".to_string(), c));
-    finish_case(
-        route,
-        id_text,
-        content_type,
-        credential,
-        extra_headers,
-        body,
-        mutations,
-        expect,
-        authenticated,
-        rng,
-    )
+    d.finish(route, credential, body, rng)
+}
+
+/// What a generated request has come to so far: its path id, content type and extra headers,
+/// its mutations and the answer they call for; form and API cases alike.
+struct Draft {
+    id_text: Option<String>,
+    content_type: Option<String>,
+    extra_headers: Vec<(String, String)>,
+    mutations: Vec<String>,
+    expect: Option<Expect>,
+    authenticated: bool,
+}
+
+impl Draft {
+    fn new(id_text: Option<String>, content_type: Option<String>, authenticated: bool) -> Self {
+        Self {
+            id_text,
+            content_type,
+            extra_headers: Vec::new(),
+            mutations: Vec::new(),
+            expect: None,
+            authenticated,
+        }
+    }
+
+    /// A bad path id in place of the route's own: not found.
+    fn bad_path_id(&mut self, rng: &mut Rng) {
+        let bad = rng.pick(BAD_IDS).to_string();
+        self.mutations.push(format!("path id {bad}"));
+        self.id_text = Some(bad);
+        self.expect = Some(Expect::Status(404));
+    }
+
+    /// A cross-site request header: forbidden.
+    fn cross_site(&mut self, rng: &mut Rng) {
+        let (k, v) = *rng.pick(CROSS_SITE);
+        self.extra_headers.push((k.into(), v.into()));
+        self.mutations.push(format!("cross-site {k}: {v}"));
+        self.expect = Some(Expect::Status(403));
+    }
+
+    /// One of `choices` in place of the request's content type.
+    fn other_content_type(&mut self, rng: &mut Rng, choices: &[Option<&str>]) {
+        self.content_type = rng.pick(choices).map(str::to_string);
+        self.mutations
+            .push(format!("content type {:?}", self.content_type));
+    }
+
+    /// The request line and headers of the case.
+    fn finish(
+        self,
+        route: &'static Route,
+        credential: Option<(String, String)>,
+        body: Vec<u8>,
+        rng: &mut Rng,
+    ) -> Case {
+        let uri = match &self.id_text {
+            Some(id) => route.template.replace("{id}", id),
+            None => route.template.to_string(),
+        };
+        let mut headers = Vec::new();
+        if let Some(ct) = self.content_type {
+            headers.push(("content-type".into(), ct));
+        }
+        headers.extend(credential);
+        if rng.chance(50) {
+            headers.push(("content-length".into(), body.len().to_string()));
+        }
+        headers.extend(self.extra_headers);
+        // Only a request changed in one way has a certain answer.
+        let expect = self.expect.filter(|_| self.mutations.len() == 1);
+        Case {
+            route,
+            uri,
+            headers,
+            body,
+            mutations: self.mutations,
+            expect,
+            authenticated: self.authenticated,
+        }
+    }
 }
 
 /// A path into a JSON value.
@@ -988,17 +1043,13 @@ const PLACEHOLDER: &str = "\u{1}hostile\u{1}";
 /// Generates one API request from the route's base JSON.
 fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mut Rng) -> Case {
     let mut value = base_json(route.template, n, rng);
-    let mut mutations = Vec::new();
-    let mut expect = None;
+    let mut d = Draft::new(
+        fx.id_text(route),
+        Some("application/json".to_string()),
+        true,
+    );
     let mut raws: Vec<String> = Vec::new();
     let mut auth = Some(format!("Bearer {}", creds.token));
-    let mut authenticated = true;
-    let mut content_type = Some("application/json".to_string());
-    let mut extra_headers: Vec<(String, String)> = Vec::new();
-    let mut id_text = route
-        .template
-        .contains("{id}")
-        .then(|| fx.id_for(route.template).to_string());
     let mut raw_body: Option<Vec<u8>> = None;
 
     let rounds = 1 + rng.below(3);
@@ -1011,7 +1062,7 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
             0..=44 if !paths.is_empty() => {
                 let path = rng.pick(&paths).clone();
                 let raw = hostile_json(rng);
-                mutations.push(format!(
+                d.mutations.push(format!(
                     "{} = {}",
                     show_path(&path),
                     raw.chars().take(60).collect::<String>()
@@ -1024,7 +1075,7 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
             // a value removed
             45..=56 if !paths.is_empty() => {
                 let path = rng.pick(&paths).clone();
-                mutations.push(format!("without {}", show_path(&path)));
+                d.mutations.push(format!("without {}", show_path(&path)));
                 let (last, parent) = path.split_last().unwrap();
                 if let Some(p) = node_mut(&mut value, parent) {
                     match (last, p) {
@@ -1051,7 +1102,7 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
                     ])
                     .to_string();
                 let raw = hostile_json(rng);
-                mutations.push(format!(
+                d.mutations.push(format!(
                     "extra {key} = {}",
                     raw.chars().take(40).collect::<String>()
                 ));
@@ -1081,37 +1132,31 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
                         Some(format!("Bearer {}", "A".repeat(5000))),
                     ])
                     .clone();
-                authenticated = false;
-                mutations.push("no valid token".into());
-                expect = Some(Expect::Status(401));
+                d.authenticated = false;
+                d.mutations.push("no valid token".into());
+                d.expect = Some(Expect::Status(401));
             }
             // a bad path id
-            70..=73 if id_text.is_some() => {
-                let bad = rng.pick(BAD_IDS).to_string();
-                mutations.push(format!("path id {bad}"));
-                id_text = Some(bad);
-                expect = Some(Expect::Status(404));
+            70..=73 if d.id_text.is_some() => {
+                d.bad_path_id(rng);
             }
             // cross-site
             74..=75 => {
-                let (k, v) = *rng.pick(CROSS_SITE);
-                extra_headers.push((k.into(), v.into()));
-                mutations.push(format!("cross-site {k}: {v}"));
-                expect = Some(Expect::Status(403));
+                d.cross_site(rng);
             }
             // the content type
             76..=81 => {
-                content_type = rng
-                    .pick(&[
+                d.other_content_type(
+                    rng,
+                    &[
                         None,
                         Some("text/plain"),
                         Some("application/x-www-form-urlencoded"),
                         Some("text/json"),
                         Some("multipart/form-data; boundary=xyz"),
-                    ])
-                    .map(str::to_string);
-                mutations.push(format!("content type {content_type:?}"));
-                expect = Some(Expect::Status(422));
+                    ],
+                );
+                d.expect = Some(Expect::Status(422));
             }
             // the whole body
             82..=99 => {
@@ -1156,10 +1201,11 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
                     }
                     _ => vec![0u8; 1024],
                 };
-                mutations.push(format!("whole body #{kind} ({} bytes)", body.len()));
+                d.mutations
+                    .push(format!("whole body #{kind} ({} bytes)", body.len()));
                 raw_body = Some(body);
             }
-            _ => mutations.push("unchanged".into()),
+            _ => d.mutations.push("unchanged".into()),
         }
     }
 
@@ -1175,61 +1221,7 @@ fn api_case(route: &'static Route, fx: &Fixture, creds: &Creds, n: u64, rng: &mu
         }
     };
     let credential = auth.map(|a| ("authorization".to_string(), a));
-    finish_case(
-        route,
-        id_text,
-        content_type,
-        credential,
-        extra_headers,
-        body,
-        mutations,
-        expect,
-        authenticated,
-        rng,
-    )
-}
-
-/// The request line and headers of a generated case, shared by form and API cases.
-#[expect(
-    clippy::too_many_arguments,
-    reason = "the parts of one generated request"
-)]
-fn finish_case(
-    route: &'static Route,
-    id_text: Option<String>,
-    content_type: Option<String>,
-    credential: Option<(String, String)>,
-    extra_headers: Vec<(String, String)>,
-    body: Vec<u8>,
-    mutations: Vec<String>,
-    expect: Option<Expect>,
-    authenticated: bool,
-    rng: &mut Rng,
-) -> Case {
-    let uri = match &id_text {
-        Some(id) => route.template.replace("{id}", id),
-        None => route.template.to_string(),
-    };
-    let mut headers = Vec::new();
-    if let Some(ct) = content_type {
-        headers.push(("content-type".into(), ct));
-    }
-    headers.extend(credential);
-    if rng.chance(50) {
-        headers.push(("content-length".into(), body.len().to_string()));
-    }
-    headers.extend(extra_headers);
-    // Only a request changed in one way has a certain answer.
-    let expect = expect.filter(|_| mutations.len() == 1);
-    Case {
-        route,
-        uri,
-        headers,
-        body,
-        mutations,
-        expect,
-        authenticated,
-    }
+    d.finish(route, credential, body, rng)
 }
 
 fn dup_keys(value: &Value, rng: &mut Rng) -> String {
@@ -1519,30 +1511,25 @@ async fn thousands_of_hostile_requests_change_nothing_they_are_refused() {
         base_json("/passes/{id}", 0, &mut rng),
     )
     .await;
-    let spare = boss
-        .post(
-            "/users",
-            &[
-                ("username", "spare-tech"),
-                ("password", "long enough password"),
-                ("role", "tech"),
-            ],
-        )
-        .await;
-    assert_eq!(spare.status, StatusCode::SEE_OTHER, "{}", spare.body);
+    boss.post_saved(
+        "/users",
+        &[
+            ("username", "spare-tech"),
+            ("password", "long enough password"),
+            ("role", "tech"),
+        ],
+    )
+    .await;
     let spare_user: i64 = sqlx::query_scalar("SELECT id FROM users WHERE username = 'spare-tech'")
         .fetch_one(&app.pool)
         .await
         .unwrap();
     let printed = boss
-        .post(&format!("/builds/{build_edit}/sheets"), &[])
+        .post_saved(&format!("/builds/{build_edit}/sheets"), &[])
         .await;
-    assert_eq!(printed.status, StatusCode::SEE_OTHER, "{}", printed.body);
     let sheet: i64 = crate::support::id_from(printed.location()).parse().unwrap();
-    let linked = boss
-        .post(&format!("/sheets/{sheet}/links"), &[("valid_days", "30")])
+    boss.post_saved(&format!("/sheets/{sheet}/links"), &[("valid_days", "30")])
         .await;
-    assert_eq!(linked.status, StatusCode::SEE_OTHER, "{}", linked.body);
     let link: i64 = sqlx::query_scalar("SELECT id FROM sheet_links")
         .fetch_one(&app.pool)
         .await
@@ -1987,15 +1974,7 @@ async fn sign_ins_with_hostile_next_values_stay_on_the_site_and_never_fail() {
     for next in HOSTILE_NEXT {
         // Signing in with the right password: the session is made and the browser stays here.
         let reply = app
-            .post_form(
-                "/login",
-                &[
-                    ("username", "boss"),
-                    ("password", crate::support::PASSWORD),
-                    ("next", next),
-                ],
-                None,
-            )
+            .post_login("boss", crate::support::PASSWORD, Some(next))
             .await;
         assert_eq!(
             reply.status,
@@ -2036,14 +2015,10 @@ async fn sign_ins_with_hostile_next_values_stay_on_the_site_and_never_fail() {
 
     // A plain local path is still followed, query and fragment included.
     let reply = app
-        .post_form(
-            "/login",
-            &[
-                ("username", "sam"),
-                ("password", crate::support::PASSWORD),
-                ("next", "/customers?q=a%20b&page=2"),
-            ],
-            None,
+        .post_login(
+            "sam",
+            crate::support::PASSWORD,
+            Some("/customers?q=a%20b&page=2"),
         )
         .await;
     assert_eq!(reply.status, StatusCode::SEE_OTHER);

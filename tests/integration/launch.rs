@@ -40,9 +40,9 @@ fn num(v: &Value) -> f64 {
 async fn the_worked_launch_answers_with_the_contract_fields_and_figures() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app.post_json("/api/v1/calc/launch", &token, worked()).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app
+        .post_json_ok("/api/v1/calc/launch", &token, worked())
+        .await;
     let lock = &v["lockup"];
     assert!((num(&lock["time_s"]) - 1.8131).abs() < 0.0005, "{lock}");
     assert!((num(&lock["engine_rpm"]) - 5782.7).abs() < 0.5, "{lock}");
@@ -150,9 +150,7 @@ async fn imperial_and_metric_give_the_same_launch() {
         .post_json("/api/v1/calc/launch", &token, worked())
         .await
         .json();
-    let r = app.post_json("/api/v1/calc/launch", &token, v).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let imperial = r.json();
+    let imperial = app.post_json_ok("/api/v1/calc/launch", &token, v).await;
     assert_eq!(imperial["lockup"]["time_s"], metric["lockup"]["time_s"]);
     assert_eq!(imperial["slip_energy_kj"], metric["slip_energy_kj"]);
     // 1 mph = 1.609344 km/h; a rise of 1 K is 1.8 °F.
@@ -171,9 +169,7 @@ async fn low_grip_spins_the_tires_from_the_start() {
     let mut v = worked();
     v["vehicle"]["tire_grip"] = json!(1.0);
     v["vehicle"]["tire_grip_spinning"] = json!(0.8);
-    let r = app.post_json("/api/v1/calc/launch", &token, v).await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
+    let v = app.post_json_ok("/api/v1/calc/launch", &token, v).await;
     assert!(
         (num(&v["lockup"]["time_s"]) - 0.0862).abs() < 0.0002,
         "{}",

@@ -30,11 +30,9 @@ pub fn calc_body(csv: String) -> Value {
 async fn the_worked_file_answers_as_the_contract_documents() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .post_json("/api/v1/calc/log-analysis", &token, calc_body(worked_csv()))
+    let v = app
+        .post_json_ok("/api/v1/calc/log-analysis", &token, calc_body(worked_csv()))
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let v = r.json();
     // Lockup 0.776 s and 600 × 628.3185 × 0.4 = 150 796 J [derived, docs/engineering.md §24].
     assert_eq!(v["samples"], 101);
     assert_eq!(v["sample_rate_hz"], 100.0);
@@ -158,19 +156,9 @@ async fn a_log_larger_than_a_form_is_accepted_on_the_log_routes_only() {
 /// A pass on a recorded build with a setup before it; returns its id.
 pub async fn pass_on_a_build(client: &Client<'_>) -> String {
     let build = client.record_build().await;
-    let r = client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-10-01"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-    let r = client
-        .post(
+    client.record_setup(&build, "2026-10-01", "1.5", "24").await;
+    client
+        .post_saved(
             &format!("{build}/passes"),
             &[
                 ("run_on", "2026-10-04"),
@@ -179,7 +167,6 @@ pub async fn pass_on_a_build(client: &Client<'_>) -> String {
             ],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let mut conn = client.app.pool.acquire().await.unwrap();
     let id: i64 = sqlx::query_scalar("SELECT MAX(id) FROM passes")
         .fetch_one(&mut *conn)
@@ -222,11 +209,9 @@ async fn a_pass_log_is_stored_read_back_and_feeds_the_calibration() {
     assert_eq!(app.count("pass_logs").await, 0);
     assert_eq!(app.count("car_log_mappings").await, 0);
 
-    let r = app
-        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
+    let stored = app
+        .post_json_ok(&format!("/api/v1/passes/{pass}/log"), &token, body)
         .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
-    let stored = r.json();
     // Input = 4800·(t − 0.1): launch 0.1 s; 3 % slip at 0.1 + 0.97 s [derived].
     assert!(
         (stored["launch_s"].as_f64().unwrap() - 0.1).abs() < 1e-6,
@@ -313,19 +298,14 @@ async fn upload_then_mapping_then_the_pass_page() {
     // An unreadable file: a message on the pass page, nothing kept.
     let r = upload(&client, &pass, b"just words\nno table\n").await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(
-        r.body.contains("cannot be read as a data log"),
-        "{}",
-        r.body
-    );
-    assert!(r.body.contains("Nothing was saved"));
+    r.assert_shows("cannot be read as a data log");
+    r.assert_shows("Nothing was saved");
 
     let r = upload(&client, &pass, launch_csv().as_bytes()).await;
     assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let map = r.location().to_string();
     assert!(map.starts_with(&format!("/passes/{pass}/log/map?upload=")));
-    let page = client.get(&map).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&map).await;
     // The choices are the file's own header names; the units line was skipped.
     assert!(
         page.body.contains("<option value=\"engine\">"),
@@ -405,23 +385,15 @@ async fn upload_then_mapping_then_the_pass_page() {
         ],
     )
     .await;
-    assert!(
-        r.body.contains("the file has no column “clock”"),
-        "{}",
-        r.body
-    );
-    assert!(
-        r.body.contains("the file has no column “shaft”"),
-        "{}",
-        r.body
-    );
+    r.assert_shows("the file has no column “clock”");
+    r.assert_shows("the file has no column “shaft”");
     assert!(
         r.body.contains("choose the file&#39;s column for this")
             || r.body.contains("choose the file's column for this"),
         "{}",
         r.body
     );
-    assert!(r.body.contains("fix the 3 marked fields"), "{}", r.body);
+    r.assert_shows("fix the 3 marked fields");
     // The driven side from no source at all, in the form's words (not the API's keys).
     let r = map_refused(
         &client,
@@ -430,17 +402,11 @@ async fn upload_then_mapping_then_the_pass_page() {
         &[("time", "t"), ("engine_rpm", "engine")],
     )
     .await;
-    assert!(
-        r.body.contains(
-            "give exactly one of input shaft speed, driveshaft speed or driven wheel speed"
-        ),
-        "{}",
-        r.body
-    );
+    r.assert_shows("give exactly one of input shaft speed, driveshaft speed or driven wheel speed");
     assert!(!r.body.contains("input_rpm, driveshaft_rpm"), "{}", r.body);
 
     let r = client
-        .post(
+        .post_saved(
             &format!("/passes/{pass}/log/map"),
             &[
                 ("upload", upload_token),
@@ -454,12 +420,10 @@ async fn upload_then_mapping_then_the_pass_page() {
             ],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     assert_eq!(r.location(), format!("/passes/{pass}"));
     assert_eq!(app.count("pass_logs").await, 1);
-    let page = client.get(&format!("/passes/{pass}")).await;
-    assert_eq!(page.status, StatusCode::OK);
-    assert!(page.body.contains("1.070 s"), "{}", page.body);
+    let page = client.get_ok(&format!("/passes/{pass}")).await;
+    page.assert_shows("1.070 s");
     assert_eq!(page.body.matches("<svg").count(), 3);
     // The build's pass table shows the lockup time and links the pass.
     let build = id_from(&format!("/builds/{}", {
@@ -471,29 +435,14 @@ async fn upload_then_mapping_then_the_pass_page() {
             .unwrap()
     }));
     let b = client.get(&format!("/builds/{build}")).await;
-    assert!(
-        b.body
-            .contains(&format!("<a href=\"/passes/{pass}\">0.970 s</a>")),
-        "{}",
-        b.body
-    );
+    b.assert_shows(&format!("<a href=\"/passes/{pass}\">0.970 s</a>"));
     // No lockup was typed on this pass: the log's fills the column, marked as such.
-    assert!(
-        b.body
-            .contains("4800 rpm <span class=\"muted\">(log)</span>"),
-        "{}",
-        b.body
-    );
+    b.assert_shows("4800 rpm <span class=\"muted\">(log)</span>");
     // The mapping (and the inertia, 4.746 lb·ft² = 0.200 kg·m²) is offered for the next file.
     let r = upload(&client, &pass, launch_csv().as_bytes()).await;
     let page = client.get(r.location()).await;
-    assert!(
-        page.body
-            .contains("name=\"input_rpm\" list=\"log-columns\" value=\"input\""),
-        "{}",
-        page.body
-    );
-    assert!(page.body.contains("value=\"4.746\""), "{}", page.body);
+    page.assert_shows("name=\"input_rpm\" list=\"log-columns\" value=\"input\"");
+    page.assert_shows("value=\"4.746\"");
 }
 
 #[tokio::test]
@@ -512,20 +461,13 @@ async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
         assert_eq!(r.status, StatusCode::OK, "{}", r.body);
     }
     let alone = client.get(&format!("/passes/{first}")).await;
-    assert!(
-        alone
-            .body
-            .contains(&format!("<option value=\"{second}\">2026-10-11")),
-        "{}",
-        alone.body
-    );
+    alone.assert_shows(&format!("<option value=\"{second}\">2026-10-11"));
     assert_eq!(alone.body.matches("<svg").count(), 3);
     let both = client
-        .get(&format!("/passes/{first}?compare={second}"))
+        .get_ok(&format!("/passes/{first}?compare={second}"))
         .await;
-    assert_eq!(both.status, StatusCode::OK);
     assert_eq!(both.body.matches("<svg").count(), 4);
-    assert!(both.body.contains("Two passes, time from each launch"));
+    both.assert_shows("Two passes, time from each launch");
     // Anything else in the query is no comparison, not an error.
     let odd = client.get(&format!("/passes/{first}?compare=abc")).await;
     assert_eq!(
@@ -610,8 +552,7 @@ async fn a_pass_page_opens_on_the_launch_with_the_whole_file_a_link_away() {
     store(&app, &pass, staged_csv()).await;
     // The whole file asked for first, so a cached page of one stretch never answers for the
     // other.
-    let all = client.get(&format!("/passes/{pass}?window=all")).await;
-    assert_eq!(all.status, StatusCode::OK);
+    let all = client.get_ok(&format!("/passes/{pass}?window=all")).await;
     assert!(
         all.body
             .contains("The charts show 0.00–6.00 s: the whole file."),
@@ -680,7 +621,7 @@ async fn a_pass_page_opens_on_the_launch_with_the_whole_file_a_link_away() {
     let odd = client
         .get(&format!("/passes/{pass}?window=everything"))
         .await;
-    assert!(odd.body.contains(&format!("The charts show {shown}.")));
+    odd.assert_shows(&format!("The charts show {shown}."));
 }
 
 #[tokio::test]
@@ -730,20 +671,15 @@ async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
         .get(&format!("/passes/{first}?compare={second}&window=all"))
         .await;
     // The whole files: 2 s before the first's launch to 4 s after it.
-    assert!(
-        all.body
-            .contains("Two passes, time from each launch: the whole files, -2.00 to 4.00 s"),
-        "{}",
-        all.body
-    );
+    all.assert_shows("Two passes, time from each launch: the whole files, -2.00 to 4.00 s");
     // The comparison form keeps the whole-file choice.
     assert!(
         all.body
             .contains("<input type=\"hidden\" name=\"window\" value=\"all\">")
     );
-    assert!(all.body.contains(&format!(
+    all.assert_shows(&format!(
         "href=\"/passes/{first}?compare={second}#charts\">Back to the launch"
-    )));
+    ));
 }
 
 /// A build with two passes (the second on 2026-10-11): (build id, first pass, second pass).
@@ -757,13 +693,12 @@ async fn two_passes(app: &TestApp, client: &Client<'_>) -> (i64, String, String)
             .await
             .unwrap()
     };
-    let r = client
-        .post(
+    client
+        .post_saved(
             &format!("/builds/{build}/passes"),
             &[("run_on", "2026-10-11"), ("track", "Test strip")],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let second = (first.parse::<i64>().unwrap() + 1).to_string();
     (build, first, second)
 }

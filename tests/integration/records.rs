@@ -21,17 +21,7 @@ async fn a_tech_records_a_whole_build_through_the_forms() {
     assert!((od - 264.16).abs() < 1e-9);
     assert!((rate - 380.0 * 4.4482216152605 / 25.4).abs() < 1e-9);
 
-    let setup = client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-11-02"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
-    assert_eq!(setup.status, StatusCode::SEE_OTHER, "{}", setup.body);
+    client.record_setup(&build, "2026-11-02", "1.5", "24").await;
     let mut bench = vec![("tested_on", "2026-11-02"), ("test_height", "1.600")];
     let rows: Vec<(String, String)> = (1..=6)
         .flat_map(|i| {
@@ -42,10 +32,11 @@ async fn a_tech_records_a_whole_build_through_the_forms() {
         })
         .collect();
     bench.extend(rows.iter().map(|(k, v)| (k.as_str(), v.as_str())));
-    let b = client.post(&format!("{build}/bench-tests"), &bench).await;
-    assert_eq!(b.status, StatusCode::SEE_OTHER, "{}", b.body);
-    let h = client
-        .post(
+    client
+        .post_saved(&format!("{build}/bench-tests"), &bench)
+        .await;
+    client
+        .post_saved(
             &format!("{build}/heights"),
             &[
                 ("measured_on", "2026-11-02"),
@@ -55,9 +46,8 @@ async fn a_tech_records_a_whole_build_through_the_forms() {
             ],
         )
         .await;
-    assert_eq!(h.status, StatusCode::SEE_OTHER, "{}", h.body);
-    let p = client
-        .post(
+    client
+        .post_saved(
             &format!("{build}/passes"),
             &[
                 ("run_on", "2026-11-08"),
@@ -68,11 +58,9 @@ async fn a_tech_records_a_whole_build_through_the_forms() {
             ],
         )
         .await;
-    assert_eq!(p.status, StatusCode::SEE_OTHER, "{}", p.body);
 
-    let page = client.get(&build).await;
-    assert_eq!(page.status, StatusCode::OK);
-    assert!(page.body.contains("Avery Lindqvist"));
+    let page = client.get_ok(&build).await;
+    page.assert_shows("Avery Lindqvist");
     // bench: 190 lbf at 0.500 in is 380.0 lbf/in
     assert!(page.body.contains("380.0"), "spring rate shown");
     assert!(
@@ -106,8 +94,8 @@ async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
         )
         .await;
     assert_eq!(bad.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(bad.body.contains("must be smaller than the outer diameter"));
-    assert!(bad.body.contains("must be between 1 and 24"));
+    bad.assert_shows("must be smaller than the outer diameter");
+    bad.assert_shows("must be between 1 and 24");
     assert!(bad.body.contains("value=\"7.0\""), "typed values are kept");
     assert_eq!(app.count("builds").await, 1);
 
@@ -124,15 +112,13 @@ async fn a_bad_value_re_renders_the_form_with_the_message_and_saves_nothing() {
         .await;
     assert_eq!(h.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert!(h.body.contains("no such date"));
-    assert!(h.body.contains("enter a number"));
-    assert!(h.body.contains("must be between 0 and 3"));
+    h.assert_shows("enter a number");
+    h.assert_shows("must be between 0 and 3");
     assert_eq!(app.count("cover_heights").await, 0);
     // Issue 26, item 6: the top of the page says the save failed and links to the form, and
     // each refused input asks for the cursor: the browser gives it to the first in the page
     // (HTML's autofocus), so the page opens at the form.
-    assert!(h.body.contains(
-        "<strong>Not saved.</strong> The cover height has 4 fields to fix: <a href=\"#height-form\">"
-    ));
+    h.assert_shows("<strong>Not saved.</strong> The cover height has 4 fields to fix: <a href=\"#height-form\">");
     assert_eq!(h.body.matches(" autofocus").count(), 4);
     let first = h.body.split(" autofocus").next().unwrap_or("");
     assert!(first[first.rfind("<input").unwrap_or(0)..].contains("name=\"measured_on\""));
@@ -157,8 +143,8 @@ async fn a_measurement_cannot_go_back_in_passes() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    let first = client
-        .post(
+    client
+        .post_saved(
             &format!("{build}/heights"),
             &[
                 ("measured_on", "2026-11-02"),
@@ -168,7 +154,6 @@ async fn a_measurement_cannot_go_back_in_passes() {
             ],
         )
         .await;
-    assert_eq!(first.status, StatusCode::SEE_OTHER);
     let back = client
         .post(
             &format!("{build}/heights"),
@@ -181,7 +166,7 @@ async fn a_measurement_cannot_go_back_in_passes() {
         )
         .await;
     assert_eq!(back.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(back.body.contains("passes cannot go backwards"));
+    back.assert_shows("passes cannot go backwards");
     assert_eq!(app.count("cover_heights").await, 1);
 }
 
@@ -191,17 +176,18 @@ async fn the_api_records_a_whole_build_and_names_bad_fields() {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
     let c = app
-        .api(
+        .api_answers(
+            StatusCode::CREATED,
             "POST",
             "/api/v1/customers",
             t,
             Some(json!({"name": "Rosa Vantongeren", "phone": "555-0109"})),
         )
         .await;
-    assert_eq!(c.status, StatusCode::CREATED, "{}", c.body);
     let cid = c.json()["id"].as_i64().unwrap();
     let car = app
-        .api(
+        .api_answers(
+            StatusCode::CREATED,
             "POST",
             &format!("/api/v1/customers/{cid}/cars"),
             t,
@@ -209,7 +195,6 @@ async fn the_api_records_a_whole_build_and_names_bad_fields() {
                         "torque_curve_nm": [[3000, 550], [5000, 650], [4000, 600], [6000, 620]]})),
         )
         .await;
-    assert_eq!(car.status, StatusCode::CREATED, "{}", car.body);
     assert_eq!(
         car.json()["torque_curve_nm"][1][0],
         4000.0,
@@ -221,55 +206,53 @@ async fn the_api_records_a_whole_build_and_names_bad_fields() {
         "facing_id_mm": 120.0, "spring_count": 6, "spring_rate_n_per_mm": 55.0, "adjuster_pitch_mm": 1.5,
         "lever_count": 3, "lever_gain_n_per_g": 2.0, "shim_stack_mm": [0.25, 0.25]});
     let b = app
-        .api(
+        .api_answers(
+            StatusCode::CREATED,
             "POST",
             &format!("/api/v1/cars/{car_id}/builds"),
             t,
             Some(build_body.clone()),
         )
         .await;
-    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
     let bid = b.json()["id"].as_i64().unwrap();
 
-    let bench = app
-        .api("POST", &format!("/api/v1/builds/{bid}/bench-tests"), t,
-            Some(json!({"tested_on": "2026-11-01", "springs": [{"compression_mm": 12.0, "force_n": 660.0}]})))
-        .await;
-    assert_eq!(bench.status, StatusCode::CREATED, "{}", bench.body);
+    let bench = app.api_answers(StatusCode::CREATED, "POST", &format!("/api/v1/builds/{bid}/bench-tests"), t,
+            Some(json!({"tested_on": "2026-11-01", "springs": [{"compression_mm": 12.0, "force_n": 660.0}]}))).await;
     let bench_id = bench.json()["id"].as_i64().unwrap();
-    let fixed = app
-        .api("PUT", &format!("/api/v1/bench-tests/{bench_id}"), t,
-            Some(json!({"tested_on": "2026-11-01", "note": "re-read", "springs": [{"compression_mm": 12.0, "force_n": 672.0}]})))
-        .await;
-    assert_eq!(fixed.status, StatusCode::OK, "{}", fixed.body);
+    let fixed = app.api_answers(StatusCode::OK, "PUT", &format!("/api/v1/bench-tests/{bench_id}"), t,
+            Some(json!({"tested_on": "2026-11-01", "note": "re-read", "springs": [{"compression_mm": 12.0, "force_n": 672.0}]}))).await;
     assert_eq!(fixed.json()["springs"][0]["force_n"], 672.0);
-    let more = app
-        .api("PUT", &format!("/api/v1/bench-tests/{bench_id}"), t,
-            Some(json!({"tested_on": "2026-11-01", "springs": [{"compression_mm": 12.0, "force_n": 1.0}, {"compression_mm": 12.0, "force_n": 1.0}]})))
-        .await;
-    assert_eq!(more.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let more = app.api_answers(StatusCode::UNPROCESSABLE_ENTITY, "PUT", &format!("/api/v1/bench-tests/{bench_id}"), t,
+            Some(json!({"tested_on": "2026-11-01", "springs": [{"compression_mm": 12.0, "force_n": 1.0}, {"compression_mm": 12.0, "force_n": 1.0}]}))).await;
     assert_eq!(more.json()["field"], "springs");
-    let m = app
-        .api("POST", &format!("/api/v1/builds/{bid}/measurements"), t,
-            Some(json!({"measured_on": "2026-11-01", "height_mm": 48.4, "passes": 0, "shims_pulled": 0})))
-        .await;
-    assert_eq!(m.status, StatusCode::CREATED, "{}", m.body);
-    let s = app
-        .api(
-            "POST",
-            &format!("/api/v1/builds/{bid}/setups"),
-            t,
-            Some(
-                json!({"changed_on": "2026-11-01", "adjuster_turns": 2.0, "counterweight_g": 20.0}),
-            ),
-        )
-        .await;
-    assert_eq!(s.status, StatusCode::CREATED, "{}", s.body);
-    let p = app
-        .api("POST", &format!("/api/v1/builds/{bid}/passes"), t,
-            Some(json!({"run_on": "2026-11-08", "track": "North strip", "et_s": 9.8, "sixty_ft_s": 1.3})))
-        .await;
-    assert_eq!(p.status, StatusCode::CREATED, "{}", p.body);
+    app.api_answers(
+        StatusCode::CREATED,
+        "POST",
+        &format!("/api/v1/builds/{bid}/measurements"),
+        t,
+        Some(
+            json!({"measured_on": "2026-11-01", "height_mm": 48.4, "passes": 0, "shims_pulled": 0}),
+        ),
+    )
+    .await;
+    app.api_answers(
+        StatusCode::CREATED,
+        "POST",
+        &format!("/api/v1/builds/{bid}/setups"),
+        t,
+        Some(json!({"changed_on": "2026-11-01", "adjuster_turns": 2.0, "counterweight_g": 20.0})),
+    )
+    .await;
+    app.api_answers(
+        StatusCode::CREATED,
+        "POST",
+        &format!("/api/v1/builds/{bid}/passes"),
+        t,
+        Some(
+            json!({"run_on": "2026-11-08", "track": "North strip", "et_s": 9.8, "sixty_ft_s": 1.3}),
+        ),
+    )
+    .await;
     let list = app
         .api(
             "GET",
@@ -284,54 +267,50 @@ async fn the_api_records_a_whole_build_and_names_bad_fields() {
     let mut bad = build_body.clone();
     bad["facing_id_mm"] = json!(200.0);
     let r = app
-        .api(
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
             "POST",
             &format!("/api/v1/cars/{car_id}/builds"),
             t,
             Some(bad),
         )
         .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(r.json()["field"], "facing_id_mm");
     let mut wrong_type = build_body.clone();
     wrong_type["spring_count"] = json!("six");
     let r = app
-        .api(
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
             "POST",
             &format!("/api/v1/cars/{car_id}/builds"),
             t,
             Some(wrong_type),
         )
         .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(r.json()["field"], "spring_count");
-    let r = app
-        .api("POST", &format!("/api/v1/builds/{bid}/measurements"), t,
-            Some(json!({"measured_on": "2026-11-02", "height_mm": 48.5, "passes": 10, "shims_pulled": 3})))
-        .await;
-    assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
+    let r = app.api_answers(StatusCode::UNPROCESSABLE_ENTITY, "POST", &format!("/api/v1/builds/{bid}/measurements"), t,
+            Some(json!({"measured_on": "2026-11-02", "height_mm": 48.5, "passes": 10, "shims_pulled": 3}))).await;
     assert_eq!(r.json()["field"], "shims_pulled");
-    let r = app
-        .api(
-            "POST",
-            "/api/v1/customers/999/cars",
-            t,
-            Some(json!({"description": "x"})),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::NOT_FOUND);
+    app.api_answers(
+        StatusCode::NOT_FOUND,
+        "POST",
+        "/api/v1/customers/999/cars",
+        t,
+        Some(json!({"description": "x"})),
+    )
+    .await;
     assert_eq!(app.count("builds").await, 1);
     assert_eq!(app.count("cover_heights").await, 1);
 
     let upd = app
-        .api(
+        .api_answers(
+            StatusCode::OK,
             "PUT",
             &format!("/api/v1/customers/{cid}"),
             t,
             Some(json!({"name": "Rosa V."})),
         )
         .await;
-    assert_eq!(upd.status, StatusCode::OK);
     assert_eq!(upd.json()["name"], "Rosa V.");
 }
 
@@ -377,8 +356,8 @@ async fn adjusters_at_different_settings_are_flagged() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    let even = client
-        .post(
+    client
+        .post_saved(
             &format!("{build}/setups"),
             &[
                 ("changed_on", "2026-11-02"),
@@ -387,7 +366,6 @@ async fn adjusters_at_different_settings_are_flagged() {
             ],
         )
         .await;
-    assert_eq!(even.status, StatusCode::SEE_OTHER);
     assert!(
         !client
             .get(&build)
@@ -395,8 +373,8 @@ async fn adjusters_at_different_settings_are_flagged() {
             .body
             .contains("adjusters not all at the same setting")
     );
-    let uneven = client
-        .post(
+    client
+        .post_saved(
             &format!("{build}/setups"),
             &[
                 ("changed_on", "2026-11-03"),
@@ -405,7 +383,6 @@ async fn adjusters_at_different_settings_are_flagged() {
             ],
         )
         .await;
-    assert_eq!(uneven.status, StatusCode::SEE_OTHER);
     assert!(
         client
             .get(&build)
@@ -435,7 +412,7 @@ async fn adjusters_at_different_settings_are_flagged() {
         )
         .await;
     assert_eq!(off.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(off.body.contains("these average 1.750 turns"));
+    off.assert_shows("these average 1.750 turns");
     assert_eq!(app.count("setup_changes").await, 2);
 }
 
@@ -478,6 +455,6 @@ async fn an_unknown_role_is_refused_not_stored_as_tech() {
         )
         .await;
     assert_eq!(reply.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(reply.body.contains("choose admin or tech"));
+    reply.assert_shows("choose admin or tech");
     assert_eq!(app.count("users").await, before);
 }

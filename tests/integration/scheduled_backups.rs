@@ -8,7 +8,7 @@ use std::net::TcpStream;
 use std::os::unix::fs::{MetadataExt, PermissionsExt};
 use std::os::unix::process::CommandExt;
 use std::path::{Path, PathBuf};
-use std::process::{Child, ChildStdout, Command, Output, Stdio};
+use std::process::{Child, ChildStdout, Command, Stdio};
 use std::str::FromStr;
 use std::sync::atomic::{AtomicBool, AtomicU32, Ordering};
 use std::sync::{Arc, Mutex};
@@ -21,7 +21,9 @@ use sqlx::sqlite::SqliteConnectOptions;
 use sqlx::{Connection, SqliteConnection};
 
 use crate::hostile::Rng;
-use crate::support::TestApp;
+use crate::support::{
+    TestApp, cli_ok as ok, execute_on_file, lockpoint, newer_copy, run_cli as run, serving,
+};
 
 const PASSWORD: &str = "scheduled backup password";
 /// The unprivileged account a test drops to when it runs as root (where a read-only folder is
@@ -60,35 +62,17 @@ impl Drop for Scratch {
     }
 }
 
-fn lockpoint() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
-}
-
-fn run(args: &[&str], stdin: &str) -> Output {
-    let mut child = lockpoint()
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(stdin.as_bytes())
-        .unwrap();
-    child.wait_with_output().unwrap()
-}
-
-fn ok(args: &[&str], stdin: &str) -> String {
-    let out = run(args, stdin);
-    assert!(
-        out.status.success(),
-        "lockpoint {args:?}: {}",
-        String::from_utf8_lossy(&out.stderr)
+/// `lockpoint backup FILE --db DB`, which must succeed.
+fn backup_to(db: &Path, file: &Path) {
+    ok(
+        &[
+            "backup",
+            file.to_str().unwrap(),
+            "--db",
+            db.to_str().unwrap(),
+        ],
+        "",
     );
-    String::from_utf8(out.stdout).unwrap()
 }
 
 /// A database with an admin `boss` and a tech `sam`; answers an API token of the admin.
@@ -116,14 +100,7 @@ struct Server {
 
 impl Server {
     fn start(mut cmd: Command, db: &Path, backup: &[&str]) -> Self {
-        let mut child = cmd
-            .args([
-                "serve",
-                "--db",
-                db.to_str().unwrap(),
-                "--addr",
-                "127.0.0.1:0",
-            ])
+        let mut child = serving(&mut cmd, db)
             .args(backup)
             // The names carry the shop's time; with no zone set that is the server's.
             .env("TZ", "UTC")
@@ -534,15 +511,7 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
     new_shop(&db);
     // An earlier copy, two days old: the first backup is due at start, and fails.
     let earlier = dir.join("lockpoint-20200101-000000.db");
-    ok(
-        &[
-            "backup",
-            earlier.to_str().unwrap(),
-            "--db",
-            db.to_str().unwrap(),
-        ],
-        "",
-    );
+    backup_to(&db, &earlier);
     std::fs::File::options()
         .write(true)
         .open(&earlier)
@@ -682,8 +651,7 @@ async fn a_folder_that_disappears_is_reported_and_the_counter_notice_shows_for_a
 
     // The drive is pulled.
     std::fs::remove_dir_all(&dir).unwrap();
-    let now = boss.post("/backup/now", &[]).await;
-    assert_eq!(now.status, StatusCode::SEE_OTHER);
+    boss.post_saved("/backup/now", &[]).await;
     let b = Arc::clone(&backups);
     wait_for("the failure", Box::new(move || b.snapshot().record.failing)).await;
     assert_eq!(app.get("/healthz", None).await.status, StatusCode::OK);
@@ -730,15 +698,7 @@ async fn verify_refuses_damaged_text_empty_foreign_and_newer_files_with_the_reas
             .unwrap();
     pool.close().await;
     let good = scratch.path("good.db");
-    ok(
-        &[
-            "backup",
-            good.to_str().unwrap(),
-            "--db",
-            db.to_str().unwrap(),
-        ],
-        "",
-    );
+    backup_to(&db, &good);
     let before = std::fs::read(&good).unwrap();
     let (sound, out, err) = verify_cli(&good);
     assert!(sound, "{err}");
@@ -776,33 +736,16 @@ async fn verify_refuses_damaged_text_empty_foreign_and_newer_files_with_the_reas
 
     // A sound SQLite file that is not a shop, and a shop from a newer Lockpoint.
     let foreign = scratch.path("other.db");
-    let options = SqliteConnectOptions::from_str("sqlite:")
-        .unwrap()
-        .filename(&foreign)
-        .create_if_missing(true);
-    let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
-    sqlx::query("CREATE TABLE parts (id INTEGER PRIMARY KEY, name TEXT)")
-        .execute(&mut conn)
-        .await
-        .unwrap();
-    conn.close().await.unwrap();
+    execute_on_file(
+        &foreign,
+        "CREATE TABLE parts (id INTEGER PRIMARY KEY, name TEXT)",
+    )
+    .await;
     let (sound, _, err) = verify_cli(&foreign);
     assert!(!sound && err.contains("not a Lockpoint database"), "{err}");
 
     let newer = scratch.path("newer.db");
-    std::fs::copy(&good, &newer).unwrap();
-    let options = SqliteConnectOptions::from_str("sqlite:")
-        .unwrap()
-        .filename(&newer);
-    let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
-    sqlx::query(
-        "INSERT INTO _sqlx_migrations (version, description, success, checksum, execution_time)
-         VALUES (9999, 'from the future', 1, x'00', 0)",
-    )
-    .execute(&mut conn)
-    .await
-    .unwrap();
-    conn.close().await.unwrap();
+    newer_copy(&good, &newer).await;
     let (sound, _, err) = verify_cli(&newer);
     assert!(!sound && err.contains("newer Lockpoint"), "{err}");
 }

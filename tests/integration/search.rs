@@ -36,24 +36,13 @@ async fn the_bundled_sqlite_has_fts5_with_the_trigram_tokenizer() {
 async fn customer(app: &TestApp) -> (i64, i64, i64, i64, String) {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            t,
-            Some(json!({"name": "Odile Rask", "phone": "555-0190", "email": "odile@example.test"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             t,
-            Some(json!({"description": "two-door, 7.2 L V8, 4-speed", "engine": "tunnel-ram big block"})),
+            json!({"name": "Odile Rask", "phone": "555-0190", "email": "odile@example.test"}),
+            json!({"description": "two-door, 7.2 L V8, 4-speed", "engine": "tunnel-ram big block"}),
         )
-        .await
-        .json();
+        .await;
     let build = |label: &str, status: &str| {
         json!({"label": label, "disc_count": 1, "facing_material": "organic", "facing_od_mm": 264.0,
                "facing_id_mm": 168.0, "spring_count": 6, "spring_rate_n_per_mm": 68.0,
@@ -61,14 +50,19 @@ async fn customer(app: &TestApp) -> (i64, i64, i64, i64, String) {
     };
     let path = format!("/api/v1/cars/{}/builds", car["id"]);
     let active = app
-        .api("POST", &path, t, Some(build("Bracket twin", "active")))
+        .api_answers(
+            StatusCode::CREATED,
+            "POST",
+            &path,
+            t,
+            Some(build("Bracket twin", "active")),
+        )
         .await;
-    assert_eq!(active.status, StatusCode::CREATED, "{}", active.body);
     let retired = app
         .api("POST", &path, t, Some(build("Old single", "retired")))
         .await;
     (
-        c["id"].as_i64().unwrap(),
+        car["customer_id"].as_i64().unwrap(),
         car["id"].as_i64().unwrap(),
         active.json()["id"].as_i64().unwrap(),
         retired.json()["id"].as_i64().unwrap(),
@@ -150,15 +144,14 @@ async fn the_index_follows_edits_new_cars_deletes_and_restores() {
                 .contains("Odile")
         }
     };
-    let r = app
-        .api(
-            "PUT",
-            &format!("/api/v1/customers/{id}"),
-            t,
-            Some(json!({"name": "Odile Raskova", "phone": "555-0777"})),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    app.api_answers(
+        StatusCode::OK,
+        "PUT",
+        &format!("/api/v1/customers/{id}"),
+        t,
+        Some(json!({"name": "Odile Raskova", "phone": "555-0777"})),
+    )
+    .await;
     assert!(finds("Raskova").await && finds("5550777").await);
     assert!(
         !finds("5550190").await,

@@ -39,15 +39,13 @@ async fn a_printed_sheet_keeps_its_figures_after_the_build_changes() {
     let id = demo_build(&app).await;
     let client = app.login("sam").await;
     let made = client
-        .post(
+        .post_saved(
             &format!("/builds/{id}/sheets"),
             &[("target_lockup", "5600")],
         )
         .await;
-    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
     let sheet_path = made.location().to_string();
-    let first = client.get(&sheet_path).await;
-    assert_eq!(first.status, StatusCode::OK);
+    let first = client.get_ok(&sheet_path).await;
     for text in [
         "Clutch setup sheet",
         "Avery Lindqvist",
@@ -103,23 +101,12 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
         .location()
         .to_string();
     let sheet_id = id_from(&sheet);
-    let made = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
+    let made = client.new_link(&sheet, "14").await;
     assert_eq!(made.status, StatusCode::OK);
-    let start = made.body.find("/s/").expect("link shown");
-    let link: String = made.body[start..]
-        .chars()
-        .take_while(|c| *c != '<')
-        .collect();
+    let link = crate::support::link_in(&made.body);
     assert_eq!(link.len(), 3 + 64);
 
-    let public = app.get(&link, None).await;
-    assert_eq!(public.status, StatusCode::OK);
+    let public = app.get_ok(&link, None).await;
     assert!(public.body.contains("Avery Lindqvist") && public.body.contains("Clutch setup sheet"));
     for staff_only in [
         "/customers",
@@ -157,26 +144,17 @@ async fn the_customer_link_shows_one_sheet_without_login_until_it_is_withdrawn()
         .fetch_one(&app.pool)
         .await
         .unwrap();
-    let revoked = client.post(&format!("/links/{link_id}/revoke"), &[]).await;
-    assert_eq!(revoked.status, StatusCode::SEE_OTHER);
+    client
+        .post_saved(&format!("/links/{link_id}/revoke"), &[])
+        .await;
     let gone = app.get(&link, None).await;
     assert_eq!(gone.status, StatusCode::GONE);
-    assert!(gone.body.contains("withdrawn"));
+    gone.assert_shows("withdrawn");
     assert!(!gone.body.contains("Avery Lindqvist"));
 
     // An expired link is gone too.
-    let again = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "1")])
-                .await,
-        )
-        .await;
-    let start = again.body.find("/s/").unwrap();
-    let link2: String = again.body[start..]
-        .chars()
-        .take_while(|c| *c != '<')
-        .collect();
+    let again = client.new_link(&sheet, "1").await;
+    let link2 = crate::support::link_in(&again.body);
     sqlx::query(
         "UPDATE sheet_links SET expires_at = '2000-01-01T00:00:00Z' WHERE revoked_at IS NULL",
     )
@@ -210,20 +188,13 @@ async fn a_sheet_printed_by_an_earlier_release_reprints_byte_for_byte() {
     .await
     .unwrap();
     let client = app.login("sam").await;
-    let made = client
-        .follow(
-            &client
-                .post(&format!("/sheets/{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
+    let made = client.new_link(&format!("/sheets/{sheet}"), "14").await;
     let start = made.body.find("/s/").expect("link shown");
     let link: String = made.body[start..]
         .chars()
         .take_while(|c| c.is_ascii_alphanumeric() || matches!(c, '/' | '_' | '-'))
         .collect();
-    let page = app.get(&link, None).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = app.get_ok(&link, None).await;
     if page.body != printed {
         std::fs::write(std::env::temp_dir().join("reprint.html"), &page.body).ok();
     }
@@ -242,13 +213,7 @@ async fn customer_link(app: &TestApp) -> String {
         .await
         .location()
         .to_string();
-    let made = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
+    let made = client.new_link(&sheet, "14").await;
     assert_eq!(made.status, StatusCode::OK, "{}", made.body);
     let start = made.body.find("/s/").expect("link shown");
     let begin = made.body[..start].rfind('>').map_or(start, |i| i + 1);
@@ -263,8 +228,7 @@ async fn the_customer_link_page_sends_no_referrer_and_is_not_cached() {
     let app = TestApp::new().await;
     let link = customer_link(&app).await;
     let path = &link[link.find("/s/").unwrap()..];
-    let public = app.get(path, None).await;
-    assert_eq!(public.status, StatusCode::OK);
+    let public = app.get_ok(path, None).await;
     assert_eq!(public.headers[header::REFERRER_POLICY], "no-referrer");
     assert_eq!(public.headers[header::CACHE_CONTROL], "no-store");
     // Other pages keep the site-wide policy.
@@ -281,13 +245,7 @@ async fn with_a_public_url_links_use_it_and_the_session_cookie_is_secure() {
             && link.len() == "https://clutch.shop.example/s/".len() + 64,
         "{link}"
     );
-    let reply = app
-        .post_form(
-            "/login",
-            &[("username", "sam"), ("password", PASSWORD)],
-            None,
-        )
-        .await;
+    let reply = app.post_login("sam", PASSWORD, None).await;
     let cookie = reply.headers[header::SET_COOKIE].to_str().unwrap();
     assert!(cookie.contains("; Secure"), "{cookie}");
 
@@ -297,13 +255,7 @@ async fn with_a_public_url_links_use_it_and_the_session_cookie_is_secure() {
         TestApp::new().await,
         TestApp::reached_at(Some("http://10.0.0.5:3000")).await,
     ] {
-        let reply = app
-            .post_form(
-                "/login",
-                &[("username", "sam"), ("password", PASSWORD)],
-                None,
-            )
-            .await;
+        let reply = app.post_login("sam", PASSWORD, None).await;
         let cookie = reply.headers[header::SET_COOKIE].to_str().unwrap();
         assert!(!cookie.contains("Secure"), "{cookie}");
     }
@@ -331,13 +283,11 @@ async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name()
         .fetch_one(&app.pool)
         .await
         .unwrap();
-    let set = boss
-        .post(
-            &format!("/users/{sam_id}/display-name"),
-            &[("display_name", "Counter <staff>")],
-        )
-        .await;
-    assert_eq!(set.status, StatusCode::SEE_OTHER, "{}", set.body);
+    boss.post_saved(
+        &format!("/users/{sam_id}/display-name"),
+        &[("display_name", "Counter <staff>")],
+    )
+    .await;
     let too_long = boss
         .post(
             &format!("/users/{sam_id}/display-name"),
@@ -360,7 +310,7 @@ async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name()
         .unwrap();
     let old = app.get(&path, None).await;
     assert!(!old.body.contains("prepared by sam"), "{}", old.body);
-    assert!(old.body.contains("prepared by Counter"), "{}", old.body);
+    old.assert_shows("prepared by Counter");
     // A tech may not change it.
     let sam = app.login("sam").await;
     let refused = sam

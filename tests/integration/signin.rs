@@ -110,7 +110,7 @@ async fn when_every_password_check_slot_is_busy_a_failing_client_gets_429_at_onc
     let refused = sign_in(&app, "boss", PASSWORD, 1).await;
     assert_eq!(refused.status, StatusCode::TOO_MANY_REQUESTS);
     assert_eq!(retry_after(&refused), 1);
-    assert!(refused.body.contains("Too many sign-in attempts"));
+    refused.assert_shows("Too many sign-in attempts");
     assert!(started.elapsed() < Duration::from_secs(1));
     assert_eq!(app.count("sessions").await, 0);
     drop(busy);

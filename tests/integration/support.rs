@@ -4,7 +4,7 @@
 use std::io::{BufRead, BufReader, Read, Write};
 use std::net::TcpStream;
 use std::path::{Path, PathBuf};
-use std::process::{Child, Command, Stdio};
+use std::process::{Child, Command, Output, Stdio};
 use std::sync::atomic::{AtomicU32, Ordering};
 use std::time::{Duration, Instant};
 
@@ -14,7 +14,8 @@ use axum::http::{Request, StatusCode, header};
 use http_body_util::BodyExt;
 use lockpoint::records::user::{NewUser, Role};
 use lockpoint::{AppState, app, auth, db};
-use sqlx::SqlitePool;
+use sqlx::sqlite::SqliteConnectOptions;
+use sqlx::{Connection, SqliteConnection, SqlitePool};
 use tower::ServiceExt;
 
 pub const PASSWORD: &str = "correct-horse-battery";
@@ -65,6 +66,12 @@ impl Reply {
             .get(header::LOCATION)
             .and_then(|v| v.to_str().ok())
             .unwrap_or("")
+    }
+
+    /// Asserts that the body holds `text`, showing the whole body when it does not.
+    #[track_caller]
+    pub fn assert_shows(&self, text: &str) {
+        assert!(self.body.contains(text), "{text:?} not in:\n{}", self.body);
     }
 
     pub fn json(&self) -> serde_json::Value {
@@ -136,6 +143,13 @@ impl TestApp {
         self.send(req.body(Body::empty()).unwrap()).await
     }
 
+    /// [`TestApp::get`] of a page that must be shown (200); its body is shown when it is not.
+    pub async fn get_ok(&self, path: &str, cookie: Option<&str>) -> Reply {
+        let reply = self.get(path, cookie).await;
+        assert_eq!(reply.status, StatusCode::OK, "{path}: {}", reply.body);
+        reply
+    }
+
     pub async fn post_form(
         &self,
         path: &str,
@@ -149,6 +163,14 @@ impl TestApp {
             req = req.header(header::COOKIE, c);
         }
         self.send(req.body(Body::from(body)).unwrap()).await
+    }
+
+    /// The sign-in form posted without a session: `username`, `password` and, when given, the
+    /// page to go on to.
+    pub async fn post_login(&self, username: &str, password: &str, next: Option<&str>) -> Reply {
+        let mut form = vec![("username", username), ("password", password)];
+        form.extend(next.map(|n| ("next", n)));
+        self.post_form("/login", &form, None).await
     }
 
     /// Signs in through the login form and returns a client carrying the session.
@@ -166,13 +188,7 @@ impl TestApp {
     }
 
     async fn login_with(&self, name: &str, password: &str) -> Client<'_> {
-        let reply = self
-            .post_form(
-                "/login",
-                &[("username", name), ("password", password), ("next", "/")],
-                None,
-            )
-            .await;
+        let reply = self.post_login(name, password, Some("/")).await;
         assert_eq!(
             reply.status,
             StatusCode::SEE_OTHER,
@@ -193,6 +209,16 @@ impl TestApp {
             cookie,
             csrf,
         }
+    }
+
+    /// Signs in as the tech `sam`, records the build of [`Client::record_build`] and its first
+    /// setup (2026-11-02: 1.5 turns, 24 g per lever, nominal μ); the client and the build's
+    /// page path.
+    pub async fn set_up_build(&self) -> (Client<'_>, String) {
+        let client = self.login("sam").await;
+        let build = client.record_build().await;
+        client.record_setup(&build, "2026-11-02", "1.5", "24").await;
+        (client, build)
     }
 
     /// A new API token for a user.
@@ -227,9 +253,69 @@ impl TestApp {
         self.send(req.body(body).unwrap()).await
     }
 
+    /// [`TestApp::api`], where the answer must have `status` (its body is shown when not).
+    pub async fn api_answers(
+        &self,
+        status: StatusCode,
+        method: &str,
+        path: &str,
+        token: Option<&str>,
+        body: Option<serde_json::Value>,
+    ) -> Reply {
+        let reply = self.api(method, path, token, body).await;
+        assert_eq!(reply.status, status, "{method} {path}: {}", reply.body);
+        reply
+    }
+
+    /// Creates a customer (the JSON `customer`) and a car of theirs (`car`) through the record
+    /// API with `token`, each of which must be created (201); the car as the API answers it.
+    pub async fn api_car(
+        &self,
+        token: Option<&str>,
+        customer: serde_json::Value,
+        car: serde_json::Value,
+    ) -> serde_json::Value {
+        let created = StatusCode::CREATED;
+        let c = self
+            .api_answers(created, "POST", "/api/v1/customers", token, Some(customer))
+            .await
+            .json();
+        let cars = format!("/api/v1/customers/{}/cars", c["id"]);
+        self.api_answers(created, "POST", &cars, token, Some(car))
+            .await
+            .json()
+    }
+
+    /// Changes one field of the stored build at `build` (its page path, `/builds/3`) through
+    /// the record API as the tech `sam`: GET it, set `field` to `value`, PUT it back, which
+    /// must be saved (200); the answer to the PUT.
+    pub async fn edit_build(&self, build: &str, field: &str, value: serde_json::Value) -> Reply {
+        let token = self.token("sam").await;
+        let t = Some(token.as_str());
+        let path = format!("/api/v1{build}");
+        let mut body = self.api("GET", &path, t, None).await.json();
+        body[field] = value;
+        self.api_answers(StatusCode::OK, "PUT", &path, t, Some(body))
+            .await
+    }
+
     /// `POST` of a JSON body with an API token.
     pub async fn post_json(&self, path: &str, token: &str, body: serde_json::Value) -> Reply {
         self.api("POST", path, Some(token), Some(body)).await
+    }
+
+    /// `POST` of a JSON body with an API token that must be answered 200 (the start of the
+    /// answer is shown when it is not); the answer's JSON.
+    pub async fn post_json_ok(
+        &self,
+        path: &str,
+        token: &str,
+        body: serde_json::Value,
+    ) -> serde_json::Value {
+        let reply = self.post_json(path, token, body).await;
+        let start = &reply.body[..reply.body.len().min(2000)];
+        assert_eq!(reply.status, StatusCode::OK, "{path}: {start}");
+        reply.json()
     }
 
     /// `PUT` of a JSON body with an API token.
@@ -315,6 +401,13 @@ impl Client<'_> {
         build.location().to_string()
     }
 
+    /// A page that must be shown (200); the answer's body is shown when it is not.
+    pub async fn get_ok(&self, path: &str) -> Reply {
+        let reply = self.get(path).await;
+        assert_eq!(reply.status, StatusCode::OK, "{path}: {}", reply.body);
+        reply
+    }
+
     /// Follows a redirect as a browser would: a GET of its Location with the session and any
     /// cookie the redirect set (a note left for the next page).
     pub async fn follow(&self, reply: &Reply) -> Reply {
@@ -329,18 +422,112 @@ impl Client<'_> {
             .await
     }
 
+    /// Makes a customer link to the setup sheet at `sheet` valid for `valid_days` days through
+    /// the sheet's form, and follows the redirect to the page that shows it.
+    pub async fn new_link(&self, sheet: &str, valid_days: &str) -> Reply {
+        let made = self
+            .post(&format!("{sheet}/links"), &[("valid_days", valid_days)])
+            .await;
+        self.follow(&made).await
+    }
+
     /// Posts a form with the CSRF token, as the page's own form would.
     pub async fn post(&self, path: &str, pairs: &[(&str, &str)]) -> Reply {
         let mut all = vec![("_csrf", self.csrf.as_str())];
         all.extend_from_slice(pairs);
         self.app.post_form(path, &all, Some(&self.cookie)).await
     }
+
+    /// Posts a form that must be saved: the answer is the redirect (303) a saved form gives,
+    /// and the page that came back instead is shown when it is not.
+    pub async fn post_saved(&self, path: &str, pairs: &[(&str, &str)]) -> Reply {
+        let reply = self.post(path, pairs).await;
+        assert_eq!(
+            reply.status,
+            StatusCode::SEE_OTHER,
+            "{path}: {}",
+            reply.body
+        );
+        reply
+    }
+
+    /// Saves a setup on the build at `build` (its page path) from `day`: `turns` of the
+    /// adjuster, `counterweight_g` per lever and the facing's nominal μ.
+    pub async fn record_setup(
+        &self,
+        build: &str,
+        day: &str,
+        turns: &str,
+        counterweight_g: &str,
+    ) -> Reply {
+        let setup = [
+            ("changed_on", day),
+            ("adjuster_turns", turns),
+            ("counterweight_g", counterweight_g),
+        ];
+        self.post_saved(&format!("{build}/setups"), &setup).await
+    }
+
+    /// Saves a cover height on the build at `build` measured on `day`: `height` (in) after
+    /// `passes` passes since the last one.
+    pub async fn record_height(&self, build: &str, day: &str, height: &str, passes: &str) -> Reply {
+        let fields = [("measured_on", day), ("height", height), ("passes", passes)];
+        self.post_saved(&format!("{build}/heights"), &fields).await
+    }
+
+    /// Saves a bench test on `day` of the six springs at a 1.600 in test height: spring 1
+    /// with `first_free` (in) and `first_force` (lbf), the other five 2.100 in free and 190 lbf.
+    pub async fn record_bench_test(
+        &self,
+        build: &str,
+        day: &str,
+        first_free: &str,
+        first_force: &str,
+    ) -> Reply {
+        let mut form = vec![("tested_on", day), ("test_height", "1.600")];
+        let names: Vec<(String, String)> = (1..=6)
+            .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
+            .collect();
+        for (i, (free, force)) in names.iter().enumerate() {
+            form.push((free, if i == 0 { first_free } else { "2.100" }));
+            form.push((force, if i == 0 { first_force } else { "190" }));
+        }
+        self.post_saved(&format!("{build}/bench-tests"), &form)
+            .await
+    }
+}
+
+/// The settings form as a shop admin fills it in: display units, the units the numbers on the
+/// form were shown in, the shimming limit (in those) and the time zone; the rest as shipped.
+pub fn shop_settings<'a>(
+    units: &'a str,
+    shown: &'a str,
+    shimming_limit: &'a str,
+    zone: &'a str,
+) -> [(&'static str, &'a str); 9] {
+    [
+        ("name", "Test shop"),
+        ("units", units),
+        ("shown_units", shown),
+        ("spring_spread_pct", "5"),
+        ("spring_sag_pct", "3"),
+        ("shimming_limit", shimming_limit),
+        ("overclamp_factor", "1.5"),
+        ("due_within_passes", "10"),
+        ("time_zone", zone),
+    ]
 }
 
 pub fn csrf_of(html: &str) -> String {
     let marker = "name=\"_csrf\" value=\"";
     let start = html.find(marker).expect("page has a CSRF field") + marker.len();
     html[start..].split('"').next().unwrap().to_string()
+}
+
+/// The customer link's address as a page shows it (from its `/s/` to the next tag).
+pub fn link_in(html: &str) -> String {
+    let start = html.find("/s/").expect("a customer link on the page");
+    html[start..].chars().take_while(|c| *c != '<').collect()
 }
 
 pub fn form_encode(pairs: &[(&str, &str)]) -> String {
@@ -361,6 +548,73 @@ pub fn id_from(location: &str) -> String {
         .to_string()
 }
 
+/// Runs `sql` on the SQLite file at `path` (made when missing) on a connection of its own.
+pub async fn execute_on_file(path: &Path, sql: &'static str) {
+    let options = SqliteConnectOptions::new()
+        .filename(path)
+        .create_if_missing(true);
+    let mut conn = SqliteConnection::connect_with(&options).await.unwrap();
+    sqlx::query(sql).execute(&mut conn).await.unwrap();
+    conn.close().await.unwrap();
+}
+
+/// A copy of the shop database `shop` at `path` that a newer Lockpoint would have made: it
+/// records a migration this one does not know.
+pub async fn newer_copy(shop: &Path, path: &Path) {
+    std::fs::copy(shop, path).unwrap();
+    execute_on_file(
+        path,
+        "INSERT INTO _sqlx_migrations (version, description, success, checksum, execution_time)
+         VALUES (9999, 'from the future', 1, x'00', 0)",
+    )
+    .await;
+}
+
+/// The real `lockpoint` binary, as a command to give arguments to.
+pub fn lockpoint() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+}
+
+/// The binary run to completion with `args`, `stdin` written to it.
+pub fn run_cli(args: &[&str], stdin: &str) -> Output {
+    let mut child = lockpoint()
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the binary starts");
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(stdin.as_bytes())
+        .unwrap();
+    child.wait_with_output().unwrap()
+}
+
+/// [`run_cli`], which must succeed (its stderr is shown when it does not); its stdout.
+pub fn cli_ok(args: &[&str], stdin: &str) -> String {
+    let out = run_cli(args, stdin);
+    assert!(
+        out.status.success(),
+        "lockpoint {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).unwrap()
+}
+
+/// Adds the arguments that serve `db` at a free loopback port (it prints the address).
+pub fn serving<'a>(cmd: &'a mut Command, db: &Path) -> &'a mut Command {
+    cmd.args([
+        "serve",
+        "--db",
+        db.to_str().unwrap(),
+        "--addr",
+        "127.0.0.1:0",
+    ])
+}
+
 /// A running `lockpoint serve` (the real binary) on a database file, killed if a test fails
 /// before stopping it.
 pub struct Server {
@@ -376,15 +630,8 @@ impl Server {
 
     /// The same, with environment variables set for the server process.
     pub fn start_with_env(db: &Path, env: &[(&str, &Path)]) -> Self {
-        let mut child = Command::new(env!("CARGO_BIN_EXE_lockpoint"))
+        let mut child = serving(&mut lockpoint(), db)
             .envs(env.iter().copied())
-            .args([
-                "serve",
-                "--db",
-                db.to_str().unwrap(),
-                "--addr",
-                "127.0.0.1:0",
-            ])
             .stdout(Stdio::piped())
             .stderr(Stdio::null())
             .spawn()

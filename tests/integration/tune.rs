@@ -2,10 +2,10 @@
 //! recommendation, with bad input answered beside its field.
 
 use axum::http::StatusCode;
+use serde_json::json;
 
-use crate::support::{Client, Reply, TestApp};
+use crate::support::{TestApp, shop_settings};
 
-/// Records the setup the checks below start from: 1.5 turns, 24 g, nominal μ.
 /// The message shown beside the input `name` of a page.
 fn message_of(body: &str, name: &str) -> String {
     let start = body
@@ -16,67 +16,13 @@ fn message_of(body: &str, name: &str) -> String {
     text.to_string()
 }
 
-async fn set_up(client: &Client<'_>, build: &str) {
-    let r = client
-        .post(
-            &format!("{build}/setups"),
-            &[
-                ("changed_on", "2026-11-02"),
-                ("adjuster_turns", "1.5"),
-                ("counterweight_g", "24"),
-            ],
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-}
-
-/// Records a bench test of the six springs at 1.600 in: spring 1 with `first_free` (in) and
-/// `first_force` (lbf), the others 2.100 in free and 190 lbf.
-async fn bench_test(
-    client: &Client<'_>,
-    build: &str,
-    day: &str,
-    first_free: &str,
-    first_force: &str,
-) {
-    let mut form = vec![("tested_on", day), ("test_height", "1.600")];
-    let names: Vec<(String, String)> = (1..=6)
-        .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
-        .collect();
-    for (i, (free, force)) in names.iter().enumerate() {
-        form.push((free, if i == 0 { first_free } else { "2.100" }));
-        form.push((force, if i == 0 { first_force } else { "190" }));
-    }
-    let r = client.post(&format!("{build}/bench-tests"), &form).await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-}
-
-/// Changes one field of a stored build through the record API (GET, change, PUT).
-async fn edit_build(app: &TestApp, id: i64, field: &str, value: serde_json::Value) -> Reply {
-    let token = app.token("sam").await;
-    let t = Some(token.as_str());
-    let mut body = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
-        .await
-        .json();
-    body[field] = value;
-    let put = app
-        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
-        .await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
-    put
-}
-
 #[tokio::test]
 async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    set_up(&client, &build).await;
+    let (client, build) = app.set_up_build().await;
     let audit_before = app.count("audit_log").await;
 
-    let page = client.get(&format!("{build}/tune")).await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok(&format!("{build}/tune")).await;
     for text in [
         "Capacity and tuning",
         "Lockup speed",
@@ -89,12 +35,11 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     assert!(page.body.contains("715 lbf"));
 
     let tried = client
-        .get(&format!(
+        .get_ok(&format!(
             "{build}/tune?try=1&adjuster_turns=2&counterweight_g=30&mu="
         ))
         .await;
-    assert_eq!(tried.status, StatusCode::OK);
-    assert!(tried.body.contains("Trying"));
+    tried.assert_shows("Trying");
     assert!(
         tried.body.contains(
             "Save 2 turns, 30.0 g per lever, the facing&#39;s nominal μ as the new setup"
@@ -106,7 +51,7 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
             "{build}/tune?try=1&adjuster_turns=lots&counterweight_g=30"
         ))
         .await;
-    assert!(bad.body.contains("enter a number"));
+    bad.assert_shows("enter a number");
     let far = client
         .get(&format!("{build}/tune?recommend=1&target_lockup=20000"))
         .await;
@@ -130,7 +75,7 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
     let rec = client
         .get(&format!("{build}/tune?recommend=1&target_lockup=5600"))
         .await;
-    assert!(rec.body.contains("Recommended:"));
+    rec.assert_shows("Recommended:");
     assert_eq!(
         app.count("setup_changes").await,
         1,
@@ -145,20 +90,12 @@ async fn trying_and_recommending_settings_saves_nothing_and_names_bad_fields() {
 #[tokio::test]
 async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    set_up(&client, &build).await;
+    let (client, build) = app.set_up_build().await;
     let fresh = client.get(&format!("{build}/tune")).await;
-    assert!(fresh.body.contains("715 lbf"));
+    fresh.assert_shows("715 lbf");
     assert!(!fresh.body.contains("Wear since last shim"));
     for (day, height, passes) in [("2026-11-03", "1.905", "0"), ("2026-11-20", "1.908", "40")] {
-        let r = client
-            .post(
-                &format!("{build}/heights"),
-                &[("measured_on", day), ("height", height), ("passes", passes)],
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
+        client.record_height(&build, day, height, passes).await;
     }
     let worn = client.get(&format!("{build}/tune")).await;
     assert!(worn.body.contains("709 lbf"), "static clamp after wear");
@@ -168,10 +105,9 @@ async fn wear_since_the_last_shim_lowers_the_static_clamp_on_the_page() {
     );
     // A sheet printed now shows the same; sheets printed before keep their figures (see
     // sheets.rs, the reprint of an earlier sheet).
-    let made = client.post(&format!("{build}/sheets"), &[]).await;
-    assert_eq!(made.status, StatusCode::SEE_OTHER, "{}", made.body);
+    let made = client.post_saved(&format!("{build}/sheets"), &[]).await;
     let sheet = client.get(made.location()).await;
-    assert!(sheet.body.contains("<dt>Static clamp</dt><dd>709 lbf</dd>"));
+    sheet.assert_shows("<dt>Static clamp</dt><dd>709 lbf</dd>");
 }
 
 /// The lever body's own CG radius is stored with the build and refused beside a measured gain
@@ -181,24 +117,24 @@ async fn the_lever_body_radius_is_stored_used_and_checked() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    let put = edit_build(
-        &app,
-        id,
-        "lever_body_cg_radius_mm",
-        serde_json::json!(2.05 * 25.4),
-    )
-    .await;
+    let put = app
+        .edit_build(&build, "lever_body_cg_radius_mm", json!(2.05 * 25.4))
+        .await;
     let mut body = put.json();
     assert_eq!(body["lever_body_cg_radius_mm"], 2.05 * 25.4);
 
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    body["lever_gain_n_per_g"] = serde_json::json!(2.0);
+    body["lever_gain_n_per_g"] = json!(2.0);
     let refused = app
-        .api("PUT", &format!("/api/v1/builds/{id}"), t, Some(body))
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
+            "PUT",
+            &format!("/api/v1{build}"),
+            t,
+            Some(body),
+        )
         .await;
-    assert_eq!(refused.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(refused.json()["field"], "lever_body_cg_radius_mm");
 }
 
@@ -210,8 +146,7 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
     let app = TestApp::new().await;
     let client = app.login("sam").await;
     let build = client.record_build().await;
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    edit_build(&app, id, "disc_count", serde_json::json!(2)).await;
+    app.edit_build(&build, "disc_count", json!(2)).await;
     let margin = |page: &str| -> f64 {
         let at = page.find("Margin at the top").expect("figure shown");
         let cell = &page[at..];
@@ -220,23 +155,9 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
     };
     let full = margin(&client.get(&format!("{build}/tune")).await.body);
     let admin = app.login("boss").await;
-    let saved = admin
-        .post(
-            "/settings",
-            &[
-                ("name", "Test shop"),
-                ("units", "imperial"),
-                ("shown_units", "imperial"),
-                ("spring_spread_pct", "5"),
-                ("spring_sag_pct", "3"),
-                ("shimming_limit", "0.015"),
-                ("overclamp_factor", "1.5"),
-                ("due_within_passes", "10"),
-                ("extra_face_efficiency", "0.9"),
-            ],
-        )
-        .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    let mut settings = shop_settings("imperial", "imperial", "0.015", "").to_vec();
+    settings.push(("extra_face_efficiency", "0.9"));
+    admin.post_saved("/settings", &settings).await;
     let derated = margin(&client.get(&format!("{build}/tune")).await.body);
     assert!(
         (derated - full * 0.95).abs() <= 0.006,
@@ -254,14 +175,14 @@ async fn the_shop_share_for_extra_faces_derates_a_twin_disc() {
 #[tokio::test]
 async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    set_up(&client, &build).await;
+    let (client, build) = app.set_up_build().await;
     for (day, first_free, first_force) in [
         ("2026-11-03", "2.100", "190"),
         ("2026-11-25", "2.080", "182.4"),
     ] {
-        bench_test(&client, &build, day, first_free, first_force).await;
+        client
+            .record_bench_test(&build, day, first_free, first_force)
+            .await;
     }
     let page = client.get(&build).await;
     assert!(page.body.contains("▲ sagged 9.1 %"), "sag on load");
@@ -280,14 +201,8 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
     // With a solid height of 1.200 in the springs, installed at 1.880 in, bind after
     // (1.880 − 1.200) × 16 = 10.88 turns [D]; keeping the shop's 0.5 mm margin (issue 21, its
     // starting setting) the last turns are (0.680 − 0.5/25.4) × 16 = 10.565 turns [D].
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    edit_build(
-        &app,
-        id,
-        "spring_solid_height_mm",
-        serde_json::json!(1.2 * 25.4),
-    )
-    .await;
+    app.edit_build(&build, "spring_solid_height_mm", json!(1.2 * 25.4))
+        .await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(tune.body.contains("10.57 turns"), "coil bind shown");
     let past = client
@@ -296,7 +211,7 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
         ))
         .await;
     assert!(past.body.contains("reach solid height (coil bind)"));
-    assert!(past.body.contains("adjusters off to 10.57 turns or fewer"));
+    past.assert_shows("adjusters off to 10.57 turns or fewer");
 }
 
 /// Issue 26, item 8: a first bench test is judged on load at the installed length, against the
@@ -309,18 +224,18 @@ async fn a_spring_that_lost_free_length_is_sagged_and_clamps_less() {
 #[tokio::test]
 async fn a_first_bench_test_with_a_spring_low_on_load_flags_the_set() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    set_up(&client, &build).await;
+    let (client, build) = app.set_up_build().await;
     // Force at 1.600 in: 380 × (free − 1.600).
-    bench_test(&client, &build, "2026-11-03", "2.0912", "186.656").await;
+    client
+        .record_bench_test(&build, "2026-11-03", "2.0912", "186.656")
+        .await;
     let page = client.get(&build).await;
     assert!(
         !page.body.contains("set within tolerance"),
         "the rate spread alone no longer passes the set"
     );
-    assert!(page.body.contains("▲ 1 low on load against the set"));
-    assert!(page.body.contains("▲ 3.3 % below the set's load"));
+    page.assert_shows("▲ 1 low on load against the set");
+    page.assert_shows("▲ 3.3 % below the set's load");
     let counter = client.get("/").await;
     assert!(
         counter
@@ -349,9 +264,7 @@ fn lockup_times(html: &str) -> Vec<f64> {
 #[tokio::test]
 async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    set_up(&client, &build).await;
+    let (client, build) = app.set_up_build().await;
     let page = client.get(&format!("{build}/tune")).await;
     assert!(page.body.contains("Launch preview"));
     assert!(
@@ -366,8 +279,8 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
         .and_then(|s| s.split(['/', '"']).next())
         .expect("a link to the car")
         .to_string();
-    let saved = client
-        .post(
+    client
+        .post_saved(
             &format!("/cars/{car}"),
             &[
                 ("description", "two-door, 7.2 L V8, 4-speed"),
@@ -385,7 +298,6 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
             ],
         )
         .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
     let audit: String = sqlx::query_scalar(
         "SELECT after FROM audit_log WHERE table_name = 'cars' ORDER BY id DESC LIMIT 1",
     )
@@ -421,7 +333,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
     let both = lockup_times(&tried.body);
     assert_eq!(both.len(), 2, "current and trial side by side");
     assert!(both[1] < both[0], "{both:?}");
-    assert!(tried.body.contains("40.0 g per lever, launch 4500 rpm"));
+    tried.assert_shows("40.0 g per lever, launch 4500 rpm");
 
     // A launch speed alone is a what-if too, and an impossible one is named beside its input.
     let rpm_only = client
@@ -429,7 +341,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
             "{build}/tune?try=1&adjuster_turns=1.5&counterweight_g=24&mu=&launch_rpm=5000"
         ))
         .await;
-    assert!(rpm_only.body.contains("24.0 g per lever, launch 5000 rpm"));
+    rpm_only.assert_shows("24.0 g per lever, launch 5000 rpm");
     let bad = client
         .get(&format!(
             "{build}/tune?try=1&adjuster_turns=1.5&counterweight_g=24&mu=&launch_rpm=99999"
@@ -449,7 +361,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
         ))
         .await;
     assert!(found.body.contains("For the launch target"));
-    assert!(found.body.contains("launches simulated"));
+    found.assert_shows("launches simulated");
     let t = lockup_times(&found.body);
     assert_eq!(t.len(), 2);
     if found.body.contains("one gram more spins the tires") {
@@ -472,7 +384,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
     let e = slip_energies(&kept.body);
     assert!(e.len() == 2 && e[1] <= limit, "{e:?} within {limit}");
     let neither = client.get(&format!("{build}/tune?launch_target=1")).await;
-    assert!(neither.body.contains("id=\"target_lock_time-msg\""));
+    neither.assert_shows("id=\"target_lock_time-msg\"");
 }
 
 /// Issue 21, item 1 (safety wording): capacity at the 4500 rpm launch is above engine torque,
@@ -481,9 +393,7 @@ async fn the_launch_preview_runs_from_the_car_record_with_estimates_and_what_ifs
 #[tokio::test]
 async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_time() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    set_up(&client, &build).await;
+    let (client, build) = app.set_up_build().await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(
         tune.body.contains("so the clutch grabs hard"),
@@ -493,21 +403,20 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
     assert!(!tune.body.contains("not slip"));
     assert!(!tune.body.contains("The launch preview of this setting"));
 
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
     let token = app.token("sam").await;
     let t = Some(token.as_str());
     let b = app
-        .api("GET", &format!("/api/v1/builds/{id}"), t, None)
+        .api("GET", &format!("/api/v1{build}"), t, None)
         .await
         .json();
     let car = format!("/api/v1/cars/{}", b["car_id"]);
     let mut body = app.api("GET", &car, t, None).await.json();
-    body["weight_kg"] = serde_json::json!(1500.0);
-    body["first_gear_ratio"] = serde_json::json!(2.43);
-    body["final_drive_ratio"] = serde_json::json!(4.11);
-    body["tire_diameter_mm"] = serde_json::json!(711.2);
-    let put = app.api("PUT", &car, t, Some(body)).await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    body["weight_kg"] = json!(1500.0);
+    body["first_gear_ratio"] = json!(2.43);
+    body["final_drive_ratio"] = json!(4.11);
+    body["tire_diameter_mm"] = json!(711.2);
+    app.api_answers(StatusCode::OK, "PUT", &car, t, Some(body))
+        .await;
     let tune = client.get(&format!("{build}/tune")).await;
     let start = tune.body.find("so the clutch grabs hard").expect("warning");
     let item = &tune.body[start..start + tune.body[start..].find("</li>").expect("item")];
@@ -525,34 +434,14 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
 #[tokio::test]
 async fn release_travel_counts_in_the_coil_bind_figures() {
     let app = TestApp::new().await;
-    let client = app.login("sam").await;
-    let build = client.record_build().await;
-    set_up(&client, &build).await;
-    let mut form = vec![("tested_on", "2026-11-03"), ("test_height", "1.600")];
-    let names: Vec<(String, String)> = (1..=6)
-        .map(|i| (format!("free_length_{i}"), format!("force_{i}")))
-        .collect();
-    for (free, force) in &names {
-        form.push((free, "2.100"));
-        form.push((force, "190"));
-    }
-    let r = client.post(&format!("{build}/bench-tests"), &form).await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
-    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
-    edit_build(
-        &app,
-        id,
-        "spring_solid_height_mm",
-        serde_json::json!(1.2 * 25.4),
-    )
-    .await;
-    edit_build(
-        &app,
-        id,
-        "release_travel_mm",
-        serde_json::json!(0.05 * 25.4),
-    )
-    .await;
+    let (client, build) = app.set_up_build().await;
+    client
+        .record_bench_test(&build, "2026-11-03", "2.100", "190")
+        .await;
+    app.edit_build(&build, "spring_solid_height_mm", json!(1.2 * 25.4))
+        .await;
+    app.edit_build(&build, "release_travel_mm", json!(0.05 * 25.4))
+        .await;
     let tune = client.get(&format!("{build}/tune")).await;
     assert!(tune.body.contains("9.77 turns"), "margin kept at release");
     assert!(tune.body.contains("0.536 in"), "released clearance");
@@ -568,9 +457,8 @@ async fn the_launch_target_refuses_a_setting_that_bogs_the_engine() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
     let page = client
-        .get("/builds/1/tune?launch_target=1&target_lock_time=1.0&max_slip_energy=")
+        .get_ok("/builds/1/tune?launch_target=1&target_lock_time=1.0&max_slip_energy=")
         .await;
-    assert_eq!(page.status, StatusCode::OK);
     let target = page
         .body
         .split("For the launch target")
@@ -601,9 +489,8 @@ async fn a_run_that_ends_still_slipping_says_its_figures_are_so_far() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
     let page = client
-        .get("/builds/1/tune?try=1&adjuster_turns=0&counterweight_g=0&mu=")
+        .get_ok("/builds/1/tune?try=1&adjuster_turns=0&counterweight_g=0&mu=")
         .await;
-    assert_eq!(page.status, StatusCode::OK);
     let rows: Vec<&str> = page
         .body
         .split("<td>Slip energy</td><td class=\"num\">")
@@ -633,8 +520,7 @@ async fn a_run_that_ends_still_slipping_says_its_figures_are_so_far() {
 async fn the_preview_shows_the_recorded_sixty_feet_and_says_when_it_is_far_off() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
-    let page = client.get("/builds/1/tune").await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok("/builds/1/tune").await;
     let row = page
         .body
         .split("<td>60 ft</td><td class=\"num\">")
@@ -663,8 +549,7 @@ async fn the_preview_shows_the_recorded_sixty_feet_and_says_when_it_is_far_off()
 async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
-    let page = client.get("/builds/1/tune").await;
-    assert_eq!(page.status, StatusCode::OK);
+    let page = client.get_ok("/builds/1/tune").await;
     let start = page
         .body
         .find("By the whole launch")
@@ -700,8 +585,8 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
     );
 
     // 3700 rpm from a 4500 rpm launch: 17.8 % below [derived], typed without a log.
-    let r = client
-        .post(
+    client
+        .post_saved(
             "/builds/1/passes",
             &[
                 ("run_on", "2026-11-08"),
@@ -711,7 +596,6 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
             ],
         )
         .await;
-    assert_eq!(r.status, StatusCode::SEE_OTHER, "{}", r.body);
     let page = client.get("/builds/1/tune").await;
     assert!(
         page.body
@@ -729,9 +613,8 @@ async fn the_next_pass_needs_the_friction_against_heat_line() {
     let app = TestApp::demo().await;
     let client = app.login_demo().await;
     let page = client
-        .get("/builds/1/tune?next_pass=1&next_after_min=20")
+        .get_ok("/builds/1/tune?next_pass=1&next_after_min=20")
         .await;
-    assert_eq!(page.status, StatusCode::OK);
     let msg = message_of(&page.body, "next_after_min");
     assert!(
         msg.starts_with("needs the friction-against-heat line first"),

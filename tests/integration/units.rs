@@ -7,28 +7,7 @@
 use axum::http::StatusCode;
 use serde_json::json;
 
-use crate::support::{TestApp, id_from};
-
-/// The settings form as a shop admin fills it in: display units, the units the numbers on the
-/// form were shown in, the shimming limit (in those) and the time zone; the rest as shipped.
-fn settings<'a>(
-    units: &'a str,
-    shown: &'a str,
-    shimming_limit: &'a str,
-    zone: &'a str,
-) -> [(&'static str, &'a str); 9] {
-    [
-        ("name", "Test shop"),
-        ("units", units),
-        ("shown_units", shown),
-        ("spring_spread_pct", "5"),
-        ("spring_sag_pct", "3"),
-        ("shimming_limit", shimming_limit),
-        ("overclamp_factor", "1.5"),
-        ("due_within_passes", "10"),
-        ("time_zone", zone),
-    ]
-}
+use crate::support::{TestApp, id_from, shop_settings as settings};
 
 /// The number in "Please fix the N marked field(s)".
 fn announced(body: &str) -> usize {
@@ -69,7 +48,7 @@ async fn range_messages_quote_the_limits_in_the_shop_units() {
         .await;
     assert_eq!(weight.status, StatusCode::UNPROCESSABLE_ENTITY);
     // 200 kg = 440.92 lb, 5000 kg = 11 023.1 lb
-    assert!(weight.body.contains("must be between 441 and 11,023 lb"));
+    weight.assert_shows("must be between 441 and 11,023 lb");
     marks_match(&weight.body);
 
     let tire = client
@@ -82,7 +61,7 @@ async fn range_messages_quote_the_limits_in_the_shop_units() {
         )
         .await;
     // 300 mm = 11.811 in (rounded up: 11.812), 1500 mm = 59.055 in
-    assert!(tire.body.contains("must be between 11.812 and 59.055 in"));
+    tire.assert_shows("must be between 11.812 and 59.055 in");
 
     let id = id_from(&build);
     let od = client
@@ -98,11 +77,8 @@ async fn range_messages_quote_the_limits_in_the_shop_units() {
         )
         .await;
     // 400 mm = 15.748 in; 2000 N/mm = 11 420.2 lbf/in
-    assert!(od.body.contains("must be above 0 and at most 15.748 in"));
-    assert!(
-        od.body
-            .contains("must be above 0 and at most 11,420.2 lbf/in")
-    );
+    od.assert_shows("must be above 0 and at most 15.748 in");
+    od.assert_shows("must be above 0 and at most 11,420.2 lbf/in");
     marks_match(&od.body);
 
     let height = client
@@ -116,7 +92,7 @@ async fn range_messages_quote_the_limits_in_the_shop_units() {
         )
         .await;
     // 200 mm = 7.874 in
-    assert!(height.body.contains("must be above 0 and at most 7.874 in"));
+    height.assert_shows("must be above 0 and at most 7.874 in");
 
     let bench = client
         .post(
@@ -129,11 +105,7 @@ async fn range_messages_quote_the_limits_in_the_shop_units() {
         )
         .await;
     // 50 000 N = 11 240.4 lbf
-    assert!(
-        bench
-            .body
-            .contains("must be above 0 and at most 11,240 lbf")
-    );
+    bench.assert_shows("must be above 0 and at most 11,240 lbf");
 
     let admin = app.login("boss").await;
     let settings = admin
@@ -141,11 +113,7 @@ async fn range_messages_quote_the_limits_in_the_shop_units() {
         .await;
     assert_eq!(settings.status, StatusCode::UNPROCESSABLE_ENTITY);
     // 5 mm = 0.19685 in: rounded down so that the message offers nothing refused
-    assert!(
-        settings
-            .body
-            .contains("must be above 0 and at most 0.196 in")
-    );
+    settings.assert_shows("must be above 0 and at most 0.196 in");
 }
 
 #[tokio::test]
@@ -327,13 +295,13 @@ async fn a_bench_test_explains_heights_and_empty_rows() {
             &[("tested_on", "2026-11-01"), ("test_compression", "0.5")],
         )
         .await;
-    assert!(none.body.contains("enter at least one spring"));
+    none.assert_shows("enter at least one spring");
     assert_eq!(announced(&none.body), 1);
     marks_match(&none.body);
 
     // One spring tested is a bench test.
-    let one = client
-        .post(
+    client
+        .post_saved(
             &format!("/builds/{id}/bench-tests"),
             &[
                 ("tested_on", "2026-11-01"),
@@ -342,7 +310,6 @@ async fn a_bench_test_explains_heights_and_empty_rows() {
             ],
         )
         .await;
-    assert_eq!(one.status, StatusCode::SEE_OTHER, "{}", one.body);
     let position: i64 = sqlx::query_scalar("SELECT position FROM bench_springs")
         .fetch_one(&app.pool)
         .await
@@ -356,13 +323,12 @@ async fn today_is_the_shops_own_date_and_later_dates_are_refused() {
     let admin = app.login("boss").await;
     // UTC+14 all year (IANA tz database): its date is ahead of UTC for most of the day.
     let zone = "Pacific/Kiritimati";
-    let saved = admin
-        .post(
+    admin
+        .post_saved(
             "/settings",
             &settings("imperial", "imperial", "0.015", zone),
         )
         .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
     let expected = jiff::Timestamp::now()
         .to_zoned(jiff::tz::TimeZone::get(zone).unwrap())
         .date()
@@ -398,7 +364,7 @@ async fn today_is_the_shops_own_date_and_later_dates_are_refused() {
         )
         .await;
     assert_eq!(bad_zone.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(bad_zone.body.contains("is not a time zone name"));
+    bad_zone.assert_shows("is not a time zone name");
 }
 
 #[tokio::test]
@@ -412,7 +378,7 @@ async fn forms_the_record_api_and_the_calculation_api_share_one_limit() {
             &[("changed_on", "2026-11-01"), ("adjuster_turns", "21")],
         )
         .await;
-    assert!(form.body.contains("must be between 0 and 20 turns"));
+    form.assert_shows("must be between 0 and 20 turns");
 
     let token = app.token("sam").await;
     let api = app

@@ -265,7 +265,7 @@ async fn a_limit_typed_in_inches_survives_a_metric_save() {
         .await
         .unwrap();
     let page = client.get("/settings").await;
-    assert!(page.body.contains("name=\"shimming_limit\" value=\"0.38\""));
+    page.assert_shows("name=\"shimming_limit\" value=\"0.38\"");
     save_untouched(&client, "/settings", "/settings").await;
     assert_eq!(settings_row(&app).await[2], 0.015 * 25.4);
     let mut pairs = form_pairs(&client.get("/settings").await.body, "/settings");

@@ -20,33 +20,19 @@ fn due_section(front: &str) -> &str {
 async fn build_with_stack(app: &TestApp) -> (i64, String) {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            t,
-            Some(json!({"name": "Ines Halvorsen", "phone": "555-0177"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             t,
-            Some(json!({"description": "two-door, 6.4 L V8, 4-speed"})),
+            json!({"name": "Ines Halvorsen", "phone": "555-0177"}),
+            json!({"description": "two-door, 6.4 L V8, 4-speed"}),
         )
-        .await
-        .json();
+        .await;
     let inch = |v: f64| v * 25.4;
-    let b = app
-        .api("POST", &format!("/api/v1/cars/{}/builds", car["id"]), t,
+    let b = app.api_answers(StatusCode::CREATED, "POST", &format!("/api/v1/cars/{}/builds", car["id"]), t,
             Some(json!({"disc_count": 1, "facing_material": "organic", "facing_od_mm": inch(10.4), "facing_id_mm": inch(6.6),
                         "disc_thickness_new_mm": inch(0.300), "disc_thickness_min_mm": inch(0.240),
                         "spring_count": 6, "spring_rate_n_per_mm": 68.3,
-                        "shim_stack_mm": [inch(0.010), inch(0.010), inch(0.020)], "shimming_limit_mm": inch(0.015)})))
-        .await;
-    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
+                        "shim_stack_mm": [inch(0.010), inch(0.010), inch(0.020)], "shimming_limit_mm": inch(0.015)}))).await;
     (b.json()["id"].as_i64().unwrap(), token)
 }
 
@@ -121,11 +107,8 @@ async fn running_out_of_shims_makes_the_disc_due_and_a_new_disc_starts_a_new_bas
         (130, 1.915, 3),
         (170, 1.931, 3),
     ] {
-        let r = app
-            .api("POST", &format!("/api/v1/builds/{id}/measurements"), t,
-                Some(json!({"measured_on": "2026-11-10", "height_mm": inch(h), "passes": passes, "shims_pulled": pulled})))
-            .await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        app.api_answers(StatusCode::CREATED, "POST", &format!("/api/v1/builds/{id}/measurements"), t,
+                Some(json!({"measured_on": "2026-11-10", "height_mm": inch(h), "passes": passes, "shims_pulled": pulled}))).await;
     }
     let w = app
         .api("GET", &format!("/api/v1/builds/{id}/wear"), t, None)
@@ -138,8 +121,8 @@ async fn running_out_of_shims_makes_the_disc_due_and_a_new_disc_starts_a_new_bas
     assert!(due_section(&client.get("/").await.body).contains("Disc at its wear limit"));
 
     // New disc, full stack: a new baseline; the old measurements stay on the page.
-    let fresh = client
-        .post(
+    client
+        .post_saved(
             &format!("/builds/{id}/heights"),
             &[
                 ("measured_on", "2026-11-20"),
@@ -150,7 +133,6 @@ async fn running_out_of_shims_makes_the_disc_due_and_a_new_disc_starts_a_new_bas
             ],
         )
         .await;
-    assert_eq!(fresh.status, StatusCode::SEE_OTHER, "{}", fresh.body);
     let w = app
         .api("GET", &format!("/api/v1/builds/{id}/wear"), t, None)
         .await
@@ -177,34 +159,32 @@ async fn an_older_measurement_can_be_corrected_between_its_neighbours() {
         ids.push(r.json()["id"].as_i64().unwrap());
     }
     let fix = |passes: i64| json!({"measured_on": "2026-11-10", "height_mm": 48.6, "passes": passes, "shims_pulled": 0});
-    let ok = app
-        .api(
-            "PUT",
-            &format!("/api/v1/measurements/{}", ids[1]),
-            t,
-            Some(fix(50)),
-        )
-        .await;
-    assert_eq!(ok.status, StatusCode::OK, "{}", ok.body);
+    app.api_answers(
+        StatusCode::OK,
+        "PUT",
+        &format!("/api/v1/measurements/{}", ids[1]),
+        t,
+        Some(fix(50)),
+    )
+    .await;
     let past_next = app
-        .api(
+        .api_answers(
+            StatusCode::UNPROCESSABLE_ENTITY,
             "PUT",
             &format!("/api/v1/measurements/{}", ids[1]),
             t,
             Some(fix(90)),
         )
         .await;
-    assert_eq!(past_next.status, StatusCode::UNPROCESSABLE_ENTITY);
     assert_eq!(past_next.json()["field"], "passes");
-    let before_prev = app
-        .api(
-            "PUT",
-            &format!("/api/v1/measurements/{}", ids[2]),
-            t,
-            Some(fix(20)),
-        )
-        .await;
-    assert_eq!(before_prev.status, StatusCode::UNPROCESSABLE_ENTITY);
+    app.api_answers(
+        StatusCode::UNPROCESSABLE_ENTITY,
+        "PUT",
+        &format!("/api/v1/measurements/{}", ids[2]),
+        t,
+        Some(fix(20)),
+    )
+    .await;
 }
 
 #[tokio::test]
@@ -220,15 +200,14 @@ async fn a_twin_disc_pack_has_twice_the_single_disc_allowance() {
         .await
         .json();
     build["disc_thickness_min_mm"] = json!(inch(0.280)); // 0.020 in per disc
-    let put = app
-        .api(
-            "PUT",
-            &format!("/api/v1/builds/{id}"),
-            t,
-            Some(build.clone()),
-        )
-        .await;
-    assert_eq!(put.status, StatusCode::OK, "{}", put.body);
+    app.api_answers(
+        StatusCode::OK,
+        "PUT",
+        &format!("/api/v1/builds/{id}"),
+        t,
+        Some(build.clone()),
+    )
+    .await;
     // Total wear 0.009 in growth + 0.010 + 0.010 in of shims pulled = 0.029 in.
     for (passes, h, pulled) in [
         (0, 1.905, 0),
@@ -270,28 +249,18 @@ async fn a_twin_disc_pack_has_twice_the_single_disc_allowance() {
 async fn energy_build(app: &TestApp) -> (i64, i64, String) {
     let token = app.token("sam").await;
     let t = Some(token.as_str());
-    let c = app
-        .api(
-            "POST",
-            "/api/v1/customers",
-            t,
-            Some(json!({"name": "Oren Vasquez-Lind"})),
-        )
-        .await
-        .json();
     let car = app
-        .api(
-            "POST",
-            &format!("/api/v1/customers/{}/cars", c["id"]),
+        .api_car(
             t,
-            Some(json!({"description": "two-door, 7.0 L V8, 4-speed",
-                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]})),
+            json!({"name": "Oren Vasquez-Lind"}),
+            json!({"description": "two-door, 7.0 L V8, 4-speed",
+                        "torque_curve_nm": [[3000, 700], [5000, 700], [7000, 700]]}),
         )
-        .await
-        .json();
+        .await;
     let car_id = car["id"].as_i64().unwrap_or(0);
     let b = app
-        .api(
+        .api_answers(
+            StatusCode::CREATED,
             "POST",
             &format!("/api/v1/cars/{car_id}/builds"),
             t,
@@ -304,13 +273,12 @@ async fn energy_build(app: &TestApp) -> (i64, i64, String) {
             ),
         )
         .await;
-    assert_eq!(b.status, StatusCode::CREATED, "{}", b.body);
     let id = b.json()["id"].as_i64().unwrap_or(0);
     let post = |path: String, body: serde_json::Value| {
         let app = &app;
         async move {
-            let r = app.api("POST", &path, t, Some(body)).await;
-            assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+            app.api_answers(StatusCode::CREATED, "POST", &path, t, Some(body))
+                .await;
         }
     };
     post(
@@ -373,8 +341,7 @@ async fn the_stored_builds_wear_is_also_read_per_unit_of_slip_energy() {
     let wear = || {
         let (app, path) = (&app, format!("/api/v1/builds/{id}/wear"));
         async move {
-            let r = app.api("GET", &path, t, None).await;
-            assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+            let r = app.api_answers(StatusCode::OK, "GET", &path, t, None).await;
             r.json()
         }
     };
@@ -387,15 +354,14 @@ async fn the_stored_builds_wear_is_also_read_per_unit_of_slip_energy() {
         "the per-pass forecast stays: {unknown}"
     );
 
-    let r = app
-        .api(
-            "PUT",
-            &format!("/api/v1/cars/{car_id}"),
-            t,
-            Some(launch_car()),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    app.api_answers(
+        StatusCode::OK,
+        "PUT",
+        &format!("/api/v1/cars/{car_id}"),
+        t,
+        Some(launch_car()),
+    )
+    .await;
     let known = wear().await;
     assert_eq!(known["wear_per_mj_n"], 2, "{known}");
     let per_mj = known["wear_per_mj"].as_f64().unwrap_or(f64::NAN);
@@ -520,8 +486,7 @@ async fn the_build_page_shows_the_forecast_by_slip_energy_the_api_gives_on_the_d
             continue;
         }
         let api = api.json();
-        let page = client.get(&format!("/builds/{id}")).await;
-        assert_eq!(page.status, StatusCode::OK);
+        let page = client.get_ok(&format!("/builds/{id}")).await;
         let line = energy_line(&page.body);
         if api["wear_per_mj"].is_number() {
             assert_page_matches_api(&line, &api);
@@ -618,15 +583,14 @@ async fn a_setting_taking_more_energy_per_pass_shows_a_proportionally_shorter_fo
         page.body.contains("Wear forecasts are estimates"),
         "the caution is shown"
     );
-    let r = app
-        .api(
-            "PUT",
-            &format!("/api/v1/cars/{car_id}"),
-            t,
-            Some(launch_car()),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    app.api_answers(
+        StatusCode::OK,
+        "PUT",
+        &format!("/api/v1/cars/{car_id}"),
+        t,
+        Some(launch_car()),
+    )
+    .await;
     let read = || {
         let (app, client) = (&app, &client);
         async move {
@@ -651,16 +615,15 @@ async fn a_setting_taking_more_energy_per_pass_shows_a_proportionally_shorter_fo
     let (line, n) = counter_line(&client, "Oren Vasquez-Lind").await;
     assert_counter_matches_api(&line, n, &first_api);
     // More counterweight: more clamp at speed, a shorter slip, less energy per pass.
-    let r = app
-        .api(
-            "POST",
-            &format!("/api/v1/builds/{id}/setups"),
-            t,
-            Some(json!({"changed_on": "2026-09-25", "adjuster_turns": 0.0,
+    app.api_answers(
+        StatusCode::CREATED,
+        "POST",
+        &format!("/api/v1/builds/{id}/setups"),
+        t,
+        Some(json!({"changed_on": "2026-09-25", "adjuster_turns": 0.0,
                         "counterweight_g": COUNTERWEIGHT_HALF_ENERGY_G, "mu": 0.30})),
-        )
-        .await;
-    assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    )
+    .await;
     let (second, second_api) = read().await;
     let (line, n2_counter) = counter_line(&client, "Oren Vasquez-Lind").await;
     assert_counter_matches_api(&line, n2_counter, &second_api);

@@ -7,7 +7,7 @@ use std::process::{Command, Stdio};
 
 use axum::http::{StatusCode, header};
 
-use crate::support::{Client, Reply, TempDb, TestApp, id_from};
+use crate::support::{Client, Reply, TempDb, TestApp, id_from, shop_settings};
 
 /// The flash cookie a redirect set, as `name=value` (None when it set none).
 fn flash_cookie(reply: &Reply) -> Option<String> {
@@ -82,13 +82,7 @@ async fn a_save_on_the_build_page_redirects_and_says_once_what_changed() {
     assert_eq!(first.status, StatusCode::SEE_OTHER);
     assert!(first.location().starts_with(&build), "{}", first.location());
     let shown = client.follow(&first).await;
-    assert!(
-        shown
-            .body
-            .contains("Saved: the first setup, 2024-05-01: Adjuster turns 1.5 turns"),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: the first setup, 2024-05-01: Adjuster turns 1.5 turns");
     // Shown once: the page clears the note's cookie, and a page without it says nothing.
     let cleared = shown
         .headers
@@ -104,13 +98,7 @@ async fn a_save_on_the_build_page_redirects_and_says_once_what_changed() {
     // A change names what changed, and only that.
     let second = setup(&client, &build, "1.75", "24").await;
     let shown = client.follow(&second).await;
-    assert!(
-        shown
-            .body
-            .contains("Adjuster turns: 1.5 turns → 1.75 turns"),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Adjuster turns: 1.5 turns → 1.75 turns");
     let note = shown.body.split("class=\"saved\"").nth(1).unwrap();
     let note = note.split("</p>").next().unwrap();
     assert!(!note.contains("Counterweight"), "{note}");
@@ -128,13 +116,7 @@ async fn a_save_on_the_build_page_redirects_and_says_once_what_changed() {
         )
         .await;
     let shown = client.follow(&cover).await;
-    assert!(
-        shown
-            .body
-            .contains("Saved: cover height of 2024-05-02: Cover height 1.905 in"),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: cover height of 2024-05-02: Cover height 1.905 in");
 }
 
 #[tokio::test]
@@ -230,7 +212,7 @@ async fn a_retired_build_shows_no_entry_forms_and_says_retired_once() {
         )
         .await;
     assert_eq!(late.status, StatusCode::FORBIDDEN, "{}", late.body);
-    assert!(late.body.contains("retired"), "{}", late.body);
+    late.assert_shows("retired");
     assert_eq!(app.count("passes").await, passes);
 
     // The demo shop's retired build does not put the word in its label.
@@ -252,23 +234,14 @@ async fn logged_passes_advance_the_disc_pass_count_and_the_shim_pull_takes_its_d
     let client = app.login("sam").await;
     let build = client.record_build().await;
     let id = id_from(&build);
-    let measured = client
-        .post(
-            &format!("{build}/heights"),
-            &[
-                ("measured_on", "2024-05-01"),
-                ("height", "1.905"),
-                ("passes", "10"),
-            ],
-        )
+    client
+        .record_height(&build, "2024-05-01", "1.905", "10")
         .await;
-    assert_eq!(measured.status, StatusCode::SEE_OTHER);
     // One pass the day before the measurement (already in its count), three after.
     for day in ["2024-04-30", "2024-05-02", "2024-05-03", "2024-05-03"] {
-        let pass = client
-            .post(&format!("{build}/passes"), &[("run_on", day)])
+        client
+            .post_saved(&format!("{build}/passes"), &[("run_on", day)])
             .await;
-        assert_eq!(pass.status, StatusCode::SEE_OTHER, "{}", pass.body);
     }
     let page = client.get(&build).await.body;
     assert_eq!(input_value(&page, "id=\"shim-pull\"", "passes"), "13");
@@ -287,8 +260,8 @@ async fn logged_passes_advance_the_disc_pass_count_and_the_shim_pull_takes_its_d
             "{field} is typed, not hidden"
         );
     }
-    let pulled = client
-        .post(
+    client
+        .post_saved(
             &format!("{build}/heights"),
             &[
                 ("measured_on", "2024-05-04"),
@@ -298,7 +271,6 @@ async fn logged_passes_advance_the_disc_pass_count_and_the_shim_pull_takes_its_d
             ],
         )
         .await;
-    assert_eq!(pulled.status, StatusCode::SEE_OTHER, "{}", pulled.body);
     let (on, passes, shims): (String, i64, i64) = sqlx::query_as(
         "SELECT measured_on, passes, shims_pulled FROM cover_heights
          WHERE build_id = ? ORDER BY id DESC LIMIT 1",
@@ -327,20 +299,15 @@ async fn a_customer_link_is_made_by_a_post_that_redirects_so_a_refresh_makes_no_
     let client = app.login("sam").await;
     let sheet = sheet(&client).await;
     let made = client
-        .post(&format!("{sheet}/links"), &[("valid_days", "14")])
+        .post_saved(&format!("{sheet}/links"), &[("valid_days", "14")])
         .await;
-    assert_eq!(made.status, StatusCode::SEE_OTHER);
     assert_eq!(made.location(), sheet);
     assert!(
         !made.body.contains("/s/"),
         "the secret is not in the POST's answer"
     );
     let shown = client.follow(&made).await;
-    assert!(
-        shown
-            .body
-            .contains("class=\"link-address\" id=\"new-link\"")
-    );
+    shown.assert_shows("class=\"link-address\" id=\"new-link\"");
     assert!(
         shown.body.contains("data-copy=\"new-link\""),
         "a copy button"
@@ -389,18 +356,8 @@ async fn an_expired_or_withdrawn_link_names_the_shop_and_its_phone() {
         .unwrap();
     let client = app.login("sam").await;
     let sheet = sheet(&client).await;
-    let made = client
-        .follow(
-            &client
-                .post(&format!("{sheet}/links"), &[("valid_days", "14")])
-                .await,
-        )
-        .await;
-    let start = made.body.find("/s/").unwrap();
-    let link: String = made.body[start..]
-        .chars()
-        .take_while(|c| *c != '<')
-        .collect();
+    let made = client.new_link(&sheet, "14").await;
+    let link = crate::support::link_in(&made.body);
     sqlx::query("UPDATE sheet_links SET revoked_at = '2024-01-01T00:00:00Z'")
         .execute(&app.pool)
         .await
@@ -426,13 +383,7 @@ async fn search_results_link_each_active_build_with_its_work_due_status() {
     let build = client.record_build().await;
     // Growth 0.020 in past the build's 0.015 in shimming limit: a shim is due.
     for (on, height, passes) in [("2024-05-01", "1.905", "0"), ("2024-06-01", "1.925", "40")] {
-        let saved = client
-            .post(
-                &format!("{build}/heights"),
-                &[("measured_on", on), ("height", height), ("passes", passes)],
-            )
-            .await;
-        assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+        client.record_height(&build, on, height, passes).await;
     }
     for page in ["/?q=5550101", "/customers?q=Lindqvist", "/customers?q=li"] {
         let body = client.get(page).await.body;
@@ -460,8 +411,7 @@ async fn the_customer_list_sorts_by_last_name() {
         "Mary Ann Brook",
         "Carl Zimmer",
     ] {
-        let saved = client.post("/customers", &[("name", name)]).await;
-        assert_eq!(saved.status, StatusCode::SEE_OTHER);
+        client.post_saved("/customers", &[("name", name)]).await;
     }
     let order = |body: &str, names: &[&str]| -> Vec<usize> {
         names.iter().map(|n| body.find(n).unwrap()).collect()
@@ -589,17 +539,9 @@ async fn the_shop_email_is_checked_like_a_customer_email() {
     let app = TestApp::new().await;
     let boss = app.login("boss").await;
     let settings = |email: &'static str| {
-        vec![
-            ("name", "Millbrook Clutch Works"),
-            ("phone", "555-0199"),
-            ("email", email),
-            ("units", "imperial"),
-            ("spring_spread_pct", "5"),
-            ("spring_sag_pct", "3"),
-            ("shimming_limit", "0.015"),
-            ("overclamp_factor", "1.5"),
-            ("due_within_passes", "10"),
-        ]
+        let mut form = shop_settings("imperial", "imperial", "0.015", "").to_vec();
+        form.push(("email", email));
+        form
     };
     let customer = boss
         .post(
@@ -619,10 +561,8 @@ async fn the_shop_email_is_checked_like_a_customer_email() {
     };
     assert!(!message(&shop.body).is_empty(), "{}", shop.body);
     assert_eq!(message(&shop.body), message(&customer.body));
-    let saved = boss
-        .post("/settings", &settings("counter@millbrook.example"))
+    boss.post_saved("/settings", &settings("counter@millbrook.example"))
         .await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
 }
 
 /// Rates from force / compression at one test compression, so the change is the forces' ratio:
@@ -638,8 +578,9 @@ async fn the_bench_table_shows_each_springs_change_since_its_last_test_or_a_dash
         for name in &names {
             form.push((name.as_str(), force));
         }
-        let saved = client.post(&format!("{build}/bench-tests"), &form).await;
-        assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+        client
+            .post_saved(&format!("{build}/bench-tests"), &form)
+            .await;
     }
     let page = client.get(&build).await.body;
     let bench = page.split("id=\"bench\"").nth(1).unwrap();
@@ -698,10 +639,9 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
     assert!(page.contains("The latest 20 of 125 passes."));
     assert!(page.contains(&format!("href=\"/builds/{id}/passes\"")));
 
-    let all = client.get(&format!("/builds/{id}/passes")).await;
-    assert_eq!(all.status, StatusCode::OK);
+    let all = client.get_ok(&format!("/builds/{id}/passes")).await;
     assert_eq!(all.body.matches("<td>Strip ").count(), 100, "a page of 100");
-    assert!(all.body.contains("Page 1 of 2"));
+    all.assert_shows("Page 1 of 2");
     let older = client
         .get(&format!("/builds/{id}/passes?page=1"))
         .await
@@ -711,9 +651,8 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
         older.contains("<td>Strip 0</td>"),
         "the oldest on the last page"
     );
-    let heights = client.get(&format!("/builds/{id}/heights")).await;
-    assert_eq!(heights.status, StatusCode::OK);
-    assert!(heights.body.contains("No cover heights recorded yet."));
+    let heights = client.get_ok(&format!("/builds/{id}/heights")).await;
+    heights.assert_shows("No cover heights recorded yet.");
     assert_eq!(
         client.get("/builds/999999/passes").await.status,
         StatusCode::NOT_FOUND
@@ -744,13 +683,7 @@ async fn customer_and_car_saves_say_once_what_changed() {
         )
         .await;
     let shown = client.follow(&edited).await;
-    assert!(
-        shown
-            .body
-            .contains("Saved: the customer: Phone: 555-0177 → 555-0178."),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: the customer: Phone: 555-0177 → 555-0178.");
     assert!(!client.get(edited.location()).await.body.contains("Saved:"));
 
     let car = client
@@ -767,9 +700,5 @@ async fn customer_and_car_saves_say_once_what_changed() {
         )
         .await;
     let shown = client.follow(&again).await;
-    assert!(
-        shown.body.contains("Saved: the car, nothing changed."),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: the car, nothing changed.");
 }

@@ -14,29 +14,20 @@
 # Needs wrk (apt-get install wrk), curl, python3 and sqlite3. Usage: tests/load/abuse.sh [seconds]
 set -euo pipefail
 cd "$(dirname "$0")/../.."
+source tests/load/common.sh
 SECS=${1:-30}
-for tool in wrk curl python3 sqlite3; do
-  command -v "$tool" >/dev/null || { echo "$tool is not installed" >&2; exit 1; }
-done
+need wrk curl python3 sqlite3
 
 cargo build --release --quiet
 WORK=$(mktemp -d)
 DB="$WORK/abuse.db"
 SERVER=
-start_server() {
-  : > "$WORK/serve.out"
-  (ulimit -n 256; exec ./target/release/lockpoint serve --demo --db "$DB" --addr 127.0.0.1:0) \
-    > "$WORK/serve.out" 2>> "$WORK/serve.err" &
-  SERVER=$!
-  for _ in $(seq 50); do grep -q '^listening on' "$WORK/serve.out" 2>/dev/null && break; sleep 0.2; done
-  BASE=$(sed -n 's/^listening on //p' "$WORK/serve.out")
-}
+start_server() { OPEN_FILES=256 WAIT_TRIES=50 serve_in_background "$DB" --demo; }
 trap '[ -n "$SERVER" ] && kill -9 $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
 start_server
 
-curl -s -c "$WORK/jar" -o /dev/null -d 'username=demo&password=lockpoint-demo' "$BASE/login"
-COOKIE="lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
-TOKEN=$(./target/release/lockpoint token create demo --db "$DB")
+COOKIE=$(session_cookie demo lockpoint-demo)
+TOKEN=$("$LOCKPOINT" token create demo --db "$DB")
 PASS='{"run_on": "2026-11-20", "track": "Abuse strip", "launch_rpm": 4500, "sixty_ft_s": 1.4, "et_s": 10.9}'
 # Counts answers by status class (wrk's own summary lumps 4xx and 5xx together).
 cat > "$WORK/count.lua" <<'LUA'
@@ -152,6 +143,4 @@ done
 sort -k2 -n "$WORK/times.txt" | awk '{t[NR] = $2; if ($1 != 201) bad++} END {printf "100 writes during the purge: median %.1f ms, p99 %.1f ms, max %.1f ms, not 201: %d\n", t[50] * 1000, t[99] * 1000, t[NR] * 1000, bad + 0}'
 echo "rows after 100 writes (the purge goes on in batches of 500): $(sqlite3 "$DB" 'SELECT COUNT(*) FROM login_throttle')"
 kill -TERM $SERVER; wait $SERVER || true; SERVER=
-if grep -qi 'database is locked\|panicked' "$WORK/serve.err"; then
-  echo "server log shows lock errors or panics" >&2; exit 1
-fi
+server_log_clean

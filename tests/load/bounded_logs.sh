@@ -11,6 +11,7 @@
 # Needs curl and python3. Usage: tests/load/bounded_logs.sh
 set -euo pipefail
 cd "$(dirname "$0")/../.."
+source tests/load/common.sh
 cargo build --release --quiet
 WORK=$(mktemp -d)
 SERVER=
@@ -18,13 +19,8 @@ trap '[ -n "$SERVER" ] && kill -9 $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
 start_server() {
   [ -n "$SERVER" ] && { kill $SERVER; wait $SERVER 2>/dev/null || true; }
   rm -f "$WORK"/logs.db*
-  : > "$WORK/serve.out"
-  ./target/release/lockpoint serve --demo --db "$WORK/logs.db" --addr 127.0.0.1:0 \
-    > "$WORK/serve.out" 2>> "$WORK/serve.err" &
-  SERVER=$!
-  for _ in $(seq 100); do grep -q '^listening on' "$WORK/serve.out" 2>/dev/null && break; sleep 0.2; done
-  BASE=$(sed -n 's/^listening on //p' "$WORK/serve.out")
-  TOKEN=$(./target/release/lockpoint token create demo --db "$WORK/logs.db")
+  serve_in_background "$WORK/logs.db" --demo
+  TOKEN=$("$LOCKPOINT" token create demo --db "$WORK/logs.db")
 }
 hwm() { awk '/^VmHWM/ {printf "%.0f", $2 / 1024}' "/proc/$SERVER/status"; }
 
@@ -92,8 +88,7 @@ wait "${PIDS[@]}"
 echo "statuses: $(cat "$WORK"/s1 "$WORK"/s2 "$WORK"/s3 | sort | tr '\n' ' ')  retry-after: $(grep -ih '^retry-after' "$WORK"/h1 "$WORK"/h2 "$WORK"/h3 | tr -d '\r' | tr '\n' ' ')"
 
 echo "== the pass page asked for with 50 raw query strings"
-curl -s -c "$WORK/jar" -o /dev/null -d 'username=demo&password=lockpoint-demo' "$BASE/login"
-COOKIE="lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
+COOKIE=$(session_cookie demo lockpoint-demo)
 PASS=$(sqlite3 "$WORK/logs.db" 'SELECT pass_id FROM pass_logs LIMIT 1')
 for n in $(seq 50); do
   curl -s -o /dev/null -w '%{http_code} %{time_total}\n' -H "Cookie: $COOKIE" "$BASE/passes/$PASS?compare=2&n=$n"

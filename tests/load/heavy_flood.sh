@@ -6,19 +6,16 @@
 # Needs wrk (apt-get install wrk) and curl. Usage: tests/load/heavy_flood.sh [seconds]
 set -euo pipefail
 cd "$(dirname "$0")/../.."
+source tests/load/common.sh
 SECS=${1:-20}
-command -v wrk >/dev/null || { echo "wrk is not installed (apt-get install wrk)" >&2; exit 1; }
+need wrk
 cargo build --release --quiet
 WORK=$(mktemp -d)
-./target/release/lockpoint serve --demo --db "$WORK/flood.db" --addr 127.0.0.1:0 \
-  > "$WORK/serve.out" 2> "$WORK/serve.err" &
-SERVER=$!
-trap 'kill $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
-for _ in $(seq 100); do grep -q '^listening on' "$WORK/serve.out" 2>/dev/null && break; sleep 0.2; done
-BASE=$(sed -n 's/^listening on //p' "$WORK/serve.out")
-curl -s -c "$WORK/jar" -o /dev/null -d 'username=demo&password=lockpoint-demo' "$BASE/login"
-COOKIE="lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
-TOKEN=$(./target/release/lockpoint token create demo --db "$WORK/flood.db")
+SERVER=
+trap '[ -n "$SERVER" ] && kill $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
+serve_in_background "$WORK/flood.db" --demo
+COOKIE=$(session_cookie demo lockpoint-demo)
+TOKEN=$("$LOCKPOINT" token create demo --db "$WORK/flood.db")
 MU=$(python3 -c 'print(",".join(f"[{20 + 10 * i}, {0.40 - 0.002 * i:.3f}]" for i in range(50)))')
 BODY='{"units": "metric",
   "disc": {"outer_diameter": 240, "inner_diameter": 160, "count": 3},

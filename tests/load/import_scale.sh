@@ -10,17 +10,13 @@
 # Needs /usr/bin/time (Debian package `time`). Usage: tests/load/import_scale.sh [seed]
 set -euo pipefail
 cd "$(dirname "$0")/../.."
+source tests/load/common.sh
 SEED=${1:-13}
 [ -x /usr/bin/time ] || { echo "/usr/bin/time is not installed (apt-get install time)" >&2; exit 1; }
 
 cargo build --release --quiet --example scale --bin lockpoint
-mkdir -p target/load
 DOC="target/load/scale-$SEED.json"
-if [ ! -f "$DOC" ]; then
-  rm -f "$DOC.tmp"
-  ./target/release/examples/scale --json "$DOC.tmp" --seed "$SEED"
-  mv "$DOC.tmp" "$DOC"
-fi
+scale_shop --json "$DOC" "$SEED"
 WORK=$(mktemp -d -p target/load import-scale.XXXXXX)
 trap 'rm -rf "$WORK"' EXIT
 
@@ -36,15 +32,15 @@ measure() {
 }
 
 echo "document: $DOC ($(du -m "$DOC" | cut -f1) MB), $(nproc) cores"
-read -r ISECS ICPU IMB < <(measure ./target/release/lockpoint import "$DOC" --db "$WORK/imported.db")
+read -r ISECS ICPU IMB < <(measure "$LOCKPOINT" import "$DOC" --db "$WORK/imported.db")
 cat "$WORK/out"
 STALE="? (no sqlite3)"
 if command -v sqlite3 >/dev/null; then
   STALE=$(sqlite3 "$WORK/imported.db" \
     "SELECT (SELECT COUNT(*) FROM builds) - (SELECT COUNT(*) FROM build_status WHERE stale = 0)")
 fi
-./target/release/examples/scale --check-due "$WORK/imported.db"
-read -r ESECS ECPU EMB < <(measure ./target/release/lockpoint export "$WORK/export" --db "$WORK/imported.db")
+"$SCALE" --check-due "$WORK/imported.db"
+read -r ESECS ECPU EMB < <(measure "$LOCKPOINT" export "$WORK/export" --db "$WORK/imported.db")
 cat "$WORK/out"
 
 printf '| %-42s | %8s | %8s | %14s |\n' "command" "elapsed" "CPU" "peak resident"

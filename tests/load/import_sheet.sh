@@ -17,7 +17,7 @@ elif [ "$PROFILE" = release ]; then
 else
   cargo build --quiet --bin lockpoint
 fi
-BIN=./target/$PROFILE/lockpoint
+BIN=${CARGO_TARGET_DIR:-target}/$PROFILE/lockpoint
 mkdir -p target/load
 WORK=$(mktemp -d -p target/load import-sheet.XXXXXX)
 PID=

@@ -10,7 +10,7 @@ cd "$(dirname "$0")/../.."
 runs="${1:-1}"
 file="${TMPDIR:-/tmp}/lockpoint-log-10mb.csv"
 cargo build --release -q -p lockpoint-e2e --example log_memory
-bin=target/release/examples/log_memory
+bin=${CARGO_TARGET_DIR:-target}/release/examples/log_memory
 "$bin" --write "$file"
 trap 'rm -f "$file"' EXIT
 echo "file: $(du -h "$file" | cut -f1) ($(wc -l < "$file") lines); pandas $(python3 -c 'import pandas; print(pandas.__version__)'); load before: $(cut -d' ' -f1-3 /proc/loadavg)"

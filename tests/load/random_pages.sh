@@ -16,20 +16,17 @@ cd "$(dirname "$0")/../.."
 SECS=${1:-10}
 CONNS=${2:-8}
 SEED=13
-for tool in wrk curl sqlite3; do
-  command -v $tool >/dev/null || { echo "$tool is not installed (apt-get install $tool)" >&2; exit 1; }
-done
-
+source tests/load/common.sh
+need wrk curl sqlite3
 source tests/load/scale_server.sh
 
 # 32 signed-in sessions, one picked at random per request: eight people at a counter, not one
 # person in eight tabs (one session may run 2 heavy calculations at once, see web/http/heavy.rs).
 for _ in $(seq 32); do
-  curl -s -c "$WORK/jar" -o /dev/null -d 'username=loadtest&password=load-test-password' "$BASE/login"
-  echo "lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")" >> "$WORK/cookies.txt"
+  session_cookie loadtest load-test-password >> "$WORK/cookies.txt"
 done
 COOKIE=$(head -1 "$WORK/cookies.txt")
-TOKEN=$(./target/release/lockpoint token create loadtest --db "$DB")
+TOKEN=$("$LOCKPOINT" token create loadtest --db "$DB")
 
 # The paths each script picks from, one per line (read by the Lua scripts below).
 sqlite3 "$DB" "SELECT '/builds/' || b.id FROM builds b JOIN cars c ON c.id = b.car_id
@@ -129,6 +126,4 @@ single() {
 echo "one build page alone, uncached (200 random builds, curl time_total): $(single "")"
 echo "one tuning page alone, uncached (200 random builds, curl time_total): $(single /tune)"
 echo "server peak resident memory (VmHWM): $(awk '/VmHWM/ {printf "%.1f MB", $2 / 1024}' /proc/$SERVER/status)"
-if grep -qi 'database is locked\|panicked' "$WORK/serve.err"; then
-  echo "server log shows lock errors or panics" >&2; exit 1
-fi
+server_log_clean

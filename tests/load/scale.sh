@@ -18,19 +18,13 @@ BURST_CONNS=${4:-64}
 SEED=13
 BUILD=4321
 QUERY=Halvorsen
-command -v wrk >/dev/null || { echo "wrk is not installed (apt-get install wrk)" >&2; exit 1; }
-
+source tests/load/common.sh
+need wrk
 source tests/load/scale_server.sh
 
-curl -s -c "$WORK/jar" -o /dev/null -d 'username=loadtest&password=load-test-password' "$BASE/login"
-COOKIE="lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
-TOKEN=$(./target/release/lockpoint token create loadtest --db "$DB")
-cat > "$WORK/post.lua" <<LUA
-wrk.method = "POST"
-wrk.body = '{"run_on": "2026-11-20", "track": "Load strip", "launch_rpm": 4500, "sixty_ft_s": 1.4, "et_s": 10.9}'
-wrk.headers["Content-Type"] = "application/json"
-wrk.headers["Authorization"] = "Bearer $TOKEN"
-LUA
+COOKIE=$(session_cookie loadtest load-test-password)
+TOKEN=$("$LOCKPOINT" token create loadtest --db "$DB")
+pass_lua "$WORK/post.lua" "$TOKEN"
 for path in / "/customers?q=$QUERY" "/builds/$BUILD" "/builds/$BUILD/tune"; do
   code=$(curl -s -o /dev/null -w '%{http_code}' -H "Cookie: $COOKIE" "$BASE$path")
   [ "$code" = 200 ] || { echo "$path answers $code" >&2; exit 1; }
@@ -39,19 +33,17 @@ done
 # run NAME WRK-ARGS...: one route for $SECS s at $CONNS connections, one table row.
 run() {
   local name=$1; shift
-  local out rps p99 errs ratio
-  out=$(wrk -t2 -c"$CONNS" -d"${SECS}s" --latency "$@")
-  rps=$(awk '/^Requests\/sec/ {print $2}' <<<"$out")
-  p99=$(awk '$1 == "99%" {print $2}' <<<"$out")
+  local errs ratio
+  wrk_run "$@"
   # Errors: answers other than 2xx/3xx, and socket errors (connect, read, write, timeout: no
   # answer within wrk's 2 s), each kind named when there are any.
   errs=$(awk '/Non-2xx or 3xx/ {printf "%s", (n++ ? ", " : "") $NF " non-2xx"}
     /Socket errors/ {split("connect read write timeout", kind, " ");
       gsub(/[^0-9 ]/, " "); for (i = 1; i <= NF; i++) if ($i > 0) printf "%s", (n++ ? ", " : "") $i " " kind[i]}
-    END {if (!n) print 0; else print ""}' <<<"$out")
-  [ -n "$HEALTHZ" ] || HEALTHZ=$rps
-  ratio=$(awk -v a="$rps" -v b="$HEALTHZ" 'BEGIN {printf "%.1f %%", 100 * a / b}')
-  printf '| %-40s | %10s | %9s | %6s | %9s |\n' "$name" "$rps" "$p99" "$errs" "$ratio"
+    END {if (!n) print 0; else print ""}' <<<"$OUT")
+  [ -n "$HEALTHZ" ] || HEALTHZ=$RPS
+  ratio=$(awk -v a="$RPS" -v b="$HEALTHZ" 'BEGIN {printf "%.1f %%", 100 * a / b}')
+  printf '| %-40s | %10s | %9s | %6s | %9s |\n' "$name" "$RPS" "$P99" "$errs" "$ratio"
 }
 routes() {
   echo "$CONNS connections, ${SECS} s per route, $(nproc) cores shared by wrk and the server"
@@ -70,6 +62,4 @@ SECS=$BURST_SECS CONNS=$BURST_CONNS
 echo
 routes
 echo "server peak resident memory (VmHWM): $(awk '/VmHWM/ {printf "%.1f MB", $2 / 1024}' /proc/$SERVER/status)"
-if grep -qi 'database is locked\|panicked' "$WORK/serve.err"; then
-  echo "server log shows lock errors or panics" >&2; exit 1
-fi
+server_log_clean

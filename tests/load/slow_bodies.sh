@@ -7,20 +7,17 @@
 # Needs curl and python3. Usage: tests/load/slow_bodies.sh [seconds]
 set -euo pipefail
 cd "$(dirname "$0")/../.."
+source tests/load/common.sh
 SECS=${1:-30}
 cargo build --release --quiet
 WORK=$(mktemp -d)
-# An open-file limit that gives the server its full cap of 1,024 connections.
-(ulimit -n 2048; exec ./target/release/lockpoint serve --demo --db "$WORK/slow.db" --addr 127.0.0.1:0) \
-  > "$WORK/serve.out" 2> "$WORK/serve.err" &
-SERVER=$!
+SERVER=
 ATTACK=
-trap '[ -n "$ATTACK" ] && kill $ATTACK 2>/dev/null; kill $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
-for _ in $(seq 100); do grep -q '^listening on' "$WORK/serve.out" 2>/dev/null && break; sleep 0.2; done
-BASE=$(sed -n 's/^listening on //p' "$WORK/serve.out")
-curl -s -c "$WORK/jar" -o /dev/null -d 'username=demo&password=lockpoint-demo' "$BASE/login"
-COOKIE="lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
-TOKEN=$(./target/release/lockpoint token create demo --db "$WORK/slow.db")
+trap '[ -n "$ATTACK" ] && kill $ATTACK 2>/dev/null; [ -n "$SERVER" ] && kill $SERVER 2>/dev/null; rm -rf "$WORK"' EXIT
+# An open-file limit that gives the server its full cap of 1,024 connections.
+OPEN_FILES=2048 serve_in_background "$WORK/slow.db" --demo
+COOKIE=$(session_cookie demo lockpoint-demo)
+TOKEN=$("$LOCKPOINT" token create demo --db "$WORK/slow.db")
 
 cat > "$WORK/attack.py" <<'PY'
 import asyncio, sys

@@ -9,7 +9,7 @@ use std::process::Command;
 use fantoccini::{Client, Locator};
 use serde_json::Value;
 
-use crate::harness::{self, Artifacts, Browser, Server, pdf_pages};
+use crate::harness::{self, Artifacts, SignedIn, pdf_pages};
 
 /// The demo's logged pass (the newest of the logged build) and the one before it, which gets a
 /// second log here so two passes can be drawn together.
@@ -158,13 +158,7 @@ async fn log_figure(c: &Client, label: &str) -> f64 {
 /// A full-length screenshot at `width` CSS px.
 async fn whole_page(c: &Client, shots: &Artifacts, name: &str, width: u32) {
     harness::set_viewport(c, width, 900).await;
-    let height = c
-        .execute("return document.documentElement.scrollHeight", vec![])
-        .await
-        .unwrap()
-        .as_u64()
-        .unwrap_or(900)
-        .clamp(600, 7000) as u32;
+    let height = harness::page_height(c, 600, 7000).await as u32;
     harness::set_viewport(c, width, height).await;
     shots.save(
         &format!("{name}-{width}.png"),
@@ -174,12 +168,8 @@ async fn whole_page(c: &Client, shots: &Artifacts, name: &str, width: u32) {
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn charts_and_tables_fit_their_cards_and_stay_readable_at_820_and_1366_px() {
-    let server = Server::start().await;
-    let browser = Browser::start().await;
-    let shots = Artifacts::named("charts");
-    let c = browser.session().await;
-    let base = server.base.clone();
-    harness::sign_in(&c, &base).await;
+    let run = SignedIn::start("charts").await;
+    let (c, shots, base) = (run.c.clone(), &run.shots, run.base.clone());
 
     // A second log, sent through the pass page and mapped with the car's remembered columns.
     let file = shots.save("second-pass.csv", second_log().as_bytes());
@@ -203,7 +193,7 @@ async fn charts_and_tables_fit_their_cards_and_stay_readable_at_820_and_1366_px(
             let name = path
                 .trim_start_matches('/')
                 .replace(['/', '?', '&', '='], "-");
-            whole_page(&c, &shots, &name, w).await;
+            whole_page(&c, shots, &name, w).await;
             harness::set_viewport(&c, w, h).await;
             let past = overflowing(&c).await;
             assert!(past.is_empty(), "{path} at {w} px: {past:#?}");
@@ -217,7 +207,7 @@ async fn charts_and_tables_fit_their_cards_and_stay_readable_at_820_and_1366_px(
         harness::set_viewport(&c, w, h).await;
         c.goto(&format!("{base}/")).await.unwrap();
         harness::expect_text(&c, "Lockpoint").await;
-        whole_page(&c, &shots, "counter", w).await;
+        whole_page(&c, shots, "counter", w).await;
         harness::set_viewport(&c, w, h).await;
         let past = overflowing(&c).await;
         assert!(past.is_empty(), "the counter at {w} px: {past:#?}");
@@ -251,13 +241,7 @@ async fn charts_and_tables_fit_their_cards_and_stay_readable_at_820_and_1366_px(
         (to - (lockup + 1.0).min(file_end)).abs() < 0.01,
         "{to} vs {lockup}"
     );
-    let caption = c
-        .find(Locator::Css("figure.chart figcaption"))
-        .await
-        .unwrap()
-        .text()
-        .await
-        .unwrap();
+    let caption = harness::text_of(&c, "figure.chart figcaption").await;
     assert!(
         caption.contains(&format!(
             "{:.2}–{file_end:.2} s: from 1 s before the launch",

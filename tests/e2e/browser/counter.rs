@@ -5,7 +5,7 @@
 use fantoccini::{Client, Locator};
 use serde_json::Value;
 
-use super::harness::{self, Artifacts, Browser, Server};
+use super::harness::{self, SignedIn};
 
 /// The two screens the shop uses: a desktop and a 10-inch tablet held upright.
 const SCREENS: [(u32, u32); 2] = [(1366, 900), (820, 1180)];
@@ -32,21 +32,13 @@ async fn summary_bottom(c: &Client, labels: &[&str]) -> (usize, f64, f64) {
 }
 
 async fn body(c: &Client) -> String {
-    c.find(Locator::Css("body"))
-        .await
-        .unwrap()
-        .text()
-        .await
-        .unwrap()
+    harness::text_of(c, "body").await
 }
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn a_phone_number_leads_to_the_build_in_one_click_and_its_first_screen_shows_the_status() {
-    let server = Server::start().await;
-    let browser = Browser::start().await;
-    let shots = Artifacts::named("counter");
-    let c = browser.session().await;
-    harness::sign_in(&c, &server.base).await;
+    let run = SignedIn::start("counter").await;
+    let (c, shots) = (run.c.clone(), &run.shots);
 
     // The phone number as the caller says it: the result names the build and what is due.
     harness::fill(&c, "input[name=q]", "(555) 0117").await;
@@ -115,12 +107,9 @@ async fn a_phone_number_leads_to_the_build_in_one_click_and_its_first_screen_sho
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn a_customer_link_has_a_copy_button_a_refresh_makes_no_second_and_a_withdrawn_one_names_the_shop()
  {
-    let server = Server::start().await;
-    let browser = Browser::start().await;
-    let shots = Artifacts::named("link");
-    let c = browser.session().await;
-    harness::sign_in(&c, &server.base).await;
-    c.goto(&format!("{}/builds/1", server.base)).await.unwrap();
+    let run = SignedIn::start("link").await;
+    let (c, shots, base) = (run.c.clone(), &run.shots, run.base.clone());
+    c.goto(&format!("{}/builds/1", base)).await.unwrap();
     harness::toggle(&c, "#sheets details.entry summary").await;
     harness::click(&c, "#sheets button.primary").await;
     harness::expect_text(&c, "Clutch setup sheet").await;
@@ -147,13 +136,7 @@ async fn a_customer_link_has_a_copy_button_a_refresh_makes_no_second_and_a_withd
         !url.path().ends_with("/links"),
         "the POST redirected back to the sheet: {url}"
     );
-    let address = c
-        .find(Locator::Css(".link-address"))
-        .await
-        .unwrap()
-        .text()
-        .await
-        .unwrap();
+    let address = harness::text_of(&c, ".link-address").await;
     let copy = c.find(Locator::Css("button[data-copy]")).await.unwrap();
     assert!(copy.is_displayed().await.unwrap(), "the script shows Copy");
     copy.click().await.unwrap();
@@ -179,7 +162,7 @@ async fn a_customer_link_has_a_copy_button_a_refresh_makes_no_second_and_a_withd
     // Withdrawn: the customer's page names the shop and its phone.
     harness::toggle(&c, "details.links summary").await;
     harness::click(&c, "details.links form[action^='/links/'] button").await;
-    let customer = browser.session().await;
+    let customer = run.browser.session().await;
     customer.goto(&address).await.unwrap();
     harness::expect_text(&customer, "Setup sheet not available").await;
     harness::expect_text(&customer, "Quarry Road Clutch & Driveline · 555-0142").await;

@@ -3,18 +3,15 @@
 
 use fantoccini::Locator;
 
-use super::harness::{self, Artifacts, Browser, Server};
+use super::harness::{self, SignedIn};
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn a_refused_entry_opens_at_its_form_and_says_so_at_the_top() {
-    let server = Server::start().await;
-    let browser = Browser::start().await;
-    let shots = Artifacts::named("entries");
-    let c = browser.session().await;
-    harness::sign_in(&c, &server.base).await;
+    let run = SignedIn::start("entries").await;
+    let (c, shots, base) = (run.c.clone(), &run.shots, run.base.clone());
     for (w, h) in [(1366, 900), (820, 1180)] {
         harness::set_viewport(&c, w, h).await;
-        c.goto(&format!("{}/builds/1", server.base)).await.unwrap();
+        c.goto(&format!("{}/builds/1", base)).await.unwrap();
         harness::toggle(&c, "#height-entry summary").await;
         harness::fill(&c, "#height-form input[name=height]", "about two inches").await;
         harness::click(&c, "#height-form button[type=submit]").await;

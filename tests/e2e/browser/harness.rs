@@ -134,6 +134,36 @@ impl Drop for Browser {
     }
 }
 
+/// One browser test's setting: the demo shop served, chromedriver, the test's folder of
+/// artifacts and a Chromium session signed in at the counter (`base` is the shop's address).
+pub struct SignedIn {
+    /// Kept for the test's life (the server stops when it is dropped).
+    _server: Server,
+    pub browser: Browser,
+    pub shots: Artifacts,
+    pub c: Client,
+    pub base: String,
+}
+
+impl SignedIn {
+    /// Starts all of it for the test `test` (its artifacts go to a folder of that name).
+    pub async fn start(test: &str) -> Self {
+        let server = Server::start().await;
+        let browser = Browser::start().await;
+        let shots = Artifacts::named(test);
+        let c = browser.session().await;
+        let base = server.base.clone();
+        sign_in(&c, &base).await;
+        Self {
+            _server: server,
+            browser,
+            shots,
+            c,
+            base,
+        }
+    }
+}
+
 /// Signs in as the demo shop's first account and waits for the counter.
 pub async fn sign_in(c: &Client, base: &str) {
     c.goto(&format!("{base}/login")).await.unwrap();
@@ -227,6 +257,26 @@ pub async fn expect_text(c: &Client, text: &str) {
     panic!("{text:?} not found on {url}:\n{}", body_text(c).await);
 }
 
+/// The text of the first element at `css`.
+pub async fn text_of(c: &Client, css: &str) -> String {
+    c.find(Locator::Css(css))
+        .await
+        .unwrap_or_else(|_| panic!("{css} on the page"))
+        .text()
+        .await
+        .unwrap()
+}
+
+/// The page's whole height in CSS px, 900 when it cannot be read, kept within `min..=max`.
+pub async fn page_height(c: &Client, min: u64, max: u64) -> u64 {
+    c.execute("return document.documentElement.scrollHeight", vec![])
+        .await
+        .unwrap()
+        .as_u64()
+        .unwrap_or(900)
+        .clamp(min, max)
+}
+
 /// The value beside a label in the sheet's figures.
 pub async fn figure(c: &Client, label: &str) -> String {
     let script = "const dts = [...document.querySelectorAll('dt')];
@@ -315,13 +365,7 @@ impl Artifacts {
     /// A full-page screenshot (the window is grown to the page's height first).
     pub async fn page(&self, c: &Client, name: &str) {
         c.set_window_size(1280, 900).await.unwrap();
-        let height = c
-            .execute("return document.documentElement.scrollHeight", vec![])
-            .await
-            .unwrap()
-            .as_u64()
-            .unwrap_or(900)
-            .clamp(600, 6000);
+        let height = page_height(c, 600, 6000).await;
         c.set_window_size(1280, height as u32 + 120).await.unwrap();
         let png = c.screenshot().await.unwrap();
         self.save(&format!("{name}.png"), &png);

@@ -150,13 +150,7 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
     // The customer's link, opened in a fresh browser without a login.
     harness::toggle(&c, "details.links summary").await;
     harness::click(&c, "details.links button[type=submit]").await;
-    let link = c
-        .find(Locator::Css(".link-address"))
-        .await
-        .unwrap()
-        .text()
-        .await
-        .unwrap();
+    let link = harness::text_of(&c, ".link-address").await;
     assert!(link.contains("/s/"), "{link}");
     let customer = browser.session().await;
     customer.goto(&link).await.unwrap();

@@ -2,27 +2,12 @@
 //! the curve reads "at or below", a line that leaves the chart says so, the save button names
 //! every value it saves, and an unreachable target is printed as one.
 
-use fantoccini::{Client, Locator};
-
-use crate::harness::{self, Artifacts, Browser, Server, pdf_pages, pdf_text};
-
-async fn text_of(c: &Client, css: &str) -> String {
-    c.find(Locator::Css(css))
-        .await
-        .unwrap_or_else(|_| panic!("{css} on the page"))
-        .text()
-        .await
-        .unwrap()
-}
+use crate::harness::{self, SignedIn, pdf_pages, pdf_text, text_of};
 
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn tuning_figures_and_the_sheet_say_what_the_tool_knows() {
-    let server = Server::start().await;
-    let browser = Browser::start().await;
-    let shots = Artifacts::named("tuning");
-    let c = browser.session().await;
-    let base = server.base.clone();
-    harness::sign_in(&c, &base).await;
+    let run = SignedIn::start("tuning").await;
+    let (c, shots, base) = (run.c.clone(), &run.shots, run.base.clone());
 
     // Demo build 2 holds at the first point of its torque curve, and its capacity at the top
     // is far above the engine's: the chart's scale is capped, so the line leaves it.
