@@ -8,6 +8,7 @@ use axum::response::{Html, IntoResponse, Response};
 use sqlx::SqliteConnection;
 
 use crate::db;
+use crate::db::record::Stored;
 use crate::error::{AppError, AppResult};
 use crate::model::wear::{current_disc, disc_passes};
 use crate::records::bench::BenchInput;
@@ -15,7 +16,7 @@ use crate::records::field::Record;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
-use crate::records::stored::Build;
+use crate::records::stored::{BenchTest, Build, Height, Pass, Setup};
 use crate::records::{Checked, Ctx, FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
@@ -106,6 +107,8 @@ impl Entry {
 /// unless the entry needs the build (a bench test's rows, a cover height's neighbours).
 pub trait BuildEntry: Record + Sized + Send + Sync {
     const WHICH: Which;
+    /// The record as stored, which says how it is written under its build.
+    type Row: Stored<Input = Self>;
     fn read(form: &FormData, units: Units, _build: &Build) -> (Self, FieldErrors) {
         field::read(form, units)
     }
@@ -118,12 +121,6 @@ pub trait BuildEntry: Record + Sized + Send + Sync {
     ) -> Result<Checked<Self>, FieldErrors> {
         field::check(self, ctx, errors)
     }
-    fn store<'a>(
-        tx: &'a mut SqliteConnection,
-        build_id: i64,
-        user_id: i64,
-        value: &'a Checked<Self>,
-    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a;
     /// "Saved: ..." in words, saying what changed; worked out before the entry is stored.
     fn saved_note<'a>(
         tx: &'a mut SqliteConnection,
@@ -147,14 +144,7 @@ fn listed<R: Record>(r: &R, units: Units, skip: &[&str]) -> String {
 
 impl BuildEntry for SetupInput {
     const WHICH: Which = Which::Setup;
-    fn store<'a>(
-        tx: &'a mut SqliteConnection,
-        b: i64,
-        u: i64,
-        v: &'a Checked<Self>,
-    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
-        db::setups::insert(tx, b, u, v)
-    }
+    type Row = Setup;
     async fn saved_note(
         tx: &mut SqliteConnection,
         b: i64,
@@ -194,14 +184,7 @@ impl BuildEntry for BenchInput {
     ) -> Result<Checked<Self>, FieldErrors> {
         self.check(build.data.spring_solid_height_mm, ctx, errors)
     }
-    fn store<'a>(
-        tx: &'a mut SqliteConnection,
-        b: i64,
-        u: i64,
-        v: &'a Checked<Self>,
-    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
-        db::bench::insert(tx, b, u, v)
-    }
+    type Row = BenchTest;
     async fn saved_note(
         _: &mut SqliteConnection,
         _: i64,
@@ -233,14 +216,7 @@ impl BuildEntry for HeightInput {
     ) -> Result<Checked<Self>, FieldErrors> {
         self.check_on(hc, ctx, errors)
     }
-    fn store<'a>(
-        tx: &'a mut SqliteConnection,
-        b: i64,
-        u: i64,
-        v: &'a Checked<Self>,
-    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
-        db::heights::insert(tx, b, u, v)
-    }
+    type Row = Height;
     async fn saved_note(
         _: &mut SqliteConnection,
         _: i64,
@@ -262,14 +238,7 @@ impl BuildEntry for HeightInput {
 
 impl BuildEntry for PassInput {
     const WHICH: Which = Which::Pass;
-    fn store<'a>(
-        tx: &'a mut SqliteConnection,
-        b: i64,
-        u: i64,
-        v: &'a Checked<Self>,
-    ) -> impl Future<Output = sqlx::Result<i64>> + Send + 'a {
-        db::passes::insert(tx, b, u, v)
-    }
+    type Row = Pass;
     async fn saved_note(
         tx: &mut SqliteConnection,
         b: i64,
@@ -306,7 +275,7 @@ pub async fn add<E: BuildEntry>(
     let result = match BuildEntry::check_on(input, &e.build, &hc, &e.ctx, errors) {
         Ok(checked) => {
             let note = E::saved_note(&mut e.tx, e.build.id, &checked, e.ctx.units).await?;
-            E::store(&mut e.tx, e.build.id, e.user.id, &checked).await?;
+            E::Row::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
             Ok(note)
         }
         Err(errors) => Err(errors),
