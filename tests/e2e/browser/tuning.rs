@@ -66,7 +66,9 @@ async fn tuning_figures_and_the_sheet_say_what_the_tool_knows() {
     .await
     .unwrap();
     harness::fill(&c, "#sheets input[name=target_lockup]", "4800").await;
-    harness::fill(&c, "#sheets input[name=target_ratio]", "0.9").await;
+    // 0.7: below what even 0 turns gives with the demo build's calibrated friction (0.77 at
+    // 4800 rpm), so no setting meets both targets.
+    harness::fill(&c, "#sheets input[name=target_ratio]", "0.7").await;
     harness::click(&c, "#sheets button.primary").await;
     harness::expect_text(&c, "Clutch setup sheet").await;
     harness::expect_text(&c, "Not reachable within the limits; closest:").await;
