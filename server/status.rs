@@ -114,21 +114,26 @@ pub async fn work_out(
     build_id: i64,
     settings: &SettingsInput,
 ) -> sqlx::Result<Option<(BuildStatus, Vec<KeptLaunchFit>)>> {
-    let Some(build) = db::builds::any_by_id(conn, build_id).await? else {
-        return Ok(None);
+    // A live build is loaded once, with everything the status reads; a build of a deleted
+    // customer (still listed nowhere, kept current for a restore) only needs its wear.
+    let Some(mut d) = db::dossier::load(conn, build_id).await? else {
+        let Some(build) = db::builds::any_by_id(conn, build_id).await? else {
+            return Ok(None);
+        };
+        let heights = db::heights::for_build(conn, build_id).await?;
+        let bench = db::bench::for_build(conn, build_id).await?;
+        return Ok(Some((
+            of_history(&build.data, &heights, &bench, settings),
+            Vec::new(),
+        )));
     };
-    let heights = db::heights::for_build(conn, build_id).await?;
-    let bench = db::bench::for_build(conn, build_id).await?;
-    let mut status = of_history(&build.data, &heights, &bench, settings);
-    let mut fits = Vec::new();
-    if let Some(mut d) = db::dossier::load(conn, build_id).await? {
-        fits = launch_fits(&d, settings);
-        // The forecast's friction in force reads the fits just worked out.
-        d.launch_fits.clone_from(&fits);
-        if let Ok(e) = energy_forecast(&d, settings) {
-            status.energy_shim_passes = e.passes_to_shim_due;
-            status.energy_disc_passes = e.passes_to_disc_due;
-        }
+    let mut status = of_history(&d.build.data, &d.heights, &d.bench, settings);
+    let fits = launch_fits(&d, settings);
+    // The forecast's friction in force reads the fits just worked out.
+    d.launch_fits.clone_from(&fits);
+    if let Ok(e) = energy_forecast(&d, settings) {
+        status.energy_shim_passes = e.passes_to_shim_due;
+        status.energy_disc_passes = e.passes_to_disc_due;
     }
     Ok(Some((status, fits)))
 }
