@@ -14,6 +14,7 @@ use crate::db;
 use crate::db::status::{BuildStatus, Listed};
 use crate::model::as_of::bench_review;
 use crate::model::calibration::launch_fits;
+use crate::model::launch::launch_ready;
 use crate::model::due::{Due, DueReason, soonest};
 use crate::model::energy::energy_forecast;
 use crate::model::wear::wear_request;
@@ -114,20 +115,26 @@ pub async fn work_out(
     build_id: i64,
     settings: &SettingsInput,
 ) -> sqlx::Result<Option<(BuildStatus, Vec<KeptLaunchFit>)>> {
-    // A live build is loaded once, with everything the status reads; a build of a deleted
-    // customer (still listed nowhere, kept current for a restore) only needs its wear.
-    let Some(mut d) = db::dossier::load(conn, build_id).await? else {
-        let Some(build) = db::builds::any_by_id(conn, build_id).await? else {
-            return Ok(None);
-        };
-        let heights = db::heights::for_build(conn, build_id).await?;
-        let bench = db::bench::for_build(conn, build_id).await?;
-        return Ok(Some((
-            of_history(&build.data, &heights, &bench, settings),
-            Vec::new(),
-        )));
+    let Some(build) = db::builds::any_by_id(conn, build_id).await? else {
+        return Ok(None);
     };
-    let mut status = of_history(&d.build.data, &d.heights, &d.bench, settings);
+    let heights = db::heights::for_build(conn, build_id).await?;
+    let bench = db::bench::for_build(conn, build_id).await?;
+    let mut status = of_history(&build.data, &heights, &bench, settings);
+    // The forecast by energy and the whole-launch fits run the launch model: without the car's
+    // launch fields there is neither, and the rest of the build need not be read (a pass written
+    // at a counter without them costs only the wear and springs above).
+    let car = db::cars::by_id(conn, build.car_id).await?;
+    if !car.is_some_and(|c| launch_ready(&c.data)) {
+        return Ok(Some((status, Vec::new())));
+    }
+    // A build of a deleted customer is listed nowhere: its wear and springs are enough.
+    if db::builds::by_id(conn, build_id).await?.is_none() {
+        return Ok(Some((status, Vec::new())));
+    }
+    let Some(mut d) = db::dossier::with_parts(conn, build, heights, bench).await? else {
+        return Ok(Some((status, Vec::new())));
+    };
     let fits = launch_fits(&d, settings);
     // The forecast's friction in force reads the fits just worked out.
     d.launch_fits.clone_from(&fits);

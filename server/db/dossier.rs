@@ -2,7 +2,7 @@
 
 use sqlx::SqliteConnection;
 
-use crate::records::stored::Dossier;
+use crate::records::stored::{BenchTest, Build, Dossier, Height};
 
 /// The most passes loaded with a build: the most a calibration uses.
 pub const PASSES_LOADED: usize = clutch::quantity::limits::CALIBRATION_PASSES_MAX;
@@ -12,6 +12,20 @@ pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Op
     let Some(build) = super::builds::by_id(conn, build_id).await? else {
         return Ok(None);
     };
+    let heights = super::heights::for_build(conn, build_id).await?;
+    let bench = super::bench::for_build(conn, build_id).await?;
+    with_parts(conn, build, heights, bench).await
+}
+
+/// The dossier of a build whose cover heights and bench tests are already read (the work-due
+/// status reads those first), or `None` when its car is gone.
+pub async fn with_parts(
+    conn: &mut SqliteConnection,
+    build: Build,
+    heights: Vec<Height>,
+    bench: Vec<BenchTest>,
+) -> sqlx::Result<Option<Dossier>> {
+    let build_id = build.id;
     let owner = super::builds::owner(conn, build_id).await?;
     let Some(car) = super::cars::by_id(conn, build.car_id).await? else {
         return Ok(None);
@@ -20,8 +34,8 @@ pub async fn load(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<Op
         owner,
         car,
         setups: super::setups::for_build(conn, build_id).await?,
-        bench: super::bench::for_build(conn, build_id).await?,
-        heights: super::heights::for_build(conn, build_id).await?,
+        bench,
+        heights,
         passes: super::passes::TABLE
             .page(conn, build_id, 0, PASSES_LOADED as i64)
             .await?,

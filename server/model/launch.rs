@@ -174,6 +174,16 @@ fn or_estimate(car: &CarInput, column: &str, used: &mut Vec<Estimate>) -> f64 {
     })
 }
 
+/// Whether the car's record has what every launch preview needs beyond the estimates: its race
+/// weight, first gear and final drive ratios and tire diameter (the launch speed can come from
+/// a pass). Without them neither the forecast by energy nor the whole-launch friction can run.
+pub fn launch_ready(car: &CarInput) -> bool {
+    car.weight_kg.is_some()
+        && car.first_gear_ratio.is_some()
+        && car.final_drive_ratio.is_some()
+        && car.tire_diameter_mm.is_some()
+}
+
 impl BuildAsOf<'_> {
     /// The launch preview request for `trial` from `launch_rpm` (the car's when `None`), in
     /// storage units, or what the records lack.
