@@ -757,14 +757,7 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
         let mu = 0.32 - 0.0002 * (theta - 25.0);
         let body = json!({"run_on": format!("2026-10-{:02}", i + 2), "run_at": "10:30",
                           "ambient_c": theta, "observed_lockup_rpm": lockup_for(mu)});
-        app.api_answers(
-            StatusCode::CREATED,
-            "POST",
-            &format!("/api/v1/builds/{id}/passes"),
-            t,
-            Some(body),
-        )
-        .await;
+        record_pass(&app, id, t, body).await;
         if i == 3 {
             let v = app.api("GET", &path, t, None).await.json();
             assert!(v["mu_vs_temperature"].is_null(), "{v}");
@@ -900,14 +893,7 @@ async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
     for (i, mu) in [0.30, 0.31, 0.32, 0.33, 0.34].into_iter().enumerate() {
         let body = json!({"run_on": "2026-10-02", "run_at": format!("10:{}0", i),
                           "ambient_c": 20.0, "observed_lockup_rpm": lockup_for(mu)});
-        app.api_answers(
-            StatusCode::CREATED,
-            "POST",
-            &format!("/api/v1/builds/{id}/passes"),
-            t,
-            Some(body),
-        )
-        .await;
+        record_pass(&app, id, t, body).await;
     }
     let path = format!("/api/v1/builds/{id}/calibration");
     // Without a rise the day's later passes have no launch temperature: only the first counts.
@@ -930,6 +916,18 @@ async fn passes_without_a_log_heat_the_plate_by_the_launch_preview() {
         .and_then(|n| n.parse().ok())
         .unwrap_or(0.0);
     assert!(fitted || spread > 0.0, "{warm}");
+}
+
+/// A pass recorded on the stored build through the API (201).
+async fn record_pass(app: &TestApp, id: i64, t: Option<&str>, body: Value) {
+    app.api_answers(
+        StatusCode::CREATED,
+        "POST",
+        &format!("/api/v1/builds/{id}/passes"),
+        t,
+        Some(body),
+    )
+    .await;
 }
 
 /// The stored build's setup of 2026-10-01: 2 turns, 40 g.
@@ -1005,15 +1003,7 @@ async fn a_typed_lock_time_is_read_by_the_whole_launch_and_kept() {
     let (lock_s, lock_rpm) = preview_lockup(&app, id, 0.30).await;
     for (day, lock) in [("2026-10-02", lock_s), ("2026-10-03", lock_s + 0.2)] {
         let body = json!({"run_on": day, "launch_rpm": 5000.0, "lockup_time_s": lock});
-        let r = app
-            .api(
-                "POST",
-                &format!("/api/v1/builds/{id}/passes"),
-                t,
-                Some(body),
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+        record_pass(&app, id, t, body).await;
     }
     // The build page's pass list shows the typed lock time as typed.
     let page = app.login("sam").await.get(&format!("/builds/{id}")).await;
