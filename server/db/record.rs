@@ -88,17 +88,19 @@ pub async fn update<R: Record>(
     id: i64,
     r: &Checked<R>,
 ) -> sqlx::Result<bool> {
-    let sets: Vec<String> = crate::records::field::columns::<R>()
-        .map(|c| format!("{c} = ?"))
-        .collect();
+    let columns: Vec<&str> = crate::records::field::columns::<R>().collect();
+    let sets: Vec<String> = columns.iter().map(|c| format!("{c} = ?")).collect();
+    // The stamp moves only when a value does: a form saved as it was shown changes nothing.
+    // (The CASE reads the row as it was before this UPDATE, as every SET expression does.)
+    let changed: Vec<String> = columns.iter().map(|c| format!("{c} IS NOT ?")).collect();
     let sql = format!(
-        "UPDATE {table} SET {}, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now') WHERE id = ?",
-        sets.join(", ")
+        "UPDATE {table} SET {}, updated_at = CASE WHEN {} THEN strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
+         ELSE updated_at END WHERE id = ?",
+        sets.join(", "),
+        changed.join(" OR ")
     );
-    let done = bind_fields(sqlx::query(sqlx::AssertSqlSafe(sql)), &**r)
-        .bind(id)
-        .execute(conn)
-        .await?;
+    let q = bind_fields(sqlx::query(sqlx::AssertSqlSafe(sql)), &**r);
+    let done = bind_fields(q, &**r).bind(id).execute(conn).await?;
     Ok(done.rows_affected() == 1)
 }
 

@@ -284,3 +284,50 @@ async fn a_limit_typed_in_inches_survives_a_metric_save() {
     );
     assert_eq!(settings_row(&app).await[2], 0.39);
 }
+
+/// A form saved as it was shown changes nothing, its "last updated" stamp included; a change
+/// moves the stamp. (Before, every save moved it, so the test above failed whenever its save
+/// crossed a second.)
+#[tokio::test]
+async fn saving_a_form_untouched_keeps_its_stamp_and_a_change_moves_it() {
+    let app = TestApp::new().await;
+    let client = app.login("boss").await;
+    let build = client.record_build().await;
+    let id: i64 = build.trim_start_matches("/builds/").parse().unwrap();
+    let stamp = || async {
+        sqlx::query_scalar::<_, String>("SELECT updated_at FROM builds WHERE id = ?")
+            .bind(id)
+            .fetch_one(&app.pool)
+            .await
+            .unwrap()
+    };
+    let old = "2020-01-01T00:00:00Z";
+    sqlx::query("UPDATE builds SET updated_at = ? WHERE id = ?")
+        .bind(old)
+        .bind(id)
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    save_untouched(&client, &format!("{build}/edit"), &build).await;
+    assert_eq!(stamp().await, old, "untouched");
+    sqlx::query("UPDATE builds SET notes = 'changed behind the form' WHERE id = ?")
+        .bind(id)
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    // The form now shows the changed note; saving it with the note put back is a change.
+    let shown = client.get(&format!("{build}/edit")).await;
+    let mut pairs = form_pairs(&shown.body, &build);
+    for (k, v) in &mut pairs {
+        if k == "notes" {
+            *v = String::new();
+        }
+    }
+    let refs: Vec<(&str, &str)> = pairs
+        .iter()
+        .map(|(k, v)| (k.as_str(), v.as_str()))
+        .collect();
+    let saved = client.post(&build, &refs).await;
+    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    assert_ne!(stamp().await, old, "changed");
+}
