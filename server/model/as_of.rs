@@ -62,6 +62,8 @@ pub struct CalibrationSummary {
     pub mu: f64,
     /// Passes it was fitted to.
     pub passes: usize,
+    /// How many of them the whole launch read (the rest by the torque at lockup).
+    pub by_launch: usize,
     /// Whether the passes' μ trends with time (`None` below 3 passes).
     pub drifting: Option<bool>,
 }
@@ -69,8 +71,9 @@ pub struct CalibrationSummary {
 /// Where the friction coefficient the figures use comes from.
 #[derive(Debug, Clone, PartialEq)]
 pub enum FrictionSource {
-    /// The build's calibration: enough passes, and steady.
-    Calibrated { passes: usize },
+    /// The build's calibration: enough passes (`by_launch` of them read from the whole
+    /// launch), and steady.
+    Calibrated { passes: usize, by_launch: usize },
     /// The μ entered with the setup in force, on its date.
     Entered { on: String },
     /// The facing's nominal μ.
@@ -151,7 +154,10 @@ impl Friction {
             Some(Ok(c)) => Self {
                 mu: Some(c.mu),
                 nominal,
-                source: FrictionSource::Calibrated { passes: c.passes },
+                source: FrictionSource::Calibrated {
+                    passes: c.passes,
+                    by_launch: c.by_launch,
+                },
                 why_not_calibrated: None,
             },
         }
@@ -167,14 +173,19 @@ impl Friction {
         matches!(self.source, FrictionSource::Calibrated { .. })
     }
 
-    /// The μ in force in a few words: "μ 0.281 from 5 passes", "μ 0.300 entered 2026-10-02",
-    /// "nominal μ 0.350".
+    /// The μ in force in a few words: "μ 0.281 from 5 passes", "μ 0.289 from 5 passes, 1 read
+    /// from the whole launch", "μ 0.300 entered 2026-10-02", "nominal μ 0.350".
     pub fn short(&self) -> String {
         match &self.source {
-            FrictionSource::Calibrated { passes } => format!(
-                "μ {:.3} from {passes} {}",
+            FrictionSource::Calibrated { passes, by_launch } => format!(
+                "μ {:.3} from {}{}",
                 self.value(),
-                if *passes == 1 { "pass" } else { "passes" }
+                clutch::quantity::counted(*passes as f64, "pass", "passes"),
+                if *by_launch > 0 {
+                    format!(", {by_launch} read from the whole launch")
+                } else {
+                    String::new()
+                }
             ),
             FrictionSource::Entered { on } => format!("μ {:.3} entered {on}", self.value()),
             FrictionSource::Nominal => format!("nominal μ {:.3}", self.value()),

@@ -39,6 +39,7 @@ pub fn summary(c: &BuildCalibration) -> CalibrationSummary {
     CalibrationSummary {
         mu: c.report.mu,
         passes: c.report.n,
+        by_launch: c.by_launch,
         drifting: c.drifting,
     }
 }

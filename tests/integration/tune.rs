@@ -583,6 +583,14 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
         page.body.contains(&format!("{mu:.3} (whole launch)")),
         "the pass row says so"
     );
+    // The friction in force says so wherever it is named (here the build page's setup card).
+    let build_page = client.get("/builds/1").await;
+    assert!(
+        build_page
+            .body
+            .contains("from 5 passes, 1 read from the whole launch"),
+        "the friction in force names the whole launch"
+    );
 
     // 3700 rpm from a 4500 rpm launch: 17.8 % below [derived], typed without a log.
     client

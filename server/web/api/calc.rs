@@ -196,7 +196,7 @@ pub async fn build_capacity(
     let report = clutch::capacity::report::capacity(&request).map_err(invalid)?;
     let f = &now.friction;
     let (source, passes) = match f.source {
-        FrictionSource::Calibrated { passes } => ("calibrated", Some(passes)),
+        FrictionSource::Calibrated { passes, .. } => ("calibrated", Some(passes)),
         FrictionSource::Entered { .. } => ("entered", None),
         FrictionSource::Nominal => ("nominal", None),
     };
