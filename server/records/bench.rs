@@ -3,7 +3,7 @@
 use super::measure::{Force, Length};
 use serde::Deserialize;
 
-use super::field::{self, Ctx, Field, Record, Value, parse_number};
+use super::field::{self, Ctx, Field, Record, Value, field, parse_number};
 use super::{Checked, FieldErrors, FormData};
 use clutch::quantity::{Bound, Kind, Limit, limits};
 use clutch::units::Units;
@@ -175,26 +175,8 @@ impl BenchInput {
 impl Record for BenchInput {
     const WHOLE_ROW: bool = false;
     const FIELDS: &'static [Field<Self>] = &[
-        Field {
-            column: "tested_on",
-            form: "tested_on",
-            label: "Date",
-            value: Value::Date {
-                get: |r| &r.tested_on,
-                set: |r, v| r.tested_on = v,
-            },
-        },
-        Field {
-            column: "note",
-            form: "note",
-            label: "Note",
-            value: Value::Text {
-                max_chars: 2000,
-                required: false,
-                get: |r| &r.note,
-                set: |r, v| r.note = v,
-            },
-        },
+        field!(date tested_on, "tested_on", "Date"),
+        field!(text note, "note", "Note", 2000),
     ];
 
     fn check_more(&mut self, ctx: &Ctx, errors: &mut FieldErrors) {
@@ -251,6 +233,7 @@ impl Record for SpringReading {
             column: "position",
             form: "position",
             label: "Spring",
+            hint: "",
             value: Value::Whole {
                 limit: Limit::new(
                     Kind::Count,
@@ -262,39 +245,12 @@ impl Record for SpringReading {
                 set: |r, v| r.position = Some(v),
             },
         },
-        Field {
-            column: "free_length_mm",
-            form: "free_length",
-            label: "Free length",
-            value: Value::Number {
-                limit: limits::SPRING_FREE_LENGTH,
-                required: false,
-                get: |r| r.free_length_mm.map(Length::mm),
-                set: |r, v| r.free_length_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "compression_mm",
-            form: "compression",
-            label: "Compression",
-            value: Value::Number {
-                limit: limits::SPRING_COMPRESSION,
-                required: true,
-                get: |r| Some(r.compression_mm.mm()),
-                set: |r, v| r.compression_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
-            },
-        },
-        Field {
-            column: "force_n",
-            form: "force",
-            label: "Force",
-            value: Value::Number {
-                limit: limits::SPRING_FORCE,
-                required: true,
-                get: |r| Some(r.force_n.n()),
-                set: |r, v| r.force_n = Force::from_n(v.unwrap_or(f64::NAN)),
-            },
-        },
+        field!(number free_length_mm, "free_length", "Free length", limits::SPRING_FREE_LENGTH),
+        field!(
+            number compression_mm, "compression", "Compression", limits::SPRING_COMPRESSION,
+            required
+        ),
+        field!(number force_n, "force", "Force", limits::SPRING_FORCE, required),
     ];
 }
 

@@ -3,7 +3,7 @@
 use super::measure::{Grams, Length, LeverGain, SpringRate};
 use serde::{Deserialize, Serialize};
 
-use super::field::{self, Ctx, Field, Record, Value};
+use super::field::{self, Ctx, Field, Record, Value, field};
 use super::{Checked, FieldErrors};
 use clutch::capacity::friction::FacingMaterial;
 use clutch::quantity::limits;
@@ -118,262 +118,81 @@ impl BuildInput {
 
 impl Record for BuildInput {
     const FIELDS: &'static [Field<Self>] = &[
-        Field {
-            column: "label",
-            form: "label",
-            label: "Name for this build",
-            value: Value::Text {
-                max_chars: 120,
-                required: false,
-                get: |r| &r.label,
-                set: |r, v| r.label = v,
-            },
-        },
-        Field {
-            column: "disc_count",
-            form: "disc_count",
-            label: "Discs",
-            value: Value::Whole {
-                limit: limits::DISC_COUNT,
-                default: None,
-                get: |r| r.disc_count,
-                set: |r, v| r.disc_count = v,
-            },
-        },
-        Field {
-            column: "facing_material",
-            form: "facing_material",
-            label: "Facing material",
-            value: Value::Choice {
-                options: &FacingMaterial::CHOICES,
-                get: |r| &r.facing_material,
-                set: |r, v| r.facing_material = v,
-            },
-        },
-        Field {
-            column: "facing_od_mm",
-            form: "facing_od",
-            label: "Facing outer diameter",
-            value: Value::Number {
-                limit: limits::FACING_DIAMETER,
-                required: true,
-                get: |r| Some(r.facing_od_mm.mm()),
-                set: |r, v| r.facing_od_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
-            },
-        },
-        Field {
-            column: "facing_id_mm",
-            form: "facing_id",
-            label: "Facing inner diameter",
-            value: Value::Number {
-                limit: limits::FACING_DIAMETER,
-                required: true,
-                get: |r| Some(r.facing_id_mm.mm()),
-                set: |r, v| r.facing_id_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
-            },
-        },
-        Field {
-            column: "disc_thickness_new_mm",
-            form: "disc_thickness_new",
-            label: "Disc thickness, new",
-            value: Value::Number {
-                limit: limits::DISC_THICKNESS,
-                required: false,
-                get: |r| r.disc_thickness_new_mm.map(Length::mm),
-                set: |r, v| r.disc_thickness_new_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "disc_thickness_min_mm",
-            form: "disc_thickness_min",
-            label: "Disc thickness, minimum",
-            value: Value::Number {
-                limit: limits::DISC_THICKNESS,
-                required: false,
-                get: |r| r.disc_thickness_min_mm.map(Length::mm),
-                set: |r, v| r.disc_thickness_min_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "spring_count",
-            form: "spring_count",
-            label: "Springs",
-            value: Value::Whole {
-                limit: limits::SPRING_COUNT,
-                default: None,
-                get: |r| r.spring_count,
-                set: |r, v| r.spring_count = v,
-            },
-        },
-        Field {
-            column: "spring_description",
-            form: "spring_description",
-            label: "Spring part description",
-            value: Value::Text {
-                max_chars: 200,
-                required: false,
-                get: |r| &r.spring_description,
-                set: |r, v| r.spring_description = v,
-            },
-        },
-        Field {
-            column: "spring_rate_n_per_mm",
-            form: "spring_rate",
-            label: "Nominal spring rate",
-            value: Value::Number {
-                limit: limits::SPRING_RATE,
-                required: false,
-                get: |r| r.spring_rate_n_per_mm.map(SpringRate::n_per_mm),
-                set: |r, v| r.spring_rate_n_per_mm = v.map(SpringRate::from_n_per_mm),
-            },
-        },
-        Field {
-            column: "spring_solid_height_mm",
-            form: "spring_solid_height",
-            label: "Spring solid height",
-            value: Value::Number {
-                limit: limits::SPRING_FREE_LENGTH,
-                required: false,
-                get: |r| r.spring_solid_height_mm.map(Length::mm),
-                set: |r, v| r.spring_solid_height_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "release_travel_mm",
-            form: "release_travel",
-            label: "Spring release travel",
-            value: Value::Number {
-                limit: limits::RELEASE_TRAVEL,
-                required: false,
-                get: |r| r.release_travel_mm.map(Length::mm),
-                set: |r, v| r.release_travel_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "adjuster_tpi",
-            form: "adjuster_tpi",
-            label: "Adjuster thread, threads per inch",
-            value: Value::Number {
-                limit: limits::ADJUSTER_TPI,
-                required: false,
-                get: |r| r.adjuster_tpi,
-                set: |r, v| r.adjuster_tpi = v,
-            },
-        },
-        Field {
-            column: "adjuster_pitch_mm",
-            form: "adjuster_pitch",
-            label: "Adjuster thread, metric pitch",
-            value: Value::Number {
-                limit: limits::ADJUSTER_PITCH,
-                required: false,
-                get: |r| r.adjuster_pitch_mm.map(Length::mm),
-                set: |r, v| r.adjuster_pitch_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "base_compression_mm",
-            form: "base_compression",
-            label: "Base compression",
-            value: Value::Number {
-                limit: limits::BASE_COMPRESSION,
-                required: false,
-                get: |r| r.base_compression_mm.map(Length::mm),
-                set: |r, v| r.base_compression_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "cover_height_free_mm",
-            form: "cover_height_free",
-            label: "Cover height, springs free",
-            value: Value::Number {
-                limit: limits::COVER_HEIGHT,
-                required: false,
-                get: |r| r.cover_height_free_mm.map(Length::mm),
-                set: |r, v| r.cover_height_free_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "cover_height_installed_mm",
-            form: "cover_height_installed",
-            label: "Cover height, installed",
-            value: Value::Number {
-                limit: limits::COVER_HEIGHT,
-                required: false,
-                get: |r| r.cover_height_installed_mm.map(Length::mm),
-                set: |r, v| r.cover_height_installed_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "lever_count",
-            form: "lever_count",
-            label: "Levers",
-            value: Value::Whole {
-                limit: limits::LEVER_COUNT,
-                default: Some(0),
-                get: |r| r.lever_count,
-                set: |r, v| r.lever_count = v,
-            },
-        },
-        Field {
-            column: "lever_mass_g",
-            form: "lever_mass_g",
-            label: "Lever mass (each)",
-            value: Value::Number {
-                limit: limits::LEVER_MASS,
-                required: false,
-                get: |r| Some(r.lever_mass_g.g()),
-                set: |r, v| r.lever_mass_g = Grams::from_g(v.unwrap_or(0.0)),
-            },
-        },
-        Field {
-            column: "lever_cg_radius_mm",
-            form: "lever_cg_radius",
-            label: "Lever CG radius",
-            value: Value::Number {
-                limit: limits::LEVER_CG_RADIUS,
-                required: false,
-                get: |r| r.lever_cg_radius_mm.map(Length::mm),
-                set: |r, v| r.lever_cg_radius_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "lever_arm_ratio",
-            form: "lever_arm_ratio",
-            label: "Lever arm ratio",
-            value: Value::Number {
-                limit: limits::LEVER_ARM_RATIO,
-                required: false,
-                get: |r| r.lever_arm_ratio,
-                set: |r, v| r.lever_arm_ratio = v,
-            },
-        },
-        Field {
-            column: "lever_body_cg_radius_mm",
-            form: "lever_body_cg_radius",
-            label: "Lever body CG radius",
-            value: Value::Number {
-                limit: limits::LEVER_CG_RADIUS,
-                required: false,
-                get: |r| r.lever_body_cg_radius_mm.map(Length::mm),
-                set: |r, v| r.lever_body_cg_radius_mm = v.map(Length::from_mm),
-            },
-        },
-        Field {
-            column: "lever_gain_n_per_g",
-            form: "lever_gain",
-            label: "Measured lever gain (per g at 1000 rpm)",
-            value: Value::Number {
-                limit: limits::LEVER_GAIN,
-                required: false,
-                get: |r| r.lever_gain_n_per_g.map(LeverGain::n_per_g),
-                set: |r, v| r.lever_gain_n_per_g = v.map(LeverGain::from_n_per_g),
-            },
-        },
+        field!(text label, "label", "Name for this build", 120),
+        field!(whole disc_count, "disc_count", "Discs", limits::DISC_COUNT),
+        field!(
+            choice facing_material, "facing_material", "Facing material", &FacingMaterial::CHOICES
+        ),
+        field!(
+            number facing_od_mm, "facing_od", "Facing outer diameter", limits::FACING_DIAMETER,
+            required
+        ),
+        field!(
+            number facing_id_mm, "facing_id", "Facing inner diameter", limits::FACING_DIAMETER,
+            required
+        ),
+        field!(
+            number disc_thickness_new_mm, "disc_thickness_new", "Disc thickness, new",
+            limits::DISC_THICKNESS
+        ),
+        field!(
+            number disc_thickness_min_mm, "disc_thickness_min", "Disc thickness, minimum",
+            limits::DISC_THICKNESS
+        ),
+        field!(whole spring_count, "spring_count", "Springs", limits::SPRING_COUNT),
+        field!(text spring_description, "spring_description", "Spring part description", 200),
+        field!(
+            number spring_rate_n_per_mm, "spring_rate", "Nominal spring rate", limits::SPRING_RATE
+        ),
+        field!(
+            number spring_solid_height_mm, "spring_solid_height", "Spring solid height",
+            limits::SPRING_FREE_LENGTH
+        ),
+        field!(
+            number release_travel_mm, "release_travel", "Spring release travel",
+            limits::RELEASE_TRAVEL
+        ),
+        field!(
+            number adjuster_tpi, "adjuster_tpi", "Adjuster thread, threads per inch",
+            limits::ADJUSTER_TPI
+        ),
+        field!(
+            number adjuster_pitch_mm, "adjuster_pitch", "Adjuster thread, metric pitch",
+            limits::ADJUSTER_PITCH
+        ),
+        field!(
+            number base_compression_mm, "base_compression", "Base compression",
+            limits::BASE_COMPRESSION
+        ),
+        field!(
+            number cover_height_free_mm, "cover_height_free", "Cover height, springs free",
+            limits::COVER_HEIGHT
+        ),
+        field!(
+            number cover_height_installed_mm, "cover_height_installed", "Cover height, installed",
+            limits::COVER_HEIGHT
+        ),
+        field!(whole lever_count, "lever_count", "Levers", limits::LEVER_COUNT, default 0),
+        field!(number lever_mass_g, "lever_mass_g", "Lever mass (each)", limits::LEVER_MASS),
+        field!(
+            number lever_cg_radius_mm, "lever_cg_radius", "Lever CG radius", limits::LEVER_CG_RADIUS
+        ),
+        field!(
+            number lever_arm_ratio, "lever_arm_ratio", "Lever arm ratio", limits::LEVER_ARM_RATIO
+        ),
+        field!(
+            number lever_body_cg_radius_mm, "lever_body_cg_radius", "Lever body CG radius",
+            limits::LEVER_CG_RADIUS
+        ),
+        field!(
+            number lever_gain_n_per_g, "lever_gain", "Measured lever gain (per g at 1000 rpm)",
+            limits::LEVER_GAIN
+        ),
         Field {
             column: "shim_stack_mm",
             form: "shim_stack",
             label: "Shim stack",
+            hint: "",
             value: Value::List {
                 limit: limits::SHIM,
                 max_items: limits::SHIM_COUNT,
@@ -382,38 +201,21 @@ impl Record for BuildInput {
                 set: |r, v| r.shim_stack_mm = v.into_iter().map(Length::from_mm).collect(),
             },
         },
-        Field {
-            column: "shimming_limit_mm",
-            form: "shimming_limit",
-            label: "Shimming limit",
-            value: Value::Number {
-                limit: limits::SHIMMING_LIMIT,
-                required: false,
-                get: |r| r.shimming_limit_mm.map(Length::mm),
-                set: |r, v| r.shimming_limit_mm = v.map(Length::from_mm),
-            },
-        },
+        field!(
+            number shimming_limit_mm, "shimming_limit", "Shimming limit", limits::SHIMMING_LIMIT
+        ),
         Field {
             column: "status",
             form: "status",
             label: "Status",
+            hint: "",
             value: Value::Choice {
                 options: &[("active", "active"), ("retired", "retired")],
                 get: |r| &r.status,
                 set: |r, v| r.status = if v.is_empty() { "active".into() } else { v },
             },
         },
-        Field {
-            column: "notes",
-            form: "notes",
-            label: "Notes",
-            value: Value::Text {
-                max_chars: 4000,
-                required: false,
-                get: |r| &r.notes,
-                set: |r, v| r.notes = v,
-            },
-        },
+        field!(text notes, "notes", "Notes", 4000),
     ];
 
     fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {

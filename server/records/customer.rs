@@ -3,7 +3,7 @@
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
-use super::field::{Ctx, Field, Record, Value};
+use super::field::{Ctx, Field, Record, field};
 
 #[derive(
     Debug, Clone, Default, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema,
@@ -18,50 +18,10 @@ pub struct CustomerInput {
 
 impl Record for CustomerInput {
     const FIELDS: &'static [Field<Self>] = &[
-        Field {
-            column: "name",
-            form: "name",
-            label: "Name",
-            value: Value::Text {
-                max_chars: 120,
-                required: true,
-                get: |r| &r.name,
-                set: |r, v| r.name = v,
-            },
-        },
-        Field {
-            column: "phone",
-            form: "phone",
-            label: "Phone",
-            value: Value::Text {
-                max_chars: 40,
-                required: false,
-                get: |r| &r.phone,
-                set: |r, v| r.phone = v,
-            },
-        },
-        Field {
-            column: "email",
-            form: "email",
-            label: "Email",
-            value: Value::Text {
-                max_chars: 120,
-                required: false,
-                get: |r| &r.email,
-                set: |r, v| r.email = v,
-            },
-        },
-        Field {
-            column: "notes",
-            form: "notes",
-            label: "Notes",
-            value: Value::Text {
-                max_chars: 4000,
-                required: false,
-                get: |r| &r.notes,
-                set: |r, v| r.notes = v,
-            },
-        },
+        field!(text name, "name", "Name", 120, required),
+        field!(text phone, "phone", "Phone", 40),
+        field!(text email, "email", "Email", 120),
+        field!(text notes, "notes", "Notes", 4000),
     ];
 
     fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {

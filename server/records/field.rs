@@ -6,6 +6,9 @@
 use serde_json::Value as Json;
 
 use super::date::Date;
+use super::measure::{
+    EngineSpeed, Force, Grams, Length, LeverGain, Mass, Seconds, SpringRate, Temperature, Torque,
+};
 use super::{FieldErrors, FormData};
 use clutch::quantity::{Kind, Limit};
 use clutch::units::Units;
@@ -26,7 +29,165 @@ pub struct Field<R: 'static> {
     pub form: &'static str,
     /// What people call it ("Facing outer diameter").
     pub label: &'static str,
+    /// More words a form shows after the label ("optional; blank counts as 0"); empty for none.
+    pub hint: &'static str,
     pub value: Value<R>,
+}
+
+impl<R> Field<R> {
+    /// The same field with `hint` shown after its label on forms.
+    pub const fn hint(mut self, hint: &'static str) -> Self {
+        self.hint = hint;
+        self
+    }
+}
+
+/// Declares one field of a record from the record's own field name, which is also its column
+/// and its JSON name; the accessors are written from that name:
+///
+/// - `field!(text name, "name", "Name", 120, required)`: at most 120 characters; without
+///   `required`, it may stay empty;
+/// - `field!(number facing_od_mm, "facing_od", "Facing outer diameter", limits::FACING_DIAMETER,
+///   required)`: a measured value, held as [`NumberSlot`] says;
+/// - `field!(whole disc_count, "disc_count", "Discs", limits::DISC_COUNT, default 1)`: a whole
+///   number; without a default, required;
+/// - `field!(date run_on, "run_on", "Date")`, `field!(flag ..)`, `field!(curve ..)` and
+///   `field!(choice facing_material, "facing_material", "Facing material", &CHOICES)`.
+///
+/// A field read or written any other way is declared as a [`Field`] literal.
+macro_rules! field {
+    (@required) => { false };
+    (@required required) => { true };
+    (@default) => { None };
+    (@default $d:expr) => { Some($d) };
+    (@field $col:ident, $form:literal, $label:literal, $value:expr) => {
+        $crate::records::field::Field {
+            column: stringify!($col),
+            form: $form,
+            label: $label,
+            hint: "",
+            value: $value,
+        }
+    };
+    (text $col:ident, $form:literal, $label:literal, $max:expr $(, $req:ident)?) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Text {
+            max_chars: $max,
+            required: field!(@required $($req)?),
+            get: |r| &r.$col,
+            set: |r, v| r.$col = v,
+        })
+    };
+    (number $col:ident, $form:literal, $label:literal, $limit:expr $(, $req:ident)?) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Number {
+            limit: $limit,
+            required: field!(@required $($req)?),
+            get: |r| $crate::records::field::NumberSlot::read(&r.$col),
+            set: |r, v| $crate::records::field::NumberSlot::write(&mut r.$col, v),
+        })
+    };
+    (whole $col:ident, $form:literal, $label:literal, $limit:expr $(, default $d:expr)?) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Whole {
+            limit: $limit,
+            default: field!(@default $($d)?),
+            get: |r| r.$col,
+            set: |r, v| r.$col = v,
+        })
+    };
+    (date $col:ident, $form:literal, $label:literal) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Date {
+            get: |r| &r.$col,
+            set: |r, v| r.$col = v,
+        })
+    };
+    (choice $col:ident, $form:literal, $label:literal, $options:expr) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Choice {
+            options: $options,
+            get: |r| &r.$col,
+            set: |r, v| r.$col = v,
+        })
+    };
+    (flag $col:ident, $form:literal, $label:literal) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Flag {
+            get: |r| r.$col,
+            set: |r, v| r.$col = v,
+        })
+    };
+    (curve $col:ident, $form:literal, $label:literal) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Curve {
+            get: |r| &r.$col,
+            set: |r, v| r.$col = v,
+        })
+    };
+}
+pub(crate) use field;
+
+/// How a record holds a measured number, in its internal unit: an optional value is `None`
+/// when blank; a required one holds NaN until its check refuses the blank; a counterweight
+/// or lever mass left blank weighs nothing.
+pub trait NumberSlot {
+    fn read(&self) -> Option<f64>;
+    fn write(&mut self, v: Option<f64>);
+}
+
+impl NumberSlot for f64 {
+    fn read(&self) -> Option<f64> {
+        Some(*self)
+    }
+    fn write(&mut self, v: Option<f64>) {
+        *self = v.unwrap_or(f64::NAN);
+    }
+}
+
+impl NumberSlot for Option<f64> {
+    fn read(&self) -> Option<f64> {
+        *self
+    }
+    fn write(&mut self, v: Option<f64>) {
+        *self = v;
+    }
+}
+
+impl NumberSlot for Grams {
+    fn read(&self) -> Option<f64> {
+        Some(self.g())
+    }
+    fn write(&mut self, v: Option<f64>) {
+        *self = Grams::from_g(v.unwrap_or(0.0));
+    }
+}
+
+macro_rules! number_slot {
+    ($($q:ident: $unit:ident, $from:ident;)*) => {$(
+        impl NumberSlot for $q {
+            fn read(&self) -> Option<f64> {
+                Some(self.$unit())
+            }
+            fn write(&mut self, v: Option<f64>) {
+                *self = $q::$from(v.unwrap_or(f64::NAN));
+            }
+        }
+
+        impl NumberSlot for Option<$q> {
+            fn read(&self) -> Option<f64> {
+                self.map($q::$unit)
+            }
+            fn write(&mut self, v: Option<f64>) {
+                *self = v.map($q::$from);
+            }
+        }
+    )*};
+}
+
+number_slot! {
+    Length: mm, from_mm;
+    Force: n, from_n;
+    SpringRate: n_per_mm, from_n_per_mm;
+    Torque: nm, from_nm;
+    Mass: kg, from_kg;
+    LeverGain: n_per_g, from_n_per_g;
+    EngineSpeed: rpm, from_rpm;
+    Temperature: c, from_c;
+    Seconds: s, from_s;
 }
 
 /// The kind of value a field holds, how to reach it on the record, and its rules.

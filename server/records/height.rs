@@ -3,7 +3,7 @@
 use super::measure::Length;
 use serde::{Deserialize, Serialize};
 
-use super::field::{self, Ctx, Field, Record, Value};
+use super::field::{self, Ctx, Field, Record, Value, field};
 use super::{Checked, FieldErrors};
 use clutch::quantity::{Bound, Kind, Limit, counted, limits};
 use clutch::units::Units;
@@ -67,41 +67,14 @@ impl AsRef<HeightInput> for HeightInput {
 
 impl Record for HeightInput {
     const FIELDS: &'static [Field<Self>] = &[
-        Field {
-            column: "measured_on",
-            form: "measured_on",
-            label: "Date",
-            value: Value::Date {
-                get: |r| &r.measured_on,
-                set: |r, v| r.measured_on = v,
-            },
-        },
-        Field {
-            column: "height_mm",
-            form: "height",
-            label: "Cover height",
-            value: Value::Number {
-                limit: limits::COVER_HEIGHT,
-                required: true,
-                get: |r| Some(r.height_mm.mm()),
-                set: |r, v| r.height_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
-            },
-        },
-        Field {
-            column: "passes",
-            form: "passes",
-            label: "Passes on this disc",
-            value: Value::Whole {
-                limit: limits::PASSES,
-                default: None,
-                get: |r| r.passes,
-                set: |r, v| r.passes = v,
-            },
-        },
+        field!(date measured_on, "measured_on", "Date"),
+        field!(number height_mm, "height", "Cover height", limits::COVER_HEIGHT, required),
+        field!(whole passes, "passes", "Passes on this disc", limits::PASSES),
         Field {
             column: "shims_pulled",
             form: "shims_pulled",
             label: "Shims pulled",
+            hint: "",
             value: Value::Whole {
                 limit: Limit::new(
                     Kind::Count,
@@ -113,26 +86,8 @@ impl Record for HeightInput {
                 set: |r, v| r.shims_pulled = v,
             },
         },
-        Field {
-            column: "new_disc",
-            form: "new_disc",
-            label: "New disc fitted",
-            value: Value::Flag {
-                get: |r| r.new_disc,
-                set: |r, v| r.new_disc = v,
-            },
-        },
-        Field {
-            column: "note",
-            form: "note",
-            label: "Note",
-            value: Value::Text {
-                max_chars: 2000,
-                required: false,
-                get: |r| &r.note,
-                set: |r, v| r.note = v,
-            },
-        },
+        field!(flag new_disc, "new_disc", "New disc fitted"),
+        field!(text note, "note", "Note", 2000),
     ];
 }
 

@@ -4,7 +4,7 @@ use super::measure::{EngineSpeed, Seconds, Temperature};
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
-use super::field::{Ctx, Field, Record, Value};
+use super::field::{Ctx, Field, Record, field};
 use clutch::quantity::limits;
 
 #[derive(
@@ -30,114 +30,19 @@ pub struct PassInput {
 
 impl Record for PassInput {
     const FIELDS: &'static [Field<Self>] = &[
-        Field {
-            column: "run_on",
-            form: "run_on",
-            label: "Date",
-            value: Value::Date {
-                get: |r| &r.run_on,
-                set: |r, v| r.run_on = v,
-            },
-        },
-        Field {
-            column: "run_at",
-            form: "run_at",
-            label: "Time of day (HH:MM)",
-            value: Value::Text {
-                max_chars: 5,
-                required: false,
-                get: |r| &r.run_at,
-                set: |r, v| r.run_at = v,
-            },
-        },
-        Field {
-            column: "track",
-            form: "track",
-            label: "Track",
-            value: Value::Text {
-                max_chars: 120,
-                required: false,
-                get: |r| &r.track,
-                set: |r, v| r.track = v,
-            },
-        },
-        Field {
-            column: "launch_rpm",
-            form: "launch_rpm",
-            label: "Launch speed",
-            value: Value::Number {
-                limit: limits::ENGINE_SPEED,
-                required: false,
-                get: |r| r.launch_rpm.map(EngineSpeed::rpm),
-                set: |r, v| r.launch_rpm = v.map(EngineSpeed::from_rpm),
-            },
-        },
-        Field {
-            column: "sixty_ft_s",
-            form: "sixty_ft",
-            label: "60-ft",
-            value: Value::Number {
-                limit: limits::SIXTY_FT,
-                required: false,
-                get: |r| r.sixty_ft_s.map(Seconds::s),
-                set: |r, v| r.sixty_ft_s = v.map(Seconds::from_s),
-            },
-        },
-        Field {
-            column: "et_s",
-            form: "et",
-            label: "ET",
-            value: Value::Number {
-                limit: limits::ET,
-                required: false,
-                get: |r| r.et_s.map(Seconds::s),
-                set: |r, v| r.et_s = v.map(Seconds::from_s),
-            },
-        },
-        Field {
-            column: "observed_lockup_rpm",
-            form: "observed_lockup_rpm",
-            label: "Lockup seen in the data log",
-            value: Value::Number {
-                limit: limits::ENGINE_SPEED,
-                required: false,
-                get: |r| r.observed_lockup_rpm.map(EngineSpeed::rpm),
-                set: |r, v| r.observed_lockup_rpm = v.map(EngineSpeed::from_rpm),
-            },
-        },
-        Field {
-            column: "lockup_time_s",
-            form: "lockup_time",
-            label: "Lock time after launch",
-            value: Value::Number {
-                limit: limits::LOCKUP_TIME,
-                required: false,
-                get: |r| r.lockup_time_s.map(Seconds::s),
-                set: |r, v| r.lockup_time_s = v.map(Seconds::from_s),
-            },
-        },
-        Field {
-            column: "ambient_c",
-            form: "ambient",
-            label: "Air temperature",
-            value: Value::Number {
-                limit: limits::AMBIENT_TEMPERATURE,
-                required: false,
-                get: |r| r.ambient_c.map(Temperature::c),
-                set: |r, v| r.ambient_c = v.map(Temperature::from_c),
-            },
-        },
-        Field {
-            column: "notes",
-            form: "notes",
-            label: "Notes",
-            value: Value::Text {
-                max_chars: 2000,
-                required: false,
-                get: |r| &r.notes,
-                set: |r, v| r.notes = v,
-            },
-        },
+        field!(date run_on, "run_on", "Date"),
+        field!(text run_at, "run_at", "Time of day (HH:MM)", 5),
+        field!(text track, "track", "Track", 120),
+        field!(number launch_rpm, "launch_rpm", "Launch speed", limits::ENGINE_SPEED),
+        field!(number sixty_ft_s, "sixty_ft", "60-ft", limits::SIXTY_FT),
+        field!(number et_s, "et", "ET", limits::ET),
+        field!(
+            number observed_lockup_rpm, "observed_lockup_rpm", "Lockup seen in the data log",
+            limits::ENGINE_SPEED
+        ),
+        field!(number lockup_time_s, "lockup_time", "Lock time after launch", limits::LOCKUP_TIME),
+        field!(number ambient_c, "ambient", "Air temperature", limits::AMBIENT_TEMPERATURE),
+        field!(text notes, "notes", "Notes", 2000),
     ];
 
     fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {

@@ -6,7 +6,7 @@ use serde::{Deserialize, Serialize};
 use super::FieldErrors;
 use super::customer::check_email;
 use super::date::ShopZone;
-use super::field::{Ctx, Field, Record, Value};
+use super::field::{Ctx, Field, Record, Value, field};
 use clutch::quantity::limits;
 use clutch::units::Units;
 
@@ -112,119 +112,35 @@ impl SettingsInput {
 
 impl Record for SettingsInput {
     const FIELDS: &'static [Field<Self>] = &[
-        Field {
-            column: "name",
-            form: "name",
-            label: "Shop name",
-            value: Value::Text {
-                max_chars: 120,
-                required: true,
-                get: |r| &r.name,
-                set: |r, v| r.name = v,
-            },
-        },
-        Field {
-            column: "phone",
-            form: "phone",
-            label: "Phone",
-            value: Value::Text {
-                max_chars: 40,
-                required: false,
-                get: |r| &r.phone,
-                set: |r, v| r.phone = v,
-            },
-        },
-        Field {
-            column: "email",
-            form: "email",
-            label: "Email",
-            value: Value::Text {
-                max_chars: 120,
-                required: false,
-                get: |r| &r.email,
-                set: |r, v| r.email = v,
-            },
-        },
-        Field {
-            column: "address",
-            form: "address",
-            label: "Address",
-            value: Value::Text {
-                max_chars: 400,
-                required: false,
-                get: |r| &r.address,
-                set: |r, v| r.address = v,
-            },
-        },
-        Field {
-            column: "units",
-            form: "units",
-            label: "Units",
-            value: Value::Choice {
-                options: &[("imperial", "imperial"), ("metric", "metric")],
-                get: |r| &r.units,
-                set: |r, v| r.units = v,
-            },
-        },
-        Field {
-            column: "spring_spread_pct",
-            form: "spring_spread_pct",
-            label: "Spring spread flag",
-            value: Value::Number {
-                limit: limits::SPRING_SPREAD,
-                required: true,
-                get: |r| Some(r.spring_spread_pct),
-                set: |r, v| r.spring_spread_pct = v.unwrap_or(f64::NAN),
-            },
-        },
-        Field {
-            column: "spring_sag_pct",
-            form: "spring_sag_pct",
-            label: "Spring sag flag",
-            value: Value::Number {
-                limit: limits::SPRING_SAG,
-                required: true,
-                get: |r| Some(r.spring_sag_pct),
-                set: |r, v| r.spring_sag_pct = v.unwrap_or(f64::NAN),
-            },
-        },
-        Field {
-            column: "shimming_limit_mm",
-            form: "shimming_limit",
-            label: "Shimming limit",
-            value: Value::Number {
-                limit: limits::SHIMMING_LIMIT,
-                required: true,
-                get: |r| Some(r.shimming_limit_mm.mm()),
-                set: |r, v| r.shimming_limit_mm = Length::from_mm(v.unwrap_or(f64::NAN)),
-            },
-        },
-        Field {
-            column: "overclamp_factor",
-            form: "overclamp_factor",
-            label: "Over-clamp warning factor",
-            value: Value::Number {
-                limit: limits::OVERCLAMP_FACTOR,
-                required: true,
-                get: |r| Some(r.overclamp_factor),
-                set: |r, v| r.overclamp_factor = v.unwrap_or(f64::NAN),
-            },
-        },
-        Field {
-            column: "due_within_passes",
-            form: "due_within_passes",
-            label: "List work due within",
-            value: Value::Whole {
-                limit: limits::DUE_WITHIN_PASSES,
-                default: None,
-                get: |r| r.due_within_passes,
-                set: |r, v| r.due_within_passes = v,
-            },
-        },
+        field!(text name, "name", "Shop name", 120, required),
+        field!(text phone, "phone", "Phone", 40),
+        field!(text email, "email", "Email", 120),
+        field!(text address, "address", "Address", 400),
+        field!(choice units, "units", "Units", &[("imperial", "imperial"), ("metric", "metric")]),
+        field!(
+            number spring_spread_pct, "spring_spread_pct", "Spring spread flag",
+            limits::SPRING_SPREAD, required
+        ),
+        field!(
+            number spring_sag_pct, "spring_sag_pct", "Spring sag flag", limits::SPRING_SAG, required
+        ),
+        field!(
+            number shimming_limit_mm, "shimming_limit", "Shimming limit", limits::SHIMMING_LIMIT,
+            required
+        ),
+        field!(
+            number overclamp_factor, "overclamp_factor", "Over-clamp warning factor",
+            limits::OVERCLAMP_FACTOR, required
+        ),
+        field!(
+            whole due_within_passes, "due_within_passes", "List work due within",
+            limits::DUE_WITHIN_PASSES
+        ),
         Field {
             column: "extra_face_efficiency",
             form: "extra_face_efficiency",
             label: "Torque share of each extra face",
+            hint: "",
             value: Value::Number {
                 limit: limits::EXTRA_FACE_EFFICIENCY,
                 required: false,
@@ -237,6 +153,7 @@ impl Record for SettingsInput {
             column: "bind_margin_mm",
             form: "bind_margin",
             label: "Coil-bind margin",
+            hint: "",
             value: Value::Number {
                 limit: limits::BIND_MARGIN,
                 required: false,
@@ -249,6 +166,7 @@ impl Record for SettingsInput {
             column: "launch_bog_pct",
             form: "launch_bog_pct",
             label: "Clean lock: engine may fall below the launch speed by at most",
+            hint: "",
             value: Value::Number {
                 limit: limits::LAUNCH_BOG,
                 required: false,
@@ -257,17 +175,7 @@ impl Record for SettingsInput {
                 set: |r, v| r.launch_bog_pct = v.unwrap_or_else(default_launch_bog),
             },
         },
-        Field {
-            column: "time_zone",
-            form: "time_zone",
-            label: "Time zone",
-            value: Value::Text {
-                max_chars: 64,
-                required: false,
-                get: |r| &r.time_zone,
-                set: |r, v| r.time_zone = v,
-            },
-        },
+        field!(text time_zone, "time_zone", "Time zone", 64),
     ];
 
     fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {

@@ -4,7 +4,7 @@ use super::measure::Grams;
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
-use super::field::{Ctx, Field, Record, Value};
+use super::field::{Ctx, Field, Record, Value, field};
 use clutch::quantity::{Kind, limits};
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema)]
@@ -53,30 +53,16 @@ impl SetupInput {
 
 impl Record for SetupInput {
     const FIELDS: &'static [Field<Self>] = &[
-        Field {
-            column: "changed_on",
-            form: "changed_on",
-            label: "Date",
-            value: Value::Date {
-                get: |r| &r.changed_on,
-                set: |r, v| r.changed_on = v,
-            },
-        },
-        Field {
-            column: "adjuster_turns",
-            form: "adjuster_turns",
-            label: "Adjuster turns",
-            value: Value::Number {
-                limit: limits::ADJUSTER_TURNS,
-                required: true,
-                get: |r| Some(r.adjuster_turns),
-                set: |r, v| r.adjuster_turns = v.unwrap_or(f64::NAN),
-            },
-        },
+        field!(date changed_on, "changed_on", "Date"),
+        field!(
+            number adjuster_turns, "adjuster_turns", "Adjuster turns", limits::ADJUSTER_TURNS,
+            required
+        ),
         Field {
             column: "adjuster_turns_each",
             form: "adjuster_turns_each",
             label: "Turns of each adjuster",
+            hint: "",
             value: Value::List {
                 limit: limits::ADJUSTER_TURNS,
                 max_items: limits::ADJUSTER_COUNT,
@@ -85,48 +71,13 @@ impl Record for SetupInput {
                 set: |r, v| r.adjuster_turns_each = v,
             },
         },
-        Field {
-            column: "counterweight_g",
-            form: "counterweight_g",
-            label: "Counterweight per lever",
-            value: Value::Number {
-                limit: limits::COUNTERWEIGHT,
-                required: false,
-                get: |r| Some(r.counterweight_g.g()),
-                set: |r, v| r.counterweight_g = Grams::from_g(v.unwrap_or(0.0)),
-            },
-        },
-        Field {
-            column: "mu",
-            form: "mu",
-            label: "Friction μ",
-            value: Value::Number {
-                limit: limits::MU,
-                required: false,
-                get: |r| r.mu,
-                set: |r, v| r.mu = v,
-            },
-        },
-        Field {
-            column: "nominal_mu",
-            form: "nominal_mu",
-            label: "Nominal μ (new disc)",
-            value: Value::Flag {
-                get: |r| r.nominal_mu,
-                set: |r, v| r.nominal_mu = v,
-            },
-        },
-        Field {
-            column: "note",
-            form: "note",
-            label: "Note",
-            value: Value::Text {
-                max_chars: 2000,
-                required: false,
-                get: |r| &r.note,
-                set: |r, v| r.note = v,
-            },
-        },
+        field!(
+            number counterweight_g, "counterweight_g", "Counterweight per lever",
+            limits::COUNTERWEIGHT
+        ),
+        field!(number mu, "mu", "Friction μ", limits::MU),
+        field!(flag nominal_mu, "nominal_mu", "Nominal μ (new disc)"),
+        field!(text note, "note", "Note", 2000),
     ];
 
     fn check_more(&mut self, ctx: &Ctx, errors: &mut FieldErrors) {
