@@ -234,6 +234,7 @@ impl Record for SpringReading {
             form: "position",
             label: "Spring",
             hint: "",
+            unit: "",
             value: Value::Whole {
                 limit: Limit::new(
                     Kind::Count,

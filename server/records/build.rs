@@ -118,7 +118,7 @@ impl BuildInput {
 
 impl Record for BuildInput {
     const FIELDS: &'static [Field<Self>] = &[
-        field!(text label, "label", "Name for this build", 120),
+        field!(text label, "label", "Name for this build", 120).hint("optional"),
         field!(whole disc_count, "disc_count", "Discs", limits::DISC_COUNT),
         field!(
             choice facing_material, "facing_material", "Facing material", &FacingMaterial::CHOICES
@@ -143,15 +143,18 @@ impl Record for BuildInput {
         field!(text spring_description, "spring_description", "Spring part description", 200),
         field!(
             number spring_rate_n_per_mm, "spring_rate", "Nominal spring rate", limits::SPRING_RATE
-        ),
+        )
+        .hint("until bench tested"),
         field!(
             number spring_solid_height_mm, "spring_solid_height", "Spring solid height",
             limits::SPRING_FREE_LENGTH
-        ),
+        )
+        .hint("coils touching; optional: checks coil bind once free lengths are bench tested"),
         field!(
             number release_travel_mm, "release_travel", "Spring release travel",
             limits::RELEASE_TRAVEL
-        ),
+        )
+        .hint("how much further the springs compress at full release; blank counts as 0"),
         field!(
             number adjuster_tpi, "adjuster_tpi", "Adjuster thread, threads per inch",
             limits::ADJUSTER_TPI
@@ -159,11 +162,13 @@ impl Record for BuildInput {
         field!(
             number adjuster_pitch_mm, "adjuster_pitch", "Adjuster thread, metric pitch",
             limits::ADJUSTER_PITCH
-        ),
+        )
+        .hint("instead of threads per inch"),
         field!(
             number base_compression_mm, "base_compression", "Base compression",
             limits::BASE_COMPRESSION
-        ),
+        )
+        .hint("instead of the two cover heights"),
         field!(
             number cover_height_free_mm, "cover_height_free", "Cover height, springs free",
             limits::COVER_HEIGHT
@@ -179,20 +184,24 @@ impl Record for BuildInput {
         ),
         field!(
             number lever_arm_ratio, "lever_arm_ratio", "Lever arm ratio", limits::LEVER_ARM_RATIO
-        ),
+        )
+        .unit(":1"),
         field!(
             number lever_body_cg_radius_mm, "lever_body_cg_radius", "Lever body CG radius",
             limits::LEVER_CG_RADIUS
-        ),
+        )
+        .hint("its own centre of gravity; blank: the lever counts at the CG radius"),
         field!(
             number lever_gain_n_per_g, "lever_gain", "Measured lever gain (per g at 1000 rpm)",
             limits::LEVER_GAIN
-        ),
+        )
+        .hint("instead of the lever mass and radii"),
         Field {
             column: "shim_stack_mm",
             form: "shim_stack",
             label: "Shim stack",
-            hint: "",
+            hint: "in the order they come out, separated by commas",
+            unit: "",
             value: Value::List {
                 limit: limits::SHIM,
                 max_items: limits::SHIM_COUNT,
@@ -203,12 +212,14 @@ impl Record for BuildInput {
         },
         field!(
             number shimming_limit_mm, "shimming_limit", "Shimming limit", limits::SHIMMING_LIMIT
-        ),
+        )
+        .hint("growth before a shim is due"),
         Field {
             column: "status",
             form: "status",
             label: "Status",
             hint: "",
+            unit: "",
             value: Value::Choice {
                 options: &[("active", "active"), ("retired", "retired")],
                 get: |r| &r.status,

@@ -44,7 +44,8 @@ pub struct CarInput {
 
 impl Record for CarInput {
     const FIELDS: &'static [Field<Self>] = &[
-        field!(text description, "description", "Description", 200, required),
+        field!(text description, "description", "Description", 200, required)
+            .hint("body, engine, gearbox"),
         field!(text engine, "engine", "Engine", 200),
         field!(number weight_kg, "weight", "Race weight", limits::VEHICLE_MASS),
         field!(text transmission, "transmission", "Transmission", 200),
@@ -52,12 +53,15 @@ impl Record for CarInput {
             number rated_input_torque_nm, "rated_input_torque", "Rated input torque",
             limits::RATED_TORQUE
         ),
-        field!(number first_gear_ratio, "first_gear_ratio", "First gear ratio", limits::FIRST_GEAR),
+        field!(number first_gear_ratio, "first_gear_ratio", "First gear ratio", limits::FIRST_GEAR)
+            .unit(":1"),
         field!(
             number final_drive_ratio, "final_drive_ratio", "Final drive ratio", limits::FINAL_DRIVE
-        ),
+        )
+        .unit(":1"),
         field!(number tire_diameter_mm, "tire_diameter", "Tire diameter", limits::TIRE_DIAMETER),
-        field!(number launch_rpm, "launch_rpm", "Launch speed", limits::ENGINE_SPEED),
+        field!(number launch_rpm, "launch_rpm", "Launch speed", limits::ENGINE_SPEED)
+            .hint("typical"),
         field!(curve torque_curve_nm, "torque_curve", "Engine torque curve"),
         field!(text notes, "notes", "Notes", 4000),
         field!(

@@ -31,6 +31,9 @@ pub struct Field<R: 'static> {
     pub label: &'static str,
     /// More words a form shows after the label ("optional; blank counts as 0"); empty for none.
     pub hint: &'static str,
+    /// The unit a form shows beside the input when it is not the unit of the value's kind
+    /// (":1" for a gear ratio); empty for the kind's own.
+    pub unit: &'static str,
     pub value: Value<R>,
 }
 
@@ -38,6 +41,12 @@ impl<R> Field<R> {
     /// The same field with `hint` shown after its label on forms.
     pub const fn hint(mut self, hint: &'static str) -> Self {
         self.hint = hint;
+        self
+    }
+
+    /// The same field with `unit` shown beside its input instead of its kind's unit.
+    pub const fn unit(mut self, unit: &'static str) -> Self {
+        self.unit = unit;
         self
     }
 }
@@ -66,6 +75,7 @@ macro_rules! field {
             form: $form,
             label: $label,
             hint: "",
+            unit: "",
             value: $value,
         }
     };
@@ -73,49 +83,49 @@ macro_rules! field {
         field!(@field $col, $form, $label, $crate::records::field::Value::Text {
             max_chars: $max,
             required: field!(@required $($req)?),
-            get: |r| &r.$col,
-            set: |r, v| r.$col = v,
+            get: |r: &Self| &r.$col,
+            set: |r: &mut Self, v| r.$col = v,
         })
     };
     (number $col:ident, $form:literal, $label:literal, $limit:expr $(, $req:ident)?) => {
         field!(@field $col, $form, $label, $crate::records::field::Value::Number {
             limit: $limit,
             required: field!(@required $($req)?),
-            get: |r| $crate::records::field::NumberSlot::read(&r.$col),
-            set: |r, v| $crate::records::field::NumberSlot::write(&mut r.$col, v),
+            get: |r: &Self| $crate::records::field::NumberSlot::read(&r.$col),
+            set: |r: &mut Self, v| $crate::records::field::NumberSlot::write(&mut r.$col, v),
         })
     };
     (whole $col:ident, $form:literal, $label:literal, $limit:expr $(, default $d:expr)?) => {
         field!(@field $col, $form, $label, $crate::records::field::Value::Whole {
             limit: $limit,
             default: field!(@default $($d)?),
-            get: |r| r.$col,
-            set: |r, v| r.$col = v,
+            get: |r: &Self| r.$col,
+            set: |r: &mut Self, v| r.$col = v,
         })
     };
     (date $col:ident, $form:literal, $label:literal) => {
         field!(@field $col, $form, $label, $crate::records::field::Value::Date {
-            get: |r| &r.$col,
-            set: |r, v| r.$col = v,
+            get: |r: &Self| &r.$col,
+            set: |r: &mut Self, v| r.$col = v,
         })
     };
     (choice $col:ident, $form:literal, $label:literal, $options:expr) => {
         field!(@field $col, $form, $label, $crate::records::field::Value::Choice {
             options: $options,
-            get: |r| &r.$col,
-            set: |r, v| r.$col = v,
+            get: |r: &Self| &r.$col,
+            set: |r: &mut Self, v| r.$col = v,
         })
     };
     (flag $col:ident, $form:literal, $label:literal) => {
         field!(@field $col, $form, $label, $crate::records::field::Value::Flag {
-            get: |r| r.$col,
-            set: |r, v| r.$col = v,
+            get: |r: &Self| r.$col,
+            set: |r: &mut Self, v| r.$col = v,
         })
     };
     (curve $col:ident, $form:literal, $label:literal) => {
         field!(@field $col, $form, $label, $crate::records::field::Value::Curve {
-            get: |r| &r.$col,
-            set: |r, v| r.$col = v,
+            get: |r: &Self| &r.$col,
+            set: |r: &mut Self, v| r.$col = v,
         })
     };
 }
@@ -757,18 +767,6 @@ pub fn changes<R: Record>(before: &R, after: &R, units: Units, skip: &[&str]) ->
             (a != b).then(|| format!("{}: {a} → {b}", f.label))
         })
         .collect()
-}
-
-impl<R> Value<R> {
-    /// The on-screen keyboard a tablet should open for this value (`inputmode`): digits for a
-    /// whole number, digits and a decimal point for a measured one.
-    pub fn input_mode(&self) -> Option<&'static str> {
-        match self {
-            Value::Whole { .. } => Some("numeric"),
-            Value::Number { .. } => Some("decimal"),
-            _ => None,
-        }
-    }
 }
 
 /// A field's stored value (as the audit log keeps it, JSON in storage units) in words and the

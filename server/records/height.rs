@@ -74,7 +74,8 @@ impl Record for HeightInput {
             column: "shims_pulled",
             form: "shims_pulled",
             label: "Shims pulled",
-            hint: "",
+            hint: "so far",
+            unit: "",
             value: Value::Whole {
                 limit: Limit::new(
                     Kind::Count,

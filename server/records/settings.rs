@@ -120,27 +120,34 @@ impl Record for SettingsInput {
         field!(
             number spring_spread_pct, "spring_spread_pct", "Spring spread flag",
             limits::SPRING_SPREAD, required
-        ),
+        )
+        .hint("when a set's rates spread more than this share of their mean"),
         field!(
             number spring_sag_pct, "spring_sag_pct", "Spring sag flag", limits::SPRING_SAG, required
-        ),
+        )
+        .hint("when a spring's load at the test height fell by more than this"),
         field!(
             number shimming_limit_mm, "shimming_limit", "Shimming limit", limits::SHIMMING_LIMIT,
             required
-        ),
+        )
+        .hint("for builds without one of their own"),
         field!(
             number overclamp_factor, "overclamp_factor", "Over-clamp warning factor",
             limits::OVERCLAMP_FACTOR, required
-        ),
+        )
+        .hint("when the capacity is this many times the transmission's rated torque")
+        .unit("×"),
         field!(
             whole due_within_passes, "due_within_passes", "List work due within",
             limits::DUE_WITHIN_PASSES
-        ),
+        )
+        .unit("passes"),
         Field {
             column: "extra_face_efficiency",
             form: "extra_face_efficiency",
             label: "Torque share of each extra face",
-            hint: "",
+            hint: "twin and triple discs: the share each face beyond the first two carries",
+            unit: "",
             value: Value::Number {
                 limit: limits::EXTRA_FACE_EFFICIENCY,
                 required: false,
@@ -153,7 +160,8 @@ impl Record for SettingsInput {
             column: "bind_margin_mm",
             form: "bind_margin",
             label: "Coil-bind margin",
-            hint: "",
+            hint: "clearance to keep with the clutch fully released",
+            unit: "",
             value: Value::Number {
                 limit: limits::BIND_MARGIN,
                 required: false,
@@ -167,6 +175,7 @@ impl Record for SettingsInput {
             form: "launch_bog_pct",
             label: "Clean lock: engine may fall below the launch speed by at most",
             hint: "",
+            unit: "",
             value: Value::Number {
                 limit: limits::LAUNCH_BOG,
                 required: false,
@@ -175,7 +184,8 @@ impl Record for SettingsInput {
                 set: |r, v| r.launch_bog_pct = v.unwrap_or_else(default_launch_bog),
             },
         },
-        field!(text time_zone, "time_zone", "Time zone", 64),
+        field!(text time_zone, "time_zone", "Time zone", 64)
+            .hint("e.g. America/Chicago; empty: this computer's"),
     ];
 
     fn check_more(&mut self, _: &Ctx, errors: &mut FieldErrors) {

@@ -62,7 +62,8 @@ impl Record for SetupInput {
             column: "adjuster_turns_each",
             form: "adjuster_turns_each",
             label: "Turns of each adjuster",
-            hint: "",
+            hint: "if checked one by one, separated by commas",
+            unit: "",
             value: Value::List {
                 limit: limits::ADJUSTER_TURNS,
                 max_items: limits::ADJUSTER_COUNT,
@@ -75,7 +76,9 @@ impl Record for SetupInput {
             number counterweight_g, "counterweight_g", "Counterweight per lever",
             limits::COUNTERWEIGHT
         ),
-        field!(number mu, "mu", "Friction μ", limits::MU),
+        field!(number mu, "mu", "Friction μ", limits::MU).hint(
+            "used until the calibration has enough steady passes; blank: the facing's nominal",
+        ),
         field!(flag nominal_mu, "nominal_mu", "Nominal μ (new disc)"),
         field!(text note, "note", "Note", 2000),
     ];

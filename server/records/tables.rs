@@ -64,24 +64,6 @@ pub fn stored_view(
     .flatten()
 }
 
-/// The keyboard for the form input `form_name` of any record (see [`Value::input_mode`]);
-/// None for inputs no record declares and for text, dates and lists.
-pub fn input_mode(form_name: &str) -> Option<&'static str> {
-    struct Find<'a>(&'a str);
-    impl RecordVisitor for Find<'_> {
-        type Out = Option<&'static str>;
-        fn visit<R: Record>(self) -> Self::Out {
-            R::FIELDS
-                .iter()
-                .find(|f| f.form == self.0)
-                .and_then(|f| f.value.input_mode())
-        }
-    }
-    RECORD_TABLES
-        .iter()
-        .find_map(|t| for_table(t, Find(form_name)).flatten())
-}
-
 /// Every table [`for_table`] knows.
 pub const RECORD_TABLES: &[&str] = &[
     "customers",
@@ -94,35 +76,3 @@ pub const RECORD_TABLES: &[&str] = &[
     "passes",
     "shop_settings",
 ];
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// Every form input name declared by more than one record asks for the same keyboard, so
-    /// looking the keyboard up by the input's name alone is never ambiguous.
-    #[test]
-    fn an_input_name_has_one_keyboard_whichever_record_declares_it() {
-        struct Modes;
-        impl RecordVisitor for Modes {
-            type Out = Vec<(&'static str, Option<&'static str>)>;
-            fn visit<R: Record>(self) -> Self::Out {
-                R::FIELDS
-                    .iter()
-                    .map(|f| (f.form, f.value.input_mode()))
-                    .collect()
-            }
-        }
-        let mut seen = std::collections::BTreeMap::new();
-        for table in RECORD_TABLES {
-            for (name, mode) in for_table(table, Modes).expect("a record table") {
-                let first = *seen.entry(name).or_insert(mode);
-                assert_eq!(first, mode, "{name} in {table}");
-                assert_eq!(input_mode(name), mode, "{name}");
-            }
-        }
-        assert_eq!(input_mode("passes"), Some("numeric"));
-        assert_eq!(input_mode("facing_od"), Some("decimal"));
-        assert_eq!(input_mode("measured_on"), None);
-    }
-}

@@ -13,14 +13,17 @@ pub mod counter;
 pub mod customers;
 /// The audit history.
 pub mod history;
+/// A record's form inputs as its field declarations describe them.
+pub mod input;
 /// The frame every page shares: the viewer, the shop's units and zone.
 pub mod layout;
 /// Sign-in, sign-out and the sign-in throttle.
 pub mod login;
 /// A pass's page, its data-log upload and column mapping.
 pub mod passes;
-/// Numbers, units and words as the pages show them.
+/// The form pages of customers, cars and builds: new, edit and save, one implementation.
 pub mod record_form;
 /// The setup sheet and the customer link.
 pub mod sheets;
+/// Numbers, units and words as the pages show them.
 pub mod show;

@@ -474,6 +474,40 @@ async fn number_inputs_ask_a_tablet_for_its_number_keyboard() {
     assert!(input_tag(&car_form, "launch_rpm").contains("inputmode=\"decimal\""));
 }
 
+/// A record field's input shows the label, hint and unit its declaration gives, in the shop's
+/// units, and a form that asks for it in a particular case changes only the hint.
+#[tokio::test]
+async fn a_record_input_takes_its_label_and_unit_from_its_declaration() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let build = client.record_build().await;
+    let label_of = |html: &str, name: &str| -> String {
+        let at = html.find(&format!("name=\"{name}\"")).expect(name);
+        let start = html[..at].rfind("<label").unwrap();
+        let end = at + html[at..].find("</label>").unwrap();
+        html[start..end].to_string()
+    };
+    let form = client.get(&format!("{build}/edit")).await.body;
+    let od = label_of(&form, "facing_od");
+    assert!(od.contains("Facing outer diameter</span>"), "{od}");
+    assert!(od.contains("<span class=\"unit\">in</span>"), "{od}");
+    let travel = label_of(&form, "release_travel");
+    assert!(
+        travel.contains("Spring release travel (how much further"),
+        "{travel}"
+    );
+    assert!(label_of(&form, "lever_arm_ratio").contains(">:1</span>"));
+    let page = client.get(&build).await.body;
+    assert!(label_of(&page, "shims_pulled").contains("Shims pulled (so far)"));
+    sqlx::query("UPDATE shop_settings SET units = 'metric'")
+        .execute(&app.pool)
+        .await
+        .unwrap();
+    let form = client.get(&format!("{build}/edit")).await.body;
+    let od = label_of(&form, "facing_od");
+    assert!(od.contains("<span class=\"unit\">mm</span>"), "{od}");
+}
+
 #[tokio::test]
 async fn demo_customers_are_not_newer_than_their_builds() {
     let fresh = TempDb::new();

@@ -1,6 +1,8 @@
 //! What every page's frame needs: who is signed in, the CSRF token for its forms, the shop's
 //! name and units, and which section of the navigation is current.
 
+use crate::records::field::Record;
+use crate::web::pages::input::Inputs;
 use sqlx::SqliteConnection;
 
 use crate::db;
@@ -57,6 +59,11 @@ impl Layout {
 
     pub fn units(&self) -> Units {
         self.u.units
+    }
+
+    /// The form inputs of record `R` in the shop's units (`page.inputs::<SetupInput>()`).
+    pub fn inputs<R: Record>(&self) -> Inputs {
+        Inputs::of::<R>(self.units())
     }
 
     /// The shop's today, as a form prefills it.

@@ -75,18 +75,6 @@ impl Show {
     pub fn torque_unit(&self) -> &'static str {
         self.units.torque_label()
     }
-    pub fn weight_unit(&self) -> &'static str {
-        self.units.weight_label()
-    }
-    pub fn inertia_unit(&self) -> &'static str {
-        Kind::Inertia.symbol(self.units)
-    }
-    pub fn area_unit(&self) -> &'static str {
-        Kind::Area.symbol(self.units)
-    }
-    pub fn temperature_unit(&self) -> &'static str {
-        Kind::Temperature.symbol(self.units)
-    }
 
     /// Slip energy from joules, kJ in both systems ([`Kind::Kilojoules`]).
     pub fn energy_j(&self, j: impl Num) -> String {
@@ -258,13 +246,6 @@ pub fn thread_text(b: &crate::records::build::BuildInput) -> String {
 pub fn material_text(b: &crate::records::build::BuildInput) -> String {
     clutch::capacity::friction::FacingMaterial::from_key(&b.facing_material)
         .map_or_else(|| b.facing_material.clone(), |m| m.label().to_string())
-}
-
-/// The `inputmode` of a form input, so a tablet opens its number keyboard: from the record
-/// field the input reads (`records::tables::input_mode`), else "decimal" for an input shown
-/// with a unit (tuning targets and the like); empty for text and dates.
-pub fn input_mode(name: &str, unit: &str) -> &'static str {
-    crate::records::tables::input_mode(name).unwrap_or(if unit.is_empty() { "" } else { "decimal" })
 }
 
 #[cfg(test)]
