@@ -2,9 +2,12 @@
 //! clutch builds with bench tests, cover-height histories and passes. Every name is made up.
 //! Values are typed here in the shop's trade units (in, lbf, lbf*ft) and stored in storage units.
 
+use crate::db::customers::Customer;
+use crate::db::record::Stored;
 use crate::records::measure::{
     EngineSpeed, Force, Grams, Length, Mass, Seconds, SpringRate, Temperature, Torque,
 };
+use crate::records::stored::{Build, Car, Height, Pass, Setup};
 use sqlx::{SqliteConnection, SqlitePool};
 
 use crate::records::bench::{BenchInput, SpringReading};
@@ -376,7 +379,7 @@ async fn seed_customer(
         ..Default::default()
     };
     let customer = ok(field::check(customer, &demo_ctx(), FieldErrors::default()))?;
-    let customer_id = db::customers::insert(tx, &customer).await?;
+    let customer_id = Customer::insert(tx, 0, user_id, &customer).await?;
     for car in c.cars {
         let input = CarInput {
             description: car.description.into(),
@@ -396,9 +399,10 @@ async fn seed_customer(
             notes: String::new(),
             ..Default::default()
         };
-        let car_id = db::cars::insert(
+        let car_id = Car::insert(
             tx,
             customer_id,
+            user_id,
             &ok(field::check(input, &demo_ctx(), FieldErrors::default()))?,
         )
         .await?;
@@ -438,9 +442,10 @@ async fn seed_build(
         ..Default::default()
     };
     let solid_height_mm = input.spring_solid_height_mm;
-    let build_id = db::builds::insert(
+    let build_id = Build::insert(
         tx,
         car_id,
+        user_id,
         &ok(field::check(input, &demo_ctx(), FieldErrors::default()))?,
     )
     .await?;
@@ -461,7 +466,7 @@ async fn seed_build(
                 "more counterweight for an earlier lockup".into()
             },
         };
-        db::setups::insert(
+        Setup::insert(
             tx,
             build_id,
             user_id,
@@ -511,7 +516,7 @@ async fn seed_build(
             confirm: false,
         };
         let checked = ok(h.check_on(&hc, &demo_ctx(), FieldErrors::default()))?;
-        db::heights::insert(tx, build_id, user_id, &checked).await?;
+        Height::insert(tx, build_id, user_id, &checked).await?;
         if checked.new_disc {
             hc.before.clear();
         }
@@ -538,7 +543,7 @@ async fn seed_build(
             run_at: format!("{:02}:{:02}", 10 + i % 5, (i * 17) % 60),
             ambient_c: Some(Temperature::from_c(8.0 + ((i * 7) % 23) as f64)),
         };
-        let pass_id = db::passes::insert(
+        let pass_id = Pass::insert(
             tx,
             build_id,
             user_id,

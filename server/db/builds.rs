@@ -2,8 +2,6 @@
 
 use sqlx::SqliteConnection;
 
-use crate::records::Checked;
-use crate::records::build::BuildInput;
 use crate::records::stored::{ActiveBuild, Build, BuildOwner};
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Build>> {
@@ -55,22 +53,6 @@ pub async fn page(conn: &mut SqliteConnection, page: i64) -> sqlx::Result<Vec<Bu
     .bind(page.max(0) * super::PAGE_SIZE)
     .fetch_all(conn)
     .await
-}
-
-pub async fn insert(
-    conn: &mut SqliteConnection,
-    car_id: i64,
-    b: &Checked<BuildInput>,
-) -> sqlx::Result<i64> {
-    super::record::insert(conn, "builds", &[("car_id", car_id)], b).await
-}
-
-pub async fn update(
-    conn: &mut SqliteConnection,
-    id: i64,
-    b: &Checked<BuildInput>,
-) -> sqlx::Result<bool> {
-    super::record::update(conn, "builds", id, b).await
 }
 
 pub async fn active(conn: &mut SqliteConnection) -> sqlx::Result<Vec<ActiveBuild>> {

@@ -2,8 +2,6 @@
 
 use sqlx::SqliteConnection;
 
-use crate::records::Checked;
-use crate::records::car::CarInput;
 use crate::records::stored::Car;
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Car>> {
@@ -33,20 +31,4 @@ pub async fn page(conn: &mut SqliteConnection, page: i64) -> sqlx::Result<Vec<Ca
     .bind(page.max(0) * super::PAGE_SIZE)
     .fetch_all(conn)
     .await
-}
-
-pub async fn insert(
-    conn: &mut SqliteConnection,
-    customer_id: i64,
-    c: &Checked<CarInput>,
-) -> sqlx::Result<i64> {
-    super::record::insert(conn, "cars", &[("customer_id", customer_id)], c).await
-}
-
-pub async fn update(
-    conn: &mut SqliteConnection,
-    id: i64,
-    c: &Checked<CarInput>,
-) -> sqlx::Result<bool> {
-    super::record::update(conn, "cars", id, c).await
 }

@@ -3,7 +3,6 @@
 use serde::Serialize;
 use sqlx::{FromRow, SqliteConnection};
 
-use crate::records::Checked;
 use crate::records::customer::CustomerInput;
 
 #[derive(Debug, Clone, Serialize, FromRow, utoipa::ToSchema)]
@@ -93,19 +92,6 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
         .bind(id)
         .fetch_optional(conn)
         .await
-}
-
-pub async fn insert(conn: &mut SqliteConnection, c: &Checked<CustomerInput>) -> sqlx::Result<i64> {
-    super::record::insert(conn, "customers", &[], c).await
-}
-
-/// Updates a customer; false when there is no such (live) customer.
-pub async fn update(
-    conn: &mut SqliteConnection,
-    id: i64,
-    c: &Checked<CustomerInput>,
-) -> sqlx::Result<bool> {
-    super::record::update(conn, "customers", id, c).await
 }
 
 /// Soft-deletes (`deleted = true`) or restores a customer; false when nothing changed.

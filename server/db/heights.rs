@@ -3,7 +3,6 @@
 use sqlx::SqliteConnection;
 
 use super::record::BuildTable;
-use crate::records::Checked;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::stored::{Build, Height};
 
@@ -67,21 +66,4 @@ pub async fn for_active_builds(conn: &mut SqliteConnection) -> sqlx::Result<Vec<
     )
     .fetch_all(conn)
     .await
-}
-
-pub async fn insert(
-    conn: &mut SqliteConnection,
-    build_id: i64,
-    user_id: i64,
-    h: &Checked<HeightInput>,
-) -> sqlx::Result<i64> {
-    TABLE.insert(conn, build_id, user_id, h).await
-}
-
-pub async fn update(
-    conn: &mut SqliteConnection,
-    id: i64,
-    h: &Checked<HeightInput>,
-) -> sqlx::Result<bool> {
-    super::record::update(conn, "cover_heights", id, h).await
 }

@@ -1,6 +1,9 @@
 //! The spreadsheet import's database side: the mapping remembered per header, the customers
 //! and cars already in the shop (for duplicates), and the import's writes.
 
+use super::customers::Customer;
+use super::record::Stored;
+use crate::records::stored::{Build, Car, Height};
 use sqlx::{FromRow, SqliteConnection};
 
 use crate::import::{Known, KnownCar, Mapping, Owner, Plan};
@@ -108,7 +111,7 @@ pub async fn name_in_audit(
 pub async fn write(conn: &mut SqliteConnection, plan: &Plan, user_id: i64) -> sqlx::Result<()> {
     let mut customers = Vec::with_capacity(plan.customers.len());
     for c in &plan.customers {
-        customers.push(super::customers::insert(conn, c).await?);
+        customers.push(Customer::insert(conn, 0, user_id, c).await?);
     }
     let mut cars = Vec::with_capacity(plan.cars.len());
     for (owner, car) in &plan.cars {
@@ -116,16 +119,16 @@ pub async fn write(conn: &mut SqliteConnection, plan: &Plan, user_id: i64) -> sq
             Owner::New(i) => customers[*i],
             Owner::Existing(id) => *id,
         };
-        cars.push(super::cars::insert(conn, customer, car).await?);
+        cars.push(Car::insert(conn, customer, user_id, car).await?);
     }
     for (car, build, height) in &plan.builds {
         let car = match car {
             Owner::New(i) => cars[*i],
             Owner::Existing(id) => *id,
         };
-        let build_id = super::builds::insert(conn, car, build).await?;
+        let build_id = Build::insert(conn, car, user_id, build).await?;
         if let Some(h) = height {
-            super::heights::insert(conn, build_id, user_id, h).await?;
+            Height::insert(conn, build_id, user_id, h).await?;
         }
     }
     Ok(())

@@ -5,8 +5,17 @@ use std::future::Future;
 
 use sqlx::SqliteConnection;
 
+use super::customers::Customer;
 use crate::records::Checked;
+use crate::records::bench::BenchInput;
+use crate::records::build::BuildInput;
+use crate::records::car::CarInput;
+use crate::records::customer::CustomerInput;
 use crate::records::field::{Record, Value};
+use crate::records::height::HeightInput;
+use crate::records::pass::PassInput;
+use crate::records::setup::SetupInput;
+use crate::records::stored::{BenchTest, Build, Car, Height, Pass, Setup};
 
 /// A stored record as the API and the form pages reach it: read by id, hung on its parent
 /// (0 for a customer, which hangs on nothing), inserted under it and updated in place.
@@ -169,21 +178,111 @@ where
             .fetch_one(conn)
             .await
     }
+}
 
-    /// Stores a checked record of the build, made by `user_id`; its id.
-    pub async fn insert<R: Record>(
-        &self,
+/// The [`Stored`] of a record kept in `$table` and read by its db module's `by_id`, hanging on
+/// the record whose id is in its field `$parent` (a column of the same name); `by_user` when
+/// the table keeps who made each row.
+macro_rules! stored {
+    ($row:ty, $input:ty, $module:ident, $table:literal, $parent:ident $(, $by_user:ident)?) => {
+        impl Stored for $row {
+            type Input = $input;
+            async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
+                super::$module::by_id(conn, id).await
+            }
+            fn parent_of(&self) -> i64 {
+                self.$parent
+            }
+            async fn insert(
+                conn: &mut SqliteConnection,
+                parent: i64,
+                user_id: i64,
+                input: &Checked<$input>,
+            ) -> sqlx::Result<i64> {
+                let _ = user_id;
+                let links = [(stringify!($parent), parent) $(, stored!(@$by_user user_id))?];
+                insert(conn, $table, &links, input).await
+            }
+            async fn update(
+                conn: &mut SqliteConnection,
+                id: i64,
+                input: &Checked<$input>,
+            ) -> sqlx::Result<bool> {
+                update(conn, $table, id, input).await
+            }
+        }
+    };
+    (@by_user $user_id:ident) => { ("user_id", $user_id) };
+}
+
+stored!(Car, CarInput, cars, "cars", customer_id);
+stored!(Build, BuildInput, builds, "builds", car_id);
+stored!(
+    Setup,
+    SetupInput,
+    setups,
+    "setup_changes",
+    build_id,
+    by_user
+);
+stored!(Pass, PassInput, passes, "passes", build_id, by_user);
+stored!(
+    Height,
+    HeightInput,
+    heights,
+    "cover_heights",
+    build_id,
+    by_user
+);
+
+/// A customer hangs on nothing.
+impl Stored for Customer {
+    type Input = CustomerInput;
+    async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
+        super::customers::by_id(conn, id).await
+    }
+    fn parent_of(&self) -> i64 {
+        0
+    }
+    async fn insert(
         conn: &mut SqliteConnection,
-        build_id: i64,
-        user_id: i64,
-        r: &Checked<R>,
+        _: i64,
+        _: i64,
+        input: &Checked<CustomerInput>,
     ) -> sqlx::Result<i64> {
-        insert(
-            conn,
-            self.table,
-            &[("build_id", build_id), ("user_id", user_id)],
-            r,
-        )
-        .await
+        insert(conn, "customers", &[], input).await
+    }
+    async fn update(
+        conn: &mut SqliteConnection,
+        id: i64,
+        input: &Checked<CustomerInput>,
+    ) -> sqlx::Result<bool> {
+        update(conn, "customers", id, input).await
+    }
+}
+
+/// A bench test's springs are rows of a table of their own (`db::bench`).
+impl Stored for BenchTest {
+    type Input = BenchInput;
+    async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
+        super::bench::by_id(conn, id).await
+    }
+    fn parent_of(&self) -> i64 {
+        self.build_id
+    }
+    async fn insert(
+        conn: &mut SqliteConnection,
+        parent: i64,
+        user_id: i64,
+        input: &Checked<BenchInput>,
+    ) -> sqlx::Result<i64> {
+        super::bench::insert(conn, parent, user_id, input).await
+    }
+    async fn update(
+        conn: &mut SqliteConnection,
+        id: i64,
+        input: &Checked<BenchInput>,
+    ) -> sqlx::Result<bool> {
+        super::bench::update(conn, id, input).await
     }
 }

@@ -3,8 +3,6 @@
 use sqlx::SqliteConnection;
 
 use super::record::BuildTable;
-use crate::records::Checked;
-use crate::records::setup::SetupInput;
 use crate::records::stored::Setup;
 
 /// The table and its order, newest first: its records are paged, counted and inserted
@@ -20,21 +18,4 @@ pub async fn for_build(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Resu
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Setup>> {
     TABLE.by_id(conn, id).await
-}
-
-pub async fn insert(
-    conn: &mut SqliteConnection,
-    build_id: i64,
-    user_id: i64,
-    s: &Checked<SetupInput>,
-) -> sqlx::Result<i64> {
-    TABLE.insert(conn, build_id, user_id, s).await
-}
-
-pub async fn update(
-    conn: &mut SqliteConnection,
-    id: i64,
-    s: &Checked<SetupInput>,
-) -> sqlx::Result<bool> {
-    super::record::update(conn, "setup_changes", id, s).await
 }

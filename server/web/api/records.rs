@@ -152,7 +152,7 @@ pub async fn customer_create(
 ) -> Result<Response, ApiError> {
     let mut tx = write_tx(&s, &user).await?;
     let checked = checked(&mut tx, input).await?;
-    let id = db::customers::insert(&mut tx, &checked).await?;
+    let id = Customer::insert(&mut tx, 0, user.id, &checked).await?;
     let row = found(db::customers::by_id(&mut tx, id).await?)?;
     tx.commit().await?;
     Ok((StatusCode::CREATED, Json(row)).into_response())
@@ -178,31 +178,6 @@ pub async fn builds_list(
     ))
 }
 
-impl Stored for Customer {
-    type Input = CustomerInput;
-    async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
-        db::customers::by_id(conn, id).await
-    }
-    fn parent_of(&self) -> i64 {
-        0
-    }
-    async fn insert(
-        conn: &mut SqliteConnection,
-        _: i64,
-        _: i64,
-        input: &Checked<CustomerInput>,
-    ) -> sqlx::Result<i64> {
-        db::customers::insert(conn, input).await
-    }
-    async fn update(
-        conn: &mut SqliteConnection,
-        id: i64,
-        input: &Checked<CustomerInput>,
-    ) -> sqlx::Result<bool> {
-        db::customers::update(conn, id, input).await
-    }
-}
-
 impl ApiRecord for Customer {
     async fn of_parent(_: &mut SqliteConnection, _: i64) -> sqlx::Result<Option<Vec<Self>>> {
         Ok(None)
@@ -217,44 +192,19 @@ impl ApiRecord for Customer {
     }
 }
 
-/// The [`Stored`] and [`ApiRecord`] of a record that hangs on a parent of type `$parent_row`
-/// (field `$parent`): read by its db module's `by_id`, listed by `$list`, written by `insert`
-/// (with who made it, `by_user`) and `update`, checked by `$check`.
+/// The [`ApiRecord`] of a record that hangs on a parent of type `$parent_row`: listed by its db
+/// module's `$list`, checked by `$check`.
 macro_rules! child_record {
-    ($row:ty, $input:ty, $db:ident::$list:ident, $parent:ident of $parent_row:ty,
-     check $check:expr $(, $by_user:ident)?) => {
-        impl Stored for $row {
-            type Input = $input;
-            async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Self>> {
-                db::$db::by_id(conn, id).await
-            }
-            fn parent_of(&self) -> i64 {
-                self.$parent
-            }
-            async fn insert(
-                conn: &mut SqliteConnection,
-                parent: i64,
-                user_id: i64,
-                input: &Checked<$input>,
-            ) -> sqlx::Result<i64> {
-                let _ = user_id;
-                db::$db::insert(conn, parent, $(child_record!(@$by_user user_id),)? input).await
-            }
-            async fn update(
-                conn: &mut SqliteConnection,
-                id: i64,
-                input: &Checked<$input>,
-            ) -> sqlx::Result<bool> {
-                db::$db::update(conn, id, input).await
-            }
-        }
-
+    ($row:ty, $input:ty, $db:ident::$list:ident, $parent_row:ty, check $check:expr) => {
         impl ApiRecord for $row {
             async fn of_parent(
                 conn: &mut SqliteConnection,
                 parent: i64,
             ) -> sqlx::Result<Option<Vec<Self>>> {
-                if <$parent_row as Stored>::by_id(conn, parent).await?.is_none() {
+                if <$parent_row as Stored>::by_id(conn, parent)
+                    .await?
+                    .is_none()
+                {
                     return Ok(None);
                 }
                 db::$db::$list(conn, parent).await.map(Some)
@@ -269,21 +219,14 @@ macro_rules! child_record {
             }
         }
     };
-    (@by_user $user_id:ident) => { $user_id };
 }
 
-child_record!(Car, CarInput, cars::for_customer, customer_id of Customer,
-    check check_under::<Customer, _, _>);
-child_record!(Build, BuildInput, builds::for_car, car_id of Car,
-    check check_build);
-child_record!(Setup, SetupInput, setups::for_build, build_id of Build,
-    check check_under::<Build, _, _>, by_user);
-child_record!(Pass, PassInput, passes::for_build, build_id of Build,
-    check check_under::<Build, _, _>, by_user);
-child_record!(BenchTest, BenchInput, bench::for_build, build_id of Build,
-    check check_bench, by_user);
-child_record!(Height, HeightInput, heights::for_build, build_id of Build,
-    check check_height, by_user);
+child_record!(Car, CarInput, cars::for_customer, Customer, check check_under::<Customer, _, _>);
+child_record!(Build, BuildInput, builds::for_car, Car, check check_build);
+child_record!(Setup, SetupInput, setups::for_build, Build, check check_under::<Build, _, _>);
+child_record!(Pass, PassInput, passes::for_build, Build, check check_under::<Build, _, _>);
+child_record!(BenchTest, BenchInput, bench::for_build, Build, check check_bench);
+child_record!(Height, HeightInput, heights::for_build, Build, check check_height);
 
 /// A record checked as its form checks it, under a parent that must exist (404 otherwise).
 async fn check_under<P: Stored, T: field::Record, R>(
