@@ -621,19 +621,21 @@ async fn a_drifting_calibration_leaves_the_nominal_mu_and_says_why() {
 /// The reference launch (docs/engineering.md §18) as a launch-method calibration body, with
 /// the spring rate given.
 fn launch_body(rate: f64, passes: Value) -> Value {
-    json!({"units": "metric", "method": "launch",
-      "disc": {"outer_diameter": 240, "inner_diameter": 160, "count": 2},
-      "springs": {"count": 4, "rate": rate, "base_compression": 1},
-      "levers": {"count": 1, "counterweight_g": 50, "cg_radius": 100, "arm_ratio": 1},
-      "launch_rpm": 6000,
-      "engine": {"torque_curve": [[3000, 700], [5000, 700], [7000, 700]], "inertia": 0.20},
-      "driveline": {"first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "efficiency": 0.95,
-                    "input_inertia": 0.02, "driveshaft_inertia": 0.05,
-                    "rear_axle_inertia": 3.0, "front_axle_inertia": 1.0},
-      "vehicle": {"mass": 1500, "tire_diameter": 760, "wheelbase": 2700, "cg_to_front_axle": 1600,
-                  "cg_height": 500, "drag_height": 500, "rolling_resistance": 0.015,
-                  "drag_area": 0.6, "air_density": 1.2, "tire_grip": 2.0, "tire_grip_spinning": 1.6},
-      "passes": passes})
+    use clutch::launch::reference::{launch, without};
+    let mut body = without(
+        launch(),
+        &[
+            "friction",
+            "engine.friction_torque",
+            "thermal",
+            "step_ms",
+            "duration_s",
+        ],
+    );
+    body["method"] = json!("launch");
+    body["springs"]["rate"] = json!(rate);
+    body["passes"] = passes;
+    body
 }
 
 // Check values [derived with the reference launch model, launch issue case C10]: a lock 1.70 s

@@ -803,27 +803,7 @@ mod tests {
     /// The reference launch (docs/engineering.md §18, in the API's metric form): twin disc
     /// 240 × 160 mm, μ 0.30, 4 springs × 1000 N/mm × 1 mm, one lever of 50 g at 100 mm.
     fn reference() -> LaunchRequest {
-        serde_json::from_value(serde_json::json!({
-            "units": "metric",
-            "disc": { "outer_diameter": 240, "inner_diameter": 160, "count": 2 },
-            "friction": { "mu": 0.30 },
-            "springs": { "count": 4, "rate": 1000, "base_compression": 1 },
-            "levers": { "count": 1, "counterweight_g": 50, "cg_radius": 100, "arm_ratio": 1 },
-            "launch_rpm": 6000,
-            "engine": { "torque_curve": [[3000, 700], [5000, 700], [7000, 700]],
-                        "inertia": 0.20, "friction_torque": 0 },
-            "driveline": { "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "efficiency": 0.95,
-                           "input_inertia": 0.02, "driveshaft_inertia": 0.05,
-                           "rear_axle_inertia": 3.0, "front_axle_inertia": 1.0 },
-            "vehicle": { "mass": 1500, "tire_diameter": 760, "wheelbase": 2700,
-                         "cg_to_front_axle": 1600, "cg_height": 500, "drag_height": 500,
-                         "rolling_resistance": 0.015, "drag_area": 0.6, "air_density": 1.2,
-                         "tire_grip": 2.0, "tire_grip_spinning": 1.6 },
-            "thermal": { "pressure_plate_mass": 8, "flywheel_mass": 12, "specific_heat": 460,
-                         "start_temperature": 30, "plate_share": 0.45 },
-            "step_ms": 0.5, "duration_s": 3
-        }))
-        .expect("reference request")
+        serde_json::from_value(crate::launch::reference::launch()).expect("reference request")
     }
 
     fn model(req: &LaunchRequest) -> LaunchModel {

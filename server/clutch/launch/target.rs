@@ -231,25 +231,21 @@ mod tests {
     /// The reference launch (docs/engineering.md §18) with four levers of 20 g at 50 mm, so
     /// counterweight matters.
     fn request() -> LaunchRequest {
-        serde_json::from_value(serde_json::json!({
-            "units": "metric",
-            "disc": { "outer_diameter": 240, "inner_diameter": 160, "count": 2 },
-            "friction": { "mu": 0.30 },
-            "springs": { "count": 4, "rate": 1000, "base_compression": 1 },
-            "levers": { "count": 4, "counterweight_g": 20, "cg_radius": 50, "arm_ratio": 1 },
-            "launch_rpm": 6000,
-            "engine": { "torque_curve": [[2000, 700], [5000, 700], [9000, 700]],
-                        "inertia": 0.20 },
-            "driveline": { "first_gear_ratio": 2.6, "final_drive_ratio": 4.1, "efficiency": 0.95,
-                           "input_inertia": 0.02, "driveshaft_inertia": 0.05,
-                           "rear_axle_inertia": 3.0, "front_axle_inertia": 1.0 },
-            "vehicle": { "mass": 1500, "tire_diameter": 760, "wheelbase": 2700,
-                         "cg_to_front_axle": 1600, "cg_height": 500, "drag_height": 500,
-                         "rolling_resistance": 0.015, "drag_area": 0.6, "tire_grip": 2.0,
-                         "tire_grip_spinning": 1.6 },
-            "duration_s": 3
-        }))
-        .expect("request")
+        use crate::launch::reference::{launch, without};
+        let mut r = without(
+            launch(),
+            &[
+                "engine.friction_torque",
+                "vehicle.air_density",
+                "thermal",
+                "step_ms",
+            ],
+        );
+        r["levers"] = serde_json::json!(
+            { "count": 4, "counterweight_g": 20, "cg_radius": 50, "arm_ratio": 1 }
+        );
+        r["engine"]["torque_curve"] = serde_json::json!([[2000, 700], [5000, 700], [9000, 700]]);
+        serde_json::from_value(r).expect("request")
     }
 
     fn valid() -> ValidLaunch {
