@@ -466,42 +466,33 @@ fn compare_chart(this: (&str, &LogResult), other: (&str, &LogResult), stretch: S
         (0.0, top * 1.05),
     );
     let (a, b) = (this.1, other.1);
-    c.line(
-        &f,
-        "engine",
-        &format!("engine {}", this.0),
-        &shifted(a, &a.series.engine_rpm),
-    );
-    c.line(
-        &f,
-        "input",
-        &format!("input {}", this.0),
-        &shifted(a, &a.series.input_rpm),
-    );
-    c.line(
-        &f,
-        "before",
-        &format!("engine {}", other.0),
-        &shifted(b, &b.series.engine_rpm),
-    );
-    c.line(
-        &f,
-        "static",
-        &format!("input {}", other.0),
-        &shifted(b, &b.series.input_rpm),
-    );
-    c.mark_x(
-        &f,
-        "lockup",
-        format!("lockup {}", this.0),
-        a.analysis.lockup_s - a.analysis.launch_s,
-    );
-    c.mark_x(
-        &f,
-        "other",
-        format!("lockup {}", other.0),
-        b.analysis.lockup_s - b.analysis.launch_s,
-    );
+    for (class, name, r, rpm) in [
+        (
+            "engine",
+            format!("engine {}", this.0),
+            a,
+            &a.series.engine_rpm,
+        ),
+        ("input", format!("input {}", this.0), a, &a.series.input_rpm),
+        (
+            "before",
+            format!("engine {}", other.0),
+            b,
+            &b.series.engine_rpm,
+        ),
+        (
+            "static",
+            format!("input {}", other.0),
+            b,
+            &b.series.input_rpm,
+        ),
+    ] {
+        c.line(&f, class, &name, &shifted(r, rpm));
+    }
+    for (class, name, r) in [("lockup", this.0, a), ("other", other.0, b)] {
+        let at = r.analysis.lockup_s - r.analysis.launch_s;
+        c.mark_x(&f, class, format!("lockup {name}"), at);
+    }
     c.legend_below();
     c
 }
@@ -720,20 +711,16 @@ pub async fn upload(
             AppError::BadCsrf
         }
     };
+    let refuse_too_large = || {
+        let status = StatusCode::PAYLOAD_TOO_LARGE;
+        render(&state, &caller, &user, id, Some(too_large()), status)
+    };
     loop {
         let field = match multipart.next_field().await {
             Ok(Some(f)) => f,
             Ok(None) => break,
             Err(e) if e.status() == StatusCode::PAYLOAD_TOO_LARGE => {
-                return render(
-                    &state,
-                    &caller,
-                    &user,
-                    id,
-                    Some(too_large()),
-                    StatusCode::PAYLOAD_TOO_LARGE,
-                )
-                .await;
+                return refuse_too_large().await;
             }
             Err(_) => return Err(unread(&csrf)),
         };
@@ -744,15 +731,7 @@ pub async fn upload(
                 match field.bytes().await {
                     Ok(b) => text = Some(b.to_vec()),
                     Err(e) if e.status() == StatusCode::PAYLOAD_TOO_LARGE => {
-                        return render(
-                            &state,
-                            &caller,
-                            &user,
-                            id,
-                            Some(too_large()),
-                            StatusCode::PAYLOAD_TOO_LARGE,
-                        )
-                        .await;
+                        return refuse_too_large().await;
                     }
                     Err(_) => return Err(unread(&csrf)),
                 }

@@ -5,7 +5,6 @@
 use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::{Html, IntoResponse, Response};
-use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::record::Stored;
@@ -34,7 +33,7 @@ pub enum Which {
 }
 
 /// One entry being saved: its transaction, the build, and the form as typed.
-struct Entry {
+pub struct Entry {
     tx: crate::web::Write,
     build: Build,
     ctx: Ctx,
@@ -109,24 +108,21 @@ pub trait BuildEntry: Record + Sized + Send + Sync {
     const WHICH: Which;
     /// The record as stored, which says how it is written under its build.
     type Row: Stored<Input = Self>;
-    fn read(form: &FormData, units: Units, _build: &Build) -> (Self, FieldErrors) {
-        field::read(form, units)
+    fn read(e: &Entry) -> (Self, FieldErrors) {
+        field::read(&e.form, e.ctx.units)
     }
     fn check_on(
         self,
-        _build: &Build,
+        e: &Entry,
         _hc: &HeightContext,
-        ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
-        field::check(self, ctx, errors)
+        field::check(self, &e.ctx, errors)
     }
     /// "Saved: ..." in words, saying what changed; worked out before the entry is stored.
     fn saved_note<'a>(
-        tx: &'a mut SqliteConnection,
-        build_id: i64,
+        e: &'a mut Entry,
         value: &'a Checked<Self>,
-        units: Units,
     ) -> impl Future<Output = sqlx::Result<String>> + Send + 'a;
 }
 
@@ -145,13 +141,9 @@ fn listed<R: Record>(r: &R, units: Units, skip: &[&str]) -> String {
 impl BuildEntry for SetupInput {
     const WHICH: Which = Which::Setup;
     type Row = Setup;
-    async fn saved_note(
-        tx: &mut SqliteConnection,
-        b: i64,
-        v: &Checked<Self>,
-        units: Units,
-    ) -> sqlx::Result<String> {
-        let before = db::setups::for_build(tx, b).await?.pop();
+    async fn saved_note(e: &mut Entry, v: &Checked<Self>) -> sqlx::Result<String> {
+        let units = e.ctx.units;
+        let before = db::setups::for_build(&mut e.tx, e.build.id).await?.pop();
         let skip = ["changed_on", "note"];
         Ok(match before {
             None => format!(
@@ -172,25 +164,20 @@ impl BuildEntry for SetupInput {
 
 impl BuildEntry for BenchInput {
     const WHICH: Which = Which::Bench;
-    fn read(form: &FormData, units: Units, build: &Build) -> (Self, FieldErrors) {
-        Self::from_form(form, units, build.data.spring_count.clamp(0, 24) as usize)
+    fn read(e: &Entry) -> (Self, FieldErrors) {
+        let springs = e.build.data.spring_count.clamp(0, 24) as usize;
+        Self::from_form(&e.form, e.ctx.units, springs)
     }
     fn check_on(
         self,
-        build: &Build,
+        e: &Entry,
         _: &HeightContext,
-        ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
-        self.check(build.data.spring_solid_height_mm, ctx, errors)
+        self.check(e.build.data.spring_solid_height_mm, &e.ctx, errors)
     }
     type Row = BenchTest;
-    async fn saved_note(
-        _: &mut SqliteConnection,
-        _: i64,
-        v: &Checked<Self>,
-        _: Units,
-    ) -> sqlx::Result<String> {
+    async fn saved_note(_: &mut Entry, v: &Checked<Self>) -> sqlx::Result<String> {
         let n = v.springs.len();
         Ok(format!(
             "Saved: bench test of {}, {n} spring{}.",
@@ -202,27 +189,22 @@ impl BuildEntry for BenchInput {
 
 impl BuildEntry for HeightInput {
     const WHICH: Which = Which::Height;
-    fn read(form: &FormData, units: Units, _: &Build) -> (Self, FieldErrors) {
-        let (mut height, errors) = field::read::<Self>(form, units);
-        height.confirm = form.is_checked("confirm");
+    fn read(e: &Entry) -> (Self, FieldErrors) {
+        let (mut height, errors) = field::read::<Self>(&e.form, e.ctx.units);
+        height.confirm = e.form.is_checked("confirm");
         (height, errors)
     }
     fn check_on(
         self,
-        _: &Build,
+        e: &Entry,
         hc: &HeightContext,
-        ctx: &Ctx,
         errors: FieldErrors,
     ) -> Result<Checked<Self>, FieldErrors> {
-        self.check_on(hc, ctx, errors)
+        self.check_on(hc, &e.ctx, errors)
     }
     type Row = Height;
-    async fn saved_note(
-        _: &mut SqliteConnection,
-        _: i64,
-        v: &Checked<Self>,
-        units: Units,
-    ) -> sqlx::Result<String> {
+    async fn saved_note(e: &mut Entry, v: &Checked<Self>) -> sqlx::Result<String> {
+        let units = e.ctx.units;
         let skip: &[&str] = if v.new_disc {
             &["measured_on", "note"]
         } else {
@@ -239,14 +221,10 @@ impl BuildEntry for HeightInput {
 impl BuildEntry for PassInput {
     const WHICH: Which = Which::Pass;
     type Row = Pass;
-    async fn saved_note(
-        tx: &mut SqliteConnection,
-        b: i64,
-        v: &Checked<Self>,
-        units: Units,
-    ) -> sqlx::Result<String> {
-        let heights = db::heights::for_build(tx, b).await?;
-        let passes = db::passes::for_build(tx, b).await?;
+    async fn saved_note(e: &mut Entry, v: &Checked<Self>) -> sqlx::Result<String> {
+        let units = e.ctx.units;
+        let heights = db::heights::for_build(&mut e.tx, e.build.id).await?;
+        let passes = db::passes::for_build(&mut e.tx, e.build.id).await?;
         let count = disc_passes(&heights, &passes);
         // The new pass counts when it is not dated before the disc's latest measurement.
         let counted = current_disc(&heights)
@@ -271,10 +249,10 @@ pub async fn add<E: BuildEntry>(
 ) -> AppResult<Response> {
     let mut e = Entry::begin(&state, build_id, signed).await?;
     let hc = db::heights::context(&mut e.tx, &e.build, None).await?;
-    let (input, errors) = E::read(&e.form, e.ctx.units, &e.build);
-    let result = match BuildEntry::check_on(input, &e.build, &hc, &e.ctx, errors) {
+    let (input, errors) = E::read(&e);
+    let result = match BuildEntry::check_on(input, &e, &hc, errors) {
         Ok(checked) => {
-            let note = E::saved_note(&mut e.tx, e.build.id, &checked, e.ctx.units).await?;
+            let note = E::saved_note(&mut e, &checked).await?;
             E::Row::insert(&mut e.tx, e.build.id, e.user.id, &checked).await?;
             Ok(note)
         }
