@@ -654,6 +654,20 @@ mod tests {
         (a - b).abs() <= tol
     }
 
+    /// The fit through the origin of (x, y) gives the certified slope, its standard error and
+    /// the residual standard deviation, each within its tolerance.
+    fn fit_is(x: &[f64], y: &[f64], certified: [f64; 3], tol: [f64; 3]) {
+        let f = fit_through_origin(x, y).expect("fits");
+        let got = [
+            f.slope,
+            f.slope_se.unwrap_or(0.0),
+            f.residual_sd.unwrap_or(0.0),
+        ];
+        for k in 0..3 {
+            assert!(close(got[k], certified[k], tol[k]), "{k}: {f:?}");
+        }
+    }
+
     // NIST StRD linear least squares "NoInt1" (y = B1·x, 11 points x = 60…70, y = 130…140),
     // certified B1 = 2.07438016528926, sd(B1) = 0.165289256198347E-01,
     // residual sd = 3.56753034006338.
@@ -661,32 +675,16 @@ mod tests {
     fn origin_fit_matches_nist_strd_noint1() {
         let x: Vec<f64> = (60..=70).map(f64::from).collect();
         let y: Vec<f64> = (130..=140).map(f64::from).collect();
-        let f = fit_through_origin(&x, &y).expect("fits");
-        assert!(close(f.slope, 2.07438016528926, 1e-12), "{f:?}");
-        assert!(
-            close(f.slope_se.unwrap_or(0.0), 0.0165289256198347, 1e-13),
-            "{f:?}"
-        );
-        assert!(
-            close(f.residual_sd.unwrap_or(0.0), 3.56753034006338, 1e-11),
-            "{f:?}"
-        );
+        let certified = [2.07438016528926, 0.0165289256198347, 3.56753034006338];
+        fit_is(&x, &y, certified, [1e-12, 1e-13, 1e-11]);
     }
 
     // NIST StRD "NoInt2" (x = 4, 5, 6; y = 3, 4, 4): certified B1 = 0.727272727272727,
     // sd(B1) = 0.420827318078432E-01, residual sd = 0.369274472937998.
     #[test]
     fn origin_fit_matches_nist_strd_noint2() {
-        let f = fit_through_origin(&[4.0, 5.0, 6.0], &[3.0, 4.0, 4.0]).expect("fits");
-        assert!(close(f.slope, 0.727272727272727, 1e-14), "{f:?}");
-        assert!(
-            close(f.slope_se.unwrap_or(0.0), 0.0420827318078432, 1e-14),
-            "{f:?}"
-        );
-        assert!(
-            close(f.residual_sd.unwrap_or(0.0), 0.369274472937998, 1e-14),
-            "{f:?}"
-        );
+        let certified = [0.727272727272727, 0.0420827318078432, 0.369274472937998];
+        fit_is(&[4.0, 5.0, 6.0], &[3.0, 4.0, 4.0], certified, [1e-14; 3]);
     }
 
     // Student t critical values t(0.975, ν) as tabled in the NIST/SEMATECH e-Handbook,

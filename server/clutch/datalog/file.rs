@@ -353,25 +353,53 @@ pub fn read(text: &[u8], wanted: &[Wanted]) -> Result<Columns, InputError> {
     read_with(text, wanted, true)
 }
 
+/// The file column of each wanted one, or the message naming the one that is missing and the
+/// columns there are.
+fn column_index(layout: &Layout, wanted: &[Wanted]) -> Result<Vec<usize>, InputError> {
+    wanted
+        .iter()
+        .map(|w| {
+            find(&layout.names, w.name).ok_or_else(|| {
+                InputError::new(
+                    w.field,
+                    format!(
+                        "no column named \"{}\" in the header (line {}); the file has: {}",
+                        echo(w.name),
+                        layout.header_line,
+                        echo_names(&layout.names)
+                    ),
+                )
+            })
+        })
+        .collect()
+}
+
+/// The number in `cell` (file column `i`, read for `w`, on `line`), or the message naming
+/// where it is and what it says.
+fn cell_value(
+    layout: &Layout,
+    w: &Wanted,
+    i: usize,
+    cell: &[u8],
+    line: u64,
+) -> Result<f64, InputError> {
+    number(cell, layout.decimal_comma).ok_or_else(|| {
+        InputError::new(
+            w.field,
+            format!(
+                "line {line}, column \"{}\": \"{}\" is not a number",
+                echo(&layout.names[i]),
+                echo(String::from_utf8_lossy(cell).trim())
+            ),
+        )
+    })
+}
+
 /// [`read`], with the fast path for plain rows on or off (off: every row goes through the CSV
 /// engine; the tests compare the two).
 fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, InputError> {
     let (layout, start) = layout_and_start(text)?;
-    let mut index = Vec::with_capacity(wanted.len());
-    for w in wanted {
-        let i = find(&layout.names, w.name).ok_or_else(|| {
-            InputError::new(
-                w.field,
-                format!(
-                    "no column named \"{}\" in the header (line {}); the file has: {}",
-                    echo(w.name),
-                    layout.header_line,
-                    echo_names(&layout.names)
-                ),
-            )
-        })?;
-        index.push(i);
-    }
+    let index = column_index(&layout, wanted)?;
     let width = layout.names.len();
     // For each cell of a row, the wanted column it goes to (the first, when a file column is
     // mapped twice; the others are copied from it).
@@ -449,17 +477,7 @@ fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, Inpu
         }
         for ((w, &i), column) in wanted.iter().zip(&index).zip(&mut values) {
             let cell = if i < fields { engine.cell(i) } else { b"" };
-            let v = number(cell, layout.decimal_comma).ok_or_else(|| {
-                InputError::new(
-                    w.field,
-                    format!(
-                        "line {here}, column \"{}\": \"{}\" is not a number",
-                        echo(&layout.names[i]),
-                        echo(String::from_utf8_lossy(cell).trim())
-                    ),
-                )
-            })?;
-            column.push(v);
+            column.push(cell_value(&layout, w, i, cell, here)?);
         }
         lines.push(here);
     }
@@ -1007,20 +1025,7 @@ mod tests {
         wanted: &[Wanted],
     ) -> Result<(Vec<Vec<f64>>, Vec<u64>), InputError> {
         let layout = layout(text)?;
-        let mut index = Vec::new();
-        for w in wanted {
-            index.push(find(&layout.names, w.name).ok_or_else(|| {
-                InputError::new(
-                    w.field,
-                    format!(
-                        "no column named \"{}\" in the header (line {}); the file has: {}",
-                        echo(w.name),
-                        layout.header_line,
-                        echo_names(&layout.names)
-                    ),
-                )
-            })?);
-        }
+        let index = column_index(&layout, wanted)?;
         let mut values = vec![Vec::new(); wanted.len()];
         let mut lines = Vec::new();
         let mut rdr = reader(text, layout.delimiter);
@@ -1037,17 +1042,7 @@ mod tests {
             }
             for ((w, &i), column) in wanted.iter().zip(&index).zip(&mut values) {
                 let cell = record.get(i).unwrap_or(b"");
-                let v = number(cell, layout.decimal_comma).ok_or_else(|| {
-                    InputError::new(
-                        w.field,
-                        format!(
-                            "line {line}, column \"{}\": \"{}\" is not a number",
-                            echo(&layout.names[i]),
-                            echo(String::from_utf8_lossy(cell).trim())
-                        ),
-                    )
-                })?;
-                column.push(v);
+                column.push(cell_value(&layout, w, i, cell, line)?);
             }
             lines.push(line);
         }

@@ -787,6 +787,11 @@ pub async fn upload(
     Ok(Redirect::to(&format!("/passes/{id}/log/map?upload={token}")).into_response())
 }
 
+/// What a form of a staged upload that is no longer kept says.
+fn expired() -> Option<String> {
+    Some("That upload has expired: send the file again.".into())
+}
+
 fn too_large() -> String {
     format!(
         "The file is larger than {} MB. Nothing was saved.",
@@ -981,15 +986,7 @@ pub async fn map_form(
     Query(q): Query<UploadQuery>,
 ) -> AppResult<Response> {
     let Some(staged) = state.staged_logs.get(&q.upload, id, user.id) else {
-        return render(
-            &state,
-            &caller,
-            &user,
-            id,
-            Some("That upload has expired: send the file again.".into()),
-            StatusCode::NOT_FOUND,
-        )
-        .await;
+        return render(&state, &caller, &user, id, expired(), StatusCode::NOT_FOUND).await;
     };
     let mut conn = state.pool.acquire().await?;
     let pc = pass_car(&mut conn, id).await?.ok_or(AppError::NotFound)?;
@@ -1033,7 +1030,7 @@ pub async fn map_save(
             &caller,
             &user,
             id,
-            Some("That upload has expired: send the file again.".into()),
+            expired(),
             StatusCode::UNPROCESSABLE_ENTITY,
         )
         .await;
