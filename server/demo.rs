@@ -601,26 +601,17 @@ async fn seed_log(
         .valid(facts, IN)
         .and_then(|v| v.run(text.as_bytes()))
         .map_err(|e| DemoError::from(format!("demo log: {e}")))?;
-    let a = &result.analysis;
-    db::pass_logs::put(
-        tx,
-        &db::pass_logs::NewLog {
-            pass_id,
-            user_id,
-            file_name: "pass-2026-11-01.csv",
-            file_bytes: text.len(),
-            deflated: &db::pass_logs::deflate(text.as_bytes()),
-            settings: &settings,
-            sample_rate_hz: a.sample_rate_hz,
-            launch_s: a.launch_s,
-            lockup_s: a.lockup_s,
-            lockup_engine_rpm: a.lockup_engine_rpm,
-            slip_energy_j: a.slip_energy_j,
-            peak_slip_power_w: a.peak_slip_power_w,
-            slip_window: &result.calibration_pairs(),
-        },
-    )
-    .await?;
-    db::pass_logs::remember(tx, car_id, &settings).await?;
+    let deflated = db::pass_logs::deflate(text.as_bytes());
+    let log = db::pass_logs::NewLog {
+        pass_id,
+        car_id,
+        user_id,
+        file_name: "pass-2026-11-01.csv",
+        file_bytes: text.len(),
+        deflated: &deflated,
+        settings: &settings,
+        result: &result,
+    };
+    db::pass_logs::store(tx, &log).await?;
     Ok(())
 }

@@ -6,7 +6,7 @@ use std::io::{Read, Write};
 use sqlx::SqliteConnection;
 
 use crate::records::stored::LogSummary;
-use clutch::datalog::request::LogSettings;
+use clutch::datalog::request::{LogResult, LogSettings};
 
 const SUMMARY: &str =
     "l.pass_id, l.file_name, l.file_bytes, l.sample_rate_hz, l.launch_s, l.lockup_s,
@@ -98,9 +98,12 @@ pub async fn stamp(conn: &mut SqliteConnection, pass_id: i64) -> sqlx::Result<Op
     Ok(row.map(|r| r.0))
 }
 
-/// A log to store with its pass (storage units).
+/// A log to store with its pass (storage units): the file, how it was read, and what its
+/// analysis found.
 pub struct NewLog<'a> {
     pub pass_id: i64,
+    /// The pass's car, which remembers the settings for its next file.
+    pub car_id: i64,
     pub user_id: i64,
     pub file_name: &'a str,
     /// The file's size before deflating, bytes.
@@ -108,19 +111,16 @@ pub struct NewLog<'a> {
     /// The file deflated by [`deflate`] (CPU work: done off the async threads).
     pub deflated: &'a [u8],
     pub settings: &'a LogSettings,
-    pub sample_rate_hz: f64,
-    pub launch_s: f64,
-    pub lockup_s: f64,
-    pub lockup_engine_rpm: f64,
-    pub slip_energy_j: Option<f64>,
-    pub peak_slip_power_w: Option<f64>,
-    pub slip_window: &'a [[f64; 2]],
+    pub result: &'a LogResult,
 }
 
-/// Stores (or replaces) a pass's log.
-pub async fn put(conn: &mut SqliteConnection, log: &NewLog<'_>) -> sqlx::Result<()> {
+/// Stores (or replaces) a pass's log and remembers its settings for the car, in the caller's
+/// transaction.
+pub async fn store(conn: &mut SqliteConnection, log: &NewLog<'_>) -> sqlx::Result<()> {
     let settings = serde_json::to_string(log.settings).unwrap_or_default();
-    let window = serde_json::to_string(log.slip_window).unwrap_or_else(|_| "[]".into());
+    let window =
+        serde_json::to_string(&log.result.calibration_pairs()).unwrap_or_else(|_| "[]".into());
+    let a = &log.result.analysis;
     sqlx::query(
         "INSERT INTO pass_logs (pass_id, file_name, file_bytes, file_deflated, settings,
              sample_rate_hz, launch_s, lockup_s, lockup_engine_rpm, slip_energy_j,
@@ -141,17 +141,17 @@ pub async fn put(conn: &mut SqliteConnection, log: &NewLog<'_>) -> sqlx::Result<
     .bind(log.file_bytes as i64)
     .bind(log.deflated)
     .bind(settings)
-    .bind(log.sample_rate_hz)
-    .bind(log.launch_s)
-    .bind(log.lockup_s)
-    .bind(log.lockup_engine_rpm)
-    .bind(log.slip_energy_j)
-    .bind(log.peak_slip_power_w)
+    .bind(a.sample_rate_hz)
+    .bind(a.launch_s)
+    .bind(a.lockup_s)
+    .bind(a.lockup_engine_rpm)
+    .bind(a.slip_energy_j)
+    .bind(a.peak_slip_power_w)
     .bind(window)
     .bind(log.user_id)
-    .execute(conn)
+    .execute(&mut *conn)
     .await?;
-    Ok(())
+    remember(conn, log.car_id, log.settings).await
 }
 
 /// The log settings last used for a car.

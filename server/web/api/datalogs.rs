@@ -132,48 +132,6 @@ pub fn file_name(name: &str) -> String {
     name.chars().take(FILE_NAME_CHARS).collect()
 }
 
-/// Stores a pass's log (deflated beforehand, off the async threads: see
-/// [`crate::db::pass_logs::deflate`]) and remembers its settings for the car, in the caller's
-/// transaction.
-#[expect(
-    clippy::too_many_arguments,
-    reason = "one call per store, every part named"
-)]
-pub async fn save(
-    conn: &mut SqliteConnection,
-    pc: &PassCar,
-    user: &CurrentUser,
-    file_name: &str,
-    file_bytes: usize,
-    deflated: &[u8],
-    settings: &LogSettings,
-    result: &LogResult,
-) -> Result<(), AppError> {
-    let a = &result.analysis;
-    let window = result.calibration_pairs();
-    db::pass_logs::put(
-        conn,
-        &db::pass_logs::NewLog {
-            pass_id: pc.pass.id,
-            user_id: user.id,
-            file_name,
-            file_bytes,
-            deflated,
-            settings,
-            sample_rate_hz: a.sample_rate_hz,
-            launch_s: a.launch_s,
-            lockup_s: a.lockup_s,
-            lockup_engine_rpm: a.lockup_engine_rpm,
-            slip_energy_j: a.slip_energy_j,
-            peak_slip_power_w: a.peak_slip_power_w,
-            slip_window: &window,
-        },
-    )
-    .await?;
-    db::pass_logs::remember(conn, pc.car.id, settings).await?;
-    Ok(())
-}
-
 /// POST /api/v1/passes/{id}/log body: the file and how to read it (storage units). Without
 /// `columns`, the mapping remembered for the car is used.
 #[derive(Debug, Deserialize, utoipa::ToSchema)]
@@ -242,6 +200,36 @@ pub async fn api_store(
     .await?;
     tx.commit().await.map_err(AppError::from)?;
     Ok(Json(result.report(Units::Metric)))
+}
+
+/// Stores a pass's log (deflated beforehand, off the async threads: see
+/// [`crate::db::pass_logs::deflate`]) and remembers its settings for the car, in the caller's
+/// transaction.
+#[expect(
+    clippy::too_many_arguments,
+    reason = "one call per store, every part named"
+)]
+pub async fn save(
+    conn: &mut SqliteConnection,
+    pc: &PassCar,
+    user: &CurrentUser,
+    file_name: &str,
+    file_bytes: usize,
+    deflated: &[u8],
+    settings: &LogSettings,
+    result: &LogResult,
+) -> Result<(), AppError> {
+    let log = db::pass_logs::NewLog {
+        pass_id: pc.pass.id,
+        car_id: pc.car.id,
+        user_id: user.id,
+        file_name,
+        file_bytes,
+        deflated,
+        settings,
+        result,
+    };
+    Ok(db::pass_logs::store(conn, &log).await?)
 }
 
 /// GET /api/v1/passes/{id}/analysis: the stored file analysed again (N·m, storage units).

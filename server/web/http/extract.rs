@@ -197,6 +197,17 @@ impl FromRequest<AppState> for PlainForm {
 #[derive(Debug, Clone)]
 pub struct ApiUser(pub CurrentUser);
 
+/// The token of an `Authorization: Bearer …` header, trimmed; `None` without one.
+pub fn bearer(parts: &Parts) -> Option<&str> {
+    parts
+        .headers
+        .get(header::AUTHORIZATION)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| v.strip_prefix("Bearer "))
+        .map(str::trim)
+        .filter(|t| !t.is_empty())
+}
+
 impl FromRequestParts<AppState> for ApiUser {
     type Rejection = ApiError;
 
@@ -205,14 +216,7 @@ impl FromRequestParts<AppState> for ApiUser {
         if let Some(user) = parts.extensions.get::<Self>() {
             return Ok(user.clone());
         }
-        let token = parts
-            .headers
-            .get(header::AUTHORIZATION)
-            .and_then(|v| v.to_str().ok())
-            .and_then(|v| v.strip_prefix("Bearer "))
-            .map(str::trim)
-            .filter(|t| !t.is_empty())
-            .ok_or(ApiError(AppError::Unauthorized))?;
+        let token = bearer(parts).ok_or(ApiError(AppError::Unauthorized))?;
         let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
         match db::tokens::user(&mut conn, &auth::hash_secret(token))
             .await

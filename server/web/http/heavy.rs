@@ -10,7 +10,6 @@ use std::convert::Infallible;
 use std::sync::{Arc, Mutex};
 
 use axum::extract::FromRequestParts;
-use axum::http::header;
 use axum::http::request::Parts;
 use tokio::sync::{Semaphore, SemaphorePermit};
 
@@ -35,14 +34,8 @@ impl<S: Send + Sync> FromRequestParts<S> for Caller {
     type Rejection = Infallible;
 
     async fn from_request_parts(parts: &mut Parts, _: &S) -> Result<Self, Infallible> {
-        let bearer = parts
-            .headers
-            .get(header::AUTHORIZATION)
-            .and_then(|v| v.to_str().ok())
-            .and_then(|v| v.strip_prefix("Bearer "))
-            .map(str::trim)
-            .filter(|t| !t.is_empty())
-            .map(|t| format!("token {}", auth::hash_secret(t)));
+        let bearer =
+            super::extract::bearer(parts).map(|t| format!("token {}", auth::hash_secret(t)));
         let session = || {
             cookie(&parts.headers, SESSION_COOKIE)
                 .map(|c| format!("session {}", auth::hash_secret(c)))
