@@ -1,33 +1,24 @@
 //! Secrets: argon2id password hashes, random session and API tokens, and their stored hashes.
 
-use argon2::Argon2;
-use argon2::password_hash::phc::PasswordHash;
-use argon2::password_hash::{PasswordHasher, PasswordVerifier};
+use std::sync::{Mutex, PoisonError};
+
+use argon2::password_hash::phc::{Output, ParamsString, PasswordHash, Salt};
+use argon2::{Algorithm, Argon2, Block, Params, Version};
 use blake2::{Blake2s256, Digest};
 
-/// Hashes a password with argon2id (default parameters) off the async runtime.
+/// Hashes a password with argon2id (default parameters: 19 MiB, 2 passes, 1 lane) off the
+/// async runtime; the PHC string to store.
 pub async fn hash_password(password: String) -> Result<String, PasswordError> {
-    tokio::task::spawn_blocking(move || {
-        Argon2::default()
-            .hash_password(password.as_bytes())
-            .map(|h| h.to_string())
-            .map_err(|_| PasswordError)
-    })
-    .await
-    .map_err(|_| PasswordError)?
+    tokio::task::spawn_blocking(move || hash_now(password.as_bytes()))
+        .await
+        .map_err(|_| PasswordError)?
 }
 
 /// Checks a password against a stored PHC string off the async runtime.
 pub async fn verify_password(password: String, stored: String) -> bool {
-    tokio::task::spawn_blocking(move || {
-        PasswordHash::new(&stored).is_ok_and(|parsed| {
-            Argon2::default()
-                .verify_password(password.as_bytes(), &parsed)
-                .is_ok()
-        })
-    })
-    .await
-    .unwrap_or(false)
+    tokio::task::spawn_blocking(move || verify_now(password.as_bytes(), &stored))
+        .await
+        .unwrap_or(false)
 }
 
 /// Checks a password against the stored hash of an account that may sign in, or, when there is
@@ -38,13 +29,9 @@ pub async fn verify_password_or_dummy(password: String, stored: Option<String>) 
     match stored {
         Some(stored) => verify_password(password, stored).await,
         None => {
-            tokio::task::spawn_blocking(move || {
-                if let Ok(parsed) = PasswordHash::new(dummy_hash()) {
-                    let _ = Argon2::default().verify_password(password.as_bytes(), &parsed);
-                }
-            })
-            .await
-            .ok();
+            tokio::task::spawn_blocking(move || verify_now(password.as_bytes(), dummy_hash()))
+                .await
+                .ok();
             false
         }
     }
@@ -53,12 +40,73 @@ pub async fn verify_password_or_dummy(password: String, stored: Option<String>) 
 /// The stand-in hash: a random secret nobody knows, hashed once per process.
 fn dummy_hash() -> &'static str {
     static DUMMY: std::sync::OnceLock<String> = std::sync::OnceLock::new();
-    DUMMY.get_or_init(|| {
-        Argon2::default()
-            .hash_password(new_secret("").as_bytes())
-            .map(|h| h.to_string())
-            .unwrap_or_default()
-    })
+    DUMMY.get_or_init(|| hash_now(new_secret("").as_bytes()).unwrap_or_default())
+}
+
+/// The memory argon2id works in, kept and reused by every hash of the process (19 MiB at the
+/// default parameters; it grows to a stored hash's own parameters when they ask for more).
+/// A fresh block per hash stayed resident in the allocator arena of whichever blocking thread
+/// ran it, so a few sign-ins held over 100 MB; reused, it is held once. Hashes therefore run
+/// one at a time, which also bounds what a flood of sign-ins can take from the shop's cores.
+static MEMORY: Mutex<Vec<Block>> = Mutex::new(Vec::new());
+
+/// `password` hashed with `salt` by `algorithm`, `version` and `params` into `out`, in the
+/// shared memory.
+fn hash_into(
+    (algorithm, version, params): (Algorithm, Version, Params),
+    password: &[u8],
+    salt: &[u8],
+    out: &mut [u8],
+) -> Result<(), PasswordError> {
+    let blocks = params.block_count();
+    let mut memory = MEMORY.lock().unwrap_or_else(PoisonError::into_inner);
+    if memory.len() < blocks {
+        memory.resize(blocks, Block::default());
+    }
+    Argon2::new(algorithm, version, params)
+        .hash_password_into_with_memory(password, salt, out, &mut memory[..blocks])
+        .map_err(|_| PasswordError)
+}
+
+/// A new argon2id hash of `password` with a random 16-byte salt, as a PHC string.
+fn hash_now(password: &[u8]) -> Result<String, PasswordError> {
+    let params = Params::default();
+    let mut salt = [0u8; 16];
+    getrandom::fill(&mut salt).map_err(|_| PasswordError)?;
+    let mut out = [0u8; Params::DEFAULT_OUTPUT_LEN];
+    let how = (Algorithm::Argon2id, Version::V0x13, params.clone());
+    hash_into(how, password, &salt, &mut out)?;
+    let phc = PasswordHash {
+        algorithm: Algorithm::Argon2id.ident(),
+        version: Some(Version::V0x13.into()),
+        params: ParamsString::try_from(&params).map_err(|_| PasswordError)?,
+        salt: Some(Salt::new(&salt).map_err(|_| PasswordError)?),
+        hash: Some(Output::new(&out).map_err(|_| PasswordError)?),
+    };
+    Ok(phc.to_string())
+}
+
+/// Whether `password` hashes to the stored PHC string under its own algorithm, version,
+/// parameters and salt (compared in constant time).
+fn verify_now(password: &[u8], stored: &str) -> bool {
+    let Ok(phc) = PasswordHash::new(stored) else {
+        return false;
+    };
+    let (Some(salt), Some(expected)) = (&phc.salt, &phc.hash) else {
+        return false;
+    };
+    let how = (
+        Algorithm::try_from(phc.algorithm.as_str()),
+        phc.version
+            .map_or(Ok(Version::default()), Version::try_from),
+        Params::try_from(&phc),
+    );
+    let (Ok(algorithm), Ok(version), Ok(params)) = how else {
+        return false;
+    };
+    let mut out = vec![0u8; expected.len()];
+    hash_into((algorithm, version, params), password, salt, &mut out).is_ok()
+        && Output::new(&out).is_ok_and(|computed| computed == *expected)
 }
 
 /// Hashing a password failed (never expected with default parameters).
@@ -102,6 +150,51 @@ mod tests {
         assert!(hash.starts_with("$argon2id$"));
         assert!(verify_password("correct horse".into(), hash.clone()).await);
         assert!(!verify_password("wrong horse".into(), hash).await);
+    }
+
+    /// The argon2 crate's own hasher and verifier (the reference implementation of RFC 9106
+    /// in Rust that made every stored hash so far) and ours agree both ways: a stored hash
+    /// still verifies, and a new one is one the library accepts, with the same parameters.
+    #[test]
+    fn hashes_made_by_the_argon2_library_and_by_the_shared_memory_agree() {
+        use argon2::password_hash::{PasswordHasher, PasswordVerifier};
+        let by_library = Argon2::default()
+            .hash_password(b"correct horse")
+            .unwrap()
+            .to_string();
+        assert!(verify_now(b"correct horse", &by_library));
+        assert!(!verify_now(b"wrong horse", &by_library));
+        let ours = hash_now(b"correct horse").unwrap();
+        let parsed = PasswordHash::new(&ours).unwrap();
+        assert!(
+            Argon2::default()
+                .verify_password(b"correct horse", &parsed)
+                .is_ok()
+        );
+        assert!(
+            Argon2::default()
+                .verify_password(b"wrong horse", &parsed)
+                .is_err()
+        );
+        // The parameters written are the library's defaults: m = 19456 KiB, t = 2, p = 1.
+        assert!(
+            ours.starts_with("$argon2id$v=19$m=19456,t=2,p=1$"),
+            "{ours}"
+        );
+        // A hash under other parameters (more memory, one pass) is checked under its own.
+        let other = Argon2::new(
+            Algorithm::Argon2id,
+            Version::V0x13,
+            Params::new(32768, 1, 1, None).unwrap(),
+        )
+        .hash_password(b"correct horse")
+        .unwrap()
+        .to_string();
+        assert!(verify_now(b"correct horse", &other));
+        assert!(!verify_now(
+            b"correct horse",
+            "$argon2id$v=19$m=19456,t=2,p=1$bad"
+        ));
     }
 
     #[test]
