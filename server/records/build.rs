@@ -3,7 +3,7 @@
 use super::measure::{Grams, Length, LeverGain, SpringRate};
 use serde::{Deserialize, Serialize};
 
-use super::field::{self, Ctx, Field, Record, Value, field};
+use super::field::{self, Ctx, Field, Record, field};
 use super::{Checked, FieldErrors};
 use clutch::capacity::friction::FacingMaterial;
 use clutch::quantity::limits;
@@ -196,36 +196,18 @@ impl Record for BuildInput {
             limits::LEVER_GAIN
         )
         .hint("instead of the lever mass and radii"),
-        Field {
-            column: "shim_stack_mm",
-            form: "shim_stack",
-            label: "Shim stack",
-            hint: "in the order they come out, separated by commas",
-            unit: "",
-            value: Value::List {
-                limit: limits::SHIM,
-                max_items: limits::SHIM_COUNT,
-                item: "shim",
-                get: |r| r.shim_stack_mm.iter().map(|x| x.mm()).collect(),
-                set: |r, v| r.shim_stack_mm = v.into_iter().map(Length::from_mm).collect(),
-            },
-        },
+        field!(
+            list shim_stack_mm, "shim_stack", "Shim stack", limits::SHIM, limits::SHIM_COUNT, "shim"
+        )
+        .hint("in the order they come out, separated by commas"),
         field!(
             number shimming_limit_mm, "shimming_limit", "Shimming limit", limits::SHIMMING_LIMIT
         )
         .hint("growth before a shim is due"),
-        Field {
-            column: "status",
-            form: "status",
-            label: "Status",
-            hint: "",
-            unit: "",
-            value: Value::Choice {
-                options: &[("active", "active"), ("retired", "retired")],
-                get: |r| &r.status,
-                set: |r, v| r.status = if v.is_empty() { "active".into() } else { v },
-            },
-        },
+        field!(
+            choice status, "status", "Status", &[("active", "active"), ("retired", "retired")],
+            blank "active"
+        ),
         field!(text notes, "notes", "Notes", 4000),
     ];
 

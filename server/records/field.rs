@@ -60,10 +60,17 @@ impl<R> Field<R> {
 ///   required)`: a measured value, held as [`NumberSlot`] says;
 /// - `field!(whole disc_count, "disc_count", "Discs", limits::DISC_COUNT, default 1)`: a whole
 ///   number; without a default, required;
+/// - `field!(number bind_margin_mm, "bind_margin", "Coil-bind margin", limits::BIND_MARGIN,
+///   blank default_bind_margin())`: a blank input stores that value;
+/// - `field!(list shim_stack_mm, "shim_stack", "Shim stack", limits::SHIM, limits::SHIM_COUNT,
+///   "shim")`: numbers typed in one input, at most that many, each named by the last word in
+///   messages;
 /// - `field!(date run_on, "run_on", "Date")`, `field!(flag ..)`, `field!(curve ..)` and
-///   `field!(choice facing_material, "facing_material", "Facing material", &CHOICES)`.
+///   `field!(choice status, "status", "Status", &CHOICES, blank "active")` (without `blank`, an
+///   empty choice stays empty for its check).
 ///
-/// A field read or written any other way is declared as a [`Field`] literal.
+/// A field read or written any other way is declared as a [`Field`] literal. The macro is used
+/// inside `impl Record for R`, where `Self` is the record.
 macro_rules! field {
     (@required) => { false };
     (@required required) => { true };
@@ -85,6 +92,17 @@ macro_rules! field {
             required: field!(@required $($req)?),
             get: |r: &Self| &r.$col,
             set: |r: &mut Self, v| r.$col = v,
+        })
+    };
+    (number $col:ident, $form:literal, $label:literal, $limit:expr, blank $blank:expr) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::Number {
+            limit: $limit,
+            required: false,
+            get: |r: &Self| $crate::records::field::NumberSlot::read(&r.$col),
+            set: |r: &mut Self, v| match v {
+                Some(_) => $crate::records::field::NumberSlot::write(&mut r.$col, v),
+                None => r.$col = $blank,
+            },
         })
     };
     (number $col:ident, $form:literal, $label:literal, $limit:expr $(, $req:ident)?) => {
@@ -109,11 +127,32 @@ macro_rules! field {
             set: |r: &mut Self, v| r.$col = v,
         })
     };
-    (choice $col:ident, $form:literal, $label:literal, $options:expr) => {
+    (choice $col:ident, $form:literal, $label:literal, $options:expr $(, blank $blank:literal)?) => {
         field!(@field $col, $form, $label, $crate::records::field::Value::Choice {
             options: $options,
             get: |r: &Self| &r.$col,
-            set: |r: &mut Self, v| r.$col = v,
+            set: |r: &mut Self, v| {
+                $(let v = if v.is_empty() { $blank.to_string() } else { v };)?
+                r.$col = v
+            },
+        })
+    };
+    (list $col:ident, $form:literal, $label:literal, $limit:expr, $max:expr, $item:literal) => {
+        field!(@field $col, $form, $label, $crate::records::field::Value::List {
+            limit: $limit,
+            max_items: $max,
+            item: $item,
+            get: |r: &Self| r.$col.iter().map(|x| $crate::records::field::NumberSlot::read(x).unwrap_or(f64::NAN)).collect(),
+            set: |r: &mut Self, v| {
+                r.$col = v
+                    .into_iter()
+                    .map(|x| {
+                        let mut item = Default::default();
+                        $crate::records::field::NumberSlot::write(&mut item, Some(x));
+                        item
+                    })
+                    .collect()
+            },
         })
     };
     (flag $col:ident, $form:literal, $label:literal) => {

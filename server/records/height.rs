@@ -3,7 +3,7 @@
 use super::measure::Length;
 use serde::{Deserialize, Serialize};
 
-use super::field::{self, Ctx, Field, Record, Value, field};
+use super::field::{self, Ctx, Field, Record, field};
 use super::{Checked, FieldErrors};
 use clutch::quantity::{Bound, Kind, Limit, counted, limits};
 use clutch::units::Units;
@@ -70,23 +70,12 @@ impl Record for HeightInput {
         field!(date measured_on, "measured_on", "Date"),
         field!(number height_mm, "height", "Cover height", limits::COVER_HEIGHT, required),
         field!(whole passes, "passes", "Passes on this disc", limits::PASSES),
-        Field {
-            column: "shims_pulled",
-            form: "shims_pulled",
-            label: "Shims pulled",
-            hint: "so far",
-            unit: "",
-            value: Value::Whole {
-                limit: Limit::new(
-                    Kind::Count,
-                    Bound::Incl(0.0),
-                    Bound::Incl(limits::SHIM_COUNT as f64),
-                ),
-                default: Some(0),
-                get: |r| r.shims_pulled,
-                set: |r, v| r.shims_pulled = v,
-            },
-        },
+        field!(
+            whole shims_pulled, "shims_pulled", "Shims pulled",
+            Limit::new(Kind::Count, Bound::Incl(0.0), Bound::Incl(limits::SHIM_COUNT as f64)),
+            default 0
+        )
+        .hint("so far"),
         field!(flag new_disc, "new_disc", "New disc fitted"),
         field!(text note, "note", "Note", 2000),
     ];

@@ -6,7 +6,7 @@ use serde::{Deserialize, Serialize};
 use super::FieldErrors;
 use super::customer::check_email;
 use super::date::ShopZone;
-use super::field::{Ctx, Field, Record, Value, field};
+use super::field::{Ctx, Field, Record, field};
 use clutch::quantity::limits;
 use clutch::units::Units;
 
@@ -142,48 +142,21 @@ impl Record for SettingsInput {
             limits::DUE_WITHIN_PASSES
         )
         .unit("passes"),
-        Field {
-            column: "extra_face_efficiency",
-            form: "extra_face_efficiency",
-            label: "Torque share of each extra face",
-            hint: "twin and triple discs: the share each face beyond the first two carries",
-            unit: "",
-            value: Value::Number {
-                limit: limits::EXTRA_FACE_EFFICIENCY,
-                required: false,
-                get: |r| Some(r.extra_face_efficiency),
-                // Blank: every face carries its full share.
-                set: |r, v| r.extra_face_efficiency = v.unwrap_or_else(full_share),
-            },
-        },
-        Field {
-            column: "bind_margin_mm",
-            form: "bind_margin",
-            label: "Coil-bind margin",
-            hint: "clearance to keep with the clutch fully released",
-            unit: "",
-            value: Value::Number {
-                limit: limits::BIND_MARGIN,
-                required: false,
-                get: |r| Some(r.bind_margin_mm.mm()),
-                // Blank: the default 0.5 mm.
-                set: |r, v| r.bind_margin_mm = v.map_or_else(default_bind_margin, Length::from_mm),
-            },
-        },
-        Field {
-            column: "launch_bog_pct",
-            form: "launch_bog_pct",
-            label: "Clean lock: engine may fall below the launch speed by at most",
-            hint: "",
-            unit: "",
-            value: Value::Number {
-                limit: limits::LAUNCH_BOG,
-                required: false,
-                get: |r| Some(r.launch_bog_pct),
-                // Blank: the default 15 %.
-                set: |r, v| r.launch_bog_pct = v.unwrap_or_else(default_launch_bog),
-            },
-        },
+        field!(
+            number extra_face_efficiency, "extra_face_efficiency",
+            "Torque share of each extra face", limits::EXTRA_FACE_EFFICIENCY, blank full_share()
+        )
+        .hint("twin and triple discs: the share each face beyond the first two carries"),
+        field!(
+            number bind_margin_mm, "bind_margin", "Coil-bind margin", limits::BIND_MARGIN,
+            blank default_bind_margin()
+        )
+        .hint("clearance to keep with the clutch fully released"),
+        field!(
+            number launch_bog_pct, "launch_bog_pct",
+            "Clean lock: engine may fall below the launch speed by at most", limits::LAUNCH_BOG,
+            blank default_launch_bog()
+        ),
         field!(text time_zone, "time_zone", "Time zone", 64)
             .hint("e.g. America/Chicago; empty: this computer's"),
     ];

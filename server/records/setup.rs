@@ -4,7 +4,7 @@ use super::measure::Grams;
 use serde::{Deserialize, Serialize};
 
 use super::FieldErrors;
-use super::field::{Ctx, Field, Record, Value, field};
+use super::field::{Ctx, Field, Record, field};
 use clutch::quantity::{Kind, limits};
 
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, sqlx::FromRow, utoipa::ToSchema)]
@@ -58,20 +58,11 @@ impl Record for SetupInput {
             number adjuster_turns, "adjuster_turns", "Adjuster turns", limits::ADJUSTER_TURNS,
             required
         ),
-        Field {
-            column: "adjuster_turns_each",
-            form: "adjuster_turns_each",
-            label: "Turns of each adjuster",
-            hint: "if checked one by one, separated by commas",
-            unit: "",
-            value: Value::List {
-                limit: limits::ADJUSTER_TURNS,
-                max_items: limits::ADJUSTER_COUNT,
-                item: "adjuster",
-                get: |r| r.adjuster_turns_each.clone(),
-                set: |r, v| r.adjuster_turns_each = v,
-            },
-        },
+        field!(
+            list adjuster_turns_each, "adjuster_turns_each", "Turns of each adjuster",
+            limits::ADJUSTER_TURNS, limits::ADJUSTER_COUNT, "adjuster"
+        )
+        .hint("if checked one by one, separated by commas"),
         field!(
             number counterweight_g, "counterweight_g", "Counterweight per lever",
             limits::COUNTERWEIGHT
