@@ -872,6 +872,21 @@ mod tests {
         assert!(e.is_some_and(|e| e.field == "fit" && e.message.contains("condition number")));
     }
 
+    /// A pass locking at `rpm` with `cw` g per lever, carrying `f` times the torque the model
+    /// gives at μ 0.32 and a gain 1.2 times its own.
+    fn observed(m: &ClutchModel, cw: f64, rpm: f64, f: f64) -> Observation {
+        let mut p = Observation {
+            lockup_rpm: rpm,
+            torque_nm: 0.0,
+            adjuster_turns: 0.0,
+            counterweight_g: cw,
+            clamp_loss_n: 0.0,
+            springs: None,
+        };
+        p.torque_nm = f * p.law(m, 0.32, 1.2).capacity_nm(rpm);
+        p
+    }
+
     // Exact data from μ = 0.32 and a gain 1.2 times the model's, at counterweights 20–80 g and
     // different launch speeds, must give both back with a vanishing interval.
     #[test]
@@ -884,18 +899,7 @@ mod tests {
             (80.0, 5500.0),
         ]
         .iter()
-        .map(|&(cw, rpm)| {
-            let mut p = Observation {
-                lockup_rpm: rpm,
-                torque_nm: 0.0,
-                adjuster_turns: 0.0,
-                counterweight_g: cw,
-                clamp_loss_n: 0.0,
-                springs: None,
-            };
-            p.torque_nm = p.law(&m, 0.32, 1.2).capacity_nm(rpm);
-            p
-        })
+        .map(|&(cw, rpm)| observed(&m, cw, rpm, 1.0))
         .collect();
         let cal = calibrate(&m, &passes, Fit::MuAndGain).expect("fits");
         assert!(close(cal.mu, 0.32, 1e-12), "{}", cal.mu);
@@ -926,18 +930,7 @@ mod tests {
         ]
         .iter()
         .zip(scatter)
-        .map(|(&(cw, rpm), f)| {
-            let mut p = Observation {
-                lockup_rpm: rpm,
-                torque_nm: 0.0,
-                adjuster_turns: 0.0,
-                counterweight_g: cw,
-                clamp_loss_n: 0.0,
-                springs: None,
-            };
-            p.torque_nm = f * p.law(&m, 0.32, 1.2).capacity_nm(rpm);
-            p
-        })
+        .map(|(&(cw, rpm), f)| observed(&m, cw, rpm, f))
         .collect();
         let cal = calibrate(&m, &passes, Fit::MuAndGain).expect("fits");
         // By hand: normal equations [Σss Σsk; Σsk Σkk][a; b] = [Σst; Σkt].

@@ -1,9 +1,6 @@
 //! The launch preview: the engine, the slipping clutch, the driveline and the tires simulated
 //! from the launch to lockup, its API, and the counterweight search for a launch target.
 
-/// The reference launch the tests and benchmarks start from.
-#[cfg(any(test, feature = "reference"))]
-pub mod reference;
 /// The launch preview request (as the API receives it), its validation and its answer.
 pub mod request;
 /// The simulation itself: state, modes, the RK4 step, events.

@@ -17,6 +17,9 @@ pub mod heat;
 pub mod launch;
 /// Quantity kinds (internal and display units) and the one table of limits.
 pub mod quantity;
+/// The reference cases of `docs/engineering.md` the tests and benchmarks start from.
+#[cfg(any(test, feature = "reference"))]
+pub mod reference;
 /// Ordinary least-squares straight line, numerically careful.
 pub mod regression;
 /// Unit systems (imperial / metric), exact conversion factors and labels.

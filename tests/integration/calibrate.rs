@@ -621,17 +621,7 @@ async fn a_drifting_calibration_leaves_the_nominal_mu_and_says_why() {
 /// The reference launch (docs/engineering.md §18) as a launch-method calibration body, with
 /// the spring rate given.
 fn launch_body(rate: f64, passes: Value) -> Value {
-    use clutch::launch::reference::{launch, without};
-    let mut body = without(
-        launch(),
-        &[
-            "friction",
-            "engine.friction_torque",
-            "thermal",
-            "step_ms",
-            "duration_s",
-        ],
-    );
+    let mut body = clutch::reference::launch_calibration();
     body["method"] = json!("launch");
     body["springs"]["rate"] = json!(rate);
     body["passes"] = passes;

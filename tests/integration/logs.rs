@@ -7,18 +7,6 @@ use serde_json::{Value, json};
 
 use crate::support::{Client, TestApp, id_from};
 
-/// The worked file of docs/engineering.md §24 ([derived]): engine 6000 rpm, input
-/// 6000·t/0.8 up to 0.8 s then 6000, 100 Hz from 0 to 1 s.
-fn worked_csv() -> String {
-    let mut s = String::from("time,rpm,shaft\n");
-    for k in 0..=100 {
-        let t = k as f64 / 100.0;
-        let n = if t <= 0.8 { 6000.0 * t / 0.8 } else { 6000.0 };
-        s.push_str(&format!("{t:.2},6000,{n}\n"));
-    }
-    s
-}
-
 pub fn calc_body(csv: String) -> Value {
     json!({ "units": "metric", "csv": csv,
         "columns": { "time": "time", "engine_rpm": "rpm", "input_rpm": "shaft" },
@@ -31,7 +19,11 @@ async fn the_worked_file_answers_as_the_contract_documents() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
     let v = app
-        .post_json_ok("/api/v1/calc/log-analysis", &token, calc_body(worked_csv()))
+        .post_json_ok(
+            "/api/v1/calc/log-analysis",
+            &token,
+            calc_body(clutch::reference::worked_log()),
+        )
         .await;
     // Lockup 0.776 s and 600 × 628.3185 × 0.4 = 150 796 J [derived, docs/engineering.md §24].
     assert_eq!(v["samples"], 101);
@@ -60,7 +52,7 @@ async fn the_worked_file_answers_as_the_contract_documents() {
         ])
     );
     // Without the engine: the events, but no torque or energy.
-    let mut body = calc_body(worked_csv());
+    let mut body = calc_body(clutch::reference::worked_log());
     body.as_object_mut().unwrap().remove("engine");
     let v = app
         .post_json("/api/v1/calc/log-analysis", &token, body)
@@ -76,31 +68,35 @@ async fn bad_files_answer_422_naming_the_column_or_csv_and_the_line() {
     let token = app.token("sam").await;
     let cases: Vec<(String, Value, &str, &str)> = vec![
         (
-            worked_csv().replace("0.30,6000", "0.30,six"),
+            clutch::reference::worked_log().replace("0.30,6000", "0.30,six"),
             json!(null),
             "columns.engine_rpm",
             "line 32",
         ),
         (
-            worked_csv().replace("0.50,", "0.40,"),
+            clutch::reference::worked_log().replace("0.50,", "0.40,"),
             json!(null),
             "columns.time",
             "line 52",
         ),
         (
-            worked_csv(),
+            clutch::reference::worked_log(),
             json!({"time": "time", "engine_rpm": "crank", "input_rpm": "shaft"}),
             "columns.engine_rpm",
             "line 1",
         ),
         (
-            worked_csv().lines().take(6).collect::<Vec<_>>().join("\n"),
+            clutch::reference::worked_log()
+                .lines()
+                .take(6)
+                .collect::<Vec<_>>()
+                .join("\n"),
             json!(null),
             "csv",
             "line 2",
         ),
         (
-            worked_csv().replace(",6000\n", ",5000\n"),
+            clutch::reference::worked_log().replace(",6000\n", ",5000\n"),
             json!(null),
             "columns.input_rpm",
             "no lockup",

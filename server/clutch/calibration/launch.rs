@@ -383,17 +383,7 @@ mod tests {
 
     /// The reference launch (docs/engineering.md §18) without μ, with `passes`.
     fn reference(passes: serde_json::Value) -> LaunchCalibrateRequest {
-        use crate::launch::reference::{launch, without};
-        let mut r = without(
-            launch(),
-            &[
-                "friction",
-                "engine.friction_torque",
-                "thermal",
-                "step_ms",
-                "duration_s",
-            ],
-        );
+        let mut r = crate::reference::launch_calibration();
         r["passes"] = passes;
         serde_json::from_value(r).expect("request")
     }

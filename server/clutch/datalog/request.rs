@@ -725,16 +725,6 @@ pub fn analyze_request(req: &LogAnalysisRequest) -> Result<LogAnalysisReport, In
 mod tests {
     use super::*;
 
-    fn worked_csv() -> String {
-        let mut s = String::from("time,rpm,shaft\n");
-        for k in 0..=100 {
-            let t = k as f64 / 100.0;
-            let n = if t <= 0.8 { 6000.0 * t / 0.8 } else { 6000.0 };
-            s.push_str(&format!("{t:.2},6000,{n}\n"));
-        }
-        s
-    }
-
     fn request(csv: String) -> LogAnalysisRequest {
         serde_json::from_value(serde_json::json!({
             "units": "metric", "csv": csv,
@@ -747,7 +737,7 @@ mod tests {
     // docs/engineering.md §24's worked file as CSV text: 0.776 s, 150.80 kJ, 377.0 kW [derived].
     #[test]
     fn the_worked_file_as_csv_gives_the_documented_answer() {
-        let r = analyze_request(&request(worked_csv())).unwrap();
+        let r = analyze_request(&request(crate::reference::worked_log())).unwrap();
         assert_eq!(r.samples, 101);
         assert_eq!(r.sample_rate_hz, 100.0);
         assert_eq!((r.launch_s, r.lockup_s), (0.0, 0.776));
@@ -760,7 +750,7 @@ mod tests {
 
     #[test]
     fn the_same_file_in_milliseconds_with_semicolons_gives_the_same_answer() {
-        let text = worked_csv()
+        let text = crate::reference::worked_log()
             .lines()
             .enumerate()
             .map(|(i, l)| {
@@ -812,14 +802,14 @@ mod tests {
             r.notes
         );
         // The worked file in seconds: every rule says seconds, and the note says why.
-        let r = analyze_request(&request(worked_csv())).unwrap();
+        let r = analyze_request(&request(crate::reference::worked_log())).unwrap();
         assert!(
             r.notes.iter().any(|n| n.contains("read in seconds")),
             "{:?}",
             r.notes
         );
         // Given explicitly, no rule is needed and none is noted.
-        let mut req = request(worked_csv());
+        let mut req = request(crate::reference::worked_log());
         req.time_unit = TimeUnit::S;
         let r = analyze_request(&req).unwrap();
         assert!(!r.notes.iter().any(|n| n.contains("time column")));
@@ -861,7 +851,7 @@ mod tests {
 
     #[test]
     fn a_driveshaft_speed_is_turned_into_input_speed_by_first_gear() {
-        let text = worked_csv().replace("time,rpm,shaft", "time,rpm,ds");
+        let text = crate::reference::worked_log().replace("time,rpm,shaft", "time,rpm,ds");
         // Driveshaft = input / 2.5: the same file read with first gear 2.5 (values scaled).
         let scaled: String = text
             .lines()
@@ -887,7 +877,7 @@ mod tests {
 
     #[test]
     fn time_going_backwards_names_the_line() {
-        let text = worked_csv().replace("0.50,6000", "0.48,6000");
+        let text = crate::reference::worked_log().replace("0.50,6000", "0.48,6000");
         let err = analyze_request(&request(text)).unwrap_err();
         assert_eq!(err.field, "columns.time");
         // Header on line 1, t = 0.00 on line 2, so t = 0.50 is on line 52.
@@ -925,13 +915,13 @@ mod tests {
 
     #[test]
     fn a_short_log_answers_every_sample() {
-        let r = analyze_request(&request(worked_csv())).unwrap();
+        let r = analyze_request(&request(crate::reference::worked_log())).unwrap();
         assert_eq!((r.samples, r.trace_points, r.trace.len()), (101, 101, 101));
     }
 
     #[test]
     fn an_unknown_column_is_refused_on_its_mapping() {
-        let mut req = request(worked_csv());
+        let mut req = request(crate::reference::worked_log());
         req.columns.engine_rpm = "crank".into();
         let err = analyze_request(&req).unwrap_err();
         assert_eq!(err.field, "columns.engine_rpm");

@@ -803,7 +803,7 @@ mod tests {
     /// The reference launch (docs/engineering.md §18, in the API's metric form): twin disc
     /// 240 × 160 mm, μ 0.30, 4 springs × 1000 N/mm × 1 mm, one lever of 50 g at 100 mm.
     fn reference() -> LaunchRequest {
-        serde_json::from_value(crate::launch::reference::launch()).expect("reference request")
+        serde_json::from_value(crate::reference::launch()).expect("reference request")
     }
 
     fn model(req: &LaunchRequest) -> LaunchModel {

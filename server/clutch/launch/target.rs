@@ -231,7 +231,7 @@ mod tests {
     /// The reference launch (docs/engineering.md §18) with four levers of 20 g at 50 mm, so
     /// counterweight matters.
     fn request() -> LaunchRequest {
-        use crate::launch::reference::{launch, without};
+        use crate::reference::{launch, without};
         let mut r = without(
             launch(),
             &[

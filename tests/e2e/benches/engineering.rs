@@ -74,7 +74,7 @@ fn request() -> CapacityRequest {
 /// The reference launch body with a torque curve long enough (to 10 000 rpm) that the run goes
 /// the full 3 s: 6000 steps of RK4 with lock, sixty feet and the trace.
 fn launch_request() -> clutch::launch::request::LaunchRequest {
-    use clutch::launch::reference::{launch, without};
+    use clutch::reference::{launch, without};
     let mut r = without(launch(), &["vehicle.air_density", "thermal.plate_share"]);
     r["engine"]["torque_curve"] =
         serde_json::json!([[3000, 700], [5000, 700], [7000, 700], [10000, 600]]);

@@ -1,8 +1,10 @@
-//! The reference launch of `docs/engineering.md` §18, in the API's metric form: a twin disc
-//! 240 × 160 mm at μ 0.30, 4 springs × 1000 N/mm × 1 mm, one lever of 50 g at 100 mm, a flat
-//! 700 N·m engine launched at 6000 rpm, a 1500 kg car. It is the check case the engineering
-//! tests, the calibration tests and the benchmarks start from; each takes this body and
-//! changes what its case needs, so the figures they check rest on one written-down car.
+//! The reference cases of `docs/engineering.md` written once, for the engineering tests, the
+//! calibration tests and the benchmarks: each takes a case and changes what it needs, so the
+//! figures they check rest on one written-down car and one written-down data log.
+//!
+//! The reference launch (§18), in the API's metric form: a twin disc 240 × 160 mm at μ 0.30,
+//! 4 springs × 1000 N/mm × 1 mm, one lever of 50 g at 100 mm, a flat 700 N·m engine launched at
+//! 6000 rpm, a 1500 kg car.
 
 use serde_json::{Value, json};
 
@@ -28,6 +30,33 @@ pub fn launch() -> Value {
                      "start_temperature": 30, "plate_share": 0.45 },
         "step_ms": 0.5, "duration_s": 3
     })
+}
+
+/// The reference launch as a whole-launch calibration body takes it: without μ (which it
+/// finds), the engine's friction, the heat model and the step and duration (its own).
+pub fn launch_calibration() -> Value {
+    without(
+        launch(),
+        &[
+            "friction",
+            "engine.friction_torque",
+            "thermal",
+            "step_ms",
+            "duration_s",
+        ],
+    )
+}
+
+/// The worked data log of §24 ([derived]): engine 6000 rpm, gearbox input 6000·t/0.8 up to
+/// 0.8 s then 6000, 100 Hz from 0 to 1 s; columns `time`, `rpm`, `shaft`.
+pub fn worked_log() -> String {
+    let mut s = String::from("time,rpm,shaft\n");
+    for k in 0..=100 {
+        let t = k as f64 / 100.0;
+        let n = if t <= 0.8 { 6000.0 * t / 0.8 } else { 6000.0 };
+        s.push_str(&format!("{t:.2},6000,{n}\n"));
+    }
+    s
 }
 
 /// `body` with the entries named by `paths` taken out (`"thermal"`, `"engine.friction_torque"`):
