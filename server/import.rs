@@ -589,17 +589,27 @@ pub struct Row {
     pub measurement: Option<Checked<HeightInput>>,
 }
 
+/// How a file's cells of one column are read: the kind of value, the unit the column names
+/// (or, with `in_cell`, that each cell names), and whether decimals are written with commas.
+#[derive(Debug, Clone, Copy)]
+struct Cell<'a> {
+    kind: Kind,
+    column_unit: Option<&'a str>,
+    in_cell: bool,
+    decimal_comma: bool,
+}
+
 /// A number cell as the forms would read it: a decimal comma taken when the file is split by
 /// semicolons, the unit of the column (or, with `in_cell`, of the cell) converted to the stored
 /// unit. Text in a column that takes no unit goes to the form as it is (the form says what is
 /// wrong with it).
-fn number_cell(
-    raw: &str,
-    kind: Kind,
-    column_unit: Option<&str>,
-    in_cell: bool,
-    decimal_comma: bool,
-) -> Result<String, String> {
+fn number_cell(raw: &str, how: Cell) -> Result<String, String> {
+    let Cell {
+        kind,
+        column_unit,
+        in_cell,
+        decimal_comma,
+    } = how;
     let text = if decimal_comma {
         raw.replace(',', ".")
     } else {
@@ -642,14 +652,8 @@ fn number_cell(
 
 /// A list cell (shims): items split by commas, semicolons or spaces (only commas and
 /// semicolons when each item carries its unit; no commas with decimal commas), each converted.
-fn list_cell(
-    raw: &str,
-    kind: Kind,
-    column_unit: Option<&str>,
-    in_cell: bool,
-    decimal_comma: bool,
-) -> Result<String, String> {
-    let seps: &[char] = match (in_cell, decimal_comma) {
+fn list_cell(raw: &str, how: Cell) -> Result<String, String> {
+    let seps: &[char] = match (how.in_cell, how.decimal_comma) {
         (true, true) => &[';'],
         (true, false) => &[',', ';'],
         (false, true) => &[';', ' ', '\t'],
@@ -660,10 +664,7 @@ fn list_cell(
         .map(str::trim)
         .filter(|s| !s.is_empty())
         .enumerate()
-        .map(|(i, item)| {
-            number_cell(item, kind, column_unit, in_cell, decimal_comma)
-                .map_err(|m| format!("item {}: {m}", i + 1))
-        })
+        .map(|(i, item)| number_cell(item, how).map_err(|m| format!("item {}: {m}", i + 1)))
         .collect();
     items.map(|v| v.join(" "))
 }
@@ -723,11 +724,18 @@ fn read_part<R: Record>(
             continue;
         }
         let text = match &f.value {
-            Value::Number { limit, .. } => {
-                number_cell(raw, limit.kind, r.units[*i], r.in_cell[*i], decimal_comma)
-            }
-            Value::List { limit, .. } => {
-                list_cell(raw, limit.kind, r.units[*i], r.in_cell[*i], decimal_comma)
+            Value::Number { limit, .. } | Value::List { limit, .. } => {
+                let how = Cell {
+                    kind: limit.kind,
+                    column_unit: r.units[*i],
+                    in_cell: r.in_cell[*i],
+                    decimal_comma,
+                };
+                if matches!(f.value, Value::List { .. }) {
+                    list_cell(raw, how)
+                } else {
+                    number_cell(raw, how)
+                }
             }
             Value::Whole { .. } => Ok(if decimal_comma {
                 raw.replace(',', ".")
@@ -1142,23 +1150,32 @@ mod tests {
         assert!((N_PER_MM_PER_LBF_PER_IN - N_PER_LBF / MM_PER_IN).abs() < 1e-15);
         // Units written in cells.
         assert_eq!(
-            number_cell("2.100 in", Kind::Length, None, true, false),
+            number_cell("2.100 in", cell(Kind::Length, None, true, false)),
             Ok(format!("{}", 2.1 * 25.4))
         );
         assert_eq!(
-            number_cell("0.5\"", Kind::Length, None, true, false),
+            number_cell("0.5\"", cell(Kind::Length, None, true, false)),
             Ok("12.7".into())
         );
         assert_eq!(
-            number_cell("53 mm", Kind::Length, None, true, false),
+            number_cell("53 mm", cell(Kind::Length, None, true, false)),
             Ok("53".into())
         );
-        assert!(number_cell("53", Kind::Length, None, true, false).is_err());
-        assert!(number_cell("53 lbf", Kind::Length, None, true, false).is_err());
+        assert!(number_cell("53", cell(Kind::Length, None, true, false)).is_err());
+        assert!(number_cell("53 lbf", cell(Kind::Length, None, true, false)).is_err());
         assert_eq!(
-            number_cell("12,5", Kind::Rate, Some("N/mm"), false, true),
+            number_cell("12,5", cell(Kind::Rate, Some("N/mm"), false, true)),
             Ok("12.5".into())
         );
+    }
+
+    fn cell(kind: Kind, column_unit: Option<&str>, in_cell: bool, decimal_comma: bool) -> Cell<'_> {
+        Cell {
+            kind,
+            column_unit,
+            in_cell,
+            decimal_comma,
+        }
     }
 
     #[test]

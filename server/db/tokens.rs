@@ -31,26 +31,33 @@ pub async fn user(
     .await
 }
 
+/// Revokes the live token stored as `token_hash`; how many were revoked (0 or 1).
 pub async fn revoke_by_hash(conn: &mut SqliteConnection, token_hash: &str) -> sqlx::Result<u64> {
-    let done = sqlx::query(
-        "UPDATE api_tokens SET revoked_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now'),
-             updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
-         WHERE token_hash = ? AND revoked_at IS NULL",
-    )
-    .bind(token_hash)
-    .execute(conn)
-    .await?;
-    Ok(done.rows_affected())
+    revoke_where(conn, "token_hash = ?", token_hash).await
 }
 
+/// Revokes every live token of `user_id`; how many were revoked.
 pub async fn revoke_for_user(conn: &mut SqliteConnection, user_id: i64) -> sqlx::Result<u64> {
-    let done = sqlx::query(
+    revoke_where(conn, "user_id = ?", user_id).await
+}
+
+/// Revokes the live tokens matching `condition` (one `?`, bound to `value`).
+async fn revoke_where<'q, T>(
+    conn: &mut SqliteConnection,
+    condition: &'static str,
+    value: T,
+) -> sqlx::Result<u64>
+where
+    T: sqlx::Encode<'q, sqlx::Sqlite> + sqlx::Type<sqlx::Sqlite> + Send + 'q,
+{
+    let sql = format!(
         "UPDATE api_tokens SET revoked_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now'),
              updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
-         WHERE user_id = ? AND revoked_at IS NULL",
-    )
-    .bind(user_id)
-    .execute(conn)
-    .await?;
+         WHERE {condition} AND revoked_at IS NULL"
+    );
+    let done = sqlx::query(sqlx::AssertSqlSafe(sql))
+        .bind(value)
+        .execute(conn)
+        .await?;
     Ok(done.rows_affected())
 }
