@@ -2,6 +2,7 @@
 //! customer's read-only link to it.
 
 use crate::records::measure::{EngineSpeed, Grams};
+use crate::web::pages::builds::tune::typed_targets;
 use askama::Template;
 use axum::extract::State;
 use axum::http::{HeaderMap, StatusCode, header};
@@ -272,20 +273,7 @@ pub async fn create(
     let settings = db::settings::get(&mut tx).await?;
     let units = settings.units();
     let mut errors = FieldErrors::default();
-    let lockup = field::number(
-        &form,
-        "target_lockup",
-        limits::ENGINE_SPEED,
-        units,
-        &mut errors,
-    );
-    let ratio = field::number(
-        &form,
-        "target_ratio",
-        limits::LAUNCH_RATIO,
-        units,
-        &mut errors,
-    );
+    let (lockup, ratio) = typed_targets(&form, limits::ENGINE_SPEED, units, &mut errors);
     if ratio.is_some() && lockup.is_none() {
         errors.add(
             "target_lockup",

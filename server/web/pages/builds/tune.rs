@@ -245,15 +245,7 @@ async fn render_tune(
                 let lockup_limit = curve.map_or(limits::ENGINE_SPEED, |(lo, hi)| {
                     Limit::new(Kind::Speed, Bound::Incl(lo), Bound::Incl(hi))
                 });
-                let lockup =
-                    field::number(&form, "target_lockup", lockup_limit, units, &mut errors);
-                let ratio = field::number(
-                    &form,
-                    "target_ratio",
-                    limits::LAUNCH_RATIO,
-                    units,
-                    &mut errors,
-                );
+                let (lockup, ratio) = typed_targets(&form, lockup_limit, units, &mut errors);
                 if lockup.is_none() && !errors.has("target_lockup") {
                     errors.add("target_lockup", "required");
                 }
@@ -934,4 +926,18 @@ pub fn calibration_verdict(c: &BuildCalibration) -> Vec<String> {
 /// The cooling time constant the launch temperatures use, minutes.
 pub fn heat_tau_min() -> f64 {
     clutch::heat::DEFAULT_TAU_S / 60.0
+}
+
+/// The tuning targets typed on a form (the tuning page's recommendation, a new setup sheet):
+/// the lockup speed within `lockup_limit` and the optional launch ratio, each checked against
+/// its limit, in internal units; each form adds its own rule between the two.
+pub fn typed_targets(
+    form: &FormData,
+    lockup_limit: Limit,
+    units: clutch::units::Units,
+    errors: &mut FieldErrors,
+) -> (Option<f64>, Option<f64>) {
+    let lockup = field::number(form, "target_lockup", lockup_limit, units, errors);
+    let ratio = field::number(form, "target_ratio", limits::LAUNCH_RATIO, units, errors);
+    (lockup, ratio)
 }
