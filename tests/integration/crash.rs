@@ -6,75 +6,29 @@
 //! (`LOCKPOINT_CRASH_SEED` overrides it), so a failing run can be repeated.
 
 use std::collections::HashMap;
-use std::io::{BufRead, BufReader, Read, Write};
+use std::io::{Read, Write};
 use std::net::{SocketAddr, TcpStream};
 use std::path::{Path, PathBuf};
-use std::process::{Child, ChildStdout, Stdio};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
 use crate::hostile::Rng;
-use crate::support::{TempDb, cli_ok as cli, lockpoint, serving};
+use crate::support::{Server, TempDb, cli_ok as cli, lockpoint, serving};
 
 const DEFAULT_SEED: u64 = 0x4C50_4B49_4C4C_0009;
 const KILLS: usize = 30;
 const CLIENTS: usize = 4;
 const PASSWORD: &str = "crash test password";
 
-/// A running server; killed (SIGKILL) when dropped, so a failing test leaves nothing behind.
-struct Server {
-    child: Child,
-    addr: SocketAddr,
-    // Kept open so the server never writes into a closed pipe.
-    _stdout: BufReader<ChildStdout>,
-}
-
-impl Server {
-    fn start(db: &Path, log: &Path) -> Self {
-        let log = std::fs::OpenOptions::new()
-            .create(true)
-            .append(true)
-            .open(log)
-            .unwrap();
-        let mut child = serving(&mut lockpoint(), db)
-            .stdin(Stdio::null())
-            .stdout(Stdio::piped())
-            .stderr(log)
-            .spawn()
-            .expect("the server starts");
-        let mut stdout = BufReader::new(child.stdout.take().unwrap());
-        let mut line = String::new();
-        stdout.read_line(&mut line).unwrap();
-        let addr = line
-            .trim()
-            .strip_prefix("listening on http://")
-            .and_then(|a| a.parse().ok())
-            .unwrap_or_else(|| {
-                let _ = child.kill();
-                panic!("unexpected first line from the server: {line:?}")
-            });
-        Self {
-            child,
-            addr,
-            _stdout: stdout,
-        }
-    }
-
-    /// SIGKILL: no shutdown handler runs, nothing is flushed or closed.
-    fn kill(mut self) {
-        self.child.kill().expect("the server can be killed");
-        self.child.wait().unwrap();
-    }
-}
-
-impl Drop for Server {
-    fn drop(&mut self) {
-        if let Ok(None) = self.child.try_wait() {
-            let _ = self.child.kill();
-            let _ = self.child.wait();
-        }
-    }
+/// `lockpoint serve` on `db`, its log appended to `log`.
+fn start(db: &Path, log: &Path) -> Server {
+    let log = std::fs::OpenOptions::new()
+        .create(true)
+        .append(true)
+        .open(log)
+        .unwrap();
+    Server::spawn(serving(&mut lockpoint(), db).stderr(log))
 }
 
 /// How one HTTP exchange ended.
@@ -329,9 +283,9 @@ fn acknowledged_writes_survive_sigkill_and_the_file_stays_sound() {
     assert!(token.starts_with("lp_"), "a token is printed: {token:?}");
 
     // A customer the cars are written under.
-    let server = Server::start(&db.path, &log.0);
+    let server = start(&db.path, &log.0);
     let parent = match request(
-        server.addr,
+        server.addr.parse().unwrap(),
         &token,
         "/api/v1/customers",
         r#"{"name": "Test Customer parent"}"#,
@@ -360,11 +314,9 @@ fn acknowledged_writes_survive_sigkill_and_the_file_stays_sound() {
     let mut kills = 0;
     let mut rows_seen = 0;
     for round in 0..KILLS {
-        let srv = server
-            .take()
-            .unwrap_or_else(|| Server::start(&db.path, &log.0));
+        let srv = server.take().unwrap_or_else(|| start(&db.path, &log.0));
         let stop = Arc::new(AtomicBool::new(false));
-        let addr = srv.addr;
+        let addr: SocketAddr = srv.addr.parse().unwrap();
         let handles: Vec<_> = seqs
             .iter()
             .copied()

@@ -3,6 +3,8 @@
 mod access;
 mod backup;
 mod bounded;
+#[path = "../shared/build_form.rs"]
+mod build_form;
 mod cache;
 mod calc;
 mod calibrate;

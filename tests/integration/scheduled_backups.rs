@@ -3,12 +3,10 @@
 //! a folder that disappears; and `lockpoint backup verify` on sound and damaged files.
 
 use std::collections::BTreeSet;
-use std::io::{BufRead, BufReader, Read, Write};
-use std::net::TcpStream;
 use std::os::unix::fs::{MetadataExt, PermissionsExt};
 use std::os::unix::process::CommandExt;
 use std::path::{Path, PathBuf};
-use std::process::{Child, ChildStdout, Command, Stdio};
+use std::process::{Command, Stdio};
 use std::str::FromStr;
 use std::sync::atomic::{AtomicBool, AtomicU32, Ordering};
 use std::sync::{Arc, Mutex};
@@ -22,7 +20,7 @@ use sqlx::{Connection, SqliteConnection};
 
 use crate::hostile::Rng;
 use crate::support::{
-    TestApp, cli_ok as ok, execute_on_file, lockpoint, newer_copy, run_cli as run, serving,
+    Server, TestApp, cli_ok as ok, execute_on_file, lockpoint, newer_copy, run_cli as run, serving,
 };
 
 const PASSWORD: &str = "scheduled backup password";
@@ -91,123 +89,45 @@ fn new_shop(db: &Path) -> String {
         .to_string()
 }
 
-/// A running `lockpoint serve`; killed when dropped.
-struct Server {
-    child: Child,
-    addr: String,
-    _stdout: BufReader<ChildStdout>,
-}
-
-impl Server {
-    fn start(mut cmd: Command, db: &Path, backup: &[&str]) -> Self {
-        let mut child = serving(&mut cmd, db)
+/// `lockpoint serve` on `db` by `cmd` with the `backup` options, the shop's time read in UTC.
+fn start(mut cmd: Command, db: &Path, backup: &[&str]) -> Server {
+    Server::spawn(
+        serving(&mut cmd, db)
             .args(backup)
             // The names carry the shop's time; with no zone set that is the server's.
             .env("TZ", "UTC")
             .env("RUST_LOG", "warn")
-            .stdin(Stdio::null())
-            .stdout(Stdio::piped())
-            .stderr(Stdio::null())
-            .spawn()
-            .unwrap();
-        let mut stdout = BufReader::new(child.stdout.take().unwrap());
-        let mut line = String::new();
-        stdout.read_line(&mut line).unwrap();
-        let addr = line
-            .trim()
-            .strip_prefix("listening on http://")
-            .unwrap_or_else(|| {
-                let _ = child.kill();
-                panic!("unexpected first line: {line:?}")
-            })
-            .to_string();
-        Self {
-            child,
-            addr,
-            _stdout: stdout,
-        }
-    }
-
-    fn kill(mut self) {
-        self.child.kill().unwrap();
-        self.child.wait().unwrap();
-    }
-
-    /// One request on its own connection: (status, headers, body).
-    fn send(
-        &self,
-        method: &str,
-        path: &str,
-        headers: &[(&str, &str)],
-        body: &str,
-    ) -> (u16, String, String) {
-        let mut stream = TcpStream::connect(&self.addr).unwrap();
-        stream
-            .set_read_timeout(Some(Duration::from_secs(30)))
-            .unwrap();
-        let mut head = format!(
-            "{method} {path} HTTP/1.1\r\nHost: {}\r\nConnection: close\r\nContent-Length: {}\r\n",
-            self.addr,
-            body.len()
-        );
-        for (k, v) in headers {
-            head.push_str(&format!("{k}: {v}\r\n"));
-        }
-        head.push_str("\r\n");
-        stream.write_all(head.as_bytes()).unwrap();
-        stream.write_all(body.as_bytes()).unwrap();
-        let mut raw = Vec::new();
-        stream.read_to_end(&mut raw).unwrap();
-        let text = String::from_utf8_lossy(&raw).into_owned();
-        let (head, body) = text.split_once("\r\n\r\n").unwrap_or((&text, ""));
-        let status = head
-            .split(' ')
-            .nth(1)
-            .and_then(|s| s.parse().ok())
-            .unwrap_or(0);
-        (status, head.to_string(), body.to_string())
-    }
-
-    /// Signs in through the login form: the session cookie.
-    fn sign_in(&self, name: &str) -> String {
-        let body = crate::support::form_encode(&[
-            ("username", name),
-            ("password", PASSWORD),
-            ("next", "/"),
-        ]);
-        let (status, head, _) = self.send(
-            "POST",
-            "/login",
-            &[("Content-Type", "application/x-www-form-urlencoded")],
-            &body,
-        );
-        assert_eq!(status, 303, "{head}");
-        head.lines()
-            .find_map(|l| {
-                l.strip_prefix("set-cookie: ")
-                    .or_else(|| l.strip_prefix("Set-Cookie: "))
-            })
-            .and_then(|c| c.split(';').next())
-            .expect("a session cookie")
-            .to_string()
-    }
-
-    /// A page (body) for a signed-in cookie, answered 200 (a plain body, never compressed: the
-    /// request asks for no encoding).
-    fn page(&self, path: &str, cookie: &str) -> String {
-        let (status, head, body) = self.send("GET", path, &[("Cookie", cookie)], "");
-        assert_eq!(status, 200, "{path}: {head}");
-        body
-    }
+            .stderr(Stdio::null()),
+    )
 }
 
-impl Drop for Server {
-    fn drop(&mut self) {
-        if let Ok(None) = self.child.try_wait() {
-            let _ = self.child.kill();
-            let _ = self.child.wait();
-        }
-    }
+/// Signs in through the login form: the session cookie.
+fn sign_in(server: &Server, name: &str) -> String {
+    let body =
+        crate::support::form_encode(&[("username", name), ("password", PASSWORD), ("next", "/")]);
+    let (status, head, _) = server.send(
+        "POST",
+        "/login",
+        &[("Content-Type", "application/x-www-form-urlencoded")],
+        &body,
+    );
+    assert_eq!(status, 303, "{head}");
+    head.lines()
+        .find_map(|l| {
+            l.strip_prefix("set-cookie: ")
+                .or_else(|| l.strip_prefix("Set-Cookie: "))
+        })
+        .and_then(|c| c.split(';').next())
+        .expect("a session cookie")
+        .to_string()
+}
+
+/// A page (body) for a signed-in cookie, answered 200 (a plain body, never compressed: the
+/// request asks for no encoding).
+fn page_for(server: &Server, path: &str, cookie: &str) -> String {
+    let (status, head, body) = server.send("GET", path, &[("Cookie", cookie)], "");
+    assert_eq!(status, 200, "{path}: {head}");
+    body
 }
 
 /// Finished copies in `dir` (names as the server gives them).
@@ -284,7 +204,7 @@ async fn a_server_backing_up_every_10s_keeps_two_private_checked_copies_with_eve
     cmd.env("LOCKPOINT_BACKUP_DIR", &elsewhere)
         .env("LOCKPOINT_BACKUP_EVERY", "1d")
         .env("LOCKPOINT_BACKUP_KEEP", "5");
-    let server = Server::start(
+    let server = start(
         cmd,
         &db,
         &[
@@ -441,7 +361,7 @@ async fn killing_the_server_during_backups_leaves_only_sound_copies_and_no_tempo
     for round in 0..20 {
         let left = others(&dir);
         age_copies(&dir);
-        let server = Server::start(lockpoint(), &db, &args);
+        let server = start(lockpoint(), &db, &args);
         // The temporaries of the round before are gone once the server has taken the folder up
         // (before its first copy there).
         let deadline = Instant::now() + Duration::from_secs(20);
@@ -481,7 +401,7 @@ async fn killing_the_server_during_backups_leaves_only_sound_copies_and_no_tempo
     // One more start cleans up the last round's temporaries; every copy still verifies, the
     // last through the command itself.
     let left = others(&dir);
-    let server = Server::start(lockpoint(), &db, &args);
+    let server = start(lockpoint(), &db, &args);
     let deadline = Instant::now() + Duration::from_secs(20);
     while others(&dir).iter().any(|n| left.contains(n)) {
         assert!(Instant::now() < deadline, "left over {:?}", others(&dir));
@@ -531,7 +451,7 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
         cmd.uid(NOBODY).gid(NOBODY);
     }
     std::fs::set_permissions(&dir, std::fs::Permissions::from_mode(0o555)).unwrap();
-    let server = Server::start(
+    let server = start(
         cmd,
         &db,
         &[
@@ -541,11 +461,11 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
             "10s",
         ],
     );
-    let boss = server.sign_in("boss");
-    let sam = server.sign_in("sam");
+    let boss = sign_in(&server, "boss");
+    let sam = sign_in(&server, "sam");
     let deadline = Instant::now() + Duration::from_secs(20);
     let page = loop {
-        let page = server.page("/backup", &boss);
+        let page = page_for(&server, "/backup", &boss);
         if page.contains("▲ failing") {
             break page;
         }
@@ -554,10 +474,10 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
     };
     assert!(page.contains("Permission denied"), "{page}");
     assert_eq!(server.send("GET", "/healthz", &[], "").0, 200);
-    let counter = server.page("/", &boss);
+    let counter = page_for(&server, "/", &boss);
     assert!(counter.contains("The last backup failed"), "{counter}");
     assert!(counter.contains("Permission denied"), "{counter}");
-    let tech = server.page("/", &sam);
+    let tech = page_for(&server, "/", &sam);
     assert!(
         !tech.contains("backup-notice"),
         "a tech sees the notice:\n{tech}"
@@ -570,7 +490,7 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
     std::fs::set_permissions(&dir, std::fs::Permissions::from_mode(0o777)).unwrap();
     let deadline = Instant::now() + Duration::from_secs(30);
     loop {
-        let counter = server.page("/", &boss);
+        let counter = page_for(&server, "/", &boss);
         if !counter.contains("backup-notice") {
             break;
         }
@@ -580,7 +500,7 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
     let now = copies(&dir);
     assert_eq!(now.len(), 2, "{now:?}");
     assert_eq!(now[0], "lockpoint-20200101-000000.db");
-    let page = server.page("/backup", &boss);
+    let page = page_for(&server, "/backup", &boss);
     assert!(!page.contains("▲ failing"), "{page}");
     assert!(page.contains(&now[1]), "{page}");
     server.kill();

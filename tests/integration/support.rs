@@ -4,7 +4,7 @@
 use std::io::{BufRead, BufReader, Read, Write};
 use std::net::TcpStream;
 use std::path::{Path, PathBuf};
-use std::process::{Child, Command, Output, Stdio};
+use std::process::{Child, ChildStdout, Command, Output, Stdio};
 use std::sync::atomic::{AtomicU32, Ordering};
 use std::time::{Duration, Instant};
 
@@ -379,22 +379,11 @@ impl Client<'_> {
             .post(
                 &format!("/cars/{car_id}/builds"),
                 &[
-                    ("disc_count", "1"),
-                    ("facing_material", "organic"),
-                    ("facing_od", "10.4"),
-                    ("facing_id", "6.6"),
-                    ("spring_count", "6"),
-                    ("spring_rate", "380"),
-                    ("adjuster_tpi", "16"),
-                    ("base_compression", "0.220"),
-                    ("lever_count", "3"),
-                    ("lever_mass_g", "12"),
-                    ("lever_cg_radius", "4.1"),
-                    ("lever_arm_ratio", "2.6"),
-                    ("shim_stack", "0.010, 0.010, 0.020"),
-                    ("shimming_limit", "0.015"),
-                    ("status", "active"),
-                ],
+                    &[("disc_count", "1"), ("facing_material", "organic")],
+                    crate::build_form::BUILD_FORM,
+                    &[("shimming_limit", "0.015"), ("status", "active")],
+                ]
+                .concat(),
             )
             .await;
         assert_eq!(build.status, StatusCode::SEE_OTHER, "{}", build.body);
@@ -615,11 +604,13 @@ pub fn serving<'a>(cmd: &'a mut Command, db: &Path) -> &'a mut Command {
     ])
 }
 
-/// A running `lockpoint serve` (the real binary) on a database file, killed if a test fails
-/// before stopping it.
+/// A running `lockpoint serve` (the real binary) on a database file; killed (SIGKILL) when
+/// dropped, so a failing test leaves nothing behind.
 pub struct Server {
     pub child: Child,
     pub addr: String,
+    // Kept open so the server never writes into a closed pipe.
+    _stdout: BufReader<ChildStdout>,
 }
 
 impl Server {
@@ -630,22 +621,73 @@ impl Server {
 
     /// The same, with environment variables set for the server process.
     pub fn start_with_env(db: &Path, env: &[(&str, &Path)]) -> Self {
-        let mut child = serving(&mut lockpoint(), db)
-            .envs(env.iter().copied())
+        Self::spawn(
+            serving(&mut lockpoint(), db)
+                .envs(env.iter().copied())
+                .stderr(Stdio::null()),
+        )
+    }
+
+    /// Runs `cmd` (a `serve` command, see [`serving`]) and waits for the address it announces.
+    pub fn spawn(cmd: &mut Command) -> Self {
+        let mut child = cmd
+            .stdin(Stdio::null())
             .stdout(Stdio::piped())
-            .stderr(Stdio::null())
             .spawn()
-            .unwrap();
+            .expect("the server starts");
+        let mut stdout = BufReader::new(child.stdout.take().unwrap());
         let mut line = String::new();
-        BufReader::new(child.stdout.take().unwrap())
-            .read_line(&mut line)
+        stdout.read_line(&mut line).unwrap();
+        let Some(addr) = line.trim().strip_prefix("listening on http://") else {
+            let _ = child.kill();
+            panic!("unexpected first line from the server: {line:?}")
+        };
+        Self {
+            addr: addr.to_string(),
+            child,
+            _stdout: stdout,
+        }
+    }
+
+    /// SIGKILL: no shutdown handler runs, nothing is flushed or closed.
+    pub fn kill(mut self) {
+        self.child.kill().expect("the server can be killed");
+        self.child.wait().unwrap();
+    }
+
+    /// One request on its own connection: (status, headers, body).
+    pub fn send(
+        &self,
+        method: &str,
+        path: &str,
+        headers: &[(&str, &str)],
+        body: &str,
+    ) -> (u16, String, String) {
+        let mut stream = TcpStream::connect(&self.addr).unwrap();
+        stream
+            .set_read_timeout(Some(Duration::from_secs(30)))
             .unwrap();
-        let addr = line
-            .trim()
-            .strip_prefix("listening on http://")
-            .unwrap_or_else(|| panic!("{line}"))
-            .to_string();
-        Self { child, addr }
+        let mut head = format!(
+            "{method} {path} HTTP/1.1\r\nHost: {}\r\nConnection: close\r\nContent-Length: {}\r\n",
+            self.addr,
+            body.len()
+        );
+        for (k, v) in headers {
+            head.push_str(&format!("{k}: {v}\r\n"));
+        }
+        head.push_str("\r\n");
+        stream.write_all(head.as_bytes()).unwrap();
+        stream.write_all(body.as_bytes()).unwrap();
+        let mut raw = Vec::new();
+        stream.read_to_end(&mut raw).unwrap();
+        let text = String::from_utf8_lossy(&raw).into_owned();
+        let (head, body) = text.split_once("\r\n\r\n").unwrap_or((&text, ""));
+        let status = head
+            .split(' ')
+            .nth(1)
+            .and_then(|s| s.parse().ok())
+            .unwrap_or(0);
+        (status, head.to_string(), body.to_string())
     }
 
     /// One request on its own connection: the status line and the whole answer.

@@ -4,6 +4,8 @@
 //! poppler-utils).
 //! Screenshots and the printed PDFs are saved under `target/tmp/browser-artifacts/<test>/`.
 
+#[path = "../../shared/build_form.rs"]
+mod build_form;
 mod charts;
 mod counter;
 mod entries;
@@ -48,23 +50,13 @@ async fn a_technician_records_a_build_prints_the_sheet_and_shares_a_revocable_li
     shots.page(&c, "02-car").await;
 
     harness::click_link(&c, "New build").await;
-    for (name, value) in [
+    let own = [
         ("label", "Bracket single"),
-        ("facing_od", "10.4"),
-        ("facing_id", "6.6"),
         ("disc_thickness_new", "0.300"),
         ("disc_thickness_min", "0.240"),
-        ("spring_count", "6"),
         ("spring_description", "coil, 2.10 in free"),
-        ("spring_rate", "380"),
-        ("adjuster_tpi", "16"),
-        ("base_compression", "0.220"),
-        ("lever_count", "3"),
-        ("lever_mass_g", "12"),
-        ("lever_cg_radius", "4.1"),
-        ("lever_arm_ratio", "2.6"),
-        ("shim_stack", "0.010, 0.010, 0.020"),
-    ] {
+    ];
+    for &(name, value) in own.iter().chain(build_form::BUILD_FORM) {
         harness::fill(&c, &format!("input[name={name}]"), value).await;
     }
     shots.page(&c, "03-build-form").await;
