@@ -37,3 +37,16 @@ pub fn text(rows: usize) -> String {
     }
     out
 }
+
+/// The analysis request for a file of [`text`] (imperial, its column names, an invented car):
+/// what the benchmark and the memory run ask of it, without the file's text.
+pub fn request() -> clutch::datalog::request::LogAnalysisRequest {
+    serde_json::from_value(serde_json::json!({
+        "units": "imperial", "csv": "",
+        "columns": {"time": "time", "engine_rpm": "engine", "input_rpm": "input",
+                    "undriven_wheel_speed": "front", "throttle": "throttle"},
+        "first_gear_ratio": 2.43, "final_drive_ratio": 4.11, "tire_diameter": 28,
+        "engine": {"torque_curve": [[3000, 410], [5000, 480], [7000, 430]], "inertia": 4.7}
+    }))
+    .expect("request")
+}

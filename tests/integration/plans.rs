@@ -54,20 +54,13 @@ impl<S: tracing::Subscriber> Layer<S> for Statements {
     }
 }
 
-/// Tables that grow with the shop's history: none may be read whole by a page.
-const RECORDS: &[&str] = &[
-    "customers",
-    "cars",
-    "builds",
-    "setup_changes",
-    "bench_tests",
-    "bench_springs",
-    "cover_heights",
-    "passes",
-    "audit_log",
-    "build_status",
-    "sheets",
-];
+/// Tables that grow with the shop's history: none may be read whole by a page. The record
+/// tables but the shop's settings, and the history, status and sheets kept beside them.
+fn grows(table: &str) -> bool {
+    let records = lockpoint::records::tables::RECORD_TABLES;
+    (table != "shop_settings" && records.contains(&table))
+        || ["audit_log", "build_status", "sheets"].contains(&table)
+}
 
 /// The biggest tables: never walked, even through an index, except newest first with a LIMIT.
 const HISTORY: &[&str] = &["cover_heights", "passes", "bench_springs", "audit_log"];
@@ -138,7 +131,7 @@ async fn full_scans(conn: &mut sqlx::SqliteConnection, sql: &str) -> (Vec<String
                 // The history tables are walked only newest first, for a LIMITed feed.
                 !(line.contains("_recent") && sql.contains("LIMIT"))
             } else {
-                RECORDS.contains(&table.as_str()) && !indexed
+                grows(table) && !indexed
             }
         })
         .cloned()

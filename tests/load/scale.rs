@@ -253,17 +253,11 @@ async fn check_due(path: &Path) -> Result<(), Box<dyn std::error::Error>> {
     Ok(())
 }
 
-/// The tables the generator fills; every other table is copied from the seed database.
-const GENERATED: &[&str] = &[
-    "customers",
-    "cars",
-    "builds",
-    "setup_changes",
-    "bench_tests",
-    "bench_springs",
-    "cover_heights",
-    "passes",
-];
+/// Whether the generator fills `table`: every record table but the shop's settings; every other
+/// table is copied from the seed database.
+fn generated(table: &str) -> bool {
+    table != "shop_settings" && lockpoint::records::tables::RECORD_TABLES.contains(&table)
+}
 
 /// Writes the export document of the invented shop to `json`: the tables in the order an
 /// export of the seed database has them, each generated table written row by row.
@@ -291,7 +285,7 @@ async fn write_document(
     let mut out = JsonWriter::begin(BufWriter::with_capacity(1 << 16, file), plan.version)?;
     let mut rows = 0;
     for table in &plan.tables {
-        if GENERATED.contains(&table.name.as_str()) {
+        if generated(&table.name) {
             out.table(&table.name)?;
             let columns = columns(&table.name);
             let mut n = 0;

@@ -4,19 +4,11 @@
 
 use std::hint::black_box;
 
-use clutch::datalog::request::LogAnalysisRequest;
 use criterion::{Criterion, criterion_group, criterion_main};
 
 fn bench(c: &mut Criterion) {
     let text = lockpoint_e2e::logfile::text(215_000);
-    let req: LogAnalysisRequest = serde_json::from_value(serde_json::json!({
-        "units": "imperial", "csv": "",
-        "columns": {"time": "time", "engine_rpm": "engine", "input_rpm": "input",
-                    "undriven_wheel_speed": "front", "throttle": "throttle"},
-        "first_gear_ratio": 2.43, "final_drive_ratio": 4.11, "tire_diameter": 28,
-        "engine": {"torque_curve": [[3000, 410], [5000, 480], [7000, 430]], "inertia": 4.7}
-    }))
-    .expect("request");
+    let req = lockpoint_e2e::logfile::request();
     let valid = req.validate().expect("valid");
     let r = valid.run(text.as_bytes()).expect("the file reads");
     eprintln!(

@@ -6,8 +6,6 @@
 
 use std::time::Instant;
 
-use clutch::datalog::request::LogAnalysisRequest;
-
 fn vm_hwm_kb() -> u64 {
     std::fs::read_to_string("/proc/self/status")
         .ok()
@@ -31,14 +29,7 @@ fn main() {
         None => lockpoint_e2e::logfile::text(215_000).into_bytes(),
     };
     let before = vm_hwm_kb();
-    let req: LogAnalysisRequest = serde_json::from_value(serde_json::json!({
-        "units": "imperial", "csv": "",
-        "columns": {"time": "time", "engine_rpm": "engine", "input_rpm": "input",
-                    "undriven_wheel_speed": "front", "throttle": "throttle"},
-        "first_gear_ratio": 2.43, "final_drive_ratio": 4.11, "tire_diameter": 28,
-        "engine": {"torque_curve": [[3000, 410], [5000, 480], [7000, 430]], "inertia": 4.7}
-    }))
-    .expect("request");
+    let req = lockpoint_e2e::logfile::request();
     let start = Instant::now();
     let r = req
         .validate()
