@@ -5,7 +5,7 @@
 use axum::http::{StatusCode, header};
 use serde_json::json;
 
-use crate::logs::{calc_body, launch_csv, pass_on_a_build, upload};
+use crate::logs::{analysed, analysed_ok, launch_csv, pass_on_a_build, upload};
 use crate::support::TestApp;
 use lockpoint::web::http::heavy::Caller;
 
@@ -24,15 +24,7 @@ fn long_csv() -> String {
 async fn a_long_log_answers_at_most_5000_trace_points_and_says_how_many_samples() {
     let app = TestApp::new().await;
     let token = app.token("sam").await;
-    let r = app
-        .post_json("/api/v1/calc/log-analysis", &token, calc_body(long_csv()))
-        .await;
-    assert_eq!(
-        r.status,
-        StatusCode::OK,
-        "{}",
-        &r.body[..r.body.len().min(300)]
-    );
+    let r = analysed_ok(&app, &token, long_csv()).await;
     let v = r.json();
     assert_eq!(v["samples"], 20_001);
     let points = v["trace"].as_array().unwrap().len();
@@ -64,16 +56,12 @@ async fn a_token_past_its_two_calculations_gets_429_with_retry_after() {
     )));
     let _one = app.state.heavy.turn(&caller).unwrap();
     let _two = app.state.heavy.turn(&caller).unwrap();
-    let r = app
-        .post_json("/api/v1/calc/log-analysis", &token, calc_body(long_csv()))
-        .await;
+    let r = analysed(&app, &token, long_csv()).await;
     assert_eq!(r.status, StatusCode::TOO_MANY_REQUESTS, "{}", r.body);
     assert_eq!(r.headers[header::RETRY_AFTER], "2");
     // Another token is not held up by this one.
     let other = app.token("boss").await;
-    let r = app
-        .post_json("/api/v1/calc/log-analysis", &other, calc_body(long_csv()))
-        .await;
+    let r = analysed(&app, &other, long_csv()).await;
     assert_eq!(r.status, StatusCode::OK);
 }
 
@@ -83,9 +71,7 @@ async fn a_third_log_analysis_at_once_is_refused_shop_wide() {
     let token = app.token("sam").await;
     let _a = app.state.heavy.analysis().unwrap();
     let _b = app.state.heavy.analysis().unwrap();
-    let r = app
-        .post_json("/api/v1/calc/log-analysis", &token, calc_body(long_csv()))
-        .await;
+    let r = analysed(&app, &token, long_csv()).await;
     assert_eq!(r.status, StatusCode::TOO_MANY_REQUESTS, "{}", r.body);
     assert!(r.headers.contains_key(header::RETRY_AFTER));
 }

@@ -455,16 +455,7 @@ fn base_form(template: &str, n: u64, rng: &mut Rng) -> Vec<(String, String)> {
         // The upload is multipart: a form body here is refused as not from the upload form.
         "/passes/{id}/log" => Vec::new(),
         // No upload waits under this token: the pass page says so (422).
-        "/passes/{id}/log/map" => pairs(&[
-            ("upload", "up-none"),
-            ("time", "t"),
-            ("engine_rpm", "engine"),
-            ("input_rpm", "input"),
-            ("time_unit", "auto"),
-            ("slip_on_pct", "3"),
-            ("hold_ms", "100"),
-            ("inertia", "4.7"),
-        ]),
+        "/passes/{id}/log/map" => pairs(&crate::logs::map_form("up-none", "4.7")),
         // The spreadsheet upload is multipart: a form body is refused as not from the form.
         "/import" => Vec::new(),
         // No file waits under this token: the upload page says so.

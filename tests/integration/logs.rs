@@ -5,13 +5,46 @@ use axum::body::Body;
 use axum::http::{Request, StatusCode, header};
 use serde_json::{Value, json};
 
-use crate::support::{Client, TestApp, id_from};
+use crate::support::{Client, Reply, TestApp, id_from};
 
 pub fn calc_body(csv: String) -> Value {
     json!({ "units": "metric", "csv": csv,
         "columns": { "time": "time", "engine_rpm": "rpm", "input_rpm": "shaft" },
         "time_unit": "auto", "slip_on_pct": 3, "hold_ms": 100,
         "engine": { "torque_curve": [[3000, 600], [8000, 600]], "inertia": 0.25 } })
+}
+
+/// `csv` analysed by `POST /api/v1/calc/log-analysis` with the body of [`calc_body`].
+pub async fn analysed(app: &TestApp, token: &str, csv: String) -> Reply {
+    app.post_json("/api/v1/calc/log-analysis", token, calc_body(csv))
+        .await
+}
+
+/// The same, answered 200 (the start of the body shown when it is not).
+pub async fn analysed_ok(app: &TestApp, token: &str, csv: String) -> Reply {
+    let r = analysed(app, token, csv).await;
+    assert_eq!(
+        r.status,
+        StatusCode::OK,
+        "{}",
+        &r.body[..r.body.len().min(300)]
+    );
+    r
+}
+
+/// The column-mapping form of a staged `upload`, for a file with columns `t`, `engine` and
+/// `input`, with the engine's `inertia`.
+pub fn map_form<'a>(upload: &'a str, inertia: &'a str) -> [(&'a str, &'a str); 8] {
+    [
+        ("upload", upload),
+        ("time", "t"),
+        ("engine_rpm", "engine"),
+        ("input_rpm", "input"),
+        ("time_unit", "auto"),
+        ("slip_on_pct", "3"),
+        ("hold_ms", "100"),
+        ("inertia", inertia),
+    ]
 }
 
 #[tokio::test]
@@ -130,15 +163,7 @@ async fn a_log_larger_than_a_form_is_accepted_on_the_log_routes_only() {
         csv.push_str(&format!("{t:.3},6000,{n},{pad}\n"));
     }
     assert!(csv.len() > 1_000_000);
-    let r = app
-        .post_json("/api/v1/calc/log-analysis", &token, calc_body(csv.clone()))
-        .await;
-    assert_eq!(
-        r.status,
-        StatusCode::OK,
-        "{}",
-        &r.body[..r.body.len().min(300)]
-    );
+    analysed_ok(&app, &token, csv.clone()).await;
     let r = app
         .post_json(
             "/api/v1/calc/wear",
@@ -404,16 +429,7 @@ async fn upload_then_mapping_then_the_pass_page() {
     let r = client
         .post_saved(
             &format!("/passes/{pass}/log/map"),
-            &[
-                ("upload", upload_token),
-                ("time", "t"),
-                ("engine_rpm", "engine"),
-                ("input_rpm", "input"),
-                ("time_unit", "auto"),
-                ("slip_on_pct", "3"),
-                ("hold_ms", "100"),
-                ("inertia", "4.746"),
-            ],
+            &map_form(upload_token, "4.746"),
         )
         .await;
     assert_eq!(r.location(), format!("/passes/{pass}"));

@@ -71,11 +71,17 @@ fn unescape(s: &str) -> String {
         .replace("&amp;", "&")
 }
 
-/// Opens `page`, posts its form back to `action` untouched and checks the redirect.
-async fn save_untouched(client: &Client<'_>, page: &str, action: &str) {
+/// Opens `page` and posts its form back to `action` as shown, but for the `changed` inputs;
+/// checks the redirect (a save).
+async fn save_as_shown(client: &Client<'_>, page: &str, action: &str, changed: &[(&str, &str)]) {
     let shown = client.get(page).await;
     assert_eq!(shown.status, StatusCode::OK, "{page}");
-    let pairs = form_pairs(&shown.body, action);
+    let mut pairs = form_pairs(&shown.body, action);
+    for (k, v) in &mut pairs {
+        if let Some((_, new)) = changed.iter().find(|(name, _)| name == k) {
+            *v = new.to_string();
+        }
+    }
     let refs: Vec<(&str, &str)> = pairs
         .iter()
         .map(|(k, v)| (k.as_str(), v.as_str()))
@@ -87,6 +93,11 @@ async fn save_untouched(client: &Client<'_>, page: &str, action: &str) {
         "{action}: {}",
         saved.body
     );
+}
+
+/// Opens `page`, posts its form back to `action` untouched and checks the redirect.
+async fn save_untouched(client: &Client<'_>, page: &str, action: &str) {
+    save_as_shown(client, page, action, &[]).await;
 }
 
 async fn put(app: &TestApp, token: &str, path: &str, change: &dyn Fn(&mut Value)) -> Value {
@@ -268,20 +279,13 @@ async fn a_limit_typed_in_inches_survives_a_metric_save() {
     page.assert_shows("name=\"shimming_limit\" value=\"0.38\"");
     save_untouched(&client, "/settings", "/settings").await;
     assert_eq!(settings_row(&app).await[2], 0.015 * 25.4);
-    let mut pairs = form_pairs(&client.get("/settings").await.body, "/settings");
-    for (k, v) in &mut pairs {
-        if k == "shimming_limit" {
-            *v = "0.39".into();
-        }
-    }
-    let refs: Vec<(&str, &str)> = pairs
-        .iter()
-        .map(|(k, v)| (k.as_str(), v.as_str()))
-        .collect();
-    assert_eq!(
-        client.post("/settings", &refs).await.status,
-        StatusCode::SEE_OTHER
-    );
+    save_as_shown(
+        &client,
+        "/settings",
+        "/settings",
+        &[("shimming_limit", "0.39")],
+    )
+    .await;
     assert_eq!(settings_row(&app).await[2], 0.39);
 }
 
@@ -316,18 +320,6 @@ async fn saving_a_form_untouched_keeps_its_stamp_and_a_change_moves_it() {
         .await
         .unwrap();
     // The form now shows the changed note; saving it with the note put back is a change.
-    let shown = client.get(&format!("{build}/edit")).await;
-    let mut pairs = form_pairs(&shown.body, &build);
-    for (k, v) in &mut pairs {
-        if k == "notes" {
-            *v = String::new();
-        }
-    }
-    let refs: Vec<(&str, &str)> = pairs
-        .iter()
-        .map(|(k, v)| (k.as_str(), v.as_str()))
-        .collect();
-    let saved = client.post(&build, &refs).await;
-    assert_eq!(saved.status, StatusCode::SEE_OTHER, "{}", saved.body);
+    save_as_shown(&client, &format!("{build}/edit"), &build, &[("notes", "")]).await;
     assert_ne!(stamp().await, old, "changed");
 }
