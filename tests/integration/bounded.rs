@@ -5,7 +5,7 @@
 use axum::http::{StatusCode, header};
 use serde_json::json;
 
-use crate::logs::{analysed, analysed_ok, launch_csv, pass_on_a_build, upload};
+use crate::logs::{analysed, analysed_ok, launch_csv, pass_on_a_build, store_as, upload};
 use crate::support::TestApp;
 use lockpoint::web::http::heavy::Caller;
 
@@ -80,13 +80,8 @@ async fn a_third_log_analysis_at_once_is_refused_shop_wide() {
 async fn stored_log(app: &TestApp, client: &crate::support::Client<'_>) -> (String, String) {
     let pass = pass_on_a_build(client).await;
     let token = app.token("sam").await;
-    let body = json!({ "csv": launch_csv(), "file_name": "n".repeat(5_000),
-        "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
-        "engine_inertia_kgm2": 0.2 });
-    let r = app
-        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
-        .await;
-    assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+    let name = "n".repeat(5_000);
+    store_as(app, &token, &pass, launch_csv(), Some(&name)).await;
     (pass, token)
 }
 

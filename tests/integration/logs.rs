@@ -464,13 +464,7 @@ async fn two_logged_passes_of_a_build_are_drawn_on_one_chart() {
     let (_, first, second) = two_passes(&app, &client).await;
     let token = app.token("sam").await;
     for pass in [&first, &second] {
-        let body = json!({ "csv": launch_csv(),
-            "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
-            "engine_inertia_kgm2": 0.2 });
-        let r = app
-            .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
-            .await;
-        assert_eq!(r.status, StatusCode::OK, "{}", r.body);
+        store_as(&app, &token, pass, launch_csv(), None).await;
     }
     let alone = client.get(&format!("/passes/{first}")).await;
     alone.assert_shows(&format!("<option value=\"{second}\">2026-10-11"));
@@ -546,12 +540,26 @@ fn staged_csv() -> String {
 
 /// Stores `csv` as the log of `pass` through the API.
 async fn store(app: &TestApp, pass: &str, csv: String) {
-    let token = app.token("sam").await;
-    let body = json!({ "csv": csv,
+    store_as(app, &app.token("sam").await, pass, csv, None).await;
+}
+
+/// Stores `csv` (columns `t`, `engine`, `input`) as the log of `pass` through the API with
+/// `token`, under `file_name` when one is given.
+pub async fn store_as(
+    app: &TestApp,
+    token: &str,
+    pass: &str,
+    csv: String,
+    file_name: Option<&str>,
+) {
+    let mut body = json!({ "csv": csv,
         "columns": { "time": "t", "engine_rpm": "engine", "input_rpm": "input" },
         "engine_inertia_kgm2": 0.2 });
+    if let Some(name) = file_name {
+        body["file_name"] = json!(name);
+    }
     let r = app
-        .post_json(&format!("/api/v1/passes/{pass}/log"), &token, body)
+        .post_json(&format!("/api/v1/passes/{pass}/log"), token, body)
         .await;
     assert_eq!(r.status, StatusCode::OK, "{}", r.body);
 }

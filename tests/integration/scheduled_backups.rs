@@ -89,11 +89,18 @@ fn new_shop(db: &Path) -> String {
         .to_string()
 }
 
-/// `lockpoint serve` on `db` by `cmd` with the `backup` options, the shop's time read in UTC.
-fn start(mut cmd: Command, db: &Path, backup: &[&str]) -> Server {
+/// `lockpoint serve` on `db` by `cmd`, backing up into `dir` every 10 s with the `more`
+/// options, the shop's time read in UTC.
+fn start(mut cmd: Command, db: &Path, dir: &Path, more: &[&str]) -> Server {
     Server::spawn(
         serving(&mut cmd, db)
-            .args(backup)
+            .args([
+                "--backup-dir",
+                dir.to_str().unwrap(),
+                "--backup-every",
+                "10s",
+            ])
+            .args(more)
             // The names carry the shop's time; with no zone set that is the server's.
             .env("TZ", "UTC")
             .env("RUST_LOG", "warn")
@@ -204,18 +211,7 @@ async fn a_server_backing_up_every_10s_keeps_two_private_checked_copies_with_eve
     cmd.env("LOCKPOINT_BACKUP_DIR", &elsewhere)
         .env("LOCKPOINT_BACKUP_EVERY", "1d")
         .env("LOCKPOINT_BACKUP_KEEP", "5");
-    let server = start(
-        cmd,
-        &db,
-        &[
-            "--backup-dir",
-            dir.to_str().unwrap(),
-            "--backup-every",
-            "10s",
-            "--backup-keep",
-            "2",
-        ],
-    );
+    let server = start(cmd, &db, &dir, &["--backup-keep", "2"]);
     let server = Arc::new(server);
 
     // A writer: each customer the server acknowledged, with the moment the answer arrived.
@@ -349,19 +345,13 @@ async fn killing_the_server_during_backups_leaves_only_sound_copies_and_no_tempo
     std::fs::create_dir(&dir).unwrap();
     new_shop(&db);
     fill(&db).await;
-    let args = [
-        "--backup-dir",
-        dir.to_str().unwrap(),
-        "--backup-every",
-        "10s",
-    ];
     let mut rng = Rng::new(0x4C50_4241_434B_5550);
     let mut verified: BTreeSet<String> = BTreeSet::new();
     let mut temps_killed = 0;
     for round in 0..20 {
         let left = others(&dir);
         age_copies(&dir);
-        let server = start(lockpoint(), &db, &args);
+        let server = start(lockpoint(), &db, &dir, &[]);
         // The temporaries of the round before are gone once the server has taken the folder up
         // (before its first copy there).
         let deadline = Instant::now() + Duration::from_secs(20);
@@ -401,7 +391,7 @@ async fn killing_the_server_during_backups_leaves_only_sound_copies_and_no_tempo
     // One more start cleans up the last round's temporaries; every copy still verifies, the
     // last through the command itself.
     let left = others(&dir);
-    let server = start(lockpoint(), &db, &args);
+    let server = start(lockpoint(), &db, &dir, &[]);
     let deadline = Instant::now() + Duration::from_secs(20);
     while others(&dir).iter().any(|n| left.contains(n)) {
         assert!(Instant::now() < deadline, "left over {:?}", others(&dir));
@@ -451,16 +441,7 @@ async fn a_read_only_folder_is_reported_to_admins_and_the_notice_goes_once_a_bac
         cmd.uid(NOBODY).gid(NOBODY);
     }
     std::fs::set_permissions(&dir, std::fs::Permissions::from_mode(0o555)).unwrap();
-    let server = start(
-        cmd,
-        &db,
-        &[
-            "--backup-dir",
-            dir.to_str().unwrap(),
-            "--backup-every",
-            "10s",
-        ],
-    );
+    let server = start(cmd, &db, &dir, &[]);
     let boss = sign_in(&server, "boss");
     let sam = sign_in(&server, "sam");
     let deadline = Instant::now() + Duration::from_secs(20);
