@@ -29,32 +29,17 @@ start_server
 COOKIE=$(session_cookie demo lockpoint-demo)
 TOKEN=$("$LOCKPOINT" token create demo --db "$DB")
 PASS='{"run_on": "2026-11-20", "track": "Abuse strip", "launch_rpm": 4500, "sixty_ft_s": 1.4, "et_s": 10.9}'
-# Counts answers by status class (wrk's own summary lumps 4xx and 5xx together).
-cat > "$WORK/count.lua" <<'LUA'
-local threads = {}
-function setup(thread) table.insert(threads, thread) end
-function init(args) ok, c4, c5 = 0, 0, 0 end
-function response(status, headers, body)
-  if status >= 500 then c5 = c5 + 1 elseif status >= 400 then c4 = c4 + 1 else ok = ok + 1 end
-end
-function done(summary, latency, requests)
-  local a, b, c = 0, 0, 0
-  for _, t in ipairs(threads) do a = a + t:get("ok"); b = b + t:get("c4"); c = c + t:get("c5") end
-  io.write(string.format("statuses: 2xx/3xx %d, 4xx %d, 5xx %d\n", a, b, c))
-end
-LUA
-cp "$WORK/count.lua" "$WORK/page.lua"
-cat "$WORK/count.lua" - > "$WORK/login.lua" <<'LUA'
+# Each script counts its answers by status (count_lua).
+: > "$WORK/page.lua"
+count_lua "$WORK/page.lua"
+cat > "$WORK/login.lua" <<'LUA'
 wrk.method = "POST"
 wrk.body = "username=demo&password=not-the-password&next=%2F"
 wrk.headers["Content-Type"] = "application/x-www-form-urlencoded"
 LUA
-cat "$WORK/count.lua" - > "$WORK/post.lua" <<LUA
-wrk.method = "POST"
-wrk.body = '$PASS'
-wrk.headers["Content-Type"] = "application/json"
-wrk.headers["Authorization"] = "Bearer $TOKEN"
-LUA
+count_lua "$WORK/login.lua"
+pass_lua "$WORK/post.lua" "$TOKEN" "Abuse strip"
+count_lua "$WORK/post.lua"
 summary() {
   local rps p99 errs
   rps=$(awk '/^Requests\/sec/ {print $2}' "$1")

@@ -54,13 +54,36 @@ session_cookie() {
   echo "lockpoint_session=$(awk '$6 == "lockpoint_session" {print $7}' "$WORK/jar")"
 }
 
-# pass_lua FILE TOKEN: a wrk script that records a track pass through the API with TOKEN.
+# pass_lua FILE TOKEN [TRACK]: a wrk script that records a track pass at TRACK ("Load strip"
+# unless given) through the API with TOKEN.
 pass_lua() {
   cat > "$1" <<LUA
 wrk.method = "POST"
-wrk.body = '{"run_on": "2026-11-20", "track": "Load strip", "launch_rpm": 4500, "sixty_ft_s": 1.4, "et_s": 10.9}'
+wrk.body = '{"run_on": "2026-11-20", "track": "${3:-Load strip}", "launch_rpm": 4500, "sixty_ft_s": 1.4, "et_s": 10.9}'
 wrk.headers["Content-Type"] = "application/json"
 wrk.headers["Authorization"] = "Bearer $2"
+LUA
+}
+
+# count_lua FILE: adds to a wrk script the count of its answers by status (wrk's own summary
+# lumps 4xx and 5xx together), printed when it ends as
+# "statuses: 2xx/3xx N, 4xx N (429 N), 5xx N".
+count_lua() {
+  cat >> "$1" <<'LUA'
+local threads = {}
+function setup(thread) table.insert(threads, thread) end
+function init(args) ok, c4, busy, c5 = 0, 0, 0, 0 end
+function response(status, headers, body)
+  if status >= 500 then c5 = c5 + 1 elseif status >= 400 then c4 = c4 + 1 else ok = ok + 1 end
+  if status == 429 then busy = busy + 1 end
+end
+function done(summary, latency, requests)
+  local a, b, c, d = 0, 0, 0, 0
+  for _, t in ipairs(threads) do
+    a = a + t:get("ok"); b = b + t:get("c4"); c = c + t:get("busy"); d = d + t:get("c5")
+  end
+  io.write(string.format("statuses: 2xx/3xx %d, 4xx %d (429 %d), 5xx %d\n", a, b, c, d))
+end
 LUA
 }
 

@@ -41,24 +41,14 @@ wrk.method = "POST"
 wrk.body = [==[$(cat "$WORK/launch.json")]==]
 wrk.headers["Content-Type"] = "application/json"
 wrk.headers["Authorization"] = "Bearer $TOKEN"
-local threads = {}
-function setup(thread) table.insert(threads, thread) end
-function init(args) ok, busy, other = 0, 0, 0 end
-function response(status, headers, body)
-  if status == 200 then ok = ok + 1 elseif status == 429 then busy = busy + 1 else other = other + 1 end
-end
-function done(summary, latency, requests)
-  local a, b, c = 0, 0, 0
-  for _, t in ipairs(threads) do a = a + t:get("ok"); b = b + t:get("busy"); c = c + t:get("other") end
-  io.write(string.format("flood statuses: 200 %d, 429 %d, other %d\n", a, b, c))
-end
 LUA
+count_lua "$WORK/flood.lua"
 wrk -t1 -c8 -d"${SECS}s" -s "$WORK/flood.lua" "$BASE/api/v1/calc/launch" > "$WORK/flood.txt" &
 FLOOD=$!
 sleep 1
 wrk -t1 -c2 -d"$((SECS - 2))s" --latency -H "Cookie: $COOKIE" "$BASE/builds/1" > "$WORK/page.txt"
 wait $FLOOD
-grep '^flood statuses' "$WORK/flood.txt"
+echo "flood $(grep '^statuses' "$WORK/flood.txt")"
 printf 'page GET /builds/1 during the flood: %s requests/s, p50 %s, p99 %s\n' \
   "$(awk '/^Requests\/sec/ {print $2}' "$WORK/page.txt")" \
   "$(awk '$1 == "50%" {print $2}' "$WORK/page.txt")" "$(awk '$1 == "99%" {print $2}' "$WORK/page.txt")"
