@@ -76,10 +76,7 @@ pub fn lines(row: &Listed, status: &BuildStatus, window: i64) -> Vec<Due> {
     let line = |reason| Due {
         build_id: row.build_id,
         build_label: row.build_label.clone(),
-        customer_id: row.customer_id,
-        customer_name: row.customer_name.clone(),
-        customer_phone: row.customer_phone.clone(),
-        car_description: row.car_description.clone(),
+        owner: row.owner.clone(),
         reason,
     };
     let mut out = Vec::new();

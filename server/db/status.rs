@@ -1,6 +1,7 @@
 //! The kept-current work-due status of each build (`build_status`, migration 0009): read by the
 //! counter, written by `status::refresh_stale` inside the writing transaction (`web::Write::commit` runs it).
 
+use crate::records::stored::BuildOwner;
 use sqlx::{FromRow, SqliteConnection};
 
 /// A build's work-due status, as stored: independent of the shop's "due within" window.
@@ -36,10 +37,8 @@ impl BuildStatus {
 pub struct Listed {
     pub build_id: i64,
     pub build_label: String,
-    pub customer_id: i64,
-    pub customer_name: String,
-    pub customer_phone: String,
-    pub car_description: String,
+    #[sqlx(flatten)]
+    pub owner: BuildOwner,
     /// Written to since it was last worked out: the caller works it out from the history.
     pub stale: bool,
     #[sqlx(flatten)]
@@ -51,7 +50,8 @@ pub struct Listed {
 /// SQLite from driving the query from `builds` (a scan of every build): the listed status rows
 /// come first, through the indexes of the OR, then their builds and owners by primary key.
 pub const LISTED_SQL: &str = "SELECT s.build_id, b.label AS build_label, c.id AS customer_id,
-        c.name AS customer_name, c.phone AS customer_phone, k.description AS car_description,
+        c.name AS customer_name, c.phone AS customer_phone, k.id AS car_id,
+        k.description AS car_description,
         s.stale, s.wear, s.next_shim_mm, s.soon_passes, s.soon_disc, s.springs_flagged,
         s.spread_pct, s.out_of_tolerance, s.sagged, s.low_springs, s.energy_shim_passes,
         s.energy_disc_passes

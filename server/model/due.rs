@@ -8,7 +8,7 @@ use super::as_of::bench_review;
 use super::wear::wear_request;
 use crate::records::height::HeightInput;
 use crate::records::settings::SettingsInput;
-use crate::records::stored::{ActiveBuild, BenchTest, Height};
+use crate::records::stored::{ActiveBuild, BenchTest, BuildOwner, Height};
 
 /// Why a build is on the work-due list, most urgent first.
 #[derive(Debug, Clone, PartialEq)]
@@ -157,10 +157,7 @@ pub fn soonest(report: &clutch::wear::WearReport) -> Option<(f64, bool)> {
 pub struct Due {
     pub build_id: i64,
     pub build_label: String,
-    pub customer_id: i64,
-    pub customer_name: String,
-    pub customer_phone: String,
-    pub car_description: String,
+    pub owner: BuildOwner,
     pub reason: DueReason,
 }
 
@@ -197,10 +194,7 @@ pub fn work_due(
         let line = |reason| Due {
             build_id: b.id,
             build_label: b.data.label.clone(),
-            customer_id: ab.owner.customer_id,
-            customer_name: ab.owner.customer_name.clone(),
-            customer_phone: ab.owner.customer_phone.clone(),
-            car_description: ab.owner.car_description.clone(),
+            owner: ab.owner.clone(),
             reason,
         };
         let rate = tested
