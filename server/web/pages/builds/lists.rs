@@ -7,6 +7,7 @@ use axum::response::Html;
 use serde::Deserialize;
 
 use crate::db;
+use crate::db::record::BuildTable;
 use crate::error::{AppError, AppResult};
 use crate::records::stored::Height;
 use crate::records::stored::LogSummary;
@@ -75,6 +76,28 @@ async fn title_of(conn: &mut sqlx::SqliteConnection, id: i64) -> AppResult<Strin
     Ok(page_title(&owner.customer_name, &build))
 }
 
+/// One page of build `id`'s records kept in `table`, newest first: the frame titled
+/// `heading`, the build's title, the rows and where they are (`/builds/{id}/{list}`).
+async fn listed<T>(
+    conn: &mut sqlx::SqliteConnection,
+    user: &CurrentUser,
+    id: i64,
+    q: &PageNo,
+    table: &BuildTable<T>,
+    heading: &str,
+    list: &str,
+) -> AppResult<(Layout, String, Vec<T>, Paging)>
+where
+    T: for<'r> sqlx::FromRow<'r, sqlx::sqlite::SqliteRow> + Send + Unpin,
+{
+    let title = title_of(conn, id).await?;
+    let (page, _) = Layout::load(conn, user, "customers", heading).await?;
+    let total = table.count(conn, id).await?;
+    let paging = Paging::new(q, total, format!("/builds/{id}/{list}"));
+    let rows = table.page(conn, id, paging.offset(), PER_PAGE).await?;
+    Ok((page, title, rows, paging))
+}
+
 /// GET /builds/{id}/passes: every pass, newest first.
 pub async fn passes(
     State(state): State<AppState>,
@@ -83,13 +106,9 @@ pub async fn passes(
     Query(q): Query<PageNo>,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let title = title_of(&mut conn, id).await?;
-    let (page, _) = Layout::load(&mut conn, &user, "customers", "All passes").await?;
-    let total = db::passes::TABLE.count(&mut conn, id).await?;
-    let paging = Paging::new(&q, total, format!("/builds/{id}/passes"));
-    let passes = db::passes::TABLE
-        .page(&mut conn, id, paging.offset(), PER_PAGE)
-        .await?;
+    let table = &db::passes::TABLE;
+    let (page, title, passes, paging) =
+        listed(&mut conn, &user, id, &q, table, "All passes", "passes").await?;
     let logs = db::pass_logs::for_build(&mut conn, id).await?;
     Ok(Html(
         PassesPage {
@@ -122,13 +141,17 @@ pub async fn heights(
     Query(q): Query<PageNo>,
 ) -> AppResult<Html<String>> {
     let mut conn = state.pool.acquire().await?;
-    let title = title_of(&mut conn, id).await?;
-    let (page, _) = Layout::load(&mut conn, &user, "customers", "All cover heights").await?;
-    let total = db::heights::TABLE.count(&mut conn, id).await?;
-    let paging = Paging::new(&q, total, format!("/builds/{id}/heights"));
-    let heights = db::heights::TABLE
-        .page(&mut conn, id, paging.offset(), PER_PAGE)
-        .await?;
+    let table = &db::heights::TABLE;
+    let (page, title, heights, paging) = listed(
+        &mut conn,
+        &user,
+        id,
+        &q,
+        table,
+        "All cover heights",
+        "heights",
+    )
+    .await?;
     Ok(Html(
         HeightsPage {
             page,
