@@ -31,9 +31,9 @@ use std::path::Path;
 use std::str::FromStr;
 use std::time::Duration;
 
-use sqlx::SqlitePool;
 use sqlx::migrate::Migrator;
 use sqlx::sqlite::{SqliteConnectOptions, SqliteJournalMode, SqlitePoolOptions, SqliteSynchronous};
+use sqlx::{SqliteConnection, SqlitePool};
 
 /// Opens (creating if needed) the database file and applies pending migrations.
 ///
@@ -104,3 +104,16 @@ pub fn knows_migration(version: i64) -> bool {
 
 /// Rows per page in long lists.
 pub const PAGE_SIZE: i64 = 25;
+
+/// The row `sql` (a statement with one `?`, bound to `key`) finds, if any: the one way a record
+/// is read by its id.
+pub(crate) async fn one<T>(
+    conn: &mut SqliteConnection,
+    sql: &'static str,
+    key: i64,
+) -> sqlx::Result<Option<T>>
+where
+    T: for<'r> sqlx::FromRow<'r, sqlx::sqlite::SqliteRow> + Send + Unpin,
+{
+    sqlx::query_as(sql).bind(key).fetch_optional(conn).await
+}

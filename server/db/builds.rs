@@ -5,23 +5,20 @@ use sqlx::SqliteConnection;
 use crate::records::stored::{ActiveBuild, Build, BuildOwner};
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Build>> {
-    sqlx::query_as(
+    super::one(
+        conn,
         "SELECT b.* FROM builds b JOIN cars k ON k.id = b.car_id
          JOIN customers c ON c.id = k.customer_id
          WHERE b.id = ? AND c.deleted_at IS NULL",
+        id,
     )
-    .bind(id)
-    .fetch_optional(conn)
     .await
 }
 
 /// A build whatever its customer's state (a soft-deleted customer's builds keep their status,
 /// so a restore lists them again at once).
 pub async fn any_by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Build>> {
-    sqlx::query_as("SELECT * FROM builds WHERE id = ?")
-        .bind(id)
-        .fetch_optional(conn)
-        .await
+    super::one(conn, "SELECT * FROM builds WHERE id = ?", id).await
 }
 
 pub async fn owner(conn: &mut SqliteConnection, build_id: i64) -> sqlx::Result<BuildOwner> {

@@ -5,12 +5,12 @@ use sqlx::SqliteConnection;
 use crate::records::stored::Car;
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Car>> {
-    sqlx::query_as(
+    super::one(
+        conn,
         "SELECT k.* FROM cars k JOIN customers c ON c.id = k.customer_id
          WHERE k.id = ? AND c.deleted_at IS NULL",
+        id,
     )
-    .bind(id)
-    .fetch_optional(conn)
     .await
 }
 

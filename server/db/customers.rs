@@ -88,10 +88,12 @@ impl Order {
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Customer>> {
-    sqlx::query_as("SELECT * FROM customers WHERE id = ? AND deleted_at IS NULL")
-        .bind(id)
-        .fetch_optional(conn)
-        .await
+    super::one(
+        conn,
+        "SELECT * FROM customers WHERE id = ? AND deleted_at IS NULL",
+        id,
+    )
+    .await
 }
 
 /// Soft-deletes (`deleted = true`) or restores a customer; false when nothing changed.

@@ -61,14 +61,14 @@ pub async fn insert(
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Sheet>> {
     // A deleted customer's sheets are hidden with them, customer links included.
-    sqlx::query_as(
+    super::one(
+        conn,
         "SELECT s.id, s.build_id, s.prepared_on, s.inputs, s.created_at FROM sheets s
          JOIN builds b ON b.id = s.build_id JOIN cars k ON k.id = b.car_id
          JOIN customers c ON c.id = k.customer_id
          WHERE s.id = ? AND c.deleted_at IS NULL",
+        id,
     )
-    .bind(id)
-    .fetch_optional(conn)
     .await
 }
 
@@ -118,11 +118,11 @@ pub async fn links(conn: &mut SqliteConnection, sheet_id: i64) -> sqlx::Result<V
 }
 
 pub async fn link_by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Link>> {
-    sqlx::query_as(
+    super::one(
+        conn,
         "SELECT id, sheet_id, expires_at, revoked_at, created_at FROM sheet_links WHERE id = ?",
+        id,
     )
-    .bind(id)
-    .fetch_optional(conn)
     .await
 }
 

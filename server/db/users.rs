@@ -40,12 +40,7 @@ pub async fn by_name(conn: &mut SqliteConnection, name: &str) -> sqlx::Result<Op
 }
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<User>> {
-    sqlx::query_as(
-        "SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users WHERE id = ?",
-    )
-    .bind(id)
-    .fetch_optional(conn)
-    .await
+    super::one(conn, "SELECT id, username, display_name, password_hash, role, disabled, created_at FROM users WHERE id = ?", id).await
 }
 
 pub async fn all(conn: &mut SqliteConnection) -> sqlx::Result<Vec<User>> {
