@@ -2,7 +2,7 @@
 
 use sqlx::SqliteConnection;
 
-use crate::records::stored::Car;
+use crate::records::stored::{BuildOwner, Car};
 
 pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<Car>> {
     super::one(
@@ -12,6 +12,38 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
         id,
     )
     .await
+}
+
+/// The live car `id` and who it belongs to, in one read (a build's dossier).
+pub async fn with_owner(
+    conn: &mut SqliteConnection,
+    id: i64,
+) -> sqlx::Result<Option<(Car, BuildOwner)>> {
+    #[derive(sqlx::FromRow)]
+    struct Row {
+        #[sqlx(flatten)]
+        car: Car,
+        customer_name: String,
+        customer_phone: String,
+    }
+    let row: Option<Row> = super::one(
+        conn,
+        "SELECT k.*, c.name AS customer_name, c.phone AS customer_phone
+         FROM cars k JOIN customers c ON c.id = k.customer_id
+         WHERE k.id = ? AND c.deleted_at IS NULL",
+        id,
+    )
+    .await?;
+    Ok(row.map(|r| {
+        let owner = BuildOwner {
+            customer_id: r.car.customer_id,
+            customer_name: r.customer_name,
+            customer_phone: r.customer_phone,
+            car_id: r.car.id,
+            car_description: r.car.data.description.clone(),
+        };
+        (r.car, owner)
+    }))
 }
 
 pub async fn for_customer(conn: &mut SqliteConnection, customer_id: i64) -> sqlx::Result<Vec<Car>> {

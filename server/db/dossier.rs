@@ -26,9 +26,17 @@ pub async fn with_parts(
     bench: Vec<BenchTest>,
 ) -> sqlx::Result<Option<Dossier>> {
     let build_id = build.id;
-    let owner = super::builds::owner(conn, build_id).await?;
-    let Some(car) = super::cars::by_id(conn, build.car_id).await? else {
+    let Some((car, owner)) = super::cars::with_owner(conn, build.car_id).await? else {
         return Ok(None);
+    };
+    let passes = super::passes::TABLE
+        .page(conn, build_id, 0, PASSES_LOADED as i64)
+        .await?;
+    // Counted only when the newest passes fill the page: fewer are all there are.
+    let passes_total = if passes.len() < PASSES_LOADED {
+        passes.len() as i64
+    } else {
+        super::passes::TABLE.count(conn, build_id).await?
     };
     Ok(Some(Dossier {
         owner,
@@ -36,10 +44,8 @@ pub async fn with_parts(
         setups: super::setups::for_build(conn, build_id).await?,
         bench,
         heights,
-        passes: super::passes::TABLE
-            .page(conn, build_id, 0, PASSES_LOADED as i64)
-            .await?,
-        passes_total: super::passes::TABLE.count(conn, build_id).await?,
+        passes,
+        passes_total,
         logs: super::pass_logs::for_build(conn, build_id).await?,
         launch_fits: super::launch_fits::for_build(conn, build_id).await?,
         build,
