@@ -276,6 +276,6 @@ async fn a_chunked_body_over_the_limit_is_refused_as_too_large() {
         "{}",
         reply.body
     );
-    assert!(reply.body.contains("too large"), "{}", reply.body);
+    reply.assert_shows("too large");
     assert_eq!(app.count("customers").await, 0);
 }

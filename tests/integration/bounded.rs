@@ -136,11 +136,7 @@ async fn a_stored_log_that_cannot_be_read_is_said_so_not_500() {
     let (pass, token) = stored_log(&app, &client).await;
     sql(&app, "UPDATE pass_logs SET file_deflated = x'0001'").await;
     let page = client.get_ok(&format!("/passes/{pass}")).await;
-    assert!(
-        page.body.contains("the stored log cannot be inflated"),
-        "{}",
-        page.body
-    );
+    page.assert_shows("the stored log cannot be inflated");
     let r = app
         .get_json(&format!("/api/v1/passes/{pass}/analysis"), &token)
         .await;
@@ -157,19 +153,11 @@ async fn a_file_with_more_than_1000_columns_is_refused_for_mapping() {
     let file = format!("{}\n{}\n", names.join(","), vec!["1"; 1_001].join(","));
     let r = upload(&client, &pass, file.as_bytes()).await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(
-        r.body.contains("1001 columns; at most 1000 are accepted"),
-        "{}",
-        r.body
-    );
+    r.assert_shows("1001 columns; at most 1000 are accepted");
     let long = format!("time,{},rpm\n0,1,2\n", "h".repeat(101));
     let r = upload(&client, &pass, long.as_bytes()).await;
     assert_eq!(r.status, StatusCode::UNPROCESSABLE_ENTITY);
-    assert!(
-        r.body.contains("101 characters long; at most 100"),
-        "{}",
-        r.body
-    );
+    r.assert_shows("101 characters long; at most 100");
 }
 
 #[tokio::test]

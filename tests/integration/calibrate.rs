@@ -798,11 +798,7 @@ async fn a_stored_builds_calibration_fits_mu_against_launch_temperature() {
     assert!(!without_car.body.contains("Next pass, 20 min later"));
     give_the_car_launch_fields(&app, id, t).await;
     let page = client.get(&format!("/builds/{id}{next}")).await;
-    assert!(
-        page.body.contains("Next pass, 20 min later"),
-        "{}",
-        page.body
-    );
+    page.assert_shows("Next pass, 20 min later");
     let words = page.body[page
         .body
         .find("plate at about ")

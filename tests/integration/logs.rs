@@ -328,11 +328,7 @@ async fn upload_then_mapping_then_the_pass_page() {
     assert!(map.starts_with(&format!("/passes/{pass}/log/map?upload=")));
     let page = client.get_ok(&map).await;
     // The choices are the file's own header names; the units line was skipped.
-    assert!(
-        page.body.contains("<option value=\"engine\">"),
-        "{}",
-        page.body
-    );
+    page.assert_shows("<option value=\"engine\">");
     // Each name is written once, in the one list every choice offers.
     assert_eq!(
         page.body.matches("<option value=\"engine\">").count(),
@@ -340,7 +336,7 @@ async fn upload_then_mapping_then_the_pass_page() {
         "{}",
         page.body
     );
-    assert!(page.body.contains("units line 3 skipped"), "{}", page.body);
+    page.assert_shows("units line 3 skipped");
     // Names that plainly say what they are come chosen; the first rows are shown beside.
     for (role, name) in [
         ("time", "t"),
@@ -356,12 +352,7 @@ async fn upload_then_mapping_then_the_pass_page() {
         );
     }
     assert!(page.body.contains("The first 5 rows of the file"));
-    assert!(
-        page.body
-            .contains("<td class=\"num\">0,005</td><td class=\"num\">4800</td>"),
-        "{}",
-        page.body
-    );
+    page.assert_shows("<td class=\"num\">0,005</td><td class=\"num\">4800</td>");
     let upload_token = map.split("upload=").nth(1).unwrap();
 
     // A mapping that finds no launch: the form again, the message beside the choice.
@@ -372,7 +363,7 @@ async fn upload_then_mapping_then_the_pass_page() {
         &[("time", "t"), ("engine_rpm", "engine"), ("input_rpm", "t")],
     )
     .await;
-    assert!(r.body.contains("id=\"input_rpm-msg\""), "{}", r.body);
+    r.assert_shows("id=\"input_rpm-msg\"");
     assert!(
         r.body.contains("is the column already chosen for time"),
         "one column, two roles: {}",
@@ -573,19 +564,10 @@ async fn a_pass_page_opens_on_the_launch_with_the_whole_file_a_link_away() {
     // The whole file asked for first, so a cached page of one stretch never answers for the
     // other.
     let all = client.get_ok(&format!("/passes/{pass}?window=all")).await;
-    assert!(
-        all.body
-            .contains("The charts show 0.00–6.00 s: the whole file."),
-        "{}",
-        all.body
-    );
-    assert!(
-        all.body.contains(&format!(
-            "<a href=\"/passes/{pass}#charts\">Back to the launch</a>"
-        )),
-        "{}",
-        all.body
-    );
+    all.assert_shows("The charts show 0.00–6.00 s: the whole file.");
+    all.assert_shows(&format!(
+        "<a href=\"/passes/{pass}#charts\">Back to the launch</a>"
+    ));
     assert!(
         all.body
             .contains("Engine and input shaft speed over 0.00–6.00 s")
@@ -595,11 +577,7 @@ async fn a_pass_page_opens_on_the_launch_with_the_whole_file_a_link_away() {
     // whole file.
     let page = client.get(&format!("/passes/{pass}")).await;
     let shown = "1.00–3.97 s: from 1 s before the launch to 1 s after the lockup";
-    assert!(
-        page.body.contains(&format!("The charts show {shown}.")),
-        "{}",
-        page.body
-    );
+    page.assert_shows(&format!("The charts show {shown}."));
     for title in ["Engine and input shaft speed", "Clutch slip", "Slip power"] {
         assert!(
             page.body.contains(&format!("{title} over {shown}")),
@@ -652,12 +630,7 @@ async fn a_file_that_is_all_launch_needs_no_second_link() {
     // Launch 0.1 s and lockup 1.07 s in a 1.5 s file: a second either side covers it all.
     store(&app, &pass, launch_csv()).await;
     let page = client.get(&format!("/passes/{pass}")).await;
-    assert!(
-        page.body
-            .contains("The charts show 0.00–1.50 s: the whole file."),
-        "{}",
-        page.body
-    );
+    page.assert_shows("The charts show 0.00–1.50 s: the whole file.");
     assert!(!page.body.contains("Show the whole file"));
 }
 
@@ -673,20 +646,10 @@ async fn two_passes_compared_keep_the_comparison_across_the_stretches() {
         .await;
     // Time from each launch: 1 s before it; 1 s after the later lockup (0.97 s after each
     // launch), within what the files hold after their launches (4 s and 1.4 s).
-    assert!(
-        both.body.contains(
-            "Two passes, time from each launch: each launch to its lockup with up to 1 s either side, -1.00 to 1.97 s"
-        ),
-        "{}",
-        both.body
-    );
-    assert!(
-        both.body.contains(&format!(
-            "href=\"/passes/{first}?compare={second}&#38;window=all#charts\""
-        )),
-        "{}",
-        both.body
-    );
+    both.assert_shows("Two passes, time from each launch: each launch to its lockup with up to 1 s either side, -1.00 to 1.97 s");
+    both.assert_shows(&format!(
+        "href=\"/passes/{first}?compare={second}&#38;window=all#charts\""
+    ));
     let all = client
         .get(&format!("/passes/{first}?compare={second}&window=all"))
         .await;

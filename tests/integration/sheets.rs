@@ -270,11 +270,7 @@ async fn the_customer_sees_a_display_name_or_the_shops_name_never_a_login_name()
     let link = customer_link(&app).await;
     let path = link[link.find("/s/").unwrap()..].to_string();
     let public = app.get(&path, None).await;
-    assert!(
-        public.body.contains("prepared by My clutch shop"),
-        "{}",
-        public.body
-    );
+    public.assert_shows("prepared by My clutch shop");
     assert!(!public.body.contains("prepared by sam"));
 
     // An admin gives the tech a display name; it shows on new sheets and on the old link.

@@ -395,11 +395,7 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
     let app = TestApp::new().await;
     let (client, build) = app.set_up_build().await;
     let tune = client.get(&format!("{build}/tune")).await;
-    assert!(
-        tune.body.contains("so the clutch grabs hard"),
-        "{}",
-        tune.body
-    );
+    tune.assert_shows("so the clutch grabs hard");
     assert!(!tune.body.contains("not slip"));
     assert!(!tune.body.contains("The launch preview of this setting"));
 
@@ -605,12 +601,7 @@ async fn the_tuning_page_reads_friction_by_both_methods_and_flags_a_falling_lock
         )
         .await;
     let page = client.get("/builds/1/tune").await;
-    assert!(
-        page.body
-            .contains("locked at 3700 rpm, 18 % below its 4500 rpm launch"),
-        "{}",
-        page.body
-    );
+    page.assert_shows("locked at 3700 rpm, 18 % below its 4500 rpm launch");
     assert!(page.body.contains("this pass reads low"));
 }
 

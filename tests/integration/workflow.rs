@@ -364,11 +364,7 @@ async fn an_expired_or_withdrawn_link_names_the_shop_and_its_phone() {
         .unwrap();
     let gone = app.get(&link, None).await;
     assert_eq!(gone.status, StatusCode::GONE);
-    assert!(
-        gone.body.contains("Millbrook Clutch Works"),
-        "{}",
-        gone.body
-    );
+    gone.assert_shows("Millbrook Clutch Works");
     assert!(gone.body.contains("555-0199"));
     // An address that was never a link tells a guesser nothing about the shop.
     let unknown = app.get(&format!("/s/{}", "0".repeat(64)), None).await;
@@ -704,11 +700,7 @@ async fn customer_and_car_saves_say_once_what_changed() {
         )
         .await;
     let shown = client.follow(&made).await;
-    assert!(
-        shown.body.contains("Saved: a new customer."),
-        "{}",
-        shown.body
-    );
+    shown.assert_shows("Saved: a new customer.");
     let customer = id_from(made.location());
     let edited = client
         .post(
