@@ -4,7 +4,7 @@
 use axum::http::StatusCode;
 use serde_json::{Value, json};
 
-use crate::support::TestApp;
+use crate::support::{TestApp, fresh_answer};
 
 /// The capacity request of the worked example (the build of `support::Client::record_build`
 /// at 1.5 turns and 24 g per lever).
@@ -20,11 +20,7 @@ pub fn example() -> Value {
 
 #[tokio::test]
 async fn capacity_answers_with_the_contract_fields() {
-    let app = TestApp::new().await;
-    let token = app.token("sam").await;
-    let v = app
-        .post_json_ok("/api/v1/calc/capacity", &token, example())
-        .await;
+    let v = fresh_answer("/api/v1/calc/capacity", example()).await;
     // [D] arithmetic of F = n·k·(x0 + turns·pitch) = 6 × 380 × (0.22 + 1.5 × 0.0625) = 715.35 lbf
     assert!((v["static_clamp"].as_f64().unwrap() - 715.35).abs() < 1e-9);
     // uniform wear r_eff = (ro + ri)/2 = (5.2 + 3.3)/2 = 4.25 in (Shigley ch. 16; Bhandari Ex. 11.1)

@@ -4,7 +4,7 @@
 use axum::http::StatusCode;
 use serde_json::{Value, json};
 
-use crate::support::TestApp;
+use crate::support::{TestApp, fresh_answer};
 
 /// Clutch of the worked example (docs/engineering.md §15): 2 discs = 4 faces, r_eff =
 /// (125 + 75)/2 = 100 mm, static clamp 4 × 100 N/mm × (8 + 2 × 1) mm = 4000 N, one lever with
@@ -34,11 +34,7 @@ fn num(v: &Value) -> f64 {
 // curve 5773.65 rpm (the issue rounds it to "about 5773.7").
 #[tokio::test]
 async fn calibrate_answers_the_worked_example_with_the_contract_fields() {
-    let app = TestApp::new().await;
-    let token = app.token("sam").await;
-    let v = app
-        .post_json_ok("/api/v1/calc/calibrate", &token, example())
-        .await;
+    let v = fresh_answer("/api/v1/calc/calibrate", example()).await;
     assert_eq!(v["n"], 3);
     assert!((num(&v["mu"]) - 0.30028).abs() < 5e-6, "{v}");
     assert!((num(&v["ci95"][0]) - 0.2889).abs() < 1e-4, "{v}");

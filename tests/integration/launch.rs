@@ -5,7 +5,7 @@
 use axum::http::StatusCode;
 use serde_json::{Value, json};
 
-use crate::support::TestApp;
+use crate::support::{TestApp, fresh_answer};
 
 /// The reference launch (docs/engineering.md §18) in the API's form.
 pub fn worked() -> Value {
@@ -38,11 +38,7 @@ fn num(v: &Value) -> f64 {
 // 47.6 K and 31.7 K [derived there].
 #[tokio::test]
 async fn the_worked_launch_answers_with_the_contract_fields_and_figures() {
-    let app = TestApp::new().await;
-    let token = app.token("sam").await;
-    let v = app
-        .post_json_ok("/api/v1/calc/launch", &token, worked())
-        .await;
+    let v = fresh_answer("/api/v1/calc/launch", worked()).await;
     let lock = &v["lockup"];
     assert!((num(&lock["time_s"]) - 1.8131).abs() < 0.0005, "{lock}");
     assert!((num(&lock["engine_rpm"]) - 5782.7).abs() < 0.5, "{lock}");

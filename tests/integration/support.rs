@@ -79,6 +79,13 @@ impl Reply {
     }
 }
 
+/// The JSON answer (200) to `body` posted to the API's `path` by `sam` on a fresh app.
+pub async fn fresh_answer(path: &str, body: serde_json::Value) -> serde_json::Value {
+    let app = TestApp::new().await;
+    let token = app.token("sam").await;
+    app.post_json_ok(path, &token, body).await
+}
+
 impl TestApp {
     /// A migrated database with an admin `boss` and a tech `sam` (password [`PASSWORD`]).
     pub async fn new() -> Self {
