@@ -6,7 +6,7 @@ use super::record::BuildTable;
 use crate::records::height::{HeightContext, HeightInput};
 use crate::records::stored::{Build, Height};
 
-/// The table and its order, newest first: its records are paged, counted and inserted
+/// The table and its order, newest first: its records are read by id, paged and counted
 /// through it.
 pub const TABLE: BuildTable<Height> = BuildTable::new("cover_heights", "id DESC");
 

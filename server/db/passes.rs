@@ -5,7 +5,7 @@ use sqlx::SqliteConnection;
 use super::record::BuildTable;
 use crate::records::stored::Pass;
 
-/// The table and its order, newest first: its records are paged, counted and inserted
+/// The table and its order, newest first: its records are read by id, paged and counted
 /// through it.
 pub const TABLE: BuildTable<Pass> = BuildTable::new("passes", "run_on DESC, id DESC");
 

@@ -1,5 +1,6 @@
 //! Writing a declared record: the column list and the binds come from its field declarations
-//! (`records::field`), so a new field is stored by declaring it.
+//! (`records::field`), so a new field is stored by declaring it; and [`Stored`], the one way
+//! every record is read by id, inserted under its parent and updated.
 
 use std::future::Future;
 
@@ -114,7 +115,8 @@ pub async fn update<R: Record>(
 }
 
 /// The records of a build kept in `table` (which has `build_id`, `user_id` and the build's
-/// live-customer join): the one way their rows are read, paged, counted and inserted.
+/// live-customer join): the one way their rows are read by id, paged and counted (they are
+/// inserted through [`Stored`]).
 pub struct BuildTable<T> {
     pub table: &'static str,
     /// ORDER BY terms for the newest first.

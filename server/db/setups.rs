@@ -5,7 +5,7 @@ use sqlx::SqliteConnection;
 use super::record::BuildTable;
 use crate::records::stored::Setup;
 
-/// The table and its order, newest first: its records are paged, counted and inserted
+/// The table and its order, newest first: its records are read by id, paged and counted
 /// through it.
 pub const TABLE: BuildTable<Setup> = BuildTable::new("setup_changes", "changed_on DESC, id DESC");
 
