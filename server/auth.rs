@@ -46,8 +46,9 @@ fn dummy_hash() -> &'static str {
 /// The memory argon2id works in, kept and reused by every hash of the process (19 MiB at the
 /// default parameters; it grows to a stored hash's own parameters when they ask for more).
 /// A fresh block per hash stayed resident in the allocator arena of whichever blocking thread
-/// ran it, so a few sign-ins held over 100 MB; reused, it is held once. Hashes therefore run
-/// one at a time, which also bounds what a flood of sign-ins can take from the shop's cores.
+/// ran it, so a few sign-ins held over 100 MB; reused, it is held once (a larger one is given
+/// back after its hash). Hashes therefore run one at a time, which also bounds what a flood of
+/// sign-ins can take from the shop's cores (the sign-in throttle bounds how many wait).
 static MEMORY: Mutex<Vec<Block>> = Mutex::new(Vec::new());
 
 /// `password` hashed with `salt` by `algorithm`, `version` and `params` into `out`, in the
@@ -63,9 +64,16 @@ fn hash_into(
     if memory.len() < blocks {
         memory.resize(blocks, Block::default());
     }
-    Argon2::new(algorithm, version, params)
+    let hashed = Argon2::new(algorithm, version, params)
         .hash_password_into_with_memory(password, salt, out, &mut memory[..blocks])
-        .map_err(|_| PasswordError)
+        .map_err(|_| PasswordError);
+    // A stored hash that asked for more than the default keeps no more than the default.
+    let usual = Params::default().block_count();
+    if memory.len() > usual {
+        memory.truncate(usual);
+        memory.shrink_to_fit();
+    }
+    hashed
 }
 
 /// A new argon2id hash of `password` with a random 16-byte salt, as a PHC string.

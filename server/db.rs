@@ -105,8 +105,8 @@ pub fn knows_migration(version: i64) -> bool {
 /// Rows per page in long lists.
 pub const PAGE_SIZE: i64 = 25;
 
-/// The row `sql` (a statement with one `?`, bound to `key`) finds, if any: the one way a record
-/// is read by its id.
+/// The row `sql` (a statement with one `?`, bound to `key`) finds, if any: how a db module reads
+/// one row by its key.
 pub(crate) async fn one<T>(
     conn: &mut SqliteConnection,
     sql: &'static str,

@@ -114,9 +114,8 @@ pub async fn update<R: Record>(
     Ok(done.rows_affected() == 1)
 }
 
-/// The records of a build kept in `table` (which has `build_id`, `user_id` and the build's
-/// live-customer join): the one way their rows are read by id, paged and counted (they are
-/// inserted through [`Stored`]).
+/// The records of a build kept in `table` (which has `build_id` and the build's live-customer
+/// join): their rows read by id, paged and counted (they are inserted through [`Stored`]).
 pub struct BuildTable<T> {
     pub table: &'static str,
     /// ORDER BY terms for the newest first.

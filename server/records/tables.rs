@@ -1,5 +1,5 @@
 //! The records by the table that stores them: the one list of record tables, and what is
-//! worked out across all of them (a form input's keyboard, a stored column in words). Only this
+//! worked out across all of them (a stored column in words). Only this
 //! file knows every record; each record knows only `field`.
 
 use serde_json::Value as Json;
@@ -76,3 +76,51 @@ pub const RECORD_TABLES: &[&str] = &[
     "passes",
     "shop_settings",
 ];
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::records::field::Value;
+
+    /// A number declared `required` keeps a blank as NaN, which its check refuses; an optional
+    /// one keeps it as nothing or its declared default. So `required` agrees with how the
+    /// record holds the value (a required counterweight held as grams would read a blank as 0 g
+    /// and let it through).
+    #[test]
+    fn a_required_number_keeps_a_blank_as_a_refusal() {
+        struct Blanks;
+        impl RecordVisitor for Blanks {
+            type Out = Vec<(&'static str, bool, Option<f64>)>;
+            fn visit<R: Record>(self) -> Self::Out {
+                R::FIELDS
+                    .iter()
+                    .filter_map(|f| match &f.value {
+                        Value::Number {
+                            required, get, set, ..
+                        } => {
+                            let mut r = R::default();
+                            set(&mut r, None);
+                            Some((f.column, *required, get(&r)))
+                        }
+                        _ => None,
+                    })
+                    .collect()
+            }
+        }
+        for table in RECORD_TABLES {
+            for (column, required, blank) in for_table(table, Blanks).expect("a record table") {
+                if required {
+                    assert!(
+                        blank.is_some_and(f64::is_nan),
+                        "{table}.{column}: {blank:?}"
+                    );
+                } else {
+                    assert!(
+                        blank.is_none_or(f64::is_finite),
+                        "{table}.{column}: {blank:?}"
+                    );
+                }
+            }
+        }
+    }
+}

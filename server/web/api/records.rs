@@ -3,8 +3,9 @@
 //! Errors are `{"error": "...", "field": "..."}`: 422 for bad input, 404 for unknown ids,
 //! 401 without a valid bearer token.
 //!
-//! One implementation serves every record: [`ApiRecord`] says where a record hangs (its parent),
-//! how it is read, checked and written, and the generic handlers below do the rest.
+//! One implementation serves every record: [`Stored`] (in `db::record`) reads and writes it,
+//! [`ApiRecord`] lists it under its parent and checks it, and the generic handlers below do the
+//! rest.
 
 use std::future::Future;
 
@@ -22,11 +23,8 @@ use crate::db::record::Stored;
 use crate::error::{ApiError, ApiResult, AppError};
 use crate::records::bench::BenchInput;
 use crate::records::build::BuildInput;
-use crate::records::car::CarInput;
 use crate::records::customer::CustomerInput;
 use crate::records::height::HeightInput;
-use crate::records::pass::PassInput;
-use crate::records::setup::SetupInput;
 use crate::records::stored::{BenchTest, Build, Car, Height, Pass, Setup};
 use crate::records::{Checked, Ctx, FieldErrors, field};
 use crate::web::AppState;
@@ -195,7 +193,7 @@ impl ApiRecord for Customer {
 /// The [`ApiRecord`] of a record that hangs on a parent of type `$parent_row`: listed by its db
 /// module's `$list`, checked by `$check`.
 macro_rules! child_record {
-    ($row:ty, $input:ty, $db:ident::$list:ident, $parent_row:ty, check $check:expr) => {
+    ($row:ty, $db:ident::$list:ident, $parent_row:ty, check $check:expr) => {
         impl ApiRecord for $row {
             async fn of_parent(
                 conn: &mut SqliteConnection,
@@ -211,22 +209,22 @@ macro_rules! child_record {
             }
             async fn check(
                 conn: &mut SqliteConnection,
-                input: $input,
+                input: <$row as Stored>::Input,
                 parent: i64,
                 existing: Option<&Self>,
-            ) -> Result<Checked<$input>, ApiError> {
+            ) -> Result<Checked<<$row as Stored>::Input>, ApiError> {
                 ($check)(conn, input, parent, existing).await
             }
         }
     };
 }
 
-child_record!(Car, CarInput, cars::for_customer, Customer, check check_under::<Customer, _, _>);
-child_record!(Build, BuildInput, builds::for_car, Car, check check_build);
-child_record!(Setup, SetupInput, setups::for_build, Build, check check_under::<Build, _, _>);
-child_record!(Pass, PassInput, passes::for_build, Build, check check_under::<Build, _, _>);
-child_record!(BenchTest, BenchInput, bench::for_build, Build, check check_bench);
-child_record!(Height, HeightInput, heights::for_build, Build, check check_height);
+child_record!(Car, cars::for_customer, Customer, check check_under::<Customer, _, _>);
+child_record!(Build, builds::for_car, Car, check check_build);
+child_record!(Setup, setups::for_build, Build, check check_under::<Build, _, _>);
+child_record!(Pass, passes::for_build, Build, check check_under::<Build, _, _>);
+child_record!(BenchTest, bench::for_build, Build, check check_bench);
+child_record!(Height, heights::for_build, Build, check check_height);
 
 /// A record checked as its form checks it, under a parent that must exist (404 otherwise).
 async fn check_under<P: Stored, T: field::Record, R>(

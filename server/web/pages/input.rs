@@ -36,8 +36,9 @@ impl Input {
     /// The input of a declared field, in `units`.
     pub fn of<R: Record>(f: &Field<R>, units: Units) -> Self {
         let (unit, mode, wide) = match &f.value {
-            Value::Number { limit, .. } => (limit.kind.symbol(units), keyboard(limit.kind), false),
-            Value::Whole { limit, .. } => (limit.kind.symbol(units), keyboard(limit.kind), false),
+            Value::Number { limit, .. } | Value::Whole { limit, .. } => {
+                (limit.kind.symbol(units), keyboard(limit.kind), false)
+            }
             // Items are separated by commas, which the number keyboards lack.
             Value::List { limit, .. } => (limit.kind.symbol(units), "", true),
             Value::Text { max_chars, .. } => ("", "", *max_chars > 40),
@@ -106,7 +107,7 @@ impl Inputs {
     }
 
     /// The input named `name`. A name the record does not declare is a template's mistake:
-    /// tests (which render every form) stop on it; a release shows the name as its label.
+    /// tests (which render every form) stop on it; a release shows the input without a label.
     pub fn get(&self, name: &str) -> Input {
         (self.find)(name, self.units).unwrap_or_else(|| {
             debug_assert!(false, "no record field has the form input {name}");
