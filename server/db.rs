@@ -16,6 +16,7 @@ pub mod imports;
 pub mod launch_fits;
 pub mod pass_logs;
 pub mod passes;
+pub mod read;
 pub mod record;
 pub mod search;
 pub mod sessions;

@@ -91,7 +91,8 @@ internal_from!(
     sqlx::Error,
     askama::Error,
     serde_json::Error,
-    crate::auth::PasswordError
+    crate::auth::PasswordError,
+    crate::db::read::ReadError
 );
 
 #[derive(Template)]

@@ -38,6 +38,8 @@ pub use pages::login::{
 #[derive(Clone)]
 pub struct AppState {
     pub pool: SqlitePool,
+    /// The pages' reads of a whole build, outside any write (`db::read`).
+    pub reader: Arc<crate::db::read::Reader>,
     /// Password checks allowed at once (see `pages::login::SIGN_IN_SLOTS`); a sign-in that finds
     /// none free answers 429 at once instead of queueing.
     pub sign_ins: Arc<Semaphore>,
@@ -85,6 +87,7 @@ impl AppState {
         });
         backups.start(pool.clone());
         Self {
+            reader: crate::db::read::Reader::new(pool.connect_options().get_filename()),
             pool,
             sign_ins: Arc::new(Semaphore::new(pages::login::SIGN_IN_SLOTS)),
             reserved_sign_ins: Arc::new(Semaphore::new(pages::login::RESERVED_SIGN_IN_SLOTS)),

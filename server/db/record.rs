@@ -7,12 +7,13 @@ use std::future::Future;
 use sqlx::SqliteConnection;
 
 use super::customers::Customer;
+use super::export::Cell;
 use crate::records::Checked;
 use crate::records::bench::BenchInput;
 use crate::records::build::BuildInput;
 use crate::records::car::CarInput;
 use crate::records::customer::CustomerInput;
-use crate::records::field::{Record, Value};
+use crate::records::field::{Field, Record, Value};
 use crate::records::height::HeightInput;
 use crate::records::pass::PassInput;
 use crate::records::setup::SetupInput;
@@ -66,6 +67,40 @@ fn bind_fields<'q, R: Record>(mut q: Query<'q>, r: &'q R) -> Query<'q> {
         };
     }
     q
+}
+
+/// Sets field `f` of `r` from its stored cell, as [`bind_fields`] stores it: text as text,
+/// numbers as reals (NULL when empty), whole numbers as integers, lists and torque curves as
+/// JSON text, flags as 0 or 1. Else what the column should have held, in words.
+pub fn set_stored<R: Record>(r: &mut R, f: &Field<R>, cell: &Cell) -> Result<(), &'static str> {
+    match (&f.value, cell) {
+        (
+            Value::Text { set, .. } | Value::Date { set, .. } | Value::Choice { set, .. },
+            Cell::Text(v),
+        ) => set(r, v.clone()),
+        (Value::Text { .. } | Value::Date { .. } | Value::Choice { .. }, _) => {
+            return Err("text");
+        }
+        (Value::Number { set, .. }, Cell::Null) => set(r, None),
+        (Value::Number { set, .. }, Cell::Integer(v)) => set(r, Some(*v as f64)),
+        (Value::Number { set, .. }, Cell::Real(v)) => set(r, Some(*v)),
+        (Value::Number { .. }, _) => return Err("a number"),
+        (Value::Whole { set, .. }, Cell::Integer(v)) => set(r, *v),
+        (Value::Whole { .. }, _) => return Err("a whole number"),
+        (Value::List { set, .. }, Cell::Text(v)) => match serde_json::from_str(v) {
+            Ok(items) => set(r, items),
+            Err(_) => return Err("a JSON list of numbers"),
+        },
+        (Value::List { .. }, _) => return Err("a JSON list of numbers"),
+        (Value::Curve { set, .. }, Cell::Text(v)) => match serde_json::from_str(v) {
+            Ok(points) => set(r, points),
+            Err(_) => return Err("a JSON list of [rpm, N*m] pairs"),
+        },
+        (Value::Curve { .. }, _) => return Err("a JSON list of [rpm, N*m] pairs"),
+        (Value::Flag { set, .. }, Cell::Integer(v @ (0 | 1))) => set(r, *v == 1),
+        (Value::Flag { .. }, _) => return Err("0 or 1"),
+    }
+    Ok(())
 }
 
 /// Inserts `r` into `table` with its owning ids (`build_id`, `user_id`, ...); the new row's id.

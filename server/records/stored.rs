@@ -154,6 +154,7 @@ impl LogSummary {
 
 /// Everything recorded on one build, loaded together for its page, its sheet and the API:
 /// what `db::dossier::load` hands the model.
+#[derive(Debug)]
 pub struct Dossier {
     pub build: Build,
     pub owner: BuildOwner,

@@ -20,6 +20,7 @@ mod migrations;
 mod openapi;
 mod plans;
 mod plausible;
+mod reads;
 mod records;
 mod routes;
 mod scheduled_backups;

@@ -5,9 +5,10 @@
 //! refused with the table, row and column it is in.
 
 use super::{Cell, ExportError};
+use crate::db::record::set_stored;
 use crate::records::FieldErrors;
 use crate::records::date::{Date, ShopZone};
-use crate::records::field::{self, Ctx, Field, Record, Value};
+use crate::records::field::{self, Ctx, Field, Record};
 use crate::records::tables::{RecordVisitor, for_table};
 use clutch::units::Units;
 
@@ -225,7 +226,8 @@ fn record_check<R: Record>(columns: &[String], whole: bool) -> RecordCheck {
     Box::new(move |row: &[Cell], ctx: &Ctx| {
         let mut r = R::default();
         for (f, i) in &at {
-            if let Err(why) = set_stored(&mut r, f, &row[*i]) {
+            if let Err(want) = set_stored(&mut r, f, &row[*i]) {
+                let why = format!("expected {want}, found {}", found(&row[*i]));
                 return Some((f.column.to_string(), why));
             }
         }
@@ -238,39 +240,4 @@ fn record_check<R: Record>(columns: &[String], whole: bool) -> RecordCheck {
             .first()
             .map(|(path, message)| (path, message.to_string()))
     })
-}
-
-/// Sets field `f` of `r` from its stored cell, the way `db::record` stores it: text as text,
-/// numbers as reals (NULL when empty), whole numbers as integers, lists and torque curves as
-/// JSON text, flags as 0 or 1.
-fn set_stored<R: Record>(r: &mut R, f: &Field<R>, cell: &Cell) -> Result<(), String> {
-    let wrong = |want: &str| format!("expected {want}, found {}", found(cell));
-    match (&f.value, cell) {
-        (
-            Value::Text { set, .. } | Value::Date { set, .. } | Value::Choice { set, .. },
-            Cell::Text(v),
-        ) => set(r, v.clone()),
-        (Value::Text { .. } | Value::Date { .. } | Value::Choice { .. }, _) => {
-            return Err(wrong("text"));
-        }
-        (Value::Number { set, .. }, Cell::Null) => set(r, None),
-        (Value::Number { set, .. }, Cell::Integer(v)) => set(r, Some(*v as f64)),
-        (Value::Number { set, .. }, Cell::Real(v)) => set(r, Some(*v)),
-        (Value::Number { .. }, _) => return Err(wrong("a number")),
-        (Value::Whole { set, .. }, Cell::Integer(v)) => set(r, *v),
-        (Value::Whole { .. }, _) => return Err(wrong("a whole number")),
-        (Value::List { set, .. }, Cell::Text(v)) => match serde_json::from_str(v) {
-            Ok(items) => set(r, items),
-            Err(_) => return Err(wrong("a JSON list of numbers")),
-        },
-        (Value::List { .. }, _) => return Err(wrong("a JSON list of numbers")),
-        (Value::Curve { set, .. }, Cell::Text(v)) => match serde_json::from_str(v) {
-            Ok(points) => set(r, points),
-            Err(_) => return Err(wrong("a JSON list of [rpm, N*m] pairs")),
-        },
-        (Value::Curve { .. }, _) => return Err(wrong("a JSON list of [rpm, N*m] pairs")),
-        (Value::Flag { set, .. }, Cell::Integer(v @ (0 | 1))) => set(r, *v == 1),
-        (Value::Flag { .. }, _) => return Err(wrong("0 or 1")),
-    }
-    Ok(())
 }

@@ -366,10 +366,10 @@ async fn stored_build(
     ),
     ApiError,
 > {
-    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
-    let dossier = db::dossier::load(&mut conn, id)
-        .await?
+    let dossier = (state.reader.dossier(id).await)
+        .map_err(AppError::from)?
         .ok_or(ApiError(AppError::NotFound))?;
+    let mut conn = state.pool.acquire().await.map_err(AppError::from)?;
     let settings = db::settings::get(&mut conn).await?;
     Ok((dossier, settings))
 }

@@ -553,7 +553,7 @@ async fn render_with(
     });
     let calibration = match &log {
         Some(l) => {
-            let dossier = db::dossier::load(&mut conn, pc.pass.build_id).await?;
+            let dossier = state.reader.dossier(pc.pass.build_id).await?;
             dossier.and_then(|d| {
                 crate::model::calibration::log_value(&d, &settings, &pc.pass, l)
                     .map(|(mu, tc)| {

@@ -287,7 +287,7 @@ pub async fn create(
             ..Default::default()
         };
         let mut conn = state.pool.acquire().await?;
-        let html = render_page(&state.heavy, &mut conn, &user.viewer(), build_id, forms)
+        let html = render_page(&state, &mut conn, &user.viewer(), build_id, forms)
             .await?
             .0;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());

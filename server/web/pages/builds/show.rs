@@ -2,7 +2,6 @@
 //! each with a quick entry form), and the new / edit form for its hardware.
 
 use crate::records::measure::Length;
-use std::sync::Arc;
 
 use askama::Template;
 use axum::extract::State;
@@ -34,7 +33,7 @@ use crate::web::AppState;
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, Viewer};
 use crate::web::http::flash::Flash;
-use crate::web::http::heavy::{Caller, Heavy};
+use crate::web::http::heavy::Caller;
 use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
 use crate::web::pages::builds::wear::{self, WearFigures, WearView};
 use crate::web::pages::chart::{Chart, Size};
@@ -370,15 +369,13 @@ pub const RECENT_ROWS: usize = 20;
 /// Renders a build's page; `forms` carries any entry form that failed its checks (422).
 /// Answers the page and the shop's zone it was rendered in.
 pub async fn render_page(
-    heavy: &Arc<Heavy>,
+    state: &AppState,
     conn: &mut SqliteConnection,
     user: &Viewer,
     id: i64,
     forms: EntryForms,
 ) -> AppResult<(String, ShopZone)> {
-    let d = db::dossier::load(conn, id)
-        .await?
-        .ok_or(AppError::NotFound)?;
+    let d = state.reader.dossier(id).await?.ok_or(AppError::NotFound)?;
     let title = page_title(&d.owner.customer_name, &d.build);
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
     let now = BuildAsOf::now(&d, &settings);
@@ -403,7 +400,8 @@ pub async fn render_page(
         .map(|f| capacity_chart(Size::Wide, &page.u, &f.report, None));
     // The forecast by slip energy runs launch previews: heavy work (the page is kept in the
     // page cache until the next write).
-    let energy = heavy
+    let energy = state
+        .heavy
         .here(&Caller(None), || energy_forecast(&d, &settings))
         .await?;
     let wear = now.wear().and_then(|req| {
@@ -530,14 +528,14 @@ pub async fn show(
             flash: flash.note.clone(),
             ..EntryForms::default()
         };
-        render_page(&state.heavy, &mut conn, &user.viewer(), id, forms)
+        render_page(&state, &mut conn, &user.viewer(), id, forms)
             .await?
             .0
     } else {
-        let (pool, heavy) = (&state.pool, &state.heavy);
+        let state_ref = &state;
         let render = |stand_in: Viewer| async move {
-            let mut conn = pool.acquire().await?;
-            render_page(heavy, &mut conn, &stand_in, id, EntryForms::default()).await
+            let mut conn = state_ref.pool.acquire().await?;
+            render_page(state_ref, &mut conn, &stand_in, id, EntryForms::default()).await
         };
         state.cache.page(PageKey::Build(id), &user, render).await?
     };

@@ -9,7 +9,6 @@ use axum::extract::{Query, RawQuery, State};
 use axum::response::Html;
 use sqlx::SqliteConnection;
 
-use crate::db;
 use crate::error::{AppError, AppResult};
 use crate::model::as_of::{BuildAsOf, Friction};
 use crate::model::calibration::{
@@ -192,9 +191,7 @@ async fn render_tune(
     id: i64,
     query: HashMap<String, String>,
 ) -> AppResult<(String, ShopZone)> {
-    let dossier = db::dossier::load(conn, id)
-        .await?
-        .ok_or(AppError::NotFound)?;
+    let dossier = state.reader.dossier(id).await?.ok_or(AppError::NotFound)?;
     let (page, settings) = Layout::load(conn, user, "customers", "Capacity and tuning").await?;
     // The calibration, the recommendation's search and the launch simulations: heavy work,
     // in the caller's turn, off the other requests' way.

@@ -1,0 +1,367 @@
+//! The pages' read of a whole build: every row of its dossier read in one synchronous call on a
+//! blocking thread, on connections of its own.
+//!
+//! Why a second SQLite binding: sqlx runs each SQLite connection on a worker thread and hands
+//! every row of every query across a channel, so a dossier (ten queries, about 150 rows at
+//! scale) costs a dozen thread wake-ups on top of SQLite's own work; on two busy cores that
+//! was most of a build page's time (DEVELOPERS.md, "Performance"). Here the same queries run one
+//! after the other on one thread with cached statements. Writes, and reads inside a write's
+//! transaction, stay on sqlx (`AppState::write`): this module only reads, on connections that
+//! refuse to write (`query_only`).
+//!
+//! A row is read into the same records as sqlx reads it: a record's declared fields through
+//! [`super::record::set_stored`], the way [`super::record`] writes them; a test reads every
+//! dossier of the demo shop both ways and compares them.
+
+use std::path::{Path, PathBuf};
+use std::sync::{Arc, Mutex};
+
+use rusqlite::types::ValueRef;
+use rusqlite::{Connection, OpenFlags, Row};
+
+use super::export::Cell;
+use super::record::set_stored;
+use crate::records::field::Record;
+use crate::records::measure::{EngineSpeed, Force, Length, Seconds};
+use crate::records::stored::{
+    BenchSpring, BenchTest, Build, BuildOwner, Car, Dossier, Height, KeptLaunchFit, LogSummary,
+    Pass, Setup,
+};
+
+/// Connections reading at once: one a core of the machine the goals were set on; a page waits
+/// its turn beyond that (the reading itself is CPU work).
+const READERS: usize = 2;
+
+/// Read-only connections to the database file, opened when first needed.
+pub struct Reader {
+    path: PathBuf,
+    idle: Mutex<Vec<Connection>>,
+    turns: tokio::sync::Semaphore,
+}
+
+/// Why a read failed (SQLite's own error, or the blocking thread's end).
+#[derive(Debug, thiserror::Error)]
+#[error("reading the database: {0}")]
+pub struct ReadError(String);
+
+impl Reader {
+    /// Reads the database file at `path` (the file the pool opened).
+    pub fn new(path: &Path) -> Arc<Self> {
+        Arc::new(Self {
+            path: path.to_owned(),
+            idle: Mutex::new(Vec::new()),
+            turns: tokio::sync::Semaphore::new(READERS),
+        })
+    }
+
+    /// Runs `read` on a blocking thread with a connection of its own, in turn.
+    pub async fn read<T, F>(self: &Arc<Self>, read: F) -> Result<T, ReadError>
+    where
+        T: Send + 'static,
+        F: FnOnce(&Connection) -> rusqlite::Result<T> + Send + 'static,
+    {
+        let _turn = self
+            .turns
+            .acquire()
+            .await
+            .map_err(|e| ReadError(e.to_string()))?;
+        let me = Arc::clone(self);
+        tokio::task::spawn_blocking(move || {
+            let conn = me.connection()?;
+            let out = read(&conn);
+            me.idle.lock().unwrap_or_else(|e| e.into_inner()).push(conn);
+            out.map_err(|e| ReadError(e.to_string()))
+        })
+        .await
+        .map_err(|e| ReadError(e.to_string()))?
+    }
+
+    /// The dossier of build `id` (see [`super::dossier::load`]).
+    pub async fn dossier(self: &Arc<Self>, id: i64) -> Result<Option<Dossier>, ReadError> {
+        self.read(move |conn| dossier(conn, id)).await
+    }
+
+    fn connection(&self) -> Result<Connection, ReadError> {
+        if let Some(conn) = self.idle.lock().unwrap_or_else(|e| e.into_inner()).pop() {
+            return Ok(conn);
+        }
+        let flags = OpenFlags::SQLITE_OPEN_READ_WRITE | OpenFlags::SQLITE_OPEN_NO_MUTEX;
+        let open = || -> rusqlite::Result<Connection> {
+            let conn = Connection::open_with_flags(&self.path, flags)?;
+            // As the pool's connections (db::open), and never a write.
+            conn.execute_batch(
+                "PRAGMA query_only = ON; PRAGMA cache_size = -2048; PRAGMA mmap_size = 0;
+                 PRAGMA temp_store = MEMORY; PRAGMA busy_timeout = 10000;",
+            )?;
+            conn.set_prepared_statement_cache_capacity(32);
+            Ok(conn)
+        };
+        open().map_err(|e| ReadError(e.to_string()))
+    }
+}
+
+/// Build `id` with all its records, read as [`super::dossier::load`] reads them.
+pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> {
+    let build = one(conn, &stored_sql::<Build>(BUILD), id, stored)?;
+    let Some(build): Option<Build> = build else {
+        return Ok(None);
+    };
+    let Some((car, owner)) = one(conn, &stored_sql::<Car>(CAR), build.car_id, car_with_owner)?
+    else {
+        return Ok(None);
+    };
+    let limit = super::dossier::PASSES_LOADED as i64;
+    let passes: Vec<Pass> = all(
+        conn,
+        &format!("{} LIMIT {limit}", stored_sql::<Pass>(PASSES)),
+        build.id,
+        stored,
+    )?;
+    let passes_total = if passes.len() < super::dossier::PASSES_LOADED {
+        passes.len() as i64
+    } else {
+        conn.prepare_cached("SELECT COUNT(*) FROM passes WHERE build_id = ?")?
+            .query_row([build.id], |r| r.get(0))?
+    };
+    Ok(Some(Dossier {
+        owner,
+        car,
+        setups: all(conn, &stored_sql::<Setup>(SETUPS), build.id, stored)?,
+        bench: bench(conn, build.id)?,
+        heights: all(conn, &stored_sql::<Height>(HEIGHTS), build.id, stored)?,
+        passes,
+        passes_total,
+        logs: all(conn, LOGS, build.id, log_summary)?,
+        launch_fits: all(conn, FITS, build.id, launch_fit)?,
+        build,
+    }))
+}
+
+/// A stored record: its leading columns (ids and stamps, as listed in its `From` query), then
+/// its declared fields in declaration order.
+trait StoredRow: Sized {
+    type Input: Record;
+    /// How many leading columns come before the declared fields.
+    const LEADING: usize;
+    fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self>;
+}
+
+/// The query of a stored record: `from` is `"<leading columns> FROM ... WHERE ... ?"`, with the
+/// record's table aliased `x`; the declared fields are read after the leading columns.
+fn stored_sql<T: StoredRow>(from: &str) -> String {
+    let fields: Vec<String> = crate::records::field::columns::<T::Input>()
+        .map(|c| format!("x.{c}"))
+        .collect();
+    let (leading, rest) = from.split_once(" FROM ").expect("a query with FROM");
+    format!("SELECT {leading}, {} FROM {rest}", fields.join(", "))
+}
+
+fn stored<T: StoredRow>(row: &Row) -> rusqlite::Result<T> {
+    let mut data = T::Input::default();
+    for (i, f) in T::Input::FIELDS.iter().enumerate() {
+        let at = T::LEADING + i;
+        let cell = cell(row.get_ref(at)?);
+        set_stored(&mut data, f, &cell).map_err(|want| {
+            rusqlite::Error::FromSqlConversionFailure(
+                at,
+                row.get_ref(at)
+                    .map_or(rusqlite::types::Type::Null, |v| v.data_type()),
+                format!("{}: expected {want}", f.column).into(),
+            )
+        })?;
+    }
+    T::assemble(row, data)
+}
+
+fn cell(v: ValueRef<'_>) -> Cell {
+    match v {
+        ValueRef::Null => Cell::Null,
+        ValueRef::Integer(i) => Cell::Integer(i),
+        ValueRef::Real(r) => Cell::Real(r),
+        ValueRef::Text(t) => Cell::Text(String::from_utf8_lossy(t).into_owned()),
+        ValueRef::Blob(b) => Cell::Blob(b.to_vec()),
+    }
+}
+
+const BUILD: &str = "x.id, x.car_id, x.created_at, x.updated_at FROM builds x
+     JOIN cars k ON k.id = x.car_id JOIN customers c ON c.id = k.customer_id
+     WHERE x.id = ? AND c.deleted_at IS NULL";
+
+impl StoredRow for Build {
+    type Input = crate::records::build::BuildInput;
+    const LEADING: usize = 4;
+    fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self> {
+        Ok(Self {
+            id: row.get(0)?,
+            car_id: row.get(1)?,
+            created_at: row.get(2)?,
+            updated_at: row.get(3)?,
+            data,
+        })
+    }
+}
+
+const CAR: &str = "x.id, x.customer_id, x.created_at, x.updated_at, c.name, c.phone FROM cars x
+     JOIN customers c ON c.id = x.customer_id WHERE x.id = ? AND c.deleted_at IS NULL";
+
+impl StoredRow for Car {
+    type Input = crate::records::car::CarInput;
+    const LEADING: usize = 6;
+    fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self> {
+        Ok(Self {
+            id: row.get(0)?,
+            customer_id: row.get(1)?,
+            created_at: row.get(2)?,
+            updated_at: row.get(3)?,
+            data,
+        })
+    }
+}
+
+/// The car and its owner's name and phone (the two columns after the car's stamps).
+fn car_with_owner(row: &Row) -> rusqlite::Result<(Car, BuildOwner)> {
+    let car: Car = stored(row)?;
+    let owner = BuildOwner {
+        customer_id: car.customer_id,
+        customer_name: row.get(4)?,
+        customer_phone: row.get(5)?,
+        car_id: car.id,
+        car_description: car.data.description.clone(),
+    };
+    Ok((car, owner))
+}
+
+/// The records a build keeps with who made them: the same leading columns.
+macro_rules! build_child {
+    ($row:ty, $input:ty) => {
+        impl StoredRow for $row {
+            type Input = $input;
+            const LEADING: usize = 5;
+            fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self> {
+                Ok(Self {
+                    id: row.get(0)?,
+                    build_id: row.get(1)?,
+                    user_id: row.get(2)?,
+                    created_at: row.get(3)?,
+                    updated_at: row.get(4)?,
+                    data,
+                })
+            }
+        }
+    };
+}
+
+build_child!(Setup, crate::records::setup::SetupInput);
+build_child!(Height, crate::records::height::HeightInput);
+build_child!(Pass, crate::records::pass::PassInput);
+
+const SETUPS: &str = concat!(
+    "x.id, x.build_id, x.user_id, x.created_at, x.updated_at",
+    " FROM setup_changes x WHERE x.build_id = ? ORDER BY x.changed_on, x.id"
+);
+const HEIGHTS: &str = concat!(
+    "x.id, x.build_id, x.user_id, x.created_at, x.updated_at",
+    " FROM cover_heights x WHERE x.build_id = ? ORDER BY x.id"
+);
+const PASSES: &str = concat!(
+    "x.id, x.build_id, x.user_id, x.created_at, x.updated_at",
+    " FROM passes x WHERE x.build_id = ? ORDER BY x.run_on DESC, x.id DESC"
+);
+
+/// A build's bench tests, oldest first, each with its readings by position (two queries, as
+/// `db::bench::for_build`).
+fn bench(conn: &Connection, build_id: i64) -> rusqlite::Result<Vec<BenchTest>> {
+    let mut tests: Vec<BenchTest> = all(
+        conn,
+        "SELECT t.id, t.build_id, t.tested_on, t.note, t.created_at FROM bench_tests t
+         WHERE t.build_id = ? ORDER BY t.build_id, t.tested_on, t.id",
+        build_id,
+        |r| {
+            Ok(BenchTest {
+                id: r.get(0)?,
+                build_id: r.get(1)?,
+                tested_on: r.get(2)?,
+                note: r.get(3)?,
+                created_at: r.get(4)?,
+                springs: Vec::new(),
+            })
+        },
+    )?;
+    let springs: Vec<BenchSpring> = all(
+        conn,
+        "SELECT s.bench_test_id, s.position, s.free_length_mm, s.compression_mm, s.force_n
+         FROM bench_springs s JOIN bench_tests t ON t.id = s.bench_test_id
+         WHERE t.build_id = ? ORDER BY s.bench_test_id, s.position",
+        build_id,
+        |r| {
+            Ok(BenchSpring {
+                bench_test_id: r.get(0)?,
+                position: r.get(1)?,
+                free_length_mm: r.get::<_, Option<f64>>(2)?.map(Length::from_mm),
+                compression_mm: Length::from_mm(r.get(3)?),
+                force_n: Force::from_n(r.get(4)?),
+            })
+        },
+    )?;
+    for s in springs {
+        if let Some(test) = tests.iter_mut().find(|t| t.id == s.bench_test_id) {
+            test.springs.push(s);
+        }
+    }
+    Ok(tests)
+}
+
+const LOGS: &str = "SELECT l.pass_id, l.file_name, l.file_bytes, l.sample_rate_hz, l.launch_s,
+     l.lockup_s, l.lockup_engine_rpm, l.slip_energy_j, l.peak_slip_power_w, l.slip_window,
+     l.created_at FROM pass_logs l JOIN passes p ON p.id = l.pass_id WHERE p.build_id = ?";
+
+fn log_summary(r: &Row) -> rusqlite::Result<LogSummary> {
+    Ok(LogSummary {
+        pass_id: r.get(0)?,
+        file_name: r.get(1)?,
+        file_bytes: r.get(2)?,
+        sample_rate_hz: r.get(3)?,
+        launch_s: Seconds::from_s(r.get(4)?),
+        lockup_s: Seconds::from_s(r.get(5)?),
+        lockup_engine_rpm: EngineSpeed::from_rpm(r.get(6)?),
+        slip_energy_j: r.get(7)?,
+        peak_slip_power_w: r.get(8)?,
+        slip_window: r.get(9)?,
+        created_at: r.get(10)?,
+    })
+}
+
+const FITS: &str = "SELECT f.pass_id, f.inputs, f.mu, f.lockup_rpm, f.note FROM pass_launch_fits f
+     JOIN passes p ON p.id = f.pass_id WHERE p.build_id = ?";
+
+fn launch_fit(r: &Row) -> rusqlite::Result<KeptLaunchFit> {
+    Ok(KeptLaunchFit {
+        pass_id: r.get(0)?,
+        inputs: r.get(1)?,
+        mu: r.get(2)?,
+        lockup_rpm: r.get::<_, Option<f64>>(3)?.map(EngineSpeed::from_rpm),
+        note: r.get(4)?,
+    })
+}
+
+/// The rows `sql` finds for `key`, each read by `read`.
+fn all<T>(
+    conn: &Connection,
+    sql: &str,
+    key: i64,
+    read: impl FnMut(&Row) -> rusqlite::Result<T>,
+) -> rusqlite::Result<Vec<T>> {
+    conn.prepare_cached(sql)?.query_map([key], read)?.collect()
+}
+
+/// The first row `sql` finds for `key`, if any.
+fn one<T>(
+    conn: &Connection,
+    sql: &str,
+    key: i64,
+    read: impl FnOnce(&Row) -> rusqlite::Result<T>,
+) -> rusqlite::Result<Option<T>> {
+    let mut stmt = conn.prepare_cached(sql)?;
+    let mut rows = stmt.query([key])?;
+    rows.next()?.map(read).transpose()
+}

@@ -1,0 +1,71 @@
+//! The pages' synchronous read of a build (`db::read`) against the read every write's
+//! transaction uses (`db::dossier::load`, through sqlx): the same records, to the last bit.
+
+use lockpoint::db;
+
+use crate::support::TestApp;
+
+/// Every build of the demo shop, a build of a customer put in the bin and a build that does
+/// not exist, read both ways.
+#[tokio::test]
+async fn the_pages_read_every_dossier_as_the_writes_read_it() {
+    let app = TestApp::demo().await;
+    let mut conn = app.pool.acquire().await.unwrap();
+    let ids: Vec<i64> = sqlx::query_scalar("SELECT id FROM builds ORDER BY id")
+        .fetch_all(&mut *conn)
+        .await
+        .unwrap();
+    assert!(ids.len() >= 3, "the demo shop has builds: {ids:?}");
+    // A customer in the bin: their builds are not read.
+    sqlx::query(
+        "UPDATE customers SET deleted_at = '2026-12-01T00:00:00Z'
+         WHERE id = (SELECT k.customer_id FROM cars k JOIN builds b ON b.car_id = k.id
+                     WHERE b.id = ?)",
+    )
+    .bind(ids[ids.len() - 1])
+    .execute(&mut *conn)
+    .await
+    .unwrap();
+    let live: i64 = sqlx::query_scalar(
+        "SELECT COUNT(*) FROM builds b JOIN cars k ON k.id = b.car_id
+         JOIN customers c ON c.id = k.customer_id WHERE c.deleted_at IS NULL",
+    )
+    .fetch_one(&mut *conn)
+    .await
+    .unwrap();
+    assert!(live < ids.len() as i64);
+    let mut compared = 0;
+    // How many of the compared dossiers hold each kind of record: every kind is compared.
+    let mut held = [0; 6];
+    for id in ids.iter().copied().chain([i64::MAX]) {
+        let by_sqlx = db::dossier::load(&mut conn, id).await.unwrap();
+        let by_read = app.state.reader.dossier(id).await.unwrap();
+        assert_eq!(
+            format!("{by_read:#?}"),
+            format!("{by_sqlx:#?}"),
+            "build {id} read two ways"
+        );
+        if let Some(d) = by_read {
+            compared += 1;
+            let kinds = [
+                d.setups.len(),
+                d.bench.iter().map(|t| t.springs.len()).sum(),
+                d.heights.len(),
+                d.passes.len(),
+                d.logs.len(),
+                d.launch_fits.len(),
+            ];
+            for (n, k) in held.iter_mut().zip(kinds) {
+                *n += usize::from(k > 0);
+            }
+        }
+    }
+    assert_eq!(
+        compared, live,
+        "the binned customer's builds are gone both ways"
+    );
+    assert!(
+        held.iter().all(|&n| n > 0),
+        "setups, bench springs, heights, passes, logs, fits: {held:?}"
+    );
+}
