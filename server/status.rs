@@ -12,7 +12,7 @@ use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::status::{BuildStatus, Listed};
-use crate::model::as_of::bench_review;
+use crate::model::as_of::{BuildAsOf, bench_review};
 use crate::model::calibration::launch_fits;
 use crate::model::due::{Due, DueReason, soonest};
 use crate::model::energy::energy_forecast;
@@ -135,7 +135,7 @@ pub async fn work_out(
     let fits = launch_fits(&d, settings);
     // The forecast's friction in force reads the fits just worked out.
     d.launch_fits.clone_from(&fits);
-    if let Ok(e) = energy_forecast(&d, settings) {
+    if let Ok(e) = energy_forecast(&d, &BuildAsOf::now(&d, settings)) {
         status.energy_shim_passes = e.passes_to_shim_due;
         status.energy_disc_passes = e.passes_to_disc_due;
     }

@@ -102,9 +102,10 @@ impl<'a> PassEnergies<'a> {
 /// consecutive cover heights, the growth in total wear against the slip energy of the passes
 /// dated after the earlier measurement and on or before the later one, each from its data log,
 /// else from the launch preview at the setting of its date; intervals with a pass of unknown
-/// energy, or with no pass, are left out. Without an interval to fit, why.
-pub fn energy_forecast(d: &Dossier, settings: &SettingsInput) -> Result<EnergyForecast, EnergyGap> {
-    let now = BuildAsOf::now(d, settings);
+/// energy, or with no pass, are left out. Without an interval to fit, why. `now` is the build
+/// as of today ([`BuildAsOf::now`] of `d`), which the caller has already worked out.
+pub fn energy_forecast(d: &Dossier, now: &BuildAsOf) -> Result<EnergyForecast, EnergyGap> {
+    let settings = now.settings;
     let req = now.wear().map_err(EnergyGap::NoWear)?;
     let report = clutch::wear::analyze(&req)
         .map_err(|e| EnergyGap::NoWear(format!("{}: {}", e.field, e.message)))?;
@@ -145,7 +146,7 @@ pub fn energy_forecast(d: &Dossier, settings: &SettingsInput) -> Result<EnergyFo
         EnergyGap::UnknownEnergy(why_unknown)
     };
     let fit = clutch::wear::wear_per_mj(&intervals).ok_or_else(|| gap.clone())?;
-    let energy_per_pass_j = modelled_energy_j(&now, now.trial, None);
+    let energy_per_pass_j = modelled_energy_j(now, now.trial, None);
     let last = report.measurements.last().ok_or(gap)?;
     let pulled = heights
         .last()

@@ -7,6 +7,7 @@
 
 use std::time::{Duration, Instant};
 
+use lockpoint::model::as_of::BuildAsOf;
 use lockpoint::model::calibration::launch_fits;
 use lockpoint::model::energy::energy_forecast;
 use lockpoint::model::wear::current_disc;
@@ -16,7 +17,7 @@ use lockpoint::records::stored::Dossier;
 use lockpoint::{db, demo};
 
 fn best_of(d: &Dossier, settings: &SettingsInput) -> Duration {
-    time(|| energy_forecast(d, settings).is_ok())
+    time(|| energy_forecast(d, &BuildAsOf::now(d, settings)).is_ok())
 }
 
 fn time<T>(f: impl Fn() -> T) -> Duration {
@@ -57,7 +58,7 @@ async fn main() -> Result<(), Box<dyn std::error::Error>> {
         let Some(mut d) = db::dossier::load(&mut conn, id).await? else {
             break;
         };
-        let f = energy_forecast(&d, &settings);
+        let f = energy_forecast(&d, &BuildAsOf::now(&d, &settings));
         println!(
             "build {id}: {} passes, {} heights, {} logs: {:?} ({})",
             d.passes.len(),
@@ -94,7 +95,7 @@ async fn main() -> Result<(), Box<dyn std::error::Error>> {
         println!(
             "20 passes on 20 dates, no logs: {:?} ({})",
             best_of(&d, &settings),
-            energy_forecast(&d, &settings)
+            energy_forecast(&d, &BuildAsOf::now(&d, &settings))
                 .map_or_else(|e| format!("{e:?}"), |f| format!("{} intervals", f.fit.n))
         );
         // The same 20 passes, each with its launch speed and a typed lock time.

@@ -136,15 +136,16 @@ pub async fn build_wear(
     Id(id): Id,
 ) -> ApiResult<BuildWear> {
     let (dossier, settings) = stored_build(&state, id).await?;
-    let request = BuildAsOf::now(&dossier, &settings)
-        .wear()
-        .map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
-    let report = clutch::wear::analyze(&request).map_err(invalid)?;
-    // The forecast by energy runs launch previews: off the async workers.
-    let energy = state
+    // The build as of today and the forecast by energy (launch previews): off the async workers.
+    let (request, energy) = state
         .heavy
-        .run(move || energy_forecast(&dossier, &settings).ok())
+        .run(move || {
+            let now = BuildAsOf::now(&dossier, &settings);
+            (now.wear(), energy_forecast(&dossier, &now).ok())
+        })
         .await?;
+    let request = request.map_err(|missing| ApiError(AppError::field("measurements", missing)))?;
+    let report = clutch::wear::analyze(&request).map_err(invalid)?;
     Ok(Json(BuildWear {
         report,
         wear_per_mj: energy.as_ref().map(|e| e.fit.per_mj),

@@ -402,7 +402,7 @@ pub async fn render_page(
     // page cache until the next write).
     let energy = state
         .heavy
-        .here(&Caller(None), || energy_forecast(&d, &settings))
+        .here(&Caller(None), || energy_forecast(&d, &now))
         .await?;
     let wear = now.wear().and_then(|req| {
         clutch::wear::analyze(&req)
