@@ -82,9 +82,12 @@ fn create_private(path: &Path) -> std::io::Result<()> {
     }
 }
 
-/// Pooled connections: enough for writers queued on the write lock (each holds one while it
-/// waits) to leave readers some, few enough that the per-connection page caches stay small.
-pub const POOL_SIZE: u32 = 8;
+/// Pooled connections: the one writer (the others wait for their turn before they take one),
+/// the pages' small reads (sessions, the frame, lists, search) and the background tasks; a
+/// whole build is read on `read::Reader`'s own connections. Few, so that the per-connection
+/// page caches (and the thread each connection runs on) stay small: 8 here cost 16 MB of peak
+/// memory for no measured gain (DEVELOPERS.md, "SQLite and the pool").
+pub const POOL_SIZE: u32 = 4;
 
 /// Every file in `migrations/`, in order, built into the binary by `sqlx::migrate!` (the build
 /// script reruns it when a file is added). Each applied step is recorded in `_sqlx_migrations`
