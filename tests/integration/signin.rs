@@ -365,3 +365,40 @@ async fn query_plan(app: &TestApp, sql: &str) -> Vec<String> {
         .map(|row| row.get::<String, _>("detail"))
         .collect()
 }
+
+/// A password stored under older argon2id parameters (the argon2 crate's defaults, 19 MiB in
+/// 2 passes, which made every hash before) still signs in, and the sign-in stores it again
+/// under today's (7 MiB in 5 passes); a wrong password changes nothing.
+#[tokio::test]
+async fn a_password_hashed_with_older_parameters_is_hashed_again_at_sign_in() {
+    use argon2::password_hash::PasswordHasher;
+    let app = TestApp::new().await;
+    let old = argon2::Argon2::default()
+        .hash_password(PASSWORD.as_bytes())
+        .unwrap()
+        .to_string();
+    assert!(old.starts_with("$argon2id$v=19$m=19456,t=2,p=1$"), "{old}");
+    let stored = || async {
+        let mut conn = app.pool.acquire().await.unwrap();
+        db::users::by_name(&mut conn, "sam")
+            .await
+            .unwrap()
+            .unwrap()
+            .password_hash
+    };
+    {
+        let mut conn = app.pool.acquire().await.unwrap();
+        let sam = db::users::by_name(&mut conn, "sam").await.unwrap().unwrap();
+        db::users::set_password(&mut conn, sam.id, &old).await.unwrap();
+    }
+    let wrong = sign_in(&app, "sam", "not the password", 1).await;
+    assert_eq!(wrong.status, StatusCode::UNAUTHORIZED);
+    assert_eq!(stored().await, old, "a failed sign-in stores nothing");
+    let right = sign_in(&app, "sam", PASSWORD, 2).await;
+    assert_eq!(right.status, StatusCode::SEE_OTHER, "{}", right.body);
+    let new = stored().await;
+    assert!(new.starts_with("$argon2id$v=19$m=7168,t=5,p=1$"), "{new}");
+    let again = sign_in(&app, "sam", PASSWORD, 3).await;
+    assert_eq!(again.status, StatusCode::SEE_OTHER);
+    assert_eq!(stored().await, new, "a current hash is kept as it is");
+}

@@ -150,7 +150,8 @@ fn too_many(username: String, next: String, wait: Duration) -> AppResult<Respons
 ///    [`RESERVED_WAIT`], so a flood from many addresses cannot keep it out;
 /// 5. one argon2id check, against a stand-in hash when there is no usable account (the time
 ///    taken does not tell which names exist);
-/// 6. a failure is one upsert of the two counters; a success makes the session.
+/// 6. a failure is one upsert of the two counters; a success makes the session (and stores the
+///    password hashed again when its hash was made with older parameters).
 pub async fn submit(
     State(state): State<AppState>,
     ClientAddr(addr): ClientAddr,
@@ -187,8 +188,13 @@ pub async fn submit(
         Err(_) => return too_many(username, next, Duration::from_secs(1)),
     };
     let usable = user.as_ref().filter(|u| !u.disabled);
-    let ok =
-        auth::verify_password_or_dummy(password, usable.map(|u| u.password_hash.clone())).await;
+    let stored = usable.map(|u| u.password_hash.clone());
+    let ok = auth::verify_password_or_dummy(password.clone(), stored).await;
+    // A hash made with older parameters is made again with today's, in the same turn.
+    let rehashed = match usable.filter(|u| ok && auth::needs_rehash(&u.password_hash)) {
+        Some(_) => Some(auth::hash_password(password).await?),
+        None => None,
+    };
     drop(slot);
 
     let Some(user) = usable.filter(|_| ok) else {
@@ -209,6 +215,9 @@ pub async fn submit(
     let mut conn = state.pool.acquire().await?;
     db::sessions::create(&mut conn, &auth::hash_secret(&token), user.id, &csrf).await?;
     db::throttle::clear(&mut conn, &name).await?;
+    if let Some(hash) = rehashed {
+        db::users::set_password(&mut conn, user.id, &hash).await?;
+    }
     drop(conn);
     let cookie = session_cookie(
         &token,
