@@ -51,7 +51,7 @@ pub async fn open(path: &Path) -> Result<SqlitePool, sqlx::Error> {
         .busy_timeout(Duration::from_secs(10))
         .foreign_keys(true)
         // Sized for a 2-core box with a 64 MB goal: see DEVELOPERS.md, "SQLite and the pool".
-        .pragma("cache_size", "-2048")
+        .pragma("cache_size", "-1024")
         .pragma("mmap_size", "0")
         .pragma("temp_store", "memory");
     let pool = SqlitePoolOptions::new()

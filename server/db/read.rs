@@ -90,7 +90,7 @@ impl Reader {
             let conn = Connection::open_with_flags(&self.path, flags)?;
             // As the pool's connections (db::open), and never a write.
             conn.execute_batch(
-                "PRAGMA query_only = ON; PRAGMA cache_size = -2048; PRAGMA mmap_size = 0;
+                "PRAGMA query_only = ON; PRAGMA cache_size = -1024; PRAGMA mmap_size = 0;
                  PRAGMA temp_store = MEMORY; PRAGMA busy_timeout = 10000;",
             )?;
             conn.set_prepared_statement_cache_capacity(32);

@@ -39,8 +39,9 @@ pub const WATCH_INTERVAL: Duration = Duration::from_millis(100);
 const PAGE_MAX_AGE: Duration = Duration::from_secs(10);
 
 /// Rendered pages kept at most (bytes of HTML): pages of an earlier generation are dropped
-/// whenever one is kept, then the largest while over.
-const PAGE_BUDGET_BYTES: usize = 8 << 20;
+/// whenever one is kept, then the largest while over. Sized for the 64 MB goal (DEVELOPERS.md,
+/// "The page cache").
+const PAGE_BUDGET_BYTES: usize = 4 << 20;
 
 /// Sessions kept at most; past it the table is emptied (each is looked up again once).
 const SESSION_CAP: usize = 4096;
