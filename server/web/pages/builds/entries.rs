@@ -94,7 +94,7 @@ impl Entry {
             Which::Pass => forms.pass = entry,
         }
         let mut conn = state.pool.acquire().await?;
-        let html = render_page(&state, &mut conn, &self.user.viewer(), id, forms)
+        let html = render_page(state, &mut conn, &self.user.viewer(), id, forms)
             .await?
             .0;
         Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response())
