@@ -135,7 +135,9 @@ pub fn needs_rehash(stored: &str) -> bool {
     let current = (Algorithm::Argon2id.ident(), Some(u32::from(Version::V0x13)));
     (phc.algorithm, phc.version) != current
         || Params::try_from(&phc).map_or(true, |p| {
-            let (now, cost) = (new_params(), |p: &Params| (p.m_cost(), p.t_cost(), p.p_cost()));
+            let (now, cost) = (new_params(), |p: &Params| {
+                (p.m_cost(), p.t_cost(), p.p_cost())
+            });
             cost(&p) != cost(&now)
         })
 }

@@ -187,36 +187,8 @@ const BUILD: &str = "x.id, x.car_id, x.created_at, x.updated_at FROM builds x
      JOIN cars k ON k.id = x.car_id JOIN customers c ON c.id = k.customer_id
      WHERE x.id = ? AND c.deleted_at IS NULL";
 
-impl StoredRow for Build {
-    type Input = crate::records::build::BuildInput;
-    const LEADING: usize = 4;
-    fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self> {
-        Ok(Self {
-            id: row.get(0)?,
-            car_id: row.get(1)?,
-            created_at: row.get(2)?,
-            updated_at: row.get(3)?,
-            data,
-        })
-    }
-}
-
 const CAR: &str = "x.id, x.customer_id, x.created_at, x.updated_at, c.name, c.phone FROM cars x
      JOIN customers c ON c.id = x.customer_id WHERE x.id = ? AND c.deleted_at IS NULL";
-
-impl StoredRow for Car {
-    type Input = crate::records::car::CarInput;
-    const LEADING: usize = 6;
-    fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self> {
-        Ok(Self {
-            id: row.get(0)?,
-            customer_id: row.get(1)?,
-            created_at: row.get(2)?,
-            updated_at: row.get(3)?,
-            data,
-        })
-    }
-}
 
 /// The car and its owner's name and phone (the two columns after the car's stamps).
 fn car_with_owner(row: &Row) -> rusqlite::Result<(Car, BuildOwner)> {
@@ -231,19 +203,16 @@ fn car_with_owner(row: &Row) -> rusqlite::Result<(Car, BuildOwner)> {
     Ok((car, owner))
 }
 
-/// The records a build keeps with who made them: the same leading columns.
-macro_rules! build_child {
-    ($row:ty, $input:ty) => {
+/// The [`StoredRow`] of a record whose leading columns are `$leading` in all, its own named
+/// first (read by name: the query lists them as `x.<name>`).
+macro_rules! stored_row {
+    ($row:ty, $input:ty, $leading:literal: $($own:ident),+) => {
         impl StoredRow for $row {
             type Input = $input;
-            const LEADING: usize = 5;
+            const LEADING: usize = $leading;
             fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self> {
                 Ok(Self {
-                    id: row.get(0)?,
-                    build_id: row.get(1)?,
-                    user_id: row.get(2)?,
-                    created_at: row.get(3)?,
-                    updated_at: row.get(4)?,
+                    $($own: row.get(stringify!($own))?,)+
                     data,
                 })
             }
@@ -251,9 +220,12 @@ macro_rules! build_child {
     };
 }
 
-build_child!(Setup, crate::records::setup::SetupInput);
-build_child!(Height, crate::records::height::HeightInput);
-build_child!(Pass, crate::records::pass::PassInput);
+stored_row!(Build, crate::records::build::BuildInput, 4: id, car_id, created_at, updated_at);
+// The owner's name and phone follow the car's own columns (see `car_with_owner`).
+stored_row!(Car, crate::records::car::CarInput, 6: id, customer_id, created_at, updated_at);
+stored_row!(Setup, crate::records::setup::SetupInput, 5: id, build_id, user_id, created_at, updated_at);
+stored_row!(Height, crate::records::height::HeightInput, 5: id, build_id, user_id, created_at, updated_at);
+stored_row!(Pass, crate::records::pass::PassInput, 5: id, build_id, user_id, created_at, updated_at);
 
 const SETUPS: &str = concat!(
     "x.id, x.build_id, x.user_id, x.created_at, x.updated_at",

@@ -389,7 +389,9 @@ async fn a_password_hashed_with_older_parameters_is_hashed_again_at_sign_in() {
     {
         let mut conn = app.pool.acquire().await.unwrap();
         let sam = db::users::by_name(&mut conn, "sam").await.unwrap().unwrap();
-        db::users::set_password(&mut conn, sam.id, &old).await.unwrap();
+        db::users::set_password(&mut conn, sam.id, &old)
+            .await
+            .unwrap();
     }
     let wrong = sign_in(&app, "sam", "not the password", 1).await;
     assert_eq!(wrong.status, StatusCode::UNAUTHORIZED);
