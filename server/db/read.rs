@@ -17,7 +17,7 @@ use std::path::{Path, PathBuf};
 use std::sync::{Arc, Mutex};
 
 use rusqlite::types::ValueRef;
-use rusqlite::{Connection, OpenFlags, Row};
+use rusqlite::{CachedStatement, Connection, OpenFlags, Row};
 
 use super::export::Cell;
 use super::record::set_stored;
@@ -120,7 +120,7 @@ pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> 
     let passes_total = if passes.len() < super::dossier::PASSES_LOADED {
         passes.len() as i64
     } else {
-        conn.prepare_cached("SELECT COUNT(*) FROM passes WHERE build_id = ?")?
+        prepare(conn, "SELECT COUNT(*) FROM passes WHERE build_id = ?")?
             .query_row([build.id], |r| r.get(0))?
     };
     Ok(Some(Dossier {
@@ -316,6 +316,14 @@ fn launch_fit(r: &Row) -> rusqlite::Result<KeptLaunchFit> {
     })
 }
 
+/// The cached statement for `sql`, its text logged at debug level under the target
+/// `lockpoint::read` (field `db.statement`, as sqlx logs its own under `sqlx::query`): how the
+/// query-plan test sees what the pages read here.
+pub fn prepare<'c>(conn: &'c Connection, sql: &str) -> rusqlite::Result<CachedStatement<'c>> {
+    tracing::debug!(target: "lockpoint::read", { db.statement = sql }, "read");
+    conn.prepare_cached(sql)
+}
+
 /// The rows `sql` finds for `key`, each read by `read`.
 fn all<T>(
     conn: &Connection,
@@ -323,7 +331,7 @@ fn all<T>(
     key: i64,
     read: impl FnMut(&Row) -> rusqlite::Result<T>,
 ) -> rusqlite::Result<Vec<T>> {
-    conn.prepare_cached(sql)?.query_map([key], read)?.collect()
+    prepare(conn, sql)?.query_map([key], read)?.collect()
 }
 
 /// The first row `sql` finds for `key`, if any.
@@ -333,7 +341,7 @@ fn one<T>(
     key: i64,
     read: impl FnOnce(&Row) -> rusqlite::Result<T>,
 ) -> rusqlite::Result<Option<T>> {
-    let mut stmt = conn.prepare_cached(sql)?;
+    let mut stmt = prepare(conn, sql)?;
     let mut rows = stmt.query([key])?;
     rows.next()?.map(read).transpose()
 }

@@ -2,9 +2,11 @@
 //! query turned into an FTS5 expression, ranked hits, and the cars and active builds each hit
 //! links to.
 
-use sqlx::{FromRow, SqliteConnection};
+use rusqlite::{Connection, Row, params};
+use sqlx::SqliteConnection;
 
 use super::customers::{CustomerSummary, FoundBuild, FoundCar, Order};
+use super::read::prepare;
 
 /// The shortest run of characters the trigram index can look up.
 const TRIGRAM: usize = 3;
@@ -72,18 +74,13 @@ pub const HITS_SQL: &str = "SELECT c.id, c.name, c.phone,
 const COUNT_SQL: &str = "SELECT COUNT(*) FROM customer_search s JOIN customers c ON c.id = s.rowid
      WHERE customer_search MATCH ? AND c.deleted_at IS NULL";
 
-pub async fn customers(
-    conn: &mut SqliteConnection,
+/// One page of the ranked search for the FTS5 expression `expr`, and the number of matches.
+fn customers(
+    conn: &Connection,
     expr: &str,
     page: i64,
     order: Order,
-) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
-    #[derive(FromRow)]
-    struct Hit {
-        #[sqlx(flatten)]
-        customer: CustomerSummary,
-        total: i64,
-    }
+) -> rusqlite::Result<(Vec<CustomerSummary>, i64)> {
     // The same sort inside (on the index's columns) and outside (on the page's rows).
     let (inner, outer) = match order {
         Order::Best => (
@@ -95,39 +92,35 @@ pub async fn customers(
     let sql = HITS_SQL
         .replace("{order}", &inner)
         .replace("{outer}", &outer);
-    let hits: Vec<Hit> = sqlx::query_as(sqlx::AssertSqlSafe(sql))
-        .bind(expr)
-        .bind(super::PAGE_SIZE)
-        .bind(page.max(0) * super::PAGE_SIZE)
-        .fetch_all(&mut *conn)
-        .await?;
-    let total = match hits.first() {
-        Some(hit) => hit.total,
-        None if page > 0 => {
-            sqlx::query_scalar(COUNT_SQL)
-                .bind(expr)
-                .fetch_one(&mut *conn)
-                .await?
-        }
+    let mut total = None;
+    let mut rows: Vec<CustomerSummary> = prepare(conn, &sql)?
+        .query_map(
+            params![expr, super::PAGE_SIZE, page.max(0) * super::PAGE_SIZE],
+            |r| {
+                total = Some(r.get::<_, i64>(5)?);
+                summary(r)
+            },
+        )?
+        .collect::<rusqlite::Result<_>>()?;
+    let total = match total {
+        Some(total) => total,
+        None if page > 0 => prepare(conn, COUNT_SQL)?.query_row([expr], |r| r.get(0))?,
         None => 0,
     };
-    let mut rows: Vec<CustomerSummary> = hits.into_iter().map(|h| h.customer).collect();
-    attach_links(conn, &mut rows).await?;
+    attach_links(conn, &mut rows)?;
     Ok((rows, total))
 }
 
-#[derive(FromRow)]
-struct CarBuild {
-    customer_id: i64,
-    car_id: i64,
-    description: String,
-    build_id: Option<i64>,
-    label: Option<String>,
-    wear: Option<String>,
-    springs_flagged: Option<bool>,
-    soon_passes: Option<f64>,
-    soon_disc: Option<bool>,
-    due_within_passes: Option<i64>,
+/// A customer row as the lists select it: id, name, phone, car count, cars.
+fn summary(r: &Row) -> rusqlite::Result<CustomerSummary> {
+    Ok(CustomerSummary {
+        id: r.get(0)?,
+        name: r.get(1)?,
+        phone: r.get(2)?,
+        car_count: r.get(3)?,
+        cars: r.get(4)?,
+        found_cars: Vec::new(),
+    })
 }
 
 /// The cars of every customer listed, each with its active builds and their kept status: one
@@ -140,38 +133,39 @@ pub const LINKS_SQL: &str = "SELECT k.customer_id, k.id AS car_id, k.description
      WHERE k.customer_id IN (SELECT value FROM json_each(?))
      ORDER BY k.customer_id, k.id, b.id";
 
-pub async fn attach_links(
-    conn: &mut SqliteConnection,
-    rows: &mut [CustomerSummary],
-) -> sqlx::Result<()> {
+/// Hangs each listed customer's cars and their active builds on it.
+pub fn attach_links(conn: &Connection, rows: &mut [CustomerSummary]) -> rusqlite::Result<()> {
     if rows.is_empty() {
         return Ok(());
     }
     let ids = serde_json::to_string(&rows.iter().map(|r| r.id).collect::<Vec<_>>())
         .unwrap_or_else(|_| "[]".into());
-    let found: Vec<CarBuild> = sqlx::query_as(LINKS_SQL).bind(ids).fetch_all(conn).await?;
-    for row in rows.iter_mut() {
-        for f in found.iter().filter(|f| f.customer_id == row.id) {
-            if row.found_cars.last().is_none_or(|c| c.id != f.car_id) {
-                row.found_cars.push(FoundCar {
-                    id: f.car_id,
-                    description: f.description.clone(),
-                    builds: Vec::new(),
-                });
-            }
-            if let (Some(id), Some(label), Some(car)) =
-                (f.build_id, &f.label, row.found_cars.last_mut())
-            {
-                car.builds.push(FoundBuild {
-                    id,
-                    label: label.clone(),
-                    wear: f.wear.clone(),
-                    springs_flagged: f.springs_flagged.unwrap_or(false),
-                    soon_passes: f.soon_passes,
-                    soon_disc: f.soon_disc.unwrap_or(false),
-                    due_within_passes: f.due_within_passes.unwrap_or(0),
-                });
-            }
+    let mut stmt = prepare(conn, LINKS_SQL)?;
+    let mut found = stmt.query([ids])?;
+    while let Some(f) = found.next()? {
+        let customer_id: i64 = f.get(0)?;
+        let Some(row) = rows.iter_mut().find(|r| r.id == customer_id) else {
+            continue;
+        };
+        let car_id: i64 = f.get(1)?;
+        if row.found_cars.last().is_none_or(|c| c.id != car_id) {
+            row.found_cars.push(FoundCar {
+                id: car_id,
+                description: f.get(2)?,
+                builds: Vec::new(),
+            });
+        }
+        let (build_id, label): (Option<i64>, Option<String>) = (f.get(3)?, f.get(4)?);
+        if let (Some(id), Some(label), Some(car)) = (build_id, label, row.found_cars.last_mut()) {
+            car.builds.push(FoundBuild {
+                id,
+                label,
+                wear: f.get(5)?,
+                springs_flagged: f.get::<_, Option<bool>>(6)?.unwrap_or(false),
+                soon_passes: f.get(7)?,
+                soon_disc: f.get::<_, Option<bool>>(8)?.unwrap_or(false),
+                due_within_passes: f.get::<_, Option<i64>>(9)?.unwrap_or(0),
+            });
         }
     }
     Ok(())
@@ -211,14 +205,14 @@ pub async fn in_step(conn: &mut SqliteConnection) -> sqlx::Result<bool> {
 /// matches `query`, and the total count of matches: through the trigram index, best match
 /// first (`db::search`), when any word has 3 or more characters; otherwise (a 1-2 character
 /// query, or none) by case-insensitive substring over name, phone and cars, by name.
-pub async fn list(
-    conn: &mut SqliteConnection,
+pub fn list(
+    conn: &Connection,
     query: &str,
     page: i64,
     order: Order,
-) -> sqlx::Result<(Vec<CustomerSummary>, i64)> {
+) -> rusqlite::Result<(Vec<CustomerSummary>, i64)> {
     if let Some(expr) = match_expr(query) {
-        return customers(conn, &expr, page, order).await;
+        return customers(conn, &expr, page, order);
     }
     let everyone = query.trim().is_empty();
     let pattern = format!("%{}%", escape_like(query.trim()));
@@ -228,36 +222,29 @@ pub async fn list(
         "c.deleted_at IS NULL AND (c.name LIKE ?1 ESCAPE '\\' OR c.phone LIKE ?1 ESCAPE '\\'
          OR EXISTS (SELECT 1 FROM cars k WHERE k.customer_id = c.id
                     AND (k.description LIKE ?1 ESCAPE '\\' OR k.engine LIKE ?1 ESCAPE '\\')))";
-    let mut rows = sqlx::query_as(sqlx::AssertSqlSafe(format!(
+    let filter = if everyone { EVERYONE } else { MATCH };
+    let sql = format!(
         "SELECT c.id, c.name, c.phone,
                 (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
                 COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
                           WHERE k.customer_id = c.id), '') AS cars
-         FROM customers c WHERE {}
+         FROM customers c WHERE {filter}
          ORDER BY {} LIMIT ?2 OFFSET ?3",
-        if everyone { EVERYONE } else { MATCH },
         order.terms()
-    )))
-    .bind(&pattern)
-    .bind(super::PAGE_SIZE)
-    .bind(page.max(0) * super::PAGE_SIZE)
-    .fetch_all(&mut *conn)
-    .await?;
+    );
+    // ?3 is the highest parameter either way, so three are bound (?1 unused for everyone).
+    let offset = page.max(0) * super::PAGE_SIZE;
+    let mut rows: Vec<CustomerSummary> = prepare(conn, &sql)?
+        .query_map(params![pattern, super::PAGE_SIZE, offset], summary)?
+        .collect::<rusqlite::Result<_>>()?;
+    let count = format!("SELECT COUNT(*) FROM customers c WHERE {filter}");
+    let mut count = prepare(conn, &count)?;
     let total: i64 = if everyone {
-        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
-            "SELECT COUNT(*) FROM customers c WHERE {EVERYONE}"
-        )))
-        .fetch_one(&mut *conn)
-        .await?
+        count.query_row([], |r| r.get(0))?
     } else {
-        sqlx::query_scalar(sqlx::AssertSqlSafe(format!(
-            "SELECT COUNT(*) FROM customers c WHERE {MATCH}"
-        )))
-        .bind(&pattern)
-        .fetch_one(&mut *conn)
-        .await?
+        count.query_row([&pattern], |r| r.get(0))?
     };
-    attach_links(conn, &mut rows).await?;
+    attach_links(conn, &mut rows)?;
     Ok((rows, total))
 }
 

@@ -1,7 +1,8 @@
 //! Query plans of the busiest pages: every statement the counter, the search, the build page
 //! (with its lists of every pass and cover height) and the tuning page run (captured from
-//! sqlx's own statement log while the real router answers) is put through EXPLAIN QUERY PLAN,
-//! and none may read a whole table of records.
+//! sqlx's own statement log, and the pages' synchronous reads' log (`db::read::prepare`), while
+//! the real router answers) is put through EXPLAIN QUERY PLAN, and none may read a whole table
+//! of records.
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::sync::{Arc, Mutex};
@@ -13,7 +14,8 @@ use tracing_subscriber::layer::{Context, Layer, SubscriberExt};
 
 use crate::support::TestApp;
 
-/// Collects the SQL of every statement sqlx runs (its `sqlx::query` events).
+/// Collects the SQL of every statement sqlx runs (its `sqlx::query` events) and every one the
+/// pages' synchronous reads prepare (`lockpoint::read`).
 #[derive(Clone, Default)]
 struct Statements(Arc<Mutex<BTreeSet<String>>>);
 
@@ -37,7 +39,7 @@ impl Visit for SqlField {
 
 impl<S: tracing::Subscriber> Layer<S> for Statements {
     fn on_event(&self, event: &tracing::Event<'_>, _: Context<'_, S>) {
-        if event.metadata().target() != "sqlx::query" {
+        if !["sqlx::query", "lockpoint::read"].contains(&event.metadata().target()) {
             return;
         }
         let mut f = SqlField {
@@ -221,7 +223,12 @@ async fn captured_in_a_process_of_its_own() {
             first == "SELECT" || first == "WITH"
         })
         .collect();
-    // The capture works: the counter's status read and the search are among them.
+    // The capture works: the counter's status read, the search and the build's dossier (the
+    // last two read synchronously, `db::read`) are among them.
+    assert!(
+        reads.iter().any(|s| s.contains("FROM builds x")),
+        "{reads:#?}"
+    );
     assert!(
         reads.iter().any(|s| s.contains("FROM build_status s")),
         "{reads:#?}"

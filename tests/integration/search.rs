@@ -190,9 +190,13 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
         .await;
     }
     let mut conn = app.pool.acquire().await.unwrap();
-    let (rows, total) = db::search::list(&mut conn, "rask", 0, db::customers::Order::Best)
-        .await
-        .unwrap();
+    let search = || {
+        let order = db::customers::Order::Best;
+        app.state
+            .reader
+            .read(move |c| db::search::list(c, "rask", 0, order))
+    };
+    let (rows, total) = search().await.unwrap();
     assert_eq!(total, 2);
     assert_eq!(
         rows[0].name, "Odile Rask",
@@ -203,21 +207,9 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
         .execute(&mut *conn)
         .await
         .unwrap();
-    assert_eq!(
-        db::search::list(&mut conn, "rask", 0, db::customers::Order::Best)
-            .await
-            .unwrap()
-            .1,
-        0
-    );
+    assert_eq!(search().await.unwrap().1, 0);
     status::rebuild_derived(&mut conn).await.unwrap();
-    assert_eq!(
-        db::search::list(&mut conn, "rask", 0, db::customers::Order::Best)
-            .await
-            .unwrap()
-            .1,
-        2
-    );
+    assert_eq!(search().await.unwrap().1, 2);
 }
 
 #[test]

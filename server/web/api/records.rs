@@ -128,13 +128,11 @@ pub async fn customers_list(
     _: ApiUser,
     Query(q): Query<ListQuery>,
 ) -> ApiResult<CustomerList> {
-    let (rows, total) = db::search::list(
-        &mut *conn(&s).await?,
-        &q.q,
-        q.page(),
-        db::customers::Order::Best,
-    )
-    .await?;
+    let (text, page) = (q.q.clone(), q.page());
+    let (rows, total) = (s.reader)
+        .read(move |c| db::search::list(c, &text, page, db::customers::Order::Best))
+        .await
+        .map_err(AppError::from)?;
     Ok(Json(CustomerList {
         customers: rows,
         total,

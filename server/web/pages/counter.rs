@@ -1,6 +1,7 @@
 //! The counter's front page: find a customer fast, see what happened lately, and the work due.
 
 use std::collections::HashMap;
+use std::sync::Arc;
 
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
@@ -11,6 +12,7 @@ use crate::backup::scheduler::Backups;
 use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
+use crate::db::read::Reader;
 use crate::error::AppResult;
 use crate::model::due::{Due, DueReason, WorkStatus};
 use crate::records::date::ShopZone;
@@ -154,13 +156,12 @@ pub async fn front(
     RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
     let key = PageKey::Counter(raw.unwrap_or_default());
-    let pool = &state.pool;
-    let backups = &state.backups;
+    let (pool, reader, backups) = (&state.pool, &state.reader, &state.backups);
     // The backup notice is part of the page kept for the role: every change to what it says
     // moves the cache's generation on (see `AppState::with_backups`).
     let render = |stand_in: Viewer| async move {
         let mut conn = pool.acquire().await?;
-        render_front(&mut conn, &stand_in, q, backups).await
+        render_front(&mut conn, reader, &stand_in, q, backups).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?))
 }
@@ -168,6 +169,7 @@ pub async fn front(
 /// The counter for the search `q`, and the shop's zone it was rendered in.
 async fn render_front(
     conn: &mut SqliteConnection,
+    reader: &Arc<Reader>,
     user: &Viewer,
     q: ListQuery,
     backups: &Backups,
@@ -176,7 +178,10 @@ async fn render_front(
     let (found, found_total) = if q.q.trim().is_empty() {
         (Vec::new(), 0)
     } else {
-        db::search::list(conn, &q.q, 0, Order::from_query(&q.sort)).await?
+        let (text, order) = (q.q.clone(), Order::from_query(&q.sort));
+        reader
+            .read(move |c| db::search::list(c, &text, 0, order))
+            .await?
     };
     let recent = db::activity::recent(conn, 12).await?;
     let due = status::work_due(conn, &settings).await?;

@@ -1,5 +1,7 @@
 //! Customer pages: the searchable list, a customer's page with their cars, new and edit.
 
+use std::sync::Arc;
+
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
 use axum::response::{Html, IntoResponse, Redirect, Response};
@@ -8,6 +10,7 @@ use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::customers::{Customer, CustomerSummary, Order};
+use crate::db::read::Reader;
 use crate::error::{AppError, AppResult};
 use crate::records::date::ShopZone;
 use crate::records::stored::Car;
@@ -76,10 +79,10 @@ pub async fn list(
     RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
     let key = PageKey::Customers(raw.unwrap_or_default());
-    let pool = &state.pool;
+    let (pool, reader) = (&state.pool, &state.reader);
     let render = |stand_in: Viewer| async move {
         let mut conn = pool.acquire().await?;
-        render_list(&mut conn, &stand_in, q).await
+        render_list(&mut conn, reader, &stand_in, q).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?))
 }
@@ -87,13 +90,17 @@ pub async fn list(
 /// One page of the customer list or of a search, and the shop's zone it was rendered in.
 async fn render_list(
     conn: &mut SqliteConnection,
+    reader: &Arc<Reader>,
     user: &Viewer,
     q: ListQuery,
 ) -> AppResult<(String, ShopZone)> {
     let (page, _) = Layout::load(conn, user, "customers", "Customers").await?;
     let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
     let order = Order::from_query(&q.sort);
-    let (rows, total) = db::search::list(conn, &q.q, page_no, order).await?;
+    let text = q.q.clone();
+    let (rows, total) = reader
+        .read(move |c| db::search::list(c, &text, page_no, order))
+        .await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     let zone = page.zone.clone();
     let html = ListPage {
