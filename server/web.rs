@@ -38,7 +38,8 @@ pub use pages::login::{
 #[derive(Clone)]
 pub struct AppState {
     pub pool: SqlitePool,
-    /// The pages' reads of a whole build, outside any write (`db::read`).
+    /// The pages' reads of a whole build and of a customer search, outside any write
+    /// (`db::read`).
     pub reader: Arc<crate::db::read::Reader>,
     /// Password checks allowed at once (see `pages::login::SIGN_IN_SLOTS`); a sign-in that finds
     /// none free answers 429 at once instead of queueing.
