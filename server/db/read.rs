@@ -5,8 +5,8 @@
 //! Why a second SQLite binding: sqlx runs each SQLite connection on a worker thread and hands
 //! every row of every query across a channel, so a dossier (ten queries, about 150 rows at
 //! scale) costs a dozen thread wake-ups on top of SQLite's own work; on two busy cores that
-//! was most of a build page's time (DEVELOPERS.md, "Where the time goes"). Here the same queries run one
-//! after the other on one thread with cached statements. Writes, and reads inside a write's
+//! was most of a build page's time (DEVELOPERS.md, "Where the time goes"). Here the same
+//! queries run one after the other on one thread with cached statements. Writes, and reads inside a write's
 //! transaction, stay on sqlx (`AppState::write`): this module only reads, on connections that
 //! refuse to write (`query_only`).
 //!
