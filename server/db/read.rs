@@ -20,6 +20,7 @@ use std::sync::{Arc, Mutex};
 use rusqlite::types::ValueRef;
 use rusqlite::{CachedStatement, Connection, OpenFlags, Row};
 
+use super::customers::{CustomerSummary, Order};
 use super::export::Cell;
 use super::record::set_stored;
 use crate::records::field::Record;
@@ -80,6 +81,18 @@ impl Reader {
     /// The dossier of build `id` (see [`super::dossier::load`]).
     pub async fn dossier(self: &Arc<Self>, id: i64) -> Result<Option<Dossier>, ReadError> {
         self.read(move |conn| dossier(conn, id)).await
+    }
+
+    /// One page of the customer list or search for `query` (see [`super::search::list`]).
+    pub async fn search(
+        self: &Arc<Self>,
+        query: &str,
+        page: i64,
+        order: Order,
+    ) -> Result<(Vec<CustomerSummary>, i64), ReadError> {
+        let query = query.to_owned();
+        self.read(move |conn| super::search::list(conn, &query, page, order))
+            .await
     }
 
     fn connection(&self) -> Result<Connection, ReadError> {

@@ -191,10 +191,9 @@ async fn the_better_match_comes_first_and_a_rebuild_restores_an_emptied_index() 
     }
     let mut conn = app.pool.acquire().await.unwrap();
     let search = || {
-        let order = db::customers::Order::Best;
         app.state
             .reader
-            .read(move |c| db::search::list(c, "rask", 0, order))
+            .search("rask", 0, db::customers::Order::Best)
     };
     let (rows, total) = search().await.unwrap();
     assert_eq!(total, 2);

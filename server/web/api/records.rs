@@ -128,9 +128,8 @@ pub async fn customers_list(
     _: ApiUser,
     Query(q): Query<ListQuery>,
 ) -> ApiResult<CustomerList> {
-    let (text, page) = (q.q.clone(), q.page());
     let (rows, total) = (s.reader)
-        .read(move |c| db::search::list(c, &text, page, db::customers::Order::Best))
+        .search(&q.q, q.page(), db::customers::Order::Best)
         .await
         .map_err(AppError::from)?;
     Ok(Json(CustomerList {

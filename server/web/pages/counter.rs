@@ -178,10 +178,7 @@ async fn render_front(
     let (found, found_total) = if q.q.trim().is_empty() {
         (Vec::new(), 0)
     } else {
-        let (text, order) = (q.q.clone(), Order::from_query(&q.sort));
-        reader
-            .read(move |c| db::search::list(c, &text, 0, order))
-            .await?
+        reader.search(&q.q, 0, Order::from_query(&q.sort)).await?
     };
     let recent = db::activity::recent(conn, 12).await?;
     let due = status::work_due(conn, &settings).await?;

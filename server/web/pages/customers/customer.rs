@@ -97,10 +97,7 @@ async fn render_list(
     let (page, _) = Layout::load(conn, user, "customers", "Customers").await?;
     let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
     let order = Order::from_query(&q.sort);
-    let text = q.q.clone();
-    let (rows, total) = reader
-        .read(move |c| db::search::list(c, &text, page_no, order))
-        .await?;
+    let (rows, total) = reader.search(&q.q, page_no, order).await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     let zone = page.zone.clone();
     let html = ListPage {
