@@ -9,7 +9,7 @@ use axum::response::{IntoResponse, Redirect, Response};
 
 use crate::error::AppError;
 use crate::web::AppState;
-use crate::web::http::extract::cookie;
+use crate::web::http::extract::{CurrentUser, PathId, cookie};
 
 /// The cookie's name.
 pub const FLASH_COOKIE: &str = "lp_flash";
@@ -95,6 +95,24 @@ impl FromRequestParts<AppState> for Flash {
             path: parts.uri.path().to_string(),
             secure: state.secure_cookies(),
         })
+    }
+}
+
+/// What the page of one stored record (a customer, a car, a build, a sheet) is asked with:
+/// the server's state, who asks, the record's id from the path and the note a save left for
+/// the page, taken in that order (so a visitor who is not signed in is sent to sign in before a
+/// bad id is answered 404). Taken apart where it is asked for, as axum's own extractors are:
+/// `RecordView(state, user, id, flash): RecordView`.
+pub struct RecordView(pub AppState, pub CurrentUser, pub i64, pub Flash);
+
+impl FromRequestParts<AppState> for RecordView {
+    type Rejection = AppError;
+
+    async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, AppError> {
+        let user = CurrentUser::from_request_parts(parts, state).await?;
+        let PathId(id) = PathId::from_request_parts(parts, state).await?;
+        let flash = Flash::from_request_parts(parts, state).await?;
+        Ok(Self(state.clone(), user, id, flash))
     }
 }
 

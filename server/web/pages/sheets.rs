@@ -18,7 +18,7 @@ use crate::records::{FieldErrors, field};
 use crate::sheet::{self, SheetFigures, SheetInputs};
 use crate::web::AppState;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm};
-use crate::web::http::flash::{self, Flash};
+use crate::web::http::flash::{self, RecordView};
 use crate::web::pages::builds::show::{EntryForm, EntryForms, render_page};
 use crate::web::pages::builds::tune::{capacity_chart, curve_start, figure_lines};
 use crate::web::pages::builds::wear;
@@ -342,12 +342,7 @@ async fn staff_page(
 
 /// GET /sheets/{id}: the shop's copy, with Print and the customer-link tools; a link just made
 /// (left by the POST that made it) is shown this once.
-pub async fn show(
-    State(state): State<AppState>,
-    user: CurrentUser,
-    PathId(id): PathId,
-    flash: Flash,
-) -> AppResult<Response> {
+pub async fn show(RecordView(state, user, id, flash): RecordView) -> AppResult<Response> {
     let new_link = flash.note.clone().filter(|a| a.contains("/s/"));
     let form = (DEFAULT_LINK_DAYS.to_string(), FieldErrors::default());
     let html = staff_page(&state, &user, id, new_link, form).await?;

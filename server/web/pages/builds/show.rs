@@ -4,7 +4,6 @@
 use crate::records::measure::Length;
 
 use askama::Template;
-use axum::extract::State;
 use axum::response::{Html, Response};
 use sqlx::SqliteConnection;
 
@@ -31,8 +30,8 @@ use crate::records::stored::{BenchSpring, BenchTest};
 use crate::records::{Ctx, FieldErrors, FormData, field};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
-use crate::web::http::extract::{CurrentUser, PathId, Viewer};
-use crate::web::http::flash::Flash;
+use crate::web::http::extract::Viewer;
+use crate::web::http::flash::RecordView;
 use crate::web::http::heavy::Caller;
 use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
 use crate::web::pages::builds::wear::{self, WearFigures, WearView};
@@ -516,12 +515,7 @@ pub fn page_title(customer_name: &str, build: &Build) -> String {
     format!("{customer_name} – {}", build_title(build))
 }
 
-pub async fn show(
-    State(state): State<AppState>,
-    user: CurrentUser,
-    PathId(id): PathId,
-    flash: Flash,
-) -> AppResult<Response> {
+pub async fn show(RecordView(state, user, id, flash): RecordView) -> AppResult<Response> {
     let html = if flash.note.is_some() {
         let mut conn = state.pool.acquire().await?;
         let forms = EntryForms {

@@ -1,7 +1,6 @@
 //! Car pages: a car with its torque curve and builds; new (under a customer) and edit.
 
 use askama::Template;
-use axum::extract::State;
 use axum::response::{Html, Response};
 
 use crate::db;
@@ -10,9 +9,7 @@ use crate::error::{AppError, AppResult};
 use crate::records::stored::Build;
 use crate::records::stored::Car;
 use crate::records::{FieldErrors, FormData};
-use crate::web::AppState;
-use crate::web::http::extract::{CurrentUser, PathId};
-use crate::web::http::flash::Flash;
+use crate::web::http::flash::RecordView;
 use crate::web::pages::layout::Layout;
 
 #[derive(Template)]
@@ -26,12 +23,7 @@ pub struct ShowPage {
     pub flash: Option<String>,
 }
 
-pub async fn show(
-    State(state): State<AppState>,
-    user: CurrentUser,
-    PathId(id): PathId,
-    flash: Flash,
-) -> AppResult<Response> {
+pub async fn show(RecordView(state, user, id, flash): RecordView) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
     let car = db::cars::by_id(&mut conn, id)
         .await?

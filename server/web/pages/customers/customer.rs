@@ -18,7 +18,7 @@ use crate::records::{FieldErrors, FormData};
 use crate::web::AppState;
 use crate::web::http::cache::PageKey;
 use crate::web::http::extract::{CurrentUser, PathId, SignedForm, Viewer};
-use crate::web::http::flash::Flash;
+use crate::web::http::flash::RecordView;
 use crate::web::pages::layout::Layout;
 
 #[derive(Debug, Default, Deserialize)]
@@ -123,12 +123,7 @@ pub struct ShowPage {
     pub flash: Option<String>,
 }
 
-pub async fn show(
-    State(state): State<AppState>,
-    user: CurrentUser,
-    PathId(id): PathId,
-    flash: Flash,
-) -> AppResult<Response> {
+pub async fn show(RecordView(state, user, id, flash): RecordView) -> AppResult<Response> {
     let mut conn = state.pool.acquire().await?;
     let customer = db::customers::by_id(&mut conn, id)
         .await?
