@@ -116,11 +116,13 @@ impl Reader {
 
 /// Build `id` with all its records, read as [`super::dossier::load`] reads them.
 pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> {
-    let build = one(conn, &stored_sql::<Build>(BUILD), id, stored)?;
+    // Both read by their primary key: one row at most.
+    let build = all(conn, &stored_sql::<Build>(BUILD), id, stored)?.pop();
     let Some(build): Option<Build> = build else {
         return Ok(None);
     };
-    let Some((car, owner)) = one(conn, &stored_sql::<Car>(CAR), build.car_id, car_with_owner)?
+    let Some((car, owner)) =
+        all(conn, &stored_sql::<Car>(CAR), build.car_id, car_with_owner)?.pop()
     else {
         return Ok(None);
     };
@@ -346,16 +348,4 @@ fn all<T>(
     read: impl FnMut(&Row) -> rusqlite::Result<T>,
 ) -> rusqlite::Result<Vec<T>> {
     prepare(conn, sql)?.query_map([key], read)?.collect()
-}
-
-/// The first row `sql` finds for `key`, if any.
-fn one<T>(
-    conn: &Connection,
-    sql: &str,
-    key: i64,
-    read: impl FnOnce(&Row) -> rusqlite::Result<T>,
-) -> rusqlite::Result<Option<T>> {
-    let mut stmt = prepare(conn, sql)?;
-    let mut rows = stmt.query([key])?;
-    rows.next()?.map(read).transpose()
 }
