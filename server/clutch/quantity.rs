@@ -176,7 +176,9 @@ impl Kind {
 
     /// A value in `units`, rounded the shop's way, without its unit ("1.905").
     pub fn number(self, units: Units, v: f64) -> String {
-        format!("{:.*}", self.decimals(units), self.to_shown(units, v))
+        let mut out = String::with_capacity(12);
+        push_fixed(&mut out, self.to_shown(units, v), self.decimals(units));
+        out
     }
 
     /// A value in `units`, rounded the shop's way, with its unit ("1.905 in", "455 lbf·ft").
@@ -193,6 +195,50 @@ impl Kind {
 pub fn counted(n: f64, one: &str, many: &str) -> String {
     let whole = n.round();
     format!("{whole:.0} {}", if whole == 1.0 { one } else { many })
+}
+
+/// Appends `v` with `decimals` digits after the point, exactly as `format!("{v:.decimals$}")`
+/// writes it (the value correctly rounded, the sign of a negative value kept even when it rounds
+/// to zero), without the formatter's general machinery: a page writes thousands of these (the
+/// figures, every point of its charts). The value scaled by 10^decimals is rounded by its
+/// fraction; within a millionth of a half, where that product's own rounding could decide, and
+/// for what is too large or not finite, the standard formatter writes it.
+pub fn push_fixed(out: &mut String, v: f64, decimals: usize) {
+    const POW10: [f64; 7] = [1.0, 10.0, 100.0, 1e3, 1e4, 1e5, 1e6];
+    const POW10_INT: [u64; 7] = [1, 10, 100, 1_000, 10_000, 100_000, 1_000_000];
+    let fast = POW10.get(decimals).and_then(|&scale| {
+        // One rounding of an exact product below 1e9: off by less than 1.2e-7.
+        let scaled = v.abs() * scale;
+        let floor = scaled.floor();
+        let frac = scaled - floor;
+        (scaled < 1e9 && (frac - 0.5).abs() > 1e-6).then(|| floor as u64 + u64::from(frac > 0.5))
+    });
+    let Some(n) = fast else {
+        use std::fmt::Write;
+        let _ = write!(out, "{v:.decimals$}");
+        return;
+    };
+    if v.is_sign_negative() {
+        out.push('-');
+    }
+    let scale = POW10_INT[decimals];
+    push_digits(out, n / scale, 1);
+    if decimals > 0 {
+        out.push('.');
+        push_digits(out, n % scale, decimals);
+    }
+}
+
+/// Appends `n` in decimal, at least `width` digits (zeros in front).
+fn push_digits(out: &mut String, mut n: u64, width: usize) {
+    let mut buf = [b'0'; 20];
+    let mut at = buf.len();
+    while n > 0 || buf.len() - at < width {
+        at -= 1;
+        buf[at] = b'0' + (n % 10) as u8;
+        n /= 10;
+    }
+    out.extend(buf[at..].iter().map(|&b| char::from(b)));
 }
 
 /// `12345.6` → `12,345.6`: thousands grouped with commas, the way the shop writes them.
@@ -440,6 +486,57 @@ pub mod limits {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    fn fixed(v: f64, decimals: usize) -> String {
+        let mut s = String::new();
+        push_fixed(&mut s, v, decimals);
+        s
+    }
+
+    /// The standard library's formatter is the reference: ties and near-ties (written by it),
+    /// values that round to zero from below, zero's sign, large and non-finite values.
+    #[test]
+    fn fixed_decimals_are_written_as_the_standard_formatter_writes_them() {
+        for (v, d) in [
+            (0.125, 2),
+            (2.5, 0),
+            (3.5, 0),
+            (0.05, 1),
+            (1.005, 2),
+            (-0.04, 1),
+            (-0.0, 1),
+            (0.0, 0),
+            (-2.5, 0),
+            (999_999.95, 1),
+            (1e12, 2),
+            (f64::NAN, 1),
+            (f64::INFINITY, 0),
+            (f64::NEG_INFINITY, 3),
+            (123.456_789, 6),
+            (0.1, 7),
+        ] {
+            assert_eq!(fixed(v, d), format!("{v:.d$}"), "{v} to {d}");
+        }
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn fixed_decimals_agree_with_the_standard_formatter(
+            v in -1e7f64..1e7,
+            scale in -9i32..4,
+            d in 0usize..7,
+        ) {
+            let v = v * 10f64.powi(scale);
+            proptest::prop_assert_eq!(fixed(v, d), format!("{v:.d$}"));
+        }
+
+        #[test]
+        fn fixed_decimals_agree_on_values_of_few_digits(m in -200_000i64..200_000, d in 0usize..5) {
+            // Values like 12.345 sit near a half of their last digit more often than random ones.
+            let v = m as f64 / 1000.0;
+            proptest::prop_assert_eq!(fixed(v, d), format!("{v:.d$}"));
+        }
+    }
 
     #[test]
     fn a_refusal_quotes_the_range_in_the_shop_units() {

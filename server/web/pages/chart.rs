@@ -493,7 +493,9 @@ fn path_of(px: &[(f64, f64)]) -> String {
     let mut d = String::with_capacity(px.len() * 14);
     for (i, (x, y)) in px.iter().enumerate() {
         d.push_str(if i == 0 { "M" } else { "L" });
-        d.push_str(&format!("{x:.1},{y:.1}"));
+        clutch::quantity::push_fixed(&mut d, *x, 1);
+        d.push(',');
+        clutch::quantity::push_fixed(&mut d, *y, 1);
     }
     d
 }
