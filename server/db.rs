@@ -86,7 +86,8 @@ fn create_private(path: &Path) -> std::io::Result<()> {
 /// the pages' small reads (sessions, the frame, lists, search) and the background tasks; a
 /// whole build is read on `read::Reader`'s own connections. Few, so that the per-connection
 /// page caches (and the thread each connection runs on) stay small: 8 here cost 16 MB of peak
-/// memory for no measured gain (DEVELOPERS.md, "SQLite and the pool").
+/// memory, for customer pages about a sixth faster and the rest the same (DEVELOPERS.md,
+/// "SQLite and the pool").
 pub const POOL_SIZE: u32 = 4;
 
 /// Every file in `migrations/`, in order, built into the binary by `sqlx::migrate!` (the build

@@ -134,8 +134,14 @@ impl AppState {
     /// so an unlucky writer could wait up to its 10 s timeout while later ones went first), and
     /// waiting writers leave the pool's connections to the readers.
     pub async fn write(&self, user: &http::extract::CurrentUser) -> Result<Write, sqlx::Error> {
+        self.write_as(user.id, &user.username).await
+    }
+
+    /// The same for the staff member `user_id` named `username`, before they have a session
+    /// (a sign-in storing their password hashed again).
+    pub async fn write_as(&self, user_id: i64, username: &str) -> Result<Write, sqlx::Error> {
         let turn = Arc::clone(&self.writers).lock_owned().await;
-        let tx = crate::db::audit::begin_as(&self.pool, Some(user.id), &user.username).await?;
+        let tx = crate::db::audit::begin_as(&self.pool, Some(user_id), username).await?;
         Ok(Write {
             tx,
             cache: Arc::clone(&self.cache),

@@ -6,9 +6,11 @@
 //! every row of every query across a channel, so a dossier (ten queries, about 150 rows at
 //! scale) costs a dozen thread wake-ups on top of SQLite's own work; on two busy cores that
 //! was most of a build page's time (DEVELOPERS.md, "Where the time goes"). Here the same
-//! queries run one after the other on one thread with cached statements. Writes, and reads inside a write's
-//! transaction, stay on sqlx (`AppState::write`): this module only reads, on connections that
-//! refuse to write (`query_only`).
+//! queries run one after the other on one thread with cached statements, in one read
+//! transaction. Writes, and reads inside a write's transaction, stay on sqlx
+//! (`AppState::write`): this module only reads, on connections opened for reading and writing
+//! (as WAL wants of a reader that may find no shared-memory file yet) that refuse to write
+//! (`query_only`).
 //!
 //! A row is read into the same records as sqlx reads it: a record's declared fields through
 //! [`super::record::set_stored`], the way [`super::record`] writes them; a test reads every
@@ -38,7 +40,7 @@ const READERS: usize = 2;
 pub struct Reader {
     path: PathBuf,
     idle: Mutex<Vec<Connection>>,
-    turns: tokio::sync::Semaphore,
+    turns: Arc<tokio::sync::Semaphore>,
 }
 
 /// Why a read failed (SQLite's own error, or the blocking thread's end).
@@ -52,26 +54,36 @@ impl Reader {
         Arc::new(Self {
             path: path.to_owned(),
             idle: Mutex::new(Vec::new()),
-            turns: tokio::sync::Semaphore::new(READERS),
+            turns: Arc::new(tokio::sync::Semaphore::new(READERS)),
         })
     }
 
-    /// Runs `read` on a blocking thread with a connection of its own, in turn.
+    /// Runs `read` on a blocking thread with a connection of its own, in turn, inside one read
+    /// transaction (so its queries see one state of the file). The turn is held by the blocking
+    /// work itself, so a request given up while it reads frees no turn early.
     pub async fn read<T, F>(self: &Arc<Self>, read: F) -> Result<T, ReadError>
     where
         T: Send + 'static,
         F: FnOnce(&Connection) -> rusqlite::Result<T> + Send + 'static,
     {
-        let _turn = self
-            .turns
-            .acquire()
+        let turn = Arc::clone(&self.turns)
+            .acquire_owned()
             .await
             .map_err(|e| ReadError(e.to_string()))?;
         let me = Arc::clone(self);
         tokio::task::spawn_blocking(move || {
+            let _turn = turn;
             let conn = me.connection()?;
-            let out = read(&conn);
-            me.idle.lock().unwrap_or_else(|e| e.into_inner()).push(conn);
+            let out = conn.unchecked_transaction().and_then(|tx| {
+                let out = read(&tx)?;
+                tx.commit()?;
+                Ok(out)
+            });
+            // At most one idle connection a turn: never more than `READERS` are kept.
+            let mut idle = me.idle.lock().unwrap_or_else(|e| e.into_inner());
+            if idle.len() < READERS {
+                idle.push(conn);
+            }
             out.map_err(|e| ReadError(e.to_string()))
         })
         .await
@@ -194,7 +206,11 @@ fn cell(v: ValueRef<'_>) -> Cell {
         ValueRef::Null => Cell::Null,
         ValueRef::Integer(i) => Cell::Integer(i),
         ValueRef::Real(r) => Cell::Real(r),
-        ValueRef::Text(t) => Cell::Text(String::from_utf8_lossy(t).into_owned()),
+        ValueRef::Text(t) => match std::str::from_utf8(t) {
+            Ok(t) => Cell::Text(t.to_owned()),
+            // Not text as sqlx would read it: refused by the field as a blob would be.
+            Err(_) => Cell::Blob(t.to_vec()),
+        },
         ValueRef::Blob(b) => Cell::Blob(b.to_vec()),
     }
 }
@@ -219,18 +235,21 @@ fn car_with_owner(row: &Row) -> rusqlite::Result<(Car, BuildOwner)> {
     Ok((car, owner))
 }
 
-/// The [`StoredRow`] of a record whose leading columns are `$leading` in all, its own named
-/// first (read by name: the query lists them as `x.<name>`).
+/// The [`StoredRow`] of a record whose leading columns are `$leading` in all, its own first,
+/// in the order its query lists them.
 macro_rules! stored_row {
     ($row:ty, $input:ty, $leading:literal: $($own:ident),+) => {
         impl StoredRow for $row {
             type Input = $input;
             const LEADING: usize = $leading;
             fn assemble(row: &Row, data: Self::Input) -> rusqlite::Result<Self> {
-                Ok(Self {
-                    $($own: row.get(stringify!($own))?,)+
-                    data,
-                })
+                let mut at = 0;
+                $(
+                    let $own = row.get(at)?;
+                    at += 1;
+                )+
+                debug_assert!(at <= Self::LEADING);
+                Ok(Self { $($own,)+ data })
             }
         }
     };

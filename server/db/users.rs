@@ -96,6 +96,26 @@ pub async fn set_display_name(
     Ok(())
 }
 
+/// Replaces user `id`'s password hash `old` with `new`; false (and nothing changed) when the
+/// stored hash is no longer `old`.
+pub async fn replace_password_hash(
+    conn: &mut SqliteConnection,
+    id: i64,
+    old: &str,
+    new: &str,
+) -> sqlx::Result<bool> {
+    let done = sqlx::query(
+        "UPDATE users SET password_hash = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%SZ', 'now')
+         WHERE id = ? AND password_hash = ?",
+    )
+    .bind(new)
+    .bind(id)
+    .bind(old)
+    .execute(conn)
+    .await?;
+    Ok(done.rows_affected() == 1)
+}
+
 pub async fn set_password(
     conn: &mut SqliteConnection,
     id: i64,

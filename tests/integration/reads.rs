@@ -2,6 +2,7 @@
 //! transaction uses (`db::dossier::load`, through sqlx): the same records, to the last bit.
 
 use lockpoint::db;
+use lockpoint::records::pass::PassInput;
 
 use crate::support::TestApp;
 
@@ -16,6 +17,23 @@ async fn the_pages_read_every_dossier_as_the_writes_read_it() {
         .await
         .unwrap();
     assert!(ids.len() >= 3, "the demo shop has builds: {ids:?}");
+    // One build with more passes than a dossier loads, so that the count is compared too:
+    // its first pass copied, a day apart each.
+    let columns: Vec<&str> = lockpoint::records::field::columns::<PassInput>()
+        .filter(|c| *c != "run_on")
+        .collect();
+    let copied = columns.join(", ");
+    sqlx::query(sqlx::AssertSqlSafe(format!(
+        "WITH RECURSIVE n(k) AS (SELECT 1 UNION ALL SELECT k + 1 FROM n WHERE k < ?2)
+         INSERT INTO passes (build_id, user_id, run_on, {copied})
+         SELECT p.build_id, p.user_id, date('2020-01-01', '+' || n.k || ' days'), {copied}
+         FROM passes p, n WHERE p.id = (SELECT min(id) FROM passes WHERE build_id = ?1)"
+    )))
+    .bind(ids[0])
+    .bind(db::dossier::PASSES_LOADED as i64)
+    .execute(&mut *conn)
+    .await
+    .unwrap();
     // A customer in the bin: their builds are not read.
     sqlx::query(
         "UPDATE customers SET deleted_at = '2026-12-01T00:00:00Z'
@@ -35,6 +53,7 @@ async fn the_pages_read_every_dossier_as_the_writes_read_it() {
     .unwrap();
     assert!(live < ids.len() as i64);
     let mut compared = 0;
+    let mut long = false;
     // How many of the compared dossiers hold each kind of record: every kind is compared.
     let mut held = [0; 6];
     for id in ids.iter().copied().chain([i64::MAX]) {
@@ -47,6 +66,7 @@ async fn the_pages_read_every_dossier_as_the_writes_read_it() {
         );
         if let Some(d) = by_read {
             compared += 1;
+            long |= d.passes_total > d.passes.len() as i64;
             let kinds = [
                 d.setups.len(),
                 d.bench.iter().map(|t| t.springs.len()).sum(),
@@ -63,6 +83,10 @@ async fn the_pages_read_every_dossier_as_the_writes_read_it() {
     assert_eq!(
         compared, live,
         "the binned customer's builds are gone both ways"
+    );
+    assert!(
+        long,
+        "a build with more passes than are loaded was compared"
     );
     assert!(
         held.iter().all(|&n| n > 0),

@@ -398,8 +398,16 @@ async fn a_password_hashed_with_older_parameters_is_hashed_again_at_sign_in() {
     assert_eq!(stored().await, old, "a failed sign-in stores nothing");
     let right = sign_in(&app, "sam", PASSWORD, 2).await;
     assert_eq!(right.status, StatusCode::SEE_OTHER, "{}", right.body);
+    assert!(right.headers.contains_key(header::SET_COOKIE), "signed in");
     let new = stored().await;
     assert!(new.starts_with("$argon2id$v=19$m=7168,t=5,p=1$"), "{new}");
+    // The change is in the history under sam's own name (not whoever wrote last).
+    let (who, table): (String, String) =
+        sqlx::query_as("SELECT username, table_name FROM audit_log ORDER BY id DESC LIMIT 1")
+            .fetch_one(&app.pool)
+            .await
+            .unwrap();
+    assert_eq!((who.as_str(), table.as_str()), ("sam", "users"));
     let again = sign_in(&app, "sam", PASSWORD, 3).await;
     assert_eq!(again.status, StatusCode::SEE_OTHER);
     assert_eq!(stored().await, new, "a current hash is kept as it is");

@@ -1,18 +1,14 @@
 //! The counter's front page: find a customer fast, see what happened lately, and the work due.
 
 use std::collections::HashMap;
-use std::sync::Arc;
 
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
 use axum::response::Html;
-use sqlx::SqliteConnection;
 
-use crate::backup::scheduler::Backups;
 use crate::db;
 use crate::db::activity::Activity;
 use crate::db::customers::{CustomerSummary, Order};
-use crate::db::read::Reader;
 use crate::error::AppResult;
 use crate::model::due::{Due, DueReason, WorkStatus};
 use crate::records::date::ShopZone;
@@ -156,30 +152,31 @@ pub async fn front(
     RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
     let key = PageKey::Counter(raw.unwrap_or_default());
-    let (pool, reader, backups) = (&state.pool, &state.reader, &state.backups);
     // The backup notice is part of the page kept for the role: every change to what it says
     // moves the cache's generation on (see `AppState::with_backups`).
-    let render = |stand_in: Viewer| async move {
-        let mut conn = pool.acquire().await?;
-        render_front(&mut conn, reader, &stand_in, q, backups).await
-    };
+    let state_ref = &state;
+    let render = |stand_in: Viewer| async move { render_front(state_ref, &stand_in, q).await };
     Ok(Html(state.cache.page(key, &user, render).await?))
 }
 
 /// The counter for the search `q`, and the shop's zone it was rendered in.
 async fn render_front(
-    conn: &mut SqliteConnection,
-    reader: &Arc<Reader>,
+    state: &AppState,
     user: &Viewer,
     q: ListQuery,
-    backups: &Backups,
 ) -> AppResult<(String, ShopZone)> {
-    let (page, settings) = Layout::load(conn, user, "home", "Counter").await?;
+    // The search first: no pooled connection is held while it waits for its reader.
     let (found, found_total) = if q.q.trim().is_empty() {
         (Vec::new(), 0)
     } else {
-        reader.search(&q.q, 0, Order::from_query(&q.sort)).await?
+        (state.reader)
+            .search(&q.q, 0, Order::from_query(&q.sort))
+            .await?
     };
+    let mut conn = state.pool.acquire().await?;
+    let conn = &mut *conn;
+    let backups = &state.backups;
+    let (page, settings) = Layout::load(conn, user, "home", "Counter").await?;
     let recent = db::activity::recent(conn, 12).await?;
     let due = status::work_due(conn, &settings).await?;
     let ids: Vec<i64> = due.iter().map(|d| d.build_id).collect();

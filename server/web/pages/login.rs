@@ -190,9 +190,13 @@ pub async fn submit(
     let usable = user.as_ref().filter(|u| !u.disabled);
     let stored = usable.map(|u| u.password_hash.clone());
     let ok = auth::verify_password_or_dummy(password.clone(), stored).await;
-    // A hash made with older parameters is made again with today's, in the same turn.
+    // A hash made with older parameters is made again with today's, in the same turn; a sign-in
+    // whose hash cannot be made again still signs in.
     let rehashed = match usable.filter(|u| ok && auth::needs_rehash(&u.password_hash)) {
-        Some(_) => Some(auth::hash_password(password).await?),
+        Some(_) => auth::hash_password(password)
+            .await
+            .inspect_err(|e| tracing::warn!("a sign-in's password could not be hashed again: {e}"))
+            .ok(),
         None => None,
     };
     drop(slot);
@@ -215,10 +219,12 @@ pub async fn submit(
     let mut conn = state.pool.acquire().await?;
     db::sessions::create(&mut conn, &auth::hash_secret(&token), user.id, &csrf).await?;
     db::throttle::clear(&mut conn, &name).await?;
-    if let Some(hash) = rehashed {
-        db::users::set_password(&mut conn, user.id, &hash).await?;
-    }
     drop(conn);
+    if let Some(hash) = rehashed
+        && let Err(e) = store_rehash(&state, user, &hash).await
+    {
+        tracing::warn!("a sign-in's password hashed again could not be stored: {e}");
+    }
     let cookie = session_cookie(
         &token,
         db::sessions::LIFETIME_DAYS * 86_400,
@@ -229,6 +235,16 @@ pub async fn submit(
         Redirect::to(safe_next(&next)),
     )
         .into_response())
+}
+
+/// Stores `hash`, the password `user` has just signed in with hashed under today's parameters,
+/// in place of the hash it was checked against: a write of its own in the writers' queue,
+/// audited under the user's own name, and only while that hash is still the stored one (a
+/// password changed meanwhile stays changed).
+async fn store_rehash(state: &AppState, user: &db::users::User, hash: &str) -> sqlx::Result<()> {
+    let mut write = state.write_as(user.id, &user.username).await?;
+    db::users::replace_password_hash(&mut write, user.id, &user.password_hash, hash).await?;
+    write.commit().await
 }
 
 /// Runs until the server stops: every few seconds deletes the throttle rows whose window has

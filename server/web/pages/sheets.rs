@@ -286,8 +286,7 @@ pub async fn create(
             sheet: Some(EntryForm { form, errors }),
             ..Default::default()
         };
-        let mut conn = state.pool.acquire().await?;
-        let html = render_page(&state, &mut conn, &user.viewer(), build_id, forms)
+        let html = render_page(&state, &user.viewer(), build_id, forms)
             .await?
             .0;
         return Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response());

@@ -93,10 +93,7 @@ impl Entry {
             Which::Height => forms.height = entry,
             Which::Pass => forms.pass = entry,
         }
-        let mut conn = state.pool.acquire().await?;
-        let html = render_page(state, &mut conn, &self.user.viewer(), id, forms)
-            .await?
-            .0;
+        let html = render_page(state, &self.user.viewer(), id, forms).await?.0;
         Ok((StatusCode::UNPROCESSABLE_ENTITY, Html(html)).into_response())
     }
 }

@@ -5,7 +5,6 @@ use crate::records::measure::Length;
 
 use askama::Template;
 use axum::response::{Html, Response};
-use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::sheets::SheetSummary;
@@ -369,12 +368,14 @@ pub const RECENT_ROWS: usize = 20;
 /// Answers the page and the shop's zone it was rendered in.
 pub async fn render_page(
     state: &AppState,
-    conn: &mut SqliteConnection,
     user: &Viewer,
     id: i64,
     forms: EntryForms,
 ) -> AppResult<(String, ShopZone)> {
+    // The dossier first: no pooled connection is held while it waits for its reader.
     let d = state.reader.dossier(id).await?.ok_or(AppError::NotFound)?;
+    let mut conn = state.pool.acquire().await?;
+    let conn = &mut *conn;
     let title = page_title(&d.owner.customer_name, &d.build);
     let (page, settings) = Layout::load(conn, user, "customers", title).await?;
     let now = BuildAsOf::now(&d, &settings);
@@ -517,19 +518,15 @@ pub fn page_title(customer_name: &str, build: &Build) -> String {
 
 pub async fn show(RecordView(state, user, id, flash): RecordView) -> AppResult<Response> {
     let html = if flash.note.is_some() {
-        let mut conn = state.pool.acquire().await?;
         let forms = EntryForms {
             flash: flash.note.clone(),
             ..EntryForms::default()
         };
-        render_page(&state, &mut conn, &user.viewer(), id, forms)
-            .await?
-            .0
+        render_page(&state, &user.viewer(), id, forms).await?.0
     } else {
         let state_ref = &state;
         let render = |stand_in: Viewer| async move {
-            let mut conn = state_ref.pool.acquire().await?;
-            render_page(state_ref, &mut conn, &stand_in, id, EntryForms::default()).await
+            render_page(state_ref, &stand_in, id, EntryForms::default()).await
         };
         state.cache.page(PageKey::Build(id), &user, render).await?
     };

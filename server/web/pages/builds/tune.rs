@@ -7,7 +7,6 @@ use std::collections::HashMap;
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
 use axum::response::Html;
-use sqlx::SqliteConnection;
 
 use crate::error::{AppError, AppResult};
 use crate::model::as_of::{BuildAsOf, Friction};
@@ -176,8 +175,7 @@ pub async fn tune(
     let key = PageKey::Tune(id, raw.unwrap_or_default());
     let (state_ref, caller) = (&state, &caller);
     let render = |stand_in: Viewer| async move {
-        let mut conn = state_ref.pool.acquire().await?;
-        render_tune(state_ref, caller, &mut conn, &stand_in, id, query).await
+        render_tune(state_ref, caller, &stand_in, id, query).await
     };
     Ok(Html(state.cache.page(key, &user, render).await?))
 }
@@ -186,13 +184,16 @@ pub async fn tune(
 async fn render_tune(
     state: &AppState,
     caller: &Caller,
-    conn: &mut SqliteConnection,
     user: &Viewer,
     id: i64,
     query: HashMap<String, String>,
 ) -> AppResult<(String, ShopZone)> {
+    // The dossier first: no pooled connection is held while it waits for its reader.
     let dossier = state.reader.dossier(id).await?.ok_or(AppError::NotFound)?;
-    let (page, settings) = Layout::load(conn, user, "customers", "Capacity and tuning").await?;
+    let mut conn = state.pool.acquire().await?;
+    let (page, settings) =
+        Layout::load(&mut conn, user, "customers", "Capacity and tuning").await?;
+    drop(conn);
     // The calibration, the recommendation's search and the launch simulations: heavy work,
     // in the caller's turn, off the other requests' way.
     state

@@ -1,16 +1,12 @@
 //! Customer pages: the searchable list, a customer's page with their cars, new and edit.
 
-use std::sync::Arc;
-
 use askama::Template;
 use axum::extract::{Query, RawQuery, State};
 use axum::response::{Html, IntoResponse, Redirect, Response};
 use serde::Deserialize;
-use sqlx::SqliteConnection;
 
 use crate::db;
 use crate::db::customers::{Customer, CustomerSummary, Order};
-use crate::db::read::Reader;
 use crate::error::{AppError, AppResult};
 use crate::records::date::ShopZone;
 use crate::records::stored::Car;
@@ -79,25 +75,23 @@ pub async fn list(
     RawQuery(raw): RawQuery,
 ) -> AppResult<Html<String>> {
     let key = PageKey::Customers(raw.unwrap_or_default());
-    let (pool, reader) = (&state.pool, &state.reader);
-    let render = |stand_in: Viewer| async move {
-        let mut conn = pool.acquire().await?;
-        render_list(&mut conn, reader, &stand_in, q).await
-    };
+    let state_ref = &state;
+    let render = |stand_in: Viewer| async move { render_list(state_ref, &stand_in, q).await };
     Ok(Html(state.cache.page(key, &user, render).await?))
 }
 
 /// One page of the customer list or of a search, and the shop's zone it was rendered in.
 async fn render_list(
-    conn: &mut SqliteConnection,
-    reader: &Arc<Reader>,
+    state: &AppState,
     user: &Viewer,
     q: ListQuery,
 ) -> AppResult<(String, ShopZone)> {
-    let (page, _) = Layout::load(conn, user, "customers", "Customers").await?;
     let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
     let order = Order::from_query(&q.sort);
-    let (rows, total) = reader.search(&q.q, page_no, order).await?;
+    // The search first: no pooled connection is held while it waits for its reader.
+    let (rows, total) = state.reader.search(&q.q, page_no, order).await?;
+    let mut conn = state.pool.acquire().await?;
+    let (page, _) = Layout::load(&mut conn, user, "customers", "Customers").await?;
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     let zone = page.zone.clone();
     let html = ListPage {
