@@ -5,18 +5,19 @@ use sqlx::SqliteConnection;
 
 use crate::records::stored::KeptLaunchFit;
 
+/// The kept fits of a build's passes, by build id (also read by `db::read`).
+pub(super) const FOR_BUILD: &str = "SELECT f.pass_id, f.inputs, f.mu, f.lockup_rpm, f.note
+     FROM pass_launch_fits f JOIN passes p ON p.id = f.pass_id WHERE p.build_id = ?";
+
 /// The kept fits of a build's passes.
 pub async fn for_build(
     conn: &mut SqliteConnection,
     build_id: i64,
 ) -> sqlx::Result<Vec<KeptLaunchFit>> {
-    sqlx::query_as(
-        "SELECT f.pass_id, f.inputs, f.mu, f.lockup_rpm, f.note FROM pass_launch_fits f
-         JOIN passes p ON p.id = f.pass_id WHERE p.build_id = ?",
-    )
-    .bind(build_id)
-    .fetch_all(conn)
-    .await
+    sqlx::query_as(FOR_BUILD)
+        .bind(build_id)
+        .fetch_all(conn)
+        .await
 }
 
 /// Replaces a build's kept fits with `fits` (those of its passes the whole launch can read).

@@ -8,7 +8,8 @@ use sqlx::SqliteConnection;
 use crate::records::stored::LogSummary;
 use clutch::datalog::request::{LogResult, LogSettings};
 
-const SUMMARY: &str =
+/// The figures of a log the pages list, from `pass_logs l` (also read by `db::read`).
+pub(super) const SUMMARY: &str =
     "l.pass_id, l.file_name, l.file_bytes, l.sample_rate_hz, l.launch_s, l.lockup_s,
      l.lockup_engine_rpm, l.slip_energy_j, l.peak_slip_power_w, l.slip_window, l.created_at";
 

@@ -159,8 +159,8 @@ pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> 
         heights: all(conn, &stored_sql::<Height>(HEIGHTS), build.id, stored)?,
         passes,
         passes_total,
-        logs: all(conn, LOGS, build.id, log_summary)?,
-        launch_fits: all(conn, FITS, build.id, launch_fit)?,
+        logs: all(conn, &logs_sql(), build.id, log_summary)?,
+        launch_fits: all(conn, super::launch_fits::FOR_BUILD, build.id, launch_fit)?,
         build,
     }))
 }
@@ -318,9 +318,13 @@ fn bench(conn: &Connection, build_id: i64) -> rusqlite::Result<Vec<BenchTest>> {
     Ok(tests)
 }
 
-const LOGS: &str = "SELECT l.pass_id, l.file_name, l.file_bytes, l.sample_rate_hz, l.launch_s,
-     l.lockup_s, l.lockup_engine_rpm, l.slip_energy_j, l.peak_slip_power_w, l.slip_window,
-     l.created_at FROM pass_logs l JOIN passes p ON p.id = l.pass_id WHERE p.build_id = ?";
+/// A build's logs: the figures `db::pass_logs` lists.
+fn logs_sql() -> String {
+    format!(
+        "SELECT {} FROM pass_logs l JOIN passes p ON p.id = l.pass_id WHERE p.build_id = ?",
+        super::pass_logs::SUMMARY
+    )
+}
 
 fn log_summary(r: &Row) -> rusqlite::Result<LogSummary> {
     Ok(LogSummary {
@@ -337,9 +341,6 @@ fn log_summary(r: &Row) -> rusqlite::Result<LogSummary> {
         created_at: r.get(10)?,
     })
 }
-
-const FITS: &str = "SELECT f.pass_id, f.inputs, f.mu, f.lockup_rpm, f.note FROM pass_launch_fits f
-     JOIN passes p ON p.id = f.pass_id WHERE p.build_id = ?";
 
 fn launch_fit(r: &Row) -> rusqlite::Result<KeptLaunchFit> {
     Ok(KeptLaunchFit {
