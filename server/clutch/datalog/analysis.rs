@@ -267,13 +267,22 @@ impl ClockRule {
 /// units line says so), when its median step is 0.5 or more, or when it spans more than
 /// [`MS_SPAN`]; otherwise seconds.
 pub fn clock_rule(time: &[f64], named_ms: bool) -> ClockRule {
-    let span = match (time.first(), time.last()) {
+    clock_rule_of(median_step(time), span(time), named_ms)
+}
+
+/// The time a clock spans, last sample less first (0 when empty).
+pub fn span(time: &[f64]) -> f64 {
+    match (time.first(), time.last()) {
         (Some(a), Some(b)) => b - a,
         _ => 0.0,
-    };
+    }
+}
+
+/// [`clock_rule`] of a clock whose median step and span the caller already has.
+pub fn clock_rule_of(step: f64, span: f64, named_ms: bool) -> ClockRule {
     if named_ms {
         ClockRule::Named
-    } else if median_step(time) >= 0.5 {
+    } else if step >= 0.5 {
         ClockRule::Step
     } else if span > MS_SPAN {
         ClockRule::Span
@@ -458,11 +467,11 @@ pub fn hold_samples(dt: f64) -> usize {
 
 /// The launch: the clutch switch's first change of state (≥ 0.5 counts as on) that holds for
 /// [`hold_samples`], if there is a switch, else the first run of [`hold_samples`] samples of
-/// input speed above [`LAUNCH_RPM`], moved back to zero input speed. Field
-/// `columns.clutch_switch` or `columns.input_rpm` when none is found.
-pub fn find_launch(series: &Series) -> Result<f64, InputError> {
+/// input speed above [`LAUNCH_RPM`], moved back to zero input speed; `step` is the clock's
+/// [`median_step`]. Field `columns.clutch_switch` or `columns.input_rpm` when none is found.
+pub fn find_launch(series: &Series, step: f64) -> Result<f64, InputError> {
     let t = &series.time_s;
-    let hold = hold_samples(median_step(t));
+    let hold = hold_samples(step);
     if let Some(sw) = &series.clutch_switch {
         let on = |v: f64| v >= 0.5;
         let first = on(sw[0]);
@@ -577,9 +586,9 @@ pub fn value_at(time: &[f64], v: &[f64], at: f64) -> f64 {
 }
 
 /// Intervals where κ = (v_driven − v_undriven)/max(v_undriven, 0.5 m/s) exceeds
-/// [`SPIN_EXCESS`] for at least [`SPIN_MIN_S`], as [first, last] sample times.
-pub fn tire_spin(time: &[f64], driven: &[f64], undriven: &[f64]) -> Vec<[f64; 2]> {
-    let dt = median_step(time);
+/// [`SPIN_EXCESS`] for at least [`SPIN_MIN_S`], as [first, last] sample times; `dt` is the
+/// clock's [`median_step`].
+pub fn tire_spin(time: &[f64], dt: f64, driven: &[f64], undriven: &[f64]) -> Vec<[f64; 2]> {
     let mut out = Vec::new();
     let mut start: Option<usize> = None;
     let spinning =
@@ -683,7 +692,9 @@ pub fn analyze(
         .zip(&series.input_rpm)
         .map(|(&e, &i)| slip_pct(e, i))
         .collect();
-    let launch_s = find_launch(series)?;
+    // The clock's own median step, asked once (`dt` is the step it was put on).
+    let step = median_step(t);
+    let launch_s = find_launch(series, step)?;
     let (lockup_s, _, last) = find_lockup(t, &slip, launch_s, rule).ok_or_else(|| {
         InputError::new(
             "columns.input_rpm",
@@ -742,7 +753,7 @@ pub fn analyze(
     };
     let tire_spin = match (&series.driven_mps, &series.undriven_mps) {
         (Some(d), Some(u)) => {
-            let mut spin = tire_spin(t, d, u);
+            let mut spin = tire_spin(t, step, d, u);
             if spin.len() > SPIN_MAX_INTERVALS {
                 notes.push(format!(
                     "The tires spun {} times; the first {SPIN_MAX_INTERVALS} are listed.",

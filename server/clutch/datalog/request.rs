@@ -450,22 +450,25 @@ impl ValidLog {
             || time_col
                 .and_then(|i| cols.layout.unit_names.get(i))
                 .is_some_and(|u| analysis::names_ms(u));
-        let clock = match self.time_unit {
-            TimeUnit::Auto => Some(analysis::clock_rule(&time, named_ms)),
+        // The clock as logged: its median step and span, worked out once for the rule and
+        // its note.
+        let logged = match self.time_unit {
+            TimeUnit::Auto => Some((analysis::median_step(&time), analysis::span(&time))),
             TimeUnit::S | TimeUnit::Ms => None,
         };
+        let clock = logged.map(|(step, span)| analysis::clock_rule_of(step, span, named_ms));
         let ms = match self.time_unit {
             TimeUnit::Auto => clock.is_some_and(|c| c.is_ms()),
             TimeUnit::S => false,
             TimeUnit::Ms => true,
         };
-        let clock_note = clock.map(|c| {
+        let clock_note = clock.zip(logged).map(|(c, (step, span))| {
             let short = |v: f64| {
                 let s = format!("{v:.6}");
                 s.trim_end_matches('0').trim_end_matches('.').to_string()
             };
-            let step = short(analysis::median_step(&time));
-            let span = short(time[time.len() - 1] - time[0]);
+            let step = short(step);
+            let span = short(span);
             match c {
                 analysis::ClockRule::Named => "The time column was read in milliseconds: its header or units line names ms.".to_string(),
                 analysis::ClockRule::Step => format!("The time column was read in milliseconds: its median step, {step}, is 0.5 or more (a logger in seconds steps by less)."),
