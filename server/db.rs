@@ -58,6 +58,9 @@ pub async fn open(path: &Path) -> Result<SqlitePool, sqlx::Error> {
         .max_connections(POOL_SIZE)
         .min_connections(1)
         .idle_timeout(Duration::from_secs(60))
+        // A connection to a local file does not go stale: no ping (a round trip to the
+        // connection's worker thread) before each use.
+        .test_before_acquire(false)
         .connect_with(options)
         .await?;
     MIGRATOR.run(&pool).await?;

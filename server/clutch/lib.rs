@@ -27,6 +27,8 @@ pub mod units;
 /// Disc wear from cover-height measurements and the shim stack.
 pub mod wear;
 
+use std::fmt::Display;
+
 /// A value the caller gave is missing, out of range or inconsistent.
 ///
 /// `field` is the JSON path of the offending value (`"springs.rate"`,
@@ -52,21 +54,31 @@ impl InputError {
     }
 }
 
-/// `value` if it is a finite number, else an error naming `field`.
-pub fn require_finite(field: &str, value: f64) -> Result<f64, InputError> {
+/// `value` if it is a finite number, else an error naming `field`. Field names are
+/// `impl Display` so that a list's checks can name an item (`format_args!("{list}[{i}]")`)
+/// without writing the name out unless it fails.
+pub fn require_finite(field: impl Display + Copy, value: f64) -> Result<f64, InputError> {
     if value.is_finite() {
         Ok(value)
     } else {
-        Err(InputError::new(field, "must be a finite number"))
+        Err(InputError::new(
+            field.to_string(),
+            "must be a finite number",
+        ))
     }
 }
 
 /// `value` if it is finite and `min <= value <= max`, else an error naming `field`.
-pub fn require_range(field: &str, value: f64, min: f64, max: f64) -> Result<f64, InputError> {
+pub fn require_range(
+    field: impl Display + Copy,
+    value: f64,
+    min: f64,
+    max: f64,
+) -> Result<f64, InputError> {
     require_finite(field, value)?;
     if value < min || value > max {
         return Err(InputError::new(
-            field,
+            field.to_string(),
             format!("must be between {min} and {max} (got {value})"),
         ));
     }
@@ -74,11 +86,15 @@ pub fn require_range(field: &str, value: f64, min: f64, max: f64) -> Result<f64,
 }
 
 /// `value` if it is finite and `0 < value <= max`, else an error naming `field`.
-pub fn require_positive(field: &str, value: f64, max: f64) -> Result<f64, InputError> {
+pub fn require_positive(
+    field: impl Display + Copy,
+    value: f64,
+    max: f64,
+) -> Result<f64, InputError> {
     require_finite(field, value)?;
     if value <= 0.0 || value > max {
         return Err(InputError::new(
-            field,
+            field.to_string(),
             format!("must be greater than 0 and at most {max} (got {value})"),
         ));
     }

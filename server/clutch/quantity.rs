@@ -7,6 +7,7 @@
 
 use crate::InputError;
 use crate::units::Units;
+use std::fmt::Display;
 
 /// The physical kind of a number, which fixes its internal unit and how it is shown.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -201,17 +202,29 @@ pub fn counted(n: f64, one: &str, many: &str) -> String {
 /// writes it (the value correctly rounded, the sign of a negative value kept even when it rounds
 /// to zero), without the formatter's general machinery: a page writes thousands of these (the
 /// figures, every point of its charts). The value scaled by 10^decimals is rounded by its
-/// fraction; within a millionth of a half, where that product's own rounding could decide, and
-/// for what is too large or not finite, the standard formatter writes it.
+/// fraction, and within a millionth of a half by the product's exact error; what is too large or
+/// not finite the standard formatter writes.
 pub fn push_fixed(out: &mut String, v: f64, decimals: usize) {
     const POW10: [f64; 7] = [1.0, 10.0, 100.0, 1e3, 1e4, 1e5, 1e6];
     const POW10_INT: [u64; 7] = [1, 10, 100, 1_000, 10_000, 100_000, 1_000_000];
     let fast = POW10.get(decimals).and_then(|&scale| {
         // One rounding of an exact product below 1e9: off by less than 1.2e-7.
-        let scaled = v.abs() * scale;
+        let a = v.abs();
+        let scaled = a * scale;
+        if !(scaled < 1e9) {
+            return None;
+        }
         let floor = scaled.floor();
         let frac = scaled - floor;
-        (scaled < 1e9 && (frac - 0.5).abs() > 1e-6).then(|| floor as u64 + u64::from(frac > 0.5))
+        let n = floor as u64;
+        if (frac - 0.5).abs() > 1e-6 {
+            return Some(n + u64::from(frac > 0.5));
+        }
+        // Near a half the product's own rounding could decide: its error, exactly (one fused
+        // multiply-add), says on which side of the half the exact value lies; an exact half
+        // goes to the even neighbour, as the standard formatter rounds it.
+        let side = (frac - 0.5) + a.mul_add(scale, -scaled);
+        Some(n + u64::from(side > 0.0 || (side == 0.0 && n % 2 == 1)))
     });
     let Some(n) = fast else {
         use std::fmt::Write;
@@ -343,16 +356,22 @@ impl Limit {
 
     /// `v` (internal units) if it is inside the range, else an error naming `field` with the
     /// message in `units` (for the calculation API, whose numbers are in the request's units).
-    pub fn check(&self, field: &str, v: f64, units: Units) -> Result<f64, InputError> {
+    /// `field` is written out only when the check fails (see [`crate::require_finite`]).
+    pub fn check(&self, field: impl Display, v: f64, units: Units) -> Result<f64, InputError> {
         if self.admits(v) {
             Ok(v)
         } else {
-            Err(InputError::new(field, self.message(units)))
+            Err(InputError::new(field.to_string(), self.message(units)))
         }
     }
 
     /// Like [`Limit::check`] for a value given in `units` (converted first).
-    pub fn check_shown(&self, field: &str, shown: f64, units: Units) -> Result<f64, InputError> {
+    pub fn check_shown(
+        &self,
+        field: impl Display,
+        shown: f64,
+        units: Units,
+    ) -> Result<f64, InputError> {
         self.check(field, self.kind.from_shown(units, shown), units)
     }
 }
@@ -514,6 +533,13 @@ mod tests {
             (f64::NEG_INFINITY, 3),
             (123.456_789, 6),
             (0.1, 7),
+            (0.375, 2),
+            (12.25, 1),
+            (12.75, 1),
+            (0.15, 1),
+            (2.675, 2),
+            (1.000_000_5, 6),
+            (-0.125, 2),
         ] {
             assert_eq!(fixed(v, d), format!("{v:.d$}"), "{v} to {d}");
         }
@@ -534,6 +560,21 @@ mod tests {
         fn fixed_decimals_agree_on_values_of_few_digits(m in -200_000i64..200_000, d in 0usize..5) {
             // Values like 12.345 sit near a half of their last digit more often than random ones.
             let v = m as f64 / 1000.0;
+            proptest::prop_assert_eq!(fixed(v, d), format!("{v:.d$}"));
+        }
+
+        #[test]
+        fn fixed_decimals_agree_at_exact_halves_and_a_few_ulps_off_them(
+            m in -2_000_000i64..2_000_000,
+            j in 1u32..8,
+            d in 0usize..5,
+            ulps in -3i64..4,
+        ) {
+            // m / 2^j is an exact half at some number of decimals (0.125 at 2, 12.5 at 0); a
+            // few units in the last place either side lie just off it.
+            proptest::prop_assume!(m != 0);
+            let half = m as f64 / f64::from(1u32 << j);
+            let v = f64::from_bits(half.to_bits().wrapping_add_signed(ulps));
             proptest::prop_assert_eq!(fixed(v, d), format!("{v:.d$}"));
         }
     }

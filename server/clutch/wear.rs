@@ -121,7 +121,7 @@ pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
         req.disc_wear_allowance,
     )?;
     for (i, &s) in req.shims.iter().enumerate() {
-        shown(limits::SHIM, &format!("shims[{i}]"), s)?;
+        limits::SHIM.check_shown(format_args!("shims[{i}]"), s, u)?;
     }
     limits::SPRING_COUNT.check("spring_count", req.spring_count as f64, u)?;
     let rate = shown(limits::SPRING_RATE, "spring_rate", req.spring_rate)?;
@@ -135,10 +135,10 @@ pub fn analyze(req: &WearRequest) -> Result<WearReport, InputError> {
     let mut points = Vec::with_capacity(req.measurements.len());
     let mut prev: Option<&Measurement> = None;
     for (i, m) in req.measurements.iter().enumerate() {
-        shown(
-            limits::COVER_HEIGHT,
-            &format!("measurements[{i}].cover_height"),
+        limits::COVER_HEIGHT.check_shown(
+            format_args!("measurements[{i}].cover_height"),
             m.cover_height,
+            u,
         )?;
         if m.shims_pulled as usize > req.shims.len() {
             return Err(InputError::new(

@@ -42,8 +42,8 @@ pub fn rate_from_points(
     let rate = match (xy.as_slice(), fit) {
         ([], _) => return Err(InputError::new(field, "needs at least one bench point")),
         ([(x, f)], _) => {
-            let x = crate::require_positive(&format!("{field}[0].compression"), *x, 1e4)?;
-            crate::require_finite(&format!("{field}[0].force"), *f)? / x
+            let x = crate::require_positive(format_args!("{field}[0].compression"), *x, 1e4)?;
+            crate::require_finite(format_args!("{field}[0].force"), *f)? / x
         }
         (_, RateFit::WithIntercept) => fit_line(&xy, field)?.slope,
         (_, RateFit::ThroughOrigin) => fit_through_origin(&xy, field)?,
@@ -86,7 +86,7 @@ pub fn set_spread(rates: &[f64], tolerance_pct: f64, field: &str) -> Result<SetS
         return Err(InputError::new(field, "needs at least one spring"));
     }
     for (i, &r) in rates.iter().enumerate() {
-        crate::require_positive(&format!("{field}[{i}]"), r, f64::MAX)?;
+        crate::require_positive(format_args!("{field}[{i}]"), r, f64::MAX)?;
     }
     crate::require_range("tolerance_pct", tolerance_pct, 0.0, 100.0)?;
     let mean = rates.iter().sum::<f64>() / rates.len() as f64;

@@ -24,17 +24,20 @@ impl TorqueCurve {
             ));
         }
         for (i, &(rpm, nm)) in points.iter().enumerate() {
-            let at = format!("{field}[{i}]");
+            let at = || format!("{field}[{i}]");
             if !ENGINE_SPEED.admits(rpm) {
                 let m = ENGINE_SPEED.message(units);
                 return Err(InputError::new(
-                    at,
+                    at(),
                     format!("point {}: engine speed {m}", i + 1),
                 ));
             }
             if !CURVE_TORQUE.admits(nm) {
                 let m = CURVE_TORQUE.message(units);
-                return Err(InputError::new(at, format!("point {}: torque {m}", i + 1)));
+                return Err(InputError::new(
+                    at(),
+                    format!("point {}: torque {m}", i + 1),
+                ));
             }
         }
         let mut order: Vec<usize> = (0..points.len()).collect();
