@@ -1,6 +1,7 @@
 //! The pages' largest reads, a whole build (its dossier) and a customer search
-//! (`db::search::list`): all their rows read in one synchronous call on a blocking thread, on
-//! connections of their own.
+//! (`db::search::list`), and what the build and tuning pages read beside the dossier (the
+//! shop's settings, the build's sheets): all their rows read in one synchronous call on a
+//! blocking thread, on connections of their own.
 //!
 //! Why a second SQLite binding: sqlx runs each SQLite connection on a worker thread and hands
 //! every row of every query across a channel, so a dossier (ten queries, about 150 rows at
@@ -25,8 +26,10 @@ use rusqlite::{CachedStatement, Connection, OpenFlags, Row};
 use super::customers::{CustomerSummary, Order};
 use super::export::Cell;
 use super::record::set_stored;
+use super::sheets::SheetSummary;
 use crate::records::field::Record;
 use crate::records::measure::{EngineSpeed, Force, Length, Seconds};
+use crate::records::settings::SettingsInput;
 use crate::records::stored::{
     BenchSpring, BenchTest, Build, BuildOwner, Car, Dossier, Height, KeptLaunchFit, LogSummary,
     Pass, Setup,
@@ -93,6 +96,26 @@ impl Reader {
     /// The dossier of build `id` (see [`super::dossier::load`]).
     pub async fn dossier(self: &Arc<Self>, id: i64) -> Result<Option<Dossier>, ReadError> {
         self.read(move |conn| dossier(conn, id)).await
+    }
+
+    /// What a build's own pages read: its dossier, the shop's settings and `more` (the build
+    /// page's sheets), in one read; `None` when there is no such build.
+    pub async fn build_page<T, F>(
+        self: &Arc<Self>,
+        id: i64,
+        more: F,
+    ) -> Result<Option<(Dossier, SettingsInput, T)>, ReadError>
+    where
+        T: Send + 'static,
+        F: FnOnce(&Connection) -> rusqlite::Result<T> + Send + 'static,
+    {
+        self.read(move |conn| {
+            Ok(match dossier(conn, id)? {
+                Some(d) => Some((d, settings(conn)?, more(conn)?)),
+                None => None,
+            })
+        })
+        .await
     }
 
     /// One page of the customer list or search for `query` (see [`super::search::list`]).
@@ -261,6 +284,36 @@ stored_row!(Car, crate::records::car::CarInput, 6: id, customer_id, created_at, 
 stored_row!(Setup, crate::records::setup::SetupInput, 5: id, build_id, user_id, created_at, updated_at);
 stored_row!(Height, crate::records::height::HeightInput, 5: id, build_id, user_id, created_at, updated_at);
 stored_row!(Pass, crate::records::pass::PassInput, 5: id, build_id, user_id, created_at, updated_at);
+
+/// The settings row's id leads its query; the settings are its declared fields alone.
+impl StoredRow for SettingsInput {
+    type Input = SettingsInput;
+    const LEADING: usize = 1;
+    fn assemble(_: &Row, data: Self::Input) -> rusqlite::Result<Self> {
+        Ok(data)
+    }
+}
+
+const SETTINGS: &str = "x.id FROM shop_settings x WHERE x.id = ?";
+
+/// The shop's settings, as [`super::settings::get`] reads them.
+pub fn settings(conn: &Connection) -> rusqlite::Result<SettingsInput> {
+    all(conn, &stored_sql::<SettingsInput>(SETTINGS), 1, stored)?
+        .pop()
+        .ok_or(rusqlite::Error::QueryReturnedNoRows)
+}
+
+/// A build's sheets, newest first, with their live links ([`super::sheets::FOR_BUILD`]).
+pub fn sheets(conn: &Connection, build_id: i64) -> rusqlite::Result<Vec<SheetSummary>> {
+    all(conn, super::sheets::FOR_BUILD, build_id, |r| {
+        Ok(SheetSummary {
+            id: r.get(0)?,
+            prepared_on: r.get(1)?,
+            prepared_by: r.get(2)?,
+            live_links: r.get(3)?,
+        })
+    })
+}
 
 const SETUPS: &str = concat!(
     "x.id, x.build_id, x.user_id, x.created_at, x.updated_at",

@@ -72,21 +72,13 @@ pub async fn by_id(conn: &mut SqliteConnection, id: i64) -> sqlx::Result<Option<
     .await
 }
 
-pub async fn for_build(
-    conn: &mut SqliteConnection,
-    build_id: i64,
-) -> sqlx::Result<Vec<SheetSummary>> {
-    sqlx::query_as(
-        "SELECT s.id, s.prepared_on, COALESCE(u.username, '') AS prepared_by,
-                (SELECT COUNT(*) FROM sheet_links l WHERE l.sheet_id = s.id AND l.revoked_at IS NULL
-                   AND l.expires_at > strftime('%Y-%m-%dT%H:%M:%SZ', 'now')) AS live_links
-         FROM sheets s LEFT JOIN users u ON u.id = s.prepared_by
-         WHERE s.build_id = ? ORDER BY s.id DESC",
-    )
-    .bind(build_id)
-    .fetch_all(conn)
-    .await
-}
+/// A build's sheets, newest first, with their live links counted (read by `db::read::sheets`
+/// for the build page).
+pub const FOR_BUILD: &str = "SELECT s.id, s.prepared_on, COALESCE(u.username, '') AS prepared_by,
+        (SELECT COUNT(*) FROM sheet_links l WHERE l.sheet_id = s.id AND l.revoked_at IS NULL
+           AND l.expires_at > strftime('%Y-%m-%dT%H:%M:%SZ', 'now')) AS live_links
+     FROM sheets s LEFT JOIN users u ON u.id = s.prepared_by
+     WHERE s.build_id = ? ORDER BY s.id DESC";
 
 pub async fn insert_link(
     conn: &mut SqliteConnection,

@@ -93,3 +93,74 @@ async fn the_pages_read_every_dossier_as_the_writes_read_it() {
         "setups, bench springs, heights, passes, logs, fits: {held:?}"
     );
 }
+
+/// What the build page reads beside the dossier, in the same read: the shop's settings as the
+/// writes read them (after an edit to units and time zone), and the build's sheets newest
+/// first, with who printed each and its live links (a withdrawn link not counted).
+#[tokio::test]
+async fn the_build_page_reads_the_settings_and_sheets_as_stored() {
+    let app = TestApp::new().await;
+    let client = app.login("sam").await;
+    let id: i64 = crate::support::id_from(&client.record_build().await)
+        .parse()
+        .unwrap();
+    let mut conn = app.pool.acquire().await.unwrap();
+    sqlx::query(
+        "UPDATE shop_settings SET units = 'metric', time_zone = 'Europe/Oslo' WHERE id = 1",
+    )
+    .execute(&mut *conn)
+    .await
+    .unwrap();
+    let mut sheets = Vec::new();
+    for _ in 0..3 {
+        let made = client.post(&format!("/builds/{id}/sheets"), &[]).await;
+        sheets.push(made.location().to_string());
+    }
+    // Two links on the newest sheet, one on the first; then the first's withdrawn.
+    for (sheet, days) in [(&sheets[2], "14"), (&sheets[2], "7"), (&sheets[0], "14")] {
+        client.new_link(sheet, days).await;
+    }
+    sqlx::query(
+        "UPDATE sheet_links SET revoked_at = '2026-12-01T00:00:00Z'
+         WHERE sheet_id = (SELECT min(id) FROM sheets WHERE build_id = ?)",
+    )
+    .bind(id)
+    .execute(&mut *conn)
+    .await
+    .unwrap();
+    let (d, settings, listed) = (app.state.reader)
+        .build_page(id, move |conn| db::read::sheets(conn, id))
+        .await
+        .unwrap()
+        .expect("the build is there");
+    assert_eq!(d.build.id, id);
+    assert_eq!(settings, db::settings::get(&mut conn).await.unwrap());
+    assert_eq!(
+        (settings.units.as_str(), settings.time_zone.as_str()),
+        ("metric", "Europe/Oslo")
+    );
+    let ids: Vec<String> = sheets
+        .iter()
+        .rev()
+        .map(|s| crate::support::id_from(s).to_string())
+        .collect();
+    let got: Vec<(String, &str, i64)> = listed
+        .iter()
+        .map(|s| (s.id.to_string(), s.prepared_by.as_str(), s.live_links))
+        .collect();
+    assert_eq!(
+        got,
+        vec![
+            (ids[0].clone(), "sam", 2),
+            (ids[1].clone(), "sam", 0),
+            (ids[2].clone(), "sam", 0)
+        ]
+    );
+    assert!(
+        (app.state.reader)
+            .build_page(i64::MAX, |_| Ok(()))
+            .await
+            .unwrap()
+            .is_none()
+    );
+}

@@ -38,12 +38,22 @@ impl Layout {
         title: impl Into<String>,
     ) -> AppResult<(Self, SettingsInput)> {
         let settings = db::settings::get(conn).await?;
+        Ok((Self::new(&settings, viewer, section, title), settings))
+    }
+
+    /// The frame of a signed-in page from the shop settings already read (`db::read::settings`).
+    pub fn new(
+        settings: &SettingsInput,
+        viewer: impl Into<Viewer>,
+        section: &'static str,
+        title: impl Into<String>,
+    ) -> Self {
         let Viewer {
             username,
             is_admin,
             csrf,
         } = viewer.into();
-        let layout = Self {
+        Self {
             title: title.into(),
             username,
             is_admin,
@@ -53,8 +63,7 @@ impl Layout {
             u: Show::new(settings.units()),
             ctx: settings.ctx(),
             zone: settings.zone(),
-        };
-        Ok((layout, settings))
+        }
     }
 
     pub fn units(&self) -> Units {

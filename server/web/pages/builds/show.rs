@@ -372,12 +372,12 @@ pub async fn render_page(
     id: i64,
     forms: EntryForms,
 ) -> AppResult<(String, ShopZone)> {
-    // The dossier first: no pooled connection is held while it waits for its reader.
-    let d = state.reader.dossier(id).await?.ok_or(AppError::NotFound)?;
-    let mut conn = state.pool.acquire().await?;
-    let conn = &mut *conn;
+    let (d, settings, sheets) = (state.reader)
+        .build_page(id, move |conn| db::read::sheets(conn, id))
+        .await?
+        .ok_or(AppError::NotFound)?;
     let title = page_title(&d.owner.customer_name, &d.build);
-    let (page, settings) = Layout::load(conn, user, "customers", title).await?;
+    let page = Layout::new(&settings, user, "customers", title);
     let now = BuildAsOf::now(&d, &settings);
     let rate_used = match (
         now.tested_rate,
@@ -433,7 +433,6 @@ pub async fn render_page(
     let forms = default_forms(forms, &page.ctx, &d);
     let material = crate::web::pages::show::material_text(&d.build.data);
     let spring_rows = (1..=d.build.data.spring_count.clamp(0, 24) as usize).collect();
-    let sheets = db::sheets::for_build(conn, id).await?;
     let disc_passes = disc_passes(&d.heights, &d.passes);
     let zone = page.zone.clone();
     let html = ShowPage {

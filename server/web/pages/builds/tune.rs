@@ -188,12 +188,11 @@ async fn render_tune(
     id: i64,
     query: HashMap<String, String>,
 ) -> AppResult<(String, ShopZone)> {
-    // The dossier first: no pooled connection is held while it waits for its reader.
-    let dossier = state.reader.dossier(id).await?.ok_or(AppError::NotFound)?;
-    let mut conn = state.pool.acquire().await?;
-    let (page, settings) =
-        Layout::load(&mut conn, user, "customers", "Capacity and tuning").await?;
-    drop(conn);
+    let (dossier, settings, ()) = (state.reader)
+        .build_page(id, |_| Ok(()))
+        .await?
+        .ok_or(AppError::NotFound)?;
+    let page = Layout::new(&settings, user, "customers", "Capacity and tuning");
     // The calibration, the recommendation's search and the launch simulations: heavy work,
     // in the caller's turn, off the other requests' way.
     state
