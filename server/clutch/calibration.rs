@@ -547,19 +547,19 @@ impl CalibrateRequest {
                 let at = |name: &str| format!("passes[{i}].{name}");
                 let rpm = crate::require_range(&at("lockup_rpm"), p.lockup_rpm, lo, hi)?;
                 let torque_nm = match p.clutch_torque {
-                    Some(t) => limits::CARRIED_TORQUE.check_shown(&at("clutch_torque"), t, u)?,
+                    Some(t) => limits::CARRIED_TORQUE.check_shown(at("clutch_torque"), t, u)?,
                     None => model.engine.torque_at(rpm).unwrap_or(f64::NAN),
                 };
                 let adjuster_turns = match p.adjuster_turns {
-                    Some(t) => limits::ADJUSTER_TURNS.check(&at("adjuster_turns"), t, u)?,
+                    Some(t) => limits::ADJUSTER_TURNS.check(at("adjuster_turns"), t, u)?,
                     None => model.adjuster_turns,
                 };
                 let counterweight_g = match p.counterweight_g {
-                    Some(g) => limits::COUNTERWEIGHT.check(&at("counterweight_g"), g, u)?,
+                    Some(g) => limits::COUNTERWEIGHT.check(at("counterweight_g"), g, u)?,
                     None => model.counterweight_g,
                 };
                 let clamp_loss_n =
-                    limits::CLAMP_LOSS.check_shown(&at("clamp_loss"), p.clamp_loss, u)?;
+                    limits::CLAMP_LOSS.check_shown(at("clamp_loss"), p.clamp_loss, u)?;
                 Ok(Observation {
                     lockup_rpm: rpm,
                     torque_nm,

@@ -211,7 +211,8 @@ pub fn push_fixed(out: &mut String, v: f64, decimals: usize) {
         // One rounding of an exact product below 1e9: off by less than 1.2e-7.
         let a = v.abs();
         let scaled = a * scale;
-        if !(scaled < 1e9) {
+        // Too large, or not a number (NaN compares false).
+        if scaled.is_nan() || scaled >= 1e9 {
             return None;
         }
         let floor = scaled.floor();

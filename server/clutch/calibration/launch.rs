@@ -240,7 +240,7 @@ impl LaunchCalibrateRequest {
         let at = |name: &str| format!("passes[{i}].{name}");
         match (p.lockup_time_s, p.lockup_rpm) {
             (Some(t), _) => Ok(Seen::LockTime(limits::LOCKUP_TIME.check(
-                &at("lockup_time_s"),
+                at("lockup_time_s"),
                 t,
                 self.units,
             )?)),
