@@ -149,22 +149,38 @@ impl Reader {
     }
 }
 
+/// The query text `$sql` makes, made once for the process (the declarations it is made from
+/// do not change while it runs).
+macro_rules! once {
+    ($sql:expr) => {{
+        static SQL: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+        SQL.get_or_init(|| $sql).as_str()
+    }};
+}
+
 /// Build `id` with all its records, read as [`super::dossier::load`] reads them.
 pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> {
     // Both read by their primary key: one row at most.
-    let build = all(conn, &stored_sql::<Build>(BUILD), id, stored)?.pop();
+    let build = all(conn, once!(stored_sql::<Build>(BUILD)), id, stored)?.pop();
     let Some(build): Option<Build> = build else {
         return Ok(None);
     };
-    let Some((car, owner)) =
-        all(conn, &stored_sql::<Car>(CAR), build.car_id, car_with_owner)?.pop()
-    else {
+    let Some((car, owner)) = all(
+        conn,
+        once!(stored_sql::<Car>(CAR)),
+        build.car_id,
+        car_with_owner,
+    )?
+    .pop() else {
         return Ok(None);
     };
-    let limit = super::dossier::PASSES_LOADED as i64;
     let passes: Vec<Pass> = all(
         conn,
-        &format!("{} LIMIT {limit}", stored_sql::<Pass>(PASSES)),
+        once!(format!(
+            "{} LIMIT {}",
+            stored_sql::<Pass>(PASSES),
+            super::dossier::PASSES_LOADED
+        )),
         build.id,
         stored,
     )?;
@@ -177,12 +193,12 @@ pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> 
     Ok(Some(Dossier {
         owner,
         car,
-        setups: all(conn, &stored_sql::<Setup>(SETUPS), build.id, stored)?,
+        setups: all(conn, once!(stored_sql::<Setup>(SETUPS)), build.id, stored)?,
         bench: bench(conn, build.id)?,
-        heights: all(conn, &stored_sql::<Height>(HEIGHTS), build.id, stored)?,
+        heights: all(conn, once!(stored_sql::<Height>(HEIGHTS)), build.id, stored)?,
         passes,
         passes_total,
-        logs: all(conn, &logs_sql(), build.id, log_summary)?,
+        logs: all(conn, once!(logs_sql()), build.id, log_summary)?,
         launch_fits: all(conn, super::launch_fits::FOR_BUILD, build.id, launch_fit)?,
         build,
     }))
@@ -298,9 +314,14 @@ const SETTINGS: &str = "x.id FROM shop_settings x WHERE x.id = ?";
 
 /// The shop's settings, as [`super::settings::get`] reads them.
 pub fn settings(conn: &Connection) -> rusqlite::Result<SettingsInput> {
-    all(conn, &stored_sql::<SettingsInput>(SETTINGS), 1, stored)?
-        .pop()
-        .ok_or(rusqlite::Error::QueryReturnedNoRows)
+    all(
+        conn,
+        once!(stored_sql::<SettingsInput>(SETTINGS)),
+        1,
+        stored,
+    )?
+    .pop()
+    .ok_or(rusqlite::Error::QueryReturnedNoRows)
 }
 
 /// A build's sheets, newest first, with their live links ([`super::sheets::FOR_BUILD`]).

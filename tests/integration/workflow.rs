@@ -689,6 +689,43 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
     );
 }
 
+/// The wear panel's table lists the newest 20 cover heights, oldest of them first, and says
+/// how many there are in all (the analysis and the chart still use every one).
+#[tokio::test]
+async fn the_build_page_lists_the_newest_cover_heights_and_counts_them_all() {
+    let app = TestApp::new().await;
+    let client = app.login("boss").await;
+    let build = client.record_build().await;
+    let id = id_from(&build);
+    let token = app.token("boss").await;
+    for n in 0..25 {
+        let r = app
+            .post_json(
+                &format!("/api/v1/builds/{id}/measurements"),
+                &token,
+                serde_json::json!({
+                    "measured_on": format!("2026-03-{:02}", 1 + n),
+                    "height_mm": 48.0 + 0.001 * f64::from(n),
+                    "passes": 4 * n,
+                    "shims_pulled": 0,
+                    "note": format!("check {n}"),
+                }),
+            )
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    }
+    let page = client.get(&build).await.body;
+    let notes: Vec<&str> = page
+        .split("<td>check ")
+        .skip(1)
+        .map(|rest| &rest[..rest.find('<').unwrap()])
+        .collect();
+    let newest: Vec<String> = (5..25).map(|n| n.to_string()).collect();
+    assert_eq!(notes, newest, "the newest 20, oldest of them first");
+    assert!(page.contains("The latest 20 of 25 measurements."));
+    assert!(page.contains(&format!("href=\"/builds/{id}/heights\"")));
+}
+
 #[tokio::test]
 async fn customer_and_car_saves_say_once_what_changed() {
     let app = TestApp::new().await;

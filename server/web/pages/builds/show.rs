@@ -22,7 +22,6 @@ use crate::records::settings::SettingsInput;
 use crate::records::stored::Build;
 use crate::records::stored::Car;
 use crate::records::stored::Dossier;
-use crate::records::stored::Height;
 use crate::records::stored::LogSummary;
 use crate::records::stored::Setup;
 use crate::records::stored::{BenchSpring, BenchTest};
@@ -33,7 +32,7 @@ use crate::web::http::extract::Viewer;
 use crate::web::http::flash::RecordView;
 use crate::web::http::heavy::Caller;
 use crate::web::pages::builds::tune::{capacity_chart, figure_lines};
-use crate::web::pages::builds::wear::{self, WearFigures, WearView};
+use crate::web::pages::builds::wear::{self, WearView};
 use crate::web::pages::chart::{Chart, Size};
 use crate::web::pages::layout::Layout;
 use clutch::capacity::friction::FacingMaterial;
@@ -149,11 +148,6 @@ impl ShowPage {
     /// The passes the page lists: the newest [`RECENT_ROWS`] (all of them on their own page).
     pub fn recent_passes(&self) -> &[crate::records::stored::Pass] {
         &self.d.passes[..self.d.passes.len().min(RECENT_ROWS)]
-    }
-
-    /// The cover heights the page lists: the newest [`RECENT_ROWS`], oldest first.
-    pub fn recent_heights<'w>(&self, w: &'w WearView) -> &'w [(Height, Option<WearFigures>)] {
-        &w.rows[w.rows.len().saturating_sub(RECENT_ROWS)..]
     }
 
     pub fn log_of(&self, pass_id: i64) -> Option<&LogSummary> {
@@ -414,6 +408,7 @@ pub async fn render_page(
                     req.shimming_limit,
                     settings.due_within_passes,
                     &energy,
+                    RECENT_ROWS,
                 )
             })
             .map_err(|e| format!("{}: {}", e.field, e.message))

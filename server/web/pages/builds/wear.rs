@@ -25,9 +25,11 @@ pub struct WearView {
     /// The forecast by slip energy in one line, or why there is none.
     pub by_energy: String,
     pub chart: Chart,
-    /// Per measurement, newest disc last: the record and, on the disc in the clutch now, its
-    /// (growth, total wear, clamp lost) figures.
+    /// The newest measurements the page lists, oldest of them first: the record and, on the
+    /// disc in the clutch now, its (growth, total wear, clamp lost) figures.
     pub rows: Vec<(Height, Option<WearFigures>)>,
+    /// How many measurements there are in all.
+    pub measured: usize,
 }
 
 impl WearView {
@@ -177,9 +179,10 @@ pub fn by_energy(u: &Show, r: &WearReport, e: &Result<EnergyForecast, EnergyGap>
     )
 }
 
-/// Builds the view from the analysed report of the current disc (storage units) and all the
-/// build's measurements (earlier discs are kept as history).
-/// The wear panel of a build; `window` is the shop's "due within" passes (for "soon").
+/// The wear panel of a build, from the analysed report of the current disc (storage units) and
+/// all the build's measurements (earlier discs are kept as history); `window` is the shop's
+/// "due within" passes (for "soon"), `listed` how many of the newest measurements its table
+/// lists.
 pub fn view(
     u: &Show,
     report: WearReport,
@@ -187,6 +190,7 @@ pub fn view(
     limit_mm: f64,
     window: i64,
     energy: &Result<EnergyForecast, EnergyGap>,
+    listed: usize,
 ) -> WearView {
     let status = WorkStatus::of_report(Some(&report), false, window);
     let current = current_disc(heights);
@@ -194,6 +198,7 @@ pub fn view(
     let rows = heights
         .iter()
         .enumerate()
+        .skip(heights.len().saturating_sub(listed))
         .map(|(i, h)| {
             let figures = i
                 .checked_sub(earlier)
@@ -209,6 +214,7 @@ pub fn view(
         by_energy: by_energy(u, &report, energy),
         chart: chart(u, &report, current, limit_mm),
         rows,
+        measured: heights.len(),
         report,
     }
 }
