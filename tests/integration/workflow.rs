@@ -643,24 +643,40 @@ async fn the_delete_customer_hint_says_what_happens_to_customer_links() {
     assert!(hint.contains("links that were not withdrawn and have not expired work again"));
 }
 
+/// A build recorded through the forms, then `records` of one kind (`passes`, `measurements`)
+/// added to it through the API; its page's path and its id.
+async fn build_with(
+    app: &TestApp,
+    client: &Client<'_>,
+    kind: &str,
+    records: impl Iterator<Item = serde_json::Value>,
+) -> (String, String) {
+    let build = client.record_build().await;
+    let id = id_from(&build).to_string();
+    let token = app.token("boss").await;
+    for body in records {
+        let r = app
+            .post_json(&format!("/api/v1/builds/{id}/{kind}"), &token, body)
+            .await;
+        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
+    }
+    (build, id)
+}
+
 #[tokio::test]
 async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
     let app = TestApp::new().await;
     let client = app.login("boss").await;
-    let build = client.record_build().await;
-    let id = id_from(&build);
-    let token = app.token("boss").await;
-    for n in 0..125 {
-        let day = format!("2026-{:02}-{:02}", 1 + n / 28, 1 + n % 28);
-        let r = app
-            .post_json(
-                &format!("/api/v1/builds/{id}/passes"),
-                &token,
-                serde_json::json!({"run_on": day, "track": format!("Strip {n}")}),
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
-    }
+    let (build, id) = build_with(
+        &app,
+        &client,
+        "passes",
+        (0..125).map(|n| {
+            let day = format!("2026-{:02}-{:02}", 1 + n / 28, 1 + n % 28);
+            serde_json::json!({"run_on": day, "track": format!("Strip {n}")})
+        }),
+    )
+    .await;
     let page = client.get(&build).await.body;
     let listed = page.matches("<td>Strip ").count();
     assert_eq!(listed, 20, "the newest 20 passes on the build's page");
@@ -695,25 +711,21 @@ async fn the_build_page_lists_the_newest_passes_and_links_to_every_one() {
 async fn the_build_page_lists_the_newest_cover_heights_and_counts_them_all() {
     let app = TestApp::new().await;
     let client = app.login("boss").await;
-    let build = client.record_build().await;
-    let id = id_from(&build);
-    let token = app.token("boss").await;
-    for n in 0..25 {
-        let r = app
-            .post_json(
-                &format!("/api/v1/builds/{id}/measurements"),
-                &token,
-                serde_json::json!({
-                    "measured_on": format!("2026-03-{:02}", 1 + n),
-                    "height_mm": 48.0 + 0.001 * f64::from(n),
-                    "passes": 4 * n,
-                    "shims_pulled": 0,
-                    "note": format!("check {n}"),
-                }),
-            )
-            .await;
-        assert_eq!(r.status, StatusCode::CREATED, "{}", r.body);
-    }
+    let (build, id) = build_with(
+        &app,
+        &client,
+        "measurements",
+        (0..25).map(|n| {
+            serde_json::json!({
+                "measured_on": format!("2026-03-{:02}", 1 + n),
+                "height_mm": 48.0 + 0.001 * f64::from(n),
+                "passes": 4 * n,
+                "shims_pulled": 0,
+                "note": format!("check {n}"),
+            })
+        }),
+    )
+    .await;
     let page = client.get(&build).await.body;
     let notes: Vec<&str> = page
         .split("<td>check ")
