@@ -544,8 +544,12 @@ impl CalibrateRequest {
             .iter()
             .enumerate()
             .map(|(i, p)| {
-                let at = |name: &str| format!("passes[{i}].{name}");
-                let rpm = crate::require_range(&at("lockup_rpm"), p.lockup_rpm, lo, hi)?;
+                let at = |name| crate::ItemField {
+                    list: "passes",
+                    index: i,
+                    name,
+                };
+                let rpm = crate::require_range(at("lockup_rpm"), p.lockup_rpm, lo, hi)?;
                 let torque_nm = match p.clutch_torque {
                     Some(t) => limits::CARRIED_TORQUE.check_shown(at("clutch_torque"), t, u)?,
                     None => model.engine.torque_at(rpm).unwrap_or(f64::NAN),

@@ -54,6 +54,26 @@ impl InputError {
     }
 }
 
+/// The name of a value inside a list item, `list[index].name` (`list[index]` when `name` is
+/// empty), for the checks below: written out only when one fails.
+#[derive(Debug, Clone, Copy)]
+pub struct ItemField<'a> {
+    pub list: &'a str,
+    pub index: usize,
+    pub name: &'a str,
+}
+
+impl Display for ItemField<'_> {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}[{}]", self.list, self.index)?;
+        if self.name.is_empty() {
+            Ok(())
+        } else {
+            write!(f, ".{}", self.name)
+        }
+    }
+}
+
 /// `value` if it is a finite number, else an error naming `field`. Field names are
 /// `impl Display` so that a list's checks can name an item (`format_args!("{list}[{i}]")`)
 /// without writing the name out unless it fails.
@@ -103,3 +123,28 @@ pub fn require_positive(
 
 #[cfg(test)]
 mod api_tests;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_list_items_value_is_named_by_its_path_when_a_check_fails() {
+        let at = |index, name| ItemField {
+            list: "passes",
+            index,
+            name,
+        };
+        assert_eq!(at(3, "lockup_rpm").to_string(), "passes[3].lockup_rpm");
+        assert_eq!(at(0, "").to_string(), "passes[0]");
+        assert_eq!(require_positive(at(2, "et_s"), 9.8, 60.0).unwrap(), 9.8);
+        let refused = require_range(at(4, "lockup_rpm"), 99_000.0, 500.0, 20_000.0).unwrap_err();
+        assert_eq!(refused.field, "passes[4].lockup_rpm");
+        assert_eq!(
+            require_finite(format_args!("springs[{}]", 1), f64::NAN)
+                .unwrap_err()
+                .field,
+            "springs[1]"
+        );
+    }
+}

@@ -237,7 +237,11 @@ impl LaunchCalibrateRequest {
 
     fn seen(&self, i: usize, valid: &ValidLaunch) -> Result<Seen, InputError> {
         let p = &self.passes[i];
-        let at = |name: &str| format!("passes[{i}].{name}");
+        let at = |name| crate::ItemField {
+            list: "passes",
+            index: i,
+            name,
+        };
         match (p.lockup_time_s, p.lockup_rpm) {
             (Some(t), _) => Ok(Seen::LockTime(limits::LOCKUP_TIME.check(
                 at("lockup_time_s"),
@@ -247,7 +251,7 @@ impl LaunchCalibrateRequest {
             (None, Some(rpm)) => {
                 let (lo, hi) = valid.clutch.engine.range();
                 Ok(Seen::LockRpm(crate::require_range(
-                    &at("lockup_rpm"),
+                    at("lockup_rpm"),
                     rpm,
                     lo,
                     hi,

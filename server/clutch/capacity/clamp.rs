@@ -113,7 +113,11 @@ pub fn check_adjusters(turns_each: &[f64], field: &str) -> Result<AdjusterCheck,
         return Err(InputError::new(field, "needs at least one adjuster"));
     }
     for (i, &t) in turns_each.iter().enumerate() {
-        limits::ADJUSTER_TURNS.check(format!("{field}[{i}]"), t, crate::units::Units::Metric)?;
+        limits::ADJUSTER_TURNS.check(
+            format_args!("{field}[{i}]"),
+            t,
+            crate::units::Units::Metric,
+        )?;
     }
     let min = turns_each.iter().copied().fold(f64::INFINITY, f64::min);
     let max = turns_each.iter().copied().fold(f64::NEG_INFINITY, f64::max);
