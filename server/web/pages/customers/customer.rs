@@ -88,10 +88,15 @@ async fn render_list(
 ) -> AppResult<(String, ShopZone)> {
     let page_no = q.page.parse::<i64>().unwrap_or(0).clamp(0, 100_000);
     let order = Order::from_query(&q.sort);
-    // The search first: no pooled connection is held while it waits for its reader.
-    let (rows, total) = state.reader.search(&q.q, page_no, order).await?;
-    let mut conn = state.pool.acquire().await?;
-    let (page, _) = Layout::load(&mut conn, user, "customers", "Customers").await?;
+    // The search and the shop's settings in one read: no pooled connection.
+    let query = q.q.clone();
+    let ((rows, total), settings) = (state.reader)
+        .read(move |conn| {
+            let found = db::search::list(conn, &query, page_no, order)?;
+            Ok((found, db::read::settings(conn)?))
+        })
+        .await?;
+    let page = Layout::new(&settings, user, "customers", "Customers");
     let pages = (total + db::PAGE_SIZE - 1) / db::PAGE_SIZE;
     let zone = page.zone.clone();
     let html = ListPage {
