@@ -644,7 +644,7 @@ async fn the_delete_customer_hint_says_what_happens_to_customer_links() {
 }
 
 /// A build recorded through the forms, then `records` of one kind (`passes`, `measurements`)
-/// added to it through the API; its page's path and its id.
+/// added to it through the API with a token of `boss`; its page's path and its id.
 async fn build_with(
     app: &TestApp,
     client: &Client<'_>,
