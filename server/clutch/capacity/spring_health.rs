@@ -94,11 +94,11 @@ pub fn review(
                 rate_from_points(
                     std::slice::from_ref(p),
                     RateFit::WithIntercept,
-                    &format!("tests[{t}].springs[{i}]"),
+                    format_args!("tests[{t}].springs[{i}]"),
                 )
             })
             .collect::<Result<Vec<f64>, InputError>>()?;
-        let spread = set_spread(&rates, tolerance_pct, &format!("tests[{t}].springs"))?;
+        let spread = set_spread(&rates, tolerance_pct, format_args!("tests[{t}].springs"))?;
         let loads_n: Vec<Option<f64>> = rates
             .iter()
             .enumerate()
@@ -290,5 +290,19 @@ mod tests {
         // A later test judges each spring against its own earlier load, not the set's.
         let r = review(&[first.clone(), first], 5.0, 3.0, Some(40.0)).unwrap();
         assert!(r[1].low.is_empty() && r[1].sagged.is_empty());
+    }
+
+    // A reading that cannot give a rate is named by its test and its place in the list, as
+    // the bench form shows them (the names are written only when a check fails).
+    #[test]
+    fn a_bad_reading_is_named_by_its_test_and_spring() {
+        let mut second = test_of(&[66.0, 66.5, 67.0]);
+        second.readings[2].1.compression_mm = 0.0;
+        let e = review(&[test_of(&[66.0, 66.5, 67.0]), second], 5.0, 3.0, None).unwrap_err();
+        assert_eq!(e.field, "tests[1].springs[2][0].compression");
+        let mut third = test_of(&[66.0]);
+        third.readings.clear();
+        let e = review(&[third], 5.0, 3.0, None).unwrap_err();
+        assert_eq!(e.field, "tests[0].springs");
     }
 }

@@ -1,6 +1,8 @@
 //! Clutch coil springs: rate from a bench test, spread across a set, loss of rate (sag) between
 //! tests, and the textbook rate from wire geometry as a cross-check.
 
+use std::fmt::Display;
+
 use crate::InputError;
 use crate::regression::{fit_line, fit_through_origin};
 
@@ -33,24 +35,38 @@ pub enum RateFit {
 pub fn rate_from_points(
     points: &[BenchPoint],
     fit: RateFit,
-    field: &str,
+    field: impl Display + Copy,
 ) -> Result<f64, InputError> {
-    let xy: Vec<(f64, f64)> = points
-        .iter()
-        .map(|p| (p.compression_mm, p.force_n))
-        .collect();
-    let rate = match (xy.as_slice(), fit) {
-        ([], _) => return Err(InputError::new(field, "needs at least one bench point")),
-        ([(x, f)], _) => {
-            let x = crate::require_positive(format_args!("{field}[0].compression"), *x, 1e4)?;
-            crate::require_finite(format_args!("{field}[0].force"), *f)? / x
+    let rate = match (points, fit) {
+        ([], _) => {
+            return Err(InputError::new(
+                field.to_string(),
+                "needs at least one bench point",
+            ));
         }
-        (_, RateFit::WithIntercept) => fit_line(&xy, field)?.slope,
-        (_, RateFit::ThroughOrigin) => fit_through_origin(&xy, field)?,
+        ([p], _) => {
+            let x = crate::require_positive(
+                format_args!("{field}[0].compression"),
+                p.compression_mm,
+                1e4,
+            )?;
+            crate::require_finite(format_args!("{field}[0].force"), p.force_n)? / x
+        }
+        _ => {
+            let xy: Vec<(f64, f64)> = points
+                .iter()
+                .map(|p| (p.compression_mm, p.force_n))
+                .collect();
+            let field = field.to_string();
+            match fit {
+                RateFit::WithIntercept => fit_line(&xy, &field)?.slope,
+                RateFit::ThroughOrigin => fit_through_origin(&xy, &field)?,
+            }
+        }
     };
     if rate <= 0.0 {
         return Err(InputError::new(
-            field,
+            field.to_string(),
             "bench points give a rate of zero or less",
         ));
     }
@@ -81,9 +97,16 @@ pub const DEFAULT_SET_TOLERANCE_PCT: f64 = 5.0;
 /// Mean, spread (max − min) and spread as percent of mean of a spring set; flags the set when
 /// the spread exceeds `tolerance_pct` (e.g. [`DEFAULT_SET_TOLERANCE_PCT`]).
 /// Rates must be finite and > 0; `field` names the list (errors point at `field[i]`).
-pub fn set_spread(rates: &[f64], tolerance_pct: f64, field: &str) -> Result<SetSpread, InputError> {
+pub fn set_spread(
+    rates: &[f64],
+    tolerance_pct: f64,
+    field: impl Display + Copy,
+) -> Result<SetSpread, InputError> {
     if rates.is_empty() {
-        return Err(InputError::new(field, "needs at least one spring"));
+        return Err(InputError::new(
+            field.to_string(),
+            "needs at least one spring",
+        ));
     }
     for (i, &r) in rates.iter().enumerate() {
         crate::require_positive(format_args!("{field}[{i}]"), r, f64::MAX)?;
