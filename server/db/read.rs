@@ -69,25 +69,40 @@ impl Reader {
         T: Send + 'static,
         F: FnOnce(&Connection) -> rusqlite::Result<T> + Send + 'static,
     {
+        self.read_then(read, |out| out).await
+    }
+
+    /// [`Reader::read`], then `then` on what it read, on the same blocking thread once the
+    /// connection and the turn are given back: a page's reads and its calculations in one
+    /// hand-over to a blocking thread instead of two.
+    pub async fn read_then<R, T, F, G>(self: &Arc<Self>, read: F, then: G) -> Result<T, ReadError>
+    where
+        T: Send + 'static,
+        F: FnOnce(&Connection) -> rusqlite::Result<R> + Send + 'static,
+        G: FnOnce(R) -> T + Send + 'static,
+    {
         let turn = Arc::clone(&self.turns)
             .acquire_owned()
             .await
             .map_err(|e| ReadError(e.to_string()))?;
         let me = Arc::clone(self);
         tokio::task::spawn_blocking(move || {
-            let _turn = turn;
-            let conn = me.connection()?;
-            let out = conn.unchecked_transaction().and_then(|tx| {
-                let out = read(&tx)?;
-                tx.commit()?;
-                Ok(out)
-            });
-            // At most one idle connection a turn: never more than `READERS` are kept.
-            let mut idle = me.idle.lock().unwrap_or_else(|e| e.into_inner());
-            if idle.len() < READERS {
-                idle.push(conn);
-            }
-            out.map_err(|e| ReadError(e.to_string()))
+            let out = {
+                let _turn = turn;
+                let conn = me.connection()?;
+                let out = conn.unchecked_transaction().and_then(|tx| {
+                    let out = read(&tx)?;
+                    tx.commit()?;
+                    Ok(out)
+                });
+                // At most one idle connection a turn: never more than `READERS` are kept.
+                let mut idle = me.idle.lock().unwrap_or_else(|e| e.into_inner());
+                if idle.len() < READERS {
+                    idle.push(conn);
+                }
+                out.map_err(|e| ReadError(e.to_string()))?
+            };
+            Ok(then(out))
         })
         .await
         .map_err(|e| ReadError(e.to_string()))?
@@ -96,26 +111,6 @@ impl Reader {
     /// The dossier of build `id` (see [`super::dossier::load`]).
     pub async fn dossier(self: &Arc<Self>, id: i64) -> Result<Option<Dossier>, ReadError> {
         self.read(move |conn| dossier(conn, id)).await
-    }
-
-    /// What a build's own pages read: its dossier, the shop's settings and `more` (the build
-    /// page's sheets), in one read; `None` when there is no such build.
-    pub async fn build_page<T, F>(
-        self: &Arc<Self>,
-        id: i64,
-        more: F,
-    ) -> Result<Option<(Dossier, SettingsInput, T)>, ReadError>
-    where
-        T: Send + 'static,
-        F: FnOnce(&Connection) -> rusqlite::Result<T> + Send + 'static,
-    {
-        self.read(move |conn| {
-            Ok(match dossier(conn, id)? {
-                Some(d) => Some((d, settings(conn)?, more(conn)?)),
-                None => None,
-            })
-        })
-        .await
     }
 
     /// One page of the customer list or search for `query` (see [`super::search::list`]).
@@ -147,6 +142,19 @@ impl Reader {
         };
         open().map_err(|e| ReadError(e.to_string()))
     }
+}
+
+/// What a build's own pages read: its dossier, the shop's settings and `more` (the build
+/// page's sheets), in one read; `None` when there is no such build.
+pub fn build_page<T>(
+    conn: &Connection,
+    id: i64,
+    more: impl FnOnce(&Connection) -> rusqlite::Result<T>,
+) -> rusqlite::Result<Option<(Dossier, SettingsInput, T)>> {
+    Ok(match dossier(conn, id)? {
+        Some(d) => Some((d, settings(conn)?, more(conn)?)),
+        None => None,
+    })
 }
 
 /// The query text `$sql` makes, made once for the process (the declarations it is made from
@@ -228,7 +236,7 @@ fn stored<T: StoredRow>(row: &Row) -> rusqlite::Result<T> {
     for (i, f) in T::Input::FIELDS.iter().enumerate() {
         let at = T::LEADING + i;
         let cell = cell(row.get_ref(at)?);
-        set_stored(&mut data, f, &cell).map_err(|want| {
+        set_stored(&mut data, f, cell).map_err(|want| {
             rusqlite::Error::FromSqlConversionFailure(
                 at,
                 row.get_ref(at)

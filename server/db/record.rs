@@ -71,33 +71,34 @@ fn bind_fields<'q, R: Record>(mut q: Query<'q>, r: &'q R) -> Query<'q> {
 
 /// Sets field `f` of `r` from its stored cell, as [`bind_fields`] stores it: text as text,
 /// numbers as reals (NULL when empty), whole numbers as integers, lists and torque curves as
-/// JSON text, flags as 0 or 1. Else what the column should have held, in words.
-pub fn set_stored<R: Record>(r: &mut R, f: &Field<R>, cell: &Cell) -> Result<(), &'static str> {
+/// JSON text, flags as 0 or 1. Else what the column should have held, in words. The cell is
+/// taken, so its text moves into the record uncopied.
+pub fn set_stored<R: Record>(r: &mut R, f: &Field<R>, cell: Cell) -> Result<(), &'static str> {
     match (&f.value, cell) {
         (
             Value::Text { set, .. } | Value::Date { set, .. } | Value::Choice { set, .. },
             Cell::Text(v),
-        ) => set(r, v.clone()),
+        ) => set(r, v),
         (Value::Text { .. } | Value::Date { .. } | Value::Choice { .. }, _) => {
             return Err("text");
         }
         (Value::Number { set, .. }, Cell::Null) => set(r, None),
-        (Value::Number { set, .. }, Cell::Integer(v)) => set(r, Some(*v as f64)),
-        (Value::Number { set, .. }, Cell::Real(v)) => set(r, Some(*v)),
+        (Value::Number { set, .. }, Cell::Integer(v)) => set(r, Some(v as f64)),
+        (Value::Number { set, .. }, Cell::Real(v)) => set(r, Some(v)),
         (Value::Number { .. }, _) => return Err("a number"),
-        (Value::Whole { set, .. }, Cell::Integer(v)) => set(r, *v),
+        (Value::Whole { set, .. }, Cell::Integer(v)) => set(r, v),
         (Value::Whole { .. }, _) => return Err("a whole number"),
-        (Value::List { set, .. }, Cell::Text(v)) => match serde_json::from_str(v) {
+        (Value::List { set, .. }, Cell::Text(v)) => match serde_json::from_str(&v) {
             Ok(items) => set(r, items),
             Err(_) => return Err("a JSON list of numbers"),
         },
         (Value::List { .. }, _) => return Err("a JSON list of numbers"),
-        (Value::Curve { set, .. }, Cell::Text(v)) => match serde_json::from_str(v) {
+        (Value::Curve { set, .. }, Cell::Text(v)) => match serde_json::from_str(&v) {
             Ok(points) => set(r, points),
             Err(_) => return Err("a JSON list of [rpm, N*m] pairs"),
         },
         (Value::Curve { .. }, _) => return Err("a JSON list of [rpm, N*m] pairs"),
-        (Value::Flag { set, .. }, Cell::Integer(v @ (0 | 1))) => set(r, *v == 1),
+        (Value::Flag { set, .. }, Cell::Integer(v @ (0 | 1))) => set(r, v == 1),
         (Value::Flag { .. }, _) => return Err("0 or 1"),
     }
     Ok(())

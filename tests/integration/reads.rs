@@ -129,7 +129,7 @@ async fn the_build_page_reads_the_settings_and_sheets_as_stored() {
     .await
     .unwrap();
     let (d, settings, listed) = (app.state.reader)
-        .build_page(id, move |conn| db::read::sheets(conn, id))
+        .read(move |conn| db::read::build_page(conn, id, |conn| db::read::sheets(conn, id)))
         .await
         .unwrap()
         .expect("the build is there");
@@ -158,7 +158,7 @@ async fn the_build_page_reads_the_settings_and_sheets_as_stored() {
     );
     assert!(
         (app.state.reader)
-            .build_page(i64::MAX, |_| Ok(()))
+            .read(|conn| db::read::build_page(conn, i64::MAX, |_| Ok(())))
             .await
             .unwrap()
             .is_none()

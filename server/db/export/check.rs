@@ -226,7 +226,7 @@ fn record_check<R: Record>(columns: &[String], whole: bool) -> RecordCheck {
     Box::new(move |row: &[Cell], ctx: &Ctx| {
         let mut r = R::default();
         for (f, i) in &at {
-            if let Err(want) = set_stored(&mut r, f, &row[*i]) {
+            if let Err(want) = set_stored(&mut r, f, row[*i].clone()) {
                 let why = format!("expected {want}, found {}", found(&row[*i]));
                 return Some((f.column.to_string(), why));
             }

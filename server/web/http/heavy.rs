@@ -11,9 +11,11 @@ use std::sync::{Arc, Mutex};
 
 use axum::extract::FromRequestParts;
 use axum::http::request::Parts;
+use rusqlite::Connection;
 use tokio::sync::{Semaphore, SemaphorePermit};
 
 use crate::auth;
+use crate::db::read::Reader;
 use crate::error::AppError;
 use crate::web::http::extract::{SESSION_COOKIE, cookie};
 
@@ -123,25 +125,29 @@ impl Heavy {
             .map_err(|e| AppError::Internal(format!("heavy work stopped: {e}")))
     }
 
-    /// A caller's turn and a place, then `work` run on this thread, the runtime told that it
-    /// blocks (its other tasks move to another worker): for work that borrows the request's
-    /// data, such as a page's calculations. On a single-threaded runtime (the tests) it simply
-    /// runs.
-    pub async fn here<T>(
+    /// A caller's turn (`Caller(None)` takes none) and a place, then `read` on one of the
+    /// reader's connections and `work` on what it read, one after the other on one blocking
+    /// thread (see [`Reader::read_then`]): a page's reads and calculations in a single
+    /// hand-over.
+    pub async fn read_then<R, T, F, G>(
         self: &Arc<Self>,
         caller: &Caller,
-        work: impl FnOnce() -> T,
-    ) -> Result<T, AppError> {
+        reader: &Arc<Reader>,
+        read: F,
+        work: G,
+    ) -> Result<T, AppError>
+    where
+        T: Send + 'static,
+        F: FnOnce(&Connection) -> rusqlite::Result<R> + Send + 'static,
+        G: FnOnce(R) -> T + Send + 'static,
+    {
         let _turn = self.turn(caller)?;
         let _place = self
             .running
             .acquire()
             .await
             .map_err(|e| AppError::Internal(e.to_string()))?;
-        Ok(match tokio::runtime::Handle::current().runtime_flavor() {
-            tokio::runtime::RuntimeFlavor::MultiThread => tokio::task::block_in_place(work),
-            _ => work(),
-        })
+        Ok(reader.read_then(read, work).await?)
     }
 
     /// A caller's turn, then `work` run as in [`Heavy::run`].

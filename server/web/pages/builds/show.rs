@@ -359,17 +359,39 @@ pub struct FilledForms {
 pub const RECENT_ROWS: usize = 20;
 
 /// Renders a build's page; `forms` carries any entry form that failed its checks (422).
-/// Answers the page and the shop's zone it was rendered in.
+/// Answers the page and the shop's zone it was rendered in. The reads and the page's
+/// calculations (the forecast by slip energy runs launch previews: heavy work) run one after
+/// the other on one blocking thread, in a heavy-work place (the page is kept in the page cache
+/// until the next write).
 pub async fn render_page(
     state: &AppState,
     user: &Viewer,
     id: i64,
     forms: EntryForms,
 ) -> AppResult<(String, ShopZone)> {
-    let (d, settings, sheets) = (state.reader)
-        .build_page(id, move |conn| db::read::sheets(conn, id))
+    let user = user.clone();
+    state
+        .heavy
+        .read_then(
+            &Caller(None),
+            &state.reader,
+            move |conn| db::read::build_page(conn, id, |conn| db::read::sheets(conn, id)),
+            move |read| {
+                let (d, settings, sheets) = read.ok_or(AppError::NotFound)?;
+                page_of(d, settings, sheets, &user, forms)
+            },
+        )
         .await?
-        .ok_or(AppError::NotFound)?;
+}
+
+/// The build page of dossier `d` (see [`render_page`]).
+fn page_of(
+    d: Dossier,
+    settings: SettingsInput,
+    sheets: Vec<SheetSummary>,
+    user: &Viewer,
+    forms: EntryForms,
+) -> AppResult<(String, ShopZone)> {
     let title = page_title(&d.owner.customer_name, &d.build);
     let page = Layout::new(&settings, user, "customers", title);
     let now = BuildAsOf::now(&d, &settings);
@@ -392,12 +414,7 @@ pub async fn render_page(
         .as_ref()
         .ok()
         .map(|f| capacity_chart(Size::Wide, &page.u, &f.report, None));
-    // The forecast by slip energy runs launch previews: heavy work (the page is kept in the
-    // page cache until the next write).
-    let energy = state
-        .heavy
-        .here(&Caller(None), || energy_forecast(&d, &now))
-        .await?;
+    let energy = energy_forecast(&d, &now);
     let wear = now.wear().and_then(|req| {
         clutch::wear::analyze(&req)
             .map(|report| {

@@ -188,149 +188,152 @@ async fn render_tune(
     id: i64,
     query: HashMap<String, String>,
 ) -> AppResult<(String, ShopZone)> {
-    let (dossier, settings, ()) = (state.reader)
-        .build_page(id, |_| Ok(()))
-        .await?
-        .ok_or(AppError::NotFound)?;
-    let page = Layout::new(&settings, user, "customers", "Capacity and tuning");
-    // The calibration, the recommendation's search and the launch simulations: heavy work,
-    // in the caller's turn, off the other requests' way.
+    // The reads, then the calibration, the recommendation's search and the launch
+    // simulations: heavy work, in the caller's turn, off the other requests' way.
+    let user = user.clone();
     state
         .heavy
-        .here(caller, move || -> AppResult<(String, ShopZone)> {
-            let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
-            let calibration = calibration.map_err(|e| e.message);
-            let heat = calibration
-                .as_ref()
-                .ok()
-                .map(|c| heat::study(&dossier, &settings, c));
-            let by_launch = calibration.as_ref().ok().and_then(|c| c.launch.clone());
-            let method_flags = calibration
-                .as_ref()
-                .map_or_else(|_| Vec::new(), |c| method_flags(&dossier, &settings, c));
-            let friction = facts.friction.clone();
-            let current_trial = facts.trial;
-            // The 60-ft times the car's passes recorded, for the launch preview to be read against.
-            let recorded_sixty_ft: Vec<f64> = dossier
-                .passes
-                .iter()
-                .filter_map(|p| p.data.sixty_ft_s.map(|s| s.s()))
-                .collect();
-            let current = facts.figures(page.units());
-
-            let mut form = FormData::new(query.into_iter().collect());
-            let mut errors = FieldErrors::default();
-            let mut trial = None;
-            let mut recommended = None;
-            let mut recommended_from = current_trial;
-            if form.get("try") == "1"
-                && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
-            {
-                match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
-                    Ok(Ok(f)) => trial = Some((t, f)),
-                    Ok(Err(e)) => errors.add("adjuster_turns", e.message),
-                    Err(missing) => errors.add("adjuster_turns", missing),
-                }
-            }
-            if form.get("recommend") == "1" {
-                let units = page.units();
-                // One range, the one the search can use: the car's torque curve.
-                let curve = current
+        .read_then(
+            caller,
+            &state.reader,
+            move |conn| crate::db::read::build_page(conn, id, |_| Ok(())),
+            move |read| -> AppResult<(String, ShopZone)> {
+                let (dossier, settings, ()) = read.ok_or(AppError::NotFound)?;
+                let page = Layout::new(&settings, &user, "customers", "Capacity and tuning");
+                let (facts, calibration) = BuildAsOf::now_calibrated(&dossier, &settings);
+                let calibration = calibration.map_err(|e| e.message);
+                let heat = calibration
                     .as_ref()
                     .ok()
-                    .and_then(|f| Some((f.report.curve.first()?.rpm, f.report.curve.last()?.rpm)));
-                let lockup_limit = curve.map_or(limits::ENGINE_SPEED, |(lo, hi)| {
-                    Limit::new(Kind::Speed, Bound::Incl(lo), Bound::Incl(hi))
-                });
-                let (lockup, ratio) = typed_targets(&form, lockup_limit, units, &mut errors);
-                if lockup.is_none() && !errors.has("target_lockup") {
-                    errors.add("target_lockup", "required");
-                }
-                // The μ being tried (e.g. the calibrated one) carries into the recommendation.
-                if !form.get("mu").is_empty() {
-                    let mu = field::number(&form, "mu", limits::MU, units, &mut errors);
-                    recommended_from.mu = mu.or(current_trial.mu);
-                }
-                if let (Some(lockup_rpm), true, true) = (lockup, errors.is_empty(), current.is_ok())
+                    .map(|c| heat::study(&dossier, &settings, c));
+                let by_launch = calibration.as_ref().ok().and_then(|c| c.launch.clone());
+                let method_flags = calibration
+                    .as_ref()
+                    .map_or_else(|_| Vec::new(), |c| method_flags(&dossier, &settings, c));
+                let friction = facts.friction.clone();
+                let current_trial = facts.trial;
+                // The 60-ft times the car's passes recorded, for the launch preview to be read against.
+                let recorded_sixty_ft: Vec<f64> = dossier
+                    .passes
+                    .iter()
+                    .filter_map(|p| p.data.sixty_ft_s.map(|s| s.s()))
+                    .collect();
+                let current = facts.figures(page.units());
+
+                let mut form = FormData::new(query.into_iter().collect());
+                let mut errors = FieldErrors::default();
+                let mut trial = None;
+                let mut recommended = None;
+                let mut recommended_from = current_trial;
+                if form.get("try") == "1"
+                    && let Some(t) = read_trial(&form, &page.ctx, &mut errors)
                 {
-                    let targets = TuningTargets {
-                        lockup_rpm: EngineSpeed::from_rpm(lockup_rpm),
-                        launch_ratio: ratio,
-                    };
-                    match facts.recommend(recommended_from, targets, page.units()) {
-                        Ok(found) => recommended = Some(found),
-                        Err(e) if e.field == "targets.launch_ratio" => {
-                            errors.add("target_ratio", e.message)
+                    match facts.capacity_request(t).map(|r| figures(&r, page.units())) {
+                        Ok(Ok(f)) => trial = Some((t, f)),
+                        Ok(Err(e)) => errors.add("adjuster_turns", e.message),
+                        Err(missing) => errors.add("adjuster_turns", missing),
+                    }
+                }
+                if form.get("recommend") == "1" {
+                    let units = page.units();
+                    // One range, the one the search can use: the car's torque curve.
+                    let curve = current.as_ref().ok().and_then(|f| {
+                        Some((f.report.curve.first()?.rpm, f.report.curve.last()?.rpm))
+                    });
+                    let lockup_limit = curve.map_or(limits::ENGINE_SPEED, |(lo, hi)| {
+                        Limit::new(Kind::Speed, Bound::Incl(lo), Bound::Incl(hi))
+                    });
+                    let (lockup, ratio) = typed_targets(&form, lockup_limit, units, &mut errors);
+                    if lockup.is_none() && !errors.has("target_lockup") {
+                        errors.add("target_lockup", "required");
+                    }
+                    // The μ being tried (e.g. the calibrated one) carries into the recommendation.
+                    if !form.get("mu").is_empty() {
+                        let mu = field::number(&form, "mu", limits::MU, units, &mut errors);
+                        recommended_from.mu = mu.or(current_trial.mu);
+                    }
+                    if let (Some(lockup_rpm), true, true) =
+                        (lockup, errors.is_empty(), current.is_ok())
+                    {
+                        let targets = TuningTargets {
+                            lockup_rpm: EngineSpeed::from_rpm(lockup_rpm),
+                            launch_ratio: ratio,
+                        };
+                        match facts.recommend(recommended_from, targets, page.units()) {
+                            Ok(found) => recommended = Some(found),
+                            Err(e) if e.field == "targets.launch_ratio" => {
+                                errors.add("target_ratio", e.message)
+                            }
+                            Err(e) => errors.add("target_lockup", e.message),
                         }
-                        Err(e) => errors.add("target_lockup", e.message),
                     }
                 }
-            }
-            if form.get("adjuster_turns").is_empty() {
-                let now = current_trial.as_setup();
-                let prefill = field::to_form(&now, page.units());
-                for name in ["adjuster_turns", "counterweight_g", "mu"] {
-                    // A μ given for the recommendation (e.g. the calibrated one) stays.
-                    if name != "mu" || form.get("mu").is_empty() {
-                        form.set(name, prefill.get(name));
+                if form.get("adjuster_turns").is_empty() {
+                    let now = current_trial.as_setup();
+                    let prefill = field::to_form(&now, page.units());
+                    for name in ["adjuster_turns", "counterweight_g", "mu"] {
+                        // A μ given for the recommendation (e.g. the calibrated one) stays.
+                        if name != "mu" || form.get("mu").is_empty() {
+                            form.set(name, prefill.get(name));
+                        }
                     }
                 }
-            }
-            let (recommendation, recommended) = match recommended {
-                Some((r, f)) => (Some(r), Some(f)),
-                None => (None, None),
-            };
-            let mut launch = launch_columns(
-                &facts,
-                &mut form,
-                &mut errors,
-                &page.ctx,
-                current.is_ok(),
-                current_trial,
-                Asked {
-                    trial: &trial,
-                    recommendation: &recommendation,
+                let (recommendation, recommended) = match recommended {
+                    Some((r, f)) => (Some(r), Some(f)),
+                    None => (None, None),
+                };
+                let mut launch = launch_columns(
+                    &facts,
+                    &mut form,
+                    &mut errors,
+                    &page.ctx,
+                    current.is_ok(),
+                    current_trial,
+                    Asked {
+                        trial: &trial,
+                        recommendation: &recommendation,
+                        recommended_from,
+                        recorded_sixty_ft: &recorded_sixty_ft,
+                        heat: heat.as_ref().map(|h| &h.fit),
+                    },
+                );
+                crate::web::pages::builds::launch::draw(&mut launch);
+                let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
+                let chart = match (&current, shown) {
+                    (Ok(cur), Some(new)) => Some(capacity_chart(
+                        Size::Wide,
+                        &page.u,
+                        &new.report,
+                        Some(&cur.report),
+                    )),
+                    (Ok(cur), None) => Some(capacity_chart(Size::Wide, &page.u, &cur.report, None)),
+                    _ => None,
+                };
+                let today = page.today();
+                let zone = page.zone.clone();
+                let page = TunePage {
+                    page,
+                    dossier,
+                    current_trial,
+                    current,
+                    trial,
+                    recommendation,
+                    recommended,
+                    chart,
+                    form,
+                    errors,
+                    today,
+                    calibration,
                     recommended_from,
-                    recorded_sixty_ft: &recorded_sixty_ft,
-                    heat: heat.as_ref().map(|h| &h.fit),
-                },
-            );
-            crate::web::pages::builds::launch::draw(&mut launch);
-            let shown = recommended.as_ref().or(trial.as_ref().map(|(_, f)| f));
-            let chart = match (&current, shown) {
-                (Ok(cur), Some(new)) => Some(capacity_chart(
-                    Size::Wide,
-                    &page.u,
-                    &new.report,
-                    Some(&cur.report),
-                )),
-                (Ok(cur), None) => Some(capacity_chart(Size::Wide, &page.u, &cur.report, None)),
-                _ => None,
-            };
-            let today = page.today();
-            let zone = page.zone.clone();
-            let page = TunePage {
-                page,
-                dossier,
-                current_trial,
-                current,
-                trial,
-                recommendation,
-                recommended,
-                chart,
-                form,
-                errors,
-                today,
-                calibration,
-                recommended_from,
-                launch,
-                friction,
-                heat,
-                by_launch,
-                method_flags,
-            };
-            Ok((page.render()?, zone))
-        })
+                    launch,
+                    friction,
+                    heat,
+                    by_launch,
+                    method_flags,
+                };
+                Ok((page.render()?, zone))
+            },
+        )
         .await?
 }
 
