@@ -125,10 +125,12 @@ impl Heavy {
             .map_err(|e| AppError::Internal(format!("heavy work stopped: {e}")))
     }
 
-    /// A caller's turn (`Caller(None)` takes none) and a place, then `read` on one of the
-    /// reader's connections and `work` on what it read, one after the other on one blocking
-    /// thread (see [`Reader::read_then`]): a page's reads and calculations in a single
-    /// hand-over.
+    /// `read` on one of the reader's connections, then a caller's turn (`Caller(None)` takes
+    /// none) and a place, then `work` on what it read, all on one blocking thread (see
+    /// [`Reader::read_then`]): a page's reads and calculations in a single hand-over. The
+    /// connection is given back before the thread waits for a place, so reads and heavy work
+    /// overlap as when they were handed over apart; the turn and the place are given back
+    /// the moment the work ends.
     pub async fn read_then<R, T, F, G>(
         self: &Arc<Self>,
         caller: &Caller,
@@ -139,15 +141,18 @@ impl Heavy {
     where
         T: Send + 'static,
         F: FnOnce(&Connection) -> rusqlite::Result<R> + Send + 'static,
-        G: FnOnce(R) -> T + Send + 'static,
+        G: FnOnce(R) -> Result<T, AppError> + Send + 'static,
     {
-        let _turn = self.turn(caller)?;
-        let _place = self
-            .running
-            .acquire()
-            .await
-            .map_err(|e| AppError::Internal(e.to_string()))?;
-        Ok(reader.read_then(read, work).await?)
+        let (heavy, caller) = (Arc::clone(self), caller.clone());
+        let runtime = tokio::runtime::Handle::current();
+        let work = move |read| {
+            let _turn = heavy.turn(&caller)?;
+            let _place = runtime
+                .block_on(heavy.running.acquire())
+                .map_err(|e| AppError::Internal(e.to_string()))?;
+            work(read)
+        };
+        reader.read_then(read, work).await?
     }
 
     /// A caller's turn, then `work` run as in [`Heavy::run`].

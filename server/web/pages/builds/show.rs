@@ -381,7 +381,7 @@ pub async fn render_page(
                 page_of(d, settings, sheets, &user, forms)
             },
         )
-        .await?
+        .await
 }
 
 /// The build page of dossier `d` (see [`render_page`]).

@@ -334,7 +334,7 @@ async fn render_tune(
                 Ok((page.render()?, zone))
             },
         )
-        .await?
+        .await
 }
 
 /// What the tuning page was asked to show beside the current setup, for the launch preview: a
