@@ -90,11 +90,7 @@ impl Reader {
             let out = {
                 let _turn = turn;
                 let conn = me.connection()?;
-                let out = conn.unchecked_transaction().and_then(|tx| {
-                    let out = read(&tx)?;
-                    tx.commit()?;
-                    Ok(out)
-                });
+                let out = in_transaction(&conn, read);
                 // At most one idle connection a turn: never more than `READERS` are kept.
                 let mut idle = me.idle.lock().unwrap_or_else(|e| e.into_inner());
                 if idle.len() < READERS {
@@ -142,6 +138,23 @@ impl Reader {
         };
         open().map_err(|e| ReadError(e.to_string()))
     }
+}
+
+/// `read` inside one read transaction, begun and ended by cached statements (a transaction
+/// object prepares both anew each time, a few percent of a page); ended after an error too,
+/// so the connection goes back idle outside any transaction.
+fn in_transaction<T>(
+    conn: &Connection,
+    read: impl FnOnce(&Connection) -> rusqlite::Result<T>,
+) -> rusqlite::Result<T> {
+    conn.prepare_cached("BEGIN")?.execute([])?;
+    let out = read(conn);
+    let end = conn
+        .prepare_cached(if out.is_ok() { "COMMIT" } else { "ROLLBACK" })
+        .and_then(|mut s| s.execute([]));
+    let out = out?;
+    end?;
+    Ok(out)
 }
 
 /// What a build's own pages read: its dossier, the shop's settings and `more` (the build
@@ -450,4 +463,31 @@ fn all<T>(
     read: impl FnMut(&Row) -> rusqlite::Result<T>,
 ) -> rusqlite::Result<Vec<T>> {
     prepare(conn, sql)?.query_map([key], read)?.collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // rusqlite's `is_autocommit` is SQLite's own word on whether a transaction is open
+    // (sqlite3_get_autocommit).
+    #[test]
+    fn a_read_runs_inside_one_transaction_and_leaves_none_open_after_success_or_error() {
+        let conn = Connection::open_in_memory().unwrap();
+        let inside = in_transaction(&conn, |c| Ok(c.is_autocommit())).unwrap();
+        assert!(!inside, "the read ran inside a transaction");
+        assert!(conn.is_autocommit(), "ended after success");
+        let failed = in_transaction(&conn, |c| {
+            c.prepare_cached("SELECT * FROM no_such_table").map(|_| ())
+        });
+        assert!(failed.is_err());
+        assert!(conn.is_autocommit(), "ended after an error");
+        // And the connection reads again.
+        assert_eq!(
+            in_transaction(&conn, |c| c
+                .query_row("SELECT 40 + 2", [], |r| r.get::<_, i64>(0)))
+            .unwrap(),
+            42
+        );
+    }
 }
