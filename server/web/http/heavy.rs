@@ -145,14 +145,26 @@ impl Heavy {
     {
         let (heavy, caller) = (Arc::clone(self), caller.clone());
         let runtime = tokio::runtime::Handle::current();
+        // Dropped with this future: a request given up (its client gone) stops waiting for a
+        // place and does no work, as when it waited for one on an async worker.
+        let (wanted, given_up) = tokio::sync::oneshot::channel::<()>();
         let work = move |read| {
             let _turn = heavy.turn(&caller)?;
-            let _place = runtime
-                .block_on(heavy.running.acquire())
+            let place = runtime.block_on(async {
+                tokio::select! {
+                    biased;
+                    _ = given_up => None,
+                    place = heavy.running.acquire() => Some(place),
+                }
+            });
+            let _place = place
+                .ok_or(AppError::Busy("the request was given up"))?
                 .map_err(|e| AppError::Internal(e.to_string()))?;
             work(read)
         };
-        reader.read_then(read, work).await?
+        let out = reader.read_then(read, work).await?;
+        drop(wanted);
+        out
     }
 
     /// A caller's turn, then `work` run as in [`Heavy::run`].
@@ -191,5 +203,54 @@ mod tests {
         assert!(heavy.analysis().is_err());
         drop(a);
         assert!(heavy.analysis().is_ok());
+    }
+
+    #[tokio::test]
+    async fn a_page_given_up_while_it_waits_for_a_place_stops_waiting_and_does_no_work() {
+        use std::sync::atomic::{AtomicBool, Ordering};
+        use std::time::Duration;
+        let path = std::env::temp_dir().join(format!("lockpoint-heavy-{}.db", std::process::id()));
+        let _ = std::fs::remove_file(&path);
+        Connection::open(&path).unwrap();
+        let reader = Reader::new(&path);
+        let heavy = Arc::new(Heavy::default());
+        let me = Caller(Some("session a".into()));
+        let ran = Arc::new(AtomicBool::new(false));
+        let page = |ran: Arc<AtomicBool>| {
+            heavy.read_then(
+                &me,
+                &reader,
+                |_| Ok(()),
+                move |()| {
+                    ran.store(true, Ordering::SeqCst);
+                    Ok(())
+                },
+            )
+        };
+        let places = heavy
+            .running
+            .acquire_many(HEAVY_AT_ONCE as u32)
+            .await
+            .unwrap();
+        // The client goes away while the page waits for a place.
+        let gone = tokio::time::timeout(Duration::from_millis(100), page(Arc::clone(&ran))).await;
+        assert!(gone.is_err(), "no place was free");
+        // The blocking thread gives its turn back without a place (every place is still
+        // held): both of the caller's turns are free again.
+        let mut freed = false;
+        for _ in 0..500 {
+            if let (Ok(_a), Ok(_b)) = (heavy.turn(&me), heavy.turn(&me)) {
+                freed = true;
+                break;
+            }
+            tokio::time::sleep(Duration::from_millis(10)).await;
+        }
+        assert!(freed, "the given-up page still waits for a place");
+        assert!(!ran.load(Ordering::SeqCst), "a given-up page did its work");
+        // With a place free, a page the client waits for is worked out.
+        drop(places);
+        page(Arc::clone(&ran)).await.unwrap();
+        assert!(ran.load(Ordering::SeqCst));
+        let _ = std::fs::remove_file(&path);
     }
 }
