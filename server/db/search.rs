@@ -15,8 +15,9 @@ const TRIGRAM: usize = 3;
 /// trigram index (the caller falls back to a plain substring scan).
 ///
 /// Every word (3+ characters) must match somewhere: as text in any column, or, by its digits,
-/// in the phone column (indexed as digits only). A query made only of phone characters also
-/// matches the phone by all its digits together, so "(555) 0190" finds "555-0190".
+/// in the phone column (indexed as digits only). A query of several words made only of phone
+/// characters also matches the phone by all its digits together, so "(555) 0190" finds
+/// "555-0190".
 pub fn match_expr(query: &str) -> Option<String> {
     let phrase = |text: &str| format!("\"{}\"", text.replace('"', "\"\""));
     let digits = |text: &str| {
@@ -40,12 +41,15 @@ pub fn match_expr(query: &str) -> Option<String> {
             _ => words.push(format!("({})", alternatives.join(" OR "))),
         }
     }
+    // One word already finds the phone by its digits (its phrase is those digits, or it has
+    // the phone alternative): only a phone written in parts needs them all together.
     let all = digits(query);
     let phone_like = query
         .chars()
         .all(|c| c.is_ascii_digit() || " -().+/".contains(c));
-    let whole_phone =
-        (phone_like && all.len() >= TRIGRAM).then(|| format!("phone : {}", phrase(&all)));
+    let parts = query.split_whitespace().count();
+    let whole_phone = (phone_like && parts > 1 && all.len() >= TRIGRAM)
+        .then(|| format!("phone : {}", phrase(&all)));
     match (words.is_empty(), whole_phone) {
         (true, None) => None,
         (true, Some(p)) => Some(p),

@@ -221,6 +221,12 @@ fn short_queries_fall_back_and_quotes_cannot_break_the_expression() {
         match_expr("(555) 0190").as_deref(),
         Some("((\"(555)\" OR phone : \"555\") AND \"0190\") OR phone : \"5550190\"")
     );
+    // One word finds the phone by itself: no second, redundant look-up of the same digits.
+    assert_eq!(match_expr("5550190").as_deref(), Some("\"5550190\""));
+    assert_eq!(
+        match_expr("555-0190").as_deref(),
+        Some("(\"555-0190\" OR phone : \"5550190\")")
+    );
 }
 
 /// The counter page's finder and its results only (the recent-activity feed names customers and
