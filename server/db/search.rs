@@ -2,7 +2,7 @@
 //! query turned into an FTS5 expression, ranked hits, and the cars and active builds each hit
 //! links to.
 
-use rusqlite::{Connection, Row, params};
+use rusqlite::{Connection, Row, ToSql, params};
 use sqlx::SqliteConnection;
 
 use super::customers::{CustomerSummary, FoundBuild, FoundCar, Order};
@@ -59,52 +59,71 @@ pub fn match_expr(query: &str) -> Option<String> {
 }
 
 /// The ranked search: one page of live customers matching the expression, with the number of
-/// matches on every row. `{order}` is replaced by the sort: best match first (bm25 over the
-/// trigram index), or by last name. The page is picked first and only its rows get their cars
-/// counted and listed; the ranking is worked out once for the page and the total together.
+/// matches on every row. `{order}` is replaced by the sort: best match first, or by last name.
+/// The page is picked first and only its rows get their cars counted and listed; the sort is
+/// worked out once for the page and the total together.
+///
+/// Best match first is: customers whose name holds every typed word (`?4`, a JSON list; ASCII
+/// letters compared without case) before those found by phone, email or car, then the shorter
+/// name (the closer match), then by name. It is read from the hits alone: FTS5's bm25 would
+/// run every phrase over the whole index once more for its weights, which doubled a search's
+/// time (names 405 against 213 µs, phones 235 against 123 µs, scale shop).
 pub const HITS_SQL: &str = "SELECT c.id, c.name, c.phone,
         (SELECT COUNT(*) FROM cars k WHERE k.customer_id = c.id) AS car_count,
         COALESCE((SELECT group_concat(k.description, '; ') FROM cars k
                   WHERE k.customer_id = c.id), '') AS cars,
         h.total
-     FROM (SELECT c.id, c.name, s.rank, count(*) OVER () AS total
+     FROM (SELECT c.id, c.name, {tier} AS tier, count(*) OVER () AS total
            FROM customer_search s JOIN customers c ON c.id = s.rowid
            WHERE customer_search MATCH ?1 AND c.deleted_at IS NULL
            ORDER BY {order} LIMIT ?2 OFFSET ?3) h
      JOIN customers c ON c.id = h.id
      ORDER BY {outer}";
 
+/// 0 when the customer's name holds every typed word (`?4`), else 1: the first key of the best
+/// match.
+const NAME_TIER: &str = "EXISTS (SELECT 1 FROM json_each(?4) w
+                        WHERE instr(lower(c.name), lower(w.value)) = 0)";
+
 /// The number of matches, for a page past the last one (which has no rows to carry it).
 const COUNT_SQL: &str = "SELECT COUNT(*) FROM customer_search s JOIN customers c ON c.id = s.rowid
      WHERE customer_search MATCH ? AND c.deleted_at IS NULL";
 
-/// One page of the ranked search for the FTS5 expression `expr`, and the number of matches.
+/// One page of the ranked search for the FTS5 expression `expr` of `query`, and the number of
+/// matches.
 fn customers(
     conn: &Connection,
+    query: &str,
     expr: &str,
     page: i64,
     order: Order,
 ) -> rusqlite::Result<(Vec<CustomerSummary>, i64)> {
-    // The same sort inside (on the index's columns) and outside (on the page's rows).
-    let (inner, outer) = match order {
+    // The same sort inside (on the hits) and outside (on the page's rows).
+    let (tier, inner, outer) = match order {
         Order::Best => (
-            format!("s.rank, {}", order.terms()),
-            format!("h.rank, {}", order.terms()),
+            NAME_TIER,
+            format!("tier, length(c.name), {}", order.terms()),
+            format!("h.tier, length(c.name), {}", order.terms()),
         ),
-        Order::LastName => (order.terms().to_string(), order.terms().to_string()),
+        Order::LastName => ("0", order.terms().to_string(), order.terms().to_string()),
     };
     let sql = HITS_SQL
+        .replace("{tier}", tier)
         .replace("{order}", &inner)
         .replace("{outer}", &outer);
+    let words = serde_json::to_string(&query.split_whitespace().collect::<Vec<_>>())
+        .unwrap_or_else(|_| "[]".into());
+    let offset = page.max(0) * super::PAGE_SIZE;
+    let mut bound: Vec<&dyn ToSql> = vec![&expr, &super::PAGE_SIZE, &offset];
+    if order == Order::Best {
+        bound.push(&words);
+    }
     let mut total = None;
     let mut rows: Vec<CustomerSummary> = prepare(conn, &sql)?
-        .query_map(
-            params![expr, super::PAGE_SIZE, page.max(0) * super::PAGE_SIZE],
-            |r| {
-                total = Some(r.get::<_, i64>(5)?);
-                summary(r)
-            },
-        )?
+        .query_map(bound.as_slice(), |r| {
+            total = Some(r.get::<_, i64>(5)?);
+            summary(r)
+        })?
         .collect::<rusqlite::Result<_>>()?;
     let total = match total {
         Some(total) => total,
@@ -191,8 +210,20 @@ pub async fn rebuild(conn: &mut SqliteConnection) -> sqlx::Result<()> {
                        WHERE k.customer_id = c.id), '')
          FROM customers c",
     )
-    .execute(conn)
+    .execute(&mut *conn)
     .await?;
+    compact(conn).await
+}
+
+/// Merges the index into a single segment (FTS5's `optimize`). Every write adds a small
+/// segment and FTS5 merges them only now and then, so a shop's index is several segments, each
+/// looked up by every search: one segment made the scale shop's searches a third faster (name
+/// 181 → 118 µs, phone digits 119 → 65 µs, SQLite's own time). Quick when the index already is
+/// one segment (5 ms at 10,000 customers; 160 ms to merge six).
+pub async fn compact(conn: &mut SqliteConnection) -> sqlx::Result<()> {
+    sqlx::query("INSERT INTO customer_search (customer_search) VALUES ('optimize')")
+        .execute(conn)
+        .await?;
     Ok(())
 }
 
@@ -216,7 +247,7 @@ pub fn list(
     order: Order,
 ) -> rusqlite::Result<(Vec<CustomerSummary>, i64)> {
     if let Some(expr) = match_expr(query) {
-        return customers(conn, &expr, page, order);
+        return customers(conn, query, &expr, page, order);
     }
     let everyone = query.trim().is_empty();
     let pattern = format!("%{}%", escape_like(query.trim()));
