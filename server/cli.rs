@@ -213,6 +213,7 @@ async fn serve(args: ServeArgs) -> Result<(), CliError> {
         tracing::info!(builds = worked_out, "work-due status worked out");
     }
     tokio::spawn(crate::web::forget_old_failures(pool.clone()));
+    tokio::spawn(crate::status::keep_search_compact(pool.clone()));
     let listener = TcpListener::bind(args.addr).await?;
     let shutdown = shutdown_signal()?;
     println!("listening on http://{}", listener.local_addr()?);

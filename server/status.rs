@@ -161,13 +161,33 @@ pub async fn refresh_stale(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
 
 /// Gives every build a status row and works out the stale ones, and fills the search index
 /// when it does not hold every customer: for a database that was loaded
-/// with the triggers set aside, or that has just been migrated. Returns how many were worked out.
+/// with the triggers set aside, or that has just been migrated. Merges the search index into
+/// one segment ([`db::search::compact`]). Returns how many were worked out.
 pub async fn ensure(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
-    if !db::search::in_step(conn).await? {
+    if db::search::in_step(conn).await? {
+        db::search::compact(conn).await?;
+    } else {
         db::search::rebuild(conn).await?;
     }
     db::status::mark_missing(conn).await?;
     refresh_stale(conn).await
+}
+
+/// Runs until the server stops: once a day merges the search index into one segment again
+/// ([`db::search::compact`]), as the day's new and changed customers add segments to it. One
+/// short write, off the request path; a failure is logged and tried again the next day.
+pub async fn keep_search_compact(pool: sqlx::SqlitePool) {
+    const DAY: std::time::Duration = std::time::Duration::from_secs(24 * 60 * 60);
+    loop {
+        tokio::time::sleep(DAY).await;
+        let merged = match pool.acquire().await {
+            Ok(mut conn) => db::search::compact(&mut conn).await,
+            Err(e) => Err(e),
+        };
+        if let Err(e) = merged {
+            tracing::warn!(error = %e, "merging the search index failed");
+        }
+    }
 }
 
 /// Works out every derived table again from the records: every build's status and the search
