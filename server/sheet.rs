@@ -55,6 +55,12 @@ pub struct SheetInputs {
     /// false, on sheets printed before: those keep the words they showed).
     #[serde(default)]
     pub soon_status: bool,
+    /// The launch preview's integration step when it was printed, ms (absent on sheets printed
+    /// before the previews took
+    /// [`PREVIEW_STEP_MS`](crate::model::launch::PREVIEW_STEP_MS): those reprint at the 0.5 ms they used, so
+    /// a run that leaves the torque curve ends where it did).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub preview_step_ms: Option<f64>,
 }
 
 /// The friction in force when a sheet was printed.
@@ -120,6 +126,7 @@ impl SheetInputs {
                 short: now.friction.short(),
             }),
             soon_status: true,
+            preview_step_ms: Some(now.preview_step_ms),
         }
     }
 
@@ -161,6 +168,9 @@ pub fn figures(inputs: &SheetInputs) -> SheetFigures {
         // The friction in force when it was printed (the calibration of that day included).
         build.trial.mu = f.mu;
     }
+    build.preview_step_ms = inputs
+        .preview_step_ms
+        .unwrap_or(clutch::launch::request::DEFAULT_STEP_MS);
     if !inputs.wear_in_clamp {
         // Printed before the figures took wear off the static clamp: they reprint as shown.
         build.clamp_loss = Force::from_n(0.0);

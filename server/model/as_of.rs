@@ -3,6 +3,7 @@
 //! the ones in force on that date; the build's hardware and the car are as recorded. Storage
 //! units (mm, N, N/mm, N·m, g) are the metric request units, so nothing is converted here. No IO.
 
+use super::launch::PREVIEW_STEP_MS;
 use super::wear::wear_request;
 use super::{Figures, Missing, Trial, TuningTargets, curve_range, figures};
 use crate::records::build::BuildInput;
@@ -53,6 +54,9 @@ pub struct BuildAsOf<'a> {
     pub clamp_loss: Force,
     /// The friction coefficient in force and why (`trial.mu` is its `mu`).
     pub friction: Friction,
+    /// Integration step of its launch previews, ms: [`PREVIEW_STEP_MS`], or the step a sheet
+    /// was printed with.
+    pub preview_step_ms: f64,
 }
 
 /// What a build's calibration says, as the friction rule reads it.
@@ -296,6 +300,7 @@ impl<'a> BuildAsOf<'a> {
             installed_length,
             heights,
             clamp_loss: Force::from_n(0.0),
+            preview_step_ms: PREVIEW_STEP_MS,
         };
         build.trial.mu = build.friction.mu;
         build.clamp_loss = build.wear_clamp_loss();

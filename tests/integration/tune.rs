@@ -420,6 +420,20 @@ async fn the_launch_warning_says_the_clutch_grabs_and_gives_the_preview_slip_tim
         item.contains("The launch preview of this setting"),
         "slip time beside the warning: {item}"
     );
+
+    // The sheet printed now says the same of the preview, and keeps the step it was worked
+    // out with (`model::launch::PREVIEW_STEP_MS`), so it reprints the same later.
+    let preview = &item[item.find("The launch preview of this setting").unwrap()..];
+    let made = client.post_saved(&format!("{build}/sheets"), &[]).await;
+    let sheet = client.get(made.location()).await;
+    assert!(sheet.body.contains(preview), "the sheet says: {preview}");
+    let step: f64 = sqlx::query_scalar(
+        "SELECT json_extract(inputs, '$.preview_step_ms') FROM sheets ORDER BY id DESC LIMIT 1",
+    )
+    .fetch_one(&app.pool)
+    .await
+    .unwrap();
+    assert_eq!(step, lockpoint::model::launch::PREVIEW_STEP_MS);
 }
 
 /// Issue 21, item 2: the build's release travel (stored in mm, typed in the shop's units)
