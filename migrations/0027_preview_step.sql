@@ -1,5 +1,5 @@
 -- A stored build's launch previews now integrate at 2 ms (`model::launch::PREVIEW_STEP_MS`)
--- instead of the free calculation's 0.5 ms. The whole-launch fits kept in `launch_fits` carry a
+-- instead of the free calculation's 0.5 ms. The whole-launch fits kept in `pass_launch_fits` carry a
 -- fingerprint of their request, step included, so every fit kept before no longer matches and
 -- would be worked out again on every page view. The builds that have fits (their car has the
 -- launch fields) are marked stale, so the server works them out once at its next start

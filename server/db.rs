@@ -14,6 +14,7 @@ pub mod export;
 pub mod heights;
 pub mod imports;
 pub mod launch_fits;
+pub mod pass_energies;
 pub mod pass_logs;
 pub mod passes;
 pub mod read;

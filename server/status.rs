@@ -15,13 +15,13 @@ use crate::db::status::{BuildStatus, Listed};
 use crate::model::as_of::{BuildAsOf, bench_review};
 use crate::model::calibration::launch_fits;
 use crate::model::due::{Due, DueReason, soonest};
-use crate::model::energy::energy_forecast;
+use crate::model::energy::{energy_forecast, pass_energies};
 use crate::model::launch::launch_ready;
 use crate::model::wear::wear_request;
 use crate::records::build::BuildInput;
 use crate::records::settings::SettingsInput;
 use crate::records::stored::Height;
-use crate::records::stored::{BenchTest, KeptLaunchFit};
+use crate::records::stored::{BenchTest, KeptEnergy, KeptLaunchFit};
 use clutch::wear::{self, WearStatus};
 
 /// A build's status from its whole history: its cover heights (recorded order) and bench tests
@@ -103,15 +103,25 @@ pub fn lines(row: &Listed, status: &BuildStatus, window: i64) -> Vec<Due> {
     out
 }
 
+/// What a build keeps beside its status, each pass's figures that take launch simulations
+/// (empty without the car's launch fields).
+#[derive(Debug, Default)]
+pub struct KeptFigures {
+    /// The whole-launch friction of its passes (`model::calibration::launch_fits`).
+    pub fits: Vec<KeptLaunchFit>,
+    /// The launch preview's slip energy of its passes (`model::energy::pass_energies`).
+    pub energies: Vec<KeptEnergy>,
+}
+
 /// Works out one build's status from its stored history (None when there is no such build),
 /// with its forecast by slip energy (`model::energy::energy_forecast`, launch previews: the
-/// reason it is kept rather than worked out per counter view), and the whole-launch friction of
-/// its passes (`model::calibration::launch_fits`, kept for the same reason).
+/// reason it is kept rather than worked out per counter view), and what it keeps of its
+/// passes for the same reason ([`KeptFigures`]).
 pub async fn work_out(
     conn: &mut SqliteConnection,
     build_id: i64,
     settings: &SettingsInput,
-) -> sqlx::Result<Option<(BuildStatus, Vec<KeptLaunchFit>)>> {
+) -> sqlx::Result<Option<(BuildStatus, KeptFigures)>> {
     let Some(build) = db::builds::any_by_id(conn, build_id).await? else {
         return Ok(None);
     };
@@ -123,23 +133,26 @@ pub async fn work_out(
     // at a counter without them costs only the wear and springs above).
     let car = db::cars::by_id(conn, build.car_id).await?;
     if !car.is_some_and(|c| launch_ready(&c.data)) {
-        return Ok(Some((status, Vec::new())));
+        return Ok(Some((status, KeptFigures::default())));
     }
     // A build of a deleted customer is listed nowhere: its wear and springs are enough.
     if db::builds::by_id(conn, build_id).await?.is_none() {
-        return Ok(Some((status, Vec::new())));
+        return Ok(Some((status, KeptFigures::default())));
     }
     let Some(mut d) = db::dossier::with_parts(conn, build, heights, bench).await? else {
-        return Ok(Some((status, Vec::new())));
+        return Ok(Some((status, KeptFigures::default())));
     };
     let fits = launch_fits(&d, settings);
-    // The forecast's friction in force reads the fits just worked out.
+    // The forecast's friction in force reads the fits just worked out, and its passes' slip
+    // energies the ones just kept.
     d.launch_fits.clone_from(&fits);
+    let energies = pass_energies(&d, settings);
+    d.pass_energies.clone_from(&energies);
     if let Ok(e) = energy_forecast(&d, &BuildAsOf::now(&d, settings)) {
         status.energy_shim_passes = e.passes_to_shim_due;
         status.energy_disc_passes = e.passes_to_disc_due;
     }
-    Ok(Some((status, fits)))
+    Ok(Some((status, KeptFigures { fits, energies })))
 }
 
 /// Works out and stores every build marked stale by this transaction's writes; returns how many.
@@ -151,9 +164,10 @@ pub async fn refresh_stale(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
     }
     let settings = db::settings::get(conn).await?;
     for &id in &ids {
-        if let Some((status, fits)) = work_out(conn, id, &settings).await? {
+        if let Some((status, kept)) = work_out(conn, id, &settings).await? {
             db::status::store(conn, id, &status).await?;
-            db::launch_fits::replace(conn, id, &fits).await?;
+            db::launch_fits::replace(conn, id, &kept.fits).await?;
+            db::pass_energies::replace(conn, id, &kept.energies).await?;
         }
     }
     Ok(ids.len())

@@ -61,6 +61,7 @@ pub const SKIPPED: &[&str] = &[
     // derived from the records; the import works it out again
     "build_status",
     "pass_launch_fits",
+    "pass_energies",
 ];
 
 /// One stored value, with SQLite's own storage class.

@@ -31,8 +31,8 @@ use crate::records::field::Record;
 use crate::records::measure::{EngineSpeed, Force, Length, Seconds};
 use crate::records::settings::SettingsInput;
 use crate::records::stored::{
-    BenchSpring, BenchTest, Build, BuildOwner, Car, Dossier, Height, KeptLaunchFit, LogSummary,
-    Pass, Setup,
+    BenchSpring, BenchTest, Build, BuildOwner, Car, Dossier, Height, KeptEnergy, KeptLaunchFit,
+    LogSummary, Pass, Setup,
 };
 
 /// Connections reading at once: one a core of the machine the goals were set on; a page waits
@@ -221,6 +221,14 @@ pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> 
         passes_total,
         logs: all(conn, once!(logs_sql()), build.id, log_summary)?,
         launch_fits: all(conn, super::launch_fits::FOR_BUILD, build.id, launch_fit)?,
+        pass_energies: all(conn, super::pass_energies::FOR_BUILD, build.id, |r| {
+            Ok(KeptEnergy {
+                pass_id: r.get(0)?,
+                inputs: r.get(1)?,
+                energy_j: r.get(2)?,
+                note: r.get(3)?,
+            })
+        })?,
         build,
     }))
 }

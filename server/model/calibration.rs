@@ -315,9 +315,10 @@ impl LaunchMethod {
     }
 }
 
-/// The fingerprint of a whole-launch fit's request: FNV-1a (64-bit) over its JSON, so a kept
-/// fit is used only while everything it read is unchanged.
-pub fn fingerprint(request: &LaunchCalibrateRequest) -> i64 {
+/// The fingerprint of a request a kept figure was worked out from (a whole-launch fit's, a launch
+/// preview's): FNV-1a (64-bit) over its JSON, so the kept figure is used only while everything
+/// it read is unchanged.
+pub fn fingerprint(request: &impl serde::Serialize) -> i64 {
     let bytes = serde_json::to_vec(request).unwrap_or_default();
     let hash = bytes.iter().fold(0xcbf2_9ce4_8422_2325_u64, |h, b| {
         (h ^ u64::from(*b)).wrapping_mul(0x0000_0100_0000_01b3)

@@ -5,10 +5,12 @@ use crate::records::measure::EngineSpeed;
 use std::collections::HashMap;
 
 use super::as_of::BuildAsOf;
+use super::calibration::fingerprint;
 use super::wear::current_disc;
 use super::{Missing, Trial};
 use crate::records::settings::SettingsInput;
-use crate::records::stored::{Dossier, Pass};
+use crate::records::stored::{Dossier, KeptEnergy, Pass};
+use clutch::launch::request::LaunchRequest;
 use clutch::wear::{EnergyWear, passes_to_due};
 
 /// A build's disc wear against the slip energy its passes took, and the forecast that follows
@@ -50,8 +52,12 @@ fn modelled_energy_j(
     trial: Trial,
     launch_rpm: Option<f64>,
 ) -> Result<f64, Missing> {
-    let plan = build.launch_request(trial, launch_rpm)?;
-    let model = plan.request.validate().map_err(|e| e.message)?.model;
+    simulated_energy_j(&build.launch_request(trial, launch_rpm)?.request)
+}
+
+/// The slip energy of the launch `request` describes, J, or why there is none.
+fn simulated_energy_j(request: &LaunchRequest) -> Result<f64, Missing> {
+    let model = request.validate().map_err(|e| e.message)?.model;
     let run = model.simulate();
     run.lockup
         .map(|_| run.slip_energy_j)
@@ -59,13 +65,19 @@ fn modelled_energy_j(
 }
 
 /// Each pass's slip energy, J: from its data log, else from the launch preview at the setting
-/// of its date from its launch speed (the car's when it has none); the preview of one date and
-/// launch speed is worked out once.
+/// of its date from its launch speed (the car's when it has none). The preview's energy is
+/// the one kept with the dossier ([`KeptEnergy`]) while the fingerprint of its request still
+/// matches, else simulated; the preview of one date and launch speed is worked out once.
 pub struct PassEnergies<'a> {
     d: &'a Dossier,
     settings: &'a SettingsInput,
-    modelled: HashMap<(String, Option<u64>), Result<f64, Missing>>,
+    /// By (date, launch speed bits).
+    modelled: HashMap<(String, Option<u64>), Modelled>,
 }
+
+/// A launch preview's energy as [`PassEnergies`] finds it: the fingerprint of its request (0
+/// when there is no request) and the energy, J, or why there is none.
+type Modelled = (i64, Result<f64, Missing>);
 
 impl<'a> PassEnergies<'a> {
     pub fn new(d: &'a Dossier, settings: &'a SettingsInput) -> Self {
@@ -81,6 +93,12 @@ impl<'a> PassEnergies<'a> {
         if let Some(e) = self.d.log_of(pass.id).and_then(|l| l.slip_energy_j) {
             return Ok(e);
         }
+        self.modelled(pass).1
+    }
+
+    /// The launch preview's energy of `pass` at the setting of its date: its request's
+    /// fingerprint (0 without a request) and the energy or why there is none.
+    fn modelled(&mut self, pass: &Pass) -> Modelled {
         let key = (
             pass.data.run_on.clone(),
             pass.data.launch_rpm.map(|r| r.rpm().to_bits()),
@@ -90,12 +108,49 @@ impl<'a> PassEnergies<'a> {
             .entry(key)
             .or_insert_with(|| {
                 let at = BuildAsOf::on(d, settings, &pass.data.run_on);
-                at.setup
-                    .ok_or("No setup was in force on the pass's date.")?;
-                modelled_energy_j(&at, at.trial, pass.data.launch_rpm.map(EngineSpeed::rpm))
+                let plan = at
+                    .setup
+                    .ok_or_else(|| "No setup was in force on the pass's date.".to_string())
+                    .and_then(|_| {
+                        at.launch_request(at.trial, pass.data.launch_rpm.map(EngineSpeed::rpm))
+                    });
+                let request = match plan {
+                    Ok(plan) => plan.request,
+                    Err(why) => return (0, Err(why)),
+                };
+                let inputs = fingerprint(&request);
+                let kept = d
+                    .pass_energies
+                    .iter()
+                    .find(|k| k.pass_id == pass.id && k.inputs == inputs);
+                let energy = match kept {
+                    Some(k) => k.energy_j.ok_or_else(|| k.note.clone().unwrap_or_default()),
+                    None => simulated_energy_j(&request),
+                };
+                (inputs, energy)
             })
             .clone()
     }
+}
+
+/// The launch preview's slip energy of every loaded pass without a data log's, as
+/// `status::work_out` keeps it (the kept ones reused while they match): the passes whose
+/// preview has a request, newest first.
+pub fn pass_energies(d: &Dossier, settings: &SettingsInput) -> Vec<KeptEnergy> {
+    let mut energies = PassEnergies::new(d, settings);
+    d.passes
+        .iter()
+        .filter(|p| d.log_of(p.id).and_then(|l| l.slip_energy_j).is_none())
+        .filter_map(|pass| {
+            let (inputs, energy) = energies.modelled(pass);
+            (inputs != 0).then(|| KeptEnergy {
+                pass_id: pass.id,
+                inputs,
+                energy_j: energy.as_ref().ok().copied(),
+                note: energy.err(),
+            })
+        })
+        .collect()
 }
 
 /// Wear per unit of slip energy on the disc in the clutch (docs/engineering.md §13): between

@@ -173,6 +173,21 @@ pub struct Dossier {
     pub logs: Vec<LogSummary>,
     /// The kept whole-launch friction of those passes (`pass_launch_fits`, derived).
     pub launch_fits: Vec<KeptLaunchFit>,
+    /// The kept slip energies of those passes' launch previews (`pass_energies`, derived).
+    pub pass_energies: Vec<KeptEnergy>,
+}
+
+/// The slip energy of one pass's launch preview, as kept (`pass_energies`, migration 0028):
+/// valid only while `inputs` matches the fingerprint of the preview's request today.
+#[derive(Debug, Clone, PartialEq, sqlx::FromRow)]
+pub struct KeptEnergy {
+    pub pass_id: i64,
+    /// Fingerprint of the preview's request (`model::calibration::fingerprint`).
+    pub inputs: i64,
+    /// The preview's slip energy, J; `None` with `note`.
+    pub energy_j: Option<f64>,
+    /// Why the preview gives none.
+    pub note: Option<String>,
 }
 
 /// What the whole launch said of one pass, as kept (`pass_launch_fits`, migration 0025): valid

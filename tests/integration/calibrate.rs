@@ -1046,3 +1046,50 @@ async fn a_typed_lock_time_is_read_by_the_whole_launch_and_kept() {
     let v = app.api("GET", &path, t, None).await.json();
     assert!((num(&v["passes"][0]["mu"]) - first).abs() < 1e-9, "{v}");
 }
+
+// A pass's launch-preview slip energy is kept with its build when the build is written
+// (`pass_energies`, worked out by `status::work_out`) and read from there while the preview's
+// request is what it was; a request that no longer matches is simulated again.
+#[tokio::test]
+async fn a_passes_preview_energy_is_kept_and_used_only_while_its_request_matches() {
+    use lockpoint::model::energy::PassEnergies;
+    let app = TestApp::new().await;
+    let (id, token) = stored_build(&app).await;
+    let t = Some(token.as_str());
+    set_up_2_turns_40_g(&app, id, t).await;
+    for (i, mu) in [0.30, 0.32].into_iter().enumerate() {
+        let body = json!({"run_on": format!("2026-10-0{}", i + 2), "ambient_c": 20.0,
+                          "observed_lockup_rpm": lockup_for(mu)});
+        record_pass(&app, id, t, body).await;
+    }
+    give_the_car_launch_fields(&app, id, t).await;
+    let mut conn = app.pool.acquire().await.unwrap();
+    let settings = lockpoint::db::settings::get(&mut conn).await.unwrap();
+    let mut d = lockpoint::db::dossier::load(&mut conn, id)
+        .await
+        .unwrap()
+        .expect("the build");
+    assert_eq!(d.pass_energies.len(), 2, "one kept energy a pass");
+    let pass = d.passes[0].clone();
+    let kept = d
+        .pass_energies
+        .iter()
+        .find(|k| k.pass_id == pass.id)
+        .cloned()
+        .unwrap();
+    let simulated = kept.energy_j.expect("the preview locks");
+    assert!(simulated > 1_000.0, "{simulated} J");
+    assert_eq!(PassEnergies::new(&d, &settings).of(&pass), Ok(simulated));
+
+    // A kept figure is what the pages read while its fingerprint matches...
+    let at = d
+        .pass_energies
+        .iter()
+        .position(|k| k.pass_id == pass.id)
+        .unwrap();
+    d.pass_energies[at].energy_j = Some(1.0);
+    assert_eq!(PassEnergies::new(&d, &settings).of(&pass), Ok(1.0));
+    // ...and is simulated again once it does not.
+    d.pass_energies[at].inputs ^= 1;
+    assert_eq!(PassEnergies::new(&d, &settings).of(&pass), Ok(simulated));
+}
