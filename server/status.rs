@@ -166,8 +166,7 @@ pub async fn refresh_stale(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
     for &id in &ids {
         if let Some((status, kept)) = work_out(conn, id, &settings).await? {
             db::status::store(conn, id, &status).await?;
-            db::launch_fits::replace(conn, id, &kept.fits).await?;
-            db::pass_energies::replace(conn, id, &kept.energies).await?;
+            db::kept::replace(conn, id, &kept.fits, &kept.energies).await?;
         }
     }
     Ok(ids.len())

@@ -47,8 +47,8 @@ pub async fn with_parts(
         passes,
         passes_total,
         logs: super::pass_logs::for_build(conn, build_id).await?,
-        launch_fits: super::launch_fits::for_build(conn, build_id).await?,
-        pass_energies: super::pass_energies::for_build(conn, build_id).await?,
+        launch_fits: super::kept::fits(conn, build_id).await?,
+        pass_energies: super::kept::energies(conn, build_id).await?,
         build,
     }))
 }

@@ -220,8 +220,8 @@ pub fn dossier(conn: &Connection, id: i64) -> rusqlite::Result<Option<Dossier>> 
         passes,
         passes_total,
         logs: all(conn, once!(logs_sql()), build.id, log_summary)?,
-        launch_fits: all(conn, super::launch_fits::FOR_BUILD, build.id, launch_fit)?,
-        pass_energies: all(conn, super::pass_energies::FOR_BUILD, build.id, |r| {
+        launch_fits: all(conn, super::kept::FITS_FOR_BUILD, build.id, launch_fit)?,
+        pass_energies: all(conn, super::kept::ENERGIES_FOR_BUILD, build.id, |r| {
             Ok(KeptEnergy {
                 pass_id: r.get(0)?,
                 inputs: r.get(1)?,
