@@ -111,6 +111,17 @@ impl TorqueCurve {
         upper.saturating_sub(1).min(self.rpm.len() - 2)
     }
 
+    /// The same index as [`Self::segment_of`], looked for first in segment `near` (where the
+    /// previous speed was): a run along the curve stays in one segment for many steps.
+    pub(crate) fn segment_near(&self, rpm: f64, near: usize) -> usize {
+        match (self.rpm.get(near), self.rpm.get(near + 1)) {
+            // Every speed up to `near` is ≤ rpm and every one after is > rpm, as
+            // `partition_point` would find.
+            (Some(&lo), Some(&hi)) if lo <= rpm && rpm < hi => near,
+            _ => self.segment_of(rpm),
+        }
+    }
+
     /// Linear interpolation on segment `i`, also used to extrapolate just past its ends.
     pub(crate) fn on_segment(&self, i: usize, rpm: f64) -> f64 {
         let (r0, r1) = (self.rpm[i], self.rpm[i + 1]);
@@ -136,6 +147,24 @@ mod tests {
             (4000.0, 455.0),
         ];
         TorqueCurve::new(&pts, "engine.torque_curve", Units::Metric).expect("valid curve")
+    }
+
+    // The launch run's look-up from the previous segment finds what the binary search finds,
+    // from any segment, at every speed: below, on and between the points, and past both ends.
+    #[test]
+    fn the_segment_near_the_last_one_is_the_one_the_search_finds() {
+        let pts: Vec<(f64, f64)> = (0..9).map(|i| (3000.0 + 500.0 * i as f64, 400.0)).collect();
+        let c = TorqueCurve::new(&pts, "engine.torque_curve", Units::Metric).expect("valid curve");
+        for k in 0..=1000 {
+            let rpm = 2000.0 + 6.25 * k as f64;
+            for near in 0..pts.len() + 1 {
+                assert_eq!(
+                    c.segment_near(rpm, near),
+                    c.segment_of(rpm),
+                    "{rpm} from {near}"
+                );
+            }
+        }
     }
 
     #[test]

@@ -273,6 +273,8 @@ struct Plant<'a> {
     m_eq: f64,
     weight_n: f64,
     rolling_n: f64,
+    /// The engine curve's segment of the last speed looked up.
+    segment: std::cell::Cell<usize>,
 }
 
 impl<'a> Plant<'a> {
@@ -294,6 +296,7 @@ impl<'a> Plant<'a> {
             m_eq: m_t + j_w / (r * r),
             weight_n,
             rolling_n: v.rolling_resistance * weight_n,
+            segment: std::cell::Cell::new(0),
         }
     }
 
@@ -321,7 +324,9 @@ impl<'a> Plant<'a> {
     fn engine_nm(&self, w: f64) -> f64 {
         let e = &self.m.engine;
         let rpm = w / RAD_S_PER_RPM;
-        e.curve.on_segment(e.curve.segment_of(rpm), rpm) - e.friction_nm
+        let segment = e.curve.segment_near(rpm, self.segment.get());
+        self.segment.set(segment);
+        e.curve.on_segment(segment, rpm) - e.friction_nm
     }
 
     /// Sliding capacity at engine speed ω, N·m: the capacity law at ω (rev/min at this edge)
