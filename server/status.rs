@@ -183,6 +183,15 @@ pub async fn ensure(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
         db::search::rebuild(conn).await?;
     }
     db::status::mark_missing(conn).await?;
+    // After an upgrade that changes what is kept (such as migration 0027) every launch-ready
+    // build is worked out here, launch simulations included: say so before the wait.
+    let waiting = db::status::stale(conn).await?.len();
+    if waiting > 0 {
+        tracing::info!(
+            builds = waiting,
+            "working out builds' status and kept launch figures"
+        );
+    }
     refresh_stale(conn).await
 }
 
