@@ -159,11 +159,16 @@ pub async fn work_out(
 /// Every write path calls it before committing.
 pub async fn refresh_stale(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
     let ids = db::status::stale(conn).await?;
+    refresh(conn, &ids).await
+}
+
+/// Works out and stores the builds `ids`; returns how many.
+async fn refresh(conn: &mut SqliteConnection, ids: &[i64]) -> sqlx::Result<usize> {
     if ids.is_empty() {
         return Ok(0);
     }
     let settings = db::settings::get(conn).await?;
-    for &id in &ids {
+    for &id in ids {
         if let Some((status, kept)) = work_out(conn, id, &settings).await? {
             db::status::store(conn, id, &status).await?;
             db::kept::replace(conn, id, &kept.fits, &kept.energies).await?;
@@ -185,14 +190,14 @@ pub async fn ensure(conn: &mut SqliteConnection) -> sqlx::Result<usize> {
     db::status::mark_missing(conn).await?;
     // After an upgrade that changes what is kept (such as migration 0027) every launch-ready
     // build is worked out here, launch simulations included: say so before the wait.
-    let waiting = db::status::stale(conn).await?.len();
-    if waiting > 0 {
+    let ids = db::status::stale(conn).await?;
+    if !ids.is_empty() {
         tracing::info!(
-            builds = waiting,
+            builds = ids.len(),
             "working out builds' status and kept launch figures"
         );
     }
-    refresh_stale(conn).await
+    refresh(conn, &ids).await
 }
 
 /// Runs until the server stops: once a day merges the search index into one segment again

@@ -373,7 +373,8 @@ mod tests {
     // than 1e-4 s) made at the previews' step, on the reference launch of §18 [derived there],
     // on it with tires that spin mid-run (grips 1.4 / 1.12, 30 g of counterweight: two events
     // inside steps) and on it with μ falling with plate temperature (held through each step,
-    // so the error is first order; stored builds' previews keep μ constant). The slip energy,
+    // so the error is first order; stored builds' previews keep μ constant; the three points are
+    // invented, a case for the check, not data). The slip energy,
     // which the forecast by energy sums, moves by under 0.01 %; the 60-ft time by under 1e-4 s.
     #[test]
     fn halving_the_previews_step_barely_moves_what_they_show() {

@@ -19,6 +19,7 @@ serve_in_background "$WORK/demo.db" --demo --no-page-cache
 [ -n "$BASE" ] || { cat "$WORK/serve.err" >&2; exit 1; }
 COOKIE=$(session_cookie demo lockpoint-demo)
 cpu() { awk '{print $14 + $15}' "/proc/$SERVER/stat"; }
+HZ=$(getconf CLK_TCK)
 
 printf '| %-18s | %6s | %12s | %10s | %14s |\n' page passes "median (curl)" "p90 (curl)" "server CPU/req"
 printf '|%s|%s|%s|%s|%s|\n' "--------------------" "--------" "--------------" "------------" "----------------"
@@ -34,7 +35,7 @@ for id in $(sqlite3 "$WORK/demo.db" "SELECT build_id FROM launch_ready_builds OR
     out=$(wrk -t1 -c1 -d4s -H "Cookie: $COOKIE" "$BASE$path")
     c1=$(cpu)
     n=$(awk '/requests in/ {print $1}' <<<"$out")
-    per=$(awk -v a="$c0" -v b="$c1" -v n="$n" 'BEGIN {printf "%.0f µs", (b - a) * 1e6 / 100 / n}')
+    per=$(awk -v a="$c0" -v b="$c1" -v n="$n" -v hz="$HZ" 'BEGIN {printf "%.0f µs", (b - a) * 1e6 / hz / n}')
     printf '| %-18s | %6s | %12s | %10s | %14s |\n' "$path" "$passes" "$median" "$p90" "$per"
   done
 done
