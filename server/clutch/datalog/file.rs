@@ -350,7 +350,63 @@ pub fn find(names: &[String], name: &str) -> Option<usize> {
 /// cell that is not a number, or a row the CSV rules cannot read, names its line and column.
 /// Rows shorter than the header leave the missing cells blank; empty lines are skipped.
 pub fn read(text: &[u8], wanted: &[Wanted]) -> Result<Columns, InputError> {
-    read_with(text, wanted, true)
+    read_on(text, wanted, &InTurn)
+}
+
+/// [`read`], a file of [`HALVES_FROM_BYTES`] or more read as two halves handed to `join`
+/// (the caller decides whether they run at once; this crate starts no threads). The lower
+/// half starts at the first line after the middle; it is kept only when the upper half's last
+/// row ends exactly there, so a quoted line break across the middle, blank lines at it or an
+/// error below it read as from the top down (the rest is then read again from the upper
+/// half's end): the same numbers, lines and errors either way.
+pub fn read_on(text: &[u8], wanted: &[Wanted], join: &impl Join) -> Result<Columns, InputError> {
+    read_with(text, wanted, true, join, Cut::Middle(HALVES_FROM_BYTES))
+}
+
+/// Rows below a file of this size are read in one go by [`read_on`]: under it a second
+/// thread's start costs more than half the reading saves.
+pub const HALVES_FROM_BYTES: usize = 1 << 20;
+
+/// Runs two pieces of work and returns both results: one after the other, or at once on two
+/// threads; which is the caller's choice (see [`InTurn`]).
+pub trait Join {
+    /// Whether [`Join::join`] runs the two at once: work is split in two only then.
+    fn at_once(&self) -> bool;
+
+    fn join<A: Send, B: Send>(
+        &self,
+        a: impl FnOnce() -> A + Send,
+        b: impl FnOnce() -> B + Send,
+    ) -> (A, B);
+}
+
+/// [`Join`] one after the other, on the calling thread.
+pub struct InTurn;
+
+impl Join for InTurn {
+    fn at_once(&self) -> bool {
+        false
+    }
+
+    fn join<A: Send, B: Send>(
+        &self,
+        a: impl FnOnce() -> A + Send,
+        b: impl FnOnce() -> B + Send,
+    ) -> (A, B) {
+        let a = a();
+        (a, b())
+    }
+}
+
+/// Where [`read_with`] may split the rows in two.
+#[derive(Debug, Clone, Copy)]
+enum Cut {
+    /// At the first line start after the middle of the rows, when they are at least this many
+    /// bytes and the halves are read at once.
+    Middle(usize),
+    /// At this byte, when a line starts there below the header (the tests try every one).
+    #[cfg(test)]
+    At(usize),
 }
 
 /// The file column of each wanted one, or the message naming the one that is missing and the
@@ -395,97 +451,219 @@ fn cell_value(
     })
 }
 
-/// [`read`], with the fast path for plain rows on or off (off: every row goes through the CSV
-/// engine; the tests compare the two).
-fn read_with(text: &[u8], wanted: &[Wanted], fast: bool) -> Result<Columns, InputError> {
+/// [`read_on`], with the fast path for plain rows on or off (off: every row goes through the CSV
+/// engine; the tests compare the two) and the place to split at.
+fn read_with(
+    text: &[u8],
+    wanted: &[Wanted],
+    fast: bool,
+    join: &impl Join,
+    cut: Cut,
+) -> Result<Columns, InputError> {
     let (layout, start) = layout_and_start(text)?;
     let index = column_index(&layout, wanted)?;
-    let width = layout.names.len();
-    // For each cell of a row, the wanted column it goes to (the first, when a file column is
-    // mapped twice; the others are copied from it).
-    let mut slot = vec![NOT_WANTED; width];
-    let mut copies = Vec::new();
-    for (k, &i) in index.iter().enumerate() {
-        if slot[i] == NOT_WANTED {
-            slot[i] = k;
-        } else {
-            copies.push((slot[i], k));
+    let rows = Rows::new(&layout, wanted, &index, fast, text, start);
+    let line = 1 + text[..start].iter().filter(|&&b| b == b'\n').count() as u64;
+    let line_start = |p: usize| p > start && p < text.len() && text[p - 1] == b'\n';
+    let cut = match cut {
+        Cut::Middle(from) if join.at_once() && text.len() - start >= from => {
+            let middle = start + (text.len() - start) / 2;
+            text[middle..]
+                .iter()
+                .position(|&b| b == b'\n')
+                .map(|k| middle + k + 1)
+                .filter(|&p| line_start(p))
         }
-    }
-    // The row count guessed from the first data line's length (half as much again, as later
-    // rows tend to be longer), never more than a row per `width` bytes: the columns are not
-    // re-grown, and capacity never written takes no memory.
-    let rest = &text[start..];
-    let body = rest
-        .iter()
-        .position(|&b| b != b'\n' && b != b'\r')
-        .unwrap_or(rest.len());
-    let first_len = rest[body..]
-        .iter()
-        .position(|&b| b == b'\n')
-        .map_or(rest.len() - body, |p| p + 1)
-        .max(1);
-    let guess = ((rest.len() / first_len) * 3 / 2 + 16).min(rest.len() / width.max(1) + 1);
-    let mut values: Vec<Vec<f64>> = wanted.iter().map(|_| Vec::with_capacity(guess)).collect();
-    let mut lines = RowLines::default();
-
-    let mut engine = Engine::new(layout.delimiter);
-    let point = if layout.decimal_comma { b',' } else { b'.' };
-    let mut line = 1 + text[..start].iter().filter(|&&b| b == b'\n').count() as u64;
-    let mut pos = start;
-    loop {
-        // Empty lines (and the second half of a CR LF) between rows are skipped, as the CSV
-        // engine skips them; only LF counts a line, as the engine counts them.
-        while let Some(&b) = text.get(pos) {
-            if b == b'\n' {
-                line += 1;
-            } else if b != b'\r' {
-                break;
-            }
-            pos += 1;
-        }
-        if pos >= text.len() {
-            break;
-        }
-        if fast {
-            let rows = lines.len();
-            if let Some(used) = plain_row(&text[pos..], layout.delimiter, point, &slot, &mut values)
-            {
-                for &(from, to) in &copies {
-                    let v = values[from][rows];
-                    values[to].push(v);
+        Cut::Middle(_) => None,
+        #[cfg(test)]
+        Cut::At(p) => Some(p).filter(|&p| line_start(p)),
+    };
+    let part = match cut {
+        None => rows.read(start, text.len(), line, rows.guess(text.len() - start))?,
+        Some(cut) => {
+            let (top, bottom) = join.join(
+                // The upper half's columns hold room for every row, so the lower one's are
+                // added without moving them.
+                || rows.read(start, cut, line, rows.guess(text.len() - start)),
+                || rows.read(cut, text.len(), 1, rows.guess(text.len() - cut)),
+            );
+            // An error above the cut is the file's first.
+            let mut top = top?;
+            match bottom {
+                Ok(bottom) if top.end == cut => {
+                    // The lower half counted its lines from 1 at the cut.
+                    top.append(bottom, top.line - 1);
+                    top
                 }
-                lines.push(line);
-                pos += used;
-                continue;
-            }
-            // Whatever the row pushed before it was handed over is taken back.
-            for column in &mut values {
-                column.truncate(rows);
+                _ => {
+                    let rest = rows.read(top.end, text.len(), top.line, 0)?;
+                    top.append(rest, 0);
+                    top
+                }
             }
         }
-        let used = engine.record(&text[pos..]);
-        let here = line;
-        line += text[pos..pos + used]
-            .iter()
-            .filter(|&&b| b == b'\n')
-            .count() as u64;
-        pos += used;
-        let fields = engine.fields();
-        if fields == 0 || (fields == 1 && engine.cell(0).trim_ascii().is_empty()) {
-            continue;
-        }
-        for ((w, &i), column) in wanted.iter().zip(&index).zip(&mut values) {
-            let cell = if i < fields { engine.cell(i) } else { b"" };
-            column.push(cell_value(&layout, w, i, cell, here)?);
-        }
-        lines.push(here);
-    }
+    };
     Ok(Columns {
         layout,
-        values,
-        lines,
+        values: part.values,
+        lines: part.lines,
     })
+}
+
+/// What every row of one file is read with.
+struct Rows<'a> {
+    text: &'a [u8],
+    layout: &'a Layout,
+    wanted: &'a [Wanted<'a>],
+    index: &'a [usize],
+    fast: bool,
+    /// For each cell of a row, the wanted column it goes to (the first, when a file column is
+    /// mapped twice; the others are copied from it).
+    slot: Vec<usize>,
+    copies: Vec<(usize, usize)>,
+    point: u8,
+    /// The first data line's length, line break included (at least 1).
+    first_len: usize,
+}
+
+/// The rows of `text[from..]` read up to the first one starting at or past `to`: their
+/// columns and lines, where reading stopped and the line it stopped on.
+struct Part {
+    values: Vec<Vec<f64>>,
+    lines: RowLines,
+    end: usize,
+    line: u64,
+}
+
+impl Part {
+    /// `other`'s rows after these, its lines moved on by `shift`.
+    fn append(&mut self, other: Part, shift: u64) {
+        for (column, more) in self.values.iter_mut().zip(&other.values) {
+            column.extend_from_slice(more);
+        }
+        self.lines.append(&other.lines, shift);
+        self.end = other.end;
+        self.line = other.line + shift;
+    }
+}
+
+impl<'a> Rows<'a> {
+    fn new(
+        layout: &'a Layout,
+        wanted: &'a [Wanted<'a>],
+        index: &'a [usize],
+        fast: bool,
+        text: &'a [u8],
+        start: usize,
+    ) -> Self {
+        let width = layout.names.len();
+        let mut slot = vec![NOT_WANTED; width];
+        let mut copies = Vec::new();
+        for (k, &i) in index.iter().enumerate() {
+            if slot[i] == NOT_WANTED {
+                slot[i] = k;
+            } else {
+                copies.push((slot[i], k));
+            }
+        }
+        let rest = &text[start..];
+        let body = rest
+            .iter()
+            .position(|&b| b != b'\n' && b != b'\r')
+            .unwrap_or(rest.len());
+        let first_len = rest[body..]
+            .iter()
+            .position(|&b| b == b'\n')
+            .map_or(rest.len() - body, |p| p + 1)
+            .max(1);
+        Self {
+            text,
+            layout,
+            wanted,
+            index,
+            fast,
+            slot,
+            copies,
+            point: if layout.decimal_comma { b',' } else { b'.' },
+            first_len,
+        }
+    }
+
+    /// The row count of `bytes` of rows guessed from the first data line's length (half as
+    /// much again, as later rows tend to be longer), never more than a row per `width` bytes:
+    /// the columns are not re-grown, and capacity never written takes no memory.
+    fn guess(&self, bytes: usize) -> usize {
+        ((bytes / self.first_len) * 3 / 2 + 16).min(bytes / self.slot.len().max(1) + 1)
+    }
+
+    /// The rows from `text[from]` (on line `line`) up to the first that starts at or past
+    /// `to`, their columns made with room for `rows` rows.
+    fn read(&self, from: usize, to: usize, mut line: u64, rows: usize) -> Result<Part, InputError> {
+        // Held in locals: the loop below keeps them in registers.
+        let (text, fast, delim, point) = (self.text, self.fast, self.layout.delimiter, self.point);
+        let (slot, copies) = (&self.slot[..], &self.copies[..]);
+        let mut values: Vec<Vec<f64>> = self
+            .wanted
+            .iter()
+            .map(|_| Vec::with_capacity(rows))
+            .collect();
+        let mut lines = RowLines::default();
+        let mut engine = Engine::new(self.layout.delimiter);
+        let mut pos = from;
+        loop {
+            // Empty lines (and the second half of a CR LF) between rows are skipped, as the CSV
+            // engine skips them; only LF counts a line, as the engine counts them.
+            while let Some(&b) = text.get(pos) {
+                if b == b'\n' {
+                    line += 1;
+                } else if b != b'\r' {
+                    break;
+                }
+                pos += 1;
+            }
+            if pos >= to {
+                break;
+            }
+            if fast {
+                let rows = lines.len();
+                if let Some(used) = plain_row(&text[pos..], delim, point, slot, &mut values) {
+                    for &(from, to) in copies {
+                        let v = values[from][rows];
+                        values[to].push(v);
+                    }
+                    lines.push(line);
+                    pos += used;
+                    continue;
+                }
+                // Whatever the row pushed before it was handed over is taken back.
+                for column in &mut values {
+                    column.truncate(rows);
+                }
+            }
+            let used = engine.record(&text[pos..]);
+            let here = line;
+            line += text[pos..pos + used]
+                .iter()
+                .filter(|&&b| b == b'\n')
+                .count() as u64;
+            pos += used;
+            let fields = engine.fields();
+            if fields == 0 || (fields == 1 && engine.cell(0).trim_ascii().is_empty()) {
+                continue;
+            }
+            for ((w, &i), column) in self.wanted.iter().zip(self.index).zip(&mut values) {
+                let cell = if i < fields { engine.cell(i) } else { b"" };
+                column.push(cell_value(self.layout, w, i, cell, here)?);
+            }
+            lines.push(here);
+        }
+        Ok(Part {
+            values,
+            lines,
+            end: pos,
+            line,
+        })
+    }
 }
 
 /// The file line of each data row, kept as runs of consecutive lines (one run for a file
@@ -507,6 +685,21 @@ impl RowLines {
             self.runs.push((self.rows, line));
         }
         self.rows += 1;
+    }
+
+    /// `other`'s rows after these, each of its lines moved on by `shift`.
+    fn append(&mut self, other: &RowLines, shift: u64) {
+        for &(first, line) in &other.runs {
+            let (row, line) = (self.rows + first, line + shift);
+            let continues = self
+                .runs
+                .last()
+                .is_some_and(|&(r, l)| l + (row - r) as u64 == line);
+            if !continues {
+                self.runs.push((row, line));
+            }
+        }
+        self.rows += other.rows;
     }
 
     /// The line of data row `row` (0-based; must be below [`Self::len`]).
@@ -1069,7 +1262,7 @@ mod tests {
             x ^= x << 17;
             x % n
         };
-        let (mut fast_rows, mut errors) = (0, 0);
+        let (mut fast_rows, mut errors, mut split_reads) = (0, 0, 0);
         for case in 0..3000 {
             let (delim, comma) = match next(4) {
                 0 => (',', false),
@@ -1175,8 +1368,30 @@ mod tests {
                 wanted.push(first);
             }
             let bytes = text.as_bytes();
-            let fast = read_with(bytes, &wanted, true);
-            let engine = read_with(bytes, &wanted, false);
+            let fast = read_with(bytes, &wanted, true, &InTurn, Cut::Middle(usize::MAX));
+            let engine = read_with(bytes, &wanted, false, &InTurn, Cut::Middle(usize::MAX));
+            // Split at every line start (of every sixth file): the same as read in one go.
+            for cut in 1..bytes.len() {
+                if case % 6 != 0 || bytes[cut - 1] != b'\n' {
+                    continue;
+                }
+                let split = read_with(bytes, &wanted, true, &InTurn, Cut::At(cut));
+                match (&split, &fast) {
+                    (Ok(s), Ok(f)) => {
+                        assert!(same_bits(&s.values, &f.values), "cut {cut}: {text:?}");
+                        assert_eq!(s.lines, f.lines, "cut {cut}: {text:?}");
+                        split_reads += 1;
+                    }
+                    (Err(s), Err(f)) => {
+                        assert_eq!(
+                            (&s.field, &s.message),
+                            (&f.field, &f.message),
+                            "cut {cut}: {text:?}"
+                        );
+                    }
+                    _ => panic!("cut {cut}: {text:?}: split {split:?}, whole {fast:?}"),
+                }
+            }
             // With CR alone ending lines every record is on line 1 by the reader's count, so the
             // row-by-line rule above cannot tell the header from the data: compared with the
             // engine only.
@@ -1207,10 +1422,105 @@ mod tests {
                 ),
             }
         }
-        // Both outcomes were exercised.
+        // Both outcomes were exercised, and many splits.
         assert!(
-            fast_rows > 10_000 && errors > 100,
-            "{fast_rows} rows, {errors} errors"
+            fast_rows > 10_000 && errors > 100 && split_reads > 5_000,
+            "{fast_rows} rows, {errors} errors, {split_reads} split reads"
+        );
+    }
+
+    /// Both halves at once on two threads (the tests' own; the crate starts none).
+    struct TwoThreads;
+
+    impl Join for TwoThreads {
+        fn at_once(&self) -> bool {
+            true
+        }
+
+        fn join<A: Send, B: Send>(
+            &self,
+            a: impl FnOnce() -> A + Send,
+            b: impl FnOnce() -> B + Send,
+        ) -> (A, B) {
+            std::thread::scope(|s| {
+                let second = s.spawn(b);
+                let a = a();
+                (a, second.join().expect("the second half"))
+            })
+        }
+    }
+
+    // A file past HALVES_FROM_BYTES read as two halves at once against the same file read in
+    // turn: a plain file (the lower half kept), one with a quoted line break across the middle
+    // and one with blank lines at it (the rest read again from the upper half's end), and one
+    // with a word below the middle (the same error, named by its line).
+    #[test]
+    fn a_large_file_read_in_two_halves_at_once_reads_as_in_one_go() {
+        // Rows of one length, so the middle of the bytes falls inside what is put at the
+        // middle row.
+        let rows = 80_000;
+        let plain: Vec<String> = (0..rows)
+            .map(|k| {
+                format!(
+                    "{:02}.{:03},{},{:02}.5\n",
+                    k / 1000,
+                    k % 1000,
+                    3000 + k % 977,
+                    k % 13
+                )
+            })
+            .collect();
+        let file = |middle: &str| {
+            let mut text = String::from("time,rpm,shaft\n");
+            for (k, row) in plain.iter().enumerate() {
+                if k == rows / 2 {
+                    text.push_str(middle);
+                }
+                text.push_str(row);
+            }
+            text
+        };
+        let wanted = [
+            Wanted {
+                field: "columns.time",
+                name: "time",
+            },
+            Wanted {
+                field: "columns.engine_rpm",
+                name: "rpm",
+            },
+        ];
+        let quoted = format!("1.5,\"3000{}\",2\n", "\n".repeat(200));
+        let blank = "\n".repeat(200);
+        // (put at the middle, the rows it adds)
+        let cases = [
+            ("", 0),
+            (quoted.as_str(), 1),
+            (blank.as_str(), 0),
+            ("7.0,oops,1\n", 1),
+        ];
+        for (middle, added) in cases {
+            let text = file(middle);
+            assert!(text.len() >= HALVES_FROM_BYTES, "{} bytes", text.len());
+            let one_go = read(text.as_bytes(), &wanted);
+            let halves = read_on(text.as_bytes(), &wanted, &TwoThreads);
+            match (&one_go, &halves) {
+                (Ok(a), Ok(b)) => {
+                    assert!(same_bits(&a.values, &b.values), "{middle:?}");
+                    assert_eq!(a.lines, b.lines, "{middle:?}");
+                    assert_eq!(a.values[0].len(), rows + added, "{middle:?}");
+                }
+                (Err(a), Err(b)) => assert_eq!((&a.field, &a.message), (&b.field, &b.message)),
+                _ => panic!("{middle:?}: in one go {one_go:?}, halves {halves:?}"),
+            }
+        }
+        // The word's error names its line below the middle.
+        let err = read_on(file("7.0,oops,1\n").as_bytes(), &wanted, &TwoThreads).unwrap_err();
+        assert_eq!(err.field, "columns.engine_rpm");
+        assert!(
+            err.message.starts_with(&format!("line {}, ", rows / 2 + 2)),
+            "{}",
+            err.message
         );
     }
 

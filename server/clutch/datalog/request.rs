@@ -390,6 +390,11 @@ impl LogAnalysisRequest {
 impl ValidLog {
     /// Reads `text` and analyses it.
     pub fn run(&self, text: &[u8]) -> Result<LogResult, InputError> {
+        self.run_on(text, &file::InTurn)
+    }
+
+    /// [`Self::run`], a large file's two halves read through `join` ([`file::read_on`]).
+    pub fn run_on(&self, text: &[u8], join: &impl file::Join) -> Result<LogResult, InputError> {
         if text.len() > limits::LOG_FILE_BYTES {
             return Err(InputError::new(
                 "csv",
@@ -407,7 +412,7 @@ impl ValidLog {
             .zip(&fields)
             .map(|((_, name), field)| Wanted { field, name })
             .collect();
-        let cols = file::read(text, &wanted)?;
+        let cols = file::read_on(text, &wanted, join)?;
         let mut values = cols.values;
         let key_of = |k: &str| mapped.iter().position(|(key, _)| *key == k);
         let mut time = std::mem::take(&mut values[0]);
@@ -718,10 +723,19 @@ impl LogResult {
     }
 }
 
-/// POST /api/v1/calc/log-analysis.
+/// A whole analysis request read and analysed, on the calling thread.
 pub fn analyze_request(req: &LogAnalysisRequest) -> Result<LogAnalysisReport, InputError> {
+    analyze_request_on(req, &file::InTurn)
+}
+
+/// POST /api/v1/calc/log-analysis: [`analyze_request`], a large file's two halves read
+/// through `join` ([`file::read_on`]).
+pub fn analyze_request_on(
+    req: &LogAnalysisRequest,
+    join: &impl file::Join,
+) -> Result<LogAnalysisReport, InputError> {
     let valid = req.validate()?;
-    Ok(valid.run(req.csv.as_bytes())?.report(req.units))
+    Ok(valid.run_on(req.csv.as_bytes(), join)?.report(req.units))
 }
 
 #[cfg(test)]

@@ -2,6 +2,8 @@
 //! stored through the API and its analysis read back. The file is read and analysed before
 //! anything is written; a file that cannot be read or analysed saves nothing.
 
+use std::sync::Arc;
+
 use axum::Json;
 use axum::extract::State;
 use serde::Deserialize;
@@ -38,10 +40,11 @@ pub async fn calc(
     ApiJson(req): ApiJson<LogAnalysisRequest>,
 ) -> ApiResult<LogAnalysisReport> {
     let _analysis = state.heavy.analysis()?;
+    let heavy = Arc::clone(&state.heavy);
     state
         .heavy
         .run_for(&caller, move || {
-            clutch::datalog::request::analyze_request(&req)
+            clutch::datalog::request::analyze_request_on(&req, &heavy.spare_core())
         })
         .await?
         .map(Json)
@@ -120,7 +123,11 @@ impl PassCar {
             Err(e) => return Ok(Err(e)),
         };
         let _analysis = state.heavy.analysis()?;
-        state.heavy.run_for(caller, move || valid.run(&text)).await
+        let heavy = Arc::clone(&state.heavy);
+        state
+            .heavy
+            .run_for(caller, move || valid.run_on(&text, &heavy.spare_core()))
+            .await
     }
 }
 

@@ -11,6 +11,7 @@ use std::sync::{Arc, Mutex};
 
 use axum::extract::FromRequestParts;
 use axum::http::request::Parts;
+use clutch::datalog::file::{InTurn, Join};
 use rusqlite::Connection;
 use tokio::sync::{Semaphore, SemaphorePermit};
 
@@ -63,6 +64,33 @@ impl Default for Heavy {
     }
 }
 
+/// See [`Heavy::spare_core`]: the second place, when one was free, held until dropped.
+pub struct SpareCore<'a>(Option<SemaphorePermit<'a>>);
+
+impl Join for SpareCore<'_> {
+    fn at_once(&self) -> bool {
+        self.0.is_some()
+    }
+
+    fn join<A: Send, B: Send>(
+        &self,
+        a: impl FnOnce() -> A + Send,
+        b: impl FnOnce() -> B + Send,
+    ) -> (A, B) {
+        if self.0.is_none() {
+            return InTurn.join(a, b);
+        }
+        std::thread::scope(|s| {
+            let second = s.spawn(b);
+            let a = a();
+            match second.join() {
+                Ok(b) => (a, b),
+                Err(panic) => std::panic::resume_unwind(panic),
+            }
+        })
+    }
+}
+
 /// One of a caller's [`PER_CALLER`] turns, given back when dropped.
 pub struct Turn {
     heavy: Arc<Heavy>,
@@ -107,6 +135,14 @@ impl Heavy {
         self.analyses.try_acquire().map_err(|_| {
             AppError::Busy("two log analyses are running already; try again in a moment")
         })
+    }
+
+    /// A [`Join`] for work already in a place: another of the [`HEAVY_AT_ONCE`] places when
+    /// one is free now (held until the join is dropped), the second piece then run on a thread
+    /// of its own; else one after the other. A large log's two halves are read at once only
+    /// on a core no other heavy work wants.
+    pub fn spare_core(&self) -> SpareCore<'_> {
+        SpareCore(self.running.try_acquire().ok())
     }
 
     /// Runs `work` on a blocking thread once one of the [`HEAVY_AT_ONCE`] places is free.
@@ -203,6 +239,29 @@ mod tests {
         assert!(heavy.analysis().is_err());
         drop(a);
         assert!(heavy.analysis().is_ok());
+    }
+
+    #[test]
+    fn a_spare_core_runs_the_second_piece_on_its_own_thread_only_while_a_place_is_free() {
+        let heavy = Heavy::default();
+        let here = std::thread::current().id();
+        let which = || std::thread::current().id();
+        let spare = heavy.spare_core();
+        assert!(spare.at_once());
+        assert_eq!(heavy.running.available_permits(), HEAVY_AT_ONCE - 1);
+        let (a, b) = spare.join(which, which);
+        assert_eq!(a, here);
+        assert_ne!(b, here);
+        drop(spare);
+        assert_eq!(heavy.running.available_permits(), HEAVY_AT_ONCE);
+        // Every place taken by other work: one after the other, on this thread.
+        let _others = heavy
+            .running
+            .try_acquire_many(HEAVY_AT_ONCE as u32)
+            .unwrap();
+        let none = heavy.spare_core();
+        assert!(!none.at_once());
+        assert_eq!(none.join(which, which), (here, here));
     }
 
     #[tokio::test]
