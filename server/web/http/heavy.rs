@@ -3,7 +3,9 @@
 //! threads, at most [`HEAVY_AT_ONCE`] at a time shop-wide (the rest wait their turn, on no
 //! thread); one caller (an API token or a browser session) has at most [`PER_CALLER`] running
 //! or waiting, and the shop at most [`ANALYSES_AT_ONCE`] log analyses (429 with `Retry-After`
-//! past either, at once, instead of a queue that grows with the flood).
+//! past either, at once, instead of a queue that grows with the flood). Work in a place may
+//! take a second one for a second thread only while it is free ([`Heavy::spare_core`]), so
+//! the threads doing heavy work never outnumber the places.
 
 use std::collections::HashMap;
 use std::convert::Infallible;
