@@ -15,3 +15,57 @@ pub mod savgol;
 pub mod span;
 /// A long trace thinned to a bounded number of points, every event kept.
 pub mod thin;
+
+/// Runs two pieces of work and returns both results: one after the other, or at once on two
+/// threads; which is the caller's choice (see [`InTurn`]).
+pub trait Join {
+    /// Whether [`Join::join`] runs the two at once: work is split in two only then.
+    fn at_once(&self) -> bool;
+
+    fn join<A: Send, B: Send>(
+        &self,
+        a: impl FnOnce() -> A + Send,
+        b: impl FnOnce() -> B + Send,
+    ) -> (A, B);
+}
+
+/// [`Join`] one after the other, on the calling thread.
+pub struct InTurn;
+
+impl Join for InTurn {
+    fn at_once(&self) -> bool {
+        false
+    }
+
+    fn join<A: Send, B: Send>(
+        &self,
+        a: impl FnOnce() -> A + Send,
+        b: impl FnOnce() -> B + Send,
+    ) -> (A, B) {
+        let a = a();
+        (a, b())
+    }
+}
+
+/// Both pieces at once on two threads: the tests' own (the crate starts none).
+#[cfg(test)]
+pub(crate) struct TwoThreads;
+
+#[cfg(test)]
+impl Join for TwoThreads {
+    fn at_once(&self) -> bool {
+        true
+    }
+
+    fn join<A: Send, B: Send>(
+        &self,
+        a: impl FnOnce() -> A + Send,
+        b: impl FnOnce() -> B + Send,
+    ) -> (A, B) {
+        std::thread::scope(|s| {
+            let second = s.spawn(b);
+            let a = a();
+            (a, second.join().expect("the second half"))
+        })
+    }
+}

@@ -24,6 +24,7 @@
 //! The thresholds (100 rpm, 3 samples, 50 ms, 60 ms, 15 %) are docs/engineering.md §21's, no
 //! published source: derived design choices, the 15 % from memory. Units: s, rpm, N·m, W, J, m/s.
 
+use super::{InTurn, Join};
 use crate::InputError;
 use crate::capacity::torque_curve::TorqueCurve;
 use crate::datalog::savgol;
@@ -620,11 +621,20 @@ pub fn clutch_torque(series: &Series, dt: f64, engine: &EngineModel) -> (Vec<f64
         .unwrap_or_else(|| vec![0.0; series.engine_rpm.len()]);
     let (lo, hi) = engine.curve.range();
     let mut outside = 0;
+    // The curve's segment looked for first where the last sample's was (the same segment and
+    // value as `torque_at`, which searches the whole curve each time).
+    let mut segment = 0;
     for (&n, t) in series.engine_rpm.iter().zip(&mut torque) {
         if !(lo..=hi).contains(&n) {
             outside += 1;
         }
-        let te = engine.curve.torque_at(n.clamp(lo, hi)).unwrap_or(0.0);
+        let n = n.clamp(lo, hi);
+        let te = if engine.curve.contains(n) {
+            segment = engine.curve.segment_near(n, segment);
+            engine.curve.on_segment(segment, n)
+        } else {
+            0.0
+        };
         *t = te - engine.inertia_kgm2 * rpm_to_rad_s(*t);
     }
     (torque, outside)
@@ -671,6 +681,19 @@ pub fn analyze(
     rule: LockupRule,
     engine: Option<&EngineModel>,
 ) -> Result<Analysis, InputError> {
+    analyze_on(series, dt, rule, engine, &InTurn)
+}
+
+/// [`analyze`], the clutch torque worked out on one side of `join` and the slip, launch,
+/// lockup and tire spin on the other (neither needs the other's result; the same figures
+/// either way).
+pub fn analyze_on(
+    series: &Series,
+    dt: f64,
+    rule: LockupRule,
+    engine: Option<&EngineModel>,
+    join: &impl Join,
+) -> Result<Analysis, InputError> {
     let t = &series.time_s;
     let n = t.len();
     if n < MIN_SAMPLES {
@@ -686,6 +709,109 @@ pub fn analyze(
             "The log runs at {rate:.0} Hz, below {COARSE_RATE_HZ:.0} Hz: lockup timing is coarse."
         ));
     }
+    let (torque, events) = join.join(
+        || engine.map(|engine| clutch_torque(series, dt, engine)),
+        || events(series, dt, rule),
+    );
+    let Events {
+        slip,
+        launch_s,
+        lockup_s,
+        first,
+        last,
+        launch_engine_rpm,
+        lockup_engine_rpm,
+        min_engine_rpm,
+        tire_spin,
+    } = events?;
+    notes.push(format!(
+        "The launch and the lowest engine speed are read with a hold, as the lockup is: a change counts only when it lasts {} samples in a row ({:.0} ms and at least {LAUNCH_SAMPLES} samples), so one noisy sample neither starts the launch nor sets the minimum.",
+        hold_samples(dt),
+        EVENT_HOLD_S * 1000.0
+    ));
+    let (clutch_torque_nm, slip_power_w, slip_energy_j, peak_slip_power_w) = match torque {
+        Some((tc, outside)) => {
+            if outside > 0 {
+                notes.push(format!(
+                    "The engine speed left the torque curve at {outside} sample(s); the curve's end values were used there."
+                ));
+            }
+            let raw: Vec<f64> = (0..n)
+                .map(|i| {
+                    let slip_w = rpm_to_rad_s(series.engine_rpm[i] - series.input_rpm[i]);
+                    tc[i] * slip_w.max(0.0)
+                })
+                .collect();
+            let (energy, peak) = slip_energy(t, &raw, launch_s, first, last);
+            // The clutch carries nothing before the launch: no slip power there.
+            let mut p = raw;
+            for v in &mut p[..first] {
+                *v = 0.0;
+            }
+            (Some(tc), Some(p), Some(energy), Some(peak))
+        }
+        None => {
+            notes.push(
+                "No engine torque curve and inertia: clutch torque, slip power and energy are not worked out."
+                    .into(),
+            );
+            (None, None, None, None)
+        }
+    };
+    let tire_spin = match tire_spin {
+        Some(mut spin) => {
+            if spin.len() > SPIN_MAX_INTERVALS {
+                notes.push(format!(
+                    "The tires spun {} times; the first {SPIN_MAX_INTERVALS} are listed.",
+                    spin.len()
+                ));
+                spin.truncate(SPIN_MAX_INTERVALS);
+            }
+            spin
+        }
+        None if series.undriven_mps.is_some() => {
+            notes.push("Tire spin needs the driven wheels' speed: map it, or give the gear ratios and tire diameter.".into());
+            Vec::new()
+        }
+        None => Vec::new(),
+    };
+    Ok(Analysis {
+        samples: n,
+        sample_rate_hz: rate,
+        launch_s,
+        lockup_s,
+        launch_engine_rpm,
+        min_engine_rpm,
+        lockup_engine_rpm,
+        slip_pct: slip,
+        clutch_torque_nm,
+        slip_power_w,
+        slip_energy_j,
+        peak_slip_power_w,
+        window: (first, last),
+        tire_spin,
+        notes,
+    })
+}
+
+/// What [`analyze_on`] reads of the speeds alone: the slip, the launch and the lockup (with
+/// the samples from the launch to the end of the lockup's hold), the engine speeds there and
+/// the tire spin (`None` without both wheel speeds).
+struct Events {
+    slip: Vec<f64>,
+    launch_s: f64,
+    lockup_s: f64,
+    first: usize,
+    last: usize,
+    launch_engine_rpm: f64,
+    lockup_engine_rpm: f64,
+    min_engine_rpm: f64,
+    tire_spin: Option<Vec<[f64; 2]>>,
+}
+
+fn events(series: &Series, dt: f64, rule: LockupRule) -> Result<Events, InputError> {
+    let t = &series.time_s;
+    let n = t.len();
     let slip: Vec<f64> = series
         .engine_rpm
         .iter()
@@ -716,75 +842,20 @@ pub fn analyze(
         .collect();
     let min_engine_rpm =
         held_minimum(&slipping, hold_samples(dt)).min(launch_engine_rpm.min(lockup_engine_rpm));
-    notes.push(format!(
-        "The launch and the lowest engine speed are read with a hold, as the lockup is: a change counts only when it lasts {} samples in a row ({:.0} ms and at least {LAUNCH_SAMPLES} samples), so one noisy sample neither starts the launch nor sets the minimum.",
-        hold_samples(dt),
-        EVENT_HOLD_S * 1000.0
-    ));
-    let (clutch_torque_nm, slip_power_w, slip_energy_j, peak_slip_power_w) = match engine {
-        Some(engine) => {
-            let (tc, outside) = clutch_torque(series, dt, engine);
-            if outside > 0 {
-                notes.push(format!(
-                    "The engine speed left the torque curve at {outside} sample(s); the curve's end values were used there."
-                ));
-            }
-            let raw: Vec<f64> = (0..n)
-                .map(|i| {
-                    let slip_w = rpm_to_rad_s(series.engine_rpm[i] - series.input_rpm[i]);
-                    tc[i] * slip_w.max(0.0)
-                })
-                .collect();
-            let (energy, peak) = slip_energy(t, &raw, launch_s, first, last);
-            // The clutch carries nothing before the launch: no slip power there.
-            let mut p = raw;
-            for v in &mut p[..first] {
-                *v = 0.0;
-            }
-            (Some(tc), Some(p), Some(energy), Some(peak))
-        }
-        None => {
-            notes.push(
-                "No engine torque curve and inertia: clutch torque, slip power and energy are not worked out."
-                    .into(),
-            );
-            (None, None, None, None)
-        }
-    };
     let tire_spin = match (&series.driven_mps, &series.undriven_mps) {
-        (Some(d), Some(u)) => {
-            let mut spin = tire_spin(t, step, d, u);
-            if spin.len() > SPIN_MAX_INTERVALS {
-                notes.push(format!(
-                    "The tires spun {} times; the first {SPIN_MAX_INTERVALS} are listed.",
-                    spin.len()
-                ));
-                spin.truncate(SPIN_MAX_INTERVALS);
-            }
-            spin
-        }
-        (None, Some(_)) => {
-            notes.push("Tire spin needs the driven wheels' speed: map it, or give the gear ratios and tire diameter.".into());
-            Vec::new()
-        }
-        _ => Vec::new(),
+        (Some(d), Some(u)) => Some(tire_spin(t, step, d, u)),
+        _ => None,
     };
-    Ok(Analysis {
-        samples: n,
-        sample_rate_hz: rate,
+    Ok(Events {
+        slip,
         launch_s,
         lockup_s,
+        first,
+        last,
         launch_engine_rpm,
-        min_engine_rpm,
         lockup_engine_rpm,
-        slip_pct: slip,
-        clutch_torque_nm,
-        slip_power_w,
-        slip_energy_j,
-        peak_slip_power_w,
-        window: (first, last),
+        min_engine_rpm,
         tire_spin,
-        notes,
     })
 }
 

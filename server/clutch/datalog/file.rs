@@ -4,6 +4,7 @@
 //! (NaN) for the caller to interpolate. Errors name the line (counted from 1, as an editor
 //! shows it) and the column.
 
+use super::{InTurn, Join};
 use crate::InputError;
 
 /// Lines looked at to find the delimiter.
@@ -366,37 +367,6 @@ pub fn read_on(text: &[u8], wanted: &[Wanted], join: &impl Join) -> Result<Colum
 /// Rows below a file of this size are read in one go by [`read_on`]: under it a second
 /// thread's start costs more than half the reading saves.
 pub const HALVES_FROM_BYTES: usize = 1 << 20;
-
-/// Runs two pieces of work and returns both results: one after the other, or at once on two
-/// threads; which is the caller's choice (see [`InTurn`]).
-pub trait Join {
-    /// Whether [`Join::join`] runs the two at once: work is split in two only then.
-    fn at_once(&self) -> bool;
-
-    fn join<A: Send, B: Send>(
-        &self,
-        a: impl FnOnce() -> A + Send,
-        b: impl FnOnce() -> B + Send,
-    ) -> (A, B);
-}
-
-/// [`Join`] one after the other, on the calling thread.
-pub struct InTurn;
-
-impl Join for InTurn {
-    fn at_once(&self) -> bool {
-        false
-    }
-
-    fn join<A: Send, B: Send>(
-        &self,
-        a: impl FnOnce() -> A + Send,
-        b: impl FnOnce() -> B + Send,
-    ) -> (A, B) {
-        let a = a();
-        (a, b())
-    }
-}
 
 /// Where [`read_with`] may split the rows in two.
 #[derive(Debug, Clone, Copy)]
@@ -1429,27 +1399,6 @@ mod tests {
         );
     }
 
-    /// Both halves at once on two threads (the tests' own; the crate starts none).
-    struct TwoThreads;
-
-    impl Join for TwoThreads {
-        fn at_once(&self) -> bool {
-            true
-        }
-
-        fn join<A: Send, B: Send>(
-            &self,
-            a: impl FnOnce() -> A + Send,
-            b: impl FnOnce() -> B + Send,
-        ) -> (A, B) {
-            std::thread::scope(|s| {
-                let second = s.spawn(b);
-                let a = a();
-                (a, second.join().expect("the second half"))
-            })
-        }
-    }
-
     // A file past HALVES_FROM_BYTES read as two halves at once against the same file read in
     // turn: a plain file (the lower half kept), one with a quoted line break across the middle
     // and one with blank lines at it (the rest read again from the upper half's end), and one
@@ -1503,7 +1452,7 @@ mod tests {
             let text = file(middle);
             assert!(text.len() >= HALVES_FROM_BYTES, "{} bytes", text.len());
             let one_go = read(text.as_bytes(), &wanted);
-            let halves = read_on(text.as_bytes(), &wanted, &TwoThreads);
+            let halves = read_on(text.as_bytes(), &wanted, &crate::datalog::TwoThreads);
             match (&one_go, &halves) {
                 (Ok(a), Ok(b)) => {
                     assert!(same_bits(&a.values, &b.values), "{middle:?}");
@@ -1515,7 +1464,12 @@ mod tests {
             }
         }
         // The word's error names its line below the middle.
-        let err = read_on(file("7.0,oops,1\n").as_bytes(), &wanted, &TwoThreads).unwrap_err();
+        let err = read_on(
+            file("7.0,oops,1\n").as_bytes(),
+            &wanted,
+            &crate::datalog::TwoThreads,
+        )
+        .unwrap_err();
         assert_eq!(err.field, "columns.engine_rpm");
         assert!(
             err.message.starts_with(&format!("line {}, ", rows / 2 + 2)),

@@ -390,11 +390,11 @@ impl LogAnalysisRequest {
 impl ValidLog {
     /// Reads `text` and analyses it.
     pub fn run(&self, text: &[u8]) -> Result<LogResult, InputError> {
-        self.run_on(text, &file::InTurn)
+        self.run_on(text, &super::InTurn)
     }
 
     /// [`Self::run`], a large file's two halves read through `join` ([`file::read_on`]).
-    pub fn run_on(&self, text: &[u8], join: &impl file::Join) -> Result<LogResult, InputError> {
+    pub fn run_on(&self, text: &[u8], join: &impl super::Join) -> Result<LogResult, InputError> {
         if text.len() > limits::LOG_FILE_BYTES {
             return Err(InputError::new(
                 "csv",
@@ -549,7 +549,8 @@ impl ValidLog {
                 )
             })?
             .map_err(|n| analysis::too_many_samples(n, "on one clock at the median step"))?;
-        let mut analysis = analysis::analyze(&series, dt, self.rule, self.engine.as_ref())?;
+        let mut analysis =
+            analysis::analyze_on(&series, dt, self.rule, self.engine.as_ref(), join)?;
         analysis.notes.extend(clock_note);
         if moved {
             analysis.notes.push(format!(
@@ -725,14 +726,14 @@ impl LogResult {
 
 /// A whole analysis request read and analysed, on the calling thread.
 pub fn analyze_request(req: &LogAnalysisRequest) -> Result<LogAnalysisReport, InputError> {
-    analyze_request_on(req, &file::InTurn)
+    analyze_request_on(req, &super::InTurn)
 }
 
 /// POST /api/v1/calc/log-analysis: [`analyze_request`], a large file's two halves read
 /// through `join` ([`file::read_on`]).
 pub fn analyze_request_on(
     req: &LogAnalysisRequest,
-    join: &impl file::Join,
+    join: &impl super::Join,
 ) -> Result<LogAnalysisReport, InputError> {
     let valid = req.validate()?;
     Ok(valid.run_on(req.csv.as_bytes(), join)?.report(req.units))

@@ -13,7 +13,7 @@ use std::sync::{Arc, Mutex};
 
 use axum::extract::FromRequestParts;
 use axum::http::request::Parts;
-use clutch::datalog::file::{InTurn, Join};
+use clutch::datalog::{InTurn, Join};
 use rusqlite::Connection;
 use tokio::sync::{Semaphore, SemaphorePermit};
 

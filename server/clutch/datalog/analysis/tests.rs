@@ -433,3 +433,73 @@ fn a_clock_past_the_sample_cap_is_refused_before_it_is_resampled() {
         "{msg}"
     );
 }
+
+// The analysis with the clutch torque on a second thread against the same analysis in turn:
+// the same figures to the bit. The engine speed sweeps across both segments of a three-point
+// curve and past its top (so the segment look-up from the last sample moves, and clamps), the
+// driven wheels spin for a while. Every clutch torque is the textbook T_e(N_e) − I·dω/dt with
+// T_e from the curve's own `torque_at` (its whole-curve search) and dω/dt from the filter.
+#[test]
+fn the_clutch_torque_beside_the_events_gives_the_figures_of_the_analysis_in_turn() {
+    let dt = 0.001;
+    let time_s: Vec<f64> = (0..3000).map(|k| k as f64 * dt).collect();
+    let engine_rpm: Vec<f64> = time_s
+        .iter()
+        .map(|&t| 6000.0 - 2500.0 * (t / 0.5).min(1.0) + 4000.0 * (t - 1.5).max(0.0))
+        .collect();
+    let input_rpm: Vec<f64> = time_s
+        .iter()
+        .zip(&engine_rpm)
+        .map(|(&t, &e)| (4000.0 * (t - 0.1).max(0.0)).min(e))
+        .collect();
+    let undriven: Vec<f64> = input_rpm.iter().map(|n| n / 400.0).collect();
+    let driven: Vec<f64> = undriven
+        .iter()
+        .zip(&time_s)
+        .map(|(u, &t)| if (0.8..1.0).contains(&t) { u * 1.3 } else { *u })
+        .collect();
+    let series = Series {
+        time_s,
+        engine_rpm,
+        input_rpm,
+        driven_mps: Some(driven),
+        undriven_mps: Some(undriven),
+        ..Series::default()
+    };
+    let curve = TorqueCurve::new(
+        &[(3000.0, 420.0), (5000.0, 520.0), (7000.0, 470.0)],
+        "engine.torque_curve",
+        crate::units::Units::Metric,
+    )
+    .unwrap();
+    let engine = EngineModel {
+        curve: curve.clone(),
+        inertia_kgm2: 0.2,
+    };
+    let rule = LockupRule::default();
+    let in_turn = analyze(&series, dt, rule, Some(&engine)).unwrap();
+    let beside = analyze_on(
+        &series,
+        dt,
+        rule,
+        Some(&engine),
+        &crate::datalog::TwoThreads,
+    )
+    .unwrap();
+    assert_eq!(in_turn, beside);
+    assert!(!in_turn.tire_spin.is_empty());
+    assert!(
+        in_turn
+            .notes
+            .iter()
+            .any(|n| n.contains("left the torque curve"))
+    );
+    let slope = savgol::filter(&series.engine_rpm, derivative_window(dt), 2, 1, dt).unwrap();
+    let (lo, hi) = curve.range();
+    let torque = in_turn.clutch_torque_nm.unwrap();
+    for (i, &n) in series.engine_rpm.iter().enumerate() {
+        let te = curve.torque_at(n.clamp(lo, hi)).unwrap();
+        let expected = te - 0.2 * rpm_to_rad_s(slope[i]);
+        assert_eq!(torque[i].to_bits(), expected.to_bits(), "sample {i}");
+    }
+}
