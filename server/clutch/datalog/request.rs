@@ -486,20 +486,20 @@ impl ValidLog {
                 *t /= 1000.0;
             }
         }
-        let mut channel = |key: &str| -> Result<Option<Vec<f64>>, InputError> {
-            let Some(i) = key_of(key) else {
-                return Ok(None);
-            };
-            let mut v = std::mem::take(&mut values[i]);
+        // Each mapped channel's cells, taken out of the columns, then its blanks filled.
+        let mut taken: Vec<Option<Vec<f64>>> = values.into_iter().map(Some).collect();
+        let mut take = |key: &str| key_of(key).and_then(|i| Some((i, taken[i].take()?)));
+        let fill = |(i, mut v): (usize, Vec<f64>)| -> Result<Vec<f64>, InputError> {
             analysis::fill_blanks(&time, &mut v).ok_or_else(|| {
                 InputError::new(
-                    format!("columns.{key}"),
+                    format!("columns.{}", mapped[i].0),
                     format!("the column \"{}\" has no values", mapped[i].1),
                 )
             })?;
-            Ok(Some(v))
+            Ok(v)
         };
-        let engine_rpm = channel("engine_rpm")?.unwrap_or_default();
+        let channel = |c: Option<(usize, Vec<f64>)>| c.map(fill).transpose();
+        let engine_rpm = channel(take("engine_rpm"))?.unwrap_or_default();
         let u = self.units;
         let to_mps = |v: Vec<f64>| -> Vec<f64> {
             v.into_iter()
@@ -512,31 +512,46 @@ impl ValidLog {
             .map(|d| 60.0 / (std::f64::consts::PI * d / 1000.0));
         let overall = self.first_gear.zip(self.final_drive).map(|(a, b)| a * b);
         let mut driven_mps = None;
-        let input_rpm = if let Some(v) = channel("input_rpm")? {
+        let input_rpm = if let Some(v) = channel(take("input_rpm"))? {
             v
-        } else if let Some(v) = channel("driveshaft_rpm")? {
+        } else if let Some(v) = channel(take("driveshaft_rpm"))? {
             let g = self.first_gear.unwrap_or(1.0);
             v.into_iter().map(|x| x * g).collect()
         } else {
-            let v = to_mps(channel("driven_wheel_speed")?.unwrap_or_default());
+            let v = to_mps(channel(take("driven_wheel_speed"))?.unwrap_or_default());
             let k = wheel_rpm_per_mps.unwrap_or(0.0) * overall.unwrap_or(0.0);
             let rpm = v.iter().map(|x| x * k).collect();
             driven_mps = Some(v);
             rpm
         };
-        if driven_mps.is_none()
-            && let (Some(k), Some(g)) = (wheel_rpm_per_mps, overall)
-        {
-            driven_mps = Some(input_rpm.iter().map(|n| n / g / k).collect());
-        }
-        let undriven_mps = channel("undriven_wheel_speed")?.map(to_mps);
-        let clutch_switch = channel("clutch_switch")?;
-        let throttle = channel("throttle")?;
+        let (undriven, switch, throttle) = (
+            take("undriven_wheel_speed"),
+            take("clutch_switch"),
+            take("throttle"),
+        );
+        // The driven wheels' speed is kept only beside the undriven wheels' (for the tire
+        // spin); worked out from the input speed on one side of `join`, the other channels
+        // filled on the other.
+        let from_input = undriven.is_some() && driven_mps.is_none();
+        let (from_input, others) = join.join(
+            || match (from_input, wheel_rpm_per_mps, overall) {
+                (true, Some(k), Some(g)) => Some(input_rpm.iter().map(|n| n / g / k).collect()),
+                _ => None,
+            },
+            || -> Result<_, InputError> {
+                Ok((
+                    channel(undriven)?.map(to_mps),
+                    channel(switch)?,
+                    channel(throttle)?,
+                ))
+            },
+        );
+        let (undriven_mps, clutch_switch, throttle) = others?;
         let mut series = Series {
             time_s: time,
             engine_rpm,
             input_rpm,
-            driven_mps: undriven_mps.as_ref().and(driven_mps),
+            driven_mps: undriven_mps.as_ref().and(driven_mps.or(from_input)),
             undriven_mps,
             clutch_switch,
             throttle,
@@ -943,5 +958,70 @@ mod tests {
         req.columns.engine_rpm = "crank".into();
         let err = analyze_request(&req).unwrap_err();
         assert_eq!(err.field, "columns.engine_rpm");
+    }
+
+    // A whole request with every channel kind (blanks in the undriven wheels and the throttle,
+    // a clutch switch, the driven wheels worked out from the input speed) read and analysed
+    // with its halves and pieces on two threads against the same in turn: the same series and
+    // analysis to the bit; and with two channels that hold nothing, the same first error.
+    #[test]
+    fn a_request_on_two_threads_reads_and_analyses_as_in_turn() {
+        let mut csv = String::from("time,rpm,shaft,front,switch,throttle\n");
+        for k in 0..=80_000 {
+            let t = k as f64 / 1000.0;
+            let n = (6000.0 * (t - 1.0) / 0.8).clamp(0.0, 6000.0);
+            let front = if k % 7 == 3 {
+                String::new()
+            } else {
+                format!("{:.3}", n / 150.0)
+            };
+            let throttle = if k % 11 == 5 {
+                ""
+            } else if t < 1.0 {
+                "30"
+            } else {
+                "100"
+            };
+            let switch = u8::from(t >= 1.0);
+            csv.push_str(&format!("{t:.3},6000,{n},{front},{switch},{throttle}\n"));
+        }
+        assert!(csv.len() >= crate::datalog::file::HALVES_FROM_BYTES);
+        let req: LogAnalysisRequest = serde_json::from_value(serde_json::json!({
+            "units": "metric", "csv": csv,
+            "columns": { "time": "time", "engine_rpm": "rpm", "input_rpm": "shaft",
+                         "undriven_wheel_speed": "front", "clutch_switch": "switch",
+                         "throttle": "throttle" },
+            "first_gear_ratio": 2.5, "final_drive_ratio": 4.1, "tire_diameter": 700,
+            "engine": { "torque_curve": [[3000, 600], [8000, 600]], "inertia": 0.25 }
+        }))
+        .unwrap();
+        let valid = req.validate().unwrap();
+        let in_turn = valid.run(req.csv.as_bytes()).unwrap();
+        let beside = valid
+            .run_on(req.csv.as_bytes(), &crate::datalog::TwoThreads)
+            .unwrap();
+        assert_eq!(in_turn.series, beside.series);
+        assert_eq!(in_turn.analysis, beside.analysis);
+        assert!(in_turn.series.driven_mps.is_some());
+        // Nothing in the wheels nor the throttle: the wheels are named, as in turn.
+        let empty = req
+            .csv
+            .lines()
+            .map(|l| {
+                let f: Vec<&str> = l.split(',').collect();
+                if f[0] == "time" {
+                    l.to_string()
+                } else {
+                    format!("{},{},{},,{},", f[0], f[1], f[2], f[4])
+                }
+            })
+            .collect::<Vec<_>>()
+            .join("\n");
+        let a = valid.run(empty.as_bytes()).unwrap_err();
+        let b = valid
+            .run_on(empty.as_bytes(), &crate::datalog::TwoThreads)
+            .unwrap_err();
+        assert_eq!((&a.field, &a.message), (&b.field, &b.message));
+        assert_eq!(a.field, "columns.undriven_wheel_speed");
     }
 }
