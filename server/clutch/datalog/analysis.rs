@@ -315,17 +315,26 @@ pub fn names_ms(text: &str) -> bool {
 /// strictly increasing and every channel gap-free (see [`fill_blanks`]). Returns the step and
 /// whether the samples were moved; `None` when the steps are so uneven that the clock at the
 /// median step would hold more than four times the samples logged; `Some(Err(n))` when it
-/// would hold `n` samples, more than [`MAX_SAMPLES`] (nothing is resampled then).
-pub fn to_uniform_clock(series: &mut Series) -> Option<Result<(f64, bool), usize>> {
+/// would hold `n` samples, more than [`MAX_SAMPLES`] (nothing is resampled then). `step` is
+/// the median step of `time_s` as given, when the caller has already worked it out.
+pub fn to_uniform_clock(
+    series: &mut Series,
+    step: Option<f64>,
+) -> Option<Result<(f64, bool), usize>> {
     let t0 = series.time_s.first().copied().unwrap_or(0.0);
-    for t in &mut series.time_s {
-        *t -= t0;
-    }
-    let dt = median_step(&series.time_s);
-    let uniform = series
-        .time_s
-        .windows(2)
-        .all(|w| ((w[1] - w[0]) - dt).abs() <= UNIFORM_TOLERANCE * dt);
+    // (x − 0 is x: a clock that starts at 0 is left as it is, and so is its median step.)
+    let dt = if t0 == 0.0 {
+        step.unwrap_or_else(|| median_step(&series.time_s))
+    } else {
+        for t in &mut series.time_s {
+            *t -= t0;
+        }
+        median_step(&series.time_s)
+    };
+    // One pass the compiler can run several lanes wide, not stopping at the first uneven step.
+    let uniform = series.time_s.windows(2).fold(true, |all, w| {
+        all & (((w[1] - w[0]) - dt).abs() <= UNIFORM_TOLERANCE * dt)
+    });
     if uniform || dt <= 0.0 {
         return Some(Ok((dt, false)));
     }

@@ -564,7 +564,10 @@ impl ValidLog {
             clutch_switch,
             throttle,
         };
-        let (dt, moved) = analysis::to_uniform_clock(&mut series)
+        // The clock as logged is the clock the analysis reads unless it was in ms: its median
+        // step is known already.
+        let known = logged.filter(|_| !ms).map(|(step, _)| step);
+        let (dt, moved) = analysis::to_uniform_clock(&mut series, known)
             .ok_or_else(|| {
                 InputError::new(
                     "columns.time",

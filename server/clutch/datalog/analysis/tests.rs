@@ -248,7 +248,7 @@ fn an_uneven_clock_is_resampled_at_its_median_step() {
         input_rpm: vec![0.0; 6],
         ..Series::default()
     };
-    let (dt, moved) = to_uniform_clock(&mut s).unwrap().unwrap();
+    let (dt, moved) = to_uniform_clock(&mut s, None).unwrap().unwrap();
     assert!(moved);
     assert!((dt - 0.01).abs() < 1e-12);
     assert_eq!(s.time_s.len(), 6);
@@ -256,6 +256,29 @@ fn an_uneven_clock_is_resampled_at_its_median_step() {
     for (t, e) in s.time_s.iter().zip(&s.engine_rpm) {
         assert!((e - 1000.0 * t).abs() < 1e-6, "{t} {e}");
     }
+}
+
+// A median step the caller already knows is taken for a clock that starts at 0 (the same step
+// as worked out afresh, the same series) and ignored for one that does not (rebased first).
+#[test]
+fn a_known_median_step_is_used_only_for_a_clock_left_as_it_is() {
+    let series = |t0: f64| Series {
+        time_s: (0..50).map(|k| t0 + k as f64 * 0.013).collect(),
+        engine_rpm: (0..50).map(|k| 5000.0 + k as f64).collect(),
+        input_rpm: vec![0.0; 50],
+        ..Series::default()
+    };
+    let (mut a, mut b) = (series(0.0), series(0.0));
+    let known = median_step(&a.time_s);
+    assert_eq!(
+        to_uniform_clock(&mut a, Some(known)),
+        to_uniform_clock(&mut b, None)
+    );
+    assert_eq!(a, b);
+    let (mut c, mut d) = (series(7.5), series(7.5));
+    let fresh = to_uniform_clock(&mut d, None);
+    assert_eq!(to_uniform_clock(&mut c, Some(1.0)), fresh);
+    assert_eq!(c, d);
 }
 
 #[test]
@@ -266,7 +289,7 @@ fn a_clock_too_uneven_to_resample_is_refused() {
         input_rpm: vec![0.0; 5],
         ..Series::default()
     };
-    assert!(to_uniform_clock(&mut s).is_none());
+    assert!(to_uniform_clock(&mut s, None).is_none());
 }
 
 // Issue 21, item 4: a launch on a sample to floating-point precision counts that sample whichever
@@ -424,7 +447,7 @@ fn a_clock_past_the_sample_cap_is_refused_before_it_is_resampled() {
         input_rpm: vec![0.0; n],
         ..Series::default()
     };
-    let refused = to_uniform_clock(&mut s).unwrap().unwrap_err();
+    let refused = to_uniform_clock(&mut s, None).unwrap().unwrap_err();
     assert!((6_000_000..=6_000_001).contains(&refused), "{refused}");
     assert_eq!(s.engine_rpm.len(), n);
     let msg = too_many_samples(6_000_001, "on one clock").message;
