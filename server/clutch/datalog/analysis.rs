@@ -722,17 +722,8 @@ pub fn analyze_on(
         || engine.map(|engine| clutch_torque(series, dt, engine)),
         || events(series, dt, rule),
     );
-    let Events {
-        slip,
-        launch_s,
-        lockup_s,
-        first,
-        last,
-        launch_engine_rpm,
-        lockup_engine_rpm,
-        min_engine_rpm,
-        tire_spin,
-    } = events?;
+    let events = events?;
+    let (launch_s, first, last) = (events.launch_s, events.first, events.last);
     notes.push(format!(
         "The launch and the lowest engine speed are read with a hold, as the lockup is: a change counts only when it lasts {} samples in a row ({:.0} ms and at least {LAUNCH_SAMPLES} samples), so one noisy sample neither starts the launch nor sets the minimum.",
         hold_samples(dt),
@@ -767,7 +758,7 @@ pub fn analyze_on(
             (None, None, None, None)
         }
     };
-    let tire_spin = match tire_spin {
+    let tire_spin = match events.tire_spin {
         Some(mut spin) => {
             if spin.len() > SPIN_MAX_INTERVALS {
                 notes.push(format!(
@@ -788,11 +779,11 @@ pub fn analyze_on(
         samples: n,
         sample_rate_hz: rate,
         launch_s,
-        lockup_s,
-        launch_engine_rpm,
-        min_engine_rpm,
-        lockup_engine_rpm,
-        slip_pct: slip,
+        lockup_s: events.lockup_s,
+        launch_engine_rpm: events.launch_engine_rpm,
+        min_engine_rpm: events.min_engine_rpm,
+        lockup_engine_rpm: events.lockup_engine_rpm,
+        slip_pct: events.slip,
         clutch_torque_nm,
         slip_power_w,
         slip_energy_j,
