@@ -393,7 +393,9 @@ impl ValidLog {
         self.run_on(text, &super::InTurn)
     }
 
-    /// [`Self::run`], a large file's two halves read through `join` ([`file::read_on`]).
+    /// [`Self::run`], with `join` running its work in two pieces where it can: a large file's
+    /// halves ([`file::read_on`]), the driven wheels' speed beside the other channels, the
+    /// clutch torque beside the events ([`analysis::analyze_on`]). The same answer either way.
     pub fn run_on(&self, text: &[u8], join: &impl super::Join) -> Result<LogResult, InputError> {
         if text.len() > limits::LOG_FILE_BYTES {
             return Err(InputError::new(
@@ -755,8 +757,8 @@ pub fn analyze_request(req: &LogAnalysisRequest) -> Result<LogAnalysisReport, In
     analyze_request_on(req, &super::InTurn)
 }
 
-/// POST /api/v1/calc/log-analysis: [`analyze_request`], a large file's two halves read
-/// through `join` ([`file::read_on`]).
+/// POST /api/v1/calc/log-analysis: [`analyze_request`] through `join` (see
+/// [`ValidLog::run_on`]).
 pub fn analyze_request_on(
     req: &LogAnalysisRequest,
     join: &impl super::Join,

@@ -32,8 +32,8 @@ fn invalid(err: InputError) -> ApiError {
 }
 
 /// POST /api/v1/calc/log-analysis: one of the shop's analyses at once, on the bounded
-/// blocking pool, in the caller's turn; a large file's two halves at once while a second
-/// place is free (`Heavy::spare_core`).
+/// blocking pool, in the caller's turn; a large file's work in two pieces at once while a
+/// second place is free (`Heavy::spare_core`).
 pub async fn calc(
     State(state): State<AppState>,
     _: ApiUser,
@@ -111,7 +111,8 @@ impl PassCar {
 
     /// Reads and analyses `text` with `settings` for this pass's car: one of the shop's
     /// analyses at once, on the bounded blocking pool, in `caller`'s turn (429 past either);
-    /// a large file's two halves at once while a second place is free (`Heavy::spare_core`).
+    /// a large file's work in two pieces at once while a second place is free
+    /// (`Heavy::spare_core`).
     /// The outer error is the refusal, the inner one the file's.
     pub async fn analyse(
         &self,

@@ -141,8 +141,8 @@ impl Heavy {
 
     /// A [`Join`] for work already in a place: another of the [`HEAVY_AT_ONCE`] places when
     /// one is free now (held until the join is dropped), the second piece then run on a thread
-    /// of its own; else one after the other. A large log's two halves are read at once only
-    /// on a core no other heavy work wants.
+    /// of its own; else one after the other. A large log's work runs in two pieces at once
+    /// only on a core no other heavy work wants.
     pub fn spare_core(&self) -> SpareCore<'_> {
         SpareCore(self.running.try_acquire().ok())
     }
