@@ -27,7 +27,27 @@ pub trait Join {
         a: impl FnOnce() -> A + Send,
         b: impl FnOnce() -> B + Send,
     ) -> (A, B);
+
+    /// [`Join::join`] for work on `samples` samples: one after the other below
+    /// [`PIECES_FROM_SAMPLES`], where a second thread's start would cost about what it saves.
+    fn join_for<A: Send, B: Send>(
+        &self,
+        samples: usize,
+        a: impl FnOnce() -> A + Send,
+        b: impl FnOnce() -> B + Send,
+    ) -> (A, B) {
+        if samples >= PIECES_FROM_SAMPLES {
+            self.join(a, b)
+        } else {
+            InTurn.join(a, b)
+        }
+    }
 }
+
+/// Samples from which a log's work is split in two pieces ([`Join::join_for`]): each piece of
+/// the analysis takes about 0.3 ms at 20,000 samples (3 ms at 215,000), against a few tens of
+/// microseconds to start a thread.
+pub const PIECES_FROM_SAMPLES: usize = 20_000;
 
 /// [`Join`] one after the other, on the calling thread.
 pub struct InTurn;

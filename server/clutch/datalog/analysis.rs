@@ -718,7 +718,8 @@ pub fn analyze_on(
             "The log runs at {rate:.0} Hz, below {COARSE_RATE_HZ:.0} Hz: lockup timing is coarse."
         ));
     }
-    let (torque, events) = join.join(
+    let (torque, events) = join.join_for(
+        n,
         || engine.map(|engine| clutch_torque(series, dt, engine)),
         || events(series, dt, rule),
     );

@@ -543,7 +543,8 @@ impl ValidLog {
         // spin); worked out from the input speed on one side of `join`, the other channels
         // filled on the other.
         let from_input = undriven.is_some() && driven_mps.is_none();
-        let (from_input, others) = join.join(
+        let (from_input, others) = join.join_for(
+            input_rpm.len(),
             || match (from_input, wheel_rpm_per_mps, overall) {
                 (true, Some(k), Some(g)) => Some(input_rpm.iter().map(|n| n / g / k).collect()),
                 _ => None,

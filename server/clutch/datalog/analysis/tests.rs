@@ -464,8 +464,9 @@ fn a_clock_past_the_sample_cap_is_refused_before_it_is_resampled() {
 // T_e from the curve's own `torque_at` (its whole-curve search) and dω/dt from the filter.
 #[test]
 fn the_clutch_torque_beside_the_events_gives_the_figures_of_the_analysis_in_turn() {
-    let dt = 0.001;
-    let time_s: Vec<f64> = (0..3000).map(|k| k as f64 * dt).collect();
+    let dt = 0.0001;
+    let time_s: Vec<f64> = (0..30_000).map(|k| k as f64 * dt).collect();
+    assert!(time_s.len() >= crate::datalog::PIECES_FROM_SAMPLES);
     let engine_rpm: Vec<f64> = time_s
         .iter()
         .map(|&t| 6000.0 - 2500.0 * (t / 0.5).min(1.0) + 4000.0 * (t - 1.5).max(0.0))
