@@ -75,6 +75,7 @@ impl TorqueCurve {
     }
 
     /// True when `rpm` lies inside the curve's range (ends included).
+    #[inline]
     pub fn contains(&self, rpm: f64) -> bool {
         let (lo, hi) = self.range();
         rpm >= lo && rpm <= hi
@@ -111,28 +112,39 @@ impl TorqueCurve {
         upper.saturating_sub(1).min(self.rpm.len() - 2)
     }
 
-    /// The same index as [`Self::segment_of`], looked for first in segment `near` (where the
-    /// previous speed was): a run along the curve stays in one segment for many steps.
-    pub(crate) fn segment_near(&self, rpm: f64, near: usize) -> usize {
-        match (self.rpm.get(near), self.rpm.get(near + 1)) {
-            // Every speed up to `near` is ≤ rpm and every one after is > rpm, as
-            // `partition_point` would find.
-            (Some(&lo), Some(&hi)) if lo <= rpm && rpm < hi => near,
-            _ => self.segment_of(rpm),
+    /// The same segment as [`Self::segment_of`] finds, tried first as `last` (where the
+    /// previous speed was; start from `segment(0)`): a run along the curve stays in one
+    /// segment for many steps.
+    #[inline]
+    pub(crate) fn segment_from(&self, last: Segment, rpm: f64) -> Segment {
+        // Every point up to `last`'s first is ≤ rpm and every one after is > rpm, as
+        // `partition_point` would find.
+        if last.0 <= rpm && rpm < last.2 {
+            last
+        } else {
+            self.segment(self.segment_of(rpm))
         }
     }
 
     /// Linear interpolation on segment `i`, also used to extrapolate just past its ends.
     pub(crate) fn on_segment(&self, i: usize, rpm: f64) -> f64 {
-        let (r0, r1) = (self.rpm[i], self.rpm[i + 1]);
-        let (t0, t1) = (self.nm[i], self.nm[i + 1]);
-        t0 + (t1 - t0) * (rpm - r0) / (r1 - r0)
+        interpolate(self.segment(i), rpm)
     }
 
     /// Segment `i` as (rpm0, N·m0, rpm1, N·m1).
-    pub(crate) fn segment(&self, i: usize) -> (f64, f64, f64, f64) {
+    #[inline]
+    pub(crate) fn segment(&self, i: usize) -> Segment {
         (self.rpm[i], self.nm[i], self.rpm[i + 1], self.nm[i + 1])
     }
+}
+
+/// A segment of the curve: (rpm0, N·m0, rpm1, N·m1).
+pub(crate) type Segment = (f64, f64, f64, f64);
+
+/// The torque on `segment` at `rpm`, linearly (also just past its ends).
+#[inline]
+pub(crate) fn interpolate((r0, t0, r1, t1): Segment, rpm: f64) -> f64 {
+    t0 + (t1 - t0) * (rpm - r0) / (r1 - r0)
 }
 
 #[cfg(test)]
@@ -152,16 +164,16 @@ mod tests {
     // The launch run's look-up from the previous segment finds what the binary search finds,
     // from any segment, at every speed: below, on and between the points, and past both ends.
     #[test]
-    fn the_segment_near_the_last_one_is_the_one_the_search_finds() {
+    fn the_segment_from_the_last_one_is_the_one_the_search_finds() {
         let pts: Vec<(f64, f64)> = (0..9).map(|i| (3000.0 + 500.0 * i as f64, 400.0)).collect();
         let c = TorqueCurve::new(&pts, "engine.torque_curve", Units::Metric).expect("valid curve");
         for k in 0..=1000 {
             let rpm = 2000.0 + 6.25 * k as f64;
-            for near in 0..pts.len() + 1 {
+            for last in 0..pts.len() - 1 {
                 assert_eq!(
-                    c.segment_near(rpm, near),
-                    c.segment_of(rpm),
-                    "{rpm} from {near}"
+                    c.segment_from(c.segment(last), rpm),
+                    c.segment(c.segment_of(rpm)),
+                    "{rpm} from {last}"
                 );
             }
         }

@@ -26,7 +26,7 @@
 
 use super::{InTurn, Join};
 use crate::InputError;
-use crate::capacity::torque_curve::TorqueCurve;
+use crate::capacity::torque_curve::{TorqueCurve, interpolate};
 use crate::datalog::savgol;
 use crate::units::rpm_to_rad_s;
 
@@ -632,15 +632,14 @@ pub fn clutch_torque(series: &Series, dt: f64, engine: &EngineModel) -> (Vec<f64
     let mut outside = 0;
     // The curve's segment looked for first where the last sample's was (the same segment and
     // value as `torque_at`, which searches the whole curve each time).
-    let mut segment = 0;
+    let curve = &engine.curve;
+    let mut segment = curve.segment(0);
     for (&n, t) in series.engine_rpm.iter().zip(&mut torque) {
-        if !(lo..=hi).contains(&n) {
-            outside += 1;
-        }
+        outside += usize::from(!(lo..=hi).contains(&n));
         let n = n.clamp(lo, hi);
-        let te = if engine.curve.contains(n) {
-            segment = engine.curve.segment_near(n, segment);
-            engine.curve.on_segment(segment, n)
+        let te = if curve.contains(n) {
+            segment = curve.segment_from(segment, n);
+            interpolate(segment, n)
         } else {
             0.0
         };

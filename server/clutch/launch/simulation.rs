@@ -22,7 +22,7 @@
 //! bulk (not rubbing-surface) plate temperatures.
 
 use crate::capacity::lockup::CapacityLaw;
-use crate::capacity::torque_curve::TorqueCurve;
+use crate::capacity::torque_curve::{Segment, TorqueCurve, interpolate};
 use crate::units::RAD_S_PER_RPM;
 
 /// Standard gravity, m/s² (CGPM 1901, as tabulated in NIST SP 811).
@@ -274,7 +274,7 @@ struct Plant<'a> {
     weight_n: f64,
     rolling_n: f64,
     /// The engine curve's segment of the last speed looked up.
-    segment: std::cell::Cell<usize>,
+    segment: std::cell::Cell<Segment>,
 }
 
 impl<'a> Plant<'a> {
@@ -296,7 +296,7 @@ impl<'a> Plant<'a> {
             m_eq: m_t + j_w / (r * r),
             weight_n,
             rolling_n: v.rolling_resistance * weight_n,
-            segment: std::cell::Cell::new(0),
+            segment: std::cell::Cell::new(m.engine.curve.segment(0)),
         }
     }
 
@@ -324,9 +324,9 @@ impl<'a> Plant<'a> {
     fn engine_nm(&self, w: f64) -> f64 {
         let e = &self.m.engine;
         let rpm = w / RAD_S_PER_RPM;
-        let segment = e.curve.segment_near(rpm, self.segment.get());
+        let segment = e.curve.segment_from(self.segment.get(), rpm);
         self.segment.set(segment);
-        e.curve.on_segment(segment, rpm) - e.friction_nm
+        interpolate(segment, rpm) - e.friction_nm
     }
 
     /// Sliding capacity at engine speed ω, N·m: the capacity law at ω (rev/min at this edge)
