@@ -993,16 +993,7 @@ mod tests {
         let mut text = format!("time,rpm,{}\n", names.join(","));
         text.push_str(&format!("0,1,{}\n", vec!["1"; 30].join(",")));
         text.push_str(&format!("1,{long},{}\n", vec!["1"; 30].join(",")));
-        let wanted = [
-            Wanted {
-                field: "columns.time",
-                name: "time",
-            },
-            Wanted {
-                field: "columns.engine_rpm",
-                name: "rpm",
-            },
-        ];
+        let wanted = TIME_AND_RPM;
         let err = read(text.as_bytes(), &wanted).unwrap_err();
         assert!(err.message.len() < 200, "{}", err.message);
         assert!(err.message.contains(&format!("{}…", "x".repeat(80))));
@@ -1072,6 +1063,18 @@ mod tests {
             Some(12345678901234567.0)
         );
     }
+
+    /// A time column "time" and an engine speed column "rpm", as a request names them.
+    const TIME_AND_RPM: [Wanted<'static>; 2] = [
+        Wanted {
+            field: "columns.time",
+            name: "time",
+        },
+        Wanted {
+            field: "columns.engine_rpm",
+            name: "rpm",
+        },
+    ];
 
     fn want<'a>(names: &'a [&'a str]) -> Vec<Wanted<'a>> {
         names
@@ -1430,16 +1433,7 @@ mod tests {
             }
             text
         };
-        let wanted = [
-            Wanted {
-                field: "columns.time",
-                name: "time",
-            },
-            Wanted {
-                field: "columns.engine_rpm",
-                name: "rpm",
-            },
-        ];
+        let wanted = TIME_AND_RPM;
         let quoted = format!("1.5,\"3000{}\",2\n", "\n".repeat(200));
         let blank = "\n".repeat(200);
         // (put at the middle, the rows it adds)
